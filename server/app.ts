@@ -1,0 +1,71 @@
+/**
+ * Builds the Express application (tests import this; server/index.ts starts it).
+ * Order: security headers -> body parsers -> Origin check -> session -> module routes ->
+ * API 404 -> error shape -> built client with SPA fallback.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import express, { type Express } from 'express';
+import cookieParser from 'cookie-parser';
+import helmet from 'helmet';
+import { repoRoot } from '../db/config';
+import { loadConfig, type AppConfig } from './lib/config';
+import { initDb } from './lib/db';
+import { errorHandler } from './lib/errors';
+import { originCheck, sessionMiddleware } from './lib/auth';
+import { authRoutes } from './modules/auth/routes';
+import { userRoutes } from './modules/users/routes';
+import { systemRoutes } from './modules/system/routes';
+
+export interface CreateAppOptions {
+  config?: Partial<AppConfig>;
+  database?: string;
+  serveClient?: boolean;
+}
+
+export function createApp(opts: CreateAppOptions = {}): { app: Express; config: AppConfig } {
+  const config = loadConfig(opts.config);
+  initDb(opts.database);
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', 'loopback');
+  app.locals.config = config;
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          defaultSrc: ["'self'"],
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          fontSrc: ["'self'"],
+          connectSrc: ["'self'"],
+          objectSrc: ["'none'"],
+          frameAncestors: ["'none'"],
+          upgradeInsecureRequests: null,
+        },
+      },
+      strictTransportSecurity: config.publicUrl.startsWith('https:'),
+    }),
+  );
+  app.use(express.json({ limit: '1mb' }));
+  app.use(cookieParser());
+  app.use('/api', originCheck(config));
+  app.use('/api', sessionMiddleware(config));
+
+  // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
+  const routers = [systemRoutes(), authRoutes(config), userRoutes()];
+  for (const r of routers) app.use(r);
+
+  app.use('/api', (req, res) => {
+    res.status(404).json({ error: { code: 'NOT_FOUND', message: `There is no API route ${req.method} ${req.originalUrl}.` } });
+  });
+  app.use(errorHandler);
+
+  const dist = path.join(repoRoot, 'dist');
+  if (opts.serveClient && fs.existsSync(path.join(dist, 'index.html'))) {
+    app.use(express.static(dist, { index: false, maxAge: '1h' }));
+    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(dist, 'index.html')));
+  }
+  app.use(errorHandler);
+  return { app, config };
+}

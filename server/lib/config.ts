@@ -1,0 +1,62 @@
+/** Application settings from the environment, with development defaults. */
+function num(name: string, dflt: number): number {
+  const v = process.env[name];
+  if (v === undefined || v === '') return dflt;
+  const n = Number(v);
+  if (!Number.isFinite(n)) throw new Error(`${name} must be a number, got "${v}"`);
+  return n;
+}
+
+export interface AppConfig {
+  port: number;
+  publicUrl: string;
+  siteName: string;
+  siteAddress: string;
+  siteTimeZone: string;
+  sessionIdleMinutes: number;
+  sessionMaxHours: number;
+  lockoutAttempts: number;
+  lockoutMinutes: number;
+  signInRateLimit: number; // attempts per IP per window
+  signInRateWindowMinutes: number;
+  uploadMaxBytes: number;
+  allowedOrigins: string[];
+  devMode: boolean;
+  smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
+  signingP12Path?: string;
+  signingP12Passphrase?: string;
+}
+
+export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
+  const port = num('PORT', 8080);
+  const smtpHost = process.env.SMTP_HOST;
+  const base: AppConfig = {
+    port,
+    publicUrl: process.env.PUBLIC_URL ?? `http://127.0.0.1:${port}`,
+    siteName: process.env.SITE_NAME ?? 'Drumline demo site',
+    siteAddress: process.env.SITE_ADDRESS ?? '',
+    siteTimeZone: process.env.SITE_TIMEZONE ?? 'Europe/Berlin',
+    sessionIdleMinutes: num('SESSION_IDLE_MINUTES', 30),
+    sessionMaxHours: num('SESSION_MAX_HOURS', 12),
+    lockoutAttempts: num('LOCKOUT_ATTEMPTS', 5),
+    lockoutMinutes: num('LOCKOUT_MINUTES', 15),
+    signInRateLimit: num('SIGNIN_RATE_LIMIT', 30),
+    signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
+    uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
+    allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+    devMode: process.env.NODE_ENV !== 'production',
+    smtp: smtpHost
+      ? {
+          host: smtpHost,
+          port: num('SMTP_PORT', 587),
+          user: process.env.SMTP_USER,
+          password: process.env.SMTP_PASSWORD,
+          secure: process.env.SMTP_SECURE === 'true',
+          from: process.env.MAIL_FROM ?? 'drumline@localhost',
+        }
+      : null,
+    signingP12Path: process.env.SIGNING_P12_PATH,
+    signingP12Passphrase: process.env.SIGNING_P12_PASSPHRASE,
+  };
+  return { ...base, ...overrides };
+}

@@ -1,0 +1,129 @@
+/**
+ * Electronic signatures (21 CFR 11.50, 11.70, 11.200). A signature re-asks the password; the
+ * first signing in a session also asks the user name (both components). The row records the
+ * signer, printed name, meaning, UTC time and the SHA-256 of the canonical signed content, and is
+ * written in the caller's transaction together with an audit event. A wrong password is refused
+ * and audited (in its own transaction, so the refusal is kept even though the action rolls back).
+ */
+import type { Knex } from 'knex';
+import { z } from 'zod';
+import { appendAudit, auditNow } from './audit';
+import { canonicalJson, sha256Hex } from './canonical';
+import { AppError } from './errors';
+import type { AuthUser } from './http';
+import { verifyPassword } from './passwords';
+import { markSigned } from './sessions';
+
+export const SIGNATURE_MEANINGS = [
+  'performed',
+  'verified',
+  'returned',
+  'approved',
+  'approved-with-justification',
+  'retired',
+  'instrument-check',
+  'phase-1-recorded',
+  'result-invalidated',
+  'failure-confirmed',
+  'issued',
+] as const;
+export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
+
+/** The signature part of a request body: the password again, the user name at first signing. */
+export const signatureInput = z.object({
+  password: z.string().min(1, 'Enter your password to sign.').max(200),
+  username: z.string().max(64).optional(),
+});
+export type SignatureInput = z.infer<typeof signatureInput>;
+
+export interface SignRequest {
+  user: AuthUser;
+  credentials: SignatureInput;
+  meaning: SignatureMeaning;
+  entityType: string;
+  entityId: string | number;
+  content: unknown; // what is signed; its canonical SHA-256 is stored
+  statement?: string | null;
+  ip?: string | null;
+}
+
+export interface SignatureRecord {
+  id: number;
+  userId: number;
+  printedName: string;
+  meaning: string;
+  signedAt: string;
+  contentHash: string;
+  statement: string | null;
+}
+
+export function contentHash(content: unknown): string {
+  return sha256Hex(canonicalJson(content));
+}
+
+/** Checks the credentials; throws 401 (audited) when they are wrong. Call BEFORE opening the transaction. */
+export async function checkSignatureCredentials(db: Knex, r: Omit<SignRequest, 'content'>): Promise<void> {
+  const u = await db('app_user').where({ id: r.user.id }).first();
+  const needsUsername = !r.user.signedOnce;
+  let problem: string | null = null;
+  if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== String(u.username).toLowerCase())
+    problem = 'The first signature of a session needs your user name and password.';
+  else if (!(await verifyPassword(u.password_hash, r.credentials.password))) problem = 'The password is not correct. Nothing was signed.';
+  if (problem) {
+    await auditNow(db, {
+      actor: { id: r.user.id, name: r.user.fullName },
+      action: 'signature.refused',
+      entityType: r.entityType,
+      entityId: r.entityId,
+      after: { meaning: r.meaning },
+      reason: problem,
+      ip: r.ip,
+    });
+    throw new AppError(401, 'SIGNATURE_REFUSED', problem, { needsUsername });
+  }
+}
+
+/** Writes the signature row and its audit event inside the caller's transaction. */
+export async function recordSignature(trx: Knex.Transaction, r: SignRequest): Promise<SignatureRecord> {
+  const signedAt = new Date();
+  const hash = contentHash(r.content);
+  const [id] = await trx('e_signature').insert({
+    user_id: r.user.id,
+    printed_name: r.user.fullName,
+    meaning: r.meaning,
+    entity_type: r.entityType,
+    entity_id: String(r.entityId),
+    content_hash: hash,
+    statement: r.statement ?? null,
+    signed_at: signedAt,
+  });
+  await appendAudit(trx, {
+    actor: { id: r.user.id, name: r.user.fullName },
+    action: 'signature.signed',
+    entityType: r.entityType,
+    entityId: r.entityId,
+    after: { signatureId: id, meaning: r.meaning, contentHash: hash },
+    reason: r.statement ?? null,
+    ip: r.ip,
+  });
+  if (!r.user.signedOnce) await markSigned(trx, r.user.sessionId);
+  return { id, userId: r.user.id, printedName: r.user.fullName, meaning: r.meaning, signedAt: signedAt.toISOString(), contentHash: hash, statement: r.statement ?? null };
+}
+
+/** Signatures on a record, oldest first, for display wherever the record is shown. */
+export async function signaturesFor(db: Knex | Knex.Transaction, entityType: string, entityId: string | number): Promise<SignatureRecord[]> {
+  const rows = await db('e_signature').where({ entity_type: entityType, entity_id: String(entityId) }).orderBy('id');
+  return rows.map(toSignatureRecord);
+}
+
+export function toSignatureRecord(s: Record<string, unknown>): SignatureRecord {
+  return {
+    id: Number(s.id),
+    userId: Number(s.user_id),
+    printedName: String(s.printed_name),
+    meaning: String(s.meaning),
+    signedAt: new Date(s.signed_at as string).toISOString(),
+    contentHash: String(s.content_hash),
+    statement: (s.statement as string | null) ?? null,
+  };
+}

@@ -1,0 +1,46 @@
+/**
+ * Baseline correction on the method grid.
+ *  - offset: subtract the lowest used value, so the spectrum starts at 0;
+ *  - linear: subtract the straight line through the lowest point of the first and
+ *    of the last tenth of the used range (a two-point baseline, common practice);
+ *  - iterative: adaptive iteratively reweighted penalised least squares (airPLS,
+ *    Zhang, Chen & Liang, Analyst 135:1138, 2010; reference from memory) through
+ *    ml-airpls, with a stiff smoothing parameter so that broad bands survive.
+ */
+import airPLS from 'ml-airpls';
+import type { BaselineMode } from './method';
+
+/** airPLS smoothing parameter for a 1-4 cm-1 grid (common practice: 1e5-1e7). */
+export const AIRPLS_LAMBDA = 1e6;
+
+function usedIndices(mask: Uint8Array): number[] {
+  const idx: number[] = [];
+  for (let i = 0; i < mask.length; i++) if (mask[i]) idx.push(i);
+  return idx;
+}
+
+function lowestIn(y: Float64Array, idx: number[], from: number, to: number): number {
+  let best = idx[from];
+  for (let k = from + 1; k < to; k++) if (y[idx[k]] < y[best]) best = idx[k];
+  return best;
+}
+
+export function correctBaseline(x: Float64Array, y: Float64Array, mask: Uint8Array, mode: BaselineMode): Float64Array {
+  if (mode === 'none') return Float64Array.from(y);
+  const idx = usedIndices(mask);
+  if (idx.length < 2) return Float64Array.from(y);
+  if (mode === 'offset') {
+    let min = Infinity;
+    for (const i of idx) if (y[i] < min) min = y[i];
+    return y.map((v) => v - min);
+  }
+  if (mode === 'linear') {
+    const tenth = Math.max(1, Math.floor(idx.length / 10));
+    const a = lowestIn(y, idx, 0, tenth);
+    const b = lowestIn(y, idx, idx.length - tenth, idx.length);
+    const slope = (y[b] - y[a]) / (x[b] - x[a]);
+    return y.map((v, i) => v - (y[a] + slope * (x[i] - x[a])));
+  }
+  const { corrected } = airPLS(x, y, { lambda: AIRPLS_LAMBDA });
+  return Float64Array.from(corrected);
+}

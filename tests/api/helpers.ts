@@ -1,0 +1,66 @@
+/** Shared helpers of the API tests: the app on the test database, accounts, signing in. */
+import request from 'supertest';
+import type { Express } from 'express';
+import knexFactory, { type Knex } from 'knex';
+import { createApp } from '../../server/app';
+import { getDb } from '../../server/lib/db';
+import { hashPassword } from '../../server/lib/passwords';
+import type { Role } from '../../server/lib/roles';
+import { dbSettings, knexConfig } from '../../db/config';
+import { TEST_DB } from './db-name';
+
+export const PASSWORD = 'correct-horse-battery-1';
+
+let cached: Express | null = null;
+export function testApp(): Express {
+  if (!cached) cached = createApp({ database: TEST_DB, config: { signInRateLimit: 10_000, publicUrl: 'http://127.0.0.1:8080' } }).app;
+  return cached;
+}
+
+export function db(): Knex {
+  testApp();
+  return getDb();
+}
+
+/** A privileged connection (the owner account) for simulating tampering behind the app's back. */
+export function ownerDb(): Knex {
+  return knexFactory(knexConfig(dbSettings('owner', TEST_DB), { min: 0, max: 2 }));
+}
+
+let counter = 0;
+export function uniqueName(prefix: string): string {
+  counter++;
+  return `${prefix}${Date.now().toString(36)}${counter}`.toLowerCase().slice(0, 60);
+}
+
+export async function makeUser(roles: Role[], opts: { mustChange?: boolean; password?: string; username?: string } = {}) {
+  const username = opts.username ?? uniqueName(roles[0].replace('_', ''));
+  const now = new Date();
+  const [id] = await db()('app_user').insert({
+    username,
+    full_name: `Test ${username}`,
+    email: `${username}@test.example`,
+    password_hash: await hashPassword(opts.password ?? PASSWORD),
+    roles: JSON.stringify(roles),
+    must_change_password: opts.mustChange ? 1 : 0,
+    failed_attempts: 0,
+    active: 1,
+    created_at: now,
+    updated_at: now,
+  });
+  return { id: id as number, username, fullName: `Test ${username}`, password: opts.password ?? PASSWORD };
+}
+
+/** A supertest agent signed in as a new user with the given roles. */
+export async function agentFor(roles: Role[]) {
+  const u = await makeUser(roles);
+  const agent = request.agent(testApp());
+  const res = await agent.post('/api/auth/sign-in').send({ username: u.username, password: u.password });
+  if (res.status !== 200) throw new Error(`sign-in failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return { agent, user: u };
+}
+
+/** Signature credentials for the first signing of a session (user name + password). */
+export function sig(u: { username: string; password: string }) {
+  return { username: u.username, password: u.password };
+}
