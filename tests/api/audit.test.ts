@@ -2,12 +2,16 @@
  * The audit table is append-only in the database itself, and the hash chain exposes a change
  * made behind the application's back (issue 2; 21 CFR 11.10(e); EU GMP Annex 11 §9).
  */
-import { afterAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentFor, db, ownerDb } from './helpers';
 import { appendAudit, verifyChain } from '../../server/lib/audit';
 
 const owner = ownerDb();
 afterAll(() => owner.destroy());
+beforeAll(async () => {
+  // at least one event, so that the statements below have rows to touch
+  await db().transaction((trx) => appendAudit(trx, { actor: { id: null, name: 'test' }, action: 'test.seed', entityType: 'test', entityId: 0 }));
+});
 
 describe('append-only audit table (runtime account)', () => {
   // The runtime account lacks the privilege (errno 1142); even the owner account is stopped by the triggers (errno 1644).
