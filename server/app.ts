@@ -10,12 +10,14 @@ import cookieParser from 'cookie-parser';
 import helmet from 'helmet';
 import { repoRoot } from '../db/config';
 import { loadConfig, type AppConfig } from './lib/config';
-import { initDb } from './lib/db';
+import { getDb, initDb } from './lib/db';
 import { errorHandler } from './lib/errors';
 import { originCheck, sessionMiddleware } from './lib/auth';
 import { authRoutes } from './modules/auth/routes';
 import { userRoutes } from './modules/users/routes';
 import { systemRoutes } from './modules/system/routes';
+import { mailRoutes } from './modules/mail/routes';
+import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
   config?: Partial<AppConfig>;
@@ -53,7 +55,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use('/api', sessionMiddleware(config));
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
-  const routers = [systemRoutes(), authRoutes(config), userRoutes()];
+  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config)];
   for (const r of routers) app.use(r);
 
   app.use('/api', (req, res) => {
@@ -67,5 +69,12 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(dist, 'index.html')));
   }
   app.use(errorHandler);
+  // Run by server/index.ts after listen (tests call initMail/processOutbox themselves).
+  app.locals.startHooks = [
+    async () => {
+      await initMail(config);
+      startMailWorker(getDb());
+    },
+  ];
   return { app, config };
 }

@@ -1,0 +1,115 @@
+/**
+ * E-mail through nodemailer over SMTP, via an outbox table: GMP actions only enqueue a row in
+ * their own transaction, so a mail failure can never block or undo them. A worker sends queued
+ * rows, retries failures with back-off (up to MAX_ATTEMPTS) and logs each outcome.
+ * Without SMTP_HOST (development and tests) a local fake SMTP server on loopback captures every
+ * message (server/lib/fake-smtp.ts); admins read them on the captured-mail page in development.
+ */
+import type { Knex } from 'knex';
+import nodemailer, { type Transporter } from 'nodemailer';
+import type { AppConfig } from './config';
+import { parseJson } from './db';
+import type { Role } from './roles';
+import { startFakeSmtp } from './fake-smtp';
+
+export const MAX_ATTEMPTS = 8;
+
+export interface MailInput {
+  to: string[];
+  subject: string;
+  text: string;
+}
+
+export async function enqueueMail(trx: Knex | Knex.Transaction, m: MailInput): Promise<number | null> {
+  const to = [...new Set(m.to.filter(Boolean))];
+  if (to.length === 0) return null;
+  const now = new Date();
+  const [id] = await trx('mail_outbox').insert({
+    to_address: to.join(', ').slice(0, 400),
+    subject: m.subject.slice(0, 300),
+    body: m.text,
+    status: 'queued',
+    attempts: 0,
+    created_at: now,
+    next_attempt_at: now,
+  });
+  return id;
+}
+
+/** Active accounts holding a role, e.g. every verifier. */
+export async function emailsOfRole(db: Knex | Knex.Transaction, role: Role, exceptUserId?: number): Promise<string[]> {
+  const users = await db('app_user').where({ active: 1 }).select('id', 'email', 'roles');
+  return users.filter((u) => parseJson<string[]>(u.roles, []).includes(role) && u.id !== exceptUserId).map((u) => u.email);
+}
+
+export async function enqueueMailToRole(trx: Knex | Knex.Transaction, role: Role, subject: string, text: string, exceptUserId?: number): Promise<number | null> {
+  return enqueueMail(trx, { to: await emailsOfRole(trx, role, exceptUserId), subject, text });
+}
+
+let transporter: Transporter | null = null;
+let fromAddress = 'drumline@localhost';
+
+/** Sets up the transport: the configured SMTP server, or the local fake one. */
+export async function initMail(config: AppConfig): Promise<void> {
+  if (transporter) return;
+  if (config.smtp) {
+    fromAddress = config.smtp.from;
+    transporter = nodemailer.createTransport({
+      host: config.smtp.host,
+      port: config.smtp.port,
+      secure: config.smtp.secure,
+      auth: config.smtp.user ? { user: config.smtp.user, pass: config.smtp.password ?? '' } : undefined,
+    });
+  } else {
+    const port = await startFakeSmtp(Number(process.env.DEV_SMTP_PORT ?? 0));
+    transporter = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
+    console.log(`[mail] development: a local fake SMTP server on 127.0.0.1:${port} captures all mail`);
+  }
+}
+
+/** Sends what is due. Returns how many were sent. Safe to call concurrently (rows are claimed). */
+export async function processOutbox(db: Knex, limit = 20): Promise<number> {
+  if (!transporter) return 0;
+  const due = await db('mail_outbox').where({ status: 'queued' }).andWhere('next_attempt_at', '<=', new Date()).orderBy('id').limit(limit);
+  let sent = 0;
+  for (const m of due) {
+    const claimed = await db('mail_outbox').where({ id: m.id, status: 'queued', attempts: m.attempts }).update({ status: 'sending' });
+    if (!claimed) continue;
+    try {
+      await transporter.sendMail({ from: fromAddress, to: m.to_address, subject: m.subject, text: m.body });
+      await db('mail_outbox').where({ id: m.id }).update({ status: 'sent', sent_at: new Date(), attempts: m.attempts + 1, last_error: null });
+      sent++;
+    } catch (e) {
+      const attempts = m.attempts + 1;
+      const failed = attempts >= MAX_ATTEMPTS;
+      const delayMs = Math.min(60 * 60_000, 15_000 * 2 ** (attempts - 1));
+      await db('mail_outbox').where({ id: m.id }).update({
+        status: failed ? 'failed' : 'queued',
+        attempts,
+        last_error: String((e as Error).message ?? e).slice(0, 2000),
+        next_attempt_at: new Date(Date.now() + delayMs),
+      });
+      console.error(`[mail] sending #${m.id} failed (attempt ${attempts}${failed ? ', giving up' : ''}): ${(e as Error).message}`);
+    }
+  }
+  return sent;
+}
+
+let timer: NodeJS.Timeout | null = null;
+export function startMailWorker(db: Knex, intervalMs = 2000): void {
+  if (timer) return;
+  let busy = false;
+  timer = setInterval(() => {
+    if (busy) return;
+    busy = true;
+    processOutbox(db)
+      .catch((e) => console.error('[mail] worker:', e.message))
+      .finally(() => (busy = false));
+  }, intervalMs);
+  timer.unref();
+}
+
+export function stopMailWorker(): void {
+  if (timer) clearInterval(timer);
+  timer = null;
+}

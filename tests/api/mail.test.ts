@@ -1,0 +1,31 @@
+/** Mail goes through an outbox: captured by the local fake SMTP server; failures are retried, never lost. */
+import { describe, expect, it } from 'vitest';
+import { db, makeUser } from './helpers';
+import { enqueueMail, enqueueMailToRole, initMail, processOutbox } from '../../server/lib/mail';
+import { capturedMail } from '../../server/lib/fake-smtp';
+import { loadConfig } from '../../server/lib/config';
+
+describe('mail outbox', () => {
+  it('delivers queued mail to the fake SMTP server and marks it sent', async () => {
+    await initMail(loadConfig({ smtp: null }));
+    const qa = await makeUser(['qa_manager']);
+    await db().transaction((trx) => enqueueMailToRole(trx, 'qa_manager', 'Reference awaits approval', 'REF-TEST-1 awaits your approval.'));
+    const sent = await processOutbox(db());
+    expect(sent).toBeGreaterThan(0);
+    const m = capturedMail().find((x) => x.subject === 'Reference awaits approval');
+    expect(m).toBeDefined();
+    expect(m!.to).toContain(`${qa.username}@test.example`);
+    expect(m!.text).toContain('REF-TEST-1');
+  });
+
+  it('a mail to an unreachable address is retried later and kept, not lost', async () => {
+    // The fake server refuses recipients under the reserved .invalid domain (RFC 2606).
+    const id = await db().transaction((trx) => enqueueMail(trx, { to: ['nobody@mailbox.invalid'], subject: 'bad', text: 'x' }));
+    await processOutbox(db());
+    const row = await db()('mail_outbox').where({ id }).first();
+    expect(row.status).toBe('queued');
+    expect(row.attempts).toBe(1);
+    expect(row.last_error).toMatch(/550|unavailable/);
+    expect(new Date(row.next_attempt_at).getTime()).toBeGreaterThan(Date.now());
+  });
+});
