@@ -157,12 +157,12 @@ export function toAbsorbanceLike(y: Float64Array, quantity: YQuantity, warnings:
       if (max > MAX_T_FRACTION) {
         throw new SpectrumError(
           isT ? 'TRANSMITTANCE_RANGE' : 'REFLECTANCE_RANGE',
-          `The ${name} reaches ${fmt(max * 100)} %, but it cannot sensibly exceed 100 % (up to ${MAX_T_FRACTION * 100} % is tolerated). ` +
+          `The ${name} reaches ${fmt(max * 100)} %, but it cannot sensibly exceed 100 % (up to ${fmt(MAX_T_FRACTION * 100)} % is tolerated). ` +
             'Check the background measurement and the y units of the export, then measure again.',
-          { maxPercent: max * 100, limitPercent: MAX_T_FRACTION * 100, quantity },
+          { maxPercent: max * 100, limitPercent: 110, quantity },
         );
       }
-      if (max > 1) warnings.push(`The ${name} rises to ${fmt(max * 100)} % (above 100 %, within the tolerated ${MAX_T_FRACTION * 100} %); values kept unchanged.`);
+      if (max > 1) warnings.push(`The ${name} rises to ${fmt(max * 100)} % (above 100 %, within the tolerated ${fmt(MAX_T_FRACTION * 100)} %); values kept unchanged.`);
       return { y: out, yKind: isT ? 'absorbance' : 'log-inverse-reflectance', quantity };
     }
   }
