@@ -1,0 +1,38 @@
+/**
+ * Pages of the signed-in app. Feature helpers APPEND one entry per page (additive edits only).
+ *   path:    absolute path ('/lots/:id')
+ *   element: usually lazyPage(() => import('../routes/<page>'))
+ *   roles:   who may open it (undefined = any signed-in user). The server enforces roles too;
+ *            this only hides navigation and shows a plain refusal instead of a broken page.
+ *   nav:     present = listed in the navigation under its group, sorted by order.
+ *            groups: 'bench' (operator/verifier work), 'desk' (QA, auditor), 'admin'.
+ * Pages outside the shell (sign-in) live in router.tsx.
+ */
+import type { ReactNode } from 'react';
+import type { Role } from '../lib/roles';
+import { lazyPage } from './lazy-page';
+
+export type NavGroup = 'bench' | 'desk' | 'admin';
+
+export interface AppRoute {
+  path: string;
+  element: ReactNode;
+  roles?: Role[];
+  nav?: { label: string; group: NavGroup; order: number };
+  /** bench pages get larger type and targets from the shell */
+  bench?: boolean;
+}
+
+export const NAV_GROUP_LABELS: Record<NavGroup, string> = {
+  bench: 'Bench',
+  desk: 'Review and records',
+  admin: 'Administration',
+};
+
+export const appRoutes: AppRoute[] = [
+  // The home page (work queue) is always first in the navigation, outside the groups.
+  { path: '/', element: lazyPage(() => import('../routes/home')) },
+  { path: '/account/password', element: lazyPage(() => import('../routes/change-password')) },
+  { path: '/admin/users', element: lazyPage(() => import('../routes/admin-users')), roles: ['admin'], nav: { label: 'User accounts', group: 'admin', order: 10 } },
+  // Feature pages: append below, one line each.
+];

@@ -1,0 +1,29 @@
+/**
+ * The home page's work queue: a list of widgets, each showing real work waiting for the user
+ * (lots to measure, tests to verify, references to approve...). Feature helpers APPEND one entry
+ * each (additive edit). A widget renders its own content through its TanStack Query hook and,
+ * when its list is empty, says so in one line (e.g. "No tests await verification.").
+ * The home page shows only widgets whose roles the user holds; with none it says "Nothing awaits you."
+ */
+import type { ComponentType } from 'react';
+import type { Role } from '../lib/roles';
+
+export interface WorkQueueWidget {
+  /** unique key, e.g. 'testing.to-verify' */
+  id: string;
+  /** heading shown above the widget */
+  title: string;
+  /** the widget is shown to users holding at least one of these roles */
+  roles: Role[];
+  /** smaller first */
+  order: number;
+  Component: ComponentType;
+}
+
+export const workQueueWidgets: WorkQueueWidget[] = [
+  // Feature widgets: append below, one entry each.
+];
+
+export function widgetsFor(roles: readonly Role[]): WorkQueueWidget[] {
+  return workQueueWidgets.filter((w) => w.roles.some((r) => roles.includes(r))).sort((a, b) => a.order - b.order);
+}

@@ -1,0 +1,64 @@
+/** Session hooks: who is signed in, sign in, sign out, change password. */
+import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { ApiError, apiFetch } from '../../../lib/api';
+import { ME_KEY } from '../../../lib/query-keys';
+import type { Me, SessionUser } from '../../../lib/session-types';
+
+export type { Me, SessionUser, SiteInfo } from '../../../lib/session-types';
+
+/** The signed-in user and site settings; null when nobody is signed in. */
+export function useMe() {
+  return useQuery({
+    queryKey: ME_KEY,
+    queryFn: async (): Promise<Me | null> => {
+      try {
+        return await apiFetch<Me>('/api/auth/me');
+      } catch (e) {
+        if (e instanceof ApiError && e.status === 401) return null;
+        throw e;
+      }
+    },
+    staleTime: 60_000,
+    retry: (count, e) => !(e instanceof ApiError && e.status < 500) && count < 2,
+  });
+}
+
+export interface SignInInput {
+  username: string;
+  password: string;
+}
+
+export function useSignIn() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: SignInInput) => apiFetch<{ user: SessionUser }>('/api/auth/sign-in', { method: 'POST', body }),
+    onSuccess: async () => {
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== ME_KEY[0] });
+      await qc.invalidateQueries({ queryKey: ME_KEY });
+    },
+  });
+}
+
+export function useSignOut() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiFetch<void>('/api/auth/sign-out', { method: 'POST' }),
+    onSettled: () => {
+      qc.clear();
+      qc.setQueryData(ME_KEY, null);
+    },
+  });
+}
+
+export interface ChangePasswordInput {
+  currentPassword: string;
+  newPassword: string;
+}
+
+export function useChangePassword() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: ChangePasswordInput) => apiFetch<void>('/api/auth/password', { method: 'POST', body }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: ME_KEY }),
+  });
+}

@@ -1,0 +1,12 @@
+/** Roles as the server defines them (server/lib/roles.ts is pure data shared with the client). */
+export { ROLES, ROLE_LABELS, type Role } from '../../server/lib/roles';
+import { ROLE_LABELS, type Role } from '../../server/lib/roles';
+
+export function roleList(roles: readonly Role[]): string {
+  return roles.map((r) => ROLE_LABELS[r] ?? r).join(', ');
+}
+
+export function hasAnyRole(userRoles: readonly Role[], needed: readonly Role[] | undefined): boolean {
+  if (!needed || needed.length === 0) return true;
+  return needed.some((r) => userRoles.includes(r));
+}
