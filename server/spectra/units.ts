@@ -143,7 +143,7 @@ export function toAbsorbanceLike(y: Float64Array, quantity: YQuantity, warnings:
         const f = y[i] * scale;
         if (f > max) max = f;
         if (!(f > 0) && firstBad < 0) firstBad = i;
-        out[i] = -Math.log10(f);
+        out[i] = 0 - Math.log10(f); // "0 -" avoids -0 at T = 100 %
       }
       const name = isT ? 'transmittance' : 'reflectance';
       if (firstBad >= 0) {
@@ -159,7 +159,7 @@ export function toAbsorbanceLike(y: Float64Array, quantity: YQuantity, warnings:
           isT ? 'TRANSMITTANCE_RANGE' : 'REFLECTANCE_RANGE',
           `The ${name} reaches ${fmt(max * 100)} %, but it cannot sensibly exceed 100 % (up to ${fmt(MAX_T_FRACTION * 100)} % is tolerated). ` +
             'Check the background measurement and the y units of the export, then measure again.',
-          { maxPercent: max * 100, limitPercent: 110, quantity },
+          { maxPercent: max * 100, limitPercent: MAX_T_FRACTION * 100, quantity },
         );
       }
       if (max > 1) warnings.push(`The ${name} rises to ${fmt(max * 100)} % (above 100 %, within the tolerated ${fmt(MAX_T_FRACTION * 100)} %); values kept unchanged.`);
