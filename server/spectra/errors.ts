@@ -50,6 +50,7 @@ export const SPECTRUM_ERROR_CODES = [
   'SATURATED',
   'TOO_NOISY',
   'METHOD_MISMATCH',
+  'NO_REFERENCES',
 ] as const;
 
 export type SpectrumErrorCode = (typeof SPECTRUM_ERROR_CODES)[number];

@@ -82,6 +82,12 @@ export interface IdentityMethod {
   thresholds: IdentityThresholds;
   bandTolerance: BandTolerance;
   /**
+   * The maximum of a broad band is poorly defined, so a band may also shift by this
+   * fraction of its full width at half height when that is more than bandTolerance
+   * (e.g. 0.25: a 260 cm-1 wide O-H band may move 65 cm-1). null = off.
+   */
+  widthTolerance: number | null;
+  /**
    * Reference bands are peaks whose prominence reaches this fraction of the
    * strongest band (0..1). null switches band concordance off.
    */
@@ -96,6 +102,15 @@ export interface IdentityMethod {
 export const CO2_REGION: ExcludedRegion = { from: 2280, to: 2400, label: 'atmospheric CO2' };
 
 /**
+ * Diamond ATR crystals absorb between about 2300 and 1900 cm-1 (two-phonon lattice
+ * bands; from memory), which leaves weak artefact bands near 1975, 2025 and
+ * 2170 cm-1 in the fibre spectra of ../shared/reference-data/atr-ftir-fibres.
+ * Stops at 2220 cm-1 so nitrile bands (about 2240 cm-1) stay in. Remove it for
+ * ZnSe or germanium crystals.
+ */
+export const DIAMOND_ATR_REGION: ExcludedRegion = { from: 1900, to: 2220, label: 'diamond ATR crystal absorption' };
+
+/**
  * Default mid-IR ATR method. Range 3800-700 cm-1: about the 3800-650 cm-1 of
  * USP <197> (from memory), trimmed at the low end so that ATR data starting near
  * 700 cm-1 are covered. The thresholds were set from the real spectra in
@@ -105,16 +120,17 @@ export const CO2_REGION: ExcludedRegion = { from: 2280, to: 2400, label: 'atmosp
 export const defaultMidIrAtrMethod: IdentityMethod = {
   technique: 'mid-ir-atr',
   range: { from: 700, to: 3800 },
-  excludedRegions: [CO2_REGION],
+  excludedRegions: [DIAMOND_ATR_REGION, CO2_REGION],
   gridStep: 1,
   baseline: 'linear',
   normalisation: 'snv',
   smoothing: { windowSize: 9, polynomial: 2, derivative: 0 },
   thresholds: { minCorrelation: 0.95, minDerivativeCorrelation: 0.9, maxMahalanobis: null },
   bandTolerance: { mode: 'relative', percent: 0.5 },
+  widthTolerance: 0.25,
   peakProminence: 0.1,
   maxExtraBandProminence: 0.2,
-  quality: { minMaxAbsorbance: 0.01, maxAbsorbance: 3, minSignalToNoise: 30 },
+  quality: { minMaxAbsorbance: 0.01, maxAbsorbance: 3, minSignalToNoise: 150 },
   distanceModel: null,
 };
 
@@ -133,10 +149,11 @@ export const defaultNirMethod: IdentityMethod = {
   smoothing: { windowSize: 11, polynomial: 2, derivative: 1 },
   thresholds: { minCorrelation: 0.95, minDerivativeCorrelation: null, maxMahalanobis: 3 },
   bandTolerance: { mode: 'absolute', cm1: 20 },
+  widthTolerance: 0.25,
   peakProminence: null,
   maxExtraBandProminence: null,
-  quality: { minMaxAbsorbance: 0.02, maxAbsorbance: 3, minSignalToNoise: 30 },
-  distanceModel: { components: 3, minReferences: 7 },
+  quality: { minMaxAbsorbance: 0.02, maxAbsorbance: 3, minSignalToNoise: 150 },
+  distanceModel: { components: 3, minReferences: 6 },
 };
 
 /** Largest grid the engine accepts (keeps memory and time bounded). */
@@ -238,6 +255,7 @@ export function validateMethod(m: unknown): string[] {
   } else if (bt.mode === 'relative') {
     if (!isNum(bt.percent) || bt.percent <= 0 || bt.percent > 5) problems.push('bandTolerance.percent must be above 0 and at most 5 %.');
   } else problems.push('bandTolerance.mode must be "absolute" or "relative".');
+  checkFraction(m.widthTolerance, 'widthTolerance', problems, true);
   checkFraction(m.peakProminence, 'peakProminence', problems, true);
   checkFraction(m.maxExtraBandProminence, 'maxExtraBandProminence', problems, true);
   if (m.peakProminence === null && m.maxExtraBandProminence !== null && m.maxExtraBandProminence !== undefined) {

@@ -18,7 +18,7 @@ import type { Spectrum } from './types';
  * reference band that is a little weaker in the sample (noise, contact) is still
  * found; only bands at or above peakProminence count as reference bands.
  */
-export const DETECTION_RATIO = 0.5;
+export const DETECTION_RATIO = 0.3;
 
 export interface PreparedSpectrum {
   /** preparationKey(method) of the method that prepared it. */

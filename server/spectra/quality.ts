@@ -129,6 +129,15 @@ export function checkQuality(spectrum: Spectrum, method: IdentityMethod): Qualit
   const m = measureQuality(spectrum, method);
   const problems: QualityProblem[] = [];
   const atr = method.technique === 'mid-ir-atr';
+  const { x } = spectrum;
+  if (x.length === 0 || x[0] > method.range.from + 1e-6 || x[x.length - 1] < method.range.to - 1e-6) {
+    const span = x.length ? `${f(x[0], 1)} to ${f(x[x.length - 1], 1)} cm-1` : 'no points';
+    problems.push({
+      code: 'RANGE_NOT_COVERED',
+      message: `The spectrum covers ${span}, but the method needs ${method.range.from} to ${method.range.to} cm-1.`,
+      advice: 'Measure over the full range of the method (check the instrument range settings), or use a method made for this range.',
+    });
+  }
   if (m.bandHeight < q.minMaxAbsorbance) {
     problems.push({
       code: 'TOO_WEAK',

@@ -1,0 +1,57 @@
+/**
+ * Shape of an identity result: plain data, ready to store as JSON with the test
+ * record and to print on the identity certificate.
+ */
+import type { BandRow, ExtraBand } from './bands';
+import type { QualityReport } from './quality';
+
+export type CriterionKey = 'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
+
+export interface Criterion {
+  key: CriterionKey;
+  /** Plain-words name, e.g. "Correlation with the reference". */
+  name: string;
+  value: number;
+  limit: number;
+  /** How value is compared with limit for a pass. */
+  comparison: '>=' | '<=';
+  verdict: 'pass' | 'fail';
+  /** Reference the value was computed against; null for criteria on the whole set. */
+  referenceId: string | null;
+}
+
+export interface ReferenceScore {
+  referenceId: string;
+  materialId: string | null;
+  verdict: 'pass' | 'fail';
+  correlation: number;
+  derivativeCorrelation: number | null;
+  criteria: Criterion[];
+  bands: BandRow[];
+  extraBands: ExtraBand[];
+}
+
+export interface DistanceResult {
+  /** Mahalanobis distance in RMS standard deviations over the components. */
+  value: number;
+  components: number;
+  references: number;
+}
+
+export interface IdentityResult {
+  /** pass only if every criterion passes against at least one reference; invalid = refused measurement. */
+  verdict: 'pass' | 'fail' | 'invalid';
+  engineVersion: string;
+  quality: QualityReport;
+  /** The passing reference with the highest correlation, else the closest one; null when invalid. */
+  bestReferenceId: string | null;
+  /** Criteria of the best reference plus criteria on the whole reference set. */
+  criteria: Criterion[];
+  /** Every reference, in the order given. */
+  references: ReferenceScore[];
+  /** Band table against the best reference. */
+  bands: BandRow[];
+  extraBands: ExtraBand[];
+  distance: DistanceResult | null;
+  explanation: string[];
+}
