@@ -7,6 +7,7 @@ import type { Knex } from 'knex';
 import * as m001 from './001_core';
 import * as m002 from './002_library';
 import * as m003 from './003_testing';
+import * as m006 from './006_certificates';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -17,6 +18,7 @@ export const migrations: [string, Migration][] = [
   ['001_core', m001],
   ['002_library', m002],
   ['003_testing', m003],
+  ['006_certificates', m006],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
