@@ -5,13 +5,18 @@
  *    of the last tenth of the used range (a two-point baseline, common practice);
  *  - iterative: adaptive iteratively reweighted penalised least squares (airPLS,
  *    Zhang, Chen & Liang, Analyst 135:1138, 2010; reference from memory) through
- *    ml-airpls, with a stiff smoothing parameter so that broad bands survive.
+ *    ml-airpls. That package penalises first differences, so across a band (where
+ *    the weights drop to zero) its baseline runs straight from one side to the
+ *    other; its default smoothing parameter (10) kept 20-260 cm-1 wide bands whole
+ *    on a curved baseline in tests/unit/spectra-baseline.test.ts, while stiffer
+ *    values left offsets. It takes tens of milliseconds per spectrum, so the
+ *    default methods use the linear baseline.
  */
 import airPLS from 'ml-airpls';
 import type { BaselineMode } from './method';
 
-/** airPLS smoothing parameter for a 1-4 cm-1 grid (common practice: 1e5-1e7). */
-export const AIRPLS_LAMBDA = 1e6;
+/** airPLS smoothing parameter (the ml-airpls default; see above). */
+export const AIRPLS_LAMBDA = 10;
 
 function usedIndices(mask: Uint8Array): number[] {
   const idx: number[] = [];

@@ -36,11 +36,11 @@ export function resampleLinear(x: Float64Array, y: Float64Array, grid: Float64Ar
   let j = 0;
   for (let i = 0; i < grid.length; i++) {
     const g = grid[i];
-    while (j < last - 1 && x[j + 1] < g) j++;
+    while (j < last - 1 && x[j + 1] <= g) j++;
     const x0 = x[j];
     const x1 = x[j + 1];
     const t = g <= x0 ? 0 : g >= x1 ? 1 : (g - x0) / (x1 - x0);
-    out[i] = y[j] + t * (y[j + 1] - y[j]);
+    out[i] = t === 0 ? y[j] : t === 1 ? y[j + 1] : y[j] + t * (y[j + 1] - y[j]);
   }
   return out;
 }
