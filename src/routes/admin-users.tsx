@@ -1,3 +1,77 @@
+import { useState } from 'react';
+import { useSession } from '../app/session';
+import { Button } from '../components/Button';
+import { ErrorNote } from '../components/ErrorNote';
+import { PageHeader } from '../components/PageHeader';
+import { PageLoading } from '../app/lazy-page';
+import { useUsers } from '../features/users/api';
+import { CreateUserForm } from '../features/users/components/CreateUserForm';
+import { UserPanel } from '../features/users/components/UserPanel';
+import { UsersTable } from '../features/users/components/UsersTable';
+
 export default function AdminUsersPage() {
-  return null;
+  const { user: me } = useSession();
+  const users = useUsers();
+  const [creating, setCreating] = useState(false);
+  const [selectedId, setSelectedId] = useState<number | undefined>();
+  const [notice, setNotice] = useState<string | null>(null);
+  const selected = users.data?.find((u) => u.id === selectedId);
+
+  return (
+    <div className="max-w-7xl">
+      <PageHeader
+        title="User accounts"
+        subtitle="Accounts are deactivated, never deleted. Every change is kept in the audit trail with its reason."
+        actions={
+          !creating && (
+            <Button
+              variant="primary"
+              onClick={() => {
+                setCreating(true);
+                setNotice(null);
+              }}
+            >
+              Create account
+            </Button>
+          )
+        }
+      />
+      {notice && (
+        <p role="status" className="mb-4 rounded-md border border-pass/40 bg-pass-soft px-3 py-2 text-sm" data-testid="notice">
+          {notice}
+        </p>
+      )}
+      {creating && (
+        <section aria-labelledby="new-account" className="mb-6 rounded-md border border-line bg-white p-4">
+          <h2 id="new-account" className="mb-3 text-lg">
+            New account
+          </h2>
+          <CreateUserForm
+            onCancel={() => setCreating(false)}
+            onCreated={(u, pw) => {
+              setCreating(false);
+              setSelectedId(u.id);
+              setNotice(`The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`);
+            }}
+          />
+        </section>
+      )}
+      {users.isPending ? (
+        <PageLoading />
+      ) : users.isError ? (
+        <ErrorNote error={users.error} onRetry={() => void users.refetch()} />
+      ) : (
+        <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
+          <UsersTable users={users.data} selectedId={selectedId} onSelect={(u) => setSelectedId(u.id)} />
+          <div>
+            {selected ? (
+              <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
+            ) : (
+              <p className="rounded-md border border-dashed border-line px-4 py-6 text-sm text-muted">Choose an account in the table to see its details and change it.</p>
+            )}
+          </div>
+        </div>
+      )}
+    </div>
+  );
 }

@@ -1,0 +1,63 @@
+/** Account administration hooks (admin only on the server). */
+import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
+import { apiFetch } from '../../../lib/api';
+import type { Role } from '../../../lib/roles';
+
+export interface UserAccount {
+  id: number;
+  username: string;
+  fullName: string;
+  email: string;
+  roles: Role[];
+  mustChangePassword: boolean;
+  active: boolean;
+  /** ISO time while the account is locked after failed sign-ins, else null */
+  lockedUntil: string | null;
+  failedAttempts: number;
+  createdAt: string;
+}
+
+export interface CreateUserInput {
+  username: string;
+  fullName: string;
+  email: string;
+  roles: Role[];
+  temporaryPassword: string;
+}
+
+export interface UpdateUserInput {
+  fullName?: string;
+  email?: string;
+  roles?: Role[];
+  active?: boolean;
+  reason: string;
+}
+
+const USERS_KEY = ['users'] as const;
+
+export function useUsers() {
+  return useQuery({ queryKey: USERS_KEY, queryFn: () => apiFetch<UserAccount[]>('/api/users') });
+}
+
+function useUsersMutation<V, R>(fn: (v: V) => Promise<R>) {
+  const qc = useQueryClient();
+  return useMutation({ mutationFn: fn, onSuccess: () => qc.invalidateQueries({ queryKey: USERS_KEY }) });
+}
+
+export function useCreateUser() {
+  return useUsersMutation((body: CreateUserInput) => apiFetch<UserAccount>('/api/users', { method: 'POST', body }));
+}
+
+export function useUpdateUser() {
+  return useUsersMutation(({ id, ...body }: UpdateUserInput & { id: number }) => apiFetch<UserAccount>(`/api/users/${id}`, { method: 'PATCH', body }));
+}
+
+export function useUnlockUser() {
+  return useUsersMutation(({ id, reason }: { id: number; reason: string }) => apiFetch(`/api/users/${id}/unlock`, { method: 'POST', body: { reason } }));
+}
+
+export function useResetPassword() {
+  return useUsersMutation(({ id, temporaryPassword, reason }: { id: number; temporaryPassword: string; reason: string }) =>
+    apiFetch(`/api/users/${id}/reset-password`, { method: 'POST', body: { temporaryPassword, reason } }),
+  );
+}

@@ -1,0 +1,69 @@
+import { Controller, useForm } from 'react-hook-form';
+import { Button } from '../../../components/Button';
+import { ErrorNote } from '../../../components/ErrorNote';
+import { Field, Input } from '../../../components/Field';
+import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
+import { RoleCheckboxes, suggestPassword, TEMP_PASSWORD_RULE } from './fields';
+
+export function CreateUserForm({ onCreated, onCancel }: { onCreated: (u: UserAccount, temporaryPassword: string) => void; onCancel: () => void }) {
+  const create = useCreateUser();
+  const { register, handleSubmit, control, setValue, formState } = useForm<CreateUserInput>({
+    defaultValues: { username: '', fullName: '', email: '', roles: [], temporaryPassword: '' },
+  });
+  const e = formState.errors;
+  const submit = handleSubmit((v) =>
+    create.mutate({ ...v, username: v.username.trim(), fullName: v.fullName.trim(), email: v.email.trim() }, { onSuccess: (u) => onCreated(u, v.temporaryPassword) }),
+  );
+  return (
+    <form onSubmit={submit} noValidate className="grid gap-4 md:grid-cols-2" aria-label="New account">
+      <Field id="new-username" label="User name" hint="Lower-case letters, digits, dot, dash or underscore. It cannot change later." error={e.username?.message}>
+        <Input
+          id="new-username"
+          autoCapitalize="none"
+          spellCheck={false}
+          autoComplete="off"
+          invalid={!!e.username}
+          {...register('username', {
+            required: 'Enter a user name.',
+            minLength: { value: 3, message: 'The user name needs at least 3 characters.' },
+            maxLength: { value: 64, message: 'The user name may have at most 64 characters.' },
+            pattern: { value: /^[a-z0-9._-]+$/, message: 'Use lower-case letters, digits, dot, dash or underscore.' },
+          })}
+        />
+      </Field>
+      <Field id="new-fullname" label="Full name" hint="Printed beside every signature of this person." error={e.fullName?.message}>
+        <Input id="new-fullname" autoComplete="off" invalid={!!e.fullName} {...register('fullName', { required: 'Enter the full name.', minLength: { value: 2, message: 'Enter the full name.' } })} />
+      </Field>
+      <Field id="new-email" label="E-mail" error={e.email?.message}>
+        <Input
+          id="new-email"
+          type="email"
+          autoComplete="off"
+          invalid={!!e.email}
+          {...register('email', { required: 'Enter an e-mail address.', pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' } })}
+        />
+      </Field>
+      <Field id="new-password" label="Temporary password" hint="At least 12 characters. The person must change it at first sign-in; hand it over in person." error={e.temporaryPassword?.message}>
+        <div className="flex gap-2">
+          <Input id="new-password" autoComplete="new-password" spellCheck={false} className="font-mono" invalid={!!e.temporaryPassword} {...register('temporaryPassword', TEMP_PASSWORD_RULE)} />
+          <Button onClick={() => setValue('temporaryPassword', suggestPassword(), { shouldValidate: true })}>Suggest</Button>
+        </div>
+      </Field>
+      <div className="md:col-span-2">
+        <Controller
+          control={control}
+          name="roles"
+          rules={{ validate: (v) => v.length > 0 || 'Give the account at least one role.' }}
+          render={({ field, fieldState }) => <RoleCheckboxes idPrefix="new-role" value={field.value} onChange={field.onChange} error={fieldState.error?.message} />}
+        />
+      </div>
+      {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}
+      <div className="flex gap-2 md:col-span-2">
+        <Button type="submit" variant="primary" busy={create.isPending}>
+          Create account
+        </Button>
+        <Button onClick={onCancel}>Cancel</Button>
+      </div>
+    </form>
+  );
+}

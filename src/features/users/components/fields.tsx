@@ -1,0 +1,57 @@
+/** Pieces shared by the account forms. */
+import { ROLE_LABELS, ROLES, type Role } from '../../../lib/roles';
+
+export const REASON_RULE = {
+  required: 'Give a reason: it is kept in the audit trail.',
+  validate: (v: string) => v.trim().length >= 3 || 'Give a reason of at least 3 characters.',
+  maxLength: { value: 1000, message: 'Keep the reason under 1000 characters.' },
+};
+
+export const TEMP_PASSWORD_RULE = {
+  required: 'Enter a temporary password.',
+  minLength: { value: 12, message: 'The password must have at least 12 characters.' },
+  maxLength: { value: 200, message: 'The password must have at most 200 characters.' },
+};
+
+/** 16 characters from an alphabet without look-alikes (no 0/O, 1/l/I), from the browser's CSPRNG. */
+export function suggestPassword(length = 16): string {
+  const alphabet = 'abcdefghijkmnpqrstuvwxyzABCDEFGHJKLMNPQRSTUVWXYZ23456789';
+  const bytes = new Uint32Array(length);
+  crypto.getRandomValues(bytes);
+  return Array.from(bytes, (b) => alphabet[b % alphabet.length]).join('');
+}
+
+export const ROLE_HINTS: Record<Role, string> = {
+  operator: 'registers lots, measures containers, signs tests as performed',
+  verifier: 'reviews and verifies tests performed by someone else',
+  qa_manager: 'owns materials, methods and references; releases or rejects lots',
+  auditor: 'reads everything and the audit trail; changes nothing',
+  admin: 'manages accounts and roles; signs no GMP record',
+};
+
+export function RoleCheckboxes({ value, onChange, error, idPrefix }: { value: Role[]; onChange: (r: Role[]) => void; error?: string; idPrefix: string }) {
+  return (
+    <fieldset className="flex flex-col gap-1">
+      <legend className="mb-1 text-sm font-medium">Roles</legend>
+      {ROLES.map((r) => (
+        <label key={r} htmlFor={`${idPrefix}-${r}`} className="flex min-h-8 items-start gap-2 text-sm">
+          <input
+            id={`${idPrefix}-${r}`}
+            type="checkbox"
+            className="mt-1 size-4 accent-petrol"
+            checked={value.includes(r)}
+            onChange={(e) => onChange(e.target.checked ? ROLES.filter((x) => x === r || value.includes(x)) : value.filter((x) => x !== r))}
+          />
+          <span>
+            <span className="font-medium">{ROLE_LABELS[r]}</span> <span className="text-muted">— {ROLE_HINTS[r]}</span>
+          </span>
+        </label>
+      ))}
+      {error && (
+        <p role="alert" className="text-sm text-fail">
+          {error}
+        </p>
+      )}
+    </fieldset>
+  );
+}
