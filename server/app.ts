@@ -17,6 +17,7 @@ import { authRoutes } from './modules/auth/routes';
 import { userRoutes } from './modules/users/routes';
 import { systemRoutes } from './modules/system/routes';
 import { mailRoutes } from './modules/mail/routes';
+import { auditRoutes } from './modules/audit/routes';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -55,7 +56,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use('/api', sessionMiddleware(config));
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
-  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config)];
+  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config), auditRoutes(config)];
   for (const r of routers) app.use(r);
 
   app.use('/api', (req, res) => {

@@ -8,6 +8,7 @@ import * as m001 from './001_core';
 import * as m002 from './002_library';
 import * as m003 from './003_testing';
 import * as m006 from './006_certificates';
+import * as m007 from './007_audit_indexes';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -19,6 +20,7 @@ export const migrations: [string, Migration][] = [
   ['002_library', m002],
   ['003_testing', m003],
   ['006_certificates', m006],
+  ['007_audit_indexes', m007],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {

@@ -1,0 +1,221 @@
+/**
+ * Reading the audit trail (knex). Lists are ordered by (occurred_at, id) and paged by a keyset
+ * cursor on that pair, so page 1 and page 10,000 cost the same: each filter is an equality on
+ * the leading column of an index whose next column is occurred_at (001_core, 007_audit_indexes),
+ * and the implicit primary-key suffix of InnoDB indexes breaks ties. Counts are capped.
+ * Nothing here writes: the trail is appended only through server/lib/audit.ts.
+ */
+import type { Knex } from 'knex';
+import type { AuditRow } from '../../lib/audit';
+import { parseJson } from '../../lib/db';
+import type { AuditEventDetail, AuditEventSummary, AuditFilter, FieldChange } from './schemas';
+
+export type Scope = 'all' | 'accounts';
+type Db = Knex | Knex.Transaction;
+
+const SUMMARY_COLUMNS = ['id', 'occurred_at', 'actor_id', 'actor_name', 'action', 'entity_type', 'entity_id', 'reason', 'ip'] as const;
+
+/** Words InnoDB's FULLTEXT index leaves out (its default stopword list) and so cannot be required. */
+const FT_STOPWORDS = new Set(
+  'a about an are as at be by com de en for from how i in is it la of on or that the this to was what when where who will with und www'.split(' '),
+);
+/** innodb_ft_min_token_size (default 3): shorter words are not in the index. */
+const FT_MIN_TOKEN = 3;
+
+function escapeLike(s: string): string {
+  return s.replace(/[\\%_]/g, (c) => `\\${c}`);
+}
+
+/** Words of a free-text search that the FULLTEXT index can require (each as a word start). */
+export function fulltextTerms(q: string): string[] {
+  return q
+    .split(/[^\p{L}\p{N}_]+/u)
+    .filter((t) => t.length >= FT_MIN_TOKEN && !FT_STOPWORDS.has(t.toLowerCase()))
+    .slice(0, 10);
+}
+
+export interface FilterOptions {
+  scope: Scope;
+  /** internal: only events up to this id (an export's snapshot) */
+  maxId?: number;
+}
+
+/** Applies the filter to a query on audit_event. */
+export function applyFilter(qb: Knex.QueryBuilder, f: Partial<AuditFilter>, o: FilterOptions): Knex.QueryBuilder {
+  if (o.scope === 'accounts') qb.where('entity_type', 'user');
+  if (o.maxId !== undefined) qb.where('id', '<=', o.maxId);
+  if (f.from) qb.where('occurred_at', '>=', new Date(f.from));
+  if (f.to) qb.where('occurred_at', '<', new Date(f.to));
+  if (f.actorId !== undefined) qb.where('actor_id', f.actorId);
+  if (f.action) {
+    if (f.action.endsWith('*')) qb.where('action', 'like', `${escapeLike(f.action.slice(0, -1))}%`);
+    else qb.where('action', f.action);
+  }
+  if (f.entityType) qb.where('entity_type', f.entityType);
+  if (f.entityId) qb.where('entity_id', f.entityId);
+  if (f.q) {
+    // The FULLTEXT index finds the candidate rows fast; LIKE keeps the exact meaning "the reason
+    // contains this text". A search of only short or common words falls back to LIKE alone.
+    const terms = fulltextTerms(f.q);
+    if (terms.length) qb.whereRaw('MATCH (reason) AGAINST (? IN BOOLEAN MODE)', [terms.map((t) => `+${t}*`).join(' ')]);
+    qb.where('reason', 'like', `%${escapeLike(f.q)}%`);
+  }
+  return qb;
+}
+
+export function hasAnyFilter(f: Partial<AuditFilter>): boolean {
+  return Boolean(f.from || f.to || f.actorId !== undefined || f.action || f.entityType || f.entityId || f.q);
+}
+
+export interface Cursor {
+  t: number; // occurred_at in ms since the epoch
+  id: number;
+}
+
+export function encodeCursor(c: Cursor): string {
+  return Buffer.from(`${c.t}.${c.id}`, 'utf8').toString('base64url');
+}
+
+export function decodeCursor(s: string): Cursor | null {
+  const m = /^(\d{1,15})\.(\d{1,15})$/.exec(Buffer.from(s, 'base64url').toString('utf8'));
+  return m ? { t: Number(m[1]), id: Number(m[2]) } : null;
+}
+
+export interface PageRequest {
+  sort: 'asc' | 'desc';
+  cursor?: Cursor | null;
+  limit: number;
+}
+
+/** One page of summaries after the cursor, in the sort order; nextCursor when more follow. */
+export async function listPage(
+  db: Db,
+  f: Partial<AuditFilter>,
+  o: FilterOptions,
+  p: PageRequest,
+): Promise<{ rows: AuditEventSummary[]; nextCursor: Cursor | null }> {
+  const raw = await pageQuery(db, f, o, p, SUMMARY_COLUMNS as unknown as string[]);
+  const more = raw.length > p.limit;
+  const rows = (more ? raw.slice(0, p.limit) : raw).map(toSummary);
+  const last = rows[rows.length - 1];
+  return { rows, nextCursor: more && last ? { t: new Date(last.occurredAt).getTime(), id: last.id } : null };
+}
+
+/** The raw rows of one page (limit + 1 to know whether more follow). */
+export async function pageQuery(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest, columns: string[] | '*'): Promise<AuditRow[]> {
+  const qb = db('audit_event').select(columns === '*' ? '*' : columns);
+  applyFilter(qb, f, o);
+  if (p.cursor) {
+    const t = new Date(p.cursor.t);
+    const op = p.sort === 'desc' ? '<' : '>';
+    qb.where((w) => w.where('occurred_at', op, t).orWhere((x) => x.where('occurred_at', t).andWhere('id', op, p.cursor!.id)));
+  }
+  qb.orderBy([
+    { column: 'occurred_at', order: p.sort },
+    { column: 'id', order: p.sort },
+  ]).limit(p.limit + 1);
+  return qb;
+}
+
+/** Number of matching events, counted up to `cap` (+1 tells "more than cap"). */
+export async function countCapped(db: Db, f: Partial<AuditFilter>, o: FilterOptions, cap: number): Promise<{ count: number; exact: boolean }> {
+  if (!hasAnyFilter(f) && o.scope === 'all' && o.maxId === undefined) {
+    // Ids are gap-free and assigned from audit_head: the last id is the exact number of events.
+    const head = await db('audit_head').where({ id: 1 }).first();
+    return { count: Number(head?.last_id ?? 0), exact: true };
+  }
+  const sub = applyFilter(db('audit_event').select(db.raw('1')), f, o).limit(cap + 1);
+  const [row] = await db.from(sub.as('t')).count({ n: '*' });
+  const n = Number((row as { n: number | string }).n);
+  return n > cap ? { count: cap, exact: false } : { count: n, exact: true };
+}
+
+/** The id of the last event now (an export's snapshot bound). */
+export async function lastEventId(db: Db): Promise<number> {
+  const head = await db('audit_head').where({ id: 1 }).first();
+  return Number(head?.last_id ?? 0);
+}
+
+export async function findEvent(db: Db, id: number): Promise<AuditRow | undefined> {
+  return db('audit_event').where({ id }).first();
+}
+
+/** Events of one record in time order (oldest first), at most `cap` + 1. */
+export async function eventsOfRecord(db: Db, entityType: string, entityId: string, cap: number): Promise<AuditRow[]> {
+  return db('audit_event')
+    .where({ entity_type: entityType, entity_id: entityId })
+    .orderBy([
+      { column: 'occurred_at', order: 'asc' },
+      { column: 'id', order: 'asc' },
+    ])
+    .limit(cap + 1);
+}
+
+/** Distinct action names and record types (loose index scans), and the accounts that appear as actors. */
+export async function facets(db: Db): Promise<{ actions: string[]; entityTypes: string[]; actors: { id: number; name: string }[] }> {
+  const actions = (await db('audit_event').distinct('action').orderBy('action')).map((r: { action: string }) => r.action);
+  const entityTypes = (await db('audit_event').distinct('entity_type').orderBy('entity_type')).map((r: { entity_type: string }) => r.entity_type);
+  const ids = (await db('audit_event').distinct('actor_id').whereNotNull('actor_id')).map((r: { actor_id: number }) => Number(r.actor_id));
+  const users = ids.length ? await db('app_user').select('id', 'full_name', 'username').whereIn('id', ids) : [];
+  const actors = users
+    .map((u: { id: number; full_name: string; username: string }) => ({ id: Number(u.id), name: `${u.full_name} (${u.username})` }))
+    .sort((a, b) => a.name.localeCompare(b.name));
+  return { actions, entityTypes, actors };
+}
+
+export function toSummary(r: Pick<AuditRow, (typeof SUMMARY_COLUMNS)[number]>): AuditEventSummary {
+  return {
+    id: Number(r.id),
+    occurredAt: new Date(r.occurred_at).toISOString(),
+    actorId: r.actor_id === null ? null : Number(r.actor_id),
+    actorName: r.actor_name,
+    action: r.action,
+    entityType: r.entity_type,
+    entityId: r.entity_id,
+    reason: r.reason,
+    ip: r.ip,
+  };
+}
+
+export function toDetail(r: AuditRow): AuditEventDetail {
+  const before = parseJson<unknown>(r.before_json, null);
+  const after = parseJson<unknown>(r.after_json, null);
+  return { ...toSummary(r), before, after, changes: diffValues(before, after), prevHash: r.prev_hash, hash: r.hash };
+}
+
+// ---------------------------------------------------------------------------------------------
+// before/after comparison, field by field (flattened paths like "bands[2].position")
+
+function isPlainObject(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+function flatten(v: unknown, prefix: string, out: Map<string, unknown>, depth: number): void {
+  if (depth > 6 || (!isPlainObject(v) && !Array.isArray(v))) {
+    out.set(prefix || '(value)', v);
+    return;
+  }
+  const entries: [string, unknown][] = Array.isArray(v) ? v.map((x, i) => [`${prefix}[${i}]`, x]) : Object.entries(v).map(([k, x]) => [prefix ? `${prefix}.${k}` : k, x]);
+  if (entries.length === 0) {
+    out.set(prefix || '(value)', v);
+    return;
+  }
+  for (const [k, x] of entries) flatten(x, k, out, depth + 1);
+}
+
+/** Field-level comparison of an event's before and after values. */
+export function diffValues(before: unknown, after: unknown): FieldChange[] {
+  const b = new Map<string, unknown>();
+  const a = new Map<string, unknown>();
+  if (before !== null && before !== undefined) flatten(before, '', b, 0);
+  if (after !== null && after !== undefined) flatten(after, '', a, 0);
+  const paths = [...new Set([...b.keys(), ...a.keys()])];
+  return paths.map((path) => {
+    const inB = b.has(path);
+    const inA = a.has(path);
+    const bv = inB ? b.get(path) : null;
+    const av = inA ? a.get(path) : null;
+    const kind: FieldChange['kind'] = !inB ? 'added' : !inA ? 'removed' : JSON.stringify(bv) === JSON.stringify(av) ? 'unchanged' : 'changed';
+    return { path, before: bv, after: av, kind };
+  });
+}
