@@ -40,9 +40,10 @@ export function assembleSpectrum(raw: RawSpectrum): Spectrum {
   for (let i = 0; i < n; i++) {
     if (!Number.isFinite(x[i]) || !Number.isFinite(y[i])) {
       const which = Number.isFinite(x[i]) ? 'y' : 'x';
+      const where = which === 'y' ? `at ${AXIS_NAME[raw.xUnit]} ${fmt(x[i])}` : `(point ${i + 1})`;
       throw new SpectrumError(
         'NON_FINITE',
-        `Point ${i + 1} has an invalid ${which} value (${String(which === 'x' ? x[i] : y[i])}). The export contains missing or invalid values; measure again or export the spectrum again.`,
+        `The ${which} value ${where} is missing or not a number. The export contains missing or invalid values; measure again or export the spectrum again.`,
         { index: i, axis: which },
       );
     }

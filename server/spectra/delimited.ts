@@ -44,6 +44,8 @@ const LAYOUTS: Layout[] = [
   { delimiter: 'whitespace', decimal: ',' },
 ];
 
+const DELIMITER_CHAR = { tab: '\t', semicolon: ';', comma: ',' } as const;
+
 const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
 const NON_FINITE_TOKEN = /^(?:[+-]?(?:nan|inf|infinity|∞)|#?n\/?a|null|none|#(?:num|div\/0|value|ref)!?|-?1\.#(?:ind|inf|qnan)\d*)$/i;
 
@@ -139,11 +141,25 @@ export function parseDelimited(text: string): DelimitedTable {
   const headerLines = nonEmpty.slice(0, first).map((i) => lines[i].trim());
 
   const rows = nonEmpty.length - first;
+  const fastSep = width === 2 && layout.delimiter !== 'whitespace' ? DELIMITER_CHAR[layout.delimiter] : null;
   const xs = new Float64Array(rows);
   const ys = new Float64Array(rows);
   for (let k = first; k < nonEmpty.length; k++) {
     const lineNo = nonEmpty[k] + 1;
     const line = lines[nonEmpty[k]];
+    if (fastSep !== null) {
+      // Fast path for the common two-column case: one delimiter, no quotes.
+      const d = line.indexOf(fastSep);
+      if (d !== -1 && line.indexOf(fastSep, d + 1) === -1) {
+        const a = toNumber(line.slice(0, d).trim(), layout.decimal);
+        const b = toNumber(line.slice(d + 1).trim(), layout.decimal);
+        if (!Number.isNaN(a) && !Number.isNaN(b)) {
+          xs[k - first] = a;
+          ys[k - first] = b;
+          continue;
+        }
+      }
+    }
     const fields = splitFields(line, layout);
     if (fields.length === width) {
       const a = toNumber(fields[0], layout.decimal);
@@ -198,7 +214,8 @@ function rowError(fields: string[], width: number, lineNo: number, line: string,
       { line: lineNo, value: nonFinite },
     );
   }
-  if (fields.some((f) => f === '') && fields.length <= width) {
+  const rawFields = layout.delimiter === 'whitespace' ? fields : line.split(DELIMITER_CHAR[layout.delimiter]).map((f) => unquote(f.trim()));
+  if (rawFields.slice(0, width).some((f) => f === '')) {
     return new SpectrumError(
       'NON_FINITE',
       `Line ${lineNo} has an empty value ("${shown}"). The export is incomplete; export the spectrum again.`,
