@@ -17,7 +17,13 @@ import { authRoutes } from './modules/auth/routes';
 import { userRoutes } from './modules/users/routes';
 import { systemRoutes } from './modules/system/routes';
 import { mailRoutes } from './modules/mail/routes';
+import { libraryRoutes } from './modules/library/routes';
+import { instrumentRoutes } from './modules/instruments/routes';
 import { auditRoutes } from './modules/audit/routes';
+import { certificateRoutes } from './modules/certificates/routes';
+import { lotRoutes } from './modules/lots/routes';
+import { testingRoutes } from './modules/testing/routes';
+import { investigationRoutes } from './modules/investigations/routes';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -56,7 +62,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use('/api', sessionMiddleware(config));
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
-  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config), auditRoutes(config)];
+  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config), libraryRoutes(config), instrumentRoutes(config), auditRoutes(config), certificateRoutes(config), lotRoutes(config), testingRoutes(config), investigationRoutes()];
   for (const r of routers) app.use(r);
 
   app.use('/api', (req, res) => {

@@ -1,0 +1,2 @@
+/** What other modules (testing, work queue) may use from the instrument registry. */
+export { getValidInstrumentCheck, type ValidInstrumentCheck } from './service';

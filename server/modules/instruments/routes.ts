@@ -1,0 +1,89 @@
+/**
+ * HTTP edge of the instrument registry. Every signed-in role reads; qa_manager registers
+ * instruments and approves check specifications; operators (also verifiers and QA) record
+ * instrument checks. An auditor or administrator changes nothing here.
+ */
+import { Router } from 'express';
+import multer from 'multer';
+import { z } from 'zod';
+import type { AppConfig } from '../../lib/config';
+import { getDb } from '../../lib/db';
+import { signatureInput } from '../../lib/esign';
+import { defineRoute, idParams } from '../../lib/http';
+import { instrumentCreateSchema, instrumentUpdateSchema, specCreateSchema } from './schemas';
+import * as service from './service';
+
+const QA = { roles: ['qa_manager'] as const };
+const CHECKERS = { roles: ['operator', 'verifier', 'qa_manager'] as const };
+
+export function instrumentRoutes(config: AppConfig): Router {
+  const r = Router();
+  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: config.uploadMaxBytes, files: 1 } }).single('file');
+
+  defineRoute(r, { method: 'get', path: '/api/instruments', summary: 'Instruments with their check status ("check due")', tag: 'instruments', access: 'authenticated' }, () =>
+    service.listInstruments(getDb()),
+  );
+  defineRoute(r, { method: 'get', path: '/api/instruments/:id', summary: 'One instrument with its check specifications and check history', tag: 'instruments', access: 'authenticated', params: idParams }, ({ params }) =>
+    service.getInstrument(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    { method: 'post', path: '/api/instruments', summary: 'Register an instrument (mid-IR: Ph. Eur. 2.2.24 FT check specification by default)', tag: 'instruments', access: QA, body: instrumentCreateSchema, status: 201 },
+    ({ body, actor, ip }) => service.createInstrument(getDb(), actor, body, ip),
+  );
+  defineRoute(
+    r,
+    { method: 'patch', path: '/api/instruments/:id', summary: 'Change an instrument (audited with a reason)', tag: 'instruments', access: QA, params: idParams, body: instrumentUpdateSchema },
+    ({ params, body, actor, ip }) => service.updateInstrument(getDb(), actor, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/specs',
+      summary: 'Approve a new check specification (site positions and tolerances, or a pharmacopoeial column) with a justification and e-signature',
+      tag: 'instruments',
+      access: QA,
+      params: idParams,
+      body: z.object({ spec: specCreateSchema, signature: signatureInput }),
+      status: 201,
+    },
+    ({ params, body, user, ip }) => service.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/checks',
+      summary: 'Record an instrument check from a polystyrene film spectrum (signed by the performer)',
+      description: 'Multipart: file = the spectrum; password (and username at the first signing of a session) = the e-signature. 422 with the reason when the file cannot be read; nothing is stored then.',
+      tag: 'instruments',
+      access: CHECKERS,
+      params: idParams,
+      upload,
+      uploadFields: { file: 'polystyrene film spectrum (JCAMP-DX or delimited text)', password: 'your password (e-signature)', username: 'your user name (first signing of a session)' },
+      body: signatureInput,
+      status: 201,
+    },
+    ({ req, params, body, user, ip }) => service.recordCheck(getDb(), user, params.id, req.file, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/instruments/:id/checks/:checkId/file',
+      summary: 'The raw file of an instrument check, byte for byte',
+      tag: 'instruments',
+      access: 'authenticated',
+      params: z.object({ id: z.coerce.number().int().positive(), checkId: z.coerce.number().int().positive() }),
+      produces: 'application/octet-stream',
+    },
+    async ({ params, res }) => {
+      const f = await service.checkFile(getDb(), params.id, params.checkId);
+      res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
+      res.setHeader('Content-Disposition', `attachment; filename="${String(f.file_name).replace(/[^A-Za-z0-9._-]/g, '_')}"`);
+      res.status(200).end(f.data);
+    },
+  );
+  return r;
+}

@@ -1,0 +1,85 @@
+/**
+ * The library's small adapter over the spectral engine (server/spectra/index.ts): reading a
+ * stored file into a spectrum (cached by file id: stored files never change), picking the
+ * characteristic bands of a reference with their group-frequency assignment, and turning a
+ * SpectrumError of one file in a batch into the API's 422 with the file named.
+ */
+import { unprocessable } from '../../lib/errors';
+import type { Db } from '../../lib/db';
+import {
+  type Band,
+  type IdentityMethod,
+  prepare,
+  readSpectrum,
+  shapeOf,
+  describeAssignment,
+  type Spectrum,
+  SpectrumError,
+} from '../../spectra';
+import type { StoredBand } from './repo';
+
+/** "C=O stretch, ester (1735-1750 cm-1, strong)" - the most likely group-frequency assignment (engine table). */
+export function assignmentText(position: number, width?: number): string {
+  return describeAssignment(position, width === undefined ? undefined : shapeOf(width));
+}
+
+/** Reads one uploaded file; a SpectrumError becomes 422 naming the file, with the engine's sentence. */
+export function readUploaded(data: Uint8Array, fileName: string): Spectrum {
+  try {
+    return readSpectrum(data, fileName);
+  } catch (e) {
+    throw asFileError(e, fileName);
+  }
+}
+
+export function asFileError(e: unknown, fileName: string): unknown {
+  if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
+    const se = e as SpectrumError;
+    return unprocessable(se.code, `${fileName}: ${se.message}`, { fileName, code: se.code, sentence: se.message, details: se.details ?? null });
+  }
+  return e;
+}
+
+/**
+ * The characteristic bands of a reference under a method: the engine's peaks on the prepared
+ * trace whose prominence reaches the method's peakProminence (the same rule the engine uses
+ * when a reference has no band list), each with its assignment. Empty when band picking is off.
+ */
+export function pickBands(spectrum: Spectrum, method: IdentityMethod): StoredBand[] {
+  if (method.peakProminence === null) return [];
+  const prepared = prepare(spectrum, method);
+  return prepared.peaks
+    .filter((p) => p.prominence >= (method.peakProminence as number))
+    .map((p) => ({
+      position: round(p.position, 2),
+      prominence: round(p.prominence, 4),
+      width: round(p.width, 1),
+      assignment: assignmentText(p.position, p.width),
+      origin: 'auto' as const,
+    }));
+}
+
+/** Stored bands as the engine's Band list. */
+export function toEngineBands(bands: StoredBand[]): Band[] {
+  return bands.map((b) => ({ position: b.position, prominence: b.prominence, width: b.width, assignment: b.assignment }));
+}
+
+export function round(v: number, digits: number): number {
+  const f = 10 ** digits;
+  return Math.round(v * f) / f;
+}
+
+const spectrumCache = new Map<number, Spectrum>();
+const MAX_CACHED = 5000;
+
+/** The spectrum of a stored file (parsed once per process; the bytes never change). */
+export async function spectrumOfFile(db: Db, fileId: number): Promise<Spectrum> {
+  const hit = spectrumCache.get(fileId);
+  if (hit) return hit;
+  const f = await db('stored_file').where({ id: fileId }).first();
+  if (!f) throw new Error(`stored file ${fileId} is missing`);
+  const s = readSpectrum(new Uint8Array(f.data as Buffer), String(f.file_name));
+  if (spectrumCache.size >= MAX_CACHED) spectrumCache.delete(spectrumCache.keys().next().value as number);
+  spectrumCache.set(fileId, s);
+  return s;
+}

@@ -1,0 +1,386 @@
+/**
+ * Reference spectra: upload (draft), band editing while draft, approval with e-signature after
+ * the specificity gate, retirement. Nothing is deleted; status and signatures carry the history.
+ *
+ * Rules decided here:
+ * - Upload is one batch, all or nothing: every file is read by the engine, checked for
+ *   measurement quality and prepared under the material's current method (the approved
+ *   version, else the draft) BEFORE anything is written; the first refusal answers 422 with
+ *   the file name and the engine's sentence, and nothing of the batch is stored. The client
+ *   sends one file per request to show progress per file, so each file is then atomic alone.
+ * - Bands are picked under that method and frozen at approval; QA edits them only while the
+ *   reference is a draft (audited with before/after and a reason).
+ * - Approval: qa_manager only (route), never the uploader (403), the material must have an
+ *   approved method, the password is asked again, then the specificity gate runs; an offending
+ *   pair refuses approval (409 SPECIFICITY_GATE, audited) unless a justification of at least 20
+ *   characters is given, in which case the signature meaning is "approved-with-justification"
+ *   and the justification is the signed statement. The signed content is
+ *   {referenceId, fileSha256, bands, methodVersionId} (canonical JSON, SHA-256).
+ * - Retirement: qa_manager, a reason and a signature (meaning "retired"); drafts may be retired
+ *   too (a bad upload is withdrawn, not deleted).
+ */
+import type { Knex } from 'knex';
+import { appendAudit, auditNow, type Actor } from '../../lib/audit';
+import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput } from '../../lib/esign';
+import { AppError, badRequest, conflict, forbidden, notFound } from '../../lib/errors';
+import { sha256Hex } from '../../lib/canonical';
+import type { AuthUser } from '../../lib/http';
+import { enqueueMailToRole } from '../../lib/mail';
+import { checkQuality, type IdentityMethod, prepare } from '../../spectra';
+import { invalidateLibraryCache } from './approved-set';
+import { asFileError, assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
+import * as repo from './repo';
+import { specificityGate, type GateReport } from './specificity';
+
+export interface UploadedFile {
+  originalname: string;
+  mimetype: string;
+  size: number;
+  buffer: Buffer;
+}
+
+export interface UploadFields {
+  supplier: string;
+  supplierLot: string;
+  measuredHow: string;
+  instrumentId?: number;
+}
+
+/** The method a reference of this material is read under: the approved version, else the latest draft. */
+async function currentMethod(db: Knex | Knex.Transaction, materialId: number): Promise<repo.MethodRow> {
+  const m = (await repo.approvedMethodOf(db, materialId)) ?? (await repo.latestMethodOf(db, materialId));
+  if (!m) throw conflict('This material has no identity method yet; create one first.');
+  return m;
+}
+
+export async function uploadReferences(db: Knex, user: AuthUser, materialId: number, files: UploadedFile[], fields: UploadFields, ip: string | null) {
+  const mat = await repo.findMaterial(db, materialId);
+  if (!mat) throw notFound('The material');
+  if (!mat.active) throw conflict('This material is inactive; reactivate it before adding references.');
+  if (!files || files.length === 0) throw badRequest('Choose at least one spectrum file (field "files").');
+  if (fields.instrumentId && !(await db('instrument').where({ id: fields.instrumentId }).first())) throw badRequest('The instrument named does not exist.');
+  const methodRow = await currentMethod(db, materialId);
+  const method = JSON.parse(methodRow.params) as IdentityMethod;
+
+  // 1. Read, check and pick bands for every file before writing anything.
+  const parsed = files.map((f) => {
+    const spectrum = readUploaded(new Uint8Array(f.buffer), f.originalname);
+    try {
+      const q = checkQuality(spectrum, method);
+      if (!q.ok) {
+        const p = q.problems[0];
+        throw new AppError(422, p.code, `${f.originalname}: ${p.message} ${p.advice}`.trim(), { fileName: f.originalname, code: p.code, problems: q.problems });
+      }
+      prepare(spectrum, method); // refuses a spectrum that does not cover the method range
+      return { file: f, spectrum, bands: pickBands(spectrum, method), sha256: sha256Hex(f.buffer) };
+    } catch (e) {
+      throw asFileError(e, f.originalname);
+    }
+  });
+
+  // 2. One transaction for the whole batch.
+  const actor: Actor = { id: user.id, name: user.fullName };
+  const ids = await db.transaction(async (trx) => {
+    await trx('material').where({ id: materialId }).forUpdate().first();
+    const existing = await trx('reference_spectrum').where({ material_id: materialId }).count({ n: '*' }).first();
+    let seq = Number(existing?.n ?? 0);
+    const out: number[] = [];
+    const now = new Date();
+    for (const p of parsed) {
+      seq++;
+      const fileId = await repo.insertStoredFile(trx, {
+        sha256: p.sha256,
+        file_name: p.file.originalname.slice(0, 255),
+        media_type: p.file.mimetype || 'application/octet-stream',
+        size: p.file.buffer.length,
+        data: p.file.buffer,
+        uploaded_by: user.id,
+        uploaded_at: now,
+      });
+      const code = `REF-${mat.code}-${String(seq).padStart(4, '0')}`;
+      const meta = { ...p.spectrum.meta, bandsPickedWithMethodId: methodRow.id, bandsPickedWithMethodVersion: methodRow.version };
+      const id = await repo.insertReference(trx, {
+        material_id: materialId,
+        code,
+        file_id: fileId,
+        status: 'draft',
+        technique: methodRow.technique,
+        supplier: fields.supplier ?? '',
+        supplier_lot: fields.supplierLot ?? '',
+        measured_how: fields.measuredHow || null,
+        instrument_id: fields.instrumentId ?? null,
+        bands: JSON.stringify(p.bands),
+        meta: JSON.stringify(meta),
+        specificity: null,
+        justification: null,
+        created_by: user.id,
+        created_at: now,
+        updated_at: now,
+        approved_signature_id: null,
+        approved_method_id: null,
+        approved_at: null,
+        retired_signature_id: null,
+        retire_reason: null,
+      });
+      await appendAudit(trx, {
+        actor,
+        action: 'reference.uploaded',
+        entityType: 'reference_spectrum',
+        entityId: id,
+        after: {
+          code,
+          materialId,
+          status: 'draft',
+          file: { id: fileId, name: p.file.originalname, sha256: p.sha256, size: p.file.buffer.length },
+          supplier: fields.supplier,
+          supplierLot: fields.supplierLot,
+          measuredHow: fields.measuredHow,
+          instrumentId: fields.instrumentId ?? null,
+          bands: p.bands.length,
+          methodId: methodRow.id,
+        },
+        ip,
+      });
+      out.push(id);
+    }
+    const codes = out.length === 1 ? `reference ${seq}` : `${out.length} references`;
+    await enqueueMailToRole(
+      trx,
+      'qa_manager',
+      `Drumline: ${out.length === 1 ? 'a reference awaits' : `${out.length} references await`} approval (${mat.code})`,
+      `${user.fullName} uploaded ${codes} for ${mat.code} ${mat.name}. Another QA manager must review the bands and approve ` +
+        `(after the specificity check) in the reference library.`,
+      user.id,
+    );
+    return out;
+  });
+  return Promise.all(ids.map((id) => getReference(db, id)));
+}
+
+export async function getReference(db: Knex, id: number) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  const file = await db('stored_file').where({ id: r.file_id }).select('id', 'sha256', 'file_name', 'media_type', 'size', 'uploaded_at').first();
+  const mat = await repo.findMaterial(db, r.material_id);
+  const uploader = await db('app_user').where({ id: r.created_by }).select('full_name').first();
+  const instrument = r.instrument_id ? await db('instrument').where({ id: r.instrument_id }).select('id', 'name').first() : null;
+  return {
+    ...repo.toReference(r),
+    material: mat ? { id: mat.id, code: mat.code, name: mat.name, grade: mat.grade } : null,
+    uploadedByName: uploader?.full_name ?? null,
+    instrument: instrument ? { id: instrument.id, name: instrument.name } : null,
+    file: file
+      ? { id: file.id, sha256: file.sha256, fileName: file.file_name, mediaType: file.media_type, size: file.size, uploadedAt: new Date(file.uploaded_at).toISOString() }
+      : null,
+    signatures: await signaturesFor(db, 'reference_spectrum', id),
+  };
+}
+
+export async function listReferences(db: Knex, materialId: number) {
+  const rows = await repo.referencesOf(db, materialId);
+  const sigIds = rows.flatMap((r) => [r.approved_signature_id, r.retired_signature_id]).filter((x): x is number => !!x);
+  const sigs = sigIds.length ? await db('e_signature').whereIn('id', sigIds) : [];
+  const users: { id: number; full_name: string }[] = await db('app_user').whereIn('id', [...new Set(rows.map((r) => r.created_by)), 0]).select('id', 'full_name');
+  return rows.map((r) => {
+    const s = sigs.find((x) => x.id === r.approved_signature_id);
+    const { bands, ...rest } = repo.toReference(r);
+    return {
+      ...rest,
+      bandCount: bands.length,
+      uploadedByName: users.find((u) => u.id === r.created_by)?.full_name ?? null,
+      approvedBy: s ? { printedName: s.printed_name, meaning: s.meaning, signedAt: new Date(s.signed_at).toISOString() } : null,
+    };
+  });
+}
+
+/** Absorbance traces of this reference and the other non-retired references of its grade, for the overlay plot. */
+export async function referenceOverlay(db: Knex, id: number) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  const rows = (await repo.referencesOf(db, r.material_id)).filter((x) => x.id === id || x.status !== 'retired');
+  const traces = [];
+  for (const x of rows) {
+    const s = await spectrumOfFile(db, x.file_id);
+    traces.push({
+      referenceId: x.id,
+      code: x.code,
+      status: x.status,
+      isThis: x.id === id,
+      x: Array.from(s.x, (v) => round(v, 3)),
+      y: Array.from(s.y, (v) => round(v, 5)),
+    });
+  }
+  return { referenceId: id, traces };
+}
+
+export async function updateBands(db: Knex, actor: Actor, id: number, input: { bands: { position: number; assignment?: string }[]; reason: string }, ip: string | null) {
+  await db.transaction(async (trx) => {
+    const before = await trx('reference_spectrum').where({ id }).forUpdate().first();
+    if (!before) throw notFound('The reference spectrum');
+    if (before.status !== 'draft')
+      throw new AppError(409, 'REFERENCE_IMMUTABLE', `Reference ${before.code} is ${before.status}; its bands can only be changed while it is a draft.`);
+    const old = repo.toReference(before).bands;
+    const sorted = [...input.bands].sort((a, b) => a.position - b.position);
+    for (let i = 1; i < sorted.length; i++)
+      if (Math.abs(sorted[i].position - sorted[i - 1].position) < 0.5) throw badRequest(`Two bands sit at ${sorted[i].position} cm-1; list each band once.`);
+    const next: repo.StoredBand[] = sorted.map((b) => {
+      const same = old.find((o) => Math.abs(o.position - b.position) < 0.005);
+      const text = b.assignment && b.assignment.trim() ? b.assignment.trim() : null;
+      if (same && (!text || text === same.assignment)) return same;
+      return {
+        position: round(b.position, 2),
+        prominence: same?.prominence,
+        width: same?.width,
+        assignment: text ?? assignmentText(b.position, same?.width),
+        origin: 'edited',
+      };
+    });
+    await trx('reference_spectrum').where({ id }).update({ bands: JSON.stringify(next), updated_at: new Date() });
+    await appendAudit(trx, { actor, action: 'reference.bands-edited', entityType: 'reference_spectrum', entityId: id, before: { bands: old }, after: { bands: next }, reason: input.reason, ip });
+  });
+  return getReference(db, id);
+}
+
+/** What the approval signature of a reference covers. */
+export function referenceSignedContent(referenceId: number, fileSha256: string, bands: repo.StoredBand[], methodVersionId: number) {
+  return { referenceId, fileSha256, bands, methodVersionId };
+}
+
+/** The specificity gate without signing (preview for the approval dialog). */
+export async function previewGate(db: Knex, id: number): Promise<GateReport> {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  const method = await repo.approvedMethodOf(db, r.material_id);
+  if (!method) throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+  const spectrum = await spectrumOfFile(db, r.file_id);
+  return specificityGate(db, { id: r.id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands }, repo.toMethod(method));
+}
+
+export async function approveReference(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: { signature: SignatureInput; justification?: string },
+  ip: string | null,
+) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  if (r.status !== 'draft') throw conflict(`Reference ${r.code} is ${r.status}; only a draft can be approved.`);
+  if (r.created_by === user.id)
+    throw forbidden('You uploaded this reference. Another QA manager must approve it (segregation of duties).');
+  const methodRow = await repo.approvedMethodOf(db, r.material_id);
+  if (!methodRow) throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'approved', entityType: 'reference_spectrum', entityId: id, ip });
+
+  const actor: Actor = { id: user.id, name: user.fullName };
+  const spectrum = await spectrumOfFile(db, r.file_id);
+  const gate = await specificityGate(db, { id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands }, repo.toMethod(methodRow));
+  const justification = input.justification?.trim() || null;
+  if (!gate.passed && !justification) {
+    await auditNow(db, {
+      actor,
+      action: 'reference.approval-blocked',
+      entityType: 'reference_spectrum',
+      entityId: id,
+      after: { offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode, otherAsSample: p.otherAsSample, candidateAsSample: p.candidateAsSample })) },
+      reason: 'specificity gate: another material would pass this method',
+      ip,
+    });
+    throw new AppError(
+      409,
+      'SPECIFICITY_GATE',
+      `Approval refused: ${gate.offending.length} reference(s) of other materials would pass this grade's method ` +
+        `(${[...new Set(gate.offending.map((p) => p.materialCode))].join(', ')}). Tighten the identity method, or approve with a written justification.`,
+      gate,
+    );
+  }
+  const meaning = gate.passed ? 'approved' : 'approved-with-justification';
+  await db.transaction(async (trx) => {
+    const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
+    if (row.status !== 'draft') throw conflict(`Reference ${row.code} was ${row.status} meanwhile by someone else.`);
+    if (row.bands !== r.bands) throw conflict('The bands were changed while you were signing; review them and sign again.');
+    const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();
+    const bands = repo.toReference(row).bands;
+    const sig = await recordSignature(trx, {
+      user,
+      credentials: input.signature,
+      meaning,
+      entityType: 'reference_spectrum',
+      entityId: id,
+      content: referenceSignedContent(id, file.sha256, bands, methodRow.id),
+      statement: gate.passed ? null : justification,
+      ip,
+    });
+    const now = new Date();
+    await trx('reference_spectrum').where({ id }).update({
+      status: 'approved',
+      approved_signature_id: sig.id,
+      approved_method_id: methodRow.id,
+      approved_at: now,
+      specificity: JSON.stringify(gate),
+      justification: gate.passed ? null : justification,
+      updated_at: now,
+    });
+    await appendAudit(trx, {
+      actor,
+      action: gate.passed ? 'reference.approved' : 'reference.approved-with-justification',
+      entityType: 'reference_spectrum',
+      entityId: id,
+      before: { status: 'draft' },
+      after: {
+        status: 'approved',
+        signatureId: sig.id,
+        meaning,
+        methodId: methodRow.id,
+        specificity: { passed: gate.passed, offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode })) },
+      },
+      reason: gate.passed ? null : justification,
+      ip,
+    });
+  });
+  invalidateLibraryCache();
+  return getReference(db, id);
+}
+
+export async function retireReference(db: Knex, user: AuthUser, id: number, input: { reason: string; signature: SignatureInput }, ip: string | null) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  if (r.status === 'retired') throw conflict(`Reference ${r.code} is already retired.`);
+  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'retired', entityType: 'reference_spectrum', entityId: id, ip });
+  await db.transaction(async (trx) => {
+    const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
+    if (row.status === 'retired') throw conflict(`Reference ${row.code} was retired meanwhile.`);
+    const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();
+    const sig = await recordSignature(trx, {
+      user,
+      credentials: input.signature,
+      meaning: 'retired',
+      entityType: 'reference_spectrum',
+      entityId: id,
+      content: { referenceId: id, fileSha256: file.sha256, previousStatus: row.status, reason: input.reason },
+      statement: input.reason,
+      ip,
+    });
+    await trx('reference_spectrum').where({ id }).update({ status: 'retired', retired_signature_id: sig.id, retire_reason: input.reason, updated_at: new Date() });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'reference.retired',
+      entityType: 'reference_spectrum',
+      entityId: id,
+      before: { status: row.status },
+      after: { status: 'retired', signatureId: sig.id },
+      reason: input.reason,
+      ip,
+    });
+  });
+  invalidateLibraryCache();
+  return getReference(db, id);
+}
+
+export async function referenceFile(db: Knex, id: number) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  const f = await repo.findStoredFile(db, r.file_id);
+  if (!f) throw notFound('The stored file');
+  return f;
+}

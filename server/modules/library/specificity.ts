@@ -1,0 +1,217 @@
+/**
+ * Specificity of the library (ICH Q2(R2): an identity test must reject closely related
+ * materials; adding a material means re-checking the whole library).
+ *
+ * The gate (before a reference is approved): under the grade's approved method, the candidate
+ * reference is scored against every approved reference of every OTHER active material whose
+ * approved method has the same technique, in both directions:
+ *  - "other as sample": the other material's reference scored against the candidate alone -
+ *    would that material pass this grade's test once the candidate is approved?
+ *  - "candidate as sample": the candidate scored against the other reference (the wording of
+ *    the issue) - is the candidate itself indistinguishable from the other material?
+ * A pair "would pass" when either direction passes every criterion. Any such pair blocks
+ * approval unless QA records a written justification.
+ *
+ * The matrix (library page): for every pair of materials with an approved method and approved
+ * references, each reference of the column material scored as a sample against the row
+ * material's approved reference set under the row material's method. The diagonal scores each
+ * reference against the others of its own set (leave one out), when there are at least two.
+ */
+import type { Knex } from 'knex';
+import { getDb } from '../../lib/db';
+import { type IdentityMethod, type PreparedReference, prepareReference, scoreAgainst, type Spectrum, SpectrumError } from '../../spectra';
+import { getApprovedReferenceSet, onLibraryInvalidate } from './approved-set';
+import { round, spectrumOfFile, toEngineBands } from './engine';
+import * as repo from './repo';
+
+export interface DirectionScore {
+  verdict: 'pass' | 'fail' | 'invalid';
+  correlation: number | null;
+  derivativeCorrelation: number | null;
+  bandsMatched: string | null;
+}
+
+export interface GatePair {
+  materialId: number;
+  materialCode: string;
+  materialName: string;
+  referenceId: number;
+  referenceCode: string;
+  otherAsSample: DirectionScore | null;
+  candidateAsSample: DirectionScore | null;
+  wouldPass: boolean;
+  /** Why the pair could not be compared (e.g. the other spectrum does not cover the method range). */
+  notComparable: string | null;
+}
+
+export interface GateReport {
+  methodId: number;
+  methodVersion: number;
+  computedAt: string;
+  pairs: GatePair[];
+  offending: GatePair[];
+  passed: boolean;
+}
+
+function direction(sample: Spectrum, refs: PreparedReference[], method: IdentityMethod): DirectionScore {
+  const r = scoreAgainst(sample, refs, method);
+  if (r.verdict === 'invalid') return { verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
+  const best = r.references.find((x) => x.referenceId === r.bestReferenceId) ?? r.references[0];
+  const band = best?.criteria.find((c) => c.key === 'band-concordance');
+  return {
+    verdict: r.verdict,
+    correlation: best ? round(best.correlation, 6) : null,
+    derivativeCorrelation: best && best.derivativeCorrelation !== null ? round(best.derivativeCorrelation, 6) : null,
+    bandsMatched: band ? `${band.value} of ${band.limit}` : null,
+  };
+}
+
+/** The specificity gate for a candidate reference under the grade's approved method. */
+export async function specificityGate(
+  db: Knex,
+  candidate: { id: number; materialId: number; spectrum: Spectrum; bands: repo.StoredBand[] },
+  method: repo.MethodVersion,
+): Promise<GateReport> {
+  const params = method.params;
+  const candPrepared = prepareReference(
+    { id: String(candidate.id), materialId: String(candidate.materialId), spectrum: candidate.spectrum, bands: toEngineBands(candidate.bands) },
+    params,
+  );
+  const others: (repo.ReferenceRow & { m_code: string; m_name: string })[] = await db('reference_spectrum as r')
+    .join('material as m', 'm.id', 'r.material_id')
+    .join('identity_method as im', function () {
+      this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
+    })
+    .where('r.status', 'approved')
+    .andWhere('m.active', 1)
+    .andWhere('im.technique', method.technique)
+    .andWhereNot('r.material_id', candidate.materialId)
+    .select('r.*', 'm.code as m_code', 'm.name as m_name')
+    .orderBy(['r.material_id', 'r.id']);
+  const pairs: GatePair[] = [];
+  for (const o of others) {
+    const base = { materialId: o.material_id, materialCode: o.m_code, materialName: o.m_name, referenceId: o.id, referenceCode: o.code };
+    try {
+      const spectrum = await spectrumOfFile(db, o.file_id);
+      const oPrepared = prepareReference(
+        { id: String(o.id), materialId: String(o.material_id), spectrum, bands: toEngineBands(repo.toReference(o).bands) },
+        params,
+      );
+      const otherAsSample = direction(spectrum, [candPrepared], params);
+      const candidateAsSample = direction(candidate.spectrum, [oPrepared], params);
+      pairs.push({ ...base, otherAsSample, candidateAsSample, wouldPass: otherAsSample.verdict === 'pass' || candidateAsSample.verdict === 'pass', notComparable: null });
+    } catch (e) {
+      if (!(e instanceof SpectrumError)) throw e;
+      pairs.push({ ...base, otherAsSample: null, candidateAsSample: null, wouldPass: false, notComparable: e.message });
+    }
+  }
+  const offending = pairs.filter((p) => p.wouldPass);
+  return { methodId: method.id, methodVersion: method.version, computedAt: new Date().toISOString(), pairs, offending, passed: offending.length === 0 };
+}
+
+// ------------------------------------------------------------------ the matrix
+
+export interface MatrixCell {
+  /** Material whose method and references judge (row). */
+  rowMaterialId: number;
+  /** Material whose references are scored as samples (column). */
+  columnMaterialId: number;
+  /** Highest correlation of a column reference against the row's set; null when not computed. */
+  correlation: number | null;
+  /** Column references that pass the row's test, out of those scored. */
+  passing: number;
+  scored: number;
+  /** would-pass: some column reference passes the row's test (for the diagonal: the set is consistent). */
+  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
+}
+
+export interface MatrixMaterial {
+  id: number;
+  code: string;
+  name: string;
+  technique: string;
+  methodId: number;
+  methodVersion: number;
+  references: number;
+}
+
+export interface SpecificityMatrix {
+  technique: string;
+  computedAt: string;
+  materials: MatrixMaterial[];
+  cells: MatrixCell[];
+  /** Off-diagonal pairs that would pass: the library is not specific for them. */
+  notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
+}
+
+const matrixCache = new Map<string, { fingerprint: string; value: SpecificityMatrix }>();
+onLibraryInvalidate(() => matrixCache.clear());
+
+/** The whole specificity matrix of one technique's approved library. */
+export async function specificityMatrixFor(technique: string, db: Knex = getDb()): Promise<SpecificityMatrix> {
+  const mats: (repo.MaterialRow & { method_id: number; method_version: number })[] = await db('material as m')
+    .join('identity_method as im', function () {
+      this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
+    })
+    .where('m.active', 1)
+    .andWhere('im.technique', technique)
+    .select('m.*', 'im.id as method_id', 'im.version as method_version')
+    .orderBy('m.code');
+  const refs: { id: number; material_id: number }[] = await db('reference_spectrum')
+    .whereIn('material_id', mats.length ? mats.map((m) => m.id) : [0])
+    .andWhere({ status: 'approved' })
+    .select('id', 'material_id')
+    .orderBy('id');
+  const fingerprint = `${mats.map((m) => `${m.id}:${m.method_id}`).join(',')}|${refs.map((r) => r.id).join(',')}`;
+  const hit = matrixCache.get(technique);
+  if (hit && hit.fingerprint === fingerprint) return hit.value;
+
+  const sets = new Map<number, NonNullable<Awaited<ReturnType<typeof getApprovedReferenceSet>>>>();
+  for (const m of mats) {
+    const s = await getApprovedReferenceSet(m.id, db);
+    if (s && s.references.length) sets.set(m.id, s);
+  }
+  const materials: MatrixMaterial[] = mats
+    .filter((m) => sets.has(m.id))
+    .map((m) => ({ id: m.id, code: m.code, name: m.name, technique, methodId: m.method_id, methodVersion: m.method_version, references: sets.get(m.id)!.references.length }));
+  const cells: MatrixCell[] = [];
+  for (const row of materials) {
+    const rowSet = sets.get(row.id)!;
+    for (const col of materials) {
+      const colSet = sets.get(col.id)!;
+      let best: number | null = null;
+      let passing = 0;
+      let scored = 0;
+      let notComparable = false;
+      for (const cr of colSet.references) {
+        const judges = row.id === col.id ? rowSet.references.filter((r) => r.id !== cr.id) : rowSet.references;
+        if (judges.length === 0) continue;
+        try {
+          const res = scoreAgainst(cr.spectrum, judges.map((j) => j.prepared), rowSet.method.params);
+          if (res.verdict === 'invalid') continue;
+          scored++;
+          if (res.verdict === 'pass') passing++;
+          const c = Math.max(...res.references.map((x) => x.correlation));
+          if (best === null || c > best) best = c;
+        } catch (e) {
+          if (!(e instanceof SpectrumError)) throw e;
+          notComparable = true;
+        }
+      }
+      let state: MatrixCell['state'];
+      if (row.id === col.id) state = scored === 0 ? 'single' : passing === scored ? 'self' : 'self-inconsistent';
+      else if (scored === 0) state = notComparable ? 'not-comparable' : 'distinct';
+      else state = passing > 0 ? 'would-pass' : 'distinct';
+      cells.push({ rowMaterialId: row.id, columnMaterialId: col.id, correlation: best === null ? null : round(best, 4), passing, scored, state });
+    }
+  }
+  const value: SpecificityMatrix = {
+    technique,
+    computedAt: new Date().toISOString(),
+    materials,
+    cells,
+    notDiscriminated: cells.filter((c) => c.state === 'would-pass').map((c) => ({ rowMaterialId: c.rowMaterialId, columnMaterialId: c.columnMaterialId })),
+  };
+  matrixCache.set(technique, { fingerprint, value });
+  return value;
+}
