@@ -19,16 +19,18 @@ export const RANGE_MARGIN = 10;
 
 /**
  * Table entries that could explain a band at this wavenumber, most likely first:
- * ranges that contain it before ranges that only come within RANGE_MARGIN; entries
- * whose usual shape matches the given shape before the others; then narrower
- * (more specific) ranges; the fingerprint region always last.
+ * entries whose usual shape contradicts the given shape last (a sharp band is not
+ * the very broad acid O-H); then ranges that contain the wavenumber before ranges
+ * that only come within RANGE_MARGIN; then entries of exactly the given shape;
+ * then narrower (more specific) ranges. The fingerprint region always comes last.
  */
 export function assignBand(wavenumber: number, shape?: BandShape): GroupFrequency[] {
   const hits = GROUP_FREQUENCIES.filter((g) => wavenumber >= g.from - RANGE_MARGIN && wavenumber <= g.to + RANGE_MARGIN);
   const rank = (g: GroupFrequency): number[] => [
     g.id === 'fingerprint' ? 1 : 0,
+    shape && g.shape !== 'any' && g.shape !== shape ? 1 : 0,
     wavenumber >= g.from && wavenumber <= g.to ? 0 : 1,
-    !shape || g.shape === shape ? 0 : g.shape === 'any' ? 1 : 2,
+    shape && g.shape === shape ? 0 : 1,
     g.to - g.from,
   ];
   return [...hits].sort((a, b) => {
@@ -50,7 +52,8 @@ export const DESCRIBED_CANDIDATES = 2;
 export function describeAssignment(wavenumber: number, shape?: BandShape): string {
   const all = assignBand(wavenumber, shape);
   const specific = all.filter((g) => g.id !== 'fingerprint' && (!shape || g.shape === 'any' || g.shape === shape));
-  const chosen = specific.length ? specific.slice(0, DESCRIBED_CANDIDATES) : all.slice(0, 1);
+  const fallback = all.find((g) => g.id === 'fingerprint') ?? all[0];
+  const chosen = specific.length ? specific.slice(0, DESCRIBED_CANDIDATES) : fallback ? [fallback] : [];
   if (!chosen.length) return 'no common group frequency';
   const text = chosen.map((g) => `${g.group} (${g.from}-${g.to} cm-1, ${g.intensity})`).join(' or ');
   return specific.length && all.some((g) => g.id === 'fingerprint') && wavenumber <= 1500 ? `${text}; fingerprint region` : text;
