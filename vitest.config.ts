@@ -1,5 +1,8 @@
 import { defineConfig } from 'vitest/config';
 
+// Each run gets its own API test database, so parallel runs never drop each other's data.
+process.env.DRUMLINE_TEST_DB ??= `drumline_test_${process.pid}`;
+
 // Two projects: pure engine/unit tests run in parallel; API tests share one real
 // MariaDB test database and run one file at a time.
 export default defineConfig({

@@ -48,6 +48,18 @@ export async function recreateDatabase(database: string): Promise<void> {
   }
 }
 
+/** Drops a database (test runs clean up after themselves). */
+export async function dropDatabase(database: string): Promise<void> {
+  if (!/^drumline_[a-z0-9_]+$/.test(database) || database === 'drumline') throw new Error(`refusing to drop database ${database}`);
+  const s = dbSettings('owner', database);
+  const owner = knexFactory(knexConfig({ ...s, database: '' }, { min: 0, max: 1 }));
+  try {
+    await owner.raw(`DROP DATABASE IF EXISTS \`${database}\``);
+  } finally {
+    await owner.destroy();
+  }
+}
+
 const isMain = process.argv[1] && import.meta.url.endsWith(process.argv[1].replace(/\\/g, '/').split('/').pop()!);
 if (isMain) {
   migrateDatabase()
