@@ -1,0 +1,169 @@
+/**
+ * Instruments and their polystyrene instrument checks (issue 4).
+ *
+ * Sources:
+ * - Ph. Eur. 2.2.24, Table 2.2.24.-1 (5.0 text; ../shared/domain-facts.md 1.1): polystyrene film
+ *   bands 3060.0, 2849.5, 1942.9, 1601.2, 1583.0, 1154.5, 1028.3 cm-1, FT instruments +-1.0 cm-1.
+ * - The real film spectrum ../shared/reference-data/atr-ftir/polystyrene_film.csv (NRCan/PlotFTIR,
+ *   1-bounce diamond ATR, GPL-3+; see the README there). ATR shifts bands below their
+ *   transmission positions, so under the pharmacopoeial FT tolerances this genuine spectrum
+ *   FAILS (the correct verdict); under a QA-approved site specification taken from its own band
+ *   positions it passes, and a copy shifted by 1.5 cm-1 fails that specification.
+ */
+import { beforeAll, describe, expect, it } from 'vitest';
+import { agentFor, db, uniqueName } from './helpers';
+import { canonical, refData, sha256, shiftedCsv, sigOf } from './fixtures-library';
+import { getValidInstrumentCheck } from '../../server/modules/instruments';
+
+type Ctx = Awaited<ReturnType<typeof agentFor>>;
+let qa: Ctx;
+let op: Ctx;
+let aud: Ctx;
+const film = refData('atr-ftir/polystyrene_film.csv');
+
+const PH_EUR_FT = [3060.0, 2849.5, 1942.9, 1601.2, 1583.0, 1154.5, 1028.3];
+
+beforeAll(async () => {
+  [qa, op, aud] = await Promise.all([agentFor(['qa_manager']), agentFor(['operator']), agentFor(['auditor'])]);
+});
+
+async function newInstrument(over: Record<string, unknown> = {}) {
+  const res = await qa.agent.post('/api/instruments').send({ name: uniqueName('FTIR-'), serialNumber: 'SN-0042', technique: 'mid-ir', sampling: 'atr', location: 'Goods-in bench 2', ...over });
+  expect(res.status, JSON.stringify(res.body)).toBe(201);
+  return res.body;
+}
+
+function check(agent: Ctx, instrumentId: number, name: string, data: Buffer, password = agent.user.password) {
+  return agent.agent.post(`/api/instruments/${instrumentId}/checks`).attach('file', data, name).field('username', agent.user.username).field('password', password);
+}
+
+describe('instrument registry', () => {
+  it('a new mid-IR instrument gets the Ph. Eur. 2.2.24 FT specification (all seven bands +-1.0 cm-1) and is "check due"', async () => {
+    const inst = await newInstrument();
+    expect(inst.specs).toHaveLength(1);
+    expect(inst.specs[0]).toMatchObject({ version: 1, kind: 'pharmacopoeia-ft', status: 'approved' });
+    expect(inst.specs[0].bands.map((b: { nominal: number }) => b.nominal)).toEqual(PH_EUR_FT);
+    expect(inst.specs[0].bands.every((b: { tolerance: number }) => b.tolerance === 1.0)).toBe(true);
+    expect(inst).toMatchObject({ checkDue: true, validCheck: null, checkValidityHours: 24 });
+    const list = await op.agent.get('/api/instruments');
+    expect(list.body.find((i: { id: number }) => i.id === inst.id)).toMatchObject({ checkDue: true });
+    expect(await getValidInstrumentCheck(inst.id)).toBeNull();
+  });
+
+  it('operator and auditor cannot register or change instruments; auditor cannot record checks', async () => {
+    const inst = await newInstrument();
+    for (const who of [op, aud]) {
+      expect((await who.agent.post('/api/instruments').send({ name: uniqueName('X-'), serialNumber: '1', technique: 'mid-ir', sampling: 'atr' })).status).toBe(403);
+      expect((await who.agent.patch(`/api/instruments/${inst.id}`).send({ location: 'elsewhere', reason: 'move it' })).status).toBe(403);
+    }
+    expect((await check(aud, inst.id, 'polystyrene_film.csv', film)).status).toBe(403);
+    expect(await db()('instrument_check').where({ instrument_id: inst.id }).first()).toBeUndefined();
+  });
+});
+
+describe('polystyrene instrument checks on the real ATR film spectrum', () => {
+  let inst: { id: number };
+  let found: number[] = [];
+
+  beforeAll(async () => {
+    inst = await newInstrument();
+  });
+
+  it('FAILS under the default Ph. Eur. FT specification (ATR bands sit 0.5-2.3 cm-1 low); stored with file, band table and signature', async () => {
+    const res = await check(op, inst.id, 'polystyrene_film.csv', film);
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    expect(res.body.verdict).toBe('fail');
+    expect(res.body.validUntil).toBeNull();
+    const bands = res.body.result.bands as { nominal: number; found: number; deviation: number; ok: boolean }[];
+    expect(bands.map((b) => b.nominal)).toEqual(PH_EUR_FT);
+    expect(bands.filter((b) => !b.ok)).toHaveLength(5);
+    for (const b of bands) {
+      expect(b.deviation).toBeLessThan(0); // every band lower than the transmission position
+      expect(b.deviation).toBeGreaterThan(-2.5);
+    }
+    found = bands.map((b) => b.found);
+    // the file is kept byte for byte; the performer's signature is on the record
+    const row = await db()('instrument_check').where({ id: res.body.id }).first();
+    const f = await db()('stored_file').where({ id: row.file_id }).first();
+    expect(Buffer.compare(f.data, film)).toBe(0);
+    expect(f.sha256).toBe(sha256(film));
+    const s = await db()('e_signature').where({ id: row.signature_id }).first();
+    expect(s).toMatchObject({ user_id: op.user.id, meaning: 'instrument-check', entity_type: 'instrument_check', entity_id: String(res.body.id) });
+    const content = { checkId: res.body.id, instrumentId: inst.id, specId: row.spec_id, fileSha256: sha256(film), verdict: 'fail', bands: JSON.parse(row.result).bands };
+    expect(s.content_hash).toBe(sha256(canonical(content)));
+    const audit = await db()('audit_event').where({ entity_type: 'instrument_check', entity_id: String(res.body.id), action: 'instrument.check-failed' });
+    expect(audit).toHaveLength(1);
+    expect((await op.agent.get(`/api/instruments/${inst.id}`)).body.checkDue).toBe(true);
+  });
+
+  it('only QA approves a site ATR specification, with a justification and the password (a wrong one is refused and audited)', async () => {
+    const bands = found.map((v) => ({ nominal: Math.round(v * 100) / 100, tolerance: 1.0 }));
+    const spec = { kind: 'site', bands, justification: 'Diamond ATR accessory: positions established at qualification (IQ/OQ report 7), tolerances as Ph. Eur. FT.' };
+    expect((await op.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: sigOf(op.user) })).status).toBe(403);
+    expect((await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec: { ...spec, justification: 'too short' }, signature: sigOf(qa.user) })).status).toBe(400);
+    const wrong = await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: { username: qa.user.username, password: 'wrong-password-here' } });
+    expect(wrong.status).toBe(401);
+    expect(await db()('audit_event').where({ entity_type: 'instrument', entity_id: String(inst.id), action: 'signature.refused' })).toHaveLength(1);
+    const ok = await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: sigOf(qa.user) });
+    expect(ok.status).toBe(201);
+    expect(ok.body.specs[0]).toMatchObject({ version: 2, kind: 'site', status: 'approved', justification: spec.justification });
+    expect(ok.body.specs[0].signature).toMatchObject({ meaning: 'approved', printedName: qa.user.fullName, statement: spec.justification });
+    expect(ok.body.specs[1]).toMatchObject({ version: 1, status: 'superseded' });
+  });
+
+  it('PASSES under the approved site specification; valid for check_validity_hours; getValidInstrumentCheck returns it', async () => {
+    const res = await check(op, inst.id, 'polystyrene_film.csv', film);
+    expect(res.status).toBe(201);
+    expect(res.body.verdict).toBe('pass');
+    expect(res.body.result.bands.every((b: { ok: boolean }) => b.ok)).toBe(true);
+    expect(new Date(res.body.validUntil).getTime() - new Date(res.body.performedAt).getTime()).toBe(24 * 3600_000);
+    const detail = (await op.agent.get(`/api/instruments/${inst.id}`)).body;
+    expect(detail.checkDue).toBe(false);
+    const valid = await getValidInstrumentCheck(inst.id);
+    expect(valid).toMatchObject({ id: res.body.id, verdict: 'pass', instrumentId: inst.id });
+    // 25 hours later the check has expired: check due again
+    expect(await getValidInstrumentCheck(inst.id, new Date(Date.now() + 25 * 3600_000))).toBeNull();
+  });
+
+  it('a copy shifted by 1.5 cm-1 FAILS the site specification, and the instrument is "check due" again', async () => {
+    const res = await check(op, inst.id, 'polystyrene_shifted.csv', shiftedCsv(film, 1.5));
+    expect(res.status).toBe(201);
+    expect(res.body.verdict).toBe('fail');
+    for (const b of res.body.result.bands) expect(Math.abs(b.deviation - 1.5)).toBeLessThan(0.3);
+    expect(await getValidInstrumentCheck(inst.id)).toBeNull();
+    const list = await op.agent.get('/api/instruments');
+    expect(list.body.find((i: { id: number }) => i.id === inst.id)).toMatchObject({ checkDue: true, lastCheck: { verdict: 'fail' } });
+  });
+
+  it('an unreadable file gives 422 with the engine sentence and stores nothing; a wrong password stores nothing', async () => {
+    const before = Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n);
+    const files = Number((await db()('stored_file').count({ n: '*' }).first())!.n);
+    const res = await check(op, inst.id, 'empty.csv', Buffer.from(''));
+    expect(res.status).toBe(422);
+    expect(res.body.error.code).toBe('EMPTY_FILE');
+    expect(res.body.error.message).toMatch(/^empty\.csv: /);
+    const wrong = await check(op, inst.id, 'polystyrene_film.csv', film, 'not-my-password');
+    expect(wrong.status).toBe(401);
+    expect(Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n)).toBe(before);
+    expect(Number((await db()('stored_file').count({ n: '*' }).first())!.n)).toBe(files);
+  });
+
+  it('the raw file of a check downloads byte for byte', async () => {
+    const detail = (await aud.agent.get(`/api/instruments/${inst.id}`)).body;
+    const first = detail.checks[detail.checks.length - 1];
+    const res = await aud.agent.get(`/api/instruments/${inst.id}/checks/${first.id}/file`).buffer(true).parse((r, cb) => {
+      const chunks: Buffer[] = [];
+      r.on('data', (c: Buffer) => chunks.push(c));
+      r.on('end', () => cb(null, Buffer.concat(chunks)));
+    });
+    expect(res.status).toBe(200);
+    expect(sha256(res.body as Buffer)).toBe(sha256(film));
+  });
+
+  it('an NIR instrument has no default specification: a check is refused until QA approves one', async () => {
+    const nir = await newInstrument({ technique: 'nir', sampling: 'diffuse-reflectance' });
+    expect(nir.specs).toHaveLength(0);
+    const res = await check(op, nir.id, 'polystyrene_film.csv', film);
+    expect(res.status).toBe(409);
+  });
+});
