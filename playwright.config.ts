@@ -1,0 +1,36 @@
+import { defineConfig, devices } from '@playwright/test';
+
+// Browser tests in Debian's Chromium (no Playwright browser download). The web server builds the
+// client and runs Drumline against its own fresh database `drumline_e2e` (scripts/e2e-server.sh).
+const port = Number(process.env.E2E_PORT ?? 4173);
+
+export default defineConfig({
+  testDir: './e2e',
+  workers: 1,
+  fullyParallel: false,
+  retries: 0,
+  timeout: 60_000,
+  expect: { timeout: 10_000 },
+  reporter: process.env.CI ? [['list']] : [['list'], ['html', { open: 'never' }]],
+  use: { baseURL: `http://127.0.0.1:${port}`, trace: 'retain-on-failure', screenshot: 'only-on-failure' },
+  projects: [
+    {
+      name: 'debian-chromium',
+      use: {
+        ...devices['Desktop Chrome'],
+        launchOptions: {
+          executablePath: '/usr/bin/chromium',
+          args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+        },
+      },
+    },
+  ],
+  webServer: {
+    command: 'bash scripts/e2e-server.sh',
+    url: `http://127.0.0.1:${port}/api/health`,
+    reuseExistingServer: !process.env.CI,
+    timeout: 180_000,
+    stdout: 'pipe',
+    stderr: 'pipe',
+  },
+});
