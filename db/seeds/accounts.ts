@@ -17,6 +17,8 @@ export const DEMO_ACCOUNTS: { username: string; fullName: string; email: string;
   { username: 'aurelia', fullName: 'Aurelia Santos', email: 'aurelia.santos@lindenhall.example', roles: ['auditor'] },
   { username: 'adam', fullName: 'Adam Lindqvist', email: 'adam.lindqvist@lindenhall.example', roles: ['admin'] },
   { username: 'dana', fullName: 'Dana Whitfield', email: 'dana.whitfield@lindenhall.example', roles: ['operator', 'verifier'] },
+  // A second QA manager: references are uploaded by one QA person and approved by another.
+  { username: 'irene', fullName: 'Irene Castell', email: 'irene.castell@lindenhall.example', roles: ['qa_manager'] },
 ];
 
 export async function seedAccounts(db: Knex): Promise<void> {
