@@ -12,7 +12,6 @@ export const SPECTRUM_ERROR_CODES = [
   'EMPTY_FILE',
   'BINARY_FILE',
   'FILE_TOO_LARGE',
-  'UNKNOWN_FORMAT',
   // JCAMP-DX structure and checks
   'JCAMP_UNREADABLE',
   'JCAMP_TRUNCATED',

@@ -215,3 +215,82 @@ describe('every valid JCAMP-DX file in the reference data equals jcampconverter'
     d.pages.forEach((p, k) => expect(Array.from(p.y)).toEqual(Array.from(ref[k].data.y)));
   });
 });
+
+describe('ASDF pseudo-digits, one line at a time (McDonald & Wilks 1988, ASDF tables)', () => {
+  const decode = (...lines: string[]) => decodeAsdf(lines, 0, lines.length, { maxPoints: 1000 });
+  it('AFFN with exponents and a leading decimal point', () => {
+    expect(Array.from(decode('100 1.5E-3 -2.5e+2 .5 7').y)).toEqual([0.0015, -250, 0.5, 7]);
+  });
+  it('PAC: signs separate the values', () => {
+    expect(Array.from(decode('100+5-3+2').y)).toEqual([5, -3, 2]);
+  });
+  it('SQZ: @ = 0, A-I = +1..+9, a-i = -1..-9 as first digit ("e" after digits is SQZ, not an exponent)', () => {
+    expect(Array.from(decode('100e777A2@3i').y)).toEqual([-5777, 12, 3, -9]);
+  });
+  it('DIF and DUP: J2 adds 12, T repeats the last difference (two in all), then the Y check', () => {
+    const r = decode('100A5J2T', '103C9J');
+    expect(Array.from(r.y)).toEqual([15, 27, 39, 40]);
+    expect(r.lines.map((l) => [l.start, l.yChecked])).toEqual([
+      [0, false],
+      [2, true],
+    ]);
+  });
+  it('DUP after an absolute value repeats the value; s = 9, S0 = 10', () => {
+    expect(Array.from(decode('100A5T').y)).toEqual([15, 15]);
+    expect(decode('100@s').y.length).toBe(9);
+    expect(decode('100@S0').y.length).toBe(10);
+  });
+  it('a line after DIF that does not repeat the last value fails the Y check', () => {
+    expect(errorOf(() => decode('100A5J2', '102A8J')).code).toBe('JCAMP_Y_CHECK');
+    expect(errorOf(() => decode('100A5J2', '102J1')).code).toBe('JCAMP_Y_CHECK');
+  });
+  it('? is a missing value; other characters are refused', () => {
+    expect(Number.isNaN(decode('100 1 ? 3').y[1])).toBe(true);
+    expect(errorOf(() => decode('100 1 & 3')).code).toBe('JCAMP_BAD_CHARACTER');
+    expect(errorOf(() => decode('J1 2 3')).code).toBe('JCAMP_UNREADABLE'); // no abscissa
+  });
+  it('more points than allowed are refused at once', () => {
+    expect(errorOf(() => decodeAsdf(['100@s99999999'], 0, 1, { maxPoints: 100 })).code).toBe('JCAMP_NPOINTS_MISMATCH');
+  });
+});
+
+describe('other JCAMP-DX records (synthetic files written here)', () => {
+  const xs = Array.from({ length: 60 }, (_, i) => 4000 - 50 * i);
+  const ys = xs.map((x) => Number((0.1 + 0.5 * Math.exp(-(((x - 2900) / 80) ** 2))).toFixed(5)));
+  const head = (extra: string[]) => ['##TITLE=points', '##JCAMP-DX=5.01', '##DATA TYPE=INFRARED SPECTRUM', '##XUNITS=1/CM', '##YUNITS=ABSORBANCE', '##XFACTOR=1', '##YFACTOR=1', ...extra];
+
+  it('##XYPOINTS=(XY..XY) reads through readSpectrum', () => {
+    const t = [...head(['##FIRSTX=4000', '##LASTX=1050', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']), ...xs.map((x, i) => `${x}, ${ys[i]}`), '##END='].join('\n');
+    const s = readSpectrum(t, 'points.jdx');
+    expect(s.meta.points).toBe(60);
+    expect(s.x[0]).toBe(1050);
+    expect(Array.from(s.y).reverse()).toEqual(ys);
+  });
+  it('##XYPOINTS whose ##LASTX disagrees with the data fails the X check', () => {
+    const t = [...head(['##FIRSTX=4000', '##LASTX=1000', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']), ...xs.map((x, i) => `${x}, ${ys[i]}`), '##END='].join('\n');
+    expect(errorOf(() => readSpectrum(t, 'points.jdx')).code).toBe('JCAMP_X_CHECK');
+  });
+  it('##PEAK TABLE decodes as a peak table (refused by readSpectrum, tested in the bad-file corpus)', () => {
+    const t = [...head(['##NPOINTS=2', '##PEAK TABLE=(XY..XY)']), '2920,0.6 1730,0.9', '##END='].join('\n');
+    const d = decodeJcamp(t);
+    expect(d.pages[0].form).toBe('PEAK TABLE');
+    expect(Array.from(d.pages[0].x)).toEqual([2920, 1730]);
+  });
+  it('a link block with two spectra: the decoder reads the first and says so', () => {
+    const d = decodeJcamp(readFileSync(path.resolve(__dirname, '../bad-files/two-spectra-link-block.jdx'), 'utf8'));
+    expect(d.dataBlockCount).toBe(2);
+    expect(d.title).toBe('Drum 1');
+    expect(d.warnings.join(' ')).toMatch(/2 blocks with data; only the first/);
+  });
+  it('labels are matched without spaces, hyphens and case; ##RESOLUTION goes to meta', () => {
+    const t = [
+      '##TITLE=labels', '##JCAMPDX=5.01', '##datatype=INFRARED SPECTRUM', '##X_UNITS=1/CM', '##Y UNITS=ABSORBANCE', '##RESOLUTION=4',
+      '##FIRST X=4000', '##LASTX=1050', '##N POINTS=60', '##XFACTOR=1', '##YFACTOR=1e-5', '##XYDATA=(X++(Y..Y))',
+      ...Array.from({ length: 6 }, (_, k) => `${xs[k * 10]} ${ys.slice(k * 10, k * 10 + 10).map((v) => Math.round(v * 1e5)).join(' ')}`),
+      '##END=',
+    ].join('\r\n');
+    const s = readSpectrum(t, 'labels.jdx');
+    expect(s.meta.resolution).toBe(4);
+    expect(s.y[s.y.length - 1]).toBeCloseTo(ys[0], 12);
+  });
+});
