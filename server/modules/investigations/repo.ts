@@ -1,0 +1,122 @@
+/** Data access of investigations. */
+import type { Db } from '../../lib/db';
+import { parseJson } from '../../lib/db';
+import type { InvestigationStatus, Phase1Item } from './schemas';
+
+export interface InvestigationRow {
+  id: number;
+  number: string;
+  lot_id: number;
+  test_id: number;
+  status: InvestigationStatus;
+  failing: string;
+  phase1: string | null;
+  decision: 'invalidated' | 'confirmed' | null;
+  justification: string | null;
+  retest_containers: string | null;
+  opened_by: number | null;
+  opened_at: Date;
+  decided_by: number | null;
+  decision_signature_id: number | null;
+  closed_at: Date | null;
+  updated_at: Date;
+}
+
+export interface HintEntry {
+  materialId: number;
+  materialCode: string;
+  materialName: string;
+  referenceCode: string;
+  score: number;
+  isTestedMaterial: boolean;
+}
+
+export interface FailingContainer {
+  containerId: number;
+  label: string;
+  measurementId: number;
+  score: number | null;
+  explanation: string[];
+  hint: HintEntry[];
+  /** "Closest approved materials: ..." as shown to QA. */
+  hintText: string;
+}
+
+export interface Phase1Record {
+  items: Record<Phase1Item, { ok: boolean; note: string }>;
+  summary: string;
+  recordedBy: { id: number; name: string };
+  recordedAt: string;
+  signatureId: number;
+}
+
+export interface InvestigationSummary {
+  id: number;
+  number: string;
+  lotId: number;
+  lotNumber: string;
+  materialName: string;
+  testId: number;
+  attempt: number;
+  status: InvestigationStatus;
+  decision: 'invalidated' | 'confirmed' | null;
+  failing: FailingContainer[];
+  phase1: Phase1Record | null;
+  justification: string | null;
+  retestContainerIds: number[];
+  openedAt: string;
+  decidedBy: { id: number; name: string } | null;
+  closedAt: string | null;
+  updatedAt: string;
+}
+
+type Joined = InvestigationRow & { lot_number: string; m_name: string; attempt: number; d_name: string | null };
+
+export function toSummary(r: Joined): InvestigationSummary {
+  return {
+    id: r.id,
+    number: r.number,
+    lotId: r.lot_id,
+    lotNumber: r.lot_number,
+    materialName: r.m_name,
+    testId: r.test_id,
+    attempt: r.attempt,
+    status: r.status,
+    decision: r.decision,
+    failing: parseJson<FailingContainer[]>(r.failing, []),
+    phase1: parseJson<Phase1Record | null>(r.phase1, null),
+    justification: r.justification,
+    retestContainerIds: parseJson<number[]>(r.retest_containers, []),
+    openedAt: new Date(r.opened_at).toISOString(),
+    decidedBy: r.decided_by ? { id: r.decided_by, name: r.d_name ?? '' } : null,
+    closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
+    updatedAt: new Date(r.updated_at).toISOString(),
+  };
+}
+
+export function query(db: Db) {
+  return db('investigation as i')
+    .join('lot as l', 'l.id', 'i.lot_id')
+    .join('material as m', 'm.id', 'l.material_id')
+    .join('identity_test as t', 't.id', 'i.test_id')
+    .leftJoin('app_user as d', 'd.id', 'i.decided_by')
+    .select('i.*', 'l.lot_number', 'm.name as m_name', 't.attempt', 'd.full_name as d_name');
+}
+
+export async function findInvestigation(db: Db, id: number): Promise<InvestigationSummary | undefined> {
+  const r = await query(db).where('i.id', id).first();
+  return r ? toSummary(r) : undefined;
+}
+
+export const lockInvestigation = (db: Db, id: number): Promise<InvestigationRow | undefined> =>
+  db('investigation').where({ id }).forUpdate().first();
+
+export async function listInvestigations(db: Db, f: { state: 'open' | 'all'; lotId?: number }): Promise<InvestigationSummary[]> {
+  const q = query(db).orderBy('i.id', 'desc').limit(500);
+  if (f.state === 'open') q.whereIn('i.status', ['open', 'phase1-recorded', 'retest-authorised']);
+  if (f.lotId) q.where('i.lot_id', f.lotId);
+  return (await q).map(toSummary);
+}
+
+export const investigationRowsOfLot = (db: Db, lotId: number): Promise<InvestigationRow[]> =>
+  db('investigation').where({ lot_id: lotId }).orderBy('id');

@@ -1,0 +1,70 @@
+/**
+ * Input schemas of investigations of failing identity results (after FDA guidance "Investigating
+ * Out-of-Specification (OOS) Test Results for Pharmaceutical Production", phase I laboratory
+ * investigation). Pure data and zod: the client imports this file too.
+ */
+import { z } from 'zod';
+import { signatureInput } from '../../lib/esign';
+
+export const PHASE1_ITEMS = ['instrument', 'sampleHandling', 'method', 'data'] as const;
+export type Phase1Item = (typeof PHASE1_ITEMS)[number];
+
+export const PHASE1_LABELS: Record<Phase1Item, { title: string; question: string }> = {
+  instrument: {
+    title: 'Instrument',
+    question: 'Was the instrument check valid, the ATR crystal clean and the instrument working as intended?',
+  },
+  sampleHandling: {
+    title: 'Sample handling',
+    question: 'Was the right container sampled, labelled and presented to the instrument correctly, without contamination?',
+  },
+  method: {
+    title: 'Method',
+    question: 'Were the approved identity method and reference set used and the procedure followed?',
+  },
+  data: {
+    title: 'Data',
+    question: 'Is the right file attached to the right container, and were the data processed without error?',
+  },
+};
+
+const checkItem = z.object({
+  /** true: no laboratory error found on this point; false: an error was found. */
+  ok: z.boolean(),
+  note: z.string().trim().min(3, 'Write what was checked (at least 3 characters).').max(2000),
+});
+
+export const phase1Schema = z.object({
+  instrument: checkItem,
+  sampleHandling: checkItem,
+  method: checkItem,
+  data: checkItem,
+  summary: z.string().trim().min(10, 'Summarise the laboratory check (at least 10 characters).').max(4000),
+  signature: signatureInput,
+});
+export type Phase1Input = z.infer<typeof phase1Schema>;
+
+const justification = z.string().trim().min(20, 'Write a justification of at least 20 characters.').max(4000);
+
+export const invalidateSchema = z.object({
+  /** The phase I point where the assignable laboratory error was found. */
+  cause: z.enum(PHASE1_ITEMS),
+  justification,
+  retestContainerIds: z.array(z.number().int().positive()).min(1, 'Name at least one container to re-sample and retest.').max(999),
+  signature: signatureInput,
+});
+export type InvalidateInput = z.infer<typeof invalidateSchema>;
+
+export const confirmSchema = z.object({
+  justification,
+  signature: signatureInput,
+});
+export type ConfirmInput = z.infer<typeof confirmSchema>;
+
+export const INVESTIGATION_STATUSES = ['open', 'phase1-recorded', 'retest-authorised', 'closed'] as const;
+export type InvestigationStatus = (typeof INVESTIGATION_STATUSES)[number];
+
+export const investigationListQuery = z.object({
+  state: z.enum(['open', 'all']).default('open'),
+  lotId: z.coerce.number().int().positive().optional(),
+});

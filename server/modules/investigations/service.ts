@@ -1,0 +1,259 @@
+/**
+ * Investigations of failing identity results, after FDA guidance on out-of-specification
+ * results (Oct 2006, Rev. 1 May 2022): an investigation opens automatically when a verified
+ * test has a failing container; QA records the phase I laboratory check (instrument, sample
+ * handling, method, data), then EITHER invalidates the result for a documented, assignable
+ * laboratory error and authorises a re-sample and retest of named containers (the original
+ * results stay on record, 21 CFR 211.192 and 211.194), OR confirms the failure and rejects the
+ * lot. Each step is an e-signature and an audit event; mail tells QA when one opens and closes.
+ * There is no other way to retest a failed container: see testing/service.ts.
+ */
+import type { Knex } from 'knex';
+import { appendAudit, type Actor } from '../../lib/audit';
+import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
+import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
+import type { AuthUser } from '../../lib/http';
+import { enqueueMailToRole } from '../../lib/mail';
+import { pageLink } from '../lots/links';
+import { insertWithNextNumber, yearOf } from '../lots/numbering';
+import * as repo from './repo';
+import type { ConfirmInput, InvalidateInput, Phase1Input } from './schemas';
+import { PHASE1_ITEMS, PHASE1_LABELS } from './schemas';
+
+export interface OpenInput {
+  lot: { id: number; lotNumber: string; materialName: string };
+  test: { id: number; attempt: number };
+  failing: repo.FailingContainer[];
+  actor: Actor;
+  ip: string | null;
+}
+
+/** Opens an investigation inside the caller's transaction (the verification that found the failure). */
+export async function openInvestigation(trx: Knex.Transaction, input: OpenInput): Promise<{ id: number; number: string }> {
+  const now = new Date();
+  const created = await insertWithNextNumber(trx, {
+    table: 'investigation',
+    column: 'number',
+    prefix: `INV-${yearOf(now)}-`,
+    width: 4,
+    row: (number) => ({
+      number,
+      lot_id: input.lot.id,
+      test_id: input.test.id,
+      status: 'open',
+      failing: JSON.stringify(input.failing),
+      phase1: null,
+      decision: null,
+      justification: null,
+      retest_containers: null,
+      opened_by: input.actor.id,
+      opened_at: now,
+      decided_by: null,
+      decision_signature_id: null,
+      closed_at: null,
+      updated_at: now,
+    }),
+  });
+  await appendAudit(trx, {
+    actor: input.actor,
+    action: 'investigation.opened',
+    entityType: 'investigation',
+    entityId: created.id,
+    after: { number: created.number, lotId: input.lot.id, testId: input.test.id, failing: input.failing.map((f) => ({ label: f.label, measurementId: f.measurementId, hint: f.hintText })) },
+    reason: `Verified identity test of lot ${input.lot.lotNumber} has failing containers.`,
+    ip: input.ip,
+  });
+  const lines = input.failing.map((f) => `- ${f.label}: ${f.explanation[0] ?? 'failed'} ${f.hintText}`);
+  await enqueueMailToRole(
+    trx,
+    'qa_manager',
+    `Investigation ${created.number} opened: lot ${input.lot.lotNumber} failed identity`,
+    [
+      `Lot ${input.lot.lotNumber} (${input.lot.materialName}) failed the identity test (attempt ${input.test.attempt}).`,
+      `The lot stays in quarantine. Failing containers:`,
+      ...lines,
+      '',
+      `Record the phase I laboratory check and decide: ${pageLink(`/investigations/${created.id}`)}`,
+    ].join('\n'),
+  );
+  return created;
+}
+
+/** Closes an investigation whose authorised retest has now been verified (passed or failed again). */
+export async function closeAfterRetest(
+  trx: Knex.Transaction,
+  investigationId: number,
+  outcome: { passed: boolean; testId: number; attempt: number; lotNumber: string; nextInvestigation?: string },
+  actor: Actor,
+  ip: string | null,
+): Promise<void> {
+  const row = await repo.lockInvestigation(trx, investigationId);
+  if (!row || row.status !== 'retest-authorised') return;
+  const now = new Date();
+  await trx('investigation').where({ id: investigationId }).update({ status: 'closed', closed_at: now, updated_at: now });
+  const result = outcome.passed
+    ? `the retest (attempt ${outcome.attempt}) passed and was verified`
+    : `the retest (attempt ${outcome.attempt}) failed again; investigation ${outcome.nextInvestigation ?? ''} follows it`;
+  await appendAudit(trx, {
+    actor,
+    action: 'investigation.closed',
+    entityType: 'investigation',
+    entityId: investigationId,
+    before: { status: row.status },
+    after: { status: 'closed', retestTestId: outcome.testId, retestPassed: outcome.passed },
+    reason: `Closed because ${result}.`,
+    ip,
+  });
+  await enqueueMailToRole(
+    trx,
+    'qa_manager',
+    `Investigation ${row.number} closed: lot ${outcome.lotNumber} retest ${outcome.passed ? 'passed' : 'failed'}`,
+    `Investigation ${row.number} of lot ${outcome.lotNumber} is closed: ${result}.\n${pageLink(`/investigations/${investigationId}`)}`,
+  );
+}
+
+export async function getInvestigation(db: Knex, id: number) {
+  const inv = await repo.findInvestigation(db, id);
+  if (!inv) throw notFound('The investigation');
+  const signatures = await signaturesFor(db, 'investigation', id);
+  const test = await db('identity_test').where({ id: inv.testId }).first();
+  return { ...inv, signatures, performedBy: test?.performed_by ?? null };
+}
+
+/** QA's independence from the laboratory work under investigation. */
+async function assertNotAnalyst(db: Knex | Knex.Transaction, user: AuthUser, testId: number): Promise<void> {
+  const t = await db('identity_test').where({ id: testId }).first();
+  const measured = await db('measurement').where({ test_id: testId, created_by: user.id }).first();
+  if (t?.performed_by === user.id || measured)
+    throw forbidden('You performed or measured this test, so you cannot decide its investigation. Another QA manager must do it.');
+}
+
+export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: Phase1Input, ip: string | null) {
+  const inv = await repo.findInvestigation(db, id);
+  if (!inv) throw notFound('The investigation');
+  if (inv.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
+  await assertNotAnalyst(db, user, inv.testId);
+  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'phase-1-recorded', entityType: 'investigation', entityId: id, ip });
+  await db.transaction(async (trx) => {
+    const row = await repo.lockInvestigation(trx, id);
+    if (!row || row.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
+    const items = Object.fromEntries(PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }])) as repo.Phase1Record['items'];
+    const content = { investigation: inv.number, items, summary: input.summary };
+    const sig = await recordSignature(trx, {
+      user, credentials: input.signature, meaning: 'phase-1-recorded', entityType: 'investigation', entityId: id, content, statement: input.summary, ip,
+    });
+    const record: repo.Phase1Record = { items, summary: input.summary, recordedBy: { id: user.id, name: user.fullName }, recordedAt: sig.signedAt, signatureId: sig.id };
+    await trx('investigation').where({ id }).update({ phase1: JSON.stringify(record), status: 'phase1-recorded', updated_at: new Date() });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'investigation.phase1-recorded',
+      entityType: 'investigation',
+      entityId: id,
+      before: { status: 'open', phase1: null },
+      after: { status: 'phase1-recorded', phase1: record },
+      reason: input.summary,
+      ip,
+    });
+  });
+  return getInvestigation(db, id);
+}
+
+export async function invalidateResult(db: Knex, user: AuthUser, id: number, input: InvalidateInput, ip: string | null) {
+  const inv = await repo.findInvestigation(db, id);
+  if (!inv) throw notFound('The investigation');
+  if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
+  if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
+  const item = inv.phase1!.items[input.cause];
+  if (item.ok)
+    throw new AppError(
+      422,
+      'NO_ASSIGNABLE_CAUSE',
+      `The phase I check found no laboratory error under "${PHASE1_LABELS[input.cause].title}". A result may be invalidated only for an assignable laboratory cause found and documented in phase I; otherwise confirm the failure.`,
+    );
+  const failingIds = new Set(inv.failing.map((f) => f.containerId));
+  const notFailing = input.retestContainerIds.filter((c) => !failingIds.has(c));
+  if (notFailing.length) throw new AppError(422, 'NOT_A_FAILING_CONTAINER', 'Only failing containers of this investigation can be authorised for retest.', { containerIds: notFailing });
+  await assertNotAnalyst(db, user, inv.testId);
+  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'result-invalidated', entityType: 'investigation', entityId: id, ip });
+  const retest = [...new Set(input.retestContainerIds)].sort((a, b) => a - b);
+  const labels = inv.failing.filter((f) => retest.includes(f.containerId)).map((f) => f.label);
+  await db.transaction(async (trx) => {
+    const row = await repo.lockInvestigation(trx, id);
+    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
+    const content = { investigation: inv.number, decision: 'invalidated', cause: input.cause, justification: input.justification, retestContainers: labels };
+    const sig = await recordSignature(trx, {
+      user, credentials: input.signature, meaning: 'result-invalidated', entityType: 'investigation', entityId: id, content, statement: input.justification, ip,
+    });
+    const now = new Date();
+    await trx('investigation').where({ id }).update({
+      status: 'retest-authorised',
+      decision: 'invalidated',
+      justification: `${PHASE1_LABELS[input.cause].title}: ${input.justification}`,
+      retest_containers: JSON.stringify(retest),
+      decided_by: user.id,
+      decision_signature_id: sig.id,
+      updated_at: now,
+    });
+    const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
+    await trx('lot').where({ id: inv.lotId }).update({ identity_status: 'retest-authorised', updated_at: now });
+    const actor = { id: user.id, name: user.fullName };
+    await appendAudit(trx, {
+      actor, action: 'investigation.result-invalidated', entityType: 'investigation', entityId: id,
+      before: { status: 'phase1-recorded', decision: null },
+      after: { status: 'retest-authorised', decision: 'invalidated', cause: input.cause, retestContainers: labels },
+      reason: input.justification, ip,
+    });
+    await appendAudit(trx, {
+      actor, action: 'lot.retest-authorised', entityType: 'lot', entityId: inv.lotId,
+      before: { identityStatus: lot.identity_status }, after: { identityStatus: 'retest-authorised', containers: labels },
+      reason: `Investigation ${inv.number}: ${input.justification}`, ip,
+    });
+    await enqueueMailToRole(
+      trx,
+      'operator',
+      `Retest authorised: lot ${inv.lotNumber}`,
+      `QA invalidated the failing result of lot ${inv.lotNumber} (investigation ${inv.number}) for an assignable laboratory cause and authorised a re-sample and retest of: ${labels.join(', ')}.\nThe original results stay on record.\n${pageLink(`/lots/${inv.lotId}`)}`,
+    );
+  });
+  return getInvestigation(db, id);
+}
+
+export async function confirmFailure(db: Knex, user: AuthUser, id: number, input: ConfirmInput, ip: string | null) {
+  const inv = await repo.findInvestigation(db, id);
+  if (!inv) throw notFound('The investigation');
+  if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
+  if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
+  await assertNotAnalyst(db, user, inv.testId);
+  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'failure-confirmed', entityType: 'investigation', entityId: id, ip });
+  await db.transaction(async (trx) => {
+    const row = await repo.lockInvestigation(trx, id);
+    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
+    const content = { investigation: inv.number, decision: 'confirmed', justification: input.justification, failing: inv.failing.map((f) => f.label) };
+    const sig = await recordSignature(trx, {
+      user, credentials: input.signature, meaning: 'failure-confirmed', entityType: 'investigation', entityId: id, content, statement: input.justification, ip,
+    });
+    const now = new Date();
+    await trx('investigation').where({ id }).update({
+      status: 'closed', decision: 'confirmed', justification: input.justification, decided_by: user.id, decision_signature_id: sig.id, closed_at: now, updated_at: now,
+    });
+    const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
+    await trx('lot').where({ id: inv.lotId }).update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
+    const actor = { id: user.id, name: user.fullName };
+    await appendAudit(trx, {
+      actor, action: 'investigation.failure-confirmed', entityType: 'investigation', entityId: id,
+      before: { status: 'phase1-recorded', decision: null }, after: { status: 'closed', decision: 'confirmed' }, reason: input.justification, ip,
+    });
+    await appendAudit(trx, {
+      actor, action: 'lot.rejected', entityType: 'lot', entityId: inv.lotId,
+      before: { status: lot.status, identityStatus: lot.identity_status }, after: { status: 'rejected', identityStatus: 'rejected' },
+      reason: `Investigation ${inv.number}: ${input.justification}`, ip,
+    });
+    await enqueueMailToRole(
+      trx,
+      'qa_manager',
+      `Investigation ${inv.number} closed: lot ${inv.lotNumber} rejected`,
+      `${user.fullName} confirmed the identity failure of lot ${inv.lotNumber} (${inv.materialName}) and rejected the lot.\nJustification: ${input.justification}\n${pageLink(`/investigations/${id}`)}`,
+    );
+  });
+  return getInvestigation(db, id);
+}

@@ -1,0 +1,105 @@
+/** Data access of lots and containers. */
+import type { Db } from '../../lib/db';
+import type { IdentityStatus, LotStatus } from './schemas';
+
+export interface LotRow {
+  id: number;
+  lot_number: string;
+  material_id: number;
+  supplier: string;
+  supplier_lot: string;
+  container_count: number;
+  received_date: Date | string;
+  notes: string | null;
+  status: LotStatus;
+  identity_status: IdentityStatus;
+  created_by: number;
+  created_at: Date;
+  updated_at: Date;
+}
+
+export interface ContainerRow {
+  id: number;
+  lot_id: number;
+  seq: number;
+  label: string;
+}
+
+export interface LotSummary {
+  id: number;
+  lotNumber: string;
+  material: { id: number; code: string; name: string; grade: string };
+  supplier: string;
+  supplierLot: string;
+  containerCount: number;
+  receivedDate: string;
+  notes: string | null;
+  status: LotStatus;
+  identityStatus: IdentityStatus;
+  createdBy: { id: number; name: string };
+  createdAt: string;
+  updatedAt: string;
+}
+
+type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string };
+
+/** DATE columns come back as a Date at UTC midnight (connection time zone Z). */
+export function dateOnly(v: Date | string): string {
+  if (typeof v === 'string') return v.slice(0, 10);
+  return v.toISOString().slice(0, 10);
+}
+
+export function toLotSummary(r: LotJoined): LotSummary {
+  return {
+    id: r.id,
+    lotNumber: r.lot_number,
+    material: { id: r.material_id, code: r.m_code, name: r.m_name, grade: r.m_grade },
+    supplier: r.supplier,
+    supplierLot: r.supplier_lot,
+    containerCount: r.container_count,
+    receivedDate: dateOnly(r.received_date),
+    notes: r.notes,
+    status: r.status,
+    identityStatus: r.identity_status,
+    createdBy: { id: r.created_by, name: r.u_name },
+    createdAt: new Date(r.created_at).toISOString(),
+    updatedAt: new Date(r.updated_at).toISOString(),
+  };
+}
+
+export function lotQuery(db: Db) {
+  return db('lot as l')
+    .join('material as m', 'm.id', 'l.material_id')
+    .join('app_user as u', 'u.id', 'l.created_by')
+    .select('l.*', 'm.code as m_code', 'm.name as m_name', 'm.grade as m_grade', 'u.full_name as u_name');
+}
+
+export async function findLot(db: Db, id: number): Promise<LotSummary | undefined> {
+  const r = await lotQuery(db).where('l.id', id).first();
+  return r ? toLotSummary(r) : undefined;
+}
+
+export async function lockLot(db: Db, id: number): Promise<LotRow | undefined> {
+  return db('lot').where({ id }).forUpdate().first();
+}
+
+export async function listLots(db: Db, f: { identityStatus?: string; search?: string }, limit = 500): Promise<LotSummary[]> {
+  const q = lotQuery(db).orderBy('l.id', 'desc').limit(limit);
+  if (f.identityStatus) q.where('l.identity_status', f.identityStatus);
+  if (f.search) {
+    const s = `%${f.search.replace(/[%_\\]/g, (c) => '\\' + c)}%`;
+    q.where((w) => w.where('l.lot_number', 'like', s).orWhere('l.supplier_lot', 'like', s).orWhere('m.name', 'like', s).orWhere('m.code', 'like', s));
+  }
+  return (await q).map(toLotSummary);
+}
+
+export const containersOf = (db: Db, lotId: number): Promise<ContainerRow[]> => db('container').where({ lot_id: lotId }).orderBy('seq');
+
+export const findContainerByLabel = (db: Db, label: string): Promise<ContainerRow | undefined> =>
+  db('container').where({ label }).first();
+
+/** The highest lot number of a year (L-YYYY-NNNNN), or null. */
+export async function lastLotNumberOfYear(db: Db, prefix: string): Promise<string | null> {
+  const r = await db('lot').where('lot_number', 'like', `${prefix}%`).max('lot_number as n').first();
+  return (r?.n as string | null) ?? null;
+}

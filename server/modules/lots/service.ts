@@ -1,0 +1,166 @@
+/**
+ * Lot receipt (21 CFR 211.84(a): each lot is held in quarantine until sampled, tested and
+ * released; EU GMP Annex 8: identity of every container). An operator registers a received lot
+ * of a grade that has an approved identity method and at least one approved reference; Drumline
+ * gives it an internal lot number and one labelled container per drum or bag.
+ */
+import type { Knex } from 'knex';
+import { appendAudit, type Actor } from '../../lib/audit';
+import { AppError, notFound } from '../../lib/errors';
+import { signaturesFor } from '../../lib/esign';
+import * as inv from '../investigations/repo';
+import { scopesOf } from '../testing/context';
+import { effectiveResults, latestByContainer } from '../testing/outcome';
+import * as testing from '../testing/repo';
+import { insertWithNextNumber, yearOf } from './numbering';
+import * as repo from './repo';
+import type { LotCreate } from './schemas';
+
+/** Material grades a lot may be received for: active, approved method, at least one approved reference. */
+export async function receivableMaterials(db: Knex) {
+  const rows = await db('material as m')
+    .join('identity_method as im', function () {
+      this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
+    })
+    .where('m.active', 1)
+    .whereExists(db('reference_spectrum as r').whereRaw('r.material_id = m.id').andWhere('r.status', 'approved'))
+    .select('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
+    .orderBy('m.name');
+  return rows.map((r) => ({ id: r.id as number, code: r.code as string, name: r.name as string, grade: r.grade as string, methodVersion: r.method_version as number, technique: r.technique as string }));
+}
+
+export function containerLabel(lotNumber: string, seq: number): string {
+  return `${lotNumber}-${String(seq).padStart(3, '0')}`;
+}
+
+export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: string | null) {
+  const material = await db('material').where({ id: input.materialId }).first();
+  if (!material || !material.active) throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
+  const ok = (await receivableMaterials(db)).some((m) => m.id === input.materialId);
+  if (!ok)
+    throw new AppError(
+      422,
+      'MATERIAL_NOT_RECEIVABLE',
+      `${material.name} has no approved identity method with an approved reference spectrum, so its lots cannot be tested yet. QA must approve them first.`,
+    );
+  const today = new Date().toISOString().slice(0, 10);
+  if (input.receivedDate > today) throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
+  const now = new Date();
+  const { id, number } = await db.transaction(async (trx) => {
+    const created = await insertWithNextNumber(trx, {
+      table: 'lot',
+      column: 'lot_number',
+      prefix: `L-${yearOf(now)}-`,
+      width: 5,
+      row: (lotNumber) => ({
+        lot_number: lotNumber,
+        material_id: input.materialId,
+        supplier: input.supplier,
+        supplier_lot: input.supplierLot,
+        container_count: input.containerCount,
+        received_date: input.receivedDate,
+        notes: input.notes ?? null,
+        status: 'quarantine',
+        identity_status: 'awaiting-testing',
+        created_by: actor.id,
+        created_at: now,
+        updated_at: now,
+      }),
+    });
+    const containers = Array.from({ length: input.containerCount }, (_, i) => ({ lot_id: created.id, seq: i + 1, label: containerLabel(created.number, i + 1) }));
+    for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
+    await appendAudit(trx, {
+      actor,
+      action: 'lot.received',
+      entityType: 'lot',
+      entityId: created.id,
+      after: {
+        lotNumber: created.number,
+        materialId: input.materialId,
+        material: `${material.name} (${material.code})`,
+        supplier: input.supplier,
+        supplierLot: input.supplierLot,
+        containerCount: input.containerCount,
+        receivedDate: input.receivedDate,
+        notes: input.notes ?? null,
+        status: 'quarantine',
+        identityStatus: 'awaiting-testing',
+        labels: containers.map((c) => c.label),
+      },
+      ip,
+    });
+    return created;
+  });
+  void number;
+  return getLotDetail(db, id);
+}
+
+export async function getLotDetail(db: Knex, id: number) {
+  const lot = await repo.findLot(db, id);
+  if (!lot) throw notFound('The lot');
+  const containers = await repo.containersOf(db, id);
+  const tests = await testing.testsOfLot(db, id);
+  const scopes = await scopesOf(db, tests);
+  const measurements = await testing.measurementsOfLot(db, id);
+  const refs = containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label }));
+  const effective = effectiveResults(refs, tests, scopes, measurements);
+  const current = [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
+  const latestCurrent = current ? latestByContainer(measurements, current.id) : new Map();
+  const names = await testing.userNames(db, tests.flatMap((t) => [t.performed_by, t.verified_by]));
+  const investigations = (await inv.investigationRowsOfLot(db, id)).map((r) => ({
+    id: r.id,
+    number: r.number,
+    status: r.status,
+    decision: r.decision,
+    openedAt: new Date(r.opened_at).toISOString(),
+    closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
+  }));
+  const certRow = await db('certificate').where({ lot_id: id }).orderBy('id', 'desc').first();
+  const certificate =
+    certRow != null
+      ? { state: 'issued' as const, id: certRow.id as number, number: certRow.number as string, issuedAt: new Date(certRow.issued_at).toISOString() }
+      : lot.identityStatus === 'passed'
+        ? { state: 'pending' as const }
+        : { state: 'none' as const };
+  const testSummaries = [];
+  for (const t of tests) {
+    testSummaries.push({
+      id: t.id,
+      attempt: t.attempt,
+      status: t.status,
+      retestOfInvestigationId: t.retest_of_investigation_id,
+      instrumentId: t.instrument_id,
+      methodId: t.method_id,
+      createdAt: new Date(t.created_at).toISOString(),
+      performedBy: t.performed_by ? { id: t.performed_by, name: names.get(t.performed_by) ?? '' } : null,
+      verifiedBy: t.verified_by ? { id: t.verified_by, name: names.get(t.verified_by) ?? '' } : null,
+      returnedReason: t.returned_reason,
+      measurements: measurements.filter((m) => m.testId === t.id).length,
+      signatures: await signaturesFor(db, 'identity_test', t.id),
+    });
+  }
+  return {
+    ...lot,
+    containers: containers.map((c) => {
+      const e = effective.get(c.id) ?? null;
+      const cur = latestCurrent.get(c.id) ?? null;
+      return {
+        id: c.id,
+        seq: c.seq,
+        label: c.label,
+        effective: e,
+        current: cur ? { measurementId: cur.id, verdict: cur.verdict, matchScore: cur.matchScore } : null,
+        currentInScope: current ? (scopes.get(current.id)?.containerIds ?? null) === null || scopes.get(current.id)!.containerIds!.includes(c.id) : false,
+        measurements: measurements.filter((m) => m.containerId === c.id).length,
+      };
+    }),
+    tests: testSummaries,
+    currentTestId: current?.id ?? null,
+    investigations,
+    certificate,
+  };
+}
+
+export async function listLots(db: Knex, f: { identityStatus?: string; search?: string }) {
+  return repo.listLots(db, f);
+}

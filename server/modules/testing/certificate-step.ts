@@ -1,0 +1,19 @@
+/**
+ * The certificate step after a lot passed identity (DESIGN.md flow 5). Called AFTER the
+ * verification transaction has committed, so a certificate problem can never undo a signed
+ * verification: the lot then shows "certificate pending" (no certificate row yet) and the
+ * certificates module can issue it later.
+ */
+import type { Knex } from 'knex';
+import type { Actor } from '../../lib/audit';
+import { issueCertificate } from '../certificates';
+
+export async function runCertificateStep(db: Knex, args: { lotId: number; testId: number; actor: Actor }): Promise<'issued' | 'pending'> {
+  try {
+    await issueCertificate(db, args);
+    return 'issued';
+  } catch (e) {
+    console.error(`[certificate] lot ${args.lotId}: the certificate could not be issued now; it stays pending:`, (e as Error).message);
+    return 'pending';
+  }
+}

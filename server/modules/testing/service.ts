@@ -1,0 +1,356 @@
+/**
+ * Identity testing of every container (EU GMP Annex 8 para 2; 21 CFR 211.84(d)(1)):
+ * starting an attempt on a usable instrument, matching files to containers, and recording
+ * measurements. Each upload keeps the raw bytes and their SHA-256, is scored at once by the
+ * engine against the grade's approved reference set under the approved method version, and
+ * becomes an insert-only measurement row. Re-measuring adds a row; nothing is overwritten.
+ *
+ * Retest rule (FDA OOS guidance: no "testing into compliance"): a container whose latest
+ * result in the attempt is a FAIL cannot be measured again in that attempt; the only way to
+ * a new result is QA invalidating it in an investigation and authorising a retest attempt.
+ */
+import type { Knex } from 'knex';
+import { appendAudit } from '../../lib/audit';
+import { sha256Hex } from '../../lib/canonical';
+import { AppError, badRequest, conflict, notFound, unprocessable } from '../../lib/errors';
+import type { AuthUser } from '../../lib/http';
+import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum, type SpectrumMeta, SpectrumError } from '../../spectra';
+import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
+import * as lots from '../lots/repo';
+import type { HintEntry } from '../investigations/repo';
+import { loadContext } from './context';
+import { fitsMethod, instrumentStatus } from './instrument-status';
+import { inScope, labelsInFileName, latestByContainer } from './outcome';
+import * as repo from './repo';
+import type { MatchStatus } from './schemas';
+
+/** What a measurement row keeps as its result: the engine's result plus the mix-up hint and the file's reading notes. */
+export interface StoredResult extends IdentityResult {
+  libraryHint: HintEntry[] | null;
+  libraryHintText: string | null;
+  sampleMeta: Pick<SpectrumMeta, 'title' | 'format' | 'originalXUnits' | 'originalYUnits' | 'points' | 'warnings'>;
+}
+
+const STARTABLE = new Set(['awaiting-testing', 'testing', 'retest-authorised']);
+
+async function usableInstrument(db: Knex | Knex.Transaction, instrumentId: number, methodTechnique: string) {
+  const s = await instrumentStatus(db, instrumentId);
+  if (!s) throw notFound('The instrument');
+  if (!s.usable) throw new AppError(409, 'INSTRUMENT_CHECK_DUE', s.reason!, { instrumentId, check: s.check });
+  if (!fitsMethod(s.instrument, methodTechnique))
+    throw new AppError(
+      422,
+      'INSTRUMENT_UNSUITABLE',
+      `Instrument ${s.instrument.name} (${s.instrument.technique}, ${s.instrument.sampling}) does not fit the identity method (${methodTechnique}). Choose a suitable instrument.`,
+    );
+  return s;
+}
+
+async function approvedSetFor(materialId: number, db: Knex) {
+  const set = await getApprovedReferenceSet(materialId, db);
+  if (!set) throw new AppError(409, 'NO_APPROVED_METHOD', 'This material has no approved identity method. QA must approve one before testing.');
+  if (set.references.length === 0)
+    throw new AppError(409, 'NO_APPROVED_REFERENCE', 'This material has no approved reference spectrum. QA must approve one before testing.');
+  return set;
+}
+
+/** Starts the next test attempt of a lot on an instrument with a valid instrument check. */
+export async function startTest(db: Knex, user: AuthUser, lotId: number, instrumentId: number, ip: string | null) {
+  const lot = await lots.findLot(db, lotId);
+  if (!lot) throw notFound('The lot');
+  const set = await approvedSetFor(lot.material.id, db);
+  await usableInstrument(db, instrumentId, set.method.technique);
+  const actor = { id: user.id, name: user.fullName };
+  return db.transaction(async (trx) => {
+    const row = await lots.lockLot(trx, lotId);
+    if (!row) throw notFound('The lot');
+    if (row.status !== 'quarantine') throw conflict(`Lot ${row.lot_number} is ${row.status}; it cannot be tested.`);
+    if (!STARTABLE.has(row.identity_status)) {
+      const why =
+        row.identity_status === 'failed'
+          ? 'Its identity test failed and an investigation is open: a retest needs QA authorisation.'
+          : row.identity_status === 'passed'
+            ? 'Its identity has already passed.'
+            : `Its identity status is "${row.identity_status}".`;
+      throw conflict(`A new test attempt cannot be started for lot ${row.lot_number}. ${why}`);
+    }
+    const tests = await repo.testsOfLot(trx, lotId);
+    const open = tests.find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification');
+    if (open) throw conflict(`Attempt ${open.attempt} of lot ${row.lot_number} is ${open.status === 'in-progress' ? 'still in progress' : 'awaiting verification'}.`, { testId: open.id });
+    let retestOf: number | null = null;
+    if (row.identity_status === 'retest-authorised') {
+      const inv = await trx('investigation').where({ lot_id: lotId, status: 'retest-authorised' }).orderBy('id', 'desc').first();
+      if (!inv) throw conflict('No retest authorisation was found for this lot.');
+      if (tests.some((t) => t.retest_of_investigation_id === inv.id && t.status !== 'returned'))
+        throw conflict(`The retest authorised by investigation ${inv.number} has already been performed.`);
+      retestOf = inv.id as number;
+    }
+    const now = new Date();
+    const attempt = (tests.at(-1)?.attempt ?? 0) + 1;
+    const id = await repo.insertTest(trx, {
+      lot_id: lotId,
+      attempt,
+      status: 'in-progress',
+      method_id: set.method.id,
+      instrument_id: instrumentId,
+      performed_by: null,
+      performed_signature_id: null,
+      verified_by: null,
+      verified_signature_id: null,
+      returned_reason: null,
+      returned_signature_id: null,
+      retest_of_investigation_id: retestOf,
+      created_by: user.id,
+      created_at: now,
+      updated_at: now,
+    });
+    await trx('lot').where({ id: lotId }).update({ identity_status: 'testing', updated_at: now });
+    await appendAudit(trx, {
+      actor,
+      action: 'test.started',
+      entityType: 'identity_test',
+      entityId: id,
+      after: { lotId, lotNumber: row.lot_number, attempt, methodId: set.method.id, methodVersion: set.method.version, instrumentId, retestOfInvestigationId: retestOf },
+      ip,
+    });
+    if (row.identity_status !== 'testing')
+      await appendAudit(trx, { actor, action: 'lot.identity-status-changed', entityType: 'lot', entityId: lotId, before: { identityStatus: row.identity_status }, after: { identityStatus: 'testing' }, ip });
+    return { id, attempt };
+  });
+}
+
+/** Changes the instrument of an attempt in progress (the new one must be usable too). */
+export async function switchInstrument(db: Knex, user: AuthUser, testId: number, instrumentId: number, ip: string | null) {
+  const ctx = await loadContext(db, testId);
+  const method = await db('identity_method').where({ id: ctx.test.method_id }).first();
+  await usableInstrument(db, instrumentId, method.technique);
+  await db.transaction(async (trx) => {
+    const t = await repo.lockTest(trx, testId);
+    if (!t || t.status !== 'in-progress') throw conflict('Only a test in progress can change its instrument.');
+    if (t.instrument_id === instrumentId) return;
+    await trx('identity_test').where({ id: testId }).update({ instrument_id: instrumentId, updated_at: new Date() });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'test.instrument-changed',
+      entityType: 'identity_test',
+      entityId: testId,
+      before: { instrumentId: t.instrument_id },
+      after: { instrumentId },
+      ip,
+    });
+  });
+}
+
+export interface MatchRow {
+  fileName: string;
+  status: MatchStatus;
+  label: string | null;
+  containerId: number | null;
+}
+
+/** Multi-file upload, step 1: which file goes to which container, judged by the label in its name. Stores nothing. */
+export async function matchFiles(db: Knex, testId: number, fileNames: string[]): Promise<MatchRow[]> {
+  const ctx = await loadContext(db, testId);
+  const byLabel = new Map(ctx.containers.map((c) => [c.label.toUpperCase(), c]));
+  const latest = latestByContainer(ctx.measurements, testId);
+  const rows: MatchRow[] = fileNames.map((fileName) => {
+    const labels = labelsInFileName(fileName);
+    if (labels.length === 0) return { fileName, status: 'no-label', label: null, containerId: null };
+    if (labels.length > 1) return { fileName, status: 'several-labels', label: labels.join(', '), containerId: null };
+    const label = labels[0];
+    const c = byLabel.get(label);
+    if (!c) return { fileName, status: label.startsWith(`${ctx.lot.lotNumber}-`) ? 'unknown-label' : 'other-lot', label, containerId: null };
+    if (!inScope(ctx.scope, c.id)) return { fileName, status: 'not-in-scope', label, containerId: c.id };
+    if (latest.get(c.id)?.verdict === 'fail') return { fileName, status: 'failed-needs-qa', label, containerId: c.id };
+    return { fileName, status: 'matched', label, containerId: c.id };
+  });
+  const seen = new Map<number, number>();
+  for (const r of rows) if (r.status === 'matched' && r.containerId) seen.set(r.containerId, (seen.get(r.containerId) ?? 0) + 1);
+  for (const r of rows) if (r.status === 'matched' && r.containerId && (seen.get(r.containerId) ?? 0) > 1) r.status = 'duplicate';
+  return rows;
+}
+
+export interface UploadedFile {
+  buffer: Buffer;
+  originalname: string;
+  mimetype?: string;
+  size: number;
+}
+
+function readOrRefuse(file: UploadedFile): Spectrum {
+  try {
+    return readSpectrum(new Uint8Array(file.buffer), file.originalname);
+  } catch (e) {
+    if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
+      const se = e as SpectrumError;
+      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, { fileName: file.originalname, code: se.code });
+    }
+    throw e;
+  }
+}
+
+/** "Closest approved materials: ..." over the whole approved library; advisory, never blocks a measurement. */
+async function libraryHint(db: Knex, sample: Spectrum, method: Parameters<typeof searchApprovedLibrary>[1], testedMaterialId: number) {
+  try {
+    const hits = await searchApprovedLibrary(sample, method, 20, db);
+    const best = new Map<number, HintEntry>();
+    for (const h of hits) {
+      if (best.has(h.materialId)) continue;
+      best.set(h.materialId, {
+        materialId: h.materialId,
+        materialCode: h.materialCode,
+        materialName: h.materialName,
+        referenceCode: h.referenceCode,
+        score: Math.round(h.score * 10000) / 10000,
+        isTestedMaterial: h.materialId === testedMaterialId,
+      });
+    }
+    const hint = [...best.values()].slice(0, 3);
+    const text = hint.length
+      ? `Closest approved materials: ${hint.map((h) => `${h.materialName} (${h.materialCode}, match score ${h.score.toFixed(3)}${h.isTestedMaterial ? ', the tested material' : ''})`).join('; ')}.`
+      : 'Closest approved materials: none found in the approved library for this technique.';
+    return { hint, text };
+  } catch (e) {
+    console.error('[testing] library search for the mix-up hint failed:', (e as Error).message);
+    return { hint: null, text: 'Closest approved materials: the library search was not available.' };
+  }
+}
+
+/** Records one measurement of one container. A file that cannot be read stores nothing (422). */
+export async function addMeasurement(
+  db: Knex,
+  user: AuthUser,
+  testId: number,
+  target: { containerId?: number; label?: string },
+  file: UploadedFile | undefined,
+  ip: string | null,
+) {
+  if (!file || !file.buffer) throw badRequest('Attach the spectrum file (field "file").');
+  const ctx = await loadContext(db, testId);
+  if (ctx.test.status !== 'in-progress')
+    throw conflict(`Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} is ${ctx.test.status}; measurements can only be added while it is in progress.`);
+  const container = target.containerId
+    ? ctx.containers.find((c) => c.id === target.containerId)
+    : ctx.containers.find((c) => c.label.toUpperCase() === (target.label ?? '').trim().toUpperCase());
+  if (!container) {
+    const other = target.label ? await lots.findContainerByLabel(db, target.label.trim().toUpperCase()) : undefined;
+    throw unprocessable(
+      'UNKNOWN_CONTAINER',
+      other ? `Label ${target.label} belongs to another lot, not to ${ctx.lot.lotNumber}.` : `No container of lot ${ctx.lot.lotNumber} has this ${target.label ? `label (${target.label})` : 'id'}.`,
+    );
+  }
+  if (!inScope(ctx.scope, container.id))
+    throw unprocessable('NOT_IN_SCOPE', `Container ${container.label} is not part of this retest: QA authorised only the containers named in the investigation.`);
+  assertNotFailed(ctx.measurements, testId, container);
+  if (!ctx.test.instrument_id) throw conflict('Choose an instrument for this test first.');
+
+  const set = await approvedSetFor(ctx.lot.material.id, db);
+  const instrument = await usableInstrument(db, ctx.test.instrument_id, set.method.technique);
+
+  const spectrum = readOrRefuse(file);
+  let result: IdentityResult;
+  try {
+    result = scoreAgainst(spectrum, set.references.map((r) => r.prepared), set.method.params);
+  } catch (e) {
+    if ((e as { name?: string })?.name === 'SpectrumError') {
+      const se = e as SpectrumError;
+      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, { fileName: file.originalname, code: se.code });
+    }
+    throw e;
+  }
+  const hint = result.verdict === 'fail' ? await libraryHint(db, spectrum, set.method.params, ctx.lot.material.id) : null;
+  const stored: StoredResult = {
+    ...result,
+    libraryHint: hint?.hint ?? null,
+    libraryHintText: hint?.text ?? null,
+    sampleMeta: {
+      title: spectrum.meta.title,
+      format: spectrum.meta.format,
+      originalXUnits: spectrum.meta.originalXUnits,
+      originalYUnits: spectrum.meta.originalYUnits,
+      points: spectrum.meta.points,
+      warnings: spectrum.meta.warnings,
+    },
+  };
+  const best = result.references.find((r) => r.referenceId === result.bestReferenceId);
+  const score = best ? best.correlation : null;
+  const sha = sha256Hex(file.buffer);
+
+  const id = await db.transaction(async (trx) => {
+    // Locking the test serialises uploads of one attempt (kept in order) and signing against uploads.
+    const t = await repo.lockTest(trx, testId);
+    if (!t || t.status !== 'in-progress') throw conflict('The test is no longer in progress; nothing was stored.');
+    assertNotFailed(await repo.measurementsOfTest(trx, testId), testId, container);
+    const now = new Date();
+    const [fileId] = await trx('stored_file').insert({
+      sha256: sha,
+      file_name: file.originalname.slice(0, 255),
+      media_type: (file.mimetype || 'application/octet-stream').slice(0, 100),
+      size: file.buffer.length,
+      data: file.buffer,
+      uploaded_by: user.id,
+      uploaded_at: now,
+    });
+    const mid = await repo.insertMeasurement(trx, {
+      test_id: testId,
+      container_id: container.id,
+      file_id: fileId as number,
+      instrument_id: instrument.instrument.id,
+      instrument_check_id: instrument.check!.id,
+      method_id: set.method.id,
+      reference_ids: JSON.stringify(set.references.map((r) => r.id)),
+      verdict: result.verdict,
+      match_score: score,
+      result: JSON.stringify(stored),
+      engine_version: result.engineVersion,
+      authorised_by_investigation_id: t.retest_of_investigation_id,
+      created_by: user.id,
+      created_at: now,
+    });
+    // Each measurement records the method version it was scored under; when QA approved a new
+    // version during the attempt, the attempt follows it and the change is audited.
+    await trx('identity_test').where({ id: testId }).update({ updated_at: now, method_id: set.method.id });
+    if (t.method_id !== set.method.id)
+      await appendAudit(trx, {
+        actor: { id: user.id, name: user.fullName },
+        action: 'test.method-version-changed',
+        entityType: 'identity_test',
+        entityId: testId,
+        before: { methodId: t.method_id },
+        after: { methodId: set.method.id, methodVersion: set.method.version },
+        reason: 'QA approved a new identity method version while the attempt was in progress.',
+        ip,
+      });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'measurement.recorded',
+      entityType: 'measurement',
+      entityId: mid,
+      after: {
+        testId,
+        lotNumber: ctx.lot.lotNumber,
+        container: container.label,
+        file: { name: file.originalname, sha256: sha, size: file.buffer.length },
+        instrumentId: instrument.instrument.id,
+        instrumentCheckId: instrument.check!.id,
+        methodId: set.method.id,
+        referenceIds: set.references.map((r) => r.id),
+        verdict: result.verdict,
+        matchScore: score,
+        engineVersion: result.engineVersion,
+      },
+      ip,
+    });
+    return mid;
+  });
+  return { id, containerId: container.id, label: container.label, verdict: result.verdict, matchScore: score, result: stored };
+}
+
+function assertNotFailed(measurements: repo.MeasurementSummary[], testId: number, container: { id: number; label: string }): void {
+  if (latestByContainer(measurements, testId).get(container.id)?.verdict === 'fail')
+    throw new AppError(
+      409,
+      'RETEST_NEEDS_QA',
+      `Container ${container.label} failed in this attempt. It cannot be measured again here: sign the test performed; after verification an investigation opens, and only QA can authorise a retest.`,
+    );
+}

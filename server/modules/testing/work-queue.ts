@@ -1,0 +1,113 @@
+/**
+ * The work queue of the signed-in user (DESIGN.md: work queue): per role, what awaits them.
+ * - operator: lots to test (quarantine, awaiting testing, testing, returned or retest authorised)
+ * - verifier: tests awaiting verification that they neither performed nor measured
+ * - qa_manager: open investigations; draft references awaiting approval (not their own uploads)
+ * - operator and qa_manager: instruments whose instrument check is due
+ * Read-only over the library and instrument tables.
+ */
+import type { Knex } from 'knex';
+import type { AuthUser } from '../../lib/http';
+import type { Role } from '../../lib/roles';
+import { instrumentStatus } from './instrument-status';
+import { verificationQueue } from './views';
+
+export interface QueueItem {
+  id: number;
+  title: string;
+  detail: string;
+  href: string;
+}
+
+export interface QueueSection {
+  key: 'lots-to-test' | 'tests-to-verify' | 'open-investigations' | 'references-to-approve' | 'instrument-checks-due';
+  title: string;
+  roles: Role[];
+  count: number;
+  items: QueueItem[];
+}
+
+const ITEMS = 50;
+
+export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
+  const rows = await db('lot as l')
+    .join('material as m', 'm.id', 'l.material_id')
+    .where('l.status', 'quarantine')
+    .whereIn('l.identity_status', ['awaiting-testing', 'testing', 'retest-authorised'])
+    .select('l.id', 'l.lot_number', 'l.identity_status', 'l.container_count', 'l.received_date', 'm.name as m_name')
+    .orderBy('l.id');
+  const tests = rows.length ? await db('identity_test').whereIn('lot_id', rows.map((r) => r.id)).select('lot_id', 'status', 'attempt').orderBy('attempt') : [];
+  return rows.map((r) => {
+    const last = tests.filter((t) => t.lot_id === r.id).at(-1);
+    const state =
+      r.identity_status === 'retest-authorised'
+        ? 'retest authorised by QA'
+        : last?.status === 'returned'
+          ? `attempt ${last.attempt} returned: start a new attempt`
+          : last?.status === 'in-progress'
+            ? `attempt ${last.attempt} in progress`
+            : 'not started';
+    return { id: r.id, title: `${r.lot_number} · ${r.m_name}`, detail: `${r.container_count} container(s), ${state}`, href: `/lots/${r.id}` };
+  });
+}
+
+export async function openInvestigations(db: Knex): Promise<QueueItem[]> {
+  const rows = await db('investigation as i')
+    .join('lot as l', 'l.id', 'i.lot_id')
+    .join('material as m', 'm.id', 'l.material_id')
+    .whereIn('i.status', ['open', 'phase1-recorded'])
+    .select('i.id', 'i.number', 'i.status', 'l.lot_number', 'm.name as m_name')
+    .orderBy('i.id');
+  return rows.map((r) => ({
+    id: r.id,
+    title: `${r.number} · lot ${r.lot_number}`,
+    detail: `${r.m_name}: ${r.status === 'open' ? 'phase I laboratory check to record' : 'decision to take'}`,
+    href: `/investigations/${r.id}`,
+  }));
+}
+
+export async function referencesToApprove(db: Knex, user: AuthUser): Promise<QueueItem[]> {
+  const rows = await db('reference_spectrum as r')
+    .join('material as m', 'm.id', 'r.material_id')
+    .where('r.status', 'draft')
+    .whereNot('r.created_by', user.id)
+    .select('r.id', 'r.code', 'r.material_id', 'm.name as m_name')
+    .orderBy('r.id');
+  return rows.map((r) => ({ id: r.id, title: `${r.code} · ${r.m_name}`, detail: 'Draft reference awaiting approval', href: `/library/materials/${r.material_id}` }));
+}
+
+export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
+  const ids = await db('instrument').where({ active: 1 }).select('id').orderBy('name');
+  const out: QueueItem[] = [];
+  for (const { id } of ids) {
+    const s = await instrumentStatus(db, id);
+    if (s && !s.usable) out.push({ id, title: s.instrument.name, detail: s.reason ?? 'Instrument check due', href: `/instruments/${id}` });
+  }
+  return out;
+}
+
+export async function workQueueFor(db: Knex, user: AuthUser): Promise<{ sections: QueueSection[] }> {
+  const has = (r: Role) => user.roles.includes(r);
+  const sections: QueueSection[] = [];
+  const push = (key: QueueSection['key'], title: string, roles: Role[], items: QueueItem[]) =>
+    sections.push({ key, title, roles, count: items.length, items: items.slice(0, ITEMS) });
+  if (has('operator')) push('lots-to-test', 'Lots to test', ['operator'], await lotsToTest(db));
+  if (has('verifier'))
+    push(
+      'tests-to-verify',
+      'Tests to verify',
+      ['verifier'],
+      (await verificationQueue(db, user)).map((t) => ({
+        id: t.testId,
+        title: `${t.lotNumber} · ${t.material}`,
+        detail: `Attempt ${t.attempt}${t.isRetest ? ' (retest)' : ''}, ${t.containers} container(s)${t.failing ? `, ${t.failing} failing` : ''}, performed by ${t.performedBy}`,
+        href: `/tests/${t.testId}/review`,
+      })),
+    );
+  if (has('qa_manager')) {
+    push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
+    push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
+  }
+  if (has('operator') || has('qa_manager')) push('instrument-checks-due', 'Instruments with a check due', ['operator', 'qa_manager'], await instrumentChecksDue(db));
+  return { sections };
+}
