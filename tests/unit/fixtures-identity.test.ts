@@ -77,6 +77,11 @@ describe('demo spectra under the demo methods', () => {
     }
   });
 
+  it('the draft reference (left for QA to approve) matches its grade', () => {
+    const s = specs.find((x) => x.kind === 'draft-reference')!;
+    expect(scoreAgainst(read(s), finalSets.get(s.material!)!, finalDemoMethod(s.material!)).verdict).toBe('pass');
+  });
+
   it('the poor-contact measurement is refused by the quality gate, not judged', () => {
     const s = specs.find((x) => x.kind === 'poor-contact')!;
     const result = scoreAgainst(read(s), finalSets.get(s.material!)!, finalDemoMethod(s.material!));
