@@ -51,6 +51,8 @@ const enum Kind {
 export interface AsdfOptions {
   /** Refuse more points than this (a damaged DUP count must not exhaust memory). */
   maxPoints: number;
+  /** Expected number of points (initial buffer size). */
+  expected?: number;
   /** Collect Y-check failures instead of throwing (for comparisons in tests). */
   report?: boolean;
 }
@@ -78,7 +80,15 @@ function tooMany(max: number, line: number): SpectrumError {
  */
 export function decodeAsdf(lines: string[], from: number, count: number, opts: AsdfOptions): AsdfResult {
   const cap = Math.max(0, opts.maxPoints);
-  const y = new Float64Array(cap);
+  let y = new Float64Array(Math.min(cap, opts.expected ?? 4096));
+  const room = (k: number, lineNo: number) => {
+    if (n + k > cap) throw tooMany(cap, lineNo);
+    if (n + k > y.length) {
+      const bigger = new Float64Array(Math.min(cap, Math.max(2 * y.length, n + k)));
+      bigger.set(y.subarray(0, n));
+      y = bigger;
+    }
+  };
   const out: AsdfLine[] = [];
   const issues: SpectrumError[] = [];
   let n = 0;
@@ -136,13 +146,13 @@ export function decodeAsdf(lines: string[], from: number, count: number, opts: A
       const k = kinds[t];
       const v = vals[t];
       if (k === Kind.Abs) {
-        if (n >= cap) throw tooMany(cap, lineNo);
+        room(1, lineNo);
         current = v;
         y[n++] = v;
         lastKind = Kind.Abs;
       } else if (k === Kind.Dif) {
         if (lastKind === null) throw orphan('difference (DIF)', lineNo);
-        if (n >= cap) throw tooMany(cap, lineNo);
+        room(1, lineNo);
         current += v;
         y[n++] = current;
         lastKind = Kind.Dif;
@@ -150,7 +160,7 @@ export function decodeAsdf(lines: string[], from: number, count: number, opts: A
       } else {
         if (lastKind === null) throw orphan('repeat count (DUP)', lineNo);
         if (!Number.isInteger(v) || v < 1) throw badChar(texts[t], lineNo, 0);
-        if (n + v - 1 > cap) throw tooMany(cap, lineNo);
+        room(v - 1, lineNo);
         for (let r = 1; r < v; r++) {
           if (lastKind === Kind.Dif) current += lastDif;
           y[n++] = current;

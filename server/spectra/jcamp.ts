@@ -216,7 +216,7 @@ function decodeXyData(ctx: Ctx, data: Ldr, p: PageParams): JcampPage {
   if (!Number.isInteger(npoints) || npoints < 1 || npoints > MAX_POINTS) {
     throw new SpectrumError('JCAMP_BAD_LABEL_VALUE', `##NPOINTS=${npoints} is not a usable number of points. The file is damaged; export it again.`, { npoints });
   }
-  const r = decodeAsdf(ctx.s.lines, data.contStart, data.contCount, { maxPoints: ctx.report ? MAX_POINTS : npoints, report: ctx.report });
+  const r = decodeAsdf(ctx.s.lines, data.contStart, data.contCount, { maxPoints: ctx.report ? MAX_POINTS : npoints, expected: npoints, report: ctx.report });
   ctx.issues.push(...r.issues);
   if (r.endsWithDif) ctx.warnings.push('The last data line ends with a difference but no Y-check line follows it; that line could not be verified.');
   const n = r.y.length;
