@@ -30,6 +30,8 @@ export interface SpecificityPair {
   discriminated: boolean;
   /** minCorrelation - maxCorrelation: above 0 the correlation alone keeps them apart. */
   correlationMargin: number;
+  /** minDerivativeCorrelation - maxDerivativeCorrelation, when the method uses it. */
+  derivativeMargin: number | null;
 }
 
 export interface MaterialSummary {
@@ -51,6 +53,8 @@ export interface SpecificityReport {
   notDiscriminated: Array<[string, string]>;
   /** The ordered pair with the smallest correlation margin. */
   minMargin: { value: number; materialId: string; challengerMaterialId: string } | null;
+  /** The ordered pair with the smallest first-derivative correlation margin (null when not used). */
+  minDerivativeMargin: { value: number; materialId: string; challengerMaterialId: string } | null;
   materials: MaterialSummary[];
   allDiscriminated: boolean;
 }
@@ -112,6 +116,7 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
         passing,
         discriminated: passing.length === 0,
         correlationMargin: t.minCorrelation - maxR,
+        derivativeMargin: t.minDerivativeCorrelation !== null && maxRd !== null ? t.minDerivativeCorrelation - maxRd : null,
       });
     }
   }
@@ -127,9 +132,13 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
   }
 
   let minMargin: SpecificityReport['minMargin'] = null;
+  let minDerivativeMargin: SpecificityReport['minDerivativeMargin'] = null;
   for (const p of pairs) {
     if (!minMargin || p.correlationMargin < minMargin.value) {
       minMargin = { value: p.correlationMargin, materialId: p.materialId, challengerMaterialId: p.challengerMaterialId };
+    }
+    if (p.derivativeMargin !== null && (!minDerivativeMargin || p.derivativeMargin < minDerivativeMargin.value)) {
+      minDerivativeMargin = { value: p.derivativeMargin, materialId: p.materialId, challengerMaterialId: p.challengerMaterialId };
     }
   }
 
@@ -166,6 +175,7 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
     pairs,
     notDiscriminated,
     minMargin,
+    minDerivativeMargin,
     materials: summaries,
     allDiscriminated: notDiscriminated.length === 0,
   };
