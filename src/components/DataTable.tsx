@@ -25,6 +25,8 @@ declare module '@tanstack/react-table' {
     align?: 'left' | 'right' | 'center';
     /** header cell class (widths) */
     className?: string;
+    /** let long text wrap in this column's cells (default: one line per cell, the table scrolls sideways) */
+    wrap?: boolean;
   }
 }
 
@@ -150,7 +152,7 @@ export function DataTable<T>({
                       key={h.id}
                       scope="col"
                       aria-sort={dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined}
-                      className={`px-3 py-2 align-top font-semibold text-ink ${align} ${meta?.className ?? ''}`}
+                      className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${meta?.className ?? ''}`}
                     >
                       {h.isPlaceholder ? null : canSort ? (
                         <button type="button" onClick={h.column.getToggleSortingHandler()} className="inline-flex items-center font-semibold hover:text-petrol">
@@ -191,7 +193,10 @@ export function DataTable<T>({
                   } ${rowClassName?.(row.original) ?? ''}`}
                 >
                   {row.getVisibleCells().map((cell) => (
-                    <td key={cell.id} className={`px-3 py-2 align-top ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']}`}>
+                    <td
+                      key={cell.id}
+                      className={`px-3 py-2 align-top ${cell.column.columnDef.meta?.wrap ? '' : 'whitespace-nowrap'} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']}`}
+                    >
                       {flexRender(cell.column.columnDef.cell, cell.getContext())}
                     </td>
                   ))}

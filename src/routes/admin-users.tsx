@@ -61,13 +61,14 @@ export default function AdminUsersPage() {
       ) : users.isError ? (
         <ErrorNote error={users.error} onRetry={() => void users.refetch()} />
       ) : (
-        <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
+        <div className="grid gap-4 2xl:grid-cols-[minmax(0,1fr)_22rem] 2xl:gap-6">
           <UsersTable users={users.data} selectedId={selectedId} onSelect={(u) => setSelectedId(u.id)} />
-          <div>
+          {/* beside the table on wide screens, above it otherwise */}
+          <div className="order-first 2xl:order-last">
             {selected ? (
               <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
             ) : (
-              <p className="rounded-md border border-dashed border-line px-4 py-6 text-sm text-muted">Choose an account in the table to see its details and change it.</p>
+              <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">Choose an account in the table to see its details and change it.</p>
             )}
           </div>
         </div>

@@ -33,7 +33,7 @@ export function UserPanel({ user, isSelf, onNotice }: { user: UserAccount; isSel
         </div>
         <UserStatus user={user} />
       </div>
-      <dl className="mt-3 grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-sm">
+      <dl className="mt-3 grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-sm sm:grid-cols-[auto_1fr_auto_1fr] 2xl:grid-cols-[auto_1fr]">
         <dt className="text-muted">E-mail</dt>
         <dd className="break-all">{user.email}</dd>
         <dt className="text-muted">Roles</dt>

@@ -1,0 +1,310 @@
+/** Reference library hooks: materials, identity methods, reference spectra, specificity. */
+import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
+import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
+import { invalidateMe } from '../../../lib/query-keys';
+import type { IdentityMethodInput } from '../../../../server/modules/library/schemas';
+
+export type IdentityMethodParams = IdentityMethodInput;
+
+export interface Signature {
+  id: number;
+  userId: number;
+  printedName: string;
+  meaning: string;
+  signedAt: string;
+  contentHash: string;
+  statement: string | null;
+}
+
+export interface SignatureCredentials {
+  username?: string;
+  password: string;
+}
+
+export interface Material {
+  id: number;
+  code: string;
+  name: string;
+  grade: string;
+  monographRef: string;
+  techniques: string[];
+  notes: string | null;
+  active: boolean;
+  createdAt: string;
+  updatedAt: string;
+}
+
+export interface MaterialListItem extends Material {
+  approvedMethod: { id: number; version: number; technique: string } | null;
+  draftMethodId: number | null;
+  references: { draft: number; approved: number; retired: number };
+}
+
+export interface MethodVersion {
+  id: number;
+  materialId: number;
+  version: number;
+  status: 'draft' | 'approved' | 'superseded';
+  technique: string;
+  params: IdentityMethodParams;
+  changeNote: string | null;
+  supersedesId: number | null;
+  createdAt: string;
+  updatedAt: string;
+  approvedAt: string | null;
+  signatures: Signature[];
+}
+
+export interface MaterialDetail extends Material {
+  methods: MethodVersion[];
+}
+
+export interface StoredBand {
+  position: number;
+  prominence?: number;
+  width?: number;
+  assignment: string;
+  origin: 'auto' | 'edited';
+}
+
+export type ReferenceStatus = 'draft' | 'approved' | 'retired';
+
+export interface ReferenceListItem {
+  id: number;
+  materialId: number;
+  code: string;
+  status: ReferenceStatus;
+  technique: string;
+  supplier: string;
+  supplierLot: string;
+  measuredHow: string | null;
+  createdBy: number;
+  createdAt: string;
+  approvedAt: string | null;
+  bandCount: number;
+  uploadedByName: string | null;
+  approvedBy?: { printedName: string; meaning: string; signedAt: string } | null;
+  materialCode?: string;
+  materialName?: string;
+  justification: string | null;
+  retireReason: string | null;
+}
+
+export interface DirectionScore {
+  verdict: 'pass' | 'fail' | 'invalid';
+  correlation: number | null;
+  derivativeCorrelation: number | null;
+  bandsMatched: string | null;
+}
+
+export interface GatePair {
+  materialId: number;
+  materialCode: string;
+  materialName: string;
+  referenceId: number;
+  referenceCode: string;
+  otherAsSample: DirectionScore | null;
+  candidateAsSample: DirectionScore | null;
+  wouldPass: boolean;
+  notComparable: string | null;
+}
+
+export interface GateReport {
+  methodId: number;
+  methodVersion: number;
+  computedAt: string;
+  pairs: GatePair[];
+  offending: GatePair[];
+  passed: boolean;
+}
+
+export interface ReferenceDetail extends Omit<ReferenceListItem, 'bandCount'> {
+  bands: StoredBand[];
+  meta: { title?: string; fileName?: string; points?: number; originalXUnits?: string; originalYUnits?: string; warnings?: string[]; bandsPickedWithMethodVersion?: number } | null;
+  specificity: GateReport | null;
+  approvedMethodId: number | null;
+  material: { id: number; code: string; name: string; grade: string } | null;
+  instrument: { id: number; name: string } | null;
+  file: { id: number; sha256: string; fileName: string; mediaType: string; size: number; uploadedAt: string } | null;
+  signatures: Signature[];
+}
+
+export interface OverlayTrace {
+  referenceId: number;
+  code: string;
+  status: ReferenceStatus;
+  isThis: boolean;
+  x: number[];
+  y: number[];
+}
+
+export interface MatrixMaterial {
+  id: number;
+  code: string;
+  name: string;
+  technique: string;
+  methodId: number;
+  methodVersion: number;
+  references: number;
+}
+
+export interface MatrixCell {
+  rowMaterialId: number;
+  columnMaterialId: number;
+  correlation: number | null;
+  passing: number;
+  scored: number;
+  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
+}
+
+export interface SpecificityMatrix {
+  technique: string;
+  computedAt: string;
+  materials: MatrixMaterial[];
+  cells: MatrixCell[];
+  notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
+}
+
+const KEY = ['library'] as const;
+const keys = {
+  materials: [...KEY, 'materials'] as const,
+  material: (id: number) => [...KEY, 'material', id] as const,
+  references: (materialId: number) => [...KEY, 'references', materialId] as const,
+  byStatus: (status: ReferenceStatus) => [...KEY, 'references-by-status', status] as const,
+  reference: (id: number) => [...KEY, 'reference', id] as const,
+  overlay: (id: number) => [...KEY, 'overlay', id] as const,
+  gate: (id: number) => [...KEY, 'gate', id] as const,
+  matrix: (technique: string) => [...KEY, 'matrix', technique] as const,
+};
+
+/** Everything in the library may change after a write (status counts, matrix, gate). */
+function invalidateLibrary(qc: QueryClient) {
+  return qc.invalidateQueries({ queryKey: KEY });
+}
+
+export function useMaterials() {
+  return useQuery({ queryKey: keys.materials, queryFn: () => apiFetch<MaterialListItem[]>('/api/materials') });
+}
+
+export function useMaterial(id: number) {
+  return useQuery({ queryKey: keys.material(id), queryFn: () => apiFetch<MaterialDetail>(`/api/materials/${id}`) });
+}
+
+export function useReferences(materialId: number) {
+  return useQuery({ queryKey: keys.references(materialId), queryFn: () => apiFetch<ReferenceListItem[]>(`/api/materials/${materialId}/references`) });
+}
+
+export function useReferencesByStatus(status: ReferenceStatus) {
+  return useQuery({ queryKey: keys.byStatus(status), queryFn: () => apiFetch<ReferenceListItem[]>('/api/references', { query: { status } }) });
+}
+
+export function useReference(id: number) {
+  return useQuery({ queryKey: keys.reference(id), queryFn: () => apiFetch<ReferenceDetail>(`/api/references/${id}`) });
+}
+
+export function useReferenceOverlay(id: number) {
+  return useQuery({ queryKey: keys.overlay(id), queryFn: () => apiFetch<{ referenceId: number; traces: OverlayTrace[] }>(`/api/references/${id}/overlay`), staleTime: 5 * 60_000 });
+}
+
+export function useSpecificityGate(id: number, enabled: boolean) {
+  return useQuery({ queryKey: keys.gate(id), queryFn: () => apiFetch<GateReport>(`/api/references/${id}/specificity`), enabled });
+}
+
+export function useSpecificityMatrix(technique: string) {
+  return useQuery({ queryKey: keys.matrix(technique), queryFn: () => apiFetch<SpecificityMatrix>('/api/library/specificity', { query: { technique } }) });
+}
+
+export const referenceFileUrl = (id: number) => downloadUrl(`/api/references/${id}/file`);
+
+function useLibraryMutation<V, R>(fn: (v: V) => Promise<R>, opts: { signs?: boolean } = {}) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: fn,
+    onSuccess: async () => {
+      await invalidateLibrary(qc);
+      if (opts.signs) await invalidateMe(qc);
+    },
+  });
+}
+
+export interface MaterialCreateInput {
+  code: string;
+  name: string;
+  grade: string;
+  monographRef: string;
+  techniques: string[];
+  notes?: string | null;
+}
+
+export function useCreateMaterial() {
+  return useLibraryMutation((body: MaterialCreateInput) => apiFetch<Material & { draftMethodId: number }>('/api/materials', { method: 'POST', body }));
+}
+
+export function useUpdateMaterial() {
+  return useLibraryMutation(({ id, ...body }: Partial<MaterialCreateInput> & { id: number; active?: boolean; reason: string }) =>
+    apiFetch<Material>(`/api/materials/${id}`, { method: 'PATCH', body }),
+  );
+}
+
+export function useUpdateMethod() {
+  return useLibraryMutation(({ id, ...body }: { id: number; params?: IdentityMethodParams; changeNote?: string; reason: string }) =>
+    apiFetch<MethodVersion>(`/api/methods/${id}`, { method: 'PATCH', body }),
+  );
+}
+
+export function useNewMethodVersion() {
+  return useLibraryMutation(({ id, changeNote }: { id: number; changeNote?: string }) =>
+    apiFetch<MethodVersion>(`/api/methods/${id}/new-version`, { method: 'POST', body: { changeNote } }),
+  );
+}
+
+export function useApproveMethod() {
+  return useLibraryMutation(
+    ({ id, signature }: { id: number; signature: SignatureCredentials }) => apiFetch<MethodVersion>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
+    { signs: true },
+  );
+}
+
+export function useUpdateBands() {
+  return useLibraryMutation(({ id, bands, reason }: { id: number; bands: { position: number; assignment?: string }[]; reason: string }) =>
+    apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
+  );
+}
+
+export function useApproveReference() {
+  return useLibraryMutation(
+    ({ id, signature, justification }: { id: number; signature: SignatureCredentials; justification?: string }) =>
+      apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, { method: 'POST', body: { signature, justification } }),
+    { signs: true },
+  );
+}
+
+export function useRetireReference() {
+  return useLibraryMutation(
+    ({ id, signature, reason }: { id: number; signature: SignatureCredentials; reason: string }) =>
+      apiFetch<ReferenceDetail>(`/api/references/${id}/retire`, { method: 'POST', body: { signature, reason } }),
+    { signs: true },
+  );
+}
+
+export interface UploadFields {
+  supplier: string;
+  supplierLot: string;
+  measuredHow: string;
+}
+
+/** Uploads one reference file (one request per file, so each has its own progress and outcome). */
+export function uploadReference(materialId: number, file: File, fields: UploadFields, onProgress: (p: UploadProgress) => void): Promise<ReferenceDetail> {
+  const fd = new FormData();
+  fd.append('files', file, file.name);
+  fd.append('supplier', fields.supplier);
+  fd.append('supplierLot', fields.supplierLot);
+  fd.append('measuredHow', fields.measuredHow);
+  return apiUpload<ReferenceDetail[]>(`/api/materials/${materialId}/references`, fd, onProgress).then((list) => list[0]);
+}
+
+/** Call after uploads finish so lists and counts refresh. */
+export function useInvalidateLibrary() {
+  const qc = useQueryClient();
+  return () => invalidateLibrary(qc);
+}

@@ -1,0 +1,141 @@
+/**
+ * Characteristic bands of a reference with their group-frequency assignment, high to low
+ * wavenumber. While the reference is a draft, QA may add, move or remove bands and rewrite an
+ * assignment; the change is saved with a reason (audited).
+ */
+import { useState } from 'react';
+import { Button } from '../../../components/Button';
+import { ErrorNote } from '../../../components/ErrorNote';
+import { Field, Input } from '../../../components/Field';
+import { formatWavenumber } from '../../../lib/format';
+import { useUpdateBands, type StoredBand } from '../api';
+
+type Row = { key: number; position: string; assignment: string; original?: StoredBand };
+let seq = 0;
+
+export function BandTable({ referenceId, bands, editable }: { referenceId: number; bands: StoredBand[]; editable: boolean }) {
+  const [editing, setEditing] = useState(false);
+  const [rows, setRows] = useState<Row[]>([]);
+  const [reason, setReason] = useState('');
+  const [problem, setProblem] = useState<string | null>(null);
+  const update = useUpdateBands();
+  const sorted = [...bands].sort((a, b) => b.position - a.position);
+
+  const start = () => {
+    setRows(sorted.map((b) => ({ key: ++seq, position: b.position.toFixed(2), assignment: b.assignment, original: b })));
+    setReason('');
+    setProblem(null);
+    setEditing(true);
+  };
+  const save = () => {
+    const out: { position: number; assignment?: string }[] = [];
+    for (const r of rows) {
+      const p = Number(r.position.replace(',', '.'));
+      if (!Number.isFinite(p) || p <= 0) return setProblem(`“${r.position}” is not a wavenumber.`);
+      const changedText = !r.original || r.assignment.trim() !== r.original.assignment;
+      out.push({ position: p, assignment: changedText && r.assignment.trim() ? r.assignment.trim() : undefined });
+    }
+    if (reason.trim().length < 3) return setProblem('Give a reason for the change (at least 3 characters).');
+    setProblem(null);
+    update.mutate({ id: referenceId, bands: out, reason: reason.trim() }, { onSuccess: () => setEditing(false) });
+  };
+
+  if (editing)
+    return (
+      <div className="flex flex-col gap-3">
+        <div className="overflow-x-auto rounded-md border border-line bg-white">
+          <table className="w-full text-sm" aria-label="Edit characteristic bands">
+            <thead className="bg-paper">
+              <tr>
+                <th className="px-3 py-2 text-left">Position (cm⁻¹)</th>
+                <th className="px-3 py-2 text-left">Assignment (empty: from the correlation table)</th>
+                <th className="px-3 py-2" />
+              </tr>
+            </thead>
+            <tbody>
+              {rows.map((r) => (
+                <tr key={r.key} className="border-t border-line">
+                  <td className="px-3 py-1">
+                    <Input aria-label="Band position" inputMode="decimal" className="w-28 tabular-nums" value={r.position} onChange={(e) => setRows(rows.map((x) => (x.key === r.key ? { ...x, position: e.target.value } : x)))} />
+                  </td>
+                  <td className="px-3 py-1">
+                    <Input aria-label="Assignment" value={r.assignment} onChange={(e) => setRows(rows.map((x) => (x.key === r.key ? { ...x, assignment: e.target.value } : x)))} />
+                  </td>
+                  <td className="px-3 py-1 text-right">
+                    <Button variant="quiet" onClick={() => setRows(rows.filter((x) => x.key !== r.key))}>
+                      Remove
+                    </Button>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+        <div>
+          <Button onClick={() => setRows([...rows, { key: ++seq, position: '', assignment: '' }])}>Add band</Button>
+        </div>
+        <Field id={`bands-reason-${referenceId}`} label="Reason for the change" hint="Kept in the audit trail with the old and new band lists.">
+          <Input id={`bands-reason-${referenceId}`} value={reason} onChange={(e) => setReason(e.target.value)} />
+        </Field>
+        {problem && <ErrorNote error={problem} />}
+        {update.isError && <ErrorNote error={update.error} />}
+        <div className="flex gap-2">
+          <Button variant="primary" busy={update.isPending} onClick={save}>
+            Save bands
+          </Button>
+          <Button onClick={() => setEditing(false)}>Cancel</Button>
+        </div>
+      </div>
+    );
+
+  return (
+    <div className="flex flex-col gap-2">
+      <div className="overflow-x-auto rounded-md border border-line bg-white">
+        <table className="w-full text-sm tabular-nums" aria-label="Characteristic bands">
+          <thead className="bg-paper">
+            <tr>
+              <th scope="col" className="px-3 py-2 text-right">
+                Position
+              </th>
+              <th scope="col" className="px-3 py-2 text-left">
+                Likely assignment
+              </th>
+              <th scope="col" className="px-3 py-2 text-right">
+                Relative height
+              </th>
+              <th scope="col" className="px-3 py-2 text-right">
+                Width
+              </th>
+              <th scope="col" className="px-3 py-2 text-left">
+                Origin
+              </th>
+            </tr>
+          </thead>
+          <tbody>
+            {sorted.map((b) => (
+              <tr key={b.position} className="border-t border-line" data-testid="band-row">
+                <td className="px-3 py-1.5 text-right whitespace-nowrap">{formatWavenumber(b.position)}</td>
+                <td className="px-3 py-1.5">{b.assignment}</td>
+                <td className="px-3 py-1.5 text-right">{b.prominence !== undefined ? `${Math.round(b.prominence * 100)} %` : '—'}</td>
+                <td className="px-3 py-1.5 text-right whitespace-nowrap">{b.width !== undefined ? formatWavenumber(b.width, 0) : '—'}</td>
+                <td className="px-3 py-1.5">{b.origin === 'edited' ? 'set by QA' : 'picked automatically'}</td>
+              </tr>
+            ))}
+            {sorted.length === 0 && (
+              <tr>
+                <td colSpan={5} className="px-3 py-4 text-center text-muted">
+                  No characteristic bands (band concordance is off in this method, or none reached the threshold).
+                </td>
+              </tr>
+            )}
+          </tbody>
+        </table>
+      </div>
+      {editable && (
+        <div>
+          <Button onClick={start}>Edit bands</Button>
+        </div>
+      )}
+    </div>
+  );
+}
