@@ -1,0 +1,3 @@
+/** What other modules use of identity certificates. */
+export { issueCertificate, type IssueInput, type IssueOptions, type CertificateMeta } from './service';
+export { certificateRoutes } from './routes';
