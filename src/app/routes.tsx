@@ -35,4 +35,9 @@ export const appRoutes: AppRoute[] = [
   { path: '/account/password', element: lazyPage(() => import('../routes/change-password')) },
   { path: '/admin/users', element: lazyPage(() => import('../routes/admin-users')), roles: ['admin'], nav: { label: 'User accounts', group: 'admin', order: 10 } },
   // Feature pages: append below, one line each.
+  { path: '/library', element: lazyPage(() => import('../routes/library')), nav: { label: 'Reference library', group: 'desk', order: 20 } },
+  { path: '/library/materials/:id', element: lazyPage(() => import('../routes/library-material')) },
+  { path: '/library/references/:id', element: lazyPage(() => import('../routes/library-reference')) },
+  { path: '/instruments', element: lazyPage(() => import('../routes/instruments')), nav: { label: 'Instruments', group: 'bench', order: 5 } },
+  { path: '/instruments/:id', element: lazyPage(() => import('../routes/instrument')) },
 ];

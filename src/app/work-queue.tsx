@@ -7,6 +7,7 @@
  */
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
+import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 
 export interface WorkQueueWidget {
   /** unique key, e.g. 'testing.to-verify' */
@@ -22,6 +23,8 @@ export interface WorkQueueWidget {
 
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
+  { id: 'instruments.check-due', title: 'Instruments with a check due', roles: ['operator'], order: 5, Component: InstrumentsCheckDueWidget },
+  { id: 'library.awaiting-approval', title: 'Reference spectra awaiting approval', roles: ['qa_manager'], order: 30, Component: ReferencesAwaitingApprovalWidget },
 ];
 
 export function widgetsFor(roles: readonly Role[]): WorkQueueWidget[] {

@@ -193,6 +193,21 @@ export async function listReferences(db: Knex, materialId: number) {
   });
 }
 
+/** References across all materials by status (e.g. drafts awaiting approval, for the QA work queue). */
+export async function referencesByStatus(db: Knex, status: repo.ReferenceStatus) {
+  const rows: (repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[] = await db('reference_spectrum as r')
+    .join('material as m', 'm.id', 'r.material_id')
+    .join('app_user as u', 'u.id', 'r.created_by')
+    .where('r.status', status)
+    .select('r.*', 'm.code as m_code', 'm.name as m_name', 'u.full_name as uploader')
+    .orderBy('r.created_at', 'asc')
+    .limit(500);
+  return rows.map((r) => {
+    const { bands, meta: _meta, specificity: _s, ...rest } = repo.toReference(r);
+    return { ...rest, bandCount: bands.length, materialCode: r.m_code, materialName: r.m_name, uploadedByName: r.uploader };
+  });
+}
+
 /** Absorbance traces of this reference and the other non-retired references of its grade, for the overlay plot. */
 export async function referenceOverlay(db: Knex, id: number) {
   const r = await repo.findReference(db, id);

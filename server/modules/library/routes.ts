@@ -112,6 +112,11 @@ export function libraryRoutes(config: AppConfig): Router {
     },
     ({ req, params, body, user, ip }) => refs.uploadReferences(getDb(), user, params.id, (req.files as Express.Multer.File[]) ?? [], body, ip),
   );
+  defineRoute(
+    r,
+    { method: 'get', path: '/api/references', summary: 'References of all materials by status (drafts await approval)', tag: 'library', access: 'authenticated', query: z.object({ status: z.enum(['draft', 'approved', 'retired']).default('draft') }) },
+    ({ query }) => refs.referencesByStatus(getDb(), query.status),
+  );
   defineRoute(r, { method: 'get', path: '/api/references/:id', summary: 'One reference spectrum with bands and signatures', tag: 'library', access: 'authenticated', params: idParams }, ({ params }) =>
     refs.getReference(getDb(), params.id),
   );

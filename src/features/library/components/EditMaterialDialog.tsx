@@ -22,7 +22,7 @@ export function EditMaterialDialog({ open, material, onClose }: { open: boolean;
     e.preventDefault();
     if (v.reason.trim().length < 3) return setProblem('Give a reason for the change (at least 3 characters).');
     setProblem(null);
-    update.mutate({ id: material.id, name: v.name.trim(), grade: v.grade.trim(), monographRef: v.monographRef.trim(), notes: v.notes.trim() || null, active: v.active, reason: v.reason.trim() } as never, { onSuccess: onClose });
+    update.mutate({ id: material.id, name: v.name.trim(), grade: v.grade.trim(), monographRef: v.monographRef.trim(), notes: v.notes.trim() || null, active: v.active, reason: v.reason.trim() }, { onSuccess: onClose });
   };
   return (
     <Dialog open={open} onClose={onClose} title={`Change ${material.code}`} busy={update.isPending}>

@@ -1,0 +1,113 @@
+/**
+ * QA approves a new check specification for an instrument: a site one (expected positions and
+ * tolerances established at qualification, e.g. for an ATR accessory whose bands sit below the
+ * transmission positions) or a pharmacopoeial column, with a written justification and an
+ * e-signature.
+ */
+import { useEffect, useState } from 'react';
+import { Button } from '../../../components/Button';
+import { Field, Input, Select, Textarea } from '../../../components/Field';
+import { SignatureDialog } from '../../../components/SignatureDialog';
+import { useApproveSpec, type CheckBand, type InstrumentDetail } from '../api';
+
+type Row = { nominal: string; tolerance: string };
+
+export function ApproveSpecDialog({ open, instrument, printedName, needsUsername, onClose }: { open: boolean; instrument: InstrumentDetail; printedName: string; needsUsername: boolean; onClose: () => void }) {
+  const approve = useApproveSpec();
+  const current = instrument.specs.find((s) => s.status === 'approved');
+  const [kind, setKind] = useState('site');
+  const [rows, setRows] = useState<Row[]>([]);
+  const [justification, setJustification] = useState('');
+  const [problem, setProblem] = useState<string | null>(null);
+  const lastFound = instrument.checks.find((c) => c.result.bands.every((b) => b.found !== null));
+
+  useEffect(() => {
+    if (open) {
+      setKind('site');
+      setRows((current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })));
+      setJustification('');
+      setProblem(null);
+      approve.reset();
+    }
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [open]);
+
+  const fromLastCheck = () => {
+    if (!lastFound) return;
+    setRows(lastFound.result.bands.map((b) => ({ nominal: (Math.round(b.found! * 100) / 100).toFixed(2), tolerance: b.tolerance.toFixed(1) })));
+  };
+
+  return (
+    <SignatureDialog
+      open={open}
+      title={`New check specification for ${instrument.name}`}
+      meaningText={`approve this check specification for ${instrument.name}, for the reason written above; every later instrument check is judged against it`}
+      printedName={printedName}
+      needsUsername={needsUsername}
+      confirmLabel="Approve specification"
+      busy={approve.isPending}
+      error={problem ?? approve.error}
+      onCancel={onClose}
+      onSign={(signature) => {
+        let bands: CheckBand[] | undefined;
+        if (kind === 'site') {
+          bands = rows.map((r) => ({ nominal: Number(r.nominal.replace(',', '.')), tolerance: Number(r.tolerance.replace(',', '.')) }));
+          if (bands.length < 3 || bands.some((b) => !Number.isFinite(b.nominal) || !Number.isFinite(b.tolerance) || b.tolerance <= 0))
+            return setProblem('A site specification needs at least three bands, each with a position and a positive tolerance.');
+        }
+        if (justification.trim().length < 20) return setProblem('Write a justification of at least 20 characters.');
+        setProblem(null);
+        approve.mutate({ id: instrument.id, spec: { kind, bands, justification: justification.trim() }, signature }, { onSuccess: onClose });
+      }}
+    >
+      <Field id="spec-kind" label="Kind">
+        <Select id="spec-kind" value={kind} onChange={(e) => setKind(e.target.value)}>
+          <option value="site">Site specification (positions established at qualification)</option>
+          <option value="pharmacopoeia-ft">Ph. Eur. 2.2.24, FT tolerances</option>
+          <option value="pharmacopoeia-monochromator">Ph. Eur. 2.2.24, monochromator tolerances</option>
+        </Select>
+      </Field>
+      {kind === 'site' && (
+        <div className="flex max-h-64 flex-col gap-2 overflow-auto">
+          {lastFound && (
+            <div>
+              <Button onClick={fromLastCheck}>Take the positions found in the latest check</Button>
+            </div>
+          )}
+          <table className="text-sm" aria-label="Expected bands">
+            <thead>
+              <tr>
+                <th className="pr-2 text-left font-medium">Expected position (cm⁻¹)</th>
+                <th className="pr-2 text-left font-medium">Tolerance (± cm⁻¹)</th>
+                <th />
+              </tr>
+            </thead>
+            <tbody>
+              {rows.map((r, i) => (
+                <tr key={i}>
+                  <td className="pr-2 pb-1">
+                    <Input aria-label={`Expected position ${i + 1}`} inputMode="decimal" className="w-32 tabular-nums" value={r.nominal} onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, nominal: e.target.value } : x)))} />
+                  </td>
+                  <td className="pr-2 pb-1">
+                    <Input aria-label={`Tolerance ${i + 1}`} inputMode="decimal" className="w-24 tabular-nums" value={r.tolerance} onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, tolerance: e.target.value } : x)))} />
+                  </td>
+                  <td className="pb-1">
+                    <Button variant="quiet" onClick={() => setRows(rows.filter((_, j) => j !== i))}>
+                      Remove
+                    </Button>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+          <div>
+            <Button onClick={() => setRows([...rows, { nominal: '', tolerance: '1.0' }])}>Add band</Button>
+          </div>
+        </div>
+      )}
+      <Field id="spec-just" label="Justification" hint="At least 20 characters; signed with the specification and kept in the audit trail.">
+        <Textarea id="spec-just" value={justification} onChange={(e) => setJustification(e.target.value)} />
+      </Field>
+    </SignatureDialog>
+  );
+}

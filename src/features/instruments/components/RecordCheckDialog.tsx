@@ -1,0 +1,56 @@
+/**
+ * Instrument check by the operator: choose the polystyrene film spectrum, sign (meaning
+ * "instrument check"); the file is uploaded with progress and judged against the instrument's
+ * approved specification. The outcome is shown at once.
+ */
+import { useEffect, useState } from 'react';
+import { Field } from '../../../components/Field';
+import { SignatureDialog } from '../../../components/SignatureDialog';
+import { Verdict } from '../../../components/Verdict';
+import { useRecordCheck, type InstrumentCheck } from '../api';
+
+export function RecordCheckDialog({ open, instrumentId, instrumentName, printedName, needsUsername, onClose, onRecorded }: { open: boolean; instrumentId: number; instrumentName: string; printedName: string; needsUsername: boolean; onClose: () => void; onRecorded: (c: InstrumentCheck) => void }) {
+  const [file, setFile] = useState<File | null>(null);
+  const [fraction, setFraction] = useState(0);
+  const [problem, setProblem] = useState<string | null>(null);
+  const record = useRecordCheck();
+  useEffect(() => {
+    if (open) {
+      setFile(null);
+      setFraction(0);
+      setProblem(null);
+      record.reset();
+    }
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [open]);
+  return (
+    <SignatureDialog
+      open={open}
+      title={`Instrument check of ${instrumentName}`}
+      meaningText={`measured the polystyrene film on ${instrumentName} and recorded this instrument check`}
+      printedName={printedName}
+      needsUsername={needsUsername}
+      confirmLabel="Sign and record check"
+      busy={record.isPending}
+      error={problem ?? record.error}
+      onCancel={onClose}
+      onSign={(signature) => {
+        if (!file) return setProblem('Choose the polystyrene film spectrum file first.');
+        setProblem(null);
+        record.mutate({ id: instrumentId, file, signature, onProgress: (p) => setFraction(p.fraction) }, { onSuccess: (c) => onRecorded(c) });
+      }}
+    >
+      <Field id={`check-file-${instrumentId}`} label="Polystyrene film spectrum" hint="JCAMP-DX or delimited text, as exported by the instrument.">
+        <input
+          id={`check-file-${instrumentId}`}
+          type="file"
+          accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
+          className="block min-h-11 text-sm file:mr-3 file:min-h-11 file:rounded-md file:border file:border-petrol file:bg-petrol file:px-4 file:text-white"
+          onChange={(e) => setFile(e.target.files?.[0] ?? null)}
+        />
+      </Field>
+      {record.isPending && <progress className="h-1.5 w-full accent-petrol" max={1} value={fraction} aria-label="Upload progress" />}
+      {record.isSuccess && <Verdict verdict={record.data.verdict} size="lg" />}
+    </SignatureDialog>
+  );
+}
