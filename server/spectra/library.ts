@@ -5,10 +5,13 @@
  * per reference), each row mean-centred and scaled to unit Euclidean norm. The
  * Pearson correlation of a sample with every reference is then a single
  * matrix-vector product: r_i = sum_j L[i, j] * q[j], with q the sample prepared the
- * same way. Library search is a screening aid (ASTM E2310), not an identity
- * verdict: identity is decided by scoreAgainst against the grade's references.
+ * same way, computed by a SIMD kernel at about the speed of reading the matrix
+ * from memory (dot-kernel.ts). Library search is a screening aid (ASTM E2310),
+ * not an identity verdict: identity is decided by scoreAgainst against the
+ * grade's references.
  */
 import { centredUnit } from './correlation';
+import { createDotKernel, type DotKernel } from './dot-kernel';
 import type { IdentityMethod } from './method';
 import { type PreparedSpectrum, prepare } from './preprocess';
 import { type PreparedReference, prepareReference, type ReferenceInput, assertValidMethod } from './score';
@@ -26,8 +29,19 @@ export interface Library {
   materialIds: string[];
   /** size x width, row-major, rows centred and unit-normalised. */
   data: Float32Array;
-  /** The prepared references, for full scoring (specificity). */
+  /** The prepared references, for full scoring (specificity); empty when built with keepReferences: false. */
   references: PreparedReference[];
+  /** The matrix-vector product over `data`. */
+  kernel: DotKernel;
+}
+
+export interface BuildLibraryOptions {
+  /**
+   * Keep every prepared reference (needed by specificityMatrix). Default true.
+   * false keeps only the float32 matrix: about 12 kB per reference on a
+   * 3,100-point grid instead of some 150 kB, for large search libraries.
+   */
+  keepReferences?: boolean;
 }
 
 export interface LibraryEntry extends ReferenceInput {
@@ -41,50 +55,49 @@ export interface SearchHit {
   score: number;
 }
 
-/** Builds the library; entries may be raw (prepared here) or prepared for this method. */
-export function buildLibrary(entries: Array<LibraryEntry | PreparedReference>, method: IdentityMethod): Library {
+/**
+ * Builds the library. Entries may be raw (prepared here, one at a time, so an
+ * iterable can stream a large library) or prepared for this method.
+ */
+export function buildLibrary(
+  entries: Iterable<LibraryEntry | PreparedReference>, method: IdentityMethod, options: BuildLibraryOptions = {},
+): Library {
   assertValidMethod(method);
-  const refs = entries.map((e) => ('prepared' in e ? e : prepareReference(e, method)));
-  const key = refs[0]?.key ?? '';
-  const width = refs[0]?.unit.length ?? 0;
-  const data = new Float32Array(refs.length * width);
-  refs.forEach((r, i) => {
-    if (r.key !== key || r.unit.length !== width) throw new RangeError(`Reference ${r.id} was prepared for other method settings.`);
-    data.set(r.unit, i * width);
-  });
-  return {
-    method,
-    key,
-    size: refs.length,
-    width,
-    ids: refs.map((r) => r.id),
-    materialIds: refs.map((r) => r.materialId ?? r.id),
-    data,
-    references: refs,
-  };
+  const keep = options.keepReferences ?? true;
+  const references: PreparedReference[] = [];
+  const rows: Float32Array[] = [];
+  const ids: string[] = [];
+  const materialIds: string[] = [];
+  let key: string | null = null;
+  let width = 0;
+  for (const e of entries) {
+    const r = 'prepared' in e ? e : prepareReference(e, method);
+    if (key === null) {
+      key = r.key;
+      width = r.unit.length;
+    } else if (r.key !== key || r.unit.length !== width) {
+      throw new RangeError(`Reference ${r.id} was prepared for other method settings.`);
+    }
+    rows.push(Float32Array.from(r.unit));
+    ids.push(r.id);
+    materialIds.push(r.materialId ?? r.id);
+    if (keep) references.push(r);
+  }
+  const kernel = createDotKernel(rows.length, width);
+  rows.forEach((row, i) => kernel.data.set(row, i * width));
+  return { method, key: key ?? '', size: rows.length, width, ids, materialIds, data: kernel.data, references, kernel };
 }
 
-/** Correlation of a centred unit query with every row: one pass over the library. */
+/** Correlation of a centred unit query with every row: one matrix-vector product (a fresh array). */
 export function correlateAll(library: Library, query: Float32Array): Float32Array {
-  const { data, size, width } = library;
-  const out = new Float32Array(size);
-  const end4 = width - (width % 4);
-  for (let i = 0, o = 0; i < size; i++, o += width) {
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    let j = 0;
-    for (; j < end4; j += 4) {
-      s0 += data[o + j] * query[j];
-      s1 += data[o + j + 1] * query[j + 1];
-      s2 += data[o + j + 2] * query[j + 2];
-      s3 += data[o + j + 3] * query[j + 3];
-    }
-    for (; j < width; j++) s0 += data[o + j] * query[j];
-    out[i] = s0 + s1 + s2 + s3;
-  }
-  return out;
+  return Float32Array.from(product(library, query));
+}
+
+/** The kernel's product; its result array is overwritten by the next search on this library. */
+function product(library: Library, query: Float32Array): Float32Array {
+  if (library.size === 0) return new Float32Array(0);
+  library.kernel.query.set(query);
+  return library.kernel.run();
 }
 
 /** Indices of the k largest scores, best first (ties: lower index first). */
@@ -112,7 +125,7 @@ export function queryVector(library: Library, sample: Spectrum | PreparedSpectru
 /** The k references most correlated with the sample, best first. */
 export function searchLibrary(library: Library, sample: Spectrum | PreparedSpectrum, k: number): SearchHit[] {
   if (library.size === 0) return [];
-  const scores = correlateAll(library, queryVector(library, sample));
+  const scores = product(library, queryVector(library, sample));
   return topK(scores, k).map((i) => ({
     id: library.ids[i],
     materialId: library.materialIds[i],

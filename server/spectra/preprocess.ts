@@ -67,14 +67,40 @@ function scaleToUnit(v: Float64Array, mask: Uint8Array): Float64Array {
   return v.map((a) => (span > 0 ? (a - min) / span : 0));
 }
 
-/** Prepares a spectrum; throws SpectrumError RANGE_NOT_COVERED when it does not span the method range. */
+interface GridLayout {
+  grid: Float64Array;
+  mask: Uint8Array;
+  x: Float64Array;
+  used: number;
+}
+
+/** Grid, mask and used x are the same for every spectrum of a method: built once and shared (read-only). */
+const layouts = new Map<string, GridLayout>();
+
+function layoutFor(method: IdentityMethod): GridLayout {
+  const k = JSON.stringify([method.range.from, method.range.to, method.gridStep, method.excludedRegions.map((r) => [r.from, r.to])]);
+  let l = layouts.get(k);
+  if (!l) {
+    const grid = makeGrid(method.range, method.gridStep);
+    const mask = exclusionMask(grid, method);
+    let used = 0;
+    for (const m of mask) used += m;
+    l = { grid, mask, x: compact(grid, mask, used), used };
+    if (layouts.size >= 64) layouts.clear();
+    layouts.set(k, l);
+  }
+  return l;
+}
+
+/**
+ * Prepares a spectrum; throws SpectrumError RANGE_NOT_COVERED when it does not
+ * span the method range. grid, mask and x are shared between spectra prepared
+ * for the same grid: treat them as read-only.
+ */
 export function prepare(spectrum: Spectrum, method: IdentityMethod): PreparedSpectrum {
   assertCovers(spectrum.x, method.range);
   const step = method.gridStep;
-  const grid = makeGrid(method.range, step);
-  const mask = exclusionMask(grid, method);
-  let used = 0;
-  for (const m of mask) used += m;
+  const { grid, mask, x, used } = layoutFor(method);
   const raw = resampleLinear(spectrum.x, spectrum.y, grid);
   const corrected = correctBaseline(grid, raw, mask, method.baseline);
   const normalised = normalise(corrected, mask, method.normalisation);
@@ -97,7 +123,7 @@ export function prepare(spectrum: Spectrum, method: IdentityMethod): PreparedSpe
     key: preparationKey(method),
     grid,
     mask,
-    x: compact(grid, mask, used),
+    x,
     y: compact(main, mask, used),
     derivative,
     trace,

@@ -69,6 +69,9 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
   if (method !== library.method && JSON.stringify(method) !== JSON.stringify(library.method)) {
     throw new RangeError('specificityMatrix needs the method the library was built with.');
   }
+  if (library.references.length !== library.size) {
+    throw new RangeError('specificityMatrix needs a library built with its prepared references (keepReferences: true).');
+  }
   const byMaterial = new Map<string, PreparedReference[]>();
   library.references.forEach((r, i) => {
     const m = library.materialIds[i];
