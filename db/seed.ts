@@ -4,10 +4,14 @@
  */
 import { closeDb, initDb } from '../server/lib/db';
 import { seedAccounts } from './seeds/accounts';
+import { seedDemoSite } from './seeds/demo';
 
 export async function seedDemo(database?: string): Promise<void> {
   const db = initDb(database);
   await seedAccounts(db);
+  // The invented demo site (grades, references, instruments, lots in every state), driven
+  // through the application's own API; skipped when it is already there.
+  await seedDemoSite(db, { database });
 }
 
 const isMain = process.argv[1]?.endsWith('seed.ts');

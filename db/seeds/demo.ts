@@ -1,0 +1,292 @@
+/**
+ * The demo site: an invented plant, "Lindenhall Pharma, Werk Sued" (oral solid dosage forms),
+ * with invented suppliers, instruments and people (the demo accounts). DEMO ONLY.
+ *
+ * Everything is done through the HTTP API of the real application, by the person whose job it
+ * is (db/seeds/demo-client.ts), so every record carries real e-signatures and audit events and
+ * the audit chain is the application's own:
+ *  - QA (Quinn Okafor) registers the three instruments, approves the site's ATR polystyrene
+ *    positions, creates the nine grades and approves their identity methods; a second QA
+ *    manager (Irene Castell) uploads the reference spectra, Quinn approves them (the approver
+ *    is never the uploader).
+ *  - The citric acid pair: the anhydrous grade is approved first; approving the first
+ *    monohydrate reference under the default method is refused by the specificity gate
+ *    (audited); QA tightens both methods (version 2) and the approvals then pass the gate.
+ *  - Operators check FTIR 1 and FTIR 2 with the polystyrene film; FTIR 3's check fails
+ *    (wavenumber scale drifted), so its check is due.
+ *  - Lots in every state (fixtures/catalogue.ts DEMO_LOTS), see seedLots.
+ * Idempotent: when any demo grade code exists already, nothing is done.
+ * Spectra: fixtures/spectra (synthetic, see fixtures/README.md).
+ */
+import { readFileSync } from 'node:fs';
+import path from 'node:path';
+import type { Knex } from 'knex';
+import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
+import { DEMO_INSTRUMENTS, DEMO_LOTS, DRAFT_REFERENCE_MATERIAL, type DemoSpectrum, demoSpectra } from '../../fixtures/catalogue';
+import { LOOK_ALIKE_PAIR, SODIUM_CHLORIDE_METHOD, SODIUM_CHLORIDE_NOTE, TIGHTENED_HYDRATE_METHOD, TIGHTENED_HYDRATE_NOTE } from '../../fixtures/demo-methods';
+import { SPECTRA_DIR } from '../../fixtures/generate';
+import { POLYSTYRENE_CHECK_BANDS, SITE_CHECK_JUSTIFICATION } from '../../fixtures/polystyrene';
+import { fnv1a } from '../../fixtures/synth';
+import { DemoApi, DemoApiError, type DemoSession } from './demo-client';
+
+export const DEMO_SITE = {
+  company: 'Lindenhall Pharma',
+  site: 'Werk Sued',
+  description: 'Invented demo site: a plant making tablets and capsules (oral solid dosage forms).',
+} as const;
+
+/** Demo grade codes: their presence marks a seeded demo database. */
+export const DEMO_MATERIAL_CODES = MATERIALS.map((m) => m.code);
+
+/** Which supplier delivers which grade (reference lots come from the same supplier). */
+const SUPPLIER_OF: Record<string, string> = Object.fromEntries(DEMO_LOTS.map((l) => [l.material, l.supplier]));
+
+type Log = (line: string) => void;
+
+export interface DemoIds {
+  materials: Record<string, number>;
+  methods: Record<string, number>;
+  instruments: Record<string, number>;
+  references: Record<string, number>;
+  lots?: Record<string, number>;
+}
+
+function fileOf(spec: DemoSpectrum): { name: string; data: Buffer; type: string } {
+  return {
+    name: path.basename(spec.path),
+    data: readFileSync(path.join(SPECTRA_DIR, spec.path)),
+    type: spec.path.endsWith('.csv') ? 'text/csv' : 'chemical/x-jcamp-dx',
+  };
+}
+
+/** A plausible, invented supplier lot number for the n-th reference batch of a grade. */
+function referenceSupplierLot(code: string, n: number): string {
+  return `${code.split('-')[0]}-${23 + Math.floor(n / 2)}-${String(1000 + (fnv1a(`${code}|${n}`) % 9000)).padStart(4, '0')}`;
+}
+
+export async function isDemoSeeded(db: Knex): Promise<boolean> {
+  return !!(await db('material').whereIn('code', DEMO_MATERIAL_CODES).first());
+}
+
+interface People {
+  quinn: DemoSession;
+  irene: DemoSession;
+  olga: DemoSession;
+  victor: DemoSession;
+  dana: DemoSession;
+}
+
+async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void> {
+  for (const inst of DEMO_INSTRUMENTS) {
+    const created = await p.quinn.post('/api/instruments', {
+      name: inst.name,
+      serialNumber: inst.serialNumber,
+      technique: 'mid-ir',
+      sampling: 'atr',
+      location: inst.location,
+      // FTIR 1 and 2 are checked weekly at this site, FTIR 3 (dispensary) daily.
+      checkValidityHours: inst.id === 'IR-3' ? 24 : 24 * 7,
+      reason: 'installed and qualified (demo site)',
+    });
+    ids.instruments[inst.id] = created.id;
+    await p.quinn.post(`/api/instruments/${created.id}/specs`, {
+      spec: { kind: 'site', bands: POLYSTYRENE_CHECK_BANDS.map((b) => ({ nominal: b.site, tolerance: b.tolerance })), justification: SITE_CHECK_JUSTIFICATION },
+      signature: p.quinn.sig(),
+    });
+  }
+  const films = demoSpectra().filter((s) => s.kind === 'polystyrene');
+  for (const film of films) {
+    // FTIR 3: only the drifted film is recorded, so its check fails and stays due.
+    if (film.instrument === 'IR-3' && film.scaleShift === 0) continue;
+    const who = film.instrument === 'IR-3' ? p.dana : p.olga;
+    const f = fileOf(film);
+    await who.upload(`/api/instruments/${ids.instruments[film.instrument]}/checks`, 'file', [f], who.sig());
+  }
+  log('three instruments with site check positions; FTIR 1 and 2 checked, FTIR 3 check failed (due)');
+}
+
+async function approveMethod(p: People, methodId: number): Promise<void> {
+  await p.quinn.post(`/api/methods/${methodId}/approve`, { signature: p.quinn.sig() });
+}
+
+async function uploadReferences(p: People, ids: DemoIds, materialKey: string, kinds: DemoSpectrum['kind'][]): Promise<number[]> {
+  const m = materialByKey(materialKey);
+  const specs = demoSpectra().filter((s) => s.material === materialKey && kinds.includes(s.kind));
+  const out: number[] = [];
+  for (const spec of specs) {
+    const n = Number(/ref-(\d+)/.exec(spec.path)![1]);
+    const [ref] = await p.irene.upload(`/api/materials/${ids.materials[materialKey]}/references`, 'files', [fileOf(spec)], {
+      supplier: SUPPLIER_OF[materialKey] ?? '',
+      supplierLot: referenceSupplierLot(m.code, n),
+      measuredHow: 'Diamond ATR, 32 scans at 4 cm-1 resolution, powder pressed with the torque-limited clamp (demo)',
+      instrumentId: ids.instruments['IR-1'],
+    });
+    ids.references[spec.path] = ref.id;
+    out.push(ref.id);
+  }
+  return out;
+}
+
+async function approveReferences(p: People, refIds: number[]): Promise<void> {
+  for (const id of refIds) await p.quinn.post(`/api/references/${id}/approve`, { signature: p.quinn.sig() });
+}
+
+async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
+  for (const m of MATERIALS) {
+    const created = await p.quinn.post('/api/materials', {
+      code: m.code,
+      name: m.name,
+      grade: m.grade,
+      monographRef: m.monograph,
+      techniques: ['mid-ir-atr'],
+      notes: m.methodNotes,
+      reason: 'new grade for the demo site',
+    });
+    ids.materials[m.key] = created.id;
+    ids.methods[m.key] = created.draftMethodId;
+    // Version 1 is the engine default for mid-IR ATR (sodium chloride: without the derivative criterion).
+    if (m.key === 'sodium-chloride') {
+      await p.quinn.patch(`/api/methods/${created.draftMethodId}`, { params: SODIUM_CHLORIDE_METHOD, changeNote: SODIUM_CHLORIDE_NOTE, reason: 'method for a grade without mid-IR bands' });
+    }
+    await approveMethod(p, created.draftMethodId);
+    const refIds = await uploadReferences(p, ids, m.key, ['reference']);
+    if (m.key !== LOOK_ALIKE_PAIR[1]) {
+      await approveReferences(p, refIds);
+      continue;
+    }
+    // The look-alike: the specificity gate refuses the first monohydrate reference ...
+    try {
+      await p.quinn.post(`/api/references/${refIds[0]}/approve`, { signature: p.quinn.sig() });
+      throw new Error('demo seed: the specificity gate was expected to refuse the citric acid monohydrate reference under the default method');
+    } catch (e) {
+      if (!(e instanceof DemoApiError) || e.code !== 'SPECIFICITY_GATE') throw e;
+    }
+    // ... so QA tightens the methods of both hydrate forms (version 2) and approves again.
+    for (const key of LOOK_ALIKE_PAIR) {
+      const v2 = await p.quinn.post(`/api/materials/${ids.materials[key]}/methods`, { params: TIGHTENED_HYDRATE_METHOD, changeNote: TIGHTENED_HYDRATE_NOTE });
+      await approveMethod(p, v2.id);
+      ids.methods[key] = v2.id;
+    }
+    await approveReferences(p, refIds);
+  }
+  // One more maize starch reference waits for QA approval (the newcomer approves it).
+  await uploadReferences(p, ids, DRAFT_REFERENCE_MATERIAL, ['draft-reference']);
+  log(`${MATERIALS.length} grades with approved methods and three approved references each; citric acid methods tightened after the specificity gate; one draft reference`);
+}
+
+function daysAgo(n: number): string {
+  return new Date(Date.now() - n * 86_400_000).toISOString().slice(0, 10);
+}
+
+interface LotDetail {
+  id: number;
+  lotNumber: string;
+  containers: { id: number; seq: number; label: string }[];
+}
+
+/** Files of a lot's containers, by container number (the poor-contact file kept apart). */
+function containerFiles(lotKey: string): Map<number, DemoSpectrum> {
+  const out = new Map<number, DemoSpectrum>();
+  for (const s of demoSpectra()) if (s.kind === 'container' && s.lot === lotKey) out.set(s.container!, s);
+  return out;
+}
+
+async function measure(who: DemoSession, testId: number, lot: LotDetail, seq: number, spec: DemoSpectrum): Promise<{ id: number; verdict: string }> {
+  const c = lot.containers.find((x) => x.seq === seq)!;
+  return who.upload(`/api/tests/${testId}/measurements`, 'file', [fileOf(spec)], { containerId: c.id });
+}
+
+const PHASE1_NO_LAB_ERROR = {
+  instrument: { ok: true, note: 'Instrument check of the day valid (site ATR positions); crystal cleaned and background re-measured before the container.' },
+  sampleHandling: { ok: true, note: 'Sample taken from the labelled container by the sampling procedure; sampling tools cleaned; no mix-up at the bench.' },
+  method: { ok: true, note: 'The approved method version and the approved reference set were used.' },
+  data: { ok: true, note: 'The stored raw file is the one measured on this container (file name, time, SHA-256 checked).' },
+};
+
+async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<string, number>> {
+  const lotIds: Record<string, number> = {};
+  for (const l of DEMO_LOTS) {
+    const lot = await p.olga.post<LotDetail>('/api/lots', {
+      materialId: ids.materials[l.material],
+      supplier: l.supplier,
+      supplierLot: l.supplierLot,
+      containerCount: l.containers,
+      receivedDate: daysAgo(l.receivedDaysAgo),
+      notes: l.state === 'rejected-after-investigation' || l.state === 'failed-open-investigation' ? null : (l.notes ?? null),
+    });
+    lotIds[l.key] = lot.id;
+    if (l.state === 'awaiting-testing') continue;
+
+    // Who does the work: Dana performs the paracetamol test (and verifies the citric acid
+    // monohydrate test Olga performed); Olga does the rest; Victor verifies.
+    const operator = l.key === 'B' ? p.dana : p.olga;
+    const verifier = l.key === 'C' ? p.dana : p.victor;
+    const test = await operator.post<{ id: number }>(`/api/lots/${lot.id}/tests`, { instrumentId: ids.instruments[l.instrument] });
+    const files = containerFiles(l.key);
+    const measured = l.measured ?? [...files.keys()];
+    for (const seq of measured) await measure(operator, test.id, lot, seq, files.get(seq)!);
+    if (l.state === 'partly-tested') {
+      // The third container was measured with poor ATR contact: the quality gate refuses a verdict.
+      const poor = demoSpectra().find((s) => s.kind === 'poor-contact' && s.lot === l.key);
+      if (poor) await measure(operator, test.id, lot, poor.container!, poor);
+      continue;
+    }
+    await operator.post(`/api/tests/${test.id}/perform`, { signature: operator.sig() });
+    if (l.state === 'awaiting-verification') continue;
+    const verdict = await verifier.post<{ outcome: string; investigation: { id: number; number: string } | null }>(`/api/tests/${test.id}/verify`, {
+      signature: verifier.sig(),
+      comment: l.state === 'passed' ? 'Raw spectra, scores, bands and instrument check reviewed.' : 'Reviewed; the failing container goes to QA as an investigation.',
+    });
+    if (l.state === 'passed') {
+      if (verdict.outcome !== 'passed') throw new Error(`demo seed: lot ${l.key} was expected to pass, got ${verdict.outcome}`);
+      continue;
+    }
+    if (verdict.outcome !== 'failed' || !verdict.investigation) throw new Error(`demo seed: lot ${l.key} was expected to fail, got ${verdict.outcome}`);
+    if (l.state === 'failed-open-investigation') continue;
+    // Rejected after investigation: phase I finds no laboratory error, QA confirms the failure.
+    const inv = verdict.investigation.id;
+    await p.quinn.post(`/api/investigations/${inv}/phase1`, {
+      ...PHASE1_NO_LAB_ERROR,
+      summary: 'No assignable laboratory error. The spectrum of the failing container matches citric acid monohydrate (library hint); loss on drying of the retained sample confirms the hydrate.',
+      signature: p.quinn.sig(),
+    });
+    await p.quinn.post(`/api/investigations/${inv}/confirm`, {
+      justification: l.notes ?? 'Failure confirmed: the container does not hold the ordered grade.',
+      signature: p.quinn.sig(),
+    });
+  }
+  log(`${DEMO_LOTS.length} lots: ${DEMO_LOTS.map((l) => `${l.key} ${l.state}`).join(', ')}`);
+  return lotIds;
+}
+
+export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Log } = {}): Promise<{ seeded: boolean; ids?: DemoIds }> {
+  const log = opts.log ?? ((l: string) => console.log(`[seed] ${l}`));
+  if (await isDemoSeeded(db)) {
+    log('demo site already present; nothing to do');
+    return { seeded: false };
+  }
+  const api = await DemoApi.start(opts.database);
+  const sessions: DemoSession[] = [];
+  try {
+    const signIn = async (u: string) => {
+      const s = await api.signIn(u);
+      sessions.push(s);
+      return s;
+    };
+    const p: People = {
+      quinn: await signIn('quinn'),
+      irene: await signIn('irene'),
+      olga: await signIn('olga'),
+      victor: await signIn('victor'),
+      dana: await signIn('dana'),
+    };
+    const ids: DemoIds = { materials: {}, methods: {}, instruments: {}, references: {} };
+    await seedInstruments(p, ids, log);
+    await seedLibrary(p, ids, log);
+    const lots = await seedLots(p, ids, log);
+    return { seeded: true, ids: { ...ids, lots } };
+  } finally {
+    for (const s of sessions) await s.signOut().catch(() => undefined);
+    await api.close();
+  }
+}
