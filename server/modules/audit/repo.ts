@@ -3,35 +3,24 @@
  * cursor on that pair, so page 1 and page 10,000 cost the same: each filter is an equality on
  * the leading column of an index whose next column is occurred_at (001_core, 007_audit_indexes),
  * and the implicit primary-key suffix of InnoDB indexes breaks ties. Counts are capped.
+ * Text in the reason cannot use an index (any substring may be asked for), so a text search
+ * reads at most TEXT_WINDOW events per request along the time index and says how far it got;
+ * the next request continues from there. Every request stays bounded at 1,000,000 events.
  * Nothing here writes: the trail is appended only through server/lib/audit.ts.
  */
 import type { Knex } from 'knex';
 import type { AuditRow } from '../../lib/audit';
 import { parseJson } from '../../lib/db';
-import type { AuditEventDetail, AuditEventSummary, AuditFilter, FieldChange } from './schemas';
+import { TEXT_WINDOW, type AuditEventDetail, type AuditEventSummary, type AuditFilter, type FieldChange } from './schemas';
 
 export type Scope = 'all' | 'accounts';
 type Db = Knex | Knex.Transaction;
 
 const SUMMARY_COLUMNS = ['id', 'occurred_at', 'actor_id', 'actor_name', 'action', 'entity_type', 'entity_id', 'reason', 'ip'] as const;
 
-/** Words InnoDB's FULLTEXT index leaves out (its default stopword list) and so cannot be required. */
-const FT_STOPWORDS = new Set(
-  'a about an are as at be by com de en for from how i in is it la of on or that the this to was what when where who will with und www'.split(' '),
-);
-/** innodb_ft_min_token_size (default 3): shorter words are not in the index. */
-const FT_MIN_TOKEN = 3;
 
 function escapeLike(s: string): string {
   return s.replace(/[\\%_]/g, (c) => `\\${c}`);
-}
-
-/** Words of a free-text search that the FULLTEXT index can require (each as a word start). */
-export function fulltextTerms(q: string): string[] {
-  return q
-    .split(/[^\p{L}\p{N}_]+/u)
-    .filter((t) => t.length >= FT_MIN_TOKEN && !FT_STOPWORDS.has(t.toLowerCase()))
-    .slice(0, 10);
 }
 
 export interface FilterOptions {
@@ -53,13 +42,7 @@ export function applyFilter(qb: Knex.QueryBuilder, f: Partial<AuditFilter>, o: F
   }
   if (f.entityType) qb.where('entity_type', f.entityType);
   if (f.entityId) qb.where('entity_id', f.entityId);
-  if (f.q) {
-    // The FULLTEXT index finds the candidate rows fast; LIKE keeps the exact meaning "the reason
-    // contains this text". A search of only short or common words falls back to LIKE alone.
-    const terms = fulltextTerms(f.q);
-    if (terms.length) qb.whereRaw('MATCH (reason) AGAINST (? IN BOOLEAN MODE)', [terms.map((t) => `+${t}*`).join(' ')]);
-    qb.where('reason', 'like', `%${escapeLike(f.q)}%`);
-  }
+  if (f.q) qb.where('reason', 'like', `%${escapeLike(f.q)}%`);
   return qb;
 }
 
@@ -85,35 +68,67 @@ export interface PageRequest {
   sort: 'asc' | 'desc';
   cursor?: Cursor | null;
   limit: number;
+  /** the last event (in sort order) this request may read, inclusive (a text search's window) */
+  edge?: Cursor | null;
 }
 
-/** One page of summaries after the cursor, in the sort order; nextCursor when more follow. */
-export async function listPage(
-  db: Db,
-  f: Partial<AuditFilter>,
-  o: FilterOptions,
-  p: PageRequest,
-): Promise<{ rows: AuditEventSummary[]; nextCursor: Cursor | null }> {
-  const raw = await pageQuery(db, f, o, p, SUMMARY_COLUMNS as unknown as string[]);
+function whereAfter(qb: Knex.QueryBuilder, sort: 'asc' | 'desc', c: Cursor, inclusive: boolean): void {
+  const t = new Date(c.t);
+  const op = sort === 'desc' ? '<' : '>';
+  qb.where((w) => w.where('occurred_at', op, t).orWhere((x) => x.where('occurred_at', t).andWhere('id', inclusive ? `${op}=` : op, c.id)));
+}
+
+function orderBy(qb: Knex.QueryBuilder, sort: 'asc' | 'desc'): void {
+  qb.orderBy([
+    { column: 'occurred_at', order: sort },
+    { column: 'id', order: sort },
+  ]);
+}
+
+export interface ListResult {
+  rows: AuditEventSummary[];
+  nextCursor: Cursor | null;
+  /** for a text search: whether every event up to the filter's end was searched, and how far this request got */
+  search?: { complete: boolean; searchedTo: string | null; window: number };
+}
+
+/**
+ * One page of summaries after the cursor, in the sort order; nextCursor when more follow.
+ * A text search reads at most TEXT_WINDOW events: when the page is not full by then, it returns
+ * what it found with a cursor at the window's end, and search.complete = false.
+ */
+export async function listPage(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest): Promise<ListResult> {
+  const edge = f.q ? await windowEdge(db, f, o, p, TEXT_WINDOW) : null;
+  const raw = await pageQuery(db, f, o, { ...p, edge }, SUMMARY_COLUMNS as unknown as string[]);
   const more = raw.length > p.limit;
   const rows = (more ? raw.slice(0, p.limit) : raw).map(toSummary);
   const last = rows[rows.length - 1];
-  return { rows, nextCursor: more && last ? { t: new Date(last.occurredAt).getTime(), id: last.id } : null };
+  if (more && last) return { rows, nextCursor: { t: new Date(last.occurredAt).getTime(), id: last.id }, ...(f.q ? { search: { complete: false, searchedTo: last.occurredAt, window: TEXT_WINDOW } } : {}) };
+  if (edge) return { rows, nextCursor: edge, search: { complete: false, searchedTo: new Date(edge.t).toISOString(), window: TEXT_WINDOW } };
+  return { rows, nextCursor: null, ...(f.q ? { search: { complete: true, searchedTo: null, window: TEXT_WINDOW } } : {}) };
+}
+
+/**
+ * The TEXT_WINDOW-th event after the cursor in sort order within the date range and scope (read
+ * from the time index alone), or null when fewer remain.
+ */
+export async function windowEdge(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest, size: number): Promise<Cursor | null> {
+  const qb = db('audit_event').select('occurred_at', 'id');
+  applyFilter(qb, { from: f.from, to: f.to }, o);
+  if (p.cursor) whereAfter(qb, p.sort, p.cursor, false);
+  orderBy(qb, p.sort);
+  const rows = await qb.offset(size - 1).limit(1);
+  return rows.length ? { t: new Date(rows[0].occurred_at).getTime(), id: Number(rows[0].id) } : null;
 }
 
 /** The raw rows of one page (limit + 1 to know whether more follow). */
 export async function pageQuery(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest, columns: string[] | '*'): Promise<AuditRow[]> {
   const qb = db('audit_event').select(columns === '*' ? '*' : columns);
   applyFilter(qb, f, o);
-  if (p.cursor) {
-    const t = new Date(p.cursor.t);
-    const op = p.sort === 'desc' ? '<' : '>';
-    qb.where((w) => w.where('occurred_at', op, t).orWhere((x) => x.where('occurred_at', t).andWhere('id', op, p.cursor!.id)));
-  }
-  qb.orderBy([
-    { column: 'occurred_at', order: p.sort },
-    { column: 'id', order: p.sort },
-  ]).limit(p.limit + 1);
+  if (p.cursor) whereAfter(qb, p.sort, p.cursor, false);
+  if (p.edge) whereAfter(qb, p.sort === 'desc' ? 'asc' : 'desc', p.edge, true);
+  orderBy(qb, p.sort);
+  qb.limit(p.limit + 1);
   return qb;
 }
 

@@ -72,6 +72,12 @@ export interface AuditPage {
   limit: number;
   /** 'accounts' when the caller only sees account and sign-in events (administrator). */
   scope: 'all' | 'accounts';
+  /**
+   * Only for a text search (q): each request reads at most a window of events along the time
+   * axis. complete=false: older (or newer, when ascending) events remain to be searched; follow
+   * nextCursor. searchedTo: the time this request searched up to.
+   */
+  search?: { complete: boolean; searchedTo: string | null; window: number };
 }
 
 export interface SignatureOnRecord {
@@ -103,3 +109,5 @@ export interface AuditFacets {
 export const COUNT_CAP = 10_000;
 export const PDF_ROW_CAP = 2_000;
 export const HISTORY_CAP = 1_000;
+/** Events one text-search request reads (server/modules/audit/repo.ts). */
+export const TEXT_WINDOW = 100_000;

@@ -3,7 +3,6 @@
  * exports (CSV streamed page by page with back-pressure, PDF report capped). Every export is
  * itself an audit event ('audit.exported', with the filter) written before any data leaves.
  */
-import { once } from 'node:events';
 import type { Response } from 'express';
 import type { Knex } from 'knex';
 import { auditNow, type Actor, type AuditRow } from '../../lib/audit';
@@ -45,9 +44,10 @@ export async function listEvents(db: Knex, user: AuthUser, q: AuditListQuery): P
     cursor = repo.decodeCursor(q.cursor);
     if (!cursor) throw badRequest('The page cursor is not valid; start again from the first page.');
   }
-  const { rows, nextCursor } = await repo.listPage(db, q, { scope }, { sort: q.sort, cursor, limit: q.limit });
-  const total = cursor ? null : await repo.countCapped(db, q, { scope }, COUNT_CAP);
-  return { events: rows, nextCursor: nextCursor ? repo.encodeCursor(nextCursor) : null, total, limit: q.limit, scope };
+  const { rows, nextCursor, search } = await repo.listPage(db, q, { scope }, { sort: q.sort, cursor, limit: q.limit });
+  // Counted on the first page only, capped; a text search is not counted (it reads window by window).
+  const total = cursor || q.q ? null : await repo.countCapped(db, q, { scope }, COUNT_CAP);
+  return { events: rows, nextCursor: nextCursor ? repo.encodeCursor(nextCursor) : null, total, limit: q.limit, scope, ...(search ? { search } : {}) };
 }
 
 export async function getEvent(db: Knex, user: AuthUser, id: number): Promise<AuditEventDetail> {
@@ -167,7 +167,17 @@ export async function exportCsv(db: Knex, ctx: ExportContext, f: AuditFilter, re
   });
   const write = async (s: string) => {
     if (closed) return;
-    if (!res.write(s)) await Promise.race([once(res, 'drain'), once(res, 'close')]);
+    if (res.write(s)) return;
+    // Back-pressure: wait until the client has taken the data (or has gone).
+    await new Promise<void>((resolve) => {
+      const done = () => {
+        res.off('drain', done);
+        res.off('close', done);
+        resolve();
+      };
+      res.on('drain', done);
+      res.on('close', done);
+    });
   };
 
   try {
