@@ -40,4 +40,7 @@ export const appRoutes: AppRoute[] = [
   { path: '/library/references/:id', element: lazyPage(() => import('../routes/library-reference')) },
   { path: '/instruments', element: lazyPage(() => import('../routes/instruments')), nav: { label: 'Instruments', group: 'bench', order: 5 } },
   { path: '/instruments/:id', element: lazyPage(() => import('../routes/instrument')) },
+  { path: '/certificates', element: lazyPage(() => import('../routes/certificates')), nav: { label: 'Identity certificates', group: 'desk', order: 40 } },
+  { path: '/certificates/verify', element: lazyPage(() => import('../routes/certificate-verify')), nav: { label: 'Verify a certificate', group: 'desk', order: 41 } },
+  { path: '/certificates/:id', element: lazyPage(() => import('../routes/certificate')) },
 ];

@@ -16,8 +16,8 @@ export interface OverlayInput {
   height?: number;
 }
 
-export const SAMPLE_COLOUR = '#0f5c6e'; // petrol
-export const REFERENCE_COLOUR = '#b26b00'; // amber
+export const SAMPLE_COLOUR = '#0f5e6e'; // petrol, solid (STYLE.md)
+export const REFERENCE_COLOUR = '#6b7280'; // muted, dashed (STYLE.md)
 
 function esc(s: string): string {
   return s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);
