@@ -260,7 +260,8 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
 }
 
 export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Log } = {}): Promise<{ seeded: boolean; ids?: DemoIds }> {
-  const log = opts.log ?? ((l: string) => console.log(`[seed] ${l}`));
+  const t0 = Date.now();
+  const log = opts.log ?? ((l: string) => console.log(`[seed] ${l} (${((Date.now() - t0) / 1000).toFixed(0)} s)`));
   if (await isDemoSeeded(db)) {
     log('demo site already present; nothing to do');
     return { seeded: false };

@@ -1,0 +1,238 @@
+/**
+ * The demo seed on a fresh database of its own (not the shared API test database): every lot
+ * state of the scenario exists and is consistent, every passed lot has a certificate that
+ * verifies, every failed lot an investigation whose library hint names what is really in the
+ * container, the library is specific after the tightened citric acid methods, references are
+ * approved by someone other than their uploader, and the audit chain is intact. Running the
+ * seed again changes nothing (idempotent).
+ */
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
+import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
+import { DEMO_MATERIAL_CODES, seedDemoSite } from '../../db/seeds/demo';
+import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
+import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
+import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
+import { createApp } from '../../server/app';
+import { verifyChain } from '../../server/lib/audit';
+import { closeDb, initDb } from '../../server/lib/db';
+import { specificityMatrixFor } from '../../server/modules/library/specificity';
+import type { Knex } from 'knex';
+
+const DEMO_DB = `drumline_demo_test_${process.pid}`;
+let db: Knex;
+let counts: Record<string, number>;
+
+const TABLES = ['material', 'identity_method', 'reference_spectrum', 'instrument', 'instrument_check', 'lot', 'identity_test', 'measurement', 'investigation', 'certificate', 'e_signature', 'audit_event'];
+
+async function tableCounts(): Promise<Record<string, number>> {
+  const out: Record<string, number> = {};
+  for (const t of TABLES) out[t] = Number((await db(t).count({ n: '*' }).first())?.n ?? 0);
+  return out;
+}
+
+const IDENTITY_STATUS: Record<LotState, string> = {
+  'awaiting-testing': 'awaiting-testing',
+  'partly-tested': 'testing',
+  'awaiting-verification': 'awaiting-verification',
+  passed: 'passed',
+  'failed-open-investigation': 'failed',
+  'rejected-after-investigation': 'rejected',
+};
+
+beforeAll(async () => {
+  await recreateDatabase(DEMO_DB);
+  await migrateDatabase(DEMO_DB); // also grants the runtime account its rights on this database
+  db = initDb(DEMO_DB);
+  await seedAccounts(db);
+  const r = await seedDemoSite(db, { database: DEMO_DB, log: () => undefined });
+  expect(r.seeded).toBe(true);
+  counts = await tableCounts();
+}, 600_000);
+
+afterAll(async () => {
+  await closeDb();
+  if (!process.env.KEEP_TEST_DB) await dropDatabase(DEMO_DB);
+});
+
+async function lotOf(key: string) {
+  const l = DEMO_LOTS.find((x) => x.key === key)!;
+  const m = materialByKey(l.material);
+  return db('lot as l').join('material as m', 'm.id', 'l.material_id').where({ 'm.code': m.code, 'l.supplier_lot': l.supplierLot }).select('l.*').first();
+}
+
+describe('demo seed', () => {
+  it('creates every demo grade with an approved method and three approved references, uploaded and approved by different QA people', async () => {
+    const quinn = await db('app_user').where({ username: 'quinn' }).first();
+    const irene = await db('app_user').where({ username: 'irene' }).first();
+    for (const m of MATERIALS) {
+      const mat = await db('material').where({ code: m.code }).first();
+      expect(mat, m.code).toBeTruthy();
+      const approved = await db('identity_method').where({ material_id: mat.id, status: 'approved' });
+      expect(approved, m.code).toHaveLength(1);
+      const refs = await db('reference_spectrum').where({ material_id: mat.id, status: 'approved' });
+      expect(refs.length, m.code).toBe(3);
+      for (const r of refs) {
+        expect(r.created_by).toBe(irene.id);
+        const s = await db('e_signature').where({ id: r.approved_signature_id }).first();
+        expect(s.user_id).toBe(quinn.id);
+        expect(s.meaning).toBe('approved');
+      }
+    }
+    // One draft reference waits for approval (by someone other than its uploader).
+    const drafts = await db('reference_spectrum').where({ status: 'draft' });
+    expect(drafts).toHaveLength(1);
+    expect(drafts[0].created_by).toBe(irene.id);
+  });
+
+  it('shows the look-alike pair flagged by the specificity gate, then both methods tightened (version 2) and the library specific', async () => {
+    const mh = await db('material').where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code }).first();
+    const blocked = await db('audit_event').where({ action: 'reference.approval-blocked' });
+    expect(blocked).toHaveLength(1);
+    const blockedRef = await db('reference_spectrum').where({ id: Number(blocked[0].entity_id) }).first();
+    expect(blockedRef.material_id).toBe(mh.id);
+    const offending = (JSON.parse(blocked[0].after_json) as { offending: { materialCode: string }[] }).offending;
+    expect(new Set(offending.map((o) => o.materialCode))).toEqual(new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]));
+    for (const key of LOOK_ALIKE_PAIR) {
+      const mat = await db('material').where({ code: materialByKey(key).code }).first();
+      const methods = await db('identity_method').where({ material_id: mat.id }).orderBy('version');
+      expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(['1:superseded', '2:approved']);
+      expect(JSON.parse(methods[1].params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
+    }
+    const matrix = await specificityMatrixFor('mid-ir-atr', db);
+    expect(matrix.materials.map((m) => m.code).sort()).toEqual([...DEMO_MATERIAL_CODES].sort());
+    expect(matrix.notDiscriminated).toEqual([]);
+    // Every grade's references pass against each other (leave one out).
+    for (const c of matrix.cells.filter((x) => x.rowMaterialId === x.columnMaterialId)) expect(c.state, String(c.rowMaterialId)).toBe('self');
+  });
+
+  it('has three instruments with the site ATR check positions, one of them with its check due', async () => {
+    const app = createApp({ database: DEMO_DB }).app;
+    const agent = request.agent(app);
+    await agent.post('/api/auth/sign-in').send({ username: 'quinn', password: DEMO_PASSWORD }).expect(200);
+    const list = (await agent.get('/api/instruments').expect(200)).body as { name: string; checkDue: boolean; currentSpec: { kind: string } | null }[];
+    expect(list).toHaveLength(3);
+    for (const i of list) expect(i.currentSpec?.kind).toBe('site');
+    expect(list.filter((i) => i.checkDue).map((i) => i.name)).toEqual(['FTIR 3 - dispensary']);
+    const failed = await db('instrument_check').where({ verdict: 'fail' });
+    expect(failed).toHaveLength(1);
+  });
+
+  it('leaves every lot in its scenario state, consistently', async () => {
+    const seen = new Set<string>();
+    for (const l of DEMO_LOTS) {
+      const lot = await lotOf(l.key);
+      expect(lot, l.key).toBeTruthy();
+      expect(lot.identity_status, l.key).toBe(IDENTITY_STATUS[l.state]);
+      seen.add(l.state);
+      const tests = await db('identity_test').where({ lot_id: lot.id });
+      const containers = await db('container').where({ lot_id: lot.id });
+      expect(containers).toHaveLength(l.containers);
+      const measurements = tests.length ? await db('measurement').whereIn('test_id', tests.map((t) => t.id)) : [];
+      switch (l.state) {
+        case 'awaiting-testing':
+          expect(tests).toHaveLength(0);
+          break;
+        case 'partly-tested': {
+          expect(tests.map((t) => t.status)).toEqual(['in-progress']);
+          const valid = new Set(measurements.filter((m) => m.verdict !== 'invalid').map((m) => m.container_id));
+          expect(valid.size).toBe(l.measured!.length);
+          expect(valid.size).toBeLessThan(l.containers);
+          // The poor-contact file is kept as an invalid measurement (refused, not judged).
+          expect(measurements.filter((m) => m.verdict === 'invalid')).toHaveLength(1);
+          break;
+        }
+        case 'awaiting-verification':
+          expect(tests.map((t) => t.status)).toEqual(['awaiting-verification']);
+          expect(tests[0].performed_signature_id).toBeTruthy();
+          expect(tests[0].verified_signature_id).toBeNull();
+          break;
+        default:
+          expect(tests.map((t) => t.status)).toEqual(['verified']);
+          expect(tests[0].verified_by).not.toBe(tests[0].performed_by);
+          expect(new Set(measurements.map((m) => m.container_id)).size).toBe(l.containers);
+      }
+    }
+    expect([...seen].sort()).toEqual(Object.keys(IDENTITY_STATUS).sort());
+  });
+
+  it('gives every passed lot a certificate that verifies, and no other lot one', async () => {
+    const app = createApp({ database: DEMO_DB }).app;
+    const agent = request.agent(app);
+    await agent.post('/api/auth/sign-in').send({ username: 'aurelia', password: DEMO_PASSWORD }).expect(200);
+    const passedLots = await db('lot').where({ identity_status: 'passed' });
+    expect(passedLots.length).toBe(DEMO_LOTS.filter((l) => l.state === 'passed').length);
+    for (const lot of passedLots) {
+      const certs = await db('certificate').where({ lot_id: lot.id });
+      expect(certs, lot.lot_number).toHaveLength(1);
+      const res = await agent.get('/api/certificates/verify').query({ number: certs[0].number }).expect(200);
+      expect(res.body.verdict, res.body.summary).toBe('authentic');
+      expect(res.body.lot.lotNumber).toBe(lot.lot_number);
+    }
+    const others = await db('certificate').whereNotIn('lot_id', passedLots.map((l) => l.id));
+    expect(others).toHaveLength(0);
+  });
+
+  it('opens an investigation for every failed lot; the library hint names the material really in the container', async () => {
+    for (const l of DEMO_LOTS.filter((x) => x.contents)) {
+      const lot = await lotOf(l.key);
+      const invs = await db('investigation').where({ lot_id: lot.id });
+      expect(invs, l.key).toHaveLength(1);
+      const inv = invs[0];
+      expect(inv.status).toBe(l.state === 'failed-open-investigation' ? 'open' : 'closed');
+      if (l.state === 'rejected-after-investigation') {
+        expect(inv.decision).toBe('confirmed');
+        expect(lot.status).toBe('rejected');
+        expect(inv.decision_signature_id).toBeTruthy();
+      }
+      const failing = JSON.parse(inv.failing) as { label: string; hint: { materialCode: string }[] }[];
+      const [seq, inside] = Object.entries(l.contents!)[0];
+      expect(failing.map((f) => f.label)).toEqual([`${lot.lot_number}-${String(seq).padStart(3, '0')}`]);
+      expect(failing[0].hint[0].materialCode).toBe(materialByKey(inside).code);
+    }
+    const failedLots = await db('lot').whereIn('identity_status', ['failed', 'rejected']);
+    for (const lot of failedLots) expect((await db('investigation').where({ lot_id: lot.id })).length, lot.lot_number).toBeGreaterThan(0);
+  });
+
+  it('gives operator, verifier and QA manager a non-empty work queue', async () => {
+    const app = createApp({ database: DEMO_DB }).app;
+    const expected: Record<string, string[]> = {
+      olga: ['lots-to-test', 'instrument-checks-due'],
+      victor: ['tests-to-verify'],
+      dana: ['lots-to-test', 'tests-to-verify'],
+      quinn: ['open-investigations', 'references-to-approve', 'instrument-checks-due'],
+    };
+    for (const [username, keys] of Object.entries(expected)) {
+      const agent = request.agent(app);
+      await agent.post('/api/auth/sign-in').send({ username, password: DEMO_PASSWORD }).expect(200);
+      const q = (await agent.get('/api/work-queue').expect(200)).body as { sections: { key: string; count: number }[] };
+      for (const k of keys) expect(q.sections.find((s) => s.key === k)?.count, `${username} ${k}`).toBeGreaterThan(0);
+    }
+  });
+
+  it('keeps the audit chain intact, with every signature audited', async () => {
+    const chain = await verifyChain(db);
+    expect(chain.ok, JSON.stringify(chain)).toBe(true);
+    const sigs = Number((await db('e_signature').count({ n: '*' }).first())?.n);
+    const signedEvents = Number((await db('audit_event').where({ action: 'signature.signed' }).count({ n: '*' }).first())?.n);
+    expect(sigs).toBeGreaterThan(40);
+    expect(signedEvents).toBe(sigs);
+  });
+
+  it('has every demo account, with the roles README lists', async () => {
+    for (const a of DEMO_ACCOUNTS) {
+      const u = await db('app_user').where({ username: a.username }).first();
+      expect(JSON.parse(u.roles)).toEqual(a.roles);
+    }
+  });
+
+  it('does nothing when run again (idempotent)', async () => {
+    const before = await tableCounts();
+    // Only reads and sign-ins happened since the seed: no record but audit events was added.
+    expect({ ...before, audit_event: 0 }).toEqual({ ...counts, audit_event: 0 });
+    const r = await seedDemoSite(db, { database: DEMO_DB, log: () => undefined });
+    expect(r.seeded).toBe(false);
+    expect(await tableCounts()).toEqual(before);
+  });
+});
