@@ -130,11 +130,18 @@ export interface PassedLotOptions {
   names?: { operator?: string; verifier?: string; qa?: string };
   /** Existing users instead of new ones. */
   users?: { operator?: FixtureUser; verifier?: FixtureUser; qa?: FixtureUser };
+  /**
+   * 'passed' (default): verified and passed, ready for its certificate. 'awaiting-verification':
+   * performed and signed by the operator, for a second person to verify through the real API
+   * (the browser test), which then issues the certificate itself.
+   */
+  stage?: 'passed' | 'awaiting-verification';
 }
 
 /** Creates a passed, verified lot with `containers` containers (default 3). Uses the given connection (runtime account is enough). */
 export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Promise<PassedLot> {
   const n = opts.containers ?? 3;
+  const verified = (opts.stage ?? 'passed') === 'passed';
   const results = engineResults();
   const tag = unique('');
   const operator = opts.users?.operator ?? (await insertUser(db, ['operator'], 'op', opts.names?.operator ?? `Olga Operator ${tag}`));
@@ -193,12 +200,13 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   const lotNumber = `RM-${tag}`.slice(0, 40);
   const [lotId] = await db('lot').insert({
     lot_number: lotNumber, material_id: materialId, supplier: 'Brackenford Textile Supply', supplier_lot: `HTC-${tag.slice(-6)}`, container_count: n,
-    received_date: t0.toISOString().slice(0, 10), notes: null, status: 'quarantine', identity_status: 'passed', created_by: operator.id, created_at: at(5), updated_at: at(90),
+    received_date: t0.toISOString().slice(0, 10), notes: null, status: 'quarantine', identity_status: verified ? 'passed' : 'awaiting-verification',
+    created_by: operator.id, created_at: at(5), updated_at: at(90),
   });
   const containers: PassedLot['containers'] = [];
   const [testId] = await db('identity_test').insert({
-    lot_id: lotId, attempt: 1, status: 'verified', method_id: methodId, instrument_id: instrumentId, performed_by: operator.id, verified_by: verifier.id,
-    created_by: operator.id, created_at: at(15), updated_at: at(90), row_version: 2,
+    lot_id: lotId, attempt: 1, status: verified ? 'verified' : 'awaiting-verification', method_id: methodId, instrument_id: instrumentId,
+    performed_by: operator.id, verified_by: verified ? verifier.id : null, created_by: operator.id, created_at: at(15), updated_at: at(90), row_version: verified ? 2 : 1,
   });
   for (let i = 1; i <= n; i++) {
     const label = `${lotNumber}-${String(i).padStart(3, '0')}`;
@@ -216,8 +224,8 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     containers.push({ id: Number(containerId), label, measurementId: Number(measurementId), fileSha256: file.sha256 });
   }
   const performed = await signature(db, operator, 'performed', 'identity_test', testId, at(60));
-  const verified = await signature(db, verifier, 'verified', 'identity_test', testId, at(90));
-  await db('identity_test').where({ id: testId }).update({ performed_signature_id: performed, verified_signature_id: verified });
+  const verifiedSig = verified ? await signature(db, verifier, 'verified', 'identity_test', testId, at(90)) : null;
+  await db('identity_test').where({ id: testId }).update({ performed_signature_id: performed, verified_signature_id: verifiedSig });
 
   return {
     lotId: Number(lotId), lotNumber, testId: Number(testId), materialId: Number(materialId), materialCode,
