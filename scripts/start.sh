@@ -14,6 +14,7 @@ cat <<TXT
     olga     operator            victor   verifier
     quinn    QA manager          aurelia  auditor
     adam     administrator       dana     operator + verifier
+    irene    QA manager (a second one: uploads references that quinn approves)
 
 TXT
 exec npx tsx server/index.ts
