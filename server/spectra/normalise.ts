@@ -8,7 +8,7 @@
 import type { Normalisation } from './method';
 
 export function normalise(y: Float64Array, mask: Uint8Array, mode: Normalisation): Float64Array {
-  const out = Float64Array.from(y);
+  const out = y.slice();
   if (mode === 'none') return out;
   let n = 0;
   let sum = 0;

@@ -64,7 +64,9 @@ function scaleToUnit(v: Float64Array, mask: Uint8Array): Float64Array {
     if (v[i] > max) max = v[i];
   }
   const span = max - min;
-  return v.map((a) => (span > 0 ? (a - min) / span : 0));
+  const out = new Float64Array(v.length);
+  if (span > 0) for (let i = 0; i < v.length; i++) out[i] = (v[i] - min) / span;
+  return out;
 }
 
 interface GridLayout {

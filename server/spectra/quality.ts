@@ -85,14 +85,18 @@ export function estimateNoise(y: ArrayLike<number>): number {
 /** The y values checked: inside the method range and outside excluded regions. */
 function checkedValues(spectrum: Spectrum, method: IdentityMethod): Float64Array {
   const { x, y } = spectrum;
-  const out: number[] = [];
+  const { from, to } = method.range;
+  const regions = method.excludedRegions;
+  const out = new Float64Array(x.length);
+  let n = 0;
   for (let i = 0; i < x.length; i++) {
     const v = x[i];
-    if (v < method.range.from || v > method.range.to) continue;
-    if (method.excludedRegions.some((r) => v >= r.from && v <= r.to)) continue;
-    out.push(y[i]);
+    if (v < from || v > to) continue;
+    let excluded = false;
+    for (let r = 0; r < regions.length; r++) if (v >= regions[r].from && v <= regions[r].to) excluded = true;
+    if (!excluded) out[n++] = y[i];
   }
-  return Float64Array.from(out);
+  return out.subarray(0, n);
 }
 
 export function measureQuality(spectrum: Spectrum, method: IdentityMethod): QualityMetrics {

@@ -1,0 +1,33 @@
+/**
+ * Benchmark entry: `npm run bench` runs every bench below in order;
+ * `npm run bench -- engine` (or several names) runs only those.
+ * Each bench module exports a function returning { ok } (all targets met).
+ * To add a bench, add one line to BENCHES.
+ */
+type Bench = (args: string[]) => Promise<{ ok: boolean }>;
+
+const BENCHES: Record<string, Bench> = {
+  engine: async () => (await import('./engine')).runEngineBench(),
+  audit: async (args) => (await import('./audit')).runAuditBench(args),
+  certificate: async () => (await import('./certificate')).runCertificateBench(),
+};
+
+async function main(): Promise<number> {
+  const argv = process.argv.slice(2);
+  const names = argv.filter((a) => a in BENCHES);
+  const rest = argv.filter((a) => !(a in BENCHES));
+  let ok = true;
+  for (const name of names.length ? names : Object.keys(BENCHES)) {
+    const result = await BENCHES[name](rest);
+    ok &&= result.ok;
+  }
+  return ok ? 0 : 1;
+}
+
+main().then(
+  (code) => process.exit(code),
+  (e) => {
+    console.error('[bench] failed:', e);
+    process.exit(2);
+  },
+);
