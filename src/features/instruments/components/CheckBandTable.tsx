@@ -20,7 +20,7 @@ export function CheckBandTable({ result }: { result: CheckResult }) {
           <tbody>
             {result.bands.map((b) => (
               <tr key={b.nominal} className="border-t border-line">
-                <td className="px-3 py-1 text-right">{formatWavenumber(b.nominal)}</td>
+                <td className="px-3 py-1 text-right">{formatWavenumber(b.nominal, 2)}</td>
                 <td className="px-3 py-1 text-right">{b.found === null ? 'not found' : formatWavenumber(b.found, 2)}</td>
                 <td className="px-3 py-1 text-right">{b.deviation === null ? '—' : formatShift(b.deviation, 2)}</td>
                 <td className="px-3 py-1 text-right">±{b.tolerance.toFixed(1)} cm⁻¹</td>

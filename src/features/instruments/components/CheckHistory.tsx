@@ -34,7 +34,7 @@ export function CheckHistory({ instrument }: { instrument: InstrumentDetail }) {
             </div>
             {c.signature && (
               <p className="mt-1 text-xs text-muted">
-                Signed by {c.signature.printedName} ({c.signature.meaning}), <DateTime value={c.signature.signedAt} seconds />
+                Signed by {c.signature.printedName}, meaning: instrument check performed, <DateTime value={c.signature.signedAt} seconds />
               </p>
             )}
             {open === c.id && (
