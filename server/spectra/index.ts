@@ -19,16 +19,17 @@ export { correctBaseline } from './baseline';
 export { normalise } from './normalise';
 export { prepare, type PreparedSpectrum } from './preprocess';
 export { findPeaks, parabolaVertex, type Peak } from './peaks';
-export { bandConcordance, referenceBandsFrom, type Band, type BandRow, type ExtraBand, type BandConcordance } from './bands';
+export { bandConcordance, bandToleranceFor, referenceBandsFrom, type Band, type BandRow, type ExtraBand, type BandConcordance } from './bands';
 export { pearson, centredUnit } from './correlation';
-export { scoreAgainst, prepareReference, scoreReference, type ReferenceInput, type PreparedReference } from './score';
+export { scoreAgainst, prepareReference, scoreReference, assertValidMethod, type ReferenceInput, type PreparedReference } from './score';
 export type { IdentityResult, Criterion, CriterionKey, ReferenceScore, DistanceResult } from './result';
 export { assignBand, describeAssignment, shapeOf, GROUP_FREQUENCIES, GROUP_FREQUENCY_SOURCE, type GroupFrequency, type BandShape } from './group-frequencies';
 export { explain, bandMeaning } from './explain';
 export {
-  checkPolystyrene, PH_EUR_POLYSTYRENE_FT, PH_EUR_POLYSTYRENE_MONOCHROMATOR,
-  type PolystyreneSpec, type PolystyreneBandSpec, type PolystyreneOptions, type PolystyreneResult, type PolystyreneBandResult,
+  checkPolystyrene, locateMaximum, PH_EUR_POLYSTYRENE_FT, PH_EUR_POLYSTYRENE_MONOCHROMATOR,
+  type PolystyreneSpec, type PolystyreneBandSpec, type PolystyreneOptions, type PolystyreneResult, type PolystyreneBandResult, type ResolutionCheck,
 } from './polystyrene';
-export { buildLibrary, searchLibrary, type Library, type LibraryEntry, type SearchHit } from './library';
+export { buildLibrary, searchLibrary, correlateAll, type Library, type LibraryEntry, type SearchHit, type BuildLibraryOptions } from './library';
+export { createDotKernel, type DotKernel } from './dot-kernel';
 export { specificityMatrix, type SpecificityReport, type SpecificityPair, type MaterialSummary } from './specificity';
 export { buildDistanceModel, mahalanobisDistance, type DistanceModel } from './nir';
