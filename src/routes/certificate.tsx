@@ -88,7 +88,7 @@ export default function CertificatePage() {
               <tbody>
                 {content.containers.map((r) => (
                   <tr key={r.containerId} className="border-b border-line last:border-b-0">
-                    <td className="px-3 py-1.5 font-medium">{r.label}</td>
+                    <td className="px-3 py-1.5 font-medium whitespace-nowrap">{r.label}</td>
                     <td className="px-3 py-1.5 text-right tabular-nums">{r.measurementId}</td>
                     <td className="px-3 py-1.5 text-right tabular-nums">{formatScore(r.matchScore)}</td>
                     <td className="px-3 py-1.5">{r.bandsTotal === null ? 'not used' : `${r.bandsMatched} of ${r.bandsTotal}`}</td>

@@ -197,7 +197,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
     table: {
       headerRows: 1,
       dontBreakRows: true,
-      widths: ['*', 50, 34, 50, 34, 124],
+      widths: ['*', 56, 34, 50, 34, 124],
       body: [
         [th6('Container'), th6('Measurement'), th6('Match score'), th6('Band concordance'), th6('Verdict'), th6('Raw file SHA-256')],
         ...c.containers.map((r) => [

@@ -60,10 +60,10 @@ function runs(mask: ArrayLike<number>): number[][] {
 
 export function overlaySvg(o: OverlayInput): string {
   const W = o.width ?? 515;
-  const H = o.height ?? 170;
+  const H = o.height ?? 180;
   const left = 28;
   const right = 8;
-  const top = 18;
+  const top = 26;
   const bottom = 26;
   const pw = W - left - right;
   const ph = H - top - bottom;
@@ -126,10 +126,10 @@ export function overlaySvg(o: OverlayInput): string {
     ...ticks,
     `<text x="${left + pw / 2}" y="${H - 3}" font-size="7" text-anchor="middle" fill="#333">Wavenumber (cm-1), high to low</text>`,
     `<text x="10" y="${top + ph / 2}" font-size="7" text-anchor="middle" fill="#333" transform="rotate(-90 10 ${top + ph / 2})">Absorbance (scaled)</text>`,
-    `<line x1="${left + 6}" y1="${top - 8}" x2="${left + 22}" y2="${top - 8}" stroke="${SAMPLE_COLOUR}" stroke-width="1.2"/>`,
-    `<text x="${left + 26}" y="${top - 5.5}" font-size="7" fill="#333">${esc(o.sampleLabel)}</text>`,
-    `<line x1="${left + pw / 2}" y1="${top - 8}" x2="${left + pw / 2 + 16}" y2="${top - 8}" stroke="${REFERENCE_COLOUR}" stroke-width="1.2" stroke-dasharray="3 1.5"/>`,
-    `<text x="${left + pw / 2 + 20}" y="${top - 5.5}" font-size="7" fill="#333">${esc(o.referenceLabel)}</text>`,
+    `<line x1="${left + 6}" y1="${top - 17}" x2="${left + 22}" y2="${top - 17}" stroke="${SAMPLE_COLOUR}" stroke-width="1.2"/>`,
+    `<text x="${left + 26}" y="${top - 14.5}" font-size="7" fill="#333">${esc(o.sampleLabel)}</text>`,
+    `<line x1="${left + 6}" y1="${top - 7}" x2="${left + 22}" y2="${top - 7}" stroke="${REFERENCE_COLOUR}" stroke-width="1.2" stroke-dasharray="3 1.5"/>`,
+    `<text x="${left + 26}" y="${top - 4.5}" font-size="7" fill="#333">${esc(o.referenceLabel)}</text>`,
     '</svg>',
   ].join('');
 }
