@@ -548,7 +548,12 @@ export function verifyPdfSignature(pdf: Buffer): PdfSignatureCheck {
     const md = forge.md.sha256.create();
     md.update(signedAttrs.toString('binary'));
     const signature = value(cms, sigTlv).toString('binary');
-    const ok = (cert.publicKey as forge.pki.rsa.PublicKey).verify(md.digest().bytes(), signature);
+    let ok = false;
+    try {
+      ok = (cert.publicKey as forge.pki.rsa.PublicKey).verify(md.digest().bytes(), signature);
+    } catch {
+      ok = false; // forge throws when the decrypted block is not PKCS#1 v1.5: a wrong signature
+    }
     if (!ok) return fail(base, 'The RSA signature over the signed attributes does not verify with the embedded certificate.');
     if (!base.coversWholeFile) return fail(base, 'Content was appended after the signature; the signature does not cover the whole file.');
     return {
