@@ -149,6 +149,22 @@ describe('identity methods are versioned; an approved version is immutable', () 
     expect(set?.method.id).toBe(newId);
   });
 
+  it('a new method version whose range an approved reference does not cover cannot be approved (409)', async () => {
+    const m = await createMaterial(qa1.agent, 'Range check fibre');
+    await approveMethod(qa2.agent, qa2.user, m.draftMethodId);
+    const ref = await uploadOne(qa1.agent, m.id, 'nylon6_s077.csv', fibre('nylon6_s077.csv'));
+    await approveForSetup(qa2, ref.id);
+    const p = (await qa1.agent.get(`/api/methods/${m.draftMethodId}`)).body.params;
+    // the fibre files cover 550-4000 cm-1 (README of atr-ftir-fibres); 4500 is beyond them
+    const draft = await qa1.agent.post(`/api/methods/${m.draftMethodId}/new-version`).send({ changeNote: 'wider' });
+    expect(draft.status).toBe(201);
+    expect((await qa1.agent.patch(`/api/methods/${draft.body.id}`).send({ params: { ...p, range: { from: 700, to: 4500 } }, reason: 'try a wider range' })).status).toBe(200);
+    const res = await qa2.agent.post(`/api/methods/${draft.body.id}/approve`).send({ signature: sigOf(qa2.user) });
+    expect(res.status).toBe(409);
+    expect(res.body.error.message).toContain(ref.code);
+    expect((await db()('identity_method').where({ id: draft.body.id }).first()).status).toBe('draft');
+  });
+
   it('POST new-version creates a draft from an approved version', async () => {
     const m = await createMaterial(qa1.agent, 'Magnesium stearate');
     await approveMethod(qa2.agent, qa2.user, m.draftMethodId);

@@ -19,7 +19,8 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { defaultMidIrAtrMethod, defaultNirMethod, type IdentityMethod, validateMethod } from '../../spectra';
+import { defaultMidIrAtrMethod, defaultNirMethod, type IdentityMethod, prepare, SpectrumError, validateMethod } from '../../spectra';
+import { spectrumOfFile } from './engine';
 import { invalidateLibraryCache } from './approved-set';
 import * as repo from './repo';
 import type { MaterialCreate, MaterialUpdate } from './schemas';
@@ -291,6 +292,16 @@ export async function approveMethod(db: Knex, user: AuthUser, methodId: number, 
   if (m.status !== 'draft') throw conflict(`Version ${m.version} is already ${m.status}.`);
   const params = JSON.parse(m.params) as IdentityMethod;
   assertMethodValid(params);
+  // The grade's approved references stay its reference set under the new version: each must
+  // still be preparable (e.g. cover the range), or tests would fail for a reason that is not the sample's.
+  for (const r of await db('reference_spectrum').where({ material_id: m.material_id, status: 'approved' })) {
+    try {
+      prepare(await spectrumOfFile(db, r.file_id), params);
+    } catch (e) {
+      if (!(e instanceof SpectrumError)) throw e;
+      throw conflict(`Approved reference ${r.code} cannot be used under this method version: ${e.message} Retire it or change the method first.`, { referenceId: r.id });
+    }
+  }
   await checkSignatureCredentials(db, { user, credentials: signature, meaning: 'approved', entityType: 'identity_method', entityId: methodId, ip });
   const actor = { id: user.id, name: user.fullName };
   await db.transaction(async (trx) => {
