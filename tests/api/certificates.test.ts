@@ -318,6 +318,19 @@ describe('atomic issuing', () => {
     expect((await db()('lot').where({ id: lot.lotId }).first()).certificate_id).toBe(ok.id);
   });
 
+  it('concurrent issuing: two lots get distinct numbers; the same lot twice gets one certificate', async () => {
+    const [a, b] = [await createPassedLot(db(), { containers: 1 }), await createPassedLot(db(), { containers: 1 })];
+    const [ca, cb] = await Promise.all([a, b].map((l) => issueCertificate(db(), { lotId: l.lotId, testId: l.testId, actor: SYSTEM })));
+    expect(ca.created && cb.created).toBe(true);
+    expect(ca.number).not.toBe(cb.number);
+
+    const c = await createPassedLot(db(), { containers: 1 });
+    const both = await Promise.all([1, 2].map(() => issueCertificate(db(), { lotId: c.lotId, testId: c.testId, actor: SYSTEM })));
+    expect(both.filter((x) => x.created)).toHaveLength(1);
+    expect(both[0].id).toBe(both[1].id);
+    expect(await db()('certificate').where({ lot_id: c.lotId })).toHaveLength(1);
+  });
+
   it('refuses a lot that has not passed, storing nothing', async () => {
     const lot = await createPassedLot(db(), { containers: 1 });
     await db()('lot').where({ id: lot.lotId }).update({ identity_status: 'awaiting-verification' });

@@ -106,8 +106,9 @@ export async function pdfBytes(db: Db, id: number): Promise<Buffer | undefined> 
 
 /** Highest sequence used in a year, from numbers IC-YYYY-NNNNN. */
 export async function lastSequence(db: Db, year: number): Promise<number> {
-  const r = await db('certificate').where('number', 'like', `IC-${year}-%`).max({ n: 'number' }).first();
-  const m = /^IC-\d{4}-(\d+)$/.exec(String(r?.n ?? ''));
+  // Longest first, then highest: stays right past 99999 (IC-2026-100000 sorts below IC-2026-99999 as text).
+  const r = await db('certificate').where('number', 'like', `IC-${year}-%`).select('number').orderByRaw('CHAR_LENGTH(number) DESC, number DESC').first();
+  const m = /^IC-\d{4}-(\d+)$/.exec(String(r?.number ?? ''));
   return m ? Number(m[1]) : 0;
 }
 
