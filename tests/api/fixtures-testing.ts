@@ -197,3 +197,15 @@ export async function writeCounts() {
   const count = async (t: string) => Number((await k(t).count({ n: '*' }).first())!.n);
   return { storedFile: await count('stored_file'), measurement: await count('measurement'), audit: await count('audit_event') };
 }
+
+/**
+ * Sends every due message of the shared outbox to the fake SMTP server (processOutbox sends at
+ * most 20 per call; other test files leave theirs queued too). Call in afterAll so that later
+ * files find an empty queue, and before reading capturedMail().
+ */
+export async function flushMail(): Promise<void> {
+  const { initMail, processOutbox } = await import('../../server/lib/mail');
+  const { loadConfig } = await import('../../server/lib/config');
+  await initMail(loadConfig({ smtp: null }));
+  for (let i = 0; i < 200; i++) if ((await processOutbox(db(), 50)) === 0) break;
+}

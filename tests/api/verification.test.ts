@@ -10,9 +10,9 @@
  *   concurrent signing of one record lets exactly one through (the other gets 409);
  * - EU GMP Annex 8 para 2: the lot passes only when every container passes.
  */
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentFor, db, sig } from './helpers';
-import { approvedMaterial, FIBRES, instrumentWithCheck, receiveLot, startTest, upload, type ApprovedMaterial } from './fixtures-testing';
+import { approvedMaterial, FIBRES, flushMail, instrumentWithCheck, receiveLot, startTest, upload, type ApprovedMaterial } from './fixtures-testing';
 
 type Signed = Awaited<ReturnType<typeof agentFor>>;
 
@@ -38,6 +38,8 @@ async function performedLot(by: Signed, files: string[]) {
   if (res.status !== 200) throw new Error(`perform failed ${res.status} ${JSON.stringify(res.body)}`);
   return { lot, testId };
 }
+
+afterAll(flushMail);
 
 describe('segregation of duties', () => {
   it('an account holding operator and verifier cannot verify or return its own test, and does not see it in its queue', async () => {

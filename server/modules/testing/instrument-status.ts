@@ -3,10 +3,13 @@
  * active, and its LATEST instrument check passed and has not expired. A later failing check
  * overrides an earlier passing one. The instrument's technique and sampling must also fit the
  * identity method (an ATR method needs a mid-IR ATR instrument).
- * Read-only over the instrument tables owned by the instruments module.
+ * The decision is the instruments module's getValidInstrumentCheck; this file adds the
+ * operator's sentence for why an instrument may not be used.
  */
+import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
+import { getValidInstrumentCheck } from '../instruments';
 
 export interface InstrumentCheckInfo {
   id: number;
@@ -59,6 +62,7 @@ export async function instrumentStatus(db: Db, instrumentId: number, at = new Da
     active: !!i.active,
   };
   const check = latest ? toCheckInfo(latest) : null;
+  const valid = await getValidInstrumentCheck(instrumentId, at, db as Knex);
   let reason: string | null = null;
   if (!instrument.active) reason = `Instrument ${instrument.name} is out of service. Choose another instrument.`;
   else if (!check) reason = `Instrument ${instrument.name} has no instrument check on record. Run the polystyrene wavenumber check first.`;
@@ -66,6 +70,8 @@ export async function instrumentStatus(db: Db, instrumentId: number, at = new Da
     reason = `The last instrument check of ${instrument.name} failed. The instrument may not be used until a new check passes.`;
   else if (!check.validUntil || new Date(check.validUntil).getTime() <= at.getTime())
     reason = `The instrument check of ${instrument.name} is due (it expired ${check.validUntil ?? 'at once'}). Run the polystyrene wavenumber check before testing.`;
+  if (!reason && !valid) reason = `Instrument ${instrument.name} has no valid instrument check. Run the polystyrene wavenumber check before testing.`;
+  if (valid && reason) reason = null;
   return { instrument, check, usable: reason === null, reason };
 }
 

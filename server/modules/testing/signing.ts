@@ -15,7 +15,8 @@ import { checkSignatureCredentials, recordSignature, type SignatureInput } from 
 import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
-import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
+import { enqueueMail } from '../../lib/mail';
+import { mailRole } from '../lots/notify';
 import { closeAfterRetest, openInvestigation } from '../investigations/service';
 import type { FailingContainer } from '../investigations/repo';
 import { pageLink } from '../lots/links';
@@ -94,7 +95,7 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
     });
     const latest = latestByContainer(ctx.measurements, testId);
     const fails = [...latest.values()].filter((m) => m.verdict === 'fail').length;
-    await enqueueMailToRole(
+    await mailRole(
       trx,
       'verifier',
       `Identity test awaits verification: lot ${ctx.lot.lotNumber} (attempt ${ctx.test.attempt})`,
