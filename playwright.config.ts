@@ -2,14 +2,17 @@ import { defineConfig, devices } from '@playwright/test';
 
 // Browser tests in Debian's Chromium (no Playwright browser download). The web server builds the
 // client and runs Drumline against its own fresh database `drumline_e2e` (scripts/e2e-server.sh).
+// Two runs side by side on one machine need their own E2E_PORT, DRUMLINE_E2E_DB (drumline_*) and
+// E2E_OUTPUT_DIR, e.g. E2E_PORT=4174 DRUMLINE_E2E_DB=drumline_e2e_b E2E_OUTPUT_DIR=test-results/b.
 const port = Number(process.env.E2E_PORT ?? 4173);
 
 export default defineConfig({
   testDir: './e2e',
+  outputDir: process.env.E2E_OUTPUT_DIR ?? 'test-results',
   workers: 1,
   fullyParallel: false,
   retries: 0,
-  timeout: 60_000,
+  timeout: 120_000,
   expect: { timeout: 10_000 },
   reporter: process.env.CI ? [['list']] : [['list'], ['html', { open: 'never' }]],
   use: { baseURL: `http://127.0.0.1:${port}`, trace: 'retain-on-failure', screenshot: 'only-on-failure' },

@@ -103,3 +103,19 @@ test('an operator who opens the admin page is told in words that the page is not
   await expect(page.getByRole('heading', { name: 'This page is not open to your roles' })).toBeVisible();
   await expect(page.getByRole('table')).toHaveCount(0);
 });
+
+test('when the server no longer knows the session, the next action leads to the sign-in page with the reason, and back', async ({ page, context }) => {
+  await signIn(page, 'adam', DEMO_PASSWORD);
+  await expect(page.getByRole('heading', { name: 'Work queue of Adam Lindqvist' })).toBeVisible();
+  // The session cookie disappears as it does when the server ends an idle session.
+  await context.clearCookies();
+  await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
+  await expect(page).toHaveURL(/\/sign-in$/);
+  await expect(page.getByRole('status')).toHaveText(/^Your session ended after 30 minutes without activity\./);
+  // Signing in again returns to the page that was asked for.
+  await page.getByLabel('User name').fill('adam');
+  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await expect(page).toHaveURL(/\/admin\/users$/);
+  await expect(page.getByRole('table', { name: 'User accounts' })).toBeVisible();
+});

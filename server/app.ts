@@ -70,7 +70,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   });
   app.use(errorHandler);
 
-  const dist = path.join(repoRoot, 'dist');
+  // DRUMLINE_CLIENT_DIR: another build folder (the browser tests build their own, beside a running dev build).
+  const dist = process.env.DRUMLINE_CLIENT_DIR ? path.resolve(repoRoot, process.env.DRUMLINE_CLIENT_DIR) : path.join(repoRoot, 'dist');
   if (opts.serveClient && fs.existsSync(path.join(dist, 'index.html'))) {
     app.use(express.static(dist, { index: false, maxAge: '1h' }));
     app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(dist, 'index.html')));

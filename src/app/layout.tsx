@@ -115,7 +115,7 @@ function Header({ me, forced }: { me: Me; forced: boolean }) {
           <span className="text-sm text-muted" data-testid="site-name">
             {me.site.name}
           </span>
-          {me.site.devMode && <span className="rounded border border-amber/50 bg-amber-soft px-1.5 py-0.5 text-xs text-amber">Development mode</span>}
+          {me.site.devMode && <span className="rounded border border-amber/50 bg-amber-soft px-1.5 py-0.5 text-xs text-amber-ink">Development mode</span>}
         </div>
         <div className="flex items-center gap-4">
           <div className="text-right leading-tight">

@@ -10,8 +10,32 @@ export function PageLoading() {
   );
 }
 
+const RELOAD_FLAG = 'drumline.chunk-reload';
+
+/**
+ * After a new version is installed, an open tab asks for page files that no longer exist: reload
+ * once to get the new version (the flag stops a reload loop; a second failure shows the error page).
+ */
+function reloadOnceOnFailure<T>(load: () => Promise<T>): () => Promise<T> {
+  return () =>
+    load().then(
+      (m) => {
+        sessionStorage.removeItem(RELOAD_FLAG);
+        return m;
+      },
+      (e: unknown) => {
+        if (!sessionStorage.getItem(RELOAD_FLAG)) {
+          sessionStorage.setItem(RELOAD_FLAG, '1');
+          window.location.reload();
+          return new Promise<T>(() => {});
+        }
+        throw e;
+      },
+    );
+}
+
 export function lazyPage(load: () => Promise<{ default: ComponentType }>) {
-  const Page = lazy(load);
+  const Page = lazy(reloadOnceOnFailure(load));
   return (
     <Suspense fallback={<PageLoading />}>
       <Page />

@@ -15,7 +15,7 @@ const WORDS: Record<VerdictKind, string> = { pass: 'Pass', fail: 'Fail', invalid
 const STYLE: Record<VerdictKind, string> = {
   pass: 'text-pass bg-pass-soft border-pass/40',
   fail: 'text-fail bg-fail-soft border-fail/40',
-  invalid: 'text-amber bg-amber-soft border-amber/50',
+  invalid: 'text-amber-ink bg-amber-soft border-amber/50',
   pending: 'text-muted bg-white border-line',
 };
 const SIZE = {
