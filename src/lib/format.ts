@@ -27,11 +27,11 @@ function toDate(v: DateInput): Date | null {
 }
 
 const fmtCache = new Map<string, Intl.DateTimeFormat>();
-function fmt(key: string, tz: string, o: Intl.DateTimeFormatOptions): Intl.DateTimeFormat {
-  const k = `${key}|${tz}`;
+function fmt(key: string, tz: string, o: Intl.DateTimeFormatOptions, locale = 'en-GB'): Intl.DateTimeFormat {
+  const k = `${key}|${tz}|${locale}`;
   let f = fmtCache.get(k);
   if (!f) {
-    f = new Intl.DateTimeFormat('en-GB', { ...o, timeZone: tz });
+    f = new Intl.DateTimeFormat(locale, { ...o, timeZone: tz });
     fmtCache.set(k, f);
   }
   return f;
@@ -50,6 +50,14 @@ function parts(d: Date, tz: string, withSeconds: boolean): Record<string, string
   });
   const out: Record<string, string> = {};
   for (const p of f.formatToParts(d)) out[p.type] = p.value;
+  // Each locale knows the abbreviations of its own region (en-GB: CET, CEST, BST; en-US: EST,
+  // PDT); where en-GB has only an offset ("GMT-5"), ask en-US, else keep the offset.
+  if (/^GMT[+-]/.test(out.timeZoneName ?? '')) {
+    const us = fmt('zone-us', tz, { timeZoneName: 'short' }, 'en-US')
+      .formatToParts(d)
+      .find((p) => p.type === 'timeZoneName')?.value;
+    if (us && !/^GMT[+-]/.test(us)) out.timeZoneName = us;
+  }
   return out;
 }
 
