@@ -43,4 +43,5 @@ export const appRoutes: AppRoute[] = [
   { path: '/certificates', element: lazyPage(() => import('../routes/certificates')), nav: { label: 'Identity certificates', group: 'desk', order: 40 } },
   { path: '/certificates/verify', element: lazyPage(() => import('../routes/certificate-verify')), nav: { label: 'Verify a certificate', group: 'desk', order: 41 } },
   { path: '/certificates/:id', element: lazyPage(() => import('../routes/certificate')) },
+  { path: '/audit', element: lazyPage(() => import('../routes/audit')), roles: ['auditor', 'qa_manager', 'admin'], nav: { label: 'Audit trail', group: 'desk', order: 60 } },
 ];

@@ -8,6 +8,7 @@ import { useUsers } from '../features/users/api';
 import { CreateUserForm } from '../features/users/components/CreateUserForm';
 import { UserPanel } from '../features/users/components/UserPanel';
 import { UsersTable } from '../features/users/components/UsersTable';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 
 export default function AdminUsersPage() {
   const { user: me } = useSession();
@@ -66,7 +67,12 @@ export default function AdminUsersPage() {
           {/* beside the table on wide screens, above it otherwise */}
           <div className="order-first 2xl:order-last">
             {selected ? (
-              <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
+              <>
+                <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
+                <div className="mt-2">
+                  <RecordHistory key={selected.id} entityType="user" entityId={selected.id} label={`the account ${selected.username}`} buttonLabel="Account history" showTrailLink />
+                </div>
+              </>
             ) : (
               <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">Choose an account in the table to see its details and change it.</p>
             )}

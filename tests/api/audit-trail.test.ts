@@ -205,7 +205,8 @@ describe('event detail', () => {
     expect(res.body.before).toEqual({ status: 'draft', n: 1, tags: ['a'] });
     expect(res.body.after).toEqual({ status: 'approved', n: 1, tags: ['a', 'b'], note: 'new' });
     const byPath = Object.fromEntries(res.body.changes.map((c: { path: string; kind: string }) => [c.path, c.kind]));
-    expect(byPath).toEqual({ status: 'changed', n: 'unchanged', 'tags[0]': 'unchanged', 'tags[1]': 'added', note: 'added' });
+    expect(byPath).toEqual({ status: 'changed', n: 'unchanged', tags: 'changed', note: 'added' }); // arrays of plain values compare whole
+    expect(res.body.changes.find((c: { path: string }) => c.path === 'tags')).toMatchObject({ before: ['a'], after: ['a', 'b'] });
     expect(res.body.hash).toMatch(/^[0-9a-f]{64}$/);
     expect(res.body.prevHash).toMatch(/^[0-9a-f]{64}$/);
     expect((await qa.get('/api/audit/events/999999999')).status).toBe(404);

@@ -205,8 +205,13 @@ function isPlainObject(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
 }
 
+/** Arrays of plain values (e.g. roles) read best whole: ["operator"] -> ["operator","verifier"]. */
+function isPlainArray(v: unknown): boolean {
+  return Array.isArray(v) && v.every((x) => x === null || typeof x !== 'object');
+}
+
 function flatten(v: unknown, prefix: string, out: Map<string, unknown>, depth: number): void {
-  if (depth > 6 || (!isPlainObject(v) && !Array.isArray(v))) {
+  if (depth > 6 || (!isPlainObject(v) && !Array.isArray(v)) || (prefix && isPlainArray(v))) {
     out.set(prefix || '(value)', v);
     return;
   }

@@ -1,0 +1,83 @@
+/** Audit trail hooks: the browser's pages, one event, filter choices, the chain check, record history, export links. */
+import { keepPreviousData, useQuery } from '@tanstack/react-query';
+import { apiFetch, downloadUrl } from '../../../lib/api';
+import type {
+  AuditEventDetail,
+  AuditEventSummary,
+  AuditFacets,
+  AuditFilter,
+  AuditPage,
+  RecordHistory,
+} from '../../../../server/modules/audit/schemas';
+
+export type { AuditEventDetail, AuditEventSummary, AuditFacets, AuditPage, RecordHistory, FieldChange, SignatureOnRecord } from '../../../../server/modules/audit/schemas';
+export { COUNT_CAP, PDF_ROW_CAP, HISTORY_CAP, TEXT_WINDOW } from '../../../../server/modules/audit/schemas';
+
+/** The filter as the API takes it (instants in UTC, sort). */
+export type AuditQuery = Partial<AuditFilter>;
+
+export type ChainReport =
+  | { ok: true; events: number; lastHash: string; lastId: number }
+  | { ok: false; events: number; brokenAt: number; problem: string; expected?: string; found?: string };
+
+const KEY = ['audit'] as const;
+
+function clean(q: AuditQuery): Record<string, string | number> {
+  const out: Record<string, string | number> = {};
+  for (const [k, v] of Object.entries(q)) if (v !== undefined && v !== null && v !== '') out[k] = v as string | number;
+  return out;
+}
+
+/**
+ * A text search reads the trail one window per request; for a full page this follows the cursor
+ * a few times (each request stays fast) and says how far it got when it stops.
+ */
+const TEXT_SEARCH_REQUESTS = 5;
+
+async function fetchPage(q: AuditQuery, cursor: string | null, limit: number, signal?: AbortSignal): Promise<AuditPage> {
+  let page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit, ...(cursor ? { cursor } : {}) }, signal });
+  if (!q.q) return page;
+  const events: AuditEventSummary[] = [...page.events];
+  for (let i = 1; i < TEXT_SEARCH_REQUESTS && events.length < limit && page.nextCursor && !page.search?.complete; i++) {
+    page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit: limit - events.length, cursor: page.nextCursor }, signal });
+    events.push(...page.events);
+  }
+  return { ...page, events, limit };
+}
+
+export function useAuditEvents(q: AuditQuery, cursor: string | null, limit = 50) {
+  return useQuery({
+    queryKey: [...KEY, 'events', clean(q), cursor, limit],
+    queryFn: ({ signal }) => fetchPage(q, cursor, limit, signal),
+    placeholderData: keepPreviousData,
+  });
+}
+
+export function useAuditEvent(id: number | null) {
+  return useQuery({
+    queryKey: [...KEY, 'event', id],
+    queryFn: () => apiFetch<AuditEventDetail>(`/api/audit/events/${id}`),
+    enabled: id !== null,
+  });
+}
+
+export function useAuditFacets() {
+  return useQuery({ queryKey: [...KEY, 'facets'], queryFn: () => apiFetch<AuditFacets>('/api/audit/facets'), staleTime: 60_000 });
+}
+
+/** The chain check runs only when asked (it reads every event). */
+export function useChainCheck() {
+  return useQuery({ queryKey: [...KEY, 'verify'], queryFn: () => apiFetch<ChainReport>('/api/audit/verify'), enabled: false, gcTime: Infinity, retry: false });
+}
+
+export function useRecordHistory(entityType: string, entityId: string | number, enabled: boolean) {
+  return useQuery({
+    queryKey: [...KEY, 'history', entityType, String(entityId)],
+    queryFn: () => apiFetch<RecordHistory>(`/api/history/${encodeURIComponent(entityType)}/${encodeURIComponent(String(entityId))}`),
+    enabled,
+  });
+}
+
+export function exportUrl(kind: 'csv' | 'pdf', q: AuditQuery): string {
+  return downloadUrl(`/api/audit/export.${kind}`, clean(q));
+}

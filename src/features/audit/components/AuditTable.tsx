@@ -1,0 +1,90 @@
+/**
+ * One page of events, newest or oldest first (the server sorts; click "Time" to turn the order).
+ * Rows open the event's detail (click, Enter or Space; arrow keys move between rows).
+ */
+import type { KeyboardEvent } from 'react';
+import { DateTime } from '../../../components/DateTime';
+import type { AuditEventSummary } from '../api';
+import { recordTypeLabel } from './labels';
+
+export interface AuditTableProps {
+  events: AuditEventSummary[];
+  sort: 'asc' | 'desc';
+  onSort: (s: 'asc' | 'desc') => void;
+  onOpen: (id: number) => void;
+  selectedId: number | null;
+  timeZone: string;
+}
+
+export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone }: AuditTableProps) {
+  const onKey = (e: KeyboardEvent<HTMLTableRowElement>, id: number) => {
+    if (e.key === 'Enter' || e.key === ' ') {
+      e.preventDefault();
+      onOpen(id);
+    } else if (e.key === 'ArrowDown' || e.key === 'ArrowUp') {
+      e.preventDefault();
+      ((e.key === 'ArrowDown' ? e.currentTarget.nextElementSibling : e.currentTarget.previousElementSibling) as HTMLElement | null)?.focus();
+    }
+  };
+  return (
+    <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <table className="w-full border-collapse text-sm" aria-label="Audit events">
+        <thead className="bg-paper">
+          <tr className="border-b border-line text-left">
+            <th scope="col" className="px-3 py-2 text-right font-semibold">
+              Event
+            </th>
+            <th scope="col" aria-sort={sort === 'asc' ? 'ascending' : 'descending'} className="px-3 py-2 font-semibold whitespace-nowrap">
+              <button type="button" onClick={() => onSort(sort === 'asc' ? 'desc' : 'asc')} className="inline-flex items-center font-semibold hover:text-petrol" title="Turn the order">
+                Time ({timeZone})
+                <span aria-hidden className="ml-1 text-xs text-petrol">
+                  {sort === 'asc' ? '▲' : '▼'}
+                </span>
+                <span className="sr-only">{sort === 'asc' ? ', oldest first' : ', newest first'}</span>
+              </button>
+            </th>
+            <th scope="col" className="px-3 py-2 font-semibold">
+              User
+            </th>
+            <th scope="col" className="px-3 py-2 font-semibold">
+              Action
+            </th>
+            <th scope="col" className="px-3 py-2 font-semibold">
+              Record
+            </th>
+            <th scope="col" className="px-3 py-2 font-semibold">
+              Reason
+            </th>
+          </tr>
+        </thead>
+        <tbody>
+          {events.map((e) => (
+            <tr
+              key={e.id}
+              tabIndex={0}
+              onClick={() => onOpen(e.id)}
+              onKeyDown={(k) => onKey(k, e.id)}
+              aria-selected={selectedId === e.id}
+              className={`cursor-pointer border-b border-line last:border-b-0 hover:bg-petrol-soft/60 focus:bg-petrol-soft focus:outline-none ${selectedId === e.id ? 'bg-petrol-soft' : ''}`}
+              data-testid="audit-row"
+            >
+              <td className="px-3 py-1.5 text-right align-top tabular-nums">{e.id}</td>
+              <td className="px-3 py-1.5 align-top">
+                <DateTime value={e.occurredAt} seconds />
+              </td>
+              <td className="px-3 py-1.5 align-top whitespace-nowrap">{e.actorName}</td>
+              <td className="px-3 py-1.5 align-top font-mono text-[13px] whitespace-nowrap">{e.action}</td>
+              <td className="px-3 py-1.5 align-top whitespace-nowrap">
+                {recordTypeLabel(e.entityType)}
+                {e.entityId && <span className="tabular-nums"> {e.entityId}</span>}
+              </td>
+              <td className="max-w-[28rem] truncate px-3 py-1.5 align-top" title={e.reason ?? undefined}>
+                {e.reason ?? <span className="text-muted">—</span>}
+              </td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}
