@@ -130,7 +130,7 @@ describe('export of 100,000 events', () => {
     expect(res.body.nextCursor).toEqual(expect.any(String));
   });
 
-  it('a text search over more than 100,000 events reads one window per request and continues where it stopped', async () => {
+  it('a text search over 100,000 events reads one window (50,000 events) per request and continues where it stopped', async () => {
     const ask = (cursor?: string) =>
       request(testApp())
         .get('/api/audit/events')
@@ -138,9 +138,9 @@ describe('export of 100,000 events', () => {
         .query({ q: 'batch "99990",', sort: 'asc', ...(cursor ? { cursor } : {}) });
     const first = await ask();
     expect(first.status).toBe(200);
-    // the oldest 100,000 events of the trail end before event 99,990 of this batch
+    // the oldest 50,000 events of the trail end before event 99,990 of this batch
     expect(first.body.events).toEqual([]);
-    expect(first.body.search).toMatchObject({ complete: false, window: 100_000 });
+    expect(first.body.search).toMatchObject({ complete: false, window: 50_000 });
     expect(first.body.total).toBeNull();
     expect(first.body.nextCursor).toEqual(expect.any(String));
     let res = first;

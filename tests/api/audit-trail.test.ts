@@ -142,7 +142,7 @@ describe('filters and sorting', () => {
       expect(firstTotal, q).toBeNull();
     }
     const one = await auditor.get('/api/audit/events').query({ entityType: T, q: 'misprint', limit: 200 });
-    expect(one.body.search).toMatchObject({ window: 100_000 });
+    expect(one.body.search).toMatchObject({ window: 50_000 });
   });
 
   it('date range: from inclusive, to exclusive, in UTC instants (any zone offset accepted)', async () => {

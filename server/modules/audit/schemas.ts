@@ -110,4 +110,4 @@ export const COUNT_CAP = 10_000;
 export const PDF_ROW_CAP = 2_000;
 export const HISTORY_CAP = 1_000;
 /** Events one text-search request reads (server/modules/audit/repo.ts). */
-export const TEXT_WINDOW = 100_000;
+export const TEXT_WINDOW = 50_000;

@@ -29,16 +29,17 @@ function clean(q: AuditQuery): Record<string, string | number> {
 }
 
 /**
- * A text search reads the trail one window per request; for a full page this follows the cursor
- * a few times (each request stays fast) and says how far it got when it stops.
+ * A text search reads the trail one window per request (each request stays fast); for a full
+ * page this follows the cursor for up to TEXT_SEARCH_BUDGET_MS and then says how far it got.
  */
-const TEXT_SEARCH_REQUESTS = 5;
+const TEXT_SEARCH_BUDGET_MS = 3000;
 
 async function fetchPage(q: AuditQuery, cursor: string | null, limit: number, signal?: AbortSignal): Promise<AuditPage> {
+  const started = Date.now();
   let page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit, ...(cursor ? { cursor } : {}) }, signal });
   if (!q.q) return page;
   const events: AuditEventSummary[] = [...page.events];
-  for (let i = 1; i < TEXT_SEARCH_REQUESTS && events.length < limit && page.nextCursor && !page.search?.complete; i++) {
+  while (events.length < limit && page.nextCursor && !page.search?.complete && Date.now() - started < TEXT_SEARCH_BUDGET_MS) {
     page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit: limit - events.length, cursor: page.nextCursor }, signal });
     events.push(...page.events);
   }
