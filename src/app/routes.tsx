@@ -44,4 +44,10 @@ export const appRoutes: AppRoute[] = [
   { path: '/certificates/verify', element: lazyPage(() => import('../routes/certificate-verify')), nav: { label: 'Verify a certificate', group: 'desk', order: 41 } },
   { path: '/certificates/:id', element: lazyPage(() => import('../routes/certificate')) },
   { path: '/audit', element: lazyPage(() => import('../routes/audit')), roles: ['auditor', 'qa_manager', 'admin'], nav: { label: 'Audit trail', group: 'desk', order: 60 } },
+  { path: '/lots', element: lazyPage(() => import('../routes/lots')), roles: ['operator', 'verifier', 'qa_manager', 'auditor'], nav: { label: 'Lots and testing', group: 'bench', order: 1 }, bench: true },
+  { path: '/lots/:id', element: lazyPage(() => import('../routes/lot')), roles: ['operator', 'verifier', 'qa_manager', 'auditor'], bench: true },
+  { path: '/verification', element: lazyPage(() => import('../routes/verification')), roles: ['verifier'], nav: { label: 'Tests to verify', group: 'bench', order: 2 }, bench: true },
+  { path: '/tests/:id/review', element: lazyPage(() => import('../routes/test-review')), roles: ['operator', 'verifier', 'qa_manager', 'auditor'], bench: true },
+  { path: '/investigations', element: lazyPage(() => import('../routes/investigations')), roles: ['operator', 'verifier', 'qa_manager', 'auditor'], nav: { label: 'Investigations', group: 'desk', order: 30 } },
+  { path: '/investigations/:id', element: lazyPage(() => import('../routes/investigation')), roles: ['operator', 'verifier', 'qa_manager', 'auditor'] },
 ];

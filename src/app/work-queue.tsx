@@ -8,6 +8,7 @@
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
+import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
 
 export interface WorkQueueWidget {
   /** unique key, e.g. 'testing.to-verify' */
@@ -25,6 +26,9 @@ export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
   { id: 'instruments.check-due', title: 'Instruments with a check due', roles: ['operator'], order: 5, Component: InstrumentsCheckDueWidget },
   { id: 'library.awaiting-approval', title: 'Reference spectra awaiting approval', roles: ['qa_manager'], order: 30, Component: ReferencesAwaitingApprovalWidget },
+  { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
+  { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
+  { id: 'investigations.open', title: 'Open investigations', roles: ['qa_manager'], order: 20, Component: OpenInvestigationsWidget },
 ];
 
 export function widgetsFor(roles: readonly Role[]): WorkQueueWidget[] {

@@ -4,7 +4,7 @@
  * investigation). Pure data and zod: the client imports this file too.
  */
 import { z } from 'zod';
-import { signatureInput } from '../../lib/esign';
+import { signatureFields as signatureInput } from '../lots/schemas';
 
 export const PHASE1_ITEMS = ['instrument', 'sampleHandling', 'method', 'data'] as const;
 export type Phase1Item = (typeof PHASE1_ITEMS)[number];

@@ -55,3 +55,12 @@ export const lotListQuerySchema = z.object({
   identityStatus: z.enum(IDENTITY_STATUSES).optional(),
   search: z.string().trim().max(80).optional(),
 });
+
+/**
+ * The signature part of a request body, as server/lib/esign.ts `signatureInput` (kept here too so
+ * that schema files stay free of server-only imports and the client can import them).
+ */
+export const signatureFields = z.object({
+  password: z.string().min(1, 'Enter your password to sign.').max(200),
+  username: z.string().max(64).optional(),
+});

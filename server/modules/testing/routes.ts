@@ -5,12 +5,19 @@ import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
+import type { SignatureInput } from '../../lib/esign';
+import type { signatureFields } from '../lots/schemas';
 import { listInstrumentStatuses } from './instrument-status';
 import { matchFilesSchema, measurementFieldsSchema, performSchema, returnSchema, startTestSchema, switchInstrumentSchema, verifySchema } from './schemas';
 import * as service from './service';
 import * as signing from './signing';
 import * as views from './views';
 import { workQueueFor } from './work-queue';
+
+// Compile-time: the client-safe signature schema accepts exactly what the e-signature service takes.
+type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
+const _signatureShape: Same<import('zod').infer<typeof signatureFields>, SignatureInput> = true;
+void _signatureShape;
 
 const OPERATOR = { roles: ['operator'] as const };
 const VERIFIER = { roles: ['verifier'] as const };

@@ -1,6 +1,6 @@
 /** Input schemas of identity testing and verification (zod). The client imports this file too. */
 import { z } from 'zod';
-import { signatureInput } from '../../lib/esign';
+import { signatureFields as signatureInput } from '../lots/schemas';
 
 export const startTestSchema = z.object({
   instrumentId: z.number().int().positive('Choose an instrument.'),

@@ -1,0 +1,192 @@
+/**
+ * The verifier's review: every container's raw spectrum, the overlay of sample, best reference
+ * and difference, scores, bands and explanation; the instrument checks, method and reference
+ * versions used; then "Sign as verified" or "Return to operator" with a reason.
+ */
+import { useState } from 'react';
+import { Button } from '../../../components/Button';
+import { DateTime } from '../../../components/DateTime';
+import { ErrorNote } from '../../../components/ErrorNote';
+import { Field, Textarea } from '../../../components/Field';
+import { SignatureDialog } from '../../../components/SignatureDialog';
+import { Verdict } from '../../../components/Verdict';
+import { formatScore } from '../../../lib/format';
+import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
+import { BandTable, CriteriaTable, HintNote, MeasurementFacts, MeasurementOverlay, RawSpectrum, verdictLabel } from './MeasurementResult';
+
+function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen: boolean }) {
+  const [open, setOpen] = useState(defaultOpen);
+  const r = m.result;
+  return (
+    <details open={open} onToggle={(e) => setOpen((e.target as HTMLDetailsElement).open)} className="rounded-md border border-line bg-white" data-testid={`review-${m.label}`}>
+      <summary className="flex min-h-11 cursor-pointer flex-wrap items-center gap-3 px-3 py-2">
+        <span className="font-medium tabular-nums">{m.label}</span>
+        <Verdict verdict={m.verdict} label={verdictLabel(m.verdict)} />
+        <span className="text-sm text-muted">match score {formatScore(m.matchScore)}</span>
+      </summary>
+      {open && r && (
+        <div className="flex flex-col gap-4 border-t border-line p-3">
+          {r.explanation.length > 0 && (
+            <ul className="list-disc pl-5 text-sm">
+              {r.explanation.map((e, i) => (
+                <li key={i}>{e}</li>
+              ))}
+            </ul>
+          )}
+          <HintNote result={r} />
+          <div className="grid gap-4 xl:grid-cols-2">
+            <div>
+              <h4 className="mb-1 text-sm font-medium">Raw spectrum as uploaded</h4>
+              <RawSpectrum measurementId={m.id} label={m.label} />
+            </div>
+            <div>
+              <h4 className="mb-1 text-sm font-medium">Sample, best reference and difference</h4>
+              <MeasurementOverlay measurementId={m.id} label={m.label} bandsOf={r} />
+            </div>
+          </div>
+          <CriteriaTable result={r} />
+          <BandTable result={r} />
+          <MeasurementFacts m={m} />
+        </div>
+      )}
+    </details>
+  );
+}
+
+export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; fullName: string; signedOnce: boolean; isVerifier: boolean } }) {
+  const t = data.test;
+  const verify = useVerify(t.id);
+  const ret = useReturnTest(t.id);
+  const [dialog, setDialog] = useState<null | 'verify' | 'return'>(null);
+  const [comment, setComment] = useState('');
+  const [reason, setReason] = useState('');
+  const [reasonError, setReasonError] = useState<string | null>(null);
+  const own = t.performedBy?.id === me.id || t.measurerIds.includes(me.id);
+  const failing = data.measurements.filter((m) => m.verdict === 'fail');
+  const canDecide = me.isVerifier && t.status === 'awaiting-verification' && !own;
+  const [outcome, setOutcome] = useState<string | null>(null);
+
+  return (
+    <div className="flex flex-col gap-5">
+      <section aria-label="Versions and instrument" className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3">
+        <div>
+          <h3 className="mb-1 font-medium">Identity method</h3>
+          {data.methods.map((m) => (
+            <p key={m.id}>
+              Version {m.version} ({m.technique}), approved <DateTime value={m.approvedAt} />
+            </p>
+          ))}
+        </div>
+        <div>
+          <h3 className="mb-1 font-medium">Approved references used</h3>
+          {data.references.map((r) => (
+            <p key={r.id}>
+              {r.code} ({r.material.name}), approved <DateTime value={r.approvedAt} />
+            </p>
+          ))}
+        </div>
+        <div>
+          <h3 className="mb-1 font-medium">Instrument checks used</h3>
+          {data.instrumentChecks.map((c) => (
+            <p key={c.id}>
+              Check #{c.id}: {c.verdict === 'pass' ? 'passed' : 'failed'} <DateTime value={c.performedAt} />, valid until <DateTime value={c.validUntil} />
+            </p>
+          ))}
+        </div>
+      </section>
+
+      <section aria-label="Containers" className="flex flex-col gap-2">
+        {data.measurements.map((m) => (
+          <ContainerReview key={m.id} m={m} defaultOpen={data.measurements.length <= 6} />
+        ))}
+      </section>
+
+      {outcome && (
+        <p role="status" className="rounded-md border border-petrol/40 bg-petrol-soft px-3 py-2">
+          {outcome}
+        </p>
+      )}
+      {t.status === 'awaiting-verification' && own && (
+        <p className="rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm">You performed or measured this test, so a second person must verify it.</p>
+      )}
+      {canDecide && (
+        <section aria-label="Decision" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
+          {failing.length > 0 && (
+            <p className="text-sm">
+              {failing.length} container(s) failed. If the data are complete and correctly recorded, sign verified: the lot stays in quarantine and an investigation opens for QA. A failing result cannot be sent back for re-measurement.
+            </p>
+          )}
+          <div className="flex flex-wrap gap-2">
+            <Button size="bench" variant="primary" onClick={() => setDialog('verify')}>
+              Sign as verified
+            </Button>
+            {failing.length === 0 && (
+              <Button size="bench" variant="danger" onClick={() => setDialog('return')}>
+                Return to operator
+              </Button>
+            )}
+          </div>
+        </section>
+      )}
+      <SignatureDialog
+        open={dialog === 'verify'}
+        title="Sign the identity test as verified"
+        meaningText={`reviewed the raw spectra, results, instrument check and versions of attempt ${t.attempt} of lot ${t.lot.lotNumber} and confirm they are complete and correct`}
+        record={`Lot ${t.lot.lotNumber} (${t.lot.material.name}), performed by ${t.performedBy?.name ?? '—'}`}
+        printedName={me.fullName}
+        needsUsername={!me.signedOnce}
+        confirmLabel="Sign as verified"
+        busy={verify.isPending}
+        error={verify.error}
+        onCancel={() => {
+          setDialog(null);
+          verify.reset();
+        }}
+        onSign={(credentials) =>
+          verify.mutate(
+            { signature: credentials, comment: comment.trim() || undefined },
+            {
+              onSuccess: (r) => {
+                setDialog(null);
+                setOutcome(
+                  r.outcome === 'passed'
+                    ? `Verified. Lot ${t.lot.lotNumber} passed identity${r.certificate === 'issued' ? '; the identity certificate was issued.' : '; the certificate is pending.'}`
+                    : `Verified. Lot ${t.lot.lotNumber} failed identity and stays in quarantine; investigation ${r.investigation?.number} was opened for QA.`,
+                );
+              },
+            },
+          )
+        }
+      >
+        <Field id="verify-comment" label="Comment (optional)">
+          <Textarea id="verify-comment" value={comment} onChange={(e) => setComment(e.target.value)} />
+        </Field>
+      </SignatureDialog>
+      <SignatureDialog
+        open={dialog === 'return'}
+        title="Return the test to the operator"
+        meaningText={`return attempt ${t.attempt} of lot ${t.lot.lotNumber} to the operator for the reason given`}
+        record={`Lot ${t.lot.lotNumber}, performed by ${t.performedBy?.name ?? '—'}`}
+        printedName={me.fullName}
+        needsUsername={!me.signedOnce}
+        confirmLabel="Return to operator"
+        busy={ret.isPending}
+        error={ret.error}
+        onCancel={() => {
+          setDialog(null);
+          ret.reset();
+        }}
+        onSign={(credentials) => {
+          if (reason.trim().length < 10) return setReasonError('Say why the test goes back (at least 10 characters).');
+          setReasonError(null);
+          ret.mutate({ signature: credentials, reason: reason.trim() }, { onSuccess: () => { setDialog(null); setOutcome('Returned to the operator; the attempt stays on record.'); } });
+        }}
+      >
+        <Field id="return-reason" label="Reason (required)" error={reasonError ?? undefined}>
+          <Textarea id="return-reason" value={reason} onChange={(e) => setReason(e.target.value)} />
+        </Field>
+      </SignatureDialog>
+      {(verify.isError || ret.isError) && !dialog && <ErrorNote error={verify.error ?? ret.error} />}
+    </div>
+  );
+}

@@ -1,0 +1,84 @@
+/**
+ * One container at a time: scan its label (the scanner types the label and presses Enter) or
+ * pick it from the list, then drop or choose its spectrum file. The result shows at once.
+ */
+import { useEffect, useRef, useState, type FormEvent } from 'react';
+import { Button } from '../../../components/Button';
+import { Field, Input } from '../../../components/Field';
+import { FileDrop } from '../../../components/FileDrop';
+import { Verdict } from '../../../components/Verdict';
+import { formatScore } from '../../../lib/format';
+import { uploadMeasurement, type TestDetail, type UploadResult } from '../api';
+import { verdictLabel } from './MeasurementResult';
+
+export function ScanUpload({ test, selectedId, onSelect, onUploaded }: { test: TestDetail; selectedId: number | null; onSelect: (id: number | null) => void; onUploaded: (r: UploadResult) => void }) {
+  const [code, setCode] = useState('');
+  const [problem, setProblem] = useState<string | null>(null);
+  const scan = useRef<HTMLInputElement>(null);
+  const selected = test.containers.find((c) => c.id === selectedId) ?? null;
+
+  useEffect(() => {
+    if (!selected) scan.current?.focus();
+  }, [selected]);
+
+  const submit = (e: FormEvent) => {
+    e.preventDefault();
+    const label = code.trim().toUpperCase();
+    if (!label) return;
+    const c = test.containers.find((x) => x.label.toUpperCase() === label);
+    if (!c) setProblem(`No container of lot ${test.lot.lotNumber} has the label ${label}. Check the label and scan again.`);
+    else if (!c.inScope) setProblem(`Container ${c.label} is not part of this retest: QA authorised only the containers named in the investigation.`);
+    else if (c.latest?.verdict === 'fail') setProblem(`Container ${c.label} failed in this attempt. A retest needs QA authorisation through an investigation.`);
+    else {
+      setProblem(null);
+      onSelect(c.id);
+    }
+    setCode('');
+  };
+
+  return (
+    <div className="flex flex-col gap-3">
+      <form onSubmit={submit} className="flex flex-wrap items-end gap-3" aria-label="Scan a container label">
+        <Field id="scan" label="Scan or type the container label, then Enter" className="min-w-64 flex-1">
+          <Input id="scan" ref={scan} bench autoComplete="off" spellCheck={false} placeholder={`${test.lot.lotNumber}-001`} value={code} onChange={(e) => setCode(e.target.value)} />
+        </Field>
+        <Button type="submit" size="bench">
+          Select container
+        </Button>
+      </form>
+      {problem && (
+        <p role="alert" className="text-sm text-fail">
+          {problem}
+        </p>
+      )}
+      {selected && (
+        <section aria-label={`Upload for ${selected.label}`} className="rounded-md border border-petrol/40 bg-petrol-soft/40 p-3">
+          <div className="mb-2 flex flex-wrap items-center justify-between gap-2">
+            <p className="text-lg font-medium" data-testid="selected-container">
+              Container {selected.label}
+            </p>
+            <Button size="bench" variant="quiet" onClick={() => onSelect(null)}>
+              Choose another container
+            </Button>
+          </div>
+          <FileDrop
+            key={selected.id}
+            bench
+            multiple={false}
+            label={`Spectrum file of ${selected.label}`}
+            accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
+            hint="JCAMP-DX or CSV export of the instrument."
+            upload={(file, onProgress) => uploadMeasurement(test.id, { containerId: selected.id }, file, onProgress)}
+            onUploaded={(_f, r) => onUploaded(r)}
+            renderResult={(r) => (
+              <div className="flex items-center gap-3">
+                <Verdict verdict={r.verdict} label={verdictLabel(r.verdict)} />
+                <span className="text-sm text-muted">match score {formatScore(r.matchScore)}</span>
+              </div>
+            )}
+          />
+        </section>
+      )}
+    </div>
+  );
+}

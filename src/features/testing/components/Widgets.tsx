@@ -1,0 +1,33 @@
+/** Work-queue widgets of testing: lots to test (operator) and tests to verify (verifier, never their own). */
+import { Link } from 'react-router-dom';
+import { ErrorNote } from '../../../components/ErrorNote';
+import { useWorkQueue } from '../api';
+
+function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
+  const q = useWorkQueue();
+  if (q.isPending) return <p className="text-sm text-muted">Loading…</p>;
+  if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
+  const s = q.data.sections.find((x) => x.key === sectionKey);
+  if (!s || s.count === 0) return <p className="text-sm text-muted">{empty}</p>;
+  return (
+    <ul className="divide-y divide-line rounded-md border border-line bg-white" data-testid={`wq-${sectionKey}`}>
+      {s.items.map((i) => (
+        <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 px-3 py-1 text-sm">
+          <Link to={i.href} className="inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2">
+            {i.title}
+          </Link>
+          <span className="text-muted">{i.detail}</span>
+        </li>
+      ))}
+      {s.count > s.items.length && <li className="px-3 py-2 text-sm text-muted">… and {s.count - s.items.length} more.</li>}
+    </ul>
+  );
+}
+
+export function LotsToTestList() {
+  return <Section sectionKey="lots-to-test" empty="No lot awaits testing." />;
+}
+
+export function TestsToVerifyList() {
+  return <Section sectionKey="tests-to-verify" empty="No tests await your verification." />;
+}

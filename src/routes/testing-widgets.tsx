@@ -1,0 +1,15 @@
+/** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
+import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
+import { LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+
+export function LotsToTestWidget() {
+  return <LotsToTestList />;
+}
+
+export function TestsToVerifyWidget() {
+  return <TestsToVerifyList />;
+}
+
+export function OpenInvestigationsWidget() {
+  return <OpenInvestigationsList />;
+}
