@@ -46,6 +46,13 @@ function useSessionGuard(me: Me | null | undefined) {
     [navigate, qc],
   );
 
+  // Moving to another page is activity: when the server has not been asked for a minute (the page
+  // may show cached data), ask it now, so an ended session is noticed on the first click.
+  useEffect(() => {
+    if (me && Date.now() - lastApiActivity() > 60_000) void qc.invalidateQueries({ queryKey: ME_KEY });
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [location.pathname]);
+
   // Without requests the server's idle clock runs out silently; ask it once the time has passed
   // so the screen does not keep showing data of an ended session.
   useEffect(() => {
