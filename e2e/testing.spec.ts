@@ -1,0 +1,187 @@
+/**
+ * Issue 5 in the browser (Debian Chromium): receipt, every-container testing, two-person
+ * verification, and a failing container with its investigation.
+ *
+ * The e2e server (scripts/e2e-server.sh) seeds an approved library with scripts/e2e-seed-library.ts:
+ * nylon 6,6 and polyester (PET) fibres with real reference spectra from ../shared/reference-data
+ * and the instrument "ATR bench E2E-1" with a passing polystyrene check. The uploaded samples are
+ * other real scans of the same fibres, so every verdict below is the engine's own.
+ * Demo accounts (db/seeds/accounts.ts): olga operator, victor verifier, quinn QA, adam admin.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import { expect, test, type Browser, type Page } from '@playwright/test';
+import { repoRoot } from '../db/config';
+import { DEMO_PASSWORD } from '../db/seeds/accounts';
+
+const DATA = path.resolve(repoRoot, '../shared/reference-data/atr-ftir-fibres');
+const NYLON = 'Nylon 6,6 staple fibre';
+const PET = 'Polyester (PET) staple fibre';
+const INSTRUMENT = 'ATR bench E2E-1';
+
+function spectrum(file: string, asName: string) {
+  return { name: asName, mimeType: 'text/csv', buffer: fs.readFileSync(path.join(DATA, file)) };
+}
+
+async function signedIn(browser: Browser, username: string): Promise<Page> {
+  const context = await browser.newContext();
+  const page = await context.newPage();
+  await page.goto('/sign-in');
+  await page.getByLabel('User name').fill(username);
+  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
+  return page;
+}
+
+/** Fills the signature dialog; the first signature of a session asks the user name too. */
+async function sign(page: Page, username: string, confirm: string) {
+  const dialog = page.getByRole('dialog');
+  await expect(dialog).toBeVisible();
+  const user = dialog.getByLabel('User name');
+  if (await user.count()) await user.fill(username);
+  await dialog.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await dialog.getByRole('button', { name: confirm }).click();
+  await expect(dialog).toBeHidden({ timeout: 20_000 });
+}
+
+async function registerLot(page: Page, material: string, containers: number): Promise<{ lotNumber: string; url: string }> {
+  await page.goto('/lots');
+  await page.getByRole('button', { name: 'Register a received lot' }).click();
+  const materialSelect = page.getByLabel('Material grade');
+  const option = materialSelect.locator('option', { hasText: material });
+  await materialSelect.selectOption({ value: await option.getAttribute('value') ?? '' });
+  await page.getByLabel('Supplier', { exact: true }).fill('Harrowgate Fibre Supply');
+  await page.getByLabel("Supplier's lot number").fill(`HF-${Date.now().toString(36).toUpperCase()}`);
+  await page.getByLabel('Number of containers').fill(String(containers));
+  await page.getByRole('button', { name: 'Register lot and create labels' }).click();
+  const lotNumber = (await page.getByTestId('lot-number').textContent({ timeout: 20_000 }))!.trim();
+  expect(lotNumber).toMatch(/^L-\d{4}-\d{5}$/);
+  return { lotNumber, url: page.url() };
+}
+
+async function startTesting(page: Page) {
+  const select = page.getByLabel('Instrument');
+  const option = select.locator('option', { hasText: INSTRUMENT });
+  await select.selectOption({ value: (await option.getAttribute('value')) ?? '' });
+  await page.getByRole('button', { name: 'Start testing' }).click();
+  await expect(page.getByLabel('Scan or type the container label, then Enter')).toBeVisible();
+}
+
+test('operator registers a 3-container lot, uploads one at a time and several at once, signs; a verifier signs; the lot passes', async ({ browser }) => {
+  test.setTimeout(180_000);
+  const olga = await signedIn(browser, 'olga');
+  const { lotNumber, url } = await registerLot(olga, NYLON, 3);
+  await expect(olga.getByTestId('identity-status')).toContainText('Awaiting testing');
+  // the label sheet is a PDF
+  const labels = await olga.request.get(url.replace(/\/lots\/(\d+).*/, '/api/lots/$1/labels.pdf'));
+  expect(labels.headers()['content-type']).toBe('application/pdf');
+
+  await startTesting(olga);
+
+  // One at a time: the scanner types the label and Enter, then the file of that container.
+  const scan = olga.getByLabel('Scan or type the container label, then Enter');
+  await scan.fill(`${lotNumber}-001`);
+  await scan.press('Enter');
+  await expect(olga.getByTestId('selected-container')).toHaveText(`Container ${lotNumber}-001`);
+  await olga.locator('section[aria-label^="Upload for"] input[type=file]').setInputFiles(spectrum('nylon66_s091_r2.csv', `${lotNumber}-001.csv`));
+  await expect(olga.locator('section[aria-label^="Upload for"] [data-status=done]')).toContainText('Pass', { timeout: 30_000 });
+  await expect(olga.getByTestId(`container-${lotNumber}-001`)).toContainText('Pass');
+
+  // Several files: matched by the label in the name, confirmed, then uploaded with progress.
+  await olga.getByRole('tab', { name: 'Several files' }).click();
+  await olga.getByTestId('multi-file-input').setInputFiles([
+    spectrum('nylon66_s090.csv', `${lotNumber}-002.csv`),
+    spectrum('nylon66_s093.csv', `scan ${lotNumber}-003 repeat.csv`),
+  ]);
+  const table = olga.getByRole('table', { name: 'Files and containers' });
+  await expect(table.getByRole('row')).toHaveCount(3);
+  await expect(table).toContainText(`${lotNumber}-002`);
+  await expect(table).toContainText(`${lotNumber}-003`);
+  await expect(table.getByText('waiting for confirmation')).toHaveCount(2);
+  await olga.getByRole('button', { name: 'Upload 2 matched files' }).click();
+  await expect(table.locator('tr[data-state=done]')).toHaveCount(2, { timeout: 30_000 });
+  await expect(table.locator('tr[data-state=done]').first()).toContainText('Pass');
+  await expect(olga.getByText('3 of 3 containers have a valid result')).toBeVisible();
+
+  await olga.getByRole('button', { name: 'Sign as performed' }).click();
+  await sign(olga, 'olga', 'Sign as performed');
+  await expect(olga.getByTestId('identity-status')).toContainText('Awaiting verification');
+
+  // Victor: the test waits in his work queue; he reviews and signs verified.
+  const victor = await signedIn(browser, 'victor');
+  const entry = victor.getByRole('link', { name: new RegExp(`${lotNumber}`) });
+  await expect(entry).toBeVisible();
+  await entry.click();
+  await expect(victor.getByRole('heading', { name: `Review of attempt 1, lot ${lotNumber}` })).toBeVisible();
+  for (const n of ['001', '002', '003']) await expect(victor.getByTestId(`review-${lotNumber}-${n}`)).toContainText('Pass');
+  await expect(victor.getByText(/Instrument checks used/)).toBeVisible();
+  await expect(victor.getByTestId('spectrum-difference').first()).toBeVisible();
+  await victor.getByRole('button', { name: 'Sign as verified' }).click();
+  await sign(victor, 'victor', 'Sign as verified');
+  await expect(victor.getByRole('status').filter({ hasText: 'passed identity' })).toBeVisible();
+
+  await olga.goto(url);
+  await expect(olga.getByTestId('identity-status')).toContainText('Identity passed');
+  for (const n of ['001', '002', '003']) await expect(olga.getByTestId(`lot-container-${lotNumber}-${n}`)).toContainText('Pass');
+  // the certificate step ran after the verification committed: issued (or, if it could not be made, pending)
+  await expect(olga.getByRole('main').getByText(/^Identity certificate IC-\d{4}-\d+ issued|certificate is pending/)).toBeVisible();
+});
+
+test('a failing container opens an investigation with the library hint, and QA receives the e-mail', async ({ browser }) => {
+  test.setTimeout(180_000);
+  const olga = await signedIn(browser, 'olga');
+  const { lotNumber, url } = await registerLot(olga, NYLON, 2);
+  await startTesting(olga);
+  // container 002 holds polyester: a real mix-up
+  await olga.getByRole('tab', { name: 'Several files' }).click();
+  await olga.getByTestId('multi-file-input').setInputFiles([spectrum('nylon66_s090.csv', `${lotNumber}-001.csv`), spectrum('polyester-PET_s135_r2.csv', `${lotNumber}-002.csv`)]);
+  await olga.getByRole('button', { name: 'Upload 2 matched files' }).click();
+  const table = olga.getByRole('table', { name: 'Files and containers' });
+  await expect(table.locator('tr[data-state=done]')).toHaveCount(2, { timeout: 30_000 });
+  await expect(table.locator('tr', { hasText: `${lotNumber}-002` })).toContainText('Fail');
+  // the operator sees the mix-up hint at once and cannot re-measure the failed container
+  await olga.getByRole('button', { name: `Select ${lotNumber}-002` }).click();
+  await expect(olga.getByTestId('library-hint')).toContainText(`Closest approved materials: ${PET}`);
+  const scan = olga.getByLabel('Scan or type the container label, then Enter');
+  await scan.fill(`${lotNumber}-002`);
+  await scan.press('Enter');
+  await expect(olga.getByRole('alert').filter({ hasText: 'needs QA authorisation' })).toBeVisible();
+  await olga.getByRole('button', { name: 'Sign as performed' }).click();
+  await sign(olga, 'olga', 'Sign as performed');
+
+  const victor = await signedIn(browser, 'victor');
+  await victor.getByRole('link', { name: new RegExp(`${lotNumber}`) }).click();
+  await expect(victor.getByTestId(`review-${lotNumber}-002`)).toContainText('Fail');
+  await expect(victor.getByRole('button', { name: 'Return to operator' })).toHaveCount(0);
+  await victor.getByRole('button', { name: 'Sign as verified' }).click();
+  await sign(victor, 'victor', 'Sign as verified');
+  const outcome = victor.getByRole('status').filter({ hasText: 'failed identity' });
+  await expect(outcome).toBeVisible();
+  const invNumber = /investigation (INV-\d{4}-\d{4})/.exec((await outcome.textContent()) ?? '')?.[1];
+  expect(invNumber).toBeTruthy();
+
+  await olga.goto(url);
+  await expect(olga.getByTestId('identity-status')).toContainText('Identity failed');
+  await expect(olga.getByText('Quarantine', { exact: true })).toBeVisible();
+
+  // QA: the investigation is in the work queue, with the failing container and the library hint.
+  const quinn = await signedIn(browser, 'quinn');
+  await quinn.getByRole('link', { name: invNumber! }).click();
+  await expect(quinn.getByTestId(`failing-${lotNumber}-002`)).toBeVisible();
+  await expect(quinn.getByTestId('library-hint')).toContainText(`Closest approved materials: ${PET}`);
+  await expect(quinn.getByRole('heading', { name: 'Phase I laboratory check', exact: true })).toBeVisible();
+
+  // The fake SMTP server captured the mail to QA (read on the admin's development mail page).
+  const adam = await signedIn(browser, 'adam');
+  await expect
+    .poll(
+      async () => {
+        const res = await adam.request.get('/api/dev/mail');
+        const mails = (await res.json()) as { to: string[]; subject: string; text: string }[];
+        return mails.find((m) => m.subject.includes(`${invNumber} opened`) && m.to.includes('quinn.okafor@lindenhall.example')) ?? null;
+      },
+      { timeout: 20_000, intervals: [500, 1000] },
+    )
+    .toMatchObject({ text: expect.stringContaining(PET) });
+});

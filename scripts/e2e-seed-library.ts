@@ -1,0 +1,38 @@
+/**
+ * Browser tests only: a small approved library in the e2e database so that lots can be received
+ * and tested at once: two approved materials with real reference spectra (nylon 6,6 and
+ * polyester PET fibres from ../shared/reference-data) and one mid-IR ATR instrument with a
+ * passing instrument check. Written straight into the tables (db/seeds/testing-library.ts);
+ * the approvals are attributed to the demo QA manager. Idempotent.
+ *   DRUMLINE_E2E_DB=drumline_e2e tsx scripts/e2e-seed-library.ts
+ */
+import { FIBRES, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
+import { closeDb, initDb } from '../server/lib/db';
+
+const database = process.env.DRUMLINE_E2E_DB ?? 'drumline_e2e';
+
+const E2E_LIBRARY = {
+  nylon: { code: 'E2E-NY66', name: 'Nylon 6,6 staple fibre' },
+  pet: { code: 'E2E-PET', name: 'Polyester (PET) staple fibre' },
+  instrument: 'ATR bench E2E-1',
+};
+
+async function main(): Promise<void> {
+  const db = initDb(database);
+  const quinn = await db('app_user').where({ username: 'quinn' }).first();
+  if (!quinn) throw new Error('the demo QA account "quinn" is missing; seed the accounts first');
+  const qa = { id: quinn.id as number, fullName: quinn.full_name as string };
+  if (!(await db('material').where({ code: E2E_LIBRARY.nylon.code }).first()))
+    await seedApprovedMaterial(db, qa, { ...E2E_LIBRARY.nylon, grade: 'technical', referenceFiles: [FIBRES.nylon66Reference] });
+  if (!(await db('material').where({ code: E2E_LIBRARY.pet.code }).first()))
+    await seedApprovedMaterial(db, qa, { ...E2E_LIBRARY.pet, grade: 'technical', referenceFiles: [FIBRES.petReference] });
+  if (!(await db('instrument').where({ name: E2E_LIBRARY.instrument }).first())) await seedInstrument(db, qa, { name: E2E_LIBRARY.instrument, state: 'valid', location: 'Warehouse goods-in' });
+}
+
+main()
+  .then(() => console.log(`[e2e-seed-library] approved library in ${database}`))
+  .catch((e) => {
+    console.error('[e2e-seed-library] failed:', e instanceof Error ? e.message : e);
+    process.exitCode = 1;
+  })
+  .finally(() => closeDb());
