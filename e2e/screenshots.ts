@@ -19,6 +19,7 @@ import { createApp } from '../server/app';
 import { closeDb, getDb } from '../server/lib/db';
 
 const database = process.env.DRUMLINE_SCREENSHOT_DB ?? 'drumline_screenshots';
+process.env.SITE_NAME ??= 'Lindenhall Pharma, Werk Süd (demo)';
 const outDir = path.join(repoRoot, 'docs', 'screenshots');
 
 interface Shot {

@@ -5,5 +5,6 @@
 # grades other than the demo's.
 source "$(dirname "${BASH_SOURCE[0]}")/lib.sh"
 ensure_node_modules
+export SITE_NAME="${SITE_NAME:-Lindenhall Pharma, Werk Süd (demo)}"
 bash db/mariadb.sh start
 npx tsx scripts/demo-reset.ts "$@"

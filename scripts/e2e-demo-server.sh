@@ -7,8 +7,11 @@ set -euo pipefail
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
 cd "$ROOT"
 export DRUMLINE_DB_NAME="${DRUMLINE_E2E_DEMO_DB:-${DRUMLINE_E2E_DB:-drumline_e2e}_demo}"
+export SITE_NAME="${SITE_NAME:-Lindenhall Pharma, Werk Süd (demo)}"
 bash db/mariadb.sh start
 npx tsx scripts/demo-reset.ts --force
+# Serves the client the first web server built (scripts/e2e-server.sh) for this run.
+export DRUMLINE_CLIENT_DIR="dist-e2e/${E2E_PORT:-4173}"
 export PORT="${E2E_DEMO_PORT:-$(( ${E2E_PORT:-4173} + 100 ))}"
 export SIGNIN_RATE_LIMIT=1000
 exec npx tsx server/index.ts

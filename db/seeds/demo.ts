@@ -18,6 +18,7 @@
  * Idempotent: when any demo grade code exists already, nothing is done.
  * Spectra: fixtures/spectra (synthetic, see fixtures/README.md).
  */
+import { randomBytes } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Knex } from 'knex';
@@ -259,6 +260,14 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
   return lotIds;
 }
 
+/** A new hire whose account the administrator created; the temporary password is random and not published. */
+export const NEW_HIRE = { username: 'tomas', fullName: 'Tomas Berg', email: 'tomas.berg@lindenhall.example', roles: ['operator'] } as const;
+
+async function seedNewHire(adam: DemoSession, log: Log): Promise<void> {
+  await adam.post('/api/users', { ...NEW_HIRE, roles: [...NEW_HIRE.roles], temporaryPassword: `tmp-${randomBytes(12).toString('base64url')}` });
+  log(`account of a new hire (${NEW_HIRE.fullName}) awaiting first sign-in`);
+}
+
 export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Log } = {}): Promise<{ seeded: boolean; ids?: DemoIds }> {
   const t0 = Date.now();
   const log = opts.log ?? ((l: string) => console.log(`[seed] ${l} (${((Date.now() - t0) / 1000).toFixed(0)} s)`));
@@ -285,6 +294,7 @@ export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Lo
     await seedInstruments(p, ids, log);
     await seedLibrary(p, ids, log);
     const lots = await seedLots(p, ids, log);
+    await seedNewHire(await signIn('adam'), log);
     return { seeded: true, ids: { ...ids, lots } };
   } finally {
     for (const s of sessions) await s.signOut().catch(() => undefined);

@@ -10,7 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
 import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
-import { DEMO_MATERIAL_CODES, seedDemoSite } from '../../db/seeds/demo';
+import { DEMO_MATERIAL_CODES, NEW_HIRE, seedDemoSite } from '../../db/seeds/demo';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
 import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
@@ -218,6 +218,14 @@ describe('demo seed', () => {
     const signedEvents = Number((await db('audit_event').where({ action: 'signature.signed' }).count({ n: '*' }).first())?.n);
     expect(sigs).toBeGreaterThan(40);
     expect(signedEvents).toBe(sigs);
+  });
+
+  it('leaves the administrator an account to attend to: a new hire created by adam, not yet signed in', async () => {
+    const u = await db('app_user').where({ username: NEW_HIRE.username }).first();
+    expect(u.must_change_password).toBe(1);
+    const adam = await db('app_user').where({ username: 'adam' }).first();
+    const created = await db('audit_event').where({ action: 'user.created', entity_id: String(u.id) }).first();
+    expect(created.actor_id).toBe(adam.id);
   });
 
   it('has every demo account, with the roles README lists', async () => {
