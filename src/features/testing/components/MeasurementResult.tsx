@@ -121,7 +121,7 @@ export function MeasurementOverlay({ measurementId, label, bandsOf }: { measurem
       excludedRegions={d.excludedRegions}
       bands={bands}
       height={240}
-      differenceHeight={90}
+      differenceHeight={140}
       label={`Overlay of ${label} with reference ${d.overlay.referenceCode} and their difference`}
     />
   );

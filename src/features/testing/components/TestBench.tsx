@@ -99,7 +99,7 @@ export function TestBench({ testId, lotId, me }: { testId: number; lotId: number
         <MultiFileUpload test={t} onUploaded={after} />
       )}
 
-      <div className="grid gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.2fr)]">
+      <div className="grid items-start gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.2fr)]">
         <ContainerRows test={t} selectedId={selected} onSelect={(id) => { setSelected(id); setMode('scan'); }} />
         <div>{latestSelected ? <MeasurementResult measurementId={latestSelected.id} compact /> : <p className="text-sm text-muted">Select a container to see its latest result.</p>}</div>
       </div>
