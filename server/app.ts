@@ -74,7 +74,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   const dist = process.env.DRUMLINE_CLIENT_DIR ? path.resolve(repoRoot, process.env.DRUMLINE_CLIENT_DIR) : path.join(repoRoot, 'dist');
   if (opts.serveClient && fs.existsSync(path.join(dist, 'index.html'))) {
     app.use(express.static(dist, { index: false, maxAge: '1h' }));
-    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile(path.join(dist, 'index.html')));
+    app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile('index.html', { root: dist }));
   }
   app.use(errorHandler);
   // Run by server/index.ts after listen (tests call initMail/processOutbox themselves).
