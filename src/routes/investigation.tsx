@@ -68,6 +68,9 @@ export default function InvestigationPage() {
                 <span className="text-muted">match score {formatScore(f.score)}</span>
                 {inv.retestContainerIds.includes(f.containerId) && <span className="text-amber-ink">retest authorised</span>}
               </div>
+              <p className="mb-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2" data-testid="library-hint">
+                {f.hintText}
+              </p>
               {f.explanation.length > 0 && (
                 <ul className="list-disc pl-5">
                   {f.explanation.map((e, i) => (
@@ -75,9 +78,6 @@ export default function InvestigationPage() {
                   ))}
                 </ul>
               )}
-              <p className="mt-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2" data-testid="library-hint">
-                {f.hintText}
-              </p>
             </li>
           ))}
         </ul>

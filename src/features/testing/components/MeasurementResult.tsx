@@ -73,10 +73,10 @@ export function BandTable({ result }: { result: StoredResult }) {
           <tbody>
             {result.bands.map((b) => (
               <tr key={b.referenceBand} className="border-b border-line/60">
-                <td className="py-1 pr-3 text-right tabular-nums">{formatWavenumber(b.referenceBand)}</td>
-                <td className="py-1 pr-3 text-right tabular-nums">{b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}</td>
-                <td className="py-1 pr-3 text-right tabular-nums">{formatShift(b.shift)}</td>
-                <td className="py-1 pr-3 text-right tabular-nums">±{b.tolerance.toFixed(1)} cm⁻¹</td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatWavenumber(b.referenceBand)}</td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}</td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatShift(b.shift)}</td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">±{b.tolerance.toFixed(1)} cm⁻¹</td>
                 <td className="py-1 pr-3">
                   <Verdict verdict={b.withinTolerance ? 'pass' : 'fail'} label={b.withinTolerance ? 'Yes' : 'No'} size="sm" />
                 </td>
