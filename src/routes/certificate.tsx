@@ -7,6 +7,7 @@ import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatScore } from '../lib/format';
 import { certificatePdfUrl, useCertificate } from '../features/certificates/api';
@@ -16,6 +17,7 @@ import { SupersedeDialog } from '../features/certificates/components/SupersedeDi
 const MEANINGS: Record<string, string> = { performed: 'Performed', verified: 'Verified', approved: 'Approved', issued: 'Issued' };
 
 export default function CertificatePage() {
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const id = Number(useParams().id);
   const q = useCertificate(id);
   const me = useSession();
@@ -39,6 +41,7 @@ export default function CertificatePage() {
         }
         actions={
           <>
+            <RecordHistory entityType="certificate" entityId={c.id} label={`certificate ${c.number}`} showTrailLink={canSeeTrail} />
             <a href={certificatePdfUrl(c.id)} download={`${c.number}.pdf`} className="inline-flex min-h-9 items-center rounded-md border border-petrol bg-petrol px-3 text-sm font-medium text-white hover:bg-petrol-dark">
               Download PDF
             </a>

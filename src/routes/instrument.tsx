@@ -7,6 +7,7 @@ import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatWavenumber } from '../lib/format';
 import { useInstrument, type InstrumentCheck } from '../features/instruments/api';
@@ -18,6 +19,7 @@ import { specKindText } from '../features/instruments/components/spec-kind';
 import { SAMPLING_LABELS } from '../../server/modules/instruments/schemas';
 
 export default function InstrumentPage() {
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
@@ -43,6 +45,7 @@ export default function InstrumentPage() {
         subtitle={`${i.technique === 'nir' ? 'NIR' : 'Mid-IR'}, ${SAMPLING_LABELS[i.sampling as keyof typeof SAMPLING_LABELS] ?? i.sampling} · serial ${i.serialNumber}${i.location ? ` · ${i.location}` : ''} · a check is valid for ${i.checkValidityHours} h`}
         actions={
           <>
+            <RecordHistory entityType="instrument" entityId={i.id} label={`instrument ${i.name}`} showTrailLink={canSeeTrail} />
             {isQa && <Button onClick={() => setSpecing(true)}>New check specification</Button>}
             {canCheck && (
               <Button variant="primary" size="bench" onClick={() => setChecking(true)} disabled={!i.active || !current}>

@@ -6,6 +6,7 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { useMaterial, useReferences, useSpecificityMatrix } from '../features/library/api';
 import { EditMaterialDialog } from '../features/library/components/EditMaterialDialog';
 import { MethodVersions } from '../features/library/components/MethodVersions';
@@ -24,6 +25,7 @@ function GradeSpecificity({ materialId, technique }: { materialId: number; techn
 }
 
 export default function LibraryMaterialPage() {
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
@@ -49,14 +51,17 @@ export default function LibraryMaterialPage() {
         title={`${m.code} · ${m.name}`}
         subtitle={[m.grade, m.monographRef, m.techniques.map((t) => TECHNIQUE_LABELS[t as keyof typeof TECHNIQUE_LABELS] ?? t).join(', '), m.active ? null : 'inactive'].filter(Boolean).join(' · ')}
         actions={
-          isQa && (
+          <>
+            <RecordHistory entityType="material" entityId={m.id} label={`material ${m.code}`} showTrailLink={canSeeTrail} />
+            {isQa && (
             <>
               <Button onClick={() => setEditing(true)}>Change material</Button>
               <Button variant="primary" onClick={() => setUploading(true)} disabled={!m.active}>
                 Upload reference spectra
               </Button>
             </>
-          )
+            )}
+          </>
         }
       />
       {m.notes && <p className="-mt-2 mb-4 text-sm whitespace-pre-wrap">{m.notes}</p>}

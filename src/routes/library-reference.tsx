@@ -11,6 +11,7 @@ import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { formatBytes } from '../lib/format';
 import { referenceFileUrl, useReference, useSpecificityGate } from '../features/library/api';
 import { ApproveReferenceDialog } from '../features/library/components/ApproveReferenceDialog';
@@ -31,6 +32,7 @@ function GatePreview({ id }: { id: number }) {
 }
 
 export default function LibraryReferencePage() {
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
@@ -79,7 +81,9 @@ export default function LibraryReferencePage() {
         title={`Reference ${r.code}`}
         subtitle={r.status === 'draft' ? 'Draft: bands can still change; another QA manager approves it after the specificity check.' : undefined}
         actions={
-          isQa && (
+          <>
+            <RecordHistory entityType="reference_spectrum" entityId={r.id} label={`reference ${r.code}`} showTrailLink={canSeeTrail} />
+            {isQa && (
             <>
               {r.status === 'draft' && (
                 <Button variant="primary" onClick={() => setApproving(true)} disabled={ownUpload} title={ownUpload ? 'You uploaded this reference; another QA manager must approve it.' : undefined}>
@@ -92,7 +96,8 @@ export default function LibraryReferencePage() {
                 </Button>
               )}
             </>
-          )
+            )}
+          </>
         }
       />
       {isQa && r.status === 'draft' && ownUpload && (
