@@ -1,12 +1,14 @@
 /**
  * Screenshots of the main pages for README's "Try it" walkthrough, taken in Debian's Chromium.
- *   npm run build && npx tsx e2e/screenshots.ts
- * Self-contained: recreates the database `drumline_screenshots` (DRUMLINE_SCREENSHOT_DB), seeds
- * the demo site into it, serves the built client and the API on a free loopback port, signs in
- * as each demo person and writes docs/screenshots/*.png (1280 x 800, kept small).
+ *   npx tsx e2e/screenshots.ts
+ * Self-contained: builds the client into dist-e2e/screenshots, recreates the database
+ * `drumline_screenshots` (DRUMLINE_SCREENSHOT_DB), seeds the demo site into it, serves client and
+ * API on a free loopback port, signs in as each demo person and writes docs/screenshots/*.png
+ * (1280 x 800, kept small). Needs the private MariaDB running (npm run db:start).
  * Not a test: Playwright's test runner only picks up *.spec.ts.
  */
-import { existsSync, mkdirSync } from 'node:fs';
+import { execFileSync } from 'node:child_process';
+import { mkdirSync, rmSync } from 'node:fs';
 import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import path from 'node:path';
@@ -29,14 +31,8 @@ interface Shot {
   path: string | ((page: Page) => Promise<string>);
   /** Text that must be visible before the picture is taken. */
   waitFor: string | RegExp;
-}
-
-async function lotId(page: Page, supplierLot: string): Promise<number> {
-  const lots = (await (await page.request.get('/api/lots')).json()) as { id: number; supplierLot: string }[] | { items: { id: number; supplierLot: string }[] };
-  const list = Array.isArray(lots) ? lots : lots.items;
-  const lot = list.find((l) => l.supplierLot === supplierLot);
-  if (!lot) throw new Error(`no demo lot with supplier lot ${supplierLot}`);
-  return lot.id;
+  /** Clicks or scrolling before the picture. */
+  prepare?: (page: Page) => Promise<void>;
 }
 
 async function idOf(table: string, where: Record<string, unknown>): Promise<number> {
@@ -51,19 +47,34 @@ async function lastTestOf(supplierLot: string): Promise<number> {
   return Number(t.id);
 }
 
+async function lotOf(supplierLot: string): Promise<number> {
+  return idOf('lot', { supplier_lot: supplierLot });
+}
+
 const SHOTS: Shot[] = [
   { file: '01-sign-in.png', user: '', path: '/sign-in', waitFor: 'Sign in' },
   { file: '02-operator-work-queue.png', user: 'olga', path: '/', waitFor: /Work queue of Olga Brandt/ },
-  { file: '03-operator-lot-partly-tested.png', user: 'olga', path: async (p) => `/lots/${await lotId(p, 'QX-MS-3301')}`, waitFor: 'QX-MS-3301' },
+  { file: '03-operator-bench.png', user: 'olga', path: async () => `/lots/${await lotOf('QX-MS-3301')}`, waitFor: 'QX-MS-3301' },
   { file: '04-instruments.png', user: 'olga', path: '/instruments', waitFor: 'FTIR 3 - dispensary' },
   { file: '05-verifier-review.png', user: 'victor', path: async () => `/tests/${await lastTestOf('AP-K30-5512')}/review`, waitFor: /Povidone/ },
-  { file: '06-qa-investigation.png', user: 'quinn', path: async () => `/investigations/${await idOf('investigation', { status: 'open' })}`, waitFor: /Maize starch/ },
-  { file: '07-qa-library.png', user: 'quinn', path: '/library', waitFor: 'Reference library' },
-  { file: '08-qa-material-look-alike.png', user: 'quinn', path: async () => `/library/materials/${await idOf('material', { code: 'CIT-AN' })}`, waitFor: /CIT-AN/ },
-  { file: '09-qa-draft-reference.png', user: 'quinn', path: async () => `/library/references/${await idOf('reference_spectrum', { status: 'draft' })}`, waitFor: /REF-STA-MZ-0004/ },
-  { file: '10-certificate.png', user: 'aurelia', path: async () => `/certificates/${await idOf('certificate', { number: (await getDb()('certificate').orderBy('id').first()).number })}`, waitFor: /IC-/ },
-  { file: '11-auditor-audit-trail.png', user: 'aurelia', path: '/audit', waitFor: /Audit trail/ },
-  { file: '12-admin-accounts.png', user: 'adam', path: '/admin/users', waitFor: 'Irene Castell' },
+  {
+    file: '06-mix-up-result.png',
+    user: 'victor',
+    path: async () => `/tests/${await lastTestOf('QX-MC-7720')}/review`,
+    waitFor: /Microcrystalline cellulose/,
+    prepare: async (page) => {
+      await page.getByText(/Closest approved materials: Maize starch/).first().scrollIntoViewIfNeeded();
+      await page.mouse.wheel(0, 250);
+    },
+  },
+  { file: '07-qa-investigation.png', user: 'quinn', path: async () => `/investigations/${await idOf('investigation', { status: 'open' })}`, waitFor: /Maize starch/ },
+  { file: '08-qa-library.png', user: 'quinn', path: '/library', waitFor: 'CIT-MH' },
+  { file: '09-qa-look-alike-method.png', user: 'quinn', path: async () => `/library/materials/${await idOf('material', { code: 'CIT-AN' })}`, waitFor: /CIT-AN/ },
+  { file: '10-qa-draft-reference.png', user: 'quinn', path: async () => `/library/references/${await idOf('reference_spectrum', { status: 'draft' })}`, waitFor: /REF-STA-MZ-0004/ },
+  { file: '11-auditor-work-queue.png', user: 'aurelia', path: '/', waitFor: /Work queue of Aurelia Santos/ },
+  { file: '12-certificate.png', user: 'aurelia', path: async () => `/certificates/${(await getDb()('certificate').orderBy('id').first()).id}`, waitFor: /IC-/ },
+  { file: '13-auditor-audit-trail.png', user: 'aurelia', path: '/audit', waitFor: /Audit trail/ },
+  { file: '14-admin-accounts.png', user: 'adam', path: '/admin/users', waitFor: 'Tomas Berg' },
 ];
 
 async function signIn(page: Page, username: string) {
@@ -75,7 +86,10 @@ async function signIn(page: Page, username: string) {
 }
 
 async function main(): Promise<void> {
-  if (!existsSync(path.join(repoRoot, 'dist', 'index.html'))) throw new Error('build the client first: npm run build');
+  const clientDir = 'dist-e2e/screenshots';
+  console.log(`[screenshots] building the client into ${clientDir}`);
+  execFileSync('npx', ['vite', 'build', '--logLevel', 'warn', '--outDir', clientDir, '--emptyOutDir'], { cwd: repoRoot, stdio: 'inherit' });
+  process.env.DRUMLINE_CLIENT_DIR = clientDir;
   console.log(`[screenshots] seeding the demo into ${database}`);
   await recreateDatabase(database);
   await migrateDatabase(database);
@@ -85,6 +99,7 @@ async function main(): Promise<void> {
     const s = app.listen(0, '127.0.0.1', () => resolve(s));
   });
   const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+  rmSync(outDir, { recursive: true, force: true });
   mkdirSync(outDir, { recursive: true });
   const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking'] });
   try {
@@ -103,6 +118,8 @@ async function main(): Promise<void> {
       await page.goto(target);
       await page.getByText(shot.waitFor).first().waitFor({ timeout: 20_000 });
       await page.waitForLoadState('networkidle');
+      if (shot.prepare) await shot.prepare(page);
+      await page.waitForTimeout(300);
       await page.screenshot({ path: path.join(outDir, shot.file) });
       console.log(`[screenshots] ${shot.file} (${target})`);
     }
