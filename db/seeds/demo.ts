@@ -272,7 +272,10 @@ export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Lo
   const t0 = Date.now();
   const log = opts.log ?? ((l: string) => console.log(`[seed] ${l} (${((Date.now() - t0) / 1000).toFixed(0)} s)`));
   if (await isDemoSeeded(db)) {
-    log('demo site already present; nothing to do');
+    // The new hire's account is the seed's last step: without it an earlier run stopped half-way.
+    if (!(await db('app_user').where({ username: NEW_HIRE.username }).first())) {
+      log('WARNING: the demo site is incomplete (an earlier seed stopped half-way); run `npm run demo:reset` to start it again');
+    } else log('demo site already present; nothing to do');
     return { seeded: false };
   }
   const api = await DemoApi.start(opts.database);
