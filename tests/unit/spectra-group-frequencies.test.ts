@@ -64,3 +64,16 @@ describe('group-frequency assignment', () => {
     expect(assignBand(pet!.position, 'sharp').map((g) => g.id)).toContain('co-conjugated');
   });
 });
+
+describe('carbohydrate skeleton band', () => {
+  // Cellulose and other beta-linked polysaccharides show the glycosidic C-O-C / C1-H band near
+  // 897 cm-1, alpha-linked ones (starch) near 850 cm-1 (standard IR correlation tables and the
+  // cellulose literature, from memory). It must not be named first as an aromatic ring bend.
+  it.each([897, 850])('a sharp band at %d cm-1 is first assigned to the glycosidic link', (w) => {
+    expect(assignBand(w, 'sharp')[0].id).toBe('glycosidic');
+    expect(describeAssignment(w, 'sharp')).toMatch(/glycosidic/);
+  });
+  it('a band at 760 cm-1 is still an aromatic C-H out-of-plane bend', () => {
+    expect(assignBand(760, 'sharp')[0].id).toBe('ar-oop');
+  });
+});
