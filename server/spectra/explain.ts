@@ -80,17 +80,18 @@ export function explain(input: ExplainInput): string[] {
   if (!best) return ['No reference could be compared.'];
   const lines: string[] = [];
   const failedSet = setCriteria.filter((c) => c.verdict === 'fail');
+  const name = best.referenceLabel ?? best.referenceId;
   if (verdict === 'pass') {
-    lines.push(`Identity confirmed against reference ${best.referenceId}: every criterion passes.`);
+    lines.push(`Identity confirmed against reference ${name}: every criterion passes.`);
     const shifts = best.bands.filter((r) => r.shift !== null).map((r) => Math.abs(r.shift as number));
     if (shifts.length) lines.push(`Largest band shift ${Math.max(...shifts).toFixed(1)} cm-1 over ${best.bands.length} reference bands.`);
   } else if (best.verdict === 'pass' && failedSet.length) {
-    lines.push(`Identity not confirmed: reference ${best.referenceId} matches, but the sample fails a criterion on the whole reference set.`);
+    lines.push(`Identity not confirmed: reference ${name} matches, but the sample fails a criterion on the whole reference set.`);
   } else {
     lines.push(
       referenceCount > 1
-        ? `Identity not confirmed: none of the ${referenceCount} references meets every criterion. Closest reference: ${best.referenceId}.`
-        : `Identity not confirmed against reference ${best.referenceId}.`,
+        ? `Identity not confirmed: none of the ${referenceCount} references meets every criterion. Closest reference: ${name}.`
+        : `Identity not confirmed against reference ${name}.`,
     );
   }
   for (const c of [...best.criteria, ...setCriteria]) if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));

@@ -22,6 +22,8 @@ export interface Criterion {
 
 export interface ReferenceScore {
   referenceId: string;
+  /** How people name the reference (e.g. its code), when the caller gave one. */
+  referenceLabel?: string;
   materialId: string | null;
   verdict: 'pass' | 'fail';
   correlation: number;

@@ -24,6 +24,8 @@ import { ENGINE_VERSION } from './version';
 
 export interface ReferenceInput {
   id: string;
+  /** How people name the reference (e.g. its code); used in explanations, defaults to id. */
+  label?: string;
   /** Material (grade) of the reference; used by library search and specificity. */
   materialId?: string;
   spectrum: Spectrum;
@@ -34,6 +36,8 @@ export interface ReferenceInput {
 /** A reference prepared once for a method (cache it under `key`). */
 export interface PreparedReference {
   id: string;
+  /** How people name the reference; used in explanations. */
+  label?: string;
   materialId: string | null;
   key: string;
   prepared: PreparedSpectrum;
@@ -57,6 +61,7 @@ export function prepareReference(ref: ReferenceInput, method: IdentityMethod): P
   const bands = ref.bands ?? (method.peakProminence === null ? [] : referenceBandsFrom(prepared.peaks, method.peakProminence));
   return {
     id: ref.id,
+    ...(ref.label !== undefined ? { label: ref.label } : {}),
     materialId: ref.materialId ?? null,
     key: prepared.key,
     prepared,
@@ -121,6 +126,7 @@ export function scoreReference(
   }
   return {
     referenceId: ref.id,
+    ...(ref.label !== undefined ? { referenceLabel: ref.label } : {}),
     materialId: ref.materialId,
     verdict: criteria.every((c) => c.verdict === 'pass') ? 'pass' : 'fail',
     correlation: r,

@@ -4,7 +4,7 @@ import { defaultMidIrAtrMethod, type IdentityMethod } from '../../server/spectra
 import { prepareReference, scoreAgainst } from '../../server/spectra/score';
 import type { Spectrum } from '../../server/spectra/types';
 import { ENGINE_VERSION } from '../../server/spectra/version';
-import { ESTER_BANDS, gaussian, seededRandom, type SyntheticBand, syntheticSpectrum } from './spectra-analysis-data';
+import { ESTER_BANDS, gaussian, seededRandom, type SyntheticBand, syntheticSpectrum, loadReference } from './spectra-analysis-data';
 
 const M = defaultMidIrAtrMethod;
 const g = gaussian(seededRandom(99));
@@ -102,5 +102,19 @@ describe('scoreAgainst', () => {
     expect(r.bands[1].assignment).toBe('ester C=O (QA)');
     expect(r.criteria.find((c) => c.key === 'band-concordance')).toMatchObject({ value: 1, limit: 2, verdict: 'fail' });
     expect(r.verdict).toBe('fail');
+  });
+});
+
+describe('reference names in the explanation', () => {
+  // Reviewers know references by their codes, not database ids (common practice).
+  it('uses the label the caller gives, and the id otherwise', () => {
+    const m = defaultMidIrAtrMethod;
+    const a = loadReference('atr-ftir-fibres/cotton_natural-brown_s6.2_r1.csv');
+    const b = loadReference('atr-ftir-fibres/cotton_natural-brown_s6.2_r2.csv');
+    const named = scoreAgainst(a, [{ id: '17', label: 'REF-COT-0002', spectrum: b }], m);
+    expect(named.explanation[0]).toContain('REF-COT-0002');
+    expect(named.explanation[0]).not.toMatch(/reference 17\b/);
+    const plain = scoreAgainst(a, [{ id: '17', spectrum: b }], m);
+    expect(plain.explanation[0]).toMatch(/reference 17\b/);
   });
 });

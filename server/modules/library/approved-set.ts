@@ -106,7 +106,7 @@ export async function getApprovedReferenceSet(materialId: number, db: Knex = get
   for (const r of refRows) {
     const spectrum = await spectrumOfFile(db, r.file_id);
     const bands = toEngineBands(repo.toReference(r).bands);
-    const prepared = prepareReference({ id: String(r.id), materialId: String(materialId), spectrum, bands }, method.params);
+    const prepared = prepareReference({ id: String(r.id), label: r.code, materialId: String(materialId), spectrum, bands }, method.params);
     references.push({ id: r.id, code: r.code, materialId, spectrum, bands, prepared });
   }
   const value = { method, references };
