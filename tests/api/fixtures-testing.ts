@@ -13,14 +13,42 @@
 import { invalidateLibraryCache } from '../../server/modules/library/approved-set';
 import type { IdentityMethod } from '../../server/spectra';
 import { type CheckState, dataFile, FIBRES, REFERENCE_DATA, seedApprovedMaterial, seedInstrument, type SeededMaterial } from '../../db/seeds/testing-library';
-import { db, makeUser, uniqueName } from './helpers';
+import type { Role } from '../../server/lib/roles';
+import { agentFor, db, makeUser, uniqueName } from './helpers';
 
 export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
 
+/**
+ * Accounts made by this file's tests. The test database is shared by all files, and mail to a
+ * role goes to every active account holding it, so retire() deactivates them in afterAll: later
+ * files then see only their own verifiers and QA managers.
+ */
+const made: number[] = [];
+
+export async function agent(roles: Role[]) {
+  const a = await agentFor(roles);
+  made.push(a.user.id);
+  return a;
+}
+
+export async function account(roles: Role[]) {
+  const u = await makeUser(roles);
+  made.push(u.id);
+  return u;
+}
+
+export async function retire(): Promise<void> {
+  if (made.length) await db()('app_user').whereIn('id', made.splice(0)).update({ active: 0 });
+  qaCache = null;
+}
+
 let qaCache: { id: number; fullName: string } | null = null;
 async function fixtureQa() {
-  if (!qaCache) qaCache = await makeUser(['qa_manager']);
+  if (!qaCache) {
+    qaCache = await makeUser(['qa_manager']);
+    made.push(qaCache.id);
+  }
   return qaCache;
 }
 

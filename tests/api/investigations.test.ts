@@ -17,10 +17,10 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sha256Hex } from '../../server/lib/canonical';
 import { capturedMail } from '../../server/lib/fake-smtp';
-import { agentFor, db, sig } from './helpers';
-import { approvedMaterial, FIBRES, flushMail, REFERENCE_DATA, instrumentWithCheck, receiveLot, startTest, upload, uploadRequest, type ApprovedMaterial } from './fixtures-testing';
+import { db, sig } from './helpers';
+import { agent, approvedMaterial, FIBRES, flushMail, retire, REFERENCE_DATA, instrumentWithCheck, receiveLot, startTest, upload, uploadRequest, type ApprovedMaterial } from './fixtures-testing';
 
-type Signed = Awaited<ReturnType<typeof agentFor>>;
+type Signed = Awaited<ReturnType<typeof agent>>;
 
 let nylon: ApprovedMaterial;
 let pet: ApprovedMaterial;
@@ -42,12 +42,15 @@ beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 technical yarn', referenceFiles: [FIBRES.nylon66Reference] });
   pet = await approvedMaterial({ name: 'Polyester PET technical yarn', referenceFiles: [FIBRES.petReference] });
   instrumentId = (await instrumentWithCheck('valid')).instrumentId;
-  olga = await agentFor(['operator']);
-  victor = await agentFor(['verifier']);
-  quinn = await agentFor(['qa_manager']);
+  olga = await agent(['operator']);
+  victor = await agent(['verifier']);
+  quinn = await agent(['qa_manager']);
 });
 
-afterAll(flushMail);
+afterAll(async () => {
+  await flushMail();
+  await retire();
+});
 
 /** Whether a reference was made from one of the real polyester (PET) fibre spectra. */
 async function isPolyesterReference(code: string): Promise<boolean> {
@@ -241,7 +244,7 @@ describe('a failing container', () => {
   });
 
   it('QA who measured the test cannot decide its investigation', async () => {
-    const qaOp = await agentFor(['operator', 'qa_manager']);
+    const qaOp = await agent(['operator', 'qa_manager']);
     const lot = await receiveLot(qaOp.agent, nylon.materialId, 1);
     const testId = await startTest(qaOp.agent, lot.id, instrumentId);
     await upload(qaOp.agent, testId, { containerId: lot.containers[0].id }, FIBRES.petSample);

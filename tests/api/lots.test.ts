@@ -17,12 +17,15 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sha256Hex } from '../../server/lib/canonical';
-import { agentFor, db, makeUser, sig } from './helpers';
+import { db, sig } from './helpers';
 import {
   approvedMaterial,
   dataFile,
   FIBRES,
   flushMail,
+  account,
+  agent,
+  retire,
   instrumentWithCheck,
   receiveLot,
   startTest,
@@ -33,16 +36,19 @@ import {
 } from './fixtures-testing';
 
 let nylon: ApprovedMaterial;
-let operator: Awaited<ReturnType<typeof agentFor>>;
+let operator: Awaited<ReturnType<typeof agent>>;
 let instrument: { instrumentId: number };
 
 beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 staple fibre', referenceFiles: [FIBRES.nylon66Reference] });
-  operator = await agentFor(['operator']);
+  operator = await agent(['operator']);
   instrument = await instrumentWithCheck('valid');
 });
 
-afterAll(flushMail);
+afterAll(async () => {
+  await flushMail();
+  await retire();
+});
 
 describe('lot receipt', () => {
   it('registers a lot in quarantine with an internal number and one labelled container per drum, audited', async () => {
@@ -58,7 +64,7 @@ describe('lot receipt', () => {
 
   it('accepts only grades with an approved method and at least one approved reference', async () => {
     const k = db();
-    const qa = await makeUser(['qa_manager']);
+    const qa = await account(['qa_manager']);
     const now = new Date();
     const [noMethod] = await k('material').insert({ code: 'NOMETH' + Date.now(), name: 'No method yet', grade: '', monograph_ref: '', techniques: '["mid-ir-atr"]', active: 1, created_by: qa.id, created_at: now, updated_at: now });
     const noRef = await approvedMaterial({ name: 'Method but no reference', referenceFiles: [] });
@@ -84,7 +90,7 @@ describe('lot receipt', () => {
     const f = await operator.agent.post('/api/lots').send({ ...base, containerCount: 2, receivedDate: future });
     expect(f.status).toBe(422);
     expect(f.body.error.code).toBe('DATE_IN_FUTURE');
-    const verifier = await agentFor(['verifier']);
+    const verifier = await agent(['verifier']);
     expect((await verifier.agent.post('/api/lots').send({ ...base, containerCount: 2 })).status).toBe(403);
   });
 
@@ -310,7 +316,7 @@ describe('measurements', () => {
   });
 
   it('signs performed only when every container has a valid result, then mails the verifiers', async () => {
-    const verifier = await makeUser(['verifier']);
+    const verifier = await account(['verifier']);
     const lot = await receiveLot(operator.agent, nylon.materialId, 2);
     const testId = await startTest(operator.agent, lot.id, instrument.instrumentId);
     await upload(operator.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);

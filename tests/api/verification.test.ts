@@ -11,10 +11,10 @@
  * - EU GMP Annex 8 para 2: the lot passes only when every container passes.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, sig } from './helpers';
-import { approvedMaterial, FIBRES, flushMail, instrumentWithCheck, receiveLot, startTest, upload, type ApprovedMaterial } from './fixtures-testing';
+import { db, sig } from './helpers';
+import { agent, approvedMaterial, FIBRES, flushMail, retire, instrumentWithCheck, receiveLot, startTest, upload, type ApprovedMaterial } from './fixtures-testing';
 
-type Signed = Awaited<ReturnType<typeof agentFor>>;
+type Signed = Awaited<ReturnType<typeof agent>>;
 
 let nylon: ApprovedMaterial;
 let instrumentId: number;
@@ -25,8 +25,8 @@ beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 yarn', referenceFiles: [FIBRES.nylon66Reference] });
   await approvedMaterial({ name: 'Polyester (PET) yarn', referenceFiles: [FIBRES.petReference] });
   instrumentId = (await instrumentWithCheck('valid')).instrumentId;
-  olga = await agentFor(['operator']);
-  victor = await agentFor(['verifier']);
+  olga = await agent(['operator']);
+  victor = await agent(['verifier']);
 });
 
 /** A lot whose test was measured by `by` with the given files and signed performed. */
@@ -39,11 +39,14 @@ async function performedLot(by: Signed, files: string[]) {
   return { lot, testId };
 }
 
-afterAll(flushMail);
+afterAll(async () => {
+  await flushMail();
+  await retire();
+});
 
 describe('segregation of duties', () => {
   it('an account holding operator and verifier cannot verify or return its own test, and does not see it in its queue', async () => {
-    const dana = await agentFor(['operator', 'verifier']);
+    const dana = await agent(['operator', 'verifier']);
     const { testId } = await performedLot(dana, FIBRES.nylon66Samples.slice(0, 2));
     const queue = await dana.agent.get('/api/verification/queue');
     expect(queue.status).toBe(200);
@@ -63,7 +66,7 @@ describe('segregation of duties', () => {
   });
 
   it('a verifier who recorded one measurement of the test cannot verify it, even though someone else signed performed', async () => {
-    const helper = await agentFor(['operator', 'verifier']);
+    const helper = await agent(['operator', 'verifier']);
     const lot = await receiveLot(olga.agent, nylon.materialId, 2);
     const testId = await startTest(olga.agent, lot.id, instrumentId);
     await upload(olga.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
@@ -76,9 +79,9 @@ describe('segregation of duties', () => {
 
   it('an operator without the verifier role cannot verify (403), and a wrong password signs nothing (401, audited)', async () => {
     const { testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 1));
-    const other = await agentFor(['operator']);
+    const other = await agent(['operator']);
     expect((await other.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(other.user) })).status).toBe(403);
-    const v2 = await agentFor(['verifier']);
+    const v2 = await agent(['verifier']);
     const bad = await v2.agent.post(`/api/tests/${testId}/verify`).send({ signature: { username: v2.user.username, password: 'not-the-password' } });
     expect(bad.status).toBe(401);
     expect((await db()('identity_test').where({ id: testId }).first()).status).toBe('awaiting-verification');
@@ -133,7 +136,7 @@ describe('verification and outcome', () => {
 
   it('ten verifiers signing the same test at once: exactly one signature, the others 409', async () => {
     const { lot, testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 2));
-    const verifiers = await Promise.all(Array.from({ length: 10 }, () => agentFor(['verifier'])));
+    const verifiers = await Promise.all(Array.from({ length: 10 }, () => agent(['verifier'])));
     const res = await Promise.all(verifiers.map((v) => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })));
     const statuses = res.map((r) => r.status).sort();
     expect(statuses).toEqual([200, ...Array(9).fill(409)]);
@@ -146,7 +149,7 @@ describe('verification and outcome', () => {
 
   it('the same verifier double-clicking: one signature, one 409', async () => {
     const { testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 1));
-    const v = await agentFor(['verifier']);
+    const v = await agent(['verifier']);
     const res = await Promise.all([0, 1, 2].map(() => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })));
     expect(res.map((r) => r.status).sort()).toEqual([200, 409, 409]);
     expect(await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' })).toHaveLength(1);
