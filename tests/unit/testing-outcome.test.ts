@@ -89,3 +89,14 @@ describe('lot outcome', () => {
     expect(eff.get(3)).toMatchObject({ verdict: 'pass', testId: 2 });
   });
 });
+
+describe('received date', () => {
+  it('"today" is the calendar day at the site, not in UTC', async () => {
+    const { siteToday } = await import('../../server/modules/lots/service');
+    // 23:30 UTC on 1 March is already 2 March in Berlin (CET = UTC+1) and still 1 March in New York.
+    const t = new Date('2026-03-01T23:30:00Z');
+    expect(siteToday('Europe/Berlin', t)).toBe('2026-03-02');
+    expect(siteToday('America/New_York', t)).toBe('2026-03-01');
+    expect(siteToday('UTC', t)).toBe('2026-03-01');
+  });
+});

@@ -24,7 +24,7 @@ export function lotRoutes(config: AppConfig): Router {
     service.listLots(getDb(), query),
   );
   defineRoute(r, { method: 'post', path: '/api/lots', summary: 'Register a received lot (quarantine) and create its labelled containers', tag: 'lots', access: OPERATOR, body: lotCreateSchema, status: 201 }, ({ body, actor, ip }) =>
-    service.receiveLot(getDb(), actor, body, ip),
+    service.receiveLot(getDb(), actor, body, ip, config.siteTimeZone),
   );
   defineRoute(r, { method: 'get', path: '/api/lots/:id', summary: 'A lot with its containers, test attempts, investigations and certificate state', tag: 'lots', access: READERS, params: idParams }, ({ params }) =>
     service.getLotDetail(getDb(), params.id),

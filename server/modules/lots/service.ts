@@ -33,7 +33,13 @@ export function containerLabel(lotNumber: string, seq: number): string {
   return `${lotNumber}-${String(seq).padStart(3, '0')}`;
 }
 
-export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: string | null) {
+/** Today's calendar date at the site (YYYY-MM-DD), e.g. in Europe/Berlin shortly after midnight. */
+export function siteToday(timeZone: string, now = new Date()): string {
+  const p = Object.fromEntries(new Intl.DateTimeFormat('en-GB', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).formatToParts(now).map((x) => [x.type, x.value]));
+  return `${p.year}-${p.month}-${p.day}`;
+}
+
+export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: string | null, siteTimeZone = 'UTC') {
   const material = await db('material').where({ id: input.materialId }).first();
   if (!material || !material.active) throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
   const ok = (await receivableMaterials(db)).some((m) => m.id === input.materialId);
@@ -43,7 +49,7 @@ export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: s
       'MATERIAL_NOT_RECEIVABLE',
       `${material.name} has no approved identity method with an approved reference spectrum, so its lots cannot be tested yet. QA must approve them first.`,
     );
-  const today = new Date().toISOString().slice(0, 10);
+  const today = siteToday(siteTimeZone);
   if (input.receivedDate > today) throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
   const now = new Date();
   const { id, number } = await db.transaction(async (trx) => {

@@ -3,10 +3,12 @@ import { useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
+import { formatDate } from '../../../lib/format';
 import { lotCreateSchema, MAX_CONTAINERS } from '../../../../server/modules/lots/schemas';
 import { useReceivableMaterials, useReceiveLot, type LotDetail } from '../api';
 
-const today = () => new Date().toISOString().slice(0, 10);
+/** Today at the site (the site's time zone, not the browser's). */
+const today = () => formatDate(new Date());
 
 export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) => void; onCancel: () => void }) {
   const materials = useReceivableMaterials();
