@@ -177,11 +177,22 @@ describe('a failing container', () => {
     expect(outOfScope.body.error.code).toBe('NOT_IN_SCOPE');
     // a second retest attempt cannot be started alongside
     expect((await olga.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId })).status).toBe(409);
-    const re = await upload(olga.agent, retestId, { containerId: lot.containers[2].id }, FIBRES.nylon66Samples[2]);
-    expect(re.verdict).toBe('pass');
-    expect((await db()('measurement').where({ id: re.id }).first()).authorised_by_investigation_id).toBe(invId);
+    const first = await upload(olga.agent, retestId, { containerId: lot.containers[2].id }, FIBRES.nylon66Samples[1]);
+    expect(first.verdict).toBe('pass');
+    expect((await db()('measurement').where({ id: first.id }).first()).authorised_by_investigation_id).toBe(invId);
     expect((await olga.agent.post(`/api/tests/${retestId}/perform`).send({ signature: sig(olga.user) })).status).toBe(200);
-    const v2 = await victor.agent.post(`/api/tests/${retestId}/verify`).send({ signature: sig(victor.user) });
+    // a returned retest goes back to the QA authorisation: the next attempt is again a retest of container 003 only
+    const back = await victor.agent.post(`/api/tests/${retestId}/return`).send({ reason: 'The re-sample was taken before the vial log was signed.', signature: sig(victor.user) });
+    expect(back.status).toBe(200);
+    expect((await olga.agent.get(`/api/lots/${lot.id}`)).body.identityStatus).toBe('retest-authorised');
+    const retest2 = await startTest(olga.agent, lot.id, instrumentId);
+    const r2 = await olga.agent.get(`/api/tests/${retest2}`);
+    expect(r2.body.retestOfInvestigationId).toBe(invId);
+    expect(r2.body.containers.filter((c: { inScope: boolean }) => c.inScope).map((c: { id: number }) => c.id)).toEqual([lot.containers[2].id]);
+    const re = await upload(olga.agent, retest2, { containerId: lot.containers[2].id }, FIBRES.nylon66Samples[2]);
+    expect(re.verdict).toBe('pass');
+    expect((await olga.agent.post(`/api/tests/${retest2}/perform`).send({ signature: sig(olga.user) })).status).toBe(200);
+    const v2 = await victor.agent.post(`/api/tests/${retest2}/verify`).send({ signature: { password: victor.user.password } });
     expect(v2.body.outcome).toBe('passed');
 
     const lotAfter = await olga.agent.get(`/api/lots/${lot.id}`);

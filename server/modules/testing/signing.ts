@@ -216,7 +216,9 @@ export async function returnTest(db: Knex, user: AuthUser, testId: number, input
     await trx('identity_test').where({ id: testId }).update({
       status: 'returned', returned_reason: input.reason, returned_signature_id: sig.id, updated_at: now, row_version: ctx.test.row_version + 1,
     });
-    await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'testing', updated_at: now });
+    // A returned retest goes back to its QA authorisation, so the next attempt is again a retest of the named containers.
+    const nextStatus = ctx.test.retest_of_investigation_id ? 'retest-authorised' : 'testing';
+    await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: nextStatus, updated_at: now });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor, action: 'test.returned', entityType: 'identity_test', entityId: testId,
