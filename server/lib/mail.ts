@@ -20,20 +20,28 @@ export interface MailInput {
   text: string;
 }
 
+/**
+ * Queues one message per recipient (so a long recipient list is never cut, and one bad address
+ * cannot hold up the others). Returns the id of the first row, or null when nobody is addressed.
+ */
 export async function enqueueMail(trx: Knex | Knex.Transaction, m: MailInput): Promise<number | null> {
-  const to = [...new Set(m.to.filter(Boolean))];
+  const to = [...new Set(m.to.map((t) => t.trim()).filter(Boolean))];
   if (to.length === 0) return null;
   const now = new Date();
-  const [id] = await trx('mail_outbox').insert({
-    to_address: to.join(', ').slice(0, 400),
-    subject: m.subject.slice(0, 300),
-    body: m.text,
-    status: 'queued',
-    attempts: 0,
-    created_at: now,
-    next_attempt_at: now,
-  });
-  return id;
+  let first: number | null = null;
+  for (const address of to) {
+    const [id] = await trx('mail_outbox').insert({
+      to_address: address.slice(0, 400),
+      subject: m.subject.slice(0, 300),
+      body: m.text,
+      status: 'queued',
+      attempts: 0,
+      created_at: now,
+      next_attempt_at: now,
+    });
+    first ??= id;
+  }
+  return first;
 }
 
 /** Active accounts holding a role, e.g. every verifier. */

@@ -30,3 +30,12 @@ describe('mail outbox', () => {
     expect(new Date(row.next_attempt_at).getTime()).toBeGreaterThan(Date.now());
   });
 });
+
+describe('recipients', () => {
+  it('a mail to many people becomes one message each, none cut off', async () => {
+    const to = Array.from({ length: 30 }, (_, i) => `person.number.${i}@a-rather-long-domain-name.example`);
+    const first = await db().transaction((trx) => enqueueMail(trx, { to, subject: 'many', text: 'x' }));
+    const rows = await db()('mail_outbox').where('id', '>=', first!).andWhere({ subject: 'many' });
+    expect(rows.map((r) => r.to_address).sort()).toEqual([...to].sort());
+  });
+});
