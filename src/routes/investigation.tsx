@@ -5,6 +5,7 @@ import { useHasRole, useSession } from '../app/session';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatScore } from '../lib/format';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../../server/modules/investigations/schemas';
@@ -23,6 +24,7 @@ export default function InvestigationPage() {
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const q = useInvestigation(id);
   if (q.isPending) return <PageLoading />;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
@@ -41,6 +43,7 @@ export default function InvestigationPage() {
             <InvestigationStatus inv={inv} />
           </span>
         }
+        actions={<RecordHistory entityType="investigation" entityId={inv.id} label={`investigation ${inv.number}`} showTrailLink={canSeeTrail} />}
         subtitle={
           <>
             Lot{' '}

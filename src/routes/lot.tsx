@@ -9,6 +9,7 @@ import { buttonClass } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { labelsPdfUrl, useLot, useStartTest, type LotDetail } from '../features/testing/api';
 import { IdentityStatusBadge, LotStatusText } from '../features/testing/components/IdentityStatus';
@@ -64,6 +65,7 @@ export default function LotPage() {
   const { user } = useSession();
   const isOperator = useHasRole('operator');
   const isVerifier = useHasRole('verifier');
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const q = useLot(id);
   if (q.isPending) return <PageLoading />;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
@@ -89,9 +91,12 @@ export default function LotPage() {
         }
         subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}`}
         actions={
-          <a className={buttonClass('secondary', 'bench')} href={labelsPdfUrl(lot.id)} target="_blank" rel="noreferrer">
-            Print container labels (PDF)
-          </a>
+          <>
+            <RecordHistory entityType="lot" entityId={lot.id} label={`lot ${lot.lotNumber}`} size="bench" showTrailLink={canSeeTrail} />
+            <a className={buttonClass('secondary', 'bench')} href={labelsPdfUrl(lot.id)} target="_blank" rel="noreferrer">
+              Print container labels (PDF)
+            </a>
+          </>
         }
       />
       <div className="mb-5 flex flex-col gap-2">

@@ -4,6 +4,7 @@ import { PageLoading } from '../app/lazy-page';
 import { useHasRole, useSession } from '../app/session';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
+import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { useReview } from '../features/testing/api';
 import { ReviewView } from '../features/testing/components/Review';
 import { SignatureList } from '../features/testing/components/Signatures';
@@ -12,6 +13,7 @@ export default function TestReviewPage() {
   const id = Number(useParams().id);
   const { user } = useSession();
   const isVerifier = useHasRole('verifier');
+  const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const q = useReview(id);
   if (q.isPending) return <PageLoading />;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
@@ -25,6 +27,7 @@ export default function TestReviewPage() {
           </Link>
         }
         title={`Review of attempt ${t.attempt}, lot ${t.lot.lotNumber}`}
+        actions={<RecordHistory entityType="identity_test" entityId={t.id} label={`attempt ${t.attempt} of lot ${t.lot.lotNumber}`} showTrailLink={canSeeTrail} />}
         subtitle={`${t.lot.material.name} · ${t.statusLabel} · ${t.readiness.inScope} container(s)${t.retestOfInvestigationId ? ' · retest authorised by QA' : ''} · instrument ${t.instrument?.name ?? '—'}`}
       />
       <div className="mb-4">

@@ -121,7 +121,7 @@ export async function getLotDetail(db: Knex, id: number) {
     openedAt: new Date(r.opened_at).toISOString(),
     closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
   }));
-  const certRow = await db('certificate').where({ lot_id: id }).orderBy('id', 'desc').first();
+  const certRow = await db('certificate').where({ lot_id: id }).orderBy('id', 'desc').first('id', 'number', 'issued_at');
   const certificate =
     certRow != null
       ? { state: 'issued' as const, id: certRow.id as number, number: certRow.number as string, issuedAt: new Date(certRow.issued_at).toISOString() }

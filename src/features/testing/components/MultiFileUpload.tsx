@@ -104,7 +104,7 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
                     <div className="font-medium break-all">{r.fileName}</div>
                     <div className="text-xs text-muted">{formatBytes(r.file.size)}</div>
                   </td>
-                  <td className="py-1.5 pr-3 tabular-nums">{r.label ?? '—'}</td>
+                  <td className="py-1.5 pr-3 whitespace-nowrap tabular-nums">{r.label ?? '—'}</td>
                   <td className={`py-1.5 pr-3 ${r.status === 'matched' ? '' : 'text-amber-ink'}`}>{r.status === 'matched' ? 'Ready' : `Not uploaded: ${MATCH_STATUS_TEXT[r.status]}`}</td>
                   <td className="py-1.5">
                     {r.state === 'uploading' && (

@@ -31,7 +31,7 @@ function ContainerRows({ test, selectedId, onSelect }: { test: TestDetail; selec
           .filter((c) => c.inScope)
           .map((c) => (
             <tr key={c.id} className={`border-b border-line/60 ${selectedId === c.id ? 'bg-petrol-soft' : ''}`} data-testid={`container-${c.label}`}>
-              <td className="py-1 pr-3 font-medium tabular-nums">{c.label}</td>
+              <td className="py-1 pr-3 font-medium whitespace-nowrap tabular-nums">{c.label}</td>
               <td className="py-1 pr-3">{c.latest ? <Verdict verdict={c.latest.verdict} label={verdictLabel(c.latest.verdict)} size="sm" /> : <Verdict verdict="pending" label="Not measured" size="sm" />}</td>
               <td className="py-1 pr-3 text-right tabular-nums">{formatScore(c.latest?.matchScore)}</td>
               <td className="py-1 pr-3 text-right tabular-nums">{c.measurements.length}</td>
