@@ -74,7 +74,6 @@ export const GROUP_FREQUENCIES: readonly GroupFrequency[] = [
   { id: 'ch-bend-ch3', group: 'C-H bend, CH3 symmetric ("umbrella")', from: 1370, to: 1385, intensity: 'medium', shape: 'sharp' },
   { id: 'no2-sym', group: 'NO2 symmetric stretch, nitro compound', from: 1290, to: 1365, intensity: 'strong', shape: 'sharp' },
   { id: 'c-o', group: 'C-O stretch (alcohols, ethers, esters)', from: 1000, to: 1300, intensity: 'strong', shape: 'any' },
-  { id: 'alkene-oop', group: '=C-H out-of-plane bend, alkene (vinyl and trans pairs)', from: 890, to: 990, intensity: 'strong', shape: 'sharp' },
   {
     id: 'glycosidic', group: 'C-O-C and C1-H deformation at the glycosidic link of carbohydrates (beta near 895, alpha near 845 cm-1)', from: 840, to: 925, intensity: 'weak-medium', shape: 'sharp',
     meaning: 'a sugar or polysaccharide skeleton (cellulose, starch, lactose)',
