@@ -17,6 +17,8 @@ export interface AppConfig {
   sessionMaxHours: number;
   lockoutAttempts: number;
   lockoutMinutes: number;
+  /** days after which a password must be changed at the next sign-in; 0 = never */
+  passwordMaxAgeDays: number;
   signInRateLimit: number; // attempts per IP per window
   signInRateWindowMinutes: number;
   uploadMaxBytes: number;
@@ -40,6 +42,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     sessionMaxHours: num('SESSION_MAX_HOURS', 12),
     lockoutAttempts: num('LOCKOUT_ATTEMPTS', 5),
     lockoutMinutes: num('LOCKOUT_MINUTES', 15),
+    passwordMaxAgeDays: num('PASSWORD_MAX_AGE_DAYS', 90),
     signInRateLimit: num('SIGNIN_RATE_LIMIT', 30),
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,

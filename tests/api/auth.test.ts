@@ -70,6 +70,25 @@ describe('sign-in', () => {
     expect(await auditActions(u.id)).toContain('auth.password-changed');
   });
 
+  it('a password older than the maximum age (default 90 days) must be changed at the next sign-in', async () => {
+    // 21 CFR 11.300(b): passwords are periodically checked and revised.
+    const u = await makeUser(['operator']);
+    await db()('app_user').where({ id: u.id }).update({ password_changed_at: new Date(Date.now() - 91 * 86_400_000) });
+    const agent = request.agent(testApp());
+    const s = await agent.post('/api/auth/sign-in').send({ username: u.username, password: PASSWORD });
+    expect(s.status).toBe(200);
+    expect(s.body.user.mustChangePassword).toBe(true);
+    expect((await agent.get('/api/users/directory')).body.error.code).toBe('PASSWORD_CHANGE_REQUIRED');
+    expect(await auditActions(u.id)).toContain('auth.password-expired');
+    const ok = await agent.post('/api/auth/password').send({ currentPassword: PASSWORD, newPassword: 'a-fresh-password-for-today' });
+    expect(ok.status).toBe(204);
+    // a password changed 89 days ago is still good
+    const v = await makeUser(['operator']);
+    await db()('app_user').where({ id: v.id }).update({ password_changed_at: new Date(Date.now() - 89 * 86_400_000) });
+    const t = await request(testApp()).post('/api/auth/sign-in').send({ username: v.username, password: PASSWORD });
+    expect(t.body.user.mustChangePassword).toBe(false);
+  });
+
   it('a session expires after the idle time', async () => {
     const { agent, user } = await agentFor(['operator']);
     expect((await agent.get('/api/auth/me')).status).toBe(200);

@@ -37,6 +37,12 @@ export async function signIn(db: Knex, cfg: AppConfig, username: string, passwor
   }
   return db.transaction(async (trx) => {
     await users.updateUser(trx, u.id, { failed_attempts: 0, locked_until: null });
+    // Periodic revision of passwords (21 CFR 11.300(b)): past the maximum age the password must be changed now.
+    const changedAt = new Date(u.password_changed_at ?? u.created_at).getTime();
+    if (cfg.passwordMaxAgeDays > 0 && !u.must_change_password && Date.now() - changedAt > cfg.passwordMaxAgeDays * 86_400_000) {
+      await users.updateUser(trx, u.id, { must_change_password: 1 });
+      await appendAudit(trx, { actor: { id: u.id, name: u.full_name }, action: 'auth.password-expired', entityType: 'user', entityId: u.id, reason: `password older than ${cfg.passwordMaxAgeDays} days`, ip });
+    }
     const session = await createSession(trx, u.id, cfg.sessionMaxHours, ip);
     await appendAudit(trx, { actor: { id: u.id, name: u.full_name }, action: 'auth.signed-in', entityType: 'user', entityId: u.id, ip });
     return { token: session.token, user: users.toPublicUser((await users.findById(trx, u.id))!) };
