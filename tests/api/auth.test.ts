@@ -31,6 +31,7 @@ describe('sign-in', () => {
 
   it('locks the account after 5 consecutive failures, even for the right password, until an admin unlocks it', async () => {
     const u = await makeUser(['operator']);
+    const watchingAdmin = await makeUser(['admin']);
     const app = testApp();
     for (let i = 0; i < 5; i++) {
       const r = await request(app).post('/api/auth/sign-in').send({ username: u.username, password: `bad-password-${i}` });
@@ -40,6 +41,10 @@ describe('sign-in', () => {
     expect(locked.status).toBe(423);
     expect(locked.body.error.code).toBe('ACCOUNT_LOCKED');
     expect(await auditActions(u.id)).toContain('auth.locked');
+    // 21 CFR 11.300(d): the administrators are told at once
+    const lockMail = await db()('mail_outbox').where({ subject: `Account locked: ${u.username}` });
+    expect(lockMail.map((m) => m.to_address)).toContain(`${watchingAdmin.username}@test.example`);
+    expect(lockMail[0].body).toContain('5 consecutive failed sign-ins');
 
     const { agent: admin } = await agentFor(['admin']);
     const list = await admin.get('/api/users');

@@ -1,6 +1,7 @@
 /** Sign-in rules: Argon2id check, lockout after repeated failures, forced password change. */
 import type { Knex } from 'knex';
 import { appendAudit, auditNow } from '../../lib/audit';
+import { enqueueMailToRole } from '../../lib/mail';
 import type { AppConfig } from '../../lib/config';
 import { AppError, badRequest } from '../../lib/errors';
 import { hashPassword, passwordProblem, verifyPassword } from '../../lib/passwords';
@@ -31,7 +32,17 @@ export async function signIn(db: Knex, cfg: AppConfig, username: string, passwor
       const lockedUntil = lock ? new Date(Date.now() + cfg.lockoutMinutes * 60_000) : null;
       await users.updateUser(trx, u.id, { failed_attempts: lock ? 0 : attempts, locked_until: lockedUntil });
       await appendAudit(trx, { actor: { id: u.id, name: u.full_name }, action: 'auth.sign-in-failed', entityType: 'user', entityId: u.id, after: { consecutiveFailures: attempts }, reason: 'wrong password', ip });
-      if (lock) await appendAudit(trx, { actor: { id: u.id, name: u.full_name }, action: 'auth.locked', entityType: 'user', entityId: u.id, after: { lockedUntil: lockedUntil!.toISOString() }, reason: `${attempts} consecutive failed sign-ins`, ip });
+      if (lock) {
+        await appendAudit(trx, { actor: { id: u.id, name: u.full_name }, action: 'auth.locked', entityType: 'user', entityId: u.id, after: { lockedUntil: lockedUntil!.toISOString() }, reason: `${attempts} consecutive failed sign-ins`, ip });
+        // Possible unauthorised use is reported at once to the administrators (21 CFR 11.300(d)).
+        await enqueueMailToRole(
+          trx,
+          'admin',
+          `Account locked: ${u.username}`,
+          `The account ${u.username} (${u.full_name}) was locked at ${new Date().toISOString()} UTC after ${attempts} consecutive failed sign-ins` +
+            `${ip ? ` from ${ip}` : ''}. It unlocks by itself at ${lockedUntil!.toISOString()} UTC, or an administrator can unlock it after checking with the person.`,
+        );
+      }
     });
     throw new AppError(401, 'SIGN_IN_FAILED', GENERIC);
   }
