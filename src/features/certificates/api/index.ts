@@ -9,73 +9,16 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe } from '../../../lib/query-keys';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
 
-export interface CertificateMeta {
-  id: number;
-  number: string;
-  lotId: number;
-  lotNumber: string;
-  materialId: number;
-  materialCode: string;
-  materialName: string;
-  testId: number;
-  issuedAt: string;
-  issuedBy: string | null;
-  sha256: string;
-  size: number;
-  signerFingerprint: string;
-  supersedes: { id: number; number: string } | null;
-  supersededBy: { id: number; number: string } | null;
-  current: boolean;
-  supersedeReason: string | null;
-  downloadUrl: string;
-}
-
-export interface SignatureLine {
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  statement: string | null;
-  record: string;
-}
-
-export interface CertificateContent {
-  number: string;
-  issuedAt: string;
-  site: { name: string; address: string; timeZone: string };
-  verificationUrl: string;
-  lot: { id: number; lotNumber: string; supplier: string; supplierLot: string; receivedDate: string; containerCount: number };
-  material: { id: number; code: string; name: string; grade: string };
-  methods: { id: number; version: number; technique: string }[];
-  references: { id: number; code: string; approval: SignatureLine | null }[];
-  instruments: { id: number; name: string; serialNumber: string }[];
-  instrumentChecks: { id: number; instrumentName: string; verdict: string; performedAt: string }[];
-  containers: {
-    containerId: number;
-    label: string;
-    measurementId: number;
-    matchScore: number | null;
-    bandsMatched: number | null;
-    bandsTotal: number | null;
-    verdict: string;
-    rawFileSha256: string;
-  }[];
-  signatures: SignatureLine[];
-}
+// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
+export type { CertificateMeta } from '../../../../server/modules/certificates/service';
+export type { CertificateContent, SignatureLine } from '../../../../server/modules/certificates/content';
+export type { PdfSignatureCheck as SignatureCheck } from '../../../../server/lib/pdf-sign';
+import type { CertificateMeta } from '../../../../server/modules/certificates/service';
+import type { CertificateContent } from '../../../../server/modules/certificates/content';
+import type { PdfSignatureCheck as SignatureCheck } from '../../../../server/lib/pdf-sign';
 
 export interface CertificateDetail extends CertificateMeta {
   content: CertificateContent | null;
-}
-
-export interface SignatureCheck {
-  signed: boolean;
-  valid: boolean;
-  signerSubject: string | null;
-  fingerprint: string | null;
-  subFilter: string | null;
-  signingTime: string | null;
-  coversWholeFile: boolean;
-  hasSigningCertificateV2: boolean;
-  problem?: string;
 }
 
 export interface VerificationReport {

@@ -4,52 +4,12 @@ import { apiFetch } from '../../../lib/api';
 import { invalidateMe } from '../../../lib/query-keys';
 import type { Phase1Item } from '../../../../server/modules/investigations/schemas';
 
-export interface Signature {
-  id: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
-}
-
-export interface FailingContainer {
-  containerId: number;
-  label: string;
-  measurementId: number;
-  score: number | null;
-  explanation: string[];
-  hint: { materialId: number; materialCode: string; materialName: string; referenceCode: string; score: number; isTestedMaterial: boolean }[];
-  hintText: string;
-}
-
-export interface Phase1Record {
-  items: Record<Phase1Item, { ok: boolean; note: string }>;
-  summary: string;
-  recordedBy: { id: number; name: string };
-  recordedAt: string;
-  signatureId: number;
-}
-
-export interface Investigation {
-  id: number;
-  number: string;
-  lotId: number;
-  lotNumber: string;
-  materialName: string;
-  testId: number;
-  attempt: number;
-  status: 'open' | 'phase1-recorded' | 'retest-authorised' | 'closed';
-  decision: 'invalidated' | 'confirmed' | null;
-  failing: FailingContainer[];
-  phase1: Phase1Record | null;
-  justification: string | null;
-  retestContainerIds: number[];
-  openedAt: string;
-  decidedBy: { id: number; name: string } | null;
-  closedAt: string | null;
-  updatedAt: string;
-}
+// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
+export type { FailingContainer, Phase1Record } from '../../../../server/modules/investigations/repo';
+export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+export type { InvestigationSummary as Investigation } from '../../../../server/modules/investigations/repo';
+import type { InvestigationSummary as Investigation } from '../../../../server/modules/investigations/repo';
 
 export interface InvestigationDetail extends Investigation {
   signatures: Signature[];

@@ -4,6 +4,10 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe } from '../../../lib/query-keys';
 import type { IdentityMethodInput } from '../../../../server/modules/library/schemas';
 
+// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
+export type { DirectionScore, GatePair, GateReport } from '../../../../server/modules/library/specificity';
+import type { GateReport } from '../../../../server/modules/library/specificity';
+
 export type IdentityMethodParams = IdentityMethodInput;
 
 export interface Signature {
@@ -88,34 +92,6 @@ export interface ReferenceListItem {
   materialName?: string;
   justification: string | null;
   retireReason: string | null;
-}
-
-export interface DirectionScore {
-  verdict: 'pass' | 'fail' | 'invalid';
-  correlation: number | null;
-  derivativeCorrelation: number | null;
-  bandsMatched: string | null;
-}
-
-export interface GatePair {
-  materialId: number;
-  materialCode: string;
-  materialName: string;
-  referenceId: number;
-  referenceCode: string;
-  otherAsSample: DirectionScore | null;
-  candidateAsSample: DirectionScore | null;
-  wouldPass: boolean;
-  notComparable: string | null;
-}
-
-export interface GateReport {
-  methodId: number;
-  methodVersion: number;
-  computedAt: string;
-  pairs: GatePair[];
-  offending: GatePair[];
-  passed: boolean;
 }
 
 export interface ReferenceDetail extends Omit<ReferenceListItem, 'bandCount'> {
