@@ -15,7 +15,8 @@ export interface DialogProps {
 
 const WIDTH = { sm: 'w-[min(28rem,calc(100vw-2rem))]', md: 'w-[min(36rem,calc(100vw-2rem))]', lg: 'w-[min(52rem,calc(100vw-2rem))]' };
 
-export function Dialog({ open, title, description, onClose, busy, children, width = 'md' }: DialogProps) {
+/** Opens and closes a native <dialog> as a modal with `open`; returns its ref and an id for labels. */
+export function useModalDialog(open: boolean) {
   const ref = useRef<HTMLDialogElement>(null);
   const id = useId();
   useEffect(() => {
@@ -24,6 +25,11 @@ export function Dialog({ open, title, description, onClose, busy, children, widt
     if (open && !d.open) d.showModal();
     else if (!open && d.open) d.close();
   }, [open]);
+  return { ref, id };
+}
+
+export function Dialog({ open, title, description, onClose, busy, children, width = 'md' }: DialogProps) {
+  const { ref, id } = useModalDialog(open);
   return (
     <dialog
       ref={ref}

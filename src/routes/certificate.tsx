@@ -10,11 +10,11 @@ import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatScore } from '../lib/format';
+import { meaningLabel } from '../lib/signature-meanings';
 import { certificatePdfUrl, useCertificate } from '../features/certificates/api';
 import { CertificateState } from '../features/certificates/components/CertificateState';
 import { SupersedeDialog } from '../features/certificates/components/SupersedeDialog';
 
-const MEANINGS: Record<string, string> = { performed: 'Performed', verified: 'Verified', approved: 'Approved', issued: 'Issued' };
 
 export default function CertificatePage() {
   const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
@@ -106,7 +106,7 @@ export default function CertificatePage() {
           <ul className="mb-4 flex flex-col gap-1 text-sm">
             {content.signatures.map((s, i) => (
               <li key={i}>
-                <span className="font-medium">{s.printedName}</span> · {MEANINGS[s.meaning] ?? s.meaning} · <DateTime value={s.signedAt} seconds /> · <span className="text-muted">{s.record}</span>
+                <span className="font-medium">{s.printedName}</span> · {meaningLabel(s.meaning)} · <DateTime value={s.signedAt} seconds /> · <span className="text-muted">{s.record}</span>
               </li>
             ))}
           </ul>

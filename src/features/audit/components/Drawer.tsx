@@ -1,5 +1,6 @@
 /** A panel sliding in from the right over the page (native <dialog>: focus stays inside, Escape closes). */
-import { useEffect, useId, useRef, type ReactNode } from 'react';
+import type { ReactNode } from 'react';
+import { useModalDialog } from '../../../components/Dialog';
 
 export interface DrawerProps {
   open: boolean;
@@ -12,14 +13,7 @@ export interface DrawerProps {
 }
 
 export function Drawer({ open, title, subtitle, onClose, children, wide }: DrawerProps) {
-  const ref = useRef<HTMLDialogElement>(null);
-  const id = useId();
-  useEffect(() => {
-    const d = ref.current;
-    if (!d) return;
-    if (open && !d.open) d.showModal();
-    else if (!open && d.open) d.close();
-  }, [open]);
+  const { ref, id } = useModalDialog(open);
   return (
     <dialog
       ref={ref}

@@ -13,12 +13,13 @@ import { useState } from 'react';
 import { Link } from 'react-router-dom';
 import { Button, type ButtonSize } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
+import { SignatureCards } from '../../../components/SignatureCards';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { formatNumber } from '../../../lib/format';
 import { HISTORY_CAP, useRecordHistory, type AuditEventDetail, type SignatureOnRecord } from '../api';
 import { ChangesTable } from './ChangesTable';
 import { Drawer } from './Drawer';
-import { meaningLabel, recordTypeLabel, valueText } from './labels';
+import { recordTypeLabel, valueText } from './labels';
 
 export interface RecordHistoryProps {
   entityType: string;
@@ -102,24 +103,7 @@ export function RecordHistoryList({ entityType, entityId, showTrailLink }: { ent
 }
 
 function SignatureItems({ signatures }: { signatures: SignatureOnRecord[] }) {
-  if (signatures.length === 0) return <p className="text-sm text-muted">No e-signature on this record.</p>;
-  return (
-    <ul className="flex flex-col gap-2" aria-label="Signatures">
-      {signatures.map((s) => (
-        <li key={s.id} className="rounded-md border border-line bg-white px-3 py-2 text-sm" data-testid="history-signature">
-          <div className="flex flex-wrap items-baseline gap-x-3 gap-y-1">
-            <span className="font-semibold">{s.printedName}</span>
-            <span>{meaningLabel(s.meaning)}</span>
-            <DateTime value={s.signedAt} seconds className="text-muted" />
-          </div>
-          {s.statement && <p className="mt-1 whitespace-pre-wrap">“{s.statement}”</p>}
-          <p className="mt-1 font-mono text-xs break-all text-muted" title="SHA-256 of the signed content">
-            content SHA-256 {s.contentHash}
-          </p>
-        </li>
-      ))}
-    </ul>
-  );
+  return <SignatureCards signatures={signatures} empty="No e-signature on this record." testId="history-signature" />;
 }
 
 function HistoryItem({ e }: { e: AuditEventDetail }) {

@@ -21,24 +21,6 @@ export function recordTypeLabel(t: string): string {
   return RECORD_TYPES[t] ?? t;
 }
 
-const MEANINGS: Record<string, string> = {
-  performed: 'Performed',
-  verified: 'Verified',
-  returned: 'Returned to the operator',
-  approved: 'Approved',
-  'approved-with-justification': 'Approved with a written justification',
-  retired: 'Retired',
-  'instrument-check': 'Instrument check performed',
-  'phase-1-recorded': 'Phase I laboratory check recorded',
-  'result-invalidated': 'Result invalidated',
-  'failure-confirmed': 'Failure confirmed',
-  issued: 'Issued',
-};
-
-export function meaningLabel(m: string): string {
-  return MEANINGS[m] ?? m;
-}
-
 /** A stored value as text: strings as they are, nothing as a dash, the rest as JSON. */
 export function valueText(v: unknown): string {
   if (v === null || v === undefined) return '—';
