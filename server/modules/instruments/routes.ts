@@ -9,6 +9,7 @@ import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { signatureInput } from '../../lib/esign';
+import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
 import { instrumentCreateSchema, instrumentUpdateSchema, specCreateSchema } from './schemas';
 import * as service from './service';
@@ -80,9 +81,7 @@ export function instrumentRoutes(config: AppConfig): Router {
     },
     async ({ params, res }) => {
       const f = await service.checkFile(getDb(), params.id, params.checkId);
-      res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
-      res.setHeader('Content-Disposition', `attachment; filename="${String(f.file_name).replace(/[^A-Za-z0-9._-]/g, '_')}"`);
-      res.status(200).end(f.data);
+      sendStoredFile(res, f);
     },
   );
   return r;

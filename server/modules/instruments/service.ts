@@ -24,6 +24,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
+import { storeFile } from '../../lib/files';
 import { getDb } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput, toSignatureRecord } from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
@@ -284,15 +285,7 @@ export async function recordCheck(db: Knex, user: AuthUser, instrumentId: number
     if (!current || current.id !== spec.id) throw conflict('The check specification changed while you were signing; upload the spectrum again.');
     const performedAt = new Date();
     const validUntil = result.verdict === 'pass' ? new Date(performedAt.getTime() + inst.check_validity_hours * 3600_000) : null;
-    const [fileId] = await trx('stored_file').insert({
-      sha256: sha,
-      file_name: file.originalname.slice(0, 255),
-      media_type: file.mimetype || 'application/octet-stream',
-      size: file.buffer.length,
-      data: file.buffer,
-      uploaded_by: user.id,
-      uploaded_at: performedAt,
-    });
+    const { id: fileId } = await storeFile(trx, file, user.id, performedAt);
     const [id] = await trx('instrument_check').insert({
       instrument_id: instrumentId,
       spec_id: spec.id,

@@ -13,7 +13,7 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { mailRole } from '../lots/notify';
+import { enqueueMailToRole } from '../../lib/mail';
 import { pageLink } from '../lots/links';
 import { insertWithNextNumber, yearOf } from '../lots/numbering';
 import * as repo from './repo';
@@ -64,7 +64,7 @@ export async function openInvestigation(trx: Knex.Transaction, input: OpenInput)
     ip: input.ip,
   });
   const lines = input.failing.map((f) => `- ${f.label}: ${f.explanation[0] ?? 'failed'} ${f.hintText}`);
-  await mailRole(
+  await enqueueMailToRole(
     trx,
     'qa_manager',
     `Investigation ${created.number} opened: lot ${input.lot.lotNumber} failed identity`,
@@ -104,7 +104,7 @@ export async function closeAfterRetest(
     reason: `Closed because ${result}.`,
     ip,
   });
-  await mailRole(
+  await enqueueMailToRole(
     trx,
     'qa_manager',
     `Investigation ${row.number} closed: lot ${outcome.lotNumber} retest ${outcome.passed ? 'passed' : 'failed'}`,
@@ -208,7 +208,7 @@ export async function invalidateResult(db: Knex, user: AuthUser, id: number, inp
       before: { identityStatus: lot.identity_status }, after: { identityStatus: 'retest-authorised', containers: labels },
       reason: `Investigation ${inv.number}: ${input.justification}`, ip,
     });
-    await mailRole(
+    await enqueueMailToRole(
       trx,
       'operator',
       `Retest authorised: lot ${inv.lotNumber}`,
@@ -248,7 +248,7 @@ export async function confirmFailure(db: Knex, user: AuthUser, id: number, input
       before: { status: lot.status, identityStatus: lot.identity_status }, after: { status: 'rejected', identityStatus: 'rejected' },
       reason: `Investigation ${inv.number}: ${input.justification}`, ip,
     });
-    await mailRole(
+    await enqueueMailToRole(
       trx,
       'qa_manager',
       `Investigation ${inv.number} closed: lot ${inv.lotNumber} rejected`,

@@ -31,6 +31,7 @@ import { invalidateLibraryCache } from './approved-set';
 import { asFileError, assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
 import * as repo from './repo';
 import { specificityGate, type GateReport } from './specificity';
+import { storeFile } from '../../lib/files';
 
 export interface UploadedFile {
   originalname: string;
@@ -88,15 +89,7 @@ export async function uploadReferences(db: Knex, user: AuthUser, materialId: num
     const now = new Date();
     for (const p of parsed) {
       seq++;
-      const fileId = await repo.insertStoredFile(trx, {
-        sha256: p.sha256,
-        file_name: p.file.originalname.slice(0, 255),
-        media_type: p.file.mimetype || 'application/octet-stream',
-        size: p.file.buffer.length,
-        data: p.file.buffer,
-        uploaded_by: user.id,
-        uploaded_at: now,
-      });
+      const { id: fileId } = await storeFile(trx, p.file, user.id, now);
       const code = `REF-${mat.code}-${String(seq).padStart(4, '0')}`;
       const meta = { ...p.spectrum.meta, bandsPickedWithMethodId: methodRow.id, bandsPickedWithMethodVersion: methodRow.version };
       const id = await repo.insertReference(trx, {

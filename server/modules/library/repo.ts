@@ -232,8 +232,4 @@ export async function insertReference(db: Db, row: Omit<ReferenceRow, 'id'>): Pr
 }
 
 // ---- stored files (append-only)
-export async function insertStoredFile(db: Db, row: Omit<StoredFileRow, 'id'>): Promise<number> {
-  const [id] = await db('stored_file').insert(row);
-  return id as number;
-}
 export const findStoredFile = (db: Db, id: number): Promise<StoredFileRow | undefined> => db('stored_file').where({ id }).first();

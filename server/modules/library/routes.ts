@@ -8,6 +8,7 @@ import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { signatureInput } from '../../lib/esign';
+import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
 import * as refs from './references';
 import {
@@ -130,10 +131,7 @@ export function libraryRoutes(config: AppConfig): Router {
     { method: 'get', path: '/api/references/:id/file', summary: 'The raw uploaded file, byte for byte', tag: 'library', access: 'authenticated', params: idParams, produces: 'application/octet-stream' },
     async ({ params, res }) => {
       const f = await refs.referenceFile(getDb(), params.id);
-      res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
-      res.setHeader('Content-Disposition', `attachment; filename="${f.file_name.replace(/[^A-Za-z0-9._-]/g, '_')}"`);
-      res.setHeader('X-Content-SHA256', f.sha256);
-      res.status(200).end(f.data);
+      sendStoredFile(res, f);
     },
   );
   defineRoute(

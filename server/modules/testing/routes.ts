@@ -4,6 +4,7 @@ import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { notFound } from '../../lib/errors';
+import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
 import type { SignatureInput } from '../../lib/esign';
 import type { signatureFields } from '../lots/schemas';
@@ -101,10 +102,7 @@ export function testingRoutes(config: AppConfig): Router {
       const m = await db('measurement').where({ id: params.id }).first();
       if (!m) throw notFound('The measurement');
       const f = await db('stored_file').where({ id: m.file_id }).first();
-      res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
-      res.setHeader('Content-Disposition', `attachment; filename="${String(f.file_name).replace(/["\\\r\n]/g, '_')}"`);
-      res.setHeader('X-Content-SHA256', f.sha256);
-      res.send(f.data as Buffer);
+      sendStoredFile(res, f);
     },
   );
   return r;

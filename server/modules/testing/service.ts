@@ -12,6 +12,7 @@
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
+import { storeFile } from '../../lib/files';
 import { AppError, badRequest, conflict, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum, type SpectrumMeta, SpectrumError } from '../../spectra';
@@ -282,15 +283,7 @@ export async function addMeasurement(
     if (!t || t.status !== 'in-progress') throw conflict('The test is no longer in progress; nothing was stored.');
     assertNotFailed(await repo.measurementsOfTest(trx, testId), testId, container);
     const now = new Date();
-    const [fileId] = await trx('stored_file').insert({
-      sha256: sha,
-      file_name: file.originalname.slice(0, 255),
-      media_type: (file.mimetype || 'application/octet-stream').slice(0, 100),
-      size: file.buffer.length,
-      data: file.buffer,
-      uploaded_by: user.id,
-      uploaded_at: now,
-    });
+    const { id: fileId } = await storeFile(trx, file, user.id, now);
     const mid = await repo.insertMeasurement(trx, {
       test_id: testId,
       container_id: container.id,

@@ -15,8 +15,7 @@ import { checkSignatureCredentials, recordSignature, type SignatureInput } from 
 import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
-import { enqueueMail } from '../../lib/mail';
-import { mailRole } from '../lots/notify';
+import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
 import { closeAfterRetest, openInvestigation } from '../investigations/service';
 import type { FailingContainer } from '../investigations/repo';
 import { pageLink } from '../lots/links';
@@ -95,7 +94,7 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
     });
     const latest = latestByContainer(ctx.measurements, testId);
     const fails = [...latest.values()].filter((m) => m.verdict === 'fail').length;
-    await mailRole(
+    await enqueueMailToRole(
       trx,
       'verifier',
       `Identity test awaits verification: lot ${ctx.lot.lotNumber} (attempt ${ctx.test.attempt})`,
