@@ -2,20 +2,10 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
 import { invalidateMe } from '../../../lib/query-keys';
-
-export interface Signature {
-  id: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
-}
-
-export interface CheckBand {
-  nominal: number;
-  tolerance: number;
-}
+export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+export type { CheckBand } from '../../../../server/modules/instruments/repo';
+import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+import type { CheckBand } from '../../../../server/modules/instruments/repo';
 
 export interface InstrumentListItem {
   id: number;

@@ -7,36 +7,14 @@ import type { IdentityMethodInput } from '../../../../server/modules/library/sch
 // Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
 export type { DirectionScore, GatePair, GateReport } from '../../../../server/modules/library/specificity';
 import type { GateReport } from '../../../../server/modules/library/specificity';
+export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+export type { SignatureCredentials } from '../../../components/SignatureDialog';
+export type { Material, StoredBand, ReferenceStatus } from '../../../../server/modules/library/repo';
+import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+import type { Material, StoredBand, ReferenceStatus } from '../../../../server/modules/library/repo';
+import type { SignatureCredentials } from '../../../components/SignatureDialog';
 
 export type IdentityMethodParams = IdentityMethodInput;
-
-export interface Signature {
-  id: number;
-  userId: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
-}
-
-export interface SignatureCredentials {
-  username?: string;
-  password: string;
-}
-
-export interface Material {
-  id: number;
-  code: string;
-  name: string;
-  grade: string;
-  monographRef: string;
-  techniques: string[];
-  notes: string | null;
-  active: boolean;
-  createdAt: string;
-  updatedAt: string;
-}
 
 export interface MaterialListItem extends Material {
   approvedMethod: { id: number; version: number; technique: string } | null;
@@ -62,16 +40,6 @@ export interface MethodVersion {
 export interface MaterialDetail extends Material {
   methods: MethodVersion[];
 }
-
-export interface StoredBand {
-  position: number;
-  prominence?: number;
-  width?: number;
-  assignment: string;
-  origin: 'auto' | 'edited';
-}
-
-export type ReferenceStatus = 'draft' | 'approved' | 'retired';
 
 export interface ReferenceListItem {
   id: number;

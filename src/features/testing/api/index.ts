@@ -4,17 +4,10 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe } from '../../../lib/query-keys';
 import type { LotCreate } from '../../../../server/modules/lots/schemas';
 import type { MatchStatus } from '../../../../server/modules/testing/schemas';
+export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
+import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
 
 export type Verdict3 = 'pass' | 'fail' | 'invalid';
-
-export interface Signature {
-  id: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
-}
 
 export interface ReceivableMaterial {
   id: number;
