@@ -89,7 +89,9 @@ function makeGenerator(total: number): (i: number) => BulkEvent {
     const actorId = 1 + Math.floor(rnd() * USERS);
     const entityId = k[1] === 'user' ? actorId : 1 + Math.floor(rnd() * k[3]);
     const withReason = rnd() < 0.25;
-    const reason = withReason ? `${REASONS[Math.floor(rnd() * REASONS.length)]} (${1 + Math.floor(rnd() * 9999)})` : null;
+    const reason = withReason
+      ? `${REASONS[Math.floor(rnd() * REASONS.length)]} (${1 + Math.floor(rnd() * 9999)})`
+      : null;
     const changed = rnd() < 0.3;
     return {
       occurredAt: new Date(start + Math.floor(i * step + rnd() * step * 0.5)),
@@ -98,7 +100,11 @@ function makeGenerator(total: number): (i: number) => BulkEvent {
       entityType: k[1],
       entityId,
       before: changed ? { status: 'quarantine', count: Math.floor(rnd() * 40) } : null,
-      after: { status: changed ? 'released' : 'recorded', count: Math.floor(rnd() * 40), score: Math.round(rnd() * 10_000) / 10_000 },
+      after: {
+        status: changed ? 'released' : 'recorded',
+        count: Math.floor(rnd() * 40),
+        score: Math.round(rnd() * 10_000) / 10_000,
+      },
       reason,
       ip: `10.0.${Math.floor(rnd() * 4)}.${1 + Math.floor(rnd() * 250)}`,
     };
@@ -130,7 +136,9 @@ async function seed(db: Knex, owner: Knex): Promise<void> {
     onProgress: (done) => {
       if (done - lastReport >= 100_000 || done === EVENTS) {
         lastReport = done;
-        process.stdout.write(`  seeded ${done.toLocaleString('en-GB')} events (${((performance.now() - t0) / 1000).toFixed(0)} s)\n`);
+        process.stdout.write(
+          `  seeded ${done.toLocaleString('en-GB')} events (${((performance.now() - t0) / 1000).toFixed(0)} s)\n`,
+        );
       }
     },
   });
@@ -161,17 +169,28 @@ async function measure(name: string, runs: number, fn: (i: number) => Promise<nu
     times.push(performance.now() - t);
   }
   times.sort((a, b) => a - b);
-  return { name, p50: percentile(times, 50), p95: percentile(times, 95), max: times[times.length - 1], rows: Math.round(rows / runs) };
+  return {
+    name,
+    p50: percentile(times, 50),
+    p95: percentile(times, 95),
+    max: times[times.length - 1],
+    rows: Math.round(rows / runs),
+  };
 }
 
-export async function runAuditBench(args: string[] = process.argv.slice(2)): Promise<{ results: Result[]; ok: boolean }> {
+export async function runAuditBench(
+  args: string[] = process.argv.slice(2),
+): Promise<{ results: Result[]; ok: boolean }> {
   const reseed = args.includes('--reseed');
   const ownerCfg = knexConfig(dbSettings('owner', DB_NAME), { min: 0, max: 2 });
   let needSeed = reseed;
   if (!needSeed) {
     const probe = knexFactory(knexConfig({ ...dbSettings('owner', DB_NAME), database: '' }, { min: 0, max: 1 }));
     try {
-      const [rows] = await probe.raw('SELECT COUNT(*) AS n FROM information_schema.tables WHERE table_schema = ? AND table_name = ?', [DB_NAME, 'audit_head']);
+      const [rows] = await probe.raw(
+        'SELECT COUNT(*) AS n FROM information_schema.tables WHERE table_schema = ? AND table_name = ?',
+        [DB_NAME, 'audit_head'],
+      );
       if (Number(rows[0].n) === 0) needSeed = true;
       else {
         const [h] = await probe.raw(`SELECT last_id FROM \`${DB_NAME}\`.audit_head WHERE id = 1`);
@@ -190,9 +209,21 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
   const owner = knexFactory(ownerCfg);
   try {
     if (needSeed) await seed(db, owner);
-    else console.log(`[bench audit] reusing ${DB_NAME} with ${EVENTS.toLocaleString('en-GB')} events (--reseed to rebuild)`);
+    else
+      console.log(
+        `[bench audit] reusing ${DB_NAME} with ${EVENTS.toLocaleString('en-GB')} events (--reseed to rebuild)`,
+      );
 
-    const auditor: AuthUser = { id: 1, username: 'bench1', fullName: 'Bench User 1', email: '', roles: ['auditor'], mustChangePassword: false, sessionId: '', signedOnce: false };
+    const auditor: AuthUser = {
+      id: 1,
+      username: 'bench1',
+      fullName: 'Bench User 1',
+      email: '',
+      roles: ['auditor'],
+      mustChangePassword: false,
+      sessionId: '',
+      signedOnce: false,
+    };
     const admin: AuthUser = { ...auditor, roles: ['admin'] };
     const bounds = await db('audit_event').min({ lo: 'occurred_at' }).max({ hi: 'occurred_at' }).first();
     const lo = new Date(bounds!.lo).getTime();
@@ -208,7 +239,8 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
       return { from: s.toISOString(), to: new Date(s.getTime() + 86_400_000).toISOString() };
     };
     const user = () => 1 + Math.floor(rnd() * USERS);
-    const list = async (u: AuthUser, q: Partial<AuditListQuery>) => (await service.listEvents(db, u, { sort: 'desc', limit: 50, ...q } as AuditListQuery)).events.length;
+    const list = async (u: AuthUser, q: Partial<AuditListQuery>) =>
+      (await service.listEvents(db, u, { sort: 'desc', limit: 50, ...q } as AuditListQuery)).events.length;
     const deepCursor = async (f: Partial<AuditListQuery>) => {
       // a cursor half-way into the matching events: the keyset makes page 10,000 cost what page 1 costs
       const id = Math.floor(EVENTS * (0.3 + rnd() * 0.4));
@@ -218,7 +250,12 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
     const actionsFor = (prefix: string) => KINDS.filter((k) => k[0].startsWith(prefix)).map((k) => k[0]);
     /** the record id of a random existing event of that type (so that the record has a history) */
     const existingId = async (type: string) => {
-      const row = await db('audit_event').select('entity_id').where('entity_type', type).andWhere('id', '>=', 1 + Math.floor(rnd() * EVENTS * 0.95)).orderBy('id').first();
+      const row = await db('audit_event')
+        .select('entity_id')
+        .where('entity_type', type)
+        .andWhere('id', '>=', 1 + Math.floor(rnd() * EVENTS * 0.95))
+        .orderBy('id')
+        .first();
       return String(row?.entity_id ?? '1');
     };
 
@@ -226,7 +263,9 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
     const add = async (name: string, fn: (i: number) => Promise<number>) => {
       const r = await measure(name, RUNS, fn);
       results.push(r);
-      console.log(`  ${r.p95 < TARGET_P95_MS ? 'ok  ' : 'SLOW'} ${name.padEnd(52)} p50 ${r.p50.toFixed(1).padStart(7)} ms   p95 ${r.p95.toFixed(1).padStart(7)} ms   (${r.rows} rows)`);
+      console.log(
+        `  ${r.p95 < TARGET_P95_MS ? 'ok  ' : 'SLOW'} ${name.padEnd(52)} p50 ${r.p50.toFixed(1).padStart(7)} ms   p95 ${r.p95.toFixed(1).padStart(7)} ms   (${r.rows} rows)`,
+      );
     };
     console.log(`[bench audit] ${RUNS} runs per query, page size 50, first pages include the capped count`);
     await add('all events, page 1 (newest first)', () => list(auditor, {}));
@@ -235,19 +274,32 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
     await add('date range: one day, page 1', () => list(auditor, day()));
     await add('user, page 1', () => list(auditor, { actorId: user() }));
     await add('user + one month, page 1', () => list(auditor, { actorId: user(), ...month() }));
-    await add('action exact (random), page 1', () => list(auditor, { action: KINDS[Math.floor(rnd() * KINDS.length)][0] }));
-    await add('action prefix (auth.* / test.* / lot.*), page 1', (i) => list(auditor, { action: `${['auth', 'test', 'lot'][i % 3]}.*` }));
+    await add('action exact (random), page 1', () =>
+      list(auditor, { action: KINDS[Math.floor(rnd() * KINDS.length)][0] }),
+    );
+    await add('action prefix (auth.* / test.* / lot.*), page 1', (i) =>
+      list(auditor, { action: `${['auth', 'test', 'lot'][i % 3]}.*` }),
+    );
     await add('action exact + one month, page 1', () => list(auditor, { action: 'lot.released', ...month() }));
     await add('record type only (certificate), page 1', () => list(auditor, { entityType: 'certificate' }));
-    await add('record type + id (one lot), page 1', async () => list(auditor, { entityType: 'lot', entityId: await existingId('lot') }));
-    await add('record history (one container, all events)', async () => (await repo.eventsOfRecord(db, 'container', await existingId('container'), 1000)).length);
+    await add('record type + id (one lot), page 1', async () =>
+      list(auditor, { entityType: 'lot', entityId: await existingId('lot') }),
+    );
+    await add(
+      'record history (one container, all events)',
+      async () => (await repo.eventsOfRecord(db, 'container', await existingId('container'), 1000)).length,
+    );
     await add('reason text, common words ("ATR contact"), one request', () => list(auditor, { q: 'ATR contact' }));
-    await add('reason text, rare phrase, one request (one window)', (i) => list(auditor, { q: `measurement repeated (${4000 + i})` }));
+    await add('reason text, rare phrase, one request (one window)', (i) =>
+      list(auditor, { q: `measurement repeated (${4000 + i})` }),
+    );
     await add('reason text + user, one request', () => list(auditor, { q: 'corrected', actorId: user() }));
     await add('reason text + one month, one request', () => list(auditor, { q: 'typing error', ...month() }));
     await add('deep page (cursor half-way), no filter', async () => list(auditor, await deepCursor({})));
     await add('deep page (cursor half-way), user', async () => list(auditor, await deepCursor({ actorId: user() })));
-    await add('deep page (cursor half-way), action prefix test.*', async () => list(auditor, await deepCursor({ action: 'test.*' })));
+    await add('deep page (cursor half-way), action prefix test.*', async () =>
+      list(auditor, await deepCursor({ action: 'test.*' })),
+    );
     await add('administrator view (account events), page 1', () => list(admin, {}));
     await add('filter choices (distinct actions, types, users)', async () => {
       const f = await repo.facets(db);
@@ -262,12 +314,19 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
       let requests = 0;
       let found = 0;
       do {
-        const page: Awaited<ReturnType<typeof service.listEvents>> = await service.listEvents(db, auditor, { sort: 'desc', limit: 50, q: 'measurement repeated (4242)', ...(cursor ? { cursor } : {}) } as AuditListQuery);
+        const page: Awaited<ReturnType<typeof service.listEvents>> = await service.listEvents(db, auditor, {
+          sort: 'desc',
+          limit: 50,
+          q: 'measurement repeated (4242)',
+          ...(cursor ? { cursor } : {}),
+        } as AuditListQuery);
         found += page.events.length;
         cursor = page.nextCursor;
         requests++;
       } while (cursor && found < 50);
-      console.log(`  rare text over the whole trail: ${requests} requests, ${found} found, ${(performance.now() - t1).toFixed(0)} ms in all (each request is one bounded window)`);
+      console.log(
+        `  rare text over the whole trail: ${requests} requests, ${found} found, ${(performance.now() - t1).toFixed(0)} ms in all (each request is one bounded window)`,
+      );
     }
 
     // Export throughput: the CSV path's page iterator over a large selection.
@@ -278,9 +337,13 @@ export async function runAuditBench(args: string[] = process.argv.slice(2)): Pro
       if (n >= 100_000) break;
     }
     const s = (performance.now() - t0) / 1000;
-    console.log(`  export pages: ${n.toLocaleString('en-GB')} events read in ${s.toFixed(1)} s (${Math.round(n / s).toLocaleString('en-GB')} events/s)`);
+    console.log(
+      `  export pages: ${n.toLocaleString('en-GB')} events read in ${s.toFixed(1)} s (${Math.round(n / s).toLocaleString('en-GB')} events/s)`,
+    );
     const ok = results.every((r) => r.p95 < TARGET_P95_MS);
-    console.log(ok ? '[bench audit] all queries meet the p95 target' : '[bench audit] SOME QUERIES MISS the p95 target');
+    console.log(
+      ok ? '[bench audit] all queries meet the p95 target' : '[bench audit] SOME QUERIES MISS the p95 target',
+    );
     return { results, ok };
   } finally {
     await db.destroy();

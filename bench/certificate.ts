@@ -44,7 +44,11 @@ export async function runCertificateBench(): Promise<{ ok: boolean; medianMs: nu
     const first = await createPassedLot(db, { containers: CONTAINERS });
     const users = { operator: first.operator, verifier: first.verifier, qa: first.qa };
     const gen = async () =>
-      prepareCertificate(db, { lotId: first.lotId, testId: first.testId, number: 'IC-2026-99999', issuedAt: new Date(), supersedes: null }, config);
+      prepareCertificate(
+        db,
+        { lotId: first.lotId, testId: first.testId, number: 'IC-2026-99999', issuedAt: new Date(), supersedes: null },
+        config,
+      );
 
     for (let i = 0; i < WARMUP; i++) await gen(); // warm-up: module loading, font parsing, JIT (a server is long-running)
     const times: number[] = [];
@@ -67,17 +71,31 @@ export async function runCertificateBench(): Promise<{ ok: boolean; medianMs: nu
     const issueTimes: number[] = [];
     for (const lot of lots) {
       const t0 = performance.now();
-      const m = await issueCertificate(db, { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 'bench' } }, { config });
+      const m = await issueCertificate(
+        db,
+        { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 'bench' } },
+        { config },
+      );
       issueTimes.push(performance.now() - t0);
       if (!m.created) throw new Error('bench: the certificate was not created');
     }
     const is = stats(issueTimes);
 
     const ok = g.median < TARGET_MEDIAN_MS;
-    console.log(`[bench certificate] ${CONTAINERS}-container lot, PDF ${Math.round(bytes / 1024)} KiB, ${RUNS} runs after ${WARMUP} warm-up runs`);
-    console.log(`  ${ok ? 'ok  ' : 'SLOW'} generate + sign               median ${g.median.toFixed(1).padStart(6)} ms   p95 ${g.p95.toFixed(1).padStart(6)} ms   min ${g.min.toFixed(1)}   max ${g.max.toFixed(1)}   (CPU median ${gc.median.toFixed(1)} ms)`);
-    console.log(`       issue (generate, sign, store) median ${is.median.toFixed(1).padStart(6)} ms   p95 ${is.p95.toFixed(1).padStart(6)} ms   (${ISSUE_RUNS} fresh lots)`);
-    console.log(ok ? `[bench certificate] meets the target (median < ${TARGET_MEDIAN_MS} ms)` : `[bench certificate] MISSES the target (median < ${TARGET_MEDIAN_MS} ms)`);
+    console.log(
+      `[bench certificate] ${CONTAINERS}-container lot, PDF ${Math.round(bytes / 1024)} KiB, ${RUNS} runs after ${WARMUP} warm-up runs`,
+    );
+    console.log(
+      `  ${ok ? 'ok  ' : 'SLOW'} generate + sign               median ${g.median.toFixed(1).padStart(6)} ms   p95 ${g.p95.toFixed(1).padStart(6)} ms   min ${g.min.toFixed(1)}   max ${g.max.toFixed(1)}   (CPU median ${gc.median.toFixed(1)} ms)`,
+    );
+    console.log(
+      `       issue (generate, sign, store) median ${is.median.toFixed(1).padStart(6)} ms   p95 ${is.p95.toFixed(1).padStart(6)} ms   (${ISSUE_RUNS} fresh lots)`,
+    );
+    console.log(
+      ok
+        ? `[bench certificate] meets the target (median < ${TARGET_MEDIAN_MS} ms)`
+        : `[bench certificate] MISSES the target (median < ${TARGET_MEDIAN_MS} ms)`,
+    );
     return { ok, medianMs: g.median };
   } finally {
     await db.destroy();

@@ -66,8 +66,14 @@ function syntheticSpectrum(seed: number, noiseSeed = seed): Spectrum {
     x,
     y,
     meta: {
-      title: `synthetic ${seed}`, fileName: `synthetic-${seed}.csv`, format: 'delimited', originalXUnits: 'cm-1',
-      originalYUnits: 'absorbance', yKind: 'absorbance', points: POINTS, warnings: [],
+      title: `synthetic ${seed}`,
+      fileName: `synthetic-${seed}.csv`,
+      format: 'delimited',
+      originalXUnits: 'cm-1',
+      originalYUnits: 'absorbance',
+      yKind: 'absorbance',
+      points: POINTS,
+      warnings: [],
     },
   };
 }
@@ -95,11 +101,15 @@ const verdict = (ok: boolean) => (ok ? 'target met' : 'TARGET MISSED');
 
 export async function runEngineBench(): Promise<{ ok: boolean }> {
   const started = performance.now();
-  console.log(`[bench engine] node ${process.version}; method grid ${METHOD.range.from}-${METHOD.range.to} cm-1 every ${METHOD.gridStep} cm-1`);
+  console.log(
+    `[bench engine] node ${process.version}; method grid ${METHOD.range.from}-${METHOD.range.to} cm-1 every ${METHOD.gridStep} cm-1`,
+  );
   let ok = true;
 
   // 1. Full identity decision against a 3-reference set.
-  const refs = [1, 2, 3].map((seed) => prepareReference({ id: `ref-${seed}`, spectrum: syntheticSpectrum(seed) }, METHOD));
+  const refs = [1, 2, 3].map((seed) =>
+    prepareReference({ id: `ref-${seed}`, spectrum: syntheticSpectrum(seed) }, METHOD),
+  );
   const sample = syntheticSpectrum(2, 99); // reference 2 measured again (new noise)
   const check = scoreAgainst(sample, refs, METHOD);
   if (check.verdict !== 'pass') throw new Error(`bench sample should pass, got ${check.verdict}`);
@@ -108,7 +118,9 @@ export async function runEngineBench(): Promise<{ ok: boolean }> {
   const tScoreRaw = time(() => scoreAgainst(sample, rawRefs, METHOD), 50, 5);
   const scoreOk = tScore < 2;
   ok &&= scoreOk;
-  console.log(`  scoreAgainst, ${POINTS}-point sample vs 3 prepared references: median ${ms(tScore)}  (target < 2 ms: ${verdict(scoreOk)})`);
+  console.log(
+    `  scoreAgainst, ${POINTS}-point sample vs 3 prepared references: median ${ms(tScore)}  (target < 2 ms: ${verdict(scoreOk)})`,
+  );
   console.log(`  (for information: with the 3 references prepared inside each call ${ms(tScoreRaw)})`);
 
   // 2./3. Library search.
@@ -117,7 +129,10 @@ export async function runEngineBench(): Promise<{ ok: boolean }> {
   const firstThousand: PreparedReference[] = [];
   function* entries(count: number): Generator<PreparedReference> {
     for (let i = 0; i < count; i++) {
-      const r = prepareReference({ id: `lib-${i}`, materialId: `material-${i % 500}`, spectrum: syntheticSpectrum(1000 + i) }, METHOD);
+      const r = prepareReference(
+        { id: `lib-${i}`, materialId: `material-${i % 500}`, spectrum: syntheticSpectrum(1000 + i) },
+        METHOD,
+      );
       // The naive baseline keeps each prepared reference as its own array.
       naiveRows.push(r.prepared.y);
       if (i < 1000) firstThousand.push(r);
@@ -127,27 +142,40 @@ export async function runEngineBench(): Promise<{ ok: boolean }> {
   const big = buildLibrary(entries(10_000), METHOD, { keepReferences: false });
   const buildSeconds = (performance.now() - t0) / 1000;
   const small = buildLibrary(firstThousand, METHOD, { keepReferences: false });
-  console.log(`  libraries: 10,000 references prepared and packed in ${buildSeconds.toFixed(1)} s (${big.width} points per row, ` +
-    `${(big.data.byteLength / 2 ** 20).toFixed(0)} MiB float32, kernel: ${big.kernel.engine})`);
+  console.log(
+    `  libraries: 10,000 references prepared and packed in ${buildSeconds.toFixed(1)} s (${big.width} points per row, ` +
+      `${(big.data.byteLength / 2 ** 20).toFixed(0)} MiB float32, kernel: ${big.kernel.engine})`,
+  );
 
   const query = prepare(syntheticSpectrum(1000 + 4321, 7), METHOD);
   const queryArray = Array.from(query.y);
-  for (const [lib, n, runs, mathRuns] of [[small, 1000, 41, 3], [big, 10_000, 15, 1]] as const) {
+  for (const [lib, n, runs, mathRuns] of [
+    [small, 1000, 41, 3],
+    [big, 10_000, 15, 1],
+  ] as const) {
     const hits = searchLibrary(lib, query, 5);
     if (hits[0].id !== 'lib-4321' && n === 10_000) throw new Error('library search did not find the sample itself');
     const tSearch = time(() => searchLibrary(lib, query, 10), runs);
     const tSearchRaw = time(() => searchLibrary(lib, syntheticSpectrum(1000 + 4321, 7), 10), 5, 1);
     const rows = naiveRows.slice(0, n);
-    const tPlain = time(() => {
-      const s = new Float64Array(n);
-      for (let i = 0; i < n; i++) s[i] = pearson(rows[i], query.y);
-      return s;
-    }, 5, 1);
-    const tMath = time(() => {
-      const s = new Float64Array(n);
-      for (let i = 0; i < n; i++) s[i] = corr(Array.from(rows[i]), queryArray) as number;
-      return s;
-    }, mathRuns, 0);
+    const tPlain = time(
+      () => {
+        const s = new Float64Array(n);
+        for (let i = 0; i < n; i++) s[i] = pearson(rows[i], query.y);
+        return s;
+      },
+      5,
+      1,
+    );
+    const tMath = time(
+      () => {
+        const s = new Float64Array(n);
+        for (let i = 0; i < n; i++) s[i] = corr(Array.from(rows[i]), queryArray) as number;
+        return s;
+      },
+      mathRuns,
+      0,
+    );
     // Memory-bandwidth bound: read a buffer of the library's size once (native memchr scan).
     const buffer = Buffer.alloc(lib.data.byteLength);
     const tRead = time(() => buffer.indexOf(1), 15);
@@ -166,14 +194,22 @@ export async function runEngineBench(): Promise<{ ok: boolean }> {
     const fastOk = vsNaive >= 10;
     const boundOk = vsBound <= 3;
     ok &&= fastOk && boundOk;
-    console.log(`  searchLibrary over ${n.toLocaleString('en-GB')} references (top 10, sample prepared): median ${ms(tSearch)}` +
-      `; including the sample's preparation ${ms(tSearchRaw)}`);
-    console.log(`    naive, mathjs corr per reference: ${ms(tMath)} -> ${vsNaive.toFixed(0)}x faster  (target >= 10x: ${verdict(fastOk)})`);
+    console.log(
+      `  searchLibrary over ${n.toLocaleString('en-GB')} references (top 10, sample prepared): median ${ms(tSearch)}` +
+        `; including the sample's preparation ${ms(tSearchRaw)}`,
+    );
+    console.log(
+      `    naive, mathjs corr per reference: ${ms(tMath)} -> ${vsNaive.toFixed(0)}x faster  (target >= 10x: ${verdict(fastOk)})`,
+    );
     console.log(`    naive, plain per-pair Pearson:    ${ms(tPlain)} -> ${(tPlain / tSearch).toFixed(1)}x faster`);
-    console.log(`    reading ${(lib.data.byteLength / 2 ** 20).toFixed(1)} MiB: native ${ms(tRead)}, JavaScript loop ${ms(tReadJs)}` +
-      ` -> search takes ${vsBound.toFixed(2)}x the bound  (target within 3x: ${verdict(boundOk)})`);
+    console.log(
+      `    reading ${(lib.data.byteLength / 2 ** 20).toFixed(1)} MiB: native ${ms(tRead)}, JavaScript loop ${ms(tReadJs)}` +
+        ` -> search takes ${vsBound.toFixed(2)}x the bound  (target within 3x: ${verdict(boundOk)})`,
+    );
   }
-  console.log(`[bench engine] ${ok ? 'all targets met' : 'SOME TARGETS MISSED'} (${((performance.now() - started) / 1000).toFixed(0)} s)`);
+  console.log(
+    `[bench engine] ${ok ? 'all targets met' : 'SOME TARGETS MISSED'} (${((performance.now() - started) / 1000).toFixed(0)} s)`,
+  );
   return { ok };
 }
 

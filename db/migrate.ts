@@ -50,7 +50,8 @@ export async function recreateDatabase(database: string): Promise<void> {
 
 /** Drops a database (test runs clean up after themselves). */
 export async function dropDatabase(database: string): Promise<void> {
-  if (!/^drumline_[a-z0-9_]+$/.test(database) || database === 'drumline') throw new Error(`refusing to drop database ${database}`);
+  if (!/^drumline_[a-z0-9_]+$/.test(database) || database === 'drumline')
+    throw new Error(`refusing to drop database ${database}`);
   const s = dbSettings('owner', database);
   const owner = knexFactory(knexConfig({ ...s, database: '' }, { min: 0, max: 1 }));
   try {

@@ -19,7 +19,9 @@ async function signOut(page: Page) {
   await expect(page.getByText('You have signed out.')).toBeVisible();
 }
 
-test('an admin creates an account; the new user must change the temporary password, then reaches the home page', async ({ page }) => {
+test('an admin creates an account; the new user must change the temporary password, then reaches the home page', async ({
+  page,
+}) => {
   const username = `e2e.${Date.now().toString(36)}`;
   const fullName = 'Rosa Trägårdh';
   const temporary = 'Temporary-Pass-4711';
@@ -60,7 +62,9 @@ test('an admin creates an account; the new user must change the temporary passwo
   await form.getByLabel('Temporary password').fill(temporary);
   await form.getByLabel(/^Verifier/).check();
   await form.getByRole('button', { name: 'Create account' }).click();
-  await expect(form.getByRole('alert').filter({ hasText: `The user name "${username}" is already taken.` })).toBeVisible();
+  await expect(
+    form.getByRole('alert').filter({ hasText: `The user name "${username}" is already taken.` }),
+  ).toBeVisible();
   await form.getByRole('button', { name: 'Cancel' }).click();
 
   await signOut(page);
@@ -96,7 +100,9 @@ test('an admin creates an account; the new user must change the temporary passwo
   await expect(page.getByRole('heading', { name: `Work queue of ${fullName}` })).toBeVisible();
 });
 
-test('an operator who opens the admin page is told in words that the page is not open to their roles', async ({ page }) => {
+test('an operator who opens the admin page is told in words that the page is not open to their roles', async ({
+  page,
+}) => {
   await signIn(page, 'olga', DEMO_PASSWORD);
   await expect(page.getByRole('heading', { name: 'Work queue of Olga Brandt' })).toBeVisible();
   await page.goto('/admin/users');
@@ -104,7 +110,10 @@ test('an operator who opens the admin page is told in words that the page is not
   await expect(page.getByRole('table')).toHaveCount(0);
 });
 
-test('when the server no longer knows the session, the next action leads to the sign-in page with the reason, and back', async ({ page, context }) => {
+test('when the server no longer knows the session, the next action leads to the sign-in page with the reason, and back', async ({
+  page,
+  context,
+}) => {
   await signIn(page, 'adam', DEMO_PASSWORD);
   await expect(page.getByRole('heading', { name: 'Work queue of Adam Lindqvist' })).toBeVisible();
   // The session cookie disappears as it does when the server ends an idle session.

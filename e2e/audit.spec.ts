@@ -15,16 +15,27 @@ async function signIn(page: Page, username: string) {
   await expect(page.getByRole('navigation', { name: 'Main' })).toBeVisible();
 }
 
-test('an administrator changes roles; the account history and the auditor trail show who, when, why, before and after', async ({ page, browser }) => {
+test('an administrator changes roles; the account history and the auditor trail show who, when, why, before and after', async ({
+  page,
+  browser,
+}) => {
   // The administrator makes a change with a reason (through the API, with the page's session).
   await signIn(page, 'adam');
   const username = `e2e.audit.${Date.now().toString(36)}`;
   const created = await page.request.post('/api/users', {
-    data: { username, fullName: 'Jonas Ekwueme', email: `${username}@lindenhall.example`, roles: ['operator'], temporaryPassword: 'Temporary-Pass-4711' },
+    data: {
+      username,
+      fullName: 'Jonas Ekwueme',
+      email: `${username}@lindenhall.example`,
+      roles: ['operator'],
+      temporaryPassword: 'Temporary-Pass-4711',
+    },
   });
   expect(created.status()).toBe(201);
   const id = (await created.json()).id as number;
-  const changed = await page.request.patch(`/api/users/${id}`, { data: { roles: ['operator', 'verifier'], reason: 'trained as second person, training record TR-118' } });
+  const changed = await page.request.patch(`/api/users/${id}`, {
+    data: { roles: ['operator', 'verifier'], reason: 'trained as second person, training record TR-118' },
+  });
   expect(changed.status()).toBe(200);
 
   // Account history from the accounts page.
@@ -44,7 +55,8 @@ test('an administrator changes roles; the account history and the auditor trail 
   // The administrator's trail holds account events only.
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Audit trail' }).click();
   await expect(page.getByRole('note')).toContainText('you see the account and sign-in events');
-  for (const cell of await page.getByTestId('audit-row').locator('td:nth-child(5)').allTextContents()) expect(cell).toMatch(/^Account/);
+  for (const cell of await page.getByTestId('audit-row').locator('td:nth-child(5)').allTextContents())
+    expect(cell).toMatch(/^Account/);
 
   // The auditor, in a separate session.
   const ctx = await browser.newContext();

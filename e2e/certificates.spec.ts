@@ -48,12 +48,16 @@ test.beforeAll(async () => {
   }
 });
 
-test('after verification the certificate downloads; the verification page accepts it and rejects a tampered copy', async ({ page }, testInfo) => {
+test('after verification the certificate downloads; the verification page accepts it and rejects a tampered copy', async ({
+  page,
+}, testInfo) => {
   test.setTimeout(120_000);
 
   // Victor (verifier, not the performer) signs the test verified through the API of the running server.
   await signIn(page, 'victor');
-  const res = await page.request.post(`/api/tests/${lot.testId}/verify`, { data: { signature: { username: 'victor', password: DEMO_PASSWORD } } });
+  const res = await page.request.post(`/api/tests/${lot.testId}/verify`, {
+    data: { signature: { username: 'victor', password: DEMO_PASSWORD } },
+  });
   expect(res.status(), await res.text()).toBe(200);
   const body = await res.json();
   expect(body).toMatchObject({ outcome: 'passed', certificate: 'issued' });

@@ -30,7 +30,9 @@ async function signIn(page: Page, username: string) {
 }
 
 for (const account of DEMO_ACCOUNTS) {
-  test(`demo account ${account.username} (${account.roles.join(', ')}) finds a non-empty work queue`, async ({ page }) => {
+  test(`demo account ${account.username} (${account.roles.join(', ')}) finds a non-empty work queue`, async ({
+    page,
+  }) => {
     await signIn(page, account.username);
     const main = page.getByRole('main');
     await expect(main.getByText('Nothing awaits you.')).toHaveCount(0);

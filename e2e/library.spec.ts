@@ -36,7 +36,9 @@ async function sign(page: Page, username: string, confirm: string) {
   await dialog.getByRole('button', { name: confirm }).click();
 }
 
-test('QA uploads a reference, sees its bands; a second QA manager approves it with the password and the signature appears', async ({ page }) => {
+test('QA uploads a reference, sees its bands; a second QA manager approves it with the password and the signature appears', async ({
+  page,
+}) => {
   test.setTimeout(180_000);
   const code = `PAR${Date.now().toString(36).toUpperCase()}`;
 
@@ -75,7 +77,12 @@ test('QA uploads a reference, sees its bands; a second QA manager approves it wi
   await expect(bands.getByTestId('band-row').first()).toBeVisible();
   expect(await bands.getByTestId('band-row').count()).toBeGreaterThan(3);
   // para-aramid: amide I (C=O stretch) near 1640 cm-1 (standard IR correlation tables, from memory)
-  await expect(bands.getByTestId('band-row').filter({ hasText: /16[3-5]\d\.\d cm⁻¹/ }).first()).toContainText(/C=O|amide/i);
+  await expect(
+    bands
+      .getByTestId('band-row')
+      .filter({ hasText: /16[3-5]\d\.\d cm⁻¹/ })
+      .first(),
+  ).toContainText(/C=O|amide/i);
   await expect(page.getByRole('group', { name: new RegExp(`^Reference ${refCode}`) })).toBeVisible();
   await expect(page.getByRole('button', { name: 'Approve reference' })).toBeDisabled();
   await expect(page.getByRole('note')).toContainText('Another QA manager must approve it');

@@ -54,25 +54,58 @@ async function lotOf(supplierLot: string): Promise<number> {
 const SHOTS: Shot[] = [
   { file: '01-sign-in.png', user: '', path: '/sign-in', waitFor: 'Sign in' },
   { file: '02-operator-work-queue.png', user: 'olga', path: '/', waitFor: /Work queue of Olga Brandt/ },
-  { file: '03-operator-bench.png', user: 'olga', path: async () => `/lots/${await lotOf('QX-MS-3301')}`, waitFor: 'QX-MS-3301' },
+  {
+    file: '03-operator-bench.png',
+    user: 'olga',
+    path: async () => `/lots/${await lotOf('QX-MS-3301')}`,
+    waitFor: 'QX-MS-3301',
+  },
   { file: '04-instruments.png', user: 'olga', path: '/instruments', waitFor: 'FTIR 3 - dispensary' },
-  { file: '05-verifier-review.png', user: 'victor', path: async () => `/tests/${await lastTestOf('AP-K30-5512')}/review`, waitFor: /Povidone/ },
+  {
+    file: '05-verifier-review.png',
+    user: 'victor',
+    path: async () => `/tests/${await lastTestOf('AP-K30-5512')}/review`,
+    waitFor: /Povidone/,
+  },
   {
     file: '06-mix-up-result.png',
     user: 'victor',
     path: async () => `/tests/${await lastTestOf('QX-MC-7720')}/review`,
     waitFor: /Microcrystalline cellulose/,
     prepare: async (page) => {
-      await page.getByText(/Closest approved materials: Maize starch/).first().scrollIntoViewIfNeeded();
+      await page
+        .getByText(/Closest approved materials: Maize starch/)
+        .first()
+        .scrollIntoViewIfNeeded();
       await page.mouse.wheel(0, 250);
     },
   },
-  { file: '07-qa-investigation.png', user: 'quinn', path: async () => `/investigations/${await idOf('investigation', { status: 'open' })}`, waitFor: /Maize starch/ },
+  {
+    file: '07-qa-investigation.png',
+    user: 'quinn',
+    path: async () => `/investigations/${await idOf('investigation', { status: 'open' })}`,
+    waitFor: /Maize starch/,
+  },
   { file: '08-qa-library.png', user: 'quinn', path: '/library', waitFor: 'CIT-MH' },
-  { file: '09-qa-look-alike-method.png', user: 'quinn', path: async () => `/library/materials/${await idOf('material', { code: 'CIT-AN' })}`, waitFor: /CIT-AN/ },
-  { file: '10-qa-draft-reference.png', user: 'quinn', path: async () => `/library/references/${await idOf('reference_spectrum', { status: 'draft' })}`, waitFor: /REF-STA-MZ-0004/ },
+  {
+    file: '09-qa-look-alike-method.png',
+    user: 'quinn',
+    path: async () => `/library/materials/${await idOf('material', { code: 'CIT-AN' })}`,
+    waitFor: /CIT-AN/,
+  },
+  {
+    file: '10-qa-draft-reference.png',
+    user: 'quinn',
+    path: async () => `/library/references/${await idOf('reference_spectrum', { status: 'draft' })}`,
+    waitFor: /REF-STA-MZ-0004/,
+  },
   { file: '11-auditor-work-queue.png', user: 'aurelia', path: '/', waitFor: /Work queue of Aurelia Santos/ },
-  { file: '12-certificate.png', user: 'aurelia', path: async () => `/certificates/${(await getDb()('certificate').orderBy('id').first()).id}`, waitFor: /IC-/ },
+  {
+    file: '12-certificate.png',
+    user: 'aurelia',
+    path: async () => `/certificates/${(await getDb()('certificate').orderBy('id').first()).id}`,
+    waitFor: /IC-/,
+  },
   { file: '13-auditor-audit-trail.png', user: 'aurelia', path: '/audit', waitFor: /Audit trail/ },
   { file: '14-admin-accounts.png', user: 'adam', path: '/admin/users', waitFor: 'Tomas Berg' },
 ];
@@ -88,7 +121,10 @@ async function signIn(page: Page, username: string) {
 async function main(): Promise<void> {
   const clientDir = 'dist-e2e/screenshots';
   console.log(`[screenshots] building the client into ${clientDir}`);
-  execFileSync('npx', ['vite', 'build', '--logLevel', 'warn', '--outDir', clientDir, '--emptyOutDir'], { cwd: repoRoot, stdio: 'inherit' });
+  execFileSync('npx', ['vite', 'build', '--logLevel', 'warn', '--outDir', clientDir, '--emptyOutDir'], {
+    cwd: repoRoot,
+    stdio: 'inherit',
+  });
   process.env.DRUMLINE_CLIENT_DIR = clientDir;
   console.log(`[screenshots] seeding the demo into ${database}`);
   await recreateDatabase(database);
@@ -101,15 +137,26 @@ async function main(): Promise<void> {
   const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
   rmSync(outDir, { recursive: true, force: true });
   mkdirSync(outDir, { recursive: true });
-  const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking'] });
+  const browser = await chromium.launch({
+    executablePath: '/usr/bin/chromium',
+    args: ['--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking'],
+  });
   try {
     let current = '';
-    let context = await browser.newContext({ baseURL: base, viewport: { width: 1280, height: 800 }, deviceScaleFactor: 1 });
+    let context = await browser.newContext({
+      baseURL: base,
+      viewport: { width: 1280, height: 800 },
+      deviceScaleFactor: 1,
+    });
     let page = await context.newPage();
     for (const shot of SHOTS) {
       if (shot.user !== current) {
         await context.close();
-        context = await browser.newContext({ baseURL: base, viewport: { width: 1280, height: 800 }, deviceScaleFactor: 1 });
+        context = await browser.newContext({
+          baseURL: base,
+          viewport: { width: 1280, height: 800 },
+          deviceScaleFactor: 1,
+        });
         page = await context.newPage();
         if (shot.user) await signIn(page, shot.user);
         current = shot.user;

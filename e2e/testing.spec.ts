@@ -45,12 +45,16 @@ async function sign(page: Page, username: string, confirm: string) {
   await expect(dialog).toBeHidden({ timeout: 20_000 });
 }
 
-async function registerLot(page: Page, material: string, containers: number): Promise<{ lotNumber: string; url: string }> {
+async function registerLot(
+  page: Page,
+  material: string,
+  containers: number,
+): Promise<{ lotNumber: string; url: string }> {
   await page.goto('/lots');
   await page.getByRole('button', { name: 'Register a received lot' }).click();
   const materialSelect = page.getByLabel('Material grade');
   const option = materialSelect.locator('option', { hasText: material });
-  await materialSelect.selectOption({ value: await option.getAttribute('value') ?? '' });
+  await materialSelect.selectOption({ value: (await option.getAttribute('value')) ?? '' });
   await page.getByLabel('Supplier', { exact: true }).fill('Harrowgate Fibre Supply');
   await page.getByLabel("Supplier's lot number").fill(`HF-${Date.now().toString(36).toUpperCase()}`);
   await page.getByLabel('Number of containers').fill(String(containers));
@@ -68,7 +72,9 @@ async function startTesting(page: Page) {
   await expect(page.getByLabel('Scan or type the container label, then Enter')).toBeVisible();
 }
 
-test('operator registers a 3-container lot, uploads one at a time and several at once, signs; a verifier signs; the lot passes', async ({ browser }) => {
+test('operator registers a 3-container lot, uploads one at a time and several at once, signs; a verifier signs; the lot passes', async ({
+  browser,
+}) => {
   test.setTimeout(180_000);
   const olga = await signedIn(browser, 'olga');
   const { lotNumber, url } = await registerLot(olga, NYLON, 3);
@@ -84,16 +90,22 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   await scan.fill(`${lotNumber}-001`);
   await scan.press('Enter');
   await expect(olga.getByTestId('selected-container')).toHaveText(`Container ${lotNumber}-001`);
-  await olga.locator('section[aria-label^="Upload for"] input[type=file]').setInputFiles(spectrum('nylon66_s091_r2.csv', `${lotNumber}-001.csv`));
-  await expect(olga.locator('section[aria-label^="Upload for"] [data-status=done]')).toContainText('Pass', { timeout: 30_000 });
+  await olga
+    .locator('section[aria-label^="Upload for"] input[type=file]')
+    .setInputFiles(spectrum('nylon66_s091_r2.csv', `${lotNumber}-001.csv`));
+  await expect(olga.locator('section[aria-label^="Upload for"] [data-status=done]')).toContainText('Pass', {
+    timeout: 30_000,
+  });
   await expect(olga.getByTestId(`container-${lotNumber}-001`)).toContainText('Pass');
 
   // Several files: matched by the label in the name, confirmed, then uploaded with progress.
   await olga.getByRole('tab', { name: 'Several files' }).click();
-  await olga.getByTestId('multi-file-input').setInputFiles([
-    spectrum('nylon66_s090.csv', `${lotNumber}-002.csv`),
-    spectrum('nylon66_s093.csv', `scan ${lotNumber}-003 repeat.csv`),
-  ]);
+  await olga
+    .getByTestId('multi-file-input')
+    .setInputFiles([
+      spectrum('nylon66_s090.csv', `${lotNumber}-002.csv`),
+      spectrum('nylon66_s093.csv', `scan ${lotNumber}-003 repeat.csv`),
+    ]);
   const table = olga.getByRole('table', { name: 'Files and containers' });
   await expect(table.getByRole('row')).toHaveCount(3);
   await expect(table).toContainText(`${lotNumber}-002`);
@@ -114,7 +126,8 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   await expect(entry).toBeVisible();
   await entry.click();
   await expect(victor.getByRole('heading', { name: `Review of attempt 1, lot ${lotNumber}` })).toBeVisible();
-  for (const n of ['001', '002', '003']) await expect(victor.getByTestId(`review-${lotNumber}-${n}`)).toContainText('Pass');
+  for (const n of ['001', '002', '003'])
+    await expect(victor.getByTestId(`review-${lotNumber}-${n}`)).toContainText('Pass');
   await expect(victor.getByText(/Instrument checks used/)).toBeVisible();
   await expect(victor.getByTestId('spectrum-difference').first()).toBeVisible();
   await victor.getByRole('button', { name: 'Sign as verified' }).click();
@@ -123,19 +136,29 @@ test('operator registers a 3-container lot, uploads one at a time and several at
 
   await olga.goto(url);
   await expect(olga.getByTestId('identity-status')).toContainText('Identity passed');
-  for (const n of ['001', '002', '003']) await expect(olga.getByTestId(`lot-container-${lotNumber}-${n}`)).toContainText('Pass');
+  for (const n of ['001', '002', '003'])
+    await expect(olga.getByTestId(`lot-container-${lotNumber}-${n}`)).toContainText('Pass');
   // the certificate step ran after the verification committed: issued (or, if it could not be made, pending)
-  await expect(olga.getByRole('main').getByText(/^Identity certificate IC-\d{4}-\d+ issued|certificate is pending/)).toBeVisible();
+  await expect(
+    olga.getByRole('main').getByText(/^Identity certificate IC-\d{4}-\d+ issued|certificate is pending/),
+  ).toBeVisible();
 });
 
-test('a failing container opens an investigation with the library hint, and QA receives the e-mail', async ({ browser }) => {
+test('a failing container opens an investigation with the library hint, and QA receives the e-mail', async ({
+  browser,
+}) => {
   test.setTimeout(180_000);
   const olga = await signedIn(browser, 'olga');
   const { lotNumber, url } = await registerLot(olga, NYLON, 2);
   await startTesting(olga);
   // container 002 holds polyester: a real mix-up
   await olga.getByRole('tab', { name: 'Several files' }).click();
-  await olga.getByTestId('multi-file-input').setInputFiles([spectrum('nylon66_s090.csv', `${lotNumber}-001.csv`), spectrum('polyester-PET_s135_r2.csv', `${lotNumber}-002.csv`)]);
+  await olga
+    .getByTestId('multi-file-input')
+    .setInputFiles([
+      spectrum('nylon66_s090.csv', `${lotNumber}-001.csv`),
+      spectrum('polyester-PET_s135_r2.csv', `${lotNumber}-002.csv`),
+    ]);
   await olga.getByRole('button', { name: 'Upload 2 matched files' }).click();
   const table = olga.getByRole('table', { name: 'Files and containers' });
   await expect(table.locator('tr[data-state=done]')).toHaveCount(2, { timeout: 30_000 });
@@ -179,7 +202,11 @@ test('a failing container opens an investigation with the library hint, and QA r
       async () => {
         const res = await adam.request.get('/api/dev/mail');
         const mails = (await res.json()) as { to: string[]; subject: string; text: string }[];
-        return mails.find((m) => m.subject.includes(`${invNumber} opened`) && m.to.includes('quinn.okafor@lindenhall.example')) ?? null;
+        return (
+          mails.find(
+            (m) => m.subject.includes(`${invNumber} opened`) && m.to.includes('quinn.okafor@lindenhall.example'),
+          ) ?? null
+        );
       },
       { timeout: 20_000, intervals: [500, 1000] },
     )

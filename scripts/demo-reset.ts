@@ -15,7 +15,10 @@ import { closeDb } from '../server/lib/db';
 async function foreignMaterials(database: string): Promise<string[]> {
   const owner = knexFactory(knexConfig(dbSettings('owner', database), { min: 0, max: 1 }));
   try {
-    const exists = await owner.raw('SELECT 1 FROM information_schema.tables WHERE table_schema = ? AND table_name = ?', [database, 'material']);
+    const exists = await owner.raw(
+      'SELECT 1 FROM information_schema.tables WHERE table_schema = ? AND table_name = ?',
+      [database, 'material'],
+    );
     if (!(exists[0] as unknown[]).length) return [];
     const rows: { code: string }[] = await owner('material').select('code');
     return rows.map((r) => r.code).filter((c) => !DEMO_MATERIAL_CODES.includes(c));

@@ -23,10 +23,19 @@ async function main(): Promise<void> {
   if (!quinn) throw new Error('the demo QA account "quinn" is missing; seed the accounts first');
   const qa = { id: quinn.id as number, fullName: quinn.full_name as string };
   if (!(await db('material').where({ code: E2E_LIBRARY.nylon.code }).first()))
-    await seedApprovedMaterial(db, qa, { ...E2E_LIBRARY.nylon, grade: 'technical', referenceFiles: [FIBRES.nylon66Reference] });
+    await seedApprovedMaterial(db, qa, {
+      ...E2E_LIBRARY.nylon,
+      grade: 'technical',
+      referenceFiles: [FIBRES.nylon66Reference],
+    });
   if (!(await db('material').where({ code: E2E_LIBRARY.pet.code }).first()))
-    await seedApprovedMaterial(db, qa, { ...E2E_LIBRARY.pet, grade: 'technical', referenceFiles: [FIBRES.petReference] });
-  if (!(await db('instrument').where({ name: E2E_LIBRARY.instrument }).first())) await seedInstrument(db, qa, { name: E2E_LIBRARY.instrument, state: 'valid', location: 'Warehouse goods-in' });
+    await seedApprovedMaterial(db, qa, {
+      ...E2E_LIBRARY.pet,
+      grade: 'technical',
+      referenceFiles: [FIBRES.petReference],
+    });
+  if (!(await db('instrument').where({ name: E2E_LIBRARY.instrument }).first()))
+    await seedInstrument(db, qa, { name: E2E_LIBRARY.instrument, state: 'valid', location: 'Warehouse goods-in' });
 }
 
 main()

@@ -62,16 +62,32 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use('/api', sessionMiddleware(config));
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
-  const routers = [systemRoutes(), authRoutes(config), userRoutes(), mailRoutes(config), libraryRoutes(config), instrumentRoutes(config), auditRoutes(config), certificateRoutes(config), lotRoutes(config), testingRoutes(config), investigationRoutes()];
+  const routers = [
+    systemRoutes(),
+    authRoutes(config),
+    userRoutes(),
+    mailRoutes(config),
+    libraryRoutes(config),
+    instrumentRoutes(config),
+    auditRoutes(config),
+    certificateRoutes(config),
+    lotRoutes(config),
+    testingRoutes(config),
+    investigationRoutes(),
+  ];
   for (const r of routers) app.use(r);
 
   app.use('/api', (req, res) => {
-    res.status(404).json({ error: { code: 'NOT_FOUND', message: `There is no API route ${req.method} ${req.originalUrl}.` } });
+    res
+      .status(404)
+      .json({ error: { code: 'NOT_FOUND', message: `There is no API route ${req.method} ${req.originalUrl}.` } });
   });
   app.use(errorHandler);
 
   // DRUMLINE_CLIENT_DIR: another build folder (the browser tests build their own, beside a running dev build).
-  const dist = process.env.DRUMLINE_CLIENT_DIR ? path.resolve(repoRoot, process.env.DRUMLINE_CLIENT_DIR) : path.join(repoRoot, 'dist');
+  const dist = process.env.DRUMLINE_CLIENT_DIR
+    ? path.resolve(repoRoot, process.env.DRUMLINE_CLIENT_DIR)
+    : path.join(repoRoot, 'dist');
   if (opts.serveClient && fs.existsSync(path.join(dist, 'index.html'))) {
     app.use(express.static(dist, { index: false, maxAge: '1h' }));
     app.get(/^(?!\/api\/).*/, (_req, res) => res.sendFile('index.html', { root: dist }));

@@ -111,7 +111,15 @@ export async function up(knex: Knex): Promise<void> {
 }
 
 export async function down(knex: Knex): Promise<void> {
-  for (const t of ['mail_outbox', 'stored_file', 'e_signature', 'audit_event', 'audit_head', 'user_session', 'app_user']) {
+  for (const t of [
+    'mail_outbox',
+    'stored_file',
+    'e_signature',
+    'audit_event',
+    'audit_head',
+    'user_session',
+    'app_user',
+  ]) {
     await knex.schema.dropTableIfExists(t);
   }
 }

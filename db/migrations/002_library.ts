@@ -109,7 +109,14 @@ export async function up(knex: Knex): Promise<void> {
 }
 
 export async function down(knex: Knex): Promise<void> {
-  for (const t of ['reference_spectrum', 'instrument_check', 'instrument_check_spec', 'instrument', 'identity_method', 'material']) {
+  for (const t of [
+    'reference_spectrum',
+    'instrument_check',
+    'instrument_check_spec',
+    'instrument',
+    'identity_method',
+    'material',
+  ]) {
     await knex.schema.dropTableIfExists(t);
   }
 }

@@ -16,7 +16,12 @@ export const DEMO_ACCOUNTS: { username: string; fullName: string; email: string;
   { username: 'quinn', fullName: 'Quinn Okafor', email: 'quinn.okafor@lindenhall.example', roles: ['qa_manager'] },
   { username: 'aurelia', fullName: 'Aurelia Santos', email: 'aurelia.santos@lindenhall.example', roles: ['auditor'] },
   { username: 'adam', fullName: 'Adam Lindqvist', email: 'adam.lindqvist@lindenhall.example', roles: ['admin'] },
-  { username: 'dana', fullName: 'Dana Whitfield', email: 'dana.whitfield@lindenhall.example', roles: ['operator', 'verifier'] },
+  {
+    username: 'dana',
+    fullName: 'Dana Whitfield',
+    email: 'dana.whitfield@lindenhall.example',
+    roles: ['operator', 'verifier'],
+  },
   // A second QA manager: references are uploaded by one QA person and approved by another.
   { username: 'irene', fullName: 'Irene Castell', email: 'irene.castell@lindenhall.example', roles: ['qa_manager'] },
 ];
@@ -39,7 +44,14 @@ export async function seedAccounts(db: Knex): Promise<void> {
         created_at: now,
         updated_at: now,
       });
-      await appendAudit(trx, { actor: SYSTEM_ACTOR, action: 'user.created', entityType: 'user', entityId: id, after: { username: a.username, fullName: a.fullName, roles: a.roles }, reason: 'demo seed' });
+      await appendAudit(trx, {
+        actor: SYSTEM_ACTOR,
+        action: 'user.created',
+        entityType: 'user',
+        entityId: id,
+        after: { username: a.username, fullName: a.fullName, roles: a.roles },
+        reason: 'demo seed',
+      });
     }
   });
 }

@@ -44,7 +44,7 @@ export class DemoSession {
     if (json) headers['content-type'] = 'application/json';
     const res = await fetch(`${this.base}${path}`, { method, headers, body });
     const text = await res.text();
-    let parsed: unknown = null;
+    let parsed: unknown;
     try {
       parsed = text ? JSON.parse(text) : null;
     } catch {
@@ -52,7 +52,12 @@ export class DemoSession {
     }
     if (!res.ok) {
       const err = (parsed as { error?: { code?: string; message?: string; details?: unknown } } | null)?.error;
-      throw new DemoApiError(res.status, err?.code ?? 'HTTP_ERROR', `${method} ${path} as ${this.username}: ${res.status} ${err?.message ?? text}`, err?.details);
+      throw new DemoApiError(
+        res.status,
+        err?.code ?? 'HTTP_ERROR',
+        `${method} ${path} as ${this.username}: ${res.status} ${err?.message ?? text}`,
+        err?.details,
+      );
     }
     return parsed as T;
   }
@@ -74,10 +79,16 @@ export class DemoSession {
   }
 
   /** Multipart upload: files under `field`, plus plain text fields. */
-  upload<T = any>(path: string, field: string, files: UploadFile[], fields: Record<string, string | number | undefined> = {}): Promise<T> {
+  upload<T = any>(
+    path: string,
+    field: string,
+    files: UploadFile[],
+    fields: Record<string, string | number | undefined> = {},
+  ): Promise<T> {
     const form = new FormData();
     for (const [k, v] of Object.entries(fields)) if (v !== undefined) form.append(k, String(v));
-    for (const f of files) form.append(field, new Blob([new Uint8Array(f.data)], { type: f.type ?? 'application/octet-stream' }), f.name);
+    for (const f of files)
+      form.append(field, new Blob([new Uint8Array(f.data)], { type: f.type ?? 'application/octet-stream' }), f.name);
     return this.send<T>('POST', path, form);
   }
 
@@ -108,7 +119,13 @@ export class DemoApi {
       headers: { 'content-type': 'application/json', accept: 'application/json' },
       body: JSON.stringify({ username, password: DEMO_PASSWORD }),
     });
-    if (!res.ok) throw new DemoApiError(res.status, 'SIGN_IN_FAILED', `demo sign-in of ${username} failed: ${res.status} ${await res.text()}`, null);
+    if (!res.ok)
+      throw new DemoApiError(
+        res.status,
+        'SIGN_IN_FAILED',
+        `demo sign-in of ${username} failed: ${res.status} ${await res.text()}`,
+        null,
+      );
     const cookies = res.headers.getSetCookie().map((c) => c.split(';')[0]);
     if (!cookies.length) throw new Error(`demo sign-in of ${username} set no session cookie`);
     return new DemoSession(this.base, username, cookies.join('; '));

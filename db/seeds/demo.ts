@@ -23,8 +23,20 @@ import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Knex } from 'knex';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
-import { DEMO_INSTRUMENTS, DEMO_LOTS, DRAFT_REFERENCE_MATERIAL, type DemoSpectrum, demoSpectra } from '../../fixtures/catalogue';
-import { LOOK_ALIKE_PAIR, SODIUM_CHLORIDE_METHOD, SODIUM_CHLORIDE_NOTE, TIGHTENED_HYDRATE_METHOD, TIGHTENED_HYDRATE_NOTE } from '../../fixtures/demo-methods';
+import {
+  DEMO_INSTRUMENTS,
+  DEMO_LOTS,
+  DRAFT_REFERENCE_MATERIAL,
+  type DemoSpectrum,
+  demoSpectra,
+} from '../../fixtures/catalogue';
+import {
+  LOOK_ALIKE_PAIR,
+  SODIUM_CHLORIDE_METHOD,
+  SODIUM_CHLORIDE_NOTE,
+  TIGHTENED_HYDRATE_METHOD,
+  TIGHTENED_HYDRATE_NOTE,
+} from '../../fixtures/demo-methods';
 import { SPECTRA_DIR } from '../../fixtures/generate';
 import { POLYSTYRENE_CHECK_BANDS, SITE_CHECK_JUSTIFICATION } from '../../fixtures/polystyrene';
 import { fnv1a } from '../../fixtures/synth';
@@ -91,7 +103,11 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
     });
     ids.instruments[inst.id] = created.id;
     await p.quinn.post(`/api/instruments/${created.id}/specs`, {
-      spec: { kind: 'site', bands: POLYSTYRENE_CHECK_BANDS.map((b) => ({ nominal: b.site, tolerance: b.tolerance })), justification: SITE_CHECK_JUSTIFICATION },
+      spec: {
+        kind: 'site',
+        bands: POLYSTYRENE_CHECK_BANDS.map((b) => ({ nominal: b.site, tolerance: b.tolerance })),
+        justification: SITE_CHECK_JUSTIFICATION,
+      },
       signature: p.quinn.sig(),
     });
   }
@@ -110,18 +126,28 @@ async function approveMethod(p: People, methodId: number): Promise<void> {
   await p.quinn.post(`/api/methods/${methodId}/approve`, { signature: p.quinn.sig() });
 }
 
-async function uploadReferences(p: People, ids: DemoIds, materialKey: string, kinds: DemoSpectrum['kind'][]): Promise<number[]> {
+async function uploadReferences(
+  p: People,
+  ids: DemoIds,
+  materialKey: string,
+  kinds: DemoSpectrum['kind'][],
+): Promise<number[]> {
   const m = materialByKey(materialKey);
   const specs = demoSpectra().filter((s) => s.material === materialKey && kinds.includes(s.kind));
   const out: number[] = [];
   for (const spec of specs) {
     const n = Number(/ref-(\d+)/.exec(spec.path)![1]);
-    const [ref] = await p.irene.upload(`/api/materials/${ids.materials[materialKey]}/references`, 'files', [fileOf(spec)], {
-      supplier: SUPPLIER_OF[materialKey] ?? '',
-      supplierLot: referenceSupplierLot(m.code, n),
-      measuredHow: 'Diamond ATR, 32 scans at 4 cm-1 resolution, powder pressed with the torque-limited clamp (demo)',
-      instrumentId: ids.instruments['IR-1'],
-    });
+    const [ref] = await p.irene.upload(
+      `/api/materials/${ids.materials[materialKey]}/references`,
+      'files',
+      [fileOf(spec)],
+      {
+        supplier: SUPPLIER_OF[materialKey] ?? '',
+        supplierLot: referenceSupplierLot(m.code, n),
+        measuredHow: 'Diamond ATR, 32 scans at 4 cm-1 resolution, powder pressed with the torque-limited clamp (demo)',
+        instrumentId: ids.instruments['IR-1'],
+      },
+    );
     ids.references[spec.path] = ref.id;
     out.push(ref.id);
   }
@@ -147,7 +173,11 @@ async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
     ids.methods[m.key] = created.draftMethodId;
     // Version 1 is the engine default for mid-IR ATR (sodium chloride: without the derivative criterion).
     if (m.key === 'sodium-chloride') {
-      await p.quinn.patch(`/api/methods/${created.draftMethodId}`, { params: SODIUM_CHLORIDE_METHOD, changeNote: SODIUM_CHLORIDE_NOTE, reason: 'method for a grade without mid-IR bands' });
+      await p.quinn.patch(`/api/methods/${created.draftMethodId}`, {
+        params: SODIUM_CHLORIDE_METHOD,
+        changeNote: SODIUM_CHLORIDE_NOTE,
+        reason: 'method for a grade without mid-IR bands',
+      });
     }
     await approveMethod(p, created.draftMethodId);
     const refIds = await uploadReferences(p, ids, m.key, ['reference']);
@@ -158,13 +188,18 @@ async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
     // The look-alike: the specificity gate refuses the first monohydrate reference ...
     try {
       await p.quinn.post(`/api/references/${refIds[0]}/approve`, { signature: p.quinn.sig() });
-      throw new Error('demo seed: the specificity gate was expected to refuse the citric acid monohydrate reference under the default method');
+      throw new Error(
+        'demo seed: the specificity gate was expected to refuse the citric acid monohydrate reference under the default method',
+      );
     } catch (e) {
       if (!(e instanceof DemoApiError) || e.code !== 'SPECIFICITY_GATE') throw e;
     }
     // ... so QA tightens the methods of both hydrate forms (version 2) and approves again.
     for (const key of LOOK_ALIKE_PAIR) {
-      const v2 = await p.quinn.post(`/api/materials/${ids.materials[key]}/methods`, { params: TIGHTENED_HYDRATE_METHOD, changeNote: TIGHTENED_HYDRATE_NOTE });
+      const v2 = await p.quinn.post(`/api/materials/${ids.materials[key]}/methods`, {
+        params: TIGHTENED_HYDRATE_METHOD,
+        changeNote: TIGHTENED_HYDRATE_NOTE,
+      });
       await approveMethod(p, v2.id);
       ids.methods[key] = v2.id;
     }
@@ -172,7 +207,9 @@ async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
   }
   // One more maize starch reference waits for QA approval (the newcomer approves it).
   await uploadReferences(p, ids, DRAFT_REFERENCE_MATERIAL, ['draft-reference']);
-  log(`${MATERIALS.length} grades with approved methods and three approved references each; citric acid methods tightened after the specificity gate; one draft reference`);
+  log(
+    `${MATERIALS.length} grades with approved methods and three approved references each; citric acid methods tightened after the specificity gate; one draft reference`,
+  );
 }
 
 function daysAgo(n: number): string {
@@ -192,16 +229,31 @@ function containerFiles(lotKey: string): Map<number, DemoSpectrum> {
   return out;
 }
 
-async function measure(who: DemoSession, testId: number, lot: LotDetail, seq: number, spec: DemoSpectrum): Promise<{ id: number; verdict: string }> {
+async function measure(
+  who: DemoSession,
+  testId: number,
+  lot: LotDetail,
+  seq: number,
+  spec: DemoSpectrum,
+): Promise<{ id: number; verdict: string }> {
   const c = lot.containers.find((x) => x.seq === seq)!;
   return who.upload(`/api/tests/${testId}/measurements`, 'file', [fileOf(spec)], { containerId: c.id });
 }
 
 const PHASE1_NO_LAB_ERROR = {
-  instrument: { ok: true, note: 'Instrument check of the day valid (site ATR positions); crystal cleaned and background re-measured before the container.' },
-  sampleHandling: { ok: true, note: 'Sample taken from the labelled container by the sampling procedure; sampling tools cleaned; no mix-up at the bench.' },
+  instrument: {
+    ok: true,
+    note: 'Instrument check of the day valid (site ATR positions); crystal cleaned and background re-measured before the container.',
+  },
+  sampleHandling: {
+    ok: true,
+    note: 'Sample taken from the labelled container by the sampling procedure; sampling tools cleaned; no mix-up at the bench.',
+  },
   method: { ok: true, note: 'The approved method version and the approved reference set were used.' },
-  data: { ok: true, note: 'The stored raw file is the one measured on this container (file name, time, SHA-256 checked).' },
+  data: {
+    ok: true,
+    note: 'The stored raw file is the one measured on this container (file name, time, SHA-256 checked).',
+  },
 };
 
 async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<string, number>> {
@@ -213,7 +265,10 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
       supplierLot: l.supplierLot,
       containerCount: l.containers,
       receivedDate: daysAgo(l.receivedDaysAgo),
-      notes: l.state === 'rejected-after-investigation' || l.state === 'failed-open-investigation' ? null : (l.notes ?? null),
+      notes:
+        l.state === 'rejected-after-investigation' || l.state === 'failed-open-investigation'
+          ? null
+          : (l.notes ?? null),
     });
     lotIds[l.key] = lot.id;
     if (l.state === 'awaiting-testing') continue;
@@ -222,7 +277,9 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
     // monohydrate test Olga performed); Olga does the rest; Victor verifies.
     const operator = l.key === 'B' ? p.dana : p.olga;
     const verifier = l.key === 'C' ? p.dana : p.victor;
-    const test = await operator.post<{ id: number }>(`/api/lots/${lot.id}/tests`, { instrumentId: ids.instruments[l.instrument] });
+    const test = await operator.post<{ id: number }>(`/api/lots/${lot.id}/tests`, {
+      instrumentId: ids.instruments[l.instrument],
+    });
     const files = containerFiles(l.key);
     const measured = l.measured ?? [...files.keys()];
     for (const seq of measured) await measure(operator, test.id, lot, seq, files.get(seq)!);
@@ -234,21 +291,30 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
     }
     await operator.post(`/api/tests/${test.id}/perform`, { signature: operator.sig() });
     if (l.state === 'awaiting-verification') continue;
-    const verdict = await verifier.post<{ outcome: string; investigation: { id: number; number: string } | null }>(`/api/tests/${test.id}/verify`, {
-      signature: verifier.sig(),
-      comment: l.state === 'passed' ? 'Raw spectra, scores, bands and instrument check reviewed.' : 'Reviewed; the failing container goes to QA as an investigation.',
-    });
+    const verdict = await verifier.post<{ outcome: string; investigation: { id: number; number: string } | null }>(
+      `/api/tests/${test.id}/verify`,
+      {
+        signature: verifier.sig(),
+        comment:
+          l.state === 'passed'
+            ? 'Raw spectra, scores, bands and instrument check reviewed.'
+            : 'Reviewed; the failing container goes to QA as an investigation.',
+      },
+    );
     if (l.state === 'passed') {
-      if (verdict.outcome !== 'passed') throw new Error(`demo seed: lot ${l.key} was expected to pass, got ${verdict.outcome}`);
+      if (verdict.outcome !== 'passed')
+        throw new Error(`demo seed: lot ${l.key} was expected to pass, got ${verdict.outcome}`);
       continue;
     }
-    if (verdict.outcome !== 'failed' || !verdict.investigation) throw new Error(`demo seed: lot ${l.key} was expected to fail, got ${verdict.outcome}`);
+    if (verdict.outcome !== 'failed' || !verdict.investigation)
+      throw new Error(`demo seed: lot ${l.key} was expected to fail, got ${verdict.outcome}`);
     if (l.state === 'failed-open-investigation') continue;
     // Rejected after investigation: phase I finds no laboratory error, QA confirms the failure.
     const inv = verdict.investigation.id;
     await p.quinn.post(`/api/investigations/${inv}/phase1`, {
       ...PHASE1_NO_LAB_ERROR,
-      summary: 'No assignable laboratory error. The spectrum of the failing container matches citric acid monohydrate (library hint); loss on drying of the retained sample confirms the hydrate.',
+      summary:
+        'No assignable laboratory error. The spectrum of the failing container matches citric acid monohydrate (library hint); loss on drying of the retained sample confirms the hydrate.',
       signature: p.quinn.sig(),
     });
     await p.quinn.post(`/api/investigations/${inv}/confirm`, {
@@ -261,20 +327,34 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
 }
 
 /** A new hire whose account the administrator created; the temporary password is random and not published. */
-export const NEW_HIRE = { username: 'tomas', fullName: 'Tomas Berg', email: 'tomas.berg@lindenhall.example', roles: ['operator'] } as const;
+export const NEW_HIRE = {
+  username: 'tomas',
+  fullName: 'Tomas Berg',
+  email: 'tomas.berg@lindenhall.example',
+  roles: ['operator'],
+} as const;
 
 async function seedNewHire(adam: DemoSession, log: Log): Promise<void> {
-  await adam.post('/api/users', { ...NEW_HIRE, roles: [...NEW_HIRE.roles], temporaryPassword: `tmp-${randomBytes(12).toString('base64url')}` });
+  await adam.post('/api/users', {
+    ...NEW_HIRE,
+    roles: [...NEW_HIRE.roles],
+    temporaryPassword: `tmp-${randomBytes(12).toString('base64url')}`,
+  });
   log(`account of a new hire (${NEW_HIRE.fullName}) awaiting first sign-in`);
 }
 
-export async function seedDemoSite(db: Knex, opts: { database?: string; log?: Log } = {}): Promise<{ seeded: boolean; ids?: DemoIds }> {
+export async function seedDemoSite(
+  db: Knex,
+  opts: { database?: string; log?: Log } = {},
+): Promise<{ seeded: boolean; ids?: DemoIds }> {
   const t0 = Date.now();
   const log = opts.log ?? ((l: string) => console.log(`[seed] ${l} (${((Date.now() - t0) / 1000).toFixed(0)} s)`));
   if (await isDemoSeeded(db)) {
     // The new hire's account is the seed's last step: without it an earlier run stopped half-way.
     if (!(await db('app_user').where({ username: NEW_HIRE.username }).first())) {
-      log('WARNING: the demo site is incomplete (an earlier seed stopped half-way); run `npm run demo:reset` to start it again');
+      log(
+        'WARNING: the demo site is incomplete (an earlier seed stopped half-way); run `npm run demo:reset` to start it again',
+      );
     } else log('demo site already present; nothing to do');
     return { seeded: false };
   }

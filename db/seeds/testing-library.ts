@@ -17,7 +17,13 @@ import type { Knex } from 'knex';
 import { repoRoot } from '../config';
 import { sha256Hex } from '../../server/lib/canonical';
 import { pickBands } from '../../server/modules/library/engine';
-import { checkPolystyrene, defaultMidIrAtrMethod, type IdentityMethod, PH_EUR_POLYSTYRENE_FT, readSpectrum } from '../../server/spectra';
+import {
+  checkPolystyrene,
+  defaultMidIrAtrMethod,
+  type IdentityMethod,
+  PH_EUR_POLYSTYRENE_FT,
+  readSpectrum,
+} from '../../server/spectra';
 
 export const REFERENCE_DATA = path.resolve(repoRoot, '../shared/reference-data');
 
@@ -34,15 +40,33 @@ export function dataFile(rel: string): { buffer: Buffer; name: string } {
 async function storeFile(k: Knex, rel: string, userId: number): Promise<number> {
   const f = dataFile(rel);
   const [id] = await k('stored_file').insert({
-    sha256: sha256Hex(f.buffer), file_name: f.name, media_type: 'text/csv', size: f.buffer.length, data: f.buffer, uploaded_by: userId, uploaded_at: new Date(),
+    sha256: sha256Hex(f.buffer),
+    file_name: f.name,
+    media_type: 'text/csv',
+    size: f.buffer.length,
+    data: f.buffer,
+    uploaded_by: userId,
+    uploaded_at: new Date(),
   });
   return id as number;
 }
 
-async function signatureRow(k: Knex, user: SeedUser, meaning: string, entityType: string, entityId: number): Promise<number> {
+async function signatureRow(
+  k: Knex,
+  user: SeedUser,
+  meaning: string,
+  entityType: string,
+  entityId: number,
+): Promise<number> {
   const [id] = await k('e_signature').insert({
-    user_id: user.id, printed_name: user.fullName, meaning, entity_type: entityType, entity_id: String(entityId),
-    content_hash: sha256Hex(`${entityType}:${entityId}:${meaning}`), statement: 'seeded approved library (tests only)', signed_at: new Date(),
+    user_id: user.id,
+    printed_name: user.fullName,
+    meaning,
+    entity_type: entityType,
+    entity_id: String(entityId),
+    content_hash: sha256Hex(`${entityType}:${entityId}:${meaning}`),
+    statement: 'seeded approved library (tests only)',
+    signed_at: new Date(),
   });
   return id as number;
 }
@@ -63,29 +87,74 @@ export async function seedApprovedMaterial(
   const method = opts.method ?? defaultMidIrAtrMethod;
   const now = new Date();
   const [materialId] = await k('material').insert({
-    code: opts.code, name: opts.name, grade: opts.grade ?? 'fixture grade', monograph_ref: '', techniques: JSON.stringify([method.technique]), notes: null,
-    active: 1, created_by: qa.id, created_at: now, updated_at: now,
+    code: opts.code,
+    name: opts.name,
+    grade: opts.grade ?? 'fixture grade',
+    monograph_ref: '',
+    techniques: JSON.stringify([method.technique]),
+    notes: null,
+    active: 1,
+    created_by: qa.id,
+    created_at: now,
+    updated_at: now,
   });
   const [methodId] = await k('identity_method').insert({
-    material_id: materialId, version: 1, status: 'approved', technique: method.technique, params: JSON.stringify(method), change_note: 'seeded',
-    supersedes_id: null, created_by: qa.id, created_at: now, updated_at: now, approved_signature_id: null, approved_at: now,
+    material_id: materialId,
+    version: 1,
+    status: 'approved',
+    technique: method.technique,
+    params: JSON.stringify(method),
+    change_note: 'seeded',
+    supersedes_id: null,
+    created_by: qa.id,
+    created_at: now,
+    updated_at: now,
+    approved_signature_id: null,
+    approved_at: now,
   });
-  await k('identity_method').where({ id: methodId }).update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'identity_method', methodId) });
+  await k('identity_method')
+    .where({ id: methodId })
+    .update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'identity_method', methodId) });
   const referenceIds: number[] = [];
   for (const [i, rel] of opts.referenceFiles.entries()) {
     const fileId = await storeFile(k, rel, qa.id);
     const f = dataFile(rel);
     const bands = pickBands(readSpectrum(new Uint8Array(f.buffer), f.name), method);
     const [refId] = await k('reference_spectrum').insert({
-      material_id: materialId, code: `REF-${opts.code}-${i + 1}`, file_id: fileId, status: 'approved', technique: method.technique,
-      supplier: 'seed', supplier_lot: `S${i + 1}`, measured_how: rel, instrument_id: null, bands: JSON.stringify(bands), meta: null,
-      specificity: null, justification: null, created_by: qa.id, created_at: now, updated_at: now,
-      approved_signature_id: null, approved_method_id: methodId, approved_at: now, retired_signature_id: null, retire_reason: null,
+      material_id: materialId,
+      code: `REF-${opts.code}-${i + 1}`,
+      file_id: fileId,
+      status: 'approved',
+      technique: method.technique,
+      supplier: 'seed',
+      supplier_lot: `S${i + 1}`,
+      measured_how: rel,
+      instrument_id: null,
+      bands: JSON.stringify(bands),
+      meta: null,
+      specificity: null,
+      justification: null,
+      created_by: qa.id,
+      created_at: now,
+      updated_at: now,
+      approved_signature_id: null,
+      approved_method_id: methodId,
+      approved_at: now,
+      retired_signature_id: null,
+      retire_reason: null,
     });
-    await k('reference_spectrum').where({ id: refId }).update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'reference_spectrum', refId) });
+    await k('reference_spectrum')
+      .where({ id: refId })
+      .update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'reference_spectrum', refId) });
     referenceIds.push(refId as number);
   }
-  return { materialId: materialId as number, code: opts.code, name: opts.name, methodId: methodId as number, referenceIds };
+  return {
+    materialId: materialId as number,
+    code: opts.code,
+    name: opts.name,
+    methodId: methodId as number,
+    referenceIds,
+  };
 }
 
 export type CheckState = 'valid' | 'expired' | 'failed' | 'none';
@@ -97,24 +166,52 @@ export async function seedInstrument(
 ): Promise<{ instrumentId: number; checkId: number | null; name: string }> {
   const now = new Date();
   const [instrumentId] = await k('instrument').insert({
-    name: opts.name, serial_number: 'SN-' + opts.name, technique: opts.technique ?? 'mid-ir', sampling: opts.sampling ?? 'atr', location: opts.location ?? 'Goods-in lab',
-    check_validity_hours: 24, active: 1, created_by: qa.id, created_at: now, updated_at: now,
+    name: opts.name,
+    serial_number: 'SN-' + opts.name,
+    technique: opts.technique ?? 'mid-ir',
+    sampling: opts.sampling ?? 'atr',
+    location: opts.location ?? 'Goods-in lab',
+    check_validity_hours: 24,
+    active: 1,
+    created_by: qa.id,
+    created_at: now,
+    updated_at: now,
   });
   const film = dataFile('atr-ftir/polystyrene_film.csv');
   const spectrum = readSpectrum(new Uint8Array(film.buffer), film.name);
   const ft = checkPolystyrene(spectrum, { spec: PH_EUR_POLYSTYRENE_FT, mode: 'atr' });
-  const siteSpec = { name: 'Site ATR positions (seed)', instrument: 'ft' as const, bands: ft.bands.map((b) => ({ nominal: Math.round((b.found ?? b.nominal) * 10) / 10, tolerance: 1.0 })) };
+  const siteSpec = {
+    name: 'Site ATR positions (seed)',
+    instrument: 'ft' as const,
+    bands: ft.bands.map((b) => ({ nominal: Math.round((b.found ?? b.nominal) * 10) / 10, tolerance: 1.0 })),
+  };
   const [specId] = await k('instrument_check_spec').insert({
-    instrument_id: instrumentId, version: 1, kind: 'site', bands: JSON.stringify(siteSpec.bands), justification: 'ATR positions of the site polystyrene film (seed)',
-    status: 'approved', created_by: qa.id, created_at: now, approved_signature_id: null,
+    instrument_id: instrumentId,
+    version: 1,
+    kind: 'site',
+    bands: JSON.stringify(siteSpec.bands),
+    justification: 'ATR positions of the site polystyrene film (seed)',
+    status: 'approved',
+    created_by: qa.id,
+    created_at: now,
+    approved_signature_id: null,
   });
   if (opts.state === 'none') return { instrumentId: instrumentId as number, checkId: null, name: opts.name };
   const result = opts.state === 'failed' ? ft : checkPolystyrene(spectrum, { spec: siteSpec, mode: 'atr' });
   const fileId = await storeFile(k, 'atr-ftir/polystyrene_film.csv', qa.id);
-  const performedAt = opts.state === 'expired' ? new Date(now.getTime() - 30 * 3600_000) : new Date(now.getTime() - 60_000);
+  const performedAt =
+    opts.state === 'expired' ? new Date(now.getTime() - 30 * 3600_000) : new Date(now.getTime() - 60_000);
   const [checkId] = await k('instrument_check').insert({
-    instrument_id: instrumentId, spec_id: specId, file_id: fileId, result: JSON.stringify(result), verdict: result.verdict, engine_version: result.engineVersion,
-    performed_by: qa.id, performed_at: performedAt, valid_until: result.verdict === 'pass' ? new Date(performedAt.getTime() + 24 * 3600_000) : null, signature_id: null,
+    instrument_id: instrumentId,
+    spec_id: specId,
+    file_id: fileId,
+    result: JSON.stringify(result),
+    verdict: result.verdict,
+    engine_version: result.engineVersion,
+    performed_by: qa.id,
+    performed_at: performedAt,
+    valid_until: result.verdict === 'pass' ? new Date(performedAt.getTime() + 24 * 3600_000) : null,
+    signature_id: null,
   });
   return { instrumentId: instrumentId as number, checkId: checkId as number, name: opts.name };
 }
@@ -122,7 +219,11 @@ export async function seedInstrument(
 /** Real fibre spectra (../shared/reference-data/atr-ftir-fibres) used by the testing tests. */
 export const FIBRES = {
   nylon66Reference: 'atr-ftir-fibres/nylon66_s091_r1.csv',
-  nylon66Samples: ['atr-ftir-fibres/nylon66_s091_r2.csv', 'atr-ftir-fibres/nylon66_s090.csv', 'atr-ftir-fibres/nylon66_s093.csv'],
+  nylon66Samples: [
+    'atr-ftir-fibres/nylon66_s091_r2.csv',
+    'atr-ftir-fibres/nylon66_s090.csv',
+    'atr-ftir-fibres/nylon66_s093.csv',
+  ],
   petReference: 'atr-ftir-fibres/polyester-PET_s135_r1.csv',
   petSample: 'atr-ftir-fibres/polyester-PET_s135_r2.csv',
   /** too weak to judge: strongest band about 0.007 absorbance (the quality gate refuses it) */

@@ -109,11 +109,32 @@ export async function verifyChain(db: Knex, pageSize = 5000): Promise<ChainRepor
     if (rows.length === 0) break;
     for (const r of rows) {
       const id = Number(r.id);
-      if (id !== expectedId) return { ok: false, events: count, brokenAt: expectedId, problem: `event ${expectedId} is missing (next is ${id})` };
+      if (id !== expectedId)
+        return {
+          ok: false,
+          events: count,
+          brokenAt: expectedId,
+          problem: `event ${expectedId} is missing (next is ${id})`,
+        };
       if (r.prev_hash !== prevHash)
-        return { ok: false, events: count, brokenAt: id, problem: 'link to the previous event does not match', expected: prevHash, found: r.prev_hash };
+        return {
+          ok: false,
+          events: count,
+          brokenAt: id,
+          problem: 'link to the previous event does not match',
+          expected: prevHash,
+          found: r.prev_hash,
+        };
       const h = rowHash(r);
-      if (h !== r.hash) return { ok: false, events: count, brokenAt: id, problem: 'content does not match its hash (altered)', expected: h, found: r.hash };
+      if (h !== r.hash)
+        return {
+          ok: false,
+          events: count,
+          brokenAt: id,
+          problem: 'content does not match its hash (altered)',
+          expected: h,
+          found: r.hash,
+        };
       prevHash = r.hash;
       expectedId = id + 1;
       count++;
@@ -121,6 +142,11 @@ export async function verifyChain(db: Knex, pageSize = 5000): Promise<ChainRepor
   }
   const head = await db('audit_head').where({ id: 1 }).first();
   if (head && Number(head.last_id) !== count)
-    return { ok: false, events: count, brokenAt: count + 1, problem: `the chain ends at event ${count} but ${head.last_id} were written (events removed)` };
+    return {
+      ok: false,
+      events: count,
+      brokenAt: count + 1,
+      problem: `the chain ends at event ${count} but ${head.last_id} were written (events removed)`,
+    };
   return { ok: true, events: count, lastHash: prevHash, lastId: count };
 }

@@ -48,9 +48,16 @@ export function originCheck(config: AppConfig): RequestHandler {
     const origin = req.get('origin') ?? (req.get('referer') ? safeOrigin(req.get('referer')!) : undefined);
     if (!origin) return next();
     const host = req.get('host');
-    const allowed = new Set([...config.allowedOrigins, `http://${host}`, `https://${host}`, new URL(config.publicUrl).origin]);
+    const allowed = new Set([
+      ...config.allowedOrigins,
+      `http://${host}`,
+      `https://${host}`,
+      new URL(config.publicUrl).origin,
+    ]);
     if (allowed.has(origin)) return next();
-    res.status(403).json({ error: { code: 'FOREIGN_ORIGIN', message: 'This request came from another site and was refused.' } });
+    res
+      .status(403)
+      .json({ error: { code: 'FOREIGN_ORIGIN', message: 'This request came from another site and was refused.' } });
   };
 }
 

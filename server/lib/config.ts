@@ -46,7 +46,10 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signInRateLimit: num('SIGNIN_RATE_LIMIT', 30),
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
-    allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+    allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
+      .split(',')
+      .map((s) => s.trim())
+      .filter(Boolean),
     devMode: process.env.NODE_ENV !== 'production',
     smtp: smtpHost
       ? {

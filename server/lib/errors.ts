@@ -18,9 +18,16 @@ export const unauthorized = (message = 'Please sign in.') => new AppError(401, '
 export const forbidden = (message = 'Your role does not allow this action.') => new AppError(403, 'FORBIDDEN', message);
 export const notFound = (what: string) => new AppError(404, 'NOT_FOUND', `${what} was not found.`);
 export const conflict = (message: string, details?: unknown) => new AppError(409, 'CONFLICT', message, details);
-export const unprocessable = (code: string, message: string, details?: unknown) => new AppError(422, code, message, details);
+export const unprocessable = (code: string, message: string, details?: unknown) =>
+  new AppError(422, code, message, details);
 
-const DB_DOWN_CODES = new Set(['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ER_CON_COUNT_ERROR', 'EHOSTUNREACH']);
+const DB_DOWN_CODES = new Set([
+  'ECONNREFUSED',
+  'PROTOCOL_CONNECTION_LOST',
+  'ETIMEDOUT',
+  'ER_CON_COUNT_ERROR',
+  'EHOSTUNREACH',
+]);
 
 export function isDbDown(err: unknown): boolean {
   const e = err as { code?: string; name?: string; message?: string };
@@ -41,18 +48,38 @@ export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
   if (err instanceof AppError) return send(err.status, err.code, err.message, err.details);
   if (err instanceof ZodError) {
     const first = err.issues[0];
-    return send(400, 'VALIDATION', `Invalid input${first ? ` at "${first.path.join('.') || '(body)'}": ${first.message}` : ''}.`, zodDetails(err));
+    return send(
+      400,
+      'VALIDATION',
+      `Invalid input${first ? ` at "${first.path.join('.') || '(body)'}": ${first.message}` : ''}.`,
+      zodDetails(err),
+    );
   }
   const e = err as { name?: string; code?: string; type?: string; status?: number; message?: string; field?: string };
-  if (e?.name === 'SpectrumError') return send(422, e.code ?? 'SPECTRUM_INVALID', e.message ?? 'The spectrum could not be read.');
+  if (e?.name === 'SpectrumError')
+    return send(422, e.code ?? 'SPECTRUM_INVALID', e.message ?? 'The spectrum could not be read.');
   if (e?.name === 'MulterError') {
-    if (e.code === 'LIMIT_FILE_SIZE') return send(413, 'FILE_TOO_LARGE', 'The file is larger than the upload limit. Export only the spectrum and try again.');
+    if (e.code === 'LIMIT_FILE_SIZE')
+      return send(
+        413,
+        'FILE_TOO_LARGE',
+        'The file is larger than the upload limit. Export only the spectrum and try again.',
+      );
     return send(400, 'UPLOAD', `Upload refused: ${e.message}${e.field ? ` (field ${e.field})` : ''}.`);
   }
   if (e?.type === 'entity.parse.failed') return send(400, 'MALFORMED_JSON', 'The request body is not valid JSON.');
   if (e?.type === 'entity.too.large') return send(413, 'TOO_LARGE', 'The request body is too large.');
-  if (isDbDown(err)) return send(503, 'DATABASE_DOWN', 'The database is not reachable. Try again in a moment; if it persists, call the system administrator.');
+  if (isDbDown(err))
+    return send(
+      503,
+      'DATABASE_DOWN',
+      'The database is not reachable. Try again in a moment; if it persists, call the system administrator.',
+    );
   if (e?.code === 'ER_DUP_ENTRY') return send(409, 'DUPLICATE', 'A record with this identifier already exists.');
   console.error('[error]', err);
-  return send(500, 'INTERNAL', 'Something went wrong on the server. The event was logged; please tell the system administrator.');
+  return send(
+    500,
+    'INTERNAL',
+    'Something went wrong on the server. The event was logged; please tell the system administrator.',
+  );
 };

@@ -68,7 +68,8 @@ export async function checkSignatureCredentials(db: Knex, r: Omit<SignRequest, '
   let problem: string | null = null;
   if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== String(u.username).toLowerCase())
     problem = 'The first signature of a session needs your user name and password.';
-  else if (!(await verifyPassword(u.password_hash, r.credentials.password))) problem = 'The password is not correct. Nothing was signed.';
+  else if (!(await verifyPassword(u.password_hash, r.credentials.password)))
+    problem = 'The password is not correct. Nothing was signed.';
   if (problem) {
     await auditNow(db, {
       actor: { id: r.user.id, name: r.user.fullName },
@@ -107,12 +108,26 @@ export async function recordSignature(trx: Knex.Transaction, r: SignRequest): Pr
     ip: r.ip,
   });
   if (!r.user.signedOnce) await markSigned(trx, r.user.sessionId);
-  return { id, userId: r.user.id, printedName: r.user.fullName, meaning: r.meaning, signedAt: signedAt.toISOString(), contentHash: hash, statement: r.statement ?? null };
+  return {
+    id,
+    userId: r.user.id,
+    printedName: r.user.fullName,
+    meaning: r.meaning,
+    signedAt: signedAt.toISOString(),
+    contentHash: hash,
+    statement: r.statement ?? null,
+  };
 }
 
 /** Signatures on a record, oldest first, for display wherever the record is shown. */
-export async function signaturesFor(db: Knex | Knex.Transaction, entityType: string, entityId: string | number): Promise<SignatureRecord[]> {
-  const rows = await db('e_signature').where({ entity_type: entityType, entity_id: String(entityId) }).orderBy('id');
+export async function signaturesFor(
+  db: Knex | Knex.Transaction,
+  entityType: string,
+  entityId: string | number,
+): Promise<SignatureRecord[]> {
+  const rows = await db('e_signature')
+    .where({ entity_type: entityType, entity_id: String(entityId) })
+    .orderBy('id');
   return rows.map(toSignatureRecord);
 }
 

@@ -22,7 +22,12 @@ export interface StoredFileRow {
 }
 
 /** Stores one uploaded file (in the caller's transaction); returns its id and SHA-256. */
-export async function storeFile(db: Db, file: UploadedFile, userId: number, at: Date = new Date()): Promise<{ id: number; sha256: string }> {
+export async function storeFile(
+  db: Db,
+  file: UploadedFile,
+  userId: number,
+  at: Date = new Date(),
+): Promise<{ id: number; sha256: string }> {
   const sha256 = sha256Hex(file.buffer);
   const [id] = await db('stored_file').insert({
     sha256,
@@ -37,9 +42,15 @@ export async function storeFile(db: Db, file: UploadedFile, userId: number, at: 
 }
 
 /** Sends a stored file as a download, with its SHA-256 in a header. */
-export function sendStoredFile(res: Response, f: Pick<StoredFileRow, 'sha256' | 'file_name' | 'media_type' | 'data'>): void {
+export function sendStoredFile(
+  res: Response,
+  f: Pick<StoredFileRow, 'sha256' | 'file_name' | 'media_type' | 'data'>,
+): void {
   res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
-  res.setHeader('Content-Disposition', `attachment; filename="${String(f.file_name).replace(/[^A-Za-z0-9._-]/g, '_')}"`);
+  res.setHeader(
+    'Content-Disposition',
+    `attachment; filename="${String(f.file_name).replace(/[^A-Za-z0-9._-]/g, '_')}"`,
+  );
   res.setHeader('X-Content-SHA256', f.sha256);
   res.status(200).end(f.data);
 }

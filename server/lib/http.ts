@@ -26,7 +26,11 @@ export interface AuthUser {
 export type Access = 'public' | 'authenticated' | { roles: readonly Role[] };
 export type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';
 
-export interface RouteDef<B extends z.ZodType = z.ZodType, Q extends z.ZodType = z.ZodType, P extends z.ZodType = z.ZodType> {
+export interface RouteDef<
+  B extends z.ZodType = z.ZodType,
+  Q extends z.ZodType = z.ZodType,
+  P extends z.ZodType = z.ZodType,
+> {
   method: Method;
   path: string; // Express style, with the /api prefix: '/api/users/:id'
   summary: string;

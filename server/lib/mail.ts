@@ -47,10 +47,18 @@ export async function enqueueMail(trx: Knex | Knex.Transaction, m: MailInput): P
 /** Active accounts holding a role, e.g. every verifier. */
 export async function emailsOfRole(db: Knex | Knex.Transaction, role: Role, exceptUserId?: number): Promise<string[]> {
   const users = await db('app_user').where({ active: 1 }).select('id', 'email', 'roles');
-  return users.filter((u) => parseJson<string[]>(u.roles, []).includes(role) && u.id !== exceptUserId).map((u) => u.email);
+  return users
+    .filter((u) => parseJson<string[]>(u.roles, []).includes(role) && u.id !== exceptUserId)
+    .map((u) => u.email);
 }
 
-export async function enqueueMailToRole(trx: Knex | Knex.Transaction, role: Role, subject: string, text: string, exceptUserId?: number): Promise<number | null> {
+export async function enqueueMailToRole(
+  trx: Knex | Knex.Transaction,
+  role: Role,
+  subject: string,
+  text: string,
+  exceptUserId?: number,
+): Promise<number | null> {
   return enqueueMail(trx, { to: await emailsOfRole(trx, role, exceptUserId), subject, text });
 }
 
@@ -78,26 +86,38 @@ export async function initMail(config: AppConfig): Promise<void> {
 /** Sends what is due. Returns how many were sent. Safe to call concurrently (rows are claimed). */
 export async function processOutbox(db: Knex, limit = 20): Promise<number> {
   if (!transporter) return 0;
-  const due = await db('mail_outbox').where({ status: 'queued' }).andWhere('next_attempt_at', '<=', new Date()).orderBy('id').limit(limit);
+  const due = await db('mail_outbox')
+    .where({ status: 'queued' })
+    .andWhere('next_attempt_at', '<=', new Date())
+    .orderBy('id')
+    .limit(limit);
   let sent = 0;
   for (const m of due) {
-    const claimed = await db('mail_outbox').where({ id: m.id, status: 'queued', attempts: m.attempts }).update({ status: 'sending' });
+    const claimed = await db('mail_outbox')
+      .where({ id: m.id, status: 'queued', attempts: m.attempts })
+      .update({ status: 'sending' });
     if (!claimed) continue;
     try {
       await transporter.sendMail({ from: fromAddress, to: m.to_address, subject: m.subject, text: m.body });
-      await db('mail_outbox').where({ id: m.id }).update({ status: 'sent', sent_at: new Date(), attempts: m.attempts + 1, last_error: null });
+      await db('mail_outbox')
+        .where({ id: m.id })
+        .update({ status: 'sent', sent_at: new Date(), attempts: m.attempts + 1, last_error: null });
       sent++;
     } catch (e) {
       const attempts = m.attempts + 1;
       const failed = attempts >= MAX_ATTEMPTS;
       const delayMs = Math.min(60 * 60_000, 15_000 * 2 ** (attempts - 1));
-      await db('mail_outbox').where({ id: m.id }).update({
-        status: failed ? 'failed' : 'queued',
-        attempts,
-        last_error: String((e as Error).message ?? e).slice(0, 2000),
-        next_attempt_at: new Date(Date.now() + delayMs),
-      });
-      console.error(`[mail] sending #${m.id} failed (attempt ${attempts}${failed ? ', giving up' : ''}): ${(e as Error).message}`);
+      await db('mail_outbox')
+        .where({ id: m.id })
+        .update({
+          status: failed ? 'failed' : 'queued',
+          attempts,
+          last_error: String((e as Error).message ?? e).slice(0, 2000),
+          next_attempt_at: new Date(Date.now() + delayMs),
+        });
+      console.error(
+        `[mail] sending #${m.id} failed (attempt ${attempts}${failed ? ', giving up' : ''}): ${(e as Error).message}`,
+      );
     }
   }
   return sent;

@@ -15,7 +15,12 @@ export function buildOpenApi(): object {
   const registry = new OpenAPIRegistry();
   const Err = registry.register('Error', errorSchema);
   for (const def of routeRegistry) {
-    const roles = def.access === 'public' ? 'public' : def.access === 'authenticated' ? 'any signed-in user' : def.access.roles.join(', ');
+    const roles =
+      def.access === 'public'
+        ? 'public'
+        : def.access === 'authenticated'
+          ? 'any signed-in user'
+          : def.access.roles.join(', ');
     const request: Record<string, unknown> = {};
     if (def.params) request.params = def.params;
     if (def.query) request.query = def.query;
@@ -25,7 +30,9 @@ export function buildOpenApi(): object {
         content: {
           'multipart/form-data': {
             schema: z.object(
-              Object.fromEntries(Object.entries(def.uploadFields ?? { files: 'file(s)' }).map(([k, v]) => [k, z.string().describe(v)])),
+              Object.fromEntries(
+                Object.entries(def.uploadFields ?? { files: 'file(s)' }).map(([k, v]) => [k, z.string().describe(v)]),
+              ),
             ),
           },
         },
@@ -47,7 +54,9 @@ export function buildOpenApi(): object {
         401: { description: 'Not signed in', content: { 'application/json': { schema: Err } } },
         403: { description: 'Role not allowed', content: { 'application/json': { schema: Err } } },
       },
-      ...({ 'x-roles': def.access === 'public' || def.access === 'authenticated' ? [def.access] : [...def.access.roles] } as object),
+      ...({
+        'x-roles': def.access === 'public' || def.access === 'authenticated' ? [def.access] : [...def.access.roles],
+      } as object),
     });
   }
   return new OpenApiGeneratorV31(registry.definitions).generateDocument({

@@ -21,6 +21,7 @@ export async function verifyPassword(hashed: string, pw: string): Promise<boolea
 export function passwordProblem(pw: string, username?: string): string | null {
   if (pw.length < MIN_PASSWORD_LENGTH) return `The password must have at least ${MIN_PASSWORD_LENGTH} characters.`;
   if (pw.length > 200) return 'The password must have at most 200 characters.';
-  if (username && pw.toLowerCase().includes(username.toLowerCase())) return 'The password must not contain the user name.';
+  if (username && pw.toLowerCase().includes(username.toLowerCase()))
+    return 'The password must not contain the user name.';
   return null;
 }

@@ -90,12 +90,22 @@ export function sha256(buf: Uint8Array): Buffer {
 }
 
 /** Reads a PKCS#12 file: the private key and the certificate whose public key matches it. */
-export function readP12(p12: Buffer, passphrase: string): { key: crypto.KeyObject; cert: forge.pki.Certificate; chain: forge.pki.Certificate[] } {
+export function readP12(
+  p12: Buffer,
+  passphrase: string,
+): { key: crypto.KeyObject; cert: forge.pki.Certificate; chain: forge.pki.Certificate[] } {
   let parsed: forge.pkcs12.Pkcs12Pfx;
   try {
-    parsed = forge.pkcs12.pkcs12FromAsn1(asn1.fromDer(forge.util.createBuffer(p12.toString('binary'))), false, passphrase);
+    parsed = forge.pkcs12.pkcs12FromAsn1(
+      asn1.fromDer(forge.util.createBuffer(p12.toString('binary'))),
+      false,
+      passphrase,
+    );
   } catch (e) {
-    throw new Error(`The signing certificate file cannot be opened (wrong passphrase or not a PKCS#12 file): ${(e as Error).message}`);
+    throw new Error(
+      `The signing certificate file cannot be opened (wrong passphrase or not a PKCS#12 file): ${(e as Error).message}`,
+      { cause: e },
+    );
   }
   const keyBags = [
     ...(parsed.getBags({ bagType: forge.pki.oids.pkcs8ShroudedKeyBag })[forge.pki.oids.pkcs8ShroudedKeyBag] ?? []),
@@ -103,7 +113,9 @@ export function readP12(p12: Buffer, passphrase: string): { key: crypto.KeyObjec
   ];
   const forgeKey = keyBags.find((b) => b.key)?.key as forge.pki.rsa.PrivateKey | undefined;
   if (!forgeKey) throw new Error('The signing certificate file holds no RSA private key.');
-  const certs = (parsed.getBags({ bagType: forge.pki.oids.certBag })[forge.pki.oids.certBag] ?? []).map((b) => b.cert).filter((c): c is forge.pki.Certificate => !!c);
+  const certs = (parsed.getBags({ bagType: forge.pki.oids.certBag })[forge.pki.oids.certBag] ?? [])
+    .map((b) => b.cert)
+    .filter((c): c is forge.pki.Certificate => !!c);
   const cert = certs.find((c) => {
     const pk = c.publicKey as forge.pki.rsa.PublicKey;
     return pk.n?.compareTo(forgeKey.n) === 0 && pk.e?.compareTo(forgeKey.e) === 0;
@@ -140,7 +152,10 @@ export function generateSigningP12(commonName: string, passphrase: string, years
     { name: 'subjectKeyIdentifier' },
   ]);
   cert.sign(fKey, forge.md.sha256.create());
-  const p12 = forge.pkcs12.toPkcs12Asn1(fKey, [cert], passphrase, { algorithm: '3des', friendlyName: commonName.slice(0, 64) });
+  const p12 = forge.pkcs12.toPkcs12Asn1(fKey, [cert], passphrase, {
+    algorithm: '3des',
+    friendlyName: commonName.slice(0, 64),
+  });
   return Buffer.from(asn1.toDer(p12).getBytes(), 'binary');
 }
 
@@ -172,10 +187,14 @@ function loadOrCreateGenerated(siteName: string, dir: string): { p12: Buffer; pa
       fs.renameSync(tmp, p12Path);
     } else {
       for (let i = 0; i < 100 && !fs.existsSync(p12Path); i++) sleepSync(100);
-      if (!fs.existsSync(p12Path)) throw new Error(`${path.relative(repoRoot, passPath)} exists without ${P12_FILE}; remove it to generate a new signing certificate.`);
+      if (!fs.existsSync(p12Path))
+        throw new Error(
+          `${path.relative(repoRoot, passPath)} exists without ${P12_FILE}; remove it to generate a new signing certificate.`,
+        );
     }
   }
-  if (!fs.existsSync(passPath)) throw new Error(`${path.relative(repoRoot, p12Path)} exists but its passphrase file ${PASS_FILE} is missing.`);
+  if (!fs.existsSync(passPath))
+    throw new Error(`${path.relative(repoRoot, p12Path)} exists but its passphrase file ${PASS_FILE} is missing.`);
   return { p12: fs.readFileSync(p12Path), passphrase: fs.readFileSync(passPath, 'utf8').trim(), p12Path };
 }
 
@@ -189,7 +208,12 @@ export interface SigningSettings {
 
 /** Loads (once per settings) the signing key and certificate. */
 export function loadSigningMaterial(s: SigningSettings): SigningMaterial {
-  const cacheKey = JSON.stringify([s.signingP12Path ?? '', s.signingP12Passphrase ?? '', s.keysDir ?? '', s.signingP12Path ? '' : s.siteName]);
+  const cacheKey = JSON.stringify([
+    s.signingP12Path ?? '',
+    s.signingP12Passphrase ?? '',
+    s.keysDir ?? '',
+    s.signingP12Path ? '' : s.siteName,
+  ]);
   if (cached && cached.key === cacheKey) return cached.material;
   let p12: Buffer;
   let passphrase: string;
@@ -197,7 +221,8 @@ export function loadSigningMaterial(s: SigningSettings): SigningMaterial {
   let source: SigningMaterial['source'];
   if (s.signingP12Path) {
     p12Path = path.resolve(repoRoot, s.signingP12Path);
-    if (!fs.existsSync(p12Path)) throw new Error(`SIGNING_P12_PATH points to ${s.signingP12Path}, which does not exist.`);
+    if (!fs.existsSync(p12Path))
+      throw new Error(`SIGNING_P12_PATH points to ${s.signingP12Path}, which does not exist.`);
     p12 = fs.readFileSync(p12Path);
     passphrase = s.signingP12Passphrase ?? '';
     source = 'configured';
@@ -220,8 +245,14 @@ export function loadSigningMaterial(s: SigningSettings): SigningMaterial {
   return material;
 }
 
-export function signingSettingsFrom(config: Pick<AppConfig, 'siteName' | 'signingP12Path' | 'signingP12Passphrase'>): SigningSettings {
-  return { siteName: config.siteName, signingP12Path: config.signingP12Path, signingP12Passphrase: config.signingP12Passphrase };
+export function signingSettingsFrom(
+  config: Pick<AppConfig, 'siteName' | 'signingP12Path' | 'signingP12Passphrase'>,
+): SigningSettings {
+  return {
+    siteName: config.siteName,
+    signingP12Path: config.signingP12Path,
+    signingP12Passphrase: config.signingP12Passphrase,
+  };
 }
 
 /** Who signs the certificates: fingerprint, subject and validity of the site's signing certificate. */
@@ -252,10 +283,12 @@ const nul = () => asn1.create(Class.UNIVERSAL, Type.NULL, false, '');
 const der = (a: forge.asn1.Asn1) => Buffer.from(asn1.toDer(a).getBytes(), 'binary');
 // decodeBitStrings off: BIT STRINGs stay opaque, so re-encoding a parsed certificate gives its bytes back.
 const fromDer = (b: Buffer) =>
-  (asn1.fromDer as unknown as (d: forge.util.ByteStringBuffer, o: { strict: boolean; decodeBitStrings: boolean }) => forge.asn1.Asn1)(
-    forge.util.createBuffer(b.toString('binary')),
-    { strict: true, decodeBitStrings: false },
-  );
+  (
+    asn1.fromDer as unknown as (
+      d: forge.util.ByteStringBuffer,
+      o: { strict: boolean; decodeBitStrings: boolean },
+    ) => forge.asn1.Asn1
+  )(forge.util.createBuffer(b.toString('binary')), { strict: true, decodeBitStrings: false });
 
 function attribute(type: string, value: forge.asn1.Asn1): forge.asn1.Asn1 {
   return seq([oid(type), set([value])]);
@@ -316,7 +349,11 @@ function derLength(n: number): Buffer {
 }
 
 /** Builds a detached CMS SignedData over `content` with CAdES-BES / PAdES B-B signed attributes. */
-export function buildCadesSignedData(content: Buffer, m: Pick<SigningMaterial, 'key' | 'certDer' | 'chainDer'>, signingTime = new Date()): Buffer {
+export function buildCadesSignedData(
+  content: Buffer,
+  m: Pick<SigningMaterial, 'key' | 'certDer' | 'chainDer'>,
+  signingTime = new Date(),
+): Buffer {
   const digest = sha256(content);
   const attrs = [
     attribute(OID.contentType, oid(OID.data)),
@@ -373,7 +410,11 @@ export interface SignPdfInfo {
 export const SIGNATURE_ROOM = 12_288;
 
 /** Signs a finished PDF (an incremental update with the signature dictionary). */
-export async function signPdf(pdf: Buffer, info: SignPdfInfo, s: SigningSettings): Promise<{ pdf: Buffer; fingerprint: string }> {
+export async function signPdf(
+  pdf: Buffer,
+  info: SignPdfInfo,
+  s: SigningSettings,
+): Promise<{ pdf: Buffer; fingerprint: string }> {
   const m = loadSigningMaterial(s);
   const signingTime = info.signingTime ?? new Date();
   const withPlaceholder = plainAddPlaceholder({
@@ -437,7 +478,7 @@ function readTlv(b: Buffer, at: number): Tlv {
 
 function children(b: Buffer, t: Tlv): Tlv[] {
   const out: Tlv[] = [];
-  for (let p = t.start + t.headerLength; p < t.end; ) {
+  for (let p = t.start + t.headerLength; p < t.end;) {
     const c = readTlv(b, p);
     out.push(c);
     p = c.end;
@@ -480,7 +521,8 @@ export function verifyPdfSignature(pdf: Buffer): PdfSignatureCheck {
   const base: Partial<PdfSignatureCheck> = { signed: true };
   const sf = /\/SubFilter\s*\/([A-Za-z0-9.]+)/.exec(text.slice(Math.max(0, br.index - 4000), br.index + 4000));
   base.subFilter = sf ? sf[1] : null;
-  if (a !== 0 || b <= 0 || c <= b || c + d > pdf.length) return fail(base, 'The signature byte range does not fit the file.');
+  if (a !== 0 || b <= 0 || c <= b || c + d > pdf.length)
+    return fail(base, 'The signature byte range does not fit the file.');
   base.coversWholeFile = c + d === pdf.length;
   const gap = text.slice(b, c);
   if (!/^<[0-9A-Fa-f]*>$/.test(gap)) return fail(base, 'The signature contents are not where the byte range says.');
@@ -535,13 +577,16 @@ export function verifyPdfSignature(pdf: Buffer): PdfSignatureCheck {
         const first = certIds[0] ? children(cms, certIds[0]) : [];
         const hashTlv = first.find((p) => p.tag === 0x04);
         const algTlv = first[0]?.tag === 0x30 ? first[0] : null;
-        if (algTlv && oidOf(cms, children(cms, algTlv)[0]) !== OID.sha256) return fail(base, 'The signing-certificate attribute uses a hash other than SHA-256.');
+        if (algTlv && oidOf(cms, children(cms, algTlv)[0]) !== OID.sha256)
+          return fail(base, 'The signing-certificate attribute uses a hash other than SHA-256.');
         essHash = hashTlv ? Buffer.from(value(cms, hashTlv)) : null;
       }
     }
     if (!messageDigest) return fail(base, 'The signature has no message digest.');
-    if (!messageDigest.equals(sha256(signedContent))) return fail(base, 'The document was changed after signing: its digest does not match the signed digest.');
-    if (essHash && !essHash.equals(sha256(signerCertDer))) return fail(base, 'The signing-certificate attribute does not match the embedded certificate.');
+    if (!messageDigest.equals(sha256(signedContent)))
+      return fail(base, 'The document was changed after signing: its digest does not match the signed digest.');
+    if (essHash && !essHash.equals(sha256(signerCertDer)))
+      return fail(base, 'The signing-certificate attribute does not match the embedded certificate.');
 
     const signedAttrs = Buffer.from(whole(cms, attrsTlv));
     signedAttrs[0] = 0x31; // verify over the SET OF encoding (RFC 5652 5.4)
@@ -554,8 +599,10 @@ export function verifyPdfSignature(pdf: Buffer): PdfSignatureCheck {
     } catch {
       ok = false; // forge throws when the decrypted block is not PKCS#1 v1.5: a wrong signature
     }
-    if (!ok) return fail(base, 'The RSA signature over the signed attributes does not verify with the embedded certificate.');
-    if (!base.coversWholeFile) return fail(base, 'Content was appended after the signature; the signature does not cover the whole file.');
+    if (!ok)
+      return fail(base, 'The RSA signature over the signed attributes does not verify with the embedded certificate.');
+    if (!base.coversWholeFile)
+      return fail(base, 'Content was appended after the signature; the signature does not cover the whole file.');
     return {
       signed: true,
       valid: true,

@@ -48,11 +48,23 @@ function shareParsedFonts(): void {
   const req = createRequire(import.meta.url);
   const pdfDocumentPath = path.join(path.dirname(req.resolve('pdfmake')), 'PDFDocument.js');
   const PDFDocument = (req(pdfDocumentPath) as { default: { prototype: Record<string, unknown> } }).default;
-  const proto = PDFDocument.prototype as { provideFont: (f: string, b: boolean, i: boolean) => EmbeddedFontLike; __drumlineShared?: boolean };
+  const proto = PDFDocument.prototype as {
+    provideFont: (f: string, b: boolean, i: boolean) => EmbeddedFontLike;
+    __drumlineShared?: boolean;
+  };
   if (proto.__drumlineShared) return;
   const original = proto.provideFont;
   const shared = new Map<string, { font: EmbeddedFontLike['font']; layouts: Record<string, unknown>; count: number }>();
-  proto.provideFont = function provideFont(this: { fontCache: Record<string, Record<string, EmbeddedFontLike>>; getFontFile(f: string, b: boolean, i: boolean): unknown; getFontType(b: boolean, i: boolean): string }, familyName: string, bold: boolean, italics: boolean) {
+  proto.provideFont = function provideFont(
+    this: {
+      fontCache: Record<string, Record<string, EmbeddedFontLike>>;
+      getFontFile(f: string, b: boolean, i: boolean): unknown;
+      getFontType(b: boolean, i: boolean): string;
+    },
+    familyName: string,
+    bold: boolean,
+    italics: boolean,
+  ) {
     const type = this.getFontType(bold, italics);
     const fresh = !this.fontCache[familyName]?.[type];
     const ef = original.call(this, familyName, bold, italics);
@@ -69,7 +81,8 @@ function shareParsedFonts(): void {
     if (ef.layoutCache) {
       if (++entry.count > MAX_SHARED_LAYOUTS / 100) {
         entry.count = 0;
-        if (Object.keys(entry.layouts).length > MAX_SHARED_LAYOUTS) entry.layouts = Object.create(null) as Record<string, unknown>;
+        if (Object.keys(entry.layouts).length > MAX_SHARED_LAYOUTS)
+          entry.layouts = Object.create(null) as Record<string, unknown>;
       }
       ef.layoutCache = entry.layouts;
     }
@@ -80,9 +93,13 @@ function shareParsedFonts(): void {
 
 function configure(): void {
   if (configured) return;
-  const files = Object.fromEntries(Object.entries(FONT_FILES).map(([k, f]) => [k, path.join(FONT_DIR, f)])) as Record<keyof typeof FONT_FILES, string>;
+  const files = Object.fromEntries(Object.entries(FONT_FILES).map(([k, f]) => [k, path.join(FONT_DIR, f)])) as Record<
+    keyof typeof FONT_FILES,
+    string
+  >;
   for (const f of Object.values(files)) {
-    if (!fs.existsSync(f)) throw new Error(`PDF font missing: ${path.relative(repoRoot, f)} (the fonts ship in public/fonts).`);
+    if (!fs.existsSync(f))
+      throw new Error(`PDF font missing: ${path.relative(repoRoot, f)} (the fonts ship in public/fonts).`);
   }
   shareParsedFonts();
   pdfmake.setFonts({ [PDF_FONT]: files });

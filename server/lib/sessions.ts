@@ -29,7 +29,12 @@ export function sessionIdFromToken(token: string): string {
   return encodeHexLowerCase(sha256(new TextEncoder().encode(token)));
 }
 
-export async function createSession(db: Knex | Knex.Transaction, userId: number, maxHours: number, ip: string | null): Promise<{ token: string; id: string }> {
+export async function createSession(
+  db: Knex | Knex.Transaction,
+  userId: number,
+  maxHours: number,
+  ip: string | null,
+): Promise<{ token: string; id: string }> {
   const token = generateSessionToken();
   const id = sessionIdFromToken(token);
   const now = new Date();
@@ -57,7 +62,9 @@ export async function validateSession(db: Knex, token: string, idleMinutes: numb
     return null;
   }
   if (now - new Date(s.last_seen_at).getTime() > 5_000) {
-    await db('user_session').where({ id }).update({ last_seen_at: new Date(now) });
+    await db('user_session')
+      .where({ id })
+      .update({ last_seen_at: new Date(now) });
   }
   return s;
 }

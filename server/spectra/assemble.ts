@@ -72,15 +72,20 @@ export function assembleSpectrum(raw: RawSpectrum): Spectrum {
   checkWavenumberWindow(wn, raw.xUnit, Math.min(x[0], x[n - 1]), Math.max(x[0], x[n - 1]));
   const conv = toAbsorbanceLike(y, raw.yQuantity, warnings);
 
-  let outX = wn === x ? Float64Array.from(x) : wn;
-  let outY = conv.y === y ? Float64Array.from(y) : conv.y;
+  const outX = wn === x ? Float64Array.from(x) : wn;
+  const outY = conv.y === y ? Float64Array.from(y) : conv.y;
   if (outX[n - 1] < outX[0]) {
     outX.reverse();
     outY.reverse();
-    if (raw.xUnit === 'cm-1') warnings.push('The wavenumbers were in descending order; the spectrum was put in ascending order.');
+    if (raw.xUnit === 'cm-1')
+      warnings.push('The wavenumbers were in descending order; the spectrum was put in ascending order.');
   }
-  if (raw.xUnit !== 'cm-1') warnings.push(`x was converted from ${raw.xUnit === 'nm' ? 'nanometres (1e7 / nm)' : 'micrometres (1e4 / um)'} to wavenumbers.`);
-  if (raw.yQuantity !== 'absorbance' && conv.yKind === 'absorbance') warnings.push('y was converted from transmittance to absorbance (A = -log10 T).');
+  if (raw.xUnit !== 'cm-1')
+    warnings.push(
+      `x was converted from ${raw.xUnit === 'nm' ? 'nanometres (1e7 / nm)' : 'micrometres (1e4 / um)'} to wavenumbers.`,
+    );
+  if (raw.yQuantity !== 'absorbance' && conv.yKind === 'absorbance')
+    warnings.push('y was converted from transmittance to absorbance (A = -log10 T).');
   if (raw.yQuantity.startsWith('reflectance')) warnings.push('y was converted from reflectance to log(1/R).');
 
   return {

@@ -67,7 +67,9 @@ export function bandToleranceFor(position: number, width: number | undefined, s:
 
 /** Reference bands from picked peaks: those at least `minProminence` high. */
 export function referenceBandsFrom(peaks: Peak[], minProminence: number): Band[] {
-  return peaks.filter((p) => p.prominence >= minProminence).map((p) => ({ position: p.position, prominence: p.prominence, width: p.width }));
+  return peaks
+    .filter((p) => p.prominence >= minProminence)
+    .map((p) => ({ position: p.position, prominence: p.prominence, width: p.width }));
 }
 
 /**
@@ -77,7 +79,10 @@ export function referenceBandsFrom(peaks: Peak[], minProminence: number): Band[]
  * sample band is only "extra" when the reference shows nothing there at all.
  */
 export function bandConcordance(
-  referenceBands: Band[], referencePeaks: Peak[], samplePeaks: Peak[], s: ConcordanceSettings,
+  referenceBands: Band[],
+  referencePeaks: Peak[],
+  samplePeaks: Peak[],
+  s: ConcordanceSettings,
 ): BandConcordance {
   const refs = [...referenceBands].sort((a, b) => a.position - b.position);
   const tol = refs.map((b) => bandToleranceFor(b.position, b.width, s));
@@ -119,7 +124,9 @@ export function bandConcordance(
       const peak = samplePeaks[p];
       if (peak.prominence < s.maxExtraBandProminence) continue;
       const t = bandToleranceFor(peak.position, peak.width, s);
-      const inRef = referencePeaks.some((q) => Math.abs(q.position - peak.position) <= Math.max(t, bandToleranceFor(q.position, q.width, s)));
+      const inRef = referencePeaks.some(
+        (q) => Math.abs(q.position - peak.position) <= Math.max(t, bandToleranceFor(q.position, q.width, s)),
+      );
       const matchedWithin = rows.some((row) => row.sampleBand === peak.position && row.withinTolerance);
       if (inRef || matchedWithin) continue;
       extraBands.push({

@@ -88,7 +88,11 @@ export function decideXUnit(label: string | undefined, x: Float64Array, fallback
 }
 
 /** Decides the y quantity of a delimited spectrum (header label first, then values). */
-export function decideYQuantity(label: string | undefined, y: Float64Array, fallback?: YQuantity): UnitsDecision<YQuantity> {
+export function decideYQuantity(
+  label: string | undefined,
+  y: Float64Array,
+  fallback?: YQuantity,
+): UnitsDecision<YQuantity> {
   if (label) {
     const q = parseYUnitLabel(label);
     if (q) return { unit: q, source: label, inferred: false };
@@ -116,7 +120,8 @@ export function decideYQuantity(label: string | undefined, y: Float64Array, fall
       { min, max, median: med },
     );
   }
-  if (max <= 10) return { unit: 'absorbance', source: `inferred from the y values (${fmt(min)} to ${fmt(max)})`, inferred: true };
+  if (max <= 10)
+    return { unit: 'absorbance', source: `inferred from the y values (${fmt(min)} to ${fmt(max)})`, inferred: true };
   throw new SpectrumError(
     'UNKNOWN_Y_UNITS',
     `The file does not say what y is, and its values (${fmt(min)} to ${fmt(max)}) are neither absorbance nor percent transmittance. ` +

@@ -47,7 +47,8 @@ const LAYOUTS: Layout[] = [
 const DELIMITER_CHAR = { tab: '\t', semicolon: ';', comma: ',' } as const;
 
 const NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
-const NON_FINITE_TOKEN = /^(?:[+-]?(?:nan|inf|infinity|∞)|#?n\/?a|null|none|#(?:num|div\/0|value|ref)!?|-?1\.#(?:ind|inf|qnan)\d*)$/i;
+const NON_FINITE_TOKEN =
+  /^(?:[+-]?(?:nan|inf|infinity|∞)|#?n\/?a|null|none|#(?:num|div\/0|value|ref)!?|-?1\.#(?:ind|inf|qnan)\d*)$/i;
 
 function splitFields(line: string, layout: Layout): string[] {
   let fields: string[];
@@ -71,7 +72,9 @@ function splitFields(line: string, layout: Layout): string[] {
 }
 
 function unquote(f: string): string {
-  return f.length >= 2 && ((f[0] === '"' && f.at(-1) === '"') || (f[0] === "'" && f.at(-1) === "'")) ? f.slice(1, -1).trim() : f;
+  return f.length >= 2 && ((f[0] === '"' && f.at(-1) === '"') || (f[0] === "'" && f.at(-1) === "'"))
+    ? f.slice(1, -1).trim()
+    : f;
 }
 
 /** Parses one field; returns NaN for anything that is not a plain decimal number. */
@@ -110,7 +113,10 @@ export function parseDelimited(text: string): DelimitedTable {
   const nonEmpty: number[] = [];
   for (let i = 0; i < lines.length; i++) if (lines[i].trim() !== '') nonEmpty.push(i);
   if (nonEmpty.length === 0) {
-    throw new SpectrumError('EMPTY_FILE', 'The file is empty. Export the spectrum from the instrument again and upload the new file.');
+    throw new SpectrumError(
+      'EMPTY_FILE',
+      'The file is empty. Export the spectrum from the instrument again and upload the new file.',
+    );
   }
 
   const sample = nonEmpty.slice(-20).map((i) => lines[i]);
@@ -198,9 +204,13 @@ function allNumeric(fields: string[], layout: Layout): boolean {
 }
 
 function splitHeader(line: string, layout: Layout): string[] {
-  if (layout.delimiter !== 'whitespace') return splitFields(line, layout).filter((f, i, a) => f !== '' || i < a.length - 1);
+  if (layout.delimiter !== 'whitespace')
+    return splitFields(line, layout).filter((f, i, a) => f !== '' || i < a.length - 1);
   // Whitespace data: header names may contain single spaces ("Wavenumber (cm-1)").
-  const byTab = line.split(/\t|\s{2,}/).map((f) => unquote(f.trim())).filter(Boolean);
+  const byTab = line
+    .split(/\t|\s{2,}/)
+    .map((f) => unquote(f.trim()))
+    .filter(Boolean);
   return byTab.length >= 2 ? byTab : line.trim().split(/\s+/).map(unquote);
 }
 
@@ -214,7 +224,10 @@ function rowError(fields: string[], width: number, lineNo: number, line: string,
       { line: lineNo, value: nonFinite },
     );
   }
-  const rawFields = layout.delimiter === 'whitespace' ? fields : line.split(DELIMITER_CHAR[layout.delimiter]).map((f) => unquote(f.trim()));
+  const rawFields =
+    layout.delimiter === 'whitespace'
+      ? fields
+      : line.split(DELIMITER_CHAR[layout.delimiter]).map((f) => unquote(f.trim()));
   if (rawFields.slice(0, width).some((f) => f === '')) {
     return new SpectrumError(
       'NON_FINITE',

@@ -20,10 +20,20 @@ const I32 = 0x7f;
 const F32 = 0x7d;
 const V128 = 0x7b;
 const op = {
-  block: [0x02, 0x40], loop: [0x03, 0x40], end: [0x0b], br: 0x0c, brIf: 0x0d,
-  get: 0x20, set: 0x21, i32const: 0x41,
-  i32geu: [0x4f], i32add: [0x6a], i32and: [0x71], i32shl: [0x74],
-  f32add: [0x92], f32mul: [0x94],
+  block: [0x02, 0x40],
+  loop: [0x03, 0x40],
+  end: [0x0b],
+  br: 0x0c,
+  brIf: 0x0d,
+  get: 0x20,
+  set: 0x21,
+  i32const: 0x41,
+  i32geu: [0x4f],
+  i32add: [0x6a],
+  i32and: [0x71],
+  i32shl: [0x74],
+  f32add: [0x92],
+  f32mul: [0x94],
   f32load: (offset: number) => [0x2a, 0x02, ...uleb(offset)],
   f32store: (offset: number) => [0x38, 0x02, ...uleb(offset)],
   v128load: (offset: number) => [0xfd, 0x00, 0x00, ...uleb(offset)],
@@ -68,39 +78,151 @@ const section = (id: number, body: number[]) => [id, ...uleb(body.length), ...bo
 const [DATA, Q, OUT, ROWS, WIDTH, R, J, ROW, END8, ROWB, ACC0, ACC1, S] = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12];
 
 const body = [
-  3, 5, I32, 2, V128, 1, F32, // local declarations
-  ...get(WIDTH), ...c(2), ...op.i32shl, ...set(ROWB), // rowBytes = width * 4
-  ...get(WIDTH), ...c(-8), ...op.i32and, ...c(2), ...op.i32shl, ...set(END8), // end8 = (width & ~7) * 4
-  ...get(DATA), ...set(ROW),
-  ...op.block, ...op.loop, // for each row
-  ...get(R), ...get(ROWS), ...op.i32geu, op.brIf, 1,
-  ...op.v128zero, ...set(ACC0), ...op.v128zero, ...set(ACC1), ...c(0), ...set(J),
-  ...op.block, ...op.loop, // eight floats at a time
-  ...get(J), ...get(END8), ...op.i32geu, op.brIf, 1,
-  ...get(ACC0), ...get(ROW), ...get(J), ...op.i32add, ...op.v128load(0), ...get(Q), ...get(J), ...op.i32add, ...op.v128load(0),
-  ...op.f32x4mul, ...op.f32x4add, ...set(ACC0),
-  ...get(ACC1), ...get(ROW), ...get(J), ...op.i32add, ...op.v128load(16), ...get(Q), ...get(J), ...op.i32add, ...op.v128load(16),
-  ...op.f32x4mul, ...op.f32x4add, ...set(ACC1),
-  ...get(J), ...c(32), ...op.i32add, ...set(J), op.br, 0,
-  ...op.end, ...op.end,
-  ...get(ACC0), ...get(ACC1), ...op.f32x4add, ...set(ACC0), // horizontal sum
-  ...get(ACC0), ...op.f32x4extract(0), ...get(ACC0), ...op.f32x4extract(1), ...op.f32add,
-  ...get(ACC0), ...op.f32x4extract(2), ...op.f32add, ...get(ACC0), ...op.f32x4extract(3), ...op.f32add, ...set(S),
-  ...op.block, ...op.loop, // remaining floats one by one
-  ...get(J), ...get(ROWB), ...op.i32geu, op.brIf, 1,
-  ...get(S), ...get(ROW), ...get(J), ...op.i32add, ...op.f32load(0), ...get(Q), ...get(J), ...op.i32add, ...op.f32load(0),
-  ...op.f32mul, ...op.f32add, ...set(S),
-  ...get(J), ...c(4), ...op.i32add, ...set(J), op.br, 0,
-  ...op.end, ...op.end,
-  ...get(OUT), ...get(R), ...c(2), ...op.i32shl, ...op.i32add, ...get(S), ...op.f32store(0), // out[r] = s
-  ...get(ROW), ...get(ROWB), ...op.i32add, ...set(ROW),
-  ...get(R), ...c(1), ...op.i32add, ...set(R), op.br, 0,
-  ...op.end, ...op.end,
+  3,
+  5,
+  I32,
+  2,
+  V128,
+  1,
+  F32, // local declarations
+  ...get(WIDTH),
+  ...c(2),
+  ...op.i32shl,
+  ...set(ROWB), // rowBytes = width * 4
+  ...get(WIDTH),
+  ...c(-8),
+  ...op.i32and,
+  ...c(2),
+  ...op.i32shl,
+  ...set(END8), // end8 = (width & ~7) * 4
+  ...get(DATA),
+  ...set(ROW),
+  ...op.block,
+  ...op.loop, // for each row
+  ...get(R),
+  ...get(ROWS),
+  ...op.i32geu,
+  op.brIf,
+  1,
+  ...op.v128zero,
+  ...set(ACC0),
+  ...op.v128zero,
+  ...set(ACC1),
+  ...c(0),
+  ...set(J),
+  ...op.block,
+  ...op.loop, // eight floats at a time
+  ...get(J),
+  ...get(END8),
+  ...op.i32geu,
+  op.brIf,
+  1,
+  ...get(ACC0),
+  ...get(ROW),
+  ...get(J),
+  ...op.i32add,
+  ...op.v128load(0),
+  ...get(Q),
+  ...get(J),
+  ...op.i32add,
+  ...op.v128load(0),
+  ...op.f32x4mul,
+  ...op.f32x4add,
+  ...set(ACC0),
+  ...get(ACC1),
+  ...get(ROW),
+  ...get(J),
+  ...op.i32add,
+  ...op.v128load(16),
+  ...get(Q),
+  ...get(J),
+  ...op.i32add,
+  ...op.v128load(16),
+  ...op.f32x4mul,
+  ...op.f32x4add,
+  ...set(ACC1),
+  ...get(J),
+  ...c(32),
+  ...op.i32add,
+  ...set(J),
+  op.br,
+  0,
+  ...op.end,
+  ...op.end,
+  ...get(ACC0),
+  ...get(ACC1),
+  ...op.f32x4add,
+  ...set(ACC0), // horizontal sum
+  ...get(ACC0),
+  ...op.f32x4extract(0),
+  ...get(ACC0),
+  ...op.f32x4extract(1),
+  ...op.f32add,
+  ...get(ACC0),
+  ...op.f32x4extract(2),
+  ...op.f32add,
+  ...get(ACC0),
+  ...op.f32x4extract(3),
+  ...op.f32add,
+  ...set(S),
+  ...op.block,
+  ...op.loop, // remaining floats one by one
+  ...get(J),
+  ...get(ROWB),
+  ...op.i32geu,
+  op.brIf,
+  1,
+  ...get(S),
+  ...get(ROW),
+  ...get(J),
+  ...op.i32add,
+  ...op.f32load(0),
+  ...get(Q),
+  ...get(J),
+  ...op.i32add,
+  ...op.f32load(0),
+  ...op.f32mul,
+  ...op.f32add,
+  ...set(S),
+  ...get(J),
+  ...c(4),
+  ...op.i32add,
+  ...set(J),
+  op.br,
+  0,
+  ...op.end,
+  ...op.end,
+  ...get(OUT),
+  ...get(R),
+  ...c(2),
+  ...op.i32shl,
+  ...op.i32add,
+  ...get(S),
+  ...op.f32store(0), // out[r] = s
+  ...get(ROW),
+  ...get(ROWB),
+  ...op.i32add,
+  ...set(ROW),
+  ...get(R),
+  ...c(1),
+  ...op.i32add,
+  ...set(R),
+  op.br,
+  0,
+  ...op.end,
+  ...op.end,
   ...op.end,
 ];
 
 const MODULE_BYTES = Uint8Array.from([
-  0x00, 0x61, 0x73, 0x6d, 0x01, 0x00, 0x00, 0x00,
+  0x00,
+  0x61,
+  0x73,
+  0x6d,
+  0x01,
+  0x00,
+  0x00,
+  0x00,
   ...section(1, [1, 0x60, 5, I32, I32, I32, I32, I32, 0]), // type: (i32 x5) -> ()
   ...section(2, [1, ...name('env'), ...name('mem'), 0x02, 0x00, 0x01]), // import memory, min 1 page
   ...section(3, [1, 0]), // one function of type 0
@@ -113,7 +235,10 @@ let compiled: WebAssembly.Module | null | undefined;
 
 function wasmModule(): WebAssembly.Module | null {
   if (compiled === undefined) {
-    compiled = typeof WebAssembly === 'object' && WebAssembly.validate(MODULE_BYTES) ? new WebAssembly.Module(MODULE_BYTES) : null;
+    compiled =
+      typeof WebAssembly === 'object' && WebAssembly.validate(MODULE_BYTES)
+        ? new WebAssembly.Module(MODULE_BYTES)
+        : null;
   }
   return compiled;
 }
@@ -137,7 +262,11 @@ function javascriptKernel(rows: number, width: number): DotKernel {
   const query = new Float32Array(width);
   const out = new Float32Array(rows);
   return {
-    rows, width, data, query, engine: 'javascript',
+    rows,
+    width,
+    data,
+    query,
+    engine: 'javascript',
     run() {
       let r = 0;
       for (; r + 4 <= rows; r += 4) {
@@ -173,7 +302,11 @@ function javascriptKernel(rows: number, width: number): DotKernel {
 }
 
 /** Allocates a kernel for a rows x width matrix (WebAssembly SIMD when available). */
-export function createDotKernel(rows: number, width: number, options: { engine?: 'auto' | 'javascript' } = {}): DotKernel {
+export function createDotKernel(
+  rows: number,
+  width: number,
+  options: { engine?: 'auto' | 'javascript' } = {},
+): DotKernel {
   const mod = options.engine === 'javascript' ? null : wasmModule();
   const bytes = (rows * width + width + rows) * 4;
   if (!mod || bytes > 2 ** 31) return javascriptKernel(rows, width);
@@ -187,7 +320,11 @@ export function createDotKernel(rows: number, width: number, options: { engine?:
   const query = new Float32Array(memory.buffer, queryOffset, width);
   const out = new Float32Array(memory.buffer, outOffset, rows);
   return {
-    rows, width, data, query, engine: 'wasm-simd',
+    rows,
+    width,
+    data,
+    query,
+    engine: 'wasm-simd',
     run() {
       dots(dataOffset, queryOffset, outOffset, rows, width);
       return out;

@@ -24,7 +24,9 @@ function criterionSentence(c: Criterion): string {
     case 'band-concordance':
       return `${c.value} of ${c.limit} reference bands were found in the sample within tolerance.`;
     case 'extra-bands':
-      return ok ? 'The sample shows no strong band that the reference lacks.' : `The sample shows ${c.value} strong band(s) that the reference lacks.`;
+      return ok
+        ? 'The sample shows no strong band that the reference lacks.'
+        : `The sample shows ${c.value} strong band(s) that the reference lacks.`;
     case 'mahalanobis':
       return `Distance to the reference set is ${c.value.toFixed(2)} standard deviations (at most ${c.limit} allowed)${ok ? '.' : ': the sample lies outside the spread of the approved references.'}`;
   }
@@ -39,25 +41,35 @@ export function bandMeaning(position: number, width: number | undefined): string
 }
 
 function missingSentences(rows: BandRow[]): string[] {
-  const bad = rows.filter((r) => !r.withinTolerance).sort((a, b) => (b.referenceProminence ?? 0) - (a.referenceProminence ?? 0));
-  const out = bad.slice(0, MAX_BAND_SENTENCES).map((r) =>
-    r.sampleBand === null || r.shift === null
-      ? `Reference band at ${cm(r.referenceBand)} (${r.assignment}) is missing in the sample.`
-      : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed.`,
-  );
-  if (bad.length > MAX_BAND_SENTENCES) out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);
+  const bad = rows
+    .filter((r) => !r.withinTolerance)
+    .sort((a, b) => (b.referenceProminence ?? 0) - (a.referenceProminence ?? 0));
+  const out = bad
+    .slice(0, MAX_BAND_SENTENCES)
+    .map((r) =>
+      r.sampleBand === null || r.shift === null
+        ? `Reference band at ${cm(r.referenceBand)} (${r.assignment}) is missing in the sample.`
+        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed.`,
+    );
+  if (bad.length > MAX_BAND_SENTENCES)
+    out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);
   return out;
 }
 
 function extraSentences(extra: ExtraBand[]): string[] {
   const sorted = [...extra].sort((a, b) => b.prominence - a.prominence);
-  const out = sorted.slice(0, MAX_BAND_SENTENCES).map(
-    (e) => `Extra ${shapeOf(e.width)} band at ${cm(e.position)}, not in the reference: ${bandMeaning(e.position, e.width)}.`,
-  );
-  if (sorted.length > MAX_BAND_SENTENCES) out.push(`${sorted.length - MAX_BAND_SENTENCES} further extra bands (see the band table).`);
+  const out = sorted
+    .slice(0, MAX_BAND_SENTENCES)
+    .map(
+      (e) =>
+        `Extra ${shapeOf(e.width)} band at ${cm(e.position)}, not in the reference: ${bandMeaning(e.position, e.width)}.`,
+    );
+  if (sorted.length > MAX_BAND_SENTENCES)
+    out.push(`${sorted.length - MAX_BAND_SENTENCES} further extra bands (see the band table).`);
   const water = extra.some((e) => assignBand(e.position, shapeOf(e.width))[0]?.id === 'oh-hbonded');
   const bend = extra.some((e) => e.position >= 1590 && e.position <= 1660);
-  if (water && bend) out.push('A broad O-H band together with a band near 1640 cm-1 points to water: check the sample for moisture.');
+  if (water && bend)
+    out.push('A broad O-H band together with a band near 1640 cm-1 points to water: check the sample for moisture.');
   return out;
 }
 
@@ -84,9 +96,14 @@ export function explain(input: ExplainInput): string[] {
   if (verdict === 'pass') {
     lines.push(`Identity confirmed against reference ${name}: every criterion passes.`);
     const shifts = best.bands.filter((r) => r.shift !== null).map((r) => Math.abs(r.shift as number));
-    if (shifts.length) lines.push(`Largest band shift ${Math.max(...shifts).toFixed(1)} cm-1 over ${best.bands.length} reference bands.`);
+    if (shifts.length)
+      lines.push(
+        `Largest band shift ${Math.max(...shifts).toFixed(1)} cm-1 over ${best.bands.length} reference bands.`,
+      );
   } else if (best.verdict === 'pass' && failedSet.length) {
-    lines.push(`Identity not confirmed: reference ${name} matches, but the sample fails a criterion on the whole reference set.`);
+    lines.push(
+      `Identity not confirmed: reference ${name} matches, but the sample fails a criterion on the whole reference set.`,
+    );
   } else {
     lines.push(
       referenceCount > 1
@@ -94,7 +111,8 @@ export function explain(input: ExplainInput): string[] {
         : `Identity not confirmed against reference ${name}.`,
     );
   }
-  for (const c of [...best.criteria, ...setCriteria]) if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));
+  for (const c of [...best.criteria, ...setCriteria])
+    if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));
   if (verdict !== 'pass') {
     lines.push(...missingSentences(best.bands));
     lines.push(...extraSentences(best.extraBands));

@@ -2,7 +2,12 @@
  * Group-frequency assignment of a band from the correlation table in
  * group-frequencies.data.ts (standard textbook ranges, from memory).
  */
-import { type BandShape, GROUP_FREQUENCIES, GROUP_FREQUENCY_SOURCE, type GroupFrequency } from './group-frequencies.data';
+import {
+  type BandShape,
+  GROUP_FREQUENCIES,
+  GROUP_FREQUENCY_SOURCE,
+  type GroupFrequency,
+} from './group-frequencies.data';
 
 export { GROUP_FREQUENCIES, GROUP_FREQUENCY_SOURCE };
 export type { BandShape, GroupFrequency };
@@ -25,7 +30,9 @@ export const RANGE_MARGIN = 10;
  * then narrower (more specific) ranges. The fingerprint region always comes last.
  */
 export function assignBand(wavenumber: number, shape?: BandShape): GroupFrequency[] {
-  const hits = GROUP_FREQUENCIES.filter((g) => wavenumber >= g.from - RANGE_MARGIN && wavenumber <= g.to + RANGE_MARGIN);
+  const hits = GROUP_FREQUENCIES.filter(
+    (g) => wavenumber >= g.from - RANGE_MARGIN && wavenumber <= g.to + RANGE_MARGIN,
+  );
   const rank = (g: GroupFrequency): number[] => [
     g.id === 'fingerprint' ? 1 : 0,
     shape && g.shape !== 'any' && g.shape !== shape ? 1 : 0,
@@ -56,5 +63,7 @@ export function describeAssignment(wavenumber: number, shape?: BandShape): strin
   const chosen = specific.length ? specific.slice(0, DESCRIBED_CANDIDATES) : fallback ? [fallback] : [];
   if (!chosen.length) return 'no common group frequency';
   const text = chosen.map((g) => `${g.group} (${g.from}-${g.to} cm-1, ${g.intensity})`).join(' or ');
-  return specific.length && all.some((g) => g.id === 'fingerprint') && wavenumber <= 1500 ? `${text}; fingerprint region` : text;
+  return specific.length && all.some((g) => g.id === 'fingerprint') && wavenumber <= 1500
+    ? `${text}; fingerprint region`
+    : text;
 }

@@ -91,10 +91,18 @@ export function parseJcampStructure(text: string): JcampStructure {
       }
       const label = trimmed.slice(2, eq).trim();
       const key = canonicalLabel(label);
-      const ldr: Ldr = { label, key, value: stripComment(trimmed.slice(eq + 1)).trim(), line: i + 1, contStart: i + 1, contCount: 0 };
+      const ldr: Ldr = {
+        label,
+        key,
+        value: stripComment(trimmed.slice(eq + 1)).trim(),
+        line: i + 1,
+        contStart: i + 1,
+        contCount: 0,
+      };
       current = ldr;
       if (key === 'TITLE') {
-        if (closedAll) warnings.push(`A second block starts at line ${i + 1} after the file's last ##END=; it was ignored.`);
+        if (closedAll)
+          warnings.push(`A second block starts at line ${i + 1} after the file's last ##END=; it was ignored.`);
         sawTitle = true;
         const block: JcampBlockRaw = { ldrs: [ldr], depth: open.length, startLine: i + 1 };
         if (!closedAll) {
@@ -104,7 +112,10 @@ export function parseJcampStructure(text: string): JcampStructure {
         continue;
       }
       if (!sawTitle) {
-        throw unreadable(`The first JCAMP-DX record must be ##TITLE=, but line ${i + 1} is "##${label}=". Export the file again from the instrument.`, i + 1);
+        throw unreadable(
+          `The first JCAMP-DX record must be ##TITLE=, but line ${i + 1} is "##${label}=". Export the file again from the instrument.`,
+          i + 1,
+        );
       }
       if (open.length === 0) {
         if (key !== 'END') closedAll = true;
@@ -121,7 +132,10 @@ export function parseJcampStructure(text: string): JcampStructure {
     if (current) {
       current.contCount = i + 1 - current.contStart;
     } else if (!sawTitle && stripComment(raw).trim() !== '') {
-      throw unreadable('The file does not start with a ##TITLE= record, so it is not a valid JCAMP-DX file. Export it again from the instrument.', i + 1);
+      throw unreadable(
+        'The file does not start with a ##TITLE= record, so it is not a valid JCAMP-DX file. Export it again from the instrument.',
+        i + 1,
+      );
     } else if (closedAll && !trailingWarned && stripComment(raw).trim() !== '') {
       warnings.push(`Text after the final ##END= (from line ${i + 1}) was ignored.`);
       trailingWarned = true;
@@ -134,6 +148,9 @@ export function parseJcampStructure(text: string): JcampStructure {
       { openBlocks: open.length },
     );
   }
-  if (!sawTitle) throw unreadable('No ##TITLE= record was found, so this is not a JCAMP-DX file. Export the spectrum again as JCAMP-DX.');
+  if (!sawTitle)
+    throw unreadable(
+      'No ##TITLE= record was found, so this is not a JCAMP-DX file. Export the spectrum again as JCAMP-DX.',
+    );
   return { lines, blocks, warnings };
 }

@@ -86,7 +86,9 @@ export function decodeJcamp(text: string, options: JcampDecodeOptions = {}): Jca
     );
   }
   if (dataBlocks.length > 1) {
-    warnings.push(`The file holds ${dataBlocks.length} blocks with data; only the first ("${blockTitle(s, dataBlocks[0].ldrs)}") was read.`);
+    warnings.push(
+      `The file holds ${dataBlocks.length} blocks with data; only the first ("${blockTitle(s, dataBlocks[0].ldrs)}") was read.`,
+    );
   }
   const block = dataBlocks[0];
   const labels: Record<string, string> = {};
@@ -96,7 +98,9 @@ export function decodeJcamp(text: string, options: JcampDecodeOptions = {}): Jca
   }
   options.beforeData?.(labels);
   const ctx: Ctx = { s, report, issues, warnings };
-  const pages = block.ldrs.some((l) => l.key === 'NTUPLES') ? decodeNtuples(ctx, block.ldrs) : [decodeSimple(ctx, block.ldrs, labels)];
+  const pages = block.ldrs.some((l) => l.key === 'NTUPLES')
+    ? decodeNtuples(ctx, block.ldrs)
+    : [decodeSimple(ctx, block.ldrs, labels)];
   return {
     title: labels.TITLE ?? '',
     jcampVersion: labels.JCAMPDX ?? '',
@@ -141,9 +145,13 @@ function num(labels: Record<string, string>, key: string): number | undefined {
   if (v === undefined || v.trim() === '') return undefined;
   const n = Number(v.trim());
   if (!Number.isFinite(n)) {
-    throw new SpectrumError('JCAMP_BAD_LABEL_VALUE', `The JCAMP-DX record ##${key}= holds "${v.trim().slice(0, 30)}", which is not a number. The file is damaged; export it again.`, {
-      label: key,
-    });
+    throw new SpectrumError(
+      'JCAMP_BAD_LABEL_VALUE',
+      `The JCAMP-DX record ##${key}= holds "${v.trim().slice(0, 30)}", which is not a number. The file is damaged; export it again.`,
+      {
+        label: key,
+      },
+    );
   }
   return n;
 }
@@ -164,7 +172,8 @@ function fail(ctx: Ctx, err: SpectrumError): void {
 function decodeSimple(ctx: Ctx, ldrs: Ldr[], labels: Record<string, string>): JcampPage {
   const dataLdrs = ldrs.filter((l) => l.key === 'XYDATA' || l.key === 'XYPOINTS' || l.key === 'PEAKTABLE');
   const data = dataLdrs[0];
-  if (dataLdrs.length > 1) ctx.warnings.push(`The block holds ${dataLdrs.length} data records; only the first (##${data.label}=) was read.`);
+  if (dataLdrs.length > 1)
+    ctx.warnings.push(`The block holds ${dataLdrs.length} data records; only the first (##${data.label}=) was read.`);
   const form: JcampForm = data.key === 'XYDATA' ? 'XYDATA' : data.key === 'XYPOINTS' ? 'XYPOINTS' : 'PEAK TABLE';
   let xFactor = num(labels, 'XFACTOR');
   let yFactor = num(labels, 'YFACTOR');
@@ -214,11 +223,22 @@ function decodeXyData(ctx: Ctx, data: Ldr, p: PageParams): JcampPage {
   if (p.npoints === undefined) throw missing('##NPOINTS=');
   const npoints = p.npoints;
   if (!Number.isInteger(npoints) || npoints < 1 || npoints > MAX_POINTS) {
-    throw new SpectrumError('JCAMP_BAD_LABEL_VALUE', `##NPOINTS=${npoints} is not a usable number of points. The file is damaged; export it again.`, { npoints });
+    throw new SpectrumError(
+      'JCAMP_BAD_LABEL_VALUE',
+      `##NPOINTS=${npoints} is not a usable number of points. The file is damaged; export it again.`,
+      { npoints },
+    );
   }
-  const r = decodeAsdf(ctx.s.lines, data.contStart, data.contCount, { maxPoints: ctx.report ? MAX_POINTS : npoints, expected: npoints, report: ctx.report });
+  const r = decodeAsdf(ctx.s.lines, data.contStart, data.contCount, {
+    maxPoints: ctx.report ? MAX_POINTS : npoints,
+    expected: npoints,
+    report: ctx.report,
+  });
   ctx.issues.push(...r.issues);
-  if (r.endsWithDif) ctx.warnings.push('The last data line ends with a difference but no Y-check line follows it; that line could not be verified.');
+  if (r.endsWithDif)
+    ctx.warnings.push(
+      'The last data line ends with a difference but no Y-check line follows it; that line could not be verified.',
+    );
   const n = r.y.length;
   if (n !== npoints) {
     fail(
@@ -244,7 +264,8 @@ function decodeXyData(ctx: Ctx, data: Ldr, p: PageParams): JcampPage {
     const written = Math.abs(p.xFactor) * 10 ** -ln.xDecimals;
     const tol = Math.max(0.5 * Math.abs(dx), 0.5 * written) * (1 + 1e-9) + 1e-12 * Math.abs(expected);
     const dev = Math.abs(found - expected);
-    if (dev > tol && (!worst || dev - tol > worst.dev - worst.tol)) worst = { line: ln.line, found, expected, dev, tol };
+    if (dev > tol && (!worst || dev - tol > worst.dev - worst.tol))
+      worst = { line: ln.line, found, expected, dev, tol };
   }
   if (worst) {
     fail(
@@ -316,7 +337,11 @@ function decodeGroups(ctx: Ctx, data: Ldr, p: PageParams, size: number): JcampPa
           { line: lineNo, token: tok },
         );
       }
-      if (values.length > MAX_POINTS * size) throw new SpectrumError('JCAMP_NPOINTS_MISMATCH', 'The JCAMP-DX file holds far too many points. Export a single spectrum again.');
+      if (values.length > MAX_POINTS * size)
+        throw new SpectrumError(
+          'JCAMP_NPOINTS_MISMATCH',
+          'The JCAMP-DX file holds far too many points. Export a single spectrum again.',
+        );
     }
   }
   if (values.length % size !== 0) {
@@ -405,12 +430,21 @@ function decodeNtuples(ctx: Ctx, ldrs: Ldr[]): JcampPage[] {
     else pageLdrs[l.key] = text;
   }
   if (pages.length === 0) {
-    throw new SpectrumError('JCAMP_MISSING_LABEL', 'The JCAMP-DX NTUPLES block holds no ##DATA TABLE= record, so it has no spectrum data. Export the spectrum again.');
+    throw new SpectrumError(
+      'JCAMP_MISSING_LABEL',
+      'The JCAMP-DX NTUPLES block holds no ##DATA TABLE= record, so it has no spectrum data. Export the spectrum again.',
+    );
   }
   return pages;
 }
 
-function ntuplesPage(ctx: Ctx, l: Ldr, table: Record<string, string[]>, pageLabel: string | undefined, pageLdrs: Record<string, string>): JcampPage {
+function ntuplesPage(
+  ctx: Ctx,
+  l: Ldr,
+  table: Record<string, string[]>,
+  pageLabel: string | undefined,
+  pageLdrs: Record<string, string>,
+): JcampPage {
   const [vars, kindRaw = 'XYDATA'] = l.value.split(/\)\s*,/).length > 1 ? splitTable(l.value) : [l.value, 'XYDATA'];
   const kind = kindRaw.replace(/\s+/g, '').toUpperCase();
   const v = vars.replace(/\s+/g, '').toUpperCase();
@@ -420,15 +454,23 @@ function ntuplesPage(ctx: Ctx, l: Ldr, table: Record<string, string[]>, pageLabe
   const xi = symbols.indexOf(m[1]);
   const yi = symbols.indexOf(m[2]);
   if (xi < 0 || yi < 0) {
-    throw new SpectrumError('JCAMP_UNREADABLE', `The NTUPLES data table uses variables "${m[1]}" and "${m[2]}", which ##SYMBOL= does not define. The file is damaged; export it again.`, {
-      line: l.line,
-    });
+    throw new SpectrumError(
+      'JCAMP_UNREADABLE',
+      `The NTUPLES data table uses variables "${m[1]}" and "${m[2]}", which ##SYMBOL= does not define. The file is damaged; export it again.`,
+      {
+        line: l.line,
+      },
+    );
   }
   const at = (key: string, i: number) => {
     const s = table[key]?.[i];
     if (s === undefined || s === '') return undefined;
     const n = Number(s);
-    if (!Number.isFinite(n)) throw new SpectrumError('JCAMP_BAD_LABEL_VALUE', `The NTUPLES record ##${key}= holds "${s}", which is not a number. The file is damaged; export it again.`);
+    if (!Number.isFinite(n))
+      throw new SpectrumError(
+        'JCAMP_BAD_LABEL_VALUE',
+        `The NTUPLES record ##${key}= holds "${s}", which is not a number. The file is damaged; export it again.`,
+      );
     return n;
   };
   const pageNpoints = pageLdrs.NPOINTS !== undefined ? Number(pageLdrs.NPOINTS) : undefined;
@@ -452,7 +494,13 @@ function ntuplesPage(ctx: Ctx, l: Ldr, table: Record<string, string[]>, pageLabe
 /** "(X++(R..R)), XYDATA" -> ["(X++(R..R))", "XYDATA"]. */
 function splitTable(value: string): [string, string] {
   const k = value.lastIndexOf(')');
-  return [value.slice(0, k + 1), value.slice(k + 1).replace(/^\s*,/, '').trim()];
+  return [
+    value.slice(0, k + 1),
+    value
+      .slice(k + 1)
+      .replace(/^\s*,/, '')
+      .trim(),
+  ];
 }
 
 function round(v: number): string {

@@ -60,7 +60,9 @@ export interface SearchHit {
  * iterable can stream a large library) or prepared for this method.
  */
 export function buildLibrary(
-  entries: Iterable<LibraryEntry | PreparedReference>, method: IdentityMethod, options: BuildLibraryOptions = {},
+  entries: Iterable<LibraryEntry | PreparedReference>,
+  method: IdentityMethod,
+  options: BuildLibraryOptions = {},
 ): Library {
   assertValidMethod(method);
   const keep = options.keepReferences ?? true;

@@ -187,12 +187,14 @@ function checkRange(v: unknown, name: string, problems: string[]): v is Wavenumb
 
 function checkFraction(v: unknown, name: string, problems: string[], nullable: boolean): void {
   if (v === null && nullable) return;
-  if (!isNum(v) || v <= 0 || v > 1) problems.push(`${name} must be a fraction above 0 and at most 1${nullable ? ', or null' : ''}.`);
+  if (!isNum(v) || v <= 0 || v > 1)
+    problems.push(`${name} must be a fraction above 0 and at most 1${nullable ? ', or null' : ''}.`);
 }
 
 function checkCorrelationLimit(v: unknown, name: string, problems: string[], nullable: boolean): void {
   if (v === null && nullable) return;
-  if (!isNum(v) || v <= -1 || v > 1) problems.push(`${name} must be a correlation above -1 and at most 1${nullable ? ', or null' : ''}.`);
+  if (!isNum(v) || v <= -1 || v > 1)
+    problems.push(`${name} must be a correlation above -1 and at most 1${nullable ? ', or null' : ''}.`);
 }
 
 /**
@@ -202,12 +204,14 @@ function checkCorrelationLimit(v: unknown, name: string, problems: string[], nul
 export function validateMethod(m: unknown): string[] {
   const problems: string[] = [];
   if (!isObject(m)) return ['The method must be an object.'];
-  if (!TECHNIQUES.includes(m.technique as Technique)) problems.push(`technique must be one of ${TECHNIQUES.join(', ')}.`);
+  if (!TECHNIQUES.includes(m.technique as Technique))
+    problems.push(`technique must be one of ${TECHNIQUES.join(', ')}.`);
   const rangeOk = checkRange(m.range, 'range', problems);
   if (!isNum(m.gridStep) || m.gridStep <= 0) problems.push('gridStep must be a positive number of cm-1.');
   else if (rangeOk) {
     const n = gridLength({ range: m.range as WavenumberRange, gridStep: m.gridStep });
-    if (n < 50) problems.push(`The grid has only ${n} points; at least 50 are needed (smaller gridStep or wider range).`);
+    if (n < 50)
+      problems.push(`The grid has only ${n} points; at least 50 are needed (smaller gridStep or wider range).`);
     if (n > MAX_GRID_POINTS) problems.push(`The grid has ${n} points; at most ${MAX_GRID_POINTS} are allowed.`);
   }
   if (!Array.isArray(m.excludedRegions)) problems.push('excludedRegions must be a list (possibly empty).');
@@ -223,7 +227,8 @@ export function validateMethod(m: unknown): string[] {
       }
     });
   }
-  if (!BASELINES.includes(m.baseline as BaselineMode)) problems.push(`baseline must be one of ${BASELINES.join(', ')}.`);
+  if (!BASELINES.includes(m.baseline as BaselineMode))
+    problems.push(`baseline must be one of ${BASELINES.join(', ')}.`);
   if (!NORMALISATIONS.includes(m.normalisation as Normalisation)) {
     problems.push(`normalisation must be one of ${NORMALISATIONS.join(', ')}.`);
   }
@@ -234,10 +239,13 @@ export function validateMethod(m: unknown): string[] {
     if (!Number.isInteger(w) || (w as number) < 5 || (w as number) % 2 === 0 || (w as number) > 201) {
       problems.push('smoothing.windowSize must be an odd whole number from 5 to 201.');
     }
-    if (!Number.isInteger(p) || (p as number) < 1 || (p as number) > 5) problems.push('smoothing.polynomial must be a whole number from 1 to 5.');
-    else if (Number.isInteger(w) && (p as number) >= (w as number)) problems.push('smoothing.polynomial must be below windowSize.');
+    if (!Number.isInteger(p) || (p as number) < 1 || (p as number) > 5)
+      problems.push('smoothing.polynomial must be a whole number from 1 to 5.');
+    else if (Number.isInteger(w) && (p as number) >= (w as number))
+      problems.push('smoothing.polynomial must be below windowSize.');
     if (d !== 0 && d !== 1 && d !== 2) problems.push('smoothing.derivative must be 0, 1 or 2.');
-    else if (Number.isInteger(p) && d > (p as number)) problems.push('smoothing.derivative cannot exceed the polynomial order.');
+    else if (Number.isInteger(p) && d > (p as number))
+      problems.push('smoothing.derivative cannot exceed the polynomial order.');
   }
   const t = m.thresholds;
   if (!isObject(t)) problems.push('thresholds need minCorrelation, minDerivativeCorrelation and maxMahalanobis.');
@@ -245,15 +253,18 @@ export function validateMethod(m: unknown): string[] {
     checkCorrelationLimit(t.minCorrelation, 'thresholds.minCorrelation', problems, false);
     checkCorrelationLimit(t.minDerivativeCorrelation ?? null, 'thresholds.minDerivativeCorrelation', problems, true);
     const mm = t.maxMahalanobis ?? null;
-    if (mm !== null && (!isNum(mm) || mm <= 0)) problems.push('thresholds.maxMahalanobis must be a positive number or null.');
+    if (mm !== null && (!isNum(mm) || mm <= 0))
+      problems.push('thresholds.maxMahalanobis must be a positive number or null.');
     if (mm !== null && !isObject(m.distanceModel)) problems.push('thresholds.maxMahalanobis needs a distanceModel.');
   }
   const bt = m.bandTolerance;
   if (!isObject(bt)) problems.push('bandTolerance must be {mode: "absolute", cm1} or {mode: "relative", percent}.');
   else if (bt.mode === 'absolute') {
-    if (!isNum(bt.cm1) || bt.cm1 <= 0 || bt.cm1 > 100) problems.push('bandTolerance.cm1 must be above 0 and at most 100 cm-1.');
+    if (!isNum(bt.cm1) || bt.cm1 <= 0 || bt.cm1 > 100)
+      problems.push('bandTolerance.cm1 must be above 0 and at most 100 cm-1.');
   } else if (bt.mode === 'relative') {
-    if (!isNum(bt.percent) || bt.percent <= 0 || bt.percent > 5) problems.push('bandTolerance.percent must be above 0 and at most 5 %.');
+    if (!isNum(bt.percent) || bt.percent <= 0 || bt.percent > 5)
+      problems.push('bandTolerance.percent must be above 0 and at most 5 %.');
   } else problems.push('bandTolerance.mode must be "absolute" or "relative".');
   checkFraction(m.widthTolerance, 'widthTolerance', problems, true);
   checkFraction(m.peakProminence, 'peakProminence', problems, true);
@@ -264,12 +275,15 @@ export function validateMethod(m: unknown): string[] {
   const q = m.quality;
   if (!isObject(q)) problems.push('quality needs minMaxAbsorbance, maxAbsorbance and minSignalToNoise.');
   else {
-    if (!isNum(q.minMaxAbsorbance) || q.minMaxAbsorbance < 0) problems.push('quality.minMaxAbsorbance must be a number of at least 0.');
-    if (!isNum(q.maxAbsorbance) || q.maxAbsorbance <= 0) problems.push('quality.maxAbsorbance must be a positive number.');
+    if (!isNum(q.minMaxAbsorbance) || q.minMaxAbsorbance < 0)
+      problems.push('quality.minMaxAbsorbance must be a number of at least 0.');
+    if (!isNum(q.maxAbsorbance) || q.maxAbsorbance <= 0)
+      problems.push('quality.maxAbsorbance must be a positive number.');
     else if (isNum(q.minMaxAbsorbance) && q.maxAbsorbance <= q.minMaxAbsorbance) {
       problems.push('quality.maxAbsorbance must exceed quality.minMaxAbsorbance.');
     }
-    if (!isNum(q.minSignalToNoise) || q.minSignalToNoise < 0) problems.push('quality.minSignalToNoise must be a number of at least 0.');
+    if (!isNum(q.minSignalToNoise) || q.minSignalToNoise < 0)
+      problems.push('quality.minSignalToNoise must be a number of at least 0.');
   }
   const dm = m.distanceModel;
   if (dm !== null && dm !== undefined) {

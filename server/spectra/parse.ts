@@ -33,7 +33,10 @@ export function isJcampText(text: string): boolean {
 export function readSpectrum(data: Uint8Array | string, fileName: string, options: ReadOptions = {}): Spectrum {
   const text = fileToText(data);
   if (text.trim() === '') {
-    throw new SpectrumError('EMPTY_FILE', 'The file is empty. Export the spectrum from the instrument again and upload the new file.');
+    throw new SpectrumError(
+      'EMPTY_FILE',
+      'The file is empty. Export the spectrum from the instrument again and upload the new file.',
+    );
   }
   if (isJcampText(text)) return assembleSpectrum(jcampToRawSpectrum(text, fileName, options));
   if (JCAMP_EXTENSIONS.test(fileName)) {

@@ -21,7 +21,12 @@ export interface Peak {
 
 /** Vertex {x, y} of the parabola through three points (x ascending, any spacing). */
 export function parabolaVertex(
-  x0: number, y0: number, x1: number, y1: number, x2: number, y2: number,
+  x0: number,
+  y0: number,
+  x1: number,
+  y1: number,
+  x2: number,
+  y2: number,
 ): { x: number; y: number } {
   // Shift to x1 for numerical stability: y = a t^2 + b t + y1, t = x - x1.
   const t0 = x0 - x1;
@@ -87,7 +92,8 @@ export function findPeaks(x: Float64Array, y: Float64Array, options: PeakOptions
     }
     const prominence = h - Math.max(leftMin, rightMin);
     if (prominence >= options.minProminence && (!options.mask || options.mask[top])) {
-      const v = i === k ? parabolaVertex(x[i - 1], y[i - 1], x[i], y[i], x[i + 1], y[i + 1]) : { x: (x[i] + x[k]) / 2, y: h };
+      const v =
+        i === k ? parabolaVertex(x[i - 1], y[i - 1], x[i], y[i], x[i + 1], y[i + 1]) : { x: (x[i] + x[k]) / 2, y: h };
       const level = h - prominence / 2;
       const left = halfCrossing(x, y, i, level, Math.max(l, 0), -1);
       const right = halfCrossing(x, y, k, level, Math.min(r, n - 1), 1);

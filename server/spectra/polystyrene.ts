@@ -104,7 +104,8 @@ function valueAt(spectrum: Spectrum, v: number): number {
 
 function minimumIn(spectrum: Spectrum, from: number, to: number): number {
   let m = Infinity;
-  for (let i = 0; i < spectrum.x.length; i++) if (spectrum.x[i] >= from && spectrum.x[i] <= to) m = Math.min(m, spectrum.y[i]);
+  for (let i = 0; i < spectrum.x.length; i++)
+    if (spectrum.x[i] >= from && spectrum.x[i] <= to) m = Math.min(m, spectrum.y[i]);
   return m;
 }
 
@@ -147,7 +148,8 @@ export function checkPolystyrene(spectrum: Spectrum, options: PolystyreneOptions
     mode === 'atr'
       ? {
           applicable: false,
-          reason: 'The resolution criteria are defined for a film of about 35 um in transmission; ATR band intensities cannot meet or test them.',
+          reason:
+            'The resolution criteria are defined for a film of about 35 um in transmission; ATR band intensities cannot meet or test them.',
           checks: [],
           ok: true,
         }

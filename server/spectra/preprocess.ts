@@ -80,7 +80,12 @@ interface GridLayout {
 const layouts = new Map<string, GridLayout>();
 
 function layoutFor(method: IdentityMethod): GridLayout {
-  const k = JSON.stringify([method.range.from, method.range.to, method.gridStep, method.excludedRegions.map((r) => [r.from, r.to])]);
+  const k = JSON.stringify([
+    method.range.from,
+    method.range.to,
+    method.gridStep,
+    method.excludedRegions.map((r) => [r.from, r.to]),
+  ]);
   let l = layouts.get(k);
   if (!l) {
     const grid = makeGrid(method.range, method.gridStep);
@@ -117,10 +122,13 @@ export function prepare(spectrum: Spectrum, method: IdentityMethod): PreparedSpe
   }
   // Normalisation is affine, so the scaled trace of the smoothed, normalised values
   // equals that of the smoothed, baseline-corrected absorbance.
-  const smooth = method.smoothing.derivative === 0 ? main : savitzkyGolay(corrected, step, { ...method.smoothing, derivative: 0 });
+  const smooth =
+    method.smoothing.derivative === 0 ? main : savitzkyGolay(corrected, step, { ...method.smoothing, derivative: 0 });
   const trace = scaleToUnit(smooth, mask);
   const peaks =
-    method.peakProminence === null ? [] : findPeaks(grid, trace, { minProminence: method.peakProminence * DETECTION_RATIO, mask });
+    method.peakProminence === null
+      ? []
+      : findPeaks(grid, trace, { minProminence: method.peakProminence * DETECTION_RATIO, mask });
   return {
     key: preparationKey(method),
     grid,

@@ -139,7 +139,8 @@ export function checkQuality(spectrum: Spectrum, method: IdentityMethod): Qualit
     problems.push({
       code: 'RANGE_NOT_COVERED',
       message: `The spectrum covers ${span}, but the method needs ${method.range.from} to ${method.range.to} cm-1.`,
-      advice: 'Measure over the full range of the method (check the instrument range settings), or use a method made for this range.',
+      advice:
+        'Measure over the full range of the method (check the instrument range settings), or use a method made for this range.',
     });
   }
   if (m.bandHeight < q.minMaxAbsorbance) {
@@ -163,7 +164,8 @@ export function checkQuality(spectrum: Spectrum, method: IdentityMethod): Qualit
     problems.push({
       code: 'SATURATED',
       message: `The strongest band has a flat top (${m.flatTopPoints} points held at ${f(m.maxAbsorbance)}); the detector or the export clipped it.`,
-      advice: 'Reduce the signal (less sample, thinner layer, fewer ATR reflections) and measure again; check the export settings.',
+      advice:
+        'Reduce the signal (less sample, thinner layer, fewer ATR reflections) and measure again; check the export settings.',
     });
   }
   if (m.signalToNoise < q.minSignalToNoise) {

@@ -5,7 +5,8 @@
 import type { BandRow, ExtraBand } from './bands';
 import type { QualityReport } from './quality';
 
-export type CriterionKey = 'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
+export type CriterionKey =
+  'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
 
 export interface Criterion {
   key: CriterionKey;

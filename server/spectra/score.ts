@@ -58,7 +58,8 @@ export function assertValidMethod(method: IdentityMethod): void {
 /** Prepares a reference for a method; throws SpectrumError when it does not cover the method range. */
 export function prepareReference(ref: ReferenceInput, method: IdentityMethod): PreparedReference {
   const prepared = prepare(ref.spectrum, method);
-  const bands = ref.bands ?? (method.peakProminence === null ? [] : referenceBandsFrom(prepared.peaks, method.peakProminence));
+  const bands =
+    ref.bands ?? (method.peakProminence === null ? [] : referenceBandsFrom(prepared.peaks, method.peakProminence));
   return {
     id: ref.id,
     ...(ref.label !== undefined ? { label: ref.label } : {}),
@@ -88,7 +89,12 @@ function toPrepared(r: ReferenceInput | PreparedReference, method: IdentityMetho
 }
 
 function criterion(
-  key: Criterion['key'], name: string, value: number, limit: number, comparison: Criterion['comparison'], referenceId: string | null,
+  key: Criterion['key'],
+  name: string,
+  value: number,
+  limit: number,
+  comparison: Criterion['comparison'],
+  referenceId: string | null,
 ): Criterion {
   const ok = Number.isFinite(value) && (comparison === '>=' ? value >= limit : value <= limit);
   return { key, name, value, limit, comparison, verdict: ok ? 'pass' : 'fail', referenceId };
@@ -101,8 +107,11 @@ function corr(a: Float64Array, b: Float64Array): number {
 
 /** Scores a prepared sample against one prepared reference (all per-reference criteria). */
 export function scoreReference(
-  sample: PreparedSpectrum, sampleUnit: Float64Array, sampleUnitDerivative: Float64Array | null,
-  ref: PreparedReference, method: IdentityMethod,
+  sample: PreparedSpectrum,
+  sampleUnit: Float64Array,
+  sampleUnitDerivative: Float64Array | null,
+  ref: PreparedReference,
+  method: IdentityMethod,
 ): ReferenceScore {
   const t = method.thresholds;
   const criteria: Criterion[] = [];
@@ -111,7 +120,16 @@ export function scoreReference(
   let rd: number | null = null;
   if (t.minDerivativeCorrelation !== null && sampleUnitDerivative && ref.unitDerivative) {
     rd = corr(sampleUnitDerivative, ref.unitDerivative);
-    criteria.push(criterion('derivative-correlation', 'First-derivative correlation with the reference', rd, t.minDerivativeCorrelation, '>=', ref.id));
+    criteria.push(
+      criterion(
+        'derivative-correlation',
+        'First-derivative correlation with the reference',
+        rd,
+        t.minDerivativeCorrelation,
+        '>=',
+        ref.id,
+      ),
+    );
   }
   let bands: ReferenceScore['bands'] = [];
   let extraBands: ReferenceScore['extraBands'] = [];
@@ -119,9 +137,20 @@ export function scoreReference(
     const c = bandConcordance(ref.bands, ref.prepared.peaks, sample.peaks, method);
     bands = c.rows;
     extraBands = c.extraBands;
-    criteria.push(criterion('band-concordance', 'Reference bands found within tolerance', c.matched, c.rows.length, '>=', ref.id));
+    criteria.push(
+      criterion('band-concordance', 'Reference bands found within tolerance', c.matched, c.rows.length, '>=', ref.id),
+    );
     if (method.maxExtraBandProminence !== null) {
-      criteria.push(criterion('extra-bands', 'Strong sample bands missing from the reference', c.extraBands.length, 0, '<=', ref.id));
+      criteria.push(
+        criterion(
+          'extra-bands',
+          'Strong sample bands missing from the reference',
+          c.extraBands.length,
+          0,
+          '<=',
+          ref.id,
+        ),
+      );
     }
   }
   return {
@@ -157,21 +186,36 @@ function pickBest(scores: ReferenceScore[]): ReferenceScore {
  * (prepared here) or prepared beforehand with prepareReference for the same method.
  */
 export function scoreAgainst(
-  sample: Spectrum, references: Array<ReferenceInput | PreparedReference>, method: IdentityMethod,
+  sample: Spectrum,
+  references: Array<ReferenceInput | PreparedReference>,
+  method: IdentityMethod,
 ): IdentityResult {
   assertValidMethod(method);
   if (references.length === 0) {
-    throw new SpectrumError('NO_REFERENCES', 'There is no approved reference spectrum to compare with; QA must approve one first.');
+    throw new SpectrumError(
+      'NO_REFERENCES',
+      'There is no approved reference spectrum to compare with; QA must approve one first.',
+    );
   }
   const key = preparationKey(method);
   const refs = references.map((r) => toPrepared(r, method, key));
   const quality = checkQuality(sample, method);
   if (!quality.ok) {
     const result = {
-      verdict: 'invalid' as const, engineVersion: ENGINE_VERSION, quality, bestReferenceId: null,
-      criteria: [], references: [], bands: [], extraBands: [], distance: null,
+      verdict: 'invalid' as const,
+      engineVersion: ENGINE_VERSION,
+      quality,
+      bestReferenceId: null,
+      criteria: [],
+      references: [],
+      bands: [],
+      extraBands: [],
+      distance: null,
     };
-    return { ...result, explanation: explain({ verdict: 'invalid', quality, best: null, setCriteria: [], referenceCount: refs.length }) };
+    return {
+      ...result,
+      explanation: explain({ verdict: 'invalid', quality, best: null, setCriteria: [], referenceCount: refs.length }),
+    };
   }
   const prepared = prepare(sample, method);
   const unit = centredUnit(prepared.y);
@@ -182,10 +226,22 @@ export function scoreAgainst(
   let distance: DistanceResult | null = null;
   const dm = method.distanceModel;
   if (method.thresholds.maxMahalanobis !== null && dm && refs.length >= dm.minReferences) {
-    const model = buildDistanceModel(refs.map((r) => r.prepared.y), dm.components);
+    const model = buildDistanceModel(
+      refs.map((r) => r.prepared.y),
+      dm.components,
+    );
     const value = mahalanobisDistance(model, prepared.y);
     distance = { value, components: model.loadings.length, references: refs.length };
-    setCriteria.push(criterion('mahalanobis', 'Mahalanobis distance to the reference set', value, method.thresholds.maxMahalanobis, '<=', null));
+    setCriteria.push(
+      criterion(
+        'mahalanobis',
+        'Mahalanobis distance to the reference set',
+        value,
+        method.thresholds.maxMahalanobis,
+        '<=',
+        null,
+      ),
+    );
   }
   const best = pickBest(scores);
   const setOk = setCriteria.every((c) => c.verdict === 'pass');

@@ -70,7 +70,9 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
     throw new RangeError('specificityMatrix needs the method the library was built with.');
   }
   if (library.references.length !== library.size) {
-    throw new RangeError('specificityMatrix needs a library built with its prepared references (keepReferences: true).');
+    throw new RangeError(
+      'specificityMatrix needs a library built with its prepared references (keepReferences: true).',
+    );
   }
   const byMaterial = new Map<string, PreparedReference[]>();
   library.references.forEach((r, i) => {
@@ -83,7 +85,15 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
   const models = new Map<string, DistanceModel | null>();
   for (const [m, refs] of byMaterial) {
     const use = t.maxMahalanobis !== null && dm !== null && refs.length >= dm.minReferences;
-    models.set(m, use && dm ? buildDistanceModel(refs.map((r) => r.prepared.y), dm.components) : null);
+    models.set(
+      m,
+      use && dm
+        ? buildDistanceModel(
+            refs.map((r) => r.prepared.y),
+            dm.components,
+          )
+        : null,
+    );
   }
 
   const pairs: SpecificityPair[] = [];
@@ -97,7 +107,9 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
       let minD: number | null = null;
       const passing: string[] = [];
       for (const challenger of byMaterial.get(b) ?? []) {
-        const scores = set.map((ref) => scoreReference(challenger.prepared, challenger.unit, challenger.unitDerivative, ref, method));
+        const scores = set.map((ref) =>
+          scoreReference(challenger.prepared, challenger.unit, challenger.unitDerivative, ref, method),
+        );
         for (const s of scores) {
           maxR = Math.max(maxR, s.correlation);
           if (s.derivativeCorrelation !== null) maxRd = Math.max(maxRd ?? -1, s.derivativeCorrelation);
@@ -119,7 +131,8 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
         passing,
         discriminated: passing.length === 0,
         correlationMargin: t.minCorrelation - maxR,
-        derivativeMargin: t.minDerivativeCorrelation !== null && maxRd !== null ? t.minDerivativeCorrelation - maxRd : null,
+        derivativeMargin:
+          t.minDerivativeCorrelation !== null && maxRd !== null ? t.minDerivativeCorrelation - maxRd : null,
       });
     }
   }
@@ -129,7 +142,12 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
     for (let j = i + 1; j < materials.length; j++) {
       const a = materials[i];
       const b = materials[j];
-      const hit = pairs.some((p) => !p.discriminated && ((p.materialId === a && p.challengerMaterialId === b) || (p.materialId === b && p.challengerMaterialId === a)));
+      const hit = pairs.some(
+        (p) =>
+          !p.discriminated &&
+          ((p.materialId === a && p.challengerMaterialId === b) ||
+            (p.materialId === b && p.challengerMaterialId === a)),
+      );
       if (hit) notDiscriminated.push([a, b]);
     }
   }
@@ -138,10 +156,18 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
   let minDerivativeMargin: SpecificityReport['minDerivativeMargin'] = null;
   for (const p of pairs) {
     if (!minMargin || p.correlationMargin < minMargin.value) {
-      minMargin = { value: p.correlationMargin, materialId: p.materialId, challengerMaterialId: p.challengerMaterialId };
+      minMargin = {
+        value: p.correlationMargin,
+        materialId: p.materialId,
+        challengerMaterialId: p.challengerMaterialId,
+      };
     }
     if (p.derivativeMargin !== null && (!minDerivativeMargin || p.derivativeMargin < minDerivativeMargin.value)) {
-      minDerivativeMargin = { value: p.derivativeMargin, materialId: p.materialId, challengerMaterialId: p.challengerMaterialId };
+      minDerivativeMargin = {
+        value: p.derivativeMargin,
+        materialId: p.materialId,
+        challengerMaterialId: p.challengerMaterialId,
+      };
     }
   }
 

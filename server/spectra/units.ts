@@ -44,7 +44,11 @@ export const MAX_T_FRACTION = 1.1;
 /** Wavenumber window in which converted x values must lie (cm-1); see checkWavenumberWindow. */
 export const WAVENUMBER_WINDOW = { min: 50, max: 26000 } as const;
 
-const norm = (s: string) => s.trim().toLowerCase().replace(/[\s_]+/g, ' ');
+const norm = (s: string) =>
+  s
+    .trim()
+    .toLowerCase()
+    .replace(/[\s_]+/g, ' ');
 
 /** Recognises an x-unit label from a JCAMP-DX ##XUNITS value or a column header. */
 export function parseXUnitLabel(label: string): XUnit | null {
@@ -127,7 +131,11 @@ export function toAbsorbanceLike(y: Float64Array, quantity: YQuantity, warnings:
     case 'kubelka-munk':
       return { y, yKind: 'kubelka-munk', quantity };
     case 'transmittance':
-      return toAbsorbanceLike(y, maxOf(y) <= MAX_T_FRACTION ? 'transmittance-fraction' : 'transmittance-percent', warnings);
+      return toAbsorbanceLike(
+        y,
+        maxOf(y) <= MAX_T_FRACTION ? 'transmittance-fraction' : 'transmittance-percent',
+        warnings,
+      );
     case 'reflectance':
       return toAbsorbanceLike(y, maxOf(y) <= MAX_T_FRACTION ? 'reflectance-fraction' : 'reflectance-percent', warnings);
     case 'transmittance-fraction':
@@ -162,7 +170,10 @@ export function toAbsorbanceLike(y: Float64Array, quantity: YQuantity, warnings:
           { maxPercent: max * 100, limitPercent: MAX_T_FRACTION * 100, quantity },
         );
       }
-      if (max > 1) warnings.push(`The ${name} rises to ${fmt(max * 100)} % (above 100 %, within the tolerated ${fmt(MAX_T_FRACTION * 100)} %); values kept unchanged.`);
+      if (max > 1)
+        warnings.push(
+          `The ${name} rises to ${fmt(max * 100)} % (above 100 %, within the tolerated ${fmt(MAX_T_FRACTION * 100)} %); values kept unchanged.`,
+        );
       return { y: out, yKind: isT ? 'absorbance' : 'log-inverse-reflectance', quantity };
     }
   }

@@ -16,12 +16,16 @@ function CrashNote({ detail }: { detail?: string }) {
     <div role="alert" className="mx-auto max-w-xl rounded-md border border-fail/40 bg-white p-5">
       <h2 className="text-lg text-fail">This page stopped working</h2>
       <p className="mt-2 text-sm">
-        Something unexpected happened while showing this page. Nothing you saved before is lost. Reload the page; if it happens again, tell the
-        system administrator what you were doing.
+        Something unexpected happened while showing this page. Nothing you saved before is lost. Reload the page; if it
+        happens again, tell the system administrator what you were doing.
       </p>
       {detail && <p className="mt-2 text-xs text-muted">Technical detail: {detail}</p>}
       <div className="mt-4 flex gap-3 text-sm">
-        <button type="button" className="font-medium text-petrol underline underline-offset-2" onClick={() => window.location.reload()}>
+        <button
+          type="button"
+          className="font-medium text-petrol underline underline-offset-2"
+          onClick={() => window.location.reload()}
+        >
           Reload the page
         </button>
         <Link to="/" className="font-medium text-petrol underline underline-offset-2">

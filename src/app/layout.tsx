@@ -41,7 +41,10 @@ function useSessionGuard(me: Me | null | undefined) {
         if (!had) return; // nobody was signed in: the shell redirects without a message
         qc.clear();
         qc.setQueryData(ME_KEY, null);
-        navigate('/sign-in', { replace: true, state: { message: sessionEndedMessage(had.site.idleMinutes), from: where.current } });
+        navigate('/sign-in', {
+          replace: true,
+          state: { message: sessionEndedMessage(had.site.idleMinutes), from: where.current },
+        });
       }),
     [navigate, qc],
   );
@@ -58,7 +61,8 @@ function useSessionGuard(me: Me | null | undefined) {
   useEffect(() => {
     if (!me) return;
     const t = window.setInterval(() => {
-      if (Date.now() - lastApiActivity() > idleMinutes * 60_000 + 5_000) void qc.invalidateQueries({ queryKey: ME_KEY });
+      if (Date.now() - lastApiActivity() > idleMinutes * 60_000 + 5_000)
+        void qc.invalidateQueries({ queryKey: ME_KEY });
     }, 30_000);
     return () => window.clearInterval(t);
   }, [me, idleMinutes, qc]);
@@ -88,7 +92,9 @@ function Nav({ me }: { me: Me }) {
       </NavLink>
       {groups.map(({ group, items }) => (
         <div key={group}>
-          <p className="px-3 pb-1 text-xs font-semibold tracking-wide text-muted uppercase">{NAV_GROUP_LABELS[group]}</p>
+          <p className="px-3 pb-1 text-xs font-semibold tracking-wide text-muted uppercase">
+            {NAV_GROUP_LABELS[group]}
+          </p>
           <ul className="flex flex-col gap-0.5">
             {items.map((i) => (
               <li key={i.path}>
@@ -122,7 +128,11 @@ function Header({ me, forced }: { me: Me; forced: boolean }) {
           <span className="text-sm text-muted" data-testid="site-name">
             {me.site.name}
           </span>
-          {me.site.devMode && <span className="rounded border border-amber/50 bg-amber-soft px-1.5 py-0.5 text-xs text-amber-ink">Development mode</span>}
+          {me.site.devMode && (
+            <span className="rounded border border-amber/50 bg-amber-soft px-1.5 py-0.5 text-xs text-amber-ink">
+              Development mode
+            </span>
+          )}
         </div>
         <div className="flex items-center gap-4">
           <div className="text-right leading-tight">
@@ -185,7 +195,10 @@ export function AppShell() {
   return (
     <SessionContext.Provider value={me.data}>
       <div className="flex min-h-screen flex-col">
-        <a href="#main" className="sr-only focus:not-sr-only focus:absolute focus:left-2 focus:top-2 focus:z-50 focus:bg-white focus:p-2">
+        <a
+          href="#main"
+          className="sr-only focus:not-sr-only focus:absolute focus:left-2 focus:top-2 focus:z-50 focus:bg-white focus:p-2"
+        >
           Skip to the page
         </a>
         <Header me={me.data} forced={forced} />

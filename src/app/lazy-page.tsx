@@ -4,7 +4,10 @@ import { lazy, Suspense, type ComponentType } from 'react';
 export function PageLoading() {
   return (
     <div role="status" className="flex items-center gap-2 py-10 text-muted">
-      <span aria-hidden className="inline-block size-4 animate-spin rounded-full border-2 border-petrol border-r-transparent" />
+      <span
+        aria-hidden
+        className="inline-block size-4 animate-spin rounded-full border-2 border-petrol border-r-transparent"
+      />
       Loading…
     </div>
   );

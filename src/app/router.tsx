@@ -15,7 +15,8 @@ function RoleGate({ roles, children }: { roles?: Role[]; children: ReactNode }) 
       <div className="max-w-xl rounded-md border border-line bg-white p-5">
         <h1 className="text-lg">This page is not open to your roles</h1>
         <p className="mt-2 text-sm">
-          It needs the role {roleList(roles)}. Your account holds: {roleList(user.roles)}. An administrator can change roles.
+          It needs the role {roleList(roles)}. Your account holds: {roleList(user.roles)}. An administrator can change
+          roles.
         </p>
         <Link to="/" className="mt-3 inline-block text-sm font-medium text-petrol underline underline-offset-2">
           Go to the work queue
@@ -42,6 +43,9 @@ export const router = createBrowserRouter([
   {
     element: <AppShell />,
     errorElement: <RouteError />,
-    children: [...appRoutes.map((r) => ({ path: r.path, element: <RoleGate roles={r.roles}>{r.element}</RoleGate> })), { path: '*', element: <NotFound /> }],
+    children: [
+      ...appRoutes.map((r) => ({ path: r.path, element: <RoleGate roles={r.roles}>{r.element}</RoleGate> })),
+      { path: '*', element: <NotFound /> },
+    ],
   },
 ]);

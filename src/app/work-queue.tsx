@@ -9,7 +9,11 @@ import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
-import { AccountsToAttendWidget, CertificatesToCheckWidget, DecisionsToReviewWidget } from '../routes/oversight-widgets';
+import {
+  AccountsToAttendWidget,
+  CertificatesToCheckWidget,
+  DecisionsToReviewWidget,
+} from '../routes/oversight-widgets';
 
 export interface WorkQueueWidget {
   /** unique key, e.g. 'testing.to-verify' */
@@ -25,14 +29,50 @@ export interface WorkQueueWidget {
 
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
-  { id: 'instruments.check-due', title: 'Instruments with a check due', roles: ['operator'], order: 5, Component: InstrumentsCheckDueWidget },
-  { id: 'library.awaiting-approval', title: 'Reference spectra awaiting approval', roles: ['qa_manager'], order: 30, Component: ReferencesAwaitingApprovalWidget },
+  {
+    id: 'instruments.check-due',
+    title: 'Instruments with a check due',
+    roles: ['operator'],
+    order: 5,
+    Component: InstrumentsCheckDueWidget,
+  },
+  {
+    id: 'library.awaiting-approval',
+    title: 'Reference spectra awaiting approval',
+    roles: ['qa_manager'],
+    order: 30,
+    Component: ReferencesAwaitingApprovalWidget,
+  },
   { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
-  { id: 'investigations.open', title: 'Open investigations', roles: ['qa_manager'], order: 20, Component: OpenInvestigationsWidget },
-  { id: 'oversight.certificates', title: 'Identity certificates to check (last 30 days)', roles: ['auditor'], order: 50, Component: CertificatesToCheckWidget },
-  { id: 'oversight.decisions', title: 'GMP decisions to review (last 30 days)', roles: ['auditor'], order: 51, Component: DecisionsToReviewWidget },
-  { id: 'oversight.accounts', title: 'Accounts to attend to', roles: ['admin'], order: 60, Component: AccountsToAttendWidget },
+  {
+    id: 'investigations.open',
+    title: 'Open investigations',
+    roles: ['qa_manager'],
+    order: 20,
+    Component: OpenInvestigationsWidget,
+  },
+  {
+    id: 'oversight.certificates',
+    title: 'Identity certificates to check (last 30 days)',
+    roles: ['auditor'],
+    order: 50,
+    Component: CertificatesToCheckWidget,
+  },
+  {
+    id: 'oversight.decisions',
+    title: 'GMP decisions to review (last 30 days)',
+    roles: ['auditor'],
+    order: 51,
+    Component: DecisionsToReviewWidget,
+  },
+  {
+    id: 'oversight.accounts',
+    title: 'Accounts to attend to',
+    roles: ['admin'],
+    order: 60,
+    Component: AccountsToAttendWidget,
+  },
 ];
 
 export function widgetsFor(roles: readonly Role[]): WorkQueueWidget[] {

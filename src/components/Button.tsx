@@ -33,10 +33,32 @@ export function buttonClass(variant: ButtonVariant = 'secondary', size: ButtonSi
   ].join(' ');
 }
 
-export function Button({ variant = 'secondary', size = 'desk', busy, disabled, className = '', children, type = 'button', ref, ...rest }: ButtonProps) {
+export function Button({
+  variant = 'secondary',
+  size = 'desk',
+  busy,
+  disabled,
+  className = '',
+  children,
+  type = 'button',
+  ref,
+  ...rest
+}: ButtonProps) {
   return (
-    <button ref={ref} type={type} className={buttonClass(variant, size, className)} disabled={disabled || busy} aria-busy={busy || undefined} {...rest}>
-      {busy && <span aria-hidden className="inline-block size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent" />}
+    <button
+      ref={ref}
+      type={type}
+      className={buttonClass(variant, size, className)}
+      disabled={disabled || busy}
+      aria-busy={busy || undefined}
+      {...rest}
+    >
+      {busy && (
+        <span
+          aria-hidden
+          className="inline-block size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent"
+        />
+      )}
       {children}
     </button>
   );

@@ -100,7 +100,13 @@ export function DataTable<T>({
   const rows = table.getRowModel().rows;
   const placeholder = typeof globalFilter === 'string' ? globalFilter : 'Search in all columns';
   const filtered = filter !== '' || colFilters.length > 0;
-  const countText = useMemo(() => (filtered ? `${rows.length} of ${data.length} shown` : `${data.length} ${data.length === 1 ? 'record' : 'records'}`), [filtered, rows.length, data.length]);
+  const countText = useMemo(
+    () =>
+      filtered
+        ? `${rows.length} of ${data.length} shown`
+        : `${data.length} ${data.length === 1 ? 'record' : 'records'}`,
+    [filtered, rows.length, data.length],
+  );
 
   const onRowKey = (e: KeyboardEvent<HTMLTableRowElement>, row: T) => {
     if (e.key === 'Enter' || e.key === ' ') {
@@ -108,7 +114,9 @@ export function DataTable<T>({
       onRowClick?.(row);
     } else if (e.key === 'ArrowDown' || e.key === 'ArrowUp') {
       e.preventDefault();
-      const sib = (e.key === 'ArrowDown' ? e.currentTarget.nextElementSibling : e.currentTarget.previousElementSibling) as HTMLElement | null;
+      const sib = (
+        e.key === 'ArrowDown' ? e.currentTarget.nextElementSibling : e.currentTarget.previousElementSibling
+      ) as HTMLElement | null;
       sib?.focus();
     } else if (e.key === 'Home' || e.key === 'End') {
       e.preventDefault();
@@ -151,11 +159,17 @@ export function DataTable<T>({
                     <th
                       key={h.id}
                       scope="col"
-                      aria-sort={dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined}
+                      aria-sort={
+                        dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined
+                      }
                       className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${meta?.className ?? ''}`}
                     >
                       {h.isPlaceholder ? null : canSort ? (
-                        <button type="button" onClick={h.column.getToggleSortingHandler()} className="inline-flex items-center font-semibold hover:text-petrol">
+                        <button
+                          type="button"
+                          onClick={h.column.getToggleSortingHandler()}
+                          className="inline-flex items-center font-semibold hover:text-petrol"
+                        >
                           {flexRender(h.column.columnDef.header, h.getContext())}
                           <SortMark dir={dir} />
                         </button>

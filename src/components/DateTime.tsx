@@ -16,7 +16,15 @@ export function DateTime({ value, seconds, dateOnly, className = '' }: DateTimeP
   if (Number.isNaN(d.getTime())) return <span className={className}>—</span>;
   const text = dateOnly ? formatDate(d) : formatDateTime(d, { seconds });
   return (
-    <time dateTime={d.toISOString()} title={`${d.toISOString().replace('T', ' ').replace(/\.\d+Z$/, 'Z').replace('Z', ' UTC')}`} className={`tabular-nums whitespace-nowrap ${className}`}>
+    <time
+      dateTime={d.toISOString()}
+      title={`${d
+        .toISOString()
+        .replace('T', ' ')
+        .replace(/\.\d+Z$/, 'Z')
+        .replace('Z', ' UTC')}`}
+      className={`tabular-nums whitespace-nowrap ${className}`}
+    >
       {text}
     </time>
   );

@@ -13,7 +13,11 @@ export interface DialogProps {
   width?: 'sm' | 'md' | 'lg';
 }
 
-const WIDTH = { sm: 'w-[min(28rem,calc(100vw-2rem))]', md: 'w-[min(36rem,calc(100vw-2rem))]', lg: 'w-[min(52rem,calc(100vw-2rem))]' };
+const WIDTH = {
+  sm: 'w-[min(28rem,calc(100vw-2rem))]',
+  md: 'w-[min(36rem,calc(100vw-2rem))]',
+  lg: 'w-[min(52rem,calc(100vw-2rem))]',
+};
 
 /** Opens and closes a native <dialog> as a modal with `open`; returns its ref and an id for labels. */
 export function useModalDialog(open: boolean) {

@@ -46,7 +46,14 @@ export interface InputProps extends InputHTMLAttributes<HTMLInputElement> {
   ref?: Ref<HTMLInputElement>;
 }
 export function Input({ bench, invalid, className = '', ref, ...rest }: InputProps) {
-  return <input ref={ref} aria-invalid={invalid || undefined} className={`${CONTROL} ${bench ? 'min-h-11 text-base' : 'min-h-9 text-sm'} ${className}`} {...rest} />;
+  return (
+    <input
+      ref={ref}
+      aria-invalid={invalid || undefined}
+      className={`${CONTROL} ${bench ? 'min-h-11 text-base' : 'min-h-9 text-sm'} ${className}`}
+      {...rest}
+    />
+  );
 }
 
 export interface SelectProps extends SelectHTMLAttributes<HTMLSelectElement> {
@@ -56,7 +63,12 @@ export interface SelectProps extends SelectHTMLAttributes<HTMLSelectElement> {
 }
 export function Select({ bench, invalid, className = '', ref, children, ...rest }: SelectProps) {
   return (
-    <select ref={ref} aria-invalid={invalid || undefined} className={`${CONTROL} ${bench ? 'min-h-11 text-base' : 'min-h-9 text-sm'} ${className}`} {...rest}>
+    <select
+      ref={ref}
+      aria-invalid={invalid || undefined}
+      className={`${CONTROL} ${bench ? 'min-h-11 text-base' : 'min-h-9 text-sm'} ${className}`}
+      {...rest}
+    >
       {children}
     </select>
   );
@@ -67,5 +79,12 @@ export interface TextareaProps extends TextareaHTMLAttributes<HTMLTextAreaElemen
   ref?: Ref<HTMLTextAreaElement>;
 }
 export function Textarea({ invalid, className = '', ref, ...rest }: TextareaProps) {
-  return <textarea ref={ref} aria-invalid={invalid || undefined} className={`${CONTROL} min-h-20 py-2 text-sm ${className}`} {...rest} />;
+  return (
+    <textarea
+      ref={ref}
+      aria-invalid={invalid || undefined}
+      className={`${CONTROL} min-h-20 py-2 text-sm ${className}`}
+      {...rest}
+    />
+  );
 }

@@ -44,13 +44,26 @@ export interface FileDropProps<R> {
 
 let seq = 0;
 
-export function FileDrop<R>({ label, accept, multiple = true, upload, onUploaded, onBatchDone, renderResult, concurrency = 3, bench, disabled, hint }: FileDropProps<R>) {
+export function FileDrop<R>({
+  label,
+  accept,
+  multiple = true,
+  upload,
+  onUploaded,
+  onBatchDone,
+  renderResult,
+  concurrency = 3,
+  bench,
+  disabled,
+  hint,
+}: FileDropProps<R>) {
   const id = useId();
   const input = useRef<HTMLInputElement>(null);
   const [items, setItems] = useState<Item<R>[]>([]);
   const [over, setOver] = useState(false);
 
-  const patch = (key: string, p: Partial<Item<R>>) => setItems((list) => list.map((i) => (i.key === key ? { ...i, ...p } : i)));
+  const patch = (key: string, p: Partial<Item<R>>) =>
+    setItems((list) => list.map((i) => (i.key === key ? { ...i, ...p } : i)));
 
   const start = async (files: File[]) => {
     if (disabled || files.length === 0) return;
@@ -127,7 +140,11 @@ export function FileDrop<R>({ label, accept, multiple = true, upload, onUploaded
       {items.length > 0 && (
         <ul className="flex flex-col gap-2" aria-label="Uploads">
           {items.map((it) => (
-            <li key={it.key} className={`rounded-md border bg-white px-3 py-2 ${it.status === 'failed' ? 'border-fail/50' : 'border-line'}`} data-status={it.status}>
+            <li
+              key={it.key}
+              className={`rounded-md border bg-white px-3 py-2 ${it.status === 'failed' ? 'border-fail/50' : 'border-line'}`}
+              data-status={it.status}
+            >
               <div className="flex flex-wrap items-center justify-between gap-2 text-sm">
                 <span className="min-w-0 truncate font-medium">{it.file.name}</span>
                 <span className="text-muted tabular-nums">
@@ -144,14 +161,21 @@ export function FileDrop<R>({ label, accept, multiple = true, upload, onUploaded
                 </span>
               </div>
               {(it.status === 'uploading' || it.status === 'waiting') && (
-                <progress className="mt-1 h-1.5 w-full accent-petrol" max={1} value={it.fraction} aria-label={`Upload of ${it.file.name}`} />
+                <progress
+                  className="mt-1 h-1.5 w-full accent-petrol"
+                  max={1}
+                  value={it.fraction}
+                  aria-label={`Upload of ${it.file.name}`}
+                />
               )}
               {it.status === 'failed' && (
                 <p role="alert" className="mt-1 text-sm text-fail">
                   {it.error}
                 </p>
               )}
-              {it.status === 'done' && it.result !== undefined && renderResult && <div className="mt-1">{renderResult(it.result, it.file)}</div>}
+              {it.status === 'done' && it.result !== undefined && renderResult && (
+                <div className="mt-1">{renderResult(it.result, it.file)}</div>
+              )}
             </li>
           ))}
         </ul>

@@ -11,7 +11,15 @@ export interface SignatureCard {
   contentHash: string;
 }
 
-export function SignatureCards({ signatures, empty, testId = 'signature' }: { signatures: SignatureCard[]; empty: string; testId?: string }) {
+export function SignatureCards({
+  signatures,
+  empty,
+  testId = 'signature',
+}: {
+  signatures: SignatureCard[];
+  empty: string;
+  testId?: string;
+}) {
   if (signatures.length === 0) return <p className="text-sm text-muted">{empty}</p>;
   return (
     <ul className="flex flex-col gap-2" aria-label="Signatures">

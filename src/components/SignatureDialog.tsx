@@ -43,7 +43,20 @@ export function signatureStatement(meaningText: string): string {
   return `By signing I confirm that I ${meaningText}. This electronic signature is the legally binding equivalent of my handwritten signature (21 CFR Part 11).`;
 }
 
-export function SignatureDialog({ open, title, meaningText, record, printedName, needsUsername, confirmLabel, onSign, onCancel, busy, error, children }: SignatureDialogProps) {
+export function SignatureDialog({
+  open,
+  title,
+  meaningText,
+  record,
+  printedName,
+  needsUsername,
+  confirmLabel,
+  onSign,
+  onCancel,
+  busy,
+  error,
+  children,
+}: SignatureDialogProps) {
   const ref = useRef<HTMLDialogElement>(null);
   const ids = useId();
   const [username, setUsername] = useState('');
@@ -68,7 +81,8 @@ export function SignatureDialog({ open, title, meaningText, record, printedName,
   const submit = (e: FormEvent) => {
     e.preventDefault();
     if (busy) return;
-    if (needsUsername && !username.trim()) return setMissing('Enter your user name: the first signature of a session needs both user name and password.');
+    if (needsUsername && !username.trim())
+      return setMissing('Enter your user name: the first signature of a session needs both user name and password.');
     if (!password) return setMissing('Enter your password to sign.');
     setMissing(null);
     onSign(needsUsername ? { username: username.trim(), password } : { password });
@@ -104,12 +118,33 @@ export function SignatureDialog({ open, title, meaningText, record, printedName,
           </dl>
           {children}
           {needsUsername && (
-            <Field id={`${ids}-user`} label="User name" hint="The first signature of a session asks for both user name and password.">
-              <Input id={`${ids}-user`} bench autoComplete="username" autoCapitalize="none" spellCheck={false} autoFocus value={username} onChange={(e) => setUsername(e.target.value)} />
+            <Field
+              id={`${ids}-user`}
+              label="User name"
+              hint="The first signature of a session asks for both user name and password."
+            >
+              <Input
+                id={`${ids}-user`}
+                bench
+                autoComplete="username"
+                autoCapitalize="none"
+                spellCheck={false}
+                autoFocus
+                value={username}
+                onChange={(e) => setUsername(e.target.value)}
+              />
             </Field>
           )}
           <Field id={`${ids}-pw`} label="Password">
-            <Input id={`${ids}-pw`} bench type="password" autoComplete="current-password" autoFocus={!needsUsername} value={password} onChange={(e) => setPassword(e.target.value)} />
+            <Input
+              id={`${ids}-pw`}
+              bench
+              type="password"
+              autoComplete="current-password"
+              autoFocus={!needsUsername}
+              value={password}
+              onChange={(e) => setPassword(e.target.value)}
+            />
           </Field>
           {missing && <ErrorNote error={missing} />}
           {!missing && !!error && <ErrorNote error={error} />}

@@ -43,11 +43,22 @@ export interface SpectrumPlotProps {
   label: string;
 }
 
-const C = { petrol: '#0f5e6e', muted: '#6b7280', amber: '#b7791f', line: '#d9dcd3', ink: '#1f2933', fail: '#b3261e', shade: 'rgba(107,114,128,0.12)' };
+const C = {
+  petrol: '#0f5e6e',
+  muted: '#6b7280',
+  amber: '#b7791f',
+  line: '#d9dcd3',
+  ink: '#1f2933',
+  fail: '#b3261e',
+  shade: 'rgba(107,114,128,0.12)',
+};
 const FONT = '12px "IBM Plex Sans", "DejaVu Sans", sans-serif';
 
 /** ascending x with the y arrays in the same order */
-function ascending(x: ArrayLike<number>, ...ys: (ArrayLike<number> | null | undefined)[]): [number[], ...(number[] | null)[]] {
+function ascending(
+  x: ArrayLike<number>,
+  ...ys: (ArrayLike<number> | null | undefined)[]
+): [number[], ...(number[] | null)[]] {
   const xs = Array.from(x);
   const rev = xs.length > 1 && xs[0] > xs[xs.length - 1];
   const out = ys.map((y) => (y ? (rev ? Array.from(y).reverse() : Array.from(y)) : null));
@@ -68,7 +79,17 @@ function axes(yLabel: string, showX: boolean): uPlot.Axis[] {
       size: showX ? 40 : 24,
       values: (_u, vals) => vals.map((v) => (showX ? String(Math.round(v)) : '')),
     },
-    { scale: 'y', label: yLabel, labelFont: FONT, font: FONT, stroke: C.ink, grid, ticks: { stroke: C.line }, size: 56, values: (_u, vals) => vals.map((v) => +v.toFixed(3) + '') },
+    {
+      scale: 'y',
+      label: yLabel,
+      labelFont: FONT,
+      font: FONT,
+      stroke: C.ink,
+      grid,
+      ticks: { stroke: C.line },
+      size: 56,
+      values: (_u, vals) => vals.map((v) => +v.toFixed(3) + ''),
+    },
   ];
 }
 
@@ -161,7 +182,15 @@ export function SpectrumPlot({
         { label: 'Wavenumber', value: (_u, v) => (v == null ? '—' : formatWavenumber(v)) },
         { label: sampleLabel, stroke: C.petrol, width: 1.5, value: (_u, v) => (v == null ? '—' : v.toFixed(4)) },
       ];
-      if (reference) series.push({ label: referenceLabel, stroke: C.muted, width: 1.5, dash: [6, 4], spanGaps: true, value: (_u, v) => (v == null ? '—' : v.toFixed(4)) });
+      if (reference)
+        series.push({
+          label: referenceLabel,
+          stroke: C.muted,
+          width: 1.5,
+          dash: [6, 4],
+          spanGaps: true,
+          value: (_u, v) => (v == null ? '—' : v.toFixed(4)),
+        });
 
       const syncX = (from: uPlot) => {
         const other = from === main ? diff : main;
@@ -215,7 +244,12 @@ export function SpectrumPlot({
             scales: { x: { time: false, dir: -1 } },
             series: [
               { label: 'Wavenumber', value: (_u, v) => (v == null ? '—' : formatWavenumber(v)) },
-              { label: 'Sample − reference', stroke: C.amber, width: 1.2, value: (_u, v) => (v == null ? '—' : v.toFixed(4)) },
+              {
+                label: 'Sample − reference',
+                stroke: C.amber,
+                width: 1.2,
+                value: (_u, v) => (v == null ? '—' : v.toFixed(4)),
+              },
             ],
             axes: axes('Difference', true),
             legend: { show: true, live: true },
@@ -244,21 +278,46 @@ export function SpectrumPlot({
       diff?.destroy();
       setReady(false);
     };
-  }, [x, sample, reference, referenceX, difference, excludedRegions, bands, height, differenceHeight, sampleLabel, referenceLabel, yLabel, descId]);
+  }, [
+    x,
+    sample,
+    reference,
+    referenceX,
+    difference,
+    excludedRegions,
+    bands,
+    height,
+    differenceHeight,
+    sampleLabel,
+    referenceLabel,
+    yLabel,
+    descId,
+  ]);
 
   return (
     <figure className="relative m-0" aria-describedby={descId} role="group" aria-label={label}>
       <p id={descId} className="sr-only">
-        {label}. Wavenumber falls from left to right. Drag across the plot to zoom; double-click to show the whole range.
+        {label}. Wavenumber falls from left to right. Drag across the plot to zoom; double-click to show the whole
+        range.
       </p>
       <div ref={wrap} className="relative w-full" style={{ minHeight: height + (difference ? differenceHeight : 0) }}>
-        {!ready && <p className="absolute inset-0 flex items-center justify-center text-sm text-muted">Drawing the spectrum…</p>}
+        {!ready && (
+          <p className="absolute inset-0 flex items-center justify-center text-sm text-muted">Drawing the spectrum…</p>
+        )}
         <div ref={mainEl} data-testid="spectrum-main" />
         {difference && <div ref={diffEl} data-testid="spectrum-difference" />}
         {hover && (
-          <div role="tooltip" className="pointer-events-none absolute top-0 z-10 -translate-x-1/2 rounded border border-line bg-white px-2 py-1 text-xs shadow" style={{ left: hover.left }}>
+          <div
+            role="tooltip"
+            className="pointer-events-none absolute top-0 z-10 -translate-x-1/2 rounded border border-line bg-white px-2 py-1 text-xs shadow"
+            style={{ left: hover.left }}
+          >
             <div className="font-medium tabular-nums">{formatWavenumber(hover.band.position)}</div>
-            {hover.band.shift !== undefined && <div className="tabular-nums">shift {hover.band.shift === null ? 'no matching band' : formatShift(hover.band.shift)}</div>}
+            {hover.band.shift !== undefined && (
+              <div className="tabular-nums">
+                shift {hover.band.shift === null ? 'no matching band' : formatShift(hover.band.shift)}
+              </div>
+            )}
             {hover.band.label && <div className="text-muted">{hover.band.label}</div>}
           </div>
         )}

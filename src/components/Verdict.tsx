@@ -25,7 +25,16 @@ const SIZE = {
 };
 
 function Icon({ kind, className }: { kind: VerdictKind; className: string }) {
-  const common = { viewBox: '0 0 20 20', className, 'aria-hidden': true, fill: 'none', stroke: 'currentColor', strokeWidth: 2.4, strokeLinecap: 'round' as const, strokeLinejoin: 'round' as const };
+  const common = {
+    viewBox: '0 0 20 20',
+    className,
+    'aria-hidden': true,
+    fill: 'none',
+    stroke: 'currentColor',
+    strokeWidth: 2.4,
+    strokeLinecap: 'round' as const,
+    strokeLinejoin: 'round' as const,
+  };
   switch (kind) {
     case 'pass':
       return (
@@ -59,7 +68,10 @@ function Icon({ kind, className }: { kind: VerdictKind; className: string }) {
 export function Verdict({ verdict, label, size = 'md', className = '' }: VerdictProps) {
   const s = SIZE[size];
   return (
-    <span className={`inline-flex items-center rounded-md border font-medium whitespace-nowrap ${STYLE[verdict]} ${s.box} ${className}`} data-verdict={verdict}>
+    <span
+      className={`inline-flex items-center rounded-md border font-medium whitespace-nowrap ${STYLE[verdict]} ${s.box} ${className}`}
+      data-verdict={verdict}
+    >
       <Icon kind={verdict} className={s.icon} />
       <span>{label ?? WORDS[verdict]}</span>
     </span>

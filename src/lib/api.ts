@@ -67,7 +67,8 @@ async function errorFrom(res: Response): Promise<ApiError> {
 function errorFromBody(status: number, body: unknown): ApiError {
   const e = (body as { error?: { code?: string; message?: string; details?: unknown } } | undefined)?.error;
   if (e?.message) return new ApiError(status, e.code ?? 'ERROR', e.message, e.details);
-  if (status === 413) return new ApiError(status, 'TOO_LARGE', 'The file or request is larger than the server accepts.');
+  if (status === 413)
+    return new ApiError(status, 'TOO_LARGE', 'The file or request is larger than the server accepts.');
   if (status === 502 || status === 503 || status === 504)
     return new ApiError(status, 'UNAVAILABLE', 'The server is not reachable. Check the connection and try again.');
   return new ApiError(status, 'HTTP_' + status, `The server answered with status ${status}.`);
@@ -82,7 +83,10 @@ export async function apiFetch<T = unknown>(path: string, opts: ApiFetchOptions 
     res = await fetch(url, {
       method,
       credentials: 'same-origin',
-      headers: body !== undefined ? { 'Content-Type': 'application/json', Accept: 'application/json' } : { Accept: 'application/json' },
+      headers:
+        body !== undefined
+          ? { 'Content-Type': 'application/json', Accept: 'application/json' }
+          : { Accept: 'application/json' },
       body: body !== undefined ? JSON.stringify(body) : undefined,
       signal,
     });
@@ -143,7 +147,8 @@ export function apiUpload<T = unknown>(
         reject(err);
       }
     };
-    xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The upload was interrupted. Check the network connection and try again.'));
+    xhr.onerror = () =>
+      reject(new ApiError(0, 'NETWORK', 'The upload was interrupted. Check the network connection and try again.'));
     xhr.onabort = () => reject(new ApiError(0, 'ABORTED', 'The upload was cancelled.'));
     if (opts.signal) opts.signal.addEventListener('abort', () => xhr.abort(), { once: true });
     xhr.send(formData);

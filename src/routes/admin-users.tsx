@@ -38,7 +38,11 @@ export default function AdminUsersPage() {
         }
       />
       {notice && (
-        <p role="status" className="mb-4 rounded-md border border-pass/40 bg-pass-soft px-3 py-2 text-sm" data-testid="notice">
+        <p
+          role="status"
+          className="mb-4 rounded-md border border-pass/40 bg-pass-soft px-3 py-2 text-sm"
+          data-testid="notice"
+        >
           {notice}
         </p>
       )}
@@ -52,7 +56,9 @@ export default function AdminUsersPage() {
             onCreated={(u, pw) => {
               setCreating(false);
               setSelectedId(u.id);
-              setNotice(`The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`);
+              setNotice(
+                `The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`,
+              );
             }}
           />
         </section>
@@ -70,11 +76,20 @@ export default function AdminUsersPage() {
               <>
                 <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
                 <div className="mt-2">
-                  <RecordHistory key={selected.id} entityType="user" entityId={selected.id} label={`the account ${selected.username}`} buttonLabel="Account history" showTrailLink />
+                  <RecordHistory
+                    key={selected.id}
+                    entityType="user"
+                    entityId={selected.id}
+                    label={`the account ${selected.username}`}
+                    buttonLabel="Account history"
+                    showTrailLink
+                  />
                 </div>
               </>
             ) : (
-              <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">Choose an account in the table to see its details and change it.</p>
+              <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">
+                Choose an account in the table to see its details and change it.
+              </p>
             )}
           </div>
         </div>

@@ -25,7 +25,9 @@ const PAGE_SIZE = 50;
 const KEYS: (keyof FilterForm)[] = ['fromDay', 'toDay', 'actorId', 'action', 'entityType', 'entityId', 'q'];
 
 function zoneName(tz: string): string {
-  const p = new Intl.DateTimeFormat('en-GB', { timeZone: tz, timeZoneName: 'long' }).formatToParts(new Date()).find((x) => x.type === 'timeZoneName');
+  const p = new Intl.DateTimeFormat('en-GB', { timeZone: tz, timeZoneName: 'long' })
+    .formatToParts(new Date())
+    .find((x) => x.type === 'timeZoneName');
   return p ? `${tz}, ${p.value}` : tz;
 }
 
@@ -34,7 +36,10 @@ export default function AuditPage() {
   const tz = site.timeZone;
   const accountsOnly = !hasAnyRole(user.roles, ['auditor', 'qa_manager']);
   const [params, setParams] = useSearchParams();
-  const form: FilterForm = useMemo(() => Object.fromEntries(KEYS.map((k) => [k, params.get(k) ?? ''])) as unknown as FilterForm, [params]);
+  const form: FilterForm = useMemo(
+    () => Object.fromEntries(KEYS.map((k) => [k, params.get(k) ?? ''])) as unknown as FilterForm,
+    [params],
+  );
   const sort: 'asc' | 'desc' = params.get('sort') === 'asc' ? 'asc' : 'desc';
   const openId = params.get('event') ? Number(params.get('event')) : null;
 
@@ -76,7 +81,9 @@ export default function AuditPage() {
         title="Audit trail"
         subtitle={
           <>
-            Who did what, when and why. Times in the site time zone <strong className="font-medium text-ink">{zoneName(tz)}</strong>; events are stored in UTC (hover a time to see it).
+            Who did what, when and why. Times in the site time zone{' '}
+            <strong className="font-medium text-ink">{zoneName(tz)}</strong>; events are stored in UTC (hover a time to
+            see it).
           </>
         }
         actions={
@@ -91,8 +98,8 @@ export default function AuditPage() {
         }
       />
       <p className="-mt-3 mb-4 text-xs text-muted">
-        CSV: every event that matches the filter, times in UTC, with the hash chain. PDF: a report of the first {formatNumber(PDF_ROW_CAP)} events with the filter stated. Each export is
-        itself recorded in the audit trail.
+        CSV: every event that matches the filter, times in UTC, with the hash chain. PDF: a report of the first{' '}
+        {formatNumber(PDF_ROW_CAP)} events with the filter stated. Each export is itself recorded in the audit trail.
       </p>
       {accountsOnly && (
         <p className="mb-4 rounded-md border border-line bg-white px-3 py-2 text-sm" role="note">
@@ -132,7 +139,9 @@ export default function AuditPage() {
               </p>
             </div>
             {data.events.length === 0 && !data.nextCursor ? (
-              <EmptyState title={isFiltered ? 'No event matches this filter.' : 'The audit trail is empty.'}>{isFiltered && 'Widen the date range or clear a filter.'}</EmptyState>
+              <EmptyState title={isFiltered ? 'No event matches this filter.' : 'The audit trail is empty.'}>
+                {isFiltered && 'Widen the date range or clear a filter.'}
+              </EmptyState>
             ) : (
               <AuditTable
                 events={data.events}
@@ -144,11 +153,17 @@ export default function AuditPage() {
               />
             )}
             <nav aria-label="Pages" className="flex flex-wrap items-center gap-2">
-              <Button disabled={pageNo <= 1 || events.isFetching} onClick={() => setPages({ key: filterKey, cursors: cursors.slice(0, -1) })}>
+              <Button
+                disabled={pageNo <= 1 || events.isFetching}
+                onClick={() => setPages({ key: filterKey, cursors: cursors.slice(0, -1) })}
+              >
                 Previous page
               </Button>
               <span className="text-sm text-muted tabular-nums">Page {pageNo}</span>
-              <Button disabled={!data.nextCursor || events.isFetching} onClick={() => setPages({ key: filterKey, cursors: [...cursors, data.nextCursor] })}>
+              <Button
+                disabled={!data.nextCursor || events.isFetching}
+                onClick={() => setPages({ key: filterKey, cursors: [...cursors, data.nextCursor] })}
+              >
                 Next page
               </Button>
               {pageNo > 1 && (
@@ -161,16 +176,29 @@ export default function AuditPage() {
         )}
       </div>
 
-      <Drawer open={openId !== null} onClose={() => update({ event: null })} title={`Audit event ${openId ?? ''}`} subtitle="Values before and after, side by side" wide>
+      <Drawer
+        open={openId !== null}
+        onClose={() => update({ event: null })}
+        title={`Audit event ${openId ?? ''}`}
+        subtitle="Values before and after, side by side"
+        wide
+      >
         {openId !== null && (
           <EventDetail
             key={openId}
             id={openId}
-            onShowRecord={(entityType, entityId) => update({ ...Object.fromEntries(KEYS.map((k) => [k, null])), entityType, entityId, sort: 'asc', event: null })}
+            onShowRecord={(entityType, entityId) =>
+              update({
+                ...Object.fromEntries(KEYS.map((k) => [k, null])),
+                entityType,
+                entityId,
+                sort: 'asc',
+                event: null,
+              })
+            }
           />
         )}
       </Drawer>
     </div>
   );
 }
-

@@ -69,7 +69,11 @@ export default function CertificateVerifyPage() {
             concurrency={1}
             upload={(file, onProgress) => upload.mutateAsync({ file, onProgress })}
             onUploaded={(_f, r) => setReport(r)}
-            renderResult={(r) => <span className="text-sm">{r.verdict === 'authentic' ? 'Authentic' : 'Not authentic'} — see the result below.</span>}
+            renderResult={(r) => (
+              <span className="text-sm">
+                {r.verdict === 'authentic' ? 'Authentic' : 'Not authentic'} — see the result below.
+              </span>
+            )}
             hint="The file is only compared and checked; it is not stored."
           />
         </section>
@@ -79,13 +83,22 @@ export default function CertificateVerifyPage() {
           </h2>
           <form onSubmit={submit} className="flex flex-wrap items-end gap-2">
             <Field id="verify-number-input" label="Certificate number" error={problem ?? undefined} className="w-64">
-              <Input id="verify-number-input" value={number} onChange={(e) => setNumber(e.target.value)} placeholder="IC-2026-00042" autoComplete="off" bench />
+              <Input
+                id="verify-number-input"
+                value={number}
+                onChange={(e) => setNumber(e.target.value)}
+                placeholder="IC-2026-00042"
+                autoComplete="off"
+                bench
+              />
             </Field>
             <Button type="submit" variant="primary" size="bench" busy={byNumber.isPending}>
               Check
             </Button>
           </form>
-          <p className="mt-2 text-sm text-muted">Checks the stored copy: its bytes against the SHA-256 recorded at issue, and its signature.</p>
+          <p className="mt-2 text-sm text-muted">
+            Checks the stored copy: its bytes against the SHA-256 recorded at issue, and its signature.
+          </p>
           {byNumber.isError && <ErrorNote error={byNumber.error} />}
         </section>
       </div>

@@ -15,7 +15,6 @@ import { certificatePdfUrl, useCertificate } from '../features/certificates/api'
 import { CertificateState } from '../features/certificates/components/CertificateState';
 import { SupersedeDialog } from '../features/certificates/components/SupersedeDialog';
 
-
 export default function CertificatePage() {
   const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const id = Number(useParams().id);
@@ -31,45 +30,74 @@ export default function CertificatePage() {
   return (
     <div className="max-w-6xl">
       <PageHeader
-        eyebrow={<Link to="/certificates" className="text-petrol hover:underline">Identity certificates</Link>}
+        eyebrow={
+          <Link to="/certificates" className="text-petrol hover:underline">
+            Identity certificates
+          </Link>
+        }
         title={`Identity certificate ${c.number}`}
         subtitle={
           <span className="inline-flex flex-wrap items-center gap-2">
-            Lot <Link to={`/lots/${c.lotId}`} className="text-petrol hover:underline">{c.lotNumber}</Link> · {c.materialName} ({c.materialCode}) · issued <DateTime value={c.issuedAt} />
+            Lot{' '}
+            <Link to={`/lots/${c.lotId}`} className="text-petrol hover:underline">
+              {c.lotNumber}
+            </Link>{' '}
+            · {c.materialName} ({c.materialCode}) · issued <DateTime value={c.issuedAt} />
             <CertificateState certificate={c} />
           </span>
         }
         actions={
           <>
-            <RecordHistory entityType="certificate" entityId={c.id} label={`certificate ${c.number}`} showTrailLink={canSeeTrail} />
-            <a href={certificatePdfUrl(c.id)} download={`${c.number}.pdf`} className="inline-flex min-h-9 items-center rounded-md border border-petrol bg-petrol px-3 text-sm font-medium text-white hover:bg-petrol-dark">
+            <RecordHistory
+              entityType="certificate"
+              entityId={c.id}
+              label={`certificate ${c.number}`}
+              showTrailLink={canSeeTrail}
+            />
+            <a
+              href={certificatePdfUrl(c.id)}
+              download={`${c.number}.pdf`}
+              className="inline-flex min-h-9 items-center rounded-md border border-petrol bg-petrol px-3 text-sm font-medium text-white hover:bg-petrol-dark"
+            >
               Download PDF
             </a>
-            <Link to={`/certificates/verify?number=${encodeURIComponent(c.number)}`} className="inline-flex min-h-9 items-center rounded-md border border-line bg-white px-3 text-sm hover:border-petrol hover:text-petrol">
+            <Link
+              to={`/certificates/verify?number=${encodeURIComponent(c.number)}`}
+              className="inline-flex min-h-9 items-center rounded-md border border-line bg-white px-3 text-sm hover:border-petrol hover:text-petrol"
+            >
               Verify
             </Link>
-            {isQa && c.current && (
-              <Button onClick={() => setSuperseding(true)}>Issue replacement</Button>
-            )}
+            {isQa && c.current && <Button onClick={() => setSuperseding(true)}>Issue replacement</Button>}
           </>
         }
       />
       {c.supersedes && (
         <p className="mb-3 text-sm">
-          Supersedes <Link to={`/certificates/${c.supersedes.id}`} className="text-petrol hover:underline">{c.supersedes.number}</Link>
+          Supersedes{' '}
+          <Link to={`/certificates/${c.supersedes.id}`} className="text-petrol hover:underline">
+            {c.supersedes.number}
+          </Link>
           {c.supersedeReason ? `: ${c.supersedeReason}` : ''}
         </p>
       )}
       {c.supersededBy && (
         <p className="mb-3 text-sm">
-          Superseded by <Link to={`/certificates/${c.supersededBy.id}`} className="text-petrol hover:underline">{c.supersededBy.number}</Link>; this certificate stays on record.
+          Superseded by{' '}
+          <Link to={`/certificates/${c.supersededBy.id}`} className="text-petrol hover:underline">
+            {c.supersededBy.number}
+          </Link>
+          ; this certificate stays on record.
         </p>
       )}
       <dl className="mb-4 grid grid-cols-1 gap-x-6 gap-y-1 rounded-md border border-line bg-white p-3 text-sm sm:grid-cols-[14rem_1fr]">
         <dt className="text-muted">SHA-256 of the PDF</dt>
-        <dd><code className="break-all text-xs">{c.sha256}</code></dd>
+        <dd>
+          <code className="break-all text-xs">{c.sha256}</code>
+        </dd>
         <dt className="text-muted">Signing certificate SHA-256</dt>
-        <dd><code className="break-all text-xs">{c.signerFingerprint}</code></dd>
+        <dd>
+          <code className="break-all text-xs">{c.signerFingerprint}</code>
+        </dd>
         <dt className="text-muted">Size</dt>
         <dd>{c.size.toLocaleString('en-GB')} bytes</dd>
       </dl>
@@ -94,9 +122,15 @@ export default function CertificatePage() {
                     <td className="px-3 py-1.5 font-medium whitespace-nowrap">{r.label}</td>
                     <td className="px-3 py-1.5 text-right tabular-nums">{r.measurementId}</td>
                     <td className="px-3 py-1.5 text-right tabular-nums">{formatScore(r.matchScore)}</td>
-                    <td className="px-3 py-1.5">{r.bandsTotal === null ? 'not used' : `${r.bandsMatched} of ${r.bandsTotal}`}</td>
-                    <td className="px-3 py-1.5"><Verdict verdict={r.verdict === 'pass' ? 'pass' : 'fail'} size="sm" /></td>
-                    <td className="px-3 py-1.5"><code className="text-xs">{r.rawFileSha256}</code></td>
+                    <td className="px-3 py-1.5">
+                      {r.bandsTotal === null ? 'not used' : `${r.bandsMatched} of ${r.bandsTotal}`}
+                    </td>
+                    <td className="px-3 py-1.5">
+                      <Verdict verdict={r.verdict === 'pass' ? 'pass' : 'fail'} size="sm" />
+                    </td>
+                    <td className="px-3 py-1.5">
+                      <code className="text-xs">{r.rawFileSha256}</code>
+                    </td>
                   </tr>
                 ))}
               </tbody>
@@ -106,7 +140,8 @@ export default function CertificatePage() {
           <ul className="mb-4 flex flex-col gap-1 text-sm">
             {content.signatures.map((s, i) => (
               <li key={i}>
-                <span className="font-medium">{s.printedName}</span> · {meaningLabel(s.meaning)} · <DateTime value={s.signedAt} seconds /> · <span className="text-muted">{s.record}</span>
+                <span className="font-medium">{s.printedName}</span> · {meaningLabel(s.meaning)} ·{' '}
+                <DateTime value={s.signedAt} seconds /> · <span className="text-muted">{s.record}</span>
               </li>
             ))}
           </ul>

@@ -20,7 +20,10 @@ export default function CertificatesPage() {
         title="Identity certificates"
         subtitle="Signed PDF certificates of lots whose every container passed identity testing and was verified. Each download is recorded."
         actions={
-          <Link to="/certificates/verify" className="inline-flex min-h-9 items-center rounded-md border border-petrol bg-petrol px-3 text-sm font-medium text-white hover:bg-petrol-dark">
+          <Link
+            to="/certificates/verify"
+            className="inline-flex min-h-9 items-center rounded-md border border-petrol bg-petrol px-3 text-sm font-medium text-white hover:bg-petrol-dark"
+          >
             Verify a certificate
           </Link>
         }

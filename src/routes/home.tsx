@@ -12,7 +12,10 @@ export default function HomePage() {
   const widgets = widgetsFor(user.roles);
   return (
     <div className="max-w-5xl">
-      <PageHeader title={`Work queue of ${user.fullName}`} subtitle={`Signed in as ${user.username} at ${site.name}. Roles: ${roleList(user.roles)}.`} />
+      <PageHeader
+        title={`Work queue of ${user.fullName}`}
+        subtitle={`Signed in as ${user.username} at ${site.name}. Roles: ${roleList(user.roles)}.`}
+      />
       {notice && (
         <p role="status" className="mb-4 rounded-md border border-pass/40 bg-pass-soft px-3 py-2 text-sm">
           {notice}

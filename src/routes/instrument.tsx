@@ -45,7 +45,12 @@ export default function InstrumentPage() {
         subtitle={`${i.technique === 'nir' ? 'NIR' : 'Mid-IR'}, ${SAMPLING_LABELS[i.sampling as keyof typeof SAMPLING_LABELS] ?? i.sampling} · serial ${i.serialNumber}${i.location ? ` · ${i.location}` : ''} · a check is valid for ${i.checkValidityHours} h`}
         actions={
           <>
-            <RecordHistory entityType="instrument" entityId={i.id} label={`instrument ${i.name}`} showTrailLink={canSeeTrail} />
+            <RecordHistory
+              entityType="instrument"
+              entityId={i.id}
+              label={`instrument ${i.name}`}
+              showTrailLink={canSeeTrail}
+            />
             {isQa && <Button onClick={() => setSpecing(true)}>New check specification</Button>}
             {canCheck && (
               <Button variant="primary" size="bench" onClick={() => setChecking(true)} disabled={!i.active || !current}>
@@ -57,10 +62,18 @@ export default function InstrumentPage() {
       />
       <div className="mb-6 flex flex-wrap items-center gap-3">
         <CheckStatus instrument={i} size="lg" />
-        {!current && <span className="text-sm text-fail">No approved check specification: QA must approve one before the first check.</span>}
+        {!current && (
+          <span className="text-sm text-fail">
+            No approved check specification: QA must approve one before the first check.
+          </span>
+        )}
       </div>
       {last && (
-        <p role="status" className="mb-4 flex flex-wrap items-center gap-2 rounded-md border border-line bg-white px-3 py-2 text-sm" data-testid="check-outcome">
+        <p
+          role="status"
+          className="mb-4 flex flex-wrap items-center gap-2 rounded-md border border-line bg-white px-3 py-2 text-sm"
+          data-testid="check-outcome"
+        >
           Check recorded: <Verdict verdict={last.verdict} />{' '}
           {last.verdict === 'pass' ? (
             <>
@@ -84,11 +97,16 @@ export default function InstrumentPage() {
           </h2>
           <ol className="flex flex-col gap-2">
             {i.specs.map((s) => (
-              <li key={s.id} className={`rounded-md border bg-white p-3 text-sm ${s.status === 'approved' ? 'border-petrol/50' : 'border-line text-muted'}`}>
+              <li
+                key={s.id}
+                className={`rounded-md border bg-white p-3 text-sm ${s.status === 'approved' ? 'border-petrol/50' : 'border-line text-muted'}`}
+              >
                 <p className="font-medium">
                   Version {s.version}: {specKindText(s.kind)} · {s.status === 'approved' ? 'in force' : s.status}
                 </p>
-                <p className="mt-1 tabular-nums">{s.bands.map((b) => `${formatWavenumber(b.nominal, 2)} ±${b.tolerance}`).join(', ')}</p>
+                <p className="mt-1 tabular-nums">
+                  {s.bands.map((b) => `${formatWavenumber(b.nominal, 2)} ±${b.tolerance}`).join(', ')}
+                </p>
                 {s.justification && <p className="mt-1">“{s.justification}”</p>}
                 <p className="mt-1 text-xs text-muted">
                   {s.signature ? (
@@ -97,7 +115,8 @@ export default function InstrumentPage() {
                     </>
                   ) : (
                     <>
-                      Adopted from the pharmacopoeia when {s.createdByName ?? 'QA'} registered the instrument, <DateTime value={s.createdAt} />
+                      Adopted from the pharmacopoeia when {s.createdByName ?? 'QA'} registered the instrument,{' '}
+                      <DateTime value={s.createdAt} />
                     </>
                   )}
                 </p>
@@ -121,7 +140,15 @@ export default function InstrumentPage() {
           }}
         />
       )}
-      {isQa && <ApproveSpecDialog open={specing} instrument={i} printedName={user.fullName} needsUsername={!user.signedOnce} onClose={() => setSpecing(false)} />}
+      {isQa && (
+        <ApproveSpecDialog
+          open={specing}
+          instrument={i}
+          printedName={user.fullName}
+          needsUsername={!user.signedOnce}
+          onClose={() => setSpecing(false)}
+        />
+      )}
     </div>
   );
 }

@@ -20,7 +20,14 @@ export default function InstrumentsPage() {
       <PageHeader
         title="Instruments"
         subtitle="An instrument is used for identity testing only with a passing, unexpired polystyrene instrument check."
-        actions={isQa && !creating && <Button variant="primary" onClick={() => setCreating(true)}>Register instrument</Button>}
+        actions={
+          isQa &&
+          !creating && (
+            <Button variant="primary" onClick={() => setCreating(true)}>
+              Register instrument
+            </Button>
+          )
+        }
       />
       {creating && (
         <section aria-labelledby="new-inst" className="mb-6 rounded-md border border-line bg-white p-4">

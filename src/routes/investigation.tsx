@@ -43,7 +43,14 @@ export default function InvestigationPage() {
             <InvestigationStatus inv={inv} />
           </span>
         }
-        actions={<RecordHistory entityType="investigation" entityId={inv.id} label={`investigation ${inv.number}`} showTrailLink={canSeeTrail} />}
+        actions={
+          <RecordHistory
+            entityType="investigation"
+            entityId={inv.id}
+            label={`investigation ${inv.number}`}
+            showTrailLink={canSeeTrail}
+          />
+        }
         subtitle={
           <>
             Lot{' '}
@@ -64,12 +71,18 @@ export default function InvestigationPage() {
         </h2>
         <ul className="flex flex-col gap-2">
           {inv.failing.map((f) => (
-            <li key={f.containerId} className="rounded-md border border-line bg-white p-3 text-sm" data-testid={`failing-${f.label}`}>
+            <li
+              key={f.containerId}
+              className="rounded-md border border-line bg-white p-3 text-sm"
+              data-testid={`failing-${f.label}`}
+            >
               <div className="mb-1 flex flex-wrap items-center gap-3">
                 <span className="font-medium tabular-nums">{f.label}</span>
                 <Verdict verdict="fail" />
                 <span className="text-muted">match score {formatScore(f.score)}</span>
-                {inv.retestContainerIds.includes(f.containerId) && <span className="text-amber-ink">retest authorised</span>}
+                {inv.retestContainerIds.includes(f.containerId) && (
+                  <span className="text-amber-ink">retest authorised</span>
+                )}
               </div>
               <p className="mb-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2" data-testid="library-hint">
                 {f.hintText}
@@ -96,7 +109,11 @@ export default function InvestigationPage() {
               <div key={k} className="contents">
                 <dt className="font-medium">{PHASE1_LABELS[k].title}</dt>
                 <dd>
-                  {inv.phase1!.items[k].ok ? <Verdict verdict="pass" label="No laboratory error found" size="sm" /> : <Verdict verdict="fail" label="Laboratory error found" size="sm" />}{' '}
+                  {inv.phase1!.items[k].ok ? (
+                    <Verdict verdict="pass" label="No laboratory error found" size="sm" />
+                  ) : (
+                    <Verdict verdict="fail" label="Laboratory error found" size="sm" />
+                  )}{' '}
                   {inv.phase1!.items[k].note}
                 </dd>
               </div>
@@ -108,14 +125,19 @@ export default function InvestigationPage() {
       )}
       {inv.justification && (
         <p className="mb-5 text-sm">
-          <span className="font-medium">Decision ({inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'}) by {inv.decidedBy?.name}: </span>
+          <span className="font-medium">
+            Decision ({inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'}) by{' '}
+            {inv.decidedBy?.name}:{' '}
+          </span>
           {inv.justification}
         </p>
       )}
 
       {isQa && inv.status === 'open' && <Phase1Form inv={inv} me={user} />}
       {isQa && inv.status === 'phase1-recorded' && <DecisionForms inv={inv} me={user} />}
-      {!isQa && (inv.status === 'open' || inv.status === 'phase1-recorded') && <p className="text-sm text-muted">QA records the laboratory check and decides.</p>}
+      {!isQa && (inv.status === 'open' || inv.status === 'phase1-recorded') && (
+        <p className="text-sm text-muted">QA records the laboratory check and decides.</p>
+      )}
 
       <section aria-labelledby="sigs" className="mt-6">
         <h2 id="sigs" className="mb-2 text-lg">
@@ -127,7 +149,8 @@ export default function InvestigationPage() {
           <ul className="flex flex-col gap-1 text-sm">
             {inv.signatures.map((s) => (
               <li key={s.id}>
-                <span className="font-medium">{s.printedName}</span> · {MEANINGS[s.meaning] ?? s.meaning} · <DateTime value={s.signedAt} seconds />
+                <span className="font-medium">{s.printedName}</span> · {MEANINGS[s.meaning] ?? s.meaning} ·{' '}
+                <DateTime value={s.signedAt} seconds />
               </li>
             ))}
           </ul>

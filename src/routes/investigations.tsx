@@ -12,12 +12,21 @@ import { useInvestigations, type Investigation } from '../features/investigation
 import { InvestigationStatus } from '../features/investigations/components/InvestigationStatus';
 
 const columns: ColumnDef<Investigation, unknown>[] = [
-  { header: 'Investigation', accessorKey: 'number', cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span> },
+  {
+    header: 'Investigation',
+    accessorKey: 'number',
+    cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span>,
+  },
   { header: 'Lot', accessorKey: 'lotNumber' },
   { header: 'Material', accessorKey: 'materialName' },
   { header: 'Failing containers', accessorFn: (i) => i.failing.map((f) => f.label).join(', ') },
   { header: 'Status', accessorKey: 'status', cell: (c) => <InvestigationStatus inv={c.row.original} /> },
-  { header: 'Opened', accessorKey: 'openedAt', cell: (c) => <DateTime value={c.getValue() as string} />, enableColumnFilter: false },
+  {
+    header: 'Opened',
+    accessorKey: 'openedAt',
+    cell: (c) => <DateTime value={c.getValue() as string} />,
+    enableColumnFilter: false,
+  },
 ];
 
 export default function InvestigationsPage() {
@@ -30,7 +39,9 @@ export default function InvestigationsPage() {
         title="Investigations"
         subtitle="A verified test with a failing container opens an investigation. QA records the phase I laboratory check and decides."
         actions={
-          <Button onClick={() => setState(state === 'open' ? 'all' : 'open')}>{state === 'open' ? 'Show closed ones too' : 'Show open ones only'}</Button>
+          <Button onClick={() => setState(state === 'open' ? 'all' : 'open')}>
+            {state === 'open' ? 'Show closed ones too' : 'Show open ones only'}
+          </Button>
         }
       />
       {q.isPending ? (
@@ -38,7 +49,14 @@ export default function InvestigationsPage() {
       ) : q.isError ? (
         <ErrorNote error={q.error} onRetry={() => void q.refetch()} />
       ) : (
-        <DataTable data={q.data} columns={columns} label="Investigations" onRowClick={(i) => navigate(`/investigations/${i.id}`)} getRowId={(i) => String(i.id)} emptyMessage={state === 'open' ? 'No open investigation.' : 'No investigation yet.'} />
+        <DataTable
+          data={q.data}
+          columns={columns}
+          label="Investigations"
+          onRowClick={(i) => navigate(`/investigations/${i.id}`)}
+          getRowId={(i) => String(i.id)}
+          emptyMessage={state === 'open' ? 'No open investigation.' : 'No investigation yet.'}
+        />
       )}
     </div>
   );

@@ -20,7 +20,11 @@ function GradeSpecificity({ materialId, technique }: { materialId: number; techn
   if (m.isPending) return <p className="text-sm text-muted">Computing…</p>;
   if (m.isError) return <ErrorNote error={m.error} onRetry={() => void m.refetch()} />;
   if (!m.data.materials.some((x) => x.id === materialId))
-    return <p className="text-sm text-muted">This grade has no approved method with approved references yet, so it is not part of the specificity matrix.</p>;
+    return (
+      <p className="text-sm text-muted">
+        This grade has no approved method with approved references yet, so it is not part of the specificity matrix.
+      </p>
+    );
   return <SpecificityMatrixTable matrix={m.data} focusMaterialId={materialId} />;
 }
 
@@ -49,17 +53,29 @@ export default function LibraryMaterialPage() {
           </Link>
         }
         title={`${m.code} · ${m.name}`}
-        subtitle={[m.grade, m.monographRef, m.techniques.map((t) => TECHNIQUE_LABELS[t as keyof typeof TECHNIQUE_LABELS] ?? t).join(', '), m.active ? null : 'inactive'].filter(Boolean).join(' · ')}
+        subtitle={[
+          m.grade,
+          m.monographRef,
+          m.techniques.map((t) => TECHNIQUE_LABELS[t as keyof typeof TECHNIQUE_LABELS] ?? t).join(', '),
+          m.active ? null : 'inactive',
+        ]
+          .filter(Boolean)
+          .join(' · ')}
         actions={
           <>
-            <RecordHistory entityType="material" entityId={m.id} label={`material ${m.code}`} showTrailLink={canSeeTrail} />
+            <RecordHistory
+              entityType="material"
+              entityId={m.id}
+              label={`material ${m.code}`}
+              showTrailLink={canSeeTrail}
+            />
             {isQa && (
-            <>
-              <Button onClick={() => setEditing(true)}>Change material</Button>
-              <Button variant="primary" onClick={() => setUploading(true)} disabled={!m.active}>
-                Upload reference spectra
-              </Button>
-            </>
+              <>
+                <Button onClick={() => setEditing(true)}>Change material</Button>
+                <Button variant="primary" onClick={() => setUploading(true)} disabled={!m.active}>
+                  Upload reference spectra
+                </Button>
+              </>
             )}
           </>
         }
@@ -83,8 +99,15 @@ export default function LibraryMaterialPage() {
         <h2 id="methods-h" className="mb-2 text-lg">
           Identity method versions
         </h2>
-        <p className="mb-3 text-sm text-muted">An approved version never changes: a change becomes a new draft version, approved with an e-signature. Each identity test records the version it used.</p>
-        <MethodVersions methods={m.methods} canWrite={isQa} signer={{ printedName: user.fullName, needsUsername: !user.signedOnce }} />
+        <p className="mb-3 text-sm text-muted">
+          An approved version never changes: a change becomes a new draft version, approved with an e-signature. Each
+          identity test records the version it used.
+        </p>
+        <MethodVersions
+          methods={m.methods}
+          canWrite={isQa}
+          signer={{ printedName: user.fullName, needsUsername: !user.signedOnce }}
+        />
       </section>
 
       <section aria-labelledby="spec-h" className="mb-8">

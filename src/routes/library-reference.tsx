@@ -26,7 +26,8 @@ function GatePreview({ id }: { id: number }) {
   const [on, setOn] = useState(false);
   const gate = useSpecificityGate(id, on);
   if (!on) return <Button onClick={() => setOn(true)}>Run the specificity check now</Button>;
-  if (gate.isPending) return <p className="text-sm text-muted">Scoring against the approved references of other materials…</p>;
+  if (gate.isPending)
+    return <p className="text-sm text-muted">Scoring against the approved references of other materials…</p>;
   if (gate.isError) return <ErrorNote error={gate.error} />;
   return <GateTable gate={gate.data} />;
 }
@@ -45,13 +46,28 @@ export default function LibraryReferencePage() {
   const r = ref.data;
   const ownUpload = r.createdBy === user.id;
   const facts: [string, React.ReactNode][] = [
-    ['Material', r.material ? <Link to={`/library/materials/${r.material.id}`} className="text-petrol underline underline-offset-2">{`${r.material.code} · ${r.material.name}`}</Link> : '—'],
+    [
+      'Material',
+      r.material ? (
+        <Link
+          to={`/library/materials/${r.material.id}`}
+          className="text-petrol underline underline-offset-2"
+        >{`${r.material.code} · ${r.material.name}`}</Link>
+      ) : (
+        '—'
+      ),
+    ],
     ['Status', <StatusBadge status={r.status} />],
     ['Supplier', r.supplier || '—'],
     ['Supplier lot', r.supplierLot || '—'],
     ['How it was measured', r.measuredHow || '—'],
     ['Instrument', r.instrument?.name ?? '—'],
-    ['Uploaded', <span>{r.uploadedByName}, <DateTime value={r.createdAt} /></span>],
+    [
+      'Uploaded',
+      <span>
+        {r.uploadedByName}, <DateTime value={r.createdAt} />
+      </span>,
+    ],
     [
       'Raw file',
       r.file ? (
@@ -59,13 +75,19 @@ export default function LibraryReferencePage() {
           <a href={referenceFileUrl(r.id)} className="text-petrol underline underline-offset-2">
             {r.file.fileName}
           </a>{' '}
-          ({formatBytes(r.file.size)}) <span className="block font-mono text-xs break-all text-muted">SHA-256 {r.file.sha256}</span>
+          ({formatBytes(r.file.size)}){' '}
+          <span className="block font-mono text-xs break-all text-muted">SHA-256 {r.file.sha256}</span>
         </span>
       ) : (
         '—'
       ),
     ],
-    ['Read as', r.meta ? `${r.meta.points ?? '?'} points; x ${r.meta.originalXUnits ?? '?'}, y ${r.meta.originalYUnits ?? '?'}${r.meta.bandsPickedWithMethodVersion ? `; bands picked under method version ${r.meta.bandsPickedWithMethodVersion}` : ''}` : '—'],
+    [
+      'Read as',
+      r.meta
+        ? `${r.meta.points ?? '?'} points; x ${r.meta.originalXUnits ?? '?'}, y ${r.meta.originalYUnits ?? '?'}${r.meta.bandsPickedWithMethodVersion ? `; bands picked under method version ${r.meta.bandsPickedWithMethodVersion}` : ''}`
+        : '—',
+    ],
   ];
   if (r.justification) facts.push(['Justification', <span className="whitespace-pre-wrap">{r.justification}</span>]);
   if (r.retireReason) facts.push(['Retired because', r.retireReason]);
@@ -74,35 +96,53 @@ export default function LibraryReferencePage() {
     <div className="max-w-7xl">
       <PageHeader
         eyebrow={
-          <Link to={r.material ? `/library/materials/${r.material.id}` : '/library'} className="text-petrol underline underline-offset-2">
+          <Link
+            to={r.material ? `/library/materials/${r.material.id}` : '/library'}
+            className="text-petrol underline underline-offset-2"
+          >
             {r.material ? `${r.material.code} · ${r.material.name}` : 'Reference library'}
           </Link>
         }
         title={`Reference ${r.code}`}
-        subtitle={r.status === 'draft' ? 'Draft: bands can still change; another QA manager approves it after the specificity check.' : undefined}
+        subtitle={
+          r.status === 'draft'
+            ? 'Draft: bands can still change; another QA manager approves it after the specificity check.'
+            : undefined
+        }
         actions={
           <>
-            <RecordHistory entityType="reference_spectrum" entityId={r.id} label={`reference ${r.code}`} showTrailLink={canSeeTrail} />
+            <RecordHistory
+              entityType="reference_spectrum"
+              entityId={r.id}
+              label={`reference ${r.code}`}
+              showTrailLink={canSeeTrail}
+            />
             {isQa && (
-            <>
-              {r.status === 'draft' && (
-                <Button variant="primary" onClick={() => setApproving(true)} disabled={ownUpload} title={ownUpload ? 'You uploaded this reference; another QA manager must approve it.' : undefined}>
-                  Approve reference
-                </Button>
-              )}
-              {r.status !== 'retired' && (
-                <Button variant="danger" onClick={() => setRetiring(true)}>
-                  Retire reference
-                </Button>
-              )}
-            </>
+              <>
+                {r.status === 'draft' && (
+                  <Button
+                    variant="primary"
+                    onClick={() => setApproving(true)}
+                    disabled={ownUpload}
+                    title={ownUpload ? 'You uploaded this reference; another QA manager must approve it.' : undefined}
+                  >
+                    Approve reference
+                  </Button>
+                )}
+                {r.status !== 'retired' && (
+                  <Button variant="danger" onClick={() => setRetiring(true)}>
+                    Retire reference
+                  </Button>
+                )}
+              </>
             )}
           </>
         }
       />
       {isQa && r.status === 'draft' && ownUpload && (
         <p className="mb-4 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm" role="note">
-          You uploaded this reference, so you cannot approve it (segregation of duties). Another QA manager must approve it.
+          You uploaded this reference, so you cannot approve it (segregation of duties). Another QA manager must approve
+          it.
         </p>
       )}
 
@@ -162,8 +202,22 @@ export default function LibraryReferencePage() {
 
       {isQa && (
         <>
-          <ApproveReferenceDialog open={approving} referenceId={r.id} code={r.code} printedName={user.fullName} needsUsername={!user.signedOnce} onClose={() => setApproving(false)} />
-          <RetireReferenceDialog open={retiring} referenceId={r.id} code={r.code} printedName={user.fullName} needsUsername={!user.signedOnce} onClose={() => setRetiring(false)} />
+          <ApproveReferenceDialog
+            open={approving}
+            referenceId={r.id}
+            code={r.code}
+            printedName={user.fullName}
+            needsUsername={!user.signedOnce}
+            onClose={() => setApproving(false)}
+          />
+          <RetireReferenceDialog
+            open={retiring}
+            referenceId={r.id}
+            code={r.code}
+            printedName={user.fullName}
+            needsUsername={!user.signedOnce}
+            onClose={() => setRetiring(false)}
+          />
         </>
       )}
     </div>

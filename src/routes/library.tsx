@@ -24,7 +24,9 @@ function Matrix() {
           <h2 id="matrix-h" className="text-lg">
             Specificity of the approved library
           </h2>
-          <p className="text-sm text-muted">Each identity test against the approved references of every other material.</p>
+          <p className="text-sm text-muted">
+            Each identity test against the approved references of every other material.
+          </p>
         </div>
         <Field id="matrix-tech" label="Technique">
           <Select id="matrix-tech" value={technique} onChange={(e) => setTechnique(e.target.value)}>
@@ -62,14 +64,24 @@ export default function LibraryPage() {
       <PageHeader
         title="Reference library"
         subtitle="Materials, their identity methods and QA-approved reference spectra. Every identity test is judged against this library."
-        actions={isQa && !creating && <Button variant="primary" onClick={() => setCreating(true)}>New material</Button>}
+        actions={
+          isQa &&
+          !creating && (
+            <Button variant="primary" onClick={() => setCreating(true)}>
+              New material
+            </Button>
+          )
+        }
       />
       {creating && (
         <section aria-labelledby="new-mat" className="mb-6 rounded-md border border-line bg-white p-4">
           <h2 id="new-mat" className="mb-3 text-lg">
             New material
           </h2>
-          <CreateMaterialForm onCancel={() => setCreating(false)} onCreated={(id) => navigate(`/library/materials/${id}`)} />
+          <CreateMaterialForm
+            onCancel={() => setCreating(false)}
+            onCreated={(id) => navigate(`/library/materials/${id}`)}
+          />
         </section>
       )}
       {materials.isPending ? (

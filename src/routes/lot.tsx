@@ -36,7 +36,8 @@ function Certificate({ lot }: { lot: LotDetail }) {
         issued <DateTime value={c.issuedAt} />.
       </p>
     );
-  if (c.state === 'pending') return <p className="text-sm text-amber-ink">Identity passed; the identity certificate is pending.</p>;
+  if (c.state === 'pending')
+    return <p className="text-sm text-amber-ink">Identity passed; the identity certificate is pending.</p>;
   return null;
 }
 
@@ -55,7 +56,12 @@ function StartAttempt({ lot }: { lot: LotDetail }) {
         Start test attempt {(last?.attempt ?? 0) + 1}
       </h2>
       <p className="mb-3 text-sm text-muted">{why}</p>
-      <InstrumentPicker actionLabel="Start testing" busy={start.isPending} error={start.error} onPick={(id) => start.mutate(id)} />
+      <InstrumentPicker
+        actionLabel="Start testing"
+        busy={start.isPending}
+        error={start.error}
+        onPick={(id) => start.mutate(id)}
+      />
     </section>
   );
 }
@@ -71,7 +77,11 @@ export default function LotPage() {
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const lot = q.data;
   const current = lot.tests.find((t) => t.id === lot.currentTestId) ?? null;
-  const canStart = isOperator && lot.status === 'quarantine' && !current && ['awaiting-testing', 'testing', 'retest-authorised'].includes(lot.identityStatus);
+  const canStart =
+    isOperator &&
+    lot.status === 'quarantine' &&
+    !current &&
+    ['awaiting-testing', 'testing', 'retest-authorised'].includes(lot.identityStatus);
   return (
     <div className="max-w-7xl">
       <PageHeader
@@ -92,8 +102,19 @@ export default function LotPage() {
         subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}`}
         actions={
           <>
-            <RecordHistory entityType="lot" entityId={lot.id} label={`lot ${lot.lotNumber}`} size="bench" showTrailLink={canSeeTrail} />
-            <a className={buttonClass('secondary', 'bench')} href={labelsPdfUrl(lot.id)} target="_blank" rel="noreferrer">
+            <RecordHistory
+              entityType="lot"
+              entityId={lot.id}
+              label={`lot ${lot.lotNumber}`}
+              size="bench"
+              showTrailLink={canSeeTrail}
+            />
+            <a
+              className={buttonClass('secondary', 'bench')}
+              href={labelsPdfUrl(lot.id)}
+              target="_blank"
+              rel="noreferrer"
+            >
               Print container labels (PDF)
             </a>
           </>
@@ -111,7 +132,12 @@ export default function LotPage() {
             <Link className="font-medium text-petrol underline underline-offset-2" to={`/investigations/${inv.id}`}>
               {inv.number}
             </Link>{' '}
-            · {inv.status === 'closed' ? `closed (${inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'})` : inv.status === 'retest-authorised' ? 'retest authorised' : 'open'}
+            ·{' '}
+            {inv.status === 'closed'
+              ? `closed (${inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'})`
+              : inv.status === 'retest-authorised'
+                ? 'retest authorised'
+                : 'open'}
           </p>
         ))}
       </div>
@@ -131,7 +157,8 @@ export default function LotPage() {
       {current?.status === 'awaiting-verification' && (
         <section className="rounded-md border border-line bg-white p-4" aria-label="Awaiting verification">
           <p className="mb-2">
-            Attempt {current.attempt} was signed performed by {current.performedBy?.name} and awaits verification by a second person.
+            Attempt {current.attempt} was signed performed by {current.performedBy?.name} and awaits verification by a
+            second person.
           </p>
           {isVerifier && current.performedBy?.id !== user.id && (
             <Link className={buttonClass('primary', 'bench')} to={`/tests/${current.id}/review`}>
@@ -147,12 +174,22 @@ export default function LotPage() {
         </h2>
         <div className="flex flex-wrap gap-2">
           {lot.containers.slice(0, 200).map((c) => (
-            <div key={c.id} className="flex items-center gap-2 rounded-md border border-line bg-white px-2 py-1 text-sm" data-testid={`lot-container-${c.label}`}>
+            <div
+              key={c.id}
+              className="flex items-center gap-2 rounded-md border border-line bg-white px-2 py-1 text-sm"
+              data-testid={`lot-container-${c.label}`}
+            >
               <span className="tabular-nums">{c.label}</span>
-              {c.effective ? <Verdict verdict={c.effective.verdict} size="sm" /> : <Verdict verdict="pending" label="No verified result" size="sm" />}
+              {c.effective ? (
+                <Verdict verdict={c.effective.verdict} size="sm" />
+              ) : (
+                <Verdict verdict="pending" label="No verified result" size="sm" />
+              )}
             </div>
           ))}
-          {lot.containers.length > 200 && <p className="text-sm text-muted">… and {lot.containers.length - 200} more.</p>}
+          {lot.containers.length > 200 && (
+            <p className="text-sm text-muted">… and {lot.containers.length - 200} more.</p>
+          )}
         </div>
       </section>
 

@@ -20,11 +20,14 @@ export default function LotsPage() {
       <PageHeader
         title="Lots"
         subtitle="Received lots stay in quarantine until the identity of every container is confirmed and verified."
-        actions={isOperator && !creating && (
-          <Button size="bench" variant="primary" onClick={() => setCreating(true)}>
-            Register a received lot
-          </Button>
-        )}
+        actions={
+          isOperator &&
+          !creating && (
+            <Button size="bench" variant="primary" onClick={() => setCreating(true)}>
+              Register a received lot
+            </Button>
+          )
+        }
       />
       {creating && (
         <section aria-labelledby="new-lot" className="mb-6 rounded-md border border-line bg-white p-4">
@@ -34,7 +37,13 @@ export default function LotsPage() {
           <LotReceiptForm onCancel={() => setCreating(false)} onDone={(lot) => navigate(`/lots/${lot.id}`)} />
         </section>
       )}
-      {list.isPending ? <PageLoading /> : list.isError ? <ErrorNote error={list.error} onRetry={() => void list.refetch()} /> : <LotsTable lots={list.data} onOpen={(l) => navigate(`/lots/${l.id}`)} />}
+      {list.isPending ? (
+        <PageLoading />
+      ) : list.isError ? (
+        <ErrorNote error={list.error} onRetry={() => void list.refetch()} />
+      ) : (
+        <LotsTable lots={list.data} onOpen={(l) => navigate(`/lots/${l.id}`)} />
+      )}
     </div>
   );
 }

@@ -22,7 +22,11 @@ function daysBack(n: number): string {
   return new Date(Date.now() - n * 86_400_000).toISOString().slice(0, 10);
 }
 
-function Pending({ q }: { q: { isPending: boolean; isError: boolean; error: unknown; refetch: () => unknown } }): ReactNode {
+function Pending({
+  q,
+}: {
+  q: { isPending: boolean; isError: boolean; error: unknown; refetch: () => unknown };
+}): ReactNode {
   if (q.isPending) return <p className="text-sm text-muted">Loading…</p>;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   return null;
@@ -33,7 +37,8 @@ export function CertificatesToCheckWidget() {
   const q = useCertificates({ from: daysBack(30) });
   if (q.isPending || q.isError) return <Pending q={q} />;
   const items = q.data.items.filter((c) => c.current);
-  if (items.length === 0) return <p className="text-sm text-muted">No identity certificate was issued in the last 30 days.</p>;
+  if (items.length === 0)
+    return <p className="text-sm text-muted">No identity certificate was issued in the last 30 days.</p>;
   return (
     <ul className={LIST}>
       {items.slice(0, SHOWN).map((c) => (
@@ -49,7 +54,9 @@ export function CertificatesToCheckWidget() {
           </span>
         </li>
       ))}
-      {items.length > SHOWN && <li className="px-3 py-2 text-sm text-muted">… and {items.length - SHOWN} more on the certificates page.</li>}
+      {items.length > SHOWN && (
+        <li className="px-3 py-2 text-sm text-muted">… and {items.length - SHOWN} more on the certificates page.</li>
+      )}
     </ul>
   );
 }
@@ -110,7 +117,12 @@ export function AccountsToAttendWidget() {
     .filter((u) => u.active)
     .map((u) => ({
       user: u,
-      why: u.lockedUntil && new Date(u.lockedUntil).getTime() > now ? 'locked after failed sign-ins' : u.mustChangePassword ? 'has not yet signed in to replace the temporary password' : null,
+      why:
+        u.lockedUntil && new Date(u.lockedUntil).getTime() > now
+          ? 'locked after failed sign-ins'
+          : u.mustChangePassword
+            ? 'has not yet signed in to replace the temporary password'
+            : null,
     }))
     .filter((x): x is { user: (typeof q.data)[number]; why: string } => x.why !== null);
   if (items.length === 0) return <p className="text-sm text-muted">No account needs attention.</p>;

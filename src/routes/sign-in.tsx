@@ -14,7 +14,8 @@ export default function SignInPage() {
   const state = (useLocation().state ?? {}) as SignInState;
   const target = state.from && state.from.startsWith('/') && !state.from.startsWith('/sign-in') ? state.from : '/';
 
-  if (me.data && !me.isFetching) return <Navigate to={me.data.user.mustChangePassword ? '/account/password' : target} replace />;
+  if (me.data && !me.isFetching)
+    return <Navigate to={me.data.user.mustChangePassword ? '/account/password' : target} replace />;
 
   return (
     <div className="flex min-h-screen items-center justify-center bg-paper px-4 py-10">
@@ -26,15 +27,20 @@ export default function SignInPage() {
         <div className="rounded-lg border border-line bg-white p-6 shadow-sm">
           <h1 className="mb-4 text-xl">Sign in</h1>
           {state.message && (
-            <p role="status" className="mb-4 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm text-ink">
+            <p
+              role="status"
+              className="mb-4 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm text-ink"
+            >
               {state.message}
             </p>
           )}
-          <SignInForm onSignedIn={(u) => navigate(u.mustChangePassword ? '/account/password' : target, { replace: true })} />
+          <SignInForm
+            onSignedIn={(u) => navigate(u.mustChangePassword ? '/account/password' : target, { replace: true })}
+          />
         </div>
         <p className="mt-4 text-xs text-muted">
-          Your sign-in is personal. Every action you take is recorded in the audit trail under your name. Results support, and do not replace, the
-          laboratory&apos;s validated procedure.
+          Your sign-in is personal. Every action you take is recorded in the audit trail under your name. Results
+          support, and do not replace, the laboratory&apos;s validated procedure.
         </p>
       </main>
     </div>

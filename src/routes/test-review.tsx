@@ -27,14 +27,24 @@ export default function TestReviewPage() {
           </Link>
         }
         title={`Review of attempt ${t.attempt}, lot ${t.lot.lotNumber}`}
-        actions={<RecordHistory entityType="identity_test" entityId={t.id} label={`attempt ${t.attempt} of lot ${t.lot.lotNumber}`} showTrailLink={canSeeTrail} />}
+        actions={
+          <RecordHistory
+            entityType="identity_test"
+            entityId={t.id}
+            label={`attempt ${t.attempt} of lot ${t.lot.lotNumber}`}
+            showTrailLink={canSeeTrail}
+          />
+        }
         subtitle={`${t.lot.material.name} · ${t.statusLabel} · ${t.readiness.inScope} container(s)${t.retestOfInvestigationId ? ' · retest authorised by QA' : ''} · instrument ${t.instrument?.name ?? '—'}`}
       />
       <div className="mb-4">
         <SignatureList signatures={t.signatures} />
         {t.returnedReason && <p className="mt-1 text-sm">Returned: {t.returnedReason}</p>}
       </div>
-      <ReviewView data={q.data} me={{ id: user.id, fullName: user.fullName, signedOnce: user.signedOnce, isVerifier }} />
+      <ReviewView
+        data={q.data}
+        me={{ id: user.id, fullName: user.fullName, signedOnce: user.signedOnce, isVerifier }}
+      />
     </div>
   );
 }

@@ -10,17 +10,31 @@ import { Verdict } from '../components/Verdict';
 import { useVerificationQueue, type QueueTest } from '../features/testing/api';
 
 const columns: ColumnDef<QueueTest, unknown>[] = [
-  { header: 'Lot', accessorKey: 'lotNumber', cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span> },
+  {
+    header: 'Lot',
+    accessorKey: 'lotNumber',
+    cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span>,
+  },
   { header: 'Material', accessorKey: 'material' },
   { header: 'Attempt', accessorFn: (t) => `${t.attempt}${t.isRetest ? ' (retest)' : ''}` },
   { header: 'Containers', accessorKey: 'containers', meta: { align: 'right' } },
   {
     header: 'Results',
     accessorKey: 'failing',
-    cell: (c) => ((c.getValue() as number) > 0 ? <Verdict verdict="fail" label={`${c.getValue()} failing`} size="sm" /> : <Verdict verdict="pass" label="All pass" size="sm" />),
+    cell: (c) =>
+      (c.getValue() as number) > 0 ? (
+        <Verdict verdict="fail" label={`${c.getValue()} failing`} size="sm" />
+      ) : (
+        <Verdict verdict="pass" label="All pass" size="sm" />
+      ),
   },
   { header: 'Performed by', accessorKey: 'performedBy' },
-  { header: 'Signed', accessorKey: 'signedPerformedAt', cell: (c) => <DateTime value={c.getValue() as string} />, enableColumnFilter: false },
+  {
+    header: 'Signed',
+    accessorKey: 'signedPerformedAt',
+    cell: (c) => <DateTime value={c.getValue() as string} />,
+    enableColumnFilter: false,
+  },
 ];
 
 export default function VerificationPage() {
@@ -28,13 +42,23 @@ export default function VerificationPage() {
   const navigate = useNavigate();
   return (
     <div className="max-w-7xl">
-      <PageHeader title="Tests to verify" subtitle="Identity tests signed performed by someone else. Tests you performed or measured are not listed: a second person verifies them." />
+      <PageHeader
+        title="Tests to verify"
+        subtitle="Identity tests signed performed by someone else. Tests you performed or measured are not listed: a second person verifies them."
+      />
       {q.isPending ? (
         <PageLoading />
       ) : q.isError ? (
         <ErrorNote error={q.error} onRetry={() => void q.refetch()} />
       ) : (
-        <DataTable data={q.data} columns={columns} label="Tests awaiting verification" onRowClick={(t) => navigate(`/tests/${t.testId}/review`)} getRowId={(t) => String(t.testId)} emptyMessage="No tests await your verification." />
+        <DataTable
+          data={q.data}
+          columns={columns}
+          label="Tests awaiting verification"
+          onRowClick={(t) => navigate(`/tests/${t.testId}/review`)}
+          getRowId={(t) => String(t.testId)}
+          emptyMessage="No tests await your verification."
+        />
       )}
     </div>
   );

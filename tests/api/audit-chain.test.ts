@@ -18,8 +18,10 @@ let auditor: Agent;
 let ids: number[] = [];
 
 const TRIGGERS = {
-  update: "CREATE TRIGGER audit_event_no_update BEFORE UPDATE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
-  delete: "CREATE TRIGGER audit_event_no_delete BEFORE DELETE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
+  update:
+    "CREATE TRIGGER audit_event_no_update BEFORE UPDATE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
+  delete:
+    "CREATE TRIGGER audit_event_no_delete BEFORE DELETE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
 };
 
 /** Runs `fn` with one protecting trigger dropped, and always puts the trigger back. */
@@ -43,7 +45,14 @@ async function restore(original: AuditRow): Promise<void> {
 
 beforeAll(async () => {
   ({ agent: auditor } = await agentFor(['auditor']));
-  await seedEvents(6, (i) => ({ actor: { id: null, name: 'chain test' }, action: 'test.chain', entityType: T, entityId: String(i), after: { i }, reason: `original ${i}` }));
+  await seedEvents(6, (i) => ({
+    actor: { id: null, name: 'chain test' },
+    action: 'test.chain',
+    entityType: T,
+    entityId: String(i),
+    after: { i },
+    reason: `original ${i}`,
+  }));
   ids = (await db()('audit_event').where({ entity_type: T }).orderBy('id')).map((r) => Number(r.id));
   expect(ids.length).toBe(6);
 });
@@ -60,7 +69,12 @@ describe('chain check from the UI', () => {
     const res = await auditor.get('/api/audit/verify');
     expect(res.status).toBe(200);
     const head = await db()('audit_head').where({ id: 1 }).first();
-    expect(res.body).toEqual({ ok: true, events: Number(head.last_id), lastId: Number(head.last_id), lastHash: head.last_hash });
+    expect(res.body).toEqual({
+      ok: true,
+      events: Number(head.last_id),
+      lastId: Number(head.last_id),
+      lastHash: head.last_hash,
+    });
   });
 
   it('names the first of two altered events, and the problem', async () => {
@@ -72,7 +86,12 @@ describe('chain check from the UI', () => {
         await owner('audit_event').where({ id: ids[1] }).update({ after_json: '{"i":99}' });
       });
       const res = await auditor.get('/api/audit/verify');
-      expect(res.body).toMatchObject({ ok: false, brokenAt: ids[1], problem: 'content does not match its hash (altered)', found: a.hash });
+      expect(res.body).toMatchObject({
+        ok: false,
+        brokenAt: ids[1],
+        problem: 'content does not match its hash (altered)',
+        found: a.hash,
+      });
       expect(res.body.events).toBe(ids[1] - 1); // events before the break check out
     } finally {
       await restore(a);
@@ -86,9 +105,17 @@ describe('chain check from the UI', () => {
     try {
       const forged = { ...a, reason: 'quietly rewritten' };
       const { hash: _old, ...content } = forged;
-      await withoutTrigger('update', () => owner('audit_event').where({ id: ids[2] }).update({ reason: forged.reason, hash: rowHash(content) }));
+      await withoutTrigger('update', () =>
+        owner('audit_event')
+          .where({ id: ids[2] })
+          .update({ reason: forged.reason, hash: rowHash(content) }),
+      );
       const res = await auditor.get('/api/audit/verify');
-      expect(res.body).toMatchObject({ ok: false, brokenAt: ids[3], problem: 'link to the previous event does not match' });
+      expect(res.body).toMatchObject({
+        ok: false,
+        brokenAt: ids[3],
+        problem: 'link to the previous event does not match',
+      });
     } finally {
       await restore(a);
     }

@@ -19,7 +19,8 @@ let other: { user: { username: string; password: string } };
 const owner = ownerDb();
 afterAll(() => owner.destroy());
 
-const approve = (agent: Agent, methodId: number, signature: Record<string, string>) => agent.post(`/api/methods/${methodId}/approve`).send({ signature });
+const approve = (agent: Agent, methodId: number, signature: Record<string, string>) =>
+  agent.post(`/api/methods/${methodId}/approve`).send({ signature });
 
 beforeAll(async () => {
   ({ agent: author } = await agentFor(['qa_manager']));
@@ -35,15 +36,26 @@ describe('two components at the first signing of a session, the password after (
     const first = await approve(signer.agent, m1.draftMethodId, { password: signer.user.password });
     expect(first.status).toBe(401);
     expect(first.body.error).toMatchObject({ code: 'SIGNATURE_REFUSED', details: { needsUsername: true } });
-    const refused = await db()('audit_event').where({ action: 'signature.refused', entity_type: 'identity_method', entity_id: String(m1.draftMethodId) });
+    const refused = await db()('audit_event').where({
+      action: 'signature.refused',
+      entity_type: 'identity_method',
+      entity_id: String(m1.draftMethodId),
+    });
     expect(refused).toHaveLength(1);
     expect(refused[0].actor_id).toBe(signer.user.id);
-    expect(await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m1.draftMethodId) })).toHaveLength(0);
+    expect(
+      await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m1.draftMethodId) }),
+    ).toHaveLength(0);
 
     const before = Date.now();
-    const ok = await approve(signer.agent, m1.draftMethodId, { username: signer.user.username, password: signer.user.password });
+    const ok = await approve(signer.agent, m1.draftMethodId, {
+      username: signer.user.username,
+      password: signer.user.password,
+    });
     expect(ok.status).toBe(200);
-    const s = await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m1.draftMethodId) }).first();
+    const s = await db()('e_signature')
+      .where({ entity_type: 'identity_method', entity_id: String(m1.draftMethodId) })
+      .first();
     // 11.50: printed name, meaning, date and time (UTC, server clock)
     expect(s).toMatchObject({ user_id: signer.user.id, printed_name: signer.user.fullName, meaning: 'approved' });
     expect(Math.abs(new Date(s.signed_at).getTime() - before)).toBeLessThan(10_000);
@@ -59,7 +71,10 @@ describe('two components at the first signing of a session, the password after (
 
     // a new session starts over: both components again
     const fresh = request.agent(testApp());
-    expect((await fresh.post('/api/auth/sign-in').send({ username: signer.user.username, password: signer.user.password })).status).toBe(200);
+    expect(
+      (await fresh.post('/api/auth/sign-in').send({ username: signer.user.username, password: signer.user.password }))
+        .status,
+    ).toBe(200);
     const again = await approve(fresh, m3.draftMethodId, { password: signer.user.password });
     expect(again.status).toBe(401);
     expect(again.body.error.details).toMatchObject({ needsUsername: true });
@@ -68,28 +83,51 @@ describe('two components at the first signing of a session, the password after (
   it("a signature cannot be given in one's session with another person's user name and password", async () => {
     const m = await createMaterial(author, 'Esign control four');
     const fresh = request.agent(testApp());
-    expect((await fresh.post('/api/auth/sign-in').send({ username: signer.user.username, password: signer.user.password })).status).toBe(200);
+    expect(
+      (await fresh.post('/api/auth/sign-in').send({ username: signer.user.username, password: signer.user.password }))
+        .status,
+    ).toBe(200);
     const res = await approve(fresh, m.draftMethodId, { username: other.user.username, password: other.user.password });
     expect(res.status).toBe(401);
-    expect(await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m.draftMethodId) })).toHaveLength(0);
+    expect(
+      await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m.draftMethodId) }),
+    ).toHaveLength(0);
   });
 });
 
 describe('signatures stay with their record (21 CFR 11.50, 11.70; Annex 11 §14)', () => {
   it('is shown with the record (history) and cannot be changed or moved to another record, even by the owner account', async () => {
     const m = await createMaterial(author, 'Esign control five');
-    expect((await approve(signer.agent, m.draftMethodId, { username: signer.user.username, password: signer.user.password })).status).toBe(200);
-    const s = await db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(m.draftMethodId) }).first();
+    expect(
+      (await approve(signer.agent, m.draftMethodId, { username: signer.user.username, password: signer.user.password }))
+        .status,
+    ).toBe(200);
+    const s = await db()('e_signature')
+      .where({ entity_type: 'identity_method', entity_id: String(m.draftMethodId) })
+      .first();
 
     const { agent: auditor } = await agentFor(['auditor']);
     const h = await auditor.get(`/api/history/identity_method/${m.draftMethodId}`);
     expect(h.status).toBe(200);
-    expect(h.body.signatures).toEqual([expect.objectContaining({ id: s.id, printedName: signer.user.fullName, meaning: 'approved', contentHash: s.content_hash })]);
-    expect(h.body.events.map((e: { action: string }) => e.action)).toEqual(expect.arrayContaining(['signature.signed', 'method.approved']));
+    expect(h.body.signatures).toEqual([
+      expect.objectContaining({
+        id: s.id,
+        printedName: signer.user.fullName,
+        meaning: 'approved',
+        contentHash: s.content_hash,
+      }),
+    ]);
+    expect(h.body.events.map((e: { action: string }) => e.action)).toEqual(
+      expect.arrayContaining(['signature.signed', 'method.approved']),
+    );
 
     // moving the signature to another record: the runtime account lacks the privilege, the owner meets the trigger
-    await expect(db()('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({ errno: 1142 });
-    await expect(owner('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({ errno: 1644 });
+    await expect(db()('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
+      errno: 1142,
+    });
+    await expect(owner('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
+      errno: 1644,
+    });
     await expect(owner('e_signature').where({ id: s.id }).delete()).rejects.toMatchObject({ errno: 1644 });
     expect((await db()('e_signature').where({ id: s.id }).first()).entity_id).toBe(String(m.draftMethodId));
   });

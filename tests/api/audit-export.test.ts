@@ -21,7 +21,11 @@ beforeAll(async () => {
   const filler = 'x'.repeat(400);
   const t = performance.now();
   // a few events first, so that the 100,000 below cannot all fit the first text-search window of the trail
-  await seedEvents(20, () => ({ actor: { id: null, name: 'bulk export test' }, action: 'test.bulk-before', entityType: `${E}_pre` }));
+  await seedEvents(20, () => ({
+    actor: { id: null, name: 'bulk export test' },
+    action: 'test.bulk-before',
+    entityType: `${E}_pre`,
+  }));
   await seedEvents(
     N,
     (i) => ({
@@ -59,45 +63,57 @@ describe('export of 100,000 events', () => {
     // Count the page queries the export runs against audit_event.
     let pageQueries = 0;
     const onQuery = (q: { sql: string }) => {
-      if (/from `audit_event`/i.test(q.sql) && /limit \?/i.test(q.sql) && /`entity_type` = \?/.test(q.sql)) pageQueries++;
+      if (/from `audit_event`/i.test(q.sql) && /limit \?/i.test(q.sql) && /`entity_type` = \?/.test(q.sql))
+        pageQueries++;
     };
     db().on('query', onQuery);
     const heapStart = process.memoryUsage().heapUsed;
     let heapPeak = heapStart;
     try {
-      const result = await new Promise<{ bytes: number; chunks: number; pagesWhilePaused: number; lines: string[]; ids: number[]; status: number }>((resolve, reject) => {
-        const req = http.get(`${base}/api/audit/export.csv?entityType=${E}&sort=asc`, { headers: { Cookie: cookie } }, (res) => {
-          let bytes = 0;
-          let chunks = 0;
-          let pagesWhilePaused = -1;
-          let tail = '';
-          const lines: string[] = [];
-          const ids: number[] = [];
-          res.setEncoding('utf8');
-          res.on('data', (c: string) => {
-            bytes += Buffer.byteLength(c);
-            chunks++;
-            heapPeak = Math.max(heapPeak, process.memoryUsage().heapUsed);
-            // keep only the event ids, not the data
-            const parts = (tail + c).split('\r\n');
-            tail = parts.pop()!;
-            for (const l of parts) {
-              const m = /^(\d+),/.exec(l);
-              if (m) ids.push(Number(m[1]));
-              else if (lines.length < 10) lines.push(l);
-            }
-            if (chunks === 1) {
-              // Stop reading for a while: back-pressure must stop the server's page queries.
-              res.pause();
-              setTimeout(() => {
-                pagesWhilePaused = pageQueries;
-                res.resume();
-              }, 1500);
-            }
-          });
-          res.on('end', () => resolve({ bytes, chunks, pagesWhilePaused, lines, ids, status: res.statusCode ?? 0 }));
-          res.on('error', reject);
-        });
+      const result = await new Promise<{
+        bytes: number;
+        chunks: number;
+        pagesWhilePaused: number;
+        lines: string[];
+        ids: number[];
+        status: number;
+      }>((resolve, reject) => {
+        const req = http.get(
+          `${base}/api/audit/export.csv?entityType=${E}&sort=asc`,
+          { headers: { Cookie: cookie } },
+          (res) => {
+            let bytes = 0;
+            let chunks = 0;
+            let pagesWhilePaused = -1;
+            let tail = '';
+            const lines: string[] = [];
+            const ids: number[] = [];
+            res.setEncoding('utf8');
+            res.on('data', (c: string) => {
+              bytes += Buffer.byteLength(c);
+              chunks++;
+              heapPeak = Math.max(heapPeak, process.memoryUsage().heapUsed);
+              // keep only the event ids, not the data
+              const parts = (tail + c).split('\r\n');
+              tail = parts.pop()!;
+              for (const l of parts) {
+                const m = /^(\d+),/.exec(l);
+                if (m) ids.push(Number(m[1]));
+                else if (lines.length < 10) lines.push(l);
+              }
+              if (chunks === 1) {
+                // Stop reading for a while: back-pressure must stop the server's page queries.
+                res.pause();
+                setTimeout(() => {
+                  pagesWhilePaused = pageQueries;
+                  res.resume();
+                }, 1500);
+              }
+            });
+            res.on('end', () => resolve({ bytes, chunks, pagesWhilePaused, lines, ids, status: res.statusCode ?? 0 }));
+            res.on('error', reject);
+          },
+        );
         req.on('error', reject);
       });
       expect(result.status).toBe(200);
@@ -107,7 +123,8 @@ describe('export of 100,000 events', () => {
       );
       // every event once, in order
       expect(result.ids.length).toBe(N);
-      for (let i = 1; i < result.ids.length; i++) if (result.ids[i] !== result.ids[i - 1] + 1) throw new Error(`event order broken at ${i}`);
+      for (let i = 1; i < result.ids.length; i++)
+        if (result.ids[i] !== result.ids[i - 1] + 1) throw new Error(`event order broken at ${i}`);
       expect(result.lines.some((l) => l.includes(`# Filter: record type ""${E}""; sorted oldest first`))).toBe(true); // quotes doubled inside the quoted field
       // streamed: many chunks, paged queries, and while the client read nothing only a few pages were fetched
       expect(result.bytes).toBeGreaterThan(N * 900);
@@ -123,7 +140,10 @@ describe('export of 100,000 events', () => {
   }, 300_000);
 
   it('the first page counts at most 10,000 and says "more than"', async () => {
-    const res = await request(testApp()).get('/api/audit/events').set('Cookie', cookie).query({ entityType: E, limit: 10 });
+    const res = await request(testApp())
+      .get('/api/audit/events')
+      .set('Cookie', cookie)
+      .query({ entityType: E, limit: 10 });
     expect(res.status).toBe(200);
     expect(res.body.total).toEqual({ count: 10_000, exact: false });
     expect(res.body.events.length).toBe(10);
@@ -167,8 +187,13 @@ describe('export of 100,000 events', () => {
       });
     expect(res.status).toBe(200);
     const { execFileSync } = await import('node:child_process');
-    const text = execFileSync('pdftotext', ['-', '-'], { input: res.body as Buffer, maxBuffer: 64 * 1024 * 1024 }).toString();
-    expect(text.replace(/\s+/g, ' ')).toMatch(/This report lists the first 2,000 of more than 10,000 matching events\. The CSV export of the same filter contains every event\./);
+    const text = execFileSync('pdftotext', ['-', '-'], {
+      input: res.body as Buffer,
+      maxBuffer: 64 * 1024 * 1024,
+    }).toString();
+    expect(text.replace(/\s+/g, ' ')).toMatch(
+      /This report lists the first 2,000 of more than 10,000 matching events\. The CSV export of the same filter contains every event\./,
+    );
     expect(text).toMatch(/Page \d+ of \d+/);
   }, 120_000);
 });

@@ -37,10 +37,19 @@ let uB: { id: number; fullName: string };
 let seeded: Ev[] = []; // oldest first
 
 function reasonOf(i: number): string | null {
-  return [`calibration drift corrected, "ref" ${i}`, 'label misprint\nsecond line', null, 'part of the re-measure plan'][i % 4];
+  return [
+    `calibration drift corrected, "ref" ${i}`,
+    'label misprint\nsecond line',
+    null,
+    'part of the re-measure plan',
+  ][i % 4];
 }
 
-async function allPages(agent: Agent, query: Record<string, string | number>, limit: number): Promise<{ ids: number[]; pages: number; firstTotal: unknown }> {
+async function allPages(
+  agent: Agent,
+  query: Record<string, string | number>,
+  limit: number,
+): Promise<{ ids: number[]; pages: number; firstTotal: unknown }> {
   const ids: number[] = [];
   let cursor: string | null = null;
   let pages = 0;
@@ -98,7 +107,12 @@ describe('filters and sorting', () => {
     const asc = await auditor.get('/api/audit/events').query({ entityType: T, sort: 'asc', limit: 200 });
     expect(asc.body.events.map((e: Ev) => e.id)).toEqual(seeded.map((e) => e.id));
     // summaries carry the columns the table shows
-    expect(asc.body.events[0]).toMatchObject({ actorName: expect.any(String), action: seeded[0].action, entityId: '0', ip: '127.0.0.1' });
+    expect(asc.body.events[0]).toMatchObject({
+      actorName: expect.any(String),
+      action: seeded[0].action,
+      entityId: '0',
+      ip: '127.0.0.1',
+    });
   });
 
   it('user (actor), entity id, exact action and action prefix', async () => {
@@ -115,7 +129,10 @@ describe('filters and sorting', () => {
       expect(res.status, JSON.stringify(q)).toBe(200);
       const want = seeded.filter(keep).map((e) => e.id);
       expect(want.length, JSON.stringify(q)).toBeGreaterThan(0);
-      expect(res.body.events.map((e: Ev) => e.id), JSON.stringify(q)).toEqual(want);
+      expect(
+        res.body.events.map((e: Ev) => e.id),
+        JSON.stringify(q),
+      ).toEqual(want);
       expect(res.body.total, JSON.stringify(q)).toEqual({ count: want.length, exact: true });
     }
     // an action filter alone (no record type) finds them too: the names are private to this test
@@ -156,7 +173,9 @@ describe('filters and sorting', () => {
       const d = new Date(new Date(iso).getTime() + 2 * 3600_000);
       return d.toISOString().replace('Z', '+02:00');
     };
-    const res2 = await auditor.get('/api/audit/events').query({ entityType: T, from: shift(from), to: shift(to), sort: 'asc', limit: 200 });
+    const res2 = await auditor
+      .get('/api/audit/events')
+      .query({ entityType: T, from: shift(from), to: shift(to), sort: 'asc', limit: 200 });
     expect(res2.body.events.map((e: Ev) => e.id)).toEqual(seeded.slice(5, 12).map((e) => e.id));
   });
 });
@@ -175,7 +194,12 @@ describe('keyset pagination', () => {
     const S = privateEntityType('tie');
     const t = new Date(Date.now() + 5);
     const { bulkAppendAudit } = await import('../../server/modules/audit/bulk');
-    await bulkAppendAudit(db(), 3, () => ({ occurredAt: t, actor: { id: null, name: 'test' }, action: 'test.tie', entityType: S }));
+    await bulkAppendAudit(db(), 3, () => ({
+      occurredAt: t,
+      actor: { id: null, name: 'test' },
+      action: 'test.tie',
+      entityType: S,
+    }));
     const rows = await db()('audit_event').where({ entity_type: S }).orderBy('id');
     expect(new Set(rows.map((r) => new Date(r.occurred_at).getTime())).size).toBe(1);
     for (const sort of ['asc', 'desc'] as const) {
@@ -188,7 +212,9 @@ describe('keyset pagination', () => {
   it('refuses a forged cursor and a reversed date range with 400', async () => {
     const bad = await auditor.get('/api/audit/events').query({ cursor: 'not-a-cursor' });
     expect(bad.status).toBe(400);
-    const rev = await auditor.get('/api/audit/events').query({ from: '2026-02-01T00:00:00Z', to: '2026-01-01T00:00:00Z' });
+    const rev = await auditor
+      .get('/api/audit/events')
+      .query({ from: '2026-02-01T00:00:00Z', to: '2026-01-01T00:00:00Z' });
     expect(rev.status).toBe(400);
     const badAction = await auditor.get('/api/audit/events').query({ action: "x' OR 1=1" });
     expect(badAction.status).toBe(400);
@@ -206,7 +232,10 @@ describe('event detail', () => {
     expect(res.body.after).toEqual({ status: 'approved', n: 1, tags: ['a', 'b'], note: 'new' });
     const byPath = Object.fromEntries(res.body.changes.map((c: { path: string; kind: string }) => [c.path, c.kind]));
     expect(byPath).toEqual({ status: 'changed', n: 'unchanged', tags: 'changed', note: 'added' }); // arrays of plain values compare whole
-    expect(res.body.changes.find((c: { path: string }) => c.path === 'tags')).toMatchObject({ before: ['a'], after: ['a', 'b'] });
+    expect(res.body.changes.find((c: { path: string }) => c.path === 'tags')).toMatchObject({
+      before: ['a'],
+      after: ['a', 'b'],
+    });
     expect(res.body.hash).toMatch(/^[0-9a-f]{64}$/);
     expect(res.body.prevHash).toMatch(/^[0-9a-f]{64}$/);
     expect((await qa.get('/api/audit/events/999999999')).status).toBe(404);
@@ -216,7 +245,13 @@ describe('event detail', () => {
 describe('who sees the trail', () => {
   it.each(['operator', 'verifier'] as const)('%s gets 403 on the browser, the detail and the exports', async (role) => {
     const { agent } = await agentFor([role]);
-    for (const p of ['/api/audit/events', `/api/audit/events/${seeded[0].id}`, '/api/audit/facets', '/api/audit/export.csv', '/api/audit/export.pdf'])
+    for (const p of [
+      '/api/audit/events',
+      `/api/audit/events/${seeded[0].id}`,
+      '/api/audit/facets',
+      '/api/audit/export.csv',
+      '/api/audit/export.pdf',
+    ])
       expect((await agent.get(p)).status, p).toBe(403);
   });
 
@@ -261,7 +296,15 @@ describe('record history', () => {
     expect(res.body.events.map((e: Ev) => e.id)).toEqual(seeded.filter((_e, i) => i % 5 === 2).map((e) => e.id));
     expect(res.body.events[0].after).toMatchObject({ status: 'approved' });
     expect(res.body.signatures).toEqual([
-      { id: sigId, userId: uB.id, printedName: uB.fullName, meaning: 'approved', signedAt: sigAt.toISOString(), contentHash: 'a'.repeat(64), statement: 'looks right' },
+      {
+        id: sigId,
+        userId: uB.id,
+        printedName: uB.fullName,
+        meaning: 'approved',
+        signedAt: sigAt.toISOString(),
+        contentHash: 'a'.repeat(64),
+        statement: 'looks right',
+      },
     ]);
     expect(res.body.truncated).toBe(false);
     const none = await auditor.get(`/api/history/${T}/no-such-record`);
@@ -272,7 +315,9 @@ describe('record history', () => {
   it('account history: administrators and auditors yes, operators no; administrators see no GMP record history', async () => {
     const u = await makeUser(['operator']);
     const { agent } = await agentFor(['admin']);
-    const upd = await agent.patch(`/api/users/${u.id}`).send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
+    const upd = await agent
+      .patch(`/api/users/${u.id}`)
+      .send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
     expect(upd.status).toBe(200);
     const h = await agent.get(`/api/history/user/${u.id}`);
     expect(h.status).toBe(200);
@@ -285,12 +330,16 @@ describe('record history', () => {
 
 describe('exports', () => {
   it('CSV: the filter stated on top, RFC 4180 quoting, every matching event, and the export audited', async () => {
-    const res = await auditor.get('/api/audit/export.csv').query({ entityType: T, sort: 'asc' }).buffer(true).parse((r, cb) => {
-      let s = '';
-      r.setEncoding('utf8');
-      r.on('data', (c: string) => (s += c));
-      r.on('end', () => cb(null, s));
-    });
+    const res = await auditor
+      .get('/api/audit/export.csv')
+      .query({ entityType: T, sort: 'asc' })
+      .buffer(true)
+      .parse((r, cb) => {
+        let s = '';
+        r.setEncoding('utf8');
+        r.on('data', (c: string) => (s += c));
+        r.on('end', () => cb(null, s));
+      });
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toMatch(/^text\/csv/);
     expect(res.headers['content-disposition']).toMatch(/attachment; filename="audit-trail-\d{8}T\d{6}Z\.csv"/);
@@ -301,7 +350,21 @@ describe('exports', () => {
     expect(comments.join('\n')).toContain(`record type "${T}"`);
     expect(comments.join('\n')).toContain('sorted oldest first');
     const header = rows.find((r) => r[0] === 'event_id')!;
-    expect(header).toEqual(['event_id', 'occurred_at_utc', 'actor_id', 'actor_name', 'action', 'entity_type', 'entity_id', 'reason', 'before', 'after', 'ip', 'prev_hash', 'hash']);
+    expect(header).toEqual([
+      'event_id',
+      'occurred_at_utc',
+      'actor_id',
+      'actor_name',
+      'action',
+      'entity_type',
+      'entity_id',
+      'reason',
+      'before',
+      'after',
+      'ip',
+      'prev_hash',
+      'hash',
+    ]);
     const data = rows.slice(rows.indexOf(header) + 1);
     expect(data.length).toBe(N);
     expect(data.map((r) => Number(r[0]))).toEqual(seeded.map((e) => e.id));
@@ -310,17 +373,23 @@ describe('exports', () => {
       expect(r[7]).toBe(reasonOf(i) ?? ''); // commas, quotes and line breaks survive the round trip
       expect(JSON.parse(r[9])).toMatchObject({ n: i });
     });
-    const ev = await db()('audit_event').where({ id: Number(res.headers['x-audit-export-event']) }).first();
+    const ev = await db()('audit_event')
+      .where({ id: Number(res.headers['x-audit-export-event']) })
+      .first();
     expect(ev.action).toBe('audit.exported');
     expect(JSON.parse(ev.after_json)).toMatchObject({ format: 'csv', filter: { entityType: T, sort: 'asc' } });
   });
 
   it('PDF: the filter stated, page x of y, the events listed, and the export audited', async () => {
-    const res = await auditor.get('/api/audit/export.pdf').query({ entityType: T, sort: 'asc' }).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await auditor
+      .get('/api/audit/export.pdf')
+      .query({ entityType: T, sort: 'asc' })
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     const pdf = res.body as Buffer;
@@ -336,9 +405,15 @@ describe('exports', () => {
     expect(text).toContain('misprint');
     expect(text).toContain(`shown in the site time zone ${SITE_ZONE}`); // times named in the site zone
     // the first event's time in the site zone, computed here with Intl's Swedish format (YYYY-MM-DD hh:mm:ss)
-    const local = new Intl.DateTimeFormat('sv-SE', { timeZone: SITE_ZONE, dateStyle: 'short', timeStyle: 'medium' }).format(new Date(seeded[0].occurredAt));
+    const local = new Intl.DateTimeFormat('sv-SE', {
+      timeZone: SITE_ZONE,
+      dateStyle: 'short',
+      timeStyle: 'medium',
+    }).format(new Date(seeded[0].occurredAt));
     expect(text).toContain(local);
-    const ev = await db()('audit_event').where({ id: Number(res.headers['x-audit-export-event']) }).first();
+    const ev = await db()('audit_event')
+      .where({ id: Number(res.headers['x-audit-export-event']) })
+      .first();
     expect(ev.action).toBe('audit.exported');
     expect(JSON.parse(ev.after_json)).toMatchObject({ format: 'pdf', filter: { entityType: T } });
   });

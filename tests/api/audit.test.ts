@@ -10,14 +10,20 @@ const owner = ownerDb();
 afterAll(() => owner.destroy());
 beforeAll(async () => {
   // at least one event, so that the statements below have rows to touch
-  await db().transaction((trx) => appendAudit(trx, { actor: { id: null, name: 'test' }, action: 'test.seed', entityType: 'test', entityId: 0 }));
+  await db().transaction((trx) =>
+    appendAudit(trx, { actor: { id: null, name: 'test' }, action: 'test.seed', entityType: 'test', entityId: 0 }),
+  );
 });
 
 describe('append-only audit table (runtime account)', () => {
   // The runtime account lacks the privilege (errno 1142); even the owner account is stopped by the triggers (errno 1644).
   it('rejects UPDATE', async () => {
-    await expect(db()('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({ errno: 1142 });
-    await expect(owner('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({ errno: 1644 });
+    await expect(db()('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({
+      errno: 1142,
+    });
+    await expect(owner('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({
+      errno: 1644,
+    });
   });
   it('rejects DELETE', async () => {
     await expect(db()('audit_event').delete().where('id', '>', 0)).rejects.toMatchObject({ errno: 1142 });
@@ -37,7 +43,16 @@ describe('append-only audit table (runtime account)', () => {
 describe('hash chain', () => {
   it('is intact after normal work, and the check reports the first altered event after tampering', async () => {
     const { agent } = await agentFor(['auditor']);
-    await db().transaction((trx) => appendAudit(trx, { actor: { id: null, name: 'test' }, action: 'test.event', entityType: 'test', entityId: 1, after: { a: 1 }, reason: 'original' }));
+    await db().transaction((trx) =>
+      appendAudit(trx, {
+        actor: { id: null, name: 'test' },
+        action: 'test.event',
+        entityType: 'test',
+        entityId: 1,
+        after: { a: 1 },
+        reason: 'original',
+      }),
+    );
     const ok = await agent.get('/api/audit/verify');
     expect(ok.status).toBe(200);
     expect(ok.body.ok).toBe(true);
@@ -74,7 +89,14 @@ describe('hash chain', () => {
   it('concurrent appends keep one unbroken chain', async () => {
     await Promise.all(
       Array.from({ length: 20 }, (_, i) =>
-        db().transaction((trx) => appendAudit(trx, { actor: { id: null, name: 'test' }, action: 'test.parallel', entityType: 'test', entityId: i })),
+        db().transaction((trx) =>
+          appendAudit(trx, {
+            actor: { id: null, name: 'test' },
+            action: 'test.parallel',
+            entityType: 'test',
+            entityId: i,
+          }),
+        ),
       ),
     );
     const report = await verifyChain(db());
@@ -85,12 +107,22 @@ describe('hash chain', () => {
 describe('user administration is audited with before and after values', () => {
   it('records a role change with old and new roles and the reason', async () => {
     const { agent: admin } = await agentFor(['admin']);
-    const created = await admin.post('/api/users').send({ username: `rolechg${Date.now() % 100000}`, fullName: 'Role Change', email: 'rc@test.example', roles: ['operator'], temporaryPassword: 'temporary-password-1' });
+    const created = await admin.post('/api/users').send({
+      username: `rolechg${Date.now() % 100000}`,
+      fullName: 'Role Change',
+      email: 'rc@test.example',
+      roles: ['operator'],
+      temporaryPassword: 'temporary-password-1',
+    });
     expect(created.status).toBe(201);
     const id = created.body.id;
-    const upd = await admin.patch(`/api/users/${id}`).send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
+    const upd = await admin
+      .patch(`/api/users/${id}`)
+      .send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
     expect(upd.status).toBe(200);
-    const ev = await db()('audit_event').where({ entity_type: 'user', entity_id: String(id), action: 'user.roles-changed' }).first();
+    const ev = await db()('audit_event')
+      .where({ entity_type: 'user', entity_id: String(id), action: 'user.roles-changed' })
+      .first();
     expect(JSON.parse(ev.before_json).roles).toEqual(['operator']);
     expect(JSON.parse(ev.after_json).roles).toEqual(['operator', 'verifier']);
     expect(ev.reason).toBe('trained as verifier');

@@ -23,7 +23,8 @@ type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
  * fails the test) and is exercised below.
  */
 const AUDITOR_MAY_WRITE: Record<string, string> = {
-  'post /api/auth/sign-in': 'Public by nature: the auditor has to sign in. Creates a session and an audit event; changes no record.',
+  'post /api/auth/sign-in':
+    'Public by nature: the auditor has to sign in. Creates a session and an audit event; changes no record.',
   'post /api/auth/sign-out': "Ends the auditor's own session (and writes its audit event); changes no record.",
   'post /api/auth/password':
     "Changes the auditor's own password, as 21 CFR 11.300 expects of every account (periodic revision, first sign-in); changes no GMP record.",
@@ -33,13 +34,15 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
 
 /** Read routes closed to auditors, each with why (everything else must be open to them). */
 const NOT_FOR_AUDITORS: Record<string, string> = {
-  'get /api/users': "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
+  'get /api/users':
+    "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
   'get /api/users/:id': 'As above.',
   'get /api/dev/mail': 'Development-only capture of outgoing mail; not a record.',
   'get /api/mail/outbox': 'Mail delivery queue for the administrator; not a GMP record.',
   'get /api/certificates/signing-identity':
     "Key management of the site's signing certificate (administrator). The signer of each certificate is shown by certificate verification, which auditors use.",
-  'get /api/verification/queue': "A verifier's own to-do list (tests that this verifier may verify); the tests themselves are open to auditors.",
+  'get /api/verification/queue':
+    "A verifier's own to-do list (tests that this verifier may verify); the tests themselves are open to auditors.",
 };
 
 /** Query values a GET route needs to stay small in this sweep (the route is still requested). */
@@ -57,10 +60,13 @@ interface Mounted {
 /** Walks Express's router stack (not our registry), so a route added any other way is seen too. */
 function mountedRoutes(): Mounted[] {
   const out: Mounted[] = [];
-  const walk = (stack: { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: unknown[] } }[]) => {
+  const walk = (
+    stack: { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: unknown[] } }[],
+  ) => {
     for (const layer of stack) {
       if (layer.route) {
-        for (const m of Object.keys(layer.route.methods)) if (m !== '_all') out.push({ method: m, path: layer.route.path, key: `${m} ${layer.route.path}` });
+        for (const m of Object.keys(layer.route.methods))
+          if (m !== '_all') out.push({ method: m, path: layer.route.path, key: `${m} ${layer.route.path}` });
       } else if (layer.handle?.stack) walk(layer.handle.stack as never);
     }
   };
@@ -86,7 +92,8 @@ describe('the route list', () => {
     const keys = new Set(routes.map((r) => r.key));
     const registry = new Set(routeRegistry.map((d) => `${d.method} ${d.path}`));
     expect([...keys].sort()).toEqual([...registry].sort());
-    for (const k of [...Object.keys(AUDITOR_MAY_WRITE), ...Object.keys(NOT_FOR_AUDITORS)]) expect(keys.has(k), `${k} is listed as an exception but no longer exists`).toBe(true);
+    for (const k of [...Object.keys(AUDITOR_MAY_WRITE), ...Object.keys(NOT_FOR_AUDITORS)])
+      expect(keys.has(k), `${k} is listed as an exception but no longer exists`).toBe(true);
     expect(routes.filter((r) => r.method !== 'get').length).toBeGreaterThan(20);
   });
 });
@@ -97,8 +104,11 @@ describe('an auditor-only account cannot write', () => {
     const headBefore = await db()('audit_head').where({ id: 1 }).first();
     const wrong: string[] = [];
     for (const r of writes) {
-      const res = await (auditor as unknown as Record<string, (u: string) => request.Test>)[r.method](urlOf(r.path)).send({});
-      if (res.status !== 403 || res.body?.error?.code !== 'FORBIDDEN') wrong.push(`${r.key} -> ${res.status} ${res.body?.error?.code ?? ''}`);
+      const res = await (auditor as unknown as Record<string, (u: string) => request.Test>)
+        [r.method](urlOf(r.path))
+        .send({});
+      if (res.status !== 403 || res.body?.error?.code !== 'FORBIDDEN')
+        wrong.push(`${r.key} -> ${res.status} ${res.body?.error?.code ?? ''}`);
     }
     expect(wrong, 'write routes an auditor could call').toEqual([]);
     // Every write in Drumline is audited: an unchanged head means nothing was written.
@@ -116,7 +126,9 @@ describe('an auditor-only account cannot write', () => {
       if (def.access === 'public' || def.access === 'authenticated') continue; // must be an exception, or the test above fails
       const role = def.access.roles[0];
       if (!agents.has(role)) agents.set(role, (await agentFor([role])).agent);
-      const res = await (agents.get(role) as unknown as Record<string, (u: string) => request.Test>)[r.method](urlOf(r.path)).send({});
+      const res = await (agents.get(role) as unknown as Record<string, (u: string) => request.Test>)
+        [r.method](urlOf(r.path))
+        .send({});
       checked++;
       if (res.status === 403 && res.body?.error?.code === 'FORBIDDEN') refused.push(`${r.key} refused for ${role}`);
       if (res.status === 401) refused.push(`${r.key} -> 401 for ${role}`);
@@ -134,17 +146,24 @@ describe('the exceptions do what their reason says', () => {
   it('sign-in and sign-out work for an auditor', async () => {
     const u = await makeUser(['auditor']);
     const agent = request.agent(testApp());
-    expect((await agent.post('/api/auth/sign-in').send({ username: u.username, password: u.password })).status).toBe(200);
+    expect((await agent.post('/api/auth/sign-in').send({ username: u.username, password: u.password })).status).toBe(
+      200,
+    );
     expect((await agent.post('/api/auth/sign-out')).status).toBe(204);
     expect((await agent.get('/api/auth/me')).status).toBe(401);
   });
 
   it('an auditor changes their own password', async () => {
     const { agent, user } = await agentFor(['auditor']);
-    const res = await agent.post('/api/auth/password').send({ currentPassword: user.password, newPassword: 'auditor-new-password-2026' });
+    const res = await agent
+      .post('/api/auth/password')
+      .send({ currentPassword: user.password, newPassword: 'auditor-new-password-2026' });
     expect(res.status).toBe(204);
     const again = request.agent(testApp());
-    expect((await again.post('/api/auth/sign-in').send({ username: user.username, password: 'auditor-new-password-2026' })).status).toBe(200);
+    expect(
+      (await again.post('/api/auth/sign-in').send({ username: user.username, password: 'auditor-new-password-2026' }))
+        .status,
+    ).toBe(200);
   });
 });
 
@@ -154,7 +173,8 @@ describe('an auditor can open every record', () => {
     const closed: string[] = [];
     for (const r of reads) {
       const res = await auditor.get(urlOf(r.path)).query(SWEEP_QUERY[r.key] ?? {});
-      if (res.status === 401 || res.status === 403) closed.push(`${r.key} -> ${res.status} ${res.body?.error?.code ?? ''}`);
+      if (res.status === 401 || res.status === 403)
+        closed.push(`${r.key} -> ${res.status} ${res.body?.error?.code ?? ''}`);
     }
     expect(closed, 'read routes closed to auditors').toEqual([]);
     // and the listed exceptions are indeed closed (so the list does not hide an open route)
@@ -162,18 +182,27 @@ describe('an auditor can open every record', () => {
       const res = await auditor.get(urlOf(k.slice(4)));
       expect([403, 404], k).toContain(res.status);
     }
-    console.log(`[auditor-readonly] ${reads.length} read routes open, ${Object.keys(NOT_FOR_AUDITORS).length} closed with a reason`);
+    console.log(
+      `[auditor-readonly] ${reads.length} read routes open, ${Object.keys(NOT_FOR_AUDITORS).length} closed with a reason`,
+    );
   });
 });
 
 describe('an auditor downloads raw spectrum files and certificates', () => {
   const fixtures = path.join(path.dirname(new URL(import.meta.url).pathname), 'fixtures-certificates.ts');
-  const needed = ['get /api/measurements/:id/file', 'get /api/references/:id/file', 'get /api/instruments/:id/checks/:checkId/file', 'get /api/certificates/:id/pdf'];
+  const needed = [
+    'get /api/measurements/:id/file',
+    'get /api/references/:id/file',
+    'get /api/instruments/:id/checks/:checkId/file',
+    'get /api/certificates/:id/pdf',
+  ];
 
   it('raw files byte for byte (SHA-256 as stored), the signed certificate PDF, and its verification by upload', async () => {
     const missing = needed.filter((k) => !routes.some((r) => r.key === k));
     if (missing.length || !fs.existsSync(fixtures)) {
-      console.warn(`[auditor-readonly] SKIPPED downloads: routes not mounted yet: ${missing.join(', ') || '(none)'}; fixtures present: ${fs.existsSync(fixtures)}`);
+      console.warn(
+        `[auditor-readonly] SKIPPED downloads: routes not mounted yet: ${missing.join(', ') || '(none)'}; fixtures present: ${fs.existsSync(fixtures)}`,
+      );
       return;
     }
     const { createPassedLot } = await import('./fixtures-certificates');
@@ -202,12 +231,19 @@ describe('an auditor downloads raw spectrum files and certificates', () => {
     const m = await db()('measurement').where({ id: lot.containers[0].measurementId }).first();
     const check = await db()('instrument_check').where({ id: m.instrument_check_id }).first();
     const checkFile = await db()('stored_file').where({ id: check.file_id }).first();
-    const r2 = await auditor.get(`/api/instruments/${check.instrument_id}/checks/${check.id}/file`).buffer(true).parse(binary);
+    const r2 = await auditor
+      .get(`/api/instruments/${check.instrument_id}/checks/${check.id}/file`)
+      .buffer(true)
+      .parse(binary);
     expect(r2.status).toBe(200);
     expect(sha(r2.body as Buffer)).toBe(checkFile.sha256);
 
     // the certificate PDF, exactly as stored
-    const meta = await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 'Drumline (system)' } });
+    const meta = await issueCertificate(db(), {
+      lotId: lot.lotId,
+      testId: lot.testId,
+      actor: { id: null, name: 'Drumline (system)' },
+    });
     const stored = await db()('certificate').where({ id: meta.id }).first();
     const pdf = await auditor.get(`/api/certificates/${meta.id}/pdf`).buffer(true).parse(binary);
     expect(pdf.status).toBe(200);

@@ -4,7 +4,9 @@ import request from 'supertest';
 import { agentFor, db, makeUser, PASSWORD, testApp } from './helpers';
 
 async function auditActions(userId: number): Promise<string[]> {
-  const rows = await db()('audit_event').where({ entity_type: 'user', entity_id: String(userId) }).orderBy('id');
+  const rows = await db()('audit_event')
+    .where({ entity_type: 'user', entity_id: String(userId) })
+    .orderBy('id');
   return rows.map((r) => r.action);
 }
 
@@ -23,7 +25,9 @@ describe('sign-in', () => {
 
   it('refuses a wrong password with a generic message and audits the failure', async () => {
     const u = await makeUser(['operator']);
-    const res = await request(testApp()).post('/api/auth/sign-in').send({ username: u.username, password: 'wrong-password-123' });
+    const res = await request(testApp())
+      .post('/api/auth/sign-in')
+      .send({ username: u.username, password: 'wrong-password-123' });
     expect(res.status).toBe(401);
     expect(res.body.error.code).toBe('SIGN_IN_FAILED');
     expect(await auditActions(u.id)).toContain('auth.sign-in-failed');
@@ -34,7 +38,9 @@ describe('sign-in', () => {
     const watchingAdmin = await makeUser(['admin']);
     const app = testApp();
     for (let i = 0; i < 5; i++) {
-      const r = await request(app).post('/api/auth/sign-in').send({ username: u.username, password: `bad-password-${i}` });
+      const r = await request(app)
+        .post('/api/auth/sign-in')
+        .send({ username: u.username, password: `bad-password-${i}` });
       expect(r.status).toBe(401);
     }
     const locked = await request(app).post('/api/auth/sign-in').send({ username: u.username, password: PASSWORD });
@@ -67,7 +73,9 @@ describe('sign-in', () => {
     expect(blocked.body.error.code).toBe('PASSWORD_CHANGE_REQUIRED');
     const short = await agent.post('/api/auth/password').send({ currentPassword: PASSWORD, newPassword: 'short' });
     expect(short.status).toBe(400);
-    const ok = await agent.post('/api/auth/password').send({ currentPassword: PASSWORD, newPassword: 'a-much-longer-new-secret' });
+    const ok = await agent
+      .post('/api/auth/password')
+      .send({ currentPassword: PASSWORD, newPassword: 'a-much-longer-new-secret' });
     expect(ok.status).toBe(204);
     const me = await agent.get('/api/auth/me');
     expect(me.body.user.mustChangePassword).toBe(false);
@@ -78,18 +86,24 @@ describe('sign-in', () => {
   it('a password older than the maximum age (default 90 days) must be changed at the next sign-in', async () => {
     // 21 CFR 11.300(b): passwords are periodically checked and revised.
     const u = await makeUser(['operator']);
-    await db()('app_user').where({ id: u.id }).update({ password_changed_at: new Date(Date.now() - 91 * 86_400_000) });
+    await db()('app_user')
+      .where({ id: u.id })
+      .update({ password_changed_at: new Date(Date.now() - 91 * 86_400_000) });
     const agent = request.agent(testApp());
     const s = await agent.post('/api/auth/sign-in').send({ username: u.username, password: PASSWORD });
     expect(s.status).toBe(200);
     expect(s.body.user.mustChangePassword).toBe(true);
     expect((await agent.get('/api/users/directory')).body.error.code).toBe('PASSWORD_CHANGE_REQUIRED');
     expect(await auditActions(u.id)).toContain('auth.password-expired');
-    const ok = await agent.post('/api/auth/password').send({ currentPassword: PASSWORD, newPassword: 'a-fresh-password-for-today' });
+    const ok = await agent
+      .post('/api/auth/password')
+      .send({ currentPassword: PASSWORD, newPassword: 'a-fresh-password-for-today' });
     expect(ok.status).toBe(204);
     // a password changed 89 days ago is still good
     const v = await makeUser(['operator']);
-    await db()('app_user').where({ id: v.id }).update({ password_changed_at: new Date(Date.now() - 89 * 86_400_000) });
+    await db()('app_user')
+      .where({ id: v.id })
+      .update({ password_changed_at: new Date(Date.now() - 89 * 86_400_000) });
     const t = await request(testApp()).post('/api/auth/sign-in').send({ username: v.username, password: PASSWORD });
     expect(t.body.user.mustChangePassword).toBe(false);
   });
@@ -98,7 +112,9 @@ describe('sign-in', () => {
     const { agent, user } = await agentFor(['operator']);
     expect((await agent.get('/api/auth/me')).status).toBe(200);
     // 31 minutes of inactivity (default idle limit 30 minutes)
-    await db()('user_session').where({ user_id: user.id }).update({ last_seen_at: new Date(Date.now() - 31 * 60_000) });
+    await db()('user_session')
+      .where({ user_id: user.id })
+      .update({ last_seen_at: new Date(Date.now() - 31 * 60_000) });
     const res = await agent.get('/api/auth/me');
     expect(res.status).toBe(401);
     expect(await db()('user_session').where({ user_id: user.id })).toHaveLength(0);

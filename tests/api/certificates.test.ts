@@ -84,9 +84,17 @@ describe('issuing a certificate for a passed lot', () => {
     expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
     const l = await db()('lot').where({ id: lot.lotId }).first();
     expect(l.certificate_id).toBe(certId);
-    const audit = await db()('audit_event').where({ action: 'certificate.issued', entity_type: 'certificate', entity_id: String(certId) });
+    const audit = await db()('audit_event').where({
+      action: 'certificate.issued',
+      entity_type: 'certificate',
+      entity_id: String(certId),
+    });
     expect(audit).toHaveLength(1);
-    expect(JSON.parse(audit[0].after_json)).toMatchObject({ number: row.number, sha256: row.sha256, lotNumber: lot.lotNumber });
+    expect(JSON.parse(audit[0].after_json)).toMatchObject({
+      number: row.number,
+      sha256: row.sha256,
+      lotNumber: lot.lotNumber,
+    });
   });
 
   it('does not issue a second certificate for the same lot (returns the existing one)', async () => {
@@ -107,7 +115,9 @@ describe('issuing a certificate for a passed lot', () => {
   it('openssl shows the ESS signing-certificate-v2 attribute with the SHA-256 of the signer certificate, and verifies the signature', async () => {
     const der = extractSignatureDer(pdf)!;
     const p7s = writeTmp('sig.p7s', der);
-    const printed = execFileSync('openssl', ['cms', '-cmsout', '-print', '-inform', 'DER', '-in', p7s], { encoding: 'utf8' });
+    const printed = execFileSync('openssl', ['cms', '-cmsout', '-print', '-inform', 'DER', '-in', p7s], {
+      encoding: 'utf8',
+    });
     expect(printed).toMatch(/signingCertificateV2 \(1\.2\.840\.113549\.1\.9\.16\.2\.47\)/);
     expect(printed).toMatch(/contentType \(1\.2\.840\.113549\.1\.9\.3\)/);
     expect(printed).toMatch(/signingTime \(1\.2\.840\.113549\.1\.9\.5\)/);
@@ -116,7 +126,24 @@ describe('issuing a certificate for a passed lot', () => {
     // The attribute's certHash is the signer certificate fingerprint recorded with the certificate.
     expect(printed.replace(/\s/g, '')).toContain(row.signer_fingerprint.toUpperCase());
     const content = writeTmp('signed-ranges.bin', signedRanges(pdf));
-    const v = spawnSync('openssl', ['cms', '-verify', '-inform', 'DER', '-in', p7s, '-binary', '-noverify', '-content', content, '-out', path.join(tmp, 'out.bin')], { encoding: 'utf8' });
+    const v = spawnSync(
+      'openssl',
+      [
+        'cms',
+        '-verify',
+        '-inform',
+        'DER',
+        '-in',
+        p7s,
+        '-binary',
+        '-noverify',
+        '-content',
+        content,
+        '-out',
+        path.join(tmp, 'out.bin'),
+      ],
+      { encoding: 'utf8' },
+    );
     expect(v.stderr).toContain('Verification successful');
   });
 
@@ -157,7 +184,13 @@ describe('issuing a certificate for a passed lot', () => {
 
   it('our own verifier agrees with pdfsig on the intact file', () => {
     const v = verifyPdfSignature(pdf);
-    expect(v).toMatchObject({ signed: true, valid: true, coversWholeFile: true, hasSigningCertificateV2: true, subFilter: 'ETSI.CAdES.detached' });
+    expect(v).toMatchObject({
+      signed: true,
+      valid: true,
+      coversWholeFile: true,
+      hasSigningCertificateV2: true,
+      subFilter: 'ETSI.CAdES.detached',
+    });
   });
 
   describe('one byte changed inside the signed range', () => {
@@ -167,7 +200,10 @@ describe('issuing a certificate for a passed lot', () => {
       // Change one character of the document title in the Info dictionary (first signed range).
       const at = tampered.indexOf('Identity certificate IC-');
       expect(at).toBeGreaterThan(0);
-      const [, b] = [...tampered.toString('latin1').matchAll(/\/ByteRange\s*\[\s*(\d+)\s+(\d+)/g)].at(-1)!.slice(1).map(Number);
+      const [, b] = [...tampered.toString('latin1').matchAll(/\/ByteRange\s*\[\s*(\d+)\s+(\d+)/g)]
+        .at(-1)!
+        .slice(1)
+        .map(Number);
       expect(at).toBeLessThan(b);
       tampered[at] = 'i'.charCodeAt(0);
     });
@@ -196,7 +232,12 @@ describe('issuing a certificate for a passed lot', () => {
     const { agent, user } = await agentFor(['auditor']);
     const res = await agent.post('/api/certificates/verify').attach('file', pdf, 'certificate.pdf');
     expect(res.status).toBe(200);
-    expect(res.body).toMatchObject({ verdict: 'authentic', byteIdentical: true, signedBySite: true, checkedBy: 'upload' });
+    expect(res.body).toMatchObject({
+      verdict: 'authentic',
+      byteIdentical: true,
+      signedBySite: true,
+      checkedBy: 'upload',
+    });
     expect(res.body.signature.valid).toBe(true);
     expect(res.body.lot).toMatchObject({ id: lot.lotId, lotNumber: lot.lotNumber });
     const a = await db()('audit_event').where({ action: 'certificate.verified', actor_id: user.id });
@@ -236,7 +277,11 @@ describe('issuing a certificate for a passed lot', () => {
     expect(res.headers['content-type']).toBe('application/pdf');
     expect(res.headers['content-disposition']).toMatch(/attachment; filename="IC-\d{4}-\d{5}\.pdf"/);
     expect(Buffer.compare(res.body as Buffer, pdf)).toBe(0);
-    const a = await db()('audit_event').where({ action: 'certificate.downloaded', actor_id: user.id, entity_id: String(certId) });
+    const a = await db()('audit_event').where({
+      action: 'certificate.downloaded',
+      actor_id: user.id,
+      entity_id: String(certId),
+    });
     expect(a).toHaveLength(1);
   });
 
@@ -253,7 +298,12 @@ describe('issuing a certificate for a passed lot', () => {
     const before = await agent.get('/api/certificates').query({ lot: lot.lotNumber, to: '2000-01-01' });
     expect(before.body.total).toBe(0);
     const byLotId = await agent.get('/api/certificates').query({ lotId: lot.lotId });
-    expect(byLotId.body.items[0]).toMatchObject({ id: certId, lotNumber: lot.lotNumber, current: true, supersedes: null });
+    expect(byLotId.body.items[0]).toMatchObject({
+      id: certId,
+      lotNumber: lot.lotNumber,
+      current: true,
+      supersedes: null,
+    });
     const meta = await agent.get(`/api/certificates/${certId}`);
     expect(meta.status).toBe(200);
     expect(meta.body.content.containers).toHaveLength(4);
@@ -276,7 +326,11 @@ describe('issuing a certificate for a passed lot', () => {
   it('the database refuses to change or delete a stored certificate, even for the owner account', async () => {
     const owner = ownerDb();
     try {
-      await expect(owner('certificate').where({ id: certId }).update({ sha256: 'x'.repeat(64) })).rejects.toThrow(/append-only/);
+      await expect(
+        owner('certificate')
+          .where({ id: certId })
+          .update({ sha256: 'x'.repeat(64) }),
+      ).rejects.toThrow(/append-only/);
       await expect(owner('certificate').where({ id: certId }).delete()).rejects.toThrow(/append-only/);
     } finally {
       await owner.destroy();
@@ -309,7 +363,9 @@ describe('atomic issuing', () => {
     const after = await db()('lot').where({ id: lot.lotId }).first();
     expect(after).toEqual(before);
     expect(after.certificate_id).toBeNull();
-    const auditAfter = await db()('audit_event').where('id', '>', auditBefore?.id ?? 0).whereIn('action', ['certificate.issued', 'lot.certificate-recorded']);
+    const auditAfter = await db()('audit_event')
+      .where('id', '>', auditBefore?.id ?? 0)
+      .whereIn('action', ['certificate.issued', 'lot.certificate-recorded']);
     expect(auditAfter).toHaveLength(0);
 
     // Nothing half-stored blocks the next attempt.
@@ -320,12 +376,16 @@ describe('atomic issuing', () => {
 
   it('concurrent issuing: two lots get distinct numbers; the same lot twice gets one certificate', async () => {
     const [a, b] = [await createPassedLot(db(), { containers: 1 }), await createPassedLot(db(), { containers: 1 })];
-    const [ca, cb] = await Promise.all([a, b].map((l) => issueCertificate(db(), { lotId: l.lotId, testId: l.testId, actor: SYSTEM })));
+    const [ca, cb] = await Promise.all(
+      [a, b].map((l) => issueCertificate(db(), { lotId: l.lotId, testId: l.testId, actor: SYSTEM })),
+    );
     expect(ca.created && cb.created).toBe(true);
     expect(ca.number).not.toBe(cb.number);
 
     const c = await createPassedLot(db(), { containers: 1 });
-    const both = await Promise.all([1, 2].map(() => issueCertificate(db(), { lotId: c.lotId, testId: c.testId, actor: SYSTEM })));
+    const both = await Promise.all(
+      [1, 2].map(() => issueCertificate(db(), { lotId: c.lotId, testId: c.testId, actor: SYSTEM })),
+    );
     expect(both.filter((x) => x.created)).toHaveLength(1);
     expect(both[0].id).toBe(both[1].id);
     expect(await db()('certificate').where({ lot_id: c.lotId })).toHaveLength(1);
@@ -334,7 +394,9 @@ describe('atomic issuing', () => {
   it('refuses a lot that has not passed, storing nothing', async () => {
     const lot = await createPassedLot(db(), { containers: 1 });
     await db()('lot').where({ id: lot.lotId }).update({ identity_status: 'awaiting-verification' });
-    await expect(issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM })).rejects.toMatchObject({ status: 409 });
+    await expect(issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM })).rejects.toMatchObject(
+      { status: 409 },
+    );
     expect(await db()('certificate').where({ lot_id: lot.lotId })).toHaveLength(0);
   });
 
@@ -344,7 +406,9 @@ describe('atomic issuing', () => {
     const m = await db()('measurement').where({ id: lot.containers[1].measurementId }).first();
     const { id: _id, ...rest } = m;
     await db()('measurement').insert({ ...rest, verdict: 'fail', created_at: new Date() });
-    await expect(issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM })).rejects.toThrow(/did not pass/);
+    await expect(issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM })).rejects.toThrow(
+      /did not pass/,
+    );
     expect(await db()('certificate').where({ lot_id: lot.lotId })).toHaveLength(0);
   });
 });
@@ -356,14 +420,25 @@ describe('superseding', () => {
     const oldPdf = await storedPdf(first.id);
 
     const { agent: op } = await agentFor(['operator']);
-    expect((await op.post(`/api/certificates/${first.id}/supersede`).send({ reason: 'Supplier name corrected on the lot record', signature: { password: 'x' } })).status).toBe(403);
+    expect(
+      (
+        await op
+          .post(`/api/certificates/${first.id}/supersede`)
+          .send({ reason: 'Supplier name corrected on the lot record', signature: { password: 'x' } })
+      ).status,
+    ).toBe(403);
 
     const { agent: qa, user } = await agentFor(['qa_manager']);
-    const wrong = await qa.post(`/api/certificates/${first.id}/supersede`).send({ reason: 'Supplier name corrected on the lot record', signature: { username: user.username, password: 'wrong-password-123' } });
+    const wrong = await qa.post(`/api/certificates/${first.id}/supersede`).send({
+      reason: 'Supplier name corrected on the lot record',
+      signature: { username: user.username, password: 'wrong-password-123' },
+    });
     expect(wrong.status).toBe(401);
     expect(await db()('certificate').where({ lot_id: lot.lotId })).toHaveLength(1);
 
-    const res = await qa.post(`/api/certificates/${first.id}/supersede`).send({ reason: 'Supplier name corrected on the lot record', signature: sig(user) });
+    const res = await qa
+      .post(`/api/certificates/${first.id}/supersede`)
+      .send({ reason: 'Supplier name corrected on the lot record', signature: sig(user) });
     expect(res.status).toBe(201);
     expect(res.body.supersedes).toEqual({ id: first.id, number: first.number });
     expect(res.body.number).not.toBe(first.number);
@@ -373,7 +448,12 @@ describe('superseding', () => {
     expect(rows[1].supersedes_id).toBe(first.id);
     expect(rows[1].supersede_reason).toBe('Supplier name corrected on the lot record');
     const s = await db()('e_signature').where({ id: rows[1].supersede_signature_id }).first();
-    expect(s).toMatchObject({ meaning: 'issued', printed_name: user.fullName, entity_type: 'certificate', entity_id: res.body.number });
+    expect(s).toMatchObject({
+      meaning: 'issued',
+      printed_name: user.fullName,
+      entity_type: 'certificate',
+      entity_id: res.body.number,
+    });
     expect((await db()('lot').where({ id: lot.lotId }).first()).certificate_id).toBe(rows[1].id);
 
     // Old bytes are unchanged and still verify; the new one prints what it supersedes.
@@ -389,7 +469,9 @@ describe('superseding', () => {
     expect(check.body.reasons.join(' ')).toContain(`superseded by ${res.body.number}`);
 
     // Only the current certificate can be superseded.
-    const again = await qa.post(`/api/certificates/${first.id}/supersede`).send({ reason: 'Second attempt on the old one', signature: { password: user.password } });
+    const again = await qa
+      .post(`/api/certificates/${first.id}/supersede`)
+      .send({ reason: 'Second attempt on the old one', signature: { password: user.password } });
     expect(again.status).toBe(409);
     const audit = await db()('audit_event').where({ action: 'certificate.superseded', entity_id: String(first.id) });
     expect(audit).toHaveLength(1);

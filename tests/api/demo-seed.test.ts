@@ -24,7 +24,20 @@ const DEMO_DB = `drumline_demo_test_${process.pid}`;
 let db: Knex;
 let counts: Record<string, number>;
 
-const TABLES = ['material', 'identity_method', 'reference_spectrum', 'instrument', 'instrument_check', 'lot', 'identity_test', 'measurement', 'investigation', 'certificate', 'e_signature', 'audit_event'];
+const TABLES = [
+  'material',
+  'identity_method',
+  'reference_spectrum',
+  'instrument',
+  'instrument_check',
+  'lot',
+  'identity_test',
+  'measurement',
+  'investigation',
+  'certificate',
+  'e_signature',
+  'audit_event',
+];
 
 async function tableCounts(): Promise<Record<string, number>> {
   const out: Record<string, number> = {};
@@ -59,7 +72,11 @@ afterAll(async () => {
 async function lotOf(key: string) {
   const l = DEMO_LOTS.find((x) => x.key === key)!;
   const m = materialByKey(l.material);
-  return db('lot as l').join('material as m', 'm.id', 'l.material_id').where({ 'm.code': m.code, 'l.supplier_lot': l.supplierLot }).select('l.*').first();
+  return db('lot as l')
+    .join('material as m', 'm.id', 'l.material_id')
+    .where({ 'm.code': m.code, 'l.supplier_lot': l.supplierLot })
+    .select('l.*')
+    .first();
 }
 
 describe('demo seed', () => {
@@ -87,15 +104,21 @@ describe('demo seed', () => {
   });
 
   it('shows the look-alike pair flagged by the specificity gate, then both methods tightened (version 2) and the library specific', async () => {
-    const mh = await db('material').where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code }).first();
+    const mh = await db('material')
+      .where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code })
+      .first();
     const blocked = await db('audit_event').where({ action: 'reference.approval-blocked' });
     expect(blocked).toHaveLength(1);
-    const blockedRef = await db('reference_spectrum').where({ id: Number(blocked[0].entity_id) }).first();
+    const blockedRef = await db('reference_spectrum')
+      .where({ id: Number(blocked[0].entity_id) })
+      .first();
     expect(blockedRef.material_id).toBe(mh.id);
     const offending = (JSON.parse(blocked[0].after_json) as { offending: { materialCode: string }[] }).offending;
     expect(new Set(offending.map((o) => o.materialCode))).toEqual(new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]));
     for (const key of LOOK_ALIKE_PAIR) {
-      const mat = await db('material').where({ code: materialByKey(key).code }).first();
+      const mat = await db('material')
+        .where({ code: materialByKey(key).code })
+        .first();
       const methods = await db('identity_method').where({ material_id: mat.id }).orderBy('version');
       expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(['1:superseded', '2:approved']);
       expect(JSON.parse(methods[1].params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
@@ -104,14 +127,19 @@ describe('demo seed', () => {
     expect(matrix.materials.map((m) => m.code).sort()).toEqual([...DEMO_MATERIAL_CODES].sort());
     expect(matrix.notDiscriminated).toEqual([]);
     // Every grade's references pass against each other (leave one out).
-    for (const c of matrix.cells.filter((x) => x.rowMaterialId === x.columnMaterialId)) expect(c.state, String(c.rowMaterialId)).toBe('self');
+    for (const c of matrix.cells.filter((x) => x.rowMaterialId === x.columnMaterialId))
+      expect(c.state, String(c.rowMaterialId)).toBe('self');
   });
 
   it('has three instruments with the site ATR check positions, one of them with its check due', async () => {
     const app = createApp({ database: DEMO_DB }).app;
     const agent = request.agent(app);
     await agent.post('/api/auth/sign-in').send({ username: 'quinn', password: DEMO_PASSWORD }).expect(200);
-    const list = (await agent.get('/api/instruments').expect(200)).body as { name: string; checkDue: boolean; currentSpec: { kind: string } | null }[];
+    const list = (await agent.get('/api/instruments').expect(200)).body as {
+      name: string;
+      checkDue: boolean;
+      currentSpec: { kind: string } | null;
+    }[];
     expect(list).toHaveLength(3);
     for (const i of list) expect(i.currentSpec?.kind).toBe('site');
     expect(list.filter((i) => i.checkDue).map((i) => i.name)).toEqual(['FTIR 3 - dispensary']);
@@ -129,7 +157,12 @@ describe('demo seed', () => {
       const tests = await db('identity_test').where({ lot_id: lot.id });
       const containers = await db('container').where({ lot_id: lot.id });
       expect(containers).toHaveLength(l.containers);
-      const measurements = tests.length ? await db('measurement').whereIn('test_id', tests.map((t) => t.id)) : [];
+      const measurements = tests.length
+        ? await db('measurement').whereIn(
+            'test_id',
+            tests.map((t) => t.id),
+          )
+        : [];
       switch (l.state) {
         case 'awaiting-testing':
           expect(tests).toHaveLength(0);
@@ -170,7 +203,10 @@ describe('demo seed', () => {
       expect(res.body.verdict, res.body.summary).toBe('authentic');
       expect(res.body.lot.lotNumber).toBe(lot.lot_number);
     }
-    const others = await db('certificate').whereNotIn('lot_id', passedLots.map((l) => l.id));
+    const others = await db('certificate').whereNotIn(
+      'lot_id',
+      passedLots.map((l) => l.id),
+    );
     expect(others).toHaveLength(0);
   });
 
@@ -192,7 +228,8 @@ describe('demo seed', () => {
       expect(failing[0].hint[0].materialCode).toBe(materialByKey(inside).code);
     }
     const failedLots = await db('lot').whereIn('identity_status', ['failed', 'rejected']);
-    for (const lot of failedLots) expect((await db('investigation').where({ lot_id: lot.id })).length, lot.lot_number).toBeGreaterThan(0);
+    for (const lot of failedLots)
+      expect((await db('investigation').where({ lot_id: lot.id })).length, lot.lot_number).toBeGreaterThan(0);
   });
 
   it('gives operator, verifier and QA manager a non-empty work queue', async () => {
@@ -215,7 +252,9 @@ describe('demo seed', () => {
     const chain = await verifyChain(db);
     expect(chain.ok, JSON.stringify(chain)).toBe(true);
     const sigs = Number((await db('e_signature').count({ n: '*' }).first())?.n);
-    const signedEvents = Number((await db('audit_event').where({ action: 'signature.signed' }).count({ n: '*' }).first())?.n);
+    const signedEvents = Number(
+      (await db('audit_event').where({ action: 'signature.signed' }).count({ n: '*' }).first())?.n,
+    );
     expect(sigs).toBeGreaterThan(40);
     expect(signedEvents).toBe(sigs);
   });
@@ -224,7 +263,9 @@ describe('demo seed', () => {
     const u = await db('app_user').where({ username: NEW_HIRE.username }).first();
     expect(u.must_change_password).toBe(1);
     const adam = await db('app_user').where({ username: 'adam' }).first();
-    const created = await db('audit_event').where({ action: 'user.created', entity_id: String(u.id) }).first();
+    const created = await db('audit_event')
+      .where({ action: 'user.created', entity_id: String(u.id) })
+      .first();
     expect(created.actor_id).toBe(adam.id);
   });
 

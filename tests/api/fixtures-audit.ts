@@ -4,16 +4,27 @@ import { bulkAppendAudit, type BulkEvent } from '../../server/modules/audit/bulk
 
 /** A record type no other test uses (entity_type is at most 40 characters). */
 export function privateEntityType(prefix: string): string {
-  return uniqueName(prefix).replace(/[^a-z0-9_]/g, '_').slice(0, 40);
+  return uniqueName(prefix)
+    .replace(/[^a-z0-9_]/g, '_')
+    .slice(0, 40);
 }
 
 /**
  * Appends `count` events of one private record type, 1 ms apart, starting now, through the
  * same hashing as appendAudit (one valid chain). Returns the rows as stored, oldest first.
  */
-export async function seedEvents(count: number, make: (i: number) => Omit<BulkEvent, 'occurredAt'>, opts: { batchSize?: number; chunkSize?: number } = {}) {
+export async function seedEvents(
+  count: number,
+  make: (i: number) => Omit<BulkEvent, 'occurredAt'>,
+  opts: { batchSize?: number; chunkSize?: number } = {},
+) {
   const t0 = Date.now();
-  const { firstId, lastId } = await bulkAppendAudit(db(), count, (i) => ({ occurredAt: new Date(t0 + i), ...make(i) }), opts);
+  const { firstId, lastId } = await bulkAppendAudit(
+    db(),
+    count,
+    (i) => ({ occurredAt: new Date(t0 + i), ...make(i) }),
+    opts,
+  );
   return { firstId, lastId };
 }
 

@@ -28,7 +28,13 @@ import { sha256Hex } from '../../server/lib/canonical';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/roles';
 import {
-  checkPolystyrene, defaultMidIrAtrMethod, PH_EUR_POLYSTYRENE_FT, readSpectrum, scoreAgainst, type IdentityResult, type PolystyreneSpec,
+  checkPolystyrene,
+  defaultMidIrAtrMethod,
+  PH_EUR_POLYSTYRENE_FT,
+  readSpectrum,
+  scoreAgainst,
+  type IdentityResult,
+  type PolystyreneSpec,
 } from '../../server/spectra';
 
 export const REFERENCE_DATA = path.resolve(repoRoot, '../shared/reference-data');
@@ -76,11 +82,17 @@ let cachedCheck: ReturnType<typeof checkPolystyrene> | null = null;
 
 function engineResults(): Map<string, IdentityResult> {
   if (cachedResults) return cachedResults;
-  const ref = { id: 'REFERENCE', spectrum: readSpectrum(fs.readFileSync(path.join(FIBRES, REFERENCE_FILE)), REFERENCE_FILE) };
+  const ref = {
+    id: 'REFERENCE',
+    spectrum: readSpectrum(fs.readFileSync(path.join(FIBRES, REFERENCE_FILE)), REFERENCE_FILE),
+  };
   cachedResults = new Map();
   for (const f of SAMPLE_FILES) {
     const r = scoreAgainst(readSpectrum(fs.readFileSync(path.join(FIBRES, f)), f), [ref], defaultMidIrAtrMethod);
-    if (r.verdict !== 'pass') throw new Error(`fixture: ${f} did not pass against ${REFERENCE_FILE} (${r.verdict}); the fixture needs passing repeat scans`);
+    if (r.verdict !== 'pass')
+      throw new Error(
+        `fixture: ${f} did not pass against ${REFERENCE_FILE} (${r.verdict}); the fixture needs passing repeat scans`,
+      );
     cachedResults.set(f, r);
   }
   return cachedResults;
@@ -104,7 +116,14 @@ async function insertUser(db: Knex, roles: Role[], tag: string, fullName: string
   return { id: Number(id), username, fullName, password: FIXTURE_PASSWORD };
 }
 
-async function signature(db: Knex, u: FixtureUser, meaning: string, entityType: string, entityId: number | string, at: Date): Promise<number> {
+async function signature(
+  db: Knex,
+  u: FixtureUser,
+  meaning: string,
+  entityType: string,
+  entityId: number | string,
+  at: Date,
+): Promise<number> {
   const [id] = await db('e_signature').insert({
     user_id: u.id,
     printed_name: u.fullName,
@@ -118,9 +137,24 @@ async function signature(db: Knex, u: FixtureUser, meaning: string, entityType: 
   return Number(id);
 }
 
-async function storeFile(db: Knex, data: Buffer, fileName: string, mediaType: string, by: number, at: Date): Promise<{ id: number; sha256: string }> {
+async function storeFile(
+  db: Knex,
+  data: Buffer,
+  fileName: string,
+  mediaType: string,
+  by: number,
+  at: Date,
+): Promise<{ id: number; sha256: string }> {
   const sha = sha256Hex(data);
-  const [id] = await db('stored_file').insert({ sha256: sha, file_name: fileName, media_type: mediaType, size: data.length, data, uploaded_by: by, uploaded_at: at });
+  const [id] = await db('stored_file').insert({
+    sha256: sha,
+    file_name: fileName,
+    media_type: mediaType,
+    size: data.length,
+    data,
+    uploaded_by: by,
+    uploaded_at: at,
+  });
   return { id: Number(id), sha256: sha };
 }
 
@@ -144,8 +178,11 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   const verified = (opts.stage ?? 'passed') === 'passed';
   const results = engineResults();
   const tag = unique('');
-  const operator = opts.users?.operator ?? (await insertUser(db, ['operator'], 'op', opts.names?.operator ?? `Olga Operator ${tag}`));
-  const verifier = opts.users?.verifier ?? (await insertUser(db, ['verifier'], 've', opts.names?.verifier ?? `Victor Verifier ${tag}`));
+  const operator =
+    opts.users?.operator ?? (await insertUser(db, ['operator'], 'op', opts.names?.operator ?? `Olga Operator ${tag}`));
+  const verifier =
+    opts.users?.verifier ??
+    (await insertUser(db, ['verifier'], 've', opts.names?.verifier ?? `Victor Verifier ${tag}`));
   const qa = opts.users?.qa ?? (await insertUser(db, ['qa_manager'], 'qa', opts.names?.qa ?? `Quinn Quality ${tag}`));
   const t0 = new Date(Date.now() - 3 * 3600_000);
   const at = (min: number) => new Date(t0.getTime() + min * 60_000);
@@ -153,35 +190,90 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   // Library: material, approved method v1, approved reference.
   const materialCode = `CTN-${tag}`.slice(0, 40);
   const [materialId] = await db('material').insert({
-    code: materialCode, name: 'Cotton linters, purified', grade: 'Pharmaceutical grade', monograph_ref: '',
-    techniques: JSON.stringify(['mid-ir-atr']), notes: 'Certificate test fixture', active: 1, created_by: qa.id, created_at: at(0), updated_at: at(0),
+    code: materialCode,
+    name: 'Cotton linters, purified',
+    grade: 'Pharmaceutical grade',
+    monograph_ref: '',
+    techniques: JSON.stringify(['mid-ir-atr']),
+    notes: 'Certificate test fixture',
+    active: 1,
+    created_by: qa.id,
+    created_at: at(0),
+    updated_at: at(0),
   });
   const [methodId] = await db('identity_method').insert({
-    material_id: materialId, version: 1, status: 'approved', technique: 'mid-ir-atr', params: JSON.stringify(defaultMidIrAtrMethod),
-    change_note: 'First version', supersedes_id: null, created_by: qa.id, created_at: at(1), updated_at: at(2), approved_signature_id: null, approved_at: null,
+    material_id: materialId,
+    version: 1,
+    status: 'approved',
+    technique: 'mid-ir-atr',
+    params: JSON.stringify(defaultMidIrAtrMethod),
+    change_note: 'First version',
+    supersedes_id: null,
+    created_by: qa.id,
+    created_at: at(1),
+    updated_at: at(2),
+    approved_signature_id: null,
+    approved_at: null,
   });
   const methodSig = await signature(db, qa, 'approved', 'identity_method', methodId, at(2));
-  await db('identity_method').where({ id: methodId }).update({ approved_signature_id: methodSig, approved_at: at(2) });
+  await db('identity_method')
+    .where({ id: methodId })
+    .update({ approved_signature_id: methodSig, approved_at: at(2) });
 
   const refBytes = fs.readFileSync(path.join(FIBRES, REFERENCE_FILE));
   const refFile = await storeFile(db, refBytes, REFERENCE_FILE, 'text/csv', qa.id, at(3));
   const referenceCode = `REF-${tag}`.slice(0, 60);
   const [referenceId] = await db('reference_spectrum').insert({
-    material_id: materialId, code: referenceCode, file_id: refFile.id, status: 'draft', technique: 'mid-ir-atr', supplier: 'Quillmere Fibre Works', supplier_lot: 'NF-2291',
-    measured_how: 'ATR-FTIR, diamond, 1 cm-1', instrument_id: null, bands: '[]', meta: null, specificity: null, justification: null,
-    created_by: operator.id, created_at: at(3), updated_at: at(3),
+    material_id: materialId,
+    code: referenceCode,
+    file_id: refFile.id,
+    status: 'draft',
+    technique: 'mid-ir-atr',
+    supplier: 'Quillmere Fibre Works',
+    supplier_lot: 'NF-2291',
+    measured_how: 'ATR-FTIR, diamond, 1 cm-1',
+    instrument_id: null,
+    bands: '[]',
+    meta: null,
+    specificity: null,
+    justification: null,
+    created_by: operator.id,
+    created_at: at(3),
+    updated_at: at(3),
   });
   const refSig = await signature(db, qa, 'approved', 'reference_spectrum', referenceId, at(4));
-  await db('reference_spectrum').where({ id: referenceId }).update({ status: 'approved', approved_signature_id: refSig, approved_method_id: methodId, approved_at: at(4), updated_at: at(4) });
+  await db('reference_spectrum')
+    .where({ id: referenceId })
+    .update({
+      status: 'approved',
+      approved_signature_id: refSig,
+      approved_method_id: methodId,
+      approved_at: at(4),
+      updated_at: at(4),
+    });
 
   // Instrument with a site check specification and a passing check today.
   const [instrumentId] = await db('instrument').insert({
-    name: `FTIR bench ${tag}`.slice(0, 120), serial_number: `SN-${tag}`.slice(0, 80), technique: 'mid-ir', sampling: 'atr', location: 'Warehouse QC, bay 2',
-    check_validity_hours: 24, active: 1, created_by: qa.id, created_at: at(0), updated_at: at(0),
+    name: `FTIR bench ${tag}`.slice(0, 120),
+    serial_number: `SN-${tag}`.slice(0, 80),
+    technique: 'mid-ir',
+    sampling: 'atr',
+    location: 'Warehouse QC, bay 2',
+    check_validity_hours: 24,
+    active: 1,
+    created_by: qa.id,
+    created_at: at(0),
+    updated_at: at(0),
   });
   const [specId] = await db('instrument_check_spec').insert({
-    instrument_id: instrumentId, version: 1, kind: 'site', bands: JSON.stringify(SITE_ATR_SPEC.bands),
-    justification: 'ATR band maxima sit 1-2.3 cm-1 below the transmission values; site tolerance +-4 cm-1.', status: 'approved', created_by: qa.id, created_at: at(0),
+    instrument_id: instrumentId,
+    version: 1,
+    kind: 'site',
+    bands: JSON.stringify(SITE_ATR_SPEC.bands),
+    justification: 'ATR band maxima sit 1-2.3 cm-1 below the transmission values; site tolerance +-4 cm-1.',
+    status: 'approved',
+    created_by: qa.id,
+    created_at: at(0),
   });
   const specSig = await signature(db, qa, 'approved', 'instrument_check_spec', specId, at(0));
   await db('instrument_check_spec').where({ id: specId }).update({ approved_signature_id: specSig });
@@ -190,8 +282,16 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   if (cachedCheck.verdict !== 'pass') throw new Error('fixture: the polystyrene check does not pass');
   const psFile = await storeFile(db, psBytes, 'polystyrene_film.csv', 'text/csv', operator.id, at(10));
   const [checkId] = await db('instrument_check').insert({
-    instrument_id: instrumentId, spec_id: specId, file_id: psFile.id, result: JSON.stringify(cachedCheck), verdict: 'pass', engine_version: cachedCheck.engineVersion,
-    performed_by: operator.id, performed_at: at(10), valid_until: new Date(at(10).getTime() + 24 * 3600_000), signature_id: null,
+    instrument_id: instrumentId,
+    spec_id: specId,
+    file_id: psFile.id,
+    result: JSON.stringify(cachedCheck),
+    verdict: 'pass',
+    engine_version: cachedCheck.engineVersion,
+    performed_by: operator.id,
+    performed_at: at(10),
+    valid_until: new Date(at(10).getTime() + 24 * 3600_000),
+    signature_id: null,
   });
   const checkSig = await signature(db, operator, 'instrument-check', 'instrument_check', checkId, at(10));
   await db('instrument_check').where({ id: checkId }).update({ signature_id: checkSig });
@@ -199,14 +299,32 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   // Lot, containers, test, measurements.
   const lotNumber = `RM-${tag}`.slice(0, 40);
   const [lotId] = await db('lot').insert({
-    lot_number: lotNumber, material_id: materialId, supplier: 'Brackenford Textile Supply', supplier_lot: `HTC-${tag.slice(-6)}`, container_count: n,
-    received_date: t0.toISOString().slice(0, 10), notes: null, status: 'quarantine', identity_status: verified ? 'passed' : 'awaiting-verification',
-    created_by: operator.id, created_at: at(5), updated_at: at(90),
+    lot_number: lotNumber,
+    material_id: materialId,
+    supplier: 'Brackenford Textile Supply',
+    supplier_lot: `HTC-${tag.slice(-6)}`,
+    container_count: n,
+    received_date: t0.toISOString().slice(0, 10),
+    notes: null,
+    status: 'quarantine',
+    identity_status: verified ? 'passed' : 'awaiting-verification',
+    created_by: operator.id,
+    created_at: at(5),
+    updated_at: at(90),
   });
   const containers: PassedLot['containers'] = [];
   const [testId] = await db('identity_test').insert({
-    lot_id: lotId, attempt: 1, status: verified ? 'verified' : 'awaiting-verification', method_id: methodId, instrument_id: instrumentId,
-    performed_by: operator.id, verified_by: verified ? verifier.id : null, created_by: operator.id, created_at: at(15), updated_at: at(90), row_version: verified ? 2 : 1,
+    lot_id: lotId,
+    attempt: 1,
+    status: verified ? 'verified' : 'awaiting-verification',
+    method_id: methodId,
+    instrument_id: instrumentId,
+    performed_by: operator.id,
+    verified_by: verified ? verifier.id : null,
+    created_by: operator.id,
+    created_at: at(15),
+    updated_at: at(90),
+    row_version: verified ? 2 : 1,
   });
   for (let i = 1; i <= n; i++) {
     const label = `${lotNumber}-${String(i).padStart(3, '0')}`;
@@ -214,21 +332,46 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     const src = SAMPLE_FILES[(i - 1) % SAMPLE_FILES.length];
     const bytes = Buffer.concat([Buffer.from(`# container ${label}\n`), fs.readFileSync(path.join(FIBRES, src))]);
     const file = await storeFile(db, bytes, `${label}.csv`, 'text/csv', operator.id, at(20 + i));
-    const result = { ...results.get(src)!, bestReferenceId: String(referenceId), references: results.get(src)!.references.map((r) => ({ ...r, referenceId: String(referenceId) })) };
+    const result = {
+      ...results.get(src)!,
+      bestReferenceId: String(referenceId),
+      references: results.get(src)!.references.map((r) => ({ ...r, referenceId: String(referenceId) })),
+    };
     const corr = result.criteria.find((c) => c.key === 'correlation')!.value;
     const [measurementId] = await db('measurement').insert({
-      test_id: testId, container_id: containerId, file_id: file.id, instrument_id: instrumentId, instrument_check_id: checkId, method_id: methodId,
-      reference_ids: JSON.stringify([referenceId]), verdict: 'pass', match_score: corr, result: JSON.stringify(result), engine_version: result.engineVersion,
-      authorised_by_investigation_id: null, created_by: operator.id, created_at: at(20 + i),
+      test_id: testId,
+      container_id: containerId,
+      file_id: file.id,
+      instrument_id: instrumentId,
+      instrument_check_id: checkId,
+      method_id: methodId,
+      reference_ids: JSON.stringify([referenceId]),
+      verdict: 'pass',
+      match_score: corr,
+      result: JSON.stringify(result),
+      engine_version: result.engineVersion,
+      authorised_by_investigation_id: null,
+      created_by: operator.id,
+      created_at: at(20 + i),
     });
     containers.push({ id: Number(containerId), label, measurementId: Number(measurementId), fileSha256: file.sha256 });
   }
   const performed = await signature(db, operator, 'performed', 'identity_test', testId, at(60));
   const verifiedSig = verified ? await signature(db, verifier, 'verified', 'identity_test', testId, at(90)) : null;
-  await db('identity_test').where({ id: testId }).update({ performed_signature_id: performed, verified_signature_id: verifiedSig });
+  await db('identity_test')
+    .where({ id: testId })
+    .update({ performed_signature_id: performed, verified_signature_id: verifiedSig });
 
   return {
-    lotId: Number(lotId), lotNumber, testId: Number(testId), materialId: Number(materialId), materialCode,
-    containers, operator, verifier, qa, referenceCode,
+    lotId: Number(lotId),
+    lotNumber,
+    testId: Number(testId),
+    materialId: Number(materialId),
+    materialCode,
+    containers,
+    operator,
+    verifier,
+    qa,
+    referenceCode,
   };
 }

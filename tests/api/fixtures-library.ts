@@ -34,10 +34,16 @@ export function canonical(v: unknown): string {
 }
 
 /** A material code unique to this run. */
-export const materialCode = (prefix: string) => uniqueName(prefix).toUpperCase().replace(/[^A-Z0-9]/g, '').slice(0, 30);
+export const materialCode = (prefix: string) =>
+  uniqueName(prefix)
+    .toUpperCase()
+    .replace(/[^A-Z0-9]/g, '')
+    .slice(0, 30);
 
 export async function createMaterial(agent: Agent, name: string, over: Record<string, unknown> = {}) {
-  const res = await agent.post('/api/materials').send({ code: materialCode(name.slice(0, 4)), name, grade: 'test grade', techniques: ['mid-ir-atr'], ...over });
+  const res = await agent
+    .post('/api/materials')
+    .send({ code: materialCode(name.slice(0, 4)), name, grade: 'test grade', techniques: ['mid-ir-atr'], ...over });
   if (res.status !== 201) throw new Error(`material: ${res.status} ${JSON.stringify(res.body)}`);
   return res.body as { id: number; code: string; draftMethodId: number };
 }
@@ -48,7 +54,12 @@ export async function approveMethod(agent: Agent, signer: Signer, methodId: numb
   return res.body;
 }
 
-export async function upload(agent: Agent, materialId: number, files: { name: string; data: Buffer }[], fields: Record<string, string> = {}) {
+export async function upload(
+  agent: Agent,
+  materialId: number,
+  files: { name: string; data: Buffer }[],
+  fields: Record<string, string> = {},
+) {
   let req = agent.post(`/api/materials/${materialId}/references`);
   for (const f of files) req = req.attach('files', f.data, f.name);
   for (const [k, v] of Object.entries(fields)) req = req.field(k, v);
@@ -56,7 +67,11 @@ export async function upload(agent: Agent, materialId: number, files: { name: st
 }
 
 export async function uploadOne(agent: Agent, materialId: number, name: string, data: Buffer) {
-  const res = await upload(agent, materialId, [{ name, data }], { supplier: 'Test supplier', supplierLot: 'L-1', measuredHow: 'diamond ATR, 4 cm-1' });
+  const res = await upload(agent, materialId, [{ name, data }], {
+    supplier: 'Test supplier',
+    supplierLot: 'L-1',
+    measuredHow: 'diamond ATR, 4 cm-1',
+  });
   if (res.status !== 201) throw new Error(`upload: ${res.status} ${JSON.stringify(res.body)}`);
   return res.body[0] as { id: number; code: string; bands: { position: number; assignment: string }[] };
 }
@@ -80,9 +95,12 @@ export function perturbedCsv(data: Buffer, seed = 7, noise = 0.002, scale = 1.03
 /** Copy of a two-column CSV spectrum with every wavenumber moved by `shift` cm-1. */
 export function shiftedCsv(data: Buffer, shift: number): Buffer {
   const lines = data.toString('utf8').trim().split(/\r?\n/);
-  const out = [lines[0], ...lines.slice(1).map((l) => {
-    const [x, y] = l.split(',');
-    return `${(Number(x) + shift).toFixed(4)},${y}`;
-  })];
+  const out = [
+    lines[0],
+    ...lines.slice(1).map((l) => {
+      const [x, y] = l.split(',');
+      return `${(Number(x) + shift).toFixed(4)},${y}`;
+    }),
+  ];
   return Buffer.from(out.join('\n') + '\n');
 }

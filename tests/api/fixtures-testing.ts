@@ -1,3 +1,4 @@
+import type { Agent as SupertestAgent } from 'supertest';
 /**
  * Fixtures of the testing API tests: an approved material (approved identity method, approved
  * references) and instruments with a passing, expired or failed instrument check.
@@ -12,7 +13,15 @@
  */
 import { invalidateLibraryCache } from '../../server/modules/library/approved-set';
 import type { IdentityMethod } from '../../server/spectra';
-import { type CheckState, dataFile, FIBRES, REFERENCE_DATA, seedApprovedMaterial, seedInstrument, type SeededMaterial } from '../../db/seeds/testing-library';
+import {
+  type CheckState,
+  dataFile,
+  FIBRES,
+  REFERENCE_DATA,
+  seedApprovedMaterial,
+  seedInstrument,
+  type SeededMaterial,
+} from '../../db/seeds/testing-library';
 import type { Role } from '../../server/lib/roles';
 import { agentFor, db, makeUser, uniqueName } from './helpers';
 
@@ -53,8 +62,16 @@ async function fixtureQa() {
 }
 
 /** An active material with an approved method and approved references made from real files. */
-export async function approvedMaterial(opts: { name: string; referenceFiles: string[]; method?: IdentityMethod; code?: string }): Promise<ApprovedMaterial> {
-  const code = (opts.code ?? uniqueName('MAT')).toUpperCase().replace(/[^A-Z0-9]/g, '').slice(0, 30);
+export async function approvedMaterial(opts: {
+  name: string;
+  referenceFiles: string[];
+  method?: IdentityMethod;
+  code?: string;
+}): Promise<ApprovedMaterial> {
+  const code = (opts.code ?? uniqueName('MAT'))
+    .toUpperCase()
+    .replace(/[^A-Z0-9]/g, '')
+    .slice(0, 30);
   const m = await seedApprovedMaterial(db(), await fixtureQa(), { ...opts, code });
   invalidateLibraryCache();
   return m;
@@ -72,9 +89,14 @@ export async function instrumentWithCheck(state: CheckState, opts: { technique?:
 
 // ---- request helpers (supertest agents signed in through tests/api/helpers.ts agentFor)
 
-type Agent = import('supertest').Agent;
+type Agent = SupertestAgent;
 
-export async function receiveLot(agent: Agent, materialId: number, containerCount: number, extra: Record<string, unknown> = {}) {
+export async function receiveLot(
+  agent: Agent,
+  materialId: number,
+  containerCount: number,
+  extra: Record<string, unknown> = {},
+) {
   const res = await agent.post('/api/lots').send({
     materialId,
     supplier: 'Brightwater Fibres (invented)',
@@ -93,7 +115,13 @@ export async function startTest(agent: Agent, lotId: number, instrumentId: numbe
   return res.body.id as number;
 }
 
-export function uploadRequest(agent: Agent, testId: number, target: { label?: string; containerId?: number }, rel: string, fileName?: string) {
+export function uploadRequest(
+  agent: Agent,
+  testId: number,
+  target: { label?: string; containerId?: number },
+  rel: string,
+  fileName?: string,
+) {
   const f = dataFile(rel);
   const req = agent.post(`/api/tests/${testId}/measurements`);
   if (target.label) req.field('label', target.label);
@@ -101,7 +129,13 @@ export function uploadRequest(agent: Agent, testId: number, target: { label?: st
   return req.attach('file', f.buffer, { filename: fileName ?? f.name, contentType: 'text/csv' });
 }
 
-export async function upload(agent: Agent, testId: number, target: { label?: string; containerId?: number }, rel: string, fileName?: string) {
+export async function upload(
+  agent: Agent,
+  testId: number,
+  target: { label?: string; containerId?: number },
+  rel: string,
+  fileName?: string,
+) {
   const res = await uploadRequest(agent, testId, target, rel, fileName);
   if (res.status !== 201) throw new Error(`upload failed: ${res.status} ${JSON.stringify(res.body)}`);
   return res.body as { id: number; verdict: 'pass' | 'fail' | 'invalid'; matchScore: number | null; label: string };
@@ -111,7 +145,11 @@ export async function upload(agent: Agent, testId: number, target: { label?: str
 export async function writeCounts() {
   const k = db();
   const count = async (t: string) => Number((await k(t).count({ n: '*' }).first())!.n);
-  return { storedFile: await count('stored_file'), measurement: await count('measurement'), audit: await count('audit_event') };
+  return {
+    storedFile: await count('stored_file'),
+    measurement: await count('measurement'),
+    audit: await count('audit_event'),
+  };
 }
 
 /**

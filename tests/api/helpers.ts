@@ -13,7 +13,11 @@ export const PASSWORD = 'correct-horse-battery-1';
 
 let cached: Express | null = null;
 export function testApp(): Express {
-  if (!cached) cached = createApp({ database: TEST_DB, config: { signInRateLimit: 10_000, publicUrl: 'http://127.0.0.1:8080' } }).app;
+  if (!cached)
+    cached = createApp({
+      database: TEST_DB,
+      config: { signInRateLimit: 10_000, publicUrl: 'http://127.0.0.1:8080' },
+    }).app;
   return cached;
 }
 
@@ -33,7 +37,10 @@ export function uniqueName(prefix: string): string {
   return `${prefix}${Date.now().toString(36)}${counter}`.toLowerCase().slice(0, 60);
 }
 
-export async function makeUser(roles: Role[], opts: { mustChange?: boolean; password?: string; username?: string } = {}) {
+export async function makeUser(
+  roles: Role[],
+  opts: { mustChange?: boolean; password?: string; username?: string } = {},
+) {
   const username = opts.username ?? uniqueName(roles[0].replace('_', ''));
   const now = new Date();
   const [id] = await db()('app_user').insert({

@@ -28,13 +28,24 @@ beforeAll(async () => {
 });
 
 async function newInstrument(over: Record<string, unknown> = {}) {
-  const res = await qa.agent.post('/api/instruments').send({ name: uniqueName('FTIR-'), serialNumber: 'SN-0042', technique: 'mid-ir', sampling: 'atr', location: 'Goods-in bench 2', ...over });
+  const res = await qa.agent.post('/api/instruments').send({
+    name: uniqueName('FTIR-'),
+    serialNumber: 'SN-0042',
+    technique: 'mid-ir',
+    sampling: 'atr',
+    location: 'Goods-in bench 2',
+    ...over,
+  });
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   return res.body;
 }
 
 function check(agent: Ctx, instrumentId: number, name: string, data: Buffer, password = agent.user.password) {
-  return agent.agent.post(`/api/instruments/${instrumentId}/checks`).attach('file', data, name).field('username', agent.user.username).field('password', password);
+  return agent.agent
+    .post(`/api/instruments/${instrumentId}/checks`)
+    .attach('file', data, name)
+    .field('username', agent.user.username)
+    .field('password', password);
 }
 
 describe('instrument registry', () => {
@@ -53,8 +64,17 @@ describe('instrument registry', () => {
   it('operator and auditor cannot register or change instruments; auditor cannot record checks', async () => {
     const inst = await newInstrument();
     for (const who of [op, aud]) {
-      expect((await who.agent.post('/api/instruments').send({ name: uniqueName('X-'), serialNumber: '1', technique: 'mid-ir', sampling: 'atr' })).status).toBe(403);
-      expect((await who.agent.patch(`/api/instruments/${inst.id}`).send({ location: 'elsewhere', reason: 'move it' })).status).toBe(403);
+      expect(
+        (
+          await who.agent
+            .post('/api/instruments')
+            .send({ name: uniqueName('X-'), serialNumber: '1', technique: 'mid-ir', sampling: 'atr' })
+        ).status,
+      ).toBe(403);
+      expect(
+        (await who.agent.patch(`/api/instruments/${inst.id}`).send({ location: 'elsewhere', reason: 'move it' }))
+          .status,
+      ).toBe(403);
     }
     expect((await check(aud, inst.id, 'polystyrene_film.csv', film)).status).toBe(403);
     expect(await db()('instrument_check').where({ instrument_id: inst.id }).first()).toBeUndefined();
@@ -88,26 +108,72 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     expect(Buffer.compare(f.data, film)).toBe(0);
     expect(f.sha256).toBe(sha256(film));
     const s = await db()('e_signature').where({ id: row.signature_id }).first();
-    expect(s).toMatchObject({ user_id: op.user.id, meaning: 'instrument-check', entity_type: 'instrument_check', entity_id: String(res.body.id) });
-    const content = { checkId: res.body.id, instrumentId: inst.id, specId: row.spec_id, fileSha256: sha256(film), verdict: 'fail', bands: JSON.parse(row.result).bands };
+    expect(s).toMatchObject({
+      user_id: op.user.id,
+      meaning: 'instrument-check',
+      entity_type: 'instrument_check',
+      entity_id: String(res.body.id),
+    });
+    const content = {
+      checkId: res.body.id,
+      instrumentId: inst.id,
+      specId: row.spec_id,
+      fileSha256: sha256(film),
+      verdict: 'fail',
+      bands: JSON.parse(row.result).bands,
+    };
     expect(s.content_hash).toBe(sha256(canonical(content)));
-    const audit = await db()('audit_event').where({ entity_type: 'instrument_check', entity_id: String(res.body.id), action: 'instrument.check-failed' });
+    const audit = await db()('audit_event').where({
+      entity_type: 'instrument_check',
+      entity_id: String(res.body.id),
+      action: 'instrument.check-failed',
+    });
     expect(audit).toHaveLength(1);
     expect((await op.agent.get(`/api/instruments/${inst.id}`)).body.checkDue).toBe(true);
   });
 
   it('only QA approves a site ATR specification, with a justification and the password (a wrong one is refused and audited)', async () => {
     const bands = found.map((v) => ({ nominal: Math.round(v * 100) / 100, tolerance: 1.0 }));
-    const spec = { kind: 'site', bands, justification: 'Diamond ATR accessory: positions established at qualification (IQ/OQ report 7), tolerances as Ph. Eur. FT.' };
-    expect((await op.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: sigOf(op.user) })).status).toBe(403);
-    expect((await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec: { ...spec, justification: 'too short' }, signature: sigOf(qa.user) })).status).toBe(400);
-    const wrong = await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: { username: qa.user.username, password: 'wrong-password-here' } });
+    const spec = {
+      kind: 'site',
+      bands,
+      justification:
+        'Diamond ATR accessory: positions established at qualification (IQ/OQ report 7), tolerances as Ph. Eur. FT.',
+    };
+    expect(
+      (await op.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: sigOf(op.user) })).status,
+    ).toBe(403);
+    expect(
+      (
+        await qa.agent
+          .post(`/api/instruments/${inst.id}/specs`)
+          .send({ spec: { ...spec, justification: 'too short' }, signature: sigOf(qa.user) })
+      ).status,
+    ).toBe(400);
+    const wrong = await qa.agent
+      .post(`/api/instruments/${inst.id}/specs`)
+      .send({ spec, signature: { username: qa.user.username, password: 'wrong-password-here' } });
     expect(wrong.status).toBe(401);
-    expect(await db()('audit_event').where({ entity_type: 'instrument', entity_id: String(inst.id), action: 'signature.refused' })).toHaveLength(1);
+    expect(
+      await db()('audit_event').where({
+        entity_type: 'instrument',
+        entity_id: String(inst.id),
+        action: 'signature.refused',
+      }),
+    ).toHaveLength(1);
     const ok = await qa.agent.post(`/api/instruments/${inst.id}/specs`).send({ spec, signature: sigOf(qa.user) });
     expect(ok.status).toBe(201);
-    expect(ok.body.specs[0]).toMatchObject({ version: 2, kind: 'site', status: 'approved', justification: spec.justification });
-    expect(ok.body.specs[0].signature).toMatchObject({ meaning: 'approved', printedName: qa.user.fullName, statement: spec.justification });
+    expect(ok.body.specs[0]).toMatchObject({
+      version: 2,
+      kind: 'site',
+      status: 'approved',
+      justification: spec.justification,
+    });
+    expect(ok.body.specs[0].signature).toMatchObject({
+      meaning: 'approved',
+      printedName: qa.user.fullName,
+      statement: spec.justification,
+    });
     expect(ok.body.specs[1]).toMatchObject({ version: 1, status: 'superseded' });
   });
 
@@ -132,11 +198,16 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     for (const b of res.body.result.bands) expect(Math.abs(b.deviation - 1.5)).toBeLessThan(0.3);
     expect(await getValidInstrumentCheck(inst.id)).toBeNull();
     const list = await op.agent.get('/api/instruments');
-    expect(list.body.find((i: { id: number }) => i.id === inst.id)).toMatchObject({ checkDue: true, lastCheck: { verdict: 'fail' } });
+    expect(list.body.find((i: { id: number }) => i.id === inst.id)).toMatchObject({
+      checkDue: true,
+      lastCheck: { verdict: 'fail' },
+    });
   });
 
   it('an unreadable file gives 422 with the engine sentence and stores nothing; a wrong password stores nothing', async () => {
-    const before = Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n);
+    const before = Number(
+      (await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n,
+    );
     const files = Number((await db()('stored_file').count({ n: '*' }).first())!.n);
     const res = await check(op, inst.id, 'empty.csv', Buffer.from(''));
     expect(res.status).toBe(422);
@@ -144,18 +215,23 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     expect(res.body.error.message).toMatch(/^empty\.csv: /);
     const wrong = await check(op, inst.id, 'polystyrene_film.csv', film, 'not-my-password');
     expect(wrong.status).toBe(401);
-    expect(Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n)).toBe(before);
+    expect(
+      Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n),
+    ).toBe(before);
     expect(Number((await db()('stored_file').count({ n: '*' }).first())!.n)).toBe(files);
   });
 
   it('the raw file of a check downloads byte for byte', async () => {
     const detail = (await aud.agent.get(`/api/instruments/${inst.id}`)).body;
     const first = detail.checks[detail.checks.length - 1];
-    const res = await aud.agent.get(`/api/instruments/${inst.id}/checks/${first.id}/file`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await aud.agent
+      .get(`/api/instruments/${inst.id}/checks/${first.id}/file`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     expect(sha256(res.body as Buffer)).toBe(sha256(film));
   });

@@ -22,7 +22,7 @@ import {
   upload,
   uploadOne,
 } from './fixtures-library';
-import { readSpectrum, SpectrumError } from '../../server/spectra';
+import { readSpectrum, type SpectrumError } from '../../server/spectra';
 import { getApprovedReferenceSet, searchApprovedLibrary } from '../../server/modules/library';
 import { loadConfig } from '../../server/lib/config';
 
@@ -33,7 +33,12 @@ let op: Ctx;
 let aud: Ctx;
 
 beforeAll(async () => {
-  [qa1, qa2, op, aud] = await Promise.all([agentFor(['qa_manager']), agentFor(['qa_manager']), agentFor(['operator']), agentFor(['auditor'])]);
+  [qa1, qa2, op, aud] = await Promise.all([
+    agentFor(['qa_manager']),
+    agentFor(['qa_manager']),
+    agentFor(['operator']),
+    agentFor(['auditor']),
+  ]);
 });
 afterAll(async () => {
   // nothing to clean: GMP records are never deleted, and each run uses a fresh database
@@ -59,7 +64,10 @@ async function approveForSetup(agent: Ctx, refId: number) {
 
 describe('materials', () => {
   it('QA creates a material with a draft identity method version 1; every role reads it', async () => {
-    const m = await createMaterial(qa1.agent, 'Lactose monohydrate', { monographRef: 'Ph. Eur. 0187', notes: 'sieved grade' });
+    const m = await createMaterial(qa1.agent, 'Lactose monohydrate', {
+      monographRef: 'Ph. Eur. 0187',
+      notes: 'sieved grade',
+    });
     expect(m.draftMethodId).toBeGreaterThan(0);
     for (const who of [op, aud, qa2]) {
       const res = await who.agent.get(`/api/materials/${m.id}`);
@@ -68,17 +76,26 @@ describe('materials', () => {
       expect(res.body.methods).toHaveLength(1);
       expect(res.body.methods[0]).toMatchObject({ version: 1, status: 'draft', technique: 'mid-ir-atr' });
       // the CO2 region is excluded by default (domain-facts: atmospheric CO2 around 2400-2280 cm-1, common practice)
-      expect(res.body.methods[0].params.excludedRegions.some((r: { from: number; to: number }) => r.from <= 2300 && r.to >= 2380)).toBe(true);
+      expect(
+        res.body.methods[0].params.excludedRegions.some(
+          (r: { from: number; to: number }) => r.from <= 2300 && r.to >= 2380,
+        ),
+      ).toBe(true);
     }
     const list = await aud.agent.get('/api/materials');
-    expect(list.body.find((x: { id: number }) => x.id === m.id)).toMatchObject({ approvedMethod: null, references: { draft: 0, approved: 0, retired: 0 } });
+    expect(list.body.find((x: { id: number }) => x.id === m.id)).toMatchObject({
+      approvedMethod: null,
+      references: { draft: 0, approved: 0, retired: 0 },
+    });
     expect(await auditRows('material', m.id, 'material.created')).toHaveLength(1);
   });
 
   it('a change is audited with before, after and the reason; a change without a reason is refused', async () => {
     const m = await createMaterial(qa1.agent, 'Microcrystalline cellulose');
     expect((await qa1.agent.patch(`/api/materials/${m.id}`).send({ name: 'MCC 102' })).status).toBe(400);
-    const res = await qa1.agent.patch(`/api/materials/${m.id}`).send({ name: 'Microcrystalline cellulose 102', reason: 'grade named on the supplier CoA' });
+    const res = await qa1.agent
+      .patch(`/api/materials/${m.id}`)
+      .send({ name: 'Microcrystalline cellulose 102', reason: 'grade named on the supplier CoA' });
     expect(res.status).toBe(200);
     const [ev] = await auditRows('material', m.id, 'material.updated');
     expect(JSON.parse(ev.before_json).name).toBe('Microcrystalline cellulose');
@@ -89,8 +106,13 @@ describe('materials', () => {
   it('operator and auditor cannot create or change materials (403, nothing written)', async () => {
     const m = await createMaterial(qa1.agent, 'Talc');
     for (const who of [op, aud]) {
-      expect((await who.agent.post('/api/materials').send({ code: 'NOPE1', name: 'Nope', techniques: ['mid-ir-atr'] })).status).toBe(403);
-      expect((await who.agent.patch(`/api/materials/${m.id}`).send({ name: 'Changed', reason: 'should not work' })).status).toBe(403);
+      expect(
+        (await who.agent.post('/api/materials').send({ code: 'NOPE1', name: 'Nope', techniques: ['mid-ir-atr'] }))
+          .status,
+      ).toBe(403);
+      expect(
+        (await who.agent.patch(`/api/materials/${m.id}`).send({ name: 'Changed', reason: 'should not work' })).status,
+      ).toBe(403);
     }
     expect(await db()('material').where({ code: 'NOPE1' }).first()).toBeUndefined();
     expect((await db()('material').where({ id: m.id }).first()).name).toBe('Talc');
@@ -105,13 +127,18 @@ describe('identity methods are versioned; an approved version is immutable', () 
     const p1 = (await get(v1)).params;
 
     // draft: editable, audited
-    const edited = await qa1.agent.patch(`/api/methods/${v1}`).send({ params: { ...p1, thresholds: { ...p1.thresholds, minCorrelation: 0.97 } }, reason: 'tighter after validation' });
+    const edited = await qa1.agent.patch(`/api/methods/${v1}`).send({
+      params: { ...p1, thresholds: { ...p1.thresholds, minCorrelation: 0.97 } },
+      reason: 'tighter after validation',
+    });
     expect(edited.status).toBe(200);
     expect(edited.body.params.thresholds.minCorrelation).toBe(0.97);
     expect(await auditRows('identity_method', v1, 'method.updated')).toHaveLength(1);
 
     // the engine's own cross-field rule (polynomial below window size) refuses a broken method
-    const bad = await qa1.agent.patch(`/api/methods/${v1}`).send({ params: { ...p1, smoothing: { windowSize: 5, polynomial: 5, derivative: 0 } }, reason: 'try' });
+    const bad = await qa1.agent
+      .patch(`/api/methods/${v1}`)
+      .send({ params: { ...p1, smoothing: { windowSize: 5, polynomial: 5, derivative: 0 } }, reason: 'try' });
     expect(bad.status).toBe(400);
     expect(bad.body.error.code).toBe('INVALID_METHOD');
 
@@ -123,7 +150,9 @@ describe('identity methods are versioned; an approved version is immutable', () 
 
     // the approved version cannot change: 409 + a new draft version carrying the change
     const before = await db()('identity_method').where({ id: v1 }).first();
-    const attempt = await qa1.agent.patch(`/api/methods/${v1}`).send({ params: { ...p1, thresholds: { ...p1.thresholds, minCorrelation: 0.99 } }, reason: 'tighten further' });
+    const attempt = await qa1.agent
+      .patch(`/api/methods/${v1}`)
+      .send({ params: { ...p1, thresholds: { ...p1.thresholds, minCorrelation: 0.99 } }, reason: 'tighten further' });
     expect(attempt.status).toBe(409);
     expect(attempt.body.error.code).toBe('METHOD_IMMUTABLE');
     const newId = attempt.body.error.details.newDraftId;
@@ -139,7 +168,9 @@ describe('identity methods are versioned; an approved version is immutable', () 
     const again = await qa1.agent.patch(`/api/methods/${v1}`).send({ changeNote: 'x', reason: 'again' });
     expect(again.status).toBe(409);
     expect(again.body.error.details.draftId).toBe(newId);
-    expect(await db()('identity_method').where({ material_id: m.id }).count({ n: '*' }).first()).toMatchObject({ n: 2 });
+    expect(await db()('identity_method').where({ material_id: m.id }).count({ n: '*' }).first()).toMatchObject({
+      n: 2,
+    });
 
     // approving v2 supersedes v1
     await approveMethod(qa2.agent, qa2.user, newId);
@@ -158,7 +189,13 @@ describe('identity methods are versioned; an approved version is immutable', () 
     // the fibre files cover 550-4000 cm-1 (README of atr-ftir-fibres); 4500 is beyond them
     const draft = await qa1.agent.post(`/api/methods/${m.draftMethodId}/new-version`).send({ changeNote: 'wider' });
     expect(draft.status).toBe(201);
-    expect((await qa1.agent.patch(`/api/methods/${draft.body.id}`).send({ params: { ...p, range: { from: 700, to: 4500 } }, reason: 'try a wider range' })).status).toBe(200);
+    expect(
+      (
+        await qa1.agent
+          .patch(`/api/methods/${draft.body.id}`)
+          .send({ params: { ...p, range: { from: 700, to: 4500 } }, reason: 'try a wider range' })
+      ).status,
+    ).toBe(200);
     const res = await qa2.agent.post(`/api/methods/${draft.body.id}/approve`).send({ signature: sigOf(qa2.user) });
     expect(res.status).toBe(409);
     expect(res.body.error.message).toContain(ref.code);
@@ -168,7 +205,9 @@ describe('identity methods are versioned; an approved version is immutable', () 
   it('POST new-version creates a draft from an approved version', async () => {
     const m = await createMaterial(qa1.agent, 'Magnesium stearate');
     await approveMethod(qa2.agent, qa2.user, m.draftMethodId);
-    const res = await qa1.agent.post(`/api/methods/${m.draftMethodId}/new-version`).send({ changeNote: 'wider band tolerance' });
+    const res = await qa1.agent
+      .post(`/api/methods/${m.draftMethodId}/new-version`)
+      .send({ changeNote: 'wider band tolerance' });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ version: 2, status: 'draft' });
   });
@@ -180,7 +219,15 @@ describe('reference upload', () => {
     const a = fibre('nylon6_s074.csv');
     const b = fibre('nylon6_s077.csv');
     const lastMailBefore = await db()('mail_outbox').max({ id: 'id' }).first();
-    const res = await upload(qa1.agent, m.id, [{ name: 'nylon6_s074.csv', data: a }, { name: 'nylon6_s077.csv', data: b }], { supplier: 'Fibre Works', supplierLot: 'FW-22', measuredHow: 'diamond ATR' });
+    const res = await upload(
+      qa1.agent,
+      m.id,
+      [
+        { name: 'nylon6_s074.csv', data: a },
+        { name: 'nylon6_s077.csv', data: b },
+      ],
+      { supplier: 'Fibre Works', supplierLot: 'FW-22', measuredHow: 'diamond ATR' },
+    );
     expect(res.status).toBe(201);
     expect(res.body).toHaveLength(2);
     for (const [i, data] of [a, b].entries()) {
@@ -211,7 +258,10 @@ describe('reference upload', () => {
   it('a file the engine cannot read gives 422 with the engine sentence, and nothing of the batch is stored', async () => {
     const m = await createMaterial(qa1.agent, 'Polyamide 66 fibre');
     const good = fibre('nylon66_s090.csv');
-    const rows = ['wavenumber_cm-1,absorbance', ...Array.from({ length: 12 }, (_, i) => `${1000 + i},${0.1 + i / 100}`)];
+    const rows = [
+      'wavenumber_cm-1,absorbance',
+      ...Array.from({ length: 12 }, (_, i) => `${1000 + i},${0.1 + i / 100}`),
+    ];
     const bad = Buffer.from(rows.join('\n'));
     let expected = '';
     try {
@@ -222,9 +272,13 @@ describe('reference upload', () => {
     }
     expect(expected.length).toBeGreaterThan(10);
     const files = async () => Number((await db()('stored_file').count({ n: '*' }).first())!.n);
-    const refsOf = async () => Number((await db()('reference_spectrum').where({ material_id: m.id }).count({ n: '*' }).first())!.n);
+    const refsOf = async () =>
+      Number((await db()('reference_spectrum').where({ material_id: m.id }).count({ n: '*' }).first())!.n);
     const [f0, r0] = [await files(), await refsOf()];
-    const res = await upload(qa1.agent, m.id, [{ name: 'nylon66_s090.csv', data: good }, { name: 'short.csv', data: bad }]);
+    const res = await upload(qa1.agent, m.id, [
+      { name: 'nylon66_s090.csv', data: good },
+      { name: 'short.csv', data: bad },
+    ]);
     expect(res.status).toBe(422);
     expect(res.body.error.code).toBe('TOO_FEW_POINTS');
     expect(res.body.error.message).toContain(expected);
@@ -235,7 +289,10 @@ describe('reference upload', () => {
 
   it('a spectrum that does not cover the method range is refused (422), nothing stored', async () => {
     const m = await createMaterial(qa1.agent, 'Narrow range material');
-    const rows = ['wavenumber_cm-1,absorbance', ...Array.from({ length: 600 }, (_, i) => `${1000 + i},${(0.2 + 0.1 * Math.sin(i / 20)).toFixed(5)}`)];
+    const rows = [
+      'wavenumber_cm-1,absorbance',
+      ...Array.from({ length: 600 }, (_, i) => `${1000 + i},${(0.2 + 0.1 * Math.sin(i / 20)).toFixed(5)}`),
+    ];
     const res = await upload(qa1.agent, m.id, [{ name: 'narrow.csv', data: Buffer.from(rows.join('\n')) }]);
     expect(res.status).toBe(422);
     expect(res.body.error.message).toMatch(/narrow\.csv/);
@@ -276,7 +333,9 @@ describe('bands, approval, e-signature, retirement', () => {
   it('bands are editable while draft, audited with before/after and the reason', async () => {
     const bands = ref.bands.map((b) => ({ position: b.position }));
     bands.push({ position: 1410.5 });
-    const res = await qa1.agent.put(`/api/references/${ref.id}/bands`).send({ bands, reason: 'ring band at 1410 cm-1 is characteristic of PET' });
+    const res = await qa1.agent
+      .put(`/api/references/${ref.id}/bands`)
+      .send({ bands, reason: 'ring band at 1410 cm-1 is characteristic of PET' });
     expect(res.status).toBe(200);
     const added = res.body.bands.find((b: { position: number }) => b.position === 1410.5);
     expect(added).toMatchObject({ origin: 'edited' });
@@ -286,7 +345,9 @@ describe('bands, approval, e-signature, retirement', () => {
     expect(JSON.parse(ev.after_json).bands).toHaveLength(ref.bands.length + 1);
     expect(ev.reason).toMatch(/1410/);
     // the auditor changes nothing
-    expect((await aud.agent.put(`/api/references/${ref.id}/bands`).send({ bands: [], reason: 'auditor try' })).status).toBe(403);
+    expect(
+      (await aud.agent.put(`/api/references/${ref.id}/bands`).send({ bands: [], reason: 'auditor try' })).status,
+    ).toBe(403);
   });
 
   it('an approved method is required before approving a reference', async () => {
@@ -296,8 +357,12 @@ describe('bands, approval, e-signature, retirement', () => {
   });
 
   it('role rules: the operator and the auditor cannot approve; the uploader cannot approve her own reference', async () => {
-    expect((await op.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(op.user) })).status).toBe(403);
-    expect((await aud.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(aud.user) })).status).toBe(403);
+    expect((await op.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(op.user) })).status).toBe(
+      403,
+    );
+    expect(
+      (await aud.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(aud.user) })).status,
+    ).toBe(403);
     const own = await qa1.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(qa1.user) });
     expect(own.status).toBe(403);
     expect(own.body.error.message).toMatch(/uploaded this reference/);
@@ -305,13 +370,19 @@ describe('bands, approval, e-signature, retirement', () => {
   });
 
   it('a wrong password is refused (401) and audited; nothing is signed', async () => {
-    const res = await qa2.agent.post(`/api/references/${ref.id}/approve`).send({ signature: { username: qa2.user.username, password: 'not-the-password' } });
+    const res = await qa2.agent
+      .post(`/api/references/${ref.id}/approve`)
+      .send({ signature: { username: qa2.user.username, password: 'not-the-password' } });
     expect(res.status).toBe(401);
     expect(res.body.error.code).toBe('SIGNATURE_REFUSED');
     const refused = await auditRows('reference_spectrum', ref.id, 'signature.refused');
     expect(refused.length).toBe(1);
     expect(refused[0].actor_id).toBe(qa2.user.id);
-    expect(await db()('e_signature').where({ entity_type: 'reference_spectrum', entity_id: String(ref.id) }).first()).toBeUndefined();
+    expect(
+      await db()('e_signature')
+        .where({ entity_type: 'reference_spectrum', entity_id: String(ref.id) })
+        .first(),
+    ).toBeUndefined();
     expect((await db()('reference_spectrum').where({ id: ref.id }).first()).status).toBe('draft');
   });
 
@@ -320,23 +391,43 @@ describe('bands, approval, e-signature, retirement', () => {
     expect(body.status).toBe('approved');
     const row = await db()('reference_spectrum').where({ id: ref.id }).first();
     const s = await db()('e_signature').where({ id: row.approved_signature_id }).first();
-    expect(s).toMatchObject({ user_id: qa2.user.id, printed_name: qa2.user.fullName, entity_type: 'reference_spectrum', entity_id: String(ref.id) });
+    expect(s).toMatchObject({
+      user_id: qa2.user.id,
+      printed_name: qa2.user.fullName,
+      entity_type: 'reference_spectrum',
+      entity_id: String(ref.id),
+    });
     expect(['approved', 'approved-with-justification']).toContain(s.meaning);
-    const content = { referenceId: ref.id, fileSha256: sha256(file), bands: JSON.parse(row.bands), methodVersionId: mat.draftMethodId };
+    const content = {
+      referenceId: ref.id,
+      fileSha256: sha256(file),
+      bands: JSON.parse(row.bands),
+      methodVersionId: mat.draftMethodId,
+    };
     expect(s.content_hash).toBe(sha256(canonical(content)));
     expect(row.approved_method_id).toBe(mat.draftMethodId);
     // the signature is shown with the record (21 CFR 11.50)
     const shown = (await aud.agent.get(`/api/references/${ref.id}`)).body;
     expect(shown.signatures[0]).toMatchObject({ printedName: qa2.user.fullName, contentHash: s.content_hash });
     expect(new Date(shown.signatures[0].signedAt).getTime()).toBeGreaterThan(Date.now() - 60_000);
-    expect(await auditRows('reference_spectrum', ref.id, s.meaning === 'approved' ? 'reference.approved' : 'reference.approved-with-justification')).toHaveLength(1);
+    expect(
+      await auditRows(
+        'reference_spectrum',
+        ref.id,
+        s.meaning === 'approved' ? 'reference.approved' : 'reference.approved-with-justification',
+      ),
+    ).toHaveLength(1);
   });
 
   it('an approved reference is immutable: band edits give 409, a second approval gives 409', async () => {
-    const res = await qa1.agent.put(`/api/references/${ref.id}/bands`).send({ bands: [{ position: 1000 }], reason: 'late edit' });
+    const res = await qa1.agent
+      .put(`/api/references/${ref.id}/bands`)
+      .send({ bands: [{ position: 1000 }], reason: 'late edit' });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('REFERENCE_IMMUTABLE');
-    expect((await qa2.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(qa2.user) })).status).toBe(409);
+    expect(
+      (await qa2.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(qa2.user) })).status,
+    ).toBe(409);
   });
 
   it('the approved set holds the approved reference under the approved method; library search names it first', async () => {
@@ -351,17 +442,30 @@ describe('bands, approval, e-signature, retirement', () => {
   });
 
   it('retirement needs a reason and a signature; nothing is deleted; the set no longer holds it', async () => {
-    expect((await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ signature: sigOf(qa2.user) })).status).toBe(400);
-    expect((await aud.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'auditor', signature: sigOf(aud.user) })).status).toBe(403);
-    const res = await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'supplier changed the spinning process', signature: sigOf(qa2.user) });
+    expect((await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ signature: sigOf(qa2.user) })).status).toBe(
+      400,
+    );
+    expect(
+      (await aud.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'auditor', signature: sigOf(aud.user) }))
+        .status,
+    ).toBe(403);
+    const res = await qa2.agent
+      .post(`/api/references/${ref.id}/retire`)
+      .send({ reason: 'supplier changed the spinning process', signature: sigOf(qa2.user) });
     expect(res.status).toBe(200);
     expect(res.body.status).toBe('retired');
-    expect(res.body.signatures.map((s: { meaning: string }) => s.meaning)).toEqual([expect.stringMatching(/^approved/), 'retired']);
+    expect(res.body.signatures.map((s: { meaning: string }) => s.meaning)).toEqual([
+      expect.stringMatching(/^approved/),
+      'retired',
+    ]);
     const row = await db()('reference_spectrum').where({ id: ref.id }).first();
     expect(row.retire_reason).toBe('supplier changed the spinning process');
     expect(await db()('stored_file').where({ id: row.file_id }).first()).toBeTruthy();
     expect((await getApprovedReferenceSet(mat.id))!.references).toEqual([]);
-    expect((await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'again', signature: sigOf(qa2.user) })).status).toBe(409);
+    expect(
+      (await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'again', signature: sigOf(qa2.user) }))
+        .status,
+    ).toBe(409);
   });
 });
 
@@ -390,26 +494,40 @@ describe('specificity gate', () => {
     expect(pair.candidateAsSample.correlation).toBeGreaterThan(0.95);
     expect((await db()('reference_spectrum').where({ id: rayRef.id }).first()).status).toBe('draft');
     expect(await auditRows('reference_spectrum', rayRef.id, 'reference.approval-blocked')).toHaveLength(1);
-    expect(await db()('e_signature').where({ entity_type: 'reference_spectrum', entity_id: String(rayRef.id) }).first()).toBeUndefined();
+    expect(
+      await db()('e_signature')
+        .where({ entity_type: 'reference_spectrum', entity_id: String(rayRef.id) })
+        .first(),
+    ).toBeUndefined();
 
     // a justification that says nothing is refused
-    const short = await qa2.agent.post(`/api/references/${rayRef.id}/approve`).send({ signature: sigOf(qa2.user), justification: 'ok' });
+    const short = await qa2.agent
+      .post(`/api/references/${rayRef.id}/approve`)
+      .send({ signature: sigOf(qa2.user), justification: 'ok' });
     expect(short.status).toBe(400);
 
-    const justification = 'Lyocell and rayon are both regenerated cellulose; the supplier certificate and the fibre cross-section decide the grade.';
-    const ok = await qa2.agent.post(`/api/references/${rayRef.id}/approve`).send({ signature: sigOf(qa2.user), justification });
+    const justification =
+      'Lyocell and rayon are both regenerated cellulose; the supplier certificate and the fibre cross-section decide the grade.';
+    const ok = await qa2.agent
+      .post(`/api/references/${rayRef.id}/approve`)
+      .send({ signature: sigOf(qa2.user), justification });
     expect(ok.status).toBe(200);
     expect(ok.body.status).toBe('approved');
     expect(ok.body.justification).toBe(justification);
     expect(ok.body.signatures[0]).toMatchObject({ meaning: 'approved-with-justification', statement: justification });
     const [ev] = await auditRows('reference_spectrum', rayRef.id, 'reference.approved-with-justification');
     expect(ev.reason).toBe(justification);
-    expect(JSON.parse(ev.after_json).specificity.offending.map((p: { referenceId: number }) => p.referenceId)).toContain(lyoRef.id);
+    expect(
+      JSON.parse(ev.after_json).specificity.offending.map((p: { referenceId: number }) => p.referenceId),
+    ).toContain(lyoRef.id);
 
     // the library matrix shows the pair as would-pass, in numbers and words
     const matrix = await aud.agent.get('/api/library/specificity?technique=mid-ir-atr');
     expect(matrix.status).toBe(200);
-    const cell = matrix.body.cells.find((c: { rowMaterialId: number; columnMaterialId: number }) => c.rowMaterialId === lyo.id && c.columnMaterialId === ray.id);
+    const cell = matrix.body.cells.find(
+      (c: { rowMaterialId: number; columnMaterialId: number }) =>
+        c.rowMaterialId === lyo.id && c.columnMaterialId === ray.id,
+    );
     expect(cell).toMatchObject({ state: 'would-pass' });
     expect(cell.correlation).toBeGreaterThan(0.95);
   });
@@ -440,7 +558,10 @@ describe('specificity gate', () => {
     await approveMethod(qa2.agent, qa2.user, m.draftMethodId);
     const r = await uploadOne(qa1.agent, m.id, 'silk_Bombyx-mori_s16.2.csv', fibre('silk_Bombyx-mori_s16.2.csv'));
     const qa3 = await agentFor(['qa_manager']);
-    const body = (u: Ctx) => ({ signature: sigOf(u.user), justification: 'Concurrency test: justification in case of foreign materials.' });
+    const body = (u: Ctx) => ({
+      signature: sigOf(u.user),
+      justification: 'Concurrency test: justification in case of foreign materials.',
+    });
     const [x, y] = await Promise.all([
       qa2.agent.post(`/api/references/${r.id}/approve`).send(body(qa2)),
       qa3.agent.post(`/api/references/${r.id}/approve`).send(body(qa3)),

@@ -54,9 +54,20 @@ describe('lot receipt', () => {
   it('registers a lot in quarantine with an internal number and one labelled container per drum, audited', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 3, { notes: 'three drums, seals intact' });
     expect(lot.lotNumber).toMatch(/^L-\d{4}-\d{5}$/);
-    expect(lot).toMatchObject({ status: 'quarantine', identityStatus: 'awaiting-testing', containerCount: 3, notes: 'three drums, seals intact' });
-    expect(lot.containers.map((c) => c.label)).toEqual([`${lot.lotNumber}-001`, `${lot.lotNumber}-002`, `${lot.lotNumber}-003`]);
-    const ev = await db()('audit_event').where({ action: 'lot.received', entity_id: String(lot.id) }).first();
+    expect(lot).toMatchObject({
+      status: 'quarantine',
+      identityStatus: 'awaiting-testing',
+      containerCount: 3,
+      notes: 'three drums, seals intact',
+    });
+    expect(lot.containers.map((c) => c.label)).toEqual([
+      `${lot.lotNumber}-001`,
+      `${lot.lotNumber}-002`,
+      `${lot.lotNumber}-003`,
+    ]);
+    const ev = await db()('audit_event')
+      .where({ action: 'lot.received', entity_id: String(lot.id) })
+      .first();
     expect(ev).toBeDefined();
     expect(JSON.parse(ev.after_json).labels).toHaveLength(3);
     expect(ev.actor_id).toBe(operator.user.id);
@@ -66,10 +77,26 @@ describe('lot receipt', () => {
     const k = db();
     const qa = await account(['qa_manager']);
     const now = new Date();
-    const [noMethod] = await k('material').insert({ code: 'NOMETH' + Date.now(), name: 'No method yet', grade: '', monograph_ref: '', techniques: '["mid-ir-atr"]', active: 1, created_by: qa.id, created_at: now, updated_at: now });
+    const [noMethod] = await k('material').insert({
+      code: 'NOMETH' + Date.now(),
+      name: 'No method yet',
+      grade: '',
+      monograph_ref: '',
+      techniques: '["mid-ir-atr"]',
+      active: 1,
+      created_by: qa.id,
+      created_at: now,
+      updated_at: now,
+    });
     const noRef = await approvedMaterial({ name: 'Method but no reference', referenceFiles: [] });
     for (const id of [noMethod, noRef.materialId]) {
-      const res = await operator.agent.post('/api/lots').send({ materialId: id, supplier: 'X Supplies', supplierLot: 'A1', containerCount: 2, receivedDate: '2026-01-05' });
+      const res = await operator.agent.post('/api/lots').send({
+        materialId: id,
+        supplier: 'X Supplies',
+        supplierLot: 'A1',
+        containerCount: 2,
+        receivedDate: '2026-01-05',
+      });
       expect(res.status).toBe(422);
       expect(res.body.error.code).toBe('MATERIAL_NOT_RECEIVABLE');
       expect(res.body.error.message).toMatch(/approved/);
@@ -82,7 +109,12 @@ describe('lot receipt', () => {
   });
 
   it('refuses 0 and 1000 containers, a future date, and non-operators', async () => {
-    const base = { materialId: nylon.materialId, supplier: 'X Supplies', supplierLot: 'A1', receivedDate: '2026-01-05' };
+    const base = {
+      materialId: nylon.materialId,
+      supplier: 'X Supplies',
+      supplierLot: 'A1',
+      receivedDate: '2026-01-05',
+    };
     expect((await operator.agent.post('/api/lots').send({ ...base, containerCount: 0 })).status).toBe(400);
     expect((await operator.agent.post('/api/lots').send({ ...base, containerCount: 1000 })).status).toBe(400);
     expect((await operator.agent.post('/api/lots').send({ ...base, containerCount: 2.5 })).status).toBe(400);
@@ -97,7 +129,13 @@ describe('lot receipt', () => {
   it('gives 10 lots received at the same moment 10 different, consecutive numbers', async () => {
     const results = await Promise.all(
       Array.from({ length: 10 }, (_, i) =>
-        operator.agent.post('/api/lots').send({ materialId: nylon.materialId, supplier: 'Parallel Ltd', supplierLot: `P${i}`, containerCount: 2, receivedDate: '2026-01-05' }),
+        operator.agent.post('/api/lots').send({
+          materialId: nylon.materialId,
+          supplier: 'Parallel Ltd',
+          supplierLot: `P${i}`,
+          containerCount: 2,
+          receivedDate: '2026-01-05',
+        }),
       ),
     );
     expect(results.map((r) => r.status)).toEqual(Array(10).fill(201));
@@ -117,11 +155,14 @@ describe('lot receipt', () => {
 
   it('prints a label sheet PDF with each label as text and as a QR code', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 23);
-    const res = await operator.agent.get(`/api/lots/${lot.id}/labels.pdf`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await operator.agent
+      .get(`/api/lots/${lot.id}/labels.pdf`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'labels-'));
@@ -142,7 +183,9 @@ describe('lot receipt', () => {
     }
     const rects = (fs.readFileSync(qdf, 'latin1').match(/ re\b/g) ?? []).length;
     expect(rects).toBeGreaterThan(23 * 100);
-    const ev = await db()('audit_event').where({ action: 'lot.labels-printed', entity_id: String(lot.id) }).first();
+    const ev = await db()('audit_event')
+      .where({ action: 'lot.labels-printed', entity_id: String(lot.id) })
+      .first();
     expect(ev).toBeDefined();
   });
 });
@@ -166,7 +209,13 @@ describe('instrument check before testing', () => {
     const inst = await instrumentWithCheck('valid');
     const k = db();
     const check = await k('instrument_check').where({ id: inst.checkId }).first();
-    await k('instrument_check').insert({ ...check, id: undefined, verdict: 'fail', valid_until: null, performed_at: new Date() });
+    await k('instrument_check').insert({
+      ...check,
+      id: undefined,
+      verdict: 'fail',
+      valid_until: null,
+      performed_at: new Date(),
+    });
     const lot = await receiveLot(operator.agent, nylon.materialId, 1);
     const res = await operator.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.instrumentId });
     expect(res.status).toBe(409);
@@ -185,9 +234,16 @@ describe('instrument check before testing', () => {
     const inst = await instrumentWithCheck('valid');
     const lot = await receiveLot(operator.agent, nylon.materialId, 1);
     const testId = await startTest(operator.agent, lot.id, inst.instrumentId);
-    await db()('instrument_check').where({ id: inst.checkId }).update({ valid_until: new Date(Date.now() - 1000) });
+    await db()('instrument_check')
+      .where({ id: inst.checkId })
+      .update({ valid_until: new Date(Date.now() - 1000) });
     const before = await writeCounts();
-    const res = await uploadRequest(operator.agent, testId, { label: lot.containers[0].label }, FIBRES.nylon66Samples[0]);
+    const res = await uploadRequest(
+      operator.agent,
+      testId,
+      { label: lot.containers[0].label },
+      FIBRES.nylon66Samples[0],
+    );
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('INSTRUMENT_CHECK_DUE');
     expect(await writeCounts()).toEqual(before);
@@ -199,7 +255,12 @@ describe('measurements', () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 2);
     const testId = await startTest(operator.agent, lot.id, instrument.instrumentId);
     // the scanner types the label and Enter: the client sends the label as typed
-    const m = await upload(operator.agent, testId, { label: lot.containers[0].label.toLowerCase() }, FIBRES.nylon66Samples[0]);
+    const m = await upload(
+      operator.agent,
+      testId,
+      { label: lot.containers[0].label.toLowerCase() },
+      FIBRES.nylon66Samples[0],
+    );
     expect(m.verdict).toBe('pass');
     expect(m.label).toBe(lot.containers[0].label);
     // A repeat scan of the reference sample correlates near 1 (engine tests: repeat scans pass).
@@ -213,17 +274,22 @@ describe('measurements', () => {
     expect(JSON.parse(row.reference_ids)).toEqual(nylon.referenceIds);
     const result = JSON.parse(row.result);
     expect(result.engineVersion).toBe(row.engine_version);
-    expect(result.criteria.map((c: { key: string }) => c.key)).toEqual(expect.arrayContaining(['correlation', 'band-concordance']));
+    expect(result.criteria.map((c: { key: string }) => c.key)).toEqual(
+      expect.arrayContaining(['correlation', 'band-concordance']),
+    );
     expect(result.bands.length).toBeGreaterThan(3);
     const detail = await operator.agent.get(`/api/measurements/${m.id}`);
     expect(detail.body.method.version).toBe(1);
     expect(detail.body.references[0].id).toBe(nylon.referenceIds[0]);
     expect(detail.body.instrumentCheck.verdict).toBe('pass');
-    const raw = await operator.agent.get(`/api/measurements/${m.id}/file`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+    const raw = await operator.agent
+      .get(`/api/measurements/${m.id}/file`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
     expect(Buffer.compare(raw.body as Buffer, original)).toBe(0);
   });
 
@@ -234,16 +300,24 @@ describe('measurements', () => {
     const bad = await operator.agent
       .post(`/api/tests/${testId}/measurements`)
       .field('label', lot.containers[0].label)
-      .attach('file', Buffer.from('wavenumber,absorbance\n4000,0.1\n3999,abc\n'), { filename: 'broken.csv', contentType: 'text/csv' });
+      .attach('file', Buffer.from('wavenumber,absorbance\n4000,0.1\n3999,abc\n'), {
+        filename: 'broken.csv',
+        contentType: 'text/csv',
+      });
     expect(bad.status).toBe(422);
     expect(bad.body.error.message).toMatch(/broken\.csv/);
     expect(bad.body.error.message).toMatch(/Nothing was stored/);
     const binary = await operator.agent
       .post(`/api/tests/${testId}/measurements`)
       .field('label', lot.containers[0].label)
-      .attach('file', Buffer.from([0x89, 0x50, 0x4e, 0x47, 0, 0, 0, 0, 1, 2, 3]), { filename: 'photo.png', contentType: 'image/png' });
+      .attach('file', Buffer.from([0x89, 0x50, 0x4e, 0x47, 0, 0, 0, 0, 1, 2, 3]), {
+        filename: 'photo.png',
+        contentType: 'image/png',
+      });
     expect(binary.status).toBe(422);
-    const noFile = await operator.agent.post(`/api/tests/${testId}/measurements`).field('label', lot.containers[0].label);
+    const noFile = await operator.agent
+      .post(`/api/tests/${testId}/measurements`)
+      .field('label', lot.containers[0].label);
     expect(noFile.status).toBe(400);
     const wrong = await uploadRequest(operator.agent, testId, { label: 'L-1999-00001-001' }, FIBRES.nylon66Samples[0]);
     expect(wrong.status).toBe(422);
@@ -276,26 +350,41 @@ describe('measurements', () => {
     const testId = await startTest(operator.agent, lot.id, instrument.instrumentId);
     const first = await upload(operator.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
     const rowBefore = await db()('measurement').where({ id: first.id }).first();
-    const second = await upload(operator.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[2]);
+    const second = await upload(
+      operator.agent,
+      testId,
+      { containerId: lot.containers[0].id },
+      FIBRES.nylon66Samples[2],
+    );
     expect(second.id).toBeGreaterThan(first.id);
     expect(await db()('measurement').where({ id: first.id }).first()).toEqual(rowBefore);
     const detail = await operator.agent.get(`/api/tests/${testId}`);
     expect(detail.body.containers[0].measurements.map((m: { id: number }) => m.id)).toEqual([first.id, second.id]);
     expect(detail.body.containers[0].latest.id).toBe(second.id);
     // the database itself refuses to change a measurement (append-only grant for the runtime account)
-    await expect(db()('measurement').where({ id: first.id }).update({ verdict: 'fail' })).rejects.toThrow(/denied|append-only/i);
+    await expect(db()('measurement').where({ id: first.id }).update({ verdict: 'fail' })).rejects.toThrow(
+      /denied|append-only/i,
+    );
   });
 
   it('keeps two uploads for the same container sent at once as separate measurements, in order', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 1);
     const testId = await startTest(operator.agent, lot.id, instrument.instrumentId);
-    const files = [FIBRES.nylon66Samples[0], FIBRES.nylon66Samples[1], FIBRES.nylon66Samples[2], FIBRES.nylon66Samples[0]];
-    const res = await Promise.all(files.map((f) => uploadRequest(operator.agent, testId, { containerId: lot.containers[0].id }, f)));
+    const files = [
+      FIBRES.nylon66Samples[0],
+      FIBRES.nylon66Samples[1],
+      FIBRES.nylon66Samples[2],
+      FIBRES.nylon66Samples[0],
+    ];
+    const res = await Promise.all(
+      files.map((f) => uploadRequest(operator.agent, testId, { containerId: lot.containers[0].id }, f)),
+    );
     expect(res.map((r) => r.status)).toEqual([201, 201, 201, 201]);
     const rows = await db()('measurement').where({ test_id: testId }).orderBy('id');
     expect(rows).toHaveLength(4);
     expect(new Set(rows.map((r) => r.file_id)).size).toBe(4);
-    for (let i = 1; i < rows.length; i++) expect(new Date(rows[i].created_at).getTime()).toBeGreaterThanOrEqual(new Date(rows[i - 1].created_at).getTime());
+    for (let i = 1; i < rows.length; i++)
+      expect(new Date(rows[i].created_at).getTime()).toBeGreaterThanOrEqual(new Date(rows[i - 1].created_at).getTime());
     const detail = await operator.agent.get(`/api/tests/${testId}`);
     expect(detail.body.containers[0].latest.id).toBe(rows[3].id);
   });
@@ -307,10 +396,28 @@ describe('measurements', () => {
     const [c1, c2, c3] = lot.containers.map((c) => c.label);
     const before = await writeCounts();
     const res = await operator.agent.post(`/api/tests/${testId}/match-files`).send({
-      fileNames: [`${c1}.csv`, `scan_${c2.toLowerCase()}_final.jdx`, `${c3}-repeat.csv`, `${c3}.csv`, 'spectrum.csv', `${other.containers[0].label}.csv`, `${lot.lotNumber}-004.csv`, `${c1}_${c2}.csv`],
+      fileNames: [
+        `${c1}.csv`,
+        `scan_${c2.toLowerCase()}_final.jdx`,
+        `${c3}-repeat.csv`,
+        `${c3}.csv`,
+        'spectrum.csv',
+        `${other.containers[0].label}.csv`,
+        `${lot.lotNumber}-004.csv`,
+        `${c1}_${c2}.csv`,
+      ],
     });
     expect(res.status).toBe(200);
-    expect(res.body.map((r: { status: string }) => r.status)).toEqual(['matched', 'matched', 'duplicate', 'duplicate', 'no-label', 'other-lot', 'unknown-label', 'several-labels']);
+    expect(res.body.map((r: { status: string }) => r.status)).toEqual([
+      'matched',
+      'matched',
+      'duplicate',
+      'duplicate',
+      'no-label',
+      'other-lot',
+      'unknown-label',
+      'several-labels',
+    ]);
     expect(res.body[1]).toMatchObject({ label: c2, containerId: lot.containers[1].id });
     expect(await writeCounts()).toEqual(before);
   });
@@ -324,7 +431,9 @@ describe('measurements', () => {
     expect(early.status).toBe(409);
     expect(early.body.error.details.missing).toEqual([lot.containers[1].label]);
     await upload(operator.agent, testId, { containerId: lot.containers[1].id }, FIBRES.nylon66Samples[1]);
-    const wrongPw = await operator.agent.post(`/api/tests/${testId}/perform`).send({ signature: { username: operator.user.username, password: 'wrong-password-xx' } });
+    const wrongPw = await operator.agent
+      .post(`/api/tests/${testId}/perform`)
+      .send({ signature: { username: operator.user.username, password: 'wrong-password-xx' } });
     expect(wrongPw.status).toBe(401);
     const ok = await operator.agent.post(`/api/tests/${testId}/perform`).send({ signature: sig(operator.user) });
     expect(ok.status).toBe(200);
@@ -337,7 +446,12 @@ describe('measurements', () => {
     expect(mails.map((m) => m.to_address)).toContain(`${verifier.username}@test.example`);
     expect(mails.map((m) => m.to_address)).not.toContain(`${operator.user.username}@test.example`);
     // no more measurements once performed
-    const late = await uploadRequest(operator.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[2]);
+    const late = await uploadRequest(
+      operator.agent,
+      testId,
+      { containerId: lot.containers[0].id },
+      FIBRES.nylon66Samples[2],
+    );
     expect(late.status).toBe(409);
   });
 });

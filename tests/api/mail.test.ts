@@ -9,7 +9,9 @@ describe('mail outbox', () => {
   it('delivers queued mail to the fake SMTP server and marks it sent', async () => {
     await initMail(loadConfig({ smtp: null }));
     const qa = await makeUser(['qa_manager']);
-    await db().transaction((trx) => enqueueMailToRole(trx, 'qa_manager', 'Reference awaits approval', 'REF-TEST-1 awaits your approval.'));
+    await db().transaction((trx) =>
+      enqueueMailToRole(trx, 'qa_manager', 'Reference awaits approval', 'REF-TEST-1 awaits your approval.'),
+    );
     // Earlier test files share this database and may have left mail queued: drain the outbox.
     const sent = await processOutbox(db(), 100_000);
     expect(sent).toBeGreaterThan(0);
@@ -22,7 +24,9 @@ describe('mail outbox', () => {
 
   it('a mail to an unreachable address is retried later and kept, not lost', async () => {
     // The fake server refuses recipients under the reserved .invalid domain (RFC 2606).
-    const id = await db().transaction((trx) => enqueueMail(trx, { to: ['nobody@mailbox.invalid'], subject: 'bad', text: 'x' }));
+    const id = await db().transaction((trx) =>
+      enqueueMail(trx, { to: ['nobody@mailbox.invalid'], subject: 'bad', text: 'x' }),
+    );
     await processOutbox(db(), 100_000);
     const row = await db()('mail_outbox').where({ id }).first();
     expect(row.status).toBe('queued');

@@ -11,7 +11,13 @@ describe('roles are enforced by the server', () => {
     const { agent } = await agentFor([role]);
     const list = await agent.get('/api/users');
     expect(list.status).toBe(403);
-    const create = await agent.post('/api/users').send({ username: 'someone', fullName: 'Some One', email: 'a@b.example', roles: ['admin'], temporaryPassword: 'long-enough-password' });
+    const create = await agent.post('/api/users').send({
+      username: 'someone',
+      fullName: 'Some One',
+      email: 'a@b.example',
+      roles: ['admin'],
+      temporaryPassword: 'long-enough-password',
+    });
     expect(create.status).toBe(403);
   });
 
@@ -44,7 +50,10 @@ describe('foreign Origin', () => {
 
 describe('bad input gets 400 with the error shape and writes nothing', () => {
   it('malformed JSON', async () => {
-    const res = await request(testApp()).post('/api/auth/sign-in').set('Content-Type', 'application/json').send('{"username": ');
+    const res = await request(testApp())
+      .post('/api/auth/sign-in')
+      .set('Content-Type', 'application/json')
+      .send('{"username": ');
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe('MALFORMED_JSON');
     expect(JSON.stringify(res.body)).not.toMatch(/at .*\.ts/); // no stack trace
@@ -54,8 +63,20 @@ describe('bad input gets 400 with the error shape and writes nothing', () => {
     const before = await db()('app_user').count({ n: '*' });
     const cases = [
       { fullName: 'No Username', email: 'x@y.example', roles: ['operator'], temporaryPassword: 'long-enough-password' },
-      { username: 'x'.repeat(300), fullName: 'Long', email: 'x@y.example', roles: ['operator'], temporaryPassword: 'long-enough-password' },
-      { username: 'rolecheck', fullName: 'Role', email: 'x@y.example', roles: ['superuser'], temporaryPassword: 'long-enough-password' },
+      {
+        username: 'x'.repeat(300),
+        fullName: 'Long',
+        email: 'x@y.example',
+        roles: ['operator'],
+        temporaryPassword: 'long-enough-password',
+      },
+      {
+        username: 'rolecheck',
+        fullName: 'Role',
+        email: 'x@y.example',
+        roles: ['superuser'],
+        temporaryPassword: 'long-enough-password',
+      },
       { username: 'shortpw', fullName: 'Short', email: 'x@y.example', roles: ['operator'], temporaryPassword: 'short' },
     ];
     for (const body of cases) {
@@ -93,7 +114,9 @@ describe('OpenAPI document', () => {
     expect(res.body.openapi).toBe('3.1.0');
     // Walk Express's own router stack (not our registry) so a route added any other way is caught.
     const mounted: string[] = [];
-    const walk = (stack: { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: unknown[] } }[]) => {
+    const walk = (
+      stack: { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: unknown[] } }[],
+    ) => {
       for (const layer of stack) {
         if (layer.route) for (const m of Object.keys(layer.route.methods)) mounted.push(`${m} ${layer.route.path}`);
         else if (layer.handle?.stack) walk(layer.handle.stack as never);

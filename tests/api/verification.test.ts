@@ -12,7 +12,18 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { db, sig } from './helpers';
-import { agent, approvedMaterial, FIBRES, flushMail, retire, instrumentWithCheck, receiveLot, startTest, upload, type ApprovedMaterial } from './fixtures-testing';
+import {
+  agent,
+  approvedMaterial,
+  FIBRES,
+  flushMail,
+  retire,
+  instrumentWithCheck,
+  receiveLot,
+  startTest,
+  upload,
+  type ApprovedMaterial,
+} from './fixtures-testing';
 
 type Signed = Awaited<ReturnType<typeof agent>>;
 
@@ -57,9 +68,13 @@ describe('segregation of duties', () => {
     const v = await dana.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(dana.user) });
     expect(v.status).toBe(403);
     expect(v.body.error.message).toMatch(/performed this test/);
-    const r = await dana.agent.post(`/api/tests/${testId}/return`).send({ reason: 'I would like to redo my own work', signature: sig(dana.user) });
+    const r = await dana.agent
+      .post(`/api/tests/${testId}/return`)
+      .send({ reason: 'I would like to redo my own work', signature: sig(dana.user) });
     expect(r.status).toBe(403);
-    expect(await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' })).toHaveLength(0);
+    expect(
+      await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' }),
+    ).toHaveLength(0);
     // ...while another verifier sees it and may sign it
     const q2 = await victor.agent.get('/api/verification/queue');
     expect(q2.body.map((t: { testId: number }) => t.testId)).toContain(testId);
@@ -71,7 +86,9 @@ describe('segregation of duties', () => {
     const testId = await startTest(olga.agent, lot.id, instrumentId);
     await upload(olga.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
     await upload(helper.agent, testId, { containerId: lot.containers[1].id }, FIBRES.nylon66Samples[1]);
-    expect((await olga.agent.post(`/api/tests/${testId}/perform`).send({ signature: sig(olga.user) })).status).toBe(200);
+    expect((await olga.agent.post(`/api/tests/${testId}/perform`).send({ signature: sig(olga.user) })).status).toBe(
+      200,
+    );
     const v = await helper.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(helper.user) });
     expect(v.status).toBe(403);
     expect(v.body.error.message).toMatch(/recorded measurements/);
@@ -80,12 +97,21 @@ describe('segregation of duties', () => {
   it('an operator without the verifier role cannot verify (403), and a wrong password signs nothing (401, audited)', async () => {
     const { testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 1));
     const other = await agent(['operator']);
-    expect((await other.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(other.user) })).status).toBe(403);
+    expect((await other.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(other.user) })).status).toBe(
+      403,
+    );
     const v2 = await agent(['verifier']);
-    const bad = await v2.agent.post(`/api/tests/${testId}/verify`).send({ signature: { username: v2.user.username, password: 'not-the-password' } });
+    const bad = await v2.agent
+      .post(`/api/tests/${testId}/verify`)
+      .send({ signature: { username: v2.user.username, password: 'not-the-password' } });
     expect(bad.status).toBe(401);
     expect((await db()('identity_test').where({ id: testId }).first()).status).toBe('awaiting-verification');
-    const refused = await db()('audit_event').where({ action: 'signature.refused', entity_type: 'identity_test', entity_id: String(testId), actor_id: v2.user.id });
+    const refused = await db()('audit_event').where({
+      action: 'signature.refused',
+      entity_type: 'identity_test',
+      entity_id: String(testId),
+      actor_id: v2.user.id,
+    });
     expect(refused).toHaveLength(1);
   });
 });
@@ -114,21 +140,31 @@ describe('verification and outcome', () => {
     expect(o.difference[i]).toBeCloseTo(o.sample[i] - o.reference[i], 5);
     expect(plot.body.raw.x.length).toBeGreaterThan(1000);
 
-    const v = await victor.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(victor.user), comment: 'Raw data, instrument check and versions reviewed.' });
+    const v = await victor.agent
+      .post(`/api/tests/${testId}/verify`)
+      .send({ signature: sig(victor.user), comment: 'Raw data, instrument check and versions reviewed.' });
     expect(v.status).toBe(200);
     expect(v.body.outcome).toBe('passed');
     const after = await victor.agent.get(`/api/lots/${lot.id}`);
     expect(after.body).toMatchObject({ identityStatus: 'passed', status: 'quarantine' });
     expect(['issued', 'pending']).toContain(after.body.certificate.state);
     expect(after.body.certificate.state).toBe(v.body.certificate);
-    expect(after.body.containers.every((c: { effective: { verdict: string } }) => c.effective.verdict === 'pass')).toBe(true);
+    expect(after.body.containers.every((c: { effective: { verdict: string } }) => c.effective.verdict === 'pass')).toBe(
+      true,
+    );
     const test = await victor.agent.get(`/api/tests/${testId}`);
-    expect(test.body.signatures.map((s: { meaning: string; printedName: string }) => [s.meaning, s.printedName])).toEqual([
+    expect(
+      test.body.signatures.map((s: { meaning: string; printedName: string }) => [s.meaning, s.printedName]),
+    ).toEqual([
       ['performed', olga.user.fullName],
       ['verified', victor.user.fullName],
     ]);
     // signature, verification and outcome were appended together, in this order, in one transaction
-    const events = await db()('audit_event').whereIn('action', ['signature.signed', 'test.verified', 'lot.identity-passed']).andWhere('actor_id', victor.user.id).orderBy('id', 'desc').limit(3);
+    const events = await db()('audit_event')
+      .whereIn('action', ['signature.signed', 'test.verified', 'lot.identity-passed'])
+      .andWhere('actor_id', victor.user.id)
+      .orderBy('id', 'desc')
+      .limit(3);
     const ids = events.map((e) => Number(e.id)).sort((a, b) => a - b);
     expect(events.map((e) => e.action).reverse()).toEqual(['signature.signed', 'test.verified', 'lot.identity-passed']);
     expect(ids[2] - ids[0]).toBe(2);
@@ -137,11 +173,17 @@ describe('verification and outcome', () => {
   it('ten verifiers signing the same test at once: exactly one signature, the others 409', async () => {
     const { lot, testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 2));
     const verifiers = await Promise.all(Array.from({ length: 10 }, () => agent(['verifier'])));
-    const res = await Promise.all(verifiers.map((v) => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })));
+    const res = await Promise.all(
+      verifiers.map((v) => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })),
+    );
     const statuses = res.map((r) => r.status).sort();
     expect(statuses).toEqual([200, ...Array(9).fill(409)]);
-    expect(await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' })).toHaveLength(1);
-    expect(await db()('audit_event').where({ action: 'lot.identity-passed', entity_id: String(lot.id) })).toHaveLength(1);
+    expect(
+      await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' }),
+    ).toHaveLength(1);
+    expect(await db()('audit_event').where({ action: 'lot.identity-passed', entity_id: String(lot.id) })).toHaveLength(
+      1,
+    );
     const winner = res.findIndex((r) => r.status === 200);
     expect((await db()('identity_test').where({ id: testId }).first()).verified_by).toBe(verifiers[winner].user.id);
     for (const r of res.filter((x) => x.status === 409)) expect(r.body.error.message).toMatch(/already been verified/);
@@ -150,22 +192,30 @@ describe('verification and outcome', () => {
   it('the same verifier double-clicking: one signature, one 409', async () => {
     const { testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 1));
     const v = await agent(['verifier']);
-    const res = await Promise.all([0, 1, 2].map(() => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })));
+    const res = await Promise.all(
+      [0, 1, 2].map(() => v.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(v.user) })),
+    );
     expect(res.map((r) => r.status).sort()).toEqual([200, 409, 409]);
-    expect(await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' })).toHaveLength(1);
+    expect(
+      await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' }),
+    ).toHaveLength(1);
   });
 
   it('returns a test with a mandatory reason: mail to the performer, attempt kept, a new attempt re-measures', async () => {
     const { lot, testId } = await performedLot(olga, FIBRES.nylon66Samples.slice(0, 2));
     const noReason = await victor.agent.post(`/api/tests/${testId}/return`).send({ signature: sig(victor.user) });
     expect(noReason.status).toBe(400);
-    const short = await victor.agent.post(`/api/tests/${testId}/return`).send({ reason: 'no', signature: sig(victor.user) });
+    const short = await victor.agent
+      .post(`/api/tests/${testId}/return`)
+      .send({ reason: 'no', signature: sig(victor.user) });
     expect(short.status).toBe(400);
     const reason = 'Container 002 file is from the previous shift (time stamp in the title); re-measure it.';
     const r = await victor.agent.post(`/api/tests/${testId}/return`).send({ reason, signature: sig(victor.user) });
     expect(r.status).toBe(200);
     expect(r.body).toMatchObject({ status: 'returned', returnedReason: reason });
-    const mail = await db()('mail_outbox').where('subject', 'like', `Identity test returned: lot ${lot.lotNumber}%`).first();
+    const mail = await db()('mail_outbox')
+      .where('subject', 'like', `Identity test returned: lot ${lot.lotNumber}%`)
+      .first();
     expect(mail.to_address).toBe(`${olga.user.username}@test.example`);
     expect(mail.body).toContain(reason);
     const lotNow = await olga.agent.get(`/api/lots/${lot.id}`);
@@ -173,7 +223,9 @@ describe('verification and outcome', () => {
     // the returned attempt's results do not count for the lot
     expect(lotNow.body.containers.every((c: { effective: unknown }) => c.effective === null)).toBe(true);
     // no verify after return
-    expect((await victor.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(victor.user) })).status).toBe(409);
+    expect((await victor.agent.post(`/api/tests/${testId}/verify`).send({ signature: sig(victor.user) })).status).toBe(
+      409,
+    );
     // operator starts attempt 2 and re-measures; attempt 1 and its measurements stay
     const t2 = await startTest(olga.agent, lot.id, instrumentId);
     const detail2 = await olga.agent.get(`/api/tests/${t2}`);
@@ -182,15 +234,22 @@ describe('verification and outcome', () => {
     await upload(olga.agent, t2, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
     await upload(olga.agent, t2, { containerId: lot.containers[1].id }, FIBRES.nylon66Samples[2]);
     expect((await olga.agent.post(`/api/tests/${t2}/perform`).send({ signature: sig(olga.user) })).status).toBe(200);
-    expect((await victor.agent.post(`/api/tests/${t2}/verify`).send({ signature: sig(victor.user) })).body.outcome).toBe('passed');
+    expect(
+      (await victor.agent.post(`/api/tests/${t2}/verify`).send({ signature: sig(victor.user) })).body.outcome,
+    ).toBe('passed');
     const final = await olga.agent.get(`/api/lots/${lot.id}`);
     expect(final.body.tests.map((t: { status: string }) => t.status)).toEqual(['returned', 'verified']);
-    expect(final.body.tests[0].signatures.map((s: { meaning: string }) => s.meaning)).toEqual(['performed', 'returned']);
+    expect(final.body.tests[0].signatures.map((s: { meaning: string }) => s.meaning)).toEqual([
+      'performed',
+      'returned',
+    ]);
   });
 
   it('a test with a failing container cannot be returned for re-measurement (only QA can invalidate a failure)', async () => {
     const { testId } = await performedLot(olga, [FIBRES.nylon66Samples[0], FIBRES.petSample]);
-    const r = await victor.agent.post(`/api/tests/${testId}/return`).send({ reason: 'Please measure the second drum again.', signature: sig(victor.user) });
+    const r = await victor.agent
+      .post(`/api/tests/${testId}/return`)
+      .send({ reason: 'Please measure the second drum again.', signature: sig(victor.user) });
     expect(r.status).toBe(409);
     expect(r.body.error.code).toBe('FAILURE_NEEDS_INVESTIGATION');
     expect((await db()('identity_test').where({ id: testId }).first()).status).toBe('awaiting-verification');

@@ -115,30 +115,114 @@ writeFileSync(path.join(dir, 'controls/control-percent-t.csv'), csv('cm-1,%T', X
 write('empty.csv', '');
 write('whitespace-only.txt', '   \n\n\t \r\n  \n');
 // A PNG signature followed by bytes 0..255: what an image upload looks like.
-write('image-named.csv', Uint8Array.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, ...Array.from({ length: 256 }, (_, i) => i)]));
+write(
+  'image-named.csv',
+  Uint8Array.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, ...Array.from({ length: 256 }, (_, i) => i)]),
+);
 // A zip local-file header (an .xlsx or .zip renamed): binary with NUL bytes.
-write('spreadsheet-renamed.csv', Uint8Array.from([0x50, 0x4b, 0x03, 0x04, 0x14, 0x00, 0x06, 0x00, 0x08, 0x00, ...Array.from({ length: 200 }, (_, i) => (i * 37) % 256)]));
+write(
+  'spreadsheet-renamed.csv',
+  Uint8Array.from([
+    0x50,
+    0x4b,
+    0x03,
+    0x04,
+    0x14,
+    0x00,
+    0x06,
+    0x00,
+    0x08,
+    0x00,
+    ...Array.from({ length: 200 }, (_, i) => (i * 37) % 256),
+  ]),
+);
 
 // --- delimited text structure ----------------------------------------------------
 write('one-column.csv', 'absorbance\n' + A.map(r6).join('\n') + '\n');
 write('header-only.csv', 'cm-1,A\n');
 write('prose.txt', 'Dear colleague,\nplease find the spectrum of drum 12 attached.\nBest regards\n');
-write('text-in-numbers.csv', csv('cm-1,A', X, A.map(r6).map((v, i) => (i === 150 ? '0.1o3' : v))));
-write('nan-values.csv', csv('cm-1,A', X, A.map(r6).map((v, i) => (i === 40 ? 'NaN' : v))));
-write('empty-field.csv', csv('cm-1,A', X, A.map(r6).map((v, i) => (i === 77 ? '' : v))));
+write(
+  'text-in-numbers.csv',
+  csv(
+    'cm-1,A',
+    X,
+    A.map(r6).map((v, i) => (i === 150 ? '0.1o3' : v)),
+  ),
+);
+write(
+  'nan-values.csv',
+  csv(
+    'cm-1,A',
+    X,
+    A.map(r6).map((v, i) => (i === 40 ? 'NaN' : v)),
+  ),
+);
+write(
+  'empty-field.csv',
+  csv(
+    'cm-1,A',
+    X,
+    A.map(r6).map((v, i) => (i === 77 ? '' : v)),
+  ),
+);
 write('three-columns.csv', 'cm-1,A,A\n' + X.map((x, i) => `${x},${r6(A[i])},${r6(A[i] * 1.1)}`).join('\n') + '\n');
-write('ragged-rows.csv', csv('cm-1,A', X, A.map(r6).map((v, i) => (i === 200 ? `${v},0.5` : v))));
+write(
+  'ragged-rows.csv',
+  csv(
+    'cm-1,A',
+    X,
+    A.map(r6).map((v, i) => (i === 200 ? `${v},0.5` : v)),
+  ),
+);
 
 // --- values ------------------------------------------------------------------------
 write('too-few-points.csv', csv('cm-1,A', X.slice(0, 12), A.slice(0, 12).map(r6)));
-write('descending-duplicates.csv', csv('cm-1,A', X.map((x, i) => (i === 101 ? X[100] : x)), A.map(r6)));
-write('two-scans-appended.csv', csv('cm-1,A', [...X.slice(0, 180), ...X.slice(0, 180)], [...A.slice(0, 180), ...A.slice(0, 180)].map(r6)));
-write('percent-t-above-100.csv', csv('cm-1,%T', X, T_PERCENT.map((t) => r6(t * 1.5))));
-write('zero-transmittance.csv', csv('cm-1,%T', X, T_PERCENT.map((t, i) => (i === 123 ? 0 : r6(t)))));
+write(
+  'descending-duplicates.csv',
+  csv(
+    'cm-1,A',
+    X.map((x, i) => (i === 101 ? X[100] : x)),
+    A.map(r6),
+  ),
+);
+write(
+  'two-scans-appended.csv',
+  csv('cm-1,A', [...X.slice(0, 180), ...X.slice(0, 180)], [...A.slice(0, 180), ...A.slice(0, 180)].map(r6)),
+);
+write(
+  'percent-t-above-100.csv',
+  csv(
+    'cm-1,%T',
+    X,
+    T_PERCENT.map((t) => r6(t * 1.5)),
+  ),
+);
+write(
+  'zero-transmittance.csv',
+  csv(
+    'cm-1,%T',
+    X,
+    T_PERCENT.map((t, i) => (i === 123 ? 0 : r6(t))),
+  ),
+);
 // Headerless x from 800 to 1300 on an uneven step: cm-1 or nm cannot be told apart.
 const XU = Array.from({ length: 200 }, (_, i) => r6(800.31 + 2.5127 * i));
-write('unknown-x-units.csv', csv(null, XU, XU.map((x) => r6(0.1 + 0.5 * Math.exp(-(((x - 1000) / 30) ** 2))))));
-write('unknown-y-units.csv', csv('cm-1,counts', X, A.map((a) => Math.round(a * 50000))));
+write(
+  'unknown-x-units.csv',
+  csv(
+    null,
+    XU,
+    XU.map((x) => r6(0.1 + 0.5 * Math.exp(-(((x - 1000) / 30) ** 2)))),
+  ),
+);
+write(
+  'unknown-y-units.csv',
+  csv(
+    'cm-1,counts',
+    X,
+    A.map((a) => Math.round(a * 50000)),
+  ),
+);
 write('micrometres-labelled-cm-1.csv', csv('cm-1,A', X.map((x) => r6(1e4 / x)).reverse(), A.map(r6).reverse()));
 
 // --- JCAMP-DX --------------------------------------------------------------------------
@@ -146,15 +230,32 @@ const nirNm = Array.from({ length: 141 }, (_, i) => 1100 + 10 * i); // 1100-2500
 write(
   'nm-data-labelled-cm-1.jdx',
   jcamp(
-    { title: 'NIR spectrum, x written in nm but labelled 1/CM', dataType: 'NEAR INFRARED SPECTRUM', firstX: 1100, lastX: 2500, npoints: 141, firstY: 0.2 },
+    {
+      title: 'NIR spectrum, x written in nm but labelled 1/CM',
+      dataType: 'NEAR INFRARED SPECTRUM',
+      firstX: 1100,
+      lastX: 2500,
+      npoints: 141,
+      firstY: 0.2,
+    },
     '(X++(Y..Y))',
-    affnLines(nirNm, nirNm.map((x) => 2000 + Math.round(3000 * Math.exp(-(((x - 1730) / 40) ** 2))))),
+    affnLines(
+      nirNm,
+      nirNm.map((x) => 2000 + Math.round(3000 * Math.exp(-(((x - 1730) / 40) ** 2)))),
+    ),
   ),
 );
 const difLines = difdupLines(X, Y_INT);
 write('truncated.jdx', jcamp({}, '(X++(Y..Y))', difLines, false).split('\n').slice(0, 30).join('\n').slice(0, -7));
 write('missing-end.jdx', jcamp({}, '(X++(Y..Y))', difLines, false));
-write('wrong-xydata-form.jdx', jcamp({}, '(X,Y)', X.map((x, i) => `${x}, ${Y_INT[i]}`)));
+write(
+  'wrong-xydata-form.jdx',
+  jcamp(
+    {},
+    '(X,Y)',
+    X.map((x, i) => `${x}, ${Y_INT[i]}`),
+  ),
+);
 // One character of a DIF line changed (the first positive difference on data line 10: J->K, K->L, ...).
 const corrupted = [...difLines];
 corrupted[9] = corrupted[9].replace(/[J-Q]/, (c) => String.fromCharCode(c.charCodeAt(0) + 1));
@@ -162,10 +263,27 @@ write('dif-check-corrupted.jdx', jcamp({}, '(X++(Y..Y))', corrupted));
 write('npoints-mismatch.jdx', jcamp({ npoints: N + 20 }, '(X++(Y..Y))', affnLines(X, Y_INT)));
 // LASTX edited: the line abscissas no longer fall on FIRSTX + i * (LASTX - FIRSTX) / (NPOINTS - 1).
 write('x-check-lastx-edited.jdx', jcamp({ lastX: 300 }, '(X++(Y..Y))', affnLines(X, Y_INT)));
-write('bad-character.jdx', jcamp({}, '(X++(Y..Y))', difLines.map((l, i) => (i === 5 ? l.slice(0, 8) + '!' + l.slice(8) : l))));
+write(
+  'bad-character.jdx',
+  jcamp(
+    {},
+    '(X++(Y..Y))',
+    difLines.map((l, i) => (i === 5 ? l.slice(0, 8) + '!' + l.slice(8) : l)),
+  ),
+);
 write(
   'nmr-spectrum.jdx',
-  jcamp({ title: '1H NMR of a test compound', dataType: 'NMR SPECTRUM', xUnits: 'HZ', yUnits: 'ARBITRARY UNITS', extra: ['##.OBSERVE FREQUENCY=400.13'] }, '(X++(Y..Y))', affnLines(X, Y_INT)),
+  jcamp(
+    {
+      title: '1H NMR of a test compound',
+      dataType: 'NMR SPECTRUM',
+      xUnits: 'HZ',
+      yUnits: 'ARBITRARY UNITS',
+      extra: ['##.OBSERVE FREQUENCY=400.13'],
+    },
+    '(X++(Y..Y))',
+    affnLines(X, Y_INT),
+  ),
 );
 write('no-title.jdx', jcamp({}, '(X++(Y..Y))', affnLines(X, Y_INT)).replace(/^##TITLE=.*\n/, ''));
 write('missing-npoints.jdx', jcamp({ npoints: '' }, '(X++(Y..Y))', affnLines(X, Y_INT)));
@@ -173,18 +291,47 @@ write('bad-npoints-value.jdx', jcamp({ npoints: 'three hundred' }, '(X++(Y..Y))'
 write('label-without-equals.jdx', jcamp({}, '(X++(Y..Y))', affnLines(X, Y_INT)).replace('##XYDATA=', '##XYDATA '));
 write('arbitrary-y-units.jdx', jcamp({ yUnits: 'ARBITRARY UNITS' }, '(X++(Y..Y))', affnLines(X, Y_INT)));
 write('missing-data-type.jdx', jcamp({ dataType: '' }, '(X++(Y..Y))', affnLines(X, Y_INT)));
-write('question-mark-value.jdx', jcamp({}, '(X++(Y..Y))', affnLines(X, Y_INT.map((v, i) => (i === 100 ? '?' : v)))));
+write(
+  'question-mark-value.jdx',
+  jcamp(
+    {},
+    '(X++(Y..Y))',
+    affnLines(
+      X,
+      Y_INT.map((v, i) => (i === 100 ? '?' : v)),
+    ),
+  ),
+);
 // A DUP count of about a billion on the first line: must be refused at once, not expanded.
 write('dup-count-bomb.jdx', jcamp({}, '(X++(Y..Y))', [`${X[0]}${SQZ(Y_INT[0])}%s99999999`, ...difLines.slice(1)]));
 {
-  const block = (title: string) => [...jcampHeader({ title }), '##XYDATA=(X++(Y..Y))', ...affnLines(X, Y_INT), '##END='];
+  const block = (title: string) => [
+    ...jcampHeader({ title }),
+    '##XYDATA=(X++(Y..Y))',
+    ...affnLines(X, Y_INT),
+    '##END=',
+  ];
   write(
     'two-spectra-link-block.jdx',
-    ['##TITLE=Two spectra in one file', '##JCAMP-DX=5.01', '##DATA TYPE=LINK', '##BLOCKS=2', ...block('Drum 1'), ...block('Drum 2'), '##END='].join('\n') + '\n',
+    [
+      '##TITLE=Two spectra in one file',
+      '##JCAMP-DX=5.01',
+      '##DATA TYPE=LINK',
+      '##BLOCKS=2',
+      ...block('Drum 1'),
+      ...block('Drum 2'),
+      '##END=',
+    ].join('\n') + '\n',
   );
 }
 write(
   'peak-table-only.jdx',
-  [...jcampHeader({ dataType: 'INFRARED PEAK TABLE', npoints: 4 }), '##PEAK TABLE=(XY..XY)', '2920,0.6 1730,0.9', '1450,0.3 1100,0.5', '##END='].join('\n') + '\n',
+  [
+    ...jcampHeader({ dataType: 'INFRARED PEAK TABLE', npoints: 4 }),
+    '##PEAK TABLE=(XY..XY)',
+    '2920,0.6 1730,0.9',
+    '1450,0.3 1100,0.5',
+    '##END=',
+  ].join('\n') + '\n',
 );
 write('csv-named-jdx.jdx', csv('cm-1,A', X, A.map(r6)));

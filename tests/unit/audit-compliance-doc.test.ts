@@ -34,7 +34,11 @@ function citations(): Citation[] {
         out.push({ file, chain });
       } else if (part.trim().startsWith('› ') && file) {
         // "› test" continues the describe block; "› block › test" starts another block of the same file
-        const segs = part.trim().slice(2).split(' › ').map((x) => x.trim());
+        const segs = part
+          .trim()
+          .slice(2)
+          .split(' › ')
+          .map((x) => x.trim());
         if (segs.length > 1) parent = segs.slice(0, -1);
         out.push({ file, chain: [...parent, segs[segs.length - 1]] });
       }
@@ -66,7 +70,24 @@ describe('docs/compliance.md', () => {
   const cited = citations();
 
   it('has a row for every clause the issue names', () => {
-    for (const clause of ['11.10(a)', '11.10(b)', '11.10(c)', '11.10(d)', '11.10(e)', '11.10(f)', '11.10(g)', '11.10(h)', '11.10(i)', '11.10(j)', '11.10(k)', '11.50', '11.70', '11.100', '11.200', '11.300'])
+    for (const clause of [
+      '11.10(a)',
+      '11.10(b)',
+      '11.10(c)',
+      '11.10(d)',
+      '11.10(e)',
+      '11.10(f)',
+      '11.10(g)',
+      '11.10(h)',
+      '11.10(i)',
+      '11.10(j)',
+      '11.10(k)',
+      '11.50',
+      '11.70',
+      '11.100',
+      '11.200',
+      '11.300',
+    ])
       expect(doc, clause).toContain(`| **${clause}**`);
     for (const s of ['§4', '§7', '§9', '§12', '§14']) expect(doc, s).toContain(`| **${s} `);
   });

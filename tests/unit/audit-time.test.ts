@@ -27,7 +27,10 @@ describe('site days to UTC', () => {
     expect(zoneOffsetMs(Date.UTC(2026, 6, 1), 'Asia/Kolkata')).toBe(5.5 * 3600_000);
   });
   it('a day range includes the whole last day; malformed days are ignored', () => {
-    expect(dayRangeToUtc('2026-03-01', '2026-03-31', 'Europe/Berlin')).toEqual({ from: '2026-02-28T23:00:00.000Z', to: '2026-03-31T22:00:00.000Z' });
+    expect(dayRangeToUtc('2026-03-01', '2026-03-31', 'Europe/Berlin')).toEqual({
+      from: '2026-02-28T23:00:00.000Z',
+      to: '2026-03-31T22:00:00.000Z',
+    });
     expect(dayRangeToUtc(undefined, '2026-12-31', 'UTC')).toEqual({ to: '2027-01-01T00:00:00.000Z' });
     expect(dayRangeToUtc('14.03.2026', undefined, 'UTC')).toEqual({});
     expect(nextDay('2028-02-28')).toBe('2028-02-29');

@@ -19,11 +19,23 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { MATERIALS } from '../../fixtures/band-lists';
 import { type DemoSpectrum, demoSpectra } from '../../fixtures/catalogue';
-import { DEMO_DEFAULT_METHOD, LOOK_ALIKE_PAIR, TIGHTENED_HYDRATE_METHOD, finalDemoMethod } from '../../fixtures/demo-methods';
+import {
+  DEMO_DEFAULT_METHOD,
+  LOOK_ALIKE_PAIR,
+  TIGHTENED_HYDRATE_METHOD,
+  finalDemoMethod,
+} from '../../fixtures/demo-methods';
 import { SPECTRA_DIR } from '../../fixtures/generate';
 import { POLYSTYRENE_CHECK_BANDS } from '../../fixtures/polystyrene';
 import {
-  type IdentityMethod, type PreparedReference, buildLibrary, checkPolystyrene, prepareReference, readSpectrum, scoreAgainst, searchLibrary,
+  type IdentityMethod,
+  type PreparedReference,
+  buildLibrary,
+  checkPolystyrene,
+  prepareReference,
+  readSpectrum,
+  scoreAgainst,
+  searchLibrary,
   specificityMatrix,
 } from '../../server/spectra/index';
 
@@ -107,14 +119,21 @@ describe('demo spectra under the demo methods', () => {
   });
 
   it('the monohydrate container passes as the anhydrous grade under the default method (why the method was tightened)', () => {
-    const s = specs.find((x) => x.kind === 'container' && x.material === 'citric-acid-anhydrous' && x.contains === 'citric-acid-monohydrate')!;
+    const s = specs.find(
+      (x) =>
+        x.kind === 'container' && x.material === 'citric-acid-anhydrous' && x.contains === 'citric-acid-monohydrate',
+    )!;
     const set = preparedFor(DEMO_DEFAULT_METHOD).get('citric-acid-anhydrous')!;
     expect(scoreAgainst(read(s), set, DEMO_DEFAULT_METHOD).verdict).toBe('pass');
   });
 });
 
 describe('demo polystyrene films', () => {
-  const site = { name: 'demo site ATR positions', instrument: 'ft' as const, bands: POLYSTYRENE_CHECK_BANDS.map((b) => ({ nominal: b.site, tolerance: b.tolerance })) };
+  const site = {
+    name: 'demo site ATR positions',
+    instrument: 'ft' as const,
+    bands: POLYSTYRENE_CHECK_BANDS.map((b) => ({ nominal: b.site, tolerance: b.tolerance })),
+  };
   const films = specs.filter((s) => s.kind === 'polystyrene');
 
   it('films in calibration pass the site positions with every band within 0.3 cm-1', () => {

@@ -43,7 +43,11 @@ describe('demo spectra generator', () => {
   const files = listFiles(a);
 
   it('writes every catalogue file and nothing else', () => {
-    expect(files).toEqual(demoSpectra().map((s) => s.path).sort());
+    expect(files).toEqual(
+      demoSpectra()
+        .map((s) => s.path)
+        .sort(),
+    );
     expect(files.length).toBeGreaterThan(50);
   });
 
@@ -54,7 +58,8 @@ describe('demo spectra generator', () => {
 
   it('equals the files checked in under fixtures/spectra (run `npm run fixtures` after changing the band lists)', () => {
     expect(listFiles(SPECTRA_DIR)).toEqual(files);
-    for (const f of files) expect(readFileSync(path.join(SPECTRA_DIR, f)).equals(readFileSync(path.join(a, f))), f).toBe(true);
+    for (const f of files)
+      expect(readFileSync(path.join(SPECTRA_DIR, f)).equals(readFileSync(path.join(a, f))), f).toBe(true);
   });
 
   it('keeps the checked-in output small (under 1.5 MB)', () => {
@@ -69,7 +74,19 @@ describe('demo spectra generator', () => {
       if (f.endsWith('.jdx')) {
         expect(text).toMatch(/^##TITLE=.+synthetic demo data\n##JCAMP-DX=5\.01\n##DATA TYPE=INFRARED SPECTRUM\n/);
         expect(text).toContain(`##$SYNTHETIC=${SYNTHETIC_LABEL}`);
-        for (const label of ['##ORIGIN=', '##OWNER=', '##XUNITS=1/CM', '##YUNITS=ABSORBANCE', '##XFACTOR=', '##YFACTOR=', '##FIRSTX=4000', '##LASTX=650', `##NPOINTS=${NPOINTS}`, '##XYDATA=(X++(Y..Y))', '##END=']) {
+        for (const label of [
+          '##ORIGIN=',
+          '##OWNER=',
+          '##XUNITS=1/CM',
+          '##YUNITS=ABSORBANCE',
+          '##XFACTOR=',
+          '##YFACTOR=',
+          '##FIRSTX=4000',
+          '##LASTX=650',
+          `##NPOINTS=${NPOINTS}`,
+          '##XYDATA=(X++(Y..Y))',
+          '##END=',
+        ]) {
           expect(text, `${f} ${label}`).toContain(label);
         }
       }

@@ -7,7 +7,15 @@
  * the expected values were also checked against the IANA time zone data in Node's ICU.
  */
 import { beforeEach, describe, expect, it } from 'vitest';
-import { formatDate, formatDateTime, formatScore, formatShift, formatWavenumber, getSiteTimeZone, setSiteTimeZone } from '../../src/lib/format';
+import {
+  formatDate,
+  formatDateTime,
+  formatScore,
+  formatShift,
+  formatWavenumber,
+  getSiteTimeZone,
+  setSiteTimeZone,
+} from '../../src/lib/format';
 
 describe('formatDateTime in the site time zone', () => {
   beforeEach(() => setSiteTimeZone('Europe/Berlin'));

@@ -12,15 +12,30 @@ import path from 'node:path';
 import forge from 'node-forge';
 import { afterAll, describe, expect, it } from 'vitest';
 import { renderPdf } from '../../server/lib/pdf';
-import { extractSignatureDer, generateSigningP12, getSigningIdentity, loadSigningMaterial, OID, signPdf, verifyPdfSignature } from '../../server/lib/pdf-sign';
+import {
+  extractSignatureDer,
+  generateSigningP12,
+  getSigningIdentity,
+  loadSigningMaterial,
+  OID,
+  signPdf,
+  verifyPdfSignature,
+} from '../../server/lib/pdf-sign';
 
 const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-sign-'));
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));
 
-const info = { reason: 'Identity certificate IC-2026-00007 for lot RM-2026-00042', location: 'Test site', name: 'Test site identity certificates' };
+const info = {
+  reason: 'Identity certificate IC-2026-00007 for lot RM-2026-00042',
+  location: 'Test site',
+  name: 'Test site identity certificates',
+};
 
 async function samplePdf(text = 'Lot RM-2026-00042: µ ✓ cm⁻¹') {
-  return renderPdf({ content: [text, { text: 'bold', bold: true }], footer: (p: number, n: number) => ({ text: `Page ${p} of ${n}` }) });
+  return renderPdf({
+    content: [text, { text: 'bold', bold: true }],
+    footer: (p: number, n: number) => ({ text: `Page ${p} of ${n}` }),
+  });
 }
 
 describe('signing identity', () => {
@@ -33,7 +48,8 @@ describe('signing identity', () => {
     expect(a.subject).toContain('CN=Elmstead Works identity certificates');
     expect(a.source).toBe('generated');
     expect(new Date(a.notAfter).getTime() - Date.now()).toBeGreaterThan(9 * 365 * 86_400_000);
-    for (const f of ['signing.p12', 'signing.passphrase']) expect(fs.statSync(path.join(keysDir, f)).mode & 0o777).toBe(0o600);
+    for (const f of ['signing.p12', 'signing.passphrase'])
+      expect(fs.statSync(path.join(keysDir, f)).mode & 0o777).toBe(0o600);
     // The fingerprint is the SHA-256 of the DER certificate inside the p12.
     const m = loadSigningMaterial({ siteName: 'Elmstead Works', keysDir });
     expect(createHash('sha256').update(m.certDer).digest('hex')).toBe(a.fingerprint);
@@ -45,11 +61,19 @@ describe('signing identity', () => {
   it('uses a configured PKCS#12 and refuses a wrong passphrase', () => {
     const p12Path = path.join(dir, 'site.p12');
     fs.writeFileSync(p12Path, generateSigningP12('Configured Site QA', 'right-passphrase'));
-    const id = getSigningIdentity({ siteName: 'ignored', signingP12Path: p12Path, signingP12Passphrase: 'right-passphrase' });
+    const id = getSigningIdentity({
+      siteName: 'ignored',
+      signingP12Path: p12Path,
+      signingP12Passphrase: 'right-passphrase',
+    });
     expect(id.source).toBe('configured');
     expect(id.subject).toContain('CN=Configured Site QA');
-    expect(() => getSigningIdentity({ siteName: 'ignored', signingP12Path: p12Path, signingP12Passphrase: 'wrong' })).toThrow(/cannot be opened/);
-    expect(() => getSigningIdentity({ siteName: 'ignored', signingP12Path: path.join(dir, 'missing.p12') })).toThrow(/does not exist/);
+    expect(() =>
+      getSigningIdentity({ siteName: 'ignored', signingP12Path: p12Path, signingP12Passphrase: 'wrong' }),
+    ).toThrow(/cannot be opened/);
+    expect(() => getSigningIdentity({ siteName: 'ignored', signingP12Path: path.join(dir, 'missing.p12') })).toThrow(
+      /does not exist/,
+    );
   });
 });
 
@@ -60,12 +84,22 @@ describe('signature and verification', () => {
     const { pdf, fingerprint } = await signPdf(await samplePdf(), info, settings);
     expect(pdf.toString('latin1')).toContain('/SubFilter /ETSI.CAdES.detached');
     const v = verifyPdfSignature(pdf);
-    expect(v).toMatchObject({ signed: true, valid: true, fingerprint, coversWholeFile: true, hasSigningCertificateV2: true });
+    expect(v).toMatchObject({
+      signed: true,
+      valid: true,
+      fingerprint,
+      coversWholeFile: true,
+      hasSigningCertificateV2: true,
+    });
 
     // The signed attributes hold exactly contentType, signingTime, messageDigest, signingCertificateV2.
     const cms = forge.asn1.fromDer(forge.util.createBuffer(extractSignatureDer(pdf)!.toString('binary')));
-    const p7 = forge.pkcs7.messageFromAsn1(cms) as unknown as { rawCapture: { authenticatedAttributes: forge.asn1.Asn1[] } };
-    const oids = p7.rawCapture.authenticatedAttributes.map((a) => forge.asn1.derToOid((a.value as forge.asn1.Asn1[])[0].value as string)).sort();
+    const p7 = forge.pkcs7.messageFromAsn1(cms) as unknown as {
+      rawCapture: { authenticatedAttributes: forge.asn1.Asn1[] };
+    };
+    const oids = p7.rawCapture.authenticatedAttributes
+      .map((a) => forge.asn1.derToOid((a.value as forge.asn1.Asn1[])[0].value as string))
+      .sort();
     expect(oids).toEqual([OID.contentType, OID.messageDigest, OID.signingTime, OID.signingCertificateV2].sort());
   });
 
@@ -82,7 +116,11 @@ describe('signature and verification', () => {
     expect(a.valid).toBe(false);
     expect(a.coversWholeFile).toBe(false);
 
-    expect(verifyPdfSignature(await samplePdf())).toMatchObject({ signed: false, valid: false, problem: 'The file carries no digital signature.' });
+    expect(verifyPdfSignature(await samplePdf())).toMatchObject({
+      signed: false,
+      valid: false,
+      problem: 'The file carries no digital signature.',
+    });
   });
 
   it('detects a signature made with another key over the same content (RSA check)', async () => {

@@ -8,7 +8,14 @@ import { readdirSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { convert } from 'jcampconverter';
 import { describe, expect, it } from 'vitest';
-import { decodeJcamp, MAX_FILE_BYTES, readSpectrum, SpectrumError, SPECTRUM_ERROR_CODES, type SpectrumErrorCode } from '../../server/spectra';
+import {
+  decodeJcamp,
+  MAX_FILE_BYTES,
+  readSpectrum,
+  SpectrumError,
+  SPECTRUM_ERROR_CODES,
+  type SpectrumErrorCode,
+} from '../../server/spectra';
 
 const dir = path.resolve(__dirname, '../bad-files');
 const bytes = (name: string) => new Uint8Array(readFileSync(path.join(dir, name)));
@@ -86,7 +93,8 @@ describe('the committed corpus in tests/bad-files', () => {
     expect(onDisk.length).toBeGreaterThanOrEqual(25);
     expect(onDisk).toEqual(Object.keys(EXPECTED).sort());
     const readme = readFileSync(path.join(dir, 'README.md'), 'utf8');
-    for (const [file, code] of Object.entries(EXPECTED)) expect(readme).toMatch(new RegExp(`\\| \`${file.replace(/\./g, '\\.')}\` \\| \`${code}\` \\|`));
+    for (const [file, code] of Object.entries(EXPECTED))
+      expect(readme).toMatch(new RegExp(`\\| \`${file.replace(/\./g, '\\.')}\` \\| \`${code}\` \\|`));
   });
 
   it.each(Object.entries(EXPECTED))('%s -> %s', (file, code) => {
@@ -155,7 +163,7 @@ describe('large and random input (generated at run time, not committed)', () => 
   it('19 MB of random number pairs is read as a table and refused for its unordered x', () => {
     const r = rng(4);
     const lines: string[] = [];
-    for (let n = 0; n < 1024 * 1024; ) {
+    for (let n = 0; n < 1024 * 1024;) {
       const l = `${(400 + r() * 3600).toFixed(4)},${r().toFixed(6)}`;
       lines.push(l);
       n += l.length + 1;

@@ -1,9 +1,24 @@
 import { describe, expect, it } from 'vitest';
-import { bandConcordance, bandToleranceFor, type ConcordanceSettings, referenceBandsFrom } from '../../server/spectra/bands';
+import {
+  bandConcordance,
+  bandToleranceFor,
+  type ConcordanceSettings,
+  referenceBandsFrom,
+} from '../../server/spectra/bands';
 import type { Peak } from '../../server/spectra/peaks';
 
-const peak = (position: number, prominence = 0.5, width = 15): Peak => ({ position, index: 0, height: prominence, prominence, width });
-const settings: ConcordanceSettings = { bandTolerance: { mode: 'relative', percent: 0.5 }, widthTolerance: 0.25, maxExtraBandProminence: 0.2 };
+const peak = (position: number, prominence = 0.5, width = 15): Peak => ({
+  position,
+  index: 0,
+  height: prominence,
+  prominence,
+  width,
+});
+const settings: ConcordanceSettings = {
+  bandTolerance: { mode: 'relative', percent: 0.5 },
+  widthTolerance: 0.25,
+  maxExtraBandProminence: 0.2,
+};
 
 describe('band concordance', () => {
   it('tolerance: 0.5 % of the position, or a quarter of the width for broad bands', () => {

@@ -8,7 +8,13 @@ const all = (n: number) => new Uint8Array(n).fill(1);
 
 describe('baseline correction', () => {
   const grid = makeGrid({ from: 700, to: 3800 }, 1);
-  const band = syntheticSpectrum([{ at: 1700, height: 0.5, fwhm: 20 }, { at: 2900, height: 0.2, fwhm: 40 }], { from: 700, to: 3800, offset: 0 });
+  const band = syntheticSpectrum(
+    [
+      { at: 1700, height: 0.5, fwhm: 20 },
+      { at: 2900, height: 0.2, fwhm: 40 },
+    ],
+    { from: 700, to: 3800, offset: 0 },
+  );
 
   it('offset: the lowest used point becomes 0', () => {
     const y = band.y.map((v) => v + 0.3);
@@ -27,7 +33,12 @@ describe('baseline correction', () => {
 
   it('iterative (airPLS): removes a curved baseline and keeps narrow and broad bands', () => {
     const bands = syntheticSpectrum(
-      [{ at: 1700, height: 0.5, fwhm: 20 }, { at: 2900, height: 0.2, fwhm: 40 }, { at: 3330, height: 0.3, fwhm: 260 }, { at: 1030, height: 0.6, fwhm: 100 }],
+      [
+        { at: 1700, height: 0.5, fwhm: 20 },
+        { at: 2900, height: 0.2, fwhm: 40 },
+        { at: 3330, height: 0.3, fwhm: 260 },
+        { at: 1030, height: 0.6, fwhm: 100 },
+      ],
       { from: 700, to: 3800, offset: 0 },
     );
     const curve = (v: number) => 0.1 + 0.08 * Math.sin((v - 700) / 900);
@@ -63,7 +74,11 @@ describe('normalisation', () => {
 
   it('vector: Euclidean norm 1 over the used points', () => {
     const v = normalise(y, mask, 'vector');
-    const norm = Math.sqrt(Array.from(v).filter((_, i) => mask[i]).reduce((a, b) => a + b * b, 0));
+    const norm = Math.sqrt(
+      Array.from(v)
+        .filter((_, i) => mask[i])
+        .reduce((a, b) => a + b * b, 0),
+    );
     expect(norm).toBeCloseTo(1, 12);
   });
 });

@@ -10,7 +10,10 @@ const ANSCOMBE: Array<[number[], number[]]> = [
   [X123, [8.04, 6.95, 7.58, 8.81, 8.33, 9.96, 7.24, 4.26, 10.84, 4.82, 5.68]],
   [X123, [9.14, 8.14, 8.74, 8.77, 9.26, 8.1, 6.13, 3.1, 9.13, 7.26, 4.74]],
   [X123, [7.46, 6.77, 12.74, 7.11, 7.81, 8.84, 6.08, 5.39, 8.15, 6.42, 5.73]],
-  [[8, 8, 8, 8, 8, 8, 8, 19, 8, 8, 8], [6.58, 5.76, 7.71, 8.84, 8.47, 7.04, 5.25, 12.5, 5.56, 7.91, 6.89]],
+  [
+    [8, 8, 8, 8, 8, 8, 8, 19, 8, 8, 8],
+    [6.58, 5.76, 7.71, 8.84, 8.47, 7.04, 5.25, 12.5, 5.56, 7.91, 6.89],
+  ],
 ];
 
 describe('Pearson correlation', () => {
@@ -33,8 +36,18 @@ describe('Pearson correlation', () => {
 
   it('is +1 / -1 for exact linear relations and NaN for a constant vector', () => {
     const a = [1, 2, 3, 4, 5];
-    expect(pearson(a, a.map((v) => 2 * v + 7))).toBeCloseTo(1, 14);
-    expect(pearson(a, a.map((v) => -v))).toBeCloseTo(-1, 14);
+    expect(
+      pearson(
+        a,
+        a.map((v) => 2 * v + 7),
+      ),
+    ).toBeCloseTo(1, 14);
+    expect(
+      pearson(
+        a,
+        a.map((v) => -v),
+      ),
+    ).toBeCloseTo(-1, 14);
     expect(pearson(a, [3, 3, 3, 3, 3])).toBeNaN();
   });
 
@@ -42,7 +55,12 @@ describe('Pearson correlation', () => {
     const g = gaussian(seededRandom(7));
     const a = Array.from({ length: 500 }, () => g());
     const b = a.map((v) => v + g());
-    expect(pearson(a.map((v) => 4 * v - 2), b)).toBeCloseTo(pearson(a, b), 12);
+    expect(
+      pearson(
+        a.map((v) => 4 * v - 2),
+        b,
+      ),
+    ).toBeCloseTo(pearson(a, b), 12);
   });
 
   it('equals the dot product of centred unit vectors (the library search identity)', () => {

@@ -24,7 +24,11 @@ function csvFiles(dir: string): string[] {
 
 /** Reads a reference CSV independently of the engine (header `wavenumber_cm-1,absorbance`). */
 function naiveRead(file: string): { x: number[]; y: number[] } {
-  const rows = readFileSync(file, 'utf8').trim().split('\n').slice(1).map((l) => l.split(',').map(Number));
+  const rows = readFileSync(file, 'utf8')
+    .trim()
+    .split('\n')
+    .slice(1)
+    .map((l) => l.split(',').map(Number));
   return { x: rows.map((r) => r[0]), y: rows.map((r) => r[1]) };
 }
 
@@ -102,29 +106,64 @@ describe('units from the header and inferred units', () => {
 
   it('%T header: T = 10 % gives A = 1 (A = -log10 T)', () => {
     const xs = Array.from({ length: 60 }, (_, i) => 4000 - 10 * i);
-    const s = readSpectrum(csv('cm-1,%T', xs, xs.map(() => 10)), 't.csv');
+    const s = readSpectrum(
+      csv(
+        'cm-1,%T',
+        xs,
+        xs.map(() => 10),
+      ),
+      't.csv',
+    );
     expect(s.meta.yKind).toBe('absorbance');
     for (const v of s.y) expect(v).toBeCloseTo(1, 12);
     expect(s.x[0]).toBe(3410); // descending input is returned ascending
   });
   it('T header with a fraction: T = 0.1 gives A = 1', () => {
     const xs = Array.from({ length: 60 }, (_, i) => 1000 + 10 * i);
-    const s = readSpectrum(csv('cm-1,T', xs, xs.map(() => 0.1)), 't.csv');
+    const s = readSpectrum(
+      csv(
+        'cm-1,T',
+        xs,
+        xs.map(() => 0.1),
+      ),
+      't.csv',
+    );
     for (const v of s.y) expect(v).toBeCloseTo(1, 12);
   });
   it('nm header: 2500 nm becomes 4000 cm-1 (1e7 / nm) and order becomes ascending', () => {
-    const s = readSpectrum(csv('nm,A', nmX, nmX.map((_, i) => band(i))), 'nir.csv');
+    const s = readSpectrum(
+      csv(
+        'nm,A',
+        nmX,
+        nmX.map((_, i) => band(i)),
+      ),
+      'nir.csv',
+    );
     expect(s.x[0]).toBeCloseTo(4000, 9);
     expect(s.x[s.x.length - 1]).toBeCloseTo(1e7 / 1100, 9);
     expect(s.y[0]).toBeCloseTo(band(700), 12); // the 2500 nm point comes first now
   });
   it('um header: 2.5 um becomes 4000 cm-1 (1e4 / um)', () => {
     const xs = Array.from({ length: 100 }, (_, i) => 2.5 + 0.1 * i);
-    const s = readSpectrum(csv('wavelength (µm),absorbance', xs, xs.map(() => 0.2)), 'um.csv');
+    const s = readSpectrum(
+      csv(
+        'wavelength (µm),absorbance',
+        xs,
+        xs.map(() => 0.2),
+      ),
+      'um.csv',
+    );
     expect(s.x[s.x.length - 1]).toBeCloseTo(4000, 9);
   });
   it('headerless nm data on an even 2 nm step are read as nm, with a warning', () => {
-    const s = readSpectrum(csv(null, nmX, nmX.map((_, i) => band(i))), 'nir.csv');
+    const s = readSpectrum(
+      csv(
+        null,
+        nmX,
+        nmX.map((_, i) => band(i)),
+      ),
+      'nir.csv',
+    );
     expect(s.x[0]).toBeCloseTo(4000, 9);
     expect(s.meta.warnings.join(' ')).toMatch(/read as nm/);
   });
@@ -145,23 +184,68 @@ describe('units from the header and inferred units', () => {
   });
   it('headerless 800-1300 on an uneven step is ambiguous between cm-1 and nm', () => {
     const xs = Array.from({ length: 1000 }, (_, i) => 800.31 + 0.4821 * i);
-    expect(codeOf(() => readSpectrum(csv(null, xs, xs.map(() => 0.1)), 'x.csv'))).toBe('UNKNOWN_X_UNITS');
+    expect(
+      codeOf(() =>
+        readSpectrum(
+          csv(
+            null,
+            xs,
+            xs.map(() => 0.1),
+          ),
+          'x.csv',
+        ),
+      ),
+    ).toBe('UNKNOWN_X_UNITS');
   });
   it('reflectance in percent becomes log(1/R)', () => {
     const xs = Array.from({ length: 100 }, (_, i) => 4000 + 10 * i);
-    const s = readSpectrum(csv('cm-1,%R', xs, xs.map(() => 1)), 'r.csv');
+    const s = readSpectrum(
+      csv(
+        'cm-1,%R',
+        xs,
+        xs.map(() => 1),
+      ),
+      'r.csv',
+    );
     expect(s.meta.yKind).toBe('log-inverse-reflectance');
     for (const v of s.y) expect(v).toBeCloseTo(2, 12);
   });
   it('Kubelka-Munk and log(1/R) are kept as they are, with their kind', () => {
     const xs = Array.from({ length: 100 }, (_, i) => 4000 + 10 * i);
-    expect(readSpectrum(csv('cm-1,Kubelka-Munk', xs, xs.map(() => 3)), 'k.csv').meta.yKind).toBe('kubelka-munk');
-    const l = readSpectrum(csv('cm-1,log(1/R)', xs, xs.map(() => 0.3)), 'l.csv');
+    expect(
+      readSpectrum(
+        csv(
+          'cm-1,Kubelka-Munk',
+          xs,
+          xs.map(() => 3),
+        ),
+        'k.csv',
+      ).meta.yKind,
+    ).toBe('kubelka-munk');
+    const l = readSpectrum(
+      csv(
+        'cm-1,log(1/R)',
+        xs,
+        xs.map(() => 0.3),
+      ),
+      'l.csv',
+    );
     expect(l.meta.yKind).toBe('log-inverse-reflectance');
     expect(l.y[0]).toBe(0.3);
   });
   it('a y column labelled "counts" is refused', () => {
     const xs = Array.from({ length: 100 }, (_, i) => 4000 + 10 * i);
-    expect(codeOf(() => readSpectrum(csv('cm-1,counts', xs, xs.map(() => 3)), 'c.csv'))).toBe('UNKNOWN_Y_UNITS');
+    expect(
+      codeOf(() =>
+        readSpectrum(
+          csv(
+            'cm-1,counts',
+            xs,
+            xs.map(() => 3),
+          ),
+          'c.csv',
+        ),
+      ),
+    ).toBe('UNKNOWN_Y_UNITS');
   });
 });

@@ -8,7 +8,14 @@ import { ESTER_BANDS, gaussian, seededRandom, syntheticSpectrum } from './spectr
 describe('matrix-vector kernel', () => {
   it('runs as WebAssembly SIMD on this Node and agrees with a float64 product, for widths with and without remainders', () => {
     const g = gaussian(seededRandom(1));
-    for (const [rows, width] of [[1, 1], [3, 5], [7, 8], [5, 13], [40, 3101], [9, 1201]]) {
+    for (const [rows, width] of [
+      [1, 1],
+      [3, 5],
+      [7, 8],
+      [5, 13],
+      [40, 3101],
+      [9, 1201],
+    ]) {
       const k = createDotKernel(rows, width);
       expect(k.engine).toBe('wasm-simd');
       for (let i = 0; i < k.data.length; i++) k.data[i] = g() / Math.sqrt(width);
@@ -38,7 +45,9 @@ describe('large libraries', () => {
   it('build from a stream without keeping prepared references, and still search; specificity then refuses', () => {
     const variant = (i: number) => {
       const rand = seededRandom(i + 1);
-      return syntheticSpectrum(ESTER_BANDS.map((b) => ({ ...b, at: b.at + 8 * rand() - 4, height: b.height * (0.5 + rand()) })));
+      return syntheticSpectrum(
+        ESTER_BANDS.map((b) => ({ ...b, at: b.at + 8 * rand() - 4, height: b.height * (0.5 + rand()) })),
+      );
     };
     function* entries() {
       for (let i = 0; i < 30; i++) yield { id: `r${i}`, materialId: `m${i % 3}`, spectrum: variant(i) };

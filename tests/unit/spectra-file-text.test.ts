@@ -18,7 +18,11 @@ const codeOf = (f: () => unknown) => {
 };
 
 // A small %T spectrum with a micrometre header, 2.5-12.4 um.
-const body = 'wavelength (µm);%T\n' + Array.from({ length: 100 }, (_, i) => `${(2.5 + 0.1 * i).toFixed(1).replace('.', ',')};${50 + i / 10}`.replace(/;(\d+)\.(\d)/, ';$1,$2')).join('\n');
+const body =
+  'wavelength (µm);%T\n' +
+  Array.from({ length: 100 }, (_, i) =>
+    `${(2.5 + 0.1 * i).toFixed(1).replace('.', ',')};${50 + i / 10}`.replace(/;(\d+)\.(\d)/, ';$1,$2'),
+  ).join('\n');
 
 function utf16(text: string, bigEndian: boolean): Uint8Array {
   const out = new Uint8Array(2 + text.length * 2);

@@ -1,7 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { prepare } from '../../server/spectra/preprocess';
 import { defaultMidIrAtrMethod } from '../../server/spectra/method';
-import { assignBand, describeAssignment, GROUP_FREQUENCIES, GROUP_FREQUENCY_SOURCE } from '../../server/spectra/group-frequencies';
+import {
+  assignBand,
+  describeAssignment,
+  GROUP_FREQUENCIES,
+  GROUP_FREQUENCY_SOURCE,
+} from '../../server/spectra/group-frequencies';
 import { loadReference } from './spectra-analysis-data';
 
 // Expected assignments: standard IR correlation tables (Silverstein, Webster & Kiemle; Pavia et al.),
@@ -14,8 +19,29 @@ describe('group-frequency assignment', () => {
 
   it('covers the required groups', () => {
     const ids = GROUP_FREQUENCIES.map((g) => g.id);
-    for (const id of ['oh-free', 'oh-hbonded', 'oh-acid', 'nh-amine', 'ch-alkane', 'ch-alkene', 'ch-arene', 'ch-aldehyde', 'cn-nitrile',
-      'cc-alkyne', 'co-ester', 'co-ketone', 'co-aldehyde', 'co-acid', 'amide-1', 'cc-alkene', 'cc-arene', 'c-o', 'no2-asym', 'no2-sym', 'fingerprint']) {
+    for (const id of [
+      'oh-free',
+      'oh-hbonded',
+      'oh-acid',
+      'nh-amine',
+      'ch-alkane',
+      'ch-alkene',
+      'ch-arene',
+      'ch-aldehyde',
+      'cn-nitrile',
+      'cc-alkyne',
+      'co-ester',
+      'co-ketone',
+      'co-aldehyde',
+      'co-acid',
+      'amide-1',
+      'cc-alkene',
+      'cc-arene',
+      'c-o',
+      'no2-asym',
+      'no2-sym',
+      'fingerprint',
+    ]) {
       expect(ids).toContain(id);
     }
     for (const g of GROUP_FREQUENCIES) expect(g.from).toBeLessThan(g.to);
@@ -36,7 +62,12 @@ describe('group-frequency assignment', () => {
   });
 
   it('names both candidates where the table overlaps (arene or alkene C-H; alkene C=C or amide I)', () => {
-    expect(assignBand(3050, 'sharp').slice(0, 2).map((g) => g.id).sort()).toEqual(['ch-alkene', 'ch-arene']);
+    expect(
+      assignBand(3050, 'sharp')
+        .slice(0, 2)
+        .map((g) => g.id)
+        .sort(),
+    ).toEqual(['ch-alkene', 'ch-arene']);
     const amide = describeAssignment(1660);
     expect(amide).toMatch(/amide I/);
     expect(amide).toMatch(/ or /);
@@ -56,10 +87,14 @@ describe('group-frequency assignment', () => {
 
   it('assigns real bands: the nitrile of an acrylic fibre and the ester carbonyl of PET', () => {
     const m = defaultMidIrAtrMethod;
-    const acrylic = prepare(loadReference('atr-ftir-fibres/acrylic_PAN-MA_s005.csv'), m).peaks.find((p) => p.position > 2200 && p.position < 2280);
+    const acrylic = prepare(loadReference('atr-ftir-fibres/acrylic_PAN-MA_s005.csv'), m).peaks.find(
+      (p) => p.position > 2200 && p.position < 2280,
+    );
     expect(acrylic).toBeDefined();
     expect(describeAssignment(acrylic!.position, 'sharp')).toMatch(/C≡N/);
-    const pet = prepare(loadReference('atr-ftir-fibres/polyester-PET_s144.csv'), m).peaks.find((p) => p.position > 1680 && p.position < 1760);
+    const pet = prepare(loadReference('atr-ftir-fibres/polyester-PET_s144.csv'), m).peaks.find(
+      (p) => p.position > 1680 && p.position < 1760,
+    );
     expect(pet).toBeDefined();
     expect(assignBand(pet!.position, 'sharp').map((g) => g.id)).toContain('co-conjugated');
   });

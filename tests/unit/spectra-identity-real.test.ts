@@ -24,21 +24,38 @@ const WEAK = 'atr-ftir-fibres/acrylic_PAN-MMA-MA_s017_r1.csv';
 /** Material of a file: the file-name prefix (fibres) or the name (other sets). */
 function material(f: string): string {
   if (f === SBO) return 'SBO';
-  return stem(f).replace(/^cellulose_/, 'cellulose-').split('_')[0];
+  return stem(f)
+    .replace(/^cellulose_/, 'cellulose-')
+    .split('_')[0];
 }
 /** Physical sample: the file name without its repeat-scan suffix. */
 const sampleOf = (f: string) => stem(f).replace(/_r\d$/, '');
 
 /** Chemical family (reference-data README "Distinct materials"; textbook polymer chemistry). */
 const FAMILY: Record<string, string> = {
-  cotton: 'cellulose', linen: 'cellulose', lyocell: 'cellulose', 'rayon-viscose': 'cellulose', white: 'cellulose',
-  'cellulose-diacetate': 'cellulose acetate', 'cellulose-triacetate': 'cellulose acetate',
-  acrylic: 'polyacrylonitrile', modacrylic: 'polyacrylonitrile',
-  'para-aramid': 'aramid', 'meta-aramid': 'aramid',
-  nylon6: 'polyamide', nylon66: 'polyamide',
-  silk: 'protein', wool: 'protein',
-  'polyester-PET': 'polyester', polypropylene: 'polypropylene', 'polyethylene-HMPE': 'polyethylene',
-  polystyrene: 'polystyrene', toluene: 'toluene', isopropanol: 'alcohol', heptanes: 'alkane', SBO: 'triglyceride',
+  cotton: 'cellulose',
+  linen: 'cellulose',
+  lyocell: 'cellulose',
+  'rayon-viscose': 'cellulose',
+  white: 'cellulose',
+  'cellulose-diacetate': 'cellulose acetate',
+  'cellulose-triacetate': 'cellulose acetate',
+  acrylic: 'polyacrylonitrile',
+  modacrylic: 'polyacrylonitrile',
+  'para-aramid': 'aramid',
+  'meta-aramid': 'aramid',
+  nylon6: 'polyamide',
+  nylon66: 'polyamide',
+  silk: 'protein',
+  wool: 'protein',
+  'polyester-PET': 'polyester',
+  polypropylene: 'polypropylene',
+  'polyethylene-HMPE': 'polyethylene',
+  polystyrene: 'polystyrene',
+  toluene: 'toluene',
+  isopropanol: 'alcohol',
+  heptanes: 'alkane',
+  SBO: 'triglyceride',
 };
 const family = (f: string) => {
   const fam = FAMILY[material(f)];
@@ -99,15 +116,24 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
     //  - wool: the Lincoln sample carries extra CH2 bands (grease) and differs from the others;
     //  - polypropylene: s125 against s123 only: its band near 1167 cm-1 is not found within tolerance.
     const EXPECTED_FAILING = new Set([
-      'acrylic_PAN-MA_s005 > acrylic_PAN-MA_s010', 'acrylic_PAN-MA_s005 > acrylic_PAN-MMA-MA_s017',
-      'acrylic_PAN-MA_s010 > acrylic_PAN-MA_s005', 'acrylic_PAN-MA_s010 > acrylic_PAN-MMA-MA_s017',
-      'acrylic_PAN-MMA-MA_s017 > acrylic_PAN-MA_s005', 'acrylic_PAN-MMA-MA_s017 > acrylic_PAN-MA_s010',
-      'linen_hand-spun-thread_s4.2 > linen_shoemakers-thread_s4.3', 'linen_shoemakers-thread_s4.3 > linen_hand-spun-thread_s4.2',
-      'para-aramid_s049 > para-aramid_s050', 'para-aramid_s050 > para-aramid_s049',
-      'polyester-PET_s135 > polyester-PET_s141', 'polyester-PET_s135 > polyester-PET_s144',
-      'polyester-PET_s141 > polyester-PET_s135', 'polyester-PET_s144 > polyester-PET_s135',
-      'wool_Coopworth_s11.3 > wool_Lincoln_s12.3', 'wool_Lincoln_s12.3 > wool_Coopworth_s11.3',
-      'wool_Lincoln_s12.3 > wool_worsted-white_s0', 'wool_worsted-white_s0 > wool_Lincoln_s12.3',
+      'acrylic_PAN-MA_s005 > acrylic_PAN-MA_s010',
+      'acrylic_PAN-MA_s005 > acrylic_PAN-MMA-MA_s017',
+      'acrylic_PAN-MA_s010 > acrylic_PAN-MA_s005',
+      'acrylic_PAN-MA_s010 > acrylic_PAN-MMA-MA_s017',
+      'acrylic_PAN-MMA-MA_s017 > acrylic_PAN-MA_s005',
+      'acrylic_PAN-MMA-MA_s017 > acrylic_PAN-MA_s010',
+      'linen_hand-spun-thread_s4.2 > linen_shoemakers-thread_s4.3',
+      'linen_shoemakers-thread_s4.3 > linen_hand-spun-thread_s4.2',
+      'para-aramid_s049 > para-aramid_s050',
+      'para-aramid_s050 > para-aramid_s049',
+      'polyester-PET_s135 > polyester-PET_s141',
+      'polyester-PET_s135 > polyester-PET_s144',
+      'polyester-PET_s141 > polyester-PET_s135',
+      'polyester-PET_s144 > polyester-PET_s135',
+      'wool_Coopworth_s11.3 > wool_Lincoln_s12.3',
+      'wool_Lincoln_s12.3 > wool_Coopworth_s11.3',
+      'wool_Lincoln_s12.3 > wool_worsted-white_s0',
+      'wool_worsted-white_s0 > wool_Lincoln_s12.3',
       'polypropylene_s125 > polypropylene_s123',
     ]);
     const files = FIBRES.filter((f) => f !== WEAK && f !== MIXUP);
@@ -155,7 +181,11 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
     expect(r.references.find((s) => s.referenceId === 'cotton_cord_s6.1_r2')?.verdict).toBe('fail');
     expect(r.explanation.join(' ')).toMatch(/Extra sharp band at 17\d\d\.\d cm-1/); // the polyester carbonyl
     const library = buildLibrary(
-      VALID.filter((f) => f !== MIXUP).map((f) => ({ id: stem(f), materialId: material(f), spectrum: loadReference(f) })),
+      VALID.filter((f) => f !== MIXUP).map((f) => ({
+        id: stem(f),
+        materialId: material(f),
+        spectrum: loadReference(f),
+      })),
       M,
     );
     const hits = searchLibrary(library, loadReference(MIXUP), 5);
@@ -197,8 +227,13 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
     const sbo = loadReference(SBO);
     expect(sbo.meta.format).toBe('jcamp-dx');
     expect(checkQuality(sbo, M).ok).toBe(true);
-    for (const f of ['atr-ftir/heptanes.csv', 'atr-ftir/isopropanol.csv', 'atr-ftir/polystyrene_film.csv', 'atr-ftir/white_paper.csv',
-      'atr-ftir-fibres/polyester-PET_s144.csv']) {
+    for (const f of [
+      'atr-ftir/heptanes.csv',
+      'atr-ftir/isopropanol.csv',
+      'atr-ftir/polystyrene_film.csv',
+      'atr-ftir/white_paper.csv',
+      'atr-ftir-fibres/polyester-PET_s144.csv',
+    ]) {
       expect(verdict(SBO, [f]).verdict).toBe('fail');
     }
     // A spread made from vegetable oil against olive oil: mid-IR barely tells triglyceride oils apart,

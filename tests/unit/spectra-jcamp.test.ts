@@ -73,7 +73,12 @@ describe('compression forms: one spectrum written as AFFN (fix), PAC, SQZ and DI
     const of = ref.observeFrequency as number;
     const shift = ours.x[0] / of - ref.data.x[0];
     expect(ref.data.x[0]).toBeCloseTo(ref.shiftOffsetVal as number, 9);
-    expect(maxAbsDiff(Array.from(ours.x, (v) => v / of - shift), ref.data.x)).toBeLessThan(1e-9);
+    expect(
+      maxAbsDiff(
+        Array.from(ours.x, (v) => v / of - shift),
+        ref.data.x,
+      ),
+    ).toBeLessThan(1e-9);
   });
 
   it('readSpectrum refuses them: they are NMR spectra (##DATA TYPE= NMR Spectrum)', () => {
@@ -112,7 +117,12 @@ describe('SBO.jdx: IR, AFFN (X++(Y..Y)), transmittance 0-1', () => {
     expect(s.x[0]).toBe(399.212341);
     expect(s.x[s.x.length - 1]).toBeCloseTo(3999.837646, 9);
     for (let i = 1; i < s.x.length; i++) expect(s.x[i]).toBeGreaterThan(s.x[i - 1]);
-    expect(maxAbsDiff(s.y, ref.y.map((v: number) => -Math.log10(v)))).toBeLessThan(1e-12);
+    expect(
+      maxAbsDiff(
+        s.y,
+        ref.y.map((v: number) => -Math.log10(v)),
+      ),
+    ).toBeLessThan(1e-12);
     // ##MAXY=1.059585: above 100 % T, tolerated with a warning (see units.ts).
     expect(s.meta.warnings.join(' ')).toMatch(/105\.9/);
   });
@@ -151,7 +161,8 @@ describe('PCRF.jdx and PCRF_line265.jdx: NTUPLES, SQZ/DIF/DUP, real + imaginary 
   });
 
   it('readSpectrum refuses both as not infrared (##DATA TYPE= NMR SPECTRUM)', () => {
-    for (const f of ['PCRF.jdx', 'PCRF_line265.jdx']) expect(errorOf(() => readSpectrum(text(f), f)).code).toBe('JCAMP_NOT_IR');
+    for (const f of ['PCRF.jdx', 'PCRF_line265.jdx'])
+      expect(errorOf(() => readSpectrum(text(f), f)).code).toBe('JCAMP_NOT_IR');
   });
 });
 
@@ -257,17 +268,34 @@ describe('ASDF pseudo-digits, one line at a time (McDonald & Wilks 1988, ASDF ta
 describe('other JCAMP-DX records (synthetic files written here)', () => {
   const xs = Array.from({ length: 60 }, (_, i) => 4000 - 50 * i);
   const ys = xs.map((x) => Number((0.1 + 0.5 * Math.exp(-(((x - 2900) / 80) ** 2))).toFixed(5)));
-  const head = (extra: string[]) => ['##TITLE=points', '##JCAMP-DX=5.01', '##DATA TYPE=INFRARED SPECTRUM', '##XUNITS=1/CM', '##YUNITS=ABSORBANCE', '##XFACTOR=1', '##YFACTOR=1', ...extra];
+  const head = (extra: string[]) => [
+    '##TITLE=points',
+    '##JCAMP-DX=5.01',
+    '##DATA TYPE=INFRARED SPECTRUM',
+    '##XUNITS=1/CM',
+    '##YUNITS=ABSORBANCE',
+    '##XFACTOR=1',
+    '##YFACTOR=1',
+    ...extra,
+  ];
 
   it('##XYPOINTS=(XY..XY) reads through readSpectrum', () => {
-    const t = [...head(['##FIRSTX=4000', '##LASTX=1050', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']), ...xs.map((x, i) => `${x}, ${ys[i]}`), '##END='].join('\n');
+    const t = [
+      ...head(['##FIRSTX=4000', '##LASTX=1050', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']),
+      ...xs.map((x, i) => `${x}, ${ys[i]}`),
+      '##END=',
+    ].join('\n');
     const s = readSpectrum(t, 'points.jdx');
     expect(s.meta.points).toBe(60);
     expect(s.x[0]).toBe(1050);
     expect(Array.from(s.y).reverse()).toEqual(ys);
   });
   it('##XYPOINTS whose ##LASTX disagrees with the data fails the X check', () => {
-    const t = [...head(['##FIRSTX=4000', '##LASTX=1000', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']), ...xs.map((x, i) => `${x}, ${ys[i]}`), '##END='].join('\n');
+    const t = [
+      ...head(['##FIRSTX=4000', '##LASTX=1000', '##NPOINTS=60', '##XYPOINTS=(XY..XY)']),
+      ...xs.map((x, i) => `${x}, ${ys[i]}`),
+      '##END=',
+    ].join('\n');
     expect(errorOf(() => readSpectrum(t, 'points.jdx')).code).toBe('JCAMP_X_CHECK');
   });
   it('##PEAK TABLE decodes as a peak table (refused by readSpectrum, tested in the bad-file corpus)', () => {
@@ -284,9 +312,26 @@ describe('other JCAMP-DX records (synthetic files written here)', () => {
   });
   it('labels are matched without spaces, hyphens and case; ##RESOLUTION goes to meta', () => {
     const t = [
-      '##TITLE=labels', '##JCAMPDX=5.01', '##datatype=INFRARED SPECTRUM', '##X_UNITS=1/CM', '##Y UNITS=ABSORBANCE', '##RESOLUTION=4',
-      '##FIRST X=4000', '##LASTX=1050', '##N POINTS=60', '##XFACTOR=1', '##YFACTOR=1e-5', '##XYDATA=(X++(Y..Y))',
-      ...Array.from({ length: 6 }, (_, k) => `${xs[k * 10]} ${ys.slice(k * 10, k * 10 + 10).map((v) => Math.round(v * 1e5)).join(' ')}`),
+      '##TITLE=labels',
+      '##JCAMPDX=5.01',
+      '##datatype=INFRARED SPECTRUM',
+      '##X_UNITS=1/CM',
+      '##Y UNITS=ABSORBANCE',
+      '##RESOLUTION=4',
+      '##FIRST X=4000',
+      '##LASTX=1050',
+      '##N POINTS=60',
+      '##XFACTOR=1',
+      '##YFACTOR=1e-5',
+      '##XYDATA=(X++(Y..Y))',
+      ...Array.from(
+        { length: 6 },
+        (_, k) =>
+          `${xs[k * 10]} ${ys
+            .slice(k * 10, k * 10 + 10)
+            .map((v) => Math.round(v * 1e5))
+            .join(' ')}`,
+      ),
       '##END=',
     ].join('\r\n');
     const s = readSpectrum(t, 'labels.jdx');

@@ -1,6 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import {
-  defaultMidIrAtrMethod, defaultNirMethod, gridLength, type IdentityMethod, preparationKey, toleranceAt, validateMethod,
+  defaultMidIrAtrMethod,
+  defaultNirMethod,
+  gridLength,
+  type IdentityMethod,
+  preparationKey,
+  toleranceAt,
+  validateMethod,
 } from '../../server/spectra/method';
 import { ENGINE_VERSION } from '../../server/spectra/version';
 
@@ -39,15 +45,33 @@ describe('identity method', () => {
     m.peakProminence = 2;
     m.quality = { minMaxAbsorbance: 0.5, maxAbsorbance: 0.1, minSignalToNoise: -3 };
     const problems = validateMethod(m);
-    for (const re of [/technique/, /range/, /baseline/, /windowSize/, /polynomial/, /derivative/, /minCorrelation/, /minDerivativeCorrelation/,
-      /maxMahalanobis/, /bandTolerance.percent/, /peakProminence/, /maxAbsorbance must exceed/, /minSignalToNoise/]) {
-      expect(problems.some((p) => re.test(p)), `expected a problem matching ${re}`).toBe(true);
+    for (const re of [
+      /technique/,
+      /range/,
+      /baseline/,
+      /windowSize/,
+      /polynomial/,
+      /derivative/,
+      /minCorrelation/,
+      /minDerivativeCorrelation/,
+      /maxMahalanobis/,
+      /bandTolerance.percent/,
+      /peakProminence/,
+      /maxAbsorbance must exceed/,
+      /minSignalToNoise/,
+    ]) {
+      expect(
+        problems.some((p) => re.test(p)),
+        `expected a problem matching ${re}`,
+      ).toBe(true);
     }
     expect(validateMethod(null)).toEqual(['The method must be an object.']);
   });
 
   it('refuses grids that are too small or too large, and exclusions that swallow the range', () => {
-    expect(validateMethod({ ...clone(defaultMidIrAtrMethod), gridStep: 100 }).join(' ')).toMatch(/at least 50 are needed/);
+    expect(validateMethod({ ...clone(defaultMidIrAtrMethod), gridStep: 100 }).join(' ')).toMatch(
+      /at least 50 are needed/,
+    );
     expect(validateMethod({ ...clone(defaultMidIrAtrMethod), gridStep: 0.01 }).join(' ')).toMatch(/at most 100000/);
     const m = clone(defaultMidIrAtrMethod);
     m.excludedRegions = [{ from: 600, to: 4000, label: 'all' }];

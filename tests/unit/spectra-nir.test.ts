@@ -18,7 +18,9 @@ const N = defaultNirMethod;
 
 describe('PCA and Mahalanobis distance', () => {
   it('symmetric eigen-decomposition: eigenvalues of [[2,1],[1,2]] are 3 and 1; A v = lambda v for a 4 x 4 matrix', () => {
-    expect(Array.from(symmetricEigen(Float64Array.from([2, 1, 1, 2]), 2).values).map((v) => +v.toFixed(12))).toEqual([3, 1]);
+    expect(Array.from(symmetricEigen(Float64Array.from([2, 1, 1, 2]), 2).values).map((v) => +v.toFixed(12))).toEqual([
+      3, 1,
+    ]);
     const a = [4, 1, 0.5, 0, 1, 3, 0.2, 0.1, 0.5, 0.2, 2, 0.3, 0, 0.1, 0.3, 1];
     const { values, vectors } = symmetricEigen(Float64Array.from(a), 4);
     vectors.forEach((v, k) => {
@@ -39,9 +41,15 @@ describe('PCA and Mahalanobis distance', () => {
     });
     const model = buildDistanceModel(pts, 3);
     const mean = [0, 1, 2].map((j) => pts.reduce((s, p) => s + p[j], 0) / pts.length);
-    const cov = [0, 1, 2].map((i) => [0, 1, 2].map((j) => pts.reduce((s, p) => s + (p[i] - mean[i]) * (p[j] - mean[j]), 0) / (pts.length - 1)));
+    const cov = [0, 1, 2].map((i) =>
+      [0, 1, 2].map((j) => pts.reduce((s, p) => s + (p[i] - mean[i]) * (p[j] - mean[j]), 0) / (pts.length - 1)),
+    );
     const sInv = inv(cov) as number[][];
-    for (const x of [[1, -2, 0], [3, -1, 0.5], [-2, -3, -0.4]]) {
+    for (const x of [
+      [1, -2, 0],
+      [3, -1, 0.5],
+      [-2, -3, -0.4],
+    ]) {
       const d = x.map((v, j) => v - mean[j]);
       const d2 = multiply(multiply(d, sInv), d) as unknown as number;
       expect(mahalanobisDistance(model, Float64Array.from(x))).toBeCloseTo(Math.sqrt(d2 / 3), 8);
@@ -53,8 +61,11 @@ describe('NIR identity on the polyolefin pellets', () => {
   const files = listSet('nir-polyolefins');
   const sampleOf = (f: string) => stem(f).replace(/_r\d$/, '');
   const polymer = (f: string) => (f.includes('/PP_') ? 'PP' : 'PE');
-  const refs = new Map(files.map((f) => [f, prepareReference({ id: stem(f), materialId: sampleOf(f), spectrum: loadReference(f) }, N)]));
-  const setOf = (sample: string, except?: string) => files.filter((f) => sampleOf(f) === sample && f !== except).map((f) => refs.get(f)!);
+  const refs = new Map(
+    files.map((f) => [f, prepareReference({ id: stem(f), materialId: sampleOf(f), spectrum: loadReference(f) }, N)]),
+  );
+  const setOf = (sample: string, except?: string) =>
+    files.filter((f) => sampleOf(f) === sample && f !== except).map((f) => refs.get(f)!);
   const samples = [...new Set(files.map(sampleOf))];
 
   it('all 35 spectra pass the quality gate of the NIR method (replicate 7 stops at 9999 cm-1, still covering 4200-9000)', () => {
@@ -103,7 +114,9 @@ describe('NIR identity on the polyolefin pellets', () => {
       for (const b of pe) {
         if (a === b) continue;
         const p = report.pairs.find((x) => x.materialId === a && x.challengerMaterialId === b)!;
-        const direct = files.filter((f) => sampleOf(f) === b).some((f) => scoreAgainst(loadReference(f), setOf(a), N).verdict === 'pass');
+        const direct = files
+          .filter((f) => sampleOf(f) === b)
+          .some((f) => scoreAgainst(loadReference(f), setOf(a), N).verdict === 'pass');
         expect(p.discriminated).toBe(!direct);
         const listed = report.notDiscriminated.some((x) => x.includes(a) && x.includes(b));
         if (direct) expect(listed).toBe(true);
@@ -116,9 +129,13 @@ describe('NIR identity on the polyolefin pellets', () => {
       'LDPE_NIST-SRM1476_N1476LDPE / LLDPE_HPU-kit_H0004LLDPE',
       'PP_HPU-kit_H0009PP / PP_supplier1_S0011PP',
     ]);
-    const hl = report.pairs.find((x) => x.materialId === 'HDPE_NIST-SRM1474_N1474PE' && x.challengerMaterialId === 'LLDPE_HPU-kit_H0004LLDPE')!;
+    const hl = report.pairs.find(
+      (x) => x.materialId === 'HDPE_NIST-SRM1474_N1474PE' && x.challengerMaterialId === 'LLDPE_HPU-kit_H0004LLDPE',
+    )!;
     expect(hl.correlationMargin).toBeLessThan(0);
     expect(hl.minDistance as number).toBeGreaterThan(3);
-    console.info(`NIR: smallest correlation margin ${report.minMargin?.value.toFixed(4)} (${report.minMargin?.materialId} vs ${report.minMargin?.challengerMaterialId})`);
+    console.info(
+      `NIR: smallest correlation margin ${report.minMargin?.value.toFixed(4)} (${report.minMargin?.materialId} vs ${report.minMargin?.challengerMaterialId})`,
+    );
   });
 });

@@ -14,7 +14,11 @@ describe('parabola vertex', () => {
 
 describe('peak picking', () => {
   it('finds Gaussian bands at sub-grid positions to better than a tenth of the spacing', () => {
-    const bands = [{ at: 1000.37, height: 1, fwhm: 12 }, { at: 1600.81, height: 0.5, fwhm: 15 }, { at: 2930.5, height: 0.3, fwhm: 30 }];
+    const bands = [
+      { at: 1000.37, height: 1, fwhm: 12 },
+      { at: 1600.81, height: 0.5, fwhm: 15 },
+      { at: 2930.5, height: 0.3, fwhm: 30 },
+    ];
     const s = syntheticSpectrum(bands, { from: 700, to: 3800, step: 1.86, offset: 0 });
     const peaks = findPeaks(s.x, s.y, { minProminence: 0.05 });
     expect(peaks.map((p) => p.position)).toHaveLength(3);
@@ -30,7 +34,13 @@ describe('peak picking', () => {
 
   it('measures prominence against the higher of the two separating minima', () => {
     // A weak shoulder band next to a strong one sits on its flank: prominence < height.
-    const s = syntheticSpectrum([{ at: 1700, height: 1, fwhm: 20 }, { at: 1730, height: 0.3, fwhm: 10 }], { from: 1500, to: 1900, offset: 0 });
+    const s = syntheticSpectrum(
+      [
+        { at: 1700, height: 1, fwhm: 20 },
+        { at: 1730, height: 0.3, fwhm: 10 },
+      ],
+      { from: 1500, to: 1900, offset: 0 },
+    );
     const peaks = findPeaks(s.x, s.y, { minProminence: 0.01 });
     expect(peaks).toHaveLength(2);
     const shoulder = peaks.find((p) => Math.abs(p.position - 1730) < 2);
@@ -40,7 +50,13 @@ describe('peak picking', () => {
 
   it('drops peaks below the prominence threshold (noise) and peaks inside masked regions', () => {
     const g = gaussian(seededRandom(11));
-    const s = syntheticSpectrum([{ at: 1000, height: 1, fwhm: 20 }, { at: 2350, height: 0.5, fwhm: 20 }], { from: 700, to: 3800, offset: 0 });
+    const s = syntheticSpectrum(
+      [
+        { at: 1000, height: 1, fwhm: 20 },
+        { at: 2350, height: 0.5, fwhm: 20 },
+      ],
+      { from: 700, to: 3800, offset: 0 },
+    );
     const y = s.y.map((v) => v + 0.002 * g());
     const grid = makeGrid({ from: 700, to: 3800 }, 1);
     const mask = grid.map((v) => (v >= 2280 && v <= 2400 ? 0 : 1)) as unknown as Uint8Array;

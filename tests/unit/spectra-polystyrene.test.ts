@@ -1,6 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import {
-  checkPolystyrene, PH_EUR_POLYSTYRENE_FT, PH_EUR_POLYSTYRENE_MONOCHROMATOR, type PolystyreneSpec,
+  checkPolystyrene,
+  PH_EUR_POLYSTYRENE_FT,
+  PH_EUR_POLYSTYRENE_MONOCHROMATOR,
+  type PolystyreneSpec,
 } from '../../server/spectra/polystyrene';
 import type { Spectrum } from '../../server/spectra/types';
 import { loadReference, syntheticSpectrum } from './spectra-analysis-data';
@@ -47,7 +50,11 @@ describe('polystyrene wavenumber check', () => {
 
   it('passes with site-approved ATR positions taken from this spectrum, and fails when the spectrum is shifted by 1.5 cm-1', () => {
     const found = checkPolystyrene(film(), { mode: 'atr' }).bands.map((b) => Math.round((b.found as number) * 10) / 10);
-    const site: PolystyreneSpec = { name: 'Site ATR positions (QA-approved)', instrument: 'ft', bands: found.map((nominal) => ({ nominal, tolerance: 1.0 })) };
+    const site: PolystyreneSpec = {
+      name: 'Site ATR positions (QA-approved)',
+      instrument: 'ft',
+      bands: found.map((nominal) => ({ nominal, tolerance: 1.0 })),
+    };
     const ok = checkPolystyrene(film(), { mode: 'atr', spec: site });
     expect(ok.verdict).toBe('pass');
     for (const b of ok.bands) expect(Math.abs(b.deviation as number)).toBeLessThanOrEqual(0.05);
@@ -73,9 +80,15 @@ describe('polystyrene wavenumber check', () => {
 
   it('a synthetic transmission film with bands at the Ph. Eur. positions passes, also on the resolution criterion', () => {
     const bands = [
-      { at: 3060.0, height: 0.9, fwhm: 8 }, { at: 3026, height: 1.2, fwhm: 10 }, { at: 2922, height: 1.5, fwhm: 25 },
-      { at: 2849.5, height: 1.0, fwhm: 8 }, { at: 1942.9, height: 0.3, fwhm: 10 }, { at: 1601.2, height: 0.8, fwhm: 6 },
-      { at: 1583.0, height: 0.4, fwhm: 4 }, { at: 1154.5, height: 0.3, fwhm: 8 }, { at: 1028.3, height: 0.5, fwhm: 8 },
+      { at: 3060.0, height: 0.9, fwhm: 8 },
+      { at: 3026, height: 1.2, fwhm: 10 },
+      { at: 2922, height: 1.5, fwhm: 25 },
+      { at: 2849.5, height: 1.0, fwhm: 8 },
+      { at: 1942.9, height: 0.3, fwhm: 10 },
+      { at: 1601.2, height: 0.8, fwhm: 6 },
+      { at: 1583.0, height: 0.4, fwhm: 4 },
+      { at: 1154.5, height: 0.3, fwhm: 8 },
+      { at: 1028.3, height: 0.5, fwhm: 8 },
     ];
     const s = syntheticSpectrum(bands, { from: 600, to: 4000, step: 0.48, offset: 0.05 });
     const r = checkPolystyrene(s, { mode: 'transmission' });

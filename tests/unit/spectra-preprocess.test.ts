@@ -1,6 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { SpectrumError } from '../../server/spectra/errors';
-import { defaultMidIrAtrMethod, defaultNirMethod, type IdentityMethod, preparationKey } from '../../server/spectra/method';
+import {
+  defaultMidIrAtrMethod,
+  defaultNirMethod,
+  type IdentityMethod,
+  preparationKey,
+} from '../../server/spectra/method';
 import { prepare } from '../../server/spectra/preprocess';
 import { ESTER_BANDS, syntheticSpectrum } from './spectra-analysis-data';
 
@@ -35,12 +40,21 @@ describe('prepare', () => {
     expect(Math.max(...used)).toBeCloseTo(1, 12);
     const strong = p.peaks.filter((k) => k.prominence >= 0.1).map((k) => Math.round(k.position));
     for (const b of ESTER_BANDS.filter((b) => b.height >= 0.06 && b.at !== 2955 && b.at !== 2855)) {
-      expect(strong.some((v) => Math.abs(v - b.at) <= 1), `band ${b.at}`).toBe(true);
+      expect(
+        strong.some((v) => Math.abs(v - b.at) <= 1),
+        `band ${b.at}`,
+      ).toBe(true);
     }
   });
 
   it('derivative methods give a derivative as the prepared values', () => {
-    const nir = syntheticSpectrum([{ at: 5800, height: 0.3, fwhm: 120 }, { at: 8250, height: 0.1, fwhm: 150 }], { from: 4000, to: 10000, step: 2 });
+    const nir = syntheticSpectrum(
+      [
+        { at: 5800, height: 0.3, fwhm: 120 },
+        { at: 8250, height: 0.1, fwhm: 150 },
+      ],
+      { from: 4000, to: 10000, step: 2 },
+    );
     const p = prepare(nir, defaultNirMethod);
     // First derivative of a band: positive below its centre, negative above.
     const at = (v: number) => p.y[p.x.findIndex((x) => x >= v)];

@@ -1,7 +1,14 @@
 import { describe, expect, it } from 'vitest';
 import { defaultMidIrAtrMethod, type IdentityMethod } from '../../server/spectra/method';
 import { checkQuality, estimateNoise } from '../../server/spectra/quality';
-import { ESTER_BANDS, gaussian, listSet, loadReference, seededRandom, syntheticSpectrum } from './spectra-analysis-data';
+import {
+  ESTER_BANDS,
+  gaussian,
+  listSet,
+  loadReference,
+  seededRandom,
+  syntheticSpectrum,
+} from './spectra-analysis-data';
 
 const M = defaultMidIrAtrMethod;
 
@@ -58,6 +65,8 @@ describe('measurement quality gate', () => {
 
   it('limits come from the method', () => {
     const strict: IdentityMethod = { ...M, quality: { ...M.quality, minMaxAbsorbance: 0.5 } };
-    expect(checkQuality(loadReference('atr-ftir-fibres/nylon6_s074.csv'), strict).problems.map((p) => p.code)).toEqual(['TOO_WEAK']);
+    expect(checkQuality(loadReference('atr-ftir-fibres/nylon6_s074.csv'), strict).problems.map((p) => p.code)).toEqual([
+      'TOO_WEAK',
+    ]);
   });
 });

@@ -18,7 +18,11 @@ describe('resampling onto the method grid', () => {
     const r = resampleLinear(x, y, grid);
     r.forEach((v, i) => expect(v).toBeCloseTo(0.01 * grid[i] - 3, 12));
     // Between (652.3, 1) and (655.0, 4): at 653.65 the value is 2.5.
-    const r2 = resampleLinear(Float64Array.from([652.3, 655.0]), Float64Array.from([1, 4]), Float64Array.from([653.65]));
+    const r2 = resampleLinear(
+      Float64Array.from([652.3, 655.0]),
+      Float64Array.from([1, 4]),
+      Float64Array.from([653.65]),
+    );
     expect(r2[0]).toBeCloseTo(2.5, 12);
   });
 

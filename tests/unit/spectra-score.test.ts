@@ -4,13 +4,22 @@ import { defaultMidIrAtrMethod, type IdentityMethod } from '../../server/spectra
 import { prepareReference, scoreAgainst } from '../../server/spectra/score';
 import type { Spectrum } from '../../server/spectra/types';
 import { ENGINE_VERSION } from '../../server/spectra/version';
-import { ESTER_BANDS, gaussian, seededRandom, type SyntheticBand, syntheticSpectrum, loadReference } from './spectra-analysis-data';
+import {
+  ESTER_BANDS,
+  gaussian,
+  seededRandom,
+  type SyntheticBand,
+  syntheticSpectrum,
+  loadReference,
+} from './spectra-analysis-data';
 
 const M = defaultMidIrAtrMethod;
 const g = gaussian(seededRandom(99));
 const noisy = (s: Spectrum, sigma = 0.0003): Spectrum => ({ ...s, y: s.y.map((v) => v + sigma * g()) });
 const ester = syntheticSpectrum(ESTER_BANDS);
-const KETONE: SyntheticBand[] = ESTER_BANDS.map((b) => (b.at === 1740 ? { ...b, at: 1715 } : b.at === 1240 || b.at === 1160 ? { ...b, height: 0.02 } : b));
+const KETONE: SyntheticBand[] = ESTER_BANDS.map((b) =>
+  b.at === 1740 ? { ...b, at: 1715 } : b.at === 1240 || b.at === 1160 ? { ...b, height: 0.02 } : b,
+);
 
 const codeOf = (f: () => unknown): string | undefined => {
   try {
@@ -27,7 +36,12 @@ describe('scoreAgainst', () => {
     expect(r.verdict).toBe('pass');
     expect(r.engineVersion).toBe(ENGINE_VERSION);
     expect(r.bestReferenceId).toBe('ref-1');
-    expect(r.criteria.map((c) => c.key)).toEqual(['correlation', 'derivative-correlation', 'band-concordance', 'extra-bands']);
+    expect(r.criteria.map((c) => c.key)).toEqual([
+      'correlation',
+      'derivative-correlation',
+      'band-concordance',
+      'extra-bands',
+    ]);
     for (const c of r.criteria) {
       expect(c.verdict).toBe('pass');
       expect(Number.isFinite(c.value)).toBe(true);
@@ -49,10 +63,14 @@ describe('scoreAgainst', () => {
   });
 
   it('pass needs every criterion against ONE reference; the best reference is the passing one', () => {
-    const r = scoreAgainst(noisy(ester), [
-      { id: 'ketone', spectrum: syntheticSpectrum(KETONE) },
-      { id: 'ester', spectrum: ester },
-    ], M);
+    const r = scoreAgainst(
+      noisy(ester),
+      [
+        { id: 'ketone', spectrum: syntheticSpectrum(KETONE) },
+        { id: 'ester', spectrum: ester },
+      ],
+      M,
+    );
     expect(r.verdict).toBe('pass');
     expect(r.bestReferenceId).toBe('ester');
     expect(r.references.map((s) => s.verdict)).toEqual(['fail', 'pass']);
@@ -92,12 +110,18 @@ describe('scoreAgainst', () => {
   it('refuses a reference prepared for other method settings, an invalid method and an empty reference set', () => {
     const prepared = prepareReference({ id: 'ester', spectrum: ester }, { ...M, gridStep: 2 });
     expect(codeOf(() => scoreAgainst(ester, [prepared], M))).toBe('METHOD_MISMATCH');
-    expect(codeOf(() => scoreAgainst(ester, [{ id: 'e', spectrum: ester }], { ...M, gridStep: -1 }))).toBe('INVALID_METHOD');
+    expect(codeOf(() => scoreAgainst(ester, [{ id: 'e', spectrum: ester }], { ...M, gridStep: -1 }))).toBe(
+      'INVALID_METHOD',
+    );
     expect(codeOf(() => scoreAgainst(ester, [], M))).toBe('NO_REFERENCES');
   });
 
   it('uses QA-listed reference bands when given', () => {
-    const r = scoreAgainst(noisy(ester), [{ id: 'ester', spectrum: ester, bands: [{ position: 1740, assignment: 'ester C=O (QA)' }, { position: 1600 }] }], M);
+    const r = scoreAgainst(
+      noisy(ester),
+      [{ id: 'ester', spectrum: ester, bands: [{ position: 1740, assignment: 'ester C=O (QA)' }, { position: 1600 }] }],
+      M,
+    );
     expect(r.bands.map((b) => b.referenceBand)).toEqual([1600, 1740]);
     expect(r.bands[1].assignment).toBe('ester C=O (QA)');
     expect(r.criteria.find((c) => c.key === 'band-concordance')).toMatchObject({ value: 1, limit: 2, verdict: 'fail' });

@@ -44,7 +44,9 @@ describe('x conversion', () => {
     // micrometre values labelled cm-1
     expect(codeOf(() => checkWavenumberWindow(arr(2.5, 25), 'cm-1', 2.5, 25))).toBe('X_UNITS_MISMATCH');
     // cm-1 values labelled nm: 400-4000 "nm" would be 2500-25000 cm-1, mostly visible/UV ... accepted only up to 26000
-    expect(codeOf(() => checkWavenumberWindow(toWavenumber(arr(200, 4000), 'nm'), 'nm', 200, 4000))).toBe('X_UNITS_MISMATCH');
+    expect(codeOf(() => checkWavenumberWindow(toWavenumber(arr(200, 4000), 'nm'), 'nm', 200, 4000))).toBe(
+      'X_UNITS_MISMATCH',
+    );
     expect(codeOf(() => checkWavenumberWindow(arr(400, 4000), 'cm-1', 400, 4000))).toBe('no error');
   });
 });
@@ -80,23 +82,45 @@ describe('y conversion', () => {
     expect(w.join(' ')).toMatch(/104 %/);
     expect(codeOf(() => toAbsorbanceLike(arr(50, 150), 'transmittance-percent', []))).toBe('TRANSMITTANCE_RANGE');
     expect(codeOf(() => toAbsorbanceLike(arr(50, 0), 'transmittance-percent', []))).toBe('NON_POSITIVE_TRANSMITTANCE');
-    expect(codeOf(() => toAbsorbanceLike(arr(0.5, -0.01), 'transmittance-fraction', []))).toBe('NON_POSITIVE_TRANSMITTANCE');
+    expect(codeOf(() => toAbsorbanceLike(arr(0.5, -0.01), 'transmittance-fraction', []))).toBe(
+      'NON_POSITIVE_TRANSMITTANCE',
+    );
     expect(codeOf(() => toAbsorbanceLike(arr(50, 120), 'reflectance-percent', []))).toBe('REFLECTANCE_RANGE');
   });
 });
 
 describe('unit labels (JCAMP-DX ##XUNITS/##YUNITS values and common column headers)', () => {
   const x: [string, string | null][] = [
-    ['1/CM', 'cm-1'], ['cm-1', 'cm-1'], ['Wavenumber (cm⁻¹)', 'cm-1'], ['wavenumber_cm-1', 'cm-1'], ['CM^-1', 'cm-1'],
-    ['NANOMETERS', 'nm'], ['Wavelength (nm)', 'nm'], ['MICROMETERS', 'um'], ['µm', 'um'], ['microns', 'um'],
-    ['HZ', null], ['PPM', null], ['ARBITRARY UNITS', null],
+    ['1/CM', 'cm-1'],
+    ['cm-1', 'cm-1'],
+    ['Wavenumber (cm⁻¹)', 'cm-1'],
+    ['wavenumber_cm-1', 'cm-1'],
+    ['CM^-1', 'cm-1'],
+    ['NANOMETERS', 'nm'],
+    ['Wavelength (nm)', 'nm'],
+    ['MICROMETERS', 'um'],
+    ['µm', 'um'],
+    ['microns', 'um'],
+    ['HZ', null],
+    ['PPM', null],
+    ['ARBITRARY UNITS', null],
   ];
   it.each(x)('x "%s" -> %s', (label, unit) => expect(parseXUnitLabel(label)).toBe(unit));
   const y: [string, YQuantity | null][] = [
-    ['ABSORBANCE', 'absorbance'], ['A', 'absorbance'], ['Abs', 'absorbance'], ['absorbance', 'absorbance'],
-    ['TRANSMITTANCE', 'transmittance'], ['T', 'transmittance'], ['%T', 'transmittance-percent'], ['Transmittance [%]', 'transmittance-percent'],
-    ['REFLECTANCE', 'reflectance'], ['%R', 'reflectance-percent'], ['LOG(1/R)', 'log-inverse-reflectance'],
-    ['KUBELKA-MUNK', 'kubelka-munk'], ['ARBITRARY UNITS', null], ['counts', null],
+    ['ABSORBANCE', 'absorbance'],
+    ['A', 'absorbance'],
+    ['Abs', 'absorbance'],
+    ['absorbance', 'absorbance'],
+    ['TRANSMITTANCE', 'transmittance'],
+    ['T', 'transmittance'],
+    ['%T', 'transmittance-percent'],
+    ['Transmittance [%]', 'transmittance-percent'],
+    ['REFLECTANCE', 'reflectance'],
+    ['%R', 'reflectance-percent'],
+    ['LOG(1/R)', 'log-inverse-reflectance'],
+    ['KUBELKA-MUNK', 'kubelka-munk'],
+    ['ARBITRARY UNITS', null],
+    ['counts', null],
   ];
   it.each(y)('y "%s" -> %s', (label, q) => expect(parseYUnitLabel(label)).toBe(q));
 });

@@ -6,15 +6,34 @@
  * 'invalid' measurement is neither pass nor fail (DESIGN.md section 4).
  */
 import { describe, expect, it } from 'vitest';
-import { effectiveResults, labelsInFileName, lotOutcome, readiness, type AttemptScope } from '../../server/modules/testing/outcome';
+import {
+  effectiveResults,
+  labelsInFileName,
+  lotOutcome,
+  readiness,
+  type AttemptScope,
+} from '../../server/modules/testing/outcome';
 import type { MeasurementSummary } from '../../server/modules/testing/repo';
 
 const containers = [1, 2, 3].map((id) => ({ id, seq: id, label: `L-2026-00007-00${id}` }));
 let next = 1;
 function m(testId: number, containerId: number, verdict: 'pass' | 'fail' | 'invalid'): MeasurementSummary {
   return {
-    id: next++, testId, containerId, label: '', verdict, matchScore: null, file: { id: 0, name: '', sha256: '', size: 0 }, instrumentId: 1, instrumentCheckId: 1,
-    methodId: 1, referenceIds: [], engineVersion: 'x', authorisedByInvestigationId: null, createdBy: { id: 1, name: '' }, createdAt: '',
+    id: next++,
+    testId,
+    containerId,
+    label: '',
+    verdict,
+    matchScore: null,
+    file: { id: 0, name: '', sha256: '', size: 0 },
+    instrumentId: 1,
+    instrumentCheckId: 1,
+    methodId: 1,
+    referenceIds: [],
+    engineVersion: 'x',
+    authorisedByInvestigationId: null,
+    createdBy: { id: 1, name: '' },
+    createdAt: '',
   };
 }
 const all: AttemptScope = { testId: 1, containerIds: null };

@@ -27,16 +27,24 @@ function short(v: unknown, max = 70): string {
 function changesText(e: AuditEventDetail): string {
   const changed = e.changes.filter((c) => c.kind !== 'unchanged');
   if (changed.length === 0) return '';
-  const lines = changed.slice(0, 6).map((c) =>
-    c.kind === 'added' ? `${c.path}: ${short(c.after)}` : c.kind === 'removed' ? `${c.path}: ${short(c.before)} → (removed)` : `${c.path}: ${short(c.before)} → ${short(c.after)}`,
-  );
+  const lines = changed
+    .slice(0, 6)
+    .map((c) =>
+      c.kind === 'added'
+        ? `${c.path}: ${short(c.after)}`
+        : c.kind === 'removed'
+          ? `${c.path}: ${short(c.before)} → (removed)`
+          : `${c.path}: ${short(c.before)} → ${short(c.after)}`,
+    );
   if (changed.length > 6) lines.push(`… ${changed.length - 6} more field(s)`);
   return lines.join('\n');
 }
 
 export function auditReportDefinition(r: AuditReportInput): TDocumentDefinitions {
   const zone = r.timeZone;
-  const head: TableCell[] = ['Event', `Time (${zone})`, 'User', 'Action', 'Record', 'Reason', 'Changed values'].map((t) => ({ text: t, style: 'th' }));
+  const head: TableCell[] = ['Event', `Time (${zone})`, 'User', 'Action', 'Record', 'Reason', 'Changed values'].map(
+    (t) => ({ text: t, style: 'th' }),
+  );
   const body: TableCell[][] = [head];
   for (const e of r.rows) {
     body.push([
@@ -88,7 +96,10 @@ export function auditReportDefinition(r: AuditReportInput): TDocumentDefinitions
     footer: (currentPage: number, pageCount: number) => ({
       margin: [30, 8, 30, 0],
       columns: [
-        { text: `Drumline audit trail report · ${r.siteName} · generated ${r.generatedAt.toISOString()} UTC · export event ${r.exportEventId}`, fontSize: 7 },
+        {
+          text: `Drumline audit trail report · ${r.siteName} · generated ${r.generatedAt.toISOString()} UTC · export event ${r.exportEventId}`,
+          fontSize: 7,
+        },
         { text: `Page ${currentPage} of ${pageCount}`, alignment: 'right', fontSize: 8, width: 90 },
       ],
     }),

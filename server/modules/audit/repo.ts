@@ -11,13 +11,28 @@
 import type { Knex } from 'knex';
 import type { AuditRow } from '../../lib/audit';
 import { parseJson } from '../../lib/db';
-import { TEXT_WINDOW, type AuditEventDetail, type AuditEventSummary, type AuditFilter, type FieldChange } from './schemas';
+import {
+  TEXT_WINDOW,
+  type AuditEventDetail,
+  type AuditEventSummary,
+  type AuditFilter,
+  type FieldChange,
+} from './schemas';
 
 export type Scope = 'all' | 'accounts';
 type Db = Knex | Knex.Transaction;
 
-const SUMMARY_COLUMNS = ['id', 'occurred_at', 'actor_id', 'actor_name', 'action', 'entity_type', 'entity_id', 'reason', 'ip'] as const;
-
+const SUMMARY_COLUMNS = [
+  'id',
+  'occurred_at',
+  'actor_id',
+  'actor_name',
+  'action',
+  'entity_type',
+  'entity_id',
+  'reason',
+  'ip',
+] as const;
 
 function escapeLike(s: string): string {
   return s.replace(/[\\%_]/g, (c) => `\\${c}`);
@@ -75,7 +90,11 @@ export interface PageRequest {
 function whereAfter(qb: Knex.QueryBuilder, sort: 'asc' | 'desc', c: Cursor, inclusive: boolean): void {
   const t = new Date(c.t);
   const op = sort === 'desc' ? '<' : '>';
-  qb.where((w) => w.where('occurred_at', op, t).orWhere((x) => x.where('occurred_at', t).andWhere('id', inclusive ? `${op}=` : op, c.id)));
+  qb.where((w) =>
+    w
+      .where('occurred_at', op, t)
+      .orWhere((x) => x.where('occurred_at', t).andWhere('id', inclusive ? `${op}=` : op, c.id)),
+  );
 }
 
 function orderBy(qb: Knex.QueryBuilder, sort: 'asc' | 'desc'): void {
@@ -103,16 +122,36 @@ export async function listPage(db: Db, f: Partial<AuditFilter>, o: FilterOptions
   const more = raw.length > p.limit;
   const rows = (more ? raw.slice(0, p.limit) : raw).map(toSummary);
   const last = rows[rows.length - 1];
-  if (more && last) return { rows, nextCursor: { t: new Date(last.occurredAt).getTime(), id: last.id }, ...(f.q ? { search: { complete: false, searchedTo: last.occurredAt, window: TEXT_WINDOW } } : {}) };
-  if (edge) return { rows, nextCursor: edge, search: { complete: false, searchedTo: new Date(edge.t).toISOString(), window: TEXT_WINDOW } };
-  return { rows, nextCursor: null, ...(f.q ? { search: { complete: true, searchedTo: null, window: TEXT_WINDOW } } : {}) };
+  if (more && last)
+    return {
+      rows,
+      nextCursor: { t: new Date(last.occurredAt).getTime(), id: last.id },
+      ...(f.q ? { search: { complete: false, searchedTo: last.occurredAt, window: TEXT_WINDOW } } : {}),
+    };
+  if (edge)
+    return {
+      rows,
+      nextCursor: edge,
+      search: { complete: false, searchedTo: new Date(edge.t).toISOString(), window: TEXT_WINDOW },
+    };
+  return {
+    rows,
+    nextCursor: null,
+    ...(f.q ? { search: { complete: true, searchedTo: null, window: TEXT_WINDOW } } : {}),
+  };
 }
 
 /**
  * The TEXT_WINDOW-th event after the cursor in sort order within the date range and scope (read
  * from the time index alone), or null when fewer remain.
  */
-export async function windowEdge(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest, size: number): Promise<Cursor | null> {
+export async function windowEdge(
+  db: Db,
+  f: Partial<AuditFilter>,
+  o: FilterOptions,
+  p: PageRequest,
+  size: number,
+): Promise<Cursor | null> {
   const qb = db('audit_event').select('occurred_at', 'id');
   applyFilter(qb, { from: f.from, to: f.to }, o);
   if (p.cursor) whereAfter(qb, p.sort, p.cursor, false);
@@ -122,7 +161,13 @@ export async function windowEdge(db: Db, f: Partial<AuditFilter>, o: FilterOptio
 }
 
 /** The raw rows of one page (limit + 1 to know whether more follow). */
-export async function pageQuery(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest, columns: string[] | '*'): Promise<AuditRow[]> {
+export async function pageQuery(
+  db: Db,
+  f: Partial<AuditFilter>,
+  o: FilterOptions,
+  p: PageRequest,
+  columns: string[] | '*',
+): Promise<AuditRow[]> {
   const qb = db('audit_event').select(columns === '*' ? '*' : columns);
   applyFilter(qb, f, o);
   if (p.cursor) whereAfter(qb, p.sort, p.cursor, false);
@@ -133,7 +178,12 @@ export async function pageQuery(db: Db, f: Partial<AuditFilter>, o: FilterOption
 }
 
 /** Number of matching events, counted up to `cap` (+1 tells "more than cap"). */
-export async function countCapped(db: Db, f: Partial<AuditFilter>, o: FilterOptions, cap: number): Promise<{ count: number; exact: boolean }> {
+export async function countCapped(
+  db: Db,
+  f: Partial<AuditFilter>,
+  o: FilterOptions,
+  cap: number,
+): Promise<{ count: number; exact: boolean }> {
   if (!hasAnyFilter(f) && o.scope === 'all' && o.maxId === undefined) {
     // Ids are gap-free and assigned from audit_head: the last id is the exact number of events.
     const head = await db('audit_head').where({ id: 1 }).first();
@@ -167,13 +217,24 @@ export async function eventsOfRecord(db: Db, entityType: string, entityId: strin
 }
 
 /** Distinct action names and record types (loose index scans), and the accounts that appear as actors. */
-export async function facets(db: Db): Promise<{ actions: string[]; entityTypes: string[]; actors: { id: number; name: string }[] }> {
-  const actions = (await db('audit_event').distinct('action').orderBy('action')).map((r: { action: string }) => r.action);
-  const entityTypes = (await db('audit_event').distinct('entity_type').orderBy('entity_type')).map((r: { entity_type: string }) => r.entity_type);
-  const ids = (await db('audit_event').distinct('actor_id').whereNotNull('actor_id')).map((r: { actor_id: number }) => Number(r.actor_id));
+export async function facets(
+  db: Db,
+): Promise<{ actions: string[]; entityTypes: string[]; actors: { id: number; name: string }[] }> {
+  const actions = (await db('audit_event').distinct('action').orderBy('action')).map(
+    (r: { action: string }) => r.action,
+  );
+  const entityTypes = (await db('audit_event').distinct('entity_type').orderBy('entity_type')).map(
+    (r: { entity_type: string }) => r.entity_type,
+  );
+  const ids = (await db('audit_event').distinct('actor_id').whereNotNull('actor_id')).map((r: { actor_id: number }) =>
+    Number(r.actor_id),
+  );
   const users = ids.length ? await db('app_user').select('id', 'full_name', 'username').whereIn('id', ids) : [];
   const actors = users
-    .map((u: { id: number; full_name: string; username: string }) => ({ id: Number(u.id), name: `${u.full_name} (${u.username})` }))
+    .map((u: { id: number; full_name: string; username: string }) => ({
+      id: Number(u.id),
+      name: `${u.full_name} (${u.username})`,
+    }))
     .sort((a, b) => a.name.localeCompare(b.name));
   return { actions, entityTypes, actors };
 }
@@ -215,7 +276,9 @@ function flatten(v: unknown, prefix: string, out: Map<string, unknown>, depth: n
     out.set(prefix || '(value)', v);
     return;
   }
-  const entries: [string, unknown][] = Array.isArray(v) ? v.map((x, i) => [`${prefix}[${i}]`, x]) : Object.entries(v).map(([k, x]) => [prefix ? `${prefix}.${k}` : k, x]);
+  const entries: [string, unknown][] = Array.isArray(v)
+    ? v.map((x, i) => [`${prefix}[${i}]`, x])
+    : Object.entries(v).map(([k, x]) => [prefix ? `${prefix}.${k}` : k, x]);
   if (entries.length === 0) {
     out.set(prefix || '(value)', v);
     return;
@@ -235,7 +298,13 @@ export function diffValues(before: unknown, after: unknown): FieldChange[] {
     const inA = a.has(path);
     const bv = inB ? b.get(path) : null;
     const av = inA ? a.get(path) : null;
-    const kind: FieldChange['kind'] = !inB ? 'added' : !inA ? 'removed' : JSON.stringify(bv) === JSON.stringify(av) ? 'unchanged' : 'changed';
+    const kind: FieldChange['kind'] = !inB
+      ? 'added'
+      : !inA
+        ? 'removed'
+        : JSON.stringify(bv) === JSON.stringify(av)
+          ? 'unchanged'
+          : 'changed';
     return { path, before: bv, after: av, kind };
   });
 }

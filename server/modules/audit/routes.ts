@@ -12,11 +12,16 @@ import * as service from './service';
 import { auditFilterSchema, auditListQuerySchema, historyParamsSchema } from './schemas';
 
 const TRAIL = { roles: ['auditor', 'qa_manager', 'admin'] as const };
-const SCOPE_NOTE = 'Auditors and QA managers see every event; administrators only account and sign-in events (record type "user").';
+const SCOPE_NOTE =
+  'Auditors and QA managers see every event; administrators only account and sign-in events (record type "user").';
 
 export function auditRoutes(config: AppConfig): Router {
   const r = Router();
-  const ctx = (c: { user: service.ExportContext['user']; actor: service.ExportContext['actor']; ip: string | null }): service.ExportContext => ({
+  const ctx = (c: {
+    user: service.ExportContext['user'];
+    actor: service.ExportContext['actor'];
+    ip: string | null;
+  }): service.ExportContext => ({
     user: c.user,
     actor: c.actor,
     ip: c.ip,
@@ -39,12 +44,26 @@ export function auditRoutes(config: AppConfig): Router {
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/audit/events/:id', summary: 'One audit event with its before and after values, field by field', description: SCOPE_NOTE, tag: 'audit', access: TRAIL, params: idParams },
+    {
+      method: 'get',
+      path: '/api/audit/events/:id',
+      summary: 'One audit event with its before and after values, field by field',
+      description: SCOPE_NOTE,
+      tag: 'audit',
+      access: TRAIL,
+      params: idParams,
+    },
     ({ user, params }) => service.getEvent(getDb(), user, params.id),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/audit/facets', summary: 'Action names, record types and users that occur in the trail (filter choices)', tag: 'audit', access: TRAIL },
+    {
+      method: 'get',
+      path: '/api/audit/facets',
+      summary: 'Action names, record types and users that occur in the trail (filter choices)',
+      tag: 'audit',
+      access: TRAIL,
+    },
     ({ user }) => service.getFacets(getDb(), user),
   );
   defineRoute(

@@ -5,7 +5,10 @@
 import { z } from 'zod';
 
 /** An instant as ISO 8601 with a zone (the client converts site-local dates to UTC). */
-const instant = z.iso.datetime({ offset: true, message: 'Give a date and time in ISO 8601 with a zone, e.g. 2026-03-14T00:00:00Z.' });
+const instant = z.iso.datetime({
+  offset: true,
+  message: 'Give a date and time in ISO 8601 with a zone, e.g. 2026-03-14T00:00:00Z.',
+});
 
 /**
  * Action filter: an exact action name ("lot.registered") or a prefix ending in "*"
@@ -17,8 +20,19 @@ export const auditFilterSchema = z.object({
   from: instant.optional(),
   to: instant.optional(),
   actorId: z.coerce.number().int().positive().optional(),
-  action: z.string().trim().max(65).regex(ACTION_PATTERN, 'Give an action name, or its beginning followed by * (e.g. lot.*).').optional(),
-  entityType: z.string().trim().min(1).max(40).regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.').optional(),
+  action: z
+    .string()
+    .trim()
+    .max(65)
+    .regex(ACTION_PATTERN, 'Give an action name, or its beginning followed by * (e.g. lot.*).')
+    .optional(),
+  entityType: z
+    .string()
+    .trim()
+    .min(1)
+    .max(40)
+    .regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.')
+    .optional(),
   entityId: z.string().trim().min(1).max(64).optional(),
   q: z.string().trim().max(200).optional(),
   sort: z.enum(['asc', 'desc']).default('desc'),
@@ -32,7 +46,12 @@ export const auditListQuerySchema = auditFilterSchema.extend({
 export type AuditListQuery = z.infer<typeof auditListQuerySchema>;
 
 export const historyParamsSchema = z.object({
-  entityType: z.string().trim().min(1).max(40).regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.'),
+  entityType: z
+    .string()
+    .trim()
+    .min(1)
+    .max(40)
+    .regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.'),
   entityId: z.string().trim().min(1).max(64),
 });
 

@@ -33,7 +33,8 @@ export function scopeFor(user: AuthUser): repo.Scope {
 }
 
 function checkRange(f: Partial<AuditFilter>): void {
-  if (f.from && f.to && new Date(f.from).getTime() >= new Date(f.to).getTime()) throw badRequest('The start of the date range must lie before its end.');
+  if (f.from && f.to && new Date(f.from).getTime() >= new Date(f.to).getTime())
+    throw badRequest('The start of the date range must lie before its end.');
 }
 
 export async function listEvents(db: Knex, user: AuthUser, q: AuditListQuery): Promise<AuditPage> {
@@ -47,7 +48,14 @@ export async function listEvents(db: Knex, user: AuthUser, q: AuditListQuery): P
   const { rows, nextCursor, search } = await repo.listPage(db, q, { scope }, { sort: q.sort, cursor, limit: q.limit });
   // Counted on the first page only, capped; a text search is not counted (it reads window by window).
   const total = cursor || q.q ? null : await repo.countCapped(db, q, { scope }, COUNT_CAP);
-  return { events: rows, nextCursor: nextCursor ? repo.encodeCursor(nextCursor) : null, total, limit: q.limit, scope, ...(search ? { search } : {}) };
+  return {
+    events: rows,
+    nextCursor: nextCursor ? repo.encodeCursor(nextCursor) : null,
+    total,
+    limit: q.limit,
+    scope,
+    ...(search ? { search } : {}),
+  };
 }
 
 export async function getEvent(db: Knex, user: AuthUser, id: number): Promise<AuditEventDetail> {
@@ -61,7 +69,11 @@ export async function getFacets(db: Knex, user: AuthUser): Promise<AuditFacets> 
   const scope = scopeFor(user);
   const f = await repo.facets(db);
   if (scope === 'all') return f;
-  return { actions: f.actions.filter((a) => a.startsWith('auth.') || a.startsWith('user.')), entityTypes: ['user'], actors: f.actors };
+  return {
+    actions: f.actions.filter((a) => a.startsWith('auth.') || a.startsWith('user.')),
+    entityTypes: ['user'],
+    actors: f.actors,
+  };
 }
 
 /**
@@ -75,8 +87,14 @@ export function mayReadHistory(user: AuthUser, entityType: string): boolean {
   return r.includes('operator') || r.includes('verifier');
 }
 
-export async function recordHistory(db: Knex, user: AuthUser, entityType: string, entityId: string): Promise<RecordHistory> {
-  if (!mayReadHistory(user, entityType)) throw forbidden(`Your role does not allow reading the history of ${entityType} records.`);
+export async function recordHistory(
+  db: Knex,
+  user: AuthUser,
+  entityType: string,
+  entityId: string,
+): Promise<RecordHistory> {
+  if (!mayReadHistory(user, entityType))
+    throw forbidden(`Your role does not allow reading the history of ${entityType} records.`);
   const rows = await repo.eventsOfRecord(db, entityType, entityId, HISTORY_CAP);
   const truncated = rows.length > HISTORY_CAP;
   const signatures = await signaturesFor(db, entityType, entityId);
@@ -95,7 +113,12 @@ export interface ExportContext {
 }
 
 /** The filter in words, for the export header and the report. */
-export async function describeFilter(db: Knex, f: Partial<AuditFilter>, scope: repo.Scope, tz: string): Promise<string[]> {
+export async function describeFilter(
+  db: Knex,
+  f: Partial<AuditFilter>,
+  scope: repo.Scope,
+  tz: string,
+): Promise<string[]> {
   const parts: string[] = [];
   if (scope === 'accounts') parts.push('account and sign-in events only (administrator view)');
   if (f.from) parts.push(`from ${formatInZone(f.from, tz)} (${new Date(f.from).toISOString()})`);
@@ -104,7 +127,8 @@ export async function describeFilter(db: Knex, f: Partial<AuditFilter>, scope: r
     const u = await db('app_user').where({ id: f.actorId }).first();
     parts.push(`user ${u ? `${u.full_name} (${u.username}, id ${f.actorId})` : `id ${f.actorId}`}`);
   }
-  if (f.action) parts.push(f.action.endsWith('*') ? `action starting with "${f.action.slice(0, -1)}"` : `action "${f.action}"`);
+  if (f.action)
+    parts.push(f.action.endsWith('*') ? `action starting with "${f.action.slice(0, -1)}"` : `action "${f.action}"`);
   if (f.entityType) parts.push(`record type "${f.entityType}"`);
   if (f.entityId) parts.push(`record id "${f.entityId}"`);
   if (f.q) parts.push(`reason contains "${f.q}"`);
@@ -115,16 +139,25 @@ export async function describeFilter(db: Knex, f: Partial<AuditFilter>, scope: r
 
 function filterForAudit(f: Partial<AuditFilter>): Record<string, unknown> {
   const out: Record<string, unknown> = {};
-  for (const k of ['from', 'to', 'actorId', 'action', 'entityType', 'entityId', 'q', 'sort'] as const) if (f[k] !== undefined) out[k] = f[k];
+  for (const k of ['from', 'to', 'actorId', 'action', 'entityType', 'entityId', 'q', 'sort'] as const)
+    if (f[k] !== undefined) out[k] = f[k];
   return out;
 }
 
 function stamp(d: Date): string {
-  return d.toISOString().replace(/[-:]/g, '').replace(/\.\d+Z$/, 'Z');
+  return d
+    .toISOString()
+    .replace(/[-:]/g, '')
+    .replace(/\.\d+Z$/, 'Z');
 }
 
 /** Iterates the matching events in pages (keyset), never holding more than one page. */
-export async function* eventPages(db: Knex, f: Partial<AuditFilter>, o: repo.FilterOptions, pageSize = 1000): AsyncGenerator<AuditRow[]> {
+export async function* eventPages(
+  db: Knex,
+  f: Partial<AuditFilter>,
+  o: repo.FilterOptions,
+  pageSize = 1000,
+): AsyncGenerator<AuditRow[]> {
   let cursor: repo.Cursor | null = null;
   const sort = f.sort ?? 'desc';
   for (;;) {
@@ -138,7 +171,13 @@ export async function* eventPages(db: Knex, f: Partial<AuditFilter>, o: repo.Fil
 }
 
 /** Streams the CSV to the response; stops fetching while the client is not reading. */
-export async function exportCsv(db: Knex, ctx: ExportContext, f: AuditFilter, res: Response, pageSize = 1000): Promise<void> {
+export async function exportCsv(
+  db: Knex,
+  ctx: ExportContext,
+  f: AuditFilter,
+  res: Response,
+  pageSize = 1000,
+): Promise<void> {
   const scope = scopeFor(ctx.user);
   checkRange(f);
   const tz = safeZone(ctx.siteTimeZone);
@@ -184,9 +223,13 @@ export async function exportCsv(db: Knex, ctx: ExportContext, f: AuditFilter, re
     await write(
       '\uFEFF' +
         csvLine([`# Drumline audit trail export - ${ctx.siteName}`]) +
-        csvLine([`# Generated ${now.toISOString()} (UTC) = ${formatInZone(now, tz)} by ${ctx.user.fullName} (${ctx.user.username}); export event ${eventId}; events up to ${maxId}`]) +
+        csvLine([
+          `# Generated ${now.toISOString()} (UTC) = ${formatInZone(now, tz)} by ${ctx.user.fullName} (${ctx.user.username}); export event ${eventId}; events up to ${maxId}`,
+        ]) +
         csvLine([`# Filter: ${words.join('; ')}`]) +
-        csvLine(['# Times are UTC (ISO 8601). Each hash is SHA-256 over the event and the previous hash; before/after are JSON.']) +
+        csvLine([
+          '# Times are UTC (ISO 8601). Each hash is SHA-256 over the event and the previous hash; before/after are JSON.',
+        ]) +
         csvLine([...CSV_COLUMNS]),
     );
     for await (const page of eventPages(db, f, { scope, maxId }, pageSize)) {
@@ -203,7 +246,11 @@ export async function exportCsv(db: Knex, ctx: ExportContext, f: AuditFilter, re
   }
 }
 
-export async function exportPdf(db: Knex, ctx: ExportContext, f: AuditFilter): Promise<{ pdf: Buffer; fileName: string; eventId: number; rows: number; more: boolean }> {
+export async function exportPdf(
+  db: Knex,
+  ctx: ExportContext,
+  f: AuditFilter,
+): Promise<{ pdf: Buffer; fileName: string; eventId: number; rows: number; more: boolean }> {
   const scope = scopeFor(ctx.user);
   checkRange(f);
   const tz = safeZone(ctx.siteTimeZone);
@@ -218,7 +265,13 @@ export async function exportPdf(db: Knex, ctx: ExportContext, f: AuditFilter): P
     ip: ctx.ip,
   });
   const maxId = await repo.lastEventId(db);
-  const raw = await repo.pageQuery(db, f, { scope, maxId }, { sort: f.sort ?? 'desc', cursor: null, limit: PDF_ROW_CAP }, '*');
+  const raw = await repo.pageQuery(
+    db,
+    f,
+    { scope, maxId },
+    { sort: f.sort ?? 'desc', cursor: null, limit: PDF_ROW_CAP },
+    '*',
+  );
   const more = raw.length > PDF_ROW_CAP;
   const rows = more ? raw.slice(0, PDF_ROW_CAP) : raw;
   const total = more ? await repo.countCapped(db, f, { scope, maxId }, COUNT_CAP) : { count: rows.length, exact: true };

@@ -55,10 +55,34 @@ export interface CertificateContent {
   material: { id: number; code: string; name: string; grade: string; monographRef: string };
   tests: { id: number; attempt: number }[];
   testId: number;
-  methods: { id: number; version: number; technique: string; rangeFrom: number | null; rangeTo: number | null; minCorrelation: number | null; approval: SignatureLine | null }[];
+  methods: {
+    id: number;
+    version: number;
+    technique: string;
+    rangeFrom: number | null;
+    rangeTo: number | null;
+    minCorrelation: number | null;
+    approval: SignatureLine | null;
+  }[];
   references: { id: number; code: string; supplier: string; supplierLot: string; approval: SignatureLine | null }[];
-  instruments: { id: number; name: string; serialNumber: string; technique: string; sampling: string; location: string }[];
-  instrumentChecks: { id: number; instrumentId: number; instrumentName: string; verdict: string; performedAt: string; validUntil: string | null; spec: string; signature: SignatureLine | null }[];
+  instruments: {
+    id: number;
+    name: string;
+    serialNumber: string;
+    technique: string;
+    sampling: string;
+    location: string;
+  }[];
+  instrumentChecks: {
+    id: number;
+    instrumentId: number;
+    instrumentName: string;
+    verdict: string;
+    performedAt: string;
+    validUntil: string | null;
+    spec: string;
+    signature: SignatureLine | null;
+  }[];
   containers: ContainerLine[];
   signatures: SignatureLine[];
   engineVersions: string[];
@@ -87,7 +111,13 @@ function dateOnly(d: Date | string): string {
 
 function sigLine(s: repo.SignatureRow | undefined, record: string): SignatureLine | null {
   if (!s) return null;
-  return { printedName: s.printed_name, meaning: s.meaning, signedAt: new Date(s.signed_at).toISOString(), statement: s.statement, record };
+  return {
+    printedName: s.printed_name,
+    meaning: s.meaning,
+    signedAt: new Date(s.signed_at).toISOString(),
+    statement: s.statement,
+    record,
+  };
 }
 
 export function verificationUrl(publicUrl: string, number: string): string {
@@ -110,10 +140,16 @@ function bestReference(result: IdentityResult | null, referenceIds: number[]): n
 }
 
 /** Collects and checks everything the certificate of a lot states. Throws 404/409 when the lot does not qualify. */
-export async function gatherContent(db: Db, input: GatherInput): Promise<{ content: CertificateContent; bestReferenceCodes: Map<number, string> }> {
+export async function gatherContent(
+  db: Db,
+  input: GatherInput,
+): Promise<{ content: CertificateContent; bestReferenceCodes: Map<number, string> }> {
   const lot = await repo.findLot(db, input.lotId);
   if (!lot) throw notFound('The lot');
-  if (lot.identity_status !== 'passed') throw conflict(`Lot ${lot.lot_number} has not passed identity testing (status: ${lot.identity_status}); no certificate can be issued.`);
+  if (lot.identity_status !== 'passed')
+    throw conflict(
+      `Lot ${lot.lot_number} has not passed identity testing (status: ${lot.identity_status}); no certificate can be issued.`,
+    );
   const material = await repo.findMaterial(db, lot.material_id);
   if (!material) throw notFound('The material of the lot');
   const containers = await repo.containersOf(db, lot.id);
@@ -122,13 +158,18 @@ export async function gatherContent(db: Db, input: GatherInput): Promise<{ conte
   const tests = await repo.testsOf(db, lot.id);
   const test = tests.find((t) => t.id === input.testId);
   if (!test) throw notFound('The identity test of this lot');
-  if (test.status !== 'verified') throw conflict(`Test attempt ${test.attempt} of lot ${lot.lot_number} is not verified (status: ${test.status}).`);
+  if (test.status !== 'verified')
+    throw conflict(`Test attempt ${test.attempt} of lot ${lot.lot_number} is not verified (status: ${test.status}).`);
 
   // Verified attempts up to and including the given one, in attempt order, with their scope.
   const verified = tests.filter((t) => t.status === 'verified' && t.attempt <= test.attempt);
   const scopes = new Map<number, number[] | null>();
-  for (const t of verified) scopes.set(t.id, t.retest_of_investigation_id ? await repo.retestScope(db, t.retest_of_investigation_id) : null);
-  const measurements = await repo.measurementsOfTests(db, verified.map((t) => t.id));
+  for (const t of verified)
+    scopes.set(t.id, t.retest_of_investigation_id ? await repo.retestScope(db, t.retest_of_investigation_id) : null);
+  const measurements = await repo.measurementsOfTests(
+    db,
+    verified.map((t) => t.id),
+  );
 
   const counting = new Map<number, { m: repo.MeasurementRow; t: repo.TestRow }>();
   for (const c of containers) {
@@ -136,14 +177,21 @@ export async function gatherContent(db: Db, input: GatherInput): Promise<{ conte
       const scope = scopes.get(t.id);
       if (scope && !scope.includes(c.id)) continue;
       let latest: repo.MeasurementRow | undefined;
-      for (const m of measurements) if (m.test_id === t.id && m.container_id === c.id && (!latest || m.id > latest.id)) latest = m;
+      for (const m of measurements)
+        if (m.test_id === t.id && m.container_id === c.id && (!latest || m.id > latest.id)) latest = m;
       if (latest) counting.set(c.id, { m: latest, t });
     }
   }
   const missing = containers.filter((c) => !counting.has(c.id));
-  if (missing.length) throw conflict(`Lot ${lot.lot_number}: no verified result for container ${missing.map((c) => c.label).join(', ')}.`);
+  if (missing.length)
+    throw conflict(
+      `Lot ${lot.lot_number}: no verified result for container ${missing.map((c) => c.label).join(', ')}.`,
+    );
   const notPassed = containers.filter((c) => counting.get(c.id)!.m.verdict !== 'pass');
-  if (notPassed.length) throw conflict(`Lot ${lot.lot_number}: container ${notPassed.map((c) => c.label).join(', ')} did not pass; no certificate can be issued.`);
+  if (notPassed.length)
+    throw conflict(
+      `Lot ${lot.lot_number}: container ${notPassed.map((c) => c.label).join(', ')} did not pass; no certificate can be issued.`,
+    );
 
   const usedTests = verified.filter((t) => [...counting.values()].some((x) => x.t.id === t.id));
   const containerLines: ContainerLine[] = containers.map((c) => {
@@ -193,7 +241,8 @@ export async function gatherContent(db: Db, input: GatherInput): Promise<{ conte
   for (const t of usedTests) {
     const p = sig(t.performed_signature_id, `Identity test attempt ${t.attempt}`);
     const v = sig(t.verified_signature_id, `Identity test attempt ${t.attempt}`);
-    if (!p || !v) throw conflict(`Test attempt ${t.attempt} of lot ${lot.lot_number} lacks its performed or verified signature.`);
+    if (!p || !v)
+      throw conflict(`Test attempt ${t.attempt} of lot ${lot.lot_number} lacks its performed or verified signature.`);
     signatures.push(p, v);
   }
   const instrumentName = new Map(instruments.map((i) => [i.id, i.name]));
@@ -212,11 +261,20 @@ export async function gatherContent(db: Db, input: GatherInput): Promise<{ conte
       receivedDate: dateOnly(lot.received_date),
       containerCount: containers.length,
     },
-    material: { id: material.id, code: material.code, name: material.name, grade: material.grade, monographRef: material.monograph_ref },
+    material: {
+      id: material.id,
+      code: material.code,
+      name: material.name,
+      grade: material.grade,
+      monographRef: material.monograph_ref,
+    },
     tests: usedTests.map((t) => ({ id: t.id, attempt: t.attempt })),
     testId: test.id,
     methods: methods.map((m) => {
-      const p = parseJson<{ range?: { from?: number; to?: number }; thresholds?: { minCorrelation?: number } }>(m.params, {});
+      const p = parseJson<{ range?: { from?: number; to?: number }; thresholds?: { minCorrelation?: number } }>(
+        m.params,
+        {},
+      );
       return {
         id: m.id,
         version: m.version,
@@ -234,7 +292,14 @@ export async function gatherContent(db: Db, input: GatherInput): Promise<{ conte
       supplierLot: r.supplier_lot,
       approval: sig(r.approved_signature_id, `Reference spectrum ${r.code}`),
     })),
-    instruments: instruments.map((i) => ({ id: i.id, name: i.name, serialNumber: i.serial_number, technique: i.technique, sampling: i.sampling, location: i.location })),
+    instruments: instruments.map((i) => ({
+      id: i.id,
+      name: i.name,
+      serialNumber: i.serial_number,
+      technique: i.technique,
+      sampling: i.sampling,
+      location: i.location,
+    })),
     instrumentChecks: checks.map((k) => ({
       id: k.id,
       instrumentId: k.instrument_id,

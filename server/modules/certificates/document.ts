@@ -8,7 +8,7 @@ import type { Content, TableCell, TDocumentDefinitions } from '../../lib/pdf';
 import type { CertificateContent, SignatureLine } from './content';
 
 export const CAUTION_TEXT =
-  'This certificate records an identity test carried out under the laboratory\'s validated procedure. ' +
+  "This certificate records an identity test carried out under the laboratory's validated procedure. " +
   'It is not a release of the lot: release remains the responsibility of the authorised person under local GMP rules.';
 
 const MEANING_WORDS: Record<string, string> = {
@@ -110,41 +110,53 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
     body.push({
       table: {
         widths: ['*'],
-        body: [[{
-          text: [
-            { text: 'Supersedes certificate ', bold: true },
-            { text: c.supersedes.number, bold: true },
-            ` issued ${formatZoned(c.supersedes.issuedAt, tz)}. `,
-            c.supersedes.reason ? `Reason: ${c.supersedes.reason}` : '',
+        body: [
+          [
+            {
+              text: [
+                { text: 'Supersedes certificate ', bold: true },
+                { text: c.supersedes.number, bold: true },
+                ` issued ${formatZoned(c.supersedes.issuedAt, tz)}. `,
+                c.supersedes.reason ? `Reason: ${c.supersedes.reason}` : '',
+              ],
+              margin: [4, 3, 4, 3],
+            },
           ],
-          margin: [4, 3, 4, 3],
-        }]],
+        ],
       },
       margin: [0, 8, 0, 0],
     });
   }
 
   body.push(section('Material and lot'));
-  body.push(kvTable([
-    ['Material', `${c.material.name} (${c.material.code})`],
-    ['Grade', c.material.grade || '—'],
-    ...(c.material.monographRef ? ([['Monograph', c.material.monographRef]] as [string, string][]) : []),
-    ['Internal lot', { text: c.lot.lotNumber, bold: true }],
-    ['Supplier', c.lot.supplier],
-    ['Supplier lot', c.lot.supplierLot],
-    ['Received', c.lot.receivedDate],
-    ['Containers', String(c.lot.containerCount)],
-  ]));
+  body.push(
+    kvTable([
+      ['Material', `${c.material.name} (${c.material.code})`],
+      ['Grade', c.material.grade || '—'],
+      ...(c.material.monographRef ? ([['Monograph', c.material.monographRef]] as [string, string][]) : []),
+      ['Internal lot', { text: c.lot.lotNumber, bold: true }],
+      ['Supplier', c.lot.supplier],
+      ['Supplier lot', c.lot.supplierLot],
+      ['Received', c.lot.receivedDate],
+      ['Containers', String(c.lot.containerCount)],
+    ]),
+  );
 
   body.push(section('Identity method'));
   for (const m of c.methods) {
-    body.push(kvTable([
-      ['Method', `${c.material.code} identity method, version ${m.version} (record ${m.id})`],
-      ['Technique', TECHNIQUE_WORDS[m.technique] ?? m.technique],
-      ...(m.rangeFrom !== null && m.rangeTo !== null ? ([['Spectral range', `${m.rangeTo}–${m.rangeFrom} cm⁻¹`]] as [string, string][]) : []),
-      ...(m.minCorrelation !== null ? ([['Minimum match score', m.minCorrelation.toFixed(4)]] as [string, string][]) : []),
-      ['Approval', sigText(m.approval, tz)],
-    ]));
+    body.push(
+      kvTable([
+        ['Method', `${c.material.code} identity method, version ${m.version} (record ${m.id})`],
+        ['Technique', TECHNIQUE_WORDS[m.technique] ?? m.technique],
+        ...(m.rangeFrom !== null && m.rangeTo !== null
+          ? ([['Spectral range', `${m.rangeTo}–${m.rangeFrom} cm⁻¹`]] as [string, string][])
+          : []),
+        ...(m.minCorrelation !== null
+          ? ([['Minimum match score', m.minCorrelation.toFixed(4)]] as [string, string][])
+          : []),
+        ['Approval', sigText(m.approval, tz)],
+      ]),
+    );
   }
 
   body.push(section('Approved reference spectra used'));
@@ -153,7 +165,11 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
       headerRows: 1,
       widths: ['auto', '*', '*'],
       body: [
-        [{ text: 'Reference', style: 'th' }, { text: 'Supplier and lot', style: 'th' }, { text: 'Approval signature', style: 'th' }],
+        [
+          { text: 'Reference', style: 'th' },
+          { text: 'Supplier and lot', style: 'th' },
+          { text: 'Approval signature', style: 'th' },
+        ],
         ...c.references.map((r) => [
           { text: r.code, bold: true, noWrap: true },
           { text: [r.supplier, r.supplierLot].filter(Boolean).join(', ') || '—' },
@@ -170,11 +186,19 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
       headerRows: 1,
       widths: ['*', '*', '*'],
       body: [
-        [{ text: 'Instrument', style: 'th' }, { text: 'Instrument check', style: 'th' }, { text: 'Check signature', style: 'th' }],
+        [
+          { text: 'Instrument', style: 'th' },
+          { text: 'Instrument check', style: 'th' },
+          { text: 'Check signature', style: 'th' },
+        ],
         ...c.instrumentChecks.map((k) => {
           const inst = c.instruments.find((i) => i.id === k.instrumentId);
           return [
-            { text: inst ? `${inst.name}, serial ${inst.serialNumber}${inst.location ? `, ${inst.location}` : ''}` : k.instrumentName },
+            {
+              text: inst
+                ? `${inst.name}, serial ${inst.serialNumber}${inst.location ? `, ${inst.location}` : ''}`
+                : k.instrumentName,
+            },
             {
               stack: [
                 { text: [`Check ${k.id}: `, verdictText(k.verdict)] },
@@ -199,9 +223,21 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
       dontBreakRows: true,
       widths: ['*', 56, 34, 50, 34, 124],
       body: [
-        [th6('Container'), th6('Measurement'), th6('Match score'), th6('Band concordance'), th6('Verdict'), th6('Raw file SHA-256')],
+        [
+          th6('Container'),
+          th6('Measurement'),
+          th6('Match score'),
+          th6('Band concordance'),
+          th6('Verdict'),
+          th6('Raw file SHA-256'),
+        ],
         ...c.containers.map((r) => [
-          { stack: [{ text: r.label, bold: true, noWrap: true }, { text: r.rawFileName, fontSize: 6, color: '#555555' }] },
+          {
+            stack: [
+              { text: r.label, bold: true, noWrap: true },
+              { text: r.rawFileName, fontSize: 6, color: '#555555' },
+            ],
+          },
           { text: String(r.measurementId) },
           { text: r.matchScore === null ? '—' : r.matchScore.toFixed(4) },
           { text: r.bandsTotal === null ? 'not used' : `${r.bandsMatched} of ${r.bandsTotal}` },
@@ -225,7 +261,12 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
       headerRows: 1,
       widths: ['*', 'auto', 'auto', '*'],
       body: [
-        [{ text: 'Printed name', style: 'th' }, { text: 'Meaning', style: 'th' }, { text: 'Date and time', style: 'th' }, { text: 'Record', style: 'th' }],
+        [
+          { text: 'Printed name', style: 'th' },
+          { text: 'Meaning', style: 'th' },
+          { text: 'Date and time', style: 'th' },
+          { text: 'Record', style: 'th' },
+        ],
         ...c.signatures.map((s) => [
           { text: s.printedName, bold: true },
           { text: meaningWord(s.meaning) },
@@ -258,9 +299,18 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
           { text: CAUTION_TEXT, margin: [0, 0, 0, 6] },
           { text: 'Verify this certificate', bold: true },
           { text: c.verificationUrl, fontSize: 7.5 },
-          { text: `This file carries a digital signature of ${c.site.name}. Signing certificate SHA-256 fingerprint:`, fontSize: 7.5, margin: [0, 4, 0, 0] },
+          {
+            text: `This file carries a digital signature of ${c.site.name}. Signing certificate SHA-256 fingerprint:`,
+            fontSize: 7.5,
+            margin: [0, 4, 0, 0],
+          },
           { text: c.signingFingerprint, fontSize: 6.5 },
-          { text: `Analysis engine ${c.engineVersions.join(', ')}.`, fontSize: 7.5, color: '#555555', margin: [0, 4, 0, 0] },
+          {
+            text: `Analysis engine ${c.engineVersions.join(', ')}.`,
+            fontSize: 7.5,
+            color: '#555555',
+            margin: [0, 4, 0, 0],
+          },
         ],
       },
     ],

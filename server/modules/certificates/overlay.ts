@@ -113,7 +113,9 @@ export function overlaySvg(o: OverlayInput): string {
     if ((used || i === n) && gapStart >= 0) {
       const x1 = px(o.grid[gapStart]);
       const x2 = px(o.grid[i - 1]);
-      gaps.push(`<rect x="${f(Math.min(x1, x2))}" y="${top}" width="${f(Math.abs(x2 - x1))}" height="${ph}" fill="#eeeeee"/>`);
+      gaps.push(
+        `<rect x="${f(Math.min(x1, x2))}" y="${top}" width="${f(Math.abs(x2 - x1))}" height="${ph}" fill="#eeeeee"/>`,
+      );
       gapStart = -1;
     }
   }

@@ -27,8 +27,19 @@ export interface CertificateRow {
 
 /** Every column except the PDF bytes. */
 export const META_COLUMNS = [
-  'c.id', 'c.number', 'c.lot_id', 'c.test_id', 'c.supersedes_id', 'c.sha256', 'c.size', 'c.signer_fingerprint',
-  'c.issued_by', 'c.issued_at', 'c.content', 'c.supersede_reason', 'c.supersede_signature_id',
+  'c.id',
+  'c.number',
+  'c.lot_id',
+  'c.test_id',
+  'c.supersedes_id',
+  'c.sha256',
+  'c.size',
+  'c.signer_fingerprint',
+  'c.issued_by',
+  'c.issued_at',
+  'c.content',
+  'c.supersede_reason',
+  'c.supersede_signature_id',
 ];
 
 export interface CertificateListRow extends CertificateRow {
@@ -51,8 +62,14 @@ function listQuery(db: Db) {
     .leftJoin('app_user as u', 'u.id', 'c.issued_by')
     .select(
       ...META_COLUMNS,
-      'l.lot_number', 'l.material_id', 'm.code as material_code', 'm.name as material_name',
-      'n.id as superseded_by_id', 'n.number as superseded_by_number', 'o.number as supersedes_number', 'u.full_name as issued_by_name',
+      'l.lot_number',
+      'l.material_id',
+      'm.code as material_code',
+      'm.name as material_name',
+      'n.id as superseded_by_id',
+      'n.number as superseded_by_number',
+      'o.number as supersedes_number',
+      'u.full_name as issued_by_name',
     );
 }
 
@@ -72,13 +89,25 @@ export async function listCertificates(db: Db, f: ListFilter): Promise<{ rows: C
     if (f.lotId) q.where('c.lot_id', f.lotId);
     if (f.lot) q.where('l.lot_number', 'like', `%${escapeLike(f.lot)}%`);
     if (f.number) q.where('c.number', 'like', `%${escapeLike(f.number)}%`);
-    if (f.material) q.where((w) => w.where('m.code', 'like', `%${escapeLike(f.material!)}%`).orWhere('m.name', 'like', `%${escapeLike(f.material!)}%`));
+    if (f.material)
+      q.where((w) =>
+        w
+          .where('m.code', 'like', `%${escapeLike(f.material!)}%`)
+          .orWhere('m.name', 'like', `%${escapeLike(f.material!)}%`),
+      );
     if (f.from) q.where('c.issued_at', '>=', f.from);
     if (f.to) q.where('c.issued_at', '<', f.to);
     return q;
   };
-  const rows = (await where(listQuery(db)).orderBy('c.issued_at', 'desc').orderBy('c.id', 'desc').limit(f.limit).offset(f.offset)) as CertificateListRow[];
-  const countQ = db('certificate as c').join('lot as l', 'l.id', 'c.lot_id').join('material as m', 'm.id', 'l.material_id').count({ n: '*' });
+  const rows = (await where(listQuery(db))
+    .orderBy('c.issued_at', 'desc')
+    .orderBy('c.id', 'desc')
+    .limit(f.limit)
+    .offset(f.offset)) as CertificateListRow[];
+  const countQ = db('certificate as c')
+    .join('lot as l', 'l.id', 'c.lot_id')
+    .join('material as m', 'm.id', 'l.material_id')
+    .count({ n: '*' });
   const [{ n }] = (await where(countQ as unknown as ReturnType<typeof listQuery>)) as unknown as { n: number }[];
   return { rows, total: Number(n) };
 }
@@ -107,7 +136,11 @@ export async function pdfBytes(db: Db, id: number): Promise<Buffer | undefined> 
 /** Highest sequence used in a year, from numbers IC-YYYY-NNNNN. */
 export async function lastSequence(db: Db, year: number): Promise<number> {
   // Longest first, then highest: stays right past 99999 (IC-2026-100000 sorts below IC-2026-99999 as text).
-  const r = await db('certificate').where('number', 'like', `IC-${year}-%`).select('number').orderByRaw('CHAR_LENGTH(number) DESC, number DESC').first();
+  const r = await db('certificate')
+    .where('number', 'like', `IC-${year}-%`)
+    .select('number')
+    .orderByRaw('CHAR_LENGTH(number) DESC, number DESC')
+    .first();
   const m = /^IC-\d{4}-(\d+)$/.exec(String(r?.number ?? ''));
   return m ? Number(m[1]) : 0;
 }
@@ -178,7 +211,17 @@ export interface TestRow {
 export const testsOf = (db: Db, lotId: number): Promise<TestRow[]> =>
   db('identity_test')
     .where({ lot_id: lotId })
-    .select('id', 'lot_id', 'attempt', 'status', 'method_id', 'instrument_id', 'performed_signature_id', 'verified_signature_id', 'retest_of_investigation_id')
+    .select(
+      'id',
+      'lot_id',
+      'attempt',
+      'status',
+      'method_id',
+      'instrument_id',
+      'performed_signature_id',
+      'verified_signature_id',
+      'retest_of_investigation_id',
+    )
     .orderBy('attempt');
 
 /** Containers an attempt covers: null = all; a retest covers the containers QA authorised. */
@@ -212,9 +255,21 @@ export const measurementsOfTests = (db: Db, testIds: number[]): Promise<Measurem
     .join('stored_file as f', 'f.id', 'ms.file_id')
     .whereIn('ms.test_id', testIds)
     .select(
-      'ms.id', 'ms.test_id', 'ms.container_id', 'ms.file_id', 'ms.instrument_id', 'ms.instrument_check_id', 'ms.method_id',
-      'ms.reference_ids', 'ms.verdict', 'ms.match_score', 'ms.result', 'ms.engine_version', 'ms.created_at',
-      'f.sha256 as file_sha256', 'f.file_name',
+      'ms.id',
+      'ms.test_id',
+      'ms.container_id',
+      'ms.file_id',
+      'ms.instrument_id',
+      'ms.instrument_check_id',
+      'ms.method_id',
+      'ms.reference_ids',
+      'ms.verdict',
+      'ms.match_score',
+      'ms.result',
+      'ms.engine_version',
+      'ms.created_at',
+      'f.sha256 as file_sha256',
+      'f.file_name',
     )
     .orderBy('ms.id');
 
@@ -230,7 +285,10 @@ export interface MethodRow {
 }
 
 export const methodsByIds = (db: Db, ids: number[]): Promise<MethodRow[]> =>
-  db('identity_method').whereIn('id', ids).select('id', 'material_id', 'version', 'status', 'technique', 'params', 'approved_at', 'approved_signature_id').orderBy('id');
+  db('identity_method')
+    .whereIn('id', ids)
+    .select('id', 'material_id', 'version', 'status', 'technique', 'params', 'approved_at', 'approved_signature_id')
+    .orderBy('id');
 
 export interface ReferenceRow {
   id: number;
@@ -248,7 +306,18 @@ export interface ReferenceRow {
 export const referencesByIds = (db: Db, ids: number[]): Promise<ReferenceRow[]> =>
   db('reference_spectrum')
     .whereIn('id', ids)
-    .select('id', 'code', 'material_id', 'file_id', 'status', 'technique', 'supplier', 'supplier_lot', 'approved_at', 'approved_signature_id')
+    .select(
+      'id',
+      'code',
+      'material_id',
+      'file_id',
+      'status',
+      'technique',
+      'supplier',
+      'supplier_lot',
+      'approved_at',
+      'approved_signature_id',
+    )
     .orderBy('code');
 
 export interface InstrumentRow {
@@ -261,7 +330,10 @@ export interface InstrumentRow {
 }
 
 export const instrumentsByIds = (db: Db, ids: number[]): Promise<InstrumentRow[]> =>
-  db('instrument').whereIn('id', ids).select('id', 'name', 'serial_number', 'technique', 'sampling', 'location').orderBy('name');
+  db('instrument')
+    .whereIn('id', ids)
+    .select('id', 'name', 'serial_number', 'technique', 'sampling', 'location')
+    .orderBy('name');
 
 export interface CheckRow {
   id: number;
@@ -280,7 +352,17 @@ export const checksByIds = (db: Db, ids: number[]): Promise<CheckRow[]> =>
     .leftJoin('app_user as u', 'u.id', 'k.performed_by')
     .leftJoin('instrument_check_spec as s', 's.id', 'k.spec_id')
     .whereIn('k.id', ids)
-    .select('k.id', 'k.instrument_id', 'k.verdict', 'k.performed_at', 'k.valid_until', 'k.signature_id', 'u.full_name as performed_by_name', 's.kind as spec_kind', 's.version as spec_version')
+    .select(
+      'k.id',
+      'k.instrument_id',
+      'k.verdict',
+      'k.performed_at',
+      'k.valid_until',
+      'k.signature_id',
+      'u.full_name as performed_by_name',
+      's.kind as spec_kind',
+      's.version as spec_version',
+    )
     .orderBy('k.id');
 
 export interface SignatureRow {
@@ -293,7 +375,9 @@ export interface SignatureRow {
 
 export async function signaturesByIds(db: Db, ids: number[]): Promise<Map<number, SignatureRow>> {
   if (ids.length === 0) return new Map();
-  const rows: SignatureRow[] = await db('e_signature').whereIn('id', ids).select('id', 'printed_name', 'meaning', 'signed_at', 'statement');
+  const rows: SignatureRow[] = await db('e_signature')
+    .whereIn('id', ids)
+    .select('id', 'printed_name', 'meaning', 'signed_at', 'statement');
   return new Map(rows.map((r) => [Number(r.id), r]));
 }
 

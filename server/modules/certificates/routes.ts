@@ -52,11 +52,21 @@ function dayStart(d: string | undefined, end = false): Date | undefined {
 export function certificateRoutes(config: AppConfig): Router {
   service.setCertificateConfig(config);
   const r = Router();
-  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: config.uploadMaxBytes, files: 1 } }).single('file');
+  const upload = multer({
+    storage: multer.memoryStorage(),
+    limits: { fileSize: config.uploadMaxBytes, files: 1 },
+  }).single('file');
 
   defineRoute(
     r,
-    { method: 'get', path: '/api/certificates', summary: 'Identity certificates, newest first; search by lot, material, number and issue date', tag: 'certificates', access: 'authenticated', query: certificateListQuery },
+    {
+      method: 'get',
+      path: '/api/certificates',
+      summary: 'Identity certificates, newest first; search by lot, material, number and issue date',
+      tag: 'certificates',
+      access: 'authenticated',
+      query: certificateListQuery,
+    },
     ({ query }) =>
       service.listCertificates(getDb(), {
         lot: query.lot || undefined,
@@ -72,7 +82,13 @@ export function certificateRoutes(config: AppConfig): Router {
 
   defineRoute(
     r,
-    { method: 'get', path: '/api/certificates/signing-identity', summary: 'The site signing certificate: SHA-256 fingerprint, subject, validity', tag: 'certificates', access: ADMIN },
+    {
+      method: 'get',
+      path: '/api/certificates/signing-identity',
+      summary: 'The site signing certificate: SHA-256 fingerprint, subject, validity',
+      tag: 'certificates',
+      access: ADMIN,
+    },
     () => service.signingIdentity(config),
   );
 
@@ -81,7 +97,8 @@ export function certificateRoutes(config: AppConfig): Router {
     {
       method: 'get',
       path: '/api/certificates/verify',
-      summary: 'Verify a stored certificate by its number (bytes against the recorded SHA-256, embedded signature); audited',
+      summary:
+        'Verify a stored certificate by its number (bytes against the recorded SHA-256, embedded signature); audited',
       tag: 'certificates',
       access: 'authenticated',
       query: z.object({ number: certificateNumberSchema }),
@@ -94,7 +111,8 @@ export function certificateRoutes(config: AppConfig): Router {
     {
       method: 'post',
       path: '/api/certificates/verify',
-      summary: 'Verify an uploaded certificate PDF: byte-identical to a stored certificate? embedded signature valid? which lot? Audited',
+      summary:
+        'Verify an uploaded certificate PDF: byte-identical to a stored certificate? embedded signature valid? which lot? Audited',
       description: 'Multipart: file = the PDF. Answers with verdict "authentic" or "not authentic" and the reasons.',
       tag: 'certificates',
       access: 'authenticated',
@@ -124,7 +142,14 @@ export function certificateRoutes(config: AppConfig): Router {
 
   defineRoute(
     r,
-    { method: 'get', path: '/api/certificates/:id', summary: 'Certificate metadata with the content it prints', tag: 'certificates', access: 'authenticated', params: idParams },
+    {
+      method: 'get',
+      path: '/api/certificates/:id',
+      summary: 'Certificate metadata with the content it prints',
+      tag: 'certificates',
+      access: 'authenticated',
+      params: idParams,
+    },
     ({ params }) => service.getCertificate(getDb(), params.id),
   );
 
@@ -164,7 +189,11 @@ export function certificateRoutes(config: AppConfig): Router {
       status: 201,
     },
     ({ params, body, user, ip }) =>
-      service.supersedeCertificate(getDb(), { certificateId: params.id, reason: body.reason, user, credentials: body.signature, ip }, config),
+      service.supersedeCertificate(
+        getDb(),
+        { certificateId: params.id, reason: body.reason, user, credentials: body.signature, ip },
+        config,
+      ),
   );
 
   return r;

@@ -18,7 +18,14 @@ import { conflict, notFound, unprocessable } from '../../lib/errors';
 import { checkSignatureCredentials, recordSignature, type SignatureInput } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { renderPdf } from '../../lib/pdf';
-import { getSigningIdentity, signingSettingsFrom, signPdf, verifyPdfSignature, type PdfSignatureCheck, type SigningIdentity } from '../../lib/pdf-sign';
+import {
+  getSigningIdentity,
+  signingSettingsFrom,
+  signPdf,
+  verifyPdfSignature,
+  type PdfSignatureCheck,
+  type SigningIdentity,
+} from '../../lib/pdf-sign';
 import { prepare, readSpectrum, validateMethod, type IdentityMethod } from '../../spectra';
 import { gatherContent, type CertificateContent } from './content';
 import { certificateDocument, type DocumentExtras } from './document';
@@ -108,11 +115,15 @@ function yearIn(d: Date, timeZone: string): number {
 /** The overlay figure of the container with the lowest match score against its best reference. */
 async function buildOverlay(db: Knex, content: CertificateContent): Promise<DocumentExtras> {
   const scored = content.containers.filter((c) => c.bestReferenceId !== null);
-  if (scored.length === 0) return { overlaySvg: null, overlayCaption: 'No reference is recorded with the results; no overlay is drawn.' };
+  if (scored.length === 0)
+    return { overlaySvg: null, overlayCaption: 'No reference is recorded with the results; no overlay is drawn.' };
   const worst = scored.reduce((a, b) => ((b.matchScore ?? 2) < (a.matchScore ?? 2) ? b : a));
   const ref = content.references.find((r) => r.id === worst.bestReferenceId);
   try {
-    const measurement = await db('measurement').where({ id: worst.measurementId }).select('file_id', 'method_id').first();
+    const measurement = await db('measurement')
+      .where({ id: worst.measurementId })
+      .select('file_id', 'method_id')
+      .first();
     const methodRow = await db('identity_method').where({ id: measurement.method_id }).select('params').first();
     const method = parseJson<IdentityMethod | null>(methodRow?.params, null);
     if (!method || validateMethod(method).length) throw new Error('the stored method parameters cannot be read');
@@ -137,7 +148,10 @@ async function buildOverlay(db: Knex, content: CertificateContent): Promise<Docu
         `on the method grid; shaded regions are excluded by the method.`,
     };
   } catch (e) {
-    return { overlaySvg: null, overlayCaption: `The overlay could not be drawn (${(e as Error).message}); the results above are unaffected.` };
+    return {
+      overlaySvg: null,
+      overlayCaption: `The overlay could not be drawn (${(e as Error).message}); the results above are unaffected.`,
+    };
   }
 }
 
@@ -157,7 +171,11 @@ export interface PrepareInput {
 }
 
 /** Gathers, renders and signs a certificate (no writes). Used by issuing and by the benchmark. */
-export async function prepareCertificate(db: Knex, input: PrepareInput, config?: AppConfig): Promise<PreparedCertificate> {
+export async function prepareCertificate(
+  db: Knex,
+  input: PrepareInput,
+  config?: AppConfig,
+): Promise<PreparedCertificate> {
   const cfg = configOf(config);
   const settings = signingSettingsFrom(cfg);
   const identity = getSigningIdentity(settings);
@@ -223,7 +241,11 @@ const MAX_NUMBER_ATTEMPTS = 5;
  * already has a current certificate (and nothing is superseded) that one is returned with
  * created = false.
  */
-export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueOptions = {}): Promise<CertificateMeta & { created: boolean }> {
+export async function issueCertificate(
+  db: Knex,
+  input: IssueInput,
+  opts: IssueOptions = {},
+): Promise<CertificateMeta & { created: boolean }> {
   const cfg = configOf(opts.config);
   const lot = await repo.findLot(db, input.lotId);
   if (!lot) throw notFound('The lot');
@@ -231,8 +253,14 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
   if (input.supersedesId !== undefined) {
     const old = await repo.findListRow(db, input.supersedesId);
     if (!old || Number(old.lot_id) !== lot.id) throw notFound('The certificate to supersede');
-    if (old.superseded_by_id) throw conflict(`Certificate ${old.number} is already superseded by ${old.superseded_by_number}.`);
-    supersedes = { id: Number(old.id), number: old.number, issuedAt: new Date(old.issued_at).toISOString(), reason: input.reason ?? null };
+    if (old.superseded_by_id)
+      throw conflict(`Certificate ${old.number} is already superseded by ${old.superseded_by_number}.`);
+    supersedes = {
+      id: Number(old.id),
+      number: old.number,
+      issuedAt: new Date(old.issued_at).toISOString(),
+      reason: input.reason ?? null,
+    };
   } else if (lot.certificate_id) {
     const existing = await repo.findListRow(db, lot.certificate_id);
     return { ...toMeta(existing!), created: false };
@@ -242,14 +270,20 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
     const issuedAt = new Date();
     const year = yearIn(issuedAt, cfg.siteTimeZone);
     const number = formatNumber(year, (await repo.lastSequence(db, year)) + attempt);
-    const prepared = await prepareCertificate(db, { lotId: input.lotId, testId: input.testId, number, issuedAt, supersedes }, cfg);
+    const prepared = await prepareCertificate(
+      db,
+      { lotId: input.lotId, testId: input.testId, number, issuedAt, supersedes },
+      cfg,
+    );
     try {
       const id = await db.transaction(async (trx) => {
         const locked = await repo.lockLot(trx, input.lotId);
         if (!locked) throw notFound('The lot');
-        if (locked.identity_status !== 'passed') throw conflict(`Lot ${locked.lot_number} is no longer passed (status: ${locked.identity_status}).`);
+        if (locked.identity_status !== 'passed')
+          throw conflict(`Lot ${locked.lot_number} is no longer passed (status: ${locked.identity_status}).`);
         if (!supersedes && locked.certificate_id) throw new AlreadyIssued(Number(locked.certificate_id));
-        if (supersedes && Number(locked.certificate_id) !== supersedes.id) throw conflict('Only the lot\'s current certificate can be superseded.');
+        if (supersedes && Number(locked.certificate_id) !== supersedes.id)
+          throw conflict("Only the lot's current certificate can be superseded.");
         let signatureId: number | null = null;
         if (opts.signature) {
           const s = await recordSignature(trx, {
@@ -258,7 +292,12 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
             meaning: 'issued',
             entityType: 'certificate',
             entityId: number,
-            content: { number, sha256: prepared.sha256, lotNumber: locked.lot_number, supersedes: supersedes?.number ?? null },
+            content: {
+              number,
+              sha256: prepared.sha256,
+              lotNumber: locked.lot_number,
+              supersedes: supersedes?.number ?? null,
+            },
             statement: input.reason ?? null,
             ip: input.ip ?? null,
           });
@@ -291,7 +330,15 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
           supersedes: supersedes?.number ?? null,
           containers: prepared.content.containers.length,
         };
-        await appendAudit(trx, { actor: input.actor, action: 'certificate.issued', entityType: 'certificate', entityId: certId, after: summary, reason: input.reason ?? null, ip: input.ip ?? null });
+        await appendAudit(trx, {
+          actor: input.actor,
+          action: 'certificate.issued',
+          entityType: 'certificate',
+          entityId: certId,
+          after: summary,
+          reason: input.reason ?? null,
+          ip: input.ip ?? null,
+        });
         await appendAudit(trx, {
           actor: input.actor,
           action: 'lot.certificate-recorded',
@@ -320,7 +367,8 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
       const row = await repo.findListRow(db, id);
       return { ...toMeta(row!), created: true };
     } catch (e) {
-      if (e instanceof AlreadyIssued) return { ...toMeta((await repo.findListRow(db, e.certificateId))!), created: false };
+      if (e instanceof AlreadyIssued)
+        return { ...toMeta((await repo.findListRow(db, e.certificateId))!), created: false };
       const err = e as { code?: string; message?: string };
       if (err.code === 'ER_DUP_ENTRY' && /number/.test(err.message ?? '') && attempt < MAX_NUMBER_ATTEMPTS) continue;
       throw e;
@@ -329,7 +377,13 @@ export async function issueCertificate(db: Knex, input: IssueInput, opts: IssueO
 }
 
 /** Issues the certificate of a passed lot that has none (e.g. when automatic issuing failed). */
-export async function issueMissing(db: Knex, lotId: number, actor: Actor, ip: string | null, config?: AppConfig): Promise<CertificateMeta & { created: boolean }> {
+export async function issueMissing(
+  db: Knex,
+  lotId: number,
+  actor: Actor,
+  ip: string | null,
+  config?: AppConfig,
+): Promise<CertificateMeta & { created: boolean }> {
   const lot = await repo.findLot(db, lotId);
   if (!lot) throw notFound('The lot');
   const testId = await latestVerifiedTest(db, lotId);
@@ -352,15 +406,34 @@ export interface SupersedeInput {
 }
 
 /** QA issues a new certificate that supersedes the lot's current one, with a reason and an e-signature. */
-export async function supersedeCertificate(db: Knex, input: SupersedeInput, config?: AppConfig): Promise<CertificateMeta & { created: boolean }> {
+export async function supersedeCertificate(
+  db: Knex,
+  input: SupersedeInput,
+  config?: AppConfig,
+): Promise<CertificateMeta & { created: boolean }> {
   const old = await repo.findListRow(db, input.certificateId);
   if (!old) throw notFound('The certificate');
-  if (old.superseded_by_id) throw conflict(`Certificate ${old.number} is already superseded by ${old.superseded_by_number}.`);
+  if (old.superseded_by_id)
+    throw conflict(`Certificate ${old.number} is already superseded by ${old.superseded_by_number}.`);
   const testId = input.testId ?? (await latestVerifiedTest(db, Number(old.lot_id)));
-  await checkSignatureCredentials(db, { user: input.user, credentials: input.credentials, meaning: 'issued', entityType: 'certificate', entityId: old.number, ip: input.ip });
+  await checkSignatureCredentials(db, {
+    user: input.user,
+    credentials: input.credentials,
+    meaning: 'issued',
+    entityType: 'certificate',
+    entityId: old.number,
+    ip: input.ip,
+  });
   return issueCertificate(
     db,
-    { lotId: Number(old.lot_id), testId, actor: { id: input.user.id, name: input.user.fullName }, supersedesId: Number(old.id), reason: input.reason, ip: input.ip },
+    {
+      lotId: Number(old.lot_id),
+      testId,
+      actor: { id: input.user.id, name: input.user.fullName },
+      supersedesId: Number(old.id),
+      reason: input.reason,
+      ip: input.ip,
+    },
     { config, signature: { user: input.user, credentials: input.credentials } },
   );
 }
@@ -369,19 +442,30 @@ export async function supersedeCertificate(db: Knex, input: SupersedeInput, conf
 // Reading
 // ---------------------------------------------------------------------------------------------
 
-export async function listCertificates(db: Knex, f: repo.ListFilter): Promise<{ items: CertificateMeta[]; total: number }> {
+export async function listCertificates(
+  db: Knex,
+  f: repo.ListFilter,
+): Promise<{ items: CertificateMeta[]; total: number }> {
   const { rows, total } = await repo.listCertificates(db, f);
   return { items: rows.map(toMeta), total };
 }
 
-export async function getCertificate(db: Knex, id: number): Promise<CertificateMeta & { content: CertificateContent | null }> {
+export async function getCertificate(
+  db: Knex,
+  id: number,
+): Promise<CertificateMeta & { content: CertificateContent | null }> {
   const r = await repo.findListRow(db, id);
   if (!r) throw notFound('The certificate');
   return { ...toMeta(r), content: parseJson<CertificateContent | null>(r.content, null) };
 }
 
 /** The stored bytes, audited as a download. */
-export async function downloadCertificate(db: Knex, id: number, actor: Actor, ip: string | null): Promise<{ meta: CertificateMeta; pdf: Buffer }> {
+export async function downloadCertificate(
+  db: Knex,
+  id: number,
+  actor: Actor,
+  ip: string | null,
+): Promise<{ meta: CertificateMeta; pdf: Buffer }> {
   const r = await repo.findListRow(db, id);
   if (!r) throw notFound('The certificate');
   const pdf = await repo.pdfBytes(db, id);
@@ -427,18 +511,33 @@ function claimedNumber(pdf: Buffer): string | null {
 }
 
 function report(
-  checkedBy: VerificationReport['checkedBy'], fileSha256: string | null, row: repo.CertificateListRow | undefined,
-  byteIdentical: boolean | null, signature: PdfSignatureCheck | null,
+  checkedBy: VerificationReport['checkedBy'],
+  fileSha256: string | null,
+  row: repo.CertificateListRow | undefined,
+  byteIdentical: boolean | null,
+  signature: PdfSignatureCheck | null,
 ): VerificationReport {
   const reasons: string[] = [];
   const signedBySite = row && signature?.fingerprint ? signature.fingerprint === row.signer_fingerprint : null;
-  if (!row) reasons.push(checkedBy === 'number' ? 'No certificate with this number is stored.' : 'The file matches no certificate stored in Drumline.');
+  if (!row)
+    reasons.push(
+      checkedBy === 'number'
+        ? 'No certificate with this number is stored.'
+        : 'The file matches no certificate stored in Drumline.',
+    );
   else if (byteIdentical === false)
-    reasons.push(checkedBy === 'number' ? 'The stored bytes no longer match the SHA-256 recorded at issue.' : `The file is not byte-identical to the stored certificate ${row.number}.`);
+    reasons.push(
+      checkedBy === 'number'
+        ? 'The stored bytes no longer match the SHA-256 recorded at issue.'
+        : `The file is not byte-identical to the stored certificate ${row.number}.`,
+    );
   if (signature && !signature.signed) reasons.push('The file carries no digital signature.');
-  else if (signature && !signature.valid) reasons.push(`The digital signature does not verify: ${signature.problem ?? 'unknown problem'}`);
-  if (signature?.valid && signedBySite === false) reasons.push('The file was signed with a certificate other than the one recorded for this certificate.');
-  if (row?.superseded_by_id) reasons.push(`Note: certificate ${row.number} was superseded by ${row.superseded_by_number}.`);
+  else if (signature && !signature.valid)
+    reasons.push(`The digital signature does not verify: ${signature.problem ?? 'unknown problem'}`);
+  if (signature?.valid && signedBySite === false)
+    reasons.push('The file was signed with a certificate other than the one recorded for this certificate.');
+  if (row?.superseded_by_id)
+    reasons.push(`Note: certificate ${row.number} was superseded by ${row.superseded_by_number}.`);
   const authentic = !!row && byteIdentical === true && !!signature?.valid && signedBySite === true;
   const meta = row ? toMeta(row) : null;
   const summary = authentic
@@ -454,7 +553,14 @@ function report(
     byteIdentical,
     signature,
     signedBySite,
-    lot: row ? { id: Number(row.lot_id), lotNumber: row.lot_number, materialCode: row.material_code, materialName: row.material_name } : null,
+    lot: row
+      ? {
+          id: Number(row.lot_id),
+          lotNumber: row.lot_number,
+          materialCode: row.material_code,
+          materialName: row.material_name,
+        }
+      : null,
   };
 }
 
@@ -478,9 +584,17 @@ async function auditVerification(db: Knex, actor: Actor, ip: string | null, r: V
 }
 
 /** Checks an uploaded file against the stored certificates and its own embedded signature. Audited. */
-export async function verifyUpload(db: Knex, file: Buffer, actor: Actor, ip: string | null): Promise<VerificationReport> {
+export async function verifyUpload(
+  db: Knex,
+  file: Buffer,
+  actor: Actor,
+  ip: string | null,
+): Promise<VerificationReport> {
   if (file.length < 8 || file.subarray(0, 5).toString('latin1') !== '%PDF-')
-    throw unprocessable('NOT_A_PDF', 'The file is not a PDF. Upload the identity certificate PDF as it was downloaded.');
+    throw unprocessable(
+      'NOT_A_PDF',
+      'The file is not a PDF. Upload the identity certificate PDF as it was downloaded.',
+    );
   const sha = sha256Hex(file);
   let row: repo.CertificateListRow | undefined;
   let identical = false;
@@ -502,7 +616,12 @@ export async function verifyUpload(db: Knex, file: Buffer, actor: Actor, ip: str
 }
 
 /** Checks the stored certificate of a number: bytes against the recorded SHA-256, and its signature. Audited. */
-export async function verifyByNumber(db: Knex, number: string, actor: Actor, ip: string | null): Promise<VerificationReport> {
+export async function verifyByNumber(
+  db: Knex,
+  number: string,
+  actor: Actor,
+  ip: string | null,
+): Promise<VerificationReport> {
   const row = await repo.findByNumber(db, number.trim().toUpperCase());
   let r: VerificationReport;
   if (!row) r = report('number', null, undefined, null, null);

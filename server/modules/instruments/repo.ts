@@ -97,13 +97,21 @@ export function toCheck(r: CheckRow) {
   };
 }
 
-export const findInstrument = (db: Db, id: number): Promise<InstrumentRow | undefined> => db('instrument').where({ id }).first();
+export const findInstrument = (db: Db, id: number): Promise<InstrumentRow | undefined> =>
+  db('instrument').where({ id }).first();
 export const approvedSpecOf = (db: Db, instrumentId: number): Promise<SpecRow | undefined> =>
-  db('instrument_check_spec').where({ instrument_id: instrumentId, status: 'approved' }).orderBy('version', 'desc').first();
+  db('instrument_check_spec')
+    .where({ instrument_id: instrumentId, status: 'approved' })
+    .orderBy('version', 'desc')
+    .first();
 export const specsOf = (db: Db, instrumentId: number): Promise<SpecRow[]> =>
   db('instrument_check_spec').where({ instrument_id: instrumentId }).orderBy('version', 'desc');
 export const checksOf = (db: Db, instrumentId: number, limit = 200): Promise<CheckRow[]> =>
-  db('instrument_check').where({ instrument_id: instrumentId }).orderBy('performed_at', 'desc').orderBy('id', 'desc').limit(limit);
+  db('instrument_check')
+    .where({ instrument_id: instrumentId })
+    .orderBy('performed_at', 'desc')
+    .orderBy('id', 'desc')
+    .limit(limit);
 
 /**
  * The instrument's valid check at `at`: its latest check performed by then, if that check
@@ -117,6 +125,12 @@ export async function validCheckOf(db: Db, instrumentId: number, at: Date): Prom
     .orderBy('performed_at', 'desc')
     .orderBy('id', 'desc')
     .first();
-  if (!latest || latest.verdict !== 'pass' || !latest.valid_until || new Date(latest.valid_until).getTime() <= at.getTime()) return undefined;
+  if (
+    !latest ||
+    latest.verdict !== 'pass' ||
+    !latest.valid_until ||
+    new Date(latest.valid_until).getTime() <= at.getTime()
+  )
+    return undefined;
   return latest;
 }

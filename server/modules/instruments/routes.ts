@@ -19,22 +19,58 @@ const CHECKERS = { roles: ['operator', 'verifier', 'qa_manager'] as const };
 
 export function instrumentRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: config.uploadMaxBytes, files: 1 } }).single('file');
+  const upload = multer({
+    storage: multer.memoryStorage(),
+    limits: { fileSize: config.uploadMaxBytes, files: 1 },
+  }).single('file');
 
-  defineRoute(r, { method: 'get', path: '/api/instruments', summary: 'Instruments with their check status ("check due")', tag: 'instruments', access: 'authenticated' }, () =>
-    service.listInstruments(getDb()),
-  );
-  defineRoute(r, { method: 'get', path: '/api/instruments/:id', summary: 'One instrument with its check specifications and check history', tag: 'instruments', access: 'authenticated', params: idParams }, ({ params }) =>
-    service.getInstrument(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/instruments',
+      summary: 'Instruments with their check status ("check due")',
+      tag: 'instruments',
+      access: 'authenticated',
+    },
+    () => service.listInstruments(getDb()),
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/instruments', summary: 'Register an instrument (mid-IR: Ph. Eur. 2.2.24 FT check specification by default)', tag: 'instruments', access: QA, body: instrumentCreateSchema, status: 201 },
+    {
+      method: 'get',
+      path: '/api/instruments/:id',
+      summary: 'One instrument with its check specifications and check history',
+      tag: 'instruments',
+      access: 'authenticated',
+      params: idParams,
+    },
+    ({ params }) => service.getInstrument(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments',
+      summary: 'Register an instrument (mid-IR: Ph. Eur. 2.2.24 FT check specification by default)',
+      tag: 'instruments',
+      access: QA,
+      body: instrumentCreateSchema,
+      status: 201,
+    },
     ({ body, actor, ip }) => service.createInstrument(getDb(), actor, body, ip),
   );
   defineRoute(
     r,
-    { method: 'patch', path: '/api/instruments/:id', summary: 'Change an instrument (audited with a reason)', tag: 'instruments', access: QA, params: idParams, body: instrumentUpdateSchema },
+    {
+      method: 'patch',
+      path: '/api/instruments/:id',
+      summary: 'Change an instrument (audited with a reason)',
+      tag: 'instruments',
+      access: QA,
+      params: idParams,
+      body: instrumentUpdateSchema,
+    },
     ({ params, body, actor, ip }) => service.updateInstrument(getDb(), actor, params.id, body, ip),
   );
   defineRoute(
@@ -42,14 +78,16 @@ export function instrumentRoutes(config: AppConfig): Router {
     {
       method: 'post',
       path: '/api/instruments/:id/specs',
-      summary: 'Approve a new check specification (site positions and tolerances, or a pharmacopoeial column) with a justification and e-signature',
+      summary:
+        'Approve a new check specification (site positions and tolerances, or a pharmacopoeial column) with a justification and e-signature',
       tag: 'instruments',
       access: QA,
       params: idParams,
       body: z.object({ spec: specCreateSchema, signature: signatureInput }),
       status: 201,
     },
-    ({ params, body, user, ip }) => service.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip),
+    ({ params, body, user, ip }) =>
+      service.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip),
   );
   defineRoute(
     r,
@@ -57,12 +95,17 @@ export function instrumentRoutes(config: AppConfig): Router {
       method: 'post',
       path: '/api/instruments/:id/checks',
       summary: 'Record an instrument check from a polystyrene film spectrum (signed by the performer)',
-      description: 'Multipart: file = the spectrum; password (and username at the first signing of a session) = the e-signature. 422 with the reason when the file cannot be read; nothing is stored then.',
+      description:
+        'Multipart: file = the spectrum; password (and username at the first signing of a session) = the e-signature. 422 with the reason when the file cannot be read; nothing is stored then.',
       tag: 'instruments',
       access: CHECKERS,
       params: idParams,
       upload,
-      uploadFields: { file: 'polystyrene film spectrum (JCAMP-DX or delimited text)', password: 'your password (e-signature)', username: 'your user name (first signing of a session)' },
+      uploadFields: {
+        file: 'polystyrene film spectrum (JCAMP-DX or delimited text)',
+        password: 'your password (e-signature)',
+        username: 'your user name (first signing of a session)',
+      },
       body: signatureInput,
       status: 201,
     },

@@ -15,7 +15,12 @@ export const instrumentCreateSchema = z.object({
   technique: z.enum(INSTRUMENT_TECHNIQUES),
   sampling: z.enum(SAMPLINGS),
   location: z.string().trim().max(160).default(''),
-  checkValidityHours: z.number().int().min(1).max(24 * 31).default(24),
+  checkValidityHours: z
+    .number()
+    .int()
+    .min(1)
+    .max(24 * 31)
+    .default(24),
   reason: z.string().trim().max(2000).optional(),
 });
 export type InstrumentCreate = z.infer<typeof instrumentCreateSchema>;
@@ -25,7 +30,12 @@ export const instrumentUpdateSchema = z.object({
   serialNumber: z.string().trim().min(1).max(80).optional(),
   sampling: z.enum(SAMPLINGS).optional(),
   location: z.string().trim().max(160).optional(),
-  checkValidityHours: z.number().int().min(1).max(24 * 31).optional(),
+  checkValidityHours: z
+    .number()
+    .int()
+    .min(1)
+    .max(24 * 31)
+    .optional(),
   active: z.boolean().optional(),
   reason: z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(2000),
 });
@@ -45,4 +55,7 @@ export const specCreateSchema = z
     bands: z.array(checkBandSchema).min(3).max(20).optional(),
     justification: z.string().trim().min(20, 'Write a justification of at least 20 characters.').max(4000),
   })
-  .refine((s) => s.kind !== 'site' || (s.bands && s.bands.length >= 3), { message: 'A site specification needs at least three bands.', path: ['bands'] });
+  .refine((s) => s.kind !== 'site' || (s.bands && s.bands.length >= 3), {
+    message: 'A site specification needs at least three bands.',
+    path: ['bands'],
+  });

@@ -26,7 +26,13 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { getDb } from '../../lib/db';
-import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput, toSignatureRecord } from '../../lib/esign';
+import {
+  checkSignatureCredentials,
+  recordSignature,
+  signaturesFor,
+  type SignatureInput,
+  toSignatureRecord,
+} from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import {
@@ -41,7 +47,8 @@ import { unprocessable } from '../../lib/errors';
 import * as repo from './repo';
 import type { InstrumentCreate, InstrumentUpdate } from './schemas';
 
-export const DEFAULT_SPEC_JUSTIFICATION = 'Default: Ph. Eur. 2.2.24, Table 2.2.24.-1, polystyrene film positions with the FT-instrument tolerances (all bands +-1.0 cm-1).';
+export const DEFAULT_SPEC_JUSTIFICATION =
+  'Default: Ph. Eur. 2.2.24, Table 2.2.24.-1, polystyrene film positions with the FT-instrument tolerances (all bands +-1.0 cm-1).';
 
 function pharmacopoeiaBands(kind: string): repo.CheckBand[] {
   const spec = kind === 'pharmacopoeia-monochromator' ? PH_EUR_POLYSTYRENE_MONOCHROMATOR : PH_EUR_POLYSTYRENE_FT;
@@ -63,7 +70,13 @@ export function engineSpecOf(spec: repo.SpecRow): PolystyreneSpec {
 export interface InstrumentStatus {
   checkDue: boolean;
   validCheck: { id: number; performedAt: string; validUntil: string } | null;
-  lastCheck: { id: number; verdict: string; performedAt: string; validUntil: string | null; performedByName: string | null } | null;
+  lastCheck: {
+    id: number;
+    verdict: string;
+    performedAt: string;
+    validUntil: string | null;
+    performedByName: string | null;
+  } | null;
   currentSpec: { id: number; version: number; kind: string } | null;
 }
 
@@ -79,9 +92,17 @@ async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Promise<Ins
   const spec = await repo.approvedSpecOf(db, i.id);
   return {
     checkDue: !valid,
-    validCheck: valid ? { id: valid.id, performedAt: repo.iso(valid.performed_at)!, validUntil: repo.iso(valid.valid_until)! } : null,
+    validCheck: valid
+      ? { id: valid.id, performedAt: repo.iso(valid.performed_at)!, validUntil: repo.iso(valid.valid_until)! }
+      : null,
     lastCheck: last
-      ? { id: last.id, verdict: last.verdict, performedAt: repo.iso(last.performed_at)!, validUntil: repo.iso(last.valid_until), performedByName: last.full_name }
+      ? {
+          id: last.id,
+          verdict: last.verdict,
+          performedAt: repo.iso(last.performed_at)!,
+          validUntil: repo.iso(last.valid_until),
+          performedByName: last.full_name,
+        }
       : null,
     currentSpec: spec ? { id: spec.id, version: spec.version, kind: spec.kind } : null,
   };
@@ -98,7 +119,9 @@ export async function getInstrument(db: Knex, id: number) {
   if (!i) throw notFound('The instrument');
   const specs = await repo.specsOf(db, id);
   const checks = await repo.checksOf(db, id);
-  const sigIds = [...specs.map((s) => s.approved_signature_id), ...checks.map((c) => c.signature_id)].filter((x): x is number => !!x);
+  const sigIds = [...specs.map((s) => s.approved_signature_id), ...checks.map((c) => c.signature_id)].filter(
+    (x): x is number => !!x,
+  );
   const sigs = sigIds.length ? (await db('e_signature').whereIn('id', sigIds)).map(toSignatureRecord) : [];
   const users: { id: number; full_name: string }[] = await db('app_user')
     .whereIn('id', [...new Set([...checks.map((c) => c.performed_by), ...specs.map((s) => s.created_by)]), 0])
@@ -107,13 +130,22 @@ export async function getInstrument(db: Knex, id: number) {
   return {
     ...repo.toInstrument(i),
     ...(await statusOf(db, i, new Date())),
-    specs: specs.map((s) => ({ ...repo.toSpec(s), createdByName: name(s.created_by), signature: sigs.find((x) => x.id === s.approved_signature_id) ?? null })),
-    checks: checks.map((c) => ({ ...repo.toCheck(c), performedByName: name(c.performed_by), signature: sigs.find((x) => x.id === c.signature_id) ?? null })),
+    specs: specs.map((s) => ({
+      ...repo.toSpec(s),
+      createdByName: name(s.created_by),
+      signature: sigs.find((x) => x.id === s.approved_signature_id) ?? null,
+    })),
+    checks: checks.map((c) => ({
+      ...repo.toCheck(c),
+      performedByName: name(c.performed_by),
+      signature: sigs.find((x) => x.id === c.signature_id) ?? null,
+    })),
   };
 }
 
 export async function createInstrument(db: Knex, actor: Actor, input: InstrumentCreate, ip: string | null) {
-  if (await db('instrument').where({ name: input.name }).first()) throw conflict(`An instrument named "${input.name}" already exists.`);
+  if (await db('instrument').where({ name: input.name }).first())
+    throw conflict(`An instrument named "${input.name}" already exists.`);
   const id = await db.transaction(async (trx) => {
     const now = new Date();
     const [id] = await trx('instrument').insert({
@@ -129,7 +161,15 @@ export async function createInstrument(db: Knex, actor: Actor, input: Instrument
       updated_at: now,
     });
     const inst = repo.toInstrument((await repo.findInstrument(trx, id))!);
-    await appendAudit(trx, { actor, action: 'instrument.created', entityType: 'instrument', entityId: id, after: inst, reason: input.reason ?? null, ip });
+    await appendAudit(trx, {
+      actor,
+      action: 'instrument.created',
+      entityType: 'instrument',
+      entityId: id,
+      after: inst,
+      reason: input.reason ?? null,
+      ip,
+    });
     if (input.technique === 'mid-ir') {
       const bands = pharmacopoeiaBands('pharmacopoeia-ft');
       const [specId] = await trx('instrument_check_spec').insert({
@@ -186,7 +226,13 @@ export async function updateInstrument(db: Knex, actor: Actor, id: number, patch
 }
 
 /** The content a specification approval signs. */
-export function specSignedContent(specId: number, instrumentId: number, version: number, kind: string, bands: repo.CheckBand[]) {
+export function specSignedContent(
+  specId: number,
+  instrumentId: number,
+  version: number,
+  kind: string,
+  bands: repo.CheckBand[],
+) {
   return { specId, instrumentId, version, kind, bands };
 }
 
@@ -199,12 +245,23 @@ export async function approveSpec(
 ) {
   const inst = await repo.findInstrument(db, instrumentId);
   if (!inst) throw notFound('The instrument');
-  const bands = input.kind === 'site' ? [...input.bands!].sort((a, b) => b.nominal - a.nominal) : pharmacopoeiaBands(input.kind);
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'approved', entityType: 'instrument', entityId: instrumentId, ip });
+  const bands =
+    input.kind === 'site' ? [...input.bands!].sort((a, b) => b.nominal - a.nominal) : pharmacopoeiaBands(input.kind);
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'approved',
+    entityType: 'instrument',
+    entityId: instrumentId,
+    ip,
+  });
   const actor: Actor = { id: user.id, name: user.fullName };
   await db.transaction(async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
-    const latest = await trx('instrument_check_spec').where({ instrument_id: instrumentId }).max({ v: 'version' }).first();
+    const latest = await trx('instrument_check_spec')
+      .where({ instrument_id: instrumentId })
+      .max({ v: 'version' })
+      .first();
     const version = Number(latest?.v ?? 0) + 1;
     const previous = await repo.approvedSpecOf(trx, instrumentId);
     const now = new Date();
@@ -229,7 +286,9 @@ export async function approveSpec(
       statement: input.justification,
       ip,
     });
-    await trx('instrument_check_spec').where({ id: specId }).update({ status: 'approved', approved_signature_id: sig.id });
+    await trx('instrument_check_spec')
+      .where({ id: specId })
+      .update({ status: 'approved', approved_signature_id: sig.id });
     if (previous) {
       await trx('instrument_check_spec').where({ id: previous.id }).update({ status: 'superseded' });
       await appendAudit(trx, {
@@ -262,7 +321,14 @@ export interface CheckUpload {
   buffer: Buffer;
 }
 
-export async function recordCheck(db: Knex, user: AuthUser, instrumentId: number, file: CheckUpload | undefined, signature: SignatureInput, ip: string | null) {
+export async function recordCheck(
+  db: Knex,
+  user: AuthUser,
+  instrumentId: number,
+  file: CheckUpload | undefined,
+  signature: SignatureInput,
+  ip: string | null,
+) {
   const inst = await repo.findInstrument(db, instrumentId);
   if (!inst) throw notFound('The instrument');
   if (!inst.active) throw conflict('This instrument is out of use; reactivate it before checking it.');
@@ -273,18 +339,35 @@ export async function recordCheck(db: Knex, user: AuthUser, instrumentId: number
   try {
     spectrum = readSpectrum(new Uint8Array(file.buffer), file.originalname);
   } catch (e) {
-    if (e instanceof SpectrumError) throw unprocessable(e.code, `${file.originalname}: ${e.message}`, { fileName: file.originalname, code: e.code, sentence: e.message });
+    if (e instanceof SpectrumError)
+      throw unprocessable(e.code, `${file.originalname}: ${e.message}`, {
+        fileName: file.originalname,
+        code: e.code,
+        sentence: e.message,
+      });
     throw e;
   }
-  const result = checkPolystyrene(spectrum, { spec: engineSpecOf(spec), mode: inst.sampling === 'atr' ? 'atr' : 'transmission' });
-  await checkSignatureCredentials(db, { user, credentials: signature, meaning: 'instrument-check', entityType: 'instrument', entityId: instrumentId, ip });
+  const result = checkPolystyrene(spectrum, {
+    spec: engineSpecOf(spec),
+    mode: inst.sampling === 'atr' ? 'atr' : 'transmission',
+  });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: signature,
+    meaning: 'instrument-check',
+    entityType: 'instrument',
+    entityId: instrumentId,
+    ip,
+  });
   const sha = sha256Hex(file.buffer);
   const checkId = await db.transaction(async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const current = await repo.approvedSpecOf(trx, instrumentId);
-    if (!current || current.id !== spec.id) throw conflict('The check specification changed while you were signing; upload the spectrum again.');
+    if (!current || current.id !== spec.id)
+      throw conflict('The check specification changed while you were signing; upload the spectrum again.');
     const performedAt = new Date();
-    const validUntil = result.verdict === 'pass' ? new Date(performedAt.getTime() + inst.check_validity_hours * 3600_000) : null;
+    const validUntil =
+      result.verdict === 'pass' ? new Date(performedAt.getTime() + inst.check_validity_hours * 3600_000) : null;
     const { id: fileId } = await storeFile(trx, file, user.id, performedAt);
     const [id] = await trx('instrument_check').insert({
       instrument_id: instrumentId,
@@ -304,7 +387,14 @@ export async function recordCheck(db: Knex, user: AuthUser, instrumentId: number
       meaning: 'instrument-check',
       entityType: 'instrument_check',
       entityId: id,
-      content: { checkId: id, instrumentId, specId: spec.id, fileSha256: sha, verdict: result.verdict, bands: result.bands },
+      content: {
+        checkId: id,
+        instrumentId,
+        specId: spec.id,
+        fileSha256: sha,
+        verdict: result.verdict,
+        bands: result.bands,
+      },
       ip,
     });
     await trx('instrument_check').where({ id }).update({ signature_id: sig.id });
@@ -327,7 +417,11 @@ export async function recordCheck(db: Knex, user: AuthUser, instrumentId: number
     return id as number;
   });
   const row = (await db('instrument_check').where({ id: checkId }).first()) as repo.CheckRow;
-  return { ...repo.toCheck(row), signature: (await signaturesFor(db, 'instrument_check', checkId))[0] ?? null, performedByName: user.fullName };
+  return {
+    ...repo.toCheck(row),
+    signature: (await signaturesFor(db, 'instrument_check', checkId))[0] ?? null,
+    performedByName: user.fullName,
+  };
 }
 
 export async function checkFile(db: Knex, instrumentId: number, checkId: number) {
@@ -351,7 +445,11 @@ export interface ValidInstrumentCheck {
  * the check is due. For the testing module (tests on an instrument without one are refused):
  *   getValidInstrumentCheck(instrumentId: number, at?: Date, db?: Knex): Promise<ValidInstrumentCheck | null>
  */
-export async function getValidInstrumentCheck(instrumentId: number, at: Date = new Date(), db: Knex = getDb()): Promise<ValidInstrumentCheck | null> {
+export async function getValidInstrumentCheck(
+  instrumentId: number,
+  at: Date = new Date(),
+  db: Knex = getDb(),
+): Promise<ValidInstrumentCheck | null> {
   const inst = await repo.findInstrument(db, instrumentId);
   if (!inst || !inst.active) return null;
   const c = await repo.validCheckOf(db, instrumentId, at);

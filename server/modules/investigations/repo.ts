@@ -111,7 +111,10 @@ export async function findInvestigation(db: Db, id: number): Promise<Investigati
 export const lockInvestigation = (db: Db, id: number): Promise<InvestigationRow | undefined> =>
   db('investigation').where({ id }).forUpdate().first();
 
-export async function listInvestigations(db: Db, f: { state: 'open' | 'all'; lotId?: number }): Promise<InvestigationSummary[]> {
+export async function listInvestigations(
+  db: Db,
+  f: { state: 'open' | 'all'; lotId?: number },
+): Promise<InvestigationSummary[]> {
   const q = query(db).orderBy('i.id', 'desc').limit(500);
   if (f.state === 'open') q.whereIn('i.status', ['open', 'phase1-recorded', 'retest-authorised']);
   if (f.lotId) q.where('i.lot_id', f.lotId);

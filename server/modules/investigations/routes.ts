@@ -11,22 +11,69 @@ const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as co
 
 export function investigationRoutes(): Router {
   const r = Router();
-  defineRoute(r, { method: 'get', path: '/api/investigations', summary: 'Investigations (open ones by default)', tag: 'investigations', access: READERS, query: investigationListQuery }, ({ query }) =>
-    repo.listInvestigations(getDb(), query),
-  );
-  defineRoute(r, { method: 'get', path: '/api/investigations/:id', summary: 'An investigation with failing containers, library hint, phase I record, decision and signatures', tag: 'investigations', access: READERS, params: idParams }, ({ params }) =>
-    service.getInvestigation(getDb(), params.id),
-  );
-  defineRoute(r, { method: 'post', path: '/api/investigations/:id/phase1', summary: 'Record the signed phase I laboratory check', tag: 'investigations', access: QA, params: idParams, body: phase1Schema }, ({ params, body, user, ip }) =>
-    service.recordPhase1(getDb(), user, params.id, body, ip),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/investigations',
+      summary: 'Investigations (open ones by default)',
+      tag: 'investigations',
+      access: READERS,
+      query: investigationListQuery,
+    },
+    ({ query }) => repo.listInvestigations(getDb(), query),
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/investigations/:id/invalidate', summary: 'Invalidate the result for an assignable laboratory cause and authorise a retest of named containers (signed)', tag: 'investigations', access: QA, params: idParams, body: invalidateSchema },
+    {
+      method: 'get',
+      path: '/api/investigations/:id',
+      summary: 'An investigation with failing containers, library hint, phase I record, decision and signatures',
+      tag: 'investigations',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => service.getInvestigation(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/investigations/:id/phase1',
+      summary: 'Record the signed phase I laboratory check',
+      tag: 'investigations',
+      access: QA,
+      params: idParams,
+      body: phase1Schema,
+    },
+    ({ params, body, user, ip }) => service.recordPhase1(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/investigations/:id/invalidate',
+      summary:
+        'Invalidate the result for an assignable laboratory cause and authorise a retest of named containers (signed)',
+      tag: 'investigations',
+      access: QA,
+      params: idParams,
+      body: invalidateSchema,
+    },
     ({ params, body, user, ip }) => service.invalidateResult(getDb(), user, params.id, body, ip),
   );
-  defineRoute(r, { method: 'post', path: '/api/investigations/:id/confirm', summary: 'Confirm the failure and reject the lot (signed)', tag: 'investigations', access: QA, params: idParams, body: confirmSchema }, ({ params, body, user, ip }) =>
-    service.confirmFailure(getDb(), user, params.id, body, ip),
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/investigations/:id/confirm',
+      summary: 'Confirm the failure and reject the lot (signed)',
+      tag: 'investigations',
+      access: QA,
+      params: idParams,
+      body: confirmSchema,
+    },
+    ({ params, body, user, ip }) => service.confirmFailure(getDb(), user, params.id, body, ip),
   );
   return r;
 }

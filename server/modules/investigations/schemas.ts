@@ -16,7 +16,8 @@ export const PHASE1_LABELS: Record<Phase1Item, { title: string; question: string
   },
   sampleHandling: {
     title: 'Sample handling',
-    question: 'Was the right container sampled, labelled and presented to the instrument correctly, without contamination?',
+    question:
+      'Was the right container sampled, labelled and presented to the instrument correctly, without contamination?',
   },
   method: {
     title: 'Method',
@@ -50,7 +51,10 @@ export const invalidateSchema = z.object({
   /** The phase I point where the assignable laboratory error was found. */
   cause: z.enum(PHASE1_ITEMS),
   justification,
-  retestContainerIds: z.array(z.number().int().positive()).min(1, 'Name at least one container to re-sample and retest.').max(999),
+  retestContainerIds: z
+    .array(z.number().int().positive())
+    .min(1, 'Name at least one container to re-sample and retest.')
+    .max(999),
   signature: signatureInput,
 });
 export type InvalidateInput = z.infer<typeof invalidateSchema>;

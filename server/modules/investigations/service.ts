@@ -29,7 +29,10 @@ export interface OpenInput {
 }
 
 /** Opens an investigation inside the caller's transaction (the verification that found the failure). */
-export async function openInvestigation(trx: Knex.Transaction, input: OpenInput): Promise<{ id: number; number: string }> {
+export async function openInvestigation(
+  trx: Knex.Transaction,
+  input: OpenInput,
+): Promise<{ id: number; number: string }> {
   const now = new Date();
   const created = await insertWithNextNumber(trx, {
     table: 'investigation',
@@ -59,7 +62,12 @@ export async function openInvestigation(trx: Knex.Transaction, input: OpenInput)
     action: 'investigation.opened',
     entityType: 'investigation',
     entityId: created.id,
-    after: { number: created.number, lotId: input.lot.id, testId: input.test.id, failing: input.failing.map((f) => ({ label: f.label, measurementId: f.measurementId, hint: f.hintText })) },
+    after: {
+      number: created.number,
+      lotId: input.lot.id,
+      testId: input.test.id,
+      failing: input.failing.map((f) => ({ label: f.label, measurementId: f.measurementId, hint: f.hintText })),
+    },
     reason: `Verified identity test of lot ${input.lot.lotNumber} has failing containers.`,
     ip: input.ip,
   });
@@ -90,7 +98,9 @@ export async function closeAfterRetest(
   const row = await repo.lockInvestigation(trx, investigationId);
   if (!row || row.status !== 'retest-authorised') return;
   const now = new Date();
-  await trx('investigation').where({ id: investigationId }).update({ status: 'closed', closed_at: now, updated_at: now });
+  await trx('investigation')
+    .where({ id: investigationId })
+    .update({ status: 'closed', closed_at: now, updated_at: now });
   const result = outcome.passed
     ? `the retest (attempt ${outcome.attempt}) passed and was verified`
     : `the retest (attempt ${outcome.attempt}) failed again; investigation ${outcome.nextInvestigation ?? ''} follows it`;
@@ -125,7 +135,9 @@ async function assertNotAnalyst(db: Knex | Knex.Transaction, user: AuthUser, tes
   const t = await db('identity_test').where({ id: testId }).first();
   const measured = await db('measurement').where({ test_id: testId, created_by: user.id }).first();
   if (t?.performed_by === user.id || measured)
-    throw forbidden('You performed or measured this test, so you cannot decide its investigation. Another QA manager must do it.');
+    throw forbidden(
+      'You performed or measured this test, so you cannot decide its investigation. Another QA manager must do it.',
+    );
 }
 
 export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: Phase1Input, ip: string | null) {
@@ -133,17 +145,42 @@ export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: 
   if (!inv) throw notFound('The investigation');
   if (inv.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
   await assertNotAnalyst(db, user, inv.testId);
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'phase-1-recorded', entityType: 'investigation', entityId: id, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'phase-1-recorded',
+    entityType: 'investigation',
+    entityId: id,
+    ip,
+  });
   await db.transaction(async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
-    if (!row || row.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
-    const items = Object.fromEntries(PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }])) as repo.Phase1Record['items'];
+    if (!row || row.status !== 'open')
+      throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
+    const items = Object.fromEntries(
+      PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }]),
+    ) as repo.Phase1Record['items'];
     const content = { investigation: inv.number, items, summary: input.summary };
     const sig = await recordSignature(trx, {
-      user, credentials: input.signature, meaning: 'phase-1-recorded', entityType: 'investigation', entityId: id, content, statement: input.summary, ip,
+      user,
+      credentials: input.signature,
+      meaning: 'phase-1-recorded',
+      entityType: 'investigation',
+      entityId: id,
+      content,
+      statement: input.summary,
+      ip,
     });
-    const record: repo.Phase1Record = { items, summary: input.summary, recordedBy: { id: user.id, name: user.fullName }, recordedAt: sig.signedAt, signatureId: sig.id };
-    await trx('investigation').where({ id }).update({ phase1: JSON.stringify(record), status: 'phase1-recorded', updated_at: new Date() });
+    const record: repo.Phase1Record = {
+      items,
+      summary: input.summary,
+      recordedBy: { id: user.id, name: user.fullName },
+      recordedAt: sig.signedAt,
+      signatureId: sig.id,
+    };
+    await trx('investigation')
+      .where({ id })
+      .update({ phase1: JSON.stringify(record), status: 'phase1-recorded', updated_at: new Date() });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },
       action: 'investigation.phase1-recorded',
@@ -158,7 +195,13 @@ export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: 
   return getInvestigation(db, id);
 }
 
-export async function invalidateResult(db: Knex, user: AuthUser, id: number, input: InvalidateInput, ip: string | null) {
+export async function invalidateResult(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: InvalidateInput,
+  ip: string | null,
+) {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
@@ -172,41 +215,78 @@ export async function invalidateResult(db: Knex, user: AuthUser, id: number, inp
     );
   const failingIds = new Set(inv.failing.map((f) => f.containerId));
   const notFailing = input.retestContainerIds.filter((c) => !failingIds.has(c));
-  if (notFailing.length) throw new AppError(422, 'NOT_A_FAILING_CONTAINER', 'Only failing containers of this investigation can be authorised for retest.', { containerIds: notFailing });
+  if (notFailing.length)
+    throw new AppError(
+      422,
+      'NOT_A_FAILING_CONTAINER',
+      'Only failing containers of this investigation can be authorised for retest.',
+      { containerIds: notFailing },
+    );
   await assertNotAnalyst(db, user, inv.testId);
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'result-invalidated', entityType: 'investigation', entityId: id, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'result-invalidated',
+    entityType: 'investigation',
+    entityId: id,
+    ip,
+  });
   const retest = [...new Set(input.retestContainerIds)].sort((a, b) => a - b);
   const labels = inv.failing.filter((f) => retest.includes(f.containerId)).map((f) => f.label);
   await db.transaction(async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
     if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-    const content = { investigation: inv.number, decision: 'invalidated', cause: input.cause, justification: input.justification, retestContainers: labels };
+    const content = {
+      investigation: inv.number,
+      decision: 'invalidated',
+      cause: input.cause,
+      justification: input.justification,
+      retestContainers: labels,
+    };
     const sig = await recordSignature(trx, {
-      user, credentials: input.signature, meaning: 'result-invalidated', entityType: 'investigation', entityId: id, content, statement: input.justification, ip,
+      user,
+      credentials: input.signature,
+      meaning: 'result-invalidated',
+      entityType: 'investigation',
+      entityId: id,
+      content,
+      statement: input.justification,
+      ip,
     });
     const now = new Date();
-    await trx('investigation').where({ id }).update({
-      status: 'retest-authorised',
-      decision: 'invalidated',
-      justification: `${PHASE1_LABELS[input.cause].title}: ${input.justification}`,
-      retest_containers: JSON.stringify(retest),
-      decided_by: user.id,
-      decision_signature_id: sig.id,
-      updated_at: now,
-    });
+    await trx('investigation')
+      .where({ id })
+      .update({
+        status: 'retest-authorised',
+        decision: 'invalidated',
+        justification: `${PHASE1_LABELS[input.cause].title}: ${input.justification}`,
+        retest_containers: JSON.stringify(retest),
+        decided_by: user.id,
+        decision_signature_id: sig.id,
+        updated_at: now,
+      });
     const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
     await trx('lot').where({ id: inv.lotId }).update({ identity_status: 'retest-authorised', updated_at: now });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
-      actor, action: 'investigation.result-invalidated', entityType: 'investigation', entityId: id,
+      actor,
+      action: 'investigation.result-invalidated',
+      entityType: 'investigation',
+      entityId: id,
       before: { status: 'phase1-recorded', decision: null },
       after: { status: 'retest-authorised', decision: 'invalidated', cause: input.cause, retestContainers: labels },
-      reason: input.justification, ip,
+      reason: input.justification,
+      ip,
     });
     await appendAudit(trx, {
-      actor, action: 'lot.retest-authorised', entityType: 'lot', entityId: inv.lotId,
-      before: { identityStatus: lot.identity_status }, after: { identityStatus: 'retest-authorised', containers: labels },
-      reason: `Investigation ${inv.number}: ${input.justification}`, ip,
+      actor,
+      action: 'lot.retest-authorised',
+      entityType: 'lot',
+      entityId: inv.lotId,
+      before: { identityStatus: lot.identity_status },
+      after: { identityStatus: 'retest-authorised', containers: labels },
+      reason: `Investigation ${inv.number}: ${input.justification}`,
+      ip,
     });
     await enqueueMailToRole(
       trx,
@@ -224,29 +304,67 @@ export async function confirmFailure(db: Knex, user: AuthUser, id: number, input
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
   if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
   await assertNotAnalyst(db, user, inv.testId);
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'failure-confirmed', entityType: 'investigation', entityId: id, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'failure-confirmed',
+    entityType: 'investigation',
+    entityId: id,
+    ip,
+  });
   await db.transaction(async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
     if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-    const content = { investigation: inv.number, decision: 'confirmed', justification: input.justification, failing: inv.failing.map((f) => f.label) };
+    const content = {
+      investigation: inv.number,
+      decision: 'confirmed',
+      justification: input.justification,
+      failing: inv.failing.map((f) => f.label),
+    };
     const sig = await recordSignature(trx, {
-      user, credentials: input.signature, meaning: 'failure-confirmed', entityType: 'investigation', entityId: id, content, statement: input.justification, ip,
+      user,
+      credentials: input.signature,
+      meaning: 'failure-confirmed',
+      entityType: 'investigation',
+      entityId: id,
+      content,
+      statement: input.justification,
+      ip,
     });
     const now = new Date();
     await trx('investigation').where({ id }).update({
-      status: 'closed', decision: 'confirmed', justification: input.justification, decided_by: user.id, decision_signature_id: sig.id, closed_at: now, updated_at: now,
+      status: 'closed',
+      decision: 'confirmed',
+      justification: input.justification,
+      decided_by: user.id,
+      decision_signature_id: sig.id,
+      closed_at: now,
+      updated_at: now,
     });
     const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
-    await trx('lot').where({ id: inv.lotId }).update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
+    await trx('lot')
+      .where({ id: inv.lotId })
+      .update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
-      actor, action: 'investigation.failure-confirmed', entityType: 'investigation', entityId: id,
-      before: { status: 'phase1-recorded', decision: null }, after: { status: 'closed', decision: 'confirmed' }, reason: input.justification, ip,
+      actor,
+      action: 'investigation.failure-confirmed',
+      entityType: 'investigation',
+      entityId: id,
+      before: { status: 'phase1-recorded', decision: null },
+      after: { status: 'closed', decision: 'confirmed' },
+      reason: input.justification,
+      ip,
     });
     await appendAudit(trx, {
-      actor, action: 'lot.rejected', entityType: 'lot', entityId: inv.lotId,
-      before: { status: lot.status, identityStatus: lot.identity_status }, after: { status: 'rejected', identityStatus: 'rejected' },
-      reason: `Investigation ${inv.number}: ${input.justification}`, ip,
+      actor,
+      action: 'lot.rejected',
+      entityType: 'lot',
+      entityId: inv.lotId,
+      before: { status: lot.status, identityStatus: lot.identity_status },
+      after: { status: 'rejected', identityStatus: 'rejected' },
+      reason: `Investigation ${inv.number}: ${input.justification}`,
+      ip,
     });
     await enqueueMailToRole(
       trx,

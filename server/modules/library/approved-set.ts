@@ -94,10 +94,15 @@ function matrixCacheClear(): void {
  * Use: `scoreAgainst(sample, set.references.map(r => r.prepared), set.method.params)` and record
  * set.method.id and set.references.map(r => r.id) with the measurement.
  */
-export async function getApprovedReferenceSet(materialId: number, db: Knex = getDb()): Promise<ApprovedReferenceSet | null> {
+export async function getApprovedReferenceSet(
+  materialId: number,
+  db: Knex = getDb(),
+): Promise<ApprovedReferenceSet | null> {
   const methodRow = await repo.approvedMethodOf(db, materialId);
   if (!methodRow) return null;
-  const refRows: repo.ReferenceRow[] = await db('reference_spectrum').where({ material_id: materialId, status: 'approved' }).orderBy('id');
+  const refRows: repo.ReferenceRow[] = await db('reference_spectrum')
+    .where({ material_id: materialId, status: 'approved' })
+    .orderBy('id');
   const fingerprint = `${methodRow.id}|${refRows.map((r) => r.id).join(',')}`;
   const hit = setCache.get(materialId);
   if (hit && hit.fingerprint === fingerprint) return hit.value;
@@ -106,7 +111,10 @@ export async function getApprovedReferenceSet(materialId: number, db: Knex = get
   for (const r of refRows) {
     const spectrum = await spectrumOfFile(db, r.file_id);
     const bands = toEngineBands(repo.toReference(r).bands);
-    const prepared = prepareReference({ id: String(r.id), label: r.code, materialId: String(materialId), spectrum, bands }, method.params);
+    const prepared = prepareReference(
+      { id: String(r.id), label: r.code, materialId: String(materialId), spectrum, bands },
+      method.params,
+    );
     references.push({ id: r.id, code: r.code, materialId, spectrum, bands, prepared });
   }
   const value = { method, references };
@@ -145,8 +153,19 @@ export async function getLibraryForMethodGrid(method: IdentityMethod, db: Knex =
       skipped.push({ referenceId: r.id, reason: 'does not cover the method range' });
       continue;
     }
-    inputs.push({ id: String(r.id), materialId: String(r.material_id), spectrum, bands: toEngineBands(repo.toReference(r).bands) });
-    entries.push({ referenceId: r.id, referenceCode: r.code, materialId: r.material_id, materialCode: r.m_code, materialName: r.m_name });
+    inputs.push({
+      id: String(r.id),
+      materialId: String(r.material_id),
+      spectrum,
+      bands: toEngineBands(repo.toReference(r).bands),
+    });
+    entries.push({
+      referenceId: r.id,
+      referenceCode: r.code,
+      materialId: r.material_id,
+      materialCode: r.m_code,
+      materialName: r.m_name,
+    });
   }
   let library: MethodGridLibrary['library'] = null;
   if (inputs.length) {
@@ -173,7 +192,12 @@ export interface LibraryHit extends LibraryEntryInfo {
  *   searchApprovedLibrary(sample: Spectrum, method: IdentityMethod, k?: number, db?: Knex): Promise<LibraryHit[]>
  * The caller may drop hits of the tested material itself.
  */
-export async function searchApprovedLibrary(sample: Spectrum, method: IdentityMethod, k = 5, db: Knex = getDb()): Promise<LibraryHit[]> {
+export async function searchApprovedLibrary(
+  sample: Spectrum,
+  method: IdentityMethod,
+  k = 5,
+  db: Knex = getDb(),
+): Promise<LibraryHit[]> {
   const lib = await getLibraryForMethodGrid(method, db);
   if (!lib.library || lib.entries.length === 0) return [];
   const hits = searchLibrary(lib.library, sample, k);

@@ -35,7 +35,12 @@ export function readUploaded(data: Uint8Array, fileName: string): Spectrum {
 export function asFileError(e: unknown, fileName: string): unknown {
   if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
     const se = e as SpectrumError;
-    return unprocessable(se.code, `${fileName}: ${se.message}`, { fileName, code: se.code, sentence: se.message, details: se.details ?? null });
+    return unprocessable(se.code, `${fileName}: ${se.message}`, {
+      fileName,
+      code: se.code,
+      sentence: se.message,
+      details: se.details ?? null,
+    });
   }
   return e;
 }
@@ -61,7 +66,12 @@ export function pickBands(spectrum: Spectrum, method: IdentityMethod): StoredBan
 
 /** Stored bands as the engine's Band list. */
 export function toEngineBands(bands: StoredBand[]): Band[] {
-  return bands.map((b) => ({ position: b.position, prominence: b.prominence, width: b.width, assignment: b.assignment }));
+  return bands.map((b) => ({
+    position: b.position,
+    prominence: b.prominence,
+    width: b.width,
+    assignment: b.assignment,
+  }));
 }
 
 export function round(v: number, digits: number): number {

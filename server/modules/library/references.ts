@@ -54,12 +54,20 @@ async function currentMethod(db: Knex | Knex.Transaction, materialId: number): P
   return m;
 }
 
-export async function uploadReferences(db: Knex, user: AuthUser, materialId: number, files: UploadedFile[], fields: UploadFields, ip: string | null) {
+export async function uploadReferences(
+  db: Knex,
+  user: AuthUser,
+  materialId: number,
+  files: UploadedFile[],
+  fields: UploadFields,
+  ip: string | null,
+) {
   const mat = await repo.findMaterial(db, materialId);
   if (!mat) throw notFound('The material');
   if (!mat.active) throw conflict('This material is inactive; reactivate it before adding references.');
   if (!files || files.length === 0) throw badRequest('Choose at least one spectrum file (field "files").');
-  if (fields.instrumentId && !(await db('instrument').where({ id: fields.instrumentId }).first())) throw badRequest('The instrument named does not exist.');
+  if (fields.instrumentId && !(await db('instrument').where({ id: fields.instrumentId }).first()))
+    throw badRequest('The instrument named does not exist.');
   const methodRow = await currentMethod(db, materialId);
   const method = JSON.parse(methodRow.params) as IdentityMethod;
 
@@ -70,7 +78,11 @@ export async function uploadReferences(db: Knex, user: AuthUser, materialId: num
       const q = checkQuality(spectrum, method);
       if (!q.ok) {
         const p = q.problems[0];
-        throw new AppError(422, p.code, `${f.originalname}: ${p.message} ${p.advice}`.trim(), { fileName: f.originalname, code: p.code, problems: q.problems });
+        throw new AppError(422, p.code, `${f.originalname}: ${p.message} ${p.advice}`.trim(), {
+          fileName: f.originalname,
+          code: p.code,
+          problems: q.problems,
+        });
       }
       prepare(spectrum, method); // refuses a spectrum that does not cover the method range
       return { file: f, spectrum, bands: pickBands(spectrum, method), sha256: sha256Hex(f.buffer) };
@@ -91,7 +103,11 @@ export async function uploadReferences(db: Knex, user: AuthUser, materialId: num
       seq++;
       const { id: fileId } = await storeFile(trx, p.file, user.id, now);
       const code = `REF-${mat.code}-${String(seq).padStart(4, '0')}`;
-      const meta = { ...p.spectrum.meta, bandsPickedWithMethodId: methodRow.id, bandsPickedWithMethodVersion: methodRow.version };
+      const meta = {
+        ...p.spectrum.meta,
+        bandsPickedWithMethodId: methodRow.id,
+        bandsPickedWithMethodVersion: methodRow.version,
+      };
       const id = await repo.insertReference(trx, {
         material_id: materialId,
         code,
@@ -153,17 +169,29 @@ export async function uploadReferences(db: Knex, user: AuthUser, materialId: num
 export async function getReference(db: Knex, id: number) {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
-  const file = await db('stored_file').where({ id: r.file_id }).select('id', 'sha256', 'file_name', 'media_type', 'size', 'uploaded_at').first();
+  const file = await db('stored_file')
+    .where({ id: r.file_id })
+    .select('id', 'sha256', 'file_name', 'media_type', 'size', 'uploaded_at')
+    .first();
   const mat = await repo.findMaterial(db, r.material_id);
   const uploader = await db('app_user').where({ id: r.created_by }).select('full_name').first();
-  const instrument = r.instrument_id ? await db('instrument').where({ id: r.instrument_id }).select('id', 'name').first() : null;
+  const instrument = r.instrument_id
+    ? await db('instrument').where({ id: r.instrument_id }).select('id', 'name').first()
+    : null;
   return {
     ...repo.toReference(r),
     material: mat ? { id: mat.id, code: mat.code, name: mat.name, grade: mat.grade } : null,
     uploadedByName: uploader?.full_name ?? null,
     instrument: instrument ? { id: instrument.id, name: instrument.name } : null,
     file: file
-      ? { id: file.id, sha256: file.sha256, fileName: file.file_name, mediaType: file.media_type, size: file.size, uploadedAt: new Date(file.uploaded_at).toISOString() }
+      ? {
+          id: file.id,
+          sha256: file.sha256,
+          fileName: file.file_name,
+          mediaType: file.media_type,
+          size: file.size,
+          uploadedAt: new Date(file.uploaded_at).toISOString(),
+        }
       : null,
     signatures: await signaturesFor(db, 'reference_spectrum', id),
   };
@@ -173,7 +201,9 @@ export async function listReferences(db: Knex, materialId: number) {
   const rows = await repo.referencesOf(db, materialId);
   const sigIds = rows.flatMap((r) => [r.approved_signature_id, r.retired_signature_id]).filter((x): x is number => !!x);
   const sigs = sigIds.length ? await db('e_signature').whereIn('id', sigIds) : [];
-  const users: { id: number; full_name: string }[] = await db('app_user').whereIn('id', [...new Set(rows.map((r) => r.created_by)), 0]).select('id', 'full_name');
+  const users: { id: number; full_name: string }[] = await db('app_user')
+    .whereIn('id', [...new Set(rows.map((r) => r.created_by)), 0])
+    .select('id', 'full_name');
   return rows.map((r) => {
     const s = sigs.find((x) => x.id === r.approved_signature_id);
     const { bands, ...rest } = repo.toReference(r);
@@ -181,14 +211,18 @@ export async function listReferences(db: Knex, materialId: number) {
       ...rest,
       bandCount: bands.length,
       uploadedByName: users.find((u) => u.id === r.created_by)?.full_name ?? null,
-      approvedBy: s ? { printedName: s.printed_name, meaning: s.meaning, signedAt: new Date(s.signed_at).toISOString() } : null,
+      approvedBy: s
+        ? { printedName: s.printed_name, meaning: s.meaning, signedAt: new Date(s.signed_at).toISOString() }
+        : null,
     };
   });
 }
 
 /** References across all materials by status (e.g. drafts awaiting approval, for the QA work queue). */
 export async function referencesByStatus(db: Knex, status: repo.ReferenceStatus) {
-  const rows: (repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[] = await db('reference_spectrum as r')
+  const rows: (repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[] = await db(
+    'reference_spectrum as r',
+  )
     .join('material as m', 'm.id', 'r.material_id')
     .join('app_user as u', 'u.id', 'r.created_by')
     .where('r.status', status)
@@ -197,7 +231,13 @@ export async function referencesByStatus(db: Knex, status: repo.ReferenceStatus)
     .limit(500);
   return rows.map((r) => {
     const { bands, meta: _meta, specificity: _s, ...rest } = repo.toReference(r);
-    return { ...rest, bandCount: bands.length, materialCode: r.m_code, materialName: r.m_name, uploadedByName: r.uploader };
+    return {
+      ...rest,
+      bandCount: bands.length,
+      materialCode: r.m_code,
+      materialName: r.m_name,
+      uploadedByName: r.uploader,
+    };
   });
 }
 
@@ -221,16 +261,27 @@ export async function referenceOverlay(db: Knex, id: number) {
   return { referenceId: id, traces };
 }
 
-export async function updateBands(db: Knex, actor: Actor, id: number, input: { bands: { position: number; assignment?: string }[]; reason: string }, ip: string | null) {
+export async function updateBands(
+  db: Knex,
+  actor: Actor,
+  id: number,
+  input: { bands: { position: number; assignment?: string }[]; reason: string },
+  ip: string | null,
+) {
   await db.transaction(async (trx) => {
     const before = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (!before) throw notFound('The reference spectrum');
     if (before.status !== 'draft')
-      throw new AppError(409, 'REFERENCE_IMMUTABLE', `Reference ${before.code} is ${before.status}; its bands can only be changed while it is a draft.`);
+      throw new AppError(
+        409,
+        'REFERENCE_IMMUTABLE',
+        `Reference ${before.code} is ${before.status}; its bands can only be changed while it is a draft.`,
+      );
     const old = repo.toReference(before).bands;
     const sorted = [...input.bands].sort((a, b) => a.position - b.position);
     for (let i = 1; i < sorted.length; i++)
-      if (Math.abs(sorted[i].position - sorted[i - 1].position) < 0.5) throw badRequest(`Two bands sit at ${sorted[i].position} cm-1; list each band once.`);
+      if (Math.abs(sorted[i].position - sorted[i - 1].position) < 0.5)
+        throw badRequest(`Two bands sit at ${sorted[i].position} cm-1; list each band once.`);
     const next: repo.StoredBand[] = sorted.map((b) => {
       const same = old.find((o) => Math.abs(o.position - b.position) < 0.005);
       const text = b.assignment && b.assignment.trim() ? b.assignment.trim() : null;
@@ -243,14 +294,30 @@ export async function updateBands(db: Knex, actor: Actor, id: number, input: { b
         origin: 'edited',
       };
     });
-    await trx('reference_spectrum').where({ id }).update({ bands: JSON.stringify(next), updated_at: new Date() });
-    await appendAudit(trx, { actor, action: 'reference.bands-edited', entityType: 'reference_spectrum', entityId: id, before: { bands: old }, after: { bands: next }, reason: input.reason, ip });
+    await trx('reference_spectrum')
+      .where({ id })
+      .update({ bands: JSON.stringify(next), updated_at: new Date() });
+    await appendAudit(trx, {
+      actor,
+      action: 'reference.bands-edited',
+      entityType: 'reference_spectrum',
+      entityId: id,
+      before: { bands: old },
+      after: { bands: next },
+      reason: input.reason,
+      ip,
+    });
   });
   return getReference(db, id);
 }
 
 /** What the approval signature of a reference covers. */
-export function referenceSignedContent(referenceId: number, fileSha256: string, bands: repo.StoredBand[], methodVersionId: number) {
+export function referenceSignedContent(
+  referenceId: number,
+  fileSha256: string,
+  bands: repo.StoredBand[],
+  methodVersionId: number,
+) {
   return { referenceId, fileSha256, bands, methodVersionId };
 }
 
@@ -259,9 +326,14 @@ export async function previewGate(db: Knex, id: number): Promise<GateReport> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   const method = await repo.approvedMethodOf(db, r.material_id);
-  if (!method) throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+  if (!method)
+    throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
   const spectrum = await spectrumOfFile(db, r.file_id);
-  return specificityGate(db, { id: r.id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands }, repo.toMethod(method));
+  return specificityGate(
+    db,
+    { id: r.id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands },
+    repo.toMethod(method),
+  );
 }
 
 export async function approveReference(
@@ -277,12 +349,24 @@ export async function approveReference(
   if (r.created_by === user.id)
     throw forbidden('You uploaded this reference. Another QA manager must approve it (segregation of duties).');
   const methodRow = await repo.approvedMethodOf(db, r.material_id);
-  if (!methodRow) throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'approved', entityType: 'reference_spectrum', entityId: id, ip });
+  if (!methodRow)
+    throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'approved',
+    entityType: 'reference_spectrum',
+    entityId: id,
+    ip,
+  });
 
   const actor: Actor = { id: user.id, name: user.fullName };
   const spectrum = await spectrumOfFile(db, r.file_id);
-  const gate = await specificityGate(db, { id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands }, repo.toMethod(methodRow));
+  const gate = await specificityGate(
+    db,
+    { id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands },
+    repo.toMethod(methodRow),
+  );
   const justification = input.justification?.trim() || null;
   if (!gate.passed && !justification) {
     await auditNow(db, {
@@ -290,7 +374,14 @@ export async function approveReference(
       action: 'reference.approval-blocked',
       entityType: 'reference_spectrum',
       entityId: id,
-      after: { offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode, otherAsSample: p.otherAsSample, candidateAsSample: p.candidateAsSample })) },
+      after: {
+        offending: gate.offending.map((p) => ({
+          referenceId: p.referenceId,
+          materialCode: p.materialCode,
+          otherAsSample: p.otherAsSample,
+          candidateAsSample: p.candidateAsSample,
+        })),
+      },
       reason: 'specificity gate: another material would pass this method',
       ip,
     });
@@ -306,7 +397,8 @@ export async function approveReference(
   await db.transaction(async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (row.status !== 'draft') throw conflict(`Reference ${row.code} was ${row.status} meanwhile by someone else.`);
-    if (row.bands !== r.bands) throw conflict('The bands were changed while you were signing; review them and sign again.');
+    if (row.bands !== r.bands)
+      throw conflict('The bands were changed while you were signing; review them and sign again.');
     const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();
     const bands = repo.toReference(row).bands;
     const sig = await recordSignature(trx, {
@@ -320,15 +412,17 @@ export async function approveReference(
       ip,
     });
     const now = new Date();
-    await trx('reference_spectrum').where({ id }).update({
-      status: 'approved',
-      approved_signature_id: sig.id,
-      approved_method_id: methodRow.id,
-      approved_at: now,
-      specificity: JSON.stringify(gate),
-      justification: gate.passed ? null : justification,
-      updated_at: now,
-    });
+    await trx('reference_spectrum')
+      .where({ id })
+      .update({
+        status: 'approved',
+        approved_signature_id: sig.id,
+        approved_method_id: methodRow.id,
+        approved_at: now,
+        specificity: JSON.stringify(gate),
+        justification: gate.passed ? null : justification,
+        updated_at: now,
+      });
     await appendAudit(trx, {
       actor,
       action: gate.passed ? 'reference.approved' : 'reference.approved-with-justification',
@@ -340,7 +434,10 @@ export async function approveReference(
         signatureId: sig.id,
         meaning,
         methodId: methodRow.id,
-        specificity: { passed: gate.passed, offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode })) },
+        specificity: {
+          passed: gate.passed,
+          offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode })),
+        },
       },
       reason: gate.passed ? null : justification,
       ip,
@@ -350,11 +447,24 @@ export async function approveReference(
   return getReference(db, id);
 }
 
-export async function retireReference(db: Knex, user: AuthUser, id: number, input: { reason: string; signature: SignatureInput }, ip: string | null) {
+export async function retireReference(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: { reason: string; signature: SignatureInput },
+  ip: string | null,
+) {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   if (r.status === 'retired') throw conflict(`Reference ${r.code} is already retired.`);
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'retired', entityType: 'reference_spectrum', entityId: id, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'retired',
+    entityType: 'reference_spectrum',
+    entityId: id,
+    ip,
+  });
   await db.transaction(async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (row.status === 'retired') throw conflict(`Reference ${row.code} was retired meanwhile.`);
@@ -369,7 +479,9 @@ export async function retireReference(db: Knex, user: AuthUser, id: number, inpu
       statement: input.reason,
       ip,
     });
-    await trx('reference_spectrum').where({ id }).update({ status: 'retired', retired_signature_id: sig.id, retire_reason: input.reason, updated_at: new Date() });
+    await trx('reference_spectrum')
+      .where({ id })
+      .update({ status: 'retired', retired_signature_id: sig.id, retire_reason: input.reason, updated_at: new Date() });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },
       action: 'reference.retired',

@@ -200,7 +200,8 @@ export interface StoredFileRow {
 }
 
 // ---- materials
-export const findMaterial = (db: Db, id: number): Promise<MaterialRow | undefined> => db('material').where({ id }).first();
+export const findMaterial = (db: Db, id: number): Promise<MaterialRow | undefined> =>
+  db('material').where({ id }).first();
 export const listMaterialRows = (db: Db): Promise<MaterialRow[]> => db('material').orderBy('code');
 export async function insertMaterial(db: Db, row: Omit<MaterialRow, 'id'>): Promise<number> {
   const [id] = await db('material').insert(row);
@@ -208,7 +209,8 @@ export async function insertMaterial(db: Db, row: Omit<MaterialRow, 'id'>): Prom
 }
 
 // ---- methods
-export const findMethod = (db: Db, id: number): Promise<MethodRow | undefined> => db('identity_method').where({ id }).first();
+export const findMethod = (db: Db, id: number): Promise<MethodRow | undefined> =>
+  db('identity_method').where({ id }).first();
 export const methodsOf = (db: Db, materialId: number): Promise<MethodRow[]> =>
   db('identity_method').where({ material_id: materialId }).orderBy('version', 'desc');
 export const approvedMethodOf = (db: Db, materialId: number): Promise<MethodRow | undefined> =>
@@ -223,7 +225,8 @@ export async function insertMethod(db: Db, row: Omit<MethodRow, 'id'>): Promise<
 }
 
 // ---- references
-export const findReference = (db: Db, id: number): Promise<ReferenceRow | undefined> => db('reference_spectrum').where({ id }).first();
+export const findReference = (db: Db, id: number): Promise<ReferenceRow | undefined> =>
+  db('reference_spectrum').where({ id }).first();
 export const referencesOf = (db: Db, materialId: number): Promise<ReferenceRow[]> =>
   db('reference_spectrum').where({ material_id: materialId }).orderBy('id');
 export async function insertReference(db: Db, row: Omit<ReferenceRow, 'id'>): Promise<number> {
@@ -232,4 +235,5 @@ export async function insertReference(db: Db, row: Omit<ReferenceRow, 'id'>): Pr
 }
 
 // ---- stored files (append-only)
-export const findStoredFile = (db: Db, id: number): Promise<StoredFileRow | undefined> => db('stored_file').where({ id }).first();
+export const findStoredFile = (db: Db, id: number): Promise<StoredFileRow | undefined> =>
+  db('stored_file').where({ id }).first();

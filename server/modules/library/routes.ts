@@ -31,37 +31,88 @@ export const MAX_FILES_PER_UPLOAD = 20;
 
 export function libraryRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: config.uploadMaxBytes, files: MAX_FILES_PER_UPLOAD } }).array(
-    'files',
-    MAX_FILES_PER_UPLOAD,
-  );
+  const upload = multer({
+    storage: multer.memoryStorage(),
+    limits: { fileSize: config.uploadMaxBytes, files: MAX_FILES_PER_UPLOAD },
+  }).array('files', MAX_FILES_PER_UPLOAD);
 
   // ---- materials
-  defineRoute(r, { method: 'get', path: '/api/materials', summary: 'Materials (grades) with method and reference status', tag: 'library', access: 'authenticated' }, () =>
-    service.listMaterials(getDb()),
-  );
-  defineRoute(r, { method: 'get', path: '/api/materials/:id', summary: 'One material with its identity method versions', tag: 'library', access: 'authenticated', params: idParams }, ({ params }) =>
-    service.getMaterial(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/materials',
+      summary: 'Materials (grades) with method and reference status',
+      tag: 'library',
+      access: 'authenticated',
+    },
+    () => service.listMaterials(getDb()),
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/materials', summary: 'Create a material; identity method version 1 starts as a draft from the engine default', tag: 'library', access: QA, body: materialCreateSchema, status: 201 },
+    {
+      method: 'get',
+      path: '/api/materials/:id',
+      summary: 'One material with its identity method versions',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
+    ({ params }) => service.getMaterial(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/materials',
+      summary: 'Create a material; identity method version 1 starts as a draft from the engine default',
+      tag: 'library',
+      access: QA,
+      body: materialCreateSchema,
+      status: 201,
+    },
     ({ body, actor, ip }) => service.createMaterial(getDb(), actor, body, ip),
   );
   defineRoute(
     r,
-    { method: 'patch', path: '/api/materials/:id', summary: 'Change a material (audited with a reason)', tag: 'library', access: QA, params: idParams, body: materialUpdateSchema },
+    {
+      method: 'patch',
+      path: '/api/materials/:id',
+      summary: 'Change a material (audited with a reason)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: materialUpdateSchema,
+    },
     ({ params, body, actor, ip }) => service.updateMaterial(getDb(), actor, params.id, body, ip),
   );
 
   // ---- identity methods
   defineRoute(
     r,
-    { method: 'post', path: '/api/materials/:id/methods', summary: 'New draft identity method version (copy of the latest unless params are given)', tag: 'library', access: QA, params: idParams, body: methodCreateSchema, status: 201 },
+    {
+      method: 'post',
+      path: '/api/materials/:id/methods',
+      summary: 'New draft identity method version (copy of the latest unless params are given)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: methodCreateSchema,
+      status: 201,
+    },
     ({ params, body, actor, ip }) => service.createMethodVersion(getDb(), actor, params.id, body, ip),
   );
-  defineRoute(r, { method: 'get', path: '/api/methods/:id', summary: 'One identity method version with its signatures', tag: 'library', access: 'authenticated', params: idParams }, ({ params }) =>
-    service.getMethod(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/methods/:id',
+      summary: 'One identity method version with its signatures',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
+    ({ params }) => service.getMethod(getDb(), params.id),
   );
   defineRoute(
     r,
@@ -80,19 +131,43 @@ export function libraryRoutes(config: AppConfig): Router {
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/methods/:id/new-version', summary: 'New draft version from this version', tag: 'library', access: QA, params: idParams, body: methodCreateSchema, status: 201 },
+    {
+      method: 'post',
+      path: '/api/methods/:id/new-version',
+      summary: 'New draft version from this version',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: methodCreateSchema,
+      status: 201,
+    },
     ({ params, body, actor, ip }) => service.newVersionFrom(getDb(), actor, params.id, body, ip),
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/methods/:id/approve', summary: 'Approve a draft method version (e-signature)', tag: 'library', access: QA, params: idParams, body: z.object({ signature: signatureInput }) },
+    {
+      method: 'post',
+      path: '/api/methods/:id/approve',
+      summary: 'Approve a draft method version (e-signature)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: z.object({ signature: signatureInput }),
+    },
     ({ params, body, user, ip }) => service.approveMethod(getDb(), user, params.id, body.signature, ip),
   );
 
   // ---- reference spectra
   defineRoute(
     r,
-    { method: 'get', path: '/api/materials/:id/references', summary: 'Reference spectra of a material', tag: 'library', access: 'authenticated', params: idParams },
+    {
+      method: 'get',
+      path: '/api/materials/:id/references',
+      summary: 'Reference spectra of a material',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
     ({ params }) => refs.listReferences(getDb(), params.id),
   );
   defineRoute(
@@ -107,28 +182,66 @@ export function libraryRoutes(config: AppConfig): Router {
       access: QA,
       params: idParams,
       upload,
-      uploadFields: { files: 'spectrum files (JCAMP-DX or delimited text), one or more', supplier: 'supplier', supplierLot: 'supplier lot', measuredHow: 'how it was measured', instrumentId: 'instrument id (optional)' },
+      uploadFields: {
+        files: 'spectrum files (JCAMP-DX or delimited text), one or more',
+        supplier: 'supplier',
+        supplierLot: 'supplier lot',
+        measuredHow: 'how it was measured',
+        instrumentId: 'instrument id (optional)',
+      },
       body: referenceUploadFieldsSchema,
       status: 201,
     },
-    ({ req, params, body, user, ip }) => refs.uploadReferences(getDb(), user, params.id, (req.files as Express.Multer.File[]) ?? [], body, ip),
+    ({ req, params, body, user, ip }) =>
+      refs.uploadReferences(getDb(), user, params.id, (req.files as Express.Multer.File[]) ?? [], body, ip),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/references', summary: 'References of all materials by status (drafts await approval)', tag: 'library', access: 'authenticated', query: z.object({ status: z.enum(['draft', 'approved', 'retired']).default('draft') }) },
+    {
+      method: 'get',
+      path: '/api/references',
+      summary: 'References of all materials by status (drafts await approval)',
+      tag: 'library',
+      access: 'authenticated',
+      query: z.object({ status: z.enum(['draft', 'approved', 'retired']).default('draft') }),
+    },
     ({ query }) => refs.referencesByStatus(getDb(), query.status),
   );
-  defineRoute(r, { method: 'get', path: '/api/references/:id', summary: 'One reference spectrum with bands and signatures', tag: 'library', access: 'authenticated', params: idParams }, ({ params }) =>
-    refs.getReference(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/references/:id',
+      summary: 'One reference spectrum with bands and signatures',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
+    ({ params }) => refs.getReference(getDb(), params.id),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/references/:id/overlay', summary: 'Absorbance traces of this reference and the other references of its grade', tag: 'library', access: 'authenticated', params: idParams },
+    {
+      method: 'get',
+      path: '/api/references/:id/overlay',
+      summary: 'Absorbance traces of this reference and the other references of its grade',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
     ({ params }) => refs.referenceOverlay(getDb(), params.id),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/references/:id/file', summary: 'The raw uploaded file, byte for byte', tag: 'library', access: 'authenticated', params: idParams, produces: 'application/octet-stream' },
+    {
+      method: 'get',
+      path: '/api/references/:id/file',
+      summary: 'The raw uploaded file, byte for byte',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+      produces: 'application/octet-stream',
+    },
     async ({ params, res }) => {
       const f = await refs.referenceFile(getDb(), params.id);
       sendStoredFile(res, f);
@@ -136,12 +249,27 @@ export function libraryRoutes(config: AppConfig): Router {
   );
   defineRoute(
     r,
-    { method: 'put', path: '/api/references/:id/bands', summary: 'Replace the band list of a draft reference (audited with a reason)', tag: 'library', access: QA, params: idParams, body: bandsUpdateSchema },
+    {
+      method: 'put',
+      path: '/api/references/:id/bands',
+      summary: 'Replace the band list of a draft reference (audited with a reason)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: bandsUpdateSchema,
+    },
     ({ params, body, actor, ip }) => refs.updateBands(getDb(), actor, params.id, body, ip),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/references/:id/specificity', summary: 'Specificity gate of a reference, computed now (no signature)', tag: 'library', access: 'authenticated', params: idParams },
+    {
+      method: 'get',
+      path: '/api/references/:id/specificity',
+      summary: 'Specificity gate of a reference, computed now (no signature)',
+      tag: 'library',
+      access: 'authenticated',
+      params: idParams,
+    },
     ({ params }) => refs.previewGate(getDb(), params.id),
   );
   defineRoute(
@@ -161,14 +289,29 @@ export function libraryRoutes(config: AppConfig): Router {
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/references/:id/retire', summary: 'Retire a reference (reason and e-signature; nothing is deleted)', tag: 'library', access: QA, params: idParams, body: z.object({ reason: reasonSchema, signature: signatureInput }) },
+    {
+      method: 'post',
+      path: '/api/references/:id/retire',
+      summary: 'Retire a reference (reason and e-signature; nothing is deleted)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: z.object({ reason: reasonSchema, signature: signatureInput }),
+    },
     ({ params, body, user, ip }) => refs.retireReference(getDb(), user, params.id, body, ip),
   );
 
   // ---- specificity matrix
   defineRoute(
     r,
-    { method: 'get', path: '/api/library/specificity', summary: 'Specificity matrix of the approved library of one technique', tag: 'library', access: 'authenticated', query: z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') }) },
+    {
+      method: 'get',
+      path: '/api/library/specificity',
+      summary: 'Specificity matrix of the approved library of one technique',
+      tag: 'library',
+      access: 'authenticated',
+      query: z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') }),
+    },
     ({ query }) => specificityMatrixFor(query.technique),
   );
   return r;

@@ -51,7 +51,9 @@ export const identityMethodSchema = z.object({
     maxAbsorbance: z.number().finite().positive(),
     minSignalToNoise: z.number().finite().min(0),
   }),
-  distanceModel: z.object({ components: z.number().int().min(1).max(20), minReferences: z.number().int().min(3) }).nullable(),
+  distanceModel: z
+    .object({ components: z.number().int().min(1).max(20), minReferences: z.number().int().min(3) })
+    .nullable(),
 });
 export type IdentityMethodInput = z.infer<typeof identityMethodSchema>;
 
@@ -62,7 +64,11 @@ void _methodShapeMatches;
 
 export const reasonSchema = z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(2000);
 /** A written justification that overrides a gate: at least 20 characters, so it says something. */
-export const justificationSchema = z.string().trim().min(20, 'Write a justification of at least 20 characters.').max(4000);
+export const justificationSchema = z
+  .string()
+  .trim()
+  .min(20, 'Write a justification of at least 20 characters.')
+  .max(4000);
 
 export const materialCreateSchema = z.object({
   code: z
@@ -117,5 +123,8 @@ export const referenceUploadFieldsSchema = z.object({
   supplier: z.string().trim().max(160).default(''),
   supplierLot: z.string().trim().max(80).default(''),
   measuredHow: z.string().trim().max(2000).default(''),
-  instrumentId: z.preprocess((v) => (v === '' || v === undefined || v === null ? undefined : v), z.coerce.number().int().positive().optional()),
+  instrumentId: z.preprocess(
+    (v) => (v === '' || v === undefined || v === null ? undefined : v),
+    z.coerce.number().int().positive().optional(),
+  ),
 });

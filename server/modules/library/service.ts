@@ -19,7 +19,14 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { defaultMidIrAtrMethod, defaultNirMethod, type IdentityMethod, prepare, SpectrumError, validateMethod } from '../../spectra';
+import {
+  defaultMidIrAtrMethod,
+  defaultNirMethod,
+  type IdentityMethod,
+  prepare,
+  SpectrumError,
+  validateMethod,
+} from '../../spectra';
 import { spectrumOfFile } from './engine';
 import { invalidateLibraryCache } from './approved-set';
 import * as repo from './repo';
@@ -36,7 +43,8 @@ export function defaultMethodFor(technique: string): IdentityMethod {
 /** zod checked the shape; the engine knows the cross-field rules. */
 export function assertMethodValid(params: IdentityMethod): void {
   const problems = validateMethod(params);
-  if (problems.length) throw new AppError(400, 'INVALID_METHOD', `The identity method is not valid: ${problems.join(' ')}`, { problems });
+  if (problems.length)
+    throw new AppError(400, 'INVALID_METHOD', `The identity method is not valid: ${problems.join(' ')}`, { problems });
 }
 
 export interface MaterialListItem extends repo.Material {
@@ -53,7 +61,9 @@ export async function listMaterials(db: Knex): Promise<MaterialListItem[]> {
     .count({ n: '*' })
     .groupBy('material_id', 'status');
   return mats.map((m) => {
-    const approved = methods.filter((x) => x.material_id === m.id && x.status === 'approved').sort((a, b) => b.version - a.version)[0];
+    const approved = methods
+      .filter((x) => x.material_id === m.id && x.status === 'approved')
+      .sort((a, b) => b.version - a.version)[0];
     const draft = methods.find((x) => x.material_id === m.id && x.status === 'draft');
     const c = (s: string) => Number(counts.find((x) => x.material_id === m.id && x.status === s)?.n ?? 0);
     return {
@@ -80,7 +90,8 @@ export async function getMaterial(db: Knex, id: number) {
 }
 
 export async function createMaterial(db: Knex, actor: Actor, input: MaterialCreate, ip: string | null) {
-  if (await db('material').where({ code: input.code }).first()) throw conflict(`A material with the code "${input.code}" already exists.`);
+  if (await db('material').where({ code: input.code }).first())
+    throw conflict(`A material with the code "${input.code}" already exists.`);
   return db.transaction(async (trx) => {
     const now = new Date();
     const id = await repo.insertMaterial(trx, {
@@ -111,7 +122,15 @@ export async function createMaterial(db: Knex, actor: Actor, input: MaterialCrea
       approved_at: null,
     });
     const mat = repo.toMaterial((await repo.findMaterial(trx, id))!);
-    await appendAudit(trx, { actor, action: 'material.created', entityType: 'material', entityId: id, after: mat, reason: input.reason ?? null, ip });
+    await appendAudit(trx, {
+      actor,
+      action: 'material.created',
+      entityType: 'material',
+      entityId: id,
+      after: mat,
+      reason: input.reason ?? null,
+      ip,
+    });
     await appendAudit(trx, {
       actor,
       action: 'method.created',
@@ -207,19 +226,36 @@ export async function createMethodVersion(
     const mat = await trx('material').where({ id: materialId }).forUpdate().first();
     if (!mat) throw notFound('The material');
     const draft = await repo.draftMethodOf(trx, materialId);
-    if (draft) throw conflict(`Version ${draft.version} of this method is still a draft; edit that draft instead.`, { draftId: draft.id });
+    if (draft)
+      throw conflict(`Version ${draft.version} of this method is still a draft; edit that draft instead.`, {
+        draftId: draft.id,
+      });
     const base = await repo.latestMethodOf(trx, materialId);
-    const params = input.params ?? (base ? (JSON.parse(base.params) as IdentityMethod) : defaultMethodFor(JSON.parse(mat.techniques)[0]));
+    const params =
+      input.params ??
+      (base ? (JSON.parse(base.params) as IdentityMethod) : defaultMethodFor(JSON.parse(mat.techniques)[0]));
     return insertDraftVersion(trx, actor, materialId, base, params, input.changeNote ?? null, 'new draft version', ip);
   });
   return methodWithSignatures(db, (await repo.findMethod(db, id))!);
 }
 
 /** New draft from a given (usually approved) version, for POST /api/methods/:id/new-version. */
-export async function newVersionFrom(db: Knex, actor: Actor, methodId: number, input: { params?: IdentityMethod; changeNote?: string }, ip: string | null) {
+export async function newVersionFrom(
+  db: Knex,
+  actor: Actor,
+  methodId: number,
+  input: { params?: IdentityMethod; changeNote?: string },
+  ip: string | null,
+) {
   const m = await repo.findMethod(db, methodId);
   if (!m) throw notFound('The identity method');
-  return createMethodVersion(db, actor, m.material_id, { params: input.params ?? (JSON.parse(m.params) as IdentityMethod), changeNote: input.changeNote }, ip);
+  return createMethodVersion(
+    db,
+    actor,
+    m.material_id,
+    { params: input.params ?? (JSON.parse(m.params) as IdentityMethod), changeNote: input.changeNote },
+    ip,
+  );
 }
 
 export async function updateMethod(
@@ -237,12 +273,40 @@ export async function updateMethod(
     if (before.status !== 'draft') {
       // Immutable: editing an approved version means a new draft version (created here).
       const draft = await repo.draftMethodOf(trx, before.material_id);
-      if (draft) return { immutable: true as const, status: before.status, version: before.version, draftId: draft.id, created: false };
+      if (draft)
+        return {
+          immutable: true as const,
+          status: before.status,
+          version: before.version,
+          draftId: draft.id,
+          created: false,
+        };
       if (before.status === 'superseded')
-        return { immutable: true as const, status: before.status, version: before.version, draftId: null, created: false };
+        return {
+          immutable: true as const,
+          status: before.status,
+          version: before.version,
+          draftId: null,
+          created: false,
+        };
       const params = patch.params ?? (JSON.parse(before.params) as IdentityMethod);
-      const newId = await insertDraftVersion(trx, actor, before.material_id, before, params, patch.changeNote ?? null, patch.reason, ip);
-      return { immutable: true as const, status: before.status, version: before.version, draftId: newId, created: true };
+      const newId = await insertDraftVersion(
+        trx,
+        actor,
+        before.material_id,
+        before,
+        params,
+        patch.changeNote ?? null,
+        patch.reason,
+        ip,
+      );
+      return {
+        immutable: true as const,
+        status: before.status,
+        version: before.version,
+        draftId: newId,
+        created: true,
+      };
     }
     const upd: Record<string, unknown> = { updated_at: new Date() };
     if (patch.params) {
@@ -273,9 +337,14 @@ export async function updateMethod(
         { newDraftId: outcome.draftId },
       );
     if (outcome.draftId)
-      throw new AppError(409, 'METHOD_IMMUTABLE', `Version ${outcome.version} is ${outcome.status} and cannot be changed. Edit the existing draft version instead.`, {
-        draftId: outcome.draftId,
-      });
+      throw new AppError(
+        409,
+        'METHOD_IMMUTABLE',
+        `Version ${outcome.version} is ${outcome.status} and cannot be changed. Edit the existing draft version instead.`,
+        {
+          draftId: outcome.draftId,
+        },
+      );
     throw new AppError(409, 'METHOD_IMMUTABLE', `Version ${outcome.version} is superseded and cannot be changed.`);
   }
   return methodWithSignatures(db, (await repo.findMethod(db, methodId))!);
@@ -283,10 +352,22 @@ export async function updateMethod(
 
 /** The content an approval signature of a method covers. */
 export function methodSignedContent(m: repo.MethodRow) {
-  return { methodId: m.id, materialId: m.material_id, version: m.version, technique: m.technique, params: JSON.parse(m.params) };
+  return {
+    methodId: m.id,
+    materialId: m.material_id,
+    version: m.version,
+    technique: m.technique,
+    params: JSON.parse(m.params),
+  };
 }
 
-export async function approveMethod(db: Knex, user: AuthUser, methodId: number, signature: SignatureInput, ip: string | null) {
+export async function approveMethod(
+  db: Knex,
+  user: AuthUser,
+  methodId: number,
+  signature: SignatureInput,
+  ip: string | null,
+) {
   const m = await repo.findMethod(db, methodId);
   if (!m) throw notFound('The identity method');
   if (m.status !== 'draft') throw conflict(`Version ${m.version} is already ${m.status}.`);
@@ -299,10 +380,20 @@ export async function approveMethod(db: Knex, user: AuthUser, methodId: number, 
       prepare(await spectrumOfFile(db, r.file_id), params);
     } catch (e) {
       if (!(e instanceof SpectrumError)) throw e;
-      throw conflict(`Approved reference ${r.code} cannot be used under this method version: ${e.message} Retire it or change the method first.`, { referenceId: r.id });
+      throw conflict(
+        `Approved reference ${r.code} cannot be used under this method version: ${e.message} Retire it or change the method first.`,
+        { referenceId: r.id },
+      );
     }
   }
-  await checkSignatureCredentials(db, { user, credentials: signature, meaning: 'approved', entityType: 'identity_method', entityId: methodId, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: signature,
+    meaning: 'approved',
+    entityType: 'identity_method',
+    entityId: methodId,
+    ip,
+  });
   const actor = { id: user.id, name: user.fullName };
   await db.transaction(async (trx) => {
     const row = await trx('identity_method').where({ id: methodId }).forUpdate().first();
@@ -330,7 +421,9 @@ export async function approveMethod(db: Knex, user: AuthUser, methodId: number, 
         ip,
       });
     }
-    await trx('identity_method').where({ id: methodId }).update({ status: 'approved', approved_signature_id: sig.id, approved_at: now, updated_at: now });
+    await trx('identity_method')
+      .where({ id: methodId })
+      .update({ status: 'approved', approved_signature_id: sig.id, approved_at: now, updated_at: now });
     await appendAudit(trx, {
       actor,
       action: 'method.approved',

@@ -19,7 +19,14 @@
  */
 import type { Knex } from 'knex';
 import { getDb } from '../../lib/db';
-import { type IdentityMethod, type PreparedReference, prepareReference, scoreAgainst, type Spectrum, SpectrumError } from '../../spectra';
+import {
+  type IdentityMethod,
+  type PreparedReference,
+  prepareReference,
+  scoreAgainst,
+  type Spectrum,
+  SpectrumError,
+} from '../../spectra';
 import { getApprovedReferenceSet, onLibraryInvalidate } from './approved-set';
 import { round, spectrumOfFile, toEngineBands } from './engine';
 import * as repo from './repo';
@@ -55,7 +62,8 @@ export interface GateReport {
 
 function direction(sample: Spectrum, refs: PreparedReference[], method: IdentityMethod): DirectionScore {
   const r = scoreAgainst(sample, refs, method);
-  if (r.verdict === 'invalid') return { verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
+  if (r.verdict === 'invalid')
+    return { verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
   const best = r.references.find((x) => x.referenceId === r.bestReferenceId) ?? r.references[0];
   const band = best?.criteria.find((c) => c.key === 'band-concordance');
   return {
@@ -74,7 +82,12 @@ export async function specificityGate(
 ): Promise<GateReport> {
   const params = method.params;
   const candPrepared = prepareReference(
-    { id: String(candidate.id), materialId: String(candidate.materialId), spectrum: candidate.spectrum, bands: toEngineBands(candidate.bands) },
+    {
+      id: String(candidate.id),
+      materialId: String(candidate.materialId),
+      spectrum: candidate.spectrum,
+      bands: toEngineBands(candidate.bands),
+    },
     params,
   );
   const others: (repo.ReferenceRow & { m_code: string; m_name: string })[] = await db('reference_spectrum as r')
@@ -90,23 +103,47 @@ export async function specificityGate(
     .orderBy(['r.material_id', 'r.id']);
   const pairs: GatePair[] = [];
   for (const o of others) {
-    const base = { materialId: o.material_id, materialCode: o.m_code, materialName: o.m_name, referenceId: o.id, referenceCode: o.code };
+    const base = {
+      materialId: o.material_id,
+      materialCode: o.m_code,
+      materialName: o.m_name,
+      referenceId: o.id,
+      referenceCode: o.code,
+    };
     try {
       const spectrum = await spectrumOfFile(db, o.file_id);
       const oPrepared = prepareReference(
-        { id: String(o.id), materialId: String(o.material_id), spectrum, bands: toEngineBands(repo.toReference(o).bands) },
+        {
+          id: String(o.id),
+          materialId: String(o.material_id),
+          spectrum,
+          bands: toEngineBands(repo.toReference(o).bands),
+        },
         params,
       );
       const otherAsSample = direction(spectrum, [candPrepared], params);
       const candidateAsSample = direction(candidate.spectrum, [oPrepared], params);
-      pairs.push({ ...base, otherAsSample, candidateAsSample, wouldPass: otherAsSample.verdict === 'pass' || candidateAsSample.verdict === 'pass', notComparable: null });
+      pairs.push({
+        ...base,
+        otherAsSample,
+        candidateAsSample,
+        wouldPass: otherAsSample.verdict === 'pass' || candidateAsSample.verdict === 'pass',
+        notComparable: null,
+      });
     } catch (e) {
       if (!(e instanceof SpectrumError)) throw e;
       pairs.push({ ...base, otherAsSample: null, candidateAsSample: null, wouldPass: false, notComparable: e.message });
     }
   }
   const offending = pairs.filter((p) => p.wouldPass);
-  return { methodId: method.id, methodVersion: method.version, computedAt: new Date().toISOString(), pairs, offending, passed: offending.length === 0 };
+  return {
+    methodId: method.id,
+    methodVersion: method.version,
+    computedAt: new Date().toISOString(),
+    pairs,
+    offending,
+    passed: offending.length === 0,
+  };
 }
 
 // ------------------------------------------------------------------ the matrix
@@ -173,7 +210,15 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
   }
   const materials: MatrixMaterial[] = mats
     .filter((m) => sets.has(m.id))
-    .map((m) => ({ id: m.id, code: m.code, name: m.name, technique, methodId: m.method_id, methodVersion: m.method_version, references: sets.get(m.id)!.references.length }));
+    .map((m) => ({
+      id: m.id,
+      code: m.code,
+      name: m.name,
+      technique,
+      methodId: m.method_id,
+      methodVersion: m.method_version,
+      references: sets.get(m.id)!.references.length,
+    }));
   const cells: MatrixCell[] = [];
   for (const row of materials) {
     const rowSet = sets.get(row.id)!;
@@ -187,7 +232,11 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
         const judges = row.id === col.id ? rowSet.references.filter((r) => r.id !== cr.id) : rowSet.references;
         if (judges.length === 0) continue;
         try {
-          const res = scoreAgainst(cr.spectrum, judges.map((j) => j.prepared), rowSet.method.params);
+          const res = scoreAgainst(
+            cr.spectrum,
+            judges.map((j) => j.prepared),
+            rowSet.method.params,
+          );
           if (res.verdict === 'invalid') continue;
           scored++;
           if (res.verdict === 'pass') passing++;
@@ -202,7 +251,14 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
       if (row.id === col.id) state = scored === 0 ? 'single' : passing === scored ? 'self' : 'self-inconsistent';
       else if (scored === 0) state = notComparable ? 'not-comparable' : 'distinct';
       else state = passing > 0 ? 'would-pass' : 'distinct';
-      cells.push({ rowMaterialId: row.id, columnMaterialId: col.id, correlation: best === null ? null : round(best, 4), passing, scored, state });
+      cells.push({
+        rowMaterialId: row.id,
+        columnMaterialId: col.id,
+        correlation: best === null ? null : round(best, 4),
+        passing,
+        scored,
+        state,
+      });
     }
   }
   const value: SpecificityMatrix = {
@@ -210,7 +266,9 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
     computedAt: new Date().toISOString(),
     materials,
     cells,
-    notDiscriminated: cells.filter((c) => c.state === 'would-pass').map((c) => ({ rowMaterialId: c.rowMaterialId, columnMaterialId: c.columnMaterialId })),
+    notDiscriminated: cells
+      .filter((c) => c.state === 'would-pass')
+      .map((c) => ({ rowMaterialId: c.rowMaterialId, columnMaterialId: c.columnMaterialId })),
   };
   matrixCache.set(technique, { fingerprint, value });
   return value;

@@ -12,7 +12,12 @@ const PAGE_MARGIN_X = 20;
 const PAGE_MARGIN_Y = 28;
 const A4 = { width: 595.28, height: 841.89 };
 
-export async function labelSheetPdf(lot: LotSummary, containers: { seq: number; label: string }[], printedBy: string, siteName: string): Promise<Buffer> {
+export async function labelSheetPdf(
+  lot: LotSummary,
+  containers: { seq: number; label: string }[],
+  printedBy: string,
+  siteName: string,
+): Promise<Buffer> {
   const labelWidth = (A4.width - 2 * PAGE_MARGIN_X) / COLUMNS;
   const labelHeight = Math.floor((A4.height - 2 * PAGE_MARGIN_Y) / ROWS) - 1;
   const cell = (c: { seq: number; label: string }): TableCell => ({
@@ -25,7 +30,11 @@ export async function labelSheetPdf(lot: LotSummary, containers: { seq: number; 
             width: '*',
             stack: [
               { text: lot.material.name, fontSize: 8 },
-              { text: `${lot.material.code}${lot.material.grade ? ` · ${lot.material.grade}` : ''}`, fontSize: 7, color: '#444444' },
+              {
+                text: `${lot.material.code}${lot.material.grade ? ` · ${lot.material.grade}` : ''}`,
+                fontSize: 7,
+                color: '#444444',
+              },
               { text: `Supplier lot ${lot.supplierLot}`, fontSize: 7, color: '#444444', margin: [0, 2, 0, 0] },
               { text: `Container ${c.seq} of ${lot.containerCount}`, fontSize: 8, margin: [0, 2, 0, 0] },
               { text: 'QUARANTINE', bold: true, fontSize: 8, margin: [0, 3, 0, 0] },
@@ -46,7 +55,11 @@ export async function labelSheetPdf(lot: LotSummary, containers: { seq: number; 
   return renderPdf({
     pageSize: 'A4',
     pageMargins: [PAGE_MARGIN_X, PAGE_MARGIN_Y, PAGE_MARGIN_X, PAGE_MARGIN_Y],
-    info: { title: `Container labels ${lot.lotNumber}`, subject: `${lot.material.name}, ${lot.containerCount} containers`, creator: 'Drumline' },
+    info: {
+      title: `Container labels ${lot.lotNumber}`,
+      subject: `${lot.material.name}, ${lot.containerCount} containers`,
+      creator: 'Drumline',
+    },
     content: [
       {
         table: { widths: Array(COLUMNS).fill(labelWidth - 1), heights: labelHeight, body, dontBreakRows: true },

@@ -21,7 +21,10 @@ export function yearOf(d = new Date()): number {
   return d.getUTCFullYear();
 }
 
-export async function insertWithNextNumber<R extends object>(trx: Knex.Transaction, spec: NumberedInsert<R>): Promise<{ id: number; number: string }> {
+export async function insertWithNextNumber<R extends object>(
+  trx: Knex.Transaction,
+  spec: NumberedInsert<R>,
+): Promise<{ id: number; number: string }> {
   const r = await trx(spec.table).where(spec.column, 'like', `${spec.prefix}%`).max(`${spec.column} as n`).first();
   const last = (r?.n as string | null) ?? null;
   let seq = last ? Number(last.slice(spec.prefix.length)) + 1 : 1;

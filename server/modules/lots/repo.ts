@@ -83,17 +83,28 @@ export async function lockLot(db: Db, id: number): Promise<LotRow | undefined> {
   return db('lot').where({ id }).forUpdate().first();
 }
 
-export async function listLots(db: Db, f: { identityStatus?: string; search?: string }, limit = 500): Promise<LotSummary[]> {
+export async function listLots(
+  db: Db,
+  f: { identityStatus?: string; search?: string },
+  limit = 500,
+): Promise<LotSummary[]> {
   const q = lotQuery(db).orderBy('l.id', 'desc').limit(limit);
   if (f.identityStatus) q.where('l.identity_status', f.identityStatus);
   if (f.search) {
     const s = `%${f.search.replace(/[%_\\]/g, (c) => '\\' + c)}%`;
-    q.where((w) => w.where('l.lot_number', 'like', s).orWhere('l.supplier_lot', 'like', s).orWhere('m.name', 'like', s).orWhere('m.code', 'like', s));
+    q.where((w) =>
+      w
+        .where('l.lot_number', 'like', s)
+        .orWhere('l.supplier_lot', 'like', s)
+        .orWhere('m.name', 'like', s)
+        .orWhere('m.code', 'like', s),
+    );
   }
   return (await q).map(toLotSummary);
 }
 
-export const containersOf = (db: Db, lotId: number): Promise<ContainerRow[]> => db('container').where({ lot_id: lotId }).orderBy('seq');
+export const containersOf = (db: Db, lotId: number): Promise<ContainerRow[]> =>
+  db('container').where({ lot_id: lotId }).orderBy('seq');
 
 export const findContainerByLabel = (db: Db, label: string): Promise<ContainerRow | undefined> =>
   db('container').where({ label }).first();

@@ -17,28 +17,79 @@ const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as co
 export function lotRoutes(config: AppConfig): Router {
   setPublicUrl(config.publicUrl);
   const r = Router();
-  defineRoute(r, { method: 'get', path: '/api/lots/receivable-materials', summary: 'Material grades a lot can be received for (approved method and reference)', tag: 'lots', access: READERS }, () =>
-    service.receivableMaterials(getDb()),
-  );
-  defineRoute(r, { method: 'get', path: '/api/lots', summary: 'Lots, newest first', tag: 'lots', access: READERS, query: lotListQuerySchema }, ({ query }) =>
-    service.listLots(getDb(), query),
-  );
-  defineRoute(r, { method: 'post', path: '/api/lots', summary: 'Register a received lot (quarantine) and create its labelled containers', tag: 'lots', access: OPERATOR, body: lotCreateSchema, status: 201 }, ({ body, actor, ip }) =>
-    service.receiveLot(getDb(), actor, body, ip, config.siteTimeZone),
-  );
-  defineRoute(r, { method: 'get', path: '/api/lots/:id', summary: 'A lot with its containers, test attempts, investigations and certificate state', tag: 'lots', access: READERS, params: idParams }, ({ params }) =>
-    service.getLotDetail(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/lots/receivable-materials',
+      summary: 'Material grades a lot can be received for (approved method and reference)',
+      tag: 'lots',
+      access: READERS,
+    },
+    () => service.receivableMaterials(getDb()),
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/lots/:id/labels.pdf', summary: 'Container label sheet (PDF, QR code and text per container)', tag: 'lots', access: READERS, params: idParams, produces: 'application/pdf' },
+    {
+      method: 'get',
+      path: '/api/lots',
+      summary: 'Lots, newest first',
+      tag: 'lots',
+      access: READERS,
+      query: lotListQuerySchema,
+    },
+    ({ query }) => service.listLots(getDb(), query),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/lots',
+      summary: 'Register a received lot (quarantine) and create its labelled containers',
+      tag: 'lots',
+      access: OPERATOR,
+      body: lotCreateSchema,
+      status: 201,
+    },
+    ({ body, actor, ip }) => service.receiveLot(getDb(), actor, body, ip, config.siteTimeZone),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/lots/:id',
+      summary: 'A lot with its containers, test attempts, investigations and certificate state',
+      tag: 'lots',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => service.getLotDetail(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/lots/:id/labels.pdf',
+      summary: 'Container label sheet (PDF, QR code and text per container)',
+      tag: 'lots',
+      access: READERS,
+      params: idParams,
+      produces: 'application/pdf',
+    },
     async ({ params, res, user, ip }) => {
       const db = getDb();
       const lot = await repo.findLot(db, params.id);
       if (!lot) throw notFound('The lot');
       const containers = await repo.containersOf(db, params.id);
       const pdf = await labelSheetPdf(lot, containers, user.fullName, config.siteName);
-      await auditNow(db, { actor: { id: user.id, name: user.fullName }, action: 'lot.labels-printed', entityType: 'lot', entityId: lot.id, after: { labels: containers.length }, ip });
+      await auditNow(db, {
+        actor: { id: user.id, name: user.fullName },
+        action: 'lot.labels-printed',
+        entityType: 'lot',
+        entityId: lot.id,
+        after: { labels: containers.length },
+        ip,
+      });
       res.setHeader('Content-Type', 'application/pdf');
       res.setHeader('Content-Disposition', `inline; filename="labels-${lot.lotNumber}.pdf"`);
       res.send(pdf);

@@ -10,7 +10,10 @@ export const MAX_CONTAINERS = 999;
 const isoDate = z
   .string()
   .regex(/^\d{4}-\d{2}-\d{2}$/, 'Give the date as YYYY-MM-DD.')
-  .refine((s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s, 'This is not a calendar date.');
+  .refine(
+    (s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s,
+    'This is not a calendar date.',
+  );
 
 export const lotCreateSchema = z.object({
   materialId: z.number().int().positive('Choose the material grade.'),

@@ -26,7 +26,14 @@ export async function receivableMaterials(db: Knex) {
     .whereExists(db('reference_spectrum as r').whereRaw('r.material_id = m.id').andWhere('r.status', 'approved'))
     .select('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
     .orderBy('m.name');
-  return rows.map((r) => ({ id: r.id as number, code: r.code as string, name: r.name as string, grade: r.grade as string, methodVersion: r.method_version as number, technique: r.technique as string }));
+  return rows.map((r) => ({
+    id: r.id as number,
+    code: r.code as string,
+    name: r.name as string,
+    grade: r.grade as string,
+    methodVersion: r.method_version as number,
+    technique: r.technique as string,
+  }));
 }
 
 export function containerLabel(lotNumber: string, seq: number): string {
@@ -35,13 +42,18 @@ export function containerLabel(lotNumber: string, seq: number): string {
 
 /** Today's calendar date at the site (YYYY-MM-DD), e.g. in Europe/Berlin shortly after midnight. */
 export function siteToday(timeZone: string, now = new Date()): string {
-  const p = Object.fromEntries(new Intl.DateTimeFormat('en-GB', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).formatToParts(now).map((x) => [x.type, x.value]));
+  const p = Object.fromEntries(
+    new Intl.DateTimeFormat('en-GB', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' })
+      .formatToParts(now)
+      .map((x) => [x.type, x.value]),
+  );
   return `${p.year}-${p.month}-${p.day}`;
 }
 
 export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: string | null, siteTimeZone = 'UTC') {
   const material = await db('material').where({ id: input.materialId }).first();
-  if (!material || !material.active) throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
+  if (!material || !material.active)
+    throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
   const ok = (await receivableMaterials(db)).some((m) => m.id === input.materialId);
   if (!ok)
     throw new AppError(
@@ -50,7 +62,8 @@ export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: s
       `${material.name} has no approved identity method with an approved reference spectrum, so its lots cannot be tested yet. QA must approve them first.`,
     );
   const today = siteToday(siteTimeZone);
-  if (input.receivedDate > today) throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
+  if (input.receivedDate > today)
+    throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
   const now = new Date();
   const { id, number } = await db.transaction(async (trx) => {
     const created = await insertWithNextNumber(trx, {
@@ -73,7 +86,11 @@ export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: s
         updated_at: now,
       }),
     });
-    const containers = Array.from({ length: input.containerCount }, (_, i) => ({ lot_id: created.id, seq: i + 1, label: containerLabel(created.number, i + 1) }));
+    const containers = Array.from({ length: input.containerCount }, (_, i) => ({
+      lot_id: created.id,
+      seq: i + 1,
+      label: containerLabel(created.number, i + 1),
+    }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
     await appendAudit(trx, {
       actor,
@@ -110,9 +127,13 @@ export async function getLotDetail(db: Knex, id: number) {
   const measurements = await testing.measurementsOfLot(db, id);
   const refs = containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label }));
   const effective = effectiveResults(refs, tests, scopes, measurements);
-  const current = [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
+  const current =
+    [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
   const latestCurrent = current ? latestByContainer(measurements, current.id) : new Map();
-  const names = await testing.userNames(db, tests.flatMap((t) => [t.performed_by, t.verified_by]));
+  const names = await testing.userNames(
+    db,
+    tests.flatMap((t) => [t.performed_by, t.verified_by]),
+  );
   const investigations = (await inv.investigationRowsOfLot(db, id)).map((r) => ({
     id: r.id,
     number: r.number,
@@ -121,10 +142,18 @@ export async function getLotDetail(db: Knex, id: number) {
     openedAt: new Date(r.opened_at).toISOString(),
     closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
   }));
-  const certRow = await db('certificate').where({ lot_id: id }).orderBy('id', 'desc').first('id', 'number', 'issued_at');
+  const certRow = await db('certificate')
+    .where({ lot_id: id })
+    .orderBy('id', 'desc')
+    .first('id', 'number', 'issued_at');
   const certificate =
     certRow != null
-      ? { state: 'issued' as const, id: certRow.id as number, number: certRow.number as string, issuedAt: new Date(certRow.issued_at).toISOString() }
+      ? {
+          state: 'issued' as const,
+          id: certRow.id as number,
+          number: certRow.number as string,
+          issuedAt: new Date(certRow.issued_at).toISOString(),
+        }
       : lot.identityStatus === 'passed'
         ? { state: 'pending' as const }
         : { state: 'none' as const };
@@ -156,7 +185,10 @@ export async function getLotDetail(db: Knex, id: number) {
         label: c.label,
         effective: e,
         current: cur ? { measurementId: cur.id, verdict: cur.verdict, matchScore: cur.matchScore } : null,
-        currentInScope: current ? (scopes.get(current.id)?.containerIds ?? null) === null || scopes.get(current.id)!.containerIds!.includes(c.id) : false,
+        currentInScope: current
+          ? (scopes.get(current.id)?.containerIds ?? null) === null ||
+            scopes.get(current.id)!.containerIds!.includes(c.id)
+          : false,
         measurements: measurements.filter((m) => m.containerId === c.id).length,
       };
     }),

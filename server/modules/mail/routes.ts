@@ -8,14 +8,45 @@ import { capturedMail } from '../../lib/fake-smtp';
 
 export function mailRoutes(config: AppConfig): Router {
   const r = Router();
-  defineRoute(r, { method: 'get', path: '/api/dev/mail', summary: 'Mail captured by the development fake SMTP server', tag: 'mail', access: { roles: ['admin'] } }, () => {
-    if (!config.devMode || config.smtp) throw new AppError(404, 'NOT_FOUND', 'Captured mail exists only in development mode without a real SMTP server.');
-    return capturedMail().reverse();
-  });
-  defineRoute(r, { method: 'get', path: '/api/mail/outbox', summary: 'The e-mail outbox with delivery status (newest first)', tag: 'mail', access: { roles: ['admin'] } }, async () =>
-    (await getDb()('mail_outbox').orderBy('id', 'desc').limit(200)).map((m) => ({
-      id: m.id, to: m.to_address, subject: m.subject, status: m.status, attempts: m.attempts, lastError: m.last_error, createdAt: m.created_at, sentAt: m.sent_at,
-    })),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/dev/mail',
+      summary: 'Mail captured by the development fake SMTP server',
+      tag: 'mail',
+      access: { roles: ['admin'] },
+    },
+    () => {
+      if (!config.devMode || config.smtp)
+        throw new AppError(
+          404,
+          'NOT_FOUND',
+          'Captured mail exists only in development mode without a real SMTP server.',
+        );
+      return capturedMail().reverse();
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/mail/outbox',
+      summary: 'The e-mail outbox with delivery status (newest first)',
+      tag: 'mail',
+      access: { roles: ['admin'] },
+    },
+    async () =>
+      (await getDb()('mail_outbox').orderBy('id', 'desc').limit(200)).map((m) => ({
+        id: m.id,
+        to: m.to_address,
+        subject: m.subject,
+        status: m.status,
+        attempts: m.attempts,
+        lastError: m.last_error,
+        createdAt: m.created_at,
+        sentAt: m.sent_at,
+      })),
   );
   return r;
 }

@@ -7,18 +7,46 @@ import { verifyChain } from '../../lib/audit';
 
 export function systemRoutes(): Router {
   const r = Router();
-  defineRoute(r, { method: 'get', path: '/api/health', summary: 'Liveness and database reachability', tag: 'system', access: 'public' }, async ({ res }) => {
-    try {
-      await getDb().raw('SELECT 1');
-      return { status: 'ok', database: 'ok' };
-    } catch {
-      res.status(503).json({ status: 'degraded', database: 'down' });
-      return;
-    }
-  });
-  defineRoute(r, { method: 'get', path: '/api/openapi.json', summary: 'This API as an OpenAPI 3.1 document', tag: 'system', access: 'public' }, () => buildOpenApi());
-  defineRoute(r, { method: 'get', path: '/api/audit/verify', summary: 'Walk the audit hash chain and report intact or the first broken event', tag: 'audit', access: { roles: ['auditor', 'qa_manager', 'admin'] } }, () =>
-    verifyChain(getDb()),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/health',
+      summary: 'Liveness and database reachability',
+      tag: 'system',
+      access: 'public',
+    },
+    async ({ res }) => {
+      try {
+        await getDb().raw('SELECT 1');
+        return { status: 'ok', database: 'ok' };
+      } catch {
+        res.status(503).json({ status: 'degraded', database: 'down' });
+        return;
+      }
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/openapi.json',
+      summary: 'This API as an OpenAPI 3.1 document',
+      tag: 'system',
+      access: 'public',
+    },
+    () => buildOpenApi(),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/audit/verify',
+      summary: 'Walk the audit hash chain and report intact or the first broken event',
+      tag: 'audit',
+      access: { roles: ['auditor', 'qa_manager', 'admin'] },
+    },
+    () => verifyChain(getDb()),
   );
   return r;
 }

@@ -8,12 +8,18 @@ import type { Knex } from 'knex';
 import type { Actor } from '../../lib/audit';
 import { issueCertificate } from '../certificates';
 
-export async function runCertificateStep(db: Knex, args: { lotId: number; testId: number; actor: Actor }): Promise<'issued' | 'pending'> {
+export async function runCertificateStep(
+  db: Knex,
+  args: { lotId: number; testId: number; actor: Actor },
+): Promise<'issued' | 'pending'> {
   try {
     await issueCertificate(db, args);
     return 'issued';
   } catch (e) {
-    console.error(`[certificate] lot ${args.lotId}: the certificate could not be issued now; it stays pending:`, (e as Error).message);
+    console.error(
+      `[certificate] lot ${args.lotId}: the certificate could not be issued now; it stays pending:`,
+      (e as Error).message,
+    );
     return 'pending';
   }
 }

@@ -16,7 +16,10 @@ export interface TestContext {
 }
 
 /** Scope of an attempt: the containers QA authorised for a retest, else all (null). */
-export async function scopeOf(db: Db, test: Pick<repo.TestRow, 'id' | 'retest_of_investigation_id'>): Promise<AttemptScope> {
+export async function scopeOf(
+  db: Db,
+  test: Pick<repo.TestRow, 'id' | 'retest_of_investigation_id'>,
+): Promise<AttemptScope> {
   if (!test.retest_of_investigation_id) return { testId: test.id, containerIds: null };
   const inv = await db('investigation').where({ id: test.retest_of_investigation_id }).first();
   return { testId: test.id, containerIds: parseJson<number[]>(inv?.retest_containers, []) };

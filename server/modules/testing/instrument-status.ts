@@ -23,7 +23,15 @@ export interface InstrumentCheckInfo {
 }
 
 export interface InstrumentStatus {
-  instrument: { id: number; name: string; serialNumber: string; technique: string; sampling: string; location: string; active: boolean };
+  instrument: {
+    id: number;
+    name: string;
+    serialNumber: string;
+    technique: string;
+    sampling: string;
+    location: string;
+    active: boolean;
+  };
   check: InstrumentCheckInfo | null;
   usable: boolean;
   /** Why it may not be used, as a sentence for the operator; null when usable. */
@@ -43,7 +51,11 @@ export function toCheckInfo(r: Record<string, unknown>): InstrumentCheckInfo {
   };
 }
 
-export async function instrumentStatus(db: Db, instrumentId: number, at = new Date()): Promise<InstrumentStatus | null> {
+export async function instrumentStatus(
+  db: Db,
+  instrumentId: number,
+  at = new Date(),
+): Promise<InstrumentStatus | null> {
   const i = await db('instrument').where({ id: instrumentId }).first();
   if (!i) return null;
   const latest = await db('instrument_check')
@@ -65,12 +77,14 @@ export async function instrumentStatus(db: Db, instrumentId: number, at = new Da
   const valid = await getValidInstrumentCheck(instrumentId, at, db as Knex);
   let reason: string | null = null;
   if (!instrument.active) reason = `Instrument ${instrument.name} is out of service. Choose another instrument.`;
-  else if (!check) reason = `Instrument ${instrument.name} has no instrument check on record. Run the polystyrene wavenumber check first.`;
+  else if (!check)
+    reason = `Instrument ${instrument.name} has no instrument check on record. Run the polystyrene wavenumber check first.`;
   else if (check.verdict !== 'pass')
     reason = `The last instrument check of ${instrument.name} failed. The instrument may not be used until a new check passes.`;
   else if (!check.validUntil || new Date(check.validUntil).getTime() <= at.getTime())
     reason = `The instrument check of ${instrument.name} is due (it expired ${check.validUntil ?? 'at once'}). Run the polystyrene wavenumber check before testing.`;
-  if (!reason && !valid) reason = `Instrument ${instrument.name} has no valid instrument check. Run the polystyrene wavenumber check before testing.`;
+  if (!reason && !valid)
+    reason = `Instrument ${instrument.name} has no valid instrument check. Run the polystyrene wavenumber check before testing.`;
   if (valid && reason) reason = null;
   return { instrument, check, usable: reason === null, reason };
 }

@@ -51,7 +51,11 @@ export interface Readiness {
 }
 
 /** Whether an attempt can be signed "performed": every container in scope has a pass or fail as its latest result. */
-export function readiness(containers: ContainerRef[], scope: AttemptScope, measurements: MeasurementSummary[]): Readiness {
+export function readiness(
+  containers: ContainerRef[],
+  scope: AttemptScope,
+  measurements: MeasurementSummary[],
+): Readiness {
   const latest = latestByContainer(measurements, scope.testId);
   const missing: ContainerRef[] = [];
   const invalid: ContainerRef[] = [];
@@ -65,7 +69,13 @@ export function readiness(containers: ContainerRef[], scope: AttemptScope, measu
     else if (m.verdict === 'invalid') invalid.push(c);
     else measured++;
   }
-  return { ready: count > 0 && missing.length === 0 && invalid.length === 0, missing, invalid, measured, inScope: count };
+  return {
+    ready: count > 0 && missing.length === 0 && invalid.length === 0,
+    missing,
+    invalid,
+    measured,
+    inScope: count,
+  };
 }
 
 export interface EffectiveResult {
@@ -86,7 +96,9 @@ export function effectiveResults(
   alsoCounting?: number,
 ): Map<number, EffectiveResult | null> {
   const out = new Map<number, EffectiveResult | null>(containers.map((c) => [c.id, null]));
-  const counted = [...tests].filter((t) => t.status === 'verified' || t.id === alsoCounting).sort((a, b) => a.attempt - b.attempt);
+  const counted = [...tests]
+    .filter((t) => t.status === 'verified' || t.id === alsoCounting)
+    .sort((a, b) => a.attempt - b.attempt);
   for (const t of counted) {
     const scope = scopes.get(t.id) ?? { testId: t.id, containerIds: null };
     const latest = latestByContainer(measurements, t.id);
@@ -99,7 +111,10 @@ export function effectiveResults(
   return out;
 }
 
-export type LotOutcome = { kind: 'passed' } | { kind: 'failed'; failing: { containerId: number; measurementId: number }[] } | { kind: 'incomplete'; missing: number[] };
+export type LotOutcome =
+  | { kind: 'passed' }
+  | { kind: 'failed'; failing: { containerId: number; measurementId: number }[] }
+  | { kind: 'incomplete'; missing: number[] };
 
 export function lotOutcome(containers: ContainerRef[], effective: Map<number, EffectiveResult | null>): LotOutcome {
   const missing: number[] = [];

@@ -62,7 +62,13 @@ export interface MeasurementSummary {
   createdAt: string;
 }
 
-type MeasurementJoined = MeasurementRow & { label: string; f_name: string; f_sha: string; f_size: number; u_name: string };
+type MeasurementJoined = MeasurementRow & {
+  label: string;
+  f_name: string;
+  f_sha: string;
+  f_size: number;
+  u_name: string;
+};
 
 export function toMeasurementSummary(r: MeasurementJoined): MeasurementSummary {
   return {
@@ -90,9 +96,25 @@ function measurementQuery(db: Db) {
     .join('stored_file as f', 'f.id', 'ms.file_id')
     .join('app_user as u', 'u.id', 'ms.created_by')
     .select(
-      'ms.id', 'ms.test_id', 'ms.container_id', 'ms.file_id', 'ms.instrument_id', 'ms.instrument_check_id', 'ms.method_id',
-      'ms.reference_ids', 'ms.verdict', 'ms.match_score', 'ms.engine_version', 'ms.authorised_by_investigation_id',
-      'ms.created_by', 'ms.created_at', 'c.label', 'f.file_name as f_name', 'f.sha256 as f_sha', 'f.size as f_size', 'u.full_name as u_name',
+      'ms.id',
+      'ms.test_id',
+      'ms.container_id',
+      'ms.file_id',
+      'ms.instrument_id',
+      'ms.instrument_check_id',
+      'ms.method_id',
+      'ms.reference_ids',
+      'ms.verdict',
+      'ms.match_score',
+      'ms.engine_version',
+      'ms.authorised_by_investigation_id',
+      'ms.created_by',
+      'ms.created_at',
+      'c.label',
+      'f.file_name as f_name',
+      'f.sha256 as f_sha',
+      'f.size as f_size',
+      'u.full_name as u_name',
     );
 }
 
@@ -112,11 +134,14 @@ export async function findMeasurementSummary(db: Db, id: number): Promise<Measur
   return r ? toMeasurementSummary(r) : undefined;
 }
 
-export const findMeasurementRow = (db: Db, id: number): Promise<MeasurementRow | undefined> => db('measurement').where({ id }).first();
+export const findMeasurementRow = (db: Db, id: number): Promise<MeasurementRow | undefined> =>
+  db('measurement').where({ id }).first();
 
 export const findTest = (db: Db, id: number): Promise<TestRow | undefined> => db('identity_test').where({ id }).first();
-export const lockTest = (db: Db, id: number): Promise<TestRow | undefined> => db('identity_test').where({ id }).forUpdate().first();
-export const testsOfLot = (db: Db, lotId: number): Promise<TestRow[]> => db('identity_test').where({ lot_id: lotId }).orderBy('attempt');
+export const lockTest = (db: Db, id: number): Promise<TestRow | undefined> =>
+  db('identity_test').where({ id }).forUpdate().first();
+export const testsOfLot = (db: Db, lotId: number): Promise<TestRow[]> =>
+  db('identity_test').where({ lot_id: lotId }).orderBy('attempt');
 
 export async function insertTest(db: Db, row: Omit<TestRow, 'id' | 'row_version'>): Promise<number> {
   const [id] = await db('identity_test').insert({ ...row, row_version: 0 });

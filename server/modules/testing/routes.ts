@@ -1,3 +1,4 @@
+import type { z } from 'zod';
 /** HTTP edge of identity testing, verification and the work queue. */
 import { Router } from 'express';
 import multer from 'multer';
@@ -9,7 +10,15 @@ import { defineRoute, idParams } from '../../lib/http';
 import type { SignatureInput } from '../../lib/esign';
 import type { signatureFields } from '../lots/schemas';
 import { listInstrumentStatuses } from './instrument-status';
-import { matchFilesSchema, measurementFieldsSchema, performSchema, returnSchema, startTestSchema, switchInstrumentSchema, verifySchema } from './schemas';
+import {
+  matchFilesSchema,
+  measurementFieldsSchema,
+  performSchema,
+  returnSchema,
+  startTestSchema,
+  switchInstrumentSchema,
+  verifySchema,
+} from './schemas';
 import * as service from './service';
 import * as signing from './signing';
 import * as views from './views';
@@ -17,7 +26,7 @@ import { workQueueFor } from './work-queue';
 
 // Compile-time: the client-safe signature schema accepts exactly what the e-signature service takes.
 type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
-const _signatureShape: Same<import('zod').infer<typeof signatureFields>, SignatureInput> = true;
+const _signatureShape: Same<z.infer<typeof signatureFields>, SignatureInput> = true;
 void _signatureShape;
 
 const OPERATOR = { roles: ['operator'] as const };
@@ -26,28 +35,81 @@ const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as co
 
 export function testingRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: config.uploadMaxBytes, files: 1 } }).single('file');
+  const upload = multer({
+    storage: multer.memoryStorage(),
+    limits: { fileSize: config.uploadMaxBytes, files: 1 },
+  }).single('file');
 
-  defineRoute(r, { method: 'get', path: '/api/testing/instruments', summary: 'Active instruments with whether they may be used now (instrument check valid)', tag: 'testing', access: READERS }, () =>
-    listInstrumentStatuses(getDb()),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/testing/instruments',
+      summary: 'Active instruments with whether they may be used now (instrument check valid)',
+      tag: 'testing',
+      access: READERS,
+    },
+    () => listInstrumentStatuses(getDb()),
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/lots/:id/tests', summary: 'Start the next test attempt of a lot on an instrument with a valid instrument check', tag: 'testing', access: OPERATOR, params: idParams, body: startTestSchema, status: 201 },
+    {
+      method: 'post',
+      path: '/api/lots/:id/tests',
+      summary: 'Start the next test attempt of a lot on an instrument with a valid instrument check',
+      tag: 'testing',
+      access: OPERATOR,
+      params: idParams,
+      body: startTestSchema,
+      status: 201,
+    },
     ({ params, body, user, ip }) => service.startTest(getDb(), user, params.id, body.instrumentId, ip),
   );
-  defineRoute(r, { method: 'get', path: '/api/verification/queue', summary: 'Tests awaiting verification that you may verify (not your own)', tag: 'testing', access: VERIFIER }, ({ user }) =>
-    views.verificationQueue(getDb(), user),
-  );
-  defineRoute(r, { method: 'get', path: '/api/work-queue', summary: 'What awaits the signed-in user, per role', tag: 'testing', access: 'authenticated' }, ({ user }) =>
-    workQueueFor(getDb(), user),
-  );
-  defineRoute(r, { method: 'get', path: '/api/tests/:id', summary: 'A test attempt with containers, measurements, readiness and signatures', tag: 'testing', access: READERS, params: idParams }, ({ params }) =>
-    views.getTestDetail(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/verification/queue',
+      summary: 'Tests awaiting verification that you may verify (not your own)',
+      tag: 'testing',
+      access: VERIFIER,
+    },
+    ({ user }) => views.verificationQueue(getDb(), user),
   );
   defineRoute(
     r,
-    { method: 'put', path: '/api/tests/:id/instrument', summary: 'Change the instrument of a test in progress', tag: 'testing', access: OPERATOR, params: idParams, body: switchInstrumentSchema },
+    {
+      method: 'get',
+      path: '/api/work-queue',
+      summary: 'What awaits the signed-in user, per role',
+      tag: 'testing',
+      access: 'authenticated',
+    },
+    ({ user }) => workQueueFor(getDb(), user),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/tests/:id',
+      summary: 'A test attempt with containers, measurements, readiness and signatures',
+      tag: 'testing',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => views.getTestDetail(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'put',
+      path: '/api/tests/:id/instrument',
+      summary: 'Change the instrument of a test in progress',
+      tag: 'testing',
+      access: OPERATOR,
+      params: idParams,
+      body: switchInstrumentSchema,
+    },
     async ({ params, body, user, ip }) => {
       await service.switchInstrument(getDb(), user, params.id, body.instrumentId, ip);
       return views.getTestDetail(getDb(), params.id);
@@ -55,7 +117,15 @@ export function testingRoutes(config: AppConfig): Router {
   );
   defineRoute(
     r,
-    { method: 'post', path: '/api/tests/:id/match-files', summary: 'Match file names to containers by the label in the name (stores nothing)', tag: 'testing', access: OPERATOR, params: idParams, body: matchFilesSchema },
+    {
+      method: 'post',
+      path: '/api/tests/:id/match-files',
+      summary: 'Match file names to containers by the label in the name (stores nothing)',
+      tag: 'testing',
+      access: OPERATOR,
+      params: idParams,
+      body: matchFilesSchema,
+    },
     ({ params, body }) => service.matchFiles(getDb(), params.id, body.fileNames),
   );
   defineRoute(
@@ -68,35 +138,109 @@ export function testingRoutes(config: AppConfig): Router {
       access: OPERATOR,
       params: idParams,
       upload,
-      uploadFields: { file: 'the spectrum file (JCAMP-DX or CSV)', containerId: 'container id', label: 'or the scanned container label' },
+      uploadFields: {
+        file: 'the spectrum file (JCAMP-DX or CSV)',
+        containerId: 'container id',
+        label: 'or the scanned container label',
+      },
       body: measurementFieldsSchema,
       status: 201,
     },
     ({ params, body, req, user, ip }) => service.addMeasurement(getDb(), user, params.id, body, req.file, ip),
   );
-  defineRoute(r, { method: 'post', path: '/api/tests/:id/perform', summary: 'Sign the test performed (every container has a valid result)', tag: 'testing', access: OPERATOR, params: idParams, body: performSchema }, async ({ params, body, user, ip }) => {
-    await signing.perform(getDb(), user, params.id, body.signature, ip);
-    return views.getTestDetail(getDb(), params.id);
-  });
-  defineRoute(r, { method: 'get', path: '/api/tests/:id/review', summary: 'Everything a verifier reviews: every container in full, instrument checks, method and reference versions', tag: 'testing', access: READERS, params: idParams }, ({ params }) =>
-    views.getReview(getDb(), params.id),
-  );
-  defineRoute(r, { method: 'post', path: '/api/tests/:id/verify', summary: 'Sign the test verified; decides the lot outcome in the same transaction', tag: 'testing', access: VERIFIER, params: idParams, body: verifySchema }, ({ params, body, user, ip }) =>
-    signing.verify(getDb(), user, params.id, body, ip),
-  );
-  defineRoute(r, { method: 'post', path: '/api/tests/:id/return', summary: 'Return the test to the operator with a reason (signed)', tag: 'testing', access: VERIFIER, params: idParams, body: returnSchema }, async ({ params, body, user, ip }) => {
-    await signing.returnTest(getDb(), user, params.id, body, ip);
-    return views.getTestDetail(getDb(), params.id);
-  });
-  defineRoute(r, { method: 'get', path: '/api/measurements/:id', summary: 'One measurement in full: result, criteria, bands, explanation, versions, instrument check', tag: 'testing', access: READERS, params: idParams }, ({ params }) =>
-    views.getMeasurementDetail(getDb(), params.id),
-  );
-  defineRoute(r, { method: 'get', path: '/api/measurements/:id/plot', summary: 'Plot data: raw spectrum and the overlay of sample, best reference and difference', tag: 'testing', access: READERS, params: idParams }, ({ params }) =>
-    views.measurementPlot(getDb(), params.id),
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/tests/:id/perform',
+      summary: 'Sign the test performed (every container has a valid result)',
+      tag: 'testing',
+      access: OPERATOR,
+      params: idParams,
+      body: performSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await signing.perform(getDb(), user, params.id, body.signature, ip);
+      return views.getTestDetail(getDb(), params.id);
+    },
   );
   defineRoute(
     r,
-    { method: 'get', path: '/api/measurements/:id/file', summary: 'The raw uploaded file, byte for byte', tag: 'testing', access: READERS, params: idParams, produces: 'application/octet-stream' },
+    {
+      method: 'get',
+      path: '/api/tests/:id/review',
+      summary:
+        'Everything a verifier reviews: every container in full, instrument checks, method and reference versions',
+      tag: 'testing',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => views.getReview(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/tests/:id/verify',
+      summary: 'Sign the test verified; decides the lot outcome in the same transaction',
+      tag: 'testing',
+      access: VERIFIER,
+      params: idParams,
+      body: verifySchema,
+    },
+    ({ params, body, user, ip }) => signing.verify(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/tests/:id/return',
+      summary: 'Return the test to the operator with a reason (signed)',
+      tag: 'testing',
+      access: VERIFIER,
+      params: idParams,
+      body: returnSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await signing.returnTest(getDb(), user, params.id, body, ip);
+      return views.getTestDetail(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/measurements/:id',
+      summary: 'One measurement in full: result, criteria, bands, explanation, versions, instrument check',
+      tag: 'testing',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => views.getMeasurementDetail(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/measurements/:id/plot',
+      summary: 'Plot data: raw spectrum and the overlay of sample, best reference and difference',
+      tag: 'testing',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => views.measurementPlot(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/measurements/:id/file',
+      summary: 'The raw uploaded file, byte for byte',
+      tag: 'testing',
+      access: READERS,
+      params: idParams,
+      produces: 'application/octet-stream',
+    },
     async ({ params, res }) => {
       const db = getDb();
       const m = await db('measurement').where({ id: params.id }).first();

@@ -19,7 +19,9 @@ export const measurementFieldsSchema = z
     containerId: z.coerce.number().int().positive().optional(),
     label: z.string().trim().max(60).optional(),
   })
-  .refine((v) => v.containerId !== undefined || (v.label ?? '') !== '', { message: 'Say which container this spectrum belongs to (container or label).' });
+  .refine((v) => v.containerId !== undefined || (v.label ?? '') !== '', {
+    message: 'Say which container this spectrum belongs to (container or label).',
+  });
 
 export const performSchema = z.object({ signature: signatureInput });
 
@@ -40,7 +42,15 @@ export const TEST_STATUS_LABELS = {
   returned: 'Returned to the operator',
 } as const;
 
-export type MatchStatus = 'matched' | 'no-label' | 'several-labels' | 'unknown-label' | 'other-lot' | 'not-in-scope' | 'duplicate' | 'failed-needs-qa';
+export type MatchStatus =
+  | 'matched'
+  | 'no-label'
+  | 'several-labels'
+  | 'unknown-label'
+  | 'other-lot'
+  | 'not-in-scope'
+  | 'duplicate'
+  | 'failed-needs-qa';
 
 export const MATCH_STATUS_TEXT: Record<MatchStatus, string> = {
   matched: 'Ready',

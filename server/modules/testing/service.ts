@@ -15,7 +15,14 @@ import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { AppError, badRequest, conflict, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum, type SpectrumMeta, SpectrumError } from '../../spectra';
+import {
+  type IdentityResult,
+  readSpectrum,
+  scoreAgainst,
+  type Spectrum,
+  type SpectrumMeta,
+  SpectrumError,
+} from '../../spectra';
 import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
 import * as lots from '../lots/repo';
 import type { HintEntry } from '../investigations/repo';
@@ -49,9 +56,18 @@ async function usableInstrument(db: Knex | Knex.Transaction, instrumentId: numbe
 
 async function approvedSetFor(materialId: number, db: Knex) {
   const set = await getApprovedReferenceSet(materialId, db);
-  if (!set) throw new AppError(409, 'NO_APPROVED_METHOD', 'This material has no approved identity method. QA must approve one before testing.');
+  if (!set)
+    throw new AppError(
+      409,
+      'NO_APPROVED_METHOD',
+      'This material has no approved identity method. QA must approve one before testing.',
+    );
   if (set.references.length === 0)
-    throw new AppError(409, 'NO_APPROVED_REFERENCE', 'This material has no approved reference spectrum. QA must approve one before testing.');
+    throw new AppError(
+      409,
+      'NO_APPROVED_REFERENCE',
+      'This material has no approved reference spectrum. QA must approve one before testing.',
+    );
   return set;
 }
 
@@ -77,10 +93,17 @@ export async function startTest(db: Knex, user: AuthUser, lotId: number, instrum
     }
     const tests = await repo.testsOfLot(trx, lotId);
     const open = tests.find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification');
-    if (open) throw conflict(`Attempt ${open.attempt} of lot ${row.lot_number} is ${open.status === 'in-progress' ? 'still in progress' : 'awaiting verification'}.`, { testId: open.id });
+    if (open)
+      throw conflict(
+        `Attempt ${open.attempt} of lot ${row.lot_number} is ${open.status === 'in-progress' ? 'still in progress' : 'awaiting verification'}.`,
+        { testId: open.id },
+      );
     let retestOf: number | null = null;
     if (row.identity_status === 'retest-authorised') {
-      const inv = await trx('investigation').where({ lot_id: lotId, status: 'retest-authorised' }).orderBy('id', 'desc').first();
+      const inv = await trx('investigation')
+        .where({ lot_id: lotId, status: 'retest-authorised' })
+        .orderBy('id', 'desc')
+        .first();
       if (!inv) throw conflict('No retest authorisation was found for this lot.');
       if (tests.some((t) => t.retest_of_investigation_id === inv.id && t.status !== 'returned'))
         throw conflict(`The retest authorised by investigation ${inv.number} has already been performed.`);
@@ -111,17 +134,39 @@ export async function startTest(db: Knex, user: AuthUser, lotId: number, instrum
       action: 'test.started',
       entityType: 'identity_test',
       entityId: id,
-      after: { lotId, lotNumber: row.lot_number, attempt, methodId: set.method.id, methodVersion: set.method.version, instrumentId, retestOfInvestigationId: retestOf },
+      after: {
+        lotId,
+        lotNumber: row.lot_number,
+        attempt,
+        methodId: set.method.id,
+        methodVersion: set.method.version,
+        instrumentId,
+        retestOfInvestigationId: retestOf,
+      },
       ip,
     });
     if (row.identity_status !== 'testing')
-      await appendAudit(trx, { actor, action: 'lot.identity-status-changed', entityType: 'lot', entityId: lotId, before: { identityStatus: row.identity_status }, after: { identityStatus: 'testing' }, ip });
+      await appendAudit(trx, {
+        actor,
+        action: 'lot.identity-status-changed',
+        entityType: 'lot',
+        entityId: lotId,
+        before: { identityStatus: row.identity_status },
+        after: { identityStatus: 'testing' },
+        ip,
+      });
     return { id, attempt };
   });
 }
 
 /** Changes the instrument of an attempt in progress (the new one must be usable too). */
-export async function switchInstrument(db: Knex, user: AuthUser, testId: number, instrumentId: number, ip: string | null) {
+export async function switchInstrument(
+  db: Knex,
+  user: AuthUser,
+  testId: number,
+  instrumentId: number,
+  ip: string | null,
+) {
   const ctx = await loadContext(db, testId);
   const method = await db('identity_method').where({ id: ctx.test.method_id }).first();
   await usableInstrument(db, instrumentId, method.technique);
@@ -160,14 +205,22 @@ export async function matchFiles(db: Knex, testId: number, fileNames: string[]):
     if (labels.length > 1) return { fileName, status: 'several-labels', label: labels.join(', '), containerId: null };
     const label = labels[0];
     const c = byLabel.get(label);
-    if (!c) return { fileName, status: label.startsWith(`${ctx.lot.lotNumber}-`) ? 'unknown-label' : 'other-lot', label, containerId: null };
+    if (!c)
+      return {
+        fileName,
+        status: label.startsWith(`${ctx.lot.lotNumber}-`) ? 'unknown-label' : 'other-lot',
+        label,
+        containerId: null,
+      };
     if (!inScope(ctx.scope, c.id)) return { fileName, status: 'not-in-scope', label, containerId: c.id };
     if (latest.get(c.id)?.verdict === 'fail') return { fileName, status: 'failed-needs-qa', label, containerId: c.id };
     return { fileName, status: 'matched', label, containerId: c.id };
   });
   const seen = new Map<number, number>();
-  for (const r of rows) if (r.status === 'matched' && r.containerId) seen.set(r.containerId, (seen.get(r.containerId) ?? 0) + 1);
-  for (const r of rows) if (r.status === 'matched' && r.containerId && (seen.get(r.containerId) ?? 0) > 1) r.status = 'duplicate';
+  for (const r of rows)
+    if (r.status === 'matched' && r.containerId) seen.set(r.containerId, (seen.get(r.containerId) ?? 0) + 1);
+  for (const r of rows)
+    if (r.status === 'matched' && r.containerId && (seen.get(r.containerId) ?? 0) > 1) r.status = 'duplicate';
   return rows;
 }
 
@@ -184,14 +237,22 @@ function readOrRefuse(file: UploadedFile): Spectrum {
   } catch (e) {
     if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
       const se = e as SpectrumError;
-      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, { fileName: file.originalname, code: se.code });
+      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, {
+        fileName: file.originalname,
+        code: se.code,
+      });
     }
     throw e;
   }
 }
 
 /** "Closest approved materials: ..." over the whole approved library; advisory, never blocks a measurement. */
-async function libraryHint(db: Knex, sample: Spectrum, method: Parameters<typeof searchApprovedLibrary>[1], testedMaterialId: number) {
+async function libraryHint(
+  db: Knex,
+  sample: Spectrum,
+  method: Parameters<typeof searchApprovedLibrary>[1],
+  testedMaterialId: number,
+) {
   try {
     const hits = await searchApprovedLibrary(sample, method, 20, db);
     const best = new Map<number, HintEntry>();
@@ -229,7 +290,9 @@ export async function addMeasurement(
   if (!file || !file.buffer) throw badRequest('Attach the spectrum file (field "file").');
   const ctx = await loadContext(db, testId);
   if (ctx.test.status !== 'in-progress')
-    throw conflict(`Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} is ${ctx.test.status}; measurements can only be added while it is in progress.`);
+    throw conflict(
+      `Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} is ${ctx.test.status}; measurements can only be added while it is in progress.`,
+    );
   const container = target.containerId
     ? ctx.containers.find((c) => c.id === target.containerId)
     : ctx.containers.find((c) => c.label.toUpperCase() === (target.label ?? '').trim().toUpperCase());
@@ -237,11 +300,16 @@ export async function addMeasurement(
     const other = target.label ? await lots.findContainerByLabel(db, target.label.trim().toUpperCase()) : undefined;
     throw unprocessable(
       'UNKNOWN_CONTAINER',
-      other ? `Label ${target.label} belongs to another lot, not to ${ctx.lot.lotNumber}.` : `No container of lot ${ctx.lot.lotNumber} has this ${target.label ? `label (${target.label})` : 'id'}.`,
+      other
+        ? `Label ${target.label} belongs to another lot, not to ${ctx.lot.lotNumber}.`
+        : `No container of lot ${ctx.lot.lotNumber} has this ${target.label ? `label (${target.label})` : 'id'}.`,
     );
   }
   if (!inScope(ctx.scope, container.id))
-    throw unprocessable('NOT_IN_SCOPE', `Container ${container.label} is not part of this retest: QA authorised only the containers named in the investigation.`);
+    throw unprocessable(
+      'NOT_IN_SCOPE',
+      `Container ${container.label} is not part of this retest: QA authorised only the containers named in the investigation.`,
+    );
   assertNotFailed(ctx.measurements, testId, container);
   if (!ctx.test.instrument_id) throw conflict('Choose an instrument for this test first.');
 
@@ -251,15 +319,23 @@ export async function addMeasurement(
   const spectrum = readOrRefuse(file);
   let result: IdentityResult;
   try {
-    result = scoreAgainst(spectrum, set.references.map((r) => r.prepared), set.method.params);
+    result = scoreAgainst(
+      spectrum,
+      set.references.map((r) => r.prepared),
+      set.method.params,
+    );
   } catch (e) {
     if ((e as { name?: string })?.name === 'SpectrumError') {
       const se = e as SpectrumError;
-      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, { fileName: file.originalname, code: se.code });
+      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, {
+        fileName: file.originalname,
+        code: se.code,
+      });
     }
     throw e;
   }
-  const hint = result.verdict === 'fail' ? await libraryHint(db, spectrum, set.method.params, ctx.lot.material.id) : null;
+  const hint =
+    result.verdict === 'fail' ? await libraryHint(db, spectrum, set.method.params, ctx.lot.material.id) : null;
   const stored: StoredResult = {
     ...result,
     libraryHint: hint?.hint ?? null,
@@ -336,10 +412,21 @@ export async function addMeasurement(
     });
     return mid;
   });
-  return { id, containerId: container.id, label: container.label, verdict: result.verdict, matchScore: score, result: stored };
+  return {
+    id,
+    containerId: container.id,
+    label: container.label,
+    verdict: result.verdict,
+    matchScore: score,
+    result: stored,
+  };
 }
 
-function assertNotFailed(measurements: repo.MeasurementSummary[], testId: number, container: { id: number; label: string }): void {
+function assertNotFailed(
+  measurements: repo.MeasurementSummary[],
+  testId: number,
+  container: { id: number; label: string },
+): void {
   if (latestByContainer(measurements, testId).get(container.id)?.verdict === 'fail')
     throw new AppError(
       409,

@@ -54,14 +54,29 @@ function signedContent(ctx: TestContext) {
 function statusConflict(ctx: TestContext, wanted: string): AppError {
   const s = ctx.test.status;
   const what =
-    s === 'verified' ? 'has already been verified' : s === 'returned' ? 'has already been returned' : s === 'in-progress' ? 'is still in progress' : `is ${s}`;
-  return conflict(`Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} ${what}; it cannot be ${wanted} now.`, { status: s });
+    s === 'verified'
+      ? 'has already been verified'
+      : s === 'returned'
+        ? 'has already been returned'
+        : s === 'in-progress'
+          ? 'is still in progress'
+          : `is ${s}`;
+  return conflict(`Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} ${what}; it cannot be ${wanted} now.`, {
+    status: s,
+  });
 }
 
 export async function perform(db: Knex, user: AuthUser, testId: number, signature: SignatureInput, ip: string | null) {
   const pre = await loadContext(db, testId);
   if (pre.test.status !== 'in-progress') throw statusConflict(pre, 'signed performed');
-  await checkSignatureCredentials(db, { user, credentials: signature, meaning: 'performed', entityType: 'identity_test', entityId: testId, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: signature,
+    meaning: 'performed',
+    entityType: 'identity_test',
+    entityId: testId,
+    ip,
+  });
   await db.transaction(async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'in-progress') throw statusConflict(ctx, 'signed performed');
@@ -69,19 +84,37 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
     if (!r.ready) {
       const parts = [];
       if (r.missing.length) parts.push(`not yet measured: ${r.missing.map((c) => c.label).join(', ')}`);
-      if (r.invalid.length) parts.push(`invalid measurement, measure again: ${r.invalid.map((c) => c.label).join(', ')}`);
-      throw new AppError(409, 'NOT_COMPLETE', `Every container needs a valid result before the test is signed performed (${parts.join('; ')}).`, {
-        missing: r.missing.map((c) => c.label),
-        invalid: r.invalid.map((c) => c.label),
-      });
+      if (r.invalid.length)
+        parts.push(`invalid measurement, measure again: ${r.invalid.map((c) => c.label).join(', ')}`);
+      throw new AppError(
+        409,
+        'NOT_COMPLETE',
+        `Every container needs a valid result before the test is signed performed (${parts.join('; ')}).`,
+        {
+          missing: r.missing.map((c) => c.label),
+          invalid: r.invalid.map((c) => c.label),
+        },
+      );
     }
     const sig = await recordSignature(trx, {
-      user, credentials: signature, meaning: 'performed', entityType: 'identity_test', entityId: testId, content: signedContent(ctx), ip,
+      user,
+      credentials: signature,
+      meaning: 'performed',
+      entityType: 'identity_test',
+      entityId: testId,
+      content: signedContent(ctx),
+      ip,
     });
     const now = new Date();
-    await trx('identity_test').where({ id: testId }).update({
-      status: 'awaiting-verification', performed_by: user.id, performed_signature_id: sig.id, updated_at: now, row_version: ctx.test.row_version + 1,
-    });
+    await trx('identity_test')
+      .where({ id: testId })
+      .update({
+        status: 'awaiting-verification',
+        performed_by: user.id,
+        performed_signature_id: sig.id,
+        updated_at: now,
+        row_version: ctx.test.row_version + 1,
+      });
     await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'awaiting-verification', updated_at: now });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },
@@ -112,12 +145,20 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
 /** The verifier must be someone other than everyone who did the laboratory work. */
 function assertIndependent(ctx: TestContext, user: AuthUser, action: string): void {
   if (ctx.test.performed_by === user.id)
-    throw forbidden(`You performed this test, so you cannot ${action} it. A second person must review it (21 CFR 211.194(a)(8)).`);
+    throw forbidden(
+      `You performed this test, so you cannot ${action} it. A second person must review it (21 CFR 211.194(a)(8)).`,
+    );
   if (ctx.measurements.some((m) => m.createdBy.id === user.id))
-    throw forbidden(`You recorded measurements of this test, so you cannot ${action} it. A second person must review it.`);
+    throw forbidden(
+      `You recorded measurements of this test, so you cannot ${action} it. A second person must review it.`,
+    );
 }
 
-function failingList(ctx: TestContext, failing: { containerId: number; measurementId: number }[], rows: repo.MeasurementRow[]): FailingContainer[] {
+function failingList(
+  ctx: TestContext,
+  failing: { containerId: number; measurementId: number }[],
+  rows: repo.MeasurementRow[],
+): FailingContainer[] {
   return failing.map((f) => {
     const c = ctx.containers.find((x) => x.id === f.containerId)!;
     const row = rows.find((r) => r.id === f.measurementId);
@@ -134,27 +175,59 @@ function failingList(ctx: TestContext, failing: { containerId: number; measureme
   });
 }
 
-export async function verify(db: Knex, user: AuthUser, testId: number, input: { signature: SignatureInput; comment?: string }, ip: string | null) {
+export async function verify(
+  db: Knex,
+  user: AuthUser,
+  testId: number,
+  input: { signature: SignatureInput; comment?: string },
+  ip: string | null,
+) {
   const pre = await loadContext(db, testId);
   assertIndependent(pre, user, 'verify');
   if (pre.test.status !== 'awaiting-verification') throw statusConflict(pre, 'verified');
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'verified', entityType: 'identity_test', entityId: testId, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'verified',
+    entityType: 'identity_test',
+    entityId: testId,
+    ip,
+  });
   const actor = { id: user.id, name: user.fullName };
   const outcome = await db.transaction(async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'awaiting-verification') throw statusConflict(ctx, 'verified');
     assertIndependent(ctx, user, 'verify');
     const sig = await recordSignature(trx, {
-      user, credentials: input.signature, meaning: 'verified', entityType: 'identity_test', entityId: testId, content: signedContent(ctx), statement: input.comment ?? null, ip,
+      user,
+      credentials: input.signature,
+      meaning: 'verified',
+      entityType: 'identity_test',
+      entityId: testId,
+      content: signedContent(ctx),
+      statement: input.comment ?? null,
+      ip,
     });
     const now = new Date();
     const updated = await trx('identity_test')
       .where({ id: testId, status: 'awaiting-verification', row_version: ctx.test.row_version })
-      .update({ status: 'verified', verified_by: user.id, verified_signature_id: sig.id, updated_at: now, row_version: ctx.test.row_version + 1 });
+      .update({
+        status: 'verified',
+        verified_by: user.id,
+        verified_signature_id: sig.id,
+        updated_at: now,
+        row_version: ctx.test.row_version + 1,
+      });
     if (updated !== 1) throw conflict('Someone else decided this test at the same moment; nothing was signed.');
     await appendAudit(trx, {
-      actor, action: 'test.verified', entityType: 'identity_test', entityId: testId,
-      before: { status: 'awaiting-verification' }, after: { status: 'verified', verifiedBy: user.id, signatureId: sig.id }, reason: input.comment ?? null, ip,
+      actor,
+      action: 'test.verified',
+      entityType: 'identity_test',
+      entityId: testId,
+      before: { status: 'awaiting-verification' },
+      after: { status: 'verified', verifiedBy: user.id, signatureId: sig.id },
+      reason: input.comment ?? null,
+      ip,
     });
 
     // Outcome, in the same transaction as the signature.
@@ -164,23 +237,49 @@ export async function verify(db: Knex, user: AuthUser, testId: number, input: { 
     const eff = effectiveResults(ctx.containers, tests, scopes, all, testId);
     const out = lotOutcome(ctx.containers, eff);
     const lotRow = await trx('lot').where({ id: ctx.lot.id }).forUpdate().first();
-    if (out.kind === 'incomplete') throw new AppError(409, 'NOT_COMPLETE', 'Some containers of the lot have no verified result; the lot outcome cannot be decided.', out);
+    if (out.kind === 'incomplete')
+      throw new AppError(
+        409,
+        'NOT_COMPLETE',
+        'Some containers of the lot have no verified result; the lot outcome cannot be decided.',
+        out,
+      );
     const retestOf = ctx.test.retest_of_investigation_id;
     if (out.kind === 'passed') {
       await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'passed', updated_at: now });
       await appendAudit(trx, {
-        actor, action: 'lot.identity-passed', entityType: 'lot', entityId: ctx.lot.id,
-        before: { identityStatus: lotRow.identity_status }, after: { identityStatus: 'passed', testId, containers: ctx.containers.length }, ip,
+        actor,
+        action: 'lot.identity-passed',
+        entityType: 'lot',
+        entityId: ctx.lot.id,
+        before: { identityStatus: lotRow.identity_status },
+        after: { identityStatus: 'passed', testId, containers: ctx.containers.length },
+        ip,
       });
-      if (retestOf) await closeAfterRetest(trx, retestOf, { passed: true, testId, attempt: ctx.test.attempt, lotNumber: ctx.lot.lotNumber }, actor, ip);
+      if (retestOf)
+        await closeAfterRetest(
+          trx,
+          retestOf,
+          { passed: true, testId, attempt: ctx.test.attempt, lotNumber: ctx.lot.lotNumber },
+          actor,
+          ip,
+        );
       return { kind: 'passed' as const, investigation: null };
     }
-    const rows: repo.MeasurementRow[] = await trx('measurement').whereIn('id', out.failing.map((f) => f.measurementId));
+    const rows: repo.MeasurementRow[] = await trx('measurement').whereIn(
+      'id',
+      out.failing.map((f) => f.measurementId),
+    );
     const failing = failingList(ctx, out.failing, rows);
     await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'failed', updated_at: now });
     await appendAudit(trx, {
-      actor, action: 'lot.identity-failed', entityType: 'lot', entityId: ctx.lot.id,
-      before: { identityStatus: lotRow.identity_status }, after: { identityStatus: 'failed', status: lotRow.status, failing: failing.map((f) => f.label) }, ip,
+      actor,
+      action: 'lot.identity-failed',
+      entityType: 'lot',
+      entityId: ctx.lot.id,
+      before: { identityStatus: lotRow.identity_status },
+      after: { identityStatus: 'failed', status: lotRow.status, failing: failing.map((f) => f.label) },
+      ip,
     });
     const inv = await openInvestigation(trx, {
       lot: { id: ctx.lot.id, lotNumber: ctx.lot.lotNumber, materialName: ctx.lot.material.name },
@@ -189,7 +288,20 @@ export async function verify(db: Knex, user: AuthUser, testId: number, input: { 
       actor,
       ip,
     });
-    if (retestOf) await closeAfterRetest(trx, retestOf, { passed: false, testId, attempt: ctx.test.attempt, lotNumber: ctx.lot.lotNumber, nextInvestigation: inv.number }, actor, ip);
+    if (retestOf)
+      await closeAfterRetest(
+        trx,
+        retestOf,
+        {
+          passed: false,
+          testId,
+          attempt: ctx.test.attempt,
+          lotNumber: ctx.lot.lotNumber,
+          nextInvestigation: inv.number,
+        },
+        actor,
+        ip,
+      );
     return { kind: 'failed' as const, investigation: inv };
   });
   let certificate: 'issued' | 'pending' | null = null;
@@ -197,31 +309,63 @@ export async function verify(db: Knex, user: AuthUser, testId: number, input: { 
   return { outcome: outcome.kind, investigation: outcome.investigation, certificate };
 }
 
-export async function returnTest(db: Knex, user: AuthUser, testId: number, input: { reason: string; signature: SignatureInput }, ip: string | null) {
+export async function returnTest(
+  db: Knex,
+  user: AuthUser,
+  testId: number,
+  input: { reason: string; signature: SignatureInput },
+  ip: string | null,
+) {
   const pre = await loadContext(db, testId);
   assertIndependent(pre, user, 'return');
   if (pre.test.status !== 'awaiting-verification') throw statusConflict(pre, 'returned');
   const failingNow = [...latestByContainer(pre.measurements, testId).values()].filter((m) => m.verdict === 'fail');
   if (failingNow.length) throw failureNeedsInvestigation(failingNow.map((m) => m.label));
-  await checkSignatureCredentials(db, { user, credentials: input.signature, meaning: 'returned', entityType: 'identity_test', entityId: testId, ip });
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'returned',
+    entityType: 'identity_test',
+    entityId: testId,
+    ip,
+  });
   await db.transaction(async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'awaiting-verification') throw statusConflict(ctx, 'returned');
     assertIndependent(ctx, user, 'return');
     const sig = await recordSignature(trx, {
-      user, credentials: input.signature, meaning: 'returned', entityType: 'identity_test', entityId: testId, content: signedContent(ctx), statement: input.reason, ip,
+      user,
+      credentials: input.signature,
+      meaning: 'returned',
+      entityType: 'identity_test',
+      entityId: testId,
+      content: signedContent(ctx),
+      statement: input.reason,
+      ip,
     });
     const now = new Date();
-    await trx('identity_test').where({ id: testId }).update({
-      status: 'returned', returned_reason: input.reason, returned_signature_id: sig.id, updated_at: now, row_version: ctx.test.row_version + 1,
-    });
+    await trx('identity_test')
+      .where({ id: testId })
+      .update({
+        status: 'returned',
+        returned_reason: input.reason,
+        returned_signature_id: sig.id,
+        updated_at: now,
+        row_version: ctx.test.row_version + 1,
+      });
     // A returned retest goes back to its QA authorisation, so the next attempt is again a retest of the named containers.
     const nextStatus = ctx.test.retest_of_investigation_id ? 'retest-authorised' : 'testing';
     await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: nextStatus, updated_at: now });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
-      actor, action: 'test.returned', entityType: 'identity_test', entityId: testId,
-      before: { status: 'awaiting-verification' }, after: { status: 'returned', signatureId: sig.id }, reason: input.reason, ip,
+      actor,
+      action: 'test.returned',
+      entityType: 'identity_test',
+      entityId: testId,
+      before: { status: 'awaiting-verification' },
+      after: { status: 'returned', signatureId: sig.id },
+      reason: input.reason,
+      ip,
     });
     const performer = ctx.test.performed_by ? await trx('app_user').where({ id: ctx.test.performed_by }).first() : null;
     if (performer)

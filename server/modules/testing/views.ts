@@ -32,7 +32,15 @@ export async function methodInfo(db: Knex, methodId: number) {
 export async function instrumentInfo(db: Knex, instrumentId: number | null) {
   if (!instrumentId) return null;
   const i = await db('instrument').where({ id: instrumentId }).first();
-  return i ? { id: i.id as number, name: i.name as string, serialNumber: i.serial_number as string, technique: i.technique as string, sampling: i.sampling as string } : null;
+  return i
+    ? {
+        id: i.id as number,
+        name: i.name as string,
+        serialNumber: i.serial_number as string,
+        technique: i.technique as string,
+        sampling: i.sampling as string,
+      }
+    : null;
 }
 
 export async function getTestDetail(db: Knex, testId: number) {
@@ -44,7 +52,14 @@ export async function getTestDetail(db: Knex, testId: number) {
   const method = await methodInfo(db, test.method_id);
   return {
     id: test.id,
-    lot: { id: ctx.lot.id, lotNumber: ctx.lot.lotNumber, material: ctx.lot.material, status: ctx.lot.status, identityStatus: ctx.lot.identityStatus, containerCount: ctx.lot.containerCount },
+    lot: {
+      id: ctx.lot.id,
+      lotNumber: ctx.lot.lotNumber,
+      material: ctx.lot.material,
+      status: ctx.lot.status,
+      identityStatus: ctx.lot.identityStatus,
+      containerCount: ctx.lot.containerCount,
+    },
     attempt: test.attempt,
     status: test.status,
     statusLabel: TEST_STATUS_LABELS[test.status],
@@ -57,7 +72,13 @@ export async function getTestDetail(db: Knex, testId: number) {
     verifiedBy: test.verified_by ? { id: test.verified_by, name: names.get(test.verified_by) ?? '' } : null,
     returnedReason: test.returned_reason,
     signatures: await signaturesFor(db, 'identity_test', testId),
-    readiness: { ready: ready.ready, missing: ready.missing.map((c) => c.label), invalid: ready.invalid.map((c) => c.label), measured: ready.measured, inScope: ready.inScope },
+    readiness: {
+      ready: ready.ready,
+      missing: ready.missing.map((c) => c.label),
+      invalid: ready.invalid.map((c) => c.label),
+      measured: ready.measured,
+      inScope: ready.inScope,
+    },
     measurerIds: [...new Set(ctx.measurements.map((m) => m.createdBy.id))],
     containers: ctx.containers.map((c) => ({
       id: c.id,
@@ -75,7 +96,16 @@ async function referenceInfos(db: Knex, ids: number[]) {
   const rows = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
     .whereIn('r.id', ids)
-    .select('r.id', 'r.code', 'r.status', 'r.approved_at', 'r.approved_method_id', 'r.file_id', 'm.code as m_code', 'm.name as m_name');
+    .select(
+      'r.id',
+      'r.code',
+      'r.status',
+      'r.approved_at',
+      'r.approved_method_id',
+      'r.file_id',
+      'm.code as m_code',
+      'm.name as m_name',
+    );
   return rows.map((r) => ({
     id: r.id as number,
     code: r.code as string,
@@ -93,7 +123,9 @@ export async function getMeasurementDetail(db: Knex, id: number) {
   return {
     ...m,
     result: parseJson<StoredResult | null>(row.result, null),
-    method: await methodInfo(db, m.methodId).then((x) => x && { id: x.id, version: x.version, technique: x.technique, status: x.status }),
+    method: await methodInfo(db, m.methodId).then(
+      (x) => x && { id: x.id, version: x.version, technique: x.technique, status: x.status },
+    ),
     references: await referenceInfos(db, m.referenceIds),
     instrument: await instrumentInfo(db, m.instrumentId),
     instrumentCheck: check ? (({ result: _r, ...rest }) => rest)(toCheckInfo(check)) : null,
@@ -135,9 +167,17 @@ export async function measurementPlot(db: Knex, id: number) {
   const method = await methodInfo(db, row.method_id);
   const sample = await spectrumOfFile(db, row.file_id);
   const raw = thin(sample.x, [sample.y]);
-  let overlay: { x: number[]; sample: number[]; reference: number[]; difference: number[]; referenceCode: string } | null = null;
+  let overlay: {
+    x: number[];
+    sample: number[];
+    reference: number[];
+    difference: number[];
+    referenceCode: string;
+  } | null = null;
   if (method?.params && result?.bestReferenceId) {
-    const ref = await db('reference_spectrum').where({ id: Number(result.bestReferenceId) }).first();
+    const ref = await db('reference_spectrum')
+      .where({ id: Number(result.bestReferenceId) })
+      .first();
     if (ref) {
       const refSpectrum = await spectrumOfFile(db, ref.file_id);
       const ps = prepare(sample, method.params);
@@ -181,7 +221,14 @@ export async function getReview(db: Knex, testId: number) {
     instrumentChecks: measurements
       .map((m) => m.instrumentCheck)
       .filter((c, i, a) => c && a.findIndex((x) => x?.id === c.id) === i && checkIds.includes(c.id)),
-    methods: await Promise.all(methodIds.map((id) => methodInfo(db, id).then((x) => x && { id: x.id, version: x.version, technique: x.technique, approvedAt: x.approvedAt, params: x.params }))),
+    methods: await Promise.all(
+      methodIds.map((id) =>
+        methodInfo(db, id).then(
+          (x) =>
+            x && { id: x.id, version: x.version, technique: x.technique, approvedAt: x.approvedAt, params: x.params },
+        ),
+      ),
+    ),
     references: await referenceInfos(db, refIds),
   };
 }
@@ -195,10 +242,26 @@ export async function verificationQueue(db: Knex, user: AuthUser) {
     .where('t.status', 'awaiting-verification')
     .whereNot('t.performed_by', user.id)
     .whereNotExists(db('measurement as ms').whereRaw('ms.test_id = t.id').andWhere('ms.created_by', user.id))
-    .select('t.id', 't.attempt', 't.updated_at', 't.retest_of_investigation_id', 'l.id as lot_id', 'l.lot_number', 'l.container_count', 'm.name as m_name', 'm.code as m_code', 'p.full_name as p_name')
+    .select(
+      't.id',
+      't.attempt',
+      't.updated_at',
+      't.retest_of_investigation_id',
+      'l.id as lot_id',
+      'l.lot_number',
+      'l.container_count',
+      'm.name as m_name',
+      'm.code as m_code',
+      'p.full_name as p_name',
+    )
     .orderBy('t.updated_at');
   const fails = rows.length
-    ? await db('measurement').whereIn('test_id', rows.map((r) => r.id)).select('test_id', 'container_id', 'id', 'verdict')
+    ? await db('measurement')
+        .whereIn(
+          'test_id',
+          rows.map((r) => r.id),
+        )
+        .select('test_id', 'container_id', 'id', 'verdict')
     : [];
   return rows.map((r) => {
     const latest = new Map<number, { id: number; verdict: string }>();

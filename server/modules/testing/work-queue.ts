@@ -36,7 +36,15 @@ export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
     .whereIn('l.identity_status', ['awaiting-testing', 'testing', 'retest-authorised'])
     .select('l.id', 'l.lot_number', 'l.identity_status', 'l.container_count', 'l.received_date', 'm.name as m_name')
     .orderBy('l.id');
-  const tests = rows.length ? await db('identity_test').whereIn('lot_id', rows.map((r) => r.id)).select('lot_id', 'status', 'attempt').orderBy('attempt') : [];
+  const tests = rows.length
+    ? await db('identity_test')
+        .whereIn(
+          'lot_id',
+          rows.map((r) => r.id),
+        )
+        .select('lot_id', 'status', 'attempt')
+        .orderBy('attempt')
+    : [];
   return rows.map((r) => {
     const last = tests.filter((t) => t.lot_id === r.id).at(-1);
     const state =
@@ -47,7 +55,12 @@ export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
           : last?.status === 'in-progress'
             ? `attempt ${last.attempt} in progress`
             : 'not started';
-    return { id: r.id, title: `${r.lot_number} · ${r.m_name}`, detail: `${r.container_count} container(s), ${state}`, href: `/lots/${r.id}` };
+    return {
+      id: r.id,
+      title: `${r.lot_number} · ${r.m_name}`,
+      detail: `${r.container_count} container(s), ${state}`,
+      href: `/lots/${r.id}`,
+    };
   });
 }
 
@@ -73,7 +86,12 @@ export async function referencesToApprove(db: Knex, user: AuthUser): Promise<Que
     .whereNot('r.created_by', user.id)
     .select('r.id', 'r.code', 'r.material_id', 'm.name as m_name')
     .orderBy('r.id');
-  return rows.map((r) => ({ id: r.id, title: `${r.code} · ${r.m_name}`, detail: 'Draft reference awaiting approval', href: `/library/materials/${r.material_id}` }));
+  return rows.map((r) => ({
+    id: r.id,
+    title: `${r.code} · ${r.m_name}`,
+    detail: 'Draft reference awaiting approval',
+    href: `/library/materials/${r.material_id}`,
+  }));
 }
 
 export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
@@ -81,7 +99,13 @@ export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
   const out: QueueItem[] = [];
   for (const { id } of ids) {
     const s = await instrumentStatus(db, id);
-    if (s && !s.usable) out.push({ id, title: s.instrument.name, detail: s.reason ?? 'Instrument check due', href: `/instruments/${id}` });
+    if (s && !s.usable)
+      out.push({
+        id,
+        title: s.instrument.name,
+        detail: s.reason ?? 'Instrument check due',
+        href: `/instruments/${id}`,
+      });
   }
   return out;
 }
@@ -108,6 +132,12 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<{ sections
     push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
   }
-  if (has('operator') || has('qa_manager')) push('instrument-checks-due', 'Instruments with a check due', ['operator', 'qa_manager'], await instrumentChecksDue(db));
+  if (has('operator') || has('qa_manager'))
+    push(
+      'instrument-checks-due',
+      'Instruments with a check due',
+      ['operator', 'qa_manager'],
+      await instrumentChecksDue(db),
+    );
   return { sections };
 }

@@ -41,7 +41,8 @@ export function toPublicUser(u: UserRow): PublicUser {
     roles: parseJson<Role[]>(u.roles, []),
     mustChangePassword: !!u.must_change_password,
     active: !!u.active,
-    lockedUntil: u.locked_until && new Date(u.locked_until).getTime() > Date.now() ? new Date(u.locked_until).toISOString() : null,
+    lockedUntil:
+      u.locked_until && new Date(u.locked_until).getTime() > Date.now() ? new Date(u.locked_until).toISOString() : null,
     failedAttempts: u.failed_attempts,
     createdAt: new Date(u.created_at).toISOString(),
   };
@@ -60,5 +61,7 @@ export async function insertUser(db: Db, u: Omit<UserRow, 'id'>): Promise<number
 }
 
 export async function updateUser(db: Db, id: number, patch: Partial<UserRow>): Promise<void> {
-  await db('app_user').where({ id }).update({ ...patch, updated_at: new Date() });
+  await db('app_user')
+    .where({ id })
+    .update({ ...patch, updated_at: new Date() });
 }

@@ -47,7 +47,11 @@ export function siteDay(iso: string, tz: string): string {
 }
 
 /** Site days (inclusive range) to the API's from (inclusive) / to (exclusive) instants. */
-export function dayRangeToUtc(fromDay: string | undefined, toDay: string | undefined, tz: string): { from?: string; to?: string } {
+export function dayRangeToUtc(
+  fromDay: string | undefined,
+  toDay: string | undefined,
+  tz: string,
+): { from?: string; to?: string } {
   const from = fromDay ? siteMidnightUtc(fromDay, tz) : null;
   const to = toDay ? siteMidnightUtc(nextDay(toDay), tz) : null;
   return { ...(from ? { from: from.toISOString() } : {}), ...(to ? { to: to.toISOString() } : {}) };

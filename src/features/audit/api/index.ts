@@ -10,7 +10,15 @@ import type {
   RecordHistory,
 } from '../../../../server/modules/audit/schemas';
 
-export type { AuditEventDetail, AuditEventSummary, AuditFacets, AuditPage, RecordHistory, FieldChange, SignatureOnRecord } from '../../../../server/modules/audit/schemas';
+export type {
+  AuditEventDetail,
+  AuditEventSummary,
+  AuditFacets,
+  AuditPage,
+  RecordHistory,
+  FieldChange,
+  SignatureOnRecord,
+} from '../../../../server/modules/audit/schemas';
 export { COUNT_CAP, PDF_ROW_CAP, HISTORY_CAP, TEXT_WINDOW } from '../../../../server/modules/audit/schemas';
 
 /** The filter as the API takes it (instants in UTC, sort). */
@@ -34,13 +42,29 @@ function clean(q: AuditQuery): Record<string, string | number> {
  */
 const TEXT_SEARCH_BUDGET_MS = 3000;
 
-async function fetchPage(q: AuditQuery, cursor: string | null, limit: number, signal?: AbortSignal): Promise<AuditPage> {
+async function fetchPage(
+  q: AuditQuery,
+  cursor: string | null,
+  limit: number,
+  signal?: AbortSignal,
+): Promise<AuditPage> {
   const started = Date.now();
-  let page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit, ...(cursor ? { cursor } : {}) }, signal });
+  let page = await apiFetch<AuditPage>('/api/audit/events', {
+    query: { ...clean(q), limit, ...(cursor ? { cursor } : {}) },
+    signal,
+  });
   if (!q.q) return page;
   const events: AuditEventSummary[] = [...page.events];
-  while (events.length < limit && page.nextCursor && !page.search?.complete && Date.now() - started < TEXT_SEARCH_BUDGET_MS) {
-    page = await apiFetch<AuditPage>('/api/audit/events', { query: { ...clean(q), limit: limit - events.length, cursor: page.nextCursor }, signal });
+  while (
+    events.length < limit &&
+    page.nextCursor &&
+    !page.search?.complete &&
+    Date.now() - started < TEXT_SEARCH_BUDGET_MS
+  ) {
+    page = await apiFetch<AuditPage>('/api/audit/events', {
+      query: { ...clean(q), limit: limit - events.length, cursor: page.nextCursor },
+      signal,
+    });
     events.push(...page.events);
   }
   return { ...page, events, limit };
@@ -63,18 +87,29 @@ export function useAuditEvent(id: number | null) {
 }
 
 export function useAuditFacets() {
-  return useQuery({ queryKey: [...KEY, 'facets'], queryFn: () => apiFetch<AuditFacets>('/api/audit/facets'), staleTime: 60_000 });
+  return useQuery({
+    queryKey: [...KEY, 'facets'],
+    queryFn: () => apiFetch<AuditFacets>('/api/audit/facets'),
+    staleTime: 60_000,
+  });
 }
 
 /** The chain check runs only when asked (it reads every event). */
 export function useChainCheck() {
-  return useQuery({ queryKey: [...KEY, 'verify'], queryFn: () => apiFetch<ChainReport>('/api/audit/verify'), enabled: false, gcTime: Infinity, retry: false });
+  return useQuery({
+    queryKey: [...KEY, 'verify'],
+    queryFn: () => apiFetch<ChainReport>('/api/audit/verify'),
+    enabled: false,
+    gcTime: Infinity,
+    retry: false,
+  });
 }
 
 export function useRecordHistory(entityType: string, entityId: string | number, enabled: boolean) {
   return useQuery({
     queryKey: [...KEY, 'history', entityType, String(entityId)],
-    queryFn: () => apiFetch<RecordHistory>(`/api/history/${encodeURIComponent(entityType)}/${encodeURIComponent(String(entityId))}`),
+    queryFn: () =>
+      apiFetch<RecordHistory>(`/api/history/${encodeURIComponent(entityType)}/${encodeURIComponent(String(entityId))}`),
     enabled,
   });
 }

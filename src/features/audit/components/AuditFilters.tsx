@@ -18,22 +18,45 @@ export interface FilterForm {
   q: string;
 }
 
-export const EMPTY_FILTER: FilterForm = { fromDay: '', toDay: '', actorId: '', action: '', entityType: '', entityId: '', q: '' };
+export const EMPTY_FILTER: FilterForm = {
+  fromDay: '',
+  toDay: '',
+  actorId: '',
+  action: '',
+  entityType: '',
+  entityId: '',
+  q: '',
+};
 
 const ACTION_RE = /^[a-z0-9][a-z0-9._-]*\*?$/i;
 
-export function AuditFilters({ value, onApply, timeZone, accountsOnly }: { value: FilterForm; onApply: (f: FilterForm) => void; timeZone: string; accountsOnly: boolean }) {
+export function AuditFilters({
+  value,
+  onApply,
+  timeZone,
+  accountsOnly,
+}: {
+  value: FilterForm;
+  onApply: (f: FilterForm) => void;
+  timeZone: string;
+  accountsOnly: boolean;
+}) {
   const [f, setF] = useState<FilterForm>(value);
   useEffect(() => setF(value), [value]);
   const facets = useAuditFacets();
-  const set = (k: keyof FilterForm) => (e: { target: { value: string } }) => setF((x) => ({ ...x, [k]: e.target.value }));
+  const set = (k: keyof FilterForm) => (e: { target: { value: string } }) =>
+    setF((x) => ({ ...x, [k]: e.target.value }));
   const actionChoices = useMemo(() => {
     const a = facets.data?.actions ?? [];
     const groups = [...new Set(a.map((x) => x.split('.')[0]))].map((g) => `${g}.*`);
     return [...groups, ...a];
   }, [facets.data]);
-  const actionError = f.action.trim() && !ACTION_RE.test(f.action.trim()) ? 'Give an action name, or its beginning followed by * (for example lot.*).' : undefined;
-  const rangeError = f.fromDay && f.toDay && f.fromDay > f.toDay ? 'The first day must not be after the last day.' : undefined;
+  const actionError =
+    f.action.trim() && !ACTION_RE.test(f.action.trim())
+      ? 'Give an action name, or its beginning followed by * (for example lot.*).'
+      : undefined;
+  const rangeError =
+    f.fromDay && f.toDay && f.fromDay > f.toDay ? 'The first day must not be after the last day.' : undefined;
 
   const submit = (e: FormEvent) => {
     e.preventDefault();
@@ -61,7 +84,15 @@ export function AuditFilters({ value, onApply, timeZone, accountsOnly }: { value
           </Select>
         </Field>
         <Field id="af-action" label="Action" hint="exact, or lot.* for all lot actions" error={actionError}>
-          <Input id="af-action" list="af-action-list" value={f.action} onChange={set('action')} invalid={!!actionError} autoComplete="off" spellCheck={false} />
+          <Input
+            id="af-action"
+            list="af-action-list"
+            value={f.action}
+            onChange={set('action')}
+            invalid={!!actionError}
+            autoComplete="off"
+            spellCheck={false}
+          />
           <datalist id="af-action-list">
             {actionChoices.map((a) => (
               <option key={a} value={a} />

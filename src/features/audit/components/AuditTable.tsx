@@ -23,7 +23,11 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
       onOpen(id);
     } else if (e.key === 'ArrowDown' || e.key === 'ArrowUp') {
       e.preventDefault();
-      ((e.key === 'ArrowDown' ? e.currentTarget.nextElementSibling : e.currentTarget.previousElementSibling) as HTMLElement | null)?.focus();
+      (
+        (e.key === 'ArrowDown'
+          ? e.currentTarget.nextElementSibling
+          : e.currentTarget.previousElementSibling) as HTMLElement | null
+      )?.focus();
     }
   };
   return (
@@ -34,8 +38,17 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
             <th scope="col" className="px-3 py-2 text-right font-semibold">
               Event
             </th>
-            <th scope="col" aria-sort={sort === 'asc' ? 'ascending' : 'descending'} className="px-3 py-2 font-semibold whitespace-nowrap">
-              <button type="button" onClick={() => onSort(sort === 'asc' ? 'desc' : 'asc')} className="inline-flex items-center font-semibold hover:text-petrol" title="Turn the order">
+            <th
+              scope="col"
+              aria-sort={sort === 'asc' ? 'ascending' : 'descending'}
+              className="px-3 py-2 font-semibold whitespace-nowrap"
+            >
+              <button
+                type="button"
+                onClick={() => onSort(sort === 'asc' ? 'desc' : 'asc')}
+                className="inline-flex items-center font-semibold hover:text-petrol"
+                title="Turn the order"
+              >
                 Time ({timeZone})
                 <span aria-hidden className="ml-1 text-xs text-petrol">
                   {sort === 'asc' ? '▲' : '▼'}

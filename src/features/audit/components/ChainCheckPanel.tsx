@@ -10,19 +10,30 @@ export function ChainCheckPanel({ onShowEvent }: { onShowEvent?: (id: number) =>
   const check = useChainCheck();
   const r = check.data;
   return (
-    <section aria-labelledby="chain-check-title" className="rounded-md border border-line bg-white p-4" data-testid="chain-check">
+    <section
+      aria-labelledby="chain-check-title"
+      className="rounded-md border border-line bg-white p-4"
+      data-testid="chain-check"
+    >
       <div className="flex flex-wrap items-center justify-between gap-3">
         <div>
           <h2 id="chain-check-title" className="text-lg">
             Chain check
           </h2>
-          <p className="text-sm text-muted">Recomputes the hash of every event and its link to the one before; reports the first event that does not fit.</p>
+          <p className="text-sm text-muted">
+            Recomputes the hash of every event and its link to the one before; reports the first event that does not
+            fit.
+          </p>
         </div>
         <Button variant="primary" onClick={() => void check.refetch()} busy={check.isFetching}>
           {r ? 'Check again' : 'Check the chain'}
         </Button>
       </div>
-      {check.isFetching && <p className="mt-3 text-sm text-muted" role="status">Checking every event… this reads the whole trail and may take a while.</p>}
+      {check.isFetching && (
+        <p className="mt-3 text-sm text-muted" role="status">
+          Checking every event… this reads the whole trail and may take a while.
+        </p>
+      )}
       {check.isError && !check.isFetching && <ErrorNote className="mt-3" error={check.error} />}
       {r && !check.isFetching && (
         <div className="mt-3 flex flex-col gap-2 text-sm" role="status">
@@ -31,7 +42,8 @@ export function ChainCheckPanel({ onShowEvent }: { onShowEvent?: (id: number) =>
               <div className="flex flex-wrap items-center gap-3">
                 <Verdict verdict="pass" label="Intact" />
                 <span>
-                  {formatNumber(r.events)} event{r.events === 1 ? '' : 's'}, each linked to the one before and unaltered.
+                  {formatNumber(r.events)} event{r.events === 1 ? '' : 's'}, each linked to the one before and
+                  unaltered.
                 </span>
               </div>
               <p>
@@ -47,12 +59,19 @@ export function ChainCheckPanel({ onShowEvent }: { onShowEvent?: (id: number) =>
                   First broken event: <strong className="tabular-nums">{r.brokenAt}</strong> — {r.problem}.
                 </span>
                 {onShowEvent && (
-                  <button type="button" onClick={() => onShowEvent(r.brokenAt)} className="text-petrol underline underline-offset-2">
+                  <button
+                    type="button"
+                    onClick={() => onShowEvent(r.brokenAt)}
+                    className="text-petrol underline underline-offset-2"
+                  >
                     Show event {r.brokenAt}
                   </button>
                 )}
               </div>
-              <p className="text-muted">{formatNumber(r.events)} events before it check out. Report this to QA and the system administrator: the record was changed outside Drumline.</p>
+              <p className="text-muted">
+                {formatNumber(r.events)} events before it check out. Report this to QA and the system administrator: the
+                record was changed outside Drumline.
+              </p>
               {r.expected && (
                 <p>
                   <span className="text-muted">Expected </span>

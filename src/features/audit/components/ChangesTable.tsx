@@ -13,22 +13,37 @@ const KIND: Record<FieldChange['kind'], { word: string; sign: string; row: strin
   unchanged: { word: 'same', sign: '=', row: '' },
 };
 
-export function ChangesTable({ changes, hasBefore, hasAfter }: { changes: FieldChange[]; hasBefore: boolean; hasAfter: boolean }) {
+export function ChangesTable({
+  changes,
+  hasBefore,
+  hasAfter,
+}: {
+  changes: FieldChange[];
+  hasBefore: boolean;
+  hasAfter: boolean;
+}) {
   const [showSame, setShowSame] = useState(false);
   const same = changes.filter((c) => c.kind === 'unchanged').length;
   const rows = showSame ? changes : changes.filter((c) => c.kind !== 'unchanged');
-  if (changes.length === 0) return <p className="text-sm text-muted">This event records no values (for example a sign-in).</p>;
+  if (changes.length === 0)
+    return <p className="text-sm text-muted">This event records no values (for example a sign-in).</p>;
   return (
     <div className="flex flex-col gap-2">
       <div className="flex flex-wrap items-center gap-3 text-sm">
         <span className="text-muted">
-          {changes.length - same} field{changes.length - same === 1 ? '' : 's'} differ{changes.length - same === 1 ? 's' : ''}
+          {changes.length - same} field{changes.length - same === 1 ? '' : 's'} differ
+          {changes.length - same === 1 ? 's' : ''}
           {!hasBefore && ' (no earlier value: the record was created or the event only states new values)'}
           {!hasAfter && ' (no later value)'}
         </span>
         {same > 0 && (
           <label className="ml-auto inline-flex items-center gap-2">
-            <input type="checkbox" checked={showSame} onChange={(e) => setShowSame(e.target.checked)} className="size-4 accent-petrol" />
+            <input
+              type="checkbox"
+              checked={showSame}
+              onChange={(e) => setShowSame(e.target.checked)}
+              className="size-4 accent-petrol"
+            />
             Show {same} unchanged field{same === 1 ? '' : 's'}
           </label>
         )}
@@ -60,8 +75,12 @@ export function ChangesTable({ changes, hasBefore, hasAfter }: { changes: FieldC
                       {k.word}
                     </span>
                   </th>
-                  <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">{c.kind === 'added' ? '' : valueText(c.before)}</td>
-                  <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">{c.kind === 'removed' ? '' : valueText(c.after)}</td>
+                  <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">
+                    {c.kind === 'added' ? '' : valueText(c.before)}
+                  </td>
+                  <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">
+                    {c.kind === 'removed' ? '' : valueText(c.after)}
+                  </td>
                 </tr>
               );
             })}

@@ -38,7 +38,11 @@ export function Drawer({ open, title, subtitle, onClose, children, wide }: Drawe
               </h2>
               {subtitle && <p className="mt-0.5 text-sm text-muted">{subtitle}</p>}
             </div>
-            <button type="button" onClick={onClose} className="min-h-9 shrink-0 rounded-md border border-line bg-white px-3 text-sm hover:border-petrol hover:text-petrol">
+            <button
+              type="button"
+              onClick={onClose}
+              className="min-h-9 shrink-0 rounded-md border border-line bg-white px-3 text-sm hover:border-petrol hover:text-petrol"
+            >
               Close
             </button>
           </div>

@@ -23,12 +23,17 @@ export function EventDetail({ id, onShowRecord }: EventDetailProps) {
         <dd className="tabular-nums">{e.id}</dd>
         <dt className="text-muted">When</dt>
         <dd>
-          <DateTime value={e.occurredAt} seconds /> <span className="text-muted">· {e.occurredAt.replace('T', ' ').replace('Z', ' UTC')}</span>
+          <DateTime value={e.occurredAt} seconds />{' '}
+          <span className="text-muted">· {e.occurredAt.replace('T', ' ').replace('Z', ' UTC')}</span>
         </dd>
         <dt className="text-muted">Who</dt>
         <dd>
           {e.actorName}
-          {e.actorId === null ? <span className="text-muted"> (no signed-in account)</span> : <span className="text-muted"> (account {e.actorId})</span>}
+          {e.actorId === null ? (
+            <span className="text-muted"> (no signed-in account)</span>
+          ) : (
+            <span className="text-muted"> (account {e.actorId})</span>
+          )}
         </dd>
         <dt className="text-muted">What</dt>
         <dd className="font-mono text-[13px]">{e.action}</dd>
@@ -37,7 +42,11 @@ export function EventDetail({ id, onShowRecord }: EventDetailProps) {
           {recordTypeLabel(e.entityType)}
           {e.entityId && <span className="tabular-nums"> {e.entityId}</span>}
           {e.entityId && onShowRecord && (
-            <button type="button" onClick={() => onShowRecord(e.entityType, e.entityId!)} className="ml-3 text-petrol underline underline-offset-2">
+            <button
+              type="button"
+              onClick={() => onShowRecord(e.entityType, e.entityId!)}
+              className="ml-3 text-petrol underline underline-offset-2"
+            >
               All events of this record
             </button>
           )}
@@ -56,8 +65,12 @@ export function EventDetail({ id, onShowRecord }: EventDetailProps) {
         <details className="mt-2 text-sm">
           <summary className="cursor-pointer text-petrol">Values as recorded (JSON)</summary>
           <div className="mt-2 grid gap-2 md:grid-cols-2">
-            <pre className="overflow-x-auto rounded-md border border-line bg-white p-2 font-mono text-xs">{e.before === null ? '—' : JSON.stringify(e.before, null, 2)}</pre>
-            <pre className="overflow-x-auto rounded-md border border-line bg-white p-2 font-mono text-xs">{e.after === null ? '—' : JSON.stringify(e.after, null, 2)}</pre>
+            <pre className="overflow-x-auto rounded-md border border-line bg-white p-2 font-mono text-xs">
+              {e.before === null ? '—' : JSON.stringify(e.before, null, 2)}
+            </pre>
+            <pre className="overflow-x-auto rounded-md border border-line bg-white p-2 font-mono text-xs">
+              {e.after === null ? '—' : JSON.stringify(e.after, null, 2)}
+            </pre>
           </div>
         </details>
       </section>
@@ -66,7 +79,10 @@ export function EventDetail({ id, onShowRecord }: EventDetailProps) {
         <h3 id={`ev-${id}-chain`} className="mb-1 text-lg">
           Place in the chain
         </h3>
-        <p className="text-muted">Each event carries the hash of the one before it; a change behind the application's back breaks the chain check.</p>
+        <p className="text-muted">
+          Each event carries the hash of the one before it; a change behind the application's back breaks the chain
+          check.
+        </p>
         <dl className="mt-2 grid grid-cols-[9rem_1fr] gap-x-4 gap-y-1">
           <dt className="text-muted">Previous hash</dt>
           <dd className="font-mono text-xs break-all">{e.prevHash}</dd>

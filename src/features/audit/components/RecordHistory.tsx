@@ -33,26 +33,55 @@ export interface RecordHistoryProps {
   showTrailLink?: boolean;
 }
 
-export function RecordHistory({ entityType, entityId, label, buttonLabel = 'History', size = 'desk', showTrailLink }: RecordHistoryProps) {
+export function RecordHistory({
+  entityType,
+  entityId,
+  label,
+  buttonLabel = 'History',
+  size = 'desk',
+  showTrailLink,
+}: RecordHistoryProps) {
   const [open, setOpen] = useState(false);
   const name = label ?? `${recordTypeLabel(entityType)} ${entityId}`;
   return (
     <>
       <Button size={size} onClick={() => setOpen(true)} aria-haspopup="dialog">
-        <svg aria-hidden viewBox="0 0 20 20" className="size-4" fill="none" stroke="currentColor" strokeWidth={1.8} strokeLinecap="round">
+        <svg
+          aria-hidden
+          viewBox="0 0 20 20"
+          className="size-4"
+          fill="none"
+          stroke="currentColor"
+          strokeWidth={1.8}
+          strokeLinecap="round"
+        >
           <circle cx="10" cy="10" r="7.2" />
           <path d="M10 6v4.3l2.8 1.7" />
         </svg>
         {buttonLabel}
       </Button>
-      <Drawer open={open} onClose={() => setOpen(false)} title={`History of ${name}`} subtitle="Every recorded event in time order, with the signatures on this record." wide>
+      <Drawer
+        open={open}
+        onClose={() => setOpen(false)}
+        title={`History of ${name}`}
+        subtitle="Every recorded event in time order, with the signatures on this record."
+        wide
+      >
         {open && <RecordHistoryList entityType={entityType} entityId={entityId} showTrailLink={showTrailLink} />}
       </Drawer>
     </>
   );
 }
 
-export function RecordHistoryList({ entityType, entityId, showTrailLink }: { entityType: string; entityId: string | number; showTrailLink?: boolean }) {
+export function RecordHistoryList({
+  entityType,
+  entityId,
+  showTrailLink,
+}: {
+  entityType: string;
+  entityId: string | number;
+  showTrailLink?: boolean;
+}) {
   const h = useRecordHistory(entityType, entityId, true);
   if (h.isPending) return <p className="text-muted">Loading the history…</p>;
   if (h.isError) return <ErrorNote error={h.error} onRetry={() => void h.refetch()} />;
@@ -73,7 +102,8 @@ export function RecordHistoryList({ entityType, entityId, showTrailLink }: { ent
         </h3>
         {truncated && (
           <p className="mb-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm">
-            This record has more than {formatNumber(HISTORY_CAP)} events; the oldest {formatNumber(HISTORY_CAP)} are shown.{' '}
+            This record has more than {formatNumber(HISTORY_CAP)} events; the oldest {formatNumber(HISTORY_CAP)} are
+            shown.{' '}
             {showTrailLink && (
               <Link to={trail} className="text-petrol underline underline-offset-2">
                 Open all of them in the audit trail
@@ -135,7 +165,12 @@ function HistoryItem({ e }: { e: AuditEventDetail }) {
         </ul>
       )}
       {e.changes.length > 0 && (
-        <button type="button" onClick={() => setOpen((x) => !x)} className="mt-1 text-xs text-petrol underline underline-offset-2" aria-expanded={open}>
+        <button
+          type="button"
+          onClick={() => setOpen((x) => !x)}
+          className="mt-1 text-xs text-petrol underline underline-offset-2"
+          aria-expanded={open}
+        >
           {open ? 'Hide the values' : 'Before and after, side by side'}
         </button>
       )}

@@ -21,14 +21,22 @@ export interface ChangePasswordFormProps {
 
 export function ChangePasswordForm({ username, forced, onChanged }: ChangePasswordFormProps) {
   const change = useChangePassword();
-  const { register, handleSubmit, formState } = useForm<Values>({ defaultValues: { currentPassword: '', newPassword: '', confirm: '' } });
+  const { register, handleSubmit, formState } = useForm<Values>({
+    defaultValues: { currentPassword: '', newPassword: '', confirm: '' },
+  });
   const e = formState.errors;
-  const submit = handleSubmit((v) => change.mutate({ currentPassword: v.currentPassword, newPassword: v.newPassword }, { onSuccess: onChanged }));
+  const submit = handleSubmit((v) =>
+    change.mutate({ currentPassword: v.currentPassword, newPassword: v.newPassword }, { onSuccess: onChanged }),
+  );
   return (
     <form onSubmit={submit} noValidate className="flex flex-col gap-4" aria-label="Change password">
       {/* lets password managers file the new password under the right account */}
       <input type="text" name="username" autoComplete="username" value={username} readOnly hidden />
-      <Field id="currentPassword" label={forced ? 'Temporary password' : 'Current password'} error={e.currentPassword?.message}>
+      <Field
+        id="currentPassword"
+        label={forced ? 'Temporary password' : 'Current password'}
+        error={e.currentPassword?.message}
+      >
         <Input
           id="currentPassword"
           bench
@@ -36,10 +44,17 @@ export function ChangePasswordForm({ username, forced, onChanged }: ChangePasswo
           autoComplete="current-password"
           autoFocus
           invalid={!!e.currentPassword}
-          {...register('currentPassword', { required: forced ? 'Enter the temporary password you were given.' : 'Enter your current password.' })}
+          {...register('currentPassword', {
+            required: forced ? 'Enter the temporary password you were given.' : 'Enter your current password.',
+          })}
         />
       </Field>
-      <Field id="newPassword" label="New password" hint={`At least ${MIN_PASSWORD_LENGTH} characters, not containing your user name.`} error={e.newPassword?.message}>
+      <Field
+        id="newPassword"
+        label="New password"
+        hint={`At least ${MIN_PASSWORD_LENGTH} characters, not containing your user name.`}
+        error={e.newPassword?.message}
+      >
         <Input
           id="newPassword"
           bench
@@ -48,10 +63,14 @@ export function ChangePasswordForm({ username, forced, onChanged }: ChangePasswo
           invalid={!!e.newPassword}
           {...register('newPassword', {
             required: 'Enter a new password.',
-            minLength: { value: MIN_PASSWORD_LENGTH, message: `The new password must have at least ${MIN_PASSWORD_LENGTH} characters.` },
+            minLength: {
+              value: MIN_PASSWORD_LENGTH,
+              message: `The new password must have at least ${MIN_PASSWORD_LENGTH} characters.`,
+            },
             maxLength: { value: 200, message: 'The password must have at most 200 characters.' },
             validate: {
-              noUsername: (v) => !v.toLowerCase().includes(username.toLowerCase()) || 'The password must not contain the user name.',
+              noUsername: (v) =>
+                !v.toLowerCase().includes(username.toLowerCase()) || 'The password must not contain the user name.',
               differs: (v, all) => v !== all.currentPassword || 'The new password must differ from the current one.',
             },
           })}
@@ -64,7 +83,10 @@ export function ChangePasswordForm({ username, forced, onChanged }: ChangePasswo
           type="password"
           autoComplete="new-password"
           invalid={!!e.confirm}
-          {...register('confirm', { required: 'Type the new password a second time.', validate: (v, all) => v === all.newPassword || 'The two new passwords differ. Type them again.' })}
+          {...register('confirm', {
+            required: 'Type the new password a second time.',
+            validate: (v, all) => v === all.newPassword || 'The two new passwords differ. Type them again.',
+          })}
         />
       </Field>
       {change.isError && <ErrorNote error={change.error} />}

@@ -8,7 +8,9 @@ import { useSignIn, type SignInInput } from '../api';
 export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => void }) {
   const signIn = useSignIn();
   const { register, handleSubmit, formState } = useForm<SignInInput>({ defaultValues: { username: '', password: '' } });
-  const submit = handleSubmit((v) => signIn.mutate({ username: v.username.trim(), password: v.password }, { onSuccess: (r) => onSignedIn(r.user) }));
+  const submit = handleSubmit((v) =>
+    signIn.mutate({ username: v.username.trim(), password: v.password }, { onSuccess: (r) => onSignedIn(r.user) }),
+  );
   return (
     <form onSubmit={submit} noValidate className="flex flex-col gap-4" aria-label="Sign in">
       <Field id="username" label="User name" error={formState.errors.username?.message}>
@@ -24,7 +26,14 @@ export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => 
         />
       </Field>
       <Field id="password" label="Password" error={formState.errors.password?.message}>
-        <Input id="password" bench type="password" autoComplete="current-password" invalid={!!formState.errors.password} {...register('password', { required: 'Enter your password.' })} />
+        <Input
+          id="password"
+          bench
+          type="password"
+          autoComplete="current-password"
+          invalid={!!formState.errors.password}
+          {...register('password', { required: 'Enter your password.' })}
+        />
       </Field>
       {signIn.isError && <ErrorNote error={signIn.error} />}
       <Button type="submit" variant="primary" size="bench" busy={signIn.isPending} className="w-full">

@@ -59,7 +59,10 @@ export function useCertificates(filter: CertificateFilter) {
   return useQuery({
     queryKey: [...KEY, 'list', filter],
     queryFn: ({ signal }) =>
-      apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', { query: { ...filter, limit: 200 }, signal }),
+      apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', {
+        query: { ...filter, limit: 200 },
+        signal,
+      }),
     placeholderData: (prev) => prev,
   });
 }
@@ -69,7 +72,11 @@ export function useLotCertificates(lotId: number | undefined) {
   return useQuery({
     queryKey: [...KEY, 'lot', lotId],
     enabled: lotId !== undefined,
-    queryFn: ({ signal }) => apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', { query: { lotId, limit: 50 }, signal }),
+    queryFn: ({ signal }) =>
+      apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', {
+        query: { lotId, limit: 50 },
+        signal,
+      }),
   });
 }
 

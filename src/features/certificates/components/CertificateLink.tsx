@@ -8,7 +8,13 @@ import { DateTime } from '../../../components/DateTime';
 import { certificatePdfUrl, useLotCertificates } from '../api';
 import { CertificateState } from './CertificateState';
 
-export function CertificateLink({ lotId, emptyText = 'No identity certificate has been issued for this lot.' }: { lotId: number; emptyText?: string }) {
+export function CertificateLink({
+  lotId,
+  emptyText = 'No identity certificate has been issued for this lot.',
+}: {
+  lotId: number;
+  emptyText?: string;
+}) {
   const q = useLotCertificates(lotId);
   if (q.isPending) return <p className="text-sm text-muted">Loading certificates…</p>;
   if (q.isError) return <p className="text-sm text-fail">The certificates could not be loaded.</p>;
@@ -32,7 +38,10 @@ export function CertificateLink({ lotId, emptyText = 'No identity certificate ha
           >
             Download certificate {c.number}
           </a>
-          <Link to={`/certificates/verify?number=${encodeURIComponent(c.number)}`} className="text-sm text-petrol underline-offset-2 hover:underline">
+          <Link
+            to={`/certificates/verify?number=${encodeURIComponent(c.number)}`}
+            className="text-sm text-petrol underline-offset-2 hover:underline"
+          >
             Verify
           </Link>
         </li>

@@ -4,17 +4,30 @@ import { Button } from '../../../components/Button';
 import { Field, Input } from '../../../components/Field';
 import type { CertificateFilter } from '../api';
 
-export function CertificateSearchForm({ initial, onSearch }: { initial: CertificateFilter; onSearch: (f: CertificateFilter) => void }) {
+export function CertificateSearchForm({
+  initial,
+  onSearch,
+}: {
+  initial: CertificateFilter;
+  onSearch: (f: CertificateFilter) => void;
+}) {
   const [f, setF] = useState<CertificateFilter>(initial);
-  const set = (k: keyof CertificateFilter) => (e: { target: { value: string } }) => setF((p) => ({ ...p, [k]: e.target.value }));
+  const set = (k: keyof CertificateFilter) => (e: { target: { value: string } }) =>
+    setF((p) => ({ ...p, [k]: e.target.value }));
   const submit = (e: FormEvent) => {
     e.preventDefault();
     const clean: CertificateFilter = {};
-    for (const [k, v] of Object.entries(f)) if (typeof v === 'string' && v.trim()) (clean as Record<string, string>)[k] = v.trim();
+    for (const [k, v] of Object.entries(f))
+      if (typeof v === 'string' && v.trim()) (clean as Record<string, string>)[k] = v.trim();
     onSearch(clean);
   };
   return (
-    <form onSubmit={submit} className="mb-4 flex flex-wrap items-end gap-3 rounded-md border border-line bg-white p-3" role="search" aria-label="Search certificates">
+    <form
+      onSubmit={submit}
+      className="mb-4 flex flex-wrap items-end gap-3 rounded-md border border-line bg-white p-3"
+      role="search"
+      aria-label="Search certificates"
+    >
       <Field id="cert-lot" label="Lot" className="w-48">
         <Input id="cert-lot" value={f.lot ?? ''} onChange={set('lot')} placeholder="e.g. RM-2026-00042" />
       </Field>

@@ -11,7 +11,10 @@ const columns = [
   col.accessor('number', {
     header: 'Certificate',
     cell: (c) => (
-      <Link to={`/certificates/${c.row.original.id}`} className="font-medium text-petrol underline-offset-2 hover:underline">
+      <Link
+        to={`/certificates/${c.row.original.id}`}
+        className="font-medium text-petrol underline-offset-2 hover:underline"
+      >
         {c.getValue()}
       </Link>
     ),
@@ -19,7 +22,11 @@ const columns = [
   col.accessor('lotNumber', { header: 'Lot' }),
   col.accessor((c) => `${c.materialName} (${c.materialCode})`, { id: 'material', header: 'Material' }),
   col.accessor('issuedAt', { header: 'Issued', cell: (c) => <DateTime value={c.getValue()} /> }),
-  col.accessor((c) => (c.current ? 'current' : 'superseded'), { id: 'state', header: 'State', cell: (c) => <CertificateState certificate={c.row.original} /> }),
+  col.accessor((c) => (c.current ? 'current' : 'superseded'), {
+    id: 'state',
+    header: 'State',
+    cell: (c) => <CertificateState certificate={c.row.original} />,
+  }),
   col.display({
     id: 'download',
     header: 'PDF',

@@ -5,8 +5,20 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useSupersede, type CertificateMeta } from '../api';
 
 export function SupersedeDialog({
-  open, certificate, printedName, needsUsername, onClose, onDone,
-}: { open: boolean; certificate: CertificateMeta; printedName: string; needsUsername: boolean; onClose: () => void; onDone: (c: CertificateMeta) => void }) {
+  open,
+  certificate,
+  printedName,
+  needsUsername,
+  onClose,
+  onDone,
+}: {
+  open: boolean;
+  certificate: CertificateMeta;
+  printedName: string;
+  needsUsername: boolean;
+  onClose: () => void;
+  onDone: (c: CertificateMeta) => void;
+}) {
   const supersede = useSupersede();
   const [reason, setReason] = useState('');
   const [problem, setProblem] = useState<string | null>(null);
@@ -30,7 +42,8 @@ export function SupersedeDialog({
       error={problem ?? supersede.error}
       onCancel={onClose}
       onSign={(signature) => {
-        if (reason.trim().length < 10) return setProblem('Give the reason for the new certificate (at least 10 characters).');
+        if (reason.trim().length < 10)
+          return setProblem('Give the reason for the new certificate (at least 10 characters).');
         setProblem(null);
         supersede.mutate({ id: certificate.id, reason: reason.trim(), signature }, { onSuccess: (c) => onDone(c) });
       }}

@@ -17,7 +17,10 @@ function YesNo({ value, yes = 'Yes', no = 'No' }: { value: boolean | null | unde
 
 function Row({ label, children, testId }: { label: string; children: ReactNode; testId?: string }) {
   return (
-    <div className="grid grid-cols-1 gap-1 border-b border-line py-2 last:border-b-0 sm:grid-cols-[18rem_1fr]" data-testid={testId}>
+    <div
+      className="grid grid-cols-1 gap-1 border-b border-line py-2 last:border-b-0 sm:grid-cols-[18rem_1fr]"
+      data-testid={testId}
+    >
       <dt className="text-sm text-muted">{label}</dt>
       <dd className="text-sm">{children}</dd>
     </div>
@@ -28,14 +31,28 @@ export function VerificationResult({ report }: { report: VerificationReport }) {
   const authentic = report.verdict === 'authentic';
   const c = report.certificate;
   return (
-    <section aria-labelledby="verification-verdict" className={`rounded-md border bg-white p-4 ${authentic ? 'border-pass/50' : 'border-fail/50'}`} data-testid="verification-result" data-verdict={report.verdict}>
+    <section
+      aria-labelledby="verification-verdict"
+      className={`rounded-md border bg-white p-4 ${authentic ? 'border-pass/50' : 'border-fail/50'}`}
+      data-testid="verification-result"
+      data-verdict={report.verdict}
+    >
       <h2 id="verification-verdict" className="mb-2 flex flex-wrap items-center gap-3">
         <Verdict verdict={authentic ? 'pass' : 'fail'} label={authentic ? 'Authentic' : 'Not authentic'} size="lg" />
-        <span className="text-sm text-muted">{report.checkedBy === 'upload' ? 'Checked the uploaded file' : 'Checked the stored certificate by its number'}</span>
+        <span className="text-sm text-muted">
+          {report.checkedBy === 'upload' ? 'Checked the uploaded file' : 'Checked the stored certificate by its number'}
+        </span>
       </h2>
       <p className="mb-3 text-sm">{report.summary}</p>
       <dl>
-        <Row label={report.checkedBy === 'upload' ? 'Byte-identical to the stored certificate' : 'Stored bytes match the SHA-256 recorded at issue'} testId="byte-identical">
+        <Row
+          label={
+            report.checkedBy === 'upload'
+              ? 'Byte-identical to the stored certificate'
+              : 'Stored bytes match the SHA-256 recorded at issue'
+          }
+          testId="byte-identical"
+        >
           <YesNo value={report.byteIdentical} />
         </Row>
         <Row label="Embedded digital signature valid" testId="signature-valid">
@@ -63,7 +80,10 @@ export function VerificationResult({ report }: { report: VerificationReport }) {
         <Row label="Lot" testId="verified-lot">
           {report.lot ? (
             <span>
-              <Link to={`/lots/${report.lot.id}`} className="font-medium text-petrol underline-offset-2 hover:underline">
+              <Link
+                to={`/lots/${report.lot.id}`}
+                className="font-medium text-petrol underline-offset-2 hover:underline"
+              >
                 {report.lot.lotNumber}
               </Link>{' '}
               <span className="text-muted">

@@ -18,7 +18,13 @@ export interface InstrumentListItem {
   active: boolean;
   checkDue: boolean;
   validCheck: { id: number; performedAt: string; validUntil: string } | null;
-  lastCheck: { id: number; verdict: 'pass' | 'fail'; performedAt: string; validUntil: string | null; performedByName: string | null } | null;
+  lastCheck: {
+    id: number;
+    verdict: 'pass' | 'fail';
+    performedAt: string;
+    validUntil: string | null;
+    performedByName: string | null;
+  } | null;
   currentSpec: { id: number; version: number; kind: string } | null;
 }
 
@@ -47,7 +53,12 @@ export interface CheckResult {
   spec: string;
   mode: 'transmission' | 'atr';
   bands: PolystyreneBandResult[];
-  resolution: { applicable: boolean; reason: string | null; checks: { name: string; value: number; limit: number; ok: boolean }[]; ok: boolean };
+  resolution: {
+    applicable: boolean;
+    reason: string | null;
+    checks: { name: string; value: number; limit: number; ok: boolean }[];
+    ok: boolean;
+  };
   engineVersion: string;
 }
 
@@ -93,7 +104,8 @@ export function useInstrument(id: number) {
 export function useCreateInstrument() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (body: InstrumentCreateInput) => apiFetch<InstrumentDetail>('/api/instruments', { method: 'POST', body }),
+    mutationFn: (body: InstrumentCreateInput) =>
+      apiFetch<InstrumentDetail>('/api/instruments', { method: 'POST', body }),
     onSuccess: () => qc.invalidateQueries({ queryKey: KEY }),
   });
 }
@@ -101,8 +113,14 @@ export function useCreateInstrument() {
 export function useApproveSpec() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, ...body }: { id: number; spec: { kind: string; bands?: CheckBand[]; justification: string }; signature: { username?: string; password: string } }) =>
-      apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
+    mutationFn: ({
+      id,
+      ...body
+    }: {
+      id: number;
+      spec: { kind: string; bands?: CheckBand[]; justification: string };
+      signature: { username?: string; password: string };
+    }) => apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
     onSuccess: async () => {
       await qc.invalidateQueries({ queryKey: KEY });
       await invalidateMe(qc);
@@ -114,7 +132,17 @@ export function useApproveSpec() {
 export function useRecordCheck() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, file, signature, onProgress }: { id: number; file: File; signature: { username?: string; password: string }; onProgress: (p: UploadProgress) => void }) => {
+    mutationFn: ({
+      id,
+      file,
+      signature,
+      onProgress,
+    }: {
+      id: number;
+      file: File;
+      signature: { username?: string; password: string };
+      onProgress: (p: UploadProgress) => void;
+    }) => {
       const fd = new FormData();
       fd.append('file', file, file.name);
       fd.append('password', signature.password);
@@ -128,4 +156,5 @@ export function useRecordCheck() {
   });
 }
 
-export const checkFileUrl = (instrumentId: number, checkId: number) => downloadUrl(`/api/instruments/${instrumentId}/checks/${checkId}/file`);
+export const checkFileUrl = (instrumentId: number, checkId: number) =>
+  downloadUrl(`/api/instruments/${instrumentId}/checks/${checkId}/file`);

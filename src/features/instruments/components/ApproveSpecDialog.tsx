@@ -12,7 +12,19 @@ import { useApproveSpec, type CheckBand, type InstrumentDetail } from '../api';
 
 type Row = { nominal: string; tolerance: string };
 
-export function ApproveSpecDialog({ open, instrument, printedName, needsUsername, onClose }: { open: boolean; instrument: InstrumentDetail; printedName: string; needsUsername: boolean; onClose: () => void }) {
+export function ApproveSpecDialog({
+  open,
+  instrument,
+  printedName,
+  needsUsername,
+  onClose,
+}: {
+  open: boolean;
+  instrument: InstrumentDetail;
+  printedName: string;
+  needsUsername: boolean;
+  onClose: () => void;
+}) {
   const approve = useApproveSpec();
   const current = instrument.specs.find((s) => s.status === 'approved');
   const [kind, setKind] = useState('site');
@@ -24,7 +36,9 @@ export function ApproveSpecDialog({ open, instrument, printedName, needsUsername
   useEffect(() => {
     if (open) {
       setKind('site');
-      setRows((current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })));
+      setRows(
+        (current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })),
+      );
       setJustification('');
       setProblem(null);
       approve.reset();
@@ -34,7 +48,12 @@ export function ApproveSpecDialog({ open, instrument, printedName, needsUsername
 
   const fromLastCheck = () => {
     if (!lastFound) return;
-    setRows(lastFound.result.bands.map((b) => ({ nominal: (Math.round(b.found! * 100) / 100).toFixed(2), tolerance: b.tolerance.toFixed(1) })));
+    setRows(
+      lastFound.result.bands.map((b) => ({
+        nominal: (Math.round(b.found! * 100) / 100).toFixed(2),
+        tolerance: b.tolerance.toFixed(1),
+      })),
+    );
   };
 
   return (
@@ -51,13 +70,24 @@ export function ApproveSpecDialog({ open, instrument, printedName, needsUsername
       onSign={(signature) => {
         let bands: CheckBand[] | undefined;
         if (kind === 'site') {
-          bands = rows.map((r) => ({ nominal: Number(r.nominal.replace(',', '.')), tolerance: Number(r.tolerance.replace(',', '.')) }));
-          if (bands.length < 3 || bands.some((b) => !Number.isFinite(b.nominal) || !Number.isFinite(b.tolerance) || b.tolerance <= 0))
-            return setProblem('A site specification needs at least three bands, each with a position and a positive tolerance.');
+          bands = rows.map((r) => ({
+            nominal: Number(r.nominal.replace(',', '.')),
+            tolerance: Number(r.tolerance.replace(',', '.')),
+          }));
+          if (
+            bands.length < 3 ||
+            bands.some((b) => !Number.isFinite(b.nominal) || !Number.isFinite(b.tolerance) || b.tolerance <= 0)
+          )
+            return setProblem(
+              'A site specification needs at least three bands, each with a position and a positive tolerance.',
+            );
         }
         if (justification.trim().length < 20) return setProblem('Write a justification of at least 20 characters.');
         setProblem(null);
-        approve.mutate({ id: instrument.id, spec: { kind, bands, justification: justification.trim() }, signature }, { onSuccess: onClose });
+        approve.mutate(
+          { id: instrument.id, spec: { kind, bands, justification: justification.trim() }, signature },
+          { onSuccess: onClose },
+        );
       }}
     >
       <Field id="spec-kind" label="Kind">
@@ -86,10 +116,22 @@ export function ApproveSpecDialog({ open, instrument, printedName, needsUsername
               {rows.map((r, i) => (
                 <tr key={i}>
                   <td className="pr-2 pb-1">
-                    <Input aria-label={`Expected position ${i + 1}`} inputMode="decimal" className="w-32 tabular-nums" value={r.nominal} onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, nominal: e.target.value } : x)))} />
+                    <Input
+                      aria-label={`Expected position ${i + 1}`}
+                      inputMode="decimal"
+                      className="w-32 tabular-nums"
+                      value={r.nominal}
+                      onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, nominal: e.target.value } : x)))}
+                    />
                   </td>
                   <td className="pr-2 pb-1">
-                    <Input aria-label={`Tolerance ${i + 1}`} inputMode="decimal" className="w-24 tabular-nums" value={r.tolerance} onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, tolerance: e.target.value } : x)))} />
+                    <Input
+                      aria-label={`Tolerance ${i + 1}`}
+                      inputMode="decimal"
+                      className="w-24 tabular-nums"
+                      value={r.tolerance}
+                      onChange={(e) => setRows(rows.map((x, j) => (j === i ? { ...x, tolerance: e.target.value } : x)))}
+                    />
                   </td>
                   <td className="pb-1">
                     <Button variant="quiet" onClick={() => setRows(rows.filter((_, j) => j !== i))}>
@@ -105,7 +147,11 @@ export function ApproveSpecDialog({ open, instrument, printedName, needsUsername
           </div>
         </div>
       )}
-      <Field id="spec-just" label="Justification" hint="At least 20 characters; signed with the specification and kept in the audit trail.">
+      <Field
+        id="spec-just"
+        label="Justification"
+        hint="At least 20 characters; signed with the specification and kept in the audit trail."
+      >
         <Textarea id="spec-just" value={justification} onChange={(e) => setJustification(e.target.value)} />
       </Field>
     </SignatureDialog>

@@ -10,18 +10,30 @@ export function CheckBandTable({ result }: { result: CheckResult }) {
         <table className="w-full text-sm tabular-nums" aria-label="Polystyrene bands">
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-1.5 text-right">Expected</th>
-              <th scope="col" className="px-3 py-1.5 text-right">Found</th>
-              <th scope="col" className="px-3 py-1.5 text-right">Deviation</th>
-              <th scope="col" className="px-3 py-1.5 text-right">Tolerance</th>
-              <th scope="col" className="px-3 py-1.5 text-left">Band</th>
+              <th scope="col" className="px-3 py-1.5 text-right">
+                Expected
+              </th>
+              <th scope="col" className="px-3 py-1.5 text-right">
+                Found
+              </th>
+              <th scope="col" className="px-3 py-1.5 text-right">
+                Deviation
+              </th>
+              <th scope="col" className="px-3 py-1.5 text-right">
+                Tolerance
+              </th>
+              <th scope="col" className="px-3 py-1.5 text-left">
+                Band
+              </th>
             </tr>
           </thead>
           <tbody>
             {result.bands.map((b) => (
               <tr key={b.nominal} className="border-t border-line">
                 <td className="px-3 py-1 text-right">{formatWavenumber(b.nominal, 2)}</td>
-                <td className="px-3 py-1 text-right">{b.found === null ? 'not found' : formatWavenumber(b.found, 2)}</td>
+                <td className="px-3 py-1 text-right">
+                  {b.found === null ? 'not found' : formatWavenumber(b.found, 2)}
+                </td>
                 <td className="px-3 py-1 text-right">{b.deviation === null ? '—' : formatShift(b.deviation, 2)}</td>
                 <td className="px-3 py-1 text-right">±{b.tolerance.toFixed(1)} cm⁻¹</td>
                 <td className="px-3 py-1">

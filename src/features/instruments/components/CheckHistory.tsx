@@ -28,13 +28,19 @@ export function CheckHistory({ instrument }: { instrument: InstrumentDetail }) {
               <a href={checkFileUrl(instrument.id, c.id)} className="text-petrol underline underline-offset-2">
                 raw file
               </a>
-              <Button variant="quiet" className="ml-auto" onClick={() => setOpen(open === c.id ? null : c.id)} aria-expanded={open === c.id}>
+              <Button
+                variant="quiet"
+                className="ml-auto"
+                onClick={() => setOpen(open === c.id ? null : c.id)}
+                aria-expanded={open === c.id}
+              >
                 {open === c.id ? 'Hide bands' : 'Show bands'}
               </Button>
             </div>
             {c.signature && (
               <p className="mt-1 text-xs text-muted">
-                Signed by {c.signature.printedName}, meaning: instrument check performed, <DateTime value={c.signature.signedAt} seconds />
+                Signed by {c.signature.printedName}, meaning: instrument check performed,{' '}
+                <DateTime value={c.signature.signedAt} seconds />
               </p>
             )}
             {open === c.id && (

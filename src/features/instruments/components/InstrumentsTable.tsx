@@ -12,9 +12,17 @@ const col = createColumnHelper<InstrumentListItem>();
 const columns = [
   col.accessor('name', { header: 'Instrument', cell: (c) => <span className="font-medium">{c.getValue()}</span> }),
   col.accessor('serialNumber', { header: 'Serial number' }),
-  col.accessor((i) => `${i.technique === 'nir' ? 'NIR' : 'Mid-IR'}, ${SAMPLING_LABELS[i.sampling as keyof typeof SAMPLING_LABELS] ?? i.sampling}`, { id: 'kind', header: 'Technique' }),
+  col.accessor(
+    (i) =>
+      `${i.technique === 'nir' ? 'NIR' : 'Mid-IR'}, ${SAMPLING_LABELS[i.sampling as keyof typeof SAMPLING_LABELS] ?? i.sampling}`,
+    { id: 'kind', header: 'Technique' },
+  ),
   col.accessor('location', { header: 'Location' }),
-  col.accessor((i) => (!i.active ? 'out of use' : i.checkDue ? 'check due' : 'check valid'), { id: 'status', header: 'Instrument check', cell: (c) => <CheckStatus instrument={c.row.original} /> }),
+  col.accessor((i) => (!i.active ? 'out of use' : i.checkDue ? 'check due' : 'check valid'), {
+    id: 'status',
+    header: 'Instrument check',
+    cell: (c) => <CheckStatus instrument={c.row.original} />,
+  }),
   col.accessor((i) => i.lastCheck?.performedAt ?? '', {
     id: 'last',
     header: 'Last check',
@@ -30,10 +38,19 @@ const columns = [
       );
     },
   }),
-  col.accessor((i) => (i.currentSpec ? `v${i.currentSpec.version} ${specKindText(i.currentSpec.kind)}` : 'none approved'), { id: 'spec', header: 'Check specification' }),
+  col.accessor(
+    (i) => (i.currentSpec ? `v${i.currentSpec.version} ${specKindText(i.currentSpec.kind)}` : 'none approved'),
+    { id: 'spec', header: 'Check specification' },
+  ),
 ];
 
-export function InstrumentsTable({ instruments, onOpen }: { instruments: InstrumentListItem[]; onOpen: (i: InstrumentListItem) => void }) {
+export function InstrumentsTable({
+  instruments,
+  onOpen,
+}: {
+  instruments: InstrumentListItem[];
+  onOpen: (i: InstrumentListItem) => void;
+}) {
   return (
     <DataTable
       data={instruments}

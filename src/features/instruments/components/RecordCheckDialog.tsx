@@ -9,7 +9,23 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { Verdict } from '../../../components/Verdict';
 import { useRecordCheck, type InstrumentCheck } from '../api';
 
-export function RecordCheckDialog({ open, instrumentId, instrumentName, printedName, needsUsername, onClose, onRecorded }: { open: boolean; instrumentId: number; instrumentName: string; printedName: string; needsUsername: boolean; onClose: () => void; onRecorded: (c: InstrumentCheck) => void }) {
+export function RecordCheckDialog({
+  open,
+  instrumentId,
+  instrumentName,
+  printedName,
+  needsUsername,
+  onClose,
+  onRecorded,
+}: {
+  open: boolean;
+  instrumentId: number;
+  instrumentName: string;
+  printedName: string;
+  needsUsername: boolean;
+  onClose: () => void;
+  onRecorded: (c: InstrumentCheck) => void;
+}) {
   const [file, setFile] = useState<File | null>(null);
   const [fraction, setFraction] = useState(0);
   const [problem, setProblem] = useState<string | null>(null);
@@ -37,10 +53,17 @@ export function RecordCheckDialog({ open, instrumentId, instrumentName, printedN
       onSign={(signature) => {
         if (!file) return setProblem('Choose the polystyrene film spectrum file first.');
         setProblem(null);
-        record.mutate({ id: instrumentId, file, signature, onProgress: (p) => setFraction(p.fraction) }, { onSuccess: (c) => onRecorded(c) });
+        record.mutate(
+          { id: instrumentId, file, signature, onProgress: (p) => setFraction(p.fraction) },
+          { onSuccess: (c) => onRecorded(c) },
+        );
       }}
     >
-      <Field id={`check-file-${instrumentId}`} label="Polystyrene film spectrum" hint="JCAMP-DX or delimited text, as exported by the instrument.">
+      <Field
+        id={`check-file-${instrumentId}`}
+        label="Polystyrene film spectrum"
+        hint="JCAMP-DX or delimited text, as exported by the instrument."
+      >
         <input
           id={`check-file-${instrumentId}`}
           type="file"
@@ -49,7 +72,9 @@ export function RecordCheckDialog({ open, instrumentId, instrumentName, printedN
           onChange={(e) => setFile(e.target.files?.[0] ?? null)}
         />
       </Field>
-      {record.isPending && <progress className="h-1.5 w-full accent-petrol" max={1} value={fraction} aria-label="Upload progress" />}
+      {record.isPending && (
+        <progress className="h-1.5 w-full accent-petrol" max={1} value={fraction} aria-label="Upload progress" />
+      )}
       {record.isSuccess && <Verdict verdict={record.data.verdict} size="lg" />}
     </SignatureDialog>
   );

@@ -8,7 +8,14 @@ import { useCreateInstrument, type InstrumentCreateInput } from '../api';
 
 export function RegisterInstrumentForm({ onDone, onCancel }: { onDone: (id: number) => void; onCancel: () => void }) {
   const create = useCreateInstrument();
-  const [v, setV] = useState({ name: '', serialNumber: '', technique: 'mid-ir', sampling: 'atr', location: '', checkValidityHours: '24' });
+  const [v, setV] = useState({
+    name: '',
+    serialNumber: '',
+    technique: 'mid-ir',
+    sampling: 'atr',
+    location: '',
+    checkValidityHours: '24',
+  });
   const [errors, setErrors] = useState<Record<string, string>>({});
   const submit = (e: FormEvent) => {
     e.preventDefault();
@@ -48,7 +55,12 @@ export function RegisterInstrumentForm({ onDone, onCancel }: { onDone: (id: numb
         </Select>
       </Field>
       <Field id="in-valid" label="Check valid for (hours)" error={errors.checkValidityHours}>
-        <Input id="in-valid" inputMode="numeric" value={v.checkValidityHours} onChange={(e) => setV({ ...v, checkValidityHours: e.target.value })} />
+        <Input
+          id="in-valid"
+          inputMode="numeric"
+          value={v.checkValidityHours}
+          onChange={(e) => setV({ ...v, checkValidityHours: e.target.value })}
+        />
       </Field>
       {create.isError && <ErrorNote error={create.error} className="md:col-span-3" />}
       <div className="flex gap-2 md:col-span-3">

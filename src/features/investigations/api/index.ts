@@ -19,8 +19,15 @@ export interface InvestigationDetail extends Investigation {
 export type SignatureBody = { username?: string; password: string };
 
 export const useInvestigations = (state: 'open' | 'all') =>
-  useQuery({ queryKey: ['investigations', 'list', state], queryFn: () => apiFetch<Investigation[]>('/api/investigations', { query: { state } }) });
-export const useInvestigation = (id: number) => useQuery({ queryKey: ['investigations', id], queryFn: () => apiFetch<InvestigationDetail>(`/api/investigations/${id}`) });
+  useQuery({
+    queryKey: ['investigations', 'list', state],
+    queryFn: () => apiFetch<Investigation[]>('/api/investigations', { query: { state } }),
+  });
+export const useInvestigation = (id: number) =>
+  useQuery({
+    queryKey: ['investigations', id],
+    queryFn: () => apiFetch<InvestigationDetail>(`/api/investigations/${id}`),
+  });
 
 function useDone(id: number) {
   const qc = useQueryClient();
@@ -36,8 +43,9 @@ function useDone(id: number) {
 export function usePhase1(id: number) {
   const done = useDone(id);
   return useMutation({
-    mutationFn: (body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureBody }) =>
-      apiFetch<InvestigationDetail>(`/api/investigations/${id}/phase1`, { method: 'POST', body }),
+    mutationFn: (
+      body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureBody },
+    ) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/phase1`, { method: 'POST', body }),
     onSuccess: done,
   });
 }
@@ -45,8 +53,12 @@ export function usePhase1(id: number) {
 export function useInvalidate(id: number) {
   const done = useDone(id);
   return useMutation({
-    mutationFn: (body: { cause: Phase1Item; justification: string; retestContainerIds: number[]; signature: SignatureBody }) =>
-      apiFetch<InvestigationDetail>(`/api/investigations/${id}/invalidate`, { method: 'POST', body }),
+    mutationFn: (body: {
+      cause: Phase1Item;
+      justification: string;
+      retestContainerIds: number[];
+      signature: SignatureBody;
+    }) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/invalidate`, { method: 'POST', body }),
     onSuccess: done,
   });
 }
@@ -54,7 +66,8 @@ export function useInvalidate(id: number) {
 export function useConfirm(id: number) {
   const done = useDone(id);
   return useMutation({
-    mutationFn: (body: { justification: string; signature: SignatureBody }) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/confirm`, { method: 'POST', body }),
+    mutationFn: (body: { justification: string; signature: SignatureBody }) =>
+      apiFetch<InvestigationDetail>(`/api/investigations/${id}/confirm`, { method: 'POST', body }),
     onSuccess: done,
   });
 }

@@ -10,7 +10,13 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/schemas';
 import { useConfirm, useInvalidate, type InvestigationDetail } from '../api';
 
-export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
+export function DecisionForms({
+  inv,
+  me,
+}: {
+  inv: InvestigationDetail;
+  me: { fullName: string; signedOnce: boolean };
+}) {
   const invalidate = useInvalidate(inv.id);
   const confirm = useConfirm(inv.id);
   const causes = PHASE1_ITEMS.filter((k) => inv.phase1 && !inv.phase1.items[k].ok);
@@ -22,9 +28,11 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
   const [signing, setSigning] = useState(false);
 
   const ready = () => {
-    if (just.trim().length < 20) return setError('Write a justification of at least 20 characters.'), false;
-    if (mode === 'invalidate' && !cause) return setError('Choose the assignable laboratory cause found in phase I.'), false;
-    if (mode === 'invalidate' && retest.length === 0) return setError('Name at least one container to re-sample and retest.'), false;
+    if (just.trim().length < 20) return (setError('Write a justification of at least 20 characters.'), false);
+    if (mode === 'invalidate' && !cause)
+      return (setError('Choose the assignable laboratory cause found in phase I.'), false);
+    if (mode === 'invalidate' && retest.length === 0)
+      return (setError('Name at least one container to re-sample and retest.'), false);
     setError(null);
     return true;
   };
@@ -35,7 +43,12 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
         Decision
       </h2>
       <div className="flex flex-wrap gap-2">
-        <Button size="bench" variant={mode === 'invalidate' ? 'primary' : 'secondary'} disabled={causes.length === 0} onClick={() => setMode('invalidate')}>
+        <Button
+          size="bench"
+          variant={mode === 'invalidate' ? 'primary' : 'secondary'}
+          disabled={causes.length === 0}
+          onClick={() => setMode('invalidate')}
+        >
           Invalidate and authorise a retest
         </Button>
         <Button size="bench" variant={mode === 'confirm' ? 'danger' : 'secondary'} onClick={() => setMode('confirm')}>
@@ -43,7 +56,10 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
         </Button>
       </div>
       {causes.length === 0 && (
-        <p className="text-sm text-muted">Phase I found no laboratory error, so the result cannot be invalidated: a result is invalidated only for an assignable laboratory cause.</p>
+        <p className="text-sm text-muted">
+          Phase I found no laboratory error, so the result cannot be invalidated: a result is invalidated only for an
+          assignable laboratory cause.
+        </p>
       )}
       {mode === 'invalidate' && (
         <div className="flex flex-col gap-3">
@@ -63,7 +79,9 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
                 <input
                   type="checkbox"
                   checked={retest.includes(f.containerId)}
-                  onChange={(e) => setRetest(e.target.checked ? [...retest, f.containerId] : retest.filter((x) => x !== f.containerId))}
+                  onChange={(e) =>
+                    setRetest(e.target.checked ? [...retest, f.containerId] : retest.filter((x) => x !== f.containerId))
+                  }
                 />
                 {f.label}
               </label>
@@ -77,7 +95,11 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
             <Textarea id="just" value={just} onChange={(e) => setJust(e.target.value)} />
           </Field>
           <div>
-            <Button size="bench" variant={mode === 'confirm' ? 'danger' : 'primary'} onClick={() => ready() && setSigning(true)}>
+            <Button
+              size="bench"
+              variant={mode === 'confirm' ? 'danger' : 'primary'}
+              onClick={() => ready() && setSigning(true)}
+            >
               {mode === 'confirm' ? 'Sign: reject the lot' : 'Sign: invalidate and authorise retest'}
             </Button>
           </div>
@@ -85,7 +107,9 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
       )}
       <SignatureDialog
         open={signing}
-        title={mode === 'confirm' ? 'Confirm the failure and reject the lot' : 'Invalidate the result and authorise a retest'}
+        title={
+          mode === 'confirm' ? 'Confirm the failure and reject the lot' : 'Invalidate the result and authorise a retest'
+        }
         meaningText={
           mode === 'confirm'
             ? `confirm the identity failure of lot ${inv.lotNumber} and reject the lot`
@@ -105,7 +129,8 @@ export function DecisionForms({ inv, me }: { inv: InvestigationDetail; me: { ful
         onSign={(signature) => {
           const close = { onSuccess: () => setSigning(false) };
           if (mode === 'confirm') confirm.mutate({ justification: just.trim(), signature }, close);
-          else if (cause) invalidate.mutate({ cause, justification: just.trim(), retestContainerIds: retest, signature }, close);
+          else if (cause)
+            invalidate.mutate({ cause, justification: just.trim(), retestContainerIds: retest, signature }, close);
         }}
       />
     </section>

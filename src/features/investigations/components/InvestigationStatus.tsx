@@ -9,7 +9,8 @@ export function statusText(i: Pick<Investigation, 'status' | 'decision'>): strin
 }
 
 export function InvestigationStatus({ inv }: { inv: Pick<Investigation, 'status' | 'decision'> }) {
-  if (inv.status === 'closed' && inv.decision === 'confirmed') return <Verdict verdict="fail" label={statusText(inv)} />;
+  if (inv.status === 'closed' && inv.decision === 'confirmed')
+    return <Verdict verdict="fail" label={statusText(inv)} />;
   if (inv.status === 'closed') return <Verdict verdict="pass" label={statusText(inv)} />;
   return <Verdict verdict="pending" label={statusText(inv)} />;
 }

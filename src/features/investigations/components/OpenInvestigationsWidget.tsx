@@ -14,7 +14,10 @@ export function OpenInvestigationsList() {
     <ul className="divide-y divide-line rounded-md border border-line bg-white">
       {todo.map((i) => (
         <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 px-3 py-2 text-sm">
-          <Link to={`/investigations/${i.id}`} className="inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2">
+          <Link
+            to={`/investigations/${i.id}`}
+            className="inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2"
+          >
             {i.number}
           </Link>
           <span>

@@ -9,7 +9,11 @@ import { usePhase1, type InvestigationDetail } from '../api';
 export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const save = usePhase1(inv.id);
   const [items, setItems] = useState<Record<Phase1Item, { ok: boolean | null; note: string }>>(
-    () => Object.fromEntries(PHASE1_ITEMS.map((k) => [k, { ok: null, note: '' }])) as Record<Phase1Item, { ok: boolean | null; note: string }>,
+    () =>
+      Object.fromEntries(PHASE1_ITEMS.map((k) => [k, { ok: null, note: '' }])) as Record<
+        Phase1Item,
+        { ok: boolean | null; note: string }
+      >,
   );
   const [summary, setSummary] = useState('');
   const [errors, setErrors] = useState<Record<string, string>>({});
@@ -39,14 +43,30 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
           </p>
           <div className="flex flex-wrap gap-4">
             <label className="inline-flex min-h-11 items-center gap-2">
-              <input type="radio" name={`p1-${k}`} checked={items[k].ok === true} onChange={() => setItems({ ...items, [k]: { ...items[k], ok: true } })} /> No laboratory error found
+              <input
+                type="radio"
+                name={`p1-${k}`}
+                checked={items[k].ok === true}
+                onChange={() => setItems({ ...items, [k]: { ...items[k], ok: true } })}
+              />{' '}
+              No laboratory error found
             </label>
             <label className="inline-flex min-h-11 items-center gap-2">
-              <input type="radio" name={`p1-${k}`} checked={items[k].ok === false} onChange={() => setItems({ ...items, [k]: { ...items[k], ok: false } })} /> Laboratory error found
+              <input
+                type="radio"
+                name={`p1-${k}`}
+                checked={items[k].ok === false}
+                onChange={() => setItems({ ...items, [k]: { ...items[k], ok: false } })}
+              />{' '}
+              Laboratory error found
             </label>
           </div>
           <Field id={`p1-${k}-note`} label="What was checked and found" error={errors[k]}>
-            <Textarea id={`p1-${k}-note`} value={items[k].note} onChange={(e) => setItems({ ...items, [k]: { ...items[k], note: e.target.value } })} />
+            <Textarea
+              id={`p1-${k}-note`}
+              value={items[k].note}
+              onChange={(e) => setItems({ ...items, [k]: { ...items[k], note: e.target.value } })}
+            />
           </Field>
         </fieldset>
       ))}
@@ -75,7 +95,9 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
         onSign={(signature) =>
           save.mutate(
             {
-              ...(Object.fromEntries(PHASE1_ITEMS.map((k) => [k, { ok: items[k].ok === true, note: items[k].note.trim() }])) as Record<Phase1Item, { ok: boolean; note: string }>),
+              ...(Object.fromEntries(
+                PHASE1_ITEMS.map((k) => [k, { ok: items[k].ok === true, note: items[k].note.trim() }]),
+              ) as Record<Phase1Item, { ok: boolean; note: string }>),
               summary: summary.trim(),
               signature,
             },

@@ -64,7 +64,15 @@ export interface ReferenceListItem {
 
 export interface ReferenceDetail extends Omit<ReferenceListItem, 'bandCount'> {
   bands: StoredBand[];
-  meta: { title?: string; fileName?: string; points?: number; originalXUnits?: string; originalYUnits?: string; warnings?: string[]; bandsPickedWithMethodVersion?: number } | null;
+  meta: {
+    title?: string;
+    fileName?: string;
+    points?: number;
+    originalXUnits?: string;
+    originalYUnits?: string;
+    warnings?: string[];
+    bandsPickedWithMethodVersion?: number;
+  } | null;
   specificity: GateReport | null;
   approvedMethodId: number | null;
   material: { id: number; code: string; name: string; grade: string } | null;
@@ -135,11 +143,17 @@ export function useMaterial(id: number) {
 }
 
 export function useReferences(materialId: number) {
-  return useQuery({ queryKey: keys.references(materialId), queryFn: () => apiFetch<ReferenceListItem[]>(`/api/materials/${materialId}/references`) });
+  return useQuery({
+    queryKey: keys.references(materialId),
+    queryFn: () => apiFetch<ReferenceListItem[]>(`/api/materials/${materialId}/references`),
+  });
 }
 
 export function useReferencesByStatus(status: ReferenceStatus) {
-  return useQuery({ queryKey: keys.byStatus(status), queryFn: () => apiFetch<ReferenceListItem[]>('/api/references', { query: { status } }) });
+  return useQuery({
+    queryKey: keys.byStatus(status),
+    queryFn: () => apiFetch<ReferenceListItem[]>('/api/references', { query: { status } }),
+  });
 }
 
 export function useReference(id: number) {
@@ -147,15 +161,26 @@ export function useReference(id: number) {
 }
 
 export function useReferenceOverlay(id: number) {
-  return useQuery({ queryKey: keys.overlay(id), queryFn: () => apiFetch<{ referenceId: number; traces: OverlayTrace[] }>(`/api/references/${id}/overlay`), staleTime: 5 * 60_000 });
+  return useQuery({
+    queryKey: keys.overlay(id),
+    queryFn: () => apiFetch<{ referenceId: number; traces: OverlayTrace[] }>(`/api/references/${id}/overlay`),
+    staleTime: 5 * 60_000,
+  });
 }
 
 export function useSpecificityGate(id: number, enabled: boolean) {
-  return useQuery({ queryKey: keys.gate(id), queryFn: () => apiFetch<GateReport>(`/api/references/${id}/specificity`), enabled });
+  return useQuery({
+    queryKey: keys.gate(id),
+    queryFn: () => apiFetch<GateReport>(`/api/references/${id}/specificity`),
+    enabled,
+  });
 }
 
 export function useSpecificityMatrix(technique: string) {
-  return useQuery({ queryKey: keys.matrix(technique), queryFn: () => apiFetch<SpecificityMatrix>('/api/library/specificity', { query: { technique } }) });
+  return useQuery({
+    queryKey: keys.matrix(technique),
+    queryFn: () => apiFetch<SpecificityMatrix>('/api/library/specificity', { query: { technique } }),
+  });
 }
 
 export const referenceFileUrl = (id: number) => downloadUrl(`/api/references/${id}/file`);
@@ -181,18 +206,22 @@ export interface MaterialCreateInput {
 }
 
 export function useCreateMaterial() {
-  return useLibraryMutation((body: MaterialCreateInput) => apiFetch<Material & { draftMethodId: number }>('/api/materials', { method: 'POST', body }));
+  return useLibraryMutation((body: MaterialCreateInput) =>
+    apiFetch<Material & { draftMethodId: number }>('/api/materials', { method: 'POST', body }),
+  );
 }
 
 export function useUpdateMaterial() {
-  return useLibraryMutation(({ id, ...body }: Partial<MaterialCreateInput> & { id: number; active?: boolean; reason: string }) =>
-    apiFetch<Material>(`/api/materials/${id}`, { method: 'PATCH', body }),
+  return useLibraryMutation(
+    ({ id, ...body }: Partial<MaterialCreateInput> & { id: number; active?: boolean; reason: string }) =>
+      apiFetch<Material>(`/api/materials/${id}`, { method: 'PATCH', body }),
   );
 }
 
 export function useUpdateMethod() {
-  return useLibraryMutation(({ id, ...body }: { id: number; params?: IdentityMethodParams; changeNote?: string; reason: string }) =>
-    apiFetch<MethodVersion>(`/api/methods/${id}`, { method: 'PATCH', body }),
+  return useLibraryMutation(
+    ({ id, ...body }: { id: number; params?: IdentityMethodParams; changeNote?: string; reason: string }) =>
+      apiFetch<MethodVersion>(`/api/methods/${id}`, { method: 'PATCH', body }),
   );
 }
 
@@ -204,21 +233,26 @@ export function useNewMethodVersion() {
 
 export function useApproveMethod() {
   return useLibraryMutation(
-    ({ id, signature }: { id: number; signature: SignatureCredentials }) => apiFetch<MethodVersion>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
+    ({ id, signature }: { id: number; signature: SignatureCredentials }) =>
+      apiFetch<MethodVersion>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
     { signs: true },
   );
 }
 
 export function useUpdateBands() {
-  return useLibraryMutation(({ id, bands, reason }: { id: number; bands: { position: number; assignment?: string }[]; reason: string }) =>
-    apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
+  return useLibraryMutation(
+    ({ id, bands, reason }: { id: number; bands: { position: number; assignment?: string }[]; reason: string }) =>
+      apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
   );
 }
 
 export function useApproveReference() {
   return useLibraryMutation(
     ({ id, signature, justification }: { id: number; signature: SignatureCredentials; justification?: string }) =>
-      apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, { method: 'POST', body: { signature, justification } }),
+      apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, {
+        method: 'POST',
+        body: { signature, justification },
+      }),
     { signs: true },
   );
 }
@@ -238,13 +272,20 @@ export interface UploadFields {
 }
 
 /** Uploads one reference file (one request per file, so each has its own progress and outcome). */
-export function uploadReference(materialId: number, file: File, fields: UploadFields, onProgress: (p: UploadProgress) => void): Promise<ReferenceDetail> {
+export function uploadReference(
+  materialId: number,
+  file: File,
+  fields: UploadFields,
+  onProgress: (p: UploadProgress) => void,
+): Promise<ReferenceDetail> {
   const fd = new FormData();
   fd.append('files', file, file.name);
   fd.append('supplier', fields.supplier);
   fd.append('supplierLot', fields.supplierLot);
   fd.append('measuredHow', fields.measuredHow);
-  return apiUpload<ReferenceDetail[]>(`/api/materials/${materialId}/references`, fd, onProgress).then((list) => list[0]);
+  return apiUpload<ReferenceDetail[]>(`/api/materials/${materialId}/references`, fd, onProgress).then(
+    (list) => list[0],
+  );
 }
 
 /** Call after uploads finish so lists and counts refresh. */

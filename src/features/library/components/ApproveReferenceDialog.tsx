@@ -10,7 +10,21 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useApproveReference, useSpecificityGate, type GateReport } from '../api';
 import { GateTable } from './GateTable';
 
-export function ApproveReferenceDialog({ open, referenceId, code, printedName, needsUsername, onClose }: { open: boolean; referenceId: number; code: string; printedName: string; needsUsername: boolean; onClose: () => void }) {
+export function ApproveReferenceDialog({
+  open,
+  referenceId,
+  code,
+  printedName,
+  needsUsername,
+  onClose,
+}: {
+  open: boolean;
+  referenceId: number;
+  code: string;
+  printedName: string;
+  needsUsername: boolean;
+  onClose: () => void;
+}) {
   const gate = useSpecificityGate(referenceId, open);
   const approve = useApproveReference();
   const [justification, setJustification] = useState('');
@@ -25,7 +39,10 @@ export function ApproveReferenceDialog({ open, referenceId, code, printedName, n
   }, [open]);
 
   // A refusal by the gate at signing time carries the table as well.
-  const refusedGate = approve.error instanceof ApiError && approve.error.code === 'SPECIFICITY_GATE' ? (approve.error.details as GateReport) : null;
+  const refusedGate =
+    approve.error instanceof ApiError && approve.error.code === 'SPECIFICITY_GATE'
+      ? (approve.error.details as GateReport)
+      : null;
   const report = refusedGate ?? gate.data ?? null;
   const blocked = report ? !report.passed : false;
 
@@ -46,22 +63,37 @@ export function ApproveReferenceDialog({ open, referenceId, code, printedName, n
       onCancel={onClose}
       onSign={(signature) => {
         if (blocked && justification.trim().length < 20) {
-          setLocalError('Another material would pass this test. Write a justification of at least 20 characters, or tighten the identity method first.');
+          setLocalError(
+            'Another material would pass this test. Write a justification of at least 20 characters, or tighten the identity method first.',
+          );
           return;
         }
         setLocalError(null);
-        approve.mutate({ id: referenceId, signature, justification: blocked ? justification.trim() : undefined }, { onSuccess: onClose });
+        approve.mutate(
+          { id: referenceId, signature, justification: blocked ? justification.trim() : undefined },
+          { onSuccess: onClose },
+        );
       }}
     >
       <section aria-label="Specificity check" className="flex max-h-72 flex-col gap-2 overflow-auto">
         <h3 className="text-sm font-semibold">Specificity check</h3>
-        {gate.isPending && !report ? <p className="text-sm text-muted">Scoring against the approved references of other materials…</p> : null}
+        {gate.isPending && !report ? (
+          <p className="text-sm text-muted">Scoring against the approved references of other materials…</p>
+        ) : null}
         {gate.isError && !report ? <p className="text-sm text-fail">{(gate.error as Error).message}</p> : null}
         {report && <GateTable gate={report} onlyOffending={blocked} />}
       </section>
       {blocked && (
-        <Field id={`just-${referenceId}`} label="Justification" hint="Why approval is right although the method does not tell these materials apart (at least 20 characters). It is signed and kept in the audit trail.">
-          <Textarea id={`just-${referenceId}`} value={justification} onChange={(e) => setJustification(e.target.value)} />
+        <Field
+          id={`just-${referenceId}`}
+          label="Justification"
+          hint="Why approval is right although the method does not tell these materials apart (at least 20 characters). It is signed and kept in the audit trail."
+        >
+          <Textarea
+            id={`just-${referenceId}`}
+            value={justification}
+            onChange={(e) => setJustification(e.target.value)}
+          />
         </Field>
       )}
     </SignatureDialog>

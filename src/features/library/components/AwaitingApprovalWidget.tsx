@@ -32,7 +32,11 @@ export function AwaitingApprovalList({ myUserId }: { myUserId: number }) {
           ))}
         </ul>
       )}
-      {mine.length > 0 && <p className="text-sm text-muted">You uploaded {mine.length} draft reference(s); another QA manager must approve them.</p>}
+      {mine.length > 0 && (
+        <p className="text-sm text-muted">
+          You uploaded {mine.length} draft reference(s); another QA manager must approve them.
+        </p>
+      )}
     </div>
   );
 }

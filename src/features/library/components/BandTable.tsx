@@ -13,7 +13,15 @@ import { useUpdateBands, type StoredBand } from '../api';
 type Row = { key: number; position: string; assignment: string; original?: StoredBand };
 let seq = 0;
 
-export function BandTable({ referenceId, bands, editable }: { referenceId: number; bands: StoredBand[]; editable: boolean }) {
+export function BandTable({
+  referenceId,
+  bands,
+  editable,
+}: {
+  referenceId: number;
+  bands: StoredBand[];
+  editable: boolean;
+}) {
   const [editing, setEditing] = useState(false);
   const [rows, setRows] = useState<Row[]>([]);
   const [reason, setReason] = useState('');
@@ -22,7 +30,9 @@ export function BandTable({ referenceId, bands, editable }: { referenceId: numbe
   const sorted = [...bands].sort((a, b) => b.position - a.position);
 
   const start = () => {
-    setRows(sorted.map((b) => ({ key: ++seq, position: b.position.toFixed(2), assignment: b.assignment, original: b })));
+    setRows(
+      sorted.map((b) => ({ key: ++seq, position: b.position.toFixed(2), assignment: b.assignment, original: b })),
+    );
     setReason('');
     setProblem(null);
     setEditing(true);
@@ -56,10 +66,24 @@ export function BandTable({ referenceId, bands, editable }: { referenceId: numbe
               {rows.map((r) => (
                 <tr key={r.key} className="border-t border-line">
                   <td className="px-3 py-1">
-                    <Input aria-label="Band position" inputMode="decimal" className="w-28 tabular-nums" value={r.position} onChange={(e) => setRows(rows.map((x) => (x.key === r.key ? { ...x, position: e.target.value } : x)))} />
+                    <Input
+                      aria-label="Band position"
+                      inputMode="decimal"
+                      className="w-28 tabular-nums"
+                      value={r.position}
+                      onChange={(e) =>
+                        setRows(rows.map((x) => (x.key === r.key ? { ...x, position: e.target.value } : x)))
+                      }
+                    />
                   </td>
                   <td className="px-3 py-1">
-                    <Input aria-label="Assignment" value={r.assignment} onChange={(e) => setRows(rows.map((x) => (x.key === r.key ? { ...x, assignment: e.target.value } : x)))} />
+                    <Input
+                      aria-label="Assignment"
+                      value={r.assignment}
+                      onChange={(e) =>
+                        setRows(rows.map((x) => (x.key === r.key ? { ...x, assignment: e.target.value } : x)))
+                      }
+                    />
                   </td>
                   <td className="px-3 py-1 text-right">
                     <Button variant="quiet" onClick={() => setRows(rows.filter((x) => x.key !== r.key))}>
@@ -74,7 +98,11 @@ export function BandTable({ referenceId, bands, editable }: { referenceId: numbe
         <div>
           <Button onClick={() => setRows([...rows, { key: ++seq, position: '', assignment: '' }])}>Add band</Button>
         </div>
-        <Field id={`bands-reason-${referenceId}`} label="Reason for the change" hint="Kept in the audit trail with the old and new band lists.">
+        <Field
+          id={`bands-reason-${referenceId}`}
+          label="Reason for the change"
+          hint="Kept in the audit trail with the old and new band lists."
+        >
           <Input id={`bands-reason-${referenceId}`} value={reason} onChange={(e) => setReason(e.target.value)} />
         </Field>
         {problem && <ErrorNote error={problem} />}
@@ -116,8 +144,12 @@ export function BandTable({ referenceId, bands, editable }: { referenceId: numbe
               <tr key={b.position} className="border-t border-line" data-testid="band-row">
                 <td className="px-3 py-1.5 text-right whitespace-nowrap">{formatWavenumber(b.position)}</td>
                 <td className="px-3 py-1.5">{b.assignment}</td>
-                <td className="px-3 py-1.5 text-right">{b.prominence !== undefined ? `${Math.round(b.prominence * 100)} %` : '—'}</td>
-                <td className="px-3 py-1.5 text-right whitespace-nowrap">{b.width !== undefined ? formatWavenumber(b.width, 0) : '—'}</td>
+                <td className="px-3 py-1.5 text-right">
+                  {b.prominence !== undefined ? `${Math.round(b.prominence * 100)} %` : '—'}
+                </td>
+                <td className="px-3 py-1.5 text-right whitespace-nowrap">
+                  {b.width !== undefined ? formatWavenumber(b.width, 0) : '—'}
+                </td>
                 <td className="px-3 py-1.5">{b.origin === 'edited' ? 'set by QA' : 'picked automatically'}</td>
               </tr>
             ))}

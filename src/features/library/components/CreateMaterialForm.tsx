@@ -8,12 +8,23 @@ import { useCreateMaterial } from '../api';
 
 export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: number) => void; onCancel: () => void }) {
   const create = useCreateMaterial();
-  const [v, setV] = useState({ code: '', name: '', grade: '', monographRef: '', notes: '', techniques: ['mid-ir-atr'] as string[] });
+  const [v, setV] = useState({
+    code: '',
+    name: '',
+    grade: '',
+    monographRef: '',
+    notes: '',
+    techniques: ['mid-ir-atr'] as string[],
+  });
   const [errors, setErrors] = useState<Record<string, string>>({});
 
   const submit = (e: FormEvent) => {
     e.preventDefault();
-    const parsed = materialCreateSchema.safeParse({ ...v, code: v.code.trim().toUpperCase(), notes: v.notes.trim() || null });
+    const parsed = materialCreateSchema.safeParse({
+      ...v,
+      code: v.code.trim().toUpperCase(),
+      notes: v.notes.trim() || null,
+    });
     if (!parsed.success) {
       const out: Record<string, string> = {};
       for (const i of parsed.error.issues) out[String(i.path[0])] ??= i.message;
@@ -26,17 +37,45 @@ export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: nu
 
   return (
     <form onSubmit={submit} noValidate className="grid gap-4 md:grid-cols-2" aria-label="New material">
-      <Field id="mat-code" label="Code" hint="Capital letters, digits, dot, dash or underscore; it names the reference spectra." error={errors.code}>
-        <Input id="mat-code" autoComplete="off" spellCheck={false} value={v.code} onChange={(e) => setV({ ...v, code: e.target.value.toUpperCase() })} invalid={!!errors.code} />
+      <Field
+        id="mat-code"
+        label="Code"
+        hint="Capital letters, digits, dot, dash or underscore; it names the reference spectra."
+        error={errors.code}
+      >
+        <Input
+          id="mat-code"
+          autoComplete="off"
+          spellCheck={false}
+          value={v.code}
+          onChange={(e) => setV({ ...v, code: e.target.value.toUpperCase() })}
+          invalid={!!errors.code}
+        />
       </Field>
       <Field id="mat-name" label="Name" error={errors.name}>
-        <Input id="mat-name" autoComplete="off" value={v.name} onChange={(e) => setV({ ...v, name: e.target.value })} invalid={!!errors.name} />
+        <Input
+          id="mat-name"
+          autoComplete="off"
+          value={v.name}
+          onChange={(e) => setV({ ...v, name: e.target.value })}
+          invalid={!!errors.name}
+        />
       </Field>
       <Field id="mat-grade" label="Grade" error={errors.grade}>
-        <Input id="mat-grade" autoComplete="off" value={v.grade} onChange={(e) => setV({ ...v, grade: e.target.value })} />
+        <Input
+          id="mat-grade"
+          autoComplete="off"
+          value={v.grade}
+          onChange={(e) => setV({ ...v, grade: e.target.value })}
+        />
       </Field>
       <Field id="mat-mono" label="Monograph reference" hint="Free text, e.g. Ph. Eur. 0187" error={errors.monographRef}>
-        <Input id="mat-mono" autoComplete="off" value={v.monographRef} onChange={(e) => setV({ ...v, monographRef: e.target.value })} />
+        <Input
+          id="mat-mono"
+          autoComplete="off"
+          value={v.monographRef}
+          onChange={(e) => setV({ ...v, monographRef: e.target.value })}
+        />
       </Field>
       <fieldset className="md:col-span-2">
         <legend className="text-sm font-medium">Technique(s)</legend>
@@ -46,13 +85,20 @@ export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: nu
               <input
                 type="checkbox"
                 checked={v.techniques.includes(t)}
-                onChange={(e) => setV({ ...v, techniques: e.target.checked ? [...v.techniques, t] : v.techniques.filter((x) => x !== t) })}
+                onChange={(e) =>
+                  setV({
+                    ...v,
+                    techniques: e.target.checked ? [...v.techniques, t] : v.techniques.filter((x) => x !== t),
+                  })
+                }
               />
               {TECHNIQUE_LABELS[t]}
             </label>
           ))}
         </div>
-        <p className="mt-1 text-sm text-muted">Identity method version 1 starts as a draft from the default for the first technique.</p>
+        <p className="mt-1 text-sm text-muted">
+          Identity method version 1 starts as a draft from the default for the first technique.
+        </p>
         {errors.techniques && (
           <p role="alert" className="text-sm text-fail">
             {errors.techniques}

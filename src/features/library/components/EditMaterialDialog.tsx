@@ -6,13 +6,28 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Textarea } from '../../../components/Field';
 import { useUpdateMaterial, type Material } from '../api';
 
-export function EditMaterialDialog({ open, material, onClose }: { open: boolean; material: Material; onClose: () => void }) {
+export function EditMaterialDialog({
+  open,
+  material,
+  onClose,
+}: {
+  open: boolean;
+  material: Material;
+  onClose: () => void;
+}) {
   const update = useUpdateMaterial();
   const [v, setV] = useState({ name: '', grade: '', monographRef: '', notes: '', active: true, reason: '' });
   const [problem, setProblem] = useState<string | null>(null);
   useEffect(() => {
     if (open) {
-      setV({ name: material.name, grade: material.grade, monographRef: material.monographRef, notes: material.notes ?? '', active: material.active, reason: '' });
+      setV({
+        name: material.name,
+        grade: material.grade,
+        monographRef: material.monographRef,
+        notes: material.notes ?? '',
+        active: material.active,
+        reason: '',
+      });
       setProblem(null);
       update.reset();
     }
@@ -22,7 +37,18 @@ export function EditMaterialDialog({ open, material, onClose }: { open: boolean;
     e.preventDefault();
     if (v.reason.trim().length < 3) return setProblem('Give a reason for the change (at least 3 characters).');
     setProblem(null);
-    update.mutate({ id: material.id, name: v.name.trim(), grade: v.grade.trim(), monographRef: v.monographRef.trim(), notes: v.notes.trim() || null, active: v.active, reason: v.reason.trim() }, { onSuccess: onClose });
+    update.mutate(
+      {
+        id: material.id,
+        name: v.name.trim(),
+        grade: v.grade.trim(),
+        monographRef: v.monographRef.trim(),
+        notes: v.notes.trim() || null,
+        active: v.active,
+        reason: v.reason.trim(),
+      },
+      { onSuccess: onClose },
+    );
   };
   return (
     <Dialog open={open} onClose={onClose} title={`Change ${material.code}`} busy={update.isPending}>
@@ -40,7 +66,8 @@ export function EditMaterialDialog({ open, material, onClose }: { open: boolean;
           <Textarea id="em-notes" value={v.notes} onChange={(e) => setV({ ...v, notes: e.target.value })} />
         </Field>
         <label className="inline-flex min-h-9 items-center gap-2 text-sm">
-          <input type="checkbox" checked={v.active} onChange={(e) => setV({ ...v, active: e.target.checked })} /> Active (inactive materials take no new references or lots)
+          <input type="checkbox" checked={v.active} onChange={(e) => setV({ ...v, active: e.target.checked })} /> Active
+          (inactive materials take no new references or lots)
         </label>
         <Field id="em-reason" label="Reason for the change">
           <Input id="em-reason" value={v.reason} onChange={(e) => setV({ ...v, reason: e.target.value })} />

@@ -13,7 +13,9 @@ function Dir({ d }: { d: DirectionScore | null }) {
         size="sm"
       />
       <span className="tabular-nums">r {formatScore(d.correlation)}</span>
-      {d.derivativeCorrelation !== null && <span className="tabular-nums">r′ {formatScore(d.derivativeCorrelation)}</span>}
+      {d.derivativeCorrelation !== null && (
+        <span className="tabular-nums">r′ {formatScore(d.derivativeCorrelation)}</span>
+      )}
       {d.bandsMatched && <span>bands {d.bandsMatched}</span>}
     </span>
   );
@@ -51,7 +53,11 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
             </thead>
             <tbody>
               {pairs.map((p) => (
-                <tr key={p.referenceId} className={`border-t border-line ${p.wouldPass ? 'bg-fail-soft/50' : ''}`} data-would-pass={p.wouldPass}>
+                <tr
+                  key={p.referenceId}
+                  className={`border-t border-line ${p.wouldPass ? 'bg-fail-soft/50' : ''}`}
+                  data-would-pass={p.wouldPass}
+                >
                   <td className="px-3 py-1.5">
                     <span className="font-medium">{p.materialCode}</span> {p.materialName}
                   </td>

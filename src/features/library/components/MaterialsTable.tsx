@@ -11,23 +11,40 @@ const columns = [
   col.accessor('name', { header: 'Name' }),
   col.accessor('grade', { header: 'Grade' }),
   col.accessor('monographRef', { header: 'Monograph' }),
-  col.accessor((m) => m.techniques.map((t) => TECHNIQUE_LABELS[t as keyof typeof TECHNIQUE_LABELS] ?? t).join(', '), { id: 'techniques', header: 'Technique' }),
-  col.accessor((m) => (m.approvedMethod ? `v${m.approvedMethod.version} approved` : m.draftMethodId ? 'draft only' : 'none'), {
-    id: 'method',
-    header: 'Identity method',
-    cell: (c) => <span className={c.row.original.approvedMethod ? '' : 'text-amber'}>{c.getValue()}</span>,
+  col.accessor((m) => m.techniques.map((t) => TECHNIQUE_LABELS[t as keyof typeof TECHNIQUE_LABELS] ?? t).join(', '), {
+    id: 'techniques',
+    header: 'Technique',
   }),
-  col.accessor((m) => m.references.approved, { id: 'approved', header: 'Approved references', meta: { align: 'right' } }),
+  col.accessor(
+    (m) => (m.approvedMethod ? `v${m.approvedMethod.version} approved` : m.draftMethodId ? 'draft only' : 'none'),
+    {
+      id: 'method',
+      header: 'Identity method',
+      cell: (c) => <span className={c.row.original.approvedMethod ? '' : 'text-amber'}>{c.getValue()}</span>,
+    },
+  ),
+  col.accessor((m) => m.references.approved, {
+    id: 'approved',
+    header: 'Approved references',
+    meta: { align: 'right' },
+  }),
   col.accessor((m) => m.references.draft, {
     id: 'drafts',
     header: 'Drafts',
     meta: { align: 'right' },
-    cell: (c) => (c.getValue() > 0 ? <span className="font-medium text-amber">{c.getValue()} awaiting approval</span> : '0'),
+    cell: (c) =>
+      c.getValue() > 0 ? <span className="font-medium text-amber">{c.getValue()} awaiting approval</span> : '0',
   }),
   col.accessor((m) => (m.active ? 'Active' : 'Inactive'), { id: 'active', header: 'Status' }),
 ];
 
-export function MaterialsTable({ materials, onOpen }: { materials: MaterialListItem[]; onOpen: (m: MaterialListItem) => void }) {
+export function MaterialsTable({
+  materials,
+  onOpen,
+}: {
+  materials: MaterialListItem[];
+  onOpen: (m: MaterialListItem) => void;
+}) {
   return (
     <DataTable
       data={materials}

@@ -16,10 +16,30 @@ const str = (v: number | null | undefined) => (v === null || v === undefined ? '
 const num = (s: string) => (s.trim() === '' ? NaN : Number(s.replace(',', '.')));
 const optNum = (s: string) => (s.trim() === '' ? null : Number(s.replace(',', '.')));
 
-function NumField({ id, label, value, onChange, hint, unit }: { id: string; label: string; value: string; onChange: (v: string) => void; hint?: ReactNode; unit?: string }) {
+function NumField({
+  id,
+  label,
+  value,
+  onChange,
+  hint,
+  unit,
+}: {
+  id: string;
+  label: string;
+  value: string;
+  onChange: (v: string) => void;
+  hint?: ReactNode;
+  unit?: string;
+}) {
   return (
     <Field id={id} label={unit ? `${label} (${unit})` : label} hint={hint}>
-      <Input id={id} inputMode="decimal" value={value} onChange={(e) => onChange(e.target.value)} className="tabular-nums" />
+      <Input
+        id={id}
+        inputMode="decimal"
+        value={value}
+        onChange={(e) => onChange(e.target.value)}
+        className="tabular-nums"
+      />
     </Field>
   );
 }
@@ -53,7 +73,9 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     changeNote: method.changeNote ?? '',
     reason: '',
   });
-  const [regions, setRegions] = useState<Region[]>(p.excludedRegions.map((r) => ({ from: str(r.from), to: str(r.to), label: r.label })));
+  const [regions, setRegions] = useState<Region[]>(
+    p.excludedRegions.map((r) => ({ from: str(r.from), to: str(r.to), label: r.label })),
+  );
   const [problems, setProblems] = useState<string[]>([]);
   const set = (k: keyof typeof f) => (v: string) => setF((x) => ({ ...x, [k]: v }));
 
@@ -67,13 +89,25 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
       baseline: f.baseline,
       normalisation: f.normalisation,
       smoothing: { windowSize: num(f.windowSize), polynomial: num(f.polynomial), derivative: num(f.derivative) },
-      thresholds: { minCorrelation: num(f.minCorrelation), minDerivativeCorrelation: optNum(f.minDerivativeCorrelation), maxMahalanobis: optNum(f.maxMahalanobis) },
-      bandTolerance: f.toleranceMode === 'absolute' ? { mode: 'absolute', cm1: num(f.toleranceValue) } : { mode: 'relative', percent: num(f.toleranceValue) },
+      thresholds: {
+        minCorrelation: num(f.minCorrelation),
+        minDerivativeCorrelation: optNum(f.minDerivativeCorrelation),
+        maxMahalanobis: optNum(f.maxMahalanobis),
+      },
+      bandTolerance:
+        f.toleranceMode === 'absolute'
+          ? { mode: 'absolute', cm1: num(f.toleranceValue) }
+          : { mode: 'relative', percent: num(f.toleranceValue) },
       widthTolerance: optNum(f.widthTolerance),
       peakProminence: optNum(f.peakProminence),
       maxExtraBandProminence: optNum(f.maxExtraBandProminence),
-      quality: { minMaxAbsorbance: num(f.minMaxAbsorbance), maxAbsorbance: num(f.maxAbsorbance), minSignalToNoise: num(f.minSignalToNoise) },
-      distanceModel: f.components.trim() === '' ? null : { components: num(f.components), minReferences: num(f.minReferences) },
+      quality: {
+        minMaxAbsorbance: num(f.minMaxAbsorbance),
+        maxAbsorbance: num(f.maxAbsorbance),
+        minSignalToNoise: num(f.minSignalToNoise),
+      },
+      distanceModel:
+        f.components.trim() === '' ? null : { components: num(f.components), minReferences: num(f.minReferences) },
     };
     const parsed = identityMethodSchema.safeParse(candidate);
     const out: string[] = [];
@@ -81,12 +115,20 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     if (f.reason.trim().length < 3) out.push('Give a reason for the change (at least 3 characters).');
     setProblems(out);
     if (out.length || !parsed.success) return;
-    update.mutate({ id: method.id, params: parsed.data as IdentityMethodParams, changeNote: f.changeNote, reason: f.reason.trim() }, { onSuccess: onDone });
+    update.mutate(
+      { id: method.id, params: parsed.data as IdentityMethodParams, changeNote: f.changeNote, reason: f.reason.trim() },
+      { onSuccess: onDone },
+    );
   };
 
   const id = (k: string) => `m${method.id}-${k}`;
   return (
-    <form onSubmit={submit} noValidate aria-label={`Edit method version ${method.version}`} className="flex flex-col gap-4">
+    <form
+      onSubmit={submit}
+      noValidate
+      aria-label={`Edit method version ${method.version}`}
+      className="flex flex-col gap-4"
+    >
       <fieldset className="grid gap-3 sm:grid-cols-3">
         <legend className="mb-1 text-sm font-semibold">Range and preparation</legend>
         <Field id={id('tech')} label="Technique">
@@ -114,7 +156,13 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
             <option value="vector">vector</option>
           </Select>
         </Field>
-        <NumField id={id('win')} label="Savitzky-Golay window" unit="points" value={f.windowSize} onChange={set('windowSize')} />
+        <NumField
+          id={id('win')}
+          label="Savitzky-Golay window"
+          unit="points"
+          value={f.windowSize}
+          onChange={set('windowSize')}
+        />
         <NumField id={id('poly')} label="Polynomial order" value={f.polynomial} onChange={set('polynomial')} />
         <Field id={id('der')} label="Derivative">
           <Select id={id('der')} value={f.derivative} onChange={(e) => set('derivative')(e.target.value)}>
@@ -129,13 +177,30 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
         {regions.map((r, i) => (
           <div key={i} className="flex flex-wrap items-end gap-2">
             <Field id={id(`rf${i}`)} label="From (cm⁻¹)">
-              <Input id={id(`rf${i}`)} inputMode="decimal" className="w-28" value={r.from} onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, from: e.target.value } : x)))} />
+              <Input
+                id={id(`rf${i}`)}
+                inputMode="decimal"
+                className="w-28"
+                value={r.from}
+                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, from: e.target.value } : x)))}
+              />
             </Field>
             <Field id={id(`rt${i}`)} label="To (cm⁻¹)">
-              <Input id={id(`rt${i}`)} inputMode="decimal" className="w-28" value={r.to} onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, to: e.target.value } : x)))} />
+              <Input
+                id={id(`rt${i}`)}
+                inputMode="decimal"
+                className="w-28"
+                value={r.to}
+                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, to: e.target.value } : x)))}
+              />
             </Field>
             <Field id={id(`rl${i}`)} label="Why">
-              <Input id={id(`rl${i}`)} className="w-56" value={r.label} onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, label: e.target.value } : x)))} />
+              <Input
+                id={id(`rl${i}`)}
+                className="w-56"
+                value={r.label}
+                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, label: e.target.value } : x)))}
+              />
             </Field>
             <Button variant="quiet" onClick={() => setRegions(regions.filter((_, j) => j !== i))}>
               Remove region
@@ -148,27 +213,95 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
       </fieldset>
       <fieldset className="grid gap-3 sm:grid-cols-3">
         <legend className="mb-1 text-sm font-semibold">Acceptance criteria</legend>
-        <NumField id={id('minr')} label="Minimum correlation" value={f.minCorrelation} onChange={set('minCorrelation')} />
-        <NumField id={id('mind')} label="Minimum first-derivative correlation" hint="Empty: not used" value={f.minDerivativeCorrelation} onChange={set('minDerivativeCorrelation')} />
-        <NumField id={id('maha')} label="Maximum Mahalanobis distance" hint="Empty: not used" value={f.maxMahalanobis} onChange={set('maxMahalanobis')} />
+        <NumField
+          id={id('minr')}
+          label="Minimum correlation"
+          value={f.minCorrelation}
+          onChange={set('minCorrelation')}
+        />
+        <NumField
+          id={id('mind')}
+          label="Minimum first-derivative correlation"
+          hint="Empty: not used"
+          value={f.minDerivativeCorrelation}
+          onChange={set('minDerivativeCorrelation')}
+        />
+        <NumField
+          id={id('maha')}
+          label="Maximum Mahalanobis distance"
+          hint="Empty: not used"
+          value={f.maxMahalanobis}
+          onChange={set('maxMahalanobis')}
+        />
         <Field id={id('tolm')} label="Band tolerance">
           <Select id={id('tolm')} value={f.toleranceMode} onChange={(e) => set('toleranceMode')(e.target.value)}>
             <option value="relative">% of the band position</option>
             <option value="absolute">cm⁻¹ everywhere</option>
           </Select>
         </Field>
-        <NumField id={id('tolv')} label={f.toleranceMode === 'absolute' ? 'Tolerance (cm⁻¹)' : 'Tolerance (%)'} value={f.toleranceValue} onChange={set('toleranceValue')} />
-        <NumField id={id('wt')} label="Width tolerance (fraction of band width)" hint="Empty: off" value={f.widthTolerance} onChange={set('widthTolerance')} />
-        <NumField id={id('pp')} label="Band picking: prominence (fraction of strongest)" hint="Empty: band concordance off" value={f.peakProminence} onChange={set('peakProminence')} />
-        <NumField id={id('xb')} label="Extra band limit (fraction of strongest)" hint="Empty: not used" value={f.maxExtraBandProminence} onChange={set('maxExtraBandProminence')} />
-        <NumField id={id('comp')} label="Distance model: components" hint="Empty: no distance model" value={f.components} onChange={set('components')} />
-        <NumField id={id('minref')} label="Distance model: minimum references" value={f.minReferences} onChange={set('minReferences')} />
+        <NumField
+          id={id('tolv')}
+          label={f.toleranceMode === 'absolute' ? 'Tolerance (cm⁻¹)' : 'Tolerance (%)'}
+          value={f.toleranceValue}
+          onChange={set('toleranceValue')}
+        />
+        <NumField
+          id={id('wt')}
+          label="Width tolerance (fraction of band width)"
+          hint="Empty: off"
+          value={f.widthTolerance}
+          onChange={set('widthTolerance')}
+        />
+        <NumField
+          id={id('pp')}
+          label="Band picking: prominence (fraction of strongest)"
+          hint="Empty: band concordance off"
+          value={f.peakProminence}
+          onChange={set('peakProminence')}
+        />
+        <NumField
+          id={id('xb')}
+          label="Extra band limit (fraction of strongest)"
+          hint="Empty: not used"
+          value={f.maxExtraBandProminence}
+          onChange={set('maxExtraBandProminence')}
+        />
+        <NumField
+          id={id('comp')}
+          label="Distance model: components"
+          hint="Empty: no distance model"
+          value={f.components}
+          onChange={set('components')}
+        />
+        <NumField
+          id={id('minref')}
+          label="Distance model: minimum references"
+          value={f.minReferences}
+          onChange={set('minReferences')}
+        />
       </fieldset>
       <fieldset className="grid gap-3 sm:grid-cols-3">
         <legend className="mb-1 text-sm font-semibold">Measurement quality</legend>
-        <NumField id={id('qmin')} label="Minimum band height" unit="absorbance" value={f.minMaxAbsorbance} onChange={set('minMaxAbsorbance')} />
-        <NumField id={id('qmax')} label="Saturation above" unit="absorbance" value={f.maxAbsorbance} onChange={set('maxAbsorbance')} />
-        <NumField id={id('qsnr')} label="Minimum signal-to-noise" value={f.minSignalToNoise} onChange={set('minSignalToNoise')} />
+        <NumField
+          id={id('qmin')}
+          label="Minimum band height"
+          unit="absorbance"
+          value={f.minMaxAbsorbance}
+          onChange={set('minMaxAbsorbance')}
+        />
+        <NumField
+          id={id('qmax')}
+          label="Saturation above"
+          unit="absorbance"
+          value={f.maxAbsorbance}
+          onChange={set('maxAbsorbance')}
+        />
+        <NumField
+          id={id('qsnr')}
+          label="Minimum signal-to-noise"
+          value={f.minSignalToNoise}
+          onChange={set('minSignalToNoise')}
+        />
       </fieldset>
       <Field id={id('note')} label="Change note (kept with this version)">
         <Textarea id={id('note')} value={f.changeNote} onChange={(e) => set('changeNote')(e.target.value)} />

@@ -18,16 +18,29 @@ export interface Signer {
 
 function summary(m: MethodVersion): [string, string][] {
   const p = m.params;
-  const tol = p.bandTolerance.mode === 'absolute' ? `±${p.bandTolerance.cm1} cm⁻¹` : `±${p.bandTolerance.percent} % of the position`;
+  const tol =
+    p.bandTolerance.mode === 'absolute'
+      ? `±${p.bandTolerance.cm1} cm⁻¹`
+      : `±${p.bandTolerance.percent} % of the position`;
   return [
     ['Technique', TECHNIQUE_LABELS[p.technique] ?? p.technique],
     ['Range', `${p.range.to}–${p.range.from} cm⁻¹, grid ${p.gridStep} cm⁻¹`],
-    ['Excluded', p.excludedRegions.length ? p.excludedRegions.map((r) => `${r.to}–${r.from} cm⁻¹ (${r.label})`).join('; ') : 'none'],
-    ['Preparation', `baseline ${p.baseline}, normalisation ${p.normalisation}, Savitzky-Golay ${p.smoothing.windowSize} points, order ${p.smoothing.polynomial}, derivative ${p.smoothing.derivative}`],
+    [
+      'Excluded',
+      p.excludedRegions.length
+        ? p.excludedRegions.map((r) => `${r.to}–${r.from} cm⁻¹ (${r.label})`).join('; ')
+        : 'none',
+    ],
+    [
+      'Preparation',
+      `baseline ${p.baseline}, normalisation ${p.normalisation}, Savitzky-Golay ${p.smoothing.windowSize} points, order ${p.smoothing.polynomial}, derivative ${p.smoothing.derivative}`,
+    ],
     [
       'Criteria',
       `correlation ≥ ${formatScore(p.thresholds.minCorrelation)}` +
-        (p.thresholds.minDerivativeCorrelation !== null ? `, first-derivative correlation ≥ ${formatScore(p.thresholds.minDerivativeCorrelation)}` : '') +
+        (p.thresholds.minDerivativeCorrelation !== null
+          ? `, first-derivative correlation ≥ ${formatScore(p.thresholds.minDerivativeCorrelation)}`
+          : '') +
         (p.thresholds.maxMahalanobis !== null ? `, Mahalanobis distance ≤ ${p.thresholds.maxMahalanobis}` : ''),
     ],
     [
@@ -35,9 +48,14 @@ function summary(m: MethodVersion): [string, string][] {
       p.peakProminence === null
         ? 'band concordance off'
         : `bands of at least ${Math.round(p.peakProminence * 100)} % of the strongest, tolerance ${tol}` +
-          (p.maxExtraBandProminence !== null ? `; an extra band of ${Math.round(p.maxExtraBandProminence * 100)} % or more fails` : ''),
+          (p.maxExtraBandProminence !== null
+            ? `; an extra band of ${Math.round(p.maxExtraBandProminence * 100)} % or more fails`
+            : ''),
     ],
-    ['Quality', `band height ≥ ${p.quality.minMaxAbsorbance}, absorbance ≤ ${p.quality.maxAbsorbance}, signal-to-noise ≥ ${p.quality.minSignalToNoise}`],
+    [
+      'Quality',
+      `band height ≥ ${p.quality.minMaxAbsorbance}, absorbance ≤ ${p.quality.maxAbsorbance}, signal-to-noise ≥ ${p.quality.minSignalToNoise}`,
+    ],
   ];
 }
 
@@ -47,7 +65,11 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
   const approve = useApproveMethod();
   const newVersion = useNewMethodVersion();
   return (
-    <article className="rounded-md border border-line bg-white p-4" aria-label={`Method version ${m.version}`} data-testid={`method-v${m.version}`}>
+    <article
+      className="rounded-md border border-line bg-white p-4"
+      aria-label={`Method version ${m.version}`}
+      data-testid={`method-v${m.version}`}
+    >
       <header className="flex flex-wrap items-center gap-3">
         <h3 className="text-base font-semibold">Version {m.version}</h3>
         <StatusBadge status={m.status} />
@@ -70,7 +92,10 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
         )}
         {canWrite && m.status === 'approved' && (
           <span className="ml-auto">
-            <Button busy={newVersion.isPending} onClick={() => newVersion.mutate({ id: m.id, changeNote: `Based on version ${m.version}.` })}>
+            <Button
+              busy={newVersion.isPending}
+              onClick={() => newVersion.mutate({ id: m.id, changeNote: `Based on version ${m.version}.` })}
+            >
               Start a new draft version
             </Button>
           </span>
@@ -116,7 +141,15 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
   );
 }
 
-export function MethodVersions({ methods, canWrite, signer }: { methods: MethodVersion[]; canWrite: boolean; signer: Signer }) {
+export function MethodVersions({
+  methods,
+  canWrite,
+  signer,
+}: {
+  methods: MethodVersion[];
+  canWrite: boolean;
+  signer: Signer;
+}) {
   if (methods.length === 0) return <p className="text-sm text-muted">No identity method yet.</p>;
   return (
     <div className="flex flex-col gap-3">

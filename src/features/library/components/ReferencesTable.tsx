@@ -7,20 +7,38 @@ import { StatusBadge } from './StatusBadge';
 
 const col = createColumnHelper<ReferenceListItem>();
 
-export function ReferencesTable({ references, onOpen, showMaterial = false, label = 'Reference spectra' }: { references: ReferenceListItem[]; onOpen: (r: ReferenceListItem) => void; showMaterial?: boolean; label?: string }) {
+export function ReferencesTable({
+  references,
+  onOpen,
+  showMaterial = false,
+  label = 'Reference spectra',
+}: {
+  references: ReferenceListItem[];
+  onOpen: (r: ReferenceListItem) => void;
+  showMaterial?: boolean;
+  label?: string;
+}) {
   const columns = [
     col.accessor('code', { header: 'Reference', cell: (c) => <span className="font-medium">{c.getValue()}</span> }),
-    ...(showMaterial ? [col.accessor((r) => `${r.materialCode ?? ''} ${r.materialName ?? ''}`, { id: 'material', header: 'Material' })] : []),
+    ...(showMaterial
+      ? [col.accessor((r) => `${r.materialCode ?? ''} ${r.materialName ?? ''}`, { id: 'material', header: 'Material' })]
+      : []),
     col.accessor('status', { header: 'Status', cell: (c) => <StatusBadge status={c.getValue()} /> }),
     col.accessor('supplier', { header: 'Supplier' }),
     col.accessor('supplierLot', { header: 'Supplier lot' }),
     col.accessor('bandCount', { header: 'Bands', meta: { align: 'right' } }),
     col.accessor((r) => r.uploadedByName ?? '', { id: 'uploadedBy', header: 'Uploaded by' }),
     col.accessor('createdAt', { header: 'Uploaded', cell: (c) => <DateTime value={c.getValue()} /> }),
-    col.accessor((r) => (r.approvedBy ? `${r.approvedBy.printedName}${r.approvedBy.meaning === 'approved-with-justification' ? ' (with justification)' : ''}` : ''), {
-      id: 'approvedBy',
-      header: 'Approved by',
-    }),
+    col.accessor(
+      (r) =>
+        r.approvedBy
+          ? `${r.approvedBy.printedName}${r.approvedBy.meaning === 'approved-with-justification' ? ' (with justification)' : ''}`
+          : '',
+      {
+        id: 'approvedBy',
+        header: 'Approved by',
+      },
+    ),
   ];
   return (
     <DataTable

@@ -4,7 +4,21 @@ import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useRetireReference } from '../api';
 
-export function RetireReferenceDialog({ open, referenceId, code, printedName, needsUsername, onClose }: { open: boolean; referenceId: number; code: string; printedName: string; needsUsername: boolean; onClose: () => void }) {
+export function RetireReferenceDialog({
+  open,
+  referenceId,
+  code,
+  printedName,
+  needsUsername,
+  onClose,
+}: {
+  open: boolean;
+  referenceId: number;
+  code: string;
+  printedName: string;
+  needsUsername: boolean;
+  onClose: () => void;
+}) {
   const retire = useRetireReference();
   const [reason, setReason] = useState('');
   const [problem, setProblem] = useState<string | null>(null);

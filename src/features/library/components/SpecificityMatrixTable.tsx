@@ -12,13 +12,28 @@ const STATE: Record<MatrixCell['state'], { word: string; icon: string; cls: stri
   distinct: { word: 'distinct', icon: '✓', cls: 'text-ink' },
   'not-comparable': { word: 'not comparable', icon: '–', cls: 'text-muted' },
   self: { word: 'same material: consistent', icon: '=', cls: 'bg-paper text-muted' },
-  'self-inconsistent': { word: 'same material: a reference fails the others', icon: '!', cls: 'bg-amber-soft text-amber' },
+  'self-inconsistent': {
+    word: 'same material: a reference fails the others',
+    icon: '!',
+    cls: 'bg-amber-soft text-amber',
+  },
   single: { word: 'same material (one reference)', icon: '=', cls: 'bg-paper text-muted' },
 };
 
-export function SpecificityMatrixTable({ matrix, focusMaterialId }: { matrix: SpecificityMatrix; focusMaterialId?: number }) {
+export function SpecificityMatrixTable({
+  matrix,
+  focusMaterialId,
+}: {
+  matrix: SpecificityMatrix;
+  focusMaterialId?: number;
+}) {
   const mats = matrix.materials;
-  if (mats.length === 0) return <p className="text-sm text-muted">No material of this technique has an approved method and approved references yet.</p>;
+  if (mats.length === 0)
+    return (
+      <p className="text-sm text-muted">
+        No material of this technique has an approved method and approved references yet.
+      </p>
+    );
   const rows = focusMaterialId ? mats.filter((m) => m.id === focusMaterialId) : mats;
   const cols = mats;
   const cell = (r: number, c: number) => matrix.cells.find((x) => x.rowMaterialId === r && x.columnMaterialId === c);
@@ -49,10 +64,20 @@ export function SpecificityMatrixTable({ matrix, focusMaterialId }: { matrix: Sp
                 </th>
                 {cols.map((c) => {
                   const x = cell(r.id, c.id);
-                  if (!x) return <td key={c.id} className="px-3 py-2 text-muted">—</td>;
+                  if (!x)
+                    return (
+                      <td key={c.id} className="px-3 py-2 text-muted">
+                        —
+                      </td>
+                    );
                   const s = STATE[x.state];
                   return (
-                    <td key={c.id} className={`px-3 py-2 align-top ${s.cls}`} data-state={x.state} data-testid={`cell-${r.code}-${c.code}`}>
+                    <td
+                      key={c.id}
+                      className={`px-3 py-2 align-top ${s.cls}`}
+                      data-state={x.state}
+                      data-testid={`cell-${r.code}-${c.code}`}
+                    >
                       <div>{x.correlation === null ? '—' : formatScore(x.correlation)}</div>
                       <div className="text-xs whitespace-nowrap">
                         <span aria-hidden>{s.icon} </span>
@@ -68,9 +93,12 @@ export function SpecificityMatrixTable({ matrix, focusMaterialId }: { matrix: Sp
         </table>
       </div>
       <p className="text-xs text-muted">
-        Numbers: highest correlation of a column material's approved reference against the row material's references, under the row material's method. “Would pass”: at least one
-        spectrum of the column material passes every criterion of the row material's identity test, so that test does not tell the two apart.
-        {matrix.notDiscriminated.length === 0 ? ' Every pair is told apart.' : ` ${matrix.notDiscriminated.length} ordered pair(s) are not told apart.`}
+        Numbers: highest correlation of a column material's approved reference against the row material's references,
+        under the row material's method. “Would pass”: at least one spectrum of the column material passes every
+        criterion of the row material's identity test, so that test does not tell the two apart.
+        {matrix.notDiscriminated.length === 0
+          ? ' Every pair is told apart.'
+          : ` ${matrix.notDiscriminated.length} ordered pair(s) are not told apart.`}
       </p>
     </div>
   );

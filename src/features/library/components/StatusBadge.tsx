@@ -9,7 +9,10 @@ const STYLE: Record<string, { cls: string; word: string; icon: string }> = {
 export function StatusBadge({ status }: { status: string }) {
   const s = STYLE[status] ?? { cls: 'border-line bg-white text-ink', word: status, icon: '•' };
   return (
-    <span className={`inline-flex items-center gap-1 rounded border px-1.5 py-0.5 text-xs font-medium whitespace-nowrap ${s.cls}`} data-status={status}>
+    <span
+      className={`inline-flex items-center gap-1 rounded border px-1.5 py-0.5 text-xs font-medium whitespace-nowrap ${s.cls}`}
+      data-status={status}
+    >
       <span aria-hidden>{s.icon}</span>
       {s.word}
     </span>

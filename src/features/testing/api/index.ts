@@ -63,8 +63,16 @@ export interface LotDetail extends LotSummary {
   containers: LotContainer[];
   tests: LotTestSummary[];
   currentTestId: number | null;
-  investigations: { id: number; number: string; status: string; decision: string | null; openedAt: string; closedAt: string | null }[];
-  certificate: { state: 'issued'; id: number; number: string; issuedAt: string } | { state: 'pending' } | { state: 'none' };
+  investigations: {
+    id: number;
+    number: string;
+    status: string;
+    decision: string | null;
+    openedAt: string;
+    closedAt: string | null;
+  }[];
+  certificate:
+    { state: 'issued'; id: number; number: string; issuedAt: string } | { state: 'pending' } | { state: 'none' };
 }
 
 export type TestStatus = 'in-progress' | 'awaiting-verification' | 'verified' | 'returned';
@@ -89,7 +97,14 @@ export interface MeasurementSummary {
 
 export interface TestDetail {
   id: number;
-  lot: { id: number; lotNumber: string; material: LotSummary['material']; status: string; identityStatus: string; containerCount: number };
+  lot: {
+    id: number;
+    lotNumber: string;
+    material: LotSummary['material'];
+    status: string;
+    identityStatus: string;
+    containerCount: number;
+  };
   attempt: number;
   status: TestStatus;
   statusLabel: string;
@@ -104,7 +119,14 @@ export interface TestDetail {
   signatures: Signature[];
   readiness: { ready: boolean; missing: string[]; invalid: string[]; measured: number; inScope: number };
   measurerIds: number[];
-  containers: { id: number; seq: number; label: string; inScope: boolean; latest: MeasurementSummary | null; measurements: MeasurementSummary[] }[];
+  containers: {
+    id: number;
+    seq: number;
+    label: string;
+    inScope: boolean;
+    latest: MeasurementSummary | null;
+    measurements: MeasurementSummary[];
+  }[];
 }
 
 export interface Criterion {
@@ -148,26 +170,60 @@ export interface StoredResult {
   explanation: string[];
   libraryHint: HintEntry[] | null;
   libraryHintText: string | null;
-  sampleMeta: { title: string; format: string; originalXUnits: string; originalYUnits: string; points: number; warnings: string[] };
+  sampleMeta: {
+    title: string;
+    format: string;
+    originalXUnits: string;
+    originalYUnits: string;
+    points: number;
+    warnings: string[];
+  };
 }
 
 export interface MeasurementDetail extends MeasurementSummary {
   result: StoredResult | null;
   method: { id: number; version: number; technique: string; status: string } | null;
-  references: { id: number; code: string; status: string; approvedAt: string | null; material: { code: string; name: string } }[];
+  references: {
+    id: number;
+    code: string;
+    status: string;
+    approvedAt: string | null;
+    material: { code: string; name: string };
+  }[];
   instrument: { id: number; name: string; serialNumber: string } | null;
-  instrumentCheck: { id: number; specId: number; verdict: 'pass' | 'fail'; performedAt: string; validUntil: string | null; engineVersion: string } | null;
+  instrumentCheck: {
+    id: number;
+    specId: number;
+    verdict: 'pass' | 'fail';
+    performedAt: string;
+    validUntil: string | null;
+    engineVersion: string;
+  } | null;
 }
 
 export interface MeasurementPlotData {
   measurementId: number;
   raw: { x: number[]; y: number[]; yKind: string; title: string };
-  overlay: { x: number[]; sample: (number | null)[]; reference: (number | null)[]; difference: (number | null)[]; referenceCode: string } | null;
+  overlay: {
+    x: number[];
+    sample: (number | null)[];
+    reference: (number | null)[];
+    difference: (number | null)[];
+    referenceCode: string;
+  } | null;
   excludedRegions: { from: number; to: number; label: string }[];
 }
 
 export interface InstrumentStatus {
-  instrument: { id: number; name: string; serialNumber: string; technique: string; sampling: string; location: string; active: boolean };
+  instrument: {
+    id: number;
+    name: string;
+    serialNumber: string;
+    technique: string;
+    sampling: string;
+    location: string;
+    active: boolean;
+  };
   check: { id: number; verdict: 'pass' | 'fail'; performedAt: string; validUntil: string | null } | null;
   usable: boolean;
   reason: string | null;
@@ -211,7 +267,13 @@ export interface QueueTest {
 }
 
 export interface WorkQueue {
-  sections: { key: string; title: string; roles: string[]; count: number; items: { id: number; title: string; detail: string; href: string }[] }[];
+  sections: {
+    key: string;
+    title: string;
+    roles: string[];
+    count: number;
+    items: { id: number; title: string; detail: string; href: string }[];
+  }[];
 }
 
 export type SignatureBody = { username?: string; password: string };
@@ -229,18 +291,35 @@ const K = {
   workQueue: ['work-queue'] as const,
 };
 
-export const useReceivableMaterials = () => useQuery({ queryKey: K.receivable, queryFn: () => apiFetch<ReceivableMaterial[]>('/api/lots/receivable-materials') });
+export const useReceivableMaterials = () =>
+  useQuery({ queryKey: K.receivable, queryFn: () => apiFetch<ReceivableMaterial[]>('/api/lots/receivable-materials') });
 export const useLots = (f: { identityStatus?: string; search?: string } = {}) =>
   useQuery({ queryKey: [...K.lots, f], queryFn: () => apiFetch<LotSummary[]>('/api/lots', { query: f }) });
-export const useLot = (id: number) => useQuery({ queryKey: K.lot(id), queryFn: () => apiFetch<LotDetail>(`/api/lots/${id}`), enabled: id > 0 });
-export const useTestingInstruments = () => useQuery({ queryKey: K.instruments, queryFn: () => apiFetch<InstrumentStatus[]>('/api/testing/instruments') });
-export const useTest = (id: number | null) => useQuery({ queryKey: K.test(id ?? 0), queryFn: () => apiFetch<TestDetail>(`/api/tests/${id}`), enabled: !!id });
-export const useReview = (id: number) => useQuery({ queryKey: K.review(id), queryFn: () => apiFetch<ReviewData>(`/api/tests/${id}/review`) });
-export const useMeasurement = (id: number | null) => useQuery({ queryKey: K.measurement(id ?? 0), queryFn: () => apiFetch<MeasurementDetail>(`/api/measurements/${id}`), enabled: !!id });
+export const useLot = (id: number) =>
+  useQuery({ queryKey: K.lot(id), queryFn: () => apiFetch<LotDetail>(`/api/lots/${id}`), enabled: id > 0 });
+export const useTestingInstruments = () =>
+  useQuery({ queryKey: K.instruments, queryFn: () => apiFetch<InstrumentStatus[]>('/api/testing/instruments') });
+export const useTest = (id: number | null) =>
+  useQuery({ queryKey: K.test(id ?? 0), queryFn: () => apiFetch<TestDetail>(`/api/tests/${id}`), enabled: !!id });
+export const useReview = (id: number) =>
+  useQuery({ queryKey: K.review(id), queryFn: () => apiFetch<ReviewData>(`/api/tests/${id}/review`) });
+export const useMeasurement = (id: number | null) =>
+  useQuery({
+    queryKey: K.measurement(id ?? 0),
+    queryFn: () => apiFetch<MeasurementDetail>(`/api/measurements/${id}`),
+    enabled: !!id,
+  });
 export const useMeasurementPlot = (id: number | null) =>
-  useQuery({ queryKey: K.plot(id ?? 0), queryFn: () => apiFetch<MeasurementPlotData>(`/api/measurements/${id}/plot`), enabled: !!id, staleTime: Infinity });
-export const useVerificationQueue = () => useQuery({ queryKey: K.queue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
-export const useWorkQueue = () => useQuery({ queryKey: K.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
+  useQuery({
+    queryKey: K.plot(id ?? 0),
+    queryFn: () => apiFetch<MeasurementPlotData>(`/api/measurements/${id}/plot`),
+    enabled: !!id,
+    staleTime: Infinity,
+  });
+export const useVerificationQueue = () =>
+  useQuery({ queryKey: K.queue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
+export const useWorkQueue = () =>
+  useQuery({ queryKey: K.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
 
 export const labelsPdfUrl = (lotId: number) => downloadUrl(`/api/lots/${lotId}/labels.pdf`);
 export const rawFileUrl = (measurementId: number) => downloadUrl(`/api/measurements/${measurementId}/file`);
@@ -269,7 +348,8 @@ function useLotRefresh() {
 export function useStartTest(lotId: number) {
   const refresh = useLotRefresh();
   return useMutation({
-    mutationFn: (instrumentId: number) => apiFetch<{ id: number; attempt: number }>(`/api/lots/${lotId}/tests`, { method: 'POST', body: { instrumentId } }),
+    mutationFn: (instrumentId: number) =>
+      apiFetch<{ id: number; attempt: number }>(`/api/lots/${lotId}/tests`, { method: 'POST', body: { instrumentId } }),
     onSuccess: (t) => refresh(lotId, t.id),
   });
 }
@@ -277,17 +357,26 @@ export function useStartTest(lotId: number) {
 export function useSwitchInstrument(lotId: number, testId: number) {
   const refresh = useLotRefresh();
   return useMutation({
-    mutationFn: (instrumentId: number) => apiFetch<TestDetail>(`/api/tests/${testId}/instrument`, { method: 'PUT', body: { instrumentId } }),
+    mutationFn: (instrumentId: number) =>
+      apiFetch<TestDetail>(`/api/tests/${testId}/instrument`, { method: 'PUT', body: { instrumentId } }),
     onSuccess: () => refresh(lotId, testId),
   });
 }
 
 export function useMatchFiles(testId: number) {
-  return useMutation({ mutationFn: (fileNames: string[]) => apiFetch<MatchRow[]>(`/api/tests/${testId}/match-files`, { method: 'POST', body: { fileNames } }) });
+  return useMutation({
+    mutationFn: (fileNames: string[]) =>
+      apiFetch<MatchRow[]>(`/api/tests/${testId}/match-files`, { method: 'POST', body: { fileNames } }),
+  });
 }
 
 /** Uploads the spectrum of one container, with progress; rejects with the server's sentence. */
-export function uploadMeasurement(testId: number, target: { containerId?: number; label?: string }, file: File, onProgress?: (p: UploadProgress) => void) {
+export function uploadMeasurement(
+  testId: number,
+  target: { containerId?: number; label?: string },
+  file: File,
+  onProgress?: (p: UploadProgress) => void,
+) {
   const fd = new FormData();
   if (target.containerId) fd.append('containerId', String(target.containerId));
   if (target.label) fd.append('label', target.label);
@@ -305,7 +394,8 @@ export function usePerform(lotId: number, testId: number) {
   const qc = useQueryClient();
   const refresh = useLotRefresh();
   return useMutation({
-    mutationFn: (signature: SignatureBody) => apiFetch<TestDetail>(`/api/tests/${testId}/perform`, { method: 'POST', body: { signature } }),
+    mutationFn: (signature: SignatureBody) =>
+      apiFetch<TestDetail>(`/api/tests/${testId}/perform`, { method: 'POST', body: { signature } }),
     onSuccess: () => {
       refresh(lotId, testId);
       void invalidateMe(qc);
@@ -329,7 +419,11 @@ export function useVerify(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
     mutationFn: (body: { signature: SignatureBody; comment?: string }) =>
-      apiFetch<{ outcome: 'passed' | 'failed'; investigation: { id: number; number: string } | null; certificate: 'issued' | 'pending' | null }>(`/api/tests/${testId}/verify`, {
+      apiFetch<{
+        outcome: 'passed' | 'failed';
+        investigation: { id: number; number: string } | null;
+        certificate: 'issued' | 'pending' | null;
+      }>(`/api/tests/${testId}/verify`, {
         method: 'POST',
         body,
       }),
@@ -340,7 +434,8 @@ export function useVerify(testId: number) {
 export function useReturnTest(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
-    mutationFn: (body: { signature: SignatureBody; reason: string }) => apiFetch<TestDetail>(`/api/tests/${testId}/return`, { method: 'POST', body }),
+    mutationFn: (body: { signature: SignatureBody; reason: string }) =>
+      apiFetch<TestDetail>(`/api/tests/${testId}/return`, { method: 'POST', body }),
     onSuccess: done,
   });
 }

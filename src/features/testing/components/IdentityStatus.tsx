@@ -10,9 +10,18 @@ export function IdentityStatusBadge({ status }: { status: string }) {
 }
 
 export function LotStatusText({ status }: { status: string }) {
-  const text = status === 'quarantine' ? 'Quarantine' : status === 'rejected' ? 'Rejected' : status === 'released' ? 'Released' : status;
+  const text =
+    status === 'quarantine'
+      ? 'Quarantine'
+      : status === 'rejected'
+        ? 'Rejected'
+        : status === 'released'
+          ? 'Released'
+          : status;
   return (
-    <span className={`inline-flex items-center rounded-md border px-2 py-0.5 text-sm font-medium ${status === 'rejected' ? 'border-fail/40 text-fail' : 'border-amber/50 text-amber-ink'}`}>
+    <span
+      className={`inline-flex items-center rounded-md border px-2 py-0.5 text-sm font-medium ${status === 'rejected' ? 'border-fail/40 text-fail' : 'border-amber/50 text-amber-ink'}`}
+    >
       {text}
     </span>
   );

@@ -5,7 +5,19 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Select } from '../../../components/Field';
 import { useTestingInstruments } from '../api';
 
-export function InstrumentPicker({ current, actionLabel, onPick, busy, error }: { current?: number | null; actionLabel: string; onPick: (id: number) => void; busy?: boolean; error?: unknown }) {
+export function InstrumentPicker({
+  current,
+  actionLabel,
+  onPick,
+  busy,
+  error,
+}: {
+  current?: number | null;
+  actionLabel: string;
+  onPick: (id: number) => void;
+  busy?: boolean;
+  error?: unknown;
+}) {
   const list = useTestingInstruments();
   const [chosen, setChosen] = useState<string>(current ? String(current) : '');
   if (list.isPending) return <p className="text-sm text-muted">Loading instruments…</p>;
@@ -26,7 +38,13 @@ export function InstrumentPicker({ current, actionLabel, onPick, busy, error }: 
             ))}
           </Select>
         </Field>
-        <Button size="bench" variant="primary" disabled={!selected?.usable} busy={busy} onClick={() => selected && onPick(selected.instrument.id)}>
+        <Button
+          size="bench"
+          variant="primary"
+          disabled={!selected?.usable}
+          busy={busy}
+          onClick={() => selected && onPick(selected.instrument.id)}
+        >
           {actionLabel}
         </Button>
       </div>

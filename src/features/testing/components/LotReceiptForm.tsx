@@ -13,7 +13,14 @@ const today = () => formatDate(new Date());
 export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) => void; onCancel: () => void }) {
   const materials = useReceivableMaterials();
   const receive = useReceiveLot();
-  const [v, setV] = useState({ materialId: '', supplier: '', supplierLot: '', containerCount: '', receivedDate: today(), notes: '' });
+  const [v, setV] = useState({
+    materialId: '',
+    supplier: '',
+    supplierLot: '',
+    containerCount: '',
+    receivedDate: today(),
+    notes: '',
+  });
   const [errors, setErrors] = useState<Record<string, string>>({});
   const set = (k: keyof typeof v) => (e: { target: { value: string } }) => setV({ ...v, [k]: e.target.value });
 
@@ -29,7 +36,9 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
     });
     if (!parsed.success) {
       const out: Record<string, string> = {};
-      for (const i of parsed.error.issues) out[String(i.path[0])] ??= i.path[0] === 'containerCount' && v.containerCount === '' ? 'Give the number of containers.' : i.message;
+      for (const i of parsed.error.issues)
+        out[String(i.path[0])] ??=
+          i.path[0] === 'containerCount' && v.containerCount === '' ? 'Give the number of containers.' : i.message;
       return setErrors(out);
     }
     setErrors({});
@@ -40,12 +49,29 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
   const none = materials.data && materials.data.length === 0;
   return (
     <form onSubmit={submit} noValidate className="grid gap-4 md:grid-cols-2" aria-label="Register a received lot">
-      <Field id="lot-material" label="Material grade" error={errors.materialId} hint={none ? 'No grade has an approved identity method and reference yet; QA must approve one first.' : 'Only grades with an approved identity method and reference spectrum.'} className="md:col-span-2">
-        <Select id="lot-material" bench value={v.materialId} onChange={set('materialId')} disabled={!materials.data || none}>
+      <Field
+        id="lot-material"
+        label="Material grade"
+        error={errors.materialId}
+        hint={
+          none
+            ? 'No grade has an approved identity method and reference yet; QA must approve one first.'
+            : 'Only grades with an approved identity method and reference spectrum.'
+        }
+        className="md:col-span-2"
+      >
+        <Select
+          id="lot-material"
+          bench
+          value={v.materialId}
+          onChange={set('materialId')}
+          disabled={!materials.data || none}
+        >
           <option value="">{materials.isPending ? 'Loading…' : 'Choose the material grade'}</option>
           {materials.data?.map((m) => (
             <option key={m.id} value={m.id}>
-              {m.name} ({m.code}{m.grade ? `, ${m.grade}` : ''}) · method v{m.methodVersion}
+              {m.name} ({m.code}
+              {m.grade ? `, ${m.grade}` : ''}) · method v{m.methodVersion}
             </option>
           ))}
         </Select>
@@ -56,14 +82,24 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
       <Field id="lot-supplier-lot" label="Supplier's lot number" error={errors.supplierLot}>
         <Input id="lot-supplier-lot" bench value={v.supplierLot} onChange={set('supplierLot')} autoComplete="off" />
       </Field>
-      <Field id="lot-count" label="Number of containers" error={errors.containerCount} hint={`1 to ${MAX_CONTAINERS}; every container gets a label and is tested.`}>
+      <Field
+        id="lot-count"
+        label="Number of containers"
+        error={errors.containerCount}
+        hint={`1 to ${MAX_CONTAINERS}; every container gets a label and is tested.`}
+      >
         <Input id="lot-count" bench inputMode="numeric" value={v.containerCount} onChange={set('containerCount')} />
       </Field>
       <Field id="lot-date" label="Received on" error={errors.receivedDate}>
         <Input id="lot-date" bench type="date" max={today()} value={v.receivedDate} onChange={set('receivedDate')} />
       </Field>
       <Field id="lot-notes" label="Notes (optional)" className="md:col-span-2">
-        <Textarea id="lot-notes" value={v.notes} onChange={set('notes')} placeholder="e.g. seals intact, one drum dented" />
+        <Textarea
+          id="lot-notes"
+          value={v.notes}
+          onChange={set('notes')}
+          placeholder="e.g. seals intact, one drum dented"
+        />
       </Field>
       {receive.isError && <ErrorNote error={receive.error} className="md:col-span-2" />}
       <div className="flex flex-wrap gap-2 md:col-span-2">

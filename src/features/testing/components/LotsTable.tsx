@@ -6,14 +6,27 @@ import type { LotSummary } from '../api';
 import { IdentityStatusBadge, LotStatusText } from './IdentityStatus';
 
 const columns: ColumnDef<LotSummary, unknown>[] = [
-  { header: 'Lot', accessorKey: 'lotNumber', cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span> },
+  {
+    header: 'Lot',
+    accessorKey: 'lotNumber',
+    cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span>,
+  },
   { header: 'Material', accessorFn: (l) => `${l.material.name} (${l.material.code})` },
   { header: 'Supplier lot', accessorFn: (l) => `${l.supplier} · ${l.supplierLot}` },
   { header: 'Containers', accessorKey: 'containerCount', meta: { align: 'right' } },
   { header: 'Received', accessorKey: 'receivedDate' },
   { header: 'Storage', accessorKey: 'status', cell: (c) => <LotStatusText status={c.getValue() as string} /> },
-  { header: 'Identity', accessorKey: 'identityStatus', cell: (c) => <IdentityStatusBadge status={c.getValue() as string} /> },
-  { header: 'Registered', accessorKey: 'createdAt', cell: (c) => <DateTime value={c.getValue() as string} />, enableColumnFilter: false },
+  {
+    header: 'Identity',
+    accessorKey: 'identityStatus',
+    cell: (c) => <IdentityStatusBadge status={c.getValue() as string} />,
+  },
+  {
+    header: 'Registered',
+    accessorKey: 'createdAt',
+    cell: (c) => <DateTime value={c.getValue() as string} />,
+    enableColumnFilter: false,
+  },
 ];
 
 export function LotsTable({ lots, onOpen }: { lots: LotSummary[]; onOpen: (l: LotSummary) => void }) {

@@ -9,7 +9,14 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { SpectrumPlot, type PlotBand } from '../../../components/SpectrumPlot';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore, formatShift, formatWavenumber } from '../../../lib/format';
-import { rawFileUrl, useMeasurement, useMeasurementPlot, type Criterion, type MeasurementDetail, type StoredResult } from '../api';
+import {
+  rawFileUrl,
+  useMeasurement,
+  useMeasurementPlot,
+  type Criterion,
+  type MeasurementDetail,
+  type StoredResult,
+} from '../api';
 
 export function verdictLabel(v: 'pass' | 'fail' | 'invalid'): string {
   return v === 'invalid' ? 'Invalid measurement' : v === 'pass' ? 'Pass' : 'Fail';
@@ -73,12 +80,20 @@ export function BandTable({ result }: { result: StoredResult }) {
           <tbody>
             {result.bands.map((b) => (
               <tr key={b.referenceBand} className="border-b border-line/60">
-                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatWavenumber(b.referenceBand)}</td>
-                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}</td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">
+                  {formatWavenumber(b.referenceBand)}
+                </td>
+                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">
+                  {b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}
+                </td>
                 <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatShift(b.shift)}</td>
                 <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">±{b.tolerance.toFixed(1)} cm⁻¹</td>
                 <td className="py-1 pr-3">
-                  <Verdict verdict={b.withinTolerance ? 'pass' : 'fail'} label={b.withinTolerance ? 'Yes' : 'No'} size="sm" />
+                  <Verdict
+                    verdict={b.withinTolerance ? 'pass' : 'fail'}
+                    label={b.withinTolerance ? 'Yes' : 'No'}
+                    size="sm"
+                  />
                 </td>
                 <td className="py-1 text-muted">{b.assignment}</td>
               </tr>
@@ -96,10 +111,24 @@ export function BandTable({ result }: { result: StoredResult }) {
   );
 }
 
-export function MeasurementOverlay({ measurementId, label, bandsOf }: { measurementId: number; label: string; bandsOf?: StoredResult | null }) {
+export function MeasurementOverlay({
+  measurementId,
+  label,
+  bandsOf,
+}: {
+  measurementId: number;
+  label: string;
+  bandsOf?: StoredResult | null;
+}) {
   const plot = useMeasurementPlot(measurementId);
   const bands = useMemo<PlotBand[]>(
-    () => (bandsOf?.bands ?? []).map((b) => ({ position: b.referenceBand, shift: b.shift, matched: b.withinTolerance, label: b.assignment })),
+    () =>
+      (bandsOf?.bands ?? []).map((b) => ({
+        position: b.referenceBand,
+        shift: b.shift,
+        matched: b.withinTolerance,
+        label: b.assignment,
+      })),
     [bandsOf],
   );
   if (plot.isPending) return <p className="text-sm text-muted">Loading the spectrum…</p>;
@@ -107,7 +136,14 @@ export function MeasurementOverlay({ measurementId, label, bandsOf }: { measurem
   const d = plot.data;
   if (!d.overlay)
     return (
-      <SpectrumPlot x={d.raw.x} sample={d.raw.y} sampleLabel="Sample as measured" yLabel="Absorbance" label={`Raw spectrum of ${label}`} height={220} />
+      <SpectrumPlot
+        x={d.raw.x}
+        sample={d.raw.y}
+        sampleLabel="Sample as measured"
+        yLabel="Absorbance"
+        label={`Raw spectrum of ${label}`}
+        height={220}
+      />
     );
   return (
     <SpectrumPlot
@@ -131,7 +167,16 @@ export function RawSpectrum({ measurementId, label }: { measurementId: number; l
   const plot = useMeasurementPlot(measurementId);
   if (plot.isPending) return <p className="text-sm text-muted">Loading the spectrum…</p>;
   if (plot.isError) return <ErrorNote error={plot.error} />;
-  return <SpectrumPlot x={plot.data.raw.x} sample={plot.data.raw.y} sampleLabel={`${label} as measured`} yLabel="Absorbance" height={180} label={`Raw spectrum of ${label} as uploaded`} />;
+  return (
+    <SpectrumPlot
+      x={plot.data.raw.x}
+      sample={plot.data.raw.y}
+      sampleLabel={`${label} as measured`}
+      yLabel="Absorbance"
+      height={180}
+      label={`Raw spectrum of ${label} as uploaded`}
+    />
+  );
 }
 
 export function HintNote({ result }: { result: StoredResult }) {
@@ -159,7 +204,10 @@ export function MeasurementFacts({ m }: { m: MeasurementDetail }) {
       </dd>
       <dt className="text-muted">Instrument</dt>
       <dd>
-        {m.instrument?.name ?? '—'}; instrument check {m.instrumentCheck ? `#${m.instrumentCheck.id}, ${m.instrumentCheck.verdict === 'pass' ? 'passed' : 'failed'}, valid until ` : '—'}
+        {m.instrument?.name ?? '—'}; instrument check{' '}
+        {m.instrumentCheck
+          ? `#${m.instrumentCheck.id}, ${m.instrumentCheck.verdict === 'pass' ? 'passed' : 'failed'}, valid until `
+          : '—'}
         {m.instrumentCheck && <DateTime value={m.instrumentCheck.validUntil} />}
       </dd>
       <dt className="text-muted">Identity method</dt>
@@ -191,7 +239,8 @@ export function MeasurementResult({ measurementId, compact }: { measurementId: n
       </div>
       {m.verdict === 'invalid' && (
         <p className="rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm">
-          This measurement is neither pass nor fail: the spectrum is not good enough to judge. Measure this container again.
+          This measurement is neither pass nor fail: the spectrum is not good enough to judge. Measure this container
+          again.
         </p>
       )}
       {r.explanation.length > 0 && (
@@ -205,7 +254,9 @@ export function MeasurementResult({ measurementId, compact }: { measurementId: n
       <CriteriaTable result={r} />
       <MeasurementOverlay measurementId={m.id} label={m.label} bandsOf={r} />
       {!compact && <BandTable result={r} />}
-      {r.sampleMeta?.warnings?.length ? <p className="text-xs text-muted">Reading notes: {r.sampleMeta.warnings.join(' ')}</p> : null}
+      {r.sampleMeta?.warnings?.length ? (
+        <p className="text-xs text-muted">Reading notes: {r.sampleMeta.warnings.join(' ')}</p>
+      ) : null}
       <MeasurementFacts m={m} />
     </article>
   );

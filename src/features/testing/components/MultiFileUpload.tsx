@@ -31,7 +31,17 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
     if (!files.length) return;
     match.mutate(
       files.map((f) => f.name),
-      { onSuccess: (m) => setRows(m.map((r, i) => ({ ...r, file: files[i], state: r.status === 'matched' ? 'ready' : 'skipped', fraction: 0 }))) },
+      {
+        onSuccess: (m) =>
+          setRows(
+            m.map((r, i) => ({
+              ...r,
+              file: files[i],
+              state: r.status === 'matched' ? 'ready' : 'skipped',
+              fraction: 0,
+            })),
+          ),
+      },
     );
   };
   const patch = (i: number, p: Partial<Row>) => setRows((rs) => rs && rs.map((r, k) => (k === i ? { ...r, ...p } : r)));
@@ -46,7 +56,9 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
         const { r, i } = todo[next++];
         patch(i, { state: 'uploading' });
         try {
-          const result = await uploadMeasurement(test.id, { containerId: r.containerId! }, r.file, (p) => patch(i, { fraction: p.fraction }));
+          const result = await uploadMeasurement(test.id, { containerId: r.containerId! }, r.file, (p) =>
+            patch(i, { fraction: p.fraction }),
+          );
           patch(i, { state: 'done', fraction: 1, result });
         } catch (e) {
           patch(i, { state: 'failed', error: errorMessage(e) });
@@ -59,14 +71,21 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
   };
 
   const ready = rows?.filter((r) => r.state === 'ready').length ?? 0;
-  const finished = rows !== null && rows.every((r) => r.state === 'done' || r.state === 'failed' || r.state === 'skipped');
+  const finished =
+    rows !== null && rows.every((r) => r.state === 'done' || r.state === 'failed' || r.state === 'skipped');
   return (
     <div className="flex flex-col gap-3">
       {!rows && (
         <div className="flex flex-col items-start gap-2 rounded-lg border-2 border-dashed border-line bg-white px-4 py-5">
           <p className="font-medium">Several spectrum files at once</p>
-          <p className="text-sm text-muted">Each file name must contain its container label, e.g. {test.lot.lotNumber}-002.csv. You confirm the matching before anything is stored.</p>
-          <label htmlFor={id} className="inline-flex min-h-11 cursor-pointer items-center rounded-md border border-petrol bg-petrol px-4 font-medium text-white hover:bg-petrol-dark">
+          <p className="text-sm text-muted">
+            Each file name must contain its container label, e.g. {test.lot.lotNumber}-002.csv. You confirm the matching
+            before anything is stored.
+          </p>
+          <label
+            htmlFor={id}
+            className="inline-flex min-h-11 cursor-pointer items-center rounded-md border border-petrol bg-petrol px-4 font-medium text-white hover:bg-petrol-dark"
+          >
             Choose files
           </label>
           <input
@@ -105,10 +124,17 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
                     <div className="text-xs text-muted">{formatBytes(r.file.size)}</div>
                   </td>
                   <td className="py-1.5 pr-3 whitespace-nowrap tabular-nums">{r.label ?? '—'}</td>
-                  <td className={`py-1.5 pr-3 ${r.status === 'matched' ? '' : 'text-amber-ink'}`}>{r.status === 'matched' ? 'Ready' : `Not uploaded: ${MATCH_STATUS_TEXT[r.status]}`}</td>
+                  <td className={`py-1.5 pr-3 ${r.status === 'matched' ? '' : 'text-amber-ink'}`}>
+                    {r.status === 'matched' ? 'Ready' : `Not uploaded: ${MATCH_STATUS_TEXT[r.status]}`}
+                  </td>
                   <td className="py-1.5">
                     {r.state === 'uploading' && (
-                      <progress className="h-1.5 w-40 accent-petrol" max={1} value={r.fraction} aria-label={`Upload of ${r.fileName}`} />
+                      <progress
+                        className="h-1.5 w-40 accent-petrol"
+                        max={1}
+                        value={r.fraction}
+                        aria-label={`Upload of ${r.fileName}`}
+                      />
                     )}
                     {r.state === 'done' && r.result && (
                       <span className="inline-flex items-center gap-2">
@@ -129,7 +155,13 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
           </table>
           <div className="flex flex-wrap gap-2">
             {!finished && (
-              <Button size="bench" variant="primary" disabled={ready === 0} busy={running} onClick={() => void uploadAll()}>
+              <Button
+                size="bench"
+                variant="primary"
+                disabled={ready === 0}
+                busy={running}
+                onClick={() => void uploadAll()}
+              >
                 Upload {ready} matched file{ready === 1 ? '' : 's'}
               </Button>
             )}

@@ -12,13 +12,26 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
-import { BandTable, CriteriaTable, HintNote, MeasurementFacts, MeasurementOverlay, RawSpectrum, verdictLabel } from './MeasurementResult';
+import {
+  BandTable,
+  CriteriaTable,
+  HintNote,
+  MeasurementFacts,
+  MeasurementOverlay,
+  RawSpectrum,
+  verdictLabel,
+} from './MeasurementResult';
 
 function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen: boolean }) {
   const [open, setOpen] = useState(defaultOpen);
   const r = m.result;
   return (
-    <details open={open} onToggle={(e) => setOpen((e.target as HTMLDetailsElement).open)} className="rounded-md border border-line bg-white" data-testid={`review-${m.label}`}>
+    <details
+      open={open}
+      onToggle={(e) => setOpen((e.target as HTMLDetailsElement).open)}
+      className="rounded-md border border-line bg-white"
+      data-testid={`review-${m.label}`}
+    >
       <summary className="flex min-h-11 cursor-pointer flex-wrap items-center gap-3 px-3 py-2">
         <span className="font-medium tabular-nums">{m.label}</span>
         <Verdict verdict={m.verdict} label={verdictLabel(m.verdict)} />
@@ -53,7 +66,13 @@ function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen
   );
 }
 
-export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; fullName: string; signedOnce: boolean; isVerifier: boolean } }) {
+export function ReviewView({
+  data,
+  me,
+}: {
+  data: ReviewData;
+  me: { id: number; fullName: string; signedOnce: boolean; isVerifier: boolean };
+}) {
   const t = data.test;
   const verify = useVerify(t.id);
   const ret = useReturnTest(t.id);
@@ -68,7 +87,10 @@ export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; f
 
   return (
     <div className="flex flex-col gap-5">
-      <section aria-label="Versions and instrument" className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3">
+      <section
+        aria-label="Versions and instrument"
+        className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
+      >
         <div>
           <h3 className="mb-1 font-medium">Identity method</h3>
           {data.methods.map((m) => (
@@ -89,7 +111,8 @@ export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; f
           <h3 className="mb-1 font-medium">Instrument checks used</h3>
           {data.instrumentChecks.map((c) => (
             <p key={c.id}>
-              Check #{c.id}: {c.verdict === 'pass' ? 'passed' : 'failed'} <DateTime value={c.performedAt} />, valid until <DateTime value={c.validUntil} />
+              Check #{c.id}: {c.verdict === 'pass' ? 'passed' : 'failed'} <DateTime value={c.performedAt} />, valid
+              until <DateTime value={c.validUntil} />
             </p>
           ))}
         </div>
@@ -107,13 +130,17 @@ export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; f
         </p>
       )}
       {t.status === 'awaiting-verification' && own && (
-        <p className="rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm">You performed or measured this test, so a second person must verify it.</p>
+        <p className="rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm">
+          You performed or measured this test, so a second person must verify it.
+        </p>
       )}
       {canDecide && (
         <section aria-label="Decision" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
           {failing.length > 0 && (
             <p className="text-sm">
-              {failing.length} container(s) failed. If the data are complete and correctly recorded, sign verified: the lot stays in quarantine and an investigation opens for QA. A failing result cannot be sent back for re-measurement.
+              {failing.length} container(s) failed. If the data are complete and correctly recorded, sign verified: the
+              lot stays in quarantine and an investigation opens for QA. A failing result cannot be sent back for
+              re-measurement.
             </p>
           )}
           <div className="flex flex-wrap gap-2">
@@ -179,7 +206,15 @@ export function ReviewView({ data, me }: { data: ReviewData; me: { id: number; f
         onSign={(credentials) => {
           if (reason.trim().length < 10) return setReasonError('Say why the test goes back (at least 10 characters).');
           setReasonError(null);
-          ret.mutate({ signature: credentials, reason: reason.trim() }, { onSuccess: () => { setDialog(null); setOutcome('Returned to the operator; the attempt stays on record.'); } });
+          ret.mutate(
+            { signature: credentials, reason: reason.trim() },
+            {
+              onSuccess: () => {
+                setDialog(null);
+                setOutcome('Returned to the operator; the attempt stays on record.');
+              },
+            },
+          );
         }}
       >
         <Field id="return-reason" label="Reason (required)" error={reasonError ?? undefined}>

@@ -11,7 +11,17 @@ import { formatScore } from '../../../lib/format';
 import { uploadMeasurement, type TestDetail, type UploadResult } from '../api';
 import { verdictLabel } from './MeasurementResult';
 
-export function ScanUpload({ test, selectedId, onSelect, onUploaded }: { test: TestDetail; selectedId: number | null; onSelect: (id: number | null) => void; onUploaded: (r: UploadResult) => void }) {
+export function ScanUpload({
+  test,
+  selectedId,
+  onSelect,
+  onUploaded,
+}: {
+  test: TestDetail;
+  selectedId: number | null;
+  onSelect: (id: number | null) => void;
+  onUploaded: (r: UploadResult) => void;
+}) {
   const [code, setCode] = useState('');
   const [problem, setProblem] = useState<string | null>(null);
   const scan = useRef<HTMLInputElement>(null);
@@ -26,9 +36,16 @@ export function ScanUpload({ test, selectedId, onSelect, onUploaded }: { test: T
     const label = code.trim().toUpperCase();
     if (!label) return;
     const c = test.containers.find((x) => x.label.toUpperCase() === label);
-    if (!c) setProblem(`No container of lot ${test.lot.lotNumber} has the label ${label}. Check the label and scan again.`);
-    else if (!c.inScope) setProblem(`Container ${c.label} is not part of this retest: QA authorised only the containers named in the investigation.`);
-    else if (c.latest?.verdict === 'fail') setProblem(`Container ${c.label} failed in this attempt. A retest needs QA authorisation through an investigation.`);
+    if (!c)
+      setProblem(`No container of lot ${test.lot.lotNumber} has the label ${label}. Check the label and scan again.`);
+    else if (!c.inScope)
+      setProblem(
+        `Container ${c.label} is not part of this retest: QA authorised only the containers named in the investigation.`,
+      );
+    else if (c.latest?.verdict === 'fail')
+      setProblem(
+        `Container ${c.label} failed in this attempt. A retest needs QA authorisation through an investigation.`,
+      );
     else {
       setProblem(null);
       onSelect(c.id);
@@ -40,7 +57,16 @@ export function ScanUpload({ test, selectedId, onSelect, onUploaded }: { test: T
     <div className="flex flex-col gap-3">
       <form onSubmit={submit} className="flex flex-wrap items-end gap-3" aria-label="Scan a container label">
         <Field id="scan" label="Scan or type the container label, then Enter" className="min-w-64 flex-1">
-          <Input id="scan" ref={scan} bench autoComplete="off" spellCheck={false} placeholder={`${test.lot.lotNumber}-001`} value={code} onChange={(e) => setCode(e.target.value)} />
+          <Input
+            id="scan"
+            ref={scan}
+            bench
+            autoComplete="off"
+            spellCheck={false}
+            placeholder={`${test.lot.lotNumber}-001`}
+            value={code}
+            onChange={(e) => setCode(e.target.value)}
+          />
         </Field>
         <Button type="submit" size="bench">
           Select container
@@ -52,7 +78,10 @@ export function ScanUpload({ test, selectedId, onSelect, onUploaded }: { test: T
         </p>
       )}
       {selected && (
-        <section aria-label={`Upload for ${selected.label}`} className="rounded-md border border-petrol/40 bg-petrol-soft/40 p-3">
+        <section
+          aria-label={`Upload for ${selected.label}`}
+          className="rounded-md border border-petrol/40 bg-petrol-soft/40 p-3"
+        >
           <div className="mb-2 flex flex-wrap items-center justify-between gap-2">
             <p className="text-lg font-medium" data-testid="selected-container">
               Container {selected.label}

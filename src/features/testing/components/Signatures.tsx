@@ -9,7 +9,8 @@ export function SignatureList({ signatures }: { signatures: Signature[] }) {
     <ul className="flex flex-col gap-1 text-sm" aria-label="Signatures">
       {signatures.map((s) => (
         <li key={s.id} data-testid="signature">
-          <span className="font-medium">{s.printedName}</span> · {meaningLabel(s.meaning)} · <DateTime value={s.signedAt} seconds />
+          <span className="font-medium">{s.printedName}</span> · {meaningLabel(s.meaning)} ·{' '}
+          <DateTime value={s.signedAt} seconds />
           {s.statement && <span className="text-muted"> · “{s.statement}”</span>}
         </li>
       ))}

@@ -14,7 +14,15 @@ import { MeasurementResult, verdictLabel } from './MeasurementResult';
 import { MultiFileUpload } from './MultiFileUpload';
 import { ScanUpload } from './ScanUpload';
 
-function ContainerRows({ test, selectedId, onSelect }: { test: TestDetail; selectedId: number | null; onSelect: (id: number) => void }) {
+function ContainerRows({
+  test,
+  selectedId,
+  onSelect,
+}: {
+  test: TestDetail;
+  selectedId: number | null;
+  onSelect: (id: number) => void;
+}) {
   return (
     <table className="w-full text-sm" aria-label="Containers of this attempt">
       <thead>
@@ -30,9 +38,19 @@ function ContainerRows({ test, selectedId, onSelect }: { test: TestDetail; selec
         {test.containers
           .filter((c) => c.inScope)
           .map((c) => (
-            <tr key={c.id} className={`border-b border-line/60 ${selectedId === c.id ? 'bg-petrol-soft' : ''}`} data-testid={`container-${c.label}`}>
+            <tr
+              key={c.id}
+              className={`border-b border-line/60 ${selectedId === c.id ? 'bg-petrol-soft' : ''}`}
+              data-testid={`container-${c.label}`}
+            >
               <td className="py-1 pr-3 font-medium whitespace-nowrap tabular-nums">{c.label}</td>
-              <td className="py-1 pr-3">{c.latest ? <Verdict verdict={c.latest.verdict} label={verdictLabel(c.latest.verdict)} size="sm" /> : <Verdict verdict="pending" label="Not measured" size="sm" />}</td>
+              <td className="py-1 pr-3">
+                {c.latest ? (
+                  <Verdict verdict={c.latest.verdict} label={verdictLabel(c.latest.verdict)} size="sm" />
+                ) : (
+                  <Verdict verdict="pending" label="Not measured" size="sm" />
+                )}
+              </td>
               <td className="py-1 pr-3 text-right tabular-nums">{formatScore(c.latest?.matchScore)}</td>
               <td className="py-1 pr-3 text-right tabular-nums">{c.measurements.length}</td>
               <td className="py-1">
@@ -47,7 +65,15 @@ function ContainerRows({ test, selectedId, onSelect }: { test: TestDetail; selec
   );
 }
 
-export function TestBench({ testId, lotId, me }: { testId: number; lotId: number; me: { fullName: string; signedOnce: boolean } }) {
+export function TestBench({
+  testId,
+  lotId,
+  me,
+}: {
+  testId: number;
+  lotId: number;
+  me: { fullName: string; signedOnce: boolean };
+}) {
   const q = useTest(testId);
   const after = useAfterUpload(lotId, testId);
   const perform = usePerform(lotId, testId);
@@ -82,14 +108,32 @@ export function TestBench({ testId, lotId, me }: { testId: number; lotId: number
         </span>
       </div>
       {changeInstrument && (
-        <InstrumentPicker current={t.instrument?.id} actionLabel="Use this instrument" busy={switcher.isPending} error={switcher.error} onPick={(id) => switcher.mutate(id, { onSuccess: () => setChangeInstrument(false) })} />
+        <InstrumentPicker
+          current={t.instrument?.id}
+          actionLabel="Use this instrument"
+          busy={switcher.isPending}
+          error={switcher.error}
+          onPick={(id) => switcher.mutate(id, { onSuccess: () => setChangeInstrument(false) })}
+        />
       )}
 
       <div role="tablist" aria-label="How to upload" className="flex gap-2">
-        <Button role="tab" aria-selected={mode === 'scan'} size="bench" variant={mode === 'scan' ? 'primary' : 'secondary'} onClick={() => setMode('scan')}>
+        <Button
+          role="tab"
+          aria-selected={mode === 'scan'}
+          size="bench"
+          variant={mode === 'scan' ? 'primary' : 'secondary'}
+          onClick={() => setMode('scan')}
+        >
           One container
         </Button>
-        <Button role="tab" aria-selected={mode === 'many'} size="bench" variant={mode === 'many' ? 'primary' : 'secondary'} onClick={() => setMode('many')}>
+        <Button
+          role="tab"
+          aria-selected={mode === 'many'}
+          size="bench"
+          variant={mode === 'many' ? 'primary' : 'secondary'}
+          onClick={() => setMode('many')}
+        >
           Several files
         </Button>
       </div>
@@ -100,13 +144,28 @@ export function TestBench({ testId, lotId, me }: { testId: number; lotId: number
       )}
 
       <div className="grid items-start gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.2fr)]">
-        <ContainerRows test={t} selectedId={selected} onSelect={(id) => { setSelected(id); setMode('scan'); }} />
-        <div>{latestSelected ? <MeasurementResult measurementId={latestSelected.id} compact /> : <p className="text-sm text-muted">Select a container to see its latest result.</p>}</div>
+        <ContainerRows
+          test={t}
+          selectedId={selected}
+          onSelect={(id) => {
+            setSelected(id);
+            setMode('scan');
+          }}
+        />
+        <div>
+          {latestSelected ? (
+            <MeasurementResult measurementId={latestSelected.id} compact />
+          ) : (
+            <p className="text-sm text-muted">Select a container to see its latest result.</p>
+          )}
+        </div>
       </div>
 
       <section aria-label="Sign as performed" className="rounded-md border border-line bg-white p-4">
         {r.ready ? (
-          <p className="mb-3 text-sm">Every container has a valid result. Sign the test as performed; a second person then verifies it.</p>
+          <p className="mb-3 text-sm">
+            Every container has a valid result. Sign the test as performed; a second person then verifies it.
+          </p>
         ) : (
           <p className="mb-3 text-sm text-muted">
             {r.missing.length > 0 && `Still to measure: ${r.missing.join(', ')}. `}

@@ -13,13 +13,18 @@ function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
     <ul className="divide-y divide-line rounded-md border border-line bg-white" data-testid={`wq-${sectionKey}`}>
       {s.items.map((i) => (
         <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 px-3 py-1 text-sm">
-          <Link to={i.href} className="inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2">
+          <Link
+            to={i.href}
+            className="inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2"
+          >
             {i.title}
           </Link>
           <span className="text-muted">{i.detail}</span>
         </li>
       ))}
-      {s.count > s.items.length && <li className="px-3 py-2 text-sm text-muted">… and {s.count - s.items.length} more.</li>}
+      {s.count > s.items.length && (
+        <li className="px-3 py-2 text-sm text-muted">… and {s.count - s.items.length} more.</li>
+      )}
     </ul>
   );
 }

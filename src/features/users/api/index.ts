@@ -49,15 +49,20 @@ export function useCreateUser() {
 }
 
 export function useUpdateUser() {
-  return useUsersMutation(({ id, ...body }: UpdateUserInput & { id: number }) => apiFetch<UserAccount>(`/api/users/${id}`, { method: 'PATCH', body }));
+  return useUsersMutation(({ id, ...body }: UpdateUserInput & { id: number }) =>
+    apiFetch<UserAccount>(`/api/users/${id}`, { method: 'PATCH', body }),
+  );
 }
 
 export function useUnlockUser() {
-  return useUsersMutation(({ id, reason }: { id: number; reason: string }) => apiFetch(`/api/users/${id}/unlock`, { method: 'POST', body: { reason } }));
+  return useUsersMutation(({ id, reason }: { id: number; reason: string }) =>
+    apiFetch(`/api/users/${id}/unlock`, { method: 'POST', body: { reason } }),
+  );
 }
 
 export function useResetPassword() {
-  return useUsersMutation(({ id, temporaryPassword, reason }: { id: number; temporaryPassword: string; reason: string }) =>
-    apiFetch(`/api/users/${id}/reset-password`, { method: 'POST', body: { temporaryPassword, reason } }),
+  return useUsersMutation(
+    ({ id, temporaryPassword, reason }: { id: number; temporaryPassword: string; reason: string }) =>
+      apiFetch(`/api/users/${id}/reset-password`, { method: 'POST', body: { temporaryPassword, reason } }),
   );
 }

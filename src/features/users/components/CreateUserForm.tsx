@@ -5,18 +5,32 @@ import { Field, Input } from '../../../components/Field';
 import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
 import { RoleCheckboxes, suggestPassword, TEMP_PASSWORD_RULE } from './fields';
 
-export function CreateUserForm({ onCreated, onCancel }: { onCreated: (u: UserAccount, temporaryPassword: string) => void; onCancel: () => void }) {
+export function CreateUserForm({
+  onCreated,
+  onCancel,
+}: {
+  onCreated: (u: UserAccount, temporaryPassword: string) => void;
+  onCancel: () => void;
+}) {
   const create = useCreateUser();
   const { register, handleSubmit, control, setValue, formState } = useForm<CreateUserInput>({
     defaultValues: { username: '', fullName: '', email: '', roles: [], temporaryPassword: '' },
   });
   const e = formState.errors;
   const submit = handleSubmit((v) =>
-    create.mutate({ ...v, username: v.username.trim(), fullName: v.fullName.trim(), email: v.email.trim() }, { onSuccess: (u) => onCreated(u, v.temporaryPassword) }),
+    create.mutate(
+      { ...v, username: v.username.trim(), fullName: v.fullName.trim(), email: v.email.trim() },
+      { onSuccess: (u) => onCreated(u, v.temporaryPassword) },
+    ),
   );
   return (
     <form onSubmit={submit} noValidate className="grid gap-4 md:grid-cols-2" aria-label="New account">
-      <Field id="new-username" label="User name" hint="Lower-case letters, digits, dot, dash or underscore. It cannot change later." error={e.username?.message}>
+      <Field
+        id="new-username"
+        label="User name"
+        hint="Lower-case letters, digits, dot, dash or underscore. It cannot change later."
+        error={e.username?.message}
+      >
         <Input
           id="new-username"
           autoCapitalize="none"
@@ -31,8 +45,21 @@ export function CreateUserForm({ onCreated, onCancel }: { onCreated: (u: UserAcc
           })}
         />
       </Field>
-      <Field id="new-fullname" label="Full name" hint="Printed beside every signature of this person." error={e.fullName?.message}>
-        <Input id="new-fullname" autoComplete="off" invalid={!!e.fullName} {...register('fullName', { required: 'Enter the full name.', minLength: { value: 2, message: 'Enter the full name.' } })} />
+      <Field
+        id="new-fullname"
+        label="Full name"
+        hint="Printed beside every signature of this person."
+        error={e.fullName?.message}
+      >
+        <Input
+          id="new-fullname"
+          autoComplete="off"
+          invalid={!!e.fullName}
+          {...register('fullName', {
+            required: 'Enter the full name.',
+            minLength: { value: 2, message: 'Enter the full name.' },
+          })}
+        />
       </Field>
       <Field id="new-email" label="E-mail" error={e.email?.message}>
         <Input
@@ -40,13 +67,30 @@ export function CreateUserForm({ onCreated, onCancel }: { onCreated: (u: UserAcc
           type="email"
           autoComplete="off"
           invalid={!!e.email}
-          {...register('email', { required: 'Enter an e-mail address.', pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' } })}
+          {...register('email', {
+            required: 'Enter an e-mail address.',
+            pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' },
+          })}
         />
       </Field>
-      <Field id="new-password" label="Temporary password" hint="At least 12 characters. The person must change it at first sign-in; hand it over in person." error={e.temporaryPassword?.message}>
+      <Field
+        id="new-password"
+        label="Temporary password"
+        hint="At least 12 characters. The person must change it at first sign-in; hand it over in person."
+        error={e.temporaryPassword?.message}
+      >
         <div className="flex gap-2">
-          <Input id="new-password" autoComplete="new-password" spellCheck={false} className="font-mono" invalid={!!e.temporaryPassword} {...register('temporaryPassword', TEMP_PASSWORD_RULE)} />
-          <Button onClick={() => setValue('temporaryPassword', suggestPassword(), { shouldValidate: true })}>Suggest</Button>
+          <Input
+            id="new-password"
+            autoComplete="new-password"
+            spellCheck={false}
+            className="font-mono"
+            invalid={!!e.temporaryPassword}
+            {...register('temporaryPassword', TEMP_PASSWORD_RULE)}
+          />
+          <Button onClick={() => setValue('temporaryPassword', suggestPassword(), { shouldValidate: true })}>
+            Suggest
+          </Button>
         </div>
       </Field>
       <div className="md:col-span-2">
@@ -54,7 +98,14 @@ export function CreateUserForm({ onCreated, onCancel }: { onCreated: (u: UserAcc
           control={control}
           name="roles"
           rules={{ validate: (v) => v.length > 0 || 'Give the account at least one role.' }}
-          render={({ field, fieldState }) => <RoleCheckboxes idPrefix="new-role" value={field.value} onChange={field.onChange} error={fieldState.error?.message} />}
+          render={({ field, fieldState }) => (
+            <RoleCheckboxes
+              idPrefix="new-role"
+              value={field.value}
+              onChange={field.onChange}
+              error={fieldState.error?.message}
+            />
+          )}
         />
       </div>
       {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}

@@ -19,7 +19,12 @@ export function ReasonForm({ confirmLabel, variant = 'primary', busy, error, onC
   return (
     <form onSubmit={handleSubmit((v) => onConfirm(v.reason.trim()))} noValidate className="flex flex-col gap-4">
       <Field id="action-reason" label="Reason" hint="Kept in the audit trail." error={formState.errors.reason?.message}>
-        <Textarea id="action-reason" autoFocus invalid={!!formState.errors.reason} {...register('reason', REASON_RULE)} />
+        <Textarea
+          id="action-reason"
+          autoFocus
+          invalid={!!formState.errors.reason}
+          {...register('reason', REASON_RULE)}
+        />
       </Field>
       {!!error && <ErrorNote error={error} />}
       <div className="flex justify-end gap-2">

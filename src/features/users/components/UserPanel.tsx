@@ -12,7 +12,15 @@ import { UserStatus } from './UserStatus';
 
 type Action = 'edit' | 'reset' | 'unlock' | 'deactivate' | 'reactivate' | null;
 
-export function UserPanel({ user, isSelf, onNotice }: { user: UserAccount; isSelf: boolean; onNotice: (text: string) => void }) {
+export function UserPanel({
+  user,
+  isSelf,
+  onNotice,
+}: {
+  user: UserAccount;
+  isSelf: boolean;
+  onNotice: (text: string) => void;
+}) {
   const [action, setAction] = useState<Action>(null);
   const update = useUpdateUser();
   const unlock = useUnlockUser();
@@ -58,16 +66,31 @@ export function UserPanel({ user, isSelf, onNotice }: { user: UserAccount; isSel
         <Button onClick={() => setAction('reset')}>Reset password</Button>
         {user.lockedUntil && <Button onClick={() => setAction('unlock')}>Unlock</Button>}
         {user.active ? (
-          <Button variant="danger" onClick={() => setAction('deactivate')} disabled={isSelf} title={isSelf ? 'You cannot deactivate your own account.' : undefined}>
+          <Button
+            variant="danger"
+            onClick={() => setAction('deactivate')}
+            disabled={isSelf}
+            title={isSelf ? 'You cannot deactivate your own account.' : undefined}
+          >
             Deactivate
           </Button>
         ) : (
           <Button onClick={() => setAction('reactivate')}>Reactivate</Button>
         )}
       </div>
-      {isSelf && <p className="mt-2 text-xs text-muted">This is your own account: you cannot deactivate it or remove your administrator role.</p>}
+      {isSelf && (
+        <p className="mt-2 text-xs text-muted">
+          This is your own account: you cannot deactivate it or remove your administrator role.
+        </p>
+      )}
 
-      <Dialog open={action === 'edit'} title={`Edit ${user.username}`} description="Changing roles ends the person's open sessions." onClose={close} busy={update.isPending}>
+      <Dialog
+        open={action === 'edit'}
+        title={`Edit ${user.username}`}
+        description="Changing roles ends the person's open sessions."
+        onClose={close}
+        busy={update.isPending}
+      >
         <EditUserForm
           user={user}
           onCancel={close}
@@ -83,11 +106,19 @@ export function UserPanel({ user, isSelf, onNotice }: { user: UserAccount; isSel
           onCancel={close}
           onDone={(pw) => {
             close();
-            onNotice(`The password of ${user.username} was reset. Temporary password: ${pw} — hand it over in person; it is not shown again.`);
+            onNotice(
+              `The password of ${user.username} was reset. Temporary password: ${pw} — hand it over in person; it is not shown again.`,
+            );
           }}
         />
       </Dialog>
-      <Dialog open={action === 'unlock'} title={`Unlock ${user.username}`} description="The count of failed sign-ins starts again from zero." onClose={close} busy={unlock.isPending}>
+      <Dialog
+        open={action === 'unlock'}
+        title={`Unlock ${user.username}`}
+        description="The count of failed sign-ins starts again from zero."
+        onClose={close}
+        busy={unlock.isPending}
+      >
         <ReasonForm
           confirmLabel="Unlock account"
           busy={unlock.isPending}

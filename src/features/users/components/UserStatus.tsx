@@ -18,5 +18,9 @@ export function UserStatus({ user }: { user: UserAccount }) {
         : text === 'Must change password'
           ? 'border-amber/50 text-amber-ink bg-amber-soft'
           : 'border-pass/40 text-pass bg-pass-soft';
-  return <span className={`inline-block rounded border px-1.5 py-0.5 text-xs font-medium whitespace-nowrap ${style}`}>{text}</span>;
+  return (
+    <span className={`inline-block rounded border px-1.5 py-0.5 text-xs font-medium whitespace-nowrap ${style}`}>
+      {text}
+    </span>
+  );
 }

@@ -8,15 +8,35 @@ import { UserStatus, userStatusText } from './UserStatus';
 
 const col = createColumnHelper<UserAccount>();
 
-export function UsersTable({ users, selectedId, onSelect }: { users: UserAccount[]; selectedId?: number; onSelect: (u: UserAccount) => void }) {
+export function UsersTable({
+  users,
+  selectedId,
+  onSelect,
+}: {
+  users: UserAccount[];
+  selectedId?: number;
+  onSelect: (u: UserAccount) => void;
+}) {
   const columns = useMemo(
     () => [
-      col.accessor('username', { header: 'User name', cell: (c) => <span className="font-medium">{c.getValue()}</span> }),
+      col.accessor('username', {
+        header: 'User name',
+        cell: (c) => <span className="font-medium">{c.getValue()}</span>,
+      }),
       col.accessor('fullName', { header: 'Full name' }),
       col.accessor('email', { header: 'E-mail' }),
       col.accessor((u) => roleList(u.roles), { id: 'roles', header: 'Roles' }),
-      col.accessor((u) => userStatusText(u), { id: 'status', header: 'Status', cell: (c) => <UserStatus user={c.row.original} /> }),
-      col.accessor('createdAt', { header: 'Created', cell: (c) => <DateTime value={c.getValue()} />, enableColumnFilter: false, enableGlobalFilter: false }),
+      col.accessor((u) => userStatusText(u), {
+        id: 'status',
+        header: 'Status',
+        cell: (c) => <UserStatus user={c.row.original} />,
+      }),
+      col.accessor('createdAt', {
+        header: 'Created',
+        cell: (c) => <DateTime value={c.getValue()} />,
+        enableColumnFilter: false,
+        enableGlobalFilter: false,
+      }),
     ],
     [],
   );

@@ -29,7 +29,17 @@ export const ROLE_HINTS: Record<Role, string> = {
   admin: 'manages accounts and roles; signs no GMP record',
 };
 
-export function RoleCheckboxes({ value, onChange, error, idPrefix }: { value: Role[]; onChange: (r: Role[]) => void; error?: string; idPrefix: string }) {
+export function RoleCheckboxes({
+  value,
+  onChange,
+  error,
+  idPrefix,
+}: {
+  value: Role[];
+  onChange: (r: Role[]) => void;
+  error?: string;
+  idPrefix: string;
+}) {
   return (
     <fieldset className="flex flex-col gap-1">
       <legend className="mb-1 text-sm font-medium">Roles</legend>
@@ -40,7 +50,11 @@ export function RoleCheckboxes({ value, onChange, error, idPrefix }: { value: Ro
             type="checkbox"
             className="mt-1 size-4 accent-petrol"
             checked={value.includes(r)}
-            onChange={(e) => onChange(e.target.checked ? ROLES.filter((x) => x === r || value.includes(x)) : value.filter((x) => x !== r))}
+            onChange={(e) =>
+              onChange(
+                e.target.checked ? ROLES.filter((x) => x === r || value.includes(x)) : value.filter((x) => x !== r),
+              )
+            }
           />
           <span>
             <span className="font-medium">{ROLE_LABELS[r]}</span> <span className="text-muted">— {ROLE_HINTS[r]}</span>
