@@ -1,22 +1,25 @@
 import { defineConfig, devices } from '@playwright/test';
+import { e2eEnvironment } from './e2e/ports';
 
 // Browser tests in Debian's Chromium (no Playwright browser download). The web server builds the
-// client and runs Drumline against its own fresh database `drumline_e2e` (scripts/e2e-server.sh).
-// Two runs side by side on one machine need their own E2E_PORT, DRUMLINE_E2E_DB (drumline_*) and
-// E2E_OUTPUT_DIR, e.g. E2E_PORT=4174 DRUMLINE_E2E_DB=drumline_e2e_b E2E_OUTPUT_DIR=test-results/b.
-const port = Number(process.env.E2E_PORT ?? 4173);
-// Second server with the full demo site (scripts/e2e-demo-server.sh; e2e/demo-roles.spec.ts).
-const demoPort = Number(process.env.E2E_DEMO_PORT ?? port + 100);
+// client and runs Drumline against its own fresh database (scripts/e2e-server.sh). Every run picks
+// free loopback ports and databases named after its port (e2e/ports.ts), so two runs, or an app on
+// the default ports, never collide; the teardown drops the run's databases.
+// The second server holds the full demo site (scripts/e2e-demo-server.sh; e2e/demo-roles.spec.ts).
+const { port, demoPort } = e2eEnvironment();
 
 export default defineConfig({
   testDir: './e2e',
-  outputDir: process.env.E2E_OUTPUT_DIR ?? 'test-results',
+  outputDir: process.env.E2E_OUTPUT_DIR ?? `test-results/${port}`,
+  globalTeardown: './e2e/global-teardown.ts',
   workers: 1,
   fullyParallel: false,
   retries: 0,
   timeout: 120_000,
   expect: { timeout: 10_000 },
-  reporter: process.env.CI ? [['list']] : [['list'], ['html', { open: 'never' }]],
+  reporter: process.env.CI
+    ? [['list']]
+    : [['list'], ['html', { open: 'never', outputFolder: `playwright-report/${port}` }]],
   use: { baseURL: `http://127.0.0.1:${port}`, trace: 'retain-on-failure', screenshot: 'only-on-failure' },
   projects: [
     {
@@ -43,7 +46,7 @@ export default defineConfig({
     {
       command: 'bash scripts/e2e-server.sh',
       url: `http://127.0.0.1:${port}/api/health`,
-      reuseExistingServer: !process.env.CI,
+      reuseExistingServer: false,
       timeout: 180_000,
       stdout: 'pipe',
       stderr: 'pipe',
@@ -51,7 +54,7 @@ export default defineConfig({
     {
       command: 'bash scripts/e2e-demo-server.sh',
       url: `http://127.0.0.1:${demoPort}/api/health`,
-      reuseExistingServer: !process.env.CI,
+      reuseExistingServer: false,
       timeout: 600_000,
       stdout: 'pipe',
       stderr: 'pipe',

@@ -15,6 +15,7 @@ SOCK="$BASE/mysqld.sock"
 PIDF="$BASE/mysqld.pid"
 ENVF="$ROOT/.data/db.env"
 PORT="${DRUMLINE_DB_PORT:-3307}"
+PORT_GIVEN="${DRUMLINE_DB_PORT:+yes}"
 
 log() { echo "[mariadb] $*" >&2; }
 
@@ -28,9 +29,18 @@ ensure_installed() {
   fi
 }
 
+# True when something already listens on 127.0.0.1:$1.
+port_busy() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
+
 ensure_env() {
   mkdir -p "$ROOT/.data"
   if [ ! -f "$ENVF" ]; then
+    # Another checkout's server (or anything else) on the default port: take a free one instead,
+    # recorded in .data/db.env, so two checkouts on one machine never collide.
+    if [ -z "$PORT_GIVEN" ] && port_busy "$PORT"; then
+      PORT="$(node -e "const s=require('net').createServer();s.listen(0,'127.0.0.1',()=>{console.log(s.address().port);s.close()})")"
+      log "port 3307 is in use; this checkout's MariaDB takes 127.0.0.1:$PORT (see .data/db.env)"
+    fi
     local owner_pw app_pw
     owner_pw="$(head -c 18 /dev/urandom | base64 | tr -dc 'A-Za-z0-9' | head -c 20)"
     app_pw="$(head -c 18 /dev/urandom | base64 | tr -dc 'A-Za-z0-9' | head -c 20)"

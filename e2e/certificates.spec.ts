@@ -17,7 +17,7 @@ import { dbSettings, knexConfig } from '../db/config';
 import { DEMO_PASSWORD } from '../db/seeds/accounts';
 import { createPassedLot, type PassedLot } from '../tests/api/fixtures-certificates';
 
-const DB = process.env.DRUMLINE_E2E_DB ?? 'drumline_e2e';
+const DB = process.env.DRUMLINE_E2E_DB!;
 
 async function signIn(page: Page, username: string) {
   await page.goto('/sign-in');

@@ -7,7 +7,7 @@
 import { expect, test, type Page } from '@playwright/test';
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../db/seeds/accounts';
 
-const demoPort = Number(process.env.E2E_DEMO_PORT ?? Number(process.env.E2E_PORT ?? 4173) + 100);
+const demoPort = Number(process.env.E2E_DEMO_PORT);
 const DEMO = `http://127.0.0.1:${demoPort}`;
 
 /** Text that must appear in the work queue of each demo account (from the demo scenario). */
