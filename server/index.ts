@@ -1,6 +1,7 @@
 /** Starts Drumline: one Express server for the API and the built client, on 127.0.0.1. */
 import { createApp } from './app';
 import { closeDb } from './lib/db';
+import { stopAllJobs } from './lib/lease';
 
 const { app, config } = createApp({ serveClient: true });
 const host = process.env.HOST ?? '127.0.0.1';
@@ -12,7 +13,9 @@ for (const h of startHooks) h().catch((e) => console.error('[start]', e));
 
 function shutdown() {
   server.close(() => {
-    closeDb().finally(() => process.exit(0));
+    stopAllJobs()
+      .catch(() => undefined)
+      .finally(() => closeDb().finally(() => process.exit(0)));
   });
   setTimeout(() => process.exit(0), 3000).unref();
 }

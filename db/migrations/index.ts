@@ -9,6 +9,7 @@ import * as m002 from './002_library';
 import * as m003 from './003_testing';
 import * as m006 from './006_certificates';
 import * as m007 from './007_audit_indexes';
+import * as m008 from './008_job_lease';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -21,6 +22,7 @@ export const migrations: [string, Migration][] = [
   ['003_testing', m003],
   ['006_certificates', m006],
   ['007_audit_indexes', m007],
+  ['008_job_lease', m008],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {

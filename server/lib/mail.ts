@@ -11,6 +11,7 @@ import type { AppConfig } from './config';
 import { parseJson } from './db';
 import type { Role } from './roles';
 import { startFakeSmtp } from './fake-smtp';
+import { startJob, type RunningJob } from './lease';
 
 export const MAX_ATTEMPTS = 8;
 
@@ -123,21 +124,13 @@ export async function processOutbox(db: Knex, limit = 20): Promise<number> {
   return sent;
 }
 
-let timer: NodeJS.Timeout | null = null;
+let job: RunningJob | null = null;
+/** Sends the outbox once per site: every process runs the loop, the holder of the 'mail' lease sends. */
 export function startMailWorker(db: Knex, intervalMs = 2000): void {
-  if (timer) return;
-  let busy = false;
-  timer = setInterval(() => {
-    if (busy) return;
-    busy = true;
-    processOutbox(db)
-      .catch((e) => console.error('[mail] worker:', e.message))
-      .finally(() => (busy = false));
-  }, intervalMs);
-  timer.unref();
+  job ??= startJob(db, { name: 'mail', intervalMs, run: (d) => processOutbox(d) });
 }
 
-export function stopMailWorker(): void {
-  if (timer) clearInterval(timer);
-  timer = null;
+export async function stopMailWorker(): Promise<void> {
+  await job?.stop();
+  job = null;
 }
