@@ -120,7 +120,7 @@ async function seed(db: Knex, owner: Knex): Promise<void> {
     full_name: `Bench User ${i + 1}`,
     email: `bench${i + 1}@bench.example`,
     password_hash: 'x',
-    roles: JSON.stringify(['operator']),
+    roles: '[]', // roles come from role grants; the audit benchmark needs only the actors
     must_change_password: 0,
     failed_attempts: 0,
     active: 1,

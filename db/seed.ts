@@ -8,7 +8,7 @@ import { seedDemoSite } from './seeds/demo';
 
 export async function seedDemo(database?: string): Promise<void> {
   const db = initDb(database);
-  await seedAccounts(db);
+  await seedAccounts(database);
   // The invented demo site (grades, references, instruments, lots in every state), driven
   // through the application's own API; skipped when it is already there.
   await seedDemoSite(db, { database });

@@ -5,15 +5,13 @@
  */
 import { migrateDatabase, recreateDatabase } from '../db/migrate';
 import { seedAccounts } from '../db/seeds/accounts';
-import { closeDb, initDb } from '../server/lib/db';
 
 const database = process.env.DRUMLINE_E2E_DB ?? 'drumline_e2e';
 
 async function main(): Promise<void> {
   await recreateDatabase(database);
   await migrateDatabase(database);
-  const db = initDb(database);
-  await seedAccounts(db);
+  await seedAccounts(database);
 }
 
 main()
@@ -21,5 +19,4 @@ main()
   .catch((e) => {
     console.error('[e2e-db] failed:', e instanceof Error ? e.message : e);
     process.exitCode = 1;
-  })
-  .finally(() => closeDb());
+  });

@@ -10,6 +10,8 @@ import * as m003 from './003_testing';
 import * as m006 from './006_certificates';
 import * as m007 from './007_audit_indexes';
 import * as m008 from './008_job_lease';
+import * as m050 from './050_record_guards';
+import * as m051 from './051_role_grants';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -23,6 +25,8 @@ export const migrations: [string, Migration][] = [
   ['006_certificates', m006],
   ['007_audit_indexes', m007],
   ['008_job_lease', m008],
+  ['050_record_guards', m050],
+  ['051_role_grants', m051],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -31,5 +35,48 @@ export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
   getMigration: async (m) => m[1],
 };
 
+/*
+ * Every table is classified exactly once (tests/api/db-protection.test.ts fails for a table that is
+ * not, so a table added later must be classified here). The class decides the runtime account's
+ * grants (db/migrate.ts) and which triggers the test expects (db/protect.ts):
+ * - append-only: SELECT, INSERT; triggers `<table>_no_update` and `<table>_no_delete` (appendOnly()).
+ * - guarded: SELECT, INSERT, UPDATE; a guard trigger `<table>_guard_update` that permits only the
+ *   allowed changes and `<table>_no_delete` (guardRows()).
+ * - operational: SELECT, INSERT, UPDATE, DELETE; state that is not a GMP record (sessions, mail
+ *   queue, leases), each with why.
+ */
+
 /** Tables the runtime account may only read and append to (no UPDATE, no DELETE). */
-export const appendOnlyTables = ['audit_event', 'e_signature', 'stored_file', 'certificate', 'measurement'];
+export const appendOnlyTables = [
+  'audit_event',
+  'e_signature',
+  'stored_file',
+  'certificate',
+  'measurement',
+  'container',
+  'role_request',
+  'role_decision',
+  'role_grant',
+];
+
+/** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
+export const guardedTables = [
+  'identity_method',
+  'reference_spectrum',
+  'instrument_check_spec',
+  'instrument_check',
+  'lot',
+  'identity_test',
+  'investigation',
+  'material',
+  'instrument',
+  'app_user',
+];
+
+/** State that is not a GMP record: the runtime account may change and delete it. */
+export const operationalTables: Record<string, string> = {
+  user_session: 'sign-in sessions; ended sessions are deleted (sign-in and sign-out are audit events)',
+  mail_outbox: 'delivery queue of e-mail; the GMP event that caused a mail is in the audit trail',
+  job_lease: 'which app server runs a background job',
+  audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
+};

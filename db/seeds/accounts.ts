@@ -1,10 +1,13 @@
 /**
- * Demo accounts, one per role plus one holding two roles (for the segregation-of-duties demo).
- * DEMO ONLY: invented people, one shared demo password documented in README. A real site
- * creates its accounts through the admin page and never runs the demo seed.
+ * Demo accounts, one per role plus one holding two roles (for the segregation-of-duties demo) and a
+ * second administrator (for the two-person rule on role grants, docs/access.md).
+ * DEMO ONLY: invented people, one shared demo password documented in README. They are created
+ * through the site-setup path (db/site-accounts.ts, owner account), as a real site's first accounts
+ * are by `npm run accounts:first`; a real site never runs the demo seed.
  */
-import type { Knex } from 'knex';
-import { appendAudit, SYSTEM_ACTOR } from '../../server/lib/audit';
+import knexFactory from 'knex';
+import { dbSettings, knexConfig } from '../config';
+import { createSiteAccounts } from '../site-accounts';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/roles';
 
@@ -16,6 +19,13 @@ export const DEMO_ACCOUNTS: { username: string; fullName: string; email: string;
   { username: 'quinn', fullName: 'Quinn Okafor', email: 'quinn.okafor@lindenhall.example', roles: ['qa_manager'] },
   { username: 'aurelia', fullName: 'Aurelia Santos', email: 'aurelia.santos@lindenhall.example', roles: ['auditor'] },
   { username: 'adam', fullName: 'Adam Lindqvist', email: 'adam.lindqvist@lindenhall.example', roles: ['admin'] },
+  // A second administrator: QA manager, verifier and administrator grants need one to confirm.
+  {
+    username: 'sigrid',
+    fullName: 'Sigrid Achterberg',
+    email: 'sigrid.achterberg@lindenhall.example',
+    roles: ['admin'],
+  },
   {
     username: 'dana',
     fullName: 'Dana Whitfield',
@@ -26,32 +36,18 @@ export const DEMO_ACCOUNTS: { username: string; fullName: string; email: string;
   { username: 'irene', fullName: 'Irene Castell', email: 'irene.castell@lindenhall.example', roles: ['qa_manager'] },
 ];
 
-export async function seedAccounts(db: Knex): Promise<void> {
+/** Creates the demo accounts in `database` (default: the configured one); existing ones are kept. */
+export async function seedAccounts(database?: string): Promise<void> {
   const hash = await hashPassword(DEMO_PASSWORD);
-  await db.transaction(async (trx) => {
-    for (const a of DEMO_ACCOUNTS) {
-      if (await trx('app_user').where({ username: a.username }).first()) continue;
-      const now = new Date();
-      const [id] = await trx('app_user').insert({
-        username: a.username,
-        full_name: a.fullName,
-        email: a.email,
-        password_hash: hash,
-        roles: JSON.stringify(a.roles),
-        must_change_password: 0,
-        failed_attempts: 0,
-        active: 1,
-        created_at: now,
-        updated_at: now,
-      });
-      await appendAudit(trx, {
-        actor: SYSTEM_ACTOR,
-        action: 'user.created',
-        entityType: 'user',
-        entityId: id,
-        after: { username: a.username, fullName: a.fullName, roles: a.roles },
-        reason: 'demo seed',
-      });
-    }
-  });
+  const owner = knexFactory(knexConfig(dbSettings('owner', database), { min: 0, max: 1 }));
+  try {
+    await createSiteAccounts(owner, DEMO_ACCOUNTS, {
+      passwordHash: () => hash,
+      mustChangePassword: false,
+      reason: 'demo seed: the first accounts of the invented demo site',
+      skipExisting: true,
+    });
+  } finally {
+    await owner.destroy();
+  }
 }

@@ -334,6 +334,23 @@ export const NEW_HIRE = {
   roles: ['operator'],
 } as const;
 
+/**
+ * A role change that waits for the second administrator (two-person rule, docs/access.md): Adam
+ * asks for the verifier role for Olga after her training; Sigrid confirms or declines it.
+ */
+export const ROLE_REQUEST = {
+  username: 'olga',
+  roles: ['operator', 'verifier'],
+  reason: 'Completed the second-person review training (training record TR-207).',
+} as const;
+
+async function seedRoleRequest(adam: DemoSession, log: Log): Promise<void> {
+  const users = await adam.get<{ id: number; username: string }[]>('/api/users');
+  const olga = users.find((u) => u.username === ROLE_REQUEST.username)!;
+  await adam.patch(`/api/users/${olga.id}`, { roles: [...ROLE_REQUEST.roles], reason: ROLE_REQUEST.reason });
+  log('a role change (verifier for Olga) awaiting the second administrator');
+}
+
 async function seedNewHire(adam: DemoSession, log: Log): Promise<void> {
   await adam.post('/api/users', {
     ...NEW_HIRE,
@@ -377,7 +394,9 @@ export async function seedDemoSite(
     await seedInstruments(p, ids, log);
     await seedLibrary(p, ids, log);
     const lots = await seedLots(p, ids, log);
-    await seedNewHire(await signIn('adam'), log);
+    const adam = await signIn('adam');
+    await seedRoleRequest(adam, log);
+    await seedNewHire(adam, log);
     return { seeded: true, ids: { ...ids, lots } };
   } finally {
     for (const s of sessions) await s.signOut().catch(() => undefined);

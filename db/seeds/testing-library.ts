@@ -162,7 +162,15 @@ export type CheckState = 'valid' | 'expired' | 'failed' | 'none';
 export async function seedInstrument(
   k: Knex,
   qa: SeedUser,
-  opts: { name: string; state: CheckState; technique?: string; sampling?: string; location?: string },
+  opts: {
+    name: string;
+    state: CheckState;
+    technique?: string;
+    sampling?: string;
+    location?: string;
+    /** a passing check that expires at this time (a recorded check never changes, so expiry is set up front) */
+    validUntil?: Date;
+  },
 ): Promise<{ instrumentId: number; checkId: number | null; name: string }> {
   const now = new Date();
   const [instrumentId] = await k('instrument').insert({
@@ -210,7 +218,8 @@ export async function seedInstrument(
     engine_version: result.engineVersion,
     performed_by: qa.id,
     performed_at: performedAt,
-    valid_until: result.verdict === 'pass' ? new Date(performedAt.getTime() + 24 * 3600_000) : null,
+    valid_until:
+      result.verdict === 'pass' ? (opts.validUntil ?? new Date(performedAt.getTime() + 24 * 3600_000)) : null,
     signature_id: null,
   });
   return { instrumentId: instrumentId as number, checkId: checkId as number, name: opts.name };

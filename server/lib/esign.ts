@@ -26,6 +26,8 @@ export const SIGNATURE_MEANINGS = [
   'result-invalidated',
   'failure-confirmed',
   'issued',
+  'role-change-confirmed',
+  'integrity-reviewed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 

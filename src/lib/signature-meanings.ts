@@ -11,6 +11,8 @@ const MEANINGS: Record<string, string> = {
   'result-invalidated': 'Result invalidated, retest authorised',
   'failure-confirmed': 'Failure confirmed, lot rejected',
   issued: 'Issued',
+  'role-change-confirmed': 'Role change confirmed by a second administrator',
+  'integrity-reviewed': 'Integrity alert reviewed by QA',
 };
 
 export function meaningLabel(meaning: string): string {

@@ -317,7 +317,7 @@ describe('record history', () => {
     const { agent } = await agentFor(['admin']);
     const upd = await agent
       .patch(`/api/users/${u.id}`)
-      .send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
+      .send({ roles: ['operator', 'auditor'], reason: 'reads records for the self-inspection' });
     expect(upd.status).toBe(200);
     const h = await agent.get(`/api/history/user/${u.id}`);
     expect(h.status).toBe(200);

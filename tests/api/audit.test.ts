@@ -3,7 +3,7 @@
  * made behind the application's back (issue 2; 21 CFR 11.10(e); EU GMP Annex 11 §9).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, ownerDb } from './helpers';
+import { agentFor, db, ownerDb, sig } from './helpers';
 import { appendAudit, verifyChain } from '../../server/lib/audit';
 
 const owner = ownerDb();
@@ -107,6 +107,7 @@ describe('hash chain', () => {
 describe('user administration is audited with before and after values', () => {
   it('records a role change with old and new roles and the reason', async () => {
     const { agent: admin } = await agentFor(['admin']);
+    const { agent: second, user: secondAdmin } = await agentFor(['admin']);
     const created = await admin.post('/api/users').send({
       username: `rolechg${Date.now() % 100000}`,
       fullName: 'Role Change',
@@ -120,8 +121,14 @@ describe('user administration is audited with before and after values', () => {
       .patch(`/api/users/${id}`)
       .send({ roles: ['operator', 'verifier'], reason: 'trained as verifier' });
     expect(upd.status).toBe(200);
+    // verifier is granted when a second administrator confirms (docs/access.md, two-person rule)
+    const confirmed = await second
+      .post(`/api/users/role-changes/${upd.body.pendingRoleChange.requestId}/confirm`)
+      .send({ signature: sig(secondAdmin) });
+    expect(confirmed.status).toBe(200);
     const ev = await db()('audit_event')
       .where({ entity_type: 'user', entity_id: String(id), action: 'user.roles-changed' })
+      .orderBy('id', 'desc') // (the first grant, at creation, is an event of its own)
       .first();
     expect(JSON.parse(ev.before_json).roles).toEqual(['operator']);
     expect(JSON.parse(ev.after_json).roles).toEqual(['operator', 'verifier']);

@@ -37,6 +37,8 @@ const NOT_FOR_AUDITORS: Record<string, string> = {
   'get /api/users':
     "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
   'get /api/users/:id': 'As above.',
+  'get /api/users/role-changes':
+    "Role changes waiting for a second administrator: the administrators' to-do list; every request and decision is an account event in the audit trail.",
   'get /api/dev/mail': 'Development-only capture of outgoing mail; not a record.',
   'get /api/mail/outbox': 'Mail delivery queue for the administrator; not a GMP record.',
   'get /api/certificates/signing-identity':

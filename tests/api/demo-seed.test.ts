@@ -58,7 +58,7 @@ beforeAll(async () => {
   await recreateDatabase(DEMO_DB);
   await migrateDatabase(DEMO_DB); // also grants the runtime account its rights on this database
   db = initDb(DEMO_DB);
-  await seedAccounts(db);
+  await seedAccounts(DEMO_DB);
   const r = await seedDemoSite(db, { database: DEMO_DB, log: () => undefined });
   expect(r.seeded).toBe(true);
   counts = await tableCounts();

@@ -22,8 +22,9 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { randomBytes } from 'node:crypto';
-import type { Knex } from 'knex';
-import { repoRoot } from '../../db/config';
+import knexFactory, { type Knex } from 'knex';
+import { dbSettings, knexConfig, repoRoot } from '../../db/config';
+import { createSiteAccounts } from '../../db/site-accounts';
 import { sha256Hex } from '../../server/lib/canonical';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/roles';
@@ -100,20 +101,22 @@ function engineResults(): Map<string, IdentityResult> {
 
 async function insertUser(db: Knex, roles: Role[], tag: string, fullName: string): Promise<FixtureUser> {
   const username = `${tag}${unique('')}`.toLowerCase().slice(0, 60);
-  const now = new Date();
-  const [id] = await db('app_user').insert({
-    username,
-    full_name: fullName,
-    email: `${username}@example.test`,
-    password_hash: await hashPassword(FIXTURE_PASSWORD),
-    roles: JSON.stringify(roles),
-    must_change_password: 0,
-    failed_attempts: 0,
-    active: 1,
-    created_at: now,
-    updated_at: now,
-  });
-  return { id: Number(id), username, fullName, password: FIXTURE_PASSWORD };
+  // Roles come only from role grants: fixture accounts take the site-setup path of the owner
+  // account of the same database (db/site-accounts.ts), as a site's first accounts do.
+  const database = (db.client.config as { connection: { database: string } }).connection.database;
+  const owner = knexFactory(knexConfig(dbSettings('owner', database), { min: 0, max: 1 }));
+  try {
+    const hash = await hashPassword(FIXTURE_PASSWORD);
+    const ids = await createSiteAccounts(owner, [{ username, fullName, email: `${username}@example.test`, roles }], {
+      passwordHash: () => hash,
+      mustChangePassword: false,
+      reason: 'certificate test fixture',
+      audit: false,
+    });
+    return { id: ids.get(username)!, username, fullName, password: FIXTURE_PASSWORD };
+  } finally {
+    await owner.destroy();
+  }
 }
 
 async function signature(
@@ -316,15 +319,13 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   const [testId] = await db('identity_test').insert({
     lot_id: lotId,
     attempt: 1,
-    status: verified ? 'verified' : 'awaiting-verification',
+    status: 'in-progress',
     method_id: methodId,
     instrument_id: instrumentId,
-    performed_by: operator.id,
-    verified_by: verified ? verifier.id : null,
     created_by: operator.id,
     created_at: at(15),
     updated_at: at(90),
-    row_version: verified ? 2 : 1,
+    row_version: 0,
   });
   for (let i = 1; i <= n; i++) {
     const label = `${lotNumber}-${String(i).padStart(3, '0')}`;
@@ -358,9 +359,17 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
   }
   const performed = await signature(db, operator, 'performed', 'identity_test', testId, at(60));
   const verifiedSig = verified ? await signature(db, verifier, 'verified', 'identity_test', testId, at(90)) : null;
-  await db('identity_test')
-    .where({ id: testId })
-    .update({ performed_signature_id: performed, verified_signature_id: verifiedSig });
+  // The permitted steps of a test (the database refuses any other change): performed, then verified.
+  await db('identity_test').where({ id: testId }).update({
+    status: 'awaiting-verification',
+    performed_by: operator.id,
+    performed_signature_id: performed,
+    row_version: 1,
+  });
+  if (verified)
+    await db('identity_test')
+      .where({ id: testId })
+      .update({ status: 'verified', verified_by: verifier.id, verified_signature_id: verifiedSig, row_version: 2 });
 
   return {
     lotId: Number(lotId),

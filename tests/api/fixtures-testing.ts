@@ -83,7 +83,10 @@ export async function approvedMaterial(opts: {
  * whose validity ended. 'failed': checked against the Ph. Eur. 2.2.24 FT positions (fails on this
  * ATR film). 'none': no check at all.
  */
-export async function instrumentWithCheck(state: CheckState, opts: { technique?: string; sampling?: string } = {}) {
+export async function instrumentWithCheck(
+  state: CheckState,
+  opts: { technique?: string; sampling?: string; validUntil?: Date } = {},
+) {
   return seedInstrument(db(), await fixtureQa(), { name: uniqueName('FTIR-'), state, ...opts });
 }
 

@@ -7,6 +7,7 @@ import { getDb } from '../../server/lib/db';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/roles';
 import { dbSettings, knexConfig } from '../../db/config';
+import { createSiteAccounts } from '../../db/site-accounts';
 import { TEST_DB } from './db-name';
 
 export const PASSWORD = 'correct-horse-battery-1';
@@ -37,25 +38,26 @@ export function uniqueName(prefix: string): string {
   return `${prefix}${Date.now().toString(36)}${counter}`.toLowerCase().slice(0, 60);
 }
 
+let fixtureOwner: Knex | null = null;
+/**
+ * Test accounts get their roles the way a site's first accounts do: through the site-setup path
+ * of the owner account (db/site-accounts.ts), the one path that needs no second administrator.
+ * The runtime account cannot give roles that way (tests/api/segregation.test.ts).
+ */
 export async function makeUser(
   roles: Role[],
   opts: { mustChange?: boolean; password?: string; username?: string } = {},
 ) {
+  testApp();
   const username = opts.username ?? uniqueName(roles[0].replace('_', ''));
-  const now = new Date();
-  const [id] = await db()('app_user').insert({
-    username,
-    full_name: `Test ${username}`,
-    email: `${username}@test.example`,
-    password_hash: await hashPassword(opts.password ?? PASSWORD),
-    roles: JSON.stringify(roles),
-    must_change_password: opts.mustChange ? 1 : 0,
-    failed_attempts: 0,
-    active: 1,
-    created_at: now,
-    updated_at: now,
-  });
-  return { id: id as number, username, fullName: `Test ${username}`, password: opts.password ?? PASSWORD };
+  const hash = await hashPassword(opts.password ?? PASSWORD);
+  fixtureOwner ??= ownerDb();
+  const ids = await createSiteAccounts(
+    fixtureOwner,
+    [{ username, fullName: `Test ${username}`, email: `${username}@test.example`, roles }],
+    { passwordHash: () => hash, mustChangePassword: !!opts.mustChange, reason: 'test account', audit: false },
+  );
+  return { id: ids.get(username)!, username, fullName: `Test ${username}`, password: opts.password ?? PASSWORD };
 }
 
 /** A supertest agent signed in as a new user with the given roles. */

@@ -231,12 +231,12 @@ describe('instrument check before testing', () => {
   });
 
   it('refuses uploads once the check of the test instrument has expired', async () => {
-    const inst = await instrumentWithCheck('valid');
+    // A recorded check never changes (the database refuses it), so this one is recorded to expire in a few seconds.
+    const validUntil = new Date(Date.now() + 4000);
+    const inst = await instrumentWithCheck('valid', { validUntil });
     const lot = await receiveLot(operator.agent, nylon.materialId, 1);
     const testId = await startTest(operator.agent, lot.id, inst.instrumentId);
-    await db()('instrument_check')
-      .where({ id: inst.checkId })
-      .update({ valid_until: new Date(Date.now() - 1000) });
+    await new Promise((r) => setTimeout(r, Math.max(0, validUntil.getTime() - Date.now() + 200)));
     const before = await writeCounts();
     const res = await uploadRequest(
       operator.agent,

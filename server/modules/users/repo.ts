@@ -19,6 +19,18 @@ export interface UserRow {
   updated_at: Date;
 }
 
+/** A role change that waits for a second administrator (docs/access.md). */
+export interface PendingRoleChange {
+  requestId: number;
+  userId: number;
+  rolesBefore: Role[];
+  rolesAfter: Role[];
+  requestedBy: number;
+  requestedByName: string;
+  requestedAt: string;
+  reason: string;
+}
+
 export interface PublicUser {
   id: number;
   username: string;
@@ -30,9 +42,11 @@ export interface PublicUser {
   lockedUntil: string | null;
   failedAttempts: number;
   createdAt: string;
+  /** present on the administrator's account list and detail; null when nothing waits */
+  pendingRoleChange?: PendingRoleChange | null;
 }
 
-export function toPublicUser(u: UserRow): PublicUser {
+export function toPublicUser(u: UserRow, pending?: PendingRoleChange | null): PublicUser {
   return {
     id: u.id,
     username: u.username,
@@ -45,7 +59,37 @@ export function toPublicUser(u: UserRow): PublicUser {
       u.locked_until && new Date(u.locked_until).getTime() > Date.now() ? new Date(u.locked_until).toISOString() : null,
     failedAttempts: u.failed_attempts,
     createdAt: new Date(u.created_at).toISOString(),
+    ...(pending !== undefined ? { pendingRoleChange: pending } : {}),
   };
+}
+
+/** Role requests without a decision, by account (oldest first). */
+export async function pendingRoleChanges(db: Db, userId?: number): Promise<PendingRoleChange[]> {
+  const q = db('role_request as r')
+    .leftJoin('role_decision as d', 'd.request_id', 'r.id')
+    .join('app_user as a', 'a.id', 'r.requested_by')
+    .whereNull('d.id')
+    .select('r.*', 'a.full_name as requested_by_name')
+    .orderBy('r.id');
+  if (userId !== undefined) q.where('r.user_id', userId);
+  const rows = await q;
+  return rows.map((r) => ({
+    requestId: r.id,
+    userId: r.user_id,
+    rolesBefore: parseJson<Role[]>(r.roles_before, []),
+    rolesAfter: parseJson<Role[]>(r.roles_after, []),
+    requestedBy: r.requested_by,
+    requestedByName: r.requested_by_name,
+    requestedAt: new Date(r.requested_at).toISOString(),
+    reason: r.reason,
+  }));
+}
+
+/** Accounts with the pending role change of each (the administrator's view). */
+export async function listUsersWithPending(db: Db): Promise<PublicUser[]> {
+  const pending = new Map<number, PendingRoleChange>();
+  for (const p of await pendingRoleChanges(db)) pending.set(p.userId, p);
+  return (await listUsers(db)).map((u) => toPublicUser(u, pending.get(u.id) ?? null));
 }
 
 export const findByUsername = (db: Db, username: string): Promise<UserRow | undefined> =>

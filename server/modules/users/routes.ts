@@ -1,9 +1,11 @@
-/** HTTP edge of account administration (admin only). */
+/** HTTP edge of account administration (admin only) and the person directory (active accounts, any role). */
 import { Router } from 'express';
 import { z } from 'zod';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
 import { ROLES } from '../../lib/roles';
+import { signatureInput } from '../../lib/esign';
+import * as grants from './grants';
 import * as repo from './repo';
 import * as service from './service';
 import { notFound } from '../../lib/errors';
@@ -34,19 +36,65 @@ export function userRoutes(): Router {
   const r = Router();
   defineRoute(
     r,
-    { method: 'get', path: '/api/users', summary: 'List accounts', tag: 'users', access: ADMIN },
-    async () => (await repo.listUsers(getDb())).map(repo.toPublicUser),
+    {
+      method: 'get',
+      path: '/api/users',
+      summary: 'List accounts, each with the role change that waits for confirmation',
+      tag: 'users',
+      access: ADMIN,
+    },
+    () => repo.listUsersWithPending(getDb()),
   );
   defineRoute(
     r,
     {
       method: 'get',
       path: '/api/users/directory',
-      summary: 'Names and roles of active accounts (for filters)',
+      summary: 'Active accounts with the fields a person picker needs (id, name, user name)',
       tag: 'users',
       access: 'authenticated',
     },
-    async () => (await repo.listUsers(getDb())).map((u) => ({ id: u.id, fullName: u.full_name, username: u.username })),
+    async () =>
+      (await repo.listUsers(getDb()))
+        .filter((u) => u.active)
+        .map((u) => ({ id: u.id, fullName: u.full_name, username: u.username })),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/users/role-changes',
+      summary: 'Role changes waiting for a second administrator (two-person rule)',
+      tag: 'users',
+      access: ADMIN,
+    },
+    () => grants.roleChangesWaiting(getDb()),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/users/role-changes/:id/confirm',
+      summary: "Confirm another administrator's role change with an e-signature (grants the roles)",
+      tag: 'users',
+      access: ADMIN,
+      params: idParams,
+      body: z.object({ signature: signatureInput }),
+    },
+    ({ params, body, user, ip }) => grants.confirmRoleChange(getDb(), user, params.id, body.signature, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/users/role-changes/:id/decline',
+      summary: 'Decline a role change (or withdraw your own request), with a reason',
+      tag: 'users',
+      access: ADMIN,
+      params: idParams,
+      body: z.object({ reason }),
+    },
+    ({ params, body, actor, ip }) => grants.declineRoleChange(getDb(), actor, params.id, body.reason, ip),
   );
   defineRoute(
     r,
@@ -54,7 +102,8 @@ export function userRoutes(): Router {
     async ({ params }) => {
       const u = await repo.findById(getDb(), params.id);
       if (!u) throw notFound('The account');
-      return repo.toPublicUser(u);
+      const [pending] = await repo.pendingRoleChanges(getDb(), u.id);
+      return repo.toPublicUser(u, pending ?? null);
     },
   );
   defineRoute(
@@ -75,7 +124,8 @@ export function userRoutes(): Router {
     {
       method: 'patch',
       path: '/api/users/:id',
-      summary: 'Change name, e-mail, roles or active state',
+      summary:
+        "Change name, e-mail, roles or active state of another account (QA manager, verifier and administrator wait for a second administrator's confirmation)",
       tag: 'users',
       access: ADMIN,
       params: idParams,

@@ -1,10 +1,15 @@
-/** Account rules: admins create, edit roles of, deactivate, unlock and reset accounts; nothing is deleted. */
+/**
+ * Account rules: admins create, edit, deactivate, unlock and reset accounts; nothing is deleted.
+ * Roles change through role grants (./grants.ts): nobody changes their own roles or status, and
+ * QA manager, verifier and administrator need a second administrator's confirmation.
+ */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
 import { hashPassword, passwordProblem } from '../../lib/passwords';
 import { invalidateUserSessions } from '../../lib/sessions';
-import type { Role } from '../../lib/roles';
+import { canonicalRoles, type Role } from '../../lib/roles';
+import { assertNotSelfStatus, assertRolesAllowed, changeRoles } from './grants';
 import * as repo from './repo';
 
 export interface NewUser {
@@ -16,19 +21,21 @@ export interface NewUser {
 }
 
 export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<repo.PublicUser> {
+  assertRolesAllowed(input.roles);
   const p = passwordProblem(input.temporaryPassword, input.username);
   if (p) throw badRequest(p);
   if (await repo.findByUsername(db, input.username))
     throw conflict(`The user name "${input.username}" is already taken.`);
   const hash = await hashPassword(input.temporaryPassword);
-  return db.transaction(async (trx) => {
+  const id = await db.transaction(async (trx) => {
     const now = new Date();
+    // An account is created without roles; its roles come from role grants (docs/access.md).
     const id = await repo.insertUser(trx, {
       username: input.username,
       full_name: input.fullName,
       email: input.email,
       password_hash: hash,
-      roles: JSON.stringify(input.roles),
+      roles: '[]',
       must_change_password: 1,
       failed_attempts: 0,
       locked_until: null,
@@ -38,10 +45,19 @@ export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: str
       updated_at: now,
     });
     const u = (await repo.findById(trx, id))!;
-    const pub = repo.toPublicUser(u);
-    await appendAudit(trx, { actor, action: 'user.created', entityType: 'user', entityId: id, after: pub, ip });
-    return pub;
+    await appendAudit(trx, {
+      actor,
+      action: 'user.created',
+      entityType: 'user',
+      entityId: id,
+      after: { ...repo.toPublicUser(u), rolesAsked: canonicalRoles(input.roles) },
+      ip,
+    });
+    await changeRoles(trx, actor, u, input.roles, 'roles of the new account', ip);
+    return id;
   });
+  const [pending] = await repo.pendingRoleChanges(db, id);
+  return repo.toPublicUser((await repo.findById(db, id))!, pending ?? null);
 }
 
 export interface UserPatch {
@@ -59,40 +75,40 @@ export async function updateUser(
   patch: UserPatch,
   ip: string | null,
 ): Promise<repo.PublicUser> {
-  return db.transaction(async (trx) => {
+  assertNotSelfStatus(actor, id, patch);
+  if (patch.roles) assertRolesAllowed(patch.roles);
+  await db.transaction(async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
-    if (actor.id === id && patch.active === false) throw badRequest('You cannot deactivate your own account.');
-    if (actor.id === id && patch.roles && !patch.roles.includes('admin'))
-      throw badRequest('You cannot remove your own administrator role.');
     const upd: Partial<repo.UserRow> = {};
     if (patch.fullName !== undefined) upd.full_name = patch.fullName;
     if (patch.email !== undefined) upd.email = patch.email;
-    if (patch.roles !== undefined) upd.roles = JSON.stringify(patch.roles);
     if (patch.active !== undefined) upd.active = patch.active ? 1 : 0;
-    await repo.updateUser(trx, id, upd);
-    if (patch.active === false || patch.roles) await invalidateUserSessions(trx, id);
-    const after = (await repo.findById(trx, id))!;
-    const action =
-      patch.active === false
-        ? 'user.deactivated'
-        : patch.active === true && !before.active
-          ? 'user.reactivated'
-          : patch.roles
-            ? 'user.roles-changed'
+    if (Object.keys(upd).length) {
+      await repo.updateUser(trx, id, upd);
+      if (patch.active === false) await invalidateUserSessions(trx, id);
+      const after = (await repo.findById(trx, id))!;
+      const action =
+        patch.active === false
+          ? 'user.deactivated'
+          : patch.active === true && !before.active
+            ? 'user.reactivated'
             : 'user.updated';
-    await appendAudit(trx, {
-      actor,
-      action,
-      entityType: 'user',
-      entityId: id,
-      before: repo.toPublicUser(before),
-      after: repo.toPublicUser(after),
-      reason: patch.reason,
-      ip,
-    });
-    return repo.toPublicUser(after);
+      await appendAudit(trx, {
+        actor,
+        action,
+        entityType: 'user',
+        entityId: id,
+        before: repo.toPublicUser(before),
+        after: repo.toPublicUser(after),
+        reason: patch.reason,
+        ip,
+      });
+    }
+    if (patch.roles) await changeRoles(trx, actor, (await repo.findById(trx, id))!, patch.roles, patch.reason, ip);
   });
+  const [pending] = await repo.pendingRoleChanges(db, id);
+  return repo.toPublicUser((await repo.findById(db, id))!, pending ?? null);
 }
 
 export async function unlockUser(

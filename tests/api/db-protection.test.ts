@@ -1,0 +1,346 @@
+/**
+ * What protects what in the database itself (docs/compliance.md, "What protects what"; issue 12
+ * item 2). Every claim of that section is tried here with the forbidden statement, through the
+ * runtime account the server uses (and, for the triggers, through the owner account too):
+ * - the classification: every table is append-only, guarded or operational, with the matching
+ *   grants and triggers, so a table added later fails here until it is classified;
+ * - the three changes the probe of issue 12 got through (an approved method's minimum correlation
+ *   set to 0, an approved reference's bands emptied, a failed instrument check turned into a pass);
+ * - append-only tables refuse UPDATE and DELETE; guarded records refuse deletion and every change
+ *   outside their permitted transitions; signature columns only take a signature of the same record.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Knex } from 'knex';
+import { appendOnlyTables, guardedTables, operationalTables } from '../../db/migrations/index';
+import { runtimePrivileges } from '../../db/migrate';
+import { guardTriggerName } from '../../db/protect';
+import { issueCertificate } from '../../server/modules/certificates';
+import { createPassedLot, type PassedLot } from './fixtures-certificates';
+import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
+import { agentFor, db, makeUser, ownerDb } from './helpers';
+
+let owner: Knex;
+let material: ApprovedMaterial;
+let failedCheck: { instrumentId: number; checkId: number | null };
+let lot: PassedLot;
+let certificateId: number;
+
+const NO_PRIVILEGE = { errno: 1142 }; // ER_TABLEACCESS_DENIED_ERROR: the runtime account holds no such right
+const REFUSED = { errno: 1644 }; // ER_SIGNAL_EXCEPTION: a protection trigger said no (SQLSTATE 45000)
+
+beforeAll(async () => {
+  owner = ownerDb();
+  material = await approvedMaterial({ name: 'Nylon 6,6 (protection test)', referenceFiles: [FIBRES.nylon66Reference] });
+  failedCheck = await instrumentWithCheck('failed');
+  lot = await createPassedLot(db(), { containers: 2 });
+  certificateId = (
+    await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
+  ).id;
+  // a declined role change: rows in role_request and role_decision
+  const a = await agentFor(['admin']);
+  const b = await agentFor(['admin']);
+  const op = await makeUser(['operator']);
+  const req = await a.agent.patch(`/api/users/${op.id}`).send({ roles: ['operator', 'verifier'], reason: 'probe' });
+  await b.agent
+    .post(`/api/users/role-changes/${req.body.pendingRoleChange.requestId}/decline`)
+    .send({ reason: 'probe' });
+});
+
+afterAll(async () => {
+  await retire();
+  await owner.destroy();
+});
+
+async function tables(k: Knex): Promise<string[]> {
+  const [rows] = (await k.raw(
+    "SELECT table_name AS t FROM information_schema.tables WHERE table_schema = DATABASE() AND table_type = 'BASE TABLE'",
+  )) as [{ t: string }[]];
+  return rows.map((r) => r.t).filter((t) => !t.startsWith('knex_migrations'));
+}
+
+async function triggers(k: Knex): Promise<Map<string, { table: string; timing: string; event: string; body: string }>> {
+  const [rows] = (await k.raw(
+    'SELECT trigger_name AS n, event_object_table AS t, action_timing AS timing, event_manipulation AS ev, action_statement AS body ' +
+      'FROM information_schema.triggers WHERE trigger_schema = DATABASE()',
+  )) as [{ n: string; t: string; timing: string; ev: string; body: string }[]];
+  return new Map(rows.map((r) => [r.n, { table: r.t, timing: r.timing, event: r.ev, body: r.body }]));
+}
+
+describe('every table is classified, with the grants and triggers of its class', () => {
+  it('each table of the schema is append-only, guarded or operational, exactly once', async () => {
+    const classes = [...appendOnlyTables, ...guardedTables, ...Object.keys(operationalTables)];
+    expect(new Set(classes).size, 'a table is listed in two classes').toBe(classes.length);
+    const unclassified = (await tables(owner)).filter((t) => !classes.includes(t));
+    expect(unclassified, 'classify these tables in db/migrations/index.ts').toEqual([]);
+  });
+
+  it("the runtime account's rights on each table are exactly those of its class", async () => {
+    // information_schema.table_privileges lists the connected account's own table grants.
+    const [rows] = (await db().raw(
+      'SELECT table_name AS t, privilege_type AS p FROM information_schema.table_privileges WHERE table_schema = DATABASE()',
+    )) as [{ t: string; p: string }[]];
+    const held = new Map<string, string[]>();
+    for (const r of rows) held.set(r.t, [...(held.get(r.t) ?? []), r.p]);
+    for (const t of await tables(owner))
+      expect((held.get(t) ?? []).sort(), `grants on ${t}`).toEqual([...runtimePrivileges(t)].sort());
+  });
+
+  it('append-only tables carry the no-update and no-delete triggers', async () => {
+    const trg = await triggers(owner);
+    for (const t of appendOnlyTables) {
+      expect(trg.get(`${t}_no_update`), `${t}_no_update`).toMatchObject({
+        table: t,
+        timing: 'BEFORE',
+        event: 'UPDATE',
+      });
+      expect(trg.get(`${t}_no_delete`), `${t}_no_delete`).toMatchObject({
+        table: t,
+        timing: 'BEFORE',
+        event: 'DELETE',
+      });
+    }
+  });
+
+  it('guarded tables carry a guard that classifies every column, and a no-delete trigger', async () => {
+    const trg = await triggers(owner);
+    for (const t of guardedTables) {
+      const guard = trg.get(guardTriggerName(t));
+      expect(guard, `${guardTriggerName(t)}`).toMatchObject({ table: t, timing: 'BEFORE', event: 'UPDATE' });
+      expect(trg.get(`${t}_no_delete`), `${t}_no_delete`).toMatchObject({
+        table: t,
+        timing: 'BEFORE',
+        event: 'DELETE',
+      });
+      const marker = /drumline-guard [a-z_]+: ([^*]*)\*\//.exec(guard!.body)?.[1] ?? '';
+      expect(marker, `${t}: re-apply the guard with every column classified`).not.toMatch(/UNCLASSIFIED/);
+      const named = new Set(marker.split(/[;,:\s]+/));
+      const [cols] = (await owner.raw(
+        'SELECT column_name AS c FROM information_schema.columns WHERE table_schema = DATABASE() AND table_name = ?',
+        [t],
+      )) as [{ c: string }[]];
+      for (const { c } of cols) expect(named.has(c), `${t}.${c} is not classified in its guard`).toBe(true);
+    }
+  });
+});
+
+describe('the probe of issue 12: approved content can no longer be changed behind the application', () => {
+  it("an approved method's minimum correlation cannot be set to 0", async () => {
+    const m = await db()('identity_method').where({ id: material.methodId }).first();
+    const params = JSON.parse(m.params);
+    params.thresholds.minCorrelation = 0;
+    await expect(
+      db()('identity_method')
+        .where({ id: material.methodId })
+        .update({ params: JSON.stringify(params) }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/params cannot change once approved/) });
+    await expect(
+      owner('identity_method')
+        .where({ id: material.methodId })
+        .update({ params: JSON.stringify(params) }),
+    ).rejects.toMatchObject(REFUSED);
+    expect(JSON.parse((await db()('identity_method').where({ id: material.methodId }).first()).params)).toEqual(
+      JSON.parse(m.params),
+    );
+  });
+
+  it("an approved reference's bands cannot be emptied", async () => {
+    const id = material.referenceIds[0];
+    await expect(db()('reference_spectrum').where({ id }).update({ bands: '[]' })).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/bands cannot change once approved/),
+    });
+    expect(JSON.parse((await db()('reference_spectrum').where({ id }).first()).bands).length).toBeGreaterThan(3);
+  });
+
+  it('a failed instrument check cannot be turned into a pass', async () => {
+    const id = failedCheck.checkId!;
+    await expect(
+      db()('instrument_check')
+        .where({ id })
+        .update({ verdict: 'pass', valid_until: new Date(Date.now() + 86_400_000) }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/verdict never changes/) });
+    expect((await db()('instrument_check').where({ id }).first()).verdict).toBe('fail');
+  });
+});
+
+describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; owner: trigger)', () => {
+  const probes: Record<string, { column: string; value: unknown }> = {
+    audit_event: { column: 'reason', value: 'rewritten' },
+    e_signature: { column: 'content_hash', value: '0'.repeat(64) },
+    stored_file: { column: 'data', value: Buffer.from('rewritten') },
+    certificate: { column: 'sha256', value: '0'.repeat(64) },
+    measurement: { column: 'verdict', value: 'pass' },
+    container: { column: 'label', value: 'RELABELLED' },
+    role_request: { column: 'roles_after', value: '["admin"]' },
+    role_decision: { column: 'decision', value: 'confirmed' },
+    role_grant: { column: 'roles', value: '["admin"]' },
+  };
+  it('covers every append-only table', () => {
+    expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
+  });
+  it.each(Object.keys(probes))('%s', async (t) => {
+    const row = await db()(t).orderBy('id', 'desc').first('id');
+    expect(row, `no ${t} row to try`).toBeTruthy();
+    const { column, value } = probes[t];
+    await expect(
+      db()(t)
+        .where({ id: row.id })
+        .update({ [column]: value }),
+    ).rejects.toMatchObject(NO_PRIVILEGE);
+    await expect(db()(t).where({ id: row.id }).delete()).rejects.toMatchObject(NO_PRIVILEGE);
+    await expect(
+      owner(t)
+        .where({ id: row.id })
+        .update({ [column]: value }),
+    ).rejects.toMatchObject(REFUSED);
+    await expect(owner(t).where({ id: row.id }).delete()).rejects.toMatchObject(REFUSED);
+  });
+});
+
+describe('guarded records: never deleted, only the permitted changes', () => {
+  it('an approved method cannot go back to draft, and a draft cannot be approved without its own signature', async () => {
+    await expect(
+      db()('identity_method').where({ id: material.methodId }).update({ status: 'draft' }),
+    ).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/status may not change from approved to draft/),
+    });
+    const v1 = await db()('identity_method').where({ id: material.methodId }).first();
+    const [draftId] = await db()('identity_method').insert({
+      ...v1,
+      id: undefined,
+      version: 2,
+      status: 'draft',
+      supersedes_id: v1.id,
+      approved_signature_id: null,
+      approved_at: null,
+    });
+    // A draft's content may change (the permitted edit) ...
+    await db()('identity_method').where({ id: draftId }).update({ change_note: 'tuned' });
+    // ... but it is approved only with a signature ...
+    await expect(
+      db()('identity_method').where({ id: draftId }).update({ status: 'approved', approved_at: new Date() }),
+    ).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/status approved needs approved_signature_id/),
+    });
+    // ... of this very version (not the signature of version 1).
+    await expect(
+      db()('identity_method')
+        .where({ id: draftId })
+        .update({ status: 'approved', approved_at: new Date(), approved_signature_id: v1.approved_signature_id }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/must name a approved signature/) });
+    // and the signature of an approved version is never exchanged.
+    await expect(
+      db()('identity_method').where({ id: material.methodId }).update({ approved_signature_id: null }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/set once/) });
+  });
+
+  it('an approved reference can only be retired, with its retirement signature', async () => {
+    const id = material.referenceIds[0];
+    await expect(db()('reference_spectrum').where({ id }).update({ status: 'draft' })).rejects.toMatchObject(REFUSED);
+    await expect(
+      db()('reference_spectrum').where({ id }).update({ status: 'retired', retire_reason: 'no signature' }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/retired needs retired_signature_id/) });
+    await expect(db()('reference_spectrum').where({ id }).update({ approved_method_id: null })).rejects.toMatchObject(
+      REFUSED,
+    );
+  });
+
+  it('an approved check specification cannot change its bands', async () => {
+    const spec = await db()('instrument_check_spec')
+      .where({ instrument_id: failedCheck.instrumentId, status: 'approved' })
+      .first();
+    await expect(db()('instrument_check_spec').where({ id: spec.id }).update({ bands: '[]' })).rejects.toMatchObject(
+      REFUSED,
+    );
+  });
+
+  it('a passed lot cannot go back, cannot be released unless passed, and points only to its own certificates', async () => {
+    await expect(
+      db()('lot').where({ id: lot.lotId }).update({ identity_status: 'awaiting-testing' }),
+    ).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/identity_status may not change from passed/),
+    });
+    await expect(db()('lot').where({ id: lot.lotId }).update({ container_count: 1 })).rejects.toMatchObject(REFUSED);
+    const other = await createPassedLot(db(), { containers: 1, stage: 'awaiting-verification' });
+    await expect(db()('lot').where({ id: other.lotId }).update({ status: 'released' })).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/only a lot whose identity passed can be released/),
+    });
+    await expect(
+      db()('lot').where({ id: other.lotId }).update({ certificate_id: certificateId }),
+    ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/certificate of this lot/) });
+    // the permitted change: a passed lot is released
+    await db()('lot').where({ id: lot.lotId }).update({ status: 'released' });
+    expect((await db()('lot').where({ id: lot.lotId }).first()).status).toBe('released');
+  });
+
+  it('a verified test is frozen: no status change, no other verifier, no other measurement scope', async () => {
+    await expect(
+      db()('identity_test').where({ id: lot.testId }).update({ status: 'in-progress' }),
+    ).rejects.toMatchObject(REFUSED);
+    await expect(
+      db()('identity_test').where({ id: lot.testId }).update({ verified_by: lot.operator.id }),
+    ).rejects.toMatchObject(REFUSED);
+    await expect(
+      db()('identity_test').where({ id: lot.testId }).update({ method_id: material.methodId }),
+    ).rejects.toMatchObject(REFUSED);
+  });
+
+  it('a closed investigation cannot be reopened or re-decided', async () => {
+    const [id] = await db()('investigation').insert({
+      number: `INV-PROT-${Date.now()}`,
+      lot_id: lot.lotId,
+      test_id: lot.testId,
+      status: 'closed',
+      failing: '[]',
+      phase1: '{}',
+      decision: 'confirmed',
+      justification: 'closed for the protection test',
+      opened_at: new Date(),
+      closed_at: new Date(),
+      updated_at: new Date(),
+    });
+    await expect(db()('investigation').where({ id }).update({ status: 'open' })).rejects.toMatchObject(REFUSED);
+    await expect(db()('investigation').where({ id }).update({ decision: 'invalidated' })).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/decision is set once/),
+    });
+  });
+
+  it('master data keep their identifying columns: a material code, an instrument technique', async () => {
+    await expect(db()('material').where({ id: material.materialId }).update({ code: 'RENAMED' })).rejects.toMatchObject(
+      REFUSED,
+    );
+    await expect(
+      db()('instrument').where({ id: failedCheck.instrumentId }).update({ technique: 'nir' }),
+    ).rejects.toMatchObject(REFUSED);
+    // the permitted change (audited by the application with a reason)
+    await db()('material').where({ id: material.materialId }).update({ notes: 'edited note' });
+  });
+
+  // (last: the rows of every guarded table exist by now)
+  it('no guarded row can be deleted (runtime: no privilege; owner: trigger)', async () => {
+    for (const t of guardedTables) {
+      const row = await db()(t).orderBy('id', 'desc').first('id');
+      expect(row, `no ${t} row to try`).toBeTruthy();
+      await expect(db()(t).where({ id: row.id }).delete(), t).rejects.toMatchObject(NO_PRIVILEGE);
+      await expect(owner(t).where({ id: row.id }).delete(), t).rejects.toMatchObject(REFUSED);
+    }
+  });
+});
+
+describe('the runtime account cannot remove the protection', () => {
+  it.each(['stored_file_no_update', 'lot_guard_update', 'identity_method_guard_update'])(
+    'DROP TRIGGER %s is refused',
+    async (name) => {
+      await expect(db().raw(`DROP TRIGGER ${name}`)).rejects.toThrow(/denied/i);
+    },
+  );
+  it('TRUNCATE and ALTER are refused on a guarded table', async () => {
+    await expect(db().raw('TRUNCATE TABLE identity_method')).rejects.toThrow(/denied/i);
+    await expect(db().raw('ALTER TABLE lot DROP COLUMN notes')).rejects.toThrow(/denied/i);
+  });
+});
