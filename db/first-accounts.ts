@@ -18,7 +18,7 @@ import { z } from 'zod';
 import { dbSettings, knexConfig } from './config';
 import { createSiteAccounts, type SiteAccount } from './site-accounts';
 import { hashPassword } from '../server/lib/passwords';
-import { ROLES, roleCombinationProblem } from '../server/lib/roles';
+import { ROLES, roleCombinationProblem } from '../server/lib/contract';
 
 export const firstAccountsSchema = z
   .array(

@@ -6,7 +6,7 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../server/lib/audit';
-import { canonicalRoles, roleCombinationProblem, type Role } from '../server/lib/roles';
+import { canonicalRoles, roleCombinationProblem, type Role } from '../server/lib/contract';
 
 export interface SiteAccount {
   username: string;

@@ -9,7 +9,7 @@ import knexFactory from 'knex';
 import { dbSettings, knexConfig } from '../config';
 import { createSiteAccounts } from '../site-accounts';
 import { hashPassword } from '../../server/lib/passwords';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 
 export const DEMO_PASSWORD = 'drumline-demo-2026';
 

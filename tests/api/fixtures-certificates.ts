@@ -27,7 +27,7 @@ import { dbSettings, knexConfig, repoRoot } from '../../db/config';
 import { createSiteAccounts } from '../../db/site-accounts';
 import { sha256Hex } from '../../server/lib/canonical';
 import { hashPassword } from '../../server/lib/passwords';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,

@@ -11,14 +11,22 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
-import { checkSignatureCredentials, recordSignature, type SignatureInput } from '../../lib/esign';
+import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
 import { enqueueMailToRole } from '../../lib/mail';
-import { canonicalRoles, CONFIRMED_ROLES, ROLE_LABELS, roleCombinationProblem, type Role } from '../../lib/roles';
+import {
+  canonicalRoles,
+  CONFIRMED_ROLES,
+  ROLE_LABELS,
+  roleCombinationProblem,
+  type Role,
+  type SignatureInput,
+} from '../../lib/contract';
 import { invalidateUserSessions } from '../../lib/sessions';
 import { pageLink } from '../lots/links';
+import type { RoleChangeWaiting } from './contract';
 import * as repo from './repo';
 
 const words = (roles: readonly Role[]) => (roles.length ? roles.map((r) => ROLE_LABELS[r]).join(', ') : 'no role');
@@ -294,7 +302,7 @@ export async function declineRoleChange(db: Knex, actor: Actor, requestId: numbe
   return repo.toPublicUser((await repo.findById(db, userId))!, null);
 }
 
-export async function roleChangesWaiting(db: Knex) {
+export async function roleChangesWaiting(db: Knex): Promise<RoleChangeWaiting[]> {
   const pending = await repo.pendingRoleChanges(db);
   const users = new Map((await repo.listUsers(db)).map((u) => [u.id, u]));
   return pending.map((p) => ({

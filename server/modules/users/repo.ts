@@ -1,7 +1,8 @@
 /** Data access for accounts. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type { Role } from '../../lib/roles';
+import type { Role } from '../../lib/contract';
+import type { PendingRoleChange, UserAccount } from './contract';
 
 export interface UserRow {
   id: number;
@@ -19,34 +20,7 @@ export interface UserRow {
   updated_at: Date;
 }
 
-/** A role change that waits for a second administrator (docs/access.md). */
-export interface PendingRoleChange {
-  requestId: number;
-  userId: number;
-  rolesBefore: Role[];
-  rolesAfter: Role[];
-  requestedBy: number;
-  requestedByName: string;
-  requestedAt: string;
-  reason: string;
-}
-
-export interface PublicUser {
-  id: number;
-  username: string;
-  fullName: string;
-  email: string;
-  roles: Role[];
-  mustChangePassword: boolean;
-  active: boolean;
-  lockedUntil: string | null;
-  failedAttempts: number;
-  createdAt: string;
-  /** present on the administrator's account list and detail; null when nothing waits */
-  pendingRoleChange?: PendingRoleChange | null;
-}
-
-export function toPublicUser(u: UserRow, pending?: PendingRoleChange | null): PublicUser {
+export function toPublicUser(u: UserRow, pending?: PendingRoleChange | null): UserAccount {
   return {
     id: u.id,
     username: u.username,
@@ -86,7 +60,7 @@ export async function pendingRoleChanges(db: Db, userId?: number): Promise<Pendi
 }
 
 /** Accounts with the pending role change of each (the administrator's view). */
-export async function listUsersWithPending(db: Db): Promise<PublicUser[]> {
+export async function listUsersWithPending(db: Db): Promise<UserAccount[]> {
   const pending = new Map<number, PendingRoleChange>();
   for (const p of await pendingRoleChanges(db)) pending.set(p.userId, p);
   return (await listUsers(db)).map((u) => toPublicUser(u, pending.get(u.id) ?? null));

@@ -8,8 +8,9 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
 import { hashPassword, passwordProblem } from '../../lib/passwords';
 import { invalidateUserSessions } from '../../lib/sessions';
-import { canonicalRoles, type Role } from '../../lib/roles';
+import { canonicalRoles, type Role } from '../../lib/contract';
 import { assertNotSelfStatus, assertRolesAllowed, changeRoles } from './grants';
+import type { UserAccount } from './contract';
 import * as repo from './repo';
 
 export interface NewUser {
@@ -20,7 +21,7 @@ export interface NewUser {
   temporaryPassword: string;
 }
 
-export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<repo.PublicUser> {
+export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<UserAccount> {
   assertRolesAllowed(input.roles);
   const p = passwordProblem(input.temporaryPassword, input.username);
   if (p) throw badRequest(p);
@@ -74,7 +75,7 @@ export async function updateUser(
   id: number,
   patch: UserPatch,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   assertNotSelfStatus(actor, id, patch);
   if (patch.roles) assertRolesAllowed(patch.roles);
   await db.transaction(async (trx) => {
@@ -117,7 +118,7 @@ export async function unlockUser(
   id: number,
   reason: string,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   return db.transaction(async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
@@ -144,7 +145,7 @@ export async function resetPassword(
   temporaryPassword: string,
   reason: string,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   const target = await repo.findById(db, id);
   if (!target) throw notFound('The account');
   const p = passwordProblem(temporaryPassword, target.username);

@@ -7,7 +7,7 @@ import { useState, type FormEvent, type ReactNode } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
-import { identityMethodSchema } from '../../../../server/modules/library/schemas';
+import { identityMethodSchema } from '../../../../server/modules/library/contract';
 import { useUpdateMethod, type IdentityMethodParams, type MethodVersion } from '../api';
 
 type Region = { from: string; to: string; label: string };
