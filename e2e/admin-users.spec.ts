@@ -129,3 +129,66 @@ test('when the server no longer knows the session, the next action leads to the 
   await expect(page).toHaveURL(/\/audit/);
   await expect(page.getByRole('heading', { name: 'Audit trail', level: 1 })).toBeVisible();
 });
+
+test('a verifier grant waits for a second administrator: Adam asks, Sigrid confirms with her e-signature', async ({
+  page,
+  browser,
+}) => {
+  const username = `e2e.two.${Date.now().toString(36)}`;
+  await signIn(page, 'adam', DEMO_PASSWORD);
+  await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
+
+  // Adam's own account offers no role change (nobody changes their own roles).
+  await page.getByRole('row').filter({ hasText: 'Adam Lindqvist' }).click();
+  await expect(page.getByRole('button', { name: 'Edit name, e-mail', exact: true })).toBeVisible();
+  await expect(page.getByRole('button', { name: 'Deactivate' })).toBeDisabled();
+
+  // Administrator together with another role is refused in words before anything is sent.
+  await page.getByRole('button', { name: 'Create account' }).click();
+  const form = page.getByRole('form', { name: 'New account' });
+  await form.getByLabel('User name').fill(username);
+  await form.getByLabel('Full name').fill('Mireille Okonjo');
+  await form.getByLabel('E-mail').fill(`${username}@lindenhall.example`);
+  await form.getByLabel('Temporary password').fill('Temporary-Pass-4711');
+  await form.getByLabel(/^Operator/).check();
+  await form.getByLabel(/^Administrator/).check();
+  await form.getByRole('button', { name: 'Create account' }).click();
+  await expect(form.getByText('The administrator role cannot be combined with another role')).toBeVisible();
+  await form.getByLabel(/^Administrator/).uncheck();
+  await form.getByLabel(/^Verifier/).check();
+  await form.getByRole('button', { name: 'Create account' }).click();
+  await expect(page.getByTestId('notice')).toContainText("await a second administrator's confirmation");
+  const row = page.getByRole('row').filter({ hasText: username });
+  await expect(row).toContainText('Operator (to confirm: Operator, Verifier)');
+  await row.click();
+  const pending = page.getByRole('region', { name: 'Role change awaiting confirmation' });
+  await expect(pending).toContainText('Asked by Adam Lindqvist');
+  await expect(pending.getByRole('button', { name: 'Confirm role change' })).toHaveCount(0); // not by the requester
+  await expect(pending.getByRole('button', { name: 'Withdraw request' })).toBeVisible();
+
+  // Sigrid, the second administrator, finds it in her work queue and confirms it with her signature.
+  const ctx = await browser.newContext();
+  const s = await ctx.newPage();
+  await signIn(s, 'sigrid', DEMO_PASSWORD);
+  await expect(
+    s
+      .getByRole('main')
+      .getByText(/asked by Adam Lindqvist awaits your confirmation/)
+      .first(),
+  ).toBeVisible();
+  await s.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
+  await s.getByRole('row').filter({ hasText: username }).click();
+  await s
+    .getByRole('region', { name: 'Role change awaiting confirmation' })
+    .getByRole('button', { name: 'Confirm role change' })
+    .click();
+  const dialog = s.getByRole('dialog', { name: `Confirm the role change of ${username}` });
+  await expect(dialog.getByTestId('signer-name')).toHaveText('Sigrid Achterberg');
+  await dialog.getByLabel('User name').fill('sigrid');
+  await dialog.getByLabel('Password').fill(DEMO_PASSWORD);
+  await dialog.getByRole('button', { name: 'Confirm role change' }).click();
+  await expect(s.getByTestId('notice')).toContainText(`The roles of ${username} are now Operator, Verifier.`);
+  await expect(s.getByRole('row').filter({ hasText: username })).toContainText('Operator, Verifier');
+  await expect(s.getByRole('region', { name: 'Role change awaiting confirmation' })).toHaveCount(0);
+  await ctx.close();
+});

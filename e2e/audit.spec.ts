@@ -15,7 +15,7 @@ async function signIn(page: Page, username: string) {
   await expect(page.getByRole('navigation', { name: 'Main' })).toBeVisible();
 }
 
-test('an administrator changes roles; the account history and the auditor trail show who, when, why, before and after', async ({
+test('an administrator changes roles, a second one confirms; the account history and the auditor trail show who, when, why, before and after', async ({
   page,
   browser,
 }) => {
@@ -37,6 +37,17 @@ test('an administrator changes roles; the account history and the auditor trail 
     data: { roles: ['operator', 'verifier'], reason: 'trained as second person, training record TR-118' },
   });
   expect(changed.status()).toBe(200);
+  // Verifier is granted when a second administrator confirms it with her signature (two-person rule).
+  const requestId = (await changed.json()).pendingRoleChange.requestId as number;
+  const second = await browser.newContext();
+  const sp = await second.newPage();
+  await signIn(sp, 'sigrid');
+  const confirmed = await sp.request.post(`/api/users/role-changes/${requestId}/confirm`, {
+    data: { signature: { username: 'sigrid', password: DEMO_PASSWORD } },
+  });
+  expect(confirmed.status()).toBe(200);
+  await second.close();
+  await page.reload(); // the page's cached account list predates the changes made through the API
 
   // Account history from the accounts page.
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
@@ -45,11 +56,12 @@ test('an administrator changes roles; the account history and the auditor trail 
   const history = page.getByRole('dialog', { name: `History of the account ${username}` });
   await expect(history).toBeVisible();
   const events = history.getByTestId('history-event');
-  await expect(events).toHaveCount(2);
+  await expect(events).toHaveCount(3);
   await expect(events.nth(0)).toContainText('user.created');
-  await expect(events.nth(1)).toContainText('user.roles-changed');
-  await expect(events.nth(1)).toContainText('trained as second person, training record TR-118');
-  await expect(events.nth(1)).toContainText('roles: ["operator"] → ["operator","verifier"]');
+  await expect(events.nth(1)).toContainText('user.role-change-requested');
+  await expect(events.nth(2)).toContainText('user.roles-changed');
+  await expect(events.nth(2)).toContainText('trained as second person, training record TR-118');
+  await expect(events.nth(2)).toContainText('roles: ["operator"] → ["operator","verifier"]');
   await history.getByRole('button', { name: 'Close' }).click();
 
   // The administrator's trail holds account events only.
@@ -71,16 +83,18 @@ test('an administrator changes roles; the account history and the auditor trail 
   await a.getByLabel('Record type').selectOption('user');
   await a.getByLabel('Record id').fill(String(id));
   await a.getByRole('button', { name: 'Apply filter' }).click();
-  await expect(a.getByTestId('result-summary')).toContainText('Showing 1–2 of 2');
+  await expect(a.getByTestId('result-summary')).toContainText('Showing 1–3 of 3');
   await a.getByRole('button', { name: /^Time/ }).click(); // oldest first
   await expect(a).toHaveURL(/sort=asc/);
   const rows = a.getByTestId('audit-row');
   await expect(rows.nth(0)).toContainText('user.created');
-  await expect(rows.nth(1)).toContainText('user.roles-changed');
+  await expect(rows.nth(1)).toContainText('user.role-change-requested');
+  await expect(rows.nth(2)).toContainText('user.roles-changed');
 
-  // The event's values side by side.
-  await rows.nth(1).click();
+  // The event's values side by side: asked by Adam, confirmed by Sigrid.
+  await rows.nth(2).click();
   const detail = a.getByRole('dialog', { name: /Audit event \d+/ });
+  await expect(detail).toContainText('Sigrid Achterberg');
   await expect(detail).toContainText('Adam Lindqvist');
   await expect(detail).toContainText('trained as second person, training record TR-118');
   const rolesRow = detail.getByRole('row').filter({ hasText: 'changed' });

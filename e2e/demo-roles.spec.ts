@@ -18,7 +18,8 @@ const EXPECTED: Record<string, RegExp[]> = {
   quinn: [/REF-STA-MZ-0004/, /INV-\d{4}-\d+/],
   irene: [],
   aurelia: [/IC-\d{4}-\d+/, /Reference approval refused by the specificity check/, /Failure confirmed by QA/],
-  adam: [/Tomas Berg/],
+  adam: [/Tomas Berg/, /Olga Brandt/],
+  sigrid: [/Olga Brandt/],
 };
 
 async function signIn(page: Page, username: string) {

@@ -24,6 +24,8 @@ import { certificateRoutes } from './modules/certificates/routes';
 import { lotRoutes } from './modules/lots/routes';
 import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
+import { integrityRoutes } from './modules/integrity/routes';
+import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -74,6 +76,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     lotRoutes(config),
     testingRoutes(config),
     investigationRoutes(),
+    integrityRoutes(),
   ];
   for (const r of routers) app.use(r);
 
@@ -98,6 +101,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     async () => {
       await initMail(config);
       startMailWorker(getDb());
+      startIntegrityJob(getDb(), config.integritySweepHours);
     },
   ];
   return { app, config };

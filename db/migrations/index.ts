@@ -12,6 +12,7 @@ import * as m007 from './007_audit_indexes';
 import * as m008 from './008_job_lease';
 import * as m050 from './050_record_guards';
 import * as m051 from './051_role_grants';
+import * as m052 from './052_integrity';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -27,6 +28,7 @@ export const migrations: [string, Migration][] = [
   ['008_job_lease', m008],
   ['050_record_guards', m050],
   ['051_role_grants', m051],
+  ['052_integrity', m052],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -57,6 +59,9 @@ export const appendOnlyTables = [
   'role_request',
   'role_decision',
   'role_grant',
+  'integrity_alert',
+  'integrity_alert_record',
+  'integrity_signoff',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -79,4 +84,6 @@ export const operationalTables: Record<string, string> = {
   mail_outbox: 'delivery queue of e-mail; the GMP event that caused a mail is in the audit trail',
   job_lease: 'which app server runs a background job',
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
+  integrity_run:
+    'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
 };

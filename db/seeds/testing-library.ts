@@ -16,6 +16,9 @@ import path from 'node:path';
 import type { Knex } from 'knex';
 import { repoRoot } from '../config';
 import { sha256Hex } from '../../server/lib/canonical';
+import { contentHash } from '../../server/lib/esign';
+import { referenceSignedContent } from '../../server/modules/library/references';
+import { methodSignedContent } from '../../server/modules/library/service';
 import { pickBands } from '../../server/modules/library/engine';
 import {
   checkPolystyrene,
@@ -51,12 +54,14 @@ async function storeFile(k: Knex, rel: string, userId: number): Promise<number> 
   return id as number;
 }
 
+/** A signature row over the content the application signs, so the integrity sweep finds it intact. */
 async function signatureRow(
   k: Knex,
   user: SeedUser,
   meaning: string,
   entityType: string,
   entityId: number,
+  content: unknown,
 ): Promise<number> {
   const [id] = await k('e_signature').insert({
     user_id: user.id,
@@ -64,7 +69,7 @@ async function signatureRow(
     meaning,
     entity_type: entityType,
     entity_id: String(entityId),
-    content_hash: sha256Hex(`${entityType}:${entityId}:${meaning}`),
+    content_hash: contentHash(content),
     statement: 'seeded approved library (tests only)',
     signed_at: new Date(),
   });
@@ -114,7 +119,16 @@ export async function seedApprovedMaterial(
   });
   await k('identity_method')
     .where({ id: methodId })
-    .update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'identity_method', methodId) });
+    .update({
+      approved_signature_id: await signatureRow(
+        k,
+        qa,
+        'approved',
+        'identity_method',
+        methodId,
+        methodSignedContent(await k('identity_method').where({ id: methodId }).first()),
+      ),
+    });
   const referenceIds: number[] = [];
   for (const [i, rel] of opts.referenceFiles.entries()) {
     const fileId = await storeFile(k, rel, qa.id);
@@ -145,7 +159,16 @@ export async function seedApprovedMaterial(
     });
     await k('reference_spectrum')
       .where({ id: refId })
-      .update({ approved_signature_id: await signatureRow(k, qa, 'approved', 'reference_spectrum', refId) });
+      .update({
+        approved_signature_id: await signatureRow(
+          k,
+          qa,
+          'approved',
+          'reference_spectrum',
+          refId,
+          referenceSignedContent(refId, sha256Hex(f.buffer), JSON.parse(JSON.stringify(bands)), methodId),
+        ),
+      });
     referenceIds.push(refId as number);
   }
   return {

@@ -22,6 +22,8 @@ export interface AppConfig {
   signInRateLimit: number; // attempts per IP per window
   signInRateWindowMinutes: number;
   uploadMaxBytes: number;
+  /** hours between scheduled integrity sweeps (docs/compliance.md); 0 = only when asked for */
+  integritySweepHours: number;
   allowedOrigins: string[];
   devMode: boolean;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
@@ -46,6 +48,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signInRateLimit: num('SIGNIN_RATE_LIMIT', 30),
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
+    integritySweepHours: num('INTEGRITY_SWEEP_HOURS', 24),
     allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
       .split(',')
       .map((s) => s.trim())

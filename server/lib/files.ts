@@ -41,16 +41,23 @@ export async function storeFile(
   return { id: id as number, sha256 };
 }
 
-/** Sends a stored file as a download, with its SHA-256 in a header. */
+/**
+ * Sends a stored file as a download. X-Content-SHA256 is the SHA-256 of the bytes sent (hashed
+ * here, or by the caller's integrity check), X-Recorded-SHA256 the one recorded at upload, and
+ * X-Integrity says whether they agree ("intact") or not ("mismatch").
+ */
 export function sendStoredFile(
   res: Response,
   f: Pick<StoredFileRow, 'sha256' | 'file_name' | 'media_type' | 'data'>,
+  actualSha256: string = sha256Hex(f.data),
 ): void {
   res.setHeader('Content-Type', f.media_type || 'application/octet-stream');
   res.setHeader(
     'Content-Disposition',
     `attachment; filename="${String(f.file_name).replace(/[^A-Za-z0-9._-]/g, '_')}"`,
   );
-  res.setHeader('X-Content-SHA256', f.sha256);
+  res.setHeader('X-Content-SHA256', actualSha256);
+  res.setHeader('X-Recorded-SHA256', f.sha256);
+  res.setHeader('X-Integrity', actualSha256 === f.sha256 ? 'intact' : 'mismatch');
   res.status(200).end(f.data);
 }

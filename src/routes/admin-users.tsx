@@ -9,6 +9,7 @@ import { CreateUserForm } from '../features/users/components/CreateUserForm';
 import { UserPanel } from '../features/users/components/UserPanel';
 import { UsersTable } from '../features/users/components/UsersTable';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
+import { roleList } from '../lib/roles';
 
 export default function AdminUsersPage() {
   const { user: me } = useSession();
@@ -57,7 +58,10 @@ export default function AdminUsersPage() {
               setCreating(false);
               setSelectedId(u.id);
               setNotice(
-                `The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`,
+                `The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.` +
+                  (u.pendingRoleChange
+                    ? ` The roles ${roleList(u.pendingRoleChange.rolesAfter)} await a second administrator's confirmation.`
+                    : ''),
               );
             }}
           />
@@ -74,7 +78,7 @@ export default function AdminUsersPage() {
           <div className="order-first 2xl:order-last">
             {selected ? (
               <>
-                <UserPanel key={selected.id} user={selected} isSelf={selected.id === me.id} onNotice={setNotice} />
+                <UserPanel key={selected.id} user={selected} me={me} onNotice={setNotice} />
                 <div className="mt-2">
                   <RecordHistory
                     key={selected.id}

@@ -12,6 +12,8 @@ import { type AuditEventSummary, useAuditEvents } from '../features/audit/api';
 import { recordTypeLabel } from '../features/audit/components/labels';
 import { useCertificates } from '../features/certificates/api';
 import { useUsers } from '../features/users/api';
+import { useSession } from '../app/session';
+import { roleList } from '../lib/roles';
 
 const LIST = 'divide-y divide-line rounded-md border border-line bg-white';
 const ITEM = 'flex flex-wrap items-center gap-x-4 gap-y-1 px-3 py-1 text-sm';
@@ -108,17 +110,24 @@ export function DecisionsToReviewWidget() {
   );
 }
 
-/** Administrator: locked accounts and new accounts whose temporary password was not yet replaced. */
+/**
+ * Administrator: role changes waiting for a second administrator, locked accounts and new accounts
+ * whose temporary password was not yet replaced.
+ */
 export function AccountsToAttendWidget() {
   const q = useUsers();
+  const { user: me } = useSession();
   if (q.isPending || q.isError) return <Pending q={q} />;
   const now = Date.now();
   const items = q.data
     .filter((u) => u.active)
     .map((u) => ({
       user: u,
-      why:
-        u.lockedUntil && new Date(u.lockedUntil).getTime() > now
+      why: u.pendingRoleChange
+        ? u.pendingRoleChange.requestedBy === me.id
+          ? `role change to ${roleList(u.pendingRoleChange.rolesAfter)} awaits a second administrator`
+          : `role change to ${roleList(u.pendingRoleChange.rolesAfter)} asked by ${u.pendingRoleChange.requestedByName} awaits your confirmation`
+        : u.lockedUntil && new Date(u.lockedUntil).getTime() > now
           ? 'locked after failed sign-ins'
           : u.mustChangePassword
             ? 'has not yet signed in to replace the temporary password'

@@ -26,6 +26,11 @@ import knexFactory, { type Knex } from 'knex';
 import { dbSettings, knexConfig, repoRoot } from '../../db/config';
 import { createSiteAccounts } from '../../db/site-accounts';
 import { sha256Hex } from '../../server/lib/canonical';
+import { contentHash } from '../../server/lib/esign';
+import { specSignedContent } from '../../server/modules/instruments/service';
+import { referenceSignedContent } from '../../server/modules/library/references';
+import { methodSignedContent } from '../../server/modules/library/service';
+import { loadContext, signedContent } from '../../server/modules/testing/context';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/contract';
 import {
@@ -126,14 +131,16 @@ async function signature(
   entityType: string,
   entityId: number | string,
   at: Date,
+  content: unknown,
 ): Promise<number> {
+  // The hash of the content the application would have signed, so the integrity sweep finds it intact.
   const [id] = await db('e_signature').insert({
     user_id: u.id,
     printed_name: u.fullName,
     meaning,
     entity_type: entityType,
     entity_id: String(entityId),
-    content_hash: sha256Hex(`${entityType}:${entityId}:${meaning}`),
+    content_hash: contentHash(content),
     statement: null,
     signed_at: at,
   });
@@ -218,7 +225,15 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     approved_signature_id: null,
     approved_at: null,
   });
-  const methodSig = await signature(db, qa, 'approved', 'identity_method', methodId, at(2));
+  const methodSig = await signature(
+    db,
+    qa,
+    'approved',
+    'identity_method',
+    methodId,
+    at(2),
+    methodSignedContent(await db('identity_method').where({ id: methodId }).first()),
+  );
   await db('identity_method')
     .where({ id: methodId })
     .update({ approved_signature_id: methodSig, approved_at: at(2) });
@@ -244,7 +259,15 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     created_at: at(3),
     updated_at: at(3),
   });
-  const refSig = await signature(db, qa, 'approved', 'reference_spectrum', referenceId, at(4));
+  const refSig = await signature(
+    db,
+    qa,
+    'approved',
+    'reference_spectrum',
+    referenceId,
+    at(4),
+    referenceSignedContent(Number(referenceId), refFile.sha256, [], Number(methodId)),
+  );
   await db('reference_spectrum')
     .where({ id: referenceId })
     .update({
@@ -278,7 +301,15 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     created_by: qa.id,
     created_at: at(0),
   });
-  const specSig = await signature(db, qa, 'approved', 'instrument_check_spec', specId, at(0));
+  const specSig = await signature(
+    db,
+    qa,
+    'approved',
+    'instrument_check_spec',
+    specId,
+    at(0),
+    specSignedContent(Number(specId), Number(instrumentId), 1, 'site', SITE_ATR_SPEC.bands),
+  );
   await db('instrument_check_spec').where({ id: specId }).update({ approved_signature_id: specSig });
   const psBytes = fs.readFileSync(POLYSTYRENE_FILE);
   cachedCheck ??= checkPolystyrene(readSpectrum(psBytes, 'polystyrene_film.csv'), { spec: SITE_ATR_SPEC, mode: 'atr' });
@@ -296,7 +327,14 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     valid_until: new Date(at(10).getTime() + 24 * 3600_000),
     signature_id: null,
   });
-  const checkSig = await signature(db, operator, 'instrument-check', 'instrument_check', checkId, at(10));
+  const checkSig = await signature(db, operator, 'instrument-check', 'instrument_check', checkId, at(10), {
+    checkId: Number(checkId),
+    instrumentId: Number(instrumentId),
+    specId: Number(specId),
+    fileSha256: psFile.sha256,
+    verdict: 'pass',
+    bands: (JSON.parse(JSON.stringify(cachedCheck)) as { bands: unknown }).bands,
+  });
   await db('instrument_check').where({ id: checkId }).update({ signature_id: checkSig });
 
   // Lot, containers, test, measurements.
@@ -357,8 +395,11 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     });
     containers.push({ id: Number(containerId), label, measurementId: Number(measurementId), fileSha256: file.sha256 });
   }
-  const performed = await signature(db, operator, 'performed', 'identity_test', testId, at(60));
-  const verifiedSig = verified ? await signature(db, verifier, 'verified', 'identity_test', testId, at(90)) : null;
+  const signed = signedContent(await loadContext(db, Number(testId)));
+  const performed = await signature(db, operator, 'performed', 'identity_test', testId, at(60), signed);
+  const verifiedSig = verified
+    ? await signature(db, verifier, 'verified', 'identity_test', testId, at(90), signed)
+    : null;
   // The permitted steps of a test (the database refuses any other change): performed, then verified.
   await db('identity_test').where({ id: testId }).update({
     status: 'awaiting-verification',

@@ -3,6 +3,7 @@ import { Router } from 'express';
 import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
+import { checkCertificateBytes } from '../integrity/service';
 import { badRequest } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
 import { certificateListQuery, issueMissingSchema, supersedeSchema, verifyByNumberQuerySchema } from './contract';
@@ -135,13 +136,17 @@ export function certificateRoutes(config: AppConfig): Router {
       params: idParams,
       produces: 'application/pdf',
     },
-    async ({ params, actor, ip, res }) => {
+    async ({ params, actor, user, ip, res }) => {
       const { meta, pdf } = await service.downloadCertificate(getDb(), params.id, actor, ip);
+      // the SHA-256 of the bytes sent; a difference from the recorded one raises an integrity alert
+      const sent = await checkCertificateBytes(getDb(), meta, pdf, { foundIn: 'download', user, ip });
       res.status(200);
       res.setHeader('Content-Type', 'application/pdf');
       res.setHeader('Content-Length', String(pdf.length));
       res.setHeader('Content-Disposition', `attachment; filename="${meta.number}.pdf"`);
-      res.setHeader('X-Content-SHA256', meta.sha256);
+      res.setHeader('X-Content-SHA256', sent);
+      res.setHeader('X-Recorded-SHA256', meta.sha256);
+      res.setHeader('X-Integrity', sent === meta.sha256 ? 'intact' : 'mismatch');
       res.setHeader('Cache-Control', 'no-store');
       res.end(pdf);
     },

@@ -7,7 +7,7 @@ import { Router } from 'express';
 import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { sendStoredFile } from '../../lib/files';
+import { sendCheckedFile } from '../integrity/service';
 import { defineRoute, idParams } from '../../lib/http';
 import {
   checkParamsSchema,
@@ -126,9 +126,9 @@ export function instrumentRoutes(config: AppConfig): Router {
       params: checkParamsSchema,
       produces: 'application/octet-stream',
     },
-    async ({ params, res }) => {
+    async ({ params, res, user, ip }) => {
       const f = await service.checkFile(getDb(), params.id, params.checkId);
-      sendStoredFile(res, f);
+      await sendCheckedFile(getDb(), res, f, { foundIn: 'download', user, ip });
     },
   );
   return r;

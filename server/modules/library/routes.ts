@@ -6,7 +6,7 @@ import { Router } from 'express';
 import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { sendStoredFile } from '../../lib/files';
+import { sendCheckedFile } from '../integrity/service';
 import { defineRoute, idParams } from '../../lib/http';
 import * as refs from './references';
 import {
@@ -242,9 +242,9 @@ export function libraryRoutes(config: AppConfig): Router {
       params: idParams,
       produces: 'application/octet-stream',
     },
-    async ({ params, res }) => {
+    async ({ params, res, user, ip }) => {
       const f = await refs.referenceFile(getDb(), params.id);
-      sendStoredFile(res, f);
+      await sendCheckedFile(getDb(), res, f, { foundIn: 'download', user, ip });
     },
   );
   defineRoute(

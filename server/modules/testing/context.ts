@@ -5,7 +5,7 @@ import { parseJson } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import type { LotSummary } from '../lots/contract';
 import * as lots from '../lots/repo';
-import type { AttemptScope, ContainerRef } from './outcome';
+import { latestByContainer, type AttemptScope, type ContainerRef } from './outcome';
 import type { MeasurementSummary } from './contract';
 import * as repo from './repo';
 
@@ -43,4 +43,30 @@ export async function loadContext(db: Knex | Knex.Transaction, testId: number, l
   const scope = await scopeOf(db, test);
   const measurements = await repo.measurementsOfTest(db, testId);
   return { test, lot, containers, scope, measurements };
+}
+
+/** What a signature of the test covers: every container's latest result and the versions used. */
+export function signedContent(ctx: TestContext) {
+  const latest = latestByContainer(ctx.measurements, ctx.test.id);
+  return {
+    lot: ctx.lot.lotNumber,
+    testId: ctx.test.id,
+    attempt: ctx.test.attempt,
+    methodId: ctx.test.method_id,
+    containers: ctx.containers
+      .filter((c) => latest.has(c.id))
+      .map((c) => {
+        const m = latest.get(c.id)!;
+        return {
+          label: c.label,
+          measurementId: m.id,
+          verdict: m.verdict,
+          matchScore: m.matchScore,
+          fileSha256: m.file.sha256,
+          methodId: m.methodId,
+          referenceIds: m.referenceIds,
+          instrumentCheckId: m.instrumentCheckId,
+        };
+      }),
+  };
 }

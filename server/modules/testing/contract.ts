@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { type PersonRef, type Role, signatureInput, type SignatureRecord } from '../../lib/contract';
+import type { RecordIntegrity } from '../integrity/contract';
 import type { IdentityStatus, LotStatus, LotSummary, MeasurementVerdict, TestStatus } from '../lots/contract';
 
 export type { MeasurementVerdict, TestStatus } from '../lots/contract';
@@ -304,6 +305,8 @@ export interface StartedTest {
 }
 
 export interface ReviewData {
+  /** the files this review shows, hashed as served, the test's signatures re-checked, and the alerts on it */
+  integrity: RecordIntegrity;
   test: TestDetail;
   measurements: MeasurementDetail[];
   instrumentChecks: CitedInstrumentCheck[];

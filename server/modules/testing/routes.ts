@@ -3,8 +3,8 @@ import { Router } from 'express';
 import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
+import { sendCheckedFile } from '../integrity/service';
 import { notFound } from '../../lib/errors';
-import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
 import { listInstrumentStatuses } from './instrument-status';
 import {
@@ -167,7 +167,7 @@ export function testingRoutes(config: AppConfig): Router {
       access: READERS,
       params: idParams,
     },
-    ({ params }) => views.getReview(getDb(), params.id),
+    ({ params, user, ip }) => views.getReview(getDb(), params.id, { foundIn: 'review', user, ip }),
   );
   defineRoute(
     r,
@@ -233,12 +233,12 @@ export function testingRoutes(config: AppConfig): Router {
       params: idParams,
       produces: 'application/octet-stream',
     },
-    async ({ params, res }) => {
+    async ({ params, res, user, ip }) => {
       const db = getDb();
       const m = await db('measurement').where({ id: params.id }).first();
       if (!m) throw notFound('The measurement');
       const f = await db('stored_file').where({ id: m.file_id }).first();
-      sendStoredFile(res, f);
+      await sendCheckedFile(db, res, f, { foundIn: 'download', user, ip });
     },
   );
   return r;

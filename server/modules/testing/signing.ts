@@ -17,40 +17,15 @@ import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
 import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
+import { assertTestIntact } from '../integrity/service';
 import { closeAfterRetest, openInvestigation } from '../investigations/service';
 import type { FailingContainer } from '../investigations/contract';
 import { pageLink } from '../lots/links';
 import { runCertificateStep } from './certificate-step';
-import { loadContext, scopesOf, type TestContext } from './context';
+import { loadContext, scopesOf, signedContent, type TestContext } from './context';
 import { effectiveResults, latestByContainer, lotOutcome, readiness } from './outcome';
 import * as repo from './repo';
 import type { StoredResult, VerifyOutcome } from './contract';
-
-/** What a signature of the test covers: every container's latest result and the versions used. */
-function signedContent(ctx: TestContext) {
-  const latest = latestByContainer(ctx.measurements, ctx.test.id);
-  return {
-    lot: ctx.lot.lotNumber,
-    testId: ctx.test.id,
-    attempt: ctx.test.attempt,
-    methodId: ctx.test.method_id,
-    containers: ctx.containers
-      .filter((c) => latest.has(c.id))
-      .map((c) => {
-        const m = latest.get(c.id)!;
-        return {
-          label: c.label,
-          measurementId: m.id,
-          verdict: m.verdict,
-          matchScore: m.matchScore,
-          fileSha256: m.file.sha256,
-          methodId: m.methodId,
-          referenceIds: m.referenceIds,
-          instrumentCheckId: m.instrumentCheckId,
-        };
-      }),
-  };
-}
 
 function statusConflict(ctx: TestContext, wanted: string): AppError {
   const s = ctx.test.status;
@@ -186,6 +161,8 @@ export async function verify(
   const pre = await loadContext(db, testId);
   assertIndependent(pre, user, 'verify');
   if (pre.test.status !== 'awaiting-verification') throw statusConflict(pre, 'verified');
+  // The bytes and the signed content re-checked now: nobody signs over data that changed (docs/compliance.md).
+  await assertTestIntact(db, testId, user, ip);
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,

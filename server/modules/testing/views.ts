@@ -4,6 +4,7 @@
  * best reference and their difference on the method grid), the verifier's review and queue.
  */
 import type { Knex } from 'knex';
+import { testIntegrity, type FoundBy } from '../integrity/service';
 import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
 import { notFound } from '../../lib/errors';
@@ -217,8 +218,10 @@ export async function measurementPlot(db: Knex, id: number): Promise<Measurement
 }
 
 /** Everything a verifier reviews: the test, and per container its latest measurement in full. */
-export async function getReview(db: Knex, testId: number): Promise<ReviewData> {
+export async function getReview(db: Knex, testId: number, by: FoundBy = { foundIn: 'review' }): Promise<ReviewData> {
   const detail = await getTestDetail(db, testId);
+  // The review page hashes the bytes it shows (raw spectra, checks, references) and re-checks the signatures.
+  const integrity = await testIntegrity(db, testId, by);
   const latestIds = detail.containers.filter((c) => c.latest).map((c) => c.latest!.id);
   const measurements = [];
   for (const mid of latestIds) measurements.push(await getMeasurementDetail(db, mid));
@@ -226,6 +229,7 @@ export async function getReview(db: Knex, testId: number): Promise<ReviewData> {
   const methodIds = [...new Set(measurements.map((m) => m.methodId))];
   const refIds = [...new Set(measurements.flatMap((m) => m.referenceIds))];
   return {
+    integrity,
     test: detail,
     measurements,
     instrumentChecks: measurements

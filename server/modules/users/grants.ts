@@ -56,7 +56,8 @@ async function grantDirect(
   roles: Role[],
   reason: string,
   ip: string | null,
-): Promise<void> {
+  audit = true,
+): Promise<number> {
   const before = repo.toPublicUser(user);
   const json = JSON.stringify(canonicalRoles(roles));
   const [grantId] = await trx('role_grant').insert({
@@ -69,17 +70,20 @@ async function grantDirect(
   });
   await repo.updateUser(trx, user.id, { roles: json });
   await invalidateUserSessions(trx, user.id);
-  const after = repo.toPublicUser((await repo.findById(trx, user.id))!);
-  await appendAudit(trx, {
-    actor,
-    action: 'user.roles-changed',
-    entityType: 'user',
-    entityId: user.id,
-    before,
-    after: { ...after, grantId, grantKind: 'administrator' },
-    reason,
-    ip,
-  });
+  if (audit) {
+    const after = repo.toPublicUser((await repo.findById(trx, user.id))!);
+    await appendAudit(trx, {
+      actor,
+      action: 'user.roles-changed',
+      entityType: 'user',
+      entityId: user.id,
+      before,
+      after: { ...after, grantId, grantKind: 'administrator' },
+      reason,
+      ip,
+    });
+  }
+  return grantId as number;
 }
 
 async function requestChange(
@@ -135,7 +139,9 @@ async function requestChange(
 
 /**
  * Applies a wanted role set to an account inside the caller's transaction: the part that needs no
- * confirmation at once, the rest as a request. Returns the request id, or null.
+ * confirmation at once, the rest as a request. Returns the request id, or null. With
+ * auditDirect=false the caller audits the direct grant itself, in afterDirect (account creation
+ * does, in its user.created event, which then precedes the request's event).
  */
 export async function changeRoles(
   trx: Knex.Transaction,
@@ -144,13 +150,15 @@ export async function changeRoles(
   wanted: Role[],
   reason: string,
   ip: string | null,
+  opts: { auditDirect?: boolean; afterDirect?: () => Promise<void> } = {},
 ): Promise<number | null> {
   if (actor.id === user.id)
     throw forbidden('Nobody changes their own roles: another administrator must do it (segregation of duties).');
   assertRolesAllowed(wanted);
   const current = parseJson<Role[]>(user.roles, []);
   const { now, confirm } = splitChange(current, wanted);
-  if (!same(now, current)) await grantDirect(trx, actor, user, now, reason, ip);
+  if (!same(now, current)) await grantDirect(trx, actor, user, now, reason, ip, opts.auditDirect ?? true);
+  await opts.afterDirect?.();
   if (same(confirm, now)) return null;
   const fresh = (await repo.findById(trx, user.id))!;
   return requestChange(trx, actor, fresh, now, confirm, reason, ip);

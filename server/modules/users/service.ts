@@ -9,7 +9,7 @@ import { badRequest, conflict, notFound } from '../../lib/errors';
 import { hashPassword, passwordProblem } from '../../lib/passwords';
 import { invalidateUserSessions } from '../../lib/sessions';
 import { canonicalRoles, type Role } from '../../lib/contract';
-import { assertNotSelfStatus, assertRolesAllowed, changeRoles } from './grants';
+import { assertNotSelfStatus, assertRolesAllowed, changeRoles, splitChange } from './grants';
 import type { UserAccount } from './contract';
 import * as repo from './repo';
 
@@ -45,16 +45,27 @@ export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: str
       created_at: now,
       updated_at: now,
     });
-    const u = (await repo.findById(trx, id))!;
-    await appendAudit(trx, {
-      actor,
-      action: 'user.created',
-      entityType: 'user',
-      entityId: id,
-      after: { ...repo.toPublicUser(u), rolesAsked: canonicalRoles(input.roles) },
-      ip,
+    // The roles that need no confirmation are granted at once and recorded in user.created; the
+    // rest becomes a request for a second administrator, audited after it.
+    const split = splitChange([], input.roles);
+    const needsConfirmation = split.confirm.length !== split.now.length;
+    await changeRoles(trx, actor, (await repo.findById(trx, id))!, input.roles, 'roles of the new account', ip, {
+      auditDirect: false,
+      afterDirect: async () => {
+        const u = (await repo.findById(trx, id))!;
+        await appendAudit(trx, {
+          actor,
+          action: 'user.created',
+          entityType: 'user',
+          entityId: id,
+          after: {
+            ...repo.toPublicUser(u),
+            ...(needsConfirmation ? { rolesAwaitingConfirmation: canonicalRoles(input.roles) } : {}),
+          },
+          ip,
+        });
+      },
     });
-    await changeRoles(trx, actor, u, input.roles, 'roles of the new account', ip);
     return id;
   });
   const [pending] = await repo.pendingRoleChanges(db, id);

@@ -1,9 +1,22 @@
 /** Account administration hooks (admin only on the server). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
+import { invalidateMe } from '../../../lib/query-keys';
+import type { SignatureInput } from '../../../../server/lib/contract';
+import type {
+  CreateUserInput,
+  RoleChangeWaiting,
+  UpdateUserInput,
+  UserAccount,
+} from '../../../../server/modules/users/contract';
 
-export type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
+export type {
+  CreateUserInput,
+  PendingRoleChange,
+  RoleChangeWaiting,
+  UpdateUserInput,
+  UserAccount,
+} from '../../../../server/modules/users/contract';
 
 const USERS_KEY = ['users'] as const;
 
@@ -36,5 +49,35 @@ export function useResetPassword() {
   return useUsersMutation(
     ({ id, temporaryPassword, reason }: { id: number; temporaryPassword: string; reason: string }) =>
       apiFetch(`/api/users/${id}/reset-password`, { method: 'POST', body: { temporaryPassword, reason } }),
+  );
+}
+
+const ROLE_CHANGES_KEY = ['users', 'role-changes'] as const;
+
+/** Role changes waiting for a second administrator (two-person rule). */
+export function useRoleChanges() {
+  return useQuery({
+    queryKey: ROLE_CHANGES_KEY,
+    queryFn: () => apiFetch<RoleChangeWaiting[]>('/api/users/role-changes'),
+  });
+}
+
+/** Confirms another administrator's role change with an e-signature. */
+export function useConfirmRoleChange() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ requestId, signature }: { requestId: number; signature: SignatureInput }) =>
+      apiFetch<UserAccount>(`/api/users/role-changes/${requestId}/confirm`, { method: 'POST', body: { signature } }),
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: USERS_KEY });
+      void invalidateMe(qc);
+    },
+  });
+}
+
+/** Declines a role change, or withdraws one's own request. */
+export function useDeclineRoleChange() {
+  return useUsersMutation(({ requestId, reason }: { requestId: number; reason: string }) =>
+    apiFetch<UserAccount>(`/api/users/role-changes/${requestId}/decline`, { method: 'POST', body: { reason } }),
   );
 }

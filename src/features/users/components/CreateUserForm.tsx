@@ -3,7 +3,7 @@ import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input } from '../../../components/Field';
 import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
-import { RoleCheckboxes, suggestPassword, TEMP_PASSWORD_RULE } from './fields';
+import { RoleCheckboxes, ROLES_RULE, suggestPassword, TEMP_PASSWORD_RULE } from './fields';
 
 export function CreateUserForm({
   onCreated,
@@ -97,7 +97,7 @@ export function CreateUserForm({
         <Controller
           control={control}
           name="roles"
-          rules={{ validate: (v) => v.length > 0 || 'Give the account at least one role.' }}
+          rules={ROLES_RULE}
           render={({ field, fieldState }) => (
             <RoleCheckboxes
               idPrefix="new-role"

@@ -5,7 +5,7 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Textarea } from '../../../components/Field';
 import type { Role } from '../../../lib/roles';
 import { useUpdateUser, type UserAccount } from '../api';
-import { REASON_RULE, RoleCheckboxes } from './fields';
+import { REASON_RULE, RoleCheckboxes, ROLES_RULE } from './fields';
 
 interface Values {
   fullName: string;
@@ -14,14 +14,19 @@ interface Values {
   reason: string;
 }
 
-/** Changes name, e-mail and roles; only changed fields are sent, always with the reason. */
+/**
+ * Changes name, e-mail and roles; only changed fields are sent, always with the reason. On one's
+ * own account the roles are not offered: nobody changes their own roles (docs/access.md).
+ */
 export function EditUserForm({
   user,
+  isSelf = false,
   onDone,
   onCancel,
 }: {
   user: UserAccount;
-  onDone: () => void;
+  isSelf?: boolean;
+  onDone: (after: UserAccount) => void;
   onCancel: () => void;
 }) {
   const update = useUpdateUser();
@@ -36,9 +41,9 @@ export function EditUserForm({
     if (v.fullName.trim() !== user.fullName) patch.fullName = v.fullName.trim();
     if (v.email.trim() !== user.email) patch.email = v.email.trim();
     const sameRoles = v.roles.length === user.roles.length && v.roles.every((r) => user.roles.includes(r));
-    if (!sameRoles) patch.roles = v.roles;
+    if (!sameRoles && !isSelf) patch.roles = v.roles;
     if (Object.keys(patch).length === 0)
-      return setNoChange('Nothing was changed: edit the name, e-mail or roles first.');
+      return setNoChange(`Nothing was changed: edit the name, e-mail${isSelf ? '' : ' or roles'} first.`);
     update.mutate({ id: user.id, ...patch, reason: v.reason.trim() }, { onSuccess: onDone });
   });
   return (
@@ -64,19 +69,25 @@ export function EditUserForm({
           })}
         />
       </Field>
-      <Controller
-        control={control}
-        name="roles"
-        rules={{ validate: (v) => v.length > 0 || 'Give the account at least one role.' }}
-        render={({ field, fieldState }) => (
-          <RoleCheckboxes
-            idPrefix="edit-role"
-            value={field.value}
-            onChange={field.onChange}
-            error={fieldState.error?.message}
-          />
-        )}
-      />
+      {isSelf ? (
+        <p className="text-sm text-muted">
+          Your own roles are changed by another administrator, never by yourself (segregation of duties).
+        </p>
+      ) : (
+        <Controller
+          control={control}
+          name="roles"
+          rules={ROLES_RULE}
+          render={({ field, fieldState }) => (
+            <RoleCheckboxes
+              idPrefix="edit-role"
+              value={field.value}
+              onChange={field.onChange}
+              error={fieldState.error?.message}
+            />
+          )}
+        />
+      )}
       <Field
         id="edit-reason"
         label="Reason for the change"

@@ -6,6 +6,7 @@ import { Dialog } from '../../../components/Dialog';
 import { roleList } from '../../../lib/roles';
 import { useUnlockUser, useUpdateUser, type UserAccount } from '../api';
 import { EditUserForm } from './EditUserForm';
+import { PendingRoleChangeBox } from './PendingRoleChange';
 import { ReasonForm } from './ReasonForm';
 import { ResetPasswordForm } from './ResetPasswordForm';
 import { UserStatus } from './UserStatus';
@@ -14,13 +15,14 @@ type Action = 'edit' | 'reset' | 'unlock' | 'deactivate' | 'reactivate' | null;
 
 export function UserPanel({
   user,
-  isSelf,
+  me,
   onNotice,
 }: {
   user: UserAccount;
-  isSelf: boolean;
+  me: { id: number; fullName: string; signedOnce: boolean };
   onNotice: (text: string) => void;
 }) {
+  const isSelf = user.id === me.id;
   const [action, setAction] = useState<Action>(null);
   const update = useUpdateUser();
   const unlock = useUnlockUser();
@@ -61,8 +63,11 @@ export function UserPanel({
           <DateTime value={user.createdAt} />
         </dd>
       </dl>
+      {user.pendingRoleChange && (
+        <PendingRoleChangeBox user={user} change={user.pendingRoleChange} me={me} onNotice={onNotice} />
+      )}
       <div className="mt-4 flex flex-wrap gap-2">
-        <Button onClick={() => setAction('edit')}>Edit name, e-mail, roles</Button>
+        <Button onClick={() => setAction('edit')}>{isSelf ? 'Edit name, e-mail' : 'Edit name, e-mail, roles'}</Button>
         <Button onClick={() => setAction('reset')}>Reset password</Button>
         {user.lockedUntil && <Button onClick={() => setAction('unlock')}>Unlock</Button>}
         {user.active ? (
@@ -70,7 +75,7 @@ export function UserPanel({
             variant="danger"
             onClick={() => setAction('deactivate')}
             disabled={isSelf}
-            title={isSelf ? 'You cannot deactivate your own account.' : undefined}
+            title={isSelf ? 'Nobody changes the status of their own account.' : undefined}
           >
             Deactivate
           </Button>
@@ -80,7 +85,7 @@ export function UserPanel({
       </div>
       {isSelf && (
         <p className="mt-2 text-xs text-muted">
-          This is your own account: you cannot deactivate it or remove your administrator role.
+          This is your own account: another administrator changes its roles and status, never you.
         </p>
       )}
 
@@ -93,10 +98,15 @@ export function UserPanel({
       >
         <EditUserForm
           user={user}
+          isSelf={isSelf}
           onCancel={close}
-          onDone={() => {
+          onDone={(after) => {
             close();
-            onNotice(`The account ${user.username} was changed.`);
+            onNotice(
+              after.pendingRoleChange
+                ? `The account ${user.username} was changed. The roles ${roleList(after.pendingRoleChange.rolesAfter)} await a second administrator's confirmation.`
+                : `The account ${user.username} was changed.`,
+            );
           }}
         />
       </Dialog>

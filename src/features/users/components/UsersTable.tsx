@@ -25,7 +25,11 @@ export function UsersTable({
       }),
       col.accessor('fullName', { header: 'Full name' }),
       col.accessor('email', { header: 'E-mail' }),
-      col.accessor((u) => roleList(u.roles), { id: 'roles', header: 'Roles' }),
+      col.accessor(
+        (u) =>
+          roleList(u.roles) + (u.pendingRoleChange ? ` (to confirm: ${roleList(u.pendingRoleChange.rolesAfter)})` : ''),
+        { id: 'roles', header: 'Roles' },
+      ),
       col.accessor((u) => userStatusText(u), {
         id: 'status',
         header: 'Status',

@@ -1,5 +1,14 @@
 /** Pieces shared by the account forms. */
 import { ROLE_LABELS, ROLES, type Role } from '../../../lib/roles';
+import { CONFIRMED_ROLES, roleCombinationProblem } from '../../../../server/lib/contract';
+
+/** Role rules checked before anything is sent (the server and the database check them again). */
+export const ROLES_RULE = {
+  validate: (v: Role[]) => {
+    if (v.length === 0) return 'Give the account at least one role.';
+    return roleCombinationProblem(v) ?? true;
+  },
+};
 
 export const REASON_RULE = {
   required: 'Give a reason: it is kept in the audit trail.',
@@ -61,6 +70,10 @@ export function RoleCheckboxes({
           </span>
         </label>
       ))}
+      <p className="mt-1 text-xs text-muted">
+        The administrator role is held alone. {CONFIRMED_ROLES.map((r) => ROLE_LABELS[r]).join(', ')} are granted when a
+        second administrator confirms; other changes apply at once.
+      </p>
       {error && (
         <p role="alert" className="text-sm text-fail">
           {error}

@@ -1,0 +1,177 @@
+/**
+ * How each kind of e-signature's content is rebuilt from the records as they are stored now
+ * (docs/compliance.md, "Integrity sweep"): the same function the signing code used, fed from the
+ * database instead of the request. The sweep hashes the rebuilt content and compares it with the
+ * signature's content_hash; a difference means the signed record changed after signing. A kind of
+ * signature without a recipe here is counted as "not checked" in the run (never silently passed).
+ */
+import type { Knex } from 'knex';
+import { parseJson } from '../../lib/db';
+import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
+import * as instrumentsRepo from '../instruments/repo';
+import { specSignedContent } from '../instruments/service';
+import { referenceSignedContent } from '../library/references';
+import * as libraryRepo from '../library/repo';
+import { methodSignedContent } from '../library/service';
+import { loadContext, signedContent } from '../testing/context';
+import { roleRequestSignedContent } from '../users/grants';
+
+export interface SignatureRow {
+  id: number;
+  user_id: number;
+  meaning: string;
+  entity_type: string;
+  entity_id: string;
+  content_hash: string;
+  statement: string | null;
+}
+
+/** Rebuilds the signed content; undefined when the record it belongs to no longer exists. */
+type Recipe = (db: Knex, s: SignatureRow) => Promise<unknown>;
+
+const fileSha = async (db: Knex, fileId: number): Promise<string> =>
+  (await db('stored_file').where({ id: fileId }).first('sha256'))?.sha256;
+
+const investigationRecipe: Recipe = async (db, s) => {
+  const inv = await db('investigation')
+    .where({ id: Number(s.entity_id) })
+    .first();
+  if (!inv) return undefined;
+  const failing = parseJson<{ containerId: number; label: string }[]>(inv.failing, []);
+  if (s.meaning === 'phase-1-recorded') {
+    const p = parseJson<{ items: unknown; summary: string } | null>(inv.phase1, null);
+    return { investigation: inv.number, items: p?.items, summary: p?.summary };
+  }
+  if (s.meaning === 'failure-confirmed')
+    return {
+      investigation: inv.number,
+      decision: 'confirmed',
+      justification: inv.justification,
+      failing: failing.map((f) => f.label),
+    };
+  // result-invalidated: the stored justification is "<cause title>: <justification>"
+  const stored = String(inv.justification ?? '');
+  const cause = PHASE1_ITEMS.find((k) => stored.startsWith(`${PHASE1_LABELS[k].title}: `));
+  const retest = parseJson<number[]>(inv.retest_containers, []);
+  return {
+    investigation: inv.number,
+    decision: 'invalidated',
+    cause,
+    justification: cause ? stored.slice(PHASE1_LABELS[cause].title.length + 2) : stored,
+    retestContainers: failing.filter((f) => retest.includes(f.containerId)).map((f) => f.label),
+  };
+};
+
+const testRecipe: Recipe = async (db, s) => {
+  const exists = await db('identity_test')
+    .where({ id: Number(s.entity_id) })
+    .first('id');
+  if (!exists) return undefined;
+  return signedContent(await loadContext(db, Number(s.entity_id)));
+};
+
+const referenceApproval: Recipe = async (db, s) => {
+  const r = await db('reference_spectrum')
+    .where({ id: Number(s.entity_id) })
+    .first();
+  if (!r) return undefined;
+  return referenceSignedContent(
+    r.id,
+    await fileSha(db, r.file_id),
+    libraryRepo.toReference(r).bands,
+    r.approved_method_id,
+  );
+};
+
+export const RECIPES: Record<string, Recipe> = {
+  'identity_method/approved': async (db, s) => {
+    const m = await db('identity_method')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return m ? methodSignedContent(m) : undefined;
+  },
+  'reference_spectrum/approved': referenceApproval,
+  'reference_spectrum/approved-with-justification': referenceApproval,
+  'reference_spectrum/retired': async (db, s) => {
+    const r = await db('reference_spectrum')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!r) return undefined;
+    return {
+      referenceId: r.id,
+      fileSha256: await fileSha(db, r.file_id),
+      previousStatus: r.approved_signature_id ? 'approved' : 'draft',
+      reason: r.retire_reason,
+    };
+  },
+  'instrument_check_spec/approved': async (db, s) => {
+    const sp = await db('instrument_check_spec')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!sp) return undefined;
+    return specSignedContent(sp.id, sp.instrument_id, sp.version, sp.kind, instrumentsRepo.toSpec(sp).bands);
+  },
+  'instrument_check/instrument-check': async (db, s) => {
+    const c = await db('instrument_check')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!c) return undefined;
+    const result = parseJson<{ bands?: unknown } | null>(c.result, null);
+    return {
+      checkId: c.id,
+      instrumentId: c.instrument_id,
+      specId: c.spec_id,
+      fileSha256: await fileSha(db, c.file_id),
+      verdict: c.verdict,
+      bands: result?.bands,
+    };
+  },
+  'identity_test/performed': testRecipe,
+  'identity_test/verified': testRecipe,
+  'identity_test/returned': testRecipe,
+  'investigation/phase-1-recorded': investigationRecipe,
+  'investigation/result-invalidated': investigationRecipe,
+  'investigation/failure-confirmed': investigationRecipe,
+  'certificate/issued': async (db, s) => {
+    const c = await db('certificate')
+      .where({ number: s.entity_id })
+      .first('number', 'sha256', 'lot_id', 'supersedes_id');
+    if (!c) return undefined;
+    const lot = await db('lot').where({ id: c.lot_id }).first('lot_number');
+    const prev = c.supersedes_id ? await db('certificate').where({ id: c.supersedes_id }).first('number') : null;
+    return { number: c.number, sha256: c.sha256, lotNumber: lot?.lot_number, supersedes: prev?.number ?? null };
+  },
+  'role_request/role-change-confirmed': async (db, s) => {
+    const r = await db('role_request')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return r ? roleRequestSignedContent(r) : undefined;
+  },
+  'integrity_alert/integrity-reviewed': async (db, s) => {
+    const a = await db('integrity_alert')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    const so = await db('integrity_signoff')
+      .where({ alert_id: Number(s.entity_id) })
+      .first();
+    if (!a || !so) return undefined;
+    return alertSignedContent(a, so.comment);
+  },
+};
+
+/** The content QA signs when signing off an alert. */
+export function alertSignedContent(
+  a: { id: number; kind: string; subject_type: string; subject_id: string; expected: string; found: string },
+  comment: string,
+) {
+  return {
+    alertId: a.id,
+    kind: a.kind,
+    subject: `${a.subject_type} ${a.subject_id}`,
+    expected: a.expected,
+    found: a.found,
+    comment,
+  };
+}
+
+export const recipeKey = (s: Pick<SignatureRow, 'entity_type' | 'meaning'>) => `${s.entity_type}/${s.meaning}`;
