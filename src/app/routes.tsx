@@ -43,16 +43,30 @@ export const appRoutes: AppRoute[] = [
   {
     path: '/library',
     element: lazyPage(() => import('../routes/library')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
     nav: { label: 'Reference library', group: 'desk', order: 20 },
   },
-  { path: '/library/materials/:id', element: lazyPage(() => import('../routes/library-material')) },
-  { path: '/library/references/:id', element: lazyPage(() => import('../routes/library-reference')) },
+  {
+    path: '/library/materials/:id',
+    element: lazyPage(() => import('../routes/library-material')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
+  },
+  {
+    path: '/library/references/:id',
+    element: lazyPage(() => import('../routes/library-reference')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
+  },
   {
     path: '/instruments',
     element: lazyPage(() => import('../routes/instruments')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
     nav: { label: 'Instruments', group: 'bench', order: 5 },
   },
-  { path: '/instruments/:id', element: lazyPage(() => import('../routes/instrument')) },
+  {
+    path: '/instruments/:id',
+    element: lazyPage(() => import('../routes/instrument')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
+  },
   {
     path: '/certificates',
     element: lazyPage(() => import('../routes/certificates')),
@@ -106,5 +120,16 @@ export const appRoutes: AppRoute[] = [
     path: '/investigations/:id',
     element: lazyPage(() => import('../routes/investigation')),
     roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
+  },
+  {
+    path: '/integrity',
+    element: lazyPage(() => import('../routes/integrity')),
+    roles: ['qa_manager', 'auditor'],
+    nav: { label: 'Data integrity', group: 'desk', order: 62 },
+  },
+  {
+    path: '/integrity/alerts/:id',
+    element: lazyPage(() => import('../routes/integrity-alert')),
+    roles: ['qa_manager', 'auditor'],
   },
 ];

@@ -9,6 +9,7 @@ import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
+import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
 import {
   AccountsToAttendWidget,
   CertificatesToCheckWidget,
@@ -72,6 +73,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     roles: ['admin'],
     order: 60,
     Component: AccountsToAttendWidget,
+  },
+  {
+    id: 'integrity.open-alerts',
+    title: 'Integrity alerts to sign off',
+    roles: ['qa_manager'],
+    order: 10,
+    Component: OpenIntegrityAlertsWidget,
   },
 ];
 

@@ -6,6 +6,7 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
+import { RecordAlerts } from '../components/RecordAlerts';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
@@ -71,6 +72,7 @@ export default function CertificatePage() {
           </>
         }
       />
+      <RecordAlerts type="certificate" id={c.id} label={`Certificate ${c.number}`} />
       {c.supersedes && (
         <p className="mb-3 text-sm">
           Supersedes{' '}

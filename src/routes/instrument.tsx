@@ -6,6 +6,7 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
+import { RecordAlerts } from '../components/RecordAlerts';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
@@ -23,7 +24,7 @@ export default function InstrumentPage() {
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
-  const canCheck = useHasRole('operator', 'verifier', 'qa_manager');
+  const canCheck = useHasRole('operator');
   const q = useInstrument(id);
   const [checking, setChecking] = useState(false);
   const [specing, setSpecing] = useState(false);
@@ -60,6 +61,7 @@ export default function InstrumentPage() {
           </>
         }
       />
+      <RecordAlerts type="instrument" id={i.id} label={`Instrument ${i.name}`} />
       <div className="mb-6 flex flex-wrap items-center gap-3">
         <CheckStatus instrument={i} size="lg" />
         {!current && (

@@ -10,6 +10,7 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
+import { RecordAlerts } from '../components/RecordAlerts';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { formatBytes } from '../lib/format';
@@ -37,6 +38,7 @@ export default function LibraryReferencePage() {
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
+  const mayDownload = useHasRole('verifier', 'qa_manager', 'auditor'); // docs/access.md: reference raw files
   const ref = useReference(id);
   const [approving, setApproving] = useState(false);
   const [retiring, setRetiring] = useState(false);
@@ -72,9 +74,13 @@ export default function LibraryReferencePage() {
       'Raw file',
       r.file ? (
         <span>
-          <a href={referenceFileUrl(r.id)} className="text-petrol underline underline-offset-2">
-            {r.file.fileName}
-          </a>{' '}
+          {mayDownload ? (
+            <a href={referenceFileUrl(r.id)} className="text-petrol underline underline-offset-2">
+              {r.file.fileName}
+            </a>
+          ) : (
+            r.file.fileName
+          )}{' '}
           ({formatBytes(r.file.size)}){' '}
           <span className="block font-mono text-xs break-all text-muted">SHA-256 {r.file.sha256}</span>
         </span>
@@ -139,6 +145,7 @@ export default function LibraryReferencePage() {
           </>
         }
       />
+      <RecordAlerts type="reference_spectrum" id={r.id} label={`Reference ${r.code}`} />
       {isQa && r.status === 'draft' && ownUpload && (
         <p className="mb-4 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm" role="note">
           You uploaded this reference, so you cannot approve it (segregation of duties). Another QA manager must approve

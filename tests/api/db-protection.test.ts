@@ -15,6 +15,7 @@ import { appendOnlyTables, guardedTables, operationalTables } from '../../db/mig
 import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
+import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
@@ -44,6 +45,27 @@ beforeAll(async () => {
   await b.agent
     .post(`/api/users/role-changes/${req.body.pendingRoleChange.requestId}/decline`)
     .send({ reason: 'probe' });
+  // an integrity alert (about a made-up finding) and its QA sign-off: rows in the integrity tables
+  const qa = await agentFor(['qa_manager']);
+  const file = await db()('stored_file').orderBy('id').first('id', 'sha256');
+  const { id: alertId } = await raiseAlert(
+    db(),
+    {
+      kind: 'file-hash',
+      subjectType: 'stored_file',
+      subjectId: String(file.id),
+      expected: file.sha256,
+      found: 'protection-test-probe',
+      summary: 'A made-up finding for the protection test.',
+      records: [{ type: 'stored_file', id: String(file.id), label: `File ${file.id}`, href: null }],
+    },
+    { foundIn: 'sweep' },
+  );
+  const off = await qa.agent.post(`/api/integrity/alerts/${alertId}/sign-off`).send({
+    comment: 'made up for the protection test',
+    signature: { username: qa.user.username, password: qa.user.password },
+  });
+  expect(off.status).toBe(200);
 });
 
 afterAll(async () => {
@@ -174,6 +196,9 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     role_request: { column: 'roles_after', value: '["admin"]' },
     role_decision: { column: 'decision', value: 'confirmed' },
     role_grant: { column: 'roles', value: '["admin"]' },
+    integrity_alert: { column: 'found', value: '0'.repeat(64) },
+    integrity_alert_record: { column: 'label', value: 'elsewhere' },
+    integrity_signoff: { column: 'comment', value: 'rewritten' },
   };
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());

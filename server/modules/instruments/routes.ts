@@ -1,7 +1,7 @@
 /**
- * HTTP edge of the instrument registry. Every signed-in role reads; qa_manager registers
- * instruments and approves check specifications; operators (also verifiers and QA) record
- * instrument checks. An auditor or administrator changes nothing here.
+ * HTTP edge of the instrument registry (docs/access.md). Operators, verifiers, QA and auditors
+ * read; qa_manager registers instruments and approves check specifications; operators record
+ * instrument checks. An auditor changes nothing here; the administrator has no business here.
  */
 import { Router } from 'express';
 import multer from 'multer';
@@ -19,7 +19,9 @@ import {
 import * as service from './service';
 
 const QA = { roles: ['qa_manager'] as const };
-const CHECKERS = { roles: ['operator', 'verifier', 'qa_manager'] as const };
+/** Operators run the instrument check before measuring (docs/access.md); QA approves its specification. */
+const CHECKERS = { roles: ['operator'] as const };
+const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
 
 export function instrumentRoutes(config: AppConfig): Router {
   const r = Router();
@@ -35,7 +37,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       path: '/api/instruments',
       summary: 'Instruments with their check status ("check due")',
       tag: 'instruments',
-      access: 'authenticated',
+      access: READERS,
     },
     () => service.listInstruments(getDb()),
   );
@@ -46,7 +48,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       path: '/api/instruments/:id',
       summary: 'One instrument with its check specifications and check history',
       tag: 'instruments',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => service.getInstrument(getDb(), params.id),
@@ -122,7 +124,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       path: '/api/instruments/:id/checks/:checkId/file',
       summary: 'The raw file of an instrument check, byte for byte',
       tag: 'instruments',
-      access: 'authenticated',
+      access: READERS,
       params: checkParamsSchema,
       produces: 'application/octet-stream',
     },

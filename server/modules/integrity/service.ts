@@ -16,7 +16,7 @@ import type { Response } from 'express';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor, SYSTEM_ACTOR } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
-import { parseJson } from '../../lib/db';
+import { parseJson, type Db } from '../../lib/db';
 import { sendStoredFile } from '../../lib/files';
 import { checkSignatureCredentials, contentHash, recordSignature, toSignatureRecord } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
@@ -44,7 +44,7 @@ const SIGNATURE_PAGE = 200;
 // ---- records an alert is shown on
 
 /** A record in words and the page that shows it. */
-async function describeRecord(db: Knex, type: string, id: string): Promise<AlertRecord> {
+async function describeRecord(db: Db, type: string, id: string): Promise<AlertRecord> {
   const n = Number(id);
   switch (type) {
     case 'identity_test': {
@@ -96,6 +96,10 @@ async function describeRecord(db: Knex, type: string, id: string): Promise<Alert
         href: m ? `/library/materials/${m.id}` : null,
       };
     }
+    case 'instrument': {
+      const i = await db('instrument').where({ id: n }).first('name');
+      return { type, id, label: `Instrument ${i?.name ?? id}`, href: `/instruments/${id}` };
+    }
     case 'investigation': {
       const i = await db('investigation').where({ id: n }).first('number');
       return { type, id, label: `Investigation ${i?.number ?? id}`, href: `/investigations/${id}` };
@@ -121,6 +125,26 @@ async function describeRecord(db: Knex, type: string, id: string): Promise<Alert
     default:
       return { type, id, label: `${type} ${id}`, href: null };
   }
+}
+
+/** Adds the instrument of an instrument check or check specification, so its page shows the alert too. */
+async function withParents(db: Db, records: AlertRecord[]): Promise<AlertRecord[]> {
+  const out = [...records];
+  for (const r of records) {
+    const table =
+      r.type === 'instrument_check'
+        ? 'instrument_check'
+        : r.type === 'instrument_check_spec'
+          ? 'instrument_check_spec'
+          : null;
+    if (!table) continue;
+    const row = await db(table)
+      .where({ id: Number(r.id) })
+      .first('instrument_id');
+    if (row && !out.some((x) => x.type === 'instrument' && x.id === String(row.instrument_id)))
+      out.push(await describeRecord(db, 'instrument', String(row.instrument_id)));
+  }
+  return out;
 }
 
 /** The records that use a stored file (a measurement's test, a reference, an instrument check). */
@@ -175,7 +199,7 @@ export async function raiseAlert(db: Knex, f: Finding, by: FoundBy): Promise<{ i
         run_id: by.runId ?? null,
         found_at: new Date(),
       });
-      for (const r of f.records)
+      for (const r of await withParents(trx, f.records))
         await trx('integrity_alert_record').insert({
           alert_id: alertId,
           record_type: r.type,

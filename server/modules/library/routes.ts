@@ -26,6 +26,10 @@ import * as service from './service';
 import { specificityMatrixFor } from './specificity';
 
 const QA = { roles: ['qa_manager'] as const };
+/** The GMP readers (docs/access.md): the library is the lab's; the administrator manages accounts only. */
+const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
+/** A reference's raw file: those who review or own references (docs/access.md). */
+const REFERENCE_FILE = { roles: ['verifier', 'qa_manager', 'auditor'] as const };
 /** Most files per upload request. */
 export const MAX_FILES_PER_UPLOAD = 20;
 
@@ -44,7 +48,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/materials',
       summary: 'Materials (grades) with method and reference status',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
     },
     () => service.listMaterials(getDb()),
   );
@@ -55,7 +59,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/materials/:id',
       summary: 'One material with its identity method versions',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => service.getMaterial(getDb(), params.id),
@@ -109,7 +113,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/methods/:id',
       summary: 'One identity method version with its signatures',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => service.getMethod(getDb(), params.id),
@@ -165,7 +169,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/materials/:id/references',
       summary: 'Reference spectra of a material',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => refs.listReferences(getDb(), params.id),
@@ -202,7 +206,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references',
       summary: 'References of all materials by status (drafts await approval)',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       query: referenceStatusQuerySchema,
     },
     ({ query }) => refs.referencesByStatus(getDb(), query.status),
@@ -214,7 +218,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references/:id',
       summary: 'One reference spectrum with bands and signatures',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => refs.getReference(getDb(), params.id),
@@ -226,7 +230,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references/:id/overlay',
       summary: 'Absorbance traces of this reference and the other references of its grade',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => refs.referenceOverlay(getDb(), params.id),
@@ -238,7 +242,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references/:id/file',
       summary: 'The raw uploaded file, byte for byte',
       tag: 'library',
-      access: 'authenticated',
+      access: REFERENCE_FILE,
       params: idParams,
       produces: 'application/octet-stream',
     },
@@ -267,7 +271,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references/:id/specificity',
       summary: 'Specificity gate of a reference, computed now (no signature)',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       params: idParams,
     },
     ({ params }) => refs.previewGate(getDb(), params.id),
@@ -309,7 +313,7 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/library/specificity',
       summary: 'Specificity matrix of the approved library of one technique',
       tag: 'library',
-      access: 'authenticated',
+      access: READERS,
       query: specificityMatrixQuerySchema,
     },
     ({ query }) => specificityMatrixFor(query.technique),

@@ -7,6 +7,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
+import { IntegrityNotice } from '../../../components/IntegrityNotice';
 import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { Verdict } from '../../../components/Verdict';
@@ -87,6 +88,7 @@ export function ReviewView({
 
   return (
     <div className="flex flex-col gap-5">
+      <IntegrityNotice integrity={data.integrity} />
       <section
         aria-label="Versions and instrument"
         className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
@@ -144,7 +146,15 @@ export function ReviewView({
             </p>
           )}
           <div className="flex flex-wrap gap-2">
-            <Button size="bench" variant="primary" onClick={() => setDialog('verify')}>
+            <Button
+              size="bench"
+              variant="primary"
+              disabled={!data.integrity.intact}
+              title={
+                data.integrity.intact ? undefined : 'The data no longer match what was recorded; see the warning above.'
+              }
+              onClick={() => setDialog('verify')}
+            >
               Sign as verified
             </Button>
             {failing.length === 0 && (
