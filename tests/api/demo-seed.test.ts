@@ -10,7 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
 import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
-import { DEMO_MATERIAL_CODES, NEW_HIRE, seedDemoSite } from '../../db/seeds/demo';
+import { DEMO_MATERIAL_CODES, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
 import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
@@ -267,6 +267,21 @@ describe('demo seed', () => {
       .where({ action: 'user.created', entity_id: String(u.id) })
       .first();
     expect(created.actor_id).toBe(adam.id);
+  });
+
+  it('leaves a role change for the second administrator: Adam asked for verifier for Olga, Sigrid confirms', async () => {
+    const olga = await db('app_user').where({ username: 'olga' }).first();
+    const adam = await db('app_user').where({ username: 'adam' }).first();
+    const req = await db('role_request as r')
+      .leftJoin('role_decision as d', 'd.request_id', 'r.id')
+      .where('r.user_id', olga.id)
+      .whereNull('d.id')
+      .first('r.*');
+    expect(req).toMatchObject({ requested_by: adam.id, roles_after: JSON.stringify(ROLE_REQUEST.roles) });
+    expect(JSON.parse(olga.roles)).toEqual(['operator']);
+    // the demo accounts came through the site-setup path, audited as such
+    const setup = await db('audit_event').where({ action: 'user.created-at-site-setup' }).count({ n: '*' }).first();
+    expect(Number(setup?.n)).toBe(DEMO_ACCOUNTS.length);
   });
 
   it('has every demo account, with the roles README lists', async () => {

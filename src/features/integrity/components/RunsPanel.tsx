@@ -1,4 +1,6 @@
 /** The integrity sweeps: ask for one now (auditor or QA), and each run's progress and findings. */
+import { useEffect } from 'react';
+import { useQueryClient } from '@tanstack/react-query';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
@@ -8,6 +10,12 @@ export function RunsPanel() {
   const runs = useRuns();
   const ask = useRequestSweep();
   const busy = (runs.data ?? []).some((r) => r.status === 'queued' || r.status === 'running');
+  // a sweep that finished may have raised alerts: the alert lists are asked again
+  const finished = (runs.data ?? []).filter((r) => r.status === 'finished').length;
+  const qc = useQueryClient();
+  useEffect(() => {
+    void qc.invalidateQueries({ queryKey: ['integrity', 'alerts'] });
+  }, [finished, qc]);
   return (
     <section aria-labelledby="runs" className="flex flex-col gap-3">
       <div className="flex flex-wrap items-center justify-between gap-2">
