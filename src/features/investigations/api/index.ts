@@ -1,7 +1,7 @@
 /** Hooks of investigations of failing identity results. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
   InvestigationDetail,
@@ -21,21 +21,21 @@ export type SignatureBody = SignatureInput;
 
 export const useInvestigations = (state: 'open' | 'all') =>
   useQuery({
-    queryKey: ['investigations', 'list', state],
+    queryKey: qk.investigations.list(state),
     queryFn: () => apiFetch<Investigation[]>('/api/investigations', { query: { state } }),
   });
 export const useInvestigation = (id: number) =>
   useQuery({
-    queryKey: ['investigations', id],
+    queryKey: qk.investigations.one(id),
     queryFn: () => apiFetch<InvestigationDetail>(`/api/investigations/${id}`),
   });
 
 function useDone(id: number) {
   const qc = useQueryClient();
   return () => {
-    void qc.invalidateQueries({ queryKey: ['investigations'] });
-    void qc.invalidateQueries({ queryKey: ['lots'] });
-    void qc.invalidateQueries({ queryKey: ['work-queue'] });
+    void qc.invalidateQueries({ queryKey: qk.investigations.all });
+    void qc.invalidateQueries({ queryKey: qk.lots.all });
+    void qc.invalidateQueries({ queryKey: qk.workQueue });
     void invalidateMe(qc);
     void id;
   };
