@@ -33,6 +33,21 @@ export const SIGNATURE_MEANINGS = [
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
+/** The meaning of an e-signature in words, wherever a signature is shown on screen. */
+export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
+  performed: 'Performed',
+  verified: 'Verified',
+  returned: 'Returned to the operator',
+  approved: 'Approved',
+  'approved-with-justification': 'Approved with a written justification',
+  retired: 'Retired',
+  'instrument-check': 'Instrument check performed',
+  'phase-1-recorded': 'Phase I laboratory check recorded',
+  'result-invalidated': 'Result invalidated, retest authorised',
+  'failure-confirmed': 'Failure confirmed, lot rejected',
+  issued: 'Issued',
+};
+
 /** The signature part of a request body: the password again, the user name at first signing. */
 export const signatureInput = z.object({
   password: z.string().min(1, 'Enter your password to sign.').max(200),

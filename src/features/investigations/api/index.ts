@@ -16,8 +16,6 @@ export type {
   InvestigationSummary as Investigation,
   Phase1Record,
 } from '../../../../server/modules/investigations/contract';
-/** The signature part of a request body. */
-export type SignatureBody = SignatureInput;
 
 export const useInvestigations = (state: 'open' | 'all') =>
   useQuery({
@@ -45,7 +43,7 @@ export function usePhase1(id: number) {
   const done = useDone(id);
   return useMutation({
     mutationFn: (
-      body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureBody },
+      body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureInput },
     ) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/phase1`, { method: 'POST', body }),
     onSuccess: done,
   });
@@ -58,7 +56,7 @@ export function useInvalidate(id: number) {
       cause: Phase1Item;
       justification: string;
       retestContainerIds: number[];
-      signature: SignatureBody;
+      signature: SignatureInput;
     }) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/invalidate`, { method: 'POST', body }),
     onSuccess: done,
   });
@@ -67,7 +65,7 @@ export function useInvalidate(id: number) {
 export function useConfirm(id: number) {
   const done = useDone(id);
   return useMutation({
-    mutationFn: (body: { justification: string; signature: SignatureBody }) =>
+    mutationFn: (body: { justification: string; signature: SignatureInput }) =>
       apiFetch<InvestigationDetail>(`/api/investigations/${id}/confirm`, { method: 'POST', body }),
     onSuccess: done,
   });

@@ -3,19 +3,22 @@ import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tansta
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
 import { invalidateMe, qk } from '../../../lib/query-keys';
 import type {
+  ApproveReferenceInput,
+  BandsUpdateInput,
   GateReport,
-  IdentityMethodInput,
   Material,
   MaterialCreateInput,
   MaterialDetail,
   MaterialListItem,
   MaterialUpdateInput,
+  MethodUpdateInput,
   MethodWithSignatures,
   ReferenceDetail,
   ReferenceListItem,
   ReferenceOverlay,
   ReferenceStatus,
   ReferenceUploadFields,
+  RetireReferenceInput,
   SpecificityMatrix,
 } from '../../../../server/modules/library/contract';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
@@ -129,9 +132,8 @@ export function useUpdateMaterial() {
 }
 
 export function useUpdateMethod() {
-  return useLibraryMutation(
-    ({ id, ...body }: { id: number; params?: IdentityMethodInput; changeNote?: string; reason: string }) =>
-      apiFetch<MethodWithSignatures>(`/api/methods/${id}`, { method: 'PATCH', body }),
+  return useLibraryMutation(({ id, ...body }: MethodUpdateInput & { id: number }) =>
+    apiFetch<MethodWithSignatures>(`/api/methods/${id}`, { method: 'PATCH', body }),
   );
 }
 
@@ -150,15 +152,14 @@ export function useApproveMethod() {
 }
 
 export function useUpdateBands() {
-  return useLibraryMutation(
-    ({ id, bands, reason }: { id: number; bands: { position: number; assignment?: string }[]; reason: string }) =>
-      apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
+  return useLibraryMutation(({ id, bands, reason }: BandsUpdateInput & { id: number }) =>
+    apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
   );
 }
 
 export function useApproveReference() {
   return useLibraryMutation(
-    ({ id, signature, justification }: { id: number; signature: SignatureCredentials; justification?: string }) =>
+    ({ id, signature, justification }: ApproveReferenceInput & { id: number }) =>
       apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, {
         method: 'POST',
         body: { signature, justification },
@@ -169,7 +170,7 @@ export function useApproveReference() {
 
 export function useRetireReference() {
   return useLibraryMutation(
-    ({ id, signature, reason }: { id: number; signature: SignatureCredentials; reason: string }) =>
+    ({ id, signature, reason }: RetireReferenceInput & { id: number }) =>
       apiFetch<ReferenceDetail>(`/api/references/${id}/retire`, { method: 'POST', body: { signature, reason } }),
     { signs: true },
   );

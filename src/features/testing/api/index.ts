@@ -45,8 +45,6 @@ export type {
   VerifyOutcome,
   WorkQueue,
 } from '../../../../server/modules/testing/contract';
-/** The signature part of a request body. */
-export type SignatureBody = SignatureInput;
 
 export const useReceivableMaterials = () =>
   useQuery({
@@ -154,7 +152,7 @@ export function usePerform(lotId: number, testId: number) {
   const qc = useQueryClient();
   const refresh = useLotRefresh();
   return useMutation({
-    mutationFn: (signature: SignatureBody) =>
+    mutationFn: (signature: SignatureInput) =>
       apiFetch<TestDetail>(`/api/tests/${testId}/perform`, { method: 'POST', body: { signature } }),
     onSuccess: () => {
       refresh(lotId, testId);
@@ -178,7 +176,7 @@ function useDecisionRefresh(testId: number) {
 export function useVerify(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
-    mutationFn: (body: { signature: SignatureBody; comment?: string }) =>
+    mutationFn: (body: { signature: SignatureInput; comment?: string }) =>
       apiFetch<VerifyOutcome>(`/api/tests/${testId}/verify`, {
         method: 'POST',
         body,
@@ -190,7 +188,7 @@ export function useVerify(testId: number) {
 export function useReturnTest(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
-    mutationFn: (body: { signature: SignatureBody; reason: string }) =>
+    mutationFn: (body: { signature: SignatureInput; reason: string }) =>
       apiFetch<TestDetail>(`/api/tests/${testId}/return`, { method: 'POST', body }),
     onSuccess: done,
   });
