@@ -47,9 +47,10 @@ test('an administrator changes roles, a second one confirms; the account history
   });
   expect(confirmed.status()).toBe(200);
   await second.close();
-  await page.reload(); // the page's cached account list predates the changes made through the API
 
-  // Account history from the accounts page.
+  // Account history from the accounts page. The work queue already loaded the account list (kept
+  // 15 s) before the API calls above, which the page's hooks did not see: load the app afresh.
+  await page.reload();
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
   await page.getByRole('row').filter({ hasText: username }).click();
   await page.getByRole('button', { name: 'Account history' }).click();

@@ -5,6 +5,7 @@
  */
 import { useQuery } from '@tanstack/react-query';
 import { apiFetch } from '../lib/api';
+import { qk } from '../lib/query-keys';
 import type { IntegrityAlert } from '../../server/modules/integrity/contract';
 import { AlertLines } from './IntegrityNotice';
 
@@ -13,7 +14,7 @@ export type AlertRecordType =
 
 export function RecordAlerts({ type, id, label }: { type: AlertRecordType; id: number; label: string }) {
   const q = useQuery({
-    queryKey: ['integrity', 'record', type, id],
+    queryKey: qk.integrity.record(type, id),
     queryFn: () => apiFetch<IntegrityAlert[]>(`/api/integrity/records/${type}/${id}`),
     retry: false,
   });

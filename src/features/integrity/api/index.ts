@@ -1,30 +1,28 @@
 /** Integrity alerts and sweeps (QA managers and auditors; QA signs alerts off). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { IntegrityAlert, IntegrityRun, SignOffInput } from '../../../../server/modules/integrity/contract';
 
 export type { IntegrityAlert, IntegrityRun, SignOffInput } from '../../../../server/modules/integrity/contract';
 
-const KEY = ['integrity'] as const;
-
 export function useAlerts(status: 'open' | 'all') {
   return useQuery({
-    queryKey: [...KEY, 'alerts', status],
+    queryKey: qk.integrity.alerts(status),
     queryFn: () => apiFetch<IntegrityAlert[]>(`/api/integrity/alerts?status=${status}`),
   });
 }
 
 export function useAlert(id: number) {
   return useQuery({
-    queryKey: [...KEY, 'alert', id],
+    queryKey: qk.integrity.alert(id),
     queryFn: () => apiFetch<IntegrityAlert>(`/api/integrity/alerts/${id}`),
   });
 }
 
 export function useRuns() {
   return useQuery({
-    queryKey: [...KEY, 'runs'],
+    queryKey: qk.integrity.runs,
     queryFn: () => apiFetch<IntegrityRun[]>('/api/integrity/runs'),
     // a running sweep reports progress: ask again every few seconds while one is queued or running
     refetchInterval: (q) =>
@@ -36,7 +34,7 @@ export function useRequestSweep() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: () => apiFetch<IntegrityRun>('/api/integrity/runs', { method: 'POST', body: {} }),
-    onSuccess: () => void qc.invalidateQueries({ queryKey: KEY }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.integrity.all }),
   });
 }
 
@@ -46,7 +44,7 @@ export function useSignOff(id: number) {
     mutationFn: (body: SignOffInput) =>
       apiFetch<IntegrityAlert>(`/api/integrity/alerts/${id}/sign-off`, { method: 'POST', body }),
     onSuccess: () => {
-      void qc.invalidateQueries({ queryKey: KEY });
+      void qc.invalidateQueries({ queryKey: qk.integrity.all });
       void invalidateMe(qc);
     },
   });

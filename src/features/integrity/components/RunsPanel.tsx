@@ -2,6 +2,7 @@
 import { useEffect } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { Button } from '../../../components/Button';
+import { qk } from '../../../lib/query-keys';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { useRequestSweep, useRuns } from '../api';
@@ -14,7 +15,7 @@ export function RunsPanel() {
   const finished = (runs.data ?? []).filter((r) => r.status === 'finished').length;
   const qc = useQueryClient();
   useEffect(() => {
-    void qc.invalidateQueries({ queryKey: ['integrity', 'alerts'] });
+    void qc.invalidateQueries({ queryKey: qk.integrity.alertsAll });
   }, [finished, qc]);
   return (
     <section aria-labelledby="runs" className="flex flex-col gap-3">

@@ -1,7 +1,7 @@
 /** Account administration hooks (admin only on the server). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
   CreateUserInput,
@@ -18,15 +18,13 @@ export type {
   UserAccount,
 } from '../../../../server/modules/users/contract';
 
-const USERS_KEY = ['users'] as const;
-
 export function useUsers() {
-  return useQuery({ queryKey: USERS_KEY, queryFn: () => apiFetch<UserAccount[]>('/api/users') });
+  return useQuery({ queryKey: qk.users.all, queryFn: () => apiFetch<UserAccount[]>('/api/users') });
 }
 
 function useUsersMutation<V, R>(fn: (v: V) => Promise<R>) {
   const qc = useQueryClient();
-  return useMutation({ mutationFn: fn, onSuccess: () => qc.invalidateQueries({ queryKey: USERS_KEY }) });
+  return useMutation({ mutationFn: fn, onSuccess: () => qc.invalidateQueries({ queryKey: qk.users.all }) });
 }
 
 export function useCreateUser() {
@@ -52,12 +50,10 @@ export function useResetPassword() {
   );
 }
 
-const ROLE_CHANGES_KEY = ['users', 'role-changes'] as const;
-
 /** Role changes waiting for a second administrator (two-person rule). */
 export function useRoleChanges() {
   return useQuery({
-    queryKey: ROLE_CHANGES_KEY,
+    queryKey: qk.users.roleChanges,
     queryFn: () => apiFetch<RoleChangeWaiting[]>('/api/users/role-changes'),
   });
 }
@@ -69,7 +65,7 @@ export function useConfirmRoleChange() {
     mutationFn: ({ requestId, signature }: { requestId: number; signature: SignatureInput }) =>
       apiFetch<UserAccount>(`/api/users/role-changes/${requestId}/confirm`, { method: 'POST', body: { signature } }),
     onSuccess: () => {
-      void qc.invalidateQueries({ queryKey: USERS_KEY });
+      void qc.invalidateQueries({ queryKey: qk.users.all });
       void invalidateMe(qc);
     },
   });
