@@ -49,7 +49,7 @@ function missingSentences(rows: BandRow[]): string[] {
     .map((r) =>
       r.sampleBand === null || r.shift === null
         ? `Reference band at ${cm(r.referenceBand)} (${r.assignment}) is missing in the sample.`
-        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed.`,
+        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed${r.toleranceRule ? ` (${r.toleranceRule})` : ''}.`,
     );
   if (bad.length > MAX_BAND_SENTENCES)
     out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);

@@ -4,4 +4,10 @@
  * exact algorithm that produced it. Bump it whenever a change could alter a
  * number in a result (semantic versioning: major = verdicts may change).
  */
-export const ENGINE_VERSION = '1.0.0';
+export const ENGINE_VERSION = '2.0.0';
+
+/*
+ * 2.0.0: the shift tolerance of a band is widened by its width only for broad bands
+ * (full width at half height of at least 80 cm-1); a sharp band keeps its positional
+ * tolerance (bands.ts). Band rows state the rule that set their tolerance.
+ */

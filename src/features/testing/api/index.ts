@@ -144,6 +144,10 @@ export interface BandRow {
   sampleBand: number | null;
   shift: number | null;
   tolerance: number;
+  /** Since engine 2.0.0: the rule that set the tolerance, in words, and whether it was widened for a broad band. */
+  toleranceRule?: string;
+  widened?: boolean;
+  referenceWidth?: number | null;
   withinTolerance: boolean;
   assignment: string;
   referenceProminence: number | null;

@@ -61,8 +61,12 @@ export function CriteriaTable({ result }: { result: StoredResult }) {
   );
 }
 
+/** The engine writes units as "cm-1"; shown as cm⁻¹. */
+const unitText = (s: string) => s.replaceAll('cm-1', 'cm⁻¹');
+
 export function BandTable({ result }: { result: StoredResult }) {
   if (!result.bands.length && !result.extraBands.length) return null;
+  const positional = result.bands.find((b) => b.toleranceRule && !b.widened)?.toleranceRule;
   return (
     <div className="flex flex-col gap-2">
       {result.bands.length > 0 && (
@@ -87,7 +91,12 @@ export function BandTable({ result }: { result: StoredResult }) {
                   {b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}
                 </td>
                 <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatShift(b.shift)}</td>
-                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">±{b.tolerance.toFixed(1)} cm⁻¹</td>
+                <td className="py-1 pr-3 text-right tabular-nums">
+                  <span className="whitespace-nowrap">±{b.tolerance.toFixed(1)} cm⁻¹</span>
+                  {b.widened && b.toleranceRule && (
+                    <span className="block text-xs text-muted">({unitText(b.toleranceRule)})</span>
+                  )}
+                </td>
                 <td className="py-1 pr-3">
                   <Verdict
                     verdict={b.withinTolerance ? 'pass' : 'fail'}
@@ -100,6 +109,12 @@ export function BandTable({ result }: { result: StoredResult }) {
             ))}
           </tbody>
         </table>
+      )}
+      {result.bands.length > 0 && positional && (
+        <p className="text-xs text-muted">
+          Shift tolerance: {unitText(positional)} for every band; a sharp band never passes beyond it. Only a broad band
+          (full width at half height of 80 cm⁻¹ or more) may shift further, by the method&apos;s fraction of its width.
+        </p>
       )}
       {result.extraBands.length > 0 && (
         <p className="text-sm">
