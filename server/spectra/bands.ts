@@ -13,6 +13,7 @@
  * the reference band's; a band listed by QA without a width counts as sharp.
  */
 import { BROAD_BAND_WIDTH, describeAssignment, shapeOf } from './group-frequencies';
+import type { BandIntensity } from './intensity';
 import { type BandTolerance, toleranceAt } from './method';
 import type { Peak } from './peaks';
 
@@ -48,6 +49,8 @@ export interface BandRow {
   assignment: string;
   referenceProminence: number | null;
   sampleProminence: number | null;
+  /** Relative-intensity comparison (intensity.ts), present only when the method uses that criterion. */
+  intensity?: BandIntensity;
 }
 
 export interface ExtraBand {

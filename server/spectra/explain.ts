@@ -23,6 +23,8 @@ function criterionSentence(c: Criterion): string {
       return `Correlation of the first-derivative spectra is ${c.value.toFixed(4)} (at least ${c.limit} required)${ok ? '.' : ': band positions or shapes differ.'}`;
     case 'band-concordance':
       return `${c.value} of ${c.limit} reference bands were found in the sample within tolerance.`;
+    case 'relative-intensity':
+      return `${c.value} of ${c.limit} reference bands have the relative intensity of the reference (as a fraction of the strongest band)${ok ? '.' : ': the relative sizes of the bands differ.'}`;
     case 'extra-bands':
       return ok
         ? 'The sample shows no strong band that the reference lacks.'
@@ -53,6 +55,27 @@ function missingSentences(rows: BandRow[]): string[] {
     );
   if (bad.length > MAX_BAND_SENTENCES)
     out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);
+  return out;
+}
+
+const fraction = (v: number) => v.toFixed(2);
+
+function intensitySentences(rows: BandRow[]): string[] {
+  const bad = rows
+    .filter((r) => r.intensity && r.intensity.verdict === 'fail')
+    .sort((a, b) => Math.abs(b.intensity?.difference ?? 0) - Math.abs(a.intensity?.difference ?? 0));
+  const out = bad.slice(0, MAX_BAND_SENTENCES).map((r) => {
+    const i = r.intensity as NonNullable<BandRow['intensity']>;
+    return (
+      `Band at ${cm(r.referenceBand)} has ${fraction(i.sample as number)} of the strongest band's height in the sample and ` +
+      `${fraction(i.reference)} in the reference (difference ${(i.difference as number) >= 0 ? '+' : ''}${fraction(i.difference as number)}; at most ±${i.tolerance} allowed).`
+    );
+  });
+  if (bad.length > MAX_BAND_SENTENCES)
+    out.push(`${bad.length - MAX_BAND_SENTENCES} further bands differ in relative intensity (see the band table).`);
+  const notCompared = rows.filter((r) => r.intensity?.verdict === 'not-compared');
+  if (notCompared.length && notCompared.length === rows.length)
+    out.push('The strongest reference band was not found in the sample, so no relative intensity could be compared.');
   return out;
 }
 
@@ -115,6 +138,7 @@ export function explain(input: ExplainInput): string[] {
     if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));
   if (verdict !== 'pass') {
     lines.push(...missingSentences(best.bands));
+    lines.push(...intensitySentences(best.bands));
     lines.push(...extraSentences(best.extraBands));
   }
   return lines;

@@ -94,6 +94,17 @@ export interface IdentityMethod {
   peakProminence: number | null;
   /** A sample band with no reference counterpart fails the method at or above this prominence (fraction of strongest band); null = not used. */
   maxExtraBandProminence: number | null;
+  /**
+   * Relative band intensity (Ph. Eur. 2.2.24: maxima agree in position and relative size,
+   * intensity.ts): each reference band's height as a fraction of the strongest reference
+   * band may differ from the matched sample band's by at most this much (0..1]. null or
+   * absent = not used: methods stored before engine 2.0.0 have no such field and keep the
+   * meaning they were approved with. DEFAULT_RELATIVE_INTENSITY_TOLERANCE (0.15) is the
+   * suggested start: on the repeat scans of ../shared/reference-data it passes every pair
+   * except an oriented silk yarn, and fails evening primrose oil against olive oil
+   * (tests/unit/spectra-intensity.test.ts). Needs band picking (peakProminence).
+   */
+  relativeIntensityTolerance?: number | null;
   quality: QualityLimits;
   distanceModel: DistanceModelSettings | null;
 }
@@ -272,6 +283,10 @@ export function validateMethod(m: unknown): string[] {
   if (m.peakProminence === null && m.maxExtraBandProminence !== null && m.maxExtraBandProminence !== undefined) {
     problems.push('maxExtraBandProminence needs peakProminence (band picking) to be switched on.');
   }
+  const rit = m.relativeIntensityTolerance ?? null;
+  checkFraction(rit, 'relativeIntensityTolerance', problems, true);
+  if (rit !== null && m.peakProminence === null)
+    problems.push('relativeIntensityTolerance needs peakProminence (band picking) to be switched on.');
   const q = m.quality;
   if (!isObject(q)) problems.push('quality needs minMaxAbsorbance, maxAbsorbance and minSignalToNoise.');
   else {

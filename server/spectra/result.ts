@@ -6,7 +6,7 @@ import type { BandRow, ExtraBand } from './bands';
 import type { QualityReport } from './quality';
 
 export type CriterionKey =
-  'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
+  'correlation' | 'derivative-correlation' | 'band-concordance' | 'relative-intensity' | 'extra-bands' | 'mahalanobis';
 
 export interface Criterion {
   key: CriterionKey;

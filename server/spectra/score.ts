@@ -4,8 +4,8 @@
  *
  * Order: quality gate (an invalid measurement gets no verdict), preparation,
  * then per reference: Pearson correlation of the prepared spectra, correlation of
- * first-derivative spectra (when the method asks), band concordance and extra
- * bands; on the whole set: Mahalanobis distance (when the method asks and enough
+ * first-derivative spectra (when the method asks), band concordance, relative band
+ * intensity (when the method asks) and extra bands; on the whole set: Mahalanobis distance (when the method asks and enough
  * references exist). The verdict is pass only if every criterion passes against
  * at least one reference (and every set criterion passes). Pure and
  * deterministic: same inputs, same result.
@@ -14,6 +14,7 @@ import { type Band, bandConcordance, referenceBandsFrom } from './bands';
 import { centredUnit, dot } from './correlation';
 import { SpectrumError } from './errors';
 import { explain } from './explain';
+import { compareIntensities } from './intensity';
 import { type IdentityMethod, preparationKey, validateMethod } from './method';
 import { buildDistanceModel, mahalanobisDistance } from './nir';
 import { type PreparedSpectrum, prepare } from './preprocess';
@@ -140,6 +141,21 @@ export function scoreReference(
     criteria.push(
       criterion('band-concordance', 'Reference bands found within tolerance', c.matched, c.rows.length, '>=', ref.id),
     );
+    const rit = method.relativeIntensityTolerance ?? null;
+    if (rit !== null) {
+      const cmp = compareIntensities(c.rows, ref.prepared, sample, rit);
+      bands = c.rows.map((row, i) => ({ ...row, intensity: cmp.intensities[i] }));
+      criteria.push(
+        criterion(
+          'relative-intensity',
+          'Reference bands with the relative intensity of the reference',
+          cmp.agreeing,
+          c.rows.length,
+          '>=',
+          ref.id,
+        ),
+      );
+    }
     if (method.maxExtraBandProminence !== null) {
       criteria.push(
         criterion(

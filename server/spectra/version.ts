@@ -9,5 +9,6 @@ export const ENGINE_VERSION = '2.0.0';
 /*
  * 2.0.0: the shift tolerance of a band is widened by its width only for broad bands
  * (full width at half height of at least 80 cm-1); a sharp band keeps its positional
- * tolerance (bands.ts). Band rows state the rule that set their tolerance.
+ * tolerance (bands.ts). Band rows state the rule that set their tolerance. Optional
+ * relative band intensity criterion (intensity.ts; off unless the method sets it).
  */

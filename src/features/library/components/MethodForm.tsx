@@ -7,7 +7,10 @@ import { useState, type FormEvent, type ReactNode } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
-import { identityMethodSchema } from '../../../../server/modules/library/schemas';
+import {
+  identityMethodSchema,
+  SUGGESTED_RELATIVE_INTENSITY_TOLERANCE,
+} from '../../../../server/modules/library/schemas';
 import { useUpdateMethod, type IdentityMethodParams, type MethodVersion } from '../api';
 
 type Region = { from: string; to: string; label: string };
@@ -65,6 +68,8 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     widthTolerance: str(p.widthTolerance),
     peakProminence: str(p.peakProminence),
     maxExtraBandProminence: str(p.maxExtraBandProminence),
+    relativeIntensity: p.relativeIntensityTolerance != null ? 'on' : 'off',
+    relativeIntensityTolerance: str(p.relativeIntensityTolerance ?? SUGGESTED_RELATIVE_INTENSITY_TOLERANCE),
     minMaxAbsorbance: str(p.quality.minMaxAbsorbance),
     maxAbsorbance: str(p.quality.maxAbsorbance),
     minSignalToNoise: str(p.quality.minSignalToNoise),
@@ -101,6 +106,7 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
       widthTolerance: optNum(f.widthTolerance),
       peakProminence: optNum(f.peakProminence),
       maxExtraBandProminence: optNum(f.maxExtraBandProminence),
+      relativeIntensityTolerance: f.relativeIntensity === 'on' ? num(f.relativeIntensityTolerance) : null,
       quality: {
         minMaxAbsorbance: num(f.minMaxAbsorbance),
         maxAbsorbance: num(f.maxAbsorbance),
@@ -266,6 +272,25 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
           value={f.maxExtraBandProminence}
           onChange={set('maxExtraBandProminence')}
         />
+        <Field
+          id={id('ri')}
+          label="Relative band intensity"
+          hint="Ph. Eur. 2.2.24: band positions and relative sizes. Needs band picking."
+        >
+          <Select id={id('ri')} value={f.relativeIntensity} onChange={(e) => set('relativeIntensity')(e.target.value)}>
+            <option value="off">not compared</option>
+            <option value="on">compared with the reference</option>
+          </Select>
+        </Field>
+        {f.relativeIntensity === 'on' && (
+          <NumField
+            id={id('rit')}
+            label="Relative intensity tolerance (fraction of strongest band)"
+            hint={`Each band's height relative to the strongest may differ by this much; ${SUGGESTED_RELATIVE_INTENSITY_TOLERANCE} is a usual start.`}
+            value={f.relativeIntensityTolerance}
+            onChange={set('relativeIntensityTolerance')}
+          />
+        )}
         <NumField
           id={id('comp')}
           label="Distance model: components"

@@ -152,6 +152,14 @@ export interface BandRow {
   assignment: string;
   referenceProminence: number | null;
   sampleProminence: number | null;
+  /** Since engine 2.0.0, when the method compares relative band intensities. */
+  intensity?: {
+    reference: number;
+    sample: number | null;
+    difference: number | null;
+    tolerance: number;
+    verdict: 'pass' | 'fail' | 'not-compared';
+  };
 }
 
 export interface HintEntry {
