@@ -31,6 +31,10 @@ function criterionSentence(c: Criterion): string {
         : `The sample shows ${c.value} strong band(s) that the reference lacks.`;
     case 'mahalanobis':
       return `Distance to the reference set is ${c.value.toFixed(2)} standard deviations (at most ${c.limit} allowed)${ok ? '.' : ': the sample lies outside the spread of the approved references.'}`;
+    case 'residual':
+      return `Spectral residual outside the model of the reference set (Q) is ${c.value.toFixed(2)} times its limit derived from the references (at most ${c.limit})${ok ? '.' : ': the sample shows spectral features the approved references do not have.'}`;
+    case 'reference-model':
+      return 'The model of the reference set that the method asks for could not be built, so the sample cannot pass.';
   }
 }
 
@@ -102,10 +106,14 @@ export interface ExplainInput {
   best: ReferenceScore | null;
   setCriteria: Criterion[];
   referenceCount: number;
+  /** Why the reference-set model could not be built. */
+  modelProblems?: string[];
+  /** The caller asked to judge references one by one although the method has criteria on the whole set. */
+  setCriteriaLeftOut?: boolean;
 }
 
 export function explain(input: ExplainInput): string[] {
-  const { verdict, quality, best, setCriteria, referenceCount } = input;
+  const { verdict, quality, best, setCriteria, referenceCount, modelProblems = [], setCriteriaLeftOut } = input;
   if (verdict === 'invalid') {
     return [
       'The measurement was refused before any comparison; it is neither a pass nor a fail.',
@@ -136,6 +144,11 @@ export function explain(input: ExplainInput): string[] {
   }
   for (const c of [...best.criteria, ...setCriteria])
     if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));
+  lines.push(...modelProblems);
+  if (setCriteriaLeftOut)
+    lines.push(
+      'Criteria on the whole reference set (distance, residual) were not evaluated: each reference was judged alone.',
+    );
   if (verdict !== 'pass') {
     lines.push(...missingSentences(best.bands));
     lines.push(...intensitySentences(best.bands));

@@ -51,6 +51,13 @@ export interface IdentityThresholds {
   minDerivativeCorrelation: number | null;
   /** Maximum Mahalanobis distance (RMS standard deviations over the principal components); null = not used. */
   maxMahalanobis: number | null;
+  /**
+   * Confidence level (0.5 to 0.9999) of the limit on the spectral residual outside the
+   * reference-set model (Q, residual.ts); the limit itself is derived from the references.
+   * null or absent = not used (methods stored before engine 2.0.0 have no such field).
+   * Needs a distanceModel.
+   */
+  residualConfidence?: number | null;
 }
 
 /** Limits of the measurement-quality gate (applied before any verdict). */
@@ -147,8 +154,11 @@ export const defaultMidIrAtrMethod: IdentityMethod = {
 
 /**
  * Default NIR method (diffuse reflectance, log(1/R)): SNV and Savitzky-Golay first
- * derivative are the usual NIR pre-treatments (common practice); a Mahalanobis
- * distance on principal components is added once the reference set is large enough.
+ * derivative are the usual NIR pre-treatments (common practice). The sample is also
+ * judged against the whole reference set: Mahalanobis distance on principal components
+ * and the spectral residual outside them (Q, limit at 99 % confidence, residual.ts);
+ * until the set holds minReferences references the model cannot be built and no sample
+ * passes (reference-model.ts).
  */
 export const defaultNirMethod: IdentityMethod = {
   technique: 'nir',
@@ -158,7 +168,7 @@ export const defaultNirMethod: IdentityMethod = {
   baseline: 'none',
   normalisation: 'snv',
   smoothing: { windowSize: 11, polynomial: 2, derivative: 1 },
-  thresholds: { minCorrelation: 0.95, minDerivativeCorrelation: null, maxMahalanobis: 3 },
+  thresholds: { minCorrelation: 0.95, minDerivativeCorrelation: null, maxMahalanobis: 3, residualConfidence: 0.99 },
   bandTolerance: { mode: 'absolute', cm1: 20 },
   widthTolerance: 0.25,
   peakProminence: null,
@@ -267,6 +277,11 @@ export function validateMethod(m: unknown): string[] {
     if (mm !== null && (!isNum(mm) || mm <= 0))
       problems.push('thresholds.maxMahalanobis must be a positive number or null.');
     if (mm !== null && !isObject(m.distanceModel)) problems.push('thresholds.maxMahalanobis needs a distanceModel.');
+    const rc = t.residualConfidence ?? null;
+    if (rc !== null && (!isNum(rc) || rc < 0.5 || rc > 0.9999))
+      problems.push('thresholds.residualConfidence must be a confidence level from 0.5 to 0.9999, or null.');
+    if (rc !== null && !isObject(m.distanceModel))
+      problems.push('thresholds.residualConfidence needs a distanceModel.');
   }
   const bt = m.bandTolerance;
   if (!isObject(bt)) problems.push('bandTolerance must be {mode: "absolute", cm1} or {mode: "relative", percent}.');

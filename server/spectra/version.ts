@@ -11,4 +11,8 @@ export const ENGINE_VERSION = '2.0.0';
  * (full width at half height of at least 80 cm-1); a sharp band keeps its positional
  * tolerance (bands.ts). Band rows state the rule that set their tolerance. Optional
  * relative band intensity criterion (intensity.ts; off unless the method sets it).
+ * Spectral residual (Q) beside the Mahalanobis distance, with a limit derived from the
+ * references (residual.ts; on in the default NIR method). A reference-set criterion the
+ * method asks for is never dropped: when the model cannot be built the result fails on
+ * "reference-model" and says why (reference-model.ts).
  */

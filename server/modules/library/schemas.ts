@@ -45,6 +45,8 @@ export const identityMethodSchema = z.object({
     minCorrelation: correlationLimit,
     minDerivativeCorrelation: correlationLimit.nullable(),
     maxMahalanobis: z.number().finite().positive().nullable(),
+    /** Confidence of the residual (Q) limit derived from the references; absent in methods stored before engine 2.0.0. */
+    residualConfidence: z.number().finite().min(0.5).max(0.9999).nullable().optional(),
   }),
   bandTolerance: z.discriminatedUnion('mode', [
     z.object({ mode: z.literal('absolute'), cm1: z.number().finite().gt(0).lte(100) }),

@@ -63,6 +63,7 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     minCorrelation: str(p.thresholds.minCorrelation),
     minDerivativeCorrelation: str(p.thresholds.minDerivativeCorrelation),
     maxMahalanobis: str(p.thresholds.maxMahalanobis),
+    residualConfidence: str(p.thresholds.residualConfidence),
     toleranceMode: p.bandTolerance.mode,
     toleranceValue: str(p.bandTolerance.mode === 'absolute' ? p.bandTolerance.cm1 : p.bandTolerance.percent),
     widthTolerance: str(p.widthTolerance),
@@ -98,6 +99,7 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
         minCorrelation: num(f.minCorrelation),
         minDerivativeCorrelation: optNum(f.minDerivativeCorrelation),
         maxMahalanobis: optNum(f.maxMahalanobis),
+        residualConfidence: optNum(f.residualConfidence),
       },
       bandTolerance:
         f.toleranceMode === 'absolute'
@@ -238,6 +240,13 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
           hint="Empty: not used"
           value={f.maxMahalanobis}
           onChange={set('maxMahalanobis')}
+        />
+        <NumField
+          id={id('qres')}
+          label="Spectral residual (Q): confidence of its limit"
+          hint="The limit is derived from the references (leave one out); e.g. 0.99. Empty: not used"
+          value={f.residualConfidence}
+          onChange={set('residualConfidence')}
         />
         <Field id={id('tolm')} label="Band tolerance">
           <Select id={id('tolm')} value={f.toleranceMode} onChange={(e) => set('toleranceMode')(e.target.value)}>

@@ -25,11 +25,16 @@ export function verdictLabel(v: 'pass' | 'fail' | 'invalid'): string {
 function criterionValue(c: Criterion): string {
   if (c.key === 'band-concordance' || c.key === 'relative-intensity') return `${c.value} of ${c.limit}`;
   if (c.key === 'extra-bands') return String(c.value);
+  if (c.key === 'reference-model') return c.value >= c.limit ? 'built' : 'cannot be built';
+  if (c.key === 'residual' || c.key === 'mahalanobis') return c.value.toFixed(2);
   return formatScore(c.value);
 }
 function criterionLimit(c: Criterion): string {
   if (c.key === 'band-concordance' || c.key === 'relative-intensity') return `all ${c.limit}`;
   if (c.key === 'extra-bands') return `at most ${c.limit}`;
+  if (c.key === 'reference-model') return 'needed';
+  if (c.key === 'residual') return `≤ ${c.limit} × its limit`;
+  if (c.key === 'mahalanobis') return `≤ ${c.limit}`;
   return `${c.comparison === '>=' ? '≥' : '≤'} ${formatScore(c.limit)}`;
 }
 
