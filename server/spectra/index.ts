@@ -74,6 +74,7 @@ export {
   type BandShape,
 } from './group-frequencies';
 export { explain, bandMeaning } from './explain';
+export { rankCandidates, CANDIDATE_RULES, type RankedCandidate, type SpectrumBand } from './candidates';
 export {
   checkPolystyrene,
   locateMaximum,

@@ -16,4 +16,7 @@ export const ENGINE_VERSION = '2.0.0';
  * method asks for is never dropped: when the model cannot be built the result fails on
  * "reference-model" and says why (reference-model.ts). Resampling through
  * ml-spectra-processing (resample.ts): within 1e-15 of each spectrum of 1.0.0's numbers.
+ * Correlation table: carboxylate (asymmetric, symmetric), amide III region and CH2
+ * rocking added, the water bend no longer tied to a broad shape (assignment texts of
+ * bands in those ranges change); candidates ranked by partner bands (candidates.ts).
  */
