@@ -19,7 +19,7 @@ import { bulkAppendAudit, type BulkEvent } from '../server/modules/audit/bulk';
 import * as repo from '../server/modules/audit/repo';
 import * as service from '../server/modules/audit/service';
 import type { AuthUser } from '../server/lib/http';
-import type { AuditListQuery } from '../server/modules/audit/schemas';
+import type { AuditListQuery } from '../server/modules/audit/contract';
 
 const DB_NAME = process.env.AUDIT_BENCH_DB ?? 'drumline_bench';
 const EVENTS = Number(process.env.AUDIT_BENCH_EVENTS ?? 1_000_000);

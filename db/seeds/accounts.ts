@@ -6,7 +6,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, SYSTEM_ACTOR } from '../../server/lib/audit';
 import { hashPassword } from '../../server/lib/passwords';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 
 export const DEMO_PASSWORD = 'drumline-demo-2026';
 

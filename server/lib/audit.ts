@@ -6,6 +6,7 @@
  */
 import type { Knex } from 'knex';
 import { canonicalJson, sha256Hex } from './canonical';
+import type { ChainReport } from './contract';
 
 export interface Actor {
   id: number | null;
@@ -94,10 +95,6 @@ export async function appendAudit(trx: Knex.Transaction, e: AuditInput): Promise
 export async function auditNow(db: Knex, e: AuditInput): Promise<number> {
   return db.transaction((trx) => appendAudit(trx, e));
 }
-
-export type ChainReport =
-  | { ok: true; events: number; lastHash: string; lastId: number }
-  | { ok: false; events: number; brokenAt: number; problem: string; expected?: string; found?: string };
 
 /** Walks the whole chain in id order, in pages, and reports the first row that does not fit. */
 export async function verifyChain(db: Knex, pageSize = 5000): Promise<ChainReport> {

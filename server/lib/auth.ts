@@ -4,7 +4,7 @@ import { getDb, parseJson } from './db';
 import { SESSION_COOKIE, validateSession } from './sessions';
 import type { AuthUser } from './http';
 import type { AppConfig } from './config';
-import type { Role } from './roles';
+import type { Role } from './contract';
 
 export function sessionMiddleware(config: AppConfig): RequestHandler {
   return async (req, res, next) => {

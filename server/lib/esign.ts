@@ -6,35 +6,13 @@
  * and audited (in its own transaction, so the refusal is kept even though the action rolls back).
  */
 import type { Knex } from 'knex';
-import { z } from 'zod';
 import { appendAudit, auditNow } from './audit';
+import type { SignatureInput, SignatureMeaning, SignatureRecord } from './contract';
 import { canonicalJson, sha256Hex } from './canonical';
 import { AppError } from './errors';
 import type { AuthUser } from './http';
 import { verifyPassword } from './passwords';
 import { markSigned } from './sessions';
-
-export const SIGNATURE_MEANINGS = [
-  'performed',
-  'verified',
-  'returned',
-  'approved',
-  'approved-with-justification',
-  'retired',
-  'instrument-check',
-  'phase-1-recorded',
-  'result-invalidated',
-  'failure-confirmed',
-  'issued',
-] as const;
-export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
-
-/** The signature part of a request body: the password again, the user name at first signing. */
-export const signatureInput = z.object({
-  password: z.string().min(1, 'Enter your password to sign.').max(200),
-  username: z.string().max(64).optional(),
-});
-export type SignatureInput = z.infer<typeof signatureInput>;
 
 export interface SignRequest {
   user: AuthUser;
@@ -45,16 +23,6 @@ export interface SignRequest {
   content: unknown; // what is signed; its canonical SHA-256 is stored
   statement?: string | null;
   ip?: string | null;
-}
-
-export interface SignatureRecord {
-  id: number;
-  userId: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
 }
 
 export function contentHash(content: unknown): string {

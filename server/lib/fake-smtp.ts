@@ -1,15 +1,7 @@
 /** A local SMTP server on loopback that captures messages in memory (development and tests only). */
 import { SMTPServer } from 'smtp-server';
 import { simpleParser } from 'mailparser';
-
-export interface CapturedMail {
-  id: number;
-  receivedAt: string;
-  from: string;
-  to: string[];
-  subject: string;
-  text: string;
-}
+import type { CapturedMail } from '../modules/mail/contract';
 
 const captured: CapturedMail[] = [];
 let server: SMTPServer | null = null;

@@ -6,7 +6,7 @@
 import type { NextFunction, Request, RequestHandler, Response, Router } from 'express';
 import { z } from 'zod';
 import { extendZodWithOpenApi } from '@asteasolutions/zod-to-openapi';
-import type { Role } from './roles';
+import type { Role } from './contract';
 import { AppError, forbidden, unauthorized } from './errors';
 import type { Actor } from './audit';
 

@@ -9,7 +9,7 @@ import type { Knex } from 'knex';
 import nodemailer, { type Transporter } from 'nodemailer';
 import type { AppConfig } from './config';
 import { parseJson } from './db';
-import type { Role } from './roles';
+import type { Role } from './contract';
 import { startFakeSmtp } from './fake-smtp';
 import { startJob, type RunningJob } from './lease';
 

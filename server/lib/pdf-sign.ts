@@ -30,6 +30,7 @@ import { SignPdf } from '@signpdf/signpdf';
 import { plainAddPlaceholder } from '@signpdf/placeholder-plain';
 import { repoRoot } from '../../db/config';
 import type { AppConfig } from './config';
+import type { PdfSignatureCheck, SigningIdentity } from './contract';
 
 const asn1 = forge.asn1;
 
@@ -58,17 +59,6 @@ export interface SigningMaterial {
   fingerprint: string;
   source: 'configured' | 'generated';
   p12Path: string;
-}
-
-export interface SigningIdentity {
-  /** SHA-256 of the DER certificate, lower-case hex. */
-  fingerprint: string;
-  subject: string;
-  issuer: string;
-  serialNumber: string;
-  notBefore: string;
-  notAfter: string;
-  source: 'configured' | 'generated';
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -435,21 +425,6 @@ export async function signPdf(
 // ---------------------------------------------------------------------------------------------
 // Verification
 // ---------------------------------------------------------------------------------------------
-
-export interface PdfSignatureCheck {
-  /** The file carries a PDF signature (ByteRange + Contents) with a CMS SignedData. */
-  signed: boolean;
-  /** Digest, signing-certificate-v2 binding and RSA signature all verify, and the whole file is covered. */
-  valid: boolean;
-  signerSubject: string | null;
-  /** SHA-256 of the embedded signer certificate, lower-case hex. */
-  fingerprint: string | null;
-  subFilter: string | null;
-  signingTime: string | null;
-  coversWholeFile: boolean;
-  hasSigningCertificateV2: boolean;
-  problem?: string;
-}
 
 interface Tlv {
   tag: number;

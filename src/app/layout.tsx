@@ -11,7 +11,7 @@ import { lastApiActivity, onUnauthorized } from '../lib/api';
 import { setSiteTimeZone } from '../lib/format';
 import { ME_KEY } from '../lib/query-keys';
 import { hasAnyRole, roleList } from '../lib/roles';
-import type { Me } from '../lib/session-types';
+import type { Me } from '../../server/modules/auth/contract';
 import { ErrorNote } from '../components/ErrorNote';
 import { ErrorBoundary } from './error-boundary';
 import { PageLoading } from './lazy-page';

@@ -4,7 +4,7 @@
  * Pass `session.user.signedOnce` to SignatureDialog as needsUsername={!signedOnce}.
  */
 import { createContext, useContext } from 'react';
-import type { Me } from '../lib/session-types';
+import type { Me } from '../../server/modules/auth/contract';
 import { hasAnyRole, type Role } from '../lib/roles';
 
 export const SessionContext = createContext<Me | null>(null);

@@ -7,14 +7,13 @@
  * if the API stores one, so the record holds the exact words the signer saw.
  */
 import { useEffect, useId, useRef, useState, type FormEvent, type ReactNode } from 'react';
+import type { SignatureInput } from '../../server/lib/contract';
 import { Button } from './Button';
 import { ErrorNote } from './ErrorNote';
 import { Field, Input } from './Field';
 
-export interface SignatureCredentials {
-  username?: string;
-  password: string;
-}
+/** The signature part of a request body, as the server's contract declares it. */
+export type SignatureCredentials = SignatureInput;
 
 export interface SignatureDialogProps {
   open: boolean;

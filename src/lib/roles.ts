@@ -1,6 +1,6 @@
 /** Roles as the server defines them (server/lib/roles.ts is pure data shared with the client). */
-export { ROLES, ROLE_LABELS, type Role } from '../../server/lib/roles';
-import { ROLE_LABELS, type Role } from '../../server/lib/roles';
+export { ROLES, ROLE_LABELS, type Role } from '../../server/lib/contract';
+import { ROLE_LABELS, type Role } from '../../server/lib/contract';
 
 export function roleList(roles: readonly Role[]): string {
   return roles.map((r) => ROLE_LABELS[r] ?? r).join(', ');

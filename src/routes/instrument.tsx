@@ -16,7 +16,7 @@ import { CheckHistory } from '../features/instruments/components/CheckHistory';
 import { CheckStatus } from '../features/instruments/components/CheckStatus';
 import { RecordCheckDialog } from '../features/instruments/components/RecordCheckDialog';
 import { specKindText } from '../features/instruments/components/spec-kind';
-import { SAMPLING_LABELS } from '../../server/modules/instruments/schemas';
+import { SAMPLING_LABELS } from '../../server/modules/instruments/contract';
 
 export default function InstrumentPage() {
   const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');

@@ -8,7 +8,7 @@ import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatScore } from '../lib/format';
-import { PHASE1_ITEMS, PHASE1_LABELS } from '../../server/modules/investigations/schemas';
+import { PHASE1_ITEMS, PHASE1_LABELS } from '../../server/modules/investigations/contract';
 import { useInvestigation } from '../features/investigations/api';
 import { DecisionForms } from '../features/investigations/components/DecisionForms';
 import { InvestigationStatus } from '../features/investigations/components/InvestigationStatus';

@@ -13,7 +13,7 @@ import { MethodVersions } from '../features/library/components/MethodVersions';
 import { ReferencesTable } from '../features/library/components/ReferencesTable';
 import { SpecificityMatrixTable } from '../features/library/components/SpecificityMatrixTable';
 import { UploadReferencesDialog } from '../features/library/components/UploadReferencesDialog';
-import { TECHNIQUE_LABELS } from '../../server/modules/library/schemas';
+import { TECHNIQUE_LABELS } from '../../server/modules/library/contract';
 
 function GradeSpecificity({ materialId, technique }: { materialId: number; technique: string }) {
   const m = useSpecificityMatrix(technique);

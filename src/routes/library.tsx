@@ -12,7 +12,7 @@ import { useMaterials, useSpecificityMatrix } from '../features/library/api';
 import { CreateMaterialForm } from '../features/library/components/CreateMaterialForm';
 import { MaterialsTable } from '../features/library/components/MaterialsTable';
 import { SpecificityMatrixTable } from '../features/library/components/SpecificityMatrixTable';
-import { TECHNIQUE_LABELS, TECHNIQUES } from '../../server/modules/library/schemas';
+import { TECHNIQUE_LABELS, TECHNIQUES } from '../../server/modules/library/contract';
 
 function Matrix() {
   const [technique, setTechnique] = useState<string>('mid-ir-atr');

@@ -14,7 +14,7 @@ import request from 'supertest';
 import { createHash } from 'node:crypto';
 import { agentFor, db, makeUser, testApp } from './helpers';
 import { routeRegistry } from '../../server/lib/http';
-import { ROLES, type Role } from '../../server/lib/roles';
+import { ROLES, type Role } from '../../server/lib/contract';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
 

@@ -26,7 +26,7 @@ import type { Knex } from 'knex';
 import { repoRoot } from '../../db/config';
 import { sha256Hex } from '../../server/lib/canonical';
 import { hashPassword } from '../../server/lib/passwords';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,

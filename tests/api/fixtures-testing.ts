@@ -22,7 +22,7 @@ import {
   seedInstrument,
   type SeededMaterial,
 } from '../../db/seeds/testing-library';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 import { agentFor, db, makeUser, uniqueName } from './helpers';
 
 export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };

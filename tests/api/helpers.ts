@@ -5,7 +5,7 @@ import knexFactory, { type Knex } from 'knex';
 import { createApp } from '../../server/app';
 import { getDb } from '../../server/lib/db';
 import { hashPassword } from '../../server/lib/passwords';
-import type { Role } from '../../server/lib/roles';
+import type { Role } from '../../server/lib/contract';
 import { dbSettings, knexConfig } from '../../db/config';
 import { TEST_DB } from './db-name';
 

@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { agentFor, db, testApp } from './helpers';
-import { ROLES } from '../../server/lib/roles';
+import { ROLES } from '../../server/lib/contract';
 import { routeRegistry } from '../../server/lib/http';
 import { toOpenApiPath } from '../../server/lib/openapi';
 

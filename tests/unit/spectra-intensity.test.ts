@@ -15,7 +15,7 @@ import {
   type Trace,
 } from '../../server/spectra/intensity';
 import { defaultMidIrAtrMethod, type IdentityMethod, validateMethod } from '../../server/spectra/method';
-import { SUGGESTED_RELATIVE_INTENSITY_TOLERANCE } from '../../server/modules/library/schemas';
+import { SUGGESTED_RELATIVE_INTENSITY_TOLERANCE } from '../../server/modules/library/contract';
 import { scoreAgainst } from '../../server/spectra/score';
 import { listSet, loadReference, stem } from './spectra-analysis-data';
 

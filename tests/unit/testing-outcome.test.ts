@@ -13,7 +13,7 @@ import {
   readiness,
   type AttemptScope,
 } from '../../server/modules/testing/outcome';
-import type { MeasurementSummary } from '../../server/modules/testing/repo';
+import type { MeasurementSummary } from '../../server/modules/testing/contract';
 
 const containers = [1, 2, 3].map((id) => ({ id, seq: id, label: `L-2026-00007-00${id}` }));
 let next = 1;

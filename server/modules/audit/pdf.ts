@@ -4,7 +4,7 @@
  * capped at PDF_ROW_CAP rows and says so; the CSV export carries every event.
  */
 import { renderPdf, type Content, type TDocumentDefinitions, type TableCell } from '../../lib/pdf';
-import type { AuditEventDetail } from './schemas';
+import type { AuditEventDetail } from './contract';
 import { formatInZone } from './time';
 
 export interface AuditReportInput {

@@ -17,7 +17,7 @@ import {
   type AuditEventSummary,
   type AuditFilter,
   type FieldChange,
-} from './schemas';
+} from './contract';
 
 export type Scope = 'all' | 'accounts';
 type Db = Knex | Knex.Transaction;

@@ -9,7 +9,7 @@ import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
 import * as service from './service';
-import { auditFilterSchema, auditListQuerySchema, historyParamsSchema } from './schemas';
+import { auditFilterSchema, auditListQuerySchema, historyParamsSchema } from './contract';
 
 const TRAIL = { roles: ['auditor', 'qa_manager', 'admin'] as const };
 const SCOPE_NOTE =

@@ -23,7 +23,7 @@ import {
   type AuditListQuery,
   type AuditPage,
   type RecordHistory,
-} from './schemas';
+} from './contract';
 
 /** Full trail for auditors and QA; account and sign-in events only for administrators. */
 export function scopeFor(user: AuthUser): repo.Scope {

@@ -1,21 +1,12 @@
 /** HTTP edge of sign-in, sign-out, the current user and password change. */
 import { Router } from 'express';
 import rateLimit from 'express-rate-limit';
-import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { defineRoute } from '../../lib/http';
 import { SESSION_COOKIE } from '../../lib/sessions';
+import { changePasswordSchema, type Me, signInSchema, type SignInResult } from './contract';
 import * as service from './service';
-
-export const signInSchema = z.object({
-  username: z.string().trim().min(1, 'Enter your user name.').max(64),
-  password: z.string().min(1, 'Enter your password.').max(200),
-});
-export const changePasswordSchema = z.object({
-  currentPassword: z.string().min(1).max(200),
-  newPassword: z.string().min(12, 'The new password must have at least 12 characters.').max(200),
-});
 
 export function authRoutes(cfg: AppConfig): Router {
   const r = Router();
@@ -43,7 +34,7 @@ export function authRoutes(cfg: AppConfig): Router {
       access: 'public',
       body: signInSchema,
     },
-    async ({ body, res, ip }) => {
+    async ({ body, res, ip }): Promise<SignInResult> => {
       const { token, user } = await service.signIn(getDb(), cfg, body.username, body.password, ip);
       res.cookie(SESSION_COOKIE, token, {
         httpOnly: true,
@@ -80,7 +71,7 @@ export function authRoutes(cfg: AppConfig): Router {
       access: 'authenticated',
       allowDuringPasswordChange: true,
     },
-    ({ user }) => ({
+    ({ user }): Me => ({
       user: {
         id: user.id,
         username: user.username,

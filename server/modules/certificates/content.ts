@@ -10,84 +10,8 @@
 import { parseJson, type Db } from '../../lib/db';
 import { conflict, notFound } from '../../lib/errors';
 import type { IdentityResult } from '../../spectra';
+import type { CertificateContent, ContainerLine, SignatureLine } from './contract';
 import * as repo from './repo';
-
-export interface SignatureLine {
-  printedName: string;
-  meaning: string;
-  signedAt: string; // ISO, UTC
-  statement: string | null;
-  /** What was signed, e.g. "Identity test attempt 1". */
-  record: string;
-}
-
-export interface ContainerLine {
-  containerId: number;
-  seq: number;
-  label: string;
-  measurementId: number;
-  testAttempt: number;
-  matchScore: number | null;
-  /** Reference bands found within tolerance / reference bands; null when the method does not use bands. */
-  bandsMatched: number | null;
-  bandsTotal: number | null;
-  verdict: string;
-  rawFileSha256: string;
-  rawFileName: string;
-  measuredAt: string;
-  bestReferenceId: number | null;
-}
-
-export interface CertificateContent {
-  number: string;
-  issuedAt: string;
-  site: { name: string; address: string; timeZone: string };
-  verificationUrl: string;
-  supersedes: { id: number; number: string; issuedAt: string; reason: string | null } | null;
-  lot: {
-    id: number;
-    lotNumber: string;
-    supplier: string;
-    supplierLot: string;
-    receivedDate: string; // YYYY-MM-DD
-    containerCount: number;
-  };
-  material: { id: number; code: string; name: string; grade: string; monographRef: string };
-  tests: { id: number; attempt: number }[];
-  testId: number;
-  methods: {
-    id: number;
-    version: number;
-    technique: string;
-    rangeFrom: number | null;
-    rangeTo: number | null;
-    minCorrelation: number | null;
-    approval: SignatureLine | null;
-  }[];
-  references: { id: number; code: string; supplier: string; supplierLot: string; approval: SignatureLine | null }[];
-  instruments: {
-    id: number;
-    name: string;
-    serialNumber: string;
-    technique: string;
-    sampling: string;
-    location: string;
-  }[];
-  instrumentChecks: {
-    id: number;
-    instrumentId: number;
-    instrumentName: string;
-    verdict: string;
-    performedAt: string;
-    validUntil: string | null;
-    spec: string;
-    signature: SignatureLine | null;
-  }[];
-  containers: ContainerLine[];
-  signatures: SignatureLine[];
-  engineVersions: string[];
-  signingFingerprint: string;
-}
 
 export interface GatherInput {
   lotId: number;

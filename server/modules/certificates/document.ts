@@ -5,7 +5,7 @@
  * "Page x of y" on every page. Verdicts are printed as symbol and word.
  */
 import type { Content, TableCell, TDocumentDefinitions } from '../../lib/pdf';
-import type { CertificateContent, SignatureLine } from './content';
+import type { CertificateContent, SignatureLine } from './contract';
 
 export const CAUTION_TEXT =
   "This certificate records an identity test carried out under the laboratory's validated procedure. " +

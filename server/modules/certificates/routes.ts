@@ -1,44 +1,15 @@
 /** HTTP edge of identity certificates: list, metadata, download, verification, superseding, signing identity. */
 import { Router } from 'express';
 import multer from 'multer';
-import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { badRequest } from '../../lib/errors';
-import { signatureInput } from '../../lib/esign';
 import { defineRoute, idParams } from '../../lib/http';
+import { certificateListQuery, issueMissingSchema, supersedeSchema, verifyByNumberQuerySchema } from './contract';
 import * as service from './service';
 
 const QA = { roles: ['qa_manager'] as const };
 const ADMIN = { roles: ['admin'] as const };
-
-const dateParam = z
-  .string()
-  .regex(/^\d{4}-\d{2}-\d{2}$/, 'Use the date format YYYY-MM-DD.')
-  .optional();
-
-export const certificateListQuery = z.object({
-  lot: z.string().trim().max(60).optional(),
-  lotId: z.coerce.number().int().positive().optional(),
-  material: z.string().trim().max(120).optional(),
-  number: z.string().trim().max(40).optional(),
-  from: dateParam,
-  to: dateParam,
-  limit: z.coerce.number().int().min(1).max(500).default(100),
-  offset: z.coerce.number().int().min(0).default(0),
-});
-
-export const certificateNumberSchema = z
-  .string()
-  .trim()
-  .min(1, 'Type the certificate number.')
-  .max(40)
-  .regex(/^IC-\d{4}-\d{5,}$/i, 'A certificate number looks like IC-2026-00042.');
-
-export const supersedeSchema = z.object({
-  reason: z.string().trim().min(10, 'Give the reason for the new certificate (at least 10 characters).').max(2000),
-  signature: signatureInput,
-});
 
 /** A date (YYYY-MM-DD, taken as a whole UTC day) to a Date; `end` gives the next midnight. */
 function dayStart(d: string | undefined, end = false): Date | undefined {
@@ -101,7 +72,7 @@ export function certificateRoutes(config: AppConfig): Router {
         'Verify a stored certificate by its number (bytes against the recorded SHA-256, embedded signature); audited',
       tag: 'certificates',
       access: 'authenticated',
-      query: z.object({ number: certificateNumberSchema }),
+      query: verifyByNumberQuerySchema,
     },
     ({ query, actor, ip }) => service.verifyByNumber(getDb(), query.number, actor, ip),
   );
@@ -134,7 +105,7 @@ export function certificateRoutes(config: AppConfig): Router {
       summary: 'Issue the certificate of a passed lot that has none yet (normally automatic after verification)',
       tag: 'certificates',
       access: QA,
-      body: z.object({ lotId: z.number().int().positive() }),
+      body: issueMissingSchema,
       status: 201,
     },
     ({ body, actor, ip }) => service.issueMissing(getDb(), body.lotId, actor, ip, config),

@@ -15,19 +15,20 @@ import { sha256Hex } from '../../lib/canonical';
 import { loadConfig, type AppConfig } from '../../lib/config';
 import { parseJson } from '../../lib/db';
 import { conflict, notFound, unprocessable } from '../../lib/errors';
-import { checkSignatureCredentials, recordSignature, type SignatureInput } from '../../lib/esign';
+import type { PdfSignatureCheck, SignatureInput, SigningIdentity } from '../../lib/contract';
+import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { renderPdf } from '../../lib/pdf';
-import {
-  getSigningIdentity,
-  signingSettingsFrom,
-  signPdf,
-  verifyPdfSignature,
-  type PdfSignatureCheck,
-  type SigningIdentity,
-} from '../../lib/pdf-sign';
+import { getSigningIdentity, signingSettingsFrom, signPdf, verifyPdfSignature } from '../../lib/pdf-sign';
 import { prepare, readSpectrum, validateMethod, type IdentityMethod } from '../../spectra';
-import { gatherContent, type CertificateContent } from './content';
+import { gatherContent } from './content';
+import type {
+  CertificateContent,
+  CertificateDetail,
+  CertificateList,
+  CertificateMeta,
+  VerificationReport,
+} from './contract';
 import { certificateDocument, type DocumentExtras } from './document';
 import { overlaySvg } from './overlay';
 import * as repo from './repo';
@@ -53,28 +54,6 @@ export function signingIdentity(config?: AppConfig): SigningIdentity {
 // ---------------------------------------------------------------------------------------------
 // Metadata shape
 // ---------------------------------------------------------------------------------------------
-
-export interface CertificateMeta {
-  id: number;
-  number: string;
-  lotId: number;
-  lotNumber: string;
-  materialId: number;
-  materialCode: string;
-  materialName: string;
-  testId: number;
-  issuedAt: string;
-  issuedBy: string | null;
-  sha256: string;
-  size: number;
-  signerFingerprint: string;
-  supersedes: { id: number; number: string } | null;
-  supersededBy: { id: number; number: string } | null;
-  /** Not superseded: the lot's valid certificate. */
-  current: boolean;
-  supersedeReason: string | null;
-  downloadUrl: string;
-}
 
 export function toMeta(r: repo.CertificateListRow): CertificateMeta {
   return {
@@ -442,18 +421,12 @@ export async function supersedeCertificate(
 // Reading
 // ---------------------------------------------------------------------------------------------
 
-export async function listCertificates(
-  db: Knex,
-  f: repo.ListFilter,
-): Promise<{ items: CertificateMeta[]; total: number }> {
+export async function listCertificates(db: Knex, f: repo.ListFilter): Promise<CertificateList> {
   const { rows, total } = await repo.listCertificates(db, f);
   return { items: rows.map(toMeta), total };
 }
 
-export async function getCertificate(
-  db: Knex,
-  id: number,
-): Promise<CertificateMeta & { content: CertificateContent | null }> {
+export async function getCertificate(db: Knex, id: number): Promise<CertificateDetail> {
   const r = await repo.findListRow(db, id);
   if (!r) throw notFound('The certificate');
   return { ...toMeta(r), content: parseJson<CertificateContent | null>(r.content, null) };
@@ -484,22 +457,6 @@ export async function downloadCertificate(
 // ---------------------------------------------------------------------------------------------
 // Verification
 // ---------------------------------------------------------------------------------------------
-
-export interface VerificationReport {
-  /** 'authentic' only when the file is the stored certificate byte for byte and its signature verifies with the site's certificate. */
-  verdict: 'authentic' | 'not authentic';
-  summary: string;
-  reasons: string[];
-  checkedBy: 'upload' | 'number';
-  fileSha256: string | null;
-  /** The stored certificate the file was compared with (found by hash, else by the number it carries). */
-  certificate: CertificateMeta | null;
-  byteIdentical: boolean | null;
-  signature: PdfSignatureCheck | null;
-  /** The signing certificate is the one recorded when the certificate was issued. */
-  signedBySite: boolean | null;
-  lot: { id: number; lotNumber: string; materialCode: string; materialName: string } | null;
-}
 
 const NUMBER_RE = /IC-\d{4}-\d{5,}/;
 

@@ -1,6 +1,7 @@
 /** Data access of the instrument registry, check specifications and instrument checks. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
+import type { CheckBand, CheckResult, CheckSpec, Instrument, InstrumentCheck } from './contract';
 
 export interface InstrumentRow {
   id: number;
@@ -43,14 +44,9 @@ export interface CheckRow {
   signature_id: number | null;
 }
 
-export interface CheckBand {
-  nominal: number;
-  tolerance: number;
-}
-
 export const iso = (d: Date | null | undefined): string | null => (d ? new Date(d).toISOString() : null);
 
-export function toInstrument(r: InstrumentRow) {
+export function toInstrument(r: InstrumentRow): Instrument {
   return {
     id: r.id,
     name: r.name,
@@ -66,7 +62,7 @@ export function toInstrument(r: InstrumentRow) {
   };
 }
 
-export function toSpec(r: SpecRow) {
+export function toSpec(r: SpecRow): CheckSpec {
   return {
     id: r.id,
     instrumentId: r.instrument_id,
@@ -81,13 +77,13 @@ export function toSpec(r: SpecRow) {
   };
 }
 
-export function toCheck(r: CheckRow) {
+export function toCheck(r: CheckRow): InstrumentCheck {
   return {
     id: r.id,
     instrumentId: r.instrument_id,
     specId: r.spec_id,
     fileId: r.file_id,
-    result: parseJson<unknown>(r.result, null),
+    result: parseJson<CheckResult>(r.result, null as unknown as CheckResult),
     verdict: r.verdict,
     engineVersion: r.engine_version,
     performedBy: r.performed_by,

@@ -5,13 +5,17 @@
  */
 import { Router } from 'express';
 import multer from 'multer';
-import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { signatureInput } from '../../lib/esign';
 import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
-import { instrumentCreateSchema, instrumentUpdateSchema, specCreateSchema } from './schemas';
+import {
+  checkParamsSchema,
+  checkUploadFieldsSchema,
+  instrumentCreateSchema,
+  instrumentUpdateSchema,
+  specApprovalSchema,
+} from './contract';
 import * as service from './service';
 
 const QA = { roles: ['qa_manager'] as const };
@@ -83,7 +87,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       tag: 'instruments',
       access: QA,
       params: idParams,
-      body: z.object({ spec: specCreateSchema, signature: signatureInput }),
+      body: specApprovalSchema,
       status: 201,
     },
     ({ params, body, user, ip }) =>
@@ -106,7 +110,7 @@ export function instrumentRoutes(config: AppConfig): Router {
         password: 'your password (e-signature)',
         username: 'your user name (first signing of a session)',
       },
-      body: signatureInput,
+      body: checkUploadFieldsSchema,
       status: 201,
     },
     ({ req, params, body, user, ip }) => service.recordCheck(getDb(), user, params.id, req.file, body, ip),
@@ -119,7 +123,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       summary: 'The raw file of an instrument check, byte for byte',
       tag: 'instruments',
       access: 'authenticated',
-      params: z.object({ id: z.coerce.number().int().positive(), checkId: z.coerce.number().int().positive() }),
+      params: checkParamsSchema,
       produces: 'application/octet-stream',
     },
     async ({ params, res }) => {

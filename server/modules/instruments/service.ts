@@ -26,31 +26,40 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { getDb } from '../../lib/db';
-import {
-  checkSignatureCredentials,
-  recordSignature,
-  signaturesFor,
-  type SignatureInput,
-  toSignatureRecord,
-} from '../../lib/esign';
+import type { SignatureInput } from '../../lib/contract';
+import { checkSignatureCredentials, recordSignature, signaturesFor, toSignatureRecord } from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import {
   checkPolystyrene,
   PH_EUR_POLYSTYRENE_FT,
   PH_EUR_POLYSTYRENE_MONOCHROMATOR,
+  type PolystyreneResult,
   type PolystyreneSpec,
   readSpectrum,
   SpectrumError,
 } from '../../spectra';
 import { unprocessable } from '../../lib/errors';
 import * as repo from './repo';
-import type { InstrumentCreate, InstrumentUpdate } from './schemas';
+import type {
+  CheckBand,
+  CheckResult,
+  InstrumentCheckState,
+  InstrumentCheckView,
+  InstrumentCreate,
+  InstrumentDetail,
+  InstrumentListItem,
+  InstrumentUpdate,
+} from './contract';
+
+// Compile-time: the engine's polystyrene result is what the contract calls a stored check result.
+const _storedResultShape = (r: PolystyreneResult): CheckResult => r;
+void _storedResultShape;
 
 export const DEFAULT_SPEC_JUSTIFICATION =
   'Default: Ph. Eur. 2.2.24, Table 2.2.24.-1, polystyrene film positions with the FT-instrument tolerances (all bands +-1.0 cm-1).';
 
-function pharmacopoeiaBands(kind: string): repo.CheckBand[] {
+function pharmacopoeiaBands(kind: string): CheckBand[] {
   const spec = kind === 'pharmacopoeia-monochromator' ? PH_EUR_POLYSTYRENE_MONOCHROMATOR : PH_EUR_POLYSTYRENE_FT;
   return spec.bands.map((b) => ({ nominal: b.nominal, tolerance: b.tolerance }));
 }
@@ -67,20 +76,7 @@ export function engineSpecOf(spec: repo.SpecRow): PolystyreneSpec {
   return { name, bands, instrument: spec.kind === 'pharmacopoeia-monochromator' ? 'monochromator' : 'ft' };
 }
 
-export interface InstrumentStatus {
-  checkDue: boolean;
-  validCheck: { id: number; performedAt: string; validUntil: string } | null;
-  lastCheck: {
-    id: number;
-    verdict: string;
-    performedAt: string;
-    validUntil: string | null;
-    performedByName: string | null;
-  } | null;
-  currentSpec: { id: number; version: number; kind: string } | null;
-}
-
-async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Promise<InstrumentStatus> {
+async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Promise<InstrumentCheckState> {
   const valid = await repo.validCheckOf(db, i.id, now);
   const last: (repo.CheckRow & { full_name: string | null }) | undefined = await db('instrument_check as c')
     .leftJoin('app_user as u', 'u.id', 'c.performed_by')
@@ -108,13 +104,13 @@ async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Promise<Ins
   };
 }
 
-export async function listInstruments(db: Knex) {
+export async function listInstruments(db: Knex): Promise<InstrumentListItem[]> {
   const rows: repo.InstrumentRow[] = await db('instrument').orderBy('name');
   const now = new Date();
   return Promise.all(rows.map(async (r) => ({ ...repo.toInstrument(r), ...(await statusOf(db, r, now)) })));
 }
 
-export async function getInstrument(db: Knex, id: number) {
+export async function getInstrument(db: Knex, id: number): Promise<InstrumentDetail> {
   const i = await repo.findInstrument(db, id);
   if (!i) throw notFound('The instrument');
   const specs = await repo.specsOf(db, id);
@@ -143,7 +139,12 @@ export async function getInstrument(db: Knex, id: number) {
   };
 }
 
-export async function createInstrument(db: Knex, actor: Actor, input: InstrumentCreate, ip: string | null) {
+export async function createInstrument(
+  db: Knex,
+  actor: Actor,
+  input: InstrumentCreate,
+  ip: string | null,
+): Promise<InstrumentDetail> {
   if (await db('instrument').where({ name: input.name }).first())
     throw conflict(`An instrument named "${input.name}" already exists.`);
   const id = await db.transaction(async (trx) => {
@@ -198,7 +199,13 @@ export async function createInstrument(db: Knex, actor: Actor, input: Instrument
   return getInstrument(db, id);
 }
 
-export async function updateInstrument(db: Knex, actor: Actor, id: number, patch: InstrumentUpdate, ip: string | null) {
+export async function updateInstrument(
+  db: Knex,
+  actor: Actor,
+  id: number,
+  patch: InstrumentUpdate,
+  ip: string | null,
+): Promise<InstrumentDetail> {
   await db.transaction(async (trx) => {
     const before = await trx('instrument').where({ id }).forUpdate().first();
     if (!before) throw notFound('The instrument');
@@ -231,7 +238,7 @@ export function specSignedContent(
   instrumentId: number,
   version: number,
   kind: string,
-  bands: repo.CheckBand[],
+  bands: CheckBand[],
 ) {
   return { specId, instrumentId, version, kind, bands };
 }
@@ -240,9 +247,9 @@ export async function approveSpec(
   db: Knex,
   user: AuthUser,
   instrumentId: number,
-  input: { kind: string; bands?: repo.CheckBand[]; justification: string; signature: SignatureInput },
+  input: { kind: string; bands?: CheckBand[]; justification: string; signature: SignatureInput },
   ip: string | null,
-) {
+): Promise<InstrumentDetail> {
   const inst = await repo.findInstrument(db, instrumentId);
   if (!inst) throw notFound('The instrument');
   const bands =
@@ -328,7 +335,7 @@ export async function recordCheck(
   file: CheckUpload | undefined,
   signature: SignatureInput,
   ip: string | null,
-) {
+): Promise<InstrumentCheckView> {
   const inst = await repo.findInstrument(db, instrumentId);
   if (!inst) throw notFound('The instrument');
   if (!inst.active) throw conflict('This instrument is out of use; reactivate it before checking it.');

@@ -1,7 +1,7 @@
 /** Data access of investigations. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type { InvestigationStatus, Phase1Item } from './schemas';
+import type { FailingContainer, InvestigationStatus, InvestigationSummary, Phase1Record } from './contract';
 
 export interface InvestigationRow {
   id: number;
@@ -20,54 +20,6 @@ export interface InvestigationRow {
   decision_signature_id: number | null;
   closed_at: Date | null;
   updated_at: Date;
-}
-
-export interface HintEntry {
-  materialId: number;
-  materialCode: string;
-  materialName: string;
-  referenceCode: string;
-  score: number;
-  isTestedMaterial: boolean;
-}
-
-export interface FailingContainer {
-  containerId: number;
-  label: string;
-  measurementId: number;
-  score: number | null;
-  explanation: string[];
-  hint: HintEntry[];
-  /** "Closest approved materials: ..." as shown to QA. */
-  hintText: string;
-}
-
-export interface Phase1Record {
-  items: Record<Phase1Item, { ok: boolean; note: string }>;
-  summary: string;
-  recordedBy: { id: number; name: string };
-  recordedAt: string;
-  signatureId: number;
-}
-
-export interface InvestigationSummary {
-  id: number;
-  number: string;
-  lotId: number;
-  lotNumber: string;
-  materialName: string;
-  testId: number;
-  attempt: number;
-  status: InvestigationStatus;
-  decision: 'invalidated' | 'confirmed' | null;
-  failing: FailingContainer[];
-  phase1: Phase1Record | null;
-  justification: string | null;
-  retestContainerIds: number[];
-  openedAt: string;
-  decidedBy: { id: number; name: string } | null;
-  closedAt: string | null;
-  updatedAt: string;
 }
 
 type Joined = InvestigationRow & { lot_number: string; m_name: string; attempt: number; d_name: string | null };

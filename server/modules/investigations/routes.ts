@@ -3,7 +3,7 @@ import { Router } from 'express';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
 import * as repo from './repo';
-import { confirmSchema, invalidateSchema, investigationListQuery, phase1Schema } from './schemas';
+import { confirmSchema, invalidateSchema, investigationListQuery, phase1Schema } from './contract';
 import * as service from './service';
 
 const QA = { roles: ['qa_manager'] as const };

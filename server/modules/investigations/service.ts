@@ -17,13 +17,20 @@ import { enqueueMailToRole } from '../../lib/mail';
 import { pageLink } from '../lots/links';
 import { insertWithNextNumber, yearOf } from '../lots/numbering';
 import * as repo from './repo';
-import type { ConfirmInput, InvalidateInput, Phase1Input } from './schemas';
-import { PHASE1_ITEMS, PHASE1_LABELS } from './schemas';
+import type {
+  ConfirmInput,
+  FailingContainer,
+  InvalidateInput,
+  InvestigationDetail,
+  Phase1Input,
+  Phase1Record,
+} from './contract';
+import { PHASE1_ITEMS, PHASE1_LABELS } from './contract';
 
 export interface OpenInput {
   lot: { id: number; lotNumber: string; materialName: string };
   test: { id: number; attempt: number };
-  failing: repo.FailingContainer[];
+  failing: FailingContainer[];
   actor: Actor;
   ip: string | null;
 }
@@ -122,7 +129,7 @@ export async function closeAfterRetest(
   );
 }
 
-export async function getInvestigation(db: Knex, id: number) {
+export async function getInvestigation(db: Knex, id: number): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   const signatures = await signaturesFor(db, 'investigation', id);
@@ -140,7 +147,13 @@ async function assertNotAnalyst(db: Knex | Knex.Transaction, user: AuthUser, tes
     );
 }
 
-export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: Phase1Input, ip: string | null) {
+export async function recordPhase1(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: Phase1Input,
+  ip: string | null,
+): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   if (inv.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
@@ -159,7 +172,7 @@ export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: 
       throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
     const items = Object.fromEntries(
       PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }]),
-    ) as repo.Phase1Record['items'];
+    ) as Phase1Record['items'];
     const content = { investigation: inv.number, items, summary: input.summary };
     const sig = await recordSignature(trx, {
       user,
@@ -171,7 +184,7 @@ export async function recordPhase1(db: Knex, user: AuthUser, id: number, input: 
       statement: input.summary,
       ip,
     });
-    const record: repo.Phase1Record = {
+    const record: Phase1Record = {
       items,
       summary: input.summary,
       recordedBy: { id: user.id, name: user.fullName },
@@ -201,7 +214,7 @@ export async function invalidateResult(
   id: number,
   input: InvalidateInput,
   ip: string | null,
-) {
+): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
@@ -298,7 +311,13 @@ export async function invalidateResult(
   return getInvestigation(db, id);
 }
 
-export async function confirmFailure(db: Knex, user: AuthUser, id: number, input: ConfirmInput, ip: string | null) {
+export async function confirmFailure(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: ConfirmInput,
+  ip: string | null,
+): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');

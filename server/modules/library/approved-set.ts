@@ -26,6 +26,7 @@ import {
 } from '../../spectra';
 import type { Band } from '../../spectra';
 import { spectrumOfFile, toEngineBands } from './engine';
+import type { MethodVersion } from './contract';
 import * as repo from './repo';
 
 export interface ApprovedReference {
@@ -40,7 +41,7 @@ export interface ApprovedReference {
 
 export interface ApprovedReferenceSet {
   /** The approved identity method version of the material (the row a test must record). */
-  method: repo.MethodVersion;
+  method: MethodVersion;
   /** Approved (not retired) references of the material, oldest first. May be empty. */
   references: ApprovedReference[];
 }

@@ -16,7 +16,12 @@ import {
   type Spectrum,
   SpectrumError,
 } from '../../spectra';
-import type { StoredBand } from './repo';
+import type { IdentityMethodInput, StoredBand } from './contract';
+
+// Compile-time: a method validated by the contract's schema is an engine IdentityMethod and vice versa.
+type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
+const _methodShapeMatches: Same<IdentityMethodInput, IdentityMethod> = true;
+void _methodShapeMatches;
 
 /** "C=O stretch, ester (1735-1750 cm-1, strong)" - the most likely group-frequency assignment (engine table). */
 export function assignmentText(position: number, width?: number): string {

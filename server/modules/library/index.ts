@@ -12,4 +12,5 @@ export {
   type LibraryHit,
   type MethodGridLibrary,
 } from './approved-set';
-export { toMethod, type MethodVersion, type StoredBand } from './repo';
+export { toMethod } from './repo';
+export type { MethodVersion, StoredBand } from './contract';

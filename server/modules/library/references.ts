@@ -21,7 +21,8 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
-import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput } from '../../lib/esign';
+import type { SignatureInput } from '../../lib/contract';
+import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, badRequest, conflict, forbidden, notFound } from '../../lib/errors';
 import { sha256Hex } from '../../lib/canonical';
 import type { AuthUser } from '../../lib/http';
@@ -29,8 +30,16 @@ import { enqueueMailToRole } from '../../lib/mail';
 import { checkQuality, type IdentityMethod, prepare } from '../../spectra';
 import { invalidateLibraryCache } from './approved-set';
 import { asFileError, assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
+import type {
+  GateReport,
+  ReferenceDetail,
+  ReferenceListItem,
+  ReferenceOverlay,
+  ReferenceStatus,
+  StoredBand,
+} from './contract';
 import * as repo from './repo';
-import { specificityGate, type GateReport } from './specificity';
+import { specificityGate } from './specificity';
 import { storeFile } from '../../lib/files';
 
 export interface UploadedFile {
@@ -61,7 +70,7 @@ export async function uploadReferences(
   files: UploadedFile[],
   fields: UploadFields,
   ip: string | null,
-) {
+): Promise<ReferenceDetail[]> {
   const mat = await repo.findMaterial(db, materialId);
   if (!mat) throw notFound('The material');
   if (!mat.active) throw conflict('This material is inactive; reactivate it before adding references.');
@@ -166,7 +175,7 @@ export async function uploadReferences(
   return Promise.all(ids.map((id) => getReference(db, id)));
 }
 
-export async function getReference(db: Knex, id: number) {
+export async function getReference(db: Knex, id: number): Promise<ReferenceDetail> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   const file = await db('stored_file')
@@ -197,7 +206,7 @@ export async function getReference(db: Knex, id: number) {
   };
 }
 
-export async function listReferences(db: Knex, materialId: number) {
+export async function listReferences(db: Knex, materialId: number): Promise<ReferenceListItem[]> {
   const rows = await repo.referencesOf(db, materialId);
   const sigIds = rows.flatMap((r) => [r.approved_signature_id, r.retired_signature_id]).filter((x): x is number => !!x);
   const sigs = sigIds.length ? await db('e_signature').whereIn('id', sigIds) : [];
@@ -219,7 +228,7 @@ export async function listReferences(db: Knex, materialId: number) {
 }
 
 /** References across all materials by status (e.g. drafts awaiting approval, for the QA work queue). */
-export async function referencesByStatus(db: Knex, status: repo.ReferenceStatus) {
+export async function referencesByStatus(db: Knex, status: ReferenceStatus): Promise<ReferenceListItem[]> {
   const rows: (repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[] = await db(
     'reference_spectrum as r',
   )
@@ -242,7 +251,7 @@ export async function referencesByStatus(db: Knex, status: repo.ReferenceStatus)
 }
 
 /** Absorbance traces of this reference and the other non-retired references of its grade, for the overlay plot. */
-export async function referenceOverlay(db: Knex, id: number) {
+export async function referenceOverlay(db: Knex, id: number): Promise<ReferenceOverlay> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   const rows = (await repo.referencesOf(db, r.material_id)).filter((x) => x.id === id || x.status !== 'retired');
@@ -267,7 +276,7 @@ export async function updateBands(
   id: number,
   input: { bands: { position: number; assignment?: string }[]; reason: string },
   ip: string | null,
-) {
+): Promise<ReferenceDetail> {
   await db.transaction(async (trx) => {
     const before = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (!before) throw notFound('The reference spectrum');
@@ -282,7 +291,7 @@ export async function updateBands(
     for (let i = 1; i < sorted.length; i++)
       if (Math.abs(sorted[i].position - sorted[i - 1].position) < 0.5)
         throw badRequest(`Two bands sit at ${sorted[i].position} cm-1; list each band once.`);
-    const next: repo.StoredBand[] = sorted.map((b) => {
+    const next: StoredBand[] = sorted.map((b) => {
       const same = old.find((o) => Math.abs(o.position - b.position) < 0.005);
       const text = b.assignment && b.assignment.trim() ? b.assignment.trim() : null;
       if (same && (!text || text === same.assignment)) return same;
@@ -315,7 +324,7 @@ export async function updateBands(
 export function referenceSignedContent(
   referenceId: number,
   fileSha256: string,
-  bands: repo.StoredBand[],
+  bands: StoredBand[],
   methodVersionId: number,
 ) {
   return { referenceId, fileSha256, bands, methodVersionId };
@@ -342,7 +351,7 @@ export async function approveReference(
   id: number,
   input: { signature: SignatureInput; justification?: string },
   ip: string | null,
-) {
+): Promise<ReferenceDetail> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   if (r.status !== 'draft') throw conflict(`Reference ${r.code} is ${r.status}; only a draft can be approved.`);
@@ -453,7 +462,7 @@ export async function retireReference(
   id: number,
   input: { reason: string; signature: SignatureInput },
   ip: string | null,
-) {
+): Promise<ReferenceDetail> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   if (r.status === 'retired') throw conflict(`Reference ${r.code} is already retired.`);

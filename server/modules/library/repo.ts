@@ -1,10 +1,17 @@
 /** Data access of the reference library: materials, identity methods, reference spectra, stored files. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type { IdentityMethod } from '../../spectra';
-
-export type MethodStatus = 'draft' | 'approved' | 'superseded';
-export type ReferenceStatus = 'draft' | 'approved' | 'retired';
+import type {
+  GateReport,
+  IdentityMethodInput,
+  Material,
+  MethodStatus,
+  MethodVersion,
+  ReferenceMeta,
+  ReferenceStatus,
+  ReferenceSummary,
+  StoredBand,
+} from './contract';
 
 export interface MaterialRow {
   id: number;
@@ -18,20 +25,6 @@ export interface MaterialRow {
   created_by: number;
   created_at: Date;
   updated_at: Date;
-}
-
-export interface Material {
-  id: number;
-  code: string;
-  name: string;
-  grade: string;
-  monographRef: string;
-  techniques: string[];
-  notes: string | null;
-  active: boolean;
-  createdBy: number;
-  createdAt: string;
-  updatedAt: string;
 }
 
 export function toMaterial(r: MaterialRow): Material {
@@ -66,23 +59,6 @@ export interface MethodRow {
   approved_at: Date | null;
 }
 
-/** An identity method version as the API and the testing module see it. */
-export interface MethodVersion {
-  id: number;
-  materialId: number;
-  version: number;
-  status: MethodStatus;
-  technique: string;
-  params: IdentityMethod;
-  changeNote: string | null;
-  supersedesId: number | null;
-  createdBy: number;
-  createdAt: string;
-  updatedAt: string;
-  approvedSignatureId: number | null;
-  approvedAt: string | null;
-}
-
 export function toMethod(r: MethodRow): MethodVersion {
   return {
     id: r.id,
@@ -90,7 +66,7 @@ export function toMethod(r: MethodRow): MethodVersion {
     version: r.version,
     status: r.status,
     technique: r.technique,
-    params: parseJson<IdentityMethod>(r.params, null as unknown as IdentityMethod),
+    params: parseJson<IdentityMethodInput>(r.params, null as unknown as IdentityMethodInput),
     changeNote: r.change_note,
     supersedesId: r.supersedes_id,
     createdBy: r.created_by,
@@ -99,16 +75,6 @@ export function toMethod(r: MethodRow): MethodVersion {
     approvedSignatureId: r.approved_signature_id,
     approvedAt: r.approved_at ? new Date(r.approved_at).toISOString() : null,
   };
-}
-
-/** A band of a reference as stored (JSON). */
-export interface StoredBand {
-  position: number;
-  prominence?: number;
-  width?: number;
-  assignment: string;
-  /** auto: picked by the engine; edited: added or moved by QA. */
-  origin: 'auto' | 'edited';
 }
 
 export interface ReferenceRow {
@@ -136,31 +102,6 @@ export interface ReferenceRow {
   retire_reason: string | null;
 }
 
-export interface ReferenceSummary {
-  id: number;
-  materialId: number;
-  code: string;
-  status: ReferenceStatus;
-  technique: string;
-  supplier: string;
-  supplierLot: string;
-  measuredHow: string | null;
-  instrumentId: number | null;
-  fileId: number;
-  bands: StoredBand[];
-  meta: unknown;
-  specificity: unknown;
-  justification: string | null;
-  createdBy: number;
-  createdAt: string;
-  updatedAt: string;
-  approvedSignatureId: number | null;
-  approvedMethodId: number | null;
-  approvedAt: string | null;
-  retiredSignatureId: number | null;
-  retireReason: string | null;
-}
-
 export function toReference(r: ReferenceRow): ReferenceSummary {
   return {
     id: r.id,
@@ -174,8 +115,8 @@ export function toReference(r: ReferenceRow): ReferenceSummary {
     instrumentId: r.instrument_id,
     fileId: r.file_id,
     bands: parseJson<StoredBand[]>(r.bands, []),
-    meta: parseJson<unknown>(r.meta, null),
-    specificity: parseJson<unknown>(r.specificity, null),
+    meta: parseJson<ReferenceMeta | null>(r.meta, null),
+    specificity: parseJson<GateReport | null>(r.specificity, null),
     justification: r.justification,
     createdBy: r.created_by,
     createdAt: new Date(r.created_at).toISOString(),

@@ -4,24 +4,24 @@
  */
 import { Router } from 'express';
 import multer from 'multer';
-import { z } from 'zod';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { signatureInput } from '../../lib/esign';
 import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
 import * as refs from './references';
 import {
+  approveMethodSchema,
+  approveReferenceSchema,
   bandsUpdateSchema,
-  justificationSchema,
   materialCreateSchema,
   materialUpdateSchema,
   methodCreateSchema,
   methodUpdateSchema,
-  reasonSchema,
   referenceUploadFieldsSchema,
-  TECHNIQUES,
-} from './schemas';
+  referenceStatusQuerySchema,
+  retireReferenceSchema,
+  specificityMatrixQuerySchema,
+} from './contract';
 import * as service from './service';
 import { specificityMatrixFor } from './specificity';
 
@@ -152,7 +152,7 @@ export function libraryRoutes(config: AppConfig): Router {
       tag: 'library',
       access: QA,
       params: idParams,
-      body: z.object({ signature: signatureInput }),
+      body: approveMethodSchema,
     },
     ({ params, body, user, ip }) => service.approveMethod(getDb(), user, params.id, body.signature, ip),
   );
@@ -203,7 +203,7 @@ export function libraryRoutes(config: AppConfig): Router {
       summary: 'References of all materials by status (drafts await approval)',
       tag: 'library',
       access: 'authenticated',
-      query: z.object({ status: z.enum(['draft', 'approved', 'retired']).default('draft') }),
+      query: referenceStatusQuerySchema,
     },
     ({ query }) => refs.referencesByStatus(getDb(), query.status),
   );
@@ -283,7 +283,7 @@ export function libraryRoutes(config: AppConfig): Router {
       tag: 'library',
       access: QA,
       params: idParams,
-      body: z.object({ signature: signatureInput, justification: justificationSchema.optional() }),
+      body: approveReferenceSchema,
     },
     ({ params, body, user, ip }) => refs.approveReference(getDb(), user, params.id, body, ip),
   );
@@ -296,7 +296,7 @@ export function libraryRoutes(config: AppConfig): Router {
       tag: 'library',
       access: QA,
       params: idParams,
-      body: z.object({ reason: reasonSchema, signature: signatureInput }),
+      body: retireReferenceSchema,
     },
     ({ params, body, user, ip }) => refs.retireReference(getDb(), user, params.id, body, ip),
   );
@@ -310,7 +310,7 @@ export function libraryRoutes(config: AppConfig): Router {
       summary: 'Specificity matrix of the approved library of one technique',
       tag: 'library',
       access: 'authenticated',
-      query: z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') }),
+      query: specificityMatrixQuerySchema,
     },
     ({ query }) => specificityMatrixFor(query.technique),
   );

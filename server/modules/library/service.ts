@@ -16,7 +16,8 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
-import { checkSignatureCredentials, recordSignature, signaturesFor, type SignatureInput } from '../../lib/esign';
+import type { SignatureInput } from '../../lib/contract';
+import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import {
@@ -30,7 +31,14 @@ import {
 import { spectrumOfFile } from './engine';
 import { invalidateLibraryCache } from './approved-set';
 import * as repo from './repo';
-import type { MaterialCreate, MaterialUpdate } from './schemas';
+import type {
+  Material,
+  MaterialCreate,
+  MaterialDetail,
+  MaterialListItem,
+  MaterialUpdate,
+  MethodWithSignatures,
+} from './contract';
 
 /** The engine default for a technique (transmission starts from the ATR default with its technique). */
 export function defaultMethodFor(technique: string): IdentityMethod {
@@ -45,12 +53,6 @@ export function assertMethodValid(params: IdentityMethod): void {
   const problems = validateMethod(params);
   if (problems.length)
     throw new AppError(400, 'INVALID_METHOD', `The identity method is not valid: ${problems.join(' ')}`, { problems });
-}
-
-export interface MaterialListItem extends repo.Material {
-  approvedMethod: { id: number; version: number; technique: string } | null;
-  draftMethodId: number | null;
-  references: { draft: number; approved: number; retired: number };
 }
 
 export async function listMaterials(db: Knex): Promise<MaterialListItem[]> {
@@ -75,11 +77,11 @@ export async function listMaterials(db: Knex): Promise<MaterialListItem[]> {
   });
 }
 
-export async function methodWithSignatures(db: Knex, row: repo.MethodRow) {
+export async function methodWithSignatures(db: Knex, row: repo.MethodRow): Promise<MethodWithSignatures> {
   return { ...repo.toMethod(row), signatures: await signaturesFor(db, 'identity_method', row.id) };
 }
 
-export async function getMaterial(db: Knex, id: number) {
+export async function getMaterial(db: Knex, id: number): Promise<MaterialDetail> {
   const m = await repo.findMaterial(db, id);
   if (!m) throw notFound('The material');
   const methods = await repo.methodsOf(db, id);
@@ -89,7 +91,12 @@ export async function getMaterial(db: Knex, id: number) {
   };
 }
 
-export async function createMaterial(db: Knex, actor: Actor, input: MaterialCreate, ip: string | null) {
+export async function createMaterial(
+  db: Knex,
+  actor: Actor,
+  input: MaterialCreate,
+  ip: string | null,
+): Promise<Material & { draftMethodId: number }> {
   if (await db('material').where({ code: input.code }).first())
     throw conflict(`A material with the code "${input.code}" already exists.`);
   return db.transaction(async (trx) => {
@@ -144,7 +151,13 @@ export async function createMaterial(db: Knex, actor: Actor, input: MaterialCrea
   });
 }
 
-export async function updateMaterial(db: Knex, actor: Actor, id: number, patch: MaterialUpdate, ip: string | null) {
+export async function updateMaterial(
+  db: Knex,
+  actor: Actor,
+  id: number,
+  patch: MaterialUpdate,
+  ip: string | null,
+): Promise<Material> {
   return db.transaction(async (trx) => {
     const before = await trx('material').where({ id }).forUpdate().first();
     if (!before) throw notFound('The material');
@@ -220,7 +233,7 @@ export async function createMethodVersion(
   materialId: number,
   input: { params?: IdentityMethod; changeNote?: string },
   ip: string | null,
-) {
+): Promise<MethodWithSignatures> {
   if (input.params) assertMethodValid(input.params);
   const id = await db.transaction(async (trx) => {
     const mat = await trx('material').where({ id: materialId }).forUpdate().first();
@@ -246,7 +259,7 @@ export async function newVersionFrom(
   methodId: number,
   input: { params?: IdentityMethod; changeNote?: string },
   ip: string | null,
-) {
+): Promise<MethodWithSignatures> {
   const m = await repo.findMethod(db, methodId);
   if (!m) throw notFound('The identity method');
   return createMethodVersion(
@@ -264,7 +277,7 @@ export async function updateMethod(
   methodId: number,
   patch: { params?: IdentityMethod; changeNote?: string; reason: string },
   ip: string | null,
-) {
+): Promise<MethodWithSignatures> {
   if (patch.params) assertMethodValid(patch.params);
   const outcome = await db.transaction(async (trx) => {
     const before = await trx('identity_method').where({ id: methodId }).forUpdate().first();
@@ -367,7 +380,7 @@ export async function approveMethod(
   methodId: number,
   signature: SignatureInput,
   ip: string | null,
-) {
+): Promise<MethodWithSignatures> {
   const m = await repo.findMethod(db, methodId);
   if (!m) throw notFound('The identity method');
   if (m.status !== 'draft') throw conflict(`Version ${m.version} is already ${m.status}.`);
@@ -438,7 +451,7 @@ export async function approveMethod(
   return methodWithSignatures(db, (await repo.findMethod(db, methodId))!);
 }
 
-export async function getMethod(db: Knex, id: number) {
+export async function getMethod(db: Knex, id: number): Promise<MethodWithSignatures> {
   const m = await repo.findMethod(db, id);
   if (!m) throw notFound('The identity method');
   return methodWithSignatures(db, m);

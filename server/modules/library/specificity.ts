@@ -29,36 +29,17 @@ import {
 } from '../../spectra';
 import { getApprovedReferenceSet, onLibraryInvalidate } from './approved-set';
 import { round, spectrumOfFile, toEngineBands } from './engine';
+import type {
+  DirectionScore,
+  GatePair,
+  GateReport,
+  MatrixCell,
+  MatrixMaterial,
+  MethodVersion,
+  SpecificityMatrix,
+  StoredBand,
+} from './contract';
 import * as repo from './repo';
-
-export interface DirectionScore {
-  verdict: 'pass' | 'fail' | 'invalid';
-  correlation: number | null;
-  derivativeCorrelation: number | null;
-  bandsMatched: string | null;
-}
-
-export interface GatePair {
-  materialId: number;
-  materialCode: string;
-  materialName: string;
-  referenceId: number;
-  referenceCode: string;
-  otherAsSample: DirectionScore | null;
-  candidateAsSample: DirectionScore | null;
-  wouldPass: boolean;
-  /** Why the pair could not be compared (e.g. the other spectrum does not cover the method range). */
-  notComparable: string | null;
-}
-
-export interface GateReport {
-  methodId: number;
-  methodVersion: number;
-  computedAt: string;
-  pairs: GatePair[];
-  offending: GatePair[];
-  passed: boolean;
-}
 
 function direction(sample: Spectrum, refs: PreparedReference[], method: IdentityMethod): DirectionScore {
   // One reference on each side: criteria on the whole reference set (NIR distance, residual) cannot apply, so
@@ -79,8 +60,8 @@ function direction(sample: Spectrum, refs: PreparedReference[], method: Identity
 /** The specificity gate for a candidate reference under the grade's approved method. */
 export async function specificityGate(
   db: Knex,
-  candidate: { id: number; materialId: number; spectrum: Spectrum; bands: repo.StoredBand[] },
-  method: repo.MethodVersion,
+  candidate: { id: number; materialId: number; spectrum: Spectrum; bands: StoredBand[] },
+  method: MethodVersion,
 ): Promise<GateReport> {
   const params = method.params;
   const candPrepared = prepareReference(
@@ -149,39 +130,6 @@ export async function specificityGate(
 }
 
 // ------------------------------------------------------------------ the matrix
-
-export interface MatrixCell {
-  /** Material whose method and references judge (row). */
-  rowMaterialId: number;
-  /** Material whose references are scored as samples (column). */
-  columnMaterialId: number;
-  /** Highest correlation of a column reference against the row's set; null when not computed. */
-  correlation: number | null;
-  /** Column references that pass the row's test, out of those scored. */
-  passing: number;
-  scored: number;
-  /** would-pass: some column reference passes the row's test (for the diagonal: the set is consistent). */
-  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
-}
-
-export interface MatrixMaterial {
-  id: number;
-  code: string;
-  name: string;
-  technique: string;
-  methodId: number;
-  methodVersion: number;
-  references: number;
-}
-
-export interface SpecificityMatrix {
-  technique: string;
-  computedAt: string;
-  materials: MatrixMaterial[];
-  cells: MatrixCell[];
-  /** Off-diagonal pairs that would pass: the library is not specific for them. */
-  notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
-}
 
 const matrixCache = new Map<string, { fingerprint: string; value: SpecificityMatrix }>();
 onLibraryInvalidate(() => matrixCache.clear());

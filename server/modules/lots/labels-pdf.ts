@@ -4,7 +4,7 @@
  * the label in plain text, so a person can read and type it too.
  */
 import { type Content, renderPdf, type TableCell } from '../../lib/pdf';
-import type { LotSummary } from './repo';
+import type { LotSummary } from './contract';
 
 const COLUMNS = 3;
 const ROWS = 7;

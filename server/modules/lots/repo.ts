@@ -1,6 +1,6 @@
 /** Data access of lots and containers. */
 import type { Db } from '../../lib/db';
-import type { IdentityStatus, LotStatus } from './schemas';
+import type { IdentityStatus, LotStatus, LotSummary } from './contract';
 
 export interface LotRow {
   id: number;
@@ -23,22 +23,6 @@ export interface ContainerRow {
   lot_id: number;
   seq: number;
   label: string;
-}
-
-export interface LotSummary {
-  id: number;
-  lotNumber: string;
-  material: { id: number; code: string; name: string; grade: string };
-  supplier: string;
-  supplierLot: string;
-  containerCount: number;
-  receivedDate: string;
-  notes: string | null;
-  status: LotStatus;
-  identityStatus: IdentityStatus;
-  createdBy: { id: number; name: string };
-  createdAt: string;
-  updatedAt: string;
 }
 
 type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string };

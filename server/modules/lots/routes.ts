@@ -8,7 +8,7 @@ import { defineRoute, idParams } from '../../lib/http';
 import { labelSheetPdf } from './labels-pdf';
 import { setPublicUrl } from './links';
 import * as repo from './repo';
-import { lotCreateSchema, lotListQuerySchema } from './schemas';
+import { lotCreateSchema, lotListQuerySchema } from './contract';
 import * as service from './service';
 
 const OPERATOR = { roles: ['operator'] as const };

@@ -14,10 +14,10 @@ import { effectiveResults, latestByContainer } from '../testing/outcome';
 import * as testing from '../testing/repo';
 import { insertWithNextNumber, yearOf } from './numbering';
 import * as repo from './repo';
-import type { LotCreate } from './schemas';
+import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
 
 /** Material grades a lot may be received for: active, approved method, at least one approved reference. */
-export async function receivableMaterials(db: Knex) {
+export async function receivableMaterials(db: Knex): Promise<ReceivableMaterial[]> {
   const rows = await db('material as m')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
@@ -50,7 +50,13 @@ export function siteToday(timeZone: string, now = new Date()): string {
   return `${p.year}-${p.month}-${p.day}`;
 }
 
-export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: string | null, siteTimeZone = 'UTC') {
+export async function receiveLot(
+  db: Knex,
+  actor: Actor,
+  input: LotCreate,
+  ip: string | null,
+  siteTimeZone = 'UTC',
+): Promise<LotDetail> {
   const material = await db('material').where({ id: input.materialId }).first();
   if (!material || !material.active)
     throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
@@ -118,7 +124,7 @@ export async function receiveLot(db: Knex, actor: Actor, input: LotCreate, ip: s
   return getLotDetail(db, id);
 }
 
-export async function getLotDetail(db: Knex, id: number) {
+export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
   const lot = await repo.findLot(db, id);
   if (!lot) throw notFound('The lot');
   const containers = await repo.containersOf(db, id);
@@ -199,6 +205,6 @@ export async function getLotDetail(db: Knex, id: number) {
   };
 }
 
-export async function listLots(db: Knex, f: { identityStatus?: string; search?: string }) {
+export async function listLots(db: Knex, f: { identityStatus?: string; search?: string }): Promise<LotSummary[]> {
   return repo.listLots(db, f);
 }

@@ -5,6 +5,7 @@ import { getDb } from '../../lib/db';
 import { AppError } from '../../lib/errors';
 import { defineRoute } from '../../lib/http';
 import { capturedMail } from '../../lib/fake-smtp';
+import type { OutboxEntry } from './contract';
 
 export function mailRoutes(config: AppConfig): Router {
   const r = Router();
@@ -36,7 +37,7 @@ export function mailRoutes(config: AppConfig): Router {
       tag: 'mail',
       access: { roles: ['admin'] },
     },
-    async () =>
+    async (): Promise<OutboxEntry[]> =>
       (await getDb()('mail_outbox').orderBy('id', 'desc').limit(200)).map((m) => ({
         id: m.id,
         to: m.to_address,
@@ -44,8 +45,8 @@ export function mailRoutes(config: AppConfig): Router {
         status: m.status,
         attempts: m.attempts,
         lastError: m.last_error,
-        createdAt: m.created_at,
-        sentAt: m.sent_at,
+        createdAt: new Date(m.created_at).toISOString(),
+        sentAt: m.sent_at ? new Date(m.sent_at).toISOString() : null,
       })),
   );
   return r;

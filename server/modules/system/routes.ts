@@ -4,6 +4,7 @@ import { getDb } from '../../lib/db';
 import { defineRoute } from '../../lib/http';
 import { buildOpenApi } from '../../lib/openapi';
 import { verifyChain } from '../../lib/audit';
+import type { Health } from './contract';
 
 export function systemRoutes(): Router {
   const r = Router();
@@ -16,12 +17,12 @@ export function systemRoutes(): Router {
       tag: 'system',
       access: 'public',
     },
-    async ({ res }) => {
+    async ({ res }): Promise<Health | undefined> => {
       try {
         await getDb().raw('SELECT 1');
         return { status: 'ok', database: 'ok' };
       } catch {
-        res.status(503).json({ status: 'degraded', database: 'down' });
+        res.status(503).json({ status: 'degraded', database: 'down' } satisfies Health);
         return;
       }
     },

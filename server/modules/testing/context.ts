@@ -3,16 +3,18 @@ import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import { notFound } from '../../lib/errors';
+import type { LotSummary } from '../lots/contract';
 import * as lots from '../lots/repo';
 import type { AttemptScope, ContainerRef } from './outcome';
+import type { MeasurementSummary } from './contract';
 import * as repo from './repo';
 
 export interface TestContext {
   test: repo.TestRow;
-  lot: lots.LotSummary;
+  lot: LotSummary;
   containers: ContainerRef[];
   scope: AttemptScope;
-  measurements: repo.MeasurementSummary[];
+  measurements: MeasurementSummary[];
 }
 
 /** Scope of an attempt: the containers QA authorised for a retest, else all (null). */

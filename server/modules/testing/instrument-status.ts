@@ -10,33 +10,10 @@ import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import { getValidInstrumentCheck } from '../instruments';
+import type { CitedInstrumentCheck, InstrumentStatus } from './contract';
 
-export interface InstrumentCheckInfo {
-  id: number;
-  specId: number;
-  verdict: 'pass' | 'fail';
-  performedAt: string;
-  validUntil: string | null;
-  performedBy: number;
-  engineVersion: string;
-  result: unknown;
-}
-
-export interface InstrumentStatus {
-  instrument: {
-    id: number;
-    name: string;
-    serialNumber: string;
-    technique: string;
-    sampling: string;
-    location: string;
-    active: boolean;
-  };
-  check: InstrumentCheckInfo | null;
-  usable: boolean;
-  /** Why it may not be used, as a sentence for the operator; null when usable. */
-  reason: string | null;
-}
+/** An instrument check with its stored result, as the testing module reads it. */
+export type InstrumentCheckInfo = CitedInstrumentCheck & { result: unknown };
 
 export function toCheckInfo(r: Record<string, unknown>): InstrumentCheckInfo {
   return {

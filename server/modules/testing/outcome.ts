@@ -11,7 +11,8 @@
  * - The lot passes identity only when every container's effective result is pass
  *   (EU GMP Annex 8 para 2 and 21 CFR 211.84(d)(1): identity of the contents of every container).
  */
-import type { MeasurementSummary, MeasurementVerdict, TestRow } from './repo';
+import type { MeasurementSummary, MeasurementVerdict } from './contract';
+import type { TestRow } from './repo';
 
 export interface ContainerRef {
   id: number;

@@ -1,9 +1,7 @@
 /** Data access of identity tests (attempts) and measurements. Measurements are insert-only. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-
-export type TestStatus = 'in-progress' | 'awaiting-verification' | 'verified' | 'returned';
-export type MeasurementVerdict = 'pass' | 'fail' | 'invalid';
+import type { MeasurementSummary, MeasurementVerdict, TestStatus } from './contract';
 
 export interface TestRow {
   id: number;
@@ -41,25 +39,6 @@ export interface MeasurementRow {
   authorised_by_investigation_id: number | null;
   created_by: number;
   created_at: Date;
-}
-
-/** A measurement with its container label, file facts and author (no result JSON, no bytes). */
-export interface MeasurementSummary {
-  id: number;
-  testId: number;
-  containerId: number;
-  label: string;
-  verdict: MeasurementVerdict;
-  matchScore: number | null;
-  file: { id: number; name: string; sha256: string; size: number };
-  instrumentId: number;
-  instrumentCheckId: number;
-  methodId: number;
-  referenceIds: number[];
-  engineVersion: string;
-  authorisedByInvestigationId: number | null;
-  createdBy: { id: number; name: string };
-  createdAt: string;
 }
 
 type MeasurementJoined = MeasurementRow & {

@@ -1,4 +1,3 @@
-import type { z } from 'zod';
 /** HTTP edge of identity testing, verification and the work queue. */
 import { Router } from 'express';
 import multer from 'multer';
@@ -7,8 +6,6 @@ import { getDb } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import { sendStoredFile } from '../../lib/files';
 import { defineRoute, idParams } from '../../lib/http';
-import type { SignatureInput } from '../../lib/esign';
-import type { signatureFields } from '../lots/schemas';
 import { listInstrumentStatuses } from './instrument-status';
 import {
   matchFilesSchema,
@@ -18,16 +15,11 @@ import {
   startTestSchema,
   switchInstrumentSchema,
   verifySchema,
-} from './schemas';
+} from './contract';
 import * as service from './service';
 import * as signing from './signing';
 import * as views from './views';
 import { workQueueFor } from './work-queue';
-
-// Compile-time: the client-safe signature schema accepts exactly what the e-signature service takes.
-type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
-const _signatureShape: Same<z.infer<typeof signatureFields>, SignatureInput> = true;
-void _signatureShape;
 
 const OPERATOR = { roles: ['operator'] as const };
 const VERIFIER = { roles: ['verifier'] as const };

@@ -15,29 +15,14 @@ import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { AppError, badRequest, conflict, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import {
-  type IdentityResult,
-  readSpectrum,
-  scoreAgainst,
-  type Spectrum,
-  type SpectrumMeta,
-  SpectrumError,
-} from '../../spectra';
+import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum, SpectrumError } from '../../spectra';
 import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
 import * as lots from '../lots/repo';
-import type { HintEntry } from '../investigations/repo';
 import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
 import { inScope, labelsInFileName, latestByContainer } from './outcome';
 import * as repo from './repo';
-import type { MatchStatus } from './schemas';
-
-/** What a measurement row keeps as its result: the engine's result plus the mix-up hint and the file's reading notes. */
-export interface StoredResult extends IdentityResult {
-  libraryHint: HintEntry[] | null;
-  libraryHintText: string | null;
-  sampleMeta: Pick<SpectrumMeta, 'title' | 'format' | 'originalXUnits' | 'originalYUnits' | 'points' | 'warnings'>;
-}
+import type { HintEntry, MatchRow, MeasurementSummary, StartedTest, StoredResult, UploadResult } from './contract';
 
 const STARTABLE = new Set(['awaiting-testing', 'testing', 'retest-authorised']);
 
@@ -72,7 +57,13 @@ async function approvedSetFor(materialId: number, db: Knex) {
 }
 
 /** Starts the next test attempt of a lot on an instrument with a valid instrument check. */
-export async function startTest(db: Knex, user: AuthUser, lotId: number, instrumentId: number, ip: string | null) {
+export async function startTest(
+  db: Knex,
+  user: AuthUser,
+  lotId: number,
+  instrumentId: number,
+  ip: string | null,
+): Promise<StartedTest> {
   const lot = await lots.findLot(db, lotId);
   if (!lot) throw notFound('The lot');
   const set = await approvedSetFor(lot.material.id, db);
@@ -187,13 +178,6 @@ export async function switchInstrument(
   });
 }
 
-export interface MatchRow {
-  fileName: string;
-  status: MatchStatus;
-  label: string | null;
-  containerId: number | null;
-}
-
 /** Multi-file upload, step 1: which file goes to which container, judged by the label in its name. Stores nothing. */
 export async function matchFiles(db: Knex, testId: number, fileNames: string[]): Promise<MatchRow[]> {
   const ctx = await loadContext(db, testId);
@@ -286,7 +270,7 @@ export async function addMeasurement(
   target: { containerId?: number; label?: string },
   file: UploadedFile | undefined,
   ip: string | null,
-) {
+): Promise<UploadResult> {
   if (!file || !file.buffer) throw badRequest('Attach the spectrum file (field "file").');
   const ctx = await loadContext(db, testId);
   if (ctx.test.status !== 'in-progress')
@@ -423,7 +407,7 @@ export async function addMeasurement(
 }
 
 function assertNotFailed(
-  measurements: repo.MeasurementSummary[],
+  measurements: MeasurementSummary[],
   testId: number,
   container: { id: number; label: string },
 ): void {

@@ -11,19 +11,20 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
-import { checkSignatureCredentials, recordSignature, type SignatureInput } from '../../lib/esign';
+import type { SignatureInput } from '../../lib/contract';
+import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
 import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
 import { closeAfterRetest, openInvestigation } from '../investigations/service';
-import type { FailingContainer } from '../investigations/repo';
+import type { FailingContainer } from '../investigations/contract';
 import { pageLink } from '../lots/links';
 import { runCertificateStep } from './certificate-step';
 import { loadContext, scopesOf, type TestContext } from './context';
 import { effectiveResults, latestByContainer, lotOutcome, readiness } from './outcome';
 import * as repo from './repo';
-import type { StoredResult } from './service';
+import type { StoredResult, VerifyOutcome } from './contract';
 
 /** What a signature of the test covers: every container's latest result and the versions used. */
 function signedContent(ctx: TestContext) {
@@ -181,7 +182,7 @@ export async function verify(
   testId: number,
   input: { signature: SignatureInput; comment?: string },
   ip: string | null,
-) {
+): Promise<VerifyOutcome> {
   const pre = await loadContext(db, testId);
   assertIndependent(pre, user, 'verify');
   if (pre.test.status !== 'awaiting-verification') throw statusConflict(pre, 'verified');

@@ -13,8 +13,18 @@ import { loadContext } from './context';
 import { toCheckInfo } from './instrument-status';
 import { inScope, latestByContainer, readiness } from './outcome';
 import * as repo from './repo';
-import type { StoredResult } from './service';
-import { TEST_STATUS_LABELS } from './schemas';
+import {
+  type CitedInstrumentCheck,
+  type InstrumentRef,
+  type MeasurementDetail,
+  type MeasurementPlotData,
+  type QueueTest,
+  type ReferenceRef,
+  type ReviewData,
+  type StoredResult,
+  type TestDetail,
+  TEST_STATUS_LABELS,
+} from './contract';
 
 export async function methodInfo(db: Knex, methodId: number) {
   const m = await db('identity_method').where({ id: methodId }).first();
@@ -29,7 +39,7 @@ export async function methodInfo(db: Knex, methodId: number) {
   };
 }
 
-export async function instrumentInfo(db: Knex, instrumentId: number | null) {
+export async function instrumentInfo(db: Knex, instrumentId: number | null): Promise<InstrumentRef | null> {
   if (!instrumentId) return null;
   const i = await db('instrument').where({ id: instrumentId }).first();
   return i
@@ -43,7 +53,7 @@ export async function instrumentInfo(db: Knex, instrumentId: number | null) {
     : null;
 }
 
-export async function getTestDetail(db: Knex, testId: number) {
+export async function getTestDetail(db: Knex, testId: number): Promise<TestDetail> {
   const ctx = await loadContext(db, testId);
   const { test } = ctx;
   const latest = latestByContainer(ctx.measurements, testId);
@@ -91,7 +101,7 @@ export async function getTestDetail(db: Knex, testId: number) {
   };
 }
 
-async function referenceInfos(db: Knex, ids: number[]) {
+async function referenceInfos(db: Knex, ids: number[]): Promise<ReferenceRef[]> {
   if (!ids.length) return [];
   const rows = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
@@ -115,7 +125,7 @@ async function referenceInfos(db: Knex, ids: number[]) {
   }));
 }
 
-export async function getMeasurementDetail(db: Knex, id: number) {
+export async function getMeasurementDetail(db: Knex, id: number): Promise<MeasurementDetail> {
   const m = await repo.findMeasurementSummary(db, id);
   if (!m) throw notFound('The measurement');
   const row = (await repo.findMeasurementRow(db, id))!;
@@ -132,7 +142,7 @@ export async function getMeasurementDetail(db: Knex, id: number) {
   };
 }
 
-const plotCache = new Map<number, unknown>();
+const plotCache = new Map<number, MeasurementPlotData>();
 
 async function spectrumOfFile(db: Knex, fileId: number): Promise<Spectrum> {
   const f = await db('stored_file').where({ id: fileId }).first();
@@ -158,7 +168,7 @@ function thin(x: ArrayLike<number>, ys: ArrayLike<number>[], max = 4000) {
  * overlay = baseline-corrected, smoothed traces of sample and best reference on the method
  * grid (scaled 0..1, excluded regions blank) and their difference (sample - reference).
  */
-export async function measurementPlot(db: Knex, id: number) {
+export async function measurementPlot(db: Knex, id: number): Promise<MeasurementPlotData> {
   const hit = plotCache.get(id);
   if (hit) return hit;
   const row = await repo.findMeasurementRow(db, id);
@@ -207,7 +217,7 @@ export async function measurementPlot(db: Knex, id: number) {
 }
 
 /** Everything a verifier reviews: the test, and per container its latest measurement in full. */
-export async function getReview(db: Knex, testId: number) {
+export async function getReview(db: Knex, testId: number): Promise<ReviewData> {
   const detail = await getTestDetail(db, testId);
   const latestIds = detail.containers.filter((c) => c.latest).map((c) => c.latest!.id);
   const measurements = [];
@@ -220,21 +230,25 @@ export async function getReview(db: Knex, testId: number) {
     measurements,
     instrumentChecks: measurements
       .map((m) => m.instrumentCheck)
-      .filter((c, i, a) => c && a.findIndex((x) => x?.id === c.id) === i && checkIds.includes(c.id)),
-    methods: await Promise.all(
-      methodIds.map((id) =>
-        methodInfo(db, id).then(
-          (x) =>
-            x && { id: x.id, version: x.version, technique: x.technique, approvedAt: x.approvedAt, params: x.params },
-        ),
+      .filter(
+        (c, i, a): c is CitedInstrumentCheck =>
+          !!c && a.findIndex((x) => x?.id === c.id) === i && checkIds.includes(c.id),
       ),
-    ),
+    methods: (await Promise.all(methodIds.map((id) => methodInfo(db, id))))
+      .filter((x) => x !== null)
+      .map((x) => ({
+        id: x.id,
+        version: x.version,
+        technique: x.technique,
+        approvedAt: x.approvedAt,
+        params: x.params,
+      })),
     references: await referenceInfos(db, refIds),
   };
 }
 
 /** Tests awaiting verification that this user may verify (not performed or measured by them). */
-export async function verificationQueue(db: Knex, user: AuthUser) {
+export async function verificationQueue(db: Knex, user: AuthUser): Promise<QueueTest[]> {
   const rows = await db('identity_test as t')
     .join('lot as l', 'l.id', 't.lot_id')
     .join('material as m', 'm.id', 'l.material_id')

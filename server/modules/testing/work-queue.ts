@@ -8,24 +8,10 @@
  */
 import type { Knex } from 'knex';
 import type { AuthUser } from '../../lib/http';
-import type { Role } from '../../lib/roles';
+import type { Role } from '../../lib/contract';
+import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
-
-export interface QueueItem {
-  id: number;
-  title: string;
-  detail: string;
-  href: string;
-}
-
-export interface QueueSection {
-  key: 'lots-to-test' | 'tests-to-verify' | 'open-investigations' | 'references-to-approve' | 'instrument-checks-due';
-  title: string;
-  roles: Role[];
-  count: number;
-  items: QueueItem[];
-}
 
 const ITEMS = 50;
 
@@ -110,7 +96,7 @@ export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
   return out;
 }
 
-export async function workQueueFor(db: Knex, user: AuthUser): Promise<{ sections: QueueSection[] }> {
+export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue> {
   const has = (r: Role) => user.roles.includes(r);
   const sections: QueueSection[] = [];
   const push = (key: QueueSection['key'], title: string, roles: Role[], items: QueueItem[]) =>

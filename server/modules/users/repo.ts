@@ -1,7 +1,8 @@
 /** Data access for accounts. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type { Role } from '../../lib/roles';
+import type { Role } from '../../lib/contract';
+import type { UserAccount } from './contract';
 
 export interface UserRow {
   id: number;
@@ -19,20 +20,7 @@ export interface UserRow {
   updated_at: Date;
 }
 
-export interface PublicUser {
-  id: number;
-  username: string;
-  fullName: string;
-  email: string;
-  roles: Role[];
-  mustChangePassword: boolean;
-  active: boolean;
-  lockedUntil: string | null;
-  failedAttempts: number;
-  createdAt: string;
-}
-
-export function toPublicUser(u: UserRow): PublicUser {
+export function toPublicUser(u: UserRow): UserAccount {
   return {
     id: u.id,
     username: u.username,

@@ -1,35 +1,13 @@
 /** HTTP edge of account administration (admin only). */
 import { Router } from 'express';
-import { z } from 'zod';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
-import { ROLES } from '../../lib/roles';
+import { resetPasswordSchema, unlockSchema, userCreateSchema, userUpdateSchema } from './contract';
 import * as repo from './repo';
 import * as service from './service';
 import { notFound } from '../../lib/errors';
 
 const ADMIN = { roles: ['admin'] as const };
-const reason = z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(1000);
-export const userCreateSchema = z.object({
-  username: z
-    .string()
-    .trim()
-    .min(3)
-    .max(64)
-    .regex(/^[a-z0-9._-]+$/, 'Use lower-case letters, digits, dot, dash or underscore.'),
-  fullName: z.string().trim().min(2).max(120),
-  email: z.email().max(200),
-  roles: z.array(z.enum(ROLES)).min(1, 'Give the account at least one role.'),
-  temporaryPassword: z.string().min(12, 'The password must have at least 12 characters.').max(200),
-});
-export const userUpdateSchema = z.object({
-  fullName: z.string().trim().min(2).max(120).optional(),
-  email: z.email().max(200).optional(),
-  roles: z.array(z.enum(ROLES)).min(1).optional(),
-  active: z.boolean().optional(),
-  reason,
-});
-
 export function userRoutes(): Router {
   const r = Router();
   defineRoute(
@@ -92,7 +70,7 @@ export function userRoutes(): Router {
       tag: 'users',
       access: ADMIN,
       params: idParams,
-      body: z.object({ reason }),
+      body: unlockSchema,
     },
     ({ params, body, actor, ip }) => service.unlockUser(getDb(), actor, params.id, body.reason, ip),
   );
@@ -105,7 +83,7 @@ export function userRoutes(): Router {
       tag: 'users',
       access: ADMIN,
       params: idParams,
-      body: z.object({ temporaryPassword: z.string().min(12).max(200), reason }),
+      body: resetPasswordSchema,
     },
     ({ params, body, actor, ip }) =>
       service.resetPassword(getDb(), actor, params.id, body.temporaryPassword, body.reason, ip),

@@ -4,7 +4,8 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
 import { hashPassword, passwordProblem } from '../../lib/passwords';
 import { invalidateUserSessions } from '../../lib/sessions';
-import type { Role } from '../../lib/roles';
+import type { Role } from '../../lib/contract';
+import type { UserAccount } from './contract';
 import * as repo from './repo';
 
 export interface NewUser {
@@ -15,7 +16,7 @@ export interface NewUser {
   temporaryPassword: string;
 }
 
-export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<repo.PublicUser> {
+export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<UserAccount> {
   const p = passwordProblem(input.temporaryPassword, input.username);
   if (p) throw badRequest(p);
   if (await repo.findByUsername(db, input.username))
@@ -58,7 +59,7 @@ export async function updateUser(
   id: number,
   patch: UserPatch,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   return db.transaction(async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
@@ -101,7 +102,7 @@ export async function unlockUser(
   id: number,
   reason: string,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   return db.transaction(async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
@@ -128,7 +129,7 @@ export async function resetPassword(
   temporaryPassword: string,
   reason: string,
   ip: string | null,
-): Promise<repo.PublicUser> {
+): Promise<UserAccount> {
   const target = await repo.findById(db, id);
   if (!target) throw notFound('The account');
   const p = passwordProblem(temporaryPassword, target.username);

@@ -8,7 +8,8 @@ import type {
   AuditFilter,
   AuditPage,
   RecordHistory,
-} from '../../../../server/modules/audit/schemas';
+} from '../../../../server/modules/audit/contract';
+import type { ChainReport } from '../../../../server/lib/contract';
 
 export type {
   AuditEventDetail,
@@ -17,16 +18,12 @@ export type {
   AuditPage,
   RecordHistory,
   FieldChange,
-  SignatureOnRecord,
-} from '../../../../server/modules/audit/schemas';
-export { COUNT_CAP, PDF_ROW_CAP, HISTORY_CAP, TEXT_WINDOW } from '../../../../server/modules/audit/schemas';
+} from '../../../../server/modules/audit/contract';
+export type { ChainReport, SignatureRecord as SignatureOnRecord } from '../../../../server/lib/contract';
+export { COUNT_CAP, PDF_ROW_CAP, HISTORY_CAP, TEXT_WINDOW } from '../../../../server/modules/audit/contract';
 
 /** The filter as the API takes it (instants in UTC, sort). */
 export type AuditQuery = Partial<AuditFilter>;
-
-export type ChainReport =
-  | { ok: true; events: number; lastHash: string; lastId: number }
-  | { ok: false; events: number; brokenAt: number; problem: string; expected?: string; found?: string };
 
 const KEY = ['audit'] as const;
 

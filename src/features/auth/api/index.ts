@@ -2,9 +2,15 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { ApiError, apiFetch } from '../../../lib/api';
 import { ME_KEY } from '../../../lib/query-keys';
-import type { Me, SessionUser } from '../../../lib/session-types';
+import type { ChangePasswordInput, Me, SignInInput, SignInResult } from '../../../../server/modules/auth/contract';
 
-export type { Me, SessionUser, SiteInfo } from '../../../lib/session-types';
+export type {
+  ChangePasswordInput,
+  Me,
+  SessionUser,
+  SignInInput,
+  SiteInfo,
+} from '../../../../server/modules/auth/contract';
 
 /** The signed-in user and site settings; null when nobody is signed in. */
 export function useMe() {
@@ -23,15 +29,10 @@ export function useMe() {
   });
 }
 
-export interface SignInInput {
-  username: string;
-  password: string;
-}
-
 export function useSignIn() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (body: SignInInput) => apiFetch<{ user: SessionUser }>('/api/auth/sign-in', { method: 'POST', body }),
+    mutationFn: (body: SignInInput) => apiFetch<SignInResult>('/api/auth/sign-in', { method: 'POST', body }),
     onSuccess: async () => {
       qc.removeQueries({ predicate: (q) => q.queryKey[0] !== ME_KEY[0] });
       await qc.invalidateQueries({ queryKey: ME_KEY });
@@ -48,11 +49,6 @@ export function useSignOut() {
       qc.setQueryData(ME_KEY, null);
     },
   });
-}
-
-export interface ChangePasswordInput {
-  currentPassword: string;
-  newPassword: string;
 }
 
 export function useChangePassword() {

@@ -2,10 +2,10 @@ import { useForm } from 'react-hook-form';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input } from '../../../components/Field';
-import type { SessionUser } from '../../../lib/session-types';
+import type { SignInResult } from '../../../../server/modules/auth/contract';
 import { useSignIn, type SignInInput } from '../api';
 
-export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => void }) {
+export function SignInForm({ onSignedIn }: { onSignedIn: (user: SignInResult['user']) => void }) {
   const signIn = useSignIn();
   const { register, handleSubmit, formState } = useForm<SignInInput>({ defaultValues: { username: '', password: '' } });
   const submit = handleSubmit((v) =>

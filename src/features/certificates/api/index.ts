@@ -9,49 +9,24 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe } from '../../../lib/query-keys';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
 
-// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
-export type { CertificateMeta } from '../../../../server/modules/certificates/service';
-export type { CertificateContent, SignatureLine } from '../../../../server/modules/certificates/content';
-export type { PdfSignatureCheck as SignatureCheck } from '../../../../server/lib/pdf-sign';
-import type { CertificateMeta } from '../../../../server/modules/certificates/service';
-import type { CertificateContent } from '../../../../server/modules/certificates/content';
-import type { PdfSignatureCheck as SignatureCheck } from '../../../../server/lib/pdf-sign';
+import type {
+  CertificateDetail,
+  CertificateFilter,
+  CertificateList,
+  CertificateMeta,
+  VerificationReport,
+} from '../../../../server/modules/certificates/contract';
+import type { SigningIdentity } from '../../../../server/lib/contract';
 
-export interface CertificateDetail extends CertificateMeta {
-  content: CertificateContent | null;
-}
-
-export interface VerificationReport {
-  verdict: 'authentic' | 'not authentic';
-  summary: string;
-  reasons: string[];
-  checkedBy: 'upload' | 'number';
-  fileSha256: string | null;
-  certificate: CertificateMeta | null;
-  byteIdentical: boolean | null;
-  signature: SignatureCheck | null;
-  signedBySite: boolean | null;
-  lot: { id: number; lotNumber: string; materialCode: string; materialName: string } | null;
-}
-
-export interface SigningIdentity {
-  fingerprint: string;
-  subject: string;
-  issuer: string;
-  serialNumber: string;
-  notBefore: string;
-  notAfter: string;
-  source: 'configured' | 'generated';
-}
-
-export interface CertificateFilter {
-  lot?: string;
-  material?: string;
-  number?: string;
-  from?: string;
-  to?: string;
-  lotId?: number;
-}
+export type {
+  CertificateContent,
+  CertificateDetail,
+  CertificateFilter,
+  CertificateMeta,
+  SignatureLine,
+  VerificationReport,
+} from '../../../../server/modules/certificates/contract';
+export type { PdfSignatureCheck as SignatureCheck, SigningIdentity } from '../../../../server/lib/contract';
 
 const KEY = ['certificates'] as const;
 
@@ -59,7 +34,7 @@ export function useCertificates(filter: CertificateFilter) {
   return useQuery({
     queryKey: [...KEY, 'list', filter],
     queryFn: ({ signal }) =>
-      apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', {
+      apiFetch<CertificateList>('/api/certificates', {
         query: { ...filter, limit: 200 },
         signal,
       }),
@@ -73,7 +48,7 @@ export function useLotCertificates(lotId: number | undefined) {
     queryKey: [...KEY, 'lot', lotId],
     enabled: lotId !== undefined,
     queryFn: ({ signal }) =>
-      apiFetch<{ items: CertificateMeta[]; total: number }>('/api/certificates', {
+      apiFetch<CertificateList>('/api/certificates', {
         query: { lotId, limit: 50 },
         signal,
       }),

@@ -2,94 +2,27 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
 import { invalidateMe } from '../../../lib/query-keys';
-export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-export type { CheckBand } from '../../../../server/modules/instruments/repo';
-import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-import type { CheckBand } from '../../../../server/modules/instruments/repo';
+import type { SignatureInput } from '../../../../server/lib/contract';
+import type {
+  InstrumentCheckView,
+  InstrumentCreateInput,
+  InstrumentDetail,
+  InstrumentListItem,
+  SpecCreate,
+} from '../../../../server/modules/instruments/contract';
 
-export interface InstrumentListItem {
-  id: number;
-  name: string;
-  serialNumber: string;
-  technique: string;
-  sampling: string;
-  location: string;
-  checkValidityHours: number;
-  active: boolean;
-  checkDue: boolean;
-  validCheck: { id: number; performedAt: string; validUntil: string } | null;
-  lastCheck: {
-    id: number;
-    verdict: 'pass' | 'fail';
-    performedAt: string;
-    validUntil: string | null;
-    performedByName: string | null;
-  } | null;
-  currentSpec: { id: number; version: number; kind: string } | null;
-}
-
-export interface CheckSpec {
-  id: number;
-  version: number;
-  kind: string;
-  bands: CheckBand[];
-  justification: string | null;
-  status: 'draft' | 'approved' | 'superseded';
-  createdAt: string;
-  createdByName: string | null;
-  signature: Signature | null;
-}
-
-export interface PolystyreneBandResult {
-  nominal: number;
-  found: number | null;
-  deviation: number | null;
-  tolerance: number;
-  ok: boolean;
-}
-
-export interface CheckResult {
-  verdict: 'pass' | 'fail';
-  spec: string;
-  mode: 'transmission' | 'atr';
-  bands: PolystyreneBandResult[];
-  resolution: {
-    applicable: boolean;
-    reason: string | null;
-    checks: { name: string; value: number; limit: number; ok: boolean }[];
-    ok: boolean;
-  };
-  engineVersion: string;
-}
-
-export interface InstrumentCheck {
-  id: number;
-  instrumentId: number;
-  specId: number;
-  fileId: number;
-  result: CheckResult;
-  verdict: 'pass' | 'fail';
-  engineVersion: string;
-  performedBy: number;
-  performedByName: string | null;
-  performedAt: string;
-  validUntil: string | null;
-  signature: Signature | null;
-}
-
-export interface InstrumentDetail extends InstrumentListItem {
-  specs: CheckSpec[];
-  checks: InstrumentCheck[];
-}
-
-export interface InstrumentCreateInput {
-  name: string;
-  serialNumber: string;
-  technique: 'mid-ir' | 'nir';
-  sampling: 'atr' | 'transmission' | 'diffuse-reflectance';
-  location: string;
-  checkValidityHours: number;
-}
+export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
+export type {
+  CheckBand,
+  CheckResult,
+  CheckSpecView as CheckSpec,
+  InstrumentCheckView as InstrumentCheck,
+  InstrumentCreateInput,
+  InstrumentDetail,
+  InstrumentListItem,
+  PolystyreneBandResult,
+  SpecKind,
+} from '../../../../server/modules/instruments/contract';
 
 const KEY = ['instruments'] as const;
 
@@ -113,14 +46,8 @@ export function useCreateInstrument() {
 export function useApproveSpec() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({
-      id,
-      ...body
-    }: {
-      id: number;
-      spec: { kind: string; bands?: CheckBand[]; justification: string };
-      signature: { username?: string; password: string };
-    }) => apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
+    mutationFn: ({ id, ...body }: { id: number; spec: SpecCreate; signature: SignatureInput }) =>
+      apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
     onSuccess: async () => {
       await qc.invalidateQueries({ queryKey: KEY });
       await invalidateMe(qc);
@@ -140,14 +67,14 @@ export function useRecordCheck() {
     }: {
       id: number;
       file: File;
-      signature: { username?: string; password: string };
+      signature: SignatureInput;
       onProgress: (p: UploadProgress) => void;
     }) => {
       const fd = new FormData();
       fd.append('file', file, file.name);
       fd.append('password', signature.password);
       if (signature.username) fd.append('username', signature.username);
-      return apiUpload<InstrumentCheck>(`/api/instruments/${id}/checks`, fd, onProgress);
+      return apiUpload<InstrumentCheckView>(`/api/instruments/${id}/checks`, fd, onProgress);
     },
     onSuccess: async () => {
       await qc.invalidateQueries({ queryKey: KEY });

@@ -8,7 +8,7 @@ import { useEffect, useState } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
-import { useApproveSpec, type CheckBand, type InstrumentDetail } from '../api';
+import { useApproveSpec, type CheckBand, type InstrumentDetail, type SpecKind } from '../api';
 
 type Row = { nominal: string; tolerance: string };
 
@@ -27,7 +27,7 @@ export function ApproveSpecDialog({
 }) {
   const approve = useApproveSpec();
   const current = instrument.specs.find((s) => s.status === 'approved');
-  const [kind, setKind] = useState('site');
+  const [kind, setKind] = useState<SpecKind>('site');
   const [rows, setRows] = useState<Row[]>([]);
   const [justification, setJustification] = useState('');
   const [problem, setProblem] = useState<string | null>(null);
@@ -91,7 +91,7 @@ export function ApproveSpecDialog({
       }}
     >
       <Field id="spec-kind" label="Kind">
-        <Select id="spec-kind" value={kind} onChange={(e) => setKind(e.target.value)}>
+        <Select id="spec-kind" value={kind} onChange={(e) => setKind(e.target.value as SpecKind)}>
           <option value="site">Site specification (positions established at qualification)</option>
           <option value="pharmacopoeia-ft">Ph. Eur. 2.2.24, FT tolerances</option>
           <option value="pharmacopoeia-monochromator">Ph. Eur. 2.2.24, monochromator tolerances</option>

@@ -3,7 +3,7 @@ import { createColumnHelper } from '@tanstack/react-table';
 import { DataTable } from '../../../components/DataTable';
 import { DateTime } from '../../../components/DateTime';
 import { Verdict } from '../../../components/Verdict';
-import { SAMPLING_LABELS } from '../../../../server/modules/instruments/schemas';
+import { SAMPLING_LABELS } from '../../../../server/modules/instruments/contract';
 import type { InstrumentListItem } from '../api';
 import { CheckStatus } from './CheckStatus';
 import { specKindText } from './spec-kind';

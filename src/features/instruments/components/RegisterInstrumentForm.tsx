@@ -3,7 +3,7 @@ import { useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select } from '../../../components/Field';
-import { instrumentCreateSchema, SAMPLING_LABELS, SAMPLINGS } from '../../../../server/modules/instruments/schemas';
+import { instrumentCreateSchema, SAMPLING_LABELS, SAMPLINGS } from '../../../../server/modules/instruments/contract';
 import { useCreateInstrument, type InstrumentCreateInput } from '../api';
 
 export function RegisterInstrumentForm({ onDone, onCancel }: { onDone: (id: number) => void; onCancel: () => void }) {

@@ -2,21 +2,22 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
 import { invalidateMe } from '../../../lib/query-keys';
-import type { Phase1Item } from '../../../../server/modules/investigations/schemas';
+import type { SignatureInput } from '../../../../server/lib/contract';
+import type {
+  InvestigationDetail,
+  InvestigationSummary as Investigation,
+  Phase1Item,
+} from '../../../../server/modules/investigations/contract';
 
-// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
-export type { FailingContainer, Phase1Record } from '../../../../server/modules/investigations/repo';
-export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-export type { InvestigationSummary as Investigation } from '../../../../server/modules/investigations/repo';
-import type { InvestigationSummary as Investigation } from '../../../../server/modules/investigations/repo';
-
-export interface InvestigationDetail extends Investigation {
-  signatures: Signature[];
-  performedBy: number | null;
-}
-
-export type SignatureBody = { username?: string; password: string };
+export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
+export type {
+  FailingContainer,
+  InvestigationDetail,
+  InvestigationSummary as Investigation,
+  Phase1Record,
+} from '../../../../server/modules/investigations/contract';
+/** The signature part of a request body. */
+export type SignatureBody = SignatureInput;
 
 export const useInvestigations = (state: 'open' | 'all') =>
   useQuery({

@@ -7,7 +7,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Select, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
-import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/schemas';
+import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { useConfirm, useInvalidate, type InvestigationDetail } from '../api';
 
 export function DecisionForms({

@@ -3,7 +3,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
-import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/schemas';
+import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { usePhase1, type InvestigationDetail } from '../api';
 
 export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {

@@ -2,120 +2,46 @@
 import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
 import { invalidateMe } from '../../../lib/query-keys';
-import type { IdentityMethodInput } from '../../../../server/modules/library/schemas';
-
-// Response shapes declared once, on the server (type-only: nothing of the server reaches the bundle).
-export type { DirectionScore, GatePair, GateReport } from '../../../../server/modules/library/specificity';
-import type { GateReport } from '../../../../server/modules/library/specificity';
-export type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-export type { SignatureCredentials } from '../../../components/SignatureDialog';
-export type { Material, StoredBand, ReferenceStatus } from '../../../../server/modules/library/repo';
-import type { SignatureRecord as Signature } from '../../../../server/lib/esign';
-import type { Material, StoredBand, ReferenceStatus } from '../../../../server/modules/library/repo';
+import type {
+  GateReport,
+  IdentityMethodInput,
+  Material,
+  MaterialCreateInput,
+  MaterialDetail,
+  MaterialListItem,
+  MaterialUpdateInput,
+  MethodWithSignatures,
+  ReferenceDetail,
+  ReferenceListItem,
+  ReferenceOverlay,
+  ReferenceStatus,
+  ReferenceUploadFields,
+  SpecificityMatrix,
+} from '../../../../server/modules/library/contract';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
 
-export type IdentityMethodParams = IdentityMethodInput;
-
-export interface MaterialListItem extends Material {
-  approvedMethod: { id: number; version: number; technique: string } | null;
-  draftMethodId: number | null;
-  references: { draft: number; approved: number; retired: number };
-}
-
-export interface MethodVersion {
-  id: number;
-  materialId: number;
-  version: number;
-  status: 'draft' | 'approved' | 'superseded';
-  technique: string;
-  params: IdentityMethodParams;
-  changeNote: string | null;
-  supersedesId: number | null;
-  createdAt: string;
-  updatedAt: string;
-  approvedAt: string | null;
-  signatures: Signature[];
-}
-
-export interface MaterialDetail extends Material {
-  methods: MethodVersion[];
-}
-
-export interface ReferenceListItem {
-  id: number;
-  materialId: number;
-  code: string;
-  status: ReferenceStatus;
-  technique: string;
-  supplier: string;
-  supplierLot: string;
-  measuredHow: string | null;
-  createdBy: number;
-  createdAt: string;
-  approvedAt: string | null;
-  bandCount: number;
-  uploadedByName: string | null;
-  approvedBy?: { printedName: string; meaning: string; signedAt: string } | null;
-  materialCode?: string;
-  materialName?: string;
-  justification: string | null;
-  retireReason: string | null;
-}
-
-export interface ReferenceDetail extends Omit<ReferenceListItem, 'bandCount'> {
-  bands: StoredBand[];
-  meta: {
-    title?: string;
-    fileName?: string;
-    points?: number;
-    originalXUnits?: string;
-    originalYUnits?: string;
-    warnings?: string[];
-    bandsPickedWithMethodVersion?: number;
-  } | null;
-  specificity: GateReport | null;
-  approvedMethodId: number | null;
-  material: { id: number; code: string; name: string; grade: string } | null;
-  instrument: { id: number; name: string } | null;
-  file: { id: number; sha256: string; fileName: string; mediaType: string; size: number; uploadedAt: string } | null;
-  signatures: Signature[];
-}
-
-export interface OverlayTrace {
-  referenceId: number;
-  code: string;
-  status: ReferenceStatus;
-  isThis: boolean;
-  x: number[];
-  y: number[];
-}
-
-export interface MatrixMaterial {
-  id: number;
-  code: string;
-  name: string;
-  technique: string;
-  methodId: number;
-  methodVersion: number;
-  references: number;
-}
-
-export interface MatrixCell {
-  rowMaterialId: number;
-  columnMaterialId: number;
-  correlation: number | null;
-  passing: number;
-  scored: number;
-  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
-}
-
-export interface SpecificityMatrix {
-  technique: string;
-  computedAt: string;
-  materials: MatrixMaterial[];
-  cells: MatrixCell[];
-  notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
-}
+export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
+export type { SignatureCredentials } from '../../../components/SignatureDialog';
+export type {
+  DirectionScore,
+  GatePair,
+  GateReport,
+  IdentityMethodInput as IdentityMethodParams,
+  Material,
+  MaterialCreateInput,
+  MaterialDetail,
+  MaterialListItem,
+  MatrixCell,
+  MatrixMaterial,
+  MethodWithSignatures as MethodVersion,
+  OverlayTrace,
+  ReferenceDetail,
+  ReferenceListItem,
+  ReferenceStatus,
+  ReferenceUploadFields as UploadFields,
+  SpecificityMatrix,
+  StoredBand,
+} from '../../../../server/modules/library/contract';
 
 const KEY = ['library'] as const;
 const keys = {
@@ -163,7 +89,7 @@ export function useReference(id: number) {
 export function useReferenceOverlay(id: number) {
   return useQuery({
     queryKey: keys.overlay(id),
-    queryFn: () => apiFetch<{ referenceId: number; traces: OverlayTrace[] }>(`/api/references/${id}/overlay`),
+    queryFn: () => apiFetch<ReferenceOverlay>(`/api/references/${id}/overlay`),
     staleTime: 5 * 60_000,
   });
 }
@@ -196,15 +122,6 @@ function useLibraryMutation<V, R>(fn: (v: V) => Promise<R>, opts: { signs?: bool
   });
 }
 
-export interface MaterialCreateInput {
-  code: string;
-  name: string;
-  grade: string;
-  monographRef: string;
-  techniques: string[];
-  notes?: string | null;
-}
-
 export function useCreateMaterial() {
   return useLibraryMutation((body: MaterialCreateInput) =>
     apiFetch<Material & { draftMethodId: number }>('/api/materials', { method: 'POST', body }),
@@ -212,29 +129,28 @@ export function useCreateMaterial() {
 }
 
 export function useUpdateMaterial() {
-  return useLibraryMutation(
-    ({ id, ...body }: Partial<MaterialCreateInput> & { id: number; active?: boolean; reason: string }) =>
-      apiFetch<Material>(`/api/materials/${id}`, { method: 'PATCH', body }),
+  return useLibraryMutation(({ id, ...body }: MaterialUpdateInput & { id: number }) =>
+    apiFetch<Material>(`/api/materials/${id}`, { method: 'PATCH', body }),
   );
 }
 
 export function useUpdateMethod() {
   return useLibraryMutation(
-    ({ id, ...body }: { id: number; params?: IdentityMethodParams; changeNote?: string; reason: string }) =>
-      apiFetch<MethodVersion>(`/api/methods/${id}`, { method: 'PATCH', body }),
+    ({ id, ...body }: { id: number; params?: IdentityMethodInput; changeNote?: string; reason: string }) =>
+      apiFetch<MethodWithSignatures>(`/api/methods/${id}`, { method: 'PATCH', body }),
   );
 }
 
 export function useNewMethodVersion() {
   return useLibraryMutation(({ id, changeNote }: { id: number; changeNote?: string }) =>
-    apiFetch<MethodVersion>(`/api/methods/${id}/new-version`, { method: 'POST', body: { changeNote } }),
+    apiFetch<MethodWithSignatures>(`/api/methods/${id}/new-version`, { method: 'POST', body: { changeNote } }),
   );
 }
 
 export function useApproveMethod() {
   return useLibraryMutation(
     ({ id, signature }: { id: number; signature: SignatureCredentials }) =>
-      apiFetch<MethodVersion>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
+      apiFetch<MethodWithSignatures>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
     { signs: true },
   );
 }
@@ -265,17 +181,11 @@ export function useRetireReference() {
   );
 }
 
-export interface UploadFields {
-  supplier: string;
-  supplierLot: string;
-  measuredHow: string;
-}
-
 /** Uploads one reference file (one request per file, so each has its own progress and outcome). */
 export function uploadReference(
   materialId: number,
   file: File,
-  fields: UploadFields,
+  fields: ReferenceUploadFields,
   onProgress: (p: UploadProgress) => void,
 ): Promise<ReferenceDetail> {
   const fd = new FormData();

@@ -3,7 +3,7 @@ import { useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Textarea } from '../../../components/Field';
-import { materialCreateSchema, TECHNIQUE_LABELS, TECHNIQUES } from '../../../../server/modules/library/schemas';
+import { materialCreateSchema, TECHNIQUE_LABELS, TECHNIQUES } from '../../../../server/modules/library/contract';
 import { useCreateMaterial } from '../api';
 
 export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: number) => void; onCancel: () => void }) {

@@ -1,7 +1,7 @@
 /** Materials (grades) of the library: sortable and searchable. */
 import { createColumnHelper } from '@tanstack/react-table';
 import { DataTable } from '../../../components/DataTable';
-import { TECHNIQUE_LABELS } from '../../../../server/modules/library/schemas';
+import { TECHNIQUE_LABELS } from '../../../../server/modules/library/contract';
 import type { MaterialListItem } from '../api';
 
 const col = createColumnHelper<MaterialListItem>();

@@ -10,7 +10,7 @@ import { Field, Input, Select, Textarea } from '../../../components/Field';
 import {
   identityMethodSchema,
   SUGGESTED_RELATIVE_INTENSITY_TOLERANCE,
-} from '../../../../server/modules/library/schemas';
+} from '../../../../server/modules/library/contract';
 import { useUpdateMethod, type IdentityMethodParams, type MethodVersion } from '../api';
 
 type Region = { from: string; to: string; label: string };

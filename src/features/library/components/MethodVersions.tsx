@@ -5,7 +5,7 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { formatScore } from '../../../lib/format';
-import { TECHNIQUE_LABELS } from '../../../../server/modules/library/schemas';
+import { TECHNIQUE_LABELS } from '../../../../server/modules/library/contract';
 import { useApproveMethod, useNewMethodVersion, type MethodVersion } from '../api';
 import { MethodForm } from './MethodForm';
 import { SignatureList } from './SignatureList';

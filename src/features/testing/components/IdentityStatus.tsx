@@ -1,6 +1,6 @@
 /** A lot's identity status and storage status in words, with an icon where a verdict is meant. */
 import { Verdict } from '../../../components/Verdict';
-import { IDENTITY_STATUS_LABELS, type IdentityStatus as Status } from '../../../../server/modules/lots/schemas';
+import { IDENTITY_STATUS_LABELS, type IdentityStatus as Status } from '../../../../server/modules/lots/contract';
 
 export function IdentityStatusBadge({ status }: { status: string }) {
   const label = IDENTITY_STATUS_LABELS[status as Status] ?? status;

@@ -4,7 +4,7 @@ import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
 import { formatDate } from '../../../lib/format';
-import { lotCreateSchema, MAX_CONTAINERS } from '../../../../server/modules/lots/schemas';
+import { lotCreateSchema, MAX_CONTAINERS } from '../../../../server/modules/lots/contract';
 import { useReceivableMaterials, useReceiveLot, type LotDetail } from '../api';
 
 /** Today at the site (the site's time zone, not the browser's). */

@@ -9,7 +9,7 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { Verdict } from '../../../components/Verdict';
 import { errorMessage } from '../../../lib/api';
 import { formatBytes, formatScore } from '../../../lib/format';
-import { MATCH_STATUS_TEXT } from '../../../../server/modules/testing/schemas';
+import { MATCH_STATUS_TEXT } from '../../../../server/modules/testing/contract';
 import { uploadMeasurement, useMatchFiles, type MatchRow, type TestDetail, type UploadResult } from '../api';
 import { verdictLabel } from './MeasurementResult';
 

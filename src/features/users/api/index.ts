@@ -1,37 +1,9 @@
 /** Account administration hooks (admin only on the server). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import type { Role } from '../../../lib/roles';
+import type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
 
-export interface UserAccount {
-  id: number;
-  username: string;
-  fullName: string;
-  email: string;
-  roles: Role[];
-  mustChangePassword: boolean;
-  active: boolean;
-  /** ISO time while the account is locked after failed sign-ins, else null */
-  lockedUntil: string | null;
-  failedAttempts: number;
-  createdAt: string;
-}
-
-export interface CreateUserInput {
-  username: string;
-  fullName: string;
-  email: string;
-  roles: Role[];
-  temporaryPassword: string;
-}
-
-export interface UpdateUserInput {
-  fullName?: string;
-  email?: string;
-  roles?: Role[];
-  active?: boolean;
-  reason: string;
-}
+export type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
 
 const USERS_KEY = ['users'] as const;
 

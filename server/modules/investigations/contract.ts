@@ -1,10 +1,12 @@
 /**
- * Input schemas of investigations of failing identity results (after FDA guidance "Investigating
+ * Contract of investigations of failing identity results (after FDA guidance "Investigating
  * Out-of-Specification (OOS) Test Results for Pharmaceutical Production", phase I laboratory
- * investigation). Pure data and zod: the client imports this file too.
+ * investigation): request schemas, labels and response shapes. Pure data and zod: the client
+ * imports this file too.
  */
 import { z } from 'zod';
-import { signatureFields as signatureInput } from '../lots/schemas';
+import { signatureInput, type SignatureRecord } from '../../lib/contract';
+import type { HintEntry } from '../testing/contract';
 
 export const PHASE1_ITEMS = ['instrument', 'sampleHandling', 'method', 'data'] as const;
 export type Phase1Item = (typeof PHASE1_ITEMS)[number];
@@ -72,3 +74,50 @@ export const investigationListQuery = z.object({
   state: z.enum(['open', 'all']).default('open'),
   lotId: z.coerce.number().int().positive().optional(),
 });
+
+// ------------------------------------------------------------------ response shapes
+
+export interface FailingContainer {
+  containerId: number;
+  label: string;
+  measurementId: number;
+  score: number | null;
+  explanation: string[];
+  hint: HintEntry[];
+  /** "Closest approved materials: ..." as shown to QA. */
+  hintText: string;
+}
+
+export interface Phase1Record {
+  items: Record<Phase1Item, { ok: boolean; note: string }>;
+  summary: string;
+  recordedBy: { id: number; name: string };
+  recordedAt: string;
+  signatureId: number;
+}
+
+export interface InvestigationSummary {
+  id: number;
+  number: string;
+  lotId: number;
+  lotNumber: string;
+  materialName: string;
+  testId: number;
+  attempt: number;
+  status: InvestigationStatus;
+  decision: 'invalidated' | 'confirmed' | null;
+  failing: FailingContainer[];
+  phase1: Phase1Record | null;
+  justification: string | null;
+  retestContainerIds: number[];
+  openedAt: string;
+  decidedBy: { id: number; name: string } | null;
+  closedAt: string | null;
+  updatedAt: string;
+}
+
+export interface InvestigationDetail extends InvestigationSummary {
+  signatures: SignatureRecord[];
+  /** Who performed the test under investigation (QA may not decide their own work). */
+  performedBy: number | null;
+}

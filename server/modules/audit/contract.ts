@@ -3,6 +3,7 @@
  * Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
+import type { SignatureRecord } from '../../lib/contract';
 
 /** An instant as ISO 8601 with a zone (the client converts site-local dates to UTC). */
 const instant = z.iso.datetime({
@@ -99,21 +100,11 @@ export interface AuditPage {
   search?: { complete: boolean; searchedTo: string | null; window: number };
 }
 
-export interface SignatureOnRecord {
-  id: number;
-  userId: number;
-  printedName: string;
-  meaning: string;
-  signedAt: string;
-  contentHash: string;
-  statement: string | null;
-}
-
 export interface RecordHistory {
   entityType: string;
   entityId: string;
   events: AuditEventDetail[];
-  signatures: SignatureOnRecord[];
+  signatures: SignatureRecord[];
   /** true when the record has more events than shown (the oldest are shown; the browser has the rest). */
   truncated: boolean;
 }

@@ -1,0 +1,348 @@
+/**
+ * Contract of the reference library: request schemas (zod), labels and response shapes. Pure data
+ * and zod only: the client imports this file too, so its forms validate with the same rules as
+ * the server and its hooks read the same types the routes return.
+ *
+ * `identityMethodSchema` mirrors the engine's `IdentityMethod` (server/spectra/method.ts); a
+ * compile-time check in server/modules/library/engine.ts keeps the two in step, and the service
+ * additionally runs the engine's own `validateMethod`, which knows the cross-field rules (grid
+ * size, derivative order versus polynomial, ...).
+ */
+import { z } from 'zod';
+import { signatureInput, type SignatureRecord } from '../../lib/contract';
+
+export const TECHNIQUES = ['mid-ir-atr', 'mid-ir-transmission', 'nir'] as const;
+export const TECHNIQUE_LABELS: Record<(typeof TECHNIQUES)[number], string> = {
+  'mid-ir-atr': 'Mid-IR, ATR',
+  'mid-ir-transmission': 'Mid-IR, transmission',
+  nir: 'Near-IR',
+};
+
+/**
+ * Tolerance offered when QA switches the relative band intensity criterion on (a fraction of the
+ * strongest band); the engine's DEFAULT_RELATIVE_INTENSITY_TOLERANCE, repeated here so the client
+ * does not load the engine (tests/unit/spectra-intensity.test.ts keeps the two equal).
+ */
+export const SUGGESTED_RELATIVE_INTENSITY_TOLERANCE = 0.15;
+
+const wn = z.number().finite().positive();
+const range = z.object({ from: wn, to: wn }).refine((r) => r.from < r.to, { message: 'from must be below to (cm-1).' });
+const fraction = z.number().finite().gt(0).lte(1);
+const correlationLimit = z.number().finite().gt(-1).lte(1);
+
+export const identityMethodSchema = z.object({
+  technique: z.enum(TECHNIQUES),
+  range,
+  excludedRegions: z.array(z.object({ from: wn, to: wn, label: z.string().trim().min(1).max(80) })).max(20),
+  gridStep: z.number().finite().positive().max(50),
+  baseline: z.enum(['none', 'offset', 'linear', 'iterative']),
+  normalisation: z.enum(['none', 'snv', 'vector']),
+  smoothing: z.object({
+    windowSize: z.number().int().min(5).max(201),
+    polynomial: z.number().int().min(1).max(5),
+    derivative: z.union([z.literal(0), z.literal(1), z.literal(2)]),
+  }),
+  thresholds: z.object({
+    minCorrelation: correlationLimit,
+    minDerivativeCorrelation: correlationLimit.nullable(),
+    maxMahalanobis: z.number().finite().positive().nullable(),
+    /** Confidence of the residual (Q) limit derived from the references; absent in methods stored before engine 2.0.0. */
+    residualConfidence: z.number().finite().min(0.5).max(0.9999).nullable().optional(),
+  }),
+  bandTolerance: z.discriminatedUnion('mode', [
+    z.object({ mode: z.literal('absolute'), cm1: z.number().finite().gt(0).lte(100) }),
+    z.object({ mode: z.literal('relative'), percent: z.number().finite().gt(0).lte(5) }),
+  ]),
+  widthTolerance: fraction.nullable(),
+  peakProminence: fraction.nullable(),
+  maxExtraBandProminence: fraction.nullable(),
+  /** Relative band intensity tolerance (fraction of the strongest band); absent in methods stored before engine 2.0.0. */
+  relativeIntensityTolerance: fraction.nullable().optional(),
+  quality: z.object({
+    minMaxAbsorbance: z.number().finite().min(0),
+    maxAbsorbance: z.number().finite().positive(),
+    minSignalToNoise: z.number().finite().min(0),
+  }),
+  distanceModel: z
+    .object({ components: z.number().int().min(1).max(20), minReferences: z.number().int().min(3) })
+    .nullable(),
+});
+export type IdentityMethodInput = z.infer<typeof identityMethodSchema>;
+
+export const reasonSchema = z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(2000);
+/** A written justification that overrides a gate: at least 20 characters, so it says something. */
+export const justificationSchema = z
+  .string()
+  .trim()
+  .min(20, 'Write a justification of at least 20 characters.')
+  .max(4000);
+
+export const materialCreateSchema = z.object({
+  code: z
+    .string()
+    .trim()
+    .min(2)
+    .max(40)
+    .regex(/^[A-Z0-9][A-Z0-9._-]*$/, 'Use capital letters, digits, dot, dash or underscore.'),
+  name: z.string().trim().min(2).max(160),
+  grade: z.string().trim().max(120).default(''),
+  monographRef: z.string().trim().max(200).default(''),
+  techniques: z.array(z.enum(TECHNIQUES)).min(1, 'Choose at least one technique.'),
+  notes: z.string().trim().max(4000).nullable().optional(),
+  reason: z.string().trim().max(2000).optional(),
+});
+export type MaterialCreate = z.infer<typeof materialCreateSchema>;
+/** What a client sends to create a material (defaults not yet applied). */
+export type MaterialCreateInput = z.input<typeof materialCreateSchema>;
+
+export const materialUpdateSchema = z.object({
+  name: z.string().trim().min(2).max(160).optional(),
+  grade: z.string().trim().max(120).optional(),
+  monographRef: z.string().trim().max(200).optional(),
+  techniques: z.array(z.enum(TECHNIQUES)).min(1).optional(),
+  notes: z.string().trim().max(4000).nullable().optional(),
+  active: z.boolean().optional(),
+  reason: reasonSchema,
+});
+export type MaterialUpdate = z.infer<typeof materialUpdateSchema>;
+export type MaterialUpdateInput = z.input<typeof materialUpdateSchema>;
+
+export const methodCreateSchema = z.object({
+  /** Full parameters; when absent the new draft copies the latest version (or the engine default). */
+  params: identityMethodSchema.optional(),
+  changeNote: z.string().trim().max(2000).optional(),
+});
+
+export const methodUpdateSchema = z.object({
+  params: identityMethodSchema.optional(),
+  changeNote: z.string().trim().max(2000).optional(),
+  reason: reasonSchema,
+});
+
+export const bandEditSchema = z.object({
+  position: z.number().finite().positive().max(15000),
+  /** QA's own assignment text; when empty the correlation table's assignment is used. */
+  assignment: z.string().trim().max(300).optional(),
+});
+export const bandsUpdateSchema = z.object({
+  bands: z.array(bandEditSchema).max(200),
+  reason: reasonSchema,
+});
+
+export const referenceUploadFieldsSchema = z.object({
+  supplier: z.string().trim().max(160).default(''),
+  supplierLot: z.string().trim().max(80).default(''),
+  measuredHow: z.string().trim().max(2000).default(''),
+  instrumentId: z.preprocess(
+    (v) => (v === '' || v === undefined || v === null ? undefined : v),
+    z.coerce.number().int().positive().optional(),
+  ),
+});
+/** The text fields of a reference upload as the client sends them (besides the files). */
+export type ReferenceUploadFields = Required<
+  Pick<z.input<typeof referenceUploadFieldsSchema>, 'supplier' | 'supplierLot' | 'measuredHow'>
+>;
+
+export const referenceStatusQuerySchema = z.object({
+  status: z.enum(['draft', 'approved', 'retired']).default('draft'),
+});
+export const approveReferenceSchema = z.object({
+  signature: signatureInput,
+  justification: justificationSchema.optional(),
+});
+export const retireReferenceSchema = z.object({ reason: reasonSchema, signature: signatureInput });
+export const approveMethodSchema = z.object({ signature: signatureInput });
+export const specificityMatrixQuerySchema = z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') });
+
+// ------------------------------------------------------------------ response shapes
+
+export type MethodStatus = 'draft' | 'approved' | 'superseded';
+export type ReferenceStatus = 'draft' | 'approved' | 'retired';
+
+export interface Material {
+  id: number;
+  code: string;
+  name: string;
+  grade: string;
+  monographRef: string;
+  techniques: string[];
+  notes: string | null;
+  active: boolean;
+  createdBy: number;
+  createdAt: string;
+  updatedAt: string;
+}
+
+export interface MaterialListItem extends Material {
+  approvedMethod: { id: number; version: number; technique: string } | null;
+  draftMethodId: number | null;
+  references: { draft: number; approved: number; retired: number };
+}
+
+/** An identity method version as the API and the testing module see it. */
+export interface MethodVersion {
+  id: number;
+  materialId: number;
+  version: number;
+  status: MethodStatus;
+  technique: string;
+  params: IdentityMethodInput;
+  changeNote: string | null;
+  supersedesId: number | null;
+  createdBy: number;
+  createdAt: string;
+  updatedAt: string;
+  approvedSignatureId: number | null;
+  approvedAt: string | null;
+}
+
+export interface MethodWithSignatures extends MethodVersion {
+  signatures: SignatureRecord[];
+}
+
+export interface MaterialDetail extends Material {
+  methods: MethodWithSignatures[];
+}
+
+/** A band of a reference as stored (JSON). */
+export interface StoredBand {
+  position: number;
+  prominence?: number;
+  width?: number;
+  assignment: string;
+  /** auto: picked by the engine; edited: added or moved by QA. */
+  origin: 'auto' | 'edited';
+}
+
+/** What the reading of a reference file noted (stored beside it). */
+export interface ReferenceMeta {
+  title?: string;
+  fileName?: string;
+  points?: number;
+  originalXUnits?: string;
+  originalYUnits?: string;
+  warnings?: string[];
+  bandsPickedWithMethodVersion?: number;
+}
+
+export interface ReferenceSummary {
+  id: number;
+  materialId: number;
+  code: string;
+  status: ReferenceStatus;
+  technique: string;
+  supplier: string;
+  supplierLot: string;
+  measuredHow: string | null;
+  instrumentId: number | null;
+  fileId: number;
+  bands: StoredBand[];
+  meta: ReferenceMeta | null;
+  specificity: GateReport | null;
+  justification: string | null;
+  createdBy: number;
+  createdAt: string;
+  updatedAt: string;
+  approvedSignatureId: number | null;
+  approvedMethodId: number | null;
+  approvedAt: string | null;
+  retiredSignatureId: number | null;
+  retireReason: string | null;
+}
+
+/** A reference in a list: no bands, meta or gate report, but how many bands it has. */
+export interface ReferenceListItem extends Omit<ReferenceSummary, 'bands' | 'meta' | 'specificity'> {
+  bandCount: number;
+  uploadedByName: string | null;
+  /** On the list of a material's references. */
+  approvedBy?: { printedName: string; meaning: string; signedAt: string } | null;
+  /** On the list of references across materials. */
+  materialCode?: string;
+  materialName?: string;
+}
+
+export interface ReferenceDetail extends ReferenceSummary {
+  material: { id: number; code: string; name: string; grade: string } | null;
+  uploadedByName: string | null;
+  instrument: { id: number; name: string } | null;
+  file: { id: number; sha256: string; fileName: string; mediaType: string; size: number; uploadedAt: string } | null;
+  signatures: SignatureRecord[];
+}
+
+export interface OverlayTrace {
+  referenceId: number;
+  code: string;
+  status: ReferenceStatus;
+  isThis: boolean;
+  x: number[];
+  y: number[];
+}
+
+export interface ReferenceOverlay {
+  referenceId: number;
+  traces: OverlayTrace[];
+}
+
+// Specificity gate and matrix
+
+export interface DirectionScore {
+  verdict: 'pass' | 'fail' | 'invalid';
+  correlation: number | null;
+  derivativeCorrelation: number | null;
+  bandsMatched: string | null;
+}
+
+export interface GatePair {
+  materialId: number;
+  materialCode: string;
+  materialName: string;
+  referenceId: number;
+  referenceCode: string;
+  otherAsSample: DirectionScore | null;
+  candidateAsSample: DirectionScore | null;
+  wouldPass: boolean;
+  /** Why the pair could not be compared (e.g. the other spectrum does not cover the method range). */
+  notComparable: string | null;
+}
+
+export interface GateReport {
+  methodId: number;
+  methodVersion: number;
+  computedAt: string;
+  pairs: GatePair[];
+  offending: GatePair[];
+  passed: boolean;
+}
+
+export interface MatrixCell {
+  /** Material whose method and references judge (row). */
+  rowMaterialId: number;
+  /** Material whose references are scored as samples (column). */
+  columnMaterialId: number;
+  /** Highest correlation of a column reference against the row's set; null when not computed. */
+  correlation: number | null;
+  /** Column references that pass the row's test, out of those scored. */
+  passing: number;
+  scored: number;
+  /** would-pass: some column reference passes the row's test (for the diagonal: the set is consistent). */
+  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
+}
+
+export interface MatrixMaterial {
+  id: number;
+  code: string;
+  name: string;
+  technique: string;
+  methodId: number;
+  methodVersion: number;
+  references: number;
+}
+
+export interface SpecificityMatrix {
+  technique: string;
+  computedAt: string;
+  materials: MatrixMaterial[];
+  cells: MatrixCell[];
+  /** Off-diagonal pairs that would pass: the library is not specific for them. */
+  notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
+}

@@ -1,0 +1,142 @@
+/**
+ * Contract of lot receipt and the lot page: request schemas (zod), labels and response shapes.
+ * Pure data and zod only: the client imports this file too, so the receipt form validates with
+ * the same rules as the server.
+ */
+import { z } from 'zod';
+import type { PersonRef, SignatureRecord } from '../../lib/contract';
+
+/** Most containers one lot may have (labels carry a 3-digit sequence). */
+export const MAX_CONTAINERS = 999;
+
+const isoDate = z
+  .string()
+  .regex(/^\d{4}-\d{2}-\d{2}$/, 'Give the date as YYYY-MM-DD.')
+  .refine(
+    (s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s,
+    'This is not a calendar date.',
+  );
+
+export const lotCreateSchema = z.object({
+  materialId: z.number().int().positive('Choose the material grade.'),
+  supplier: z.string().trim().min(2, 'Name the supplier.').max(160),
+  supplierLot: z.string().trim().min(1, "Give the supplier's lot number.").max(80),
+  containerCount: z
+    .number()
+    .int('The number of containers is a whole number.')
+    .min(1, 'A lot has at least 1 container.')
+    .max(MAX_CONTAINERS, `A lot has at most ${MAX_CONTAINERS} containers.`),
+  receivedDate: isoDate,
+  notes: z.string().trim().max(4000).nullable().optional(),
+});
+export type LotCreate = z.infer<typeof lotCreateSchema>;
+
+export const LOT_STATUSES = ['quarantine', 'released', 'rejected'] as const;
+export type LotStatus = (typeof LOT_STATUSES)[number];
+
+/** Identity status of a lot, in the order a lot normally moves through them. */
+export const IDENTITY_STATUSES = [
+  'awaiting-testing',
+  'testing',
+  'awaiting-verification',
+  'passed',
+  'failed',
+  'retest-authorised',
+  'rejected',
+] as const;
+export type IdentityStatus = (typeof IDENTITY_STATUSES)[number];
+
+export const IDENTITY_STATUS_LABELS: Record<IdentityStatus, string> = {
+  'awaiting-testing': 'Awaiting testing',
+  testing: 'Testing',
+  'awaiting-verification': 'Awaiting verification',
+  passed: 'Identity passed',
+  failed: 'Identity failed (investigation)',
+  'retest-authorised': 'Retest authorised by QA',
+  rejected: 'Rejected',
+};
+
+export const lotListQuerySchema = z.object({
+  identityStatus: z.enum(IDENTITY_STATUSES).optional(),
+  search: z.string().trim().max(80).optional(),
+});
+
+/** State of one test attempt of a lot. */
+export type TestStatus = 'in-progress' | 'awaiting-verification' | 'verified' | 'returned';
+/** Result of one measurement; invalid = refused (quality), never judged. */
+export type MeasurementVerdict = 'pass' | 'fail' | 'invalid';
+
+// ------------------------------------------------------------------ response shapes
+
+/** A material grade a lot may be received for (approved method and reference). */
+export interface ReceivableMaterial {
+  id: number;
+  code: string;
+  name: string;
+  grade: string;
+  methodVersion: number;
+  technique: string;
+}
+
+export interface LotSummary {
+  id: number;
+  lotNumber: string;
+  material: { id: number; code: string; name: string; grade: string };
+  supplier: string;
+  supplierLot: string;
+  containerCount: number;
+  receivedDate: string;
+  notes: string | null;
+  status: LotStatus;
+  identityStatus: IdentityStatus;
+  createdBy: PersonRef;
+  createdAt: string;
+  updatedAt: string;
+}
+
+export interface LotContainer {
+  id: number;
+  seq: number;
+  label: string;
+  /** The result that counts for the container (last verified attempt that covers it). */
+  effective: { verdict: 'pass' | 'fail'; measurementId: number; testId: number } | null;
+  /** Its latest measurement in the attempt under way. */
+  current: { measurementId: number; verdict: MeasurementVerdict; matchScore: number | null } | null;
+  currentInScope: boolean;
+  measurements: number;
+}
+
+export interface LotTestSummary {
+  id: number;
+  attempt: number;
+  status: TestStatus;
+  retestOfInvestigationId: number | null;
+  instrumentId: number | null;
+  methodId: number;
+  createdAt: string;
+  performedBy: PersonRef | null;
+  verifiedBy: PersonRef | null;
+  returnedReason: string | null;
+  measurements: number;
+  signatures: SignatureRecord[];
+}
+
+export interface LotInvestigation {
+  id: number;
+  number: string;
+  status: string;
+  decision: string | null;
+  openedAt: string;
+  closedAt: string | null;
+}
+
+export type LotCertificateState =
+  { state: 'issued'; id: number; number: string; issuedAt: string } | { state: 'pending' } | { state: 'none' };
+
+export interface LotDetail extends LotSummary {
+  containers: LotContainer[];
+  tests: LotTestSummary[];
+  currentTestId: number | null;
+  investigations: LotInvestigation[];
+  certificate: LotCertificateState;
+}
