@@ -38,7 +38,9 @@ test('an administrator changes roles; the account history and the auditor trail 
   });
   expect(changed.status()).toBe(200);
 
-  // Account history from the accounts page.
+  // Account history from the accounts page. The work queue already loaded the account list (kept
+  // 15 s) before the two API calls above, which the page's hooks did not see: load the app afresh.
+  await page.reload();
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'User accounts' }).click();
   await page.getByRole('row').filter({ hasText: username }).click();
   await page.getByRole('button', { name: 'Account history' }).click();

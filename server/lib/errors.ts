@@ -1,6 +1,7 @@
 /** Application errors and the one error shape of the API: { error: { code, message, details } }. */
 import type { ErrorRequestHandler } from 'express';
 import { ZodError } from 'zod';
+import { SpectrumError } from '../spectra';
 
 export class AppError extends Error {
   constructor(
@@ -20,6 +21,26 @@ export const notFound = (what: string) => new AppError(404, 'NOT_FOUND', `${what
 export const conflict = (message: string, details?: unknown) => new AppError(409, 'CONFLICT', message, details);
 export const unprocessable = (code: string, message: string, details?: unknown) =>
   new AppError(422, code, message, details);
+
+/**
+ * The one mapping of the engine's refusal of a spectrum (a SpectrumError) to the API's answer:
+ * 422, the engine's code, the message "<file name>: <the engine's sentence> Nothing was stored."
+ * and details { fileName, code, sentence, details }. Recognised by name as well, so an error from a
+ * second copy of the engine module (tests, workers) maps the same. Anything else is returned as is,
+ * for the caller to throw.
+ */
+export function spectrumRefusal(e: unknown, fileName: string | null = null): unknown {
+  const se = e as { name?: string; code?: string; message?: string; details?: unknown } | null;
+  if (!(e instanceof SpectrumError) && se?.name !== 'SpectrumError') return e;
+  const code = se?.code ?? 'SPECTRUM_INVALID';
+  const sentence = se?.message || 'The spectrum could not be read.';
+  return unprocessable(code, `${fileName ? `${fileName}: ` : ''}${sentence} Nothing was stored.`, {
+    fileName,
+    code,
+    sentence,
+    details: se?.details ?? null,
+  });
+}
 
 const DB_DOWN_CODES = new Set([
   'ECONNREFUSED',
@@ -55,9 +76,9 @@ export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
       zodDetails(err),
     );
   }
+  const refused = spectrumRefusal(err);
+  if (refused instanceof AppError) return send(refused.status, refused.code, refused.message, refused.details);
   const e = err as { name?: string; code?: string; type?: string; status?: number; message?: string; field?: string };
-  if (e?.name === 'SpectrumError')
-    return send(422, e.code ?? 'SPECTRUM_INVALID', e.message ?? 'The spectrum could not be read.');
   if (e?.name === 'MulterError') {
     if (e.code === 'LIMIT_FILE_SIZE')
       return send(

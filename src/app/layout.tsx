@@ -3,13 +3,13 @@
  * routes.tsx filtered by the user's roles, session handling (ended session -> sign-in page with
  * the reason; forced password change), and an error boundary around the page.
  */
-import { useEffect, useMemo, useRef } from 'react';
+import { useEffect, useEffectEvent, useMemo, useRef } from 'react';
 import { Link, Navigate, NavLink, Outlet, useLocation, useNavigate } from 'react-router-dom';
 import { useQueryClient } from '@tanstack/react-query';
 import { useMe, useSignOut } from '../features/auth/api';
 import { lastApiActivity, onUnauthorized } from '../lib/api';
 import { setSiteTimeZone } from '../lib/format';
-import { ME_KEY } from '../lib/query-keys';
+import { qk } from '../lib/query-keys';
 import { hasAnyRole, roleList } from '../lib/roles';
 import type { Me } from '../../server/modules/auth/contract';
 import { ErrorNote } from '../components/ErrorNote';
@@ -37,10 +37,10 @@ function useSessionGuard(me: Me | null | undefined) {
   useEffect(
     () =>
       onUnauthorized(() => {
-        const had = qc.getQueryData<Me | null>(ME_KEY);
+        const had = qc.getQueryData<Me | null>(qk.me);
         if (!had) return; // nobody was signed in: the shell redirects without a message
         qc.clear();
-        qc.setQueryData(ME_KEY, null);
+        qc.setQueryData(qk.me, null);
         navigate('/sign-in', {
           replace: true,
           state: { message: sessionEndedMessage(had.site.idleMinutes), from: where.current },
@@ -51,18 +51,17 @@ function useSessionGuard(me: Me | null | undefined) {
 
   // Moving to another page is activity: when the server has not been asked for a minute (the page
   // may show cached data), ask it now, so an ended session is noticed on the first click.
-  useEffect(() => {
-    if (me && Date.now() - lastApiActivity() > 60_000) void qc.invalidateQueries({ queryKey: ME_KEY });
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [location.pathname]);
+  const askIfQuiet = useEffectEvent(() => {
+    if (me && Date.now() - lastApiActivity() > 60_000) void qc.invalidateQueries({ queryKey: qk.me });
+  });
+  useEffect(() => askIfQuiet(), [location.pathname]);
 
   // Without requests the server's idle clock runs out silently; ask it once the time has passed
   // so the screen does not keep showing data of an ended session.
   useEffect(() => {
     if (!me) return;
     const t = window.setInterval(() => {
-      if (Date.now() - lastApiActivity() > idleMinutes * 60_000 + 5_000)
-        void qc.invalidateQueries({ queryKey: ME_KEY });
+      if (Date.now() - lastApiActivity() > idleMinutes * 60_000 + 5_000) void qc.invalidateQueries({ queryKey: qk.me });
     }, 30_000);
     return () => window.clearInterval(t);
   }, [me, idleMinutes, qc]);

@@ -20,6 +20,8 @@ import {
 } from '@tanstack/react-table';
 
 declare module '@tanstack/react-table' {
+  // Kept: a module augmentation must repeat the interface's type parameters exactly (same names),
+  // although these extra fields use neither.
   // eslint-disable-next-line @typescript-eslint/no-unused-vars
   interface ColumnMeta<TData extends RowData, TValue> {
     align?: 'left' | 'right' | 'center';
@@ -32,6 +34,8 @@ declare module '@tanstack/react-table' {
 
 export interface DataTableProps<T> {
   data: T[];
+  // Kept: the columns of one table hold different value types (string, number, ...), and a
+  // ColumnDef<T, string> is not assignable to ColumnDef<T, unknown>, so the array needs any here.
   // eslint-disable-next-line @typescript-eslint/no-explicit-any
   columns: ColumnDef<T, any>[];
   /** accessible name of the table */

@@ -1,81 +1,28 @@
 /**
  * Formatting for display. Times are stored in UTC and shown in the SITE's time zone with the
- * zone named (e.g. "2026-03-14 09:42 CET"), whatever the browser's own zone is. The app shell
- * calls setSiteTimeZone() once /api/auth/me has answered.
+ * zone named (e.g. "2026-03-14 09:42 CET"), whatever the browser's own zone is: the formatter is
+ * the one the server's documents use (server/lib/contract.ts). The app shell calls
+ * setSiteTimeZone() once /api/auth/me has answered.
  */
+import { formatSiteDate, formatSiteTime, type TimeInput, validTimeZone } from '../../server/lib/contract';
 
 let siteTimeZone = 'UTC';
 
 export function setSiteTimeZone(tz: string): void {
-  try {
-    new Intl.DateTimeFormat('en-GB', { timeZone: tz });
-    siteTimeZone = tz;
-  } catch {
-    siteTimeZone = 'UTC';
-  }
+  siteTimeZone = validTimeZone(tz);
 }
 export function getSiteTimeZone(): string {
   return siteTimeZone;
 }
 
-type DateInput = string | number | Date | null | undefined;
-
-function toDate(v: DateInput): Date | null {
-  if (v === null || v === undefined || v === '') return null;
-  const d = v instanceof Date ? v : new Date(v);
-  return Number.isNaN(d.getTime()) ? null : d;
-}
-
-const fmtCache = new Map<string, Intl.DateTimeFormat>();
-function fmt(key: string, tz: string, o: Intl.DateTimeFormatOptions, locale = 'en-GB'): Intl.DateTimeFormat {
-  const k = `${key}|${tz}|${locale}`;
-  let f = fmtCache.get(k);
-  if (!f) {
-    f = new Intl.DateTimeFormat(locale, { ...o, timeZone: tz });
-    fmtCache.set(k, f);
-  }
-  return f;
-}
-
-function parts(d: Date, tz: string, withSeconds: boolean): Record<string, string> {
-  const f = fmt(withSeconds ? 'dts' : 'dt', tz, {
-    year: 'numeric',
-    month: '2-digit',
-    day: '2-digit',
-    hour: '2-digit',
-    minute: '2-digit',
-    ...(withSeconds ? { second: '2-digit' } : {}),
-    hourCycle: 'h23',
-    timeZoneName: 'short',
-  });
-  const out: Record<string, string> = {};
-  for (const p of f.formatToParts(d)) out[p.type] = p.value;
-  // Each locale knows the abbreviations of its own region (en-GB: CET, CEST, BST; en-US: EST,
-  // PDT); where en-GB has only an offset ("GMT-5"), ask en-US, else keep the offset.
-  if (/^GMT[+-]/.test(out.timeZoneName ?? '')) {
-    const us = fmt('zone-us', tz, { timeZoneName: 'short' }, 'en-US')
-      .formatToParts(d)
-      .find((p) => p.type === 'timeZoneName')?.value;
-    if (us && !/^GMT[+-]/.test(us)) out.timeZoneName = us;
-  }
-  return out;
-}
-
 /** "2026-03-14 09:42 CET" (ISO-like order, 24-hour clock, zone named). */
-export function formatDateTime(v: DateInput, opts: { seconds?: boolean; timeZone?: string } = {}): string {
-  const d = toDate(v);
-  if (!d) return '—';
-  const p = parts(d, opts.timeZone ?? siteTimeZone, !!opts.seconds);
-  const time = `${p.hour}:${p.minute}${opts.seconds ? `:${p.second}` : ''}`;
-  return `${p.year}-${p.month}-${p.day} ${time} ${p.timeZoneName}`;
+export function formatDateTime(v: TimeInput, opts: { seconds?: boolean; timeZone?: string } = {}): string {
+  return formatSiteTime(v, opts.timeZone ?? siteTimeZone, { seconds: !!opts.seconds });
 }
 
 /** "2026-03-14" in the site's zone (the calendar day at the site). */
-export function formatDate(v: DateInput, opts: { timeZone?: string } = {}): string {
-  const d = toDate(v);
-  if (!d) return '—';
-  const p = parts(d, opts.timeZone ?? siteTimeZone, false);
-  return `${p.year}-${p.month}-${p.day}`;
+export function formatDate(v: TimeInput, opts: { timeZone?: string } = {}): string {
+  return formatSiteDate(v, opts.timeZone ?? siteTimeZone);
 }
 
 /** Wavenumber with its unit: "1601.2 cm⁻¹". */

@@ -1,12 +1,75 @@
 /**
- * Query keys shared across features. The signed-in user (/api/auth/me) is read by the shell and
- * changes when a feature signs something (signedOnce) - such a feature invalidates ME_KEY.
+ * Every TanStack Query key of the client, in one place. A feature's hooks read and invalidate
+ * only through these factories, so one feature's write can refresh another feature's view (a
+ * verification refreshes lots, investigations and the work queue) without either importing the
+ * other. Keys are arrays whose first element names the area; invalidating `qk.x.all` refreshes
+ * everything of that area.
+ *
+ * The signed-in user (/api/auth/me) is read by the shell and changes when a feature signs
+ * something (signedOnce): such a feature calls invalidateMe.
  */
 import type { QueryClient } from '@tanstack/react-query';
 
-export const ME_KEY = ['auth', 'me'] as const;
+export const qk = {
+  me: ['auth', 'me'] as const,
+  audit: {
+    all: ['audit'] as const,
+    events: (filter: Record<string, string | number>, cursor: string | null, limit: number) =>
+      ['audit', 'events', filter, cursor, limit] as const,
+    event: (id: number | null) => ['audit', 'event', id] as const,
+    facets: ['audit', 'facets'] as const,
+    chain: ['audit', 'verify'] as const,
+    history: (entityType: string, entityId: string) => ['audit', 'history', entityType, entityId] as const,
+  },
+  certificates: {
+    all: ['certificates'] as const,
+    list: (filter: object) => ['certificates', 'list', filter] as const,
+    ofLot: (lotId: number | undefined) => ['certificates', 'lot', lotId] as const,
+    one: (id: number) => ['certificates', 'one', id] as const,
+    signingIdentity: ['certificates', 'signing-identity'] as const,
+  },
+  instruments: {
+    all: ['instruments'] as const,
+    one: (id: number) => ['instruments', id] as const,
+  },
+  investigations: {
+    all: ['investigations'] as const,
+    list: (state: string) => ['investigations', 'list', state] as const,
+    one: (id: number) => ['investigations', id] as const,
+  },
+  library: {
+    all: ['library'] as const,
+    materials: ['library', 'materials'] as const,
+    material: (id: number) => ['library', 'material', id] as const,
+    references: (materialId: number) => ['library', 'references', materialId] as const,
+    byStatus: (status: string) => ['library', 'references-by-status', status] as const,
+    reference: (id: number) => ['library', 'reference', id] as const,
+    overlay: (id: number) => ['library', 'overlay', id] as const,
+    gate: (id: number) => ['library', 'gate', id] as const,
+    matrix: (technique: string) => ['library', 'matrix', technique] as const,
+  },
+  lots: {
+    all: ['lots'] as const,
+    list: (filter: object) => ['lots', filter] as const,
+    one: (id: number) => ['lots', id] as const,
+    receivable: ['lots', 'receivable'] as const,
+  },
+  tests: {
+    /** A test, its review and everything under it. */
+    one: (id: number) => ['tests', id] as const,
+    review: (id: number) => ['tests', id, 'review'] as const,
+    instruments: ['testing', 'instruments'] as const,
+    verificationQueue: ['verification', 'queue'] as const,
+  },
+  measurements: {
+    one: (id: number) => ['measurements', id] as const,
+    plot: (id: number) => ['measurements', id, 'plot'] as const,
+  },
+  users: { all: ['users'] as const },
+  workQueue: ['work-queue'] as const,
+};
 
 /** Call after any e-signature so the next signing knows the user name was already given. */
 export function invalidateMe(qc: QueryClient): Promise<void> {
-  return qc.invalidateQueries({ queryKey: ME_KEY });
+  return qc.invalidateQueries({ queryKey: qk.me });
 }

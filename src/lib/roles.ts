@@ -1,4 +1,4 @@
-/** Roles as the server defines them (server/lib/roles.ts is pure data shared with the client). */
+/** Roles as the server's contract defines them (server/lib/contract.ts), and two helpers of the client. */
 export { ROLES, ROLE_LABELS, type Role } from '../../server/lib/contract';
 import { ROLE_LABELS, type Role } from '../../server/lib/contract';
 

@@ -1,6 +1,6 @@
 import { useState } from 'react';
 import { useSession } from '../app/session';
-import { Button } from '../components/Button';
+import { useCreatePanel } from '../components/CreatePanel';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
 import { PageLoading } from '../app/lazy-page';
@@ -13,9 +13,9 @@ import { RecordHistory } from '../features/audit/components/RecordHistory';
 export default function AdminUsersPage() {
   const { user: me } = useSession();
   const users = useUsers();
-  const [creating, setCreating] = useState(false);
   const [selectedId, setSelectedId] = useState<number | undefined>();
   const [notice, setNotice] = useState<string | null>(null);
+  const create = useCreatePanel({ label: 'Create account', title: 'New account', onOpen: () => setNotice(null) });
   const selected = users.data?.find((u) => u.id === selectedId);
 
   return (
@@ -23,19 +23,7 @@ export default function AdminUsersPage() {
       <PageHeader
         title="User accounts"
         subtitle="Accounts are deactivated, never deleted. Every change is kept in the audit trail with its reason."
-        actions={
-          !creating && (
-            <Button
-              variant="primary"
-              onClick={() => {
-                setCreating(true);
-                setNotice(null);
-              }}
-            >
-              Create account
-            </Button>
-          )
-        }
+        actions={create.button}
       />
       {notice && (
         <p
@@ -46,23 +34,18 @@ export default function AdminUsersPage() {
           {notice}
         </p>
       )}
-      {creating && (
-        <section aria-labelledby="new-account" className="mb-6 rounded-md border border-line bg-white p-4">
-          <h2 id="new-account" className="mb-3 text-lg">
-            New account
-          </h2>
-          <CreateUserForm
-            onCancel={() => setCreating(false)}
-            onCreated={(u, pw) => {
-              setCreating(false);
-              setSelectedId(u.id);
-              setNotice(
-                `The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`,
-              );
-            }}
-          />
-        </section>
-      )}
+      {create.panel((close) => (
+        <CreateUserForm
+          onCancel={close}
+          onCreated={(u, pw) => {
+            close();
+            setSelectedId(u.id);
+            setNotice(
+              `The account ${u.username} was created. Temporary password: ${pw} — hand it over in person; it is not shown again.`,
+            );
+          }}
+        />
+      ))}
       {users.isPending ? (
         <PageLoading />
       ) : users.isError ? (

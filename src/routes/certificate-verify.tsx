@@ -4,7 +4,7 @@
  * byte-identical to the stored certificate, whether its embedded signature verifies, and which
  * lot it belongs to. Every check is recorded in the audit trail.
  */
-import { useEffect, useRef, useState, type FormEvent } from 'react';
+import { useEffect, useEffectEvent, useRef, useState, type FormEvent } from 'react';
 import { useSearchParams } from 'react-router-dom';
 import { Button } from '../components/Button';
 import { ErrorNote } from '../components/ErrorNote';
@@ -34,15 +34,14 @@ export default function CertificateVerifyPage() {
   };
 
   // Opened from the QR code: check the number in the address once.
-  useEffect(() => {
-    const n = params.get('number');
+  const checkOnce = useEffectEvent((n: string | null) => {
     if (n && ran.current !== n) {
       ran.current = n;
       setNumber(n);
       check(n);
     }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [params]);
+  });
+  useEffect(() => checkOnce(params.get('number')), [params]);
 
   const submit = (e: FormEvent) => {
     e.preventDefault();

@@ -1,9 +1,8 @@
 /** Instruments: registry with the check status of each ("check due" in words and icon). */
-import { useState } from 'react';
 import { useNavigate } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
-import { Button } from '../components/Button';
+import { useCreatePanel } from '../components/CreatePanel';
 import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
 import { useInstruments } from '../features/instruments/api';
@@ -13,30 +12,18 @@ import { RegisterInstrumentForm } from '../features/instruments/components/Regis
 export default function InstrumentsPage() {
   const list = useInstruments();
   const isQa = useHasRole('qa_manager');
-  const [creating, setCreating] = useState(false);
+  const create = useCreatePanel({ label: 'Register instrument', title: 'New instrument', allowed: isQa });
   const navigate = useNavigate();
   return (
     <div className="max-w-7xl">
       <PageHeader
         title="Instruments"
         subtitle="An instrument is used for identity testing only with a passing, unexpired polystyrene instrument check."
-        actions={
-          isQa &&
-          !creating && (
-            <Button variant="primary" onClick={() => setCreating(true)}>
-              Register instrument
-            </Button>
-          )
-        }
+        actions={create.button}
       />
-      {creating && (
-        <section aria-labelledby="new-inst" className="mb-6 rounded-md border border-line bg-white p-4">
-          <h2 id="new-inst" className="mb-3 text-lg">
-            New instrument
-          </h2>
-          <RegisterInstrumentForm onCancel={() => setCreating(false)} onDone={(id) => navigate(`/instruments/${id}`)} />
-        </section>
-      )}
+      {create.panel((close) => (
+        <RegisterInstrumentForm onCancel={close} onDone={(id) => navigate(`/instruments/${id}`)} />
+      ))}
       {list.isPending ? (
         <PageLoading />
       ) : list.isError ? (

@@ -3,7 +3,7 @@ import { useState } from 'react';
 import { useNavigate } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
-import { Button } from '../components/Button';
+import { useCreatePanel } from '../components/CreatePanel';
 import { ErrorNote } from '../components/ErrorNote';
 import { Field, Select } from '../components/Field';
 import { PageHeader } from '../components/PageHeader';
@@ -57,33 +57,18 @@ function Matrix() {
 export default function LibraryPage() {
   const materials = useMaterials();
   const isQa = useHasRole('qa_manager');
-  const [creating, setCreating] = useState(false);
+  const create = useCreatePanel({ label: 'New material', title: 'New material', allowed: isQa });
   const navigate = useNavigate();
   return (
     <div className="max-w-7xl">
       <PageHeader
         title="Reference library"
         subtitle="Materials, their identity methods and QA-approved reference spectra. Every identity test is judged against this library."
-        actions={
-          isQa &&
-          !creating && (
-            <Button variant="primary" onClick={() => setCreating(true)}>
-              New material
-            </Button>
-          )
-        }
+        actions={create.button}
       />
-      {creating && (
-        <section aria-labelledby="new-mat" className="mb-6 rounded-md border border-line bg-white p-4">
-          <h2 id="new-mat" className="mb-3 text-lg">
-            New material
-          </h2>
-          <CreateMaterialForm
-            onCancel={() => setCreating(false)}
-            onCreated={(id) => navigate(`/library/materials/${id}`)}
-          />
-        </section>
-      )}
+      {create.panel((close) => (
+        <CreateMaterialForm onCancel={close} onCreated={(id) => navigate(`/library/materials/${id}`)} />
+      ))}
       {materials.isPending ? (
         <PageLoading />
       ) : materials.isError ? (

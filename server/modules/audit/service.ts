@@ -12,7 +12,7 @@ import { signaturesFor } from '../../lib/esign';
 import * as repo from './repo';
 import { CSV_COLUMNS, csvLine, eventCsvLine } from './csv';
 import { renderAuditPdf } from './pdf';
-import { formatInZone, safeZone } from './time';
+import { formatSiteTime, validTimeZone } from '../../lib/contract';
 import {
   COUNT_CAP,
   HISTORY_CAP,
@@ -121,8 +121,8 @@ export async function describeFilter(
 ): Promise<string[]> {
   const parts: string[] = [];
   if (scope === 'accounts') parts.push('account and sign-in events only (administrator view)');
-  if (f.from) parts.push(`from ${formatInZone(f.from, tz)} (${new Date(f.from).toISOString()})`);
-  if (f.to) parts.push(`before ${formatInZone(f.to, tz)} (${new Date(f.to).toISOString()})`);
+  if (f.from) parts.push(`from ${formatSiteTime(f.from, tz, { seconds: true })} (${new Date(f.from).toISOString()})`);
+  if (f.to) parts.push(`before ${formatSiteTime(f.to, tz, { seconds: true })} (${new Date(f.to).toISOString()})`);
   if (f.actorId !== undefined) {
     const u = await db('app_user').where({ id: f.actorId }).first();
     parts.push(`user ${u ? `${u.full_name} (${u.username}, id ${f.actorId})` : `id ${f.actorId}`}`);
@@ -180,7 +180,7 @@ export async function exportCsv(
 ): Promise<void> {
   const scope = scopeFor(ctx.user);
   checkRange(f);
-  const tz = safeZone(ctx.siteTimeZone);
+  const tz = validTimeZone(ctx.siteTimeZone);
   const now = new Date();
   const words = await describeFilter(db, f, scope, tz);
   // The export is recorded first, with its filter; the snapshot bound includes that event.
@@ -224,7 +224,7 @@ export async function exportCsv(
       '\uFEFF' +
         csvLine([`# Drumline audit trail export - ${ctx.siteName}`]) +
         csvLine([
-          `# Generated ${now.toISOString()} (UTC) = ${formatInZone(now, tz)} by ${ctx.user.fullName} (${ctx.user.username}); export event ${eventId}; events up to ${maxId}`,
+          `# Generated ${now.toISOString()} (UTC) = ${formatSiteTime(now, tz, { seconds: true })} by ${ctx.user.fullName} (${ctx.user.username}); export event ${eventId}; events up to ${maxId}`,
         ]) +
         csvLine([`# Filter: ${words.join('; ')}`]) +
         csvLine([
@@ -253,7 +253,7 @@ export async function exportPdf(
 ): Promise<{ pdf: Buffer; fileName: string; eventId: number; rows: number; more: boolean }> {
   const scope = scopeFor(ctx.user);
   checkRange(f);
-  const tz = safeZone(ctx.siteTimeZone);
+  const tz = validTimeZone(ctx.siteTimeZone);
   const now = new Date();
   const words = await describeFilter(db, f, scope, tz);
   const eventId = await auditNow(db, {

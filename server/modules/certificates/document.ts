@@ -4,6 +4,7 @@
  * figure, e-signatures, conclusion, caution, QR code to the verification page, and
  * "Page x of y" on every page. Verdicts are printed as symbol and word.
  */
+import { formatSiteTime } from '../../lib/contract';
 import type { Content, TableCell, TDocumentDefinitions } from '../../lib/pdf';
 import type { CertificateContent, SignatureLine } from './contract';
 
@@ -26,20 +27,7 @@ export function meaningWord(m: string): string {
 
 /** "2026-03-04 14:05:09 Europe/Berlin (GMT+1)": date and time in the site's time zone, the zone named. */
 export function formatZoned(isoTime: string, timeZone: string): string {
-  const d = new Date(isoTime);
-  const parts = new Intl.DateTimeFormat('en-GB', {
-    timeZone,
-    year: 'numeric',
-    month: '2-digit',
-    day: '2-digit',
-    hour: '2-digit',
-    minute: '2-digit',
-    second: '2-digit',
-    hourCycle: 'h23',
-    timeZoneName: 'shortOffset',
-  }).formatToParts(d);
-  const p = (t: string) => parts.find((x) => x.type === t)?.value ?? '';
-  return `${p('year')}-${p('month')}-${p('day')} ${p('hour')}:${p('minute')}:${p('second')} ${timeZone} (${p('timeZoneName')})`;
+  return formatSiteTime(isoTime, timeZone, { seconds: true, zone: 'name-and-offset' });
 }
 
 const TECHNIQUE_WORDS: Record<string, string> = {

@@ -15,7 +15,7 @@ import { sha256Hex } from '../../lib/canonical';
 import { loadConfig, type AppConfig } from '../../lib/config';
 import { parseJson } from '../../lib/db';
 import { conflict, notFound, unprocessable } from '../../lib/errors';
-import type { PdfSignatureCheck, SignatureInput, SigningIdentity } from '../../lib/contract';
+import { formatSiteDate, type PdfSignatureCheck, type SignatureInput, type SigningIdentity } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { renderPdf } from '../../lib/pdf';
@@ -88,7 +88,7 @@ export function formatNumber(year: number, seq: number): string {
 }
 
 function yearIn(d: Date, timeZone: string): number {
-  return Number(new Intl.DateTimeFormat('en-GB', { timeZone, year: 'numeric' }).format(d));
+  return Number(formatSiteDate(d, timeZone).slice(0, 4));
 }
 
 /** The overlay figure of the container with the lowest match score against its best reference. */

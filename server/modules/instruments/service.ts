@@ -28,7 +28,7 @@ import { storeFile } from '../../lib/files';
 import { getDb } from '../../lib/db';
 import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature, signaturesFor, toSignatureRecord } from '../../lib/esign';
-import { conflict, notFound } from '../../lib/errors';
+import { conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import {
   checkPolystyrene,
@@ -37,9 +37,7 @@ import {
   type PolystyreneResult,
   type PolystyreneSpec,
   readSpectrum,
-  SpectrumError,
 } from '../../spectra';
-import { unprocessable } from '../../lib/errors';
 import * as repo from './repo';
 import type {
   CheckBand,
@@ -346,13 +344,7 @@ export async function recordCheck(
   try {
     spectrum = readSpectrum(new Uint8Array(file.buffer), file.originalname);
   } catch (e) {
-    if (e instanceof SpectrumError)
-      throw unprocessable(e.code, `${file.originalname}: ${e.message}`, {
-        fileName: file.originalname,
-        code: e.code,
-        sentence: e.message,
-      });
-    throw e;
+    throw spectrumRefusal(e, file.originalname);
   }
   const result = checkPolystyrene(spectrum, {
     spec: engineSpecOf(spec),

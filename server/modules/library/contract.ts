@@ -118,6 +118,7 @@ export const methodUpdateSchema = z.object({
   changeNote: z.string().trim().max(2000).optional(),
   reason: reasonSchema,
 });
+export type MethodUpdateInput = z.input<typeof methodUpdateSchema>;
 
 export const bandEditSchema = z.object({
   position: z.number().finite().positive().max(15000),
@@ -128,6 +129,7 @@ export const bandsUpdateSchema = z.object({
   bands: z.array(bandEditSchema).max(200),
   reason: reasonSchema,
 });
+export type BandsUpdateInput = z.input<typeof bandsUpdateSchema>;
 
 export const referenceUploadFieldsSchema = z.object({
   supplier: z.string().trim().max(160).default(''),
@@ -150,7 +152,9 @@ export const approveReferenceSchema = z.object({
   signature: signatureInput,
   justification: justificationSchema.optional(),
 });
+export type ApproveReferenceInput = z.input<typeof approveReferenceSchema>;
 export const retireReferenceSchema = z.object({ reason: reasonSchema, signature: signatureInput });
+export type RetireReferenceInput = z.input<typeof retireReferenceSchema>;
 export const approveMethodSchema = z.object({ signature: signatureInput });
 export const specificityMatrixQuerySchema = z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') });
 

@@ -1,10 +1,10 @@
 /**
  * The library's small adapter over the spectral engine (server/spectra/index.ts): reading a
  * stored file into a spectrum (cached by file id: stored files never change), picking the
- * characteristic bands of a reference with their group-frequency assignment, and turning a
- * SpectrumError of one file in a batch into the API's 422 with the file named.
+ * characteristic bands of a reference with their group-frequency assignment, and reading an
+ * uploaded file (a SpectrumError becomes the API's 422 naming the file, server/lib/errors.ts).
  */
-import { unprocessable } from '../../lib/errors';
+import { spectrumRefusal } from '../../lib/errors';
 import type { Db } from '../../lib/db';
 import {
   type Band,
@@ -14,7 +14,6 @@ import {
   shapeOf,
   describeAssignment,
   type Spectrum,
-  SpectrumError,
 } from '../../spectra';
 import type { IdentityMethodInput, StoredBand } from './contract';
 
@@ -33,21 +32,8 @@ export function readUploaded(data: Uint8Array, fileName: string): Spectrum {
   try {
     return readSpectrum(data, fileName);
   } catch (e) {
-    throw asFileError(e, fileName);
+    throw spectrumRefusal(e, fileName);
   }
-}
-
-export function asFileError(e: unknown, fileName: string): unknown {
-  if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
-    const se = e as SpectrumError;
-    return unprocessable(se.code, `${fileName}: ${se.message}`, {
-      fileName,
-      code: se.code,
-      sentence: se.message,
-      details: se.details ?? null,
-    });
-  }
-  return e;
 }
 
 /**

@@ -23,13 +23,13 @@ import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
-import { AppError, badRequest, conflict, forbidden, notFound } from '../../lib/errors';
+import { AppError, badRequest, conflict, forbidden, notFound, spectrumRefusal } from '../../lib/errors';
 import { sha256Hex } from '../../lib/canonical';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
 import { checkQuality, type IdentityMethod, prepare } from '../../spectra';
 import { invalidateLibraryCache } from './approved-set';
-import { asFileError, assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
+import { assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
 import type {
   GateReport,
   ReferenceDetail,
@@ -96,7 +96,7 @@ export async function uploadReferences(
       prepare(spectrum, method); // refuses a spectrum that does not cover the method range
       return { file: f, spectrum, bands: pickBands(spectrum, method), sha256: sha256Hex(f.buffer) };
     } catch (e) {
-      throw asFileError(e, f.originalname);
+      throw spectrumRefusal(e, f.originalname);
     }
   });
 

@@ -6,6 +6,7 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
+import { formatSiteDate } from '../../lib/contract';
 import { AppError, notFound } from '../../lib/errors';
 import { signaturesFor } from '../../lib/esign';
 import * as inv from '../investigations/repo';
@@ -42,12 +43,7 @@ export function containerLabel(lotNumber: string, seq: number): string {
 
 /** Today's calendar date at the site (YYYY-MM-DD), e.g. in Europe/Berlin shortly after midnight. */
 export function siteToday(timeZone: string, now = new Date()): string {
-  const p = Object.fromEntries(
-    new Intl.DateTimeFormat('en-GB', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' })
-      .formatToParts(now)
-      .map((x) => [x.type, x.value]),
-  );
-  return `${p.year}-${p.month}-${p.day}`;
+  return formatSiteDate(now, timeZone);
 }
 
 export async function receiveLot(

@@ -13,9 +13,9 @@ import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
-import { AppError, badRequest, conflict, notFound, unprocessable } from '../../lib/errors';
+import { AppError, badRequest, conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum, SpectrumError } from '../../spectra';
+import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum } from '../../spectra';
 import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
 import * as lots from '../lots/repo';
 import { loadContext } from './context';
@@ -219,14 +219,7 @@ function readOrRefuse(file: UploadedFile): Spectrum {
   try {
     return readSpectrum(new Uint8Array(file.buffer), file.originalname);
   } catch (e) {
-    if (e instanceof SpectrumError || (e as { name?: string })?.name === 'SpectrumError') {
-      const se = e as SpectrumError;
-      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, {
-        fileName: file.originalname,
-        code: se.code,
-      });
-    }
-    throw e;
+    throw spectrumRefusal(e, file.originalname);
   }
 }
 
@@ -309,14 +302,7 @@ export async function addMeasurement(
       set.method.params,
     );
   } catch (e) {
-    if ((e as { name?: string })?.name === 'SpectrumError') {
-      const se = e as SpectrumError;
-      throw unprocessable(se.code, `${file.originalname}: ${se.message} Nothing was stored.`, {
-        fileName: file.originalname,
-        code: se.code,
-      });
-    }
-    throw e;
+    throw spectrumRefusal(e, file.originalname);
   }
   const hint =
     result.verdict === 'fail' ? await libraryHint(db, spectrum, set.method.params, ctx.lot.material.id) : null;

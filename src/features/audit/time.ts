@@ -3,6 +3,7 @@
  * a "from 2026-03-14" typed by an auditor means midnight of that day in the SITE's time zone
  * (whatever the browser's zone is), and "to 2026-03-20" includes that whole day.
  */
+import { formatSiteDate } from '../../../server/lib/contract';
 
 /** Offset of `tz` from UTC at the instant `ms`, in ms (positive east of Greenwich). */
 export function zoneOffsetMs(ms: number, tz: string): number {
@@ -42,8 +43,7 @@ export function nextDay(day: string): string {
 
 /** The calendar day at the site of a UTC instant (YYYY-MM-DD). */
 export function siteDay(iso: string, tz: string): string {
-  const ms = new Date(iso).getTime();
-  return new Date(ms + zoneOffsetMs(ms, tz)).toISOString().slice(0, 10);
+  return formatSiteDate(iso, tz);
 }
 
 /** Site days (inclusive range) to the API's from (inclusive) / to (exclusive) instants. */

@@ -1,6 +1,7 @@
 /** Audit trail hooks: the browser's pages, one event, filter choices, the chain check, record history, export links. */
 import { keepPreviousData, useQuery } from '@tanstack/react-query';
 import { apiFetch, downloadUrl } from '../../../lib/api';
+import { qk } from '../../../lib/query-keys';
 import type {
   AuditEventDetail,
   AuditEventSummary,
@@ -24,8 +25,6 @@ export { COUNT_CAP, PDF_ROW_CAP, HISTORY_CAP, TEXT_WINDOW } from '../../../../se
 
 /** The filter as the API takes it (instants in UTC, sort). */
 export type AuditQuery = Partial<AuditFilter>;
-
-const KEY = ['audit'] as const;
 
 function clean(q: AuditQuery): Record<string, string | number> {
   const out: Record<string, string | number> = {};
@@ -69,7 +68,7 @@ async function fetchPage(
 
 export function useAuditEvents(q: AuditQuery, cursor: string | null, limit = 50) {
   return useQuery({
-    queryKey: [...KEY, 'events', clean(q), cursor, limit],
+    queryKey: qk.audit.events(clean(q), cursor, limit),
     queryFn: ({ signal }) => fetchPage(q, cursor, limit, signal),
     placeholderData: keepPreviousData,
   });
@@ -77,7 +76,7 @@ export function useAuditEvents(q: AuditQuery, cursor: string | null, limit = 50)
 
 export function useAuditEvent(id: number | null) {
   return useQuery({
-    queryKey: [...KEY, 'event', id],
+    queryKey: qk.audit.event(id),
     queryFn: () => apiFetch<AuditEventDetail>(`/api/audit/events/${id}`),
     enabled: id !== null,
   });
@@ -85,7 +84,7 @@ export function useAuditEvent(id: number | null) {
 
 export function useAuditFacets() {
   return useQuery({
-    queryKey: [...KEY, 'facets'],
+    queryKey: qk.audit.facets,
     queryFn: () => apiFetch<AuditFacets>('/api/audit/facets'),
     staleTime: 60_000,
   });
@@ -94,7 +93,7 @@ export function useAuditFacets() {
 /** The chain check runs only when asked (it reads every event). */
 export function useChainCheck() {
   return useQuery({
-    queryKey: [...KEY, 'verify'],
+    queryKey: qk.audit.chain,
     queryFn: () => apiFetch<ChainReport>('/api/audit/verify'),
     enabled: false,
     gcTime: Infinity,
@@ -104,7 +103,7 @@ export function useChainCheck() {
 
 export function useRecordHistory(entityType: string, entityId: string | number, enabled: boolean) {
   return useQuery({
-    queryKey: [...KEY, 'history', entityType, String(entityId)],
+    queryKey: qk.audit.history(entityType, String(entityId)),
     queryFn: () =>
       apiFetch<RecordHistory>(`/api/history/${encodeURIComponent(entityType)}/${encodeURIComponent(String(entityId))}`),
     enabled,

@@ -1,7 +1,7 @@
 /** Session hooks: who is signed in, sign in, sign out, change password. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { ApiError, apiFetch } from '../../../lib/api';
-import { ME_KEY } from '../../../lib/query-keys';
+import { qk } from '../../../lib/query-keys';
 import type { ChangePasswordInput, Me, SignInInput, SignInResult } from '../../../../server/modules/auth/contract';
 
 export type {
@@ -15,7 +15,7 @@ export type {
 /** The signed-in user and site settings; null when nobody is signed in. */
 export function useMe() {
   return useQuery({
-    queryKey: ME_KEY,
+    queryKey: qk.me,
     queryFn: async (): Promise<Me | null> => {
       try {
         return await apiFetch<Me>('/api/auth/me');
@@ -34,8 +34,8 @@ export function useSignIn() {
   return useMutation({
     mutationFn: (body: SignInInput) => apiFetch<SignInResult>('/api/auth/sign-in', { method: 'POST', body }),
     onSuccess: async () => {
-      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== ME_KEY[0] });
-      await qc.invalidateQueries({ queryKey: ME_KEY });
+      qc.removeQueries({ predicate: (q) => q.queryKey[0] !== qk.me[0] });
+      await qc.invalidateQueries({ queryKey: qk.me });
     },
   });
 }
@@ -46,7 +46,7 @@ export function useSignOut() {
     mutationFn: () => apiFetch<void>('/api/auth/sign-out', { method: 'POST' }),
     onSettled: () => {
       qc.clear();
-      qc.setQueryData(ME_KEY, null);
+      qc.setQueryData(qk.me, null);
     },
   });
 }
@@ -55,6 +55,6 @@ export function useChangePassword() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (body: ChangePasswordInput) => apiFetch<void>('/api/auth/password', { method: 'POST', body }),
-    onSuccess: () => qc.invalidateQueries({ queryKey: ME_KEY }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: qk.me }),
   });
 }

@@ -6,7 +6,7 @@
  */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
 
 import type {
@@ -28,11 +28,9 @@ export type {
 } from '../../../../server/modules/certificates/contract';
 export type { PdfSignatureCheck as SignatureCheck, SigningIdentity } from '../../../../server/lib/contract';
 
-const KEY = ['certificates'] as const;
-
 export function useCertificates(filter: CertificateFilter) {
   return useQuery({
-    queryKey: [...KEY, 'list', filter],
+    queryKey: qk.certificates.list(filter),
     queryFn: ({ signal }) =>
       apiFetch<CertificateList>('/api/certificates', {
         query: { ...filter, limit: 200 },
@@ -45,7 +43,7 @@ export function useCertificates(filter: CertificateFilter) {
 /** Every certificate of one lot, newest first (the current one is `current: true`). */
 export function useLotCertificates(lotId: number | undefined) {
   return useQuery({
-    queryKey: [...KEY, 'lot', lotId],
+    queryKey: qk.certificates.ofLot(lotId),
     enabled: lotId !== undefined,
     queryFn: ({ signal }) =>
       apiFetch<CertificateList>('/api/certificates', {
@@ -57,7 +55,7 @@ export function useLotCertificates(lotId: number | undefined) {
 
 export function useCertificate(id: number) {
   return useQuery({
-    queryKey: [...KEY, 'one', id],
+    queryKey: qk.certificates.one(id),
     queryFn: ({ signal }) => apiFetch<CertificateDetail>(`/api/certificates/${id}`, { signal }),
   });
 }
@@ -89,7 +87,7 @@ export function useSupersede() {
     mutationFn: ({ id, reason, signature }: { id: number; reason: string; signature: SignatureCredentials }) =>
       apiFetch<CertificateMeta>(`/api/certificates/${id}/supersede`, { method: 'POST', body: { reason, signature } }),
     onSuccess: async () => {
-      await Promise.all([qc.invalidateQueries({ queryKey: KEY }), invalidateMe(qc)]);
+      await Promise.all([qc.invalidateQueries({ queryKey: qk.certificates.all }), invalidateMe(qc)]);
     },
     onError: () => invalidateMe(qc),
   });
@@ -97,7 +95,7 @@ export function useSupersede() {
 
 export function useSigningIdentity(enabled: boolean) {
   return useQuery({
-    queryKey: [...KEY, 'signing-identity'],
+    queryKey: qk.certificates.signingIdentity,
     enabled,
     queryFn: ({ signal }) => apiFetch<SigningIdentity>('/api/certificates/signing-identity', { signal }),
     staleTime: 10 * 60_000,

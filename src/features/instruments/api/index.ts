@@ -1,7 +1,7 @@
 /** Instrument registry hooks: instruments, check specifications, polystyrene instrument checks. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
   InstrumentCheckView,
@@ -24,14 +24,15 @@ export type {
   SpecKind,
 } from '../../../../server/modules/instruments/contract';
 
-const KEY = ['instruments'] as const;
-
 export function useInstruments() {
-  return useQuery({ queryKey: KEY, queryFn: () => apiFetch<InstrumentListItem[]>('/api/instruments') });
+  return useQuery({ queryKey: qk.instruments.all, queryFn: () => apiFetch<InstrumentListItem[]>('/api/instruments') });
 }
 
 export function useInstrument(id: number) {
-  return useQuery({ queryKey: [...KEY, id], queryFn: () => apiFetch<InstrumentDetail>(`/api/instruments/${id}`) });
+  return useQuery({
+    queryKey: qk.instruments.one(id),
+    queryFn: () => apiFetch<InstrumentDetail>(`/api/instruments/${id}`),
+  });
 }
 
 export function useCreateInstrument() {
@@ -39,7 +40,7 @@ export function useCreateInstrument() {
   return useMutation({
     mutationFn: (body: InstrumentCreateInput) =>
       apiFetch<InstrumentDetail>('/api/instruments', { method: 'POST', body }),
-    onSuccess: () => qc.invalidateQueries({ queryKey: KEY }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: qk.instruments.all }),
   });
 }
 
@@ -49,7 +50,7 @@ export function useApproveSpec() {
     mutationFn: ({ id, ...body }: { id: number; spec: SpecCreate; signature: SignatureInput }) =>
       apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
     onSuccess: async () => {
-      await qc.invalidateQueries({ queryKey: KEY });
+      await qc.invalidateQueries({ queryKey: qk.instruments.all });
       await invalidateMe(qc);
     },
   });
@@ -77,7 +78,7 @@ export function useRecordCheck() {
       return apiUpload<InstrumentCheckView>(`/api/instruments/${id}/checks`, fd, onProgress);
     },
     onSuccess: async () => {
-      await qc.invalidateQueries({ queryKey: KEY });
+      await qc.invalidateQueries({ queryKey: qk.instruments.all });
       await invalidateMe(qc);
     },
   });

@@ -4,10 +4,10 @@
  * transmission positions) or a pharmacopoeial column, with a written justification and an
  * e-signature.
  */
-import { useEffect, useState } from 'react';
+import { useEffect, useEffectEvent, useState } from 'react';
 import { Button } from '../../../components/Button';
-import { Field, Input, Select, Textarea } from '../../../components/Field';
-import { SignatureDialog } from '../../../components/SignatureDialog';
+import { Field, Input, Select } from '../../../components/Field';
+import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useApproveSpec, type CheckBand, type InstrumentDetail, type SpecKind } from '../api';
 
 type Row = { nominal: string; tolerance: string };
@@ -29,21 +29,17 @@ export function ApproveSpecDialog({
   const current = instrument.specs.find((s) => s.status === 'approved');
   const [kind, setKind] = useState<SpecKind>('site');
   const [rows, setRows] = useState<Row[]>([]);
-  const [justification, setJustification] = useState('');
   const [problem, setProblem] = useState<string | null>(null);
   const lastFound = instrument.checks.find((c) => c.result.bands.every((b) => b.found !== null));
 
+  // Each opening starts from the specification in force (read when opening, not on every refetch).
+  const start = useEffectEvent(() => {
+    setKind('site');
+    setRows((current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })));
+    setProblem(null);
+  });
   useEffect(() => {
-    if (open) {
-      setKind('site');
-      setRows(
-        (current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })),
-      );
-      setJustification('');
-      setProblem(null);
-      approve.reset();
-    }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    if (open) start();
   }, [open]);
 
   const fromLastCheck = () => {
@@ -57,7 +53,7 @@ export function ApproveSpecDialog({
   };
 
   return (
-    <SignatureDialog
+    <ReasonSignatureDialog
       open={open}
       title={`New check specification for ${instrument.name}`}
       meaningText={`approve this check specification for ${instrument.name}, for the reason written above; every later instrument check is judged against it`}
@@ -66,8 +62,17 @@ export function ApproveSpecDialog({
       confirmLabel="Approve specification"
       busy={approve.isPending}
       error={problem ?? approve.error}
-      onCancel={onClose}
-      onSign={(signature) => {
+      onCancel={() => {
+        approve.reset();
+        onClose();
+      }}
+      reason={{
+        label: 'Justification',
+        hint: 'At least 20 characters; signed with the specification and kept in the audit trail.',
+        minLength: 20,
+        tooShort: 'Write a justification of at least 20 characters.',
+      }}
+      onSign={(signature, justification) => {
         let bands: CheckBand[] | undefined;
         if (kind === 'site') {
           bands = rows.map((r) => ({
@@ -82,12 +87,8 @@ export function ApproveSpecDialog({
               'A site specification needs at least three bands, each with a position and a positive tolerance.',
             );
         }
-        if (justification.trim().length < 20) return setProblem('Write a justification of at least 20 characters.');
         setProblem(null);
-        approve.mutate(
-          { id: instrument.id, spec: { kind, bands, justification: justification.trim() }, signature },
-          { onSuccess: onClose },
-        );
+        approve.mutate({ id: instrument.id, spec: { kind, bands, justification }, signature }, { onSuccess: onClose });
       }}
     >
       <Field id="spec-kind" label="Kind">
@@ -147,13 +148,6 @@ export function ApproveSpecDialog({
           </div>
         </div>
       )}
-      <Field
-        id="spec-just"
-        label="Justification"
-        hint="At least 20 characters; signed with the specification and kept in the audit trail."
-      >
-        <Textarea id="spec-just" value={justification} onChange={(e) => setJustification(e.target.value)} />
-      </Field>
-    </SignatureDialog>
+    </ReasonSignatureDialog>
   );
 }

@@ -3,7 +3,7 @@
  * "instrument check"); the file is uploaded with progress and judged against the instrument's
  * approved specification. The outcome is shown at once.
  */
-import { useEffect, useState } from 'react';
+import { useEffect, useEffectEvent, useState } from 'react';
 import { Field } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { Verdict } from '../../../components/Verdict';
@@ -30,14 +30,14 @@ export function RecordCheckDialog({
   const [fraction, setFraction] = useState(0);
   const [problem, setProblem] = useState<string | null>(null);
   const record = useRecordCheck();
+  const start = useEffectEvent(() => {
+    setFile(null);
+    setFraction(0);
+    setProblem(null);
+    record.reset();
+  });
   useEffect(() => {
-    if (open) {
-      setFile(null);
-      setFraction(0);
-      setProblem(null);
-      record.reset();
-    }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    if (open) start();
   }, [open]);
   return (
     <SignatureDialog

@@ -1,7 +1,7 @@
 /** Hooks of investigations of failing identity results. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
   InvestigationDetail,
@@ -16,26 +16,24 @@ export type {
   InvestigationSummary as Investigation,
   Phase1Record,
 } from '../../../../server/modules/investigations/contract';
-/** The signature part of a request body. */
-export type SignatureBody = SignatureInput;
 
 export const useInvestigations = (state: 'open' | 'all') =>
   useQuery({
-    queryKey: ['investigations', 'list', state],
+    queryKey: qk.investigations.list(state),
     queryFn: () => apiFetch<Investigation[]>('/api/investigations', { query: { state } }),
   });
 export const useInvestigation = (id: number) =>
   useQuery({
-    queryKey: ['investigations', id],
+    queryKey: qk.investigations.one(id),
     queryFn: () => apiFetch<InvestigationDetail>(`/api/investigations/${id}`),
   });
 
 function useDone(id: number) {
   const qc = useQueryClient();
   return () => {
-    void qc.invalidateQueries({ queryKey: ['investigations'] });
-    void qc.invalidateQueries({ queryKey: ['lots'] });
-    void qc.invalidateQueries({ queryKey: ['work-queue'] });
+    void qc.invalidateQueries({ queryKey: qk.investigations.all });
+    void qc.invalidateQueries({ queryKey: qk.lots.all });
+    void qc.invalidateQueries({ queryKey: qk.workQueue });
     void invalidateMe(qc);
     void id;
   };
@@ -45,7 +43,7 @@ export function usePhase1(id: number) {
   const done = useDone(id);
   return useMutation({
     mutationFn: (
-      body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureBody },
+      body: Record<Phase1Item, { ok: boolean; note: string }> & { summary: string; signature: SignatureInput },
     ) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/phase1`, { method: 'POST', body }),
     onSuccess: done,
   });
@@ -58,7 +56,7 @@ export function useInvalidate(id: number) {
       cause: Phase1Item;
       justification: string;
       retestContainerIds: number[];
-      signature: SignatureBody;
+      signature: SignatureInput;
     }) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/invalidate`, { method: 'POST', body }),
     onSuccess: done,
   });
@@ -67,7 +65,7 @@ export function useInvalidate(id: number) {
 export function useConfirm(id: number) {
   const done = useDone(id);
   return useMutation({
-    mutationFn: (body: { justification: string; signature: SignatureBody }) =>
+    mutationFn: (body: { justification: string; signature: SignatureInput }) =>
       apiFetch<InvestigationDetail>(`/api/investigations/${id}/confirm`, { method: 'POST', body }),
     onSuccess: done,
   });

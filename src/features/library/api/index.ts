@@ -1,21 +1,24 @@
 /** Reference library hooks: materials, identity methods, reference spectra, specificity. */
 import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type {
+  ApproveReferenceInput,
+  BandsUpdateInput,
   GateReport,
-  IdentityMethodInput,
   Material,
   MaterialCreateInput,
   MaterialDetail,
   MaterialListItem,
   MaterialUpdateInput,
+  MethodUpdateInput,
   MethodWithSignatures,
   ReferenceDetail,
   ReferenceListItem,
   ReferenceOverlay,
   ReferenceStatus,
   ReferenceUploadFields,
+  RetireReferenceInput,
   SpecificityMatrix,
 } from '../../../../server/modules/library/contract';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
@@ -43,52 +46,46 @@ export type {
   StoredBand,
 } from '../../../../server/modules/library/contract';
 
-const KEY = ['library'] as const;
-const keys = {
-  materials: [...KEY, 'materials'] as const,
-  material: (id: number) => [...KEY, 'material', id] as const,
-  references: (materialId: number) => [...KEY, 'references', materialId] as const,
-  byStatus: (status: ReferenceStatus) => [...KEY, 'references-by-status', status] as const,
-  reference: (id: number) => [...KEY, 'reference', id] as const,
-  overlay: (id: number) => [...KEY, 'overlay', id] as const,
-  gate: (id: number) => [...KEY, 'gate', id] as const,
-  matrix: (technique: string) => [...KEY, 'matrix', technique] as const,
-};
-
 /** Everything in the library may change after a write (status counts, matrix, gate). */
 function invalidateLibrary(qc: QueryClient) {
-  return qc.invalidateQueries({ queryKey: KEY });
+  return qc.invalidateQueries({ queryKey: qk.library.all });
 }
 
 export function useMaterials() {
-  return useQuery({ queryKey: keys.materials, queryFn: () => apiFetch<MaterialListItem[]>('/api/materials') });
+  return useQuery({ queryKey: qk.library.materials, queryFn: () => apiFetch<MaterialListItem[]>('/api/materials') });
 }
 
 export function useMaterial(id: number) {
-  return useQuery({ queryKey: keys.material(id), queryFn: () => apiFetch<MaterialDetail>(`/api/materials/${id}`) });
+  return useQuery({
+    queryKey: qk.library.material(id),
+    queryFn: () => apiFetch<MaterialDetail>(`/api/materials/${id}`),
+  });
 }
 
 export function useReferences(materialId: number) {
   return useQuery({
-    queryKey: keys.references(materialId),
+    queryKey: qk.library.references(materialId),
     queryFn: () => apiFetch<ReferenceListItem[]>(`/api/materials/${materialId}/references`),
   });
 }
 
 export function useReferencesByStatus(status: ReferenceStatus) {
   return useQuery({
-    queryKey: keys.byStatus(status),
+    queryKey: qk.library.byStatus(status),
     queryFn: () => apiFetch<ReferenceListItem[]>('/api/references', { query: { status } }),
   });
 }
 
 export function useReference(id: number) {
-  return useQuery({ queryKey: keys.reference(id), queryFn: () => apiFetch<ReferenceDetail>(`/api/references/${id}`) });
+  return useQuery({
+    queryKey: qk.library.reference(id),
+    queryFn: () => apiFetch<ReferenceDetail>(`/api/references/${id}`),
+  });
 }
 
 export function useReferenceOverlay(id: number) {
   return useQuery({
-    queryKey: keys.overlay(id),
+    queryKey: qk.library.overlay(id),
     queryFn: () => apiFetch<ReferenceOverlay>(`/api/references/${id}/overlay`),
     staleTime: 5 * 60_000,
   });
@@ -96,7 +93,7 @@ export function useReferenceOverlay(id: number) {
 
 export function useSpecificityGate(id: number, enabled: boolean) {
   return useQuery({
-    queryKey: keys.gate(id),
+    queryKey: qk.library.gate(id),
     queryFn: () => apiFetch<GateReport>(`/api/references/${id}/specificity`),
     enabled,
   });
@@ -104,7 +101,7 @@ export function useSpecificityGate(id: number, enabled: boolean) {
 
 export function useSpecificityMatrix(technique: string) {
   return useQuery({
-    queryKey: keys.matrix(technique),
+    queryKey: qk.library.matrix(technique),
     queryFn: () => apiFetch<SpecificityMatrix>('/api/library/specificity', { query: { technique } }),
   });
 }
@@ -135,9 +132,8 @@ export function useUpdateMaterial() {
 }
 
 export function useUpdateMethod() {
-  return useLibraryMutation(
-    ({ id, ...body }: { id: number; params?: IdentityMethodInput; changeNote?: string; reason: string }) =>
-      apiFetch<MethodWithSignatures>(`/api/methods/${id}`, { method: 'PATCH', body }),
+  return useLibraryMutation(({ id, ...body }: MethodUpdateInput & { id: number }) =>
+    apiFetch<MethodWithSignatures>(`/api/methods/${id}`, { method: 'PATCH', body }),
   );
 }
 
@@ -156,15 +152,14 @@ export function useApproveMethod() {
 }
 
 export function useUpdateBands() {
-  return useLibraryMutation(
-    ({ id, bands, reason }: { id: number; bands: { position: number; assignment?: string }[]; reason: string }) =>
-      apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
+  return useLibraryMutation(({ id, bands, reason }: BandsUpdateInput & { id: number }) =>
+    apiFetch<ReferenceDetail>(`/api/references/${id}/bands`, { method: 'PUT', body: { bands, reason } }),
   );
 }
 
 export function useApproveReference() {
   return useLibraryMutation(
-    ({ id, signature, justification }: { id: number; signature: SignatureCredentials; justification?: string }) =>
+    ({ id, signature, justification }: ApproveReferenceInput & { id: number }) =>
       apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, {
         method: 'POST',
         body: { signature, justification },
@@ -175,7 +170,7 @@ export function useApproveReference() {
 
 export function useRetireReference() {
   return useLibraryMutation(
-    ({ id, signature, reason }: { id: number; signature: SignatureCredentials; reason: string }) =>
+    ({ id, signature, reason }: RetireReferenceInput & { id: number }) =>
       apiFetch<ReferenceDetail>(`/api/references/${id}/retire`, { method: 'POST', body: { signature, reason } }),
     { signs: true },
   );

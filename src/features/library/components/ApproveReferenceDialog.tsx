@@ -3,10 +3,8 @@
  * would pass, approval needs a written justification (at least 20 characters) that is signed
  * with it. The password is asked again (e-signature).
  */
-import { useEffect, useState } from 'react';
 import { ApiError } from '../../../lib/api';
-import { Field, Textarea } from '../../../components/Field';
-import { SignatureDialog } from '../../../components/SignatureDialog';
+import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useApproveReference, useSpecificityGate, type GateReport } from '../api';
 import { GateTable } from './GateTable';
 
@@ -27,16 +25,6 @@ export function ApproveReferenceDialog({
 }) {
   const gate = useSpecificityGate(referenceId, open);
   const approve = useApproveReference();
-  const [justification, setJustification] = useState('');
-  const [localError, setLocalError] = useState<string | null>(null);
-  useEffect(() => {
-    if (open) {
-      setJustification('');
-      setLocalError(null);
-      approve.reset();
-    }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [open]);
 
   // A refusal by the gate at signing time carries the table as well.
   const refusedGate =
@@ -47,7 +35,7 @@ export function ApproveReferenceDialog({
   const blocked = report ? !report.passed : false;
 
   return (
-    <SignatureDialog
+    <ReasonSignatureDialog
       open={open}
       title={`Approve reference ${code}`}
       meaningText={
@@ -59,21 +47,28 @@ export function ApproveReferenceDialog({
       needsUsername={needsUsername}
       confirmLabel={blocked ? 'Approve with justification' : 'Approve reference'}
       busy={approve.isPending}
-      error={localError ?? approve.error}
-      onCancel={onClose}
-      onSign={(signature) => {
-        if (blocked && justification.trim().length < 20) {
-          setLocalError(
-            'Another material would pass this test. Write a justification of at least 20 characters, or tighten the identity method first.',
-          );
-          return;
-        }
-        setLocalError(null);
-        approve.mutate(
-          { id: referenceId, signature, justification: blocked ? justification.trim() : undefined },
-          { onSuccess: onClose },
-        );
+      error={approve.error}
+      onCancel={() => {
+        approve.reset();
+        onClose();
       }}
+      reason={
+        blocked
+          ? {
+              label: 'Justification',
+              hint: 'Why approval is right although the method does not tell these materials apart (at least 20 characters). It is signed and kept in the audit trail.',
+              minLength: 20,
+              tooShort:
+                'Another material would pass this test. Write a justification of at least 20 characters, or tighten the identity method first.',
+            }
+          : undefined
+      }
+      onSign={(signature, justification) =>
+        approve.mutate(
+          { id: referenceId, signature, justification: blocked ? justification : undefined },
+          { onSuccess: onClose },
+        )
+      }
     >
       <section aria-label="Specificity check" className="flex max-h-72 flex-col gap-2 overflow-auto">
         <h3 className="text-sm font-semibold">Specificity check</h3>
@@ -83,19 +78,6 @@ export function ApproveReferenceDialog({
         {gate.isError && !report ? <p className="text-sm text-fail">{(gate.error as Error).message}</p> : null}
         {report && <GateTable gate={report} onlyOffending={blocked} />}
       </section>
-      {blocked && (
-        <Field
-          id={`just-${referenceId}`}
-          label="Justification"
-          hint="Why approval is right although the method does not tell these materials apart (at least 20 characters). It is signed and kept in the audit trail."
-        >
-          <Textarea
-            id={`just-${referenceId}`}
-            value={justification}
-            onChange={(e) => setJustification(e.target.value)}
-          />
-        </Field>
-      )}
-    </SignatureDialog>
+    </ReasonSignatureDialog>
   );
 }

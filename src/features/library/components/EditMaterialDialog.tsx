@@ -1,5 +1,5 @@
 /** Change a material's descriptive fields; a reason is required (audited with before and after). */
-import { useEffect, useState, type FormEvent } from 'react';
+import { useEffect, useEffectEvent, useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { Dialog } from '../../../components/Dialog';
 import { ErrorNote } from '../../../components/ErrorNote';
@@ -18,20 +18,21 @@ export function EditMaterialDialog({
   const update = useUpdateMaterial();
   const [v, setV] = useState({ name: '', grade: '', monographRef: '', notes: '', active: true, reason: '' });
   const [problem, setProblem] = useState<string | null>(null);
+  // Each opening starts from the material as it is then (a refetch while open keeps the edits).
+  const start = useEffectEvent(() => {
+    setV({
+      name: material.name,
+      grade: material.grade,
+      monographRef: material.monographRef,
+      notes: material.notes ?? '',
+      active: material.active,
+      reason: '',
+    });
+    setProblem(null);
+    update.reset();
+  });
   useEffect(() => {
-    if (open) {
-      setV({
-        name: material.name,
-        grade: material.grade,
-        monographRef: material.monographRef,
-        notes: material.notes ?? '',
-        active: material.active,
-        reason: '',
-      });
-      setProblem(null);
-      update.reset();
-    }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    if (open) start();
   }, [open]);
   const submit = (e: FormEvent) => {
     e.preventDefault();

@@ -1,7 +1,5 @@
 /** Retirement of a reference: a reason and an e-signature; nothing is deleted. */
-import { useEffect, useState } from 'react';
-import { Field, Textarea } from '../../../components/Field';
-import { SignatureDialog } from '../../../components/SignatureDialog';
+import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useRetireReference } from '../api';
 
 export function RetireReferenceDialog({
@@ -20,18 +18,8 @@ export function RetireReferenceDialog({
   onClose: () => void;
 }) {
   const retire = useRetireReference();
-  const [reason, setReason] = useState('');
-  const [problem, setProblem] = useState<string | null>(null);
-  useEffect(() => {
-    if (open) {
-      setReason('');
-      setProblem(null);
-      retire.reset();
-    }
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [open]);
   return (
-    <SignatureDialog
+    <ReasonSignatureDialog
       open={open}
       title={`Retire reference ${code}`}
       meaningText={`retire reference ${code}: it will no longer be used for identity testing; it stays on record`}
@@ -39,17 +27,13 @@ export function RetireReferenceDialog({
       needsUsername={needsUsername}
       confirmLabel="Retire reference"
       busy={retire.isPending}
-      error={problem ?? retire.error}
-      onCancel={onClose}
-      onSign={(signature) => {
-        if (reason.trim().length < 3) return setProblem('Give the reason for retiring this reference.');
-        setProblem(null);
-        retire.mutate({ id: referenceId, signature, reason: reason.trim() }, { onSuccess: onClose });
+      error={retire.error}
+      onCancel={() => {
+        retire.reset();
+        onClose();
       }}
-    >
-      <Field id={`retire-${referenceId}`} label="Reason">
-        <Textarea id={`retire-${referenceId}`} value={reason} onChange={(e) => setReason(e.target.value)} />
-      </Field>
-    </SignatureDialog>
+      reason={{ label: 'Reason', minLength: 3, tooShort: 'Give the reason for retiring this reference.' }}
+      onSign={(signature, reason) => retire.mutate({ id: referenceId, signature, reason }, { onSuccess: onClose })}
+    />
   );
 }

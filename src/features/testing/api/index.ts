@@ -1,7 +1,7 @@
 /** Hooks of receipt, testing and verification (the only place this feature talks to the server). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
-import { invalidateMe } from '../../../lib/query-keys';
+import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from '../../../../server/modules/lots/contract';
 import type {
@@ -45,51 +45,39 @@ export type {
   VerifyOutcome,
   WorkQueue,
 } from '../../../../server/modules/testing/contract';
-/** The signature part of a request body. */
-export type SignatureBody = SignatureInput;
-
-const K = {
-  lots: ['lots'] as const,
-  lot: (id: number) => ['lots', id] as const,
-  receivable: ['lots', 'receivable'] as const,
-  instruments: ['testing', 'instruments'] as const,
-  test: (id: number) => ['tests', id] as const,
-  review: (id: number) => ['tests', id, 'review'] as const,
-  measurement: (id: number) => ['measurements', id] as const,
-  plot: (id: number) => ['measurements', id, 'plot'] as const,
-  queue: ['verification', 'queue'] as const,
-  workQueue: ['work-queue'] as const,
-};
 
 export const useReceivableMaterials = () =>
-  useQuery({ queryKey: K.receivable, queryFn: () => apiFetch<ReceivableMaterial[]>('/api/lots/receivable-materials') });
+  useQuery({
+    queryKey: qk.lots.receivable,
+    queryFn: () => apiFetch<ReceivableMaterial[]>('/api/lots/receivable-materials'),
+  });
 export const useLots = (f: { identityStatus?: string; search?: string } = {}) =>
-  useQuery({ queryKey: [...K.lots, f], queryFn: () => apiFetch<LotSummary[]>('/api/lots', { query: f }) });
+  useQuery({ queryKey: qk.lots.list(f), queryFn: () => apiFetch<LotSummary[]>('/api/lots', { query: f }) });
 export const useLot = (id: number) =>
-  useQuery({ queryKey: K.lot(id), queryFn: () => apiFetch<LotDetail>(`/api/lots/${id}`), enabled: id > 0 });
+  useQuery({ queryKey: qk.lots.one(id), queryFn: () => apiFetch<LotDetail>(`/api/lots/${id}`), enabled: id > 0 });
 export const useTestingInstruments = () =>
-  useQuery({ queryKey: K.instruments, queryFn: () => apiFetch<InstrumentStatus[]>('/api/testing/instruments') });
+  useQuery({ queryKey: qk.tests.instruments, queryFn: () => apiFetch<InstrumentStatus[]>('/api/testing/instruments') });
 export const useTest = (id: number | null) =>
-  useQuery({ queryKey: K.test(id ?? 0), queryFn: () => apiFetch<TestDetail>(`/api/tests/${id}`), enabled: !!id });
+  useQuery({ queryKey: qk.tests.one(id ?? 0), queryFn: () => apiFetch<TestDetail>(`/api/tests/${id}`), enabled: !!id });
 export const useReview = (id: number) =>
-  useQuery({ queryKey: K.review(id), queryFn: () => apiFetch<ReviewData>(`/api/tests/${id}/review`) });
+  useQuery({ queryKey: qk.tests.review(id), queryFn: () => apiFetch<ReviewData>(`/api/tests/${id}/review`) });
 export const useMeasurement = (id: number | null) =>
   useQuery({
-    queryKey: K.measurement(id ?? 0),
+    queryKey: qk.measurements.one(id ?? 0),
     queryFn: () => apiFetch<MeasurementDetail>(`/api/measurements/${id}`),
     enabled: !!id,
   });
 export const useMeasurementPlot = (id: number | null) =>
   useQuery({
-    queryKey: K.plot(id ?? 0),
+    queryKey: qk.measurements.plot(id ?? 0),
     queryFn: () => apiFetch<MeasurementPlotData>(`/api/measurements/${id}/plot`),
     enabled: !!id,
     staleTime: Infinity,
   });
 export const useVerificationQueue = () =>
-  useQuery({ queryKey: K.queue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
+  useQuery({ queryKey: qk.tests.verificationQueue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
 export const useWorkQueue = () =>
-  useQuery({ queryKey: K.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
+  useQuery({ queryKey: qk.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
 
 export const labelsPdfUrl = (lotId: number) => downloadUrl(`/api/lots/${lotId}/labels.pdf`);
 export const rawFileUrl = (measurementId: number) => downloadUrl(`/api/measurements/${measurementId}/file`);
@@ -99,8 +87,8 @@ export function useReceiveLot() {
   return useMutation({
     mutationFn: (body: LotCreate) => apiFetch<LotDetail>('/api/lots', { method: 'POST', body }),
     onSuccess: () => {
-      void qc.invalidateQueries({ queryKey: K.lots });
-      void qc.invalidateQueries({ queryKey: K.workQueue });
+      void qc.invalidateQueries({ queryKey: qk.lots.all });
+      void qc.invalidateQueries({ queryKey: qk.workQueue });
     },
   });
 }
@@ -108,10 +96,10 @@ export function useReceiveLot() {
 function useLotRefresh() {
   const qc = useQueryClient();
   return (lotId: number, testId?: number | null) => {
-    void qc.invalidateQueries({ queryKey: K.lot(lotId) });
-    void qc.invalidateQueries({ queryKey: K.lots });
-    void qc.invalidateQueries({ queryKey: K.workQueue });
-    if (testId) void qc.invalidateQueries({ queryKey: K.test(testId) });
+    void qc.invalidateQueries({ queryKey: qk.lots.one(lotId) });
+    void qc.invalidateQueries({ queryKey: qk.lots.all });
+    void qc.invalidateQueries({ queryKey: qk.workQueue });
+    if (testId) void qc.invalidateQueries({ queryKey: qk.tests.one(testId) });
   };
 }
 
@@ -164,7 +152,7 @@ export function usePerform(lotId: number, testId: number) {
   const qc = useQueryClient();
   const refresh = useLotRefresh();
   return useMutation({
-    mutationFn: (signature: SignatureBody) =>
+    mutationFn: (signature: SignatureInput) =>
       apiFetch<TestDetail>(`/api/tests/${testId}/perform`, { method: 'POST', body: { signature } }),
     onSuccess: () => {
       refresh(lotId, testId);
@@ -176,11 +164,11 @@ export function usePerform(lotId: number, testId: number) {
 function useDecisionRefresh(testId: number) {
   const qc = useQueryClient();
   return () => {
-    void qc.invalidateQueries({ queryKey: ['tests', testId] });
-    void qc.invalidateQueries({ queryKey: K.queue });
-    void qc.invalidateQueries({ queryKey: K.lots });
-    void qc.invalidateQueries({ queryKey: K.workQueue });
-    void qc.invalidateQueries({ queryKey: ['investigations'] });
+    void qc.invalidateQueries({ queryKey: qk.tests.one(testId) });
+    void qc.invalidateQueries({ queryKey: qk.tests.verificationQueue });
+    void qc.invalidateQueries({ queryKey: qk.lots.all });
+    void qc.invalidateQueries({ queryKey: qk.workQueue });
+    void qc.invalidateQueries({ queryKey: qk.investigations.all });
     void invalidateMe(qc);
   };
 }
@@ -188,7 +176,7 @@ function useDecisionRefresh(testId: number) {
 export function useVerify(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
-    mutationFn: (body: { signature: SignatureBody; comment?: string }) =>
+    mutationFn: (body: { signature: SignatureInput; comment?: string }) =>
       apiFetch<VerifyOutcome>(`/api/tests/${testId}/verify`, {
         method: 'POST',
         body,
@@ -200,7 +188,7 @@ export function useVerify(testId: number) {
 export function useReturnTest(testId: number) {
   const done = useDecisionRefresh(testId);
   return useMutation({
-    mutationFn: (body: { signature: SignatureBody; reason: string }) =>
+    mutationFn: (body: { signature: SignatureInput; reason: string }) =>
       apiFetch<TestDetail>(`/api/tests/${testId}/return`, { method: 'POST', body }),
     onSuccess: done,
   });

@@ -7,8 +7,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Textarea } from '../../../components/Field';
-import { SignatureDialog } from '../../../components/SignatureDialog';
+import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
@@ -77,9 +76,6 @@ export function ReviewView({
   const verify = useVerify(t.id);
   const ret = useReturnTest(t.id);
   const [dialog, setDialog] = useState<null | 'verify' | 'return'>(null);
-  const [comment, setComment] = useState('');
-  const [reason, setReason] = useState('');
-  const [reasonError, setReasonError] = useState<string | null>(null);
   const own = t.performedBy?.id === me.id || t.measurerIds.includes(me.id);
   const failing = data.measurements.filter((m) => m.verdict === 'fail');
   const canDecide = me.isVerifier && t.status === 'awaiting-verification' && !own;
@@ -155,7 +151,7 @@ export function ReviewView({
           </div>
         </section>
       )}
-      <SignatureDialog
+      <ReasonSignatureDialog
         open={dialog === 'verify'}
         title="Sign the identity test as verified"
         meaningText={`reviewed the raw spectra, results, instrument check and versions of attempt ${t.attempt} of lot ${t.lot.lotNumber} and confirm they are complete and correct`}
@@ -169,9 +165,10 @@ export function ReviewView({
           setDialog(null);
           verify.reset();
         }}
-        onSign={(credentials) =>
+        reason={{ label: 'Comment (optional)', minLength: 0, tooShort: '' }}
+        onSign={(credentials, comment) =>
           verify.mutate(
-            { signature: credentials, comment: comment.trim() || undefined },
+            { signature: credentials, comment: comment || undefined },
             {
               onSuccess: (r) => {
                 setDialog(null);
@@ -184,12 +181,8 @@ export function ReviewView({
             },
           )
         }
-      >
-        <Field id="verify-comment" label="Comment (optional)">
-          <Textarea id="verify-comment" value={comment} onChange={(e) => setComment(e.target.value)} />
-        </Field>
-      </SignatureDialog>
-      <SignatureDialog
+      />
+      <ReasonSignatureDialog
         open={dialog === 'return'}
         title="Return the test to the operator"
         meaningText={`return attempt ${t.attempt} of lot ${t.lot.lotNumber} to the operator for the reason given`}
@@ -203,24 +196,23 @@ export function ReviewView({
           setDialog(null);
           ret.reset();
         }}
-        onSign={(credentials) => {
-          if (reason.trim().length < 10) return setReasonError('Say why the test goes back (at least 10 characters).');
-          setReasonError(null);
+        reason={{
+          label: 'Reason (required)',
+          minLength: 10,
+          tooShort: 'Say why the test goes back (at least 10 characters).',
+        }}
+        onSign={(credentials, reason) =>
           ret.mutate(
-            { signature: credentials, reason: reason.trim() },
+            { signature: credentials, reason },
             {
               onSuccess: () => {
                 setDialog(null);
                 setOutcome('Returned to the operator; the attempt stays on record.');
               },
             },
-          );
-        }}
-      >
-        <Field id="return-reason" label="Reason (required)" error={reasonError ?? undefined}>
-          <Textarea id="return-reason" value={reason} onChange={(e) => setReason(e.target.value)} />
-        </Field>
-      </SignatureDialog>
+          )
+        }
+      />
       {(verify.isError || ret.isError) && !dialog && <ErrorNote error={verify.error ?? ret.error} />}
     </div>
   );

@@ -1,19 +1,18 @@
 /** Account administration hooks (admin only on the server). */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
+import { qk } from '../../../lib/query-keys';
 import type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
 
 export type { CreateUserInput, UpdateUserInput, UserAccount } from '../../../../server/modules/users/contract';
 
-const USERS_KEY = ['users'] as const;
-
 export function useUsers() {
-  return useQuery({ queryKey: USERS_KEY, queryFn: () => apiFetch<UserAccount[]>('/api/users') });
+  return useQuery({ queryKey: qk.users.all, queryFn: () => apiFetch<UserAccount[]>('/api/users') });
 }
 
 function useUsersMutation<V, R>(fn: (v: V) => Promise<R>) {
   const qc = useQueryClient();
-  return useMutation({ mutationFn: fn, onSuccess: () => qc.invalidateQueries({ queryKey: USERS_KEY }) });
+  return useMutation({ mutationFn: fn, onSuccess: () => qc.invalidateQueries({ queryKey: qk.users.all }) });
 }
 
 export function useCreateUser() {
