@@ -10,6 +10,7 @@ type Bench = (args: string[]) => Promise<{ ok: boolean }>;
 
 const BENCHES: Record<string, Bench> = {
   engine: async () => (await import('./engine')).runEngineBench(),
+  processing: async () => (await import('./processing')).runProcessingBench(),
   audit: async (args) => (await import('./audit')).runAuditBench(args),
   certificate: async () => (await import('./certificate')).runCertificateBench(),
 };

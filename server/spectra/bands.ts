@@ -4,8 +4,16 @@
  * reference in position); the shift is reported. Strong sample bands with no
  * reference counterpart are extra bands. Each band is given its likely
  * group-frequency assignment.
+ *
+ * The tolerance rule (bandToleranceFor): the method's positional tolerance applies to
+ * every band. Only a broad band, full width at half height of at least BROAD_BAND_WIDTH
+ * (the same line that calls a band "broad" in explanations), may shift further: up to
+ * widthTolerance times its width, because the maximum of a broad band is poorly defined.
+ * A sharp band never passes with a shift beyond its positional tolerance. The width is
+ * the reference band's; a band listed by QA without a width counts as sharp.
  */
-import { describeAssignment, shapeOf } from './group-frequencies';
+import { BROAD_BAND_WIDTH, describeAssignment, shapeOf } from './group-frequencies';
+import type { BandIntensity } from './intensity';
 import { type BandTolerance, toleranceAt } from './method';
 import type { Peak } from './peaks';
 
@@ -29,10 +37,20 @@ export interface BandRow {
   shift: number | null;
   /** Allowed |shift| for this band, cm-1. */
   tolerance: number;
+  /** The method's positional tolerance at this band, cm-1 (tolerance is larger only when widened). */
+  positionTolerance: number;
+  /** Full width at half height of the reference band, cm-1, when known. */
+  referenceWidth: number | null;
+  /** True when the tolerance was widened because the reference band is broad. */
+  widened: boolean;
+  /** The rule that set the tolerance, in words, e.g. "0.5 % of the position" or "widened for a broad band, FWHM 262 cm-1". */
+  toleranceRule: string;
   withinTolerance: boolean;
   assignment: string;
   referenceProminence: number | null;
   sampleProminence: number | null;
+  /** Relative-intensity comparison (intensity.ts), present only when the method uses that criterion. */
+  intensity?: BandIntensity;
 }
 
 export interface ExtraBand {
@@ -58,11 +76,43 @@ export interface ConcordanceSettings {
 /** Sample bands up to this many tolerances away are reported (as shifted) in the band table. */
 export const SEARCH_FACTOR = 3;
 
-/** Allowed shift of a band at `position` with full width `width` (cm-1). */
+/** How the tolerance of one band was set (see the rule at the top of this file). */
+export interface BandToleranceRule {
+  /** Allowed |shift|, cm-1. */
+  tolerance: number;
+  /** The method's positional tolerance at the band, cm-1. */
+  positionTolerance: number;
+  widened: boolean;
+  /** The rule in words. */
+  rule: string;
+}
+
+function positionRule(t: BandTolerance): string {
+  return t.mode === 'absolute' ? `${t.cm1} cm-1 at every position` : `${t.percent} % of the position`;
+}
+
+/** The tolerance of a band at `position` with full width at half height `width` (cm-1), and why. */
+export function bandToleranceRule(
+  position: number,
+  width: number | undefined,
+  s: ConcordanceSettings,
+): BandToleranceRule {
+  const positionTolerance = toleranceAt(s.bandTolerance, position);
+  const w = s.widthTolerance;
+  if (width !== undefined && width >= BROAD_BAND_WIDTH && w !== null && w * width > positionTolerance) {
+    return {
+      tolerance: w * width,
+      positionTolerance,
+      widened: true,
+      rule: `widened for a broad band, FWHM ${width.toFixed(0)} cm-1 (${w} x FWHM; ${positionRule(s.bandTolerance)} would allow ${positionTolerance.toFixed(1)} cm-1)`,
+    };
+  }
+  return { tolerance: positionTolerance, positionTolerance, widened: false, rule: positionRule(s.bandTolerance) };
+}
+
+/** Allowed shift of a band at `position` with full width at half height `width` (cm-1). */
 export function bandToleranceFor(position: number, width: number | undefined, s: ConcordanceSettings): number {
-  const base = toleranceAt(s.bandTolerance, position);
-  const byWidth = s.widthTolerance !== null && width !== undefined ? s.widthTolerance * width : 0;
-  return Math.max(base, byWidth);
+  return bandToleranceRule(position, width, s).tolerance;
 }
 
 /** Reference bands from picked peaks: those at least `minProminence` high. */
@@ -85,7 +135,8 @@ export function bandConcordance(
   s: ConcordanceSettings,
 ): BandConcordance {
   const refs = [...referenceBands].sort((a, b) => a.position - b.position);
-  const tol = refs.map((b) => bandToleranceFor(b.position, b.width, s));
+  const rules = refs.map((b) => bandToleranceRule(b.position, b.width, s));
+  const tol = rules.map((r) => r.tolerance);
   const pairs: { r: number; p: number; d: number }[] = [];
   for (let r = 0; r < refs.length; r++) {
     for (let p = 0; p < samplePeaks.length; p++) {
@@ -112,6 +163,10 @@ export function bandConcordance(
       sampleBand: peak ? peak.position : null,
       shift,
       tolerance: tol[r],
+      positionTolerance: rules[r].positionTolerance,
+      referenceWidth: b.width ?? null,
+      widened: rules[r].widened,
+      toleranceRule: rules[r].rule,
       withinTolerance: within,
       assignment: b.assignment ?? describeAssignment(b.position, b.width !== undefined ? shapeOf(b.width) : undefined),
       referenceProminence: b.prominence ?? null,

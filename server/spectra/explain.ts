@@ -23,12 +23,18 @@ function criterionSentence(c: Criterion): string {
       return `Correlation of the first-derivative spectra is ${c.value.toFixed(4)} (at least ${c.limit} required)${ok ? '.' : ': band positions or shapes differ.'}`;
     case 'band-concordance':
       return `${c.value} of ${c.limit} reference bands were found in the sample within tolerance.`;
+    case 'relative-intensity':
+      return `${c.value} of ${c.limit} reference bands have the relative intensity of the reference (as a fraction of the strongest band)${ok ? '.' : ': the relative sizes of the bands differ.'}`;
     case 'extra-bands':
       return ok
         ? 'The sample shows no strong band that the reference lacks.'
         : `The sample shows ${c.value} strong band(s) that the reference lacks.`;
     case 'mahalanobis':
       return `Distance to the reference set is ${c.value.toFixed(2)} standard deviations (at most ${c.limit} allowed)${ok ? '.' : ': the sample lies outside the spread of the approved references.'}`;
+    case 'residual':
+      return `Spectral residual outside the model of the reference set (Q) is ${c.value.toFixed(2)} times its limit derived from the references (at most ${c.limit})${ok ? '.' : ': the sample shows spectral features the approved references do not have.'}`;
+    case 'reference-model':
+      return 'The model of the reference set that the method asks for could not be built, so the sample cannot pass.';
   }
 }
 
@@ -49,10 +55,31 @@ function missingSentences(rows: BandRow[]): string[] {
     .map((r) =>
       r.sampleBand === null || r.shift === null
         ? `Reference band at ${cm(r.referenceBand)} (${r.assignment}) is missing in the sample.`
-        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed.`,
+        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed${r.toleranceRule ? ` (${r.toleranceRule})` : ''}.`,
     );
   if (bad.length > MAX_BAND_SENTENCES)
     out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);
+  return out;
+}
+
+const fraction = (v: number) => v.toFixed(2);
+
+function intensitySentences(rows: BandRow[]): string[] {
+  const bad = rows
+    .filter((r) => r.intensity && r.intensity.verdict === 'fail')
+    .sort((a, b) => Math.abs(b.intensity?.difference ?? 0) - Math.abs(a.intensity?.difference ?? 0));
+  const out = bad.slice(0, MAX_BAND_SENTENCES).map((r) => {
+    const i = r.intensity as NonNullable<BandRow['intensity']>;
+    return (
+      `Band at ${cm(r.referenceBand)} has ${fraction(i.sample as number)} of the strongest band's height in the sample and ` +
+      `${fraction(i.reference)} in the reference (difference ${(i.difference as number) >= 0 ? '+' : ''}${fraction(i.difference as number)}; at most ±${i.tolerance} allowed).`
+    );
+  });
+  if (bad.length > MAX_BAND_SENTENCES)
+    out.push(`${bad.length - MAX_BAND_SENTENCES} further bands differ in relative intensity (see the band table).`);
+  const notCompared = rows.filter((r) => r.intensity?.verdict === 'not-compared');
+  if (notCompared.length && notCompared.length === rows.length)
+    out.push('The strongest reference band was not found in the sample, so no relative intensity could be compared.');
   return out;
 }
 
@@ -79,10 +106,14 @@ export interface ExplainInput {
   best: ReferenceScore | null;
   setCriteria: Criterion[];
   referenceCount: number;
+  /** Why the reference-set model could not be built. */
+  modelProblems?: string[];
+  /** The caller asked to judge references one by one although the method has criteria on the whole set. */
+  setCriteriaLeftOut?: boolean;
 }
 
 export function explain(input: ExplainInput): string[] {
-  const { verdict, quality, best, setCriteria, referenceCount } = input;
+  const { verdict, quality, best, setCriteria, referenceCount, modelProblems = [], setCriteriaLeftOut } = input;
   if (verdict === 'invalid') {
     return [
       'The measurement was refused before any comparison; it is neither a pass nor a fail.',
@@ -113,8 +144,14 @@ export function explain(input: ExplainInput): string[] {
   }
   for (const c of [...best.criteria, ...setCriteria])
     if (verdict === 'pass' || c.verdict === 'fail') lines.push(criterionSentence(c));
+  lines.push(...modelProblems);
+  if (setCriteriaLeftOut)
+    lines.push(
+      'Criteria on the whole reference set (distance, residual) were not evaluated: each reference was judged alone.',
+    );
   if (verdict !== 'pass') {
     lines.push(...missingSentences(best.bands));
+    lines.push(...intensitySentences(best.bands));
     lines.push(...extraSentences(best.extraBands));
   }
   return lines;

@@ -12,7 +12,11 @@ import {
 export { GROUP_FREQUENCIES, GROUP_FREQUENCY_SOURCE };
 export type { BandShape, GroupFrequency };
 
-/** A band at least this wide (full width at half height, cm-1) is called broad. */
+/**
+ * A band at least this wide (full width at half height, cm-1) is called broad, in
+ * explanations and in band concordance: only a broad band's shift tolerance may be
+ * widened by its width (bands.ts).
+ */
 export const BROAD_BAND_WIDTH = 80;
 
 export function shapeOf(widthCm1: number): BandShape {

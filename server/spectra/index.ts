@@ -46,6 +46,7 @@ export { findPeaks, parabolaVertex, type Peak } from './peaks';
 export {
   bandConcordance,
   bandToleranceFor,
+  bandToleranceRule,
   referenceBandsFrom,
   type Band,
   type BandRow,
@@ -60,6 +61,7 @@ export {
   assertValidMethod,
   type ReferenceInput,
   type PreparedReference,
+  type ScoreOptions,
 } from './score';
 export type { IdentityResult, Criterion, CriterionKey, ReferenceScore, DistanceResult } from './result';
 export {
@@ -72,6 +74,7 @@ export {
   type BandShape,
 } from './group-frequencies';
 export { explain, bandMeaning } from './explain';
+export { rankCandidates, CANDIDATE_RULES, type RankedCandidate, type SpectrumBand } from './candidates';
 export {
   checkPolystyrene,
   locateMaximum,
@@ -96,3 +99,13 @@ export {
 export { createDotKernel, type DotKernel } from './dot-kernel';
 export { specificityMatrix, type SpecificityReport, type SpecificityPair, type MaterialSummary } from './specificity';
 export { buildDistanceModel, mahalanobisDistance, type DistanceModel } from './nir';
+export { residualQ, residualLimit, leaveOneOutResiduals, type ResidualLimit } from './residual';
+export { chiSquareQuantile } from './chi-square';
+export {
+  checkReferenceModel,
+  buildReferenceModel,
+  usesReferenceModel,
+  type ReferenceModel,
+  type ReferenceModelCheck,
+} from './reference-model';
+export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';

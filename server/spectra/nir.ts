@@ -64,6 +64,17 @@ export function symmetricEigen(a: Float64Array, n: number): { values: Float64Arr
   return { values, vectors };
 }
 
+/**
+ * Eigenvalues of the centred Gram matrix at or below this count as zero: 1e-12 of the
+ * largest, and never less than 1e-20 of the mean squared norm of the vectors themselves,
+ * so that copies of one spectrum (whose centred values are rounding noise) give no component.
+ */
+export function rankFloor(largest: number, vectors: Float64Array[]): number {
+  let energy = 0;
+  for (const v of vectors) for (let j = 0; j < v.length; j++) energy += v[j] * v[j];
+  return Math.max(largest * 1e-12, (energy / Math.max(1, vectors.length)) * 1e-20);
+}
+
 /** PCA model of the reference vectors (all of one length) with K components. */
 export function buildDistanceModel(vectors: Float64Array[], components: number): DistanceModel {
   const n = vectors.length;
@@ -87,9 +98,10 @@ export function buildDistanceModel(vectors: Float64Array[], components: number):
   const maxK = Math.min(components, n - 1);
   const loadings: Float64Array[] = [];
   const variances: number[] = [];
+  const floor = rankFloor(values[0], vectors);
   for (let k = 0; k < maxK; k++) {
     const lambda = values[k];
-    if (!(lambda > values[0] * 1e-12)) break;
+    if (!(lambda > floor)) break;
     const load = new Float64Array(p);
     for (let i = 0; i < n; i++) {
       const w = u[k][i] / Math.sqrt(lambda);

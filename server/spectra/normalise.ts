@@ -7,6 +7,10 @@
  */
 import type { Normalisation } from './method';
 
+// Kept hand-written, not ml-spectra-processing's xMean / xStandardDeviation / xNorm: those take
+// whole arrays, so the masked points would first be copied out, and `npm run bench -- processing`
+// measured that at 1.9 to 2.3 times this function's time, with identical results.
+
 export function normalise(y: Float64Array, mask: Uint8Array, mode: Normalisation): Float64Array {
   const out = y.slice();
   if (mode === 'none') return out;

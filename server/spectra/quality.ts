@@ -71,7 +71,11 @@ function select(a: Float64Array, k: number): number {
   return a[k];
 }
 
-/** Robust RMS noise of y from its second differences. */
+/**
+ * Robust RMS noise of y from its second differences. The median is the selection above, not
+ * ml-spectra-processing's xMedian: identical result, and `npm run bench -- processing` measured
+ * xMedian (with the copy it makes) at 1.3 to 2.1 times the time of this function.
+ */
 export function estimateNoise(y: ArrayLike<number>): number {
   const n = y.length;
   if (n < 3) return 0;

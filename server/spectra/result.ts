@@ -6,7 +6,14 @@ import type { BandRow, ExtraBand } from './bands';
 import type { QualityReport } from './quality';
 
 export type CriterionKey =
-  'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
+  | 'correlation'
+  | 'derivative-correlation'
+  | 'band-concordance'
+  | 'relative-intensity'
+  | 'extra-bands'
+  | 'mahalanobis'
+  | 'residual'
+  | 'reference-model';
 
 export interface Criterion {
   key: CriterionKey;
@@ -39,6 +46,14 @@ export interface DistanceResult {
   value: number;
   components: number;
   references: number;
+  /** Spectral residual outside the model (Q) and its limit from the reference set, when the method judges it. */
+  residual?: {
+    q: number;
+    limit: number;
+    /** q / limit: the criterion's value (at most 1 passes). */
+    ratio: number;
+    confidence: number;
+  } | null;
 }
 
 export interface IdentityResult {
@@ -56,5 +71,7 @@ export interface IdentityResult {
   bands: BandRow[];
   extraBands: ExtraBand[];
   distance: DistanceResult | null;
+  /** Why the reference-set model the method asks for could not be built (empty when it was, or is not needed). */
+  referenceModelProblems?: string[];
   explanation: string[];
 }

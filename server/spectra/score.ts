@@ -4,9 +4,12 @@
  *
  * Order: quality gate (an invalid measurement gets no verdict), preparation,
  * then per reference: Pearson correlation of the prepared spectra, correlation of
- * first-derivative spectra (when the method asks), band concordance and extra
- * bands; on the whole set: Mahalanobis distance (when the method asks and enough
- * references exist). The verdict is pass only if every criterion passes against
+ * first-derivative spectra (when the method asks), band concordance, relative band
+ * intensity (when the method asks) and extra bands; on the whole set (when the
+ * method asks): Mahalanobis distance and spectral residual (Q) against the model of
+ * the reference set, or, when that model cannot be built, a failing
+ * "reference-model" criterion with the reasons (reference-model.ts): a criterion is
+ * never dropped silently. The verdict is pass only if every criterion passes against
  * at least one reference (and every set criterion passes). Pure and
  * deterministic: same inputs, same result.
  */
@@ -14,10 +17,13 @@ import { type Band, bandConcordance, referenceBandsFrom } from './bands';
 import { centredUnit, dot } from './correlation';
 import { SpectrumError } from './errors';
 import { explain } from './explain';
+import { compareIntensities } from './intensity';
 import { type IdentityMethod, preparationKey, validateMethod } from './method';
-import { buildDistanceModel, mahalanobisDistance } from './nir';
+import { mahalanobisDistance } from './nir';
 import { type PreparedSpectrum, prepare } from './preprocess';
 import { checkQuality } from './quality';
+import { buildReferenceModel, usesReferenceModel } from './reference-model';
+import { residualQ } from './residual';
 import type { Criterion, DistanceResult, IdentityResult, ReferenceScore } from './result';
 import type { Spectrum } from './types';
 import { ENGINE_VERSION } from './version';
@@ -140,6 +146,21 @@ export function scoreReference(
     criteria.push(
       criterion('band-concordance', 'Reference bands found within tolerance', c.matched, c.rows.length, '>=', ref.id),
     );
+    const rit = method.relativeIntensityTolerance ?? null;
+    if (rit !== null) {
+      const cmp = compareIntensities(c.rows, ref.prepared, sample, rit);
+      bands = c.rows.map((row, i) => ({ ...row, intensity: cmp.intensities[i] }));
+      criteria.push(
+        criterion(
+          'relative-intensity',
+          'Reference bands with the relative intensity of the reference',
+          cmp.agreeing,
+          c.rows.length,
+          '>=',
+          ref.id,
+        ),
+      );
+    }
     if (method.maxExtraBandProminence !== null) {
       criteria.push(
         criterion(
@@ -181,6 +202,15 @@ function pickBest(scores: ReferenceScore[]): ReferenceScore {
   return best;
 }
 
+export interface ScoreOptions {
+  /**
+   * false: judge each reference alone and leave out the criteria on the whole reference
+   * set (Mahalanobis distance, residual), for comparisons with single references such as
+   * the specificity gate. The result then says so in its explanation. Default true.
+   */
+  referenceSetCriteria?: boolean;
+}
+
 /**
  * Scores a sample spectrum against a reference set. References may be given raw
  * (prepared here) or prepared beforehand with prepareReference for the same method.
@@ -189,6 +219,7 @@ export function scoreAgainst(
   sample: Spectrum,
   references: Array<ReferenceInput | PreparedReference>,
   method: IdentityMethod,
+  options: ScoreOptions = {},
 ): IdentityResult {
   assertValidMethod(method);
   if (references.length === 0) {
@@ -224,24 +255,35 @@ export function scoreAgainst(
 
   const setCriteria: Criterion[] = [];
   let distance: DistanceResult | null = null;
-  const dm = method.distanceModel;
-  if (method.thresholds.maxMahalanobis !== null && dm && refs.length >= dm.minReferences) {
-    const model = buildDistanceModel(
+  let modelProblems: string[] = [];
+  const judgeSet = options.referenceSetCriteria !== false && usesReferenceModel(method);
+  if (judgeSet) {
+    const t = method.thresholds;
+    const built = buildReferenceModel(
       refs.map((r) => r.prepared.y),
-      dm.components,
+      method,
     );
-    const value = mahalanobisDistance(model, prepared.y);
-    distance = { value, components: model.loadings.length, references: refs.length };
-    setCriteria.push(
-      criterion(
-        'mahalanobis',
-        'Mahalanobis distance to the reference set',
-        value,
-        method.thresholds.maxMahalanobis,
-        '<=',
-        null,
-      ),
-    );
+    if (!built.ok) {
+      modelProblems = built.problems;
+      setCriteria.push(criterion('reference-model', 'Model of the reference set could be built', 0, 1, '>=', null));
+    } else {
+      const { model, residual } = built.model;
+      const value = mahalanobisDistance(model, prepared.y);
+      distance = { value, components: model.loadings.length, references: refs.length, residual: null };
+      if (t.maxMahalanobis !== null) {
+        setCriteria.push(
+          criterion('mahalanobis', 'Mahalanobis distance to the reference set', value, t.maxMahalanobis, '<=', null),
+        );
+      }
+      if (residual) {
+        const q = residualQ(model, prepared.y);
+        const ratio = q / residual.limit;
+        distance.residual = { q, limit: residual.limit, ratio, confidence: residual.confidence };
+        setCriteria.push(
+          criterion('residual', 'Spectral residual outside the reference model (Q / limit)', ratio, 1, '<=', null),
+        );
+      }
+    }
   }
   const best = pickBest(scores);
   const setOk = setCriteria.every((c) => c.verdict === 'pass');
@@ -256,6 +298,15 @@ export function scoreAgainst(
     bands: best.bands,
     extraBands: best.extraBands,
     distance,
-    explanation: explain({ verdict, quality, best, setCriteria, referenceCount: refs.length }),
+    ...(modelProblems.length ? { referenceModelProblems: modelProblems } : {}),
+    explanation: explain({
+      verdict,
+      quality,
+      best,
+      setCriteria,
+      referenceCount: refs.length,
+      modelProblems,
+      setCriteriaLeftOut: options.referenceSetCriteria === false && usesReferenceModel(method),
+    }),
   };
 }

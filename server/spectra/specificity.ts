@@ -9,10 +9,18 @@
  * between the two, with margin; ../shared/domain-facts.md section 2).
  * Cost grows with the square of the library size: meant for a material's
  * reference set and its look-alikes, not for a whole 10,000-entry library.
+ *
+ * Criteria on the whole reference set (Mahalanobis distance, residual) count only where
+ * the material's model can be built (reference-model.ts). Where it cannot, the pair is
+ * judged on the per-reference criteria alone, as if the set criteria passed: a material
+ * is never called discriminated by a criterion that could not be evaluated. The material
+ * summary says why the model is missing.
  */
 import type { Library } from './library';
 import type { IdentityMethod } from './method';
-import { buildDistanceModel, type DistanceModel, mahalanobisDistance } from './nir';
+import { mahalanobisDistance } from './nir';
+import { buildReferenceModel, type ReferenceModel, usesReferenceModel } from './reference-model';
+import { residualQ } from './residual';
 import { type PreparedReference, scoreReference } from './score';
 import { ENGINE_VERSION } from './version';
 
@@ -25,6 +33,8 @@ export interface SpecificityPair {
   maxDerivativeCorrelation: number | null;
   /** Smallest Mahalanobis distance of a challenger to the set, when the method uses it. */
   minDistance: number | null;
+  /** Smallest residual of a challenger as a fraction of the set's residual limit (above 1 fails), when the method uses it. */
+  minResidualRatio: number | null;
   /** Challenger spectra that would pass as materialId. */
   passing: string[];
   discriminated: boolean;
@@ -43,6 +53,8 @@ export interface MaterialSummary {
   withinMargin: number | null;
   nearestMaterialId: string | null;
   highestOtherCorrelation: number | null;
+  /** Why the reference-set model the method asks for could not be built for this material (empty when built or not needed). */
+  referenceModelProblems: string[];
 }
 
 export interface SpecificityReport {
@@ -81,19 +93,19 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
   });
   const materials = [...byMaterial.keys()];
   const t = method.thresholds;
-  const dm = method.distanceModel;
-  const models = new Map<string, DistanceModel | null>();
+  const models = new Map<string, ReferenceModel | null>();
+  const modelProblems = new Map<string, string[]>();
   for (const [m, refs] of byMaterial) {
-    const use = t.maxMahalanobis !== null && dm !== null && refs.length >= dm.minReferences;
-    models.set(
-      m,
-      use && dm
-        ? buildDistanceModel(
-            refs.map((r) => r.prepared.y),
-            dm.components,
-          )
-        : null,
+    if (!usesReferenceModel(method)) {
+      models.set(m, null);
+      continue;
+    }
+    const built = buildReferenceModel(
+      refs.map((r) => r.prepared.y),
+      method,
     );
+    models.set(m, built.ok ? built.model : null);
+    if (!built.ok) modelProblems.set(m, built.problems);
   }
 
   const pairs: SpecificityPair[] = [];
@@ -105,6 +117,7 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
       let maxR = -1;
       let maxRd: number | null = null;
       let minD: number | null = null;
+      let minQ: number | null = null;
       const passing: string[] = [];
       for (const challenger of byMaterial.get(b) ?? []) {
         const scores = set.map((ref) =>
@@ -116,9 +129,14 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
         }
         let setOk = true;
         if (model && t.maxMahalanobis !== null) {
-          const d = mahalanobisDistance(model, challenger.prepared.y);
+          const d = mahalanobisDistance(model.model, challenger.prepared.y);
           minD = minD === null ? d : Math.min(minD, d);
           setOk = d <= t.maxMahalanobis;
+        }
+        if (model?.residual) {
+          const q = residualQ(model.model, challenger.prepared.y) / model.residual.limit;
+          minQ = minQ === null ? q : Math.min(minQ, q);
+          setOk &&= q <= 1;
         }
         if (setOk && scores.some((s) => s.verdict === 'pass')) passing.push(challenger.id);
       }
@@ -128,6 +146,7 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
         maxCorrelation: maxR,
         maxDerivativeCorrelation: maxRd,
         minDistance: minD,
+        minResidualRatio: minQ,
         passing,
         discriminated: passing.length === 0,
         correlationMargin: t.minCorrelation - maxR,
@@ -195,6 +214,7 @@ export function specificityMatrix(library: Library, method: IdentityMethod = lib
       withinMargin: low === null ? null : low - t.minCorrelation,
       nearestMaterialId: nearest,
       highestOtherCorrelation: high,
+      referenceModelProblems: modelProblems.get(m) ?? [],
     };
   });
 

@@ -202,6 +202,45 @@ describe('identity methods are versioned; an approved version is immutable', () 
     expect((await db()('identity_method').where({ id: draft.body.id }).first()).status).toBe('draft');
   });
 
+  it('a draft keeps the relative-intensity tolerance and the residual confidence; out-of-range values store nothing', async () => {
+    const m = await createMaterial(qa1.agent, 'Intensity criteria fibre');
+    const id = m.draftMethodId;
+    const p = (await qa1.agent.get(`/api/methods/${id}`)).body.params;
+    // Methods stored before engine 2.0.0 have neither field: both criteria are off.
+    expect(p.relativeIntensityTolerance ?? null).toBeNull();
+    expect(p.thresholds.residualConfidence ?? null).toBeNull();
+    const ok = await qa1.agent.patch(`/api/methods/${id}`).send({
+      params: {
+        ...p,
+        relativeIntensityTolerance: 0.15,
+        thresholds: { ...p.thresholds, residualConfidence: 0.99 },
+        distanceModel: { components: 3, minReferences: 6 },
+      },
+      reason: 'compare relative band sizes (Ph. Eur. 2.2.24)',
+    });
+    expect(ok.status, JSON.stringify(ok.body)).toBe(200);
+    expect(ok.body.params.relativeIntensityTolerance).toBe(0.15);
+    expect(ok.body.params.thresholds.residualConfidence).toBe(0.99);
+    const stored = await db()('identity_method').where({ id }).first();
+    for (const [bad, sentence] of [
+      [{ ...p, relativeIntensityTolerance: 1.5 }, /relativeIntensityTolerance/],
+      [
+        { ...p, relativeIntensityTolerance: 0.1, peakProminence: null, maxExtraBandProminence: null },
+        /needs peakProminence/,
+      ],
+      [
+        { ...p, thresholds: { ...p.thresholds, residualConfidence: 0.99 }, distanceModel: null },
+        /needs a distanceModel/,
+      ],
+      [{ ...p, thresholds: { ...p.thresholds, residualConfidence: 1 } }, /residualConfidence/],
+    ] as const) {
+      const res = await qa1.agent.patch(`/api/methods/${id}`).send({ params: bad, reason: 'try' });
+      expect(res.status).toBe(400);
+      expect(JSON.stringify(res.body.error)).toMatch(sentence);
+    }
+    expect((await db()('identity_method').where({ id }).first()).params).toBe(stored.params);
+  });
+
   it('POST new-version creates a draft from an approved version', async () => {
     const m = await createMaterial(qa1.agent, 'Magnesium stearate');
     await approveMethod(qa2.agent, qa2.user, m.draftMethodId);

@@ -2,10 +2,15 @@ import { describe, expect, it } from 'vitest';
 import {
   bandConcordance,
   bandToleranceFor,
+  bandToleranceRule,
   type ConcordanceSettings,
   referenceBandsFrom,
 } from '../../server/spectra/bands';
+import { BROAD_BAND_WIDTH } from '../../server/spectra/group-frequencies';
+import { defaultMidIrAtrMethod } from '../../server/spectra/method';
 import type { Peak } from '../../server/spectra/peaks';
+import { scoreAgainst } from '../../server/spectra/score';
+import { ESTER_BANDS, syntheticSpectrum } from './spectra-analysis-data';
 
 const peak = (position: number, prominence = 0.5, width = 15): Peak => ({
   position,
@@ -26,6 +31,67 @@ describe('band concordance', () => {
     expect(bandToleranceFor(3330, 260, settings)).toBeCloseTo(65, 12);
     expect(bandToleranceFor(3330, 260, { ...settings, widthTolerance: null })).toBeCloseTo(16.65, 12);
     expect(bandToleranceFor(1600, undefined, { ...settings, bandTolerance: { mode: 'absolute', cm1: 4 } })).toBe(4);
+  });
+
+  it('a sharp band is never widened: below BROAD_BAND_WIDTH (80 cm-1) only the positional tolerance applies', () => {
+    // 0.5 % of 1000 cm-1 = 5 cm-1 (Ph. Eur. 2.2.24 read as 0.5 % of the position, ../shared/domain-facts.md 1.1).
+    expect(BROAD_BAND_WIDTH).toBe(80);
+    for (const width of [5, 15, 40, 79.9, undefined]) {
+      const rule = bandToleranceRule(1000, width, settings);
+      expect(rule.tolerance).toBeCloseTo(5, 12);
+      expect(rule.widened).toBe(false);
+      expect(rule.rule).toBe('0.5 % of the position');
+    }
+    // From 80 cm-1 on the band is broad: a quarter of its width, 20 cm-1, beats the positional 5 cm-1.
+    const broad = bandToleranceRule(1000, 80, settings);
+    expect(broad).toMatchObject({ tolerance: 20, positionTolerance: 5, widened: true });
+    expect(broad.rule).toBe(
+      'widened for a broad band, FWHM 80 cm-1 (0.25 x FWHM; 0.5 % of the position would allow 5.0 cm-1)',
+    );
+    // A broad band whose width allows less than the positional tolerance keeps the positional tolerance.
+    expect(bandToleranceRule(3000, 100, { ...settings, bandTolerance: { mode: 'absolute', cm1: 30 } })).toMatchObject({
+      tolerance: 30,
+      widened: false,
+    });
+    expect(bandToleranceRule(1600, 200, { ...settings, bandTolerance: { mode: 'absolute', cm1: 4 } }).rule).toMatch(
+      /^widened for a broad band, FWHM 200 cm-1 \(0\.25 x FWHM; 4 cm-1 at every position would allow 4\.0 cm-1\)$/,
+    );
+  });
+
+  it('a sharp band shifted beyond its positional tolerance fails, whatever its width below 80 cm-1', () => {
+    for (const width of [12, 40, 60, 79]) {
+      const ref = [peak(1000, 0.5, width)];
+      // 7 cm-1 is beyond +-5 cm-1; the old width rule (a quarter of the width) would have allowed up to 19.75 cm-1.
+      const c = bandConcordance(referenceBandsFrom(ref, 0.1), ref, [peak(1007, 0.5, width)], settings);
+      expect(c.rows[0]).toMatchObject({
+        sampleBand: 1007,
+        withinTolerance: false,
+        widened: false,
+        referenceWidth: width,
+      });
+      expect(c.rows[0].tolerance).toBeCloseTo(5, 12);
+      expect(c.matched).toBe(0);
+    }
+    // The same shift on a broad band (FWHM 100 cm-1: +-25 cm-1) passes and says why.
+    const broadRef = [peak(1000, 0.5, 100)];
+    const ok = bandConcordance(referenceBandsFrom(broadRef, 0.1), broadRef, [peak(1007, 0.5, 100)], settings);
+    expect(ok.rows[0]).toMatchObject({ withinTolerance: true, widened: true, tolerance: 25 });
+    expect(ok.rows[0].toleranceRule).toMatch(/^widened for a broad band, FWHM 100 cm-1/);
+  });
+
+  it('scoring: a sharp ester band moved 8.5 cm-1 (beyond +-6.2 cm-1 at 1240 cm-1) fails band concordance', () => {
+    // ESTER_BANDS: the C-O stretch at 1240 cm-1 is 40 cm-1 wide, a sharp band; a quarter of its width would be 10 cm-1.
+    const ref = syntheticSpectrum(ESTER_BANDS);
+    const moved = syntheticSpectrum(ESTER_BANDS.map((b) => (b.at === 1240 ? { ...b, at: 1248.5 } : b)));
+    const r = scoreAgainst(moved, [{ id: 'ester', spectrum: ref }], defaultMidIrAtrMethod);
+    const row = r.bands.find((b) => Math.abs(b.referenceBand - 1240) < 2)!;
+    expect(row.withinTolerance).toBe(false);
+    expect(row.widened).toBe(false);
+    expect(row.tolerance).toBeCloseTo(6.2, 1);
+    expect(row.shift!).toBeGreaterThan(8);
+    expect(r.criteria.find((c) => c.key === 'band-concordance')?.verdict).toBe('fail');
+    expect(r.verdict).toBe('fail');
+    expect(r.explanation.join(' ')).toMatch(/at most ±6\.2 cm-1 is allowed \(0\.5 % of the position\)/);
   });
 
   it('matches each reference band to a sample band within tolerance and reports the shift', () => {

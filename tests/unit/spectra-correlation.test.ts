@@ -1,4 +1,5 @@
 import { corr } from 'mathjs';
+import { xCorrelation } from 'ml-spectra-processing';
 import { describe, expect, it } from 'vitest';
 import { centredUnit, dot, pearson } from '../../server/spectra/correlation';
 import { gaussian, seededRandom } from './spectra-analysis-data';
@@ -22,6 +23,16 @@ describe('Pearson correlation', () => {
     for (const [x, y] of ANSCOMBE) expect(Math.abs(pearson(x, y) - 0.816)).toBeLessThan(0.001);
     const r = ANSCOMBE.map(([x, y]) => pearson(x, y));
     expect(Math.max(...r) - Math.min(...r)).toBeLessThan(0.0005);
+  });
+
+  it("stays exact far from zero, where ml-spectra-processing's one-pass xCorrelation cancels (why the engine keeps its own)", () => {
+    // Anscombe's first set shifted by 1e7: r is unchanged by a shift (Pearson is location-invariant).
+    const [x, y] = ANSCOMBE[0];
+    const shift = (v: number[]) => v.map((a) => a + 1e7);
+    expect(pearson(shift(x), shift(y))).toBeCloseTo(pearson(x, y), 9);
+    expect(xCorrelation(x, y)).toBeCloseTo(pearson(x, y), 12);
+    const far = xCorrelation(shift(x), shift(y));
+    expect(Number.isNaN(far) || Math.abs(far - pearson(x, y)) > 1e-3).toBe(true);
   });
 
   it('agrees with mathjs corr to 1e-12 on random vectors (independent implementation)', () => {

@@ -40,6 +40,10 @@ describe('group-frequency assignment', () => {
       'c-o',
       'no2-asym',
       'no2-sym',
+      'coo-asym',
+      'coo-sym',
+      'amide-3',
+      'ch2-rock',
       'fingerprint',
     ]) {
       expect(ids).toContain(id);

@@ -86,7 +86,15 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
     expect(r.quality.problems.map((p) => p.code)).toEqual(['TOO_WEAK']);
   });
 
-  it('repeat scans of one sample pass against each other (except the too-weak scan and the cotton-cord mix-up)', () => {
+  it('repeat scans of one sample pass against each other (except the too-weak scan, the cotton-cord mix-up and the wool amide II band)', () => {
+    // Engine 2.0.0 widens the shift tolerance for broad bands only (FWHM >= 80 cm-1, bands.ts). The amide II
+    // band of the Coopworth wool is 56-58 cm-1 wide, a sharp band, and its maximum sits at 1528.7 cm-1 in r1
+    // and 1517.9 cm-1 in r2: 10.8 cm-1 apart, beyond the +-7.6 cm-1 of 0.5 % of the position. Engine 1.0.0
+    // passed the pair because a quarter of the width (14 cm-1) was allowed for every band.
+    const SHARP_BAND_SHIFT = new Set([
+      'wool_Coopworth_s11.3_r1 > wool_Coopworth_s11.3_r2',
+      'wool_Coopworth_s11.3_r2 > wool_Coopworth_s11.3_r1',
+    ]);
     const groups = new Map<string, string[]>();
     for (const f of FIBRES.filter((f) => /_r\d\.csv$/.test(f) && f !== WEAK && f !== MIXUP)) {
       groups.set(sampleOf(f), [...(groups.get(sampleOf(f)) ?? []), f]);
@@ -97,8 +105,19 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
         for (const b of files) {
           if (a === b) continue;
           const r = verdict(a, [b]);
-          expect(r.verdict, `${stem(a)} against ${stem(b)}: ${r.explanation.join(' ')}`).toBe('pass');
           pairs++;
+          if (SHARP_BAND_SHIFT.has(`${stem(a)} > ${stem(b)}`)) {
+            expect(r.verdict).toBe('fail');
+            expect(r.criteria.filter((c) => c.verdict === 'fail').map((c) => c.key)).toContain('band-concordance');
+            const row = r.bands.find((x) => !x.withinTolerance)!;
+            expect(row.referenceBand).toBeGreaterThan(1510);
+            expect(row.referenceBand).toBeLessThan(1535);
+            expect(row.referenceWidth!).toBeLessThan(80);
+            expect(Math.abs(row.shift!)).toBeCloseTo(10.8, 1);
+            expect(row.widened).toBe(false);
+            continue;
+          }
+          expect(r.verdict, `${stem(a)} against ${stem(b)}: ${r.explanation.join(' ')}`).toBe('pass');
         }
       }
     }
@@ -113,7 +132,9 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
     //  - para-aramid: two commercial products (correlation 0.83);
     //  - polyester-PET: lot s135 differs from s141/s144 (band near 723 cm-1 shifted by 4 cm-1, extra bands
     //    near 957 cm-1, band near 1340 cm-1 missing: a different crystallinity or product);
-    //  - wool: the Lincoln sample carries extra CH2 bands (grease) and differs from the others;
+    //  - wool: the Lincoln sample carries extra CH2 bands (grease) and differs from the others; the Coopworth and
+    //    worsted samples differ in the amide II maximum and a band near 1043 cm-1 (sharp bands, 57 and 75 cm-1
+    //    wide, whose tolerance engine 1.0.0 widened to a quarter of the width; since 2.0.0 only broad bands are);
     //  - polypropylene: s125 against s123 only: its band near 1167 cm-1 is not found within tolerance.
     const EXPECTED_FAILING = new Set([
       'acrylic_PAN-MA_s005 > acrylic_PAN-MA_s010',
@@ -131,8 +152,10 @@ describe('identity on real ATR-FTIR spectra, default method', () => {
       'polyester-PET_s141 > polyester-PET_s135',
       'polyester-PET_s144 > polyester-PET_s135',
       'wool_Coopworth_s11.3 > wool_Lincoln_s12.3',
+      'wool_Coopworth_s11.3 > wool_worsted-white_s0',
       'wool_Lincoln_s12.3 > wool_Coopworth_s11.3',
       'wool_Lincoln_s12.3 > wool_worsted-white_s0',
+      'wool_worsted-white_s0 > wool_Coopworth_s11.3',
       'wool_worsted-white_s0 > wool_Lincoln_s12.3',
       'polypropylene_s125 > polypropylene_s123',
     ]);

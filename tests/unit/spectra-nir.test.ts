@@ -73,12 +73,23 @@ describe('NIR identity on the polyolefin pellets', () => {
     for (const f of files) expect(checkQuality(loadReference(f), N).ok, f).toBe(true);
   });
 
-  it('each replicate passes against the other six replicates of its sample, Mahalanobis distance included', () => {
+  it('each replicate passes against the other six of its sample, distance and residual included, except HDPE replicate 7 on the residual', () => {
+    // Engine 2.0.0 adds the residual (Q) to the default NIR method. Replicate 7 of every sample was recorded to
+    // 9999 cm-1 only (README of the data), apparently another session; for the HDPE pellets its residual outside
+    // the model of replicates 1-6 is 3.0 times the limit those six give (spread over 6000-9000 cm-1), while its
+    // Mahalanobis distance in the model plane is 0.7. A reference set of one session is narrower than a second one.
     for (const f of files) {
       const r = scoreAgainst(loadReference(f), setOf(sampleOf(f), f), N);
       expect(r.distance?.references).toBe(6);
-      expect(r.criteria.map((c) => c.key)).toEqual(['correlation', 'mahalanobis']);
+      expect(r.criteria.map((c) => c.key)).toEqual(['correlation', 'mahalanobis', 'residual']);
+      if (stem(f) === 'HDPE_NIST-SRM1474_N1474PE_r7') {
+        expect(r.criteria.filter((c) => c.verdict === 'fail').map((c) => c.key)).toEqual(['residual']);
+        expect(r.distance!.residual!.ratio).toBeGreaterThan(2.5);
+        expect(r.distance!.residual!.ratio).toBeLessThan(3.5);
+        continue;
+      }
       expect(r.verdict, `${stem(f)}: ${r.explanation.join(' ')}`).toBe('pass');
+      expect(r.distance!.residual!.ratio).toBeLessThan(1);
     }
   });
 
@@ -92,19 +103,21 @@ describe('NIR identity on the polyolefin pellets', () => {
     }
   });
 
-  it('the two polypropylenes (two sources, one polymer): replicates that fail, fail only on the distance', () => {
-    // Report: a distance model of 7 pellets from one source is narrower than the difference between
-    // sources; an NIR reference set should hold several lots (Ph. Eur. 2.2.40, from memory).
+  it('the two polypropylenes (two sources, one polymer) fail only on the set criteria, every one on the residual', () => {
+    // Report: a model of 7 pellets from one source is narrower than the difference between sources; an NIR
+    // reference set should hold several lots (Ph. Eur. 2.2.40, from memory). Engine 1.0.0 (distance only)
+    // failed 3 of the 7; with the residual all 7 fail (1.4 to 3.6 times the limit), none on correlation.
     let failing = 0;
     for (const f of files.filter((f) => sampleOf(f) === 'PP_supplier1_S0011PP')) {
       const r = scoreAgainst(loadReference(f), setOf('PP_HPU-kit_H0009PP'), N);
       if (r.verdict === 'fail') {
         failing++;
-        expect(r.criteria.filter((c) => c.verdict === 'fail').map((c) => c.key)).toEqual(['mahalanobis']);
+        const keys = r.criteria.filter((c) => c.verdict === 'fail').map((c) => c.key);
+        expect(keys).toContain('residual');
+        expect(keys.every((k) => k === 'mahalanobis' || k === 'residual')).toBe(true);
       }
     }
-    expect(failing).toBeGreaterThan(0);
-    expect(failing).toBeLessThan(7);
+    expect(failing).toBe(7);
   });
 
   it('HDPE / LDPE / LLDPE (near neighbours) either fail or are reported as not discriminated', () => {
@@ -122,18 +135,23 @@ describe('NIR identity on the polyolefin pellets', () => {
         if (direct) expect(listed).toBe(true);
       }
     }
-    // What the default NIR method achieves: HDPE vs LLDPE is told apart (by the distance only; correlation > 0.94),
-    // HDPE vs LDPE and LDPE vs LLDPE are not.
-    expect(report.notDiscriminated.map((p) => [...p].sort().join(' / ')).sort()).toEqual([
-      'HDPE_NIST-SRM1474_N1474PE / LDPE_NIST-SRM1476_N1476LDPE',
-      'LDPE_NIST-SRM1476_N1476LDPE / LLDPE_HPU-kit_H0004LLDPE',
-      'PP_HPU-kit_H0009PP / PP_supplier1_S0011PP',
-    ]);
-    const hl = report.pairs.find(
-      (x) => x.materialId === 'HDPE_NIST-SRM1474_N1474PE' && x.challengerMaterialId === 'LLDPE_HPU-kit_H0004LLDPE',
-    )!;
+    // What the default NIR method achieves: engine 1.0.0 (distance only) told HDPE from LLDPE and left HDPE / LDPE,
+    // LDPE / LLDPE and the two polypropylenes not discriminated. With the residual every pair is told apart; LDPE's
+    // set tells HDPE pellets apart by the residual alone (distance 0.6, residual 18 times the limit), and the two
+    // polypropylene sources are told apart by it too (the single-lot caveat above).
+    expect(report.notDiscriminated).toEqual([]);
+    const pair = (a: string, b: string) =>
+      report.pairs.find((x) => x.materialId === a && x.challengerMaterialId === b)!;
+    const hl = pair('HDPE_NIST-SRM1474_N1474PE', 'LLDPE_HPU-kit_H0004LLDPE');
     expect(hl.correlationMargin).toBeLessThan(0);
     expect(hl.minDistance as number).toBeGreaterThan(3);
+    const lh = pair('LDPE_NIST-SRM1476_N1476LDPE', 'HDPE_NIST-SRM1474_N1474PE');
+    expect(lh.correlationMargin).toBeLessThan(0);
+    expect(lh.minDistance as number).toBeLessThan(3);
+    expect(lh.minResidualRatio as number).toBeGreaterThan(10);
+    const pp = pair('PP_supplier1_S0011PP', 'PP_HPU-kit_H0009PP');
+    expect(pp.minDistance as number).toBeLessThan(3);
+    expect(pp.minResidualRatio as number).toBeGreaterThan(1);
     console.info(
       `NIR: smallest correlation margin ${report.minMargin?.value.toFixed(4)} (${report.minMargin?.materialId} vs ${report.minMargin?.challengerMaterialId})`,
     );

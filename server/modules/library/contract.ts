@@ -18,6 +18,13 @@ export const TECHNIQUE_LABELS: Record<(typeof TECHNIQUES)[number], string> = {
   nir: 'Near-IR',
 };
 
+/**
+ * Tolerance offered when QA switches the relative band intensity criterion on (a fraction of the
+ * strongest band); the engine's DEFAULT_RELATIVE_INTENSITY_TOLERANCE, repeated here so the client
+ * does not load the engine (tests/unit/spectra-intensity.test.ts keeps the two equal).
+ */
+export const SUGGESTED_RELATIVE_INTENSITY_TOLERANCE = 0.15;
+
 const wn = z.number().finite().positive();
 const range = z.object({ from: wn, to: wn }).refine((r) => r.from < r.to, { message: 'from must be below to (cm-1).' });
 const fraction = z.number().finite().gt(0).lte(1);
@@ -39,6 +46,8 @@ export const identityMethodSchema = z.object({
     minCorrelation: correlationLimit,
     minDerivativeCorrelation: correlationLimit.nullable(),
     maxMahalanobis: z.number().finite().positive().nullable(),
+    /** Confidence of the residual (Q) limit derived from the references; absent in methods stored before engine 2.0.0. */
+    residualConfidence: z.number().finite().min(0.5).max(0.9999).nullable().optional(),
   }),
   bandTolerance: z.discriminatedUnion('mode', [
     z.object({ mode: z.literal('absolute'), cm1: z.number().finite().gt(0).lte(100) }),
@@ -47,6 +56,8 @@ export const identityMethodSchema = z.object({
   widthTolerance: fraction.nullable(),
   peakProminence: fraction.nullable(),
   maxExtraBandProminence: fraction.nullable(),
+  /** Relative band intensity tolerance (fraction of the strongest band); absent in methods stored before engine 2.0.0. */
+  relativeIntensityTolerance: fraction.nullable().optional(),
   quality: z.object({
     minMaxAbsorbance: z.number().finite().min(0),
     maxAbsorbance: z.number().finite().positive(),

@@ -42,7 +42,9 @@ import type {
 import * as repo from './repo';
 
 function direction(sample: Spectrum, refs: PreparedReference[], method: IdentityMethod): DirectionScore {
-  const r = scoreAgainst(sample, refs, method);
+  // One reference on each side: criteria on the whole reference set (NIR distance, residual) cannot apply, so
+  // they are left out explicitly and the pair is judged on the per-reference criteria.
+  const r = scoreAgainst(sample, refs, method, { referenceSetCriteria: false });
   if (r.verdict === 'invalid')
     return { verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
   const best = r.references.find((x) => x.referenceId === r.bestReferenceId) ?? r.references[0];
@@ -186,6 +188,11 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
             rowSet.method.params,
           );
           if (res.verdict === 'invalid') continue;
+          // The row's reference-set model (NIR) cannot be built: the pair cannot be judged, which is not "distinct".
+          if (res.referenceModelProblems?.length) {
+            notComparable = true;
+            continue;
+          }
           scored++;
           if (res.verdict === 'pass') passing++;
           const c = Math.max(...res.references.map((x) => x.correlation));

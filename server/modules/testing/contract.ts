@@ -142,7 +142,15 @@ export interface TestDetail {
 
 /** One criterion of an identity result, with value, limit and verdict. */
 export interface Criterion {
-  key: 'correlation' | 'derivative-correlation' | 'band-concordance' | 'extra-bands' | 'mahalanobis';
+  key:
+    | 'correlation'
+    | 'derivative-correlation'
+    | 'band-concordance'
+    | 'relative-intensity'
+    | 'extra-bands'
+    | 'mahalanobis'
+    | 'residual'
+    | 'reference-model';
   /** Plain-words name, e.g. "Correlation with the reference". */
   name: string;
   value: number;
@@ -161,10 +169,26 @@ export interface BandRow {
   shift: number | null;
   /** Allowed |shift| for this band, cm-1. */
   tolerance: number;
+  /** Since engine 2.0.0: the method's positional tolerance at this band, cm-1. */
+  positionTolerance?: number;
+  /** Since engine 2.0.0: full width at half height of the reference band, cm-1, when known. */
+  referenceWidth?: number | null;
+  /** Since engine 2.0.0: the tolerance was widened because the reference band is broad. */
+  widened?: boolean;
+  /** Since engine 2.0.0: the rule that set the tolerance, in words. */
+  toleranceRule?: string;
   withinTolerance: boolean;
   assignment: string;
   referenceProminence: number | null;
   sampleProminence: number | null;
+  /** Since engine 2.0.0, when the method compares relative band intensities (fractions of the strongest band). */
+  intensity?: {
+    reference: number;
+    sample: number | null;
+    difference: number | null;
+    tolerance: number;
+    verdict: 'pass' | 'fail' | 'not-compared';
+  };
 }
 
 export interface ExtraBand {
@@ -211,7 +235,15 @@ export interface StoredResult {
   references: ReferenceScore[];
   bands: BandRow[];
   extraBands: ExtraBand[];
-  distance: { value: number; components: number; references: number } | null;
+  distance: {
+    value: number;
+    components: number;
+    references: number;
+    /** Since engine 2.0.0: spectral residual (Q), its limit from the references and q / limit. */
+    residual?: { q: number; limit: number; ratio: number; confidence: number } | null;
+  } | null;
+  /** Since engine 2.0.0: why the reference-set model the method asks for could not be built. */
+  referenceModelProblems?: string[];
   explanation: string[];
   libraryHint: HintEntry[] | null;
   libraryHintText: string | null;

@@ -7,7 +7,10 @@ import { useState, type FormEvent, type ReactNode } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
-import { identityMethodSchema } from '../../../../server/modules/library/contract';
+import {
+  identityMethodSchema,
+  SUGGESTED_RELATIVE_INTENSITY_TOLERANCE,
+} from '../../../../server/modules/library/contract';
 import { useUpdateMethod, type IdentityMethodParams, type MethodVersion } from '../api';
 
 type Region = { from: string; to: string; label: string };
@@ -60,11 +63,14 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     minCorrelation: str(p.thresholds.minCorrelation),
     minDerivativeCorrelation: str(p.thresholds.minDerivativeCorrelation),
     maxMahalanobis: str(p.thresholds.maxMahalanobis),
+    residualConfidence: str(p.thresholds.residualConfidence),
     toleranceMode: p.bandTolerance.mode,
     toleranceValue: str(p.bandTolerance.mode === 'absolute' ? p.bandTolerance.cm1 : p.bandTolerance.percent),
     widthTolerance: str(p.widthTolerance),
     peakProminence: str(p.peakProminence),
     maxExtraBandProminence: str(p.maxExtraBandProminence),
+    relativeIntensity: p.relativeIntensityTolerance != null ? 'on' : 'off',
+    relativeIntensityTolerance: str(p.relativeIntensityTolerance ?? SUGGESTED_RELATIVE_INTENSITY_TOLERANCE),
     minMaxAbsorbance: str(p.quality.minMaxAbsorbance),
     maxAbsorbance: str(p.quality.maxAbsorbance),
     minSignalToNoise: str(p.quality.minSignalToNoise),
@@ -93,6 +99,7 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
         minCorrelation: num(f.minCorrelation),
         minDerivativeCorrelation: optNum(f.minDerivativeCorrelation),
         maxMahalanobis: optNum(f.maxMahalanobis),
+        residualConfidence: optNum(f.residualConfidence),
       },
       bandTolerance:
         f.toleranceMode === 'absolute'
@@ -101,6 +108,7 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
       widthTolerance: optNum(f.widthTolerance),
       peakProminence: optNum(f.peakProminence),
       maxExtraBandProminence: optNum(f.maxExtraBandProminence),
+      relativeIntensityTolerance: f.relativeIntensity === 'on' ? num(f.relativeIntensityTolerance) : null,
       quality: {
         minMaxAbsorbance: num(f.minMaxAbsorbance),
         maxAbsorbance: num(f.maxAbsorbance),
@@ -233,6 +241,13 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
           value={f.maxMahalanobis}
           onChange={set('maxMahalanobis')}
         />
+        <NumField
+          id={id('qres')}
+          label="Spectral residual (Q): confidence of its limit"
+          hint="The limit is derived from the references (leave one out); e.g. 0.99. Empty: not used"
+          value={f.residualConfidence}
+          onChange={set('residualConfidence')}
+        />
         <Field id={id('tolm')} label="Band tolerance">
           <Select id={id('tolm')} value={f.toleranceMode} onChange={(e) => set('toleranceMode')(e.target.value)}>
             <option value="relative">% of the band position</option>
@@ -266,6 +281,25 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
           value={f.maxExtraBandProminence}
           onChange={set('maxExtraBandProminence')}
         />
+        <Field
+          id={id('ri')}
+          label="Relative band intensity"
+          hint="Ph. Eur. 2.2.24: band positions and relative sizes. Needs band picking."
+        >
+          <Select id={id('ri')} value={f.relativeIntensity} onChange={(e) => set('relativeIntensity')(e.target.value)}>
+            <option value="off">not compared</option>
+            <option value="on">compared with the reference</option>
+          </Select>
+        </Field>
+        {f.relativeIntensity === 'on' && (
+          <NumField
+            id={id('rit')}
+            label="Relative intensity tolerance (fraction of strongest band)"
+            hint={`Each band's height relative to the strongest may differ by this much; ${SUGGESTED_RELATIVE_INTENSITY_TOLERANCE} is a usual start.`}
+            value={f.relativeIntensityTolerance}
+            onChange={set('relativeIntensityTolerance')}
+          />
+        )}
         <NumField
           id={id('comp')}
           label="Distance model: components"

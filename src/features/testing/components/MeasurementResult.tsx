@@ -23,13 +23,18 @@ export function verdictLabel(v: 'pass' | 'fail' | 'invalid'): string {
 }
 
 function criterionValue(c: Criterion): string {
-  if (c.key === 'band-concordance') return `${c.value} of ${c.limit}`;
+  if (c.key === 'band-concordance' || c.key === 'relative-intensity') return `${c.value} of ${c.limit}`;
   if (c.key === 'extra-bands') return String(c.value);
+  if (c.key === 'reference-model') return c.value >= c.limit ? 'built' : 'cannot be built';
+  if (c.key === 'residual' || c.key === 'mahalanobis') return c.value.toFixed(2);
   return formatScore(c.value);
 }
 function criterionLimit(c: Criterion): string {
-  if (c.key === 'band-concordance') return `all ${c.limit}`;
+  if (c.key === 'band-concordance' || c.key === 'relative-intensity') return `all ${c.limit}`;
   if (c.key === 'extra-bands') return `at most ${c.limit}`;
+  if (c.key === 'reference-model') return 'needed';
+  if (c.key === 'residual') return `≤ ${c.limit} × its limit`;
+  if (c.key === 'mahalanobis') return `≤ ${c.limit}`;
   return `${c.comparison === '>=' ? '≥' : '≤'} ${formatScore(c.limit)}`;
 }
 
@@ -61,8 +66,37 @@ export function CriteriaTable({ result }: { result: StoredResult }) {
   );
 }
 
+/** The engine writes units as "cm-1"; shown as cm⁻¹. */
+const unitText = (s: string) => s.replaceAll('cm-1', 'cm⁻¹');
+
+const fraction = (v: number | null | undefined) =>
+  v === null || v === undefined || !Number.isFinite(v) ? '—' : v.toFixed(2);
+
+function IntensityCells({ intensity: i }: { intensity: StoredResult['bands'][number]['intensity'] }) {
+  if (!i) return <td colSpan={4} className="py-1 pr-3 text-muted" />;
+  return (
+    <>
+      <td className="py-1 pr-3 text-right tabular-nums">{fraction(i.reference)}</td>
+      <td className="py-1 pr-3 text-right tabular-nums">{fraction(i.sample)}</td>
+      <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">
+        {i.difference === null ? '—' : `${i.difference >= 0 ? '+' : '−'}${Math.abs(i.difference).toFixed(2)}`}
+        <span className="text-muted"> (±{i.tolerance})</span>
+      </td>
+      <td className="py-1 pr-3">
+        {i.verdict === 'not-compared' ? (
+          <span className="text-muted">not compared</span>
+        ) : (
+          <Verdict verdict={i.verdict} label={i.verdict === 'pass' ? 'Yes' : 'No'} size="sm" />
+        )}
+      </td>
+    </>
+  );
+}
+
 export function BandTable({ result }: { result: StoredResult }) {
   if (!result.bands.length && !result.extraBands.length) return null;
+  const positional = result.bands.find((b) => b.toleranceRule && !b.widened)?.toleranceRule;
+  const intensities = result.bands.some((b) => b.intensity);
   return (
     <div className="flex flex-col gap-2">
       {result.bands.length > 0 && (
@@ -74,6 +108,14 @@ export function BandTable({ result }: { result: StoredResult }) {
               <th className="py-1 pr-3 text-right font-medium">Shift</th>
               <th className="py-1 pr-3 text-right font-medium">Tolerance</th>
               <th className="py-1 pr-3 font-medium">Within</th>
+              {intensities && (
+                <>
+                  <th className="py-1 pr-3 text-right font-medium">Relative intensity, reference</th>
+                  <th className="py-1 pr-3 text-right font-medium">Sample</th>
+                  <th className="py-1 pr-3 text-right font-medium">Difference</th>
+                  <th className="py-1 pr-3 font-medium">Agrees</th>
+                </>
+              )}
               <th className="py-1 font-medium">Likely assignment</th>
             </tr>
           </thead>
@@ -87,7 +129,12 @@ export function BandTable({ result }: { result: StoredResult }) {
                   {b.sampleBand === null ? 'not found' : formatWavenumber(b.sampleBand)}
                 </td>
                 <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">{formatShift(b.shift)}</td>
-                <td className="py-1 pr-3 text-right whitespace-nowrap tabular-nums">±{b.tolerance.toFixed(1)} cm⁻¹</td>
+                <td className="py-1 pr-3 text-right tabular-nums">
+                  <span className="whitespace-nowrap">±{b.tolerance.toFixed(1)} cm⁻¹</span>
+                  {b.widened && b.toleranceRule && (
+                    <span className="block text-xs text-muted">({unitText(b.toleranceRule)})</span>
+                  )}
+                </td>
                 <td className="py-1 pr-3">
                   <Verdict
                     verdict={b.withinTolerance ? 'pass' : 'fail'}
@@ -95,11 +142,25 @@ export function BandTable({ result }: { result: StoredResult }) {
                     size="sm"
                   />
                 </td>
+                {intensities && <IntensityCells intensity={b.intensity} />}
                 <td className="py-1 text-muted">{b.assignment}</td>
               </tr>
             ))}
           </tbody>
         </table>
+      )}
+      {result.bands.length > 0 && positional && (
+        <p className="text-xs text-muted">
+          Shift tolerance: {unitText(positional)} for every band; a sharp band never passes beyond it. Only a broad band
+          (full width at half height of 80 cm⁻¹ or more) may shift further, by the method&apos;s fraction of its width.
+        </p>
+      )}
+      {intensities && (
+        <p className="text-xs text-muted">
+          Relative intensity: each band&apos;s height as a fraction of the strongest reference band, in the reference
+          and (against the same band) in the sample. A band not found within its shift tolerance is not compared and
+          does not agree.
+        </p>
       )}
       {result.extraBands.length > 0 && (
         <p className="text-sm">
