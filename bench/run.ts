@@ -13,6 +13,7 @@ const BENCHES: Record<string, Bench> = {
   processing: async () => (await import('./processing')).runProcessingBench(),
   audit: async (args) => (await import('./audit')).runAuditBench(args),
   certificate: async () => (await import('./certificate')).runCertificateBench(),
+  health: async () => (await import('./health')).runHealthBench(),
 };
 
 const OPT_IN = new Set(['audit']);

@@ -65,6 +65,11 @@ export function dbSettings(kind: 'runtime' | 'owner', databaseOverride?: string)
   return s;
 }
 
+function oneLine(m: unknown): string {
+  const e = m as { message?: string };
+  return String(typeof m === 'string' ? m : (e?.message ?? m)).split('\n')[0];
+}
+
 export function knexConfig(s: DbSettings, pool = { min: 0, max: 10 }): Knex.Config {
   return {
     client: 'mysql2',
@@ -83,5 +88,12 @@ export function knexConfig(s: DbSettings, pool = { min: 0, max: 10 }): Knex.Conf
     },
     pool: { ...pool, acquireTimeoutMillis: 5000 } as Knex.PoolConfig,
     acquireConnectionTimeout: 5000,
+    // One line per pool warning (e.g. "connect ECONNREFUSED" while the database is down), no stack trace.
+    log: {
+      warn: (m: unknown) => console.warn('[db]', oneLine(m)),
+      error: (m: unknown) => console.error('[db]', oneLine(m)),
+      deprecate: (m: unknown) => console.warn('[db] deprecated:', oneLine(m)),
+      debug: () => undefined,
+    },
   };
 }

@@ -13,6 +13,7 @@ import { loadConfig, type AppConfig } from './lib/config';
 import { getDb, initDb } from './lib/db';
 import { errorHandler } from './lib/errors';
 import { originCheck, sessionMiddleware } from './lib/auth';
+import { setLockoutPolicy } from './lib/lockout';
 import { authRoutes } from './modules/auth/routes';
 import { userRoutes } from './modules/users/routes';
 import { systemRoutes } from './modules/system/routes';
@@ -39,7 +40,9 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   initDb(opts.database);
   const app = express();
   app.disable('x-powered-by');
-  app.set('trust proxy', 'loopback');
+  // X-Forwarded-For only from the configured proxies (none by default): req.ip is the real client.
+  app.set('trust proxy', config.trustedProxies.length ? config.trustedProxies : false);
+  setLockoutPolicy({ attempts: config.lockoutAttempts, minutes: config.lockoutMinutes });
   app.locals.config = config;
   app.use(
     helmet({

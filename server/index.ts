@@ -2,6 +2,7 @@
 import { createApp } from './app';
 import { closeDb } from './lib/db';
 import { stopAllJobs } from './lib/lease';
+import { closeComputePool } from './workers/pool';
 
 const { app, config } = createApp({ serveClient: true });
 const host = process.env.HOST ?? '127.0.0.1';
@@ -13,7 +14,7 @@ for (const h of startHooks) h().catch((e) => console.error('[start]', e));
 
 function shutdown() {
   server.close(() => {
-    stopAllJobs()
+    Promise.all([stopAllJobs(), closeComputePool()])
       .catch(() => undefined)
       .finally(() => closeDb().finally(() => process.exit(0)));
   });

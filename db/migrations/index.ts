@@ -13,6 +13,8 @@ import * as m008 from './008_job_lease';
 import * as m050 from './050_record_guards';
 import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
+import * as m060 from './060_password_history';
+import * as m061 from './061_sign_in_rate';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -29,6 +31,8 @@ export const migrations: [string, Migration][] = [
   ['050_record_guards', m050],
   ['051_role_grants', m051],
   ['052_integrity', m052],
+  ['060_password_history', m060],
+  ['061_sign_in_rate', m061],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -62,6 +66,7 @@ export const appendOnlyTables = [
   'integrity_alert',
   'integrity_alert_record',
   'integrity_signoff',
+  'password_history',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -86,4 +91,6 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  sign_in_rate:
+    'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

@@ -25,6 +25,13 @@ export interface AppConfig {
   /** hours between scheduled integrity sweeps (docs/compliance.md); 0 = only when asked for */
   integritySweepHours: number;
   allowedOrigins: string[];
+  /**
+   * Addresses (or CIDR ranges) of the reverse proxies whose X-Forwarded-For header is believed
+   * (TRUSTED_PROXIES, comma-separated; default none). Only a request that arrives from one of
+   * them gets its client address from that header; every other request is known by the address
+   * it came from, so a client cannot forge its address in the audit trail or dodge the sign-in limit.
+   */
+  trustedProxies: string[];
   devMode: boolean;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
@@ -50,6 +57,10 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
     integritySweepHours: num('INTEGRITY_SWEEP_HOURS', 24),
     allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
+      .split(',')
+      .map((s) => s.trim())
+      .filter(Boolean),
+    trustedProxies: (process.env.TRUSTED_PROXIES ?? '')
       .split(',')
       .map((s) => s.trim())
       .filter(Boolean),

@@ -1,9 +1,99 @@
 /**
  * The cross-cutting part of the contract between client and server (DEVELOPERS.md,
- * "Contracts"): roles, e-signature input and record, the audit chain report and the PDF signature
- * check. A contract file imports only zod and other contract files; the client imports it too.
+ * "Contracts"): free text and dates, roles, e-signature input and record, the audit chain report
+ * and the PDF signature check. A contract file imports only zod and other contract files; the
+ * client imports it too.
  */
 import { z } from 'zod';
+
+// ---- Free text and dates (docs/compliance.md, "Hardened inputs")
+/**
+ * The one zod helper every free-text field of the API uses, and calendar dates within a sane range.
+ *
+ * Refused in free text:
+ * - C0 control characters (U+0000-U+001F) other than tab and line feed where multi-line text is
+ *   allowed (a Windows line end CR LF is first turned into LF), DEL (U+007F) and the C1 controls
+ *   (U+0080-U+009F): they are invisible or act on terminals, spreadsheets and logs;
+ * - the Unicode bidirectional embeddings, overrides and isolates (U+202A-U+202E, U+2066-U+2069;
+ *   the characters of the "Trojan Source" attack, CVE-2021-42574): they make text display in
+ *   another order than it is stored, so a reason or a name could read differently on screen, in
+ *   the audit trail and on a certificate;
+ * - unpaired UTF-16 surrogates (not text at all; MariaDB's utf8mb4 cannot store them).
+ */
+const CONTROL_SINGLE = /[\u0000-\u001F\u007F-\u009F]/;
+const CONTROL_MULTI = /[\u0000-\u0008\u000B-\u001F\u007F-\u009F]/;
+const BIDI = /[\u202A-\u202E\u2066-\u2069]/;
+const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+
+function codePoint(ch: string): string {
+  return `U+${ch.codePointAt(0)!.toString(16).toUpperCase().padStart(4, '0')}`;
+}
+
+/** A sentence saying what is wrong with a piece of free text, or null when it may be stored. */
+export function freeTextProblem(v: string, multiLine: boolean): string | null {
+  if (LONE_SURROGATE.test(v))
+    return 'The text holds a broken character (an unpaired UTF-16 surrogate). Type it again or paste it from another source.';
+  const c = (multiLine ? CONTROL_MULTI : CONTROL_SINGLE).exec(v);
+  if (c)
+    return `The text holds an invisible control character (${codePoint(c[0])}) at position ${c.index + 1}. Remove it: ${
+      multiLine
+        ? 'only letters, digits, punctuation, spaces, tabs and line breaks are allowed'
+        : 'this field takes one line of letters, digits, punctuation and spaces'
+    }.`;
+  const b = BIDI.exec(v);
+  if (b)
+    return `The text holds an invisible direction-control character (${codePoint(b[0])}) at position ${b.index + 1}, which can make it display in another order than it is stored. Remove it and type the text again.`;
+  return null;
+}
+
+function checked<T extends z.ZodString>(s: T, multiLine: boolean): T {
+  return s.superRefine((v, ctx) => {
+    const p = freeTextProblem(v, multiLine);
+    if (p) ctx.addIssue({ code: 'custom', message: p });
+  }) as T;
+}
+
+/** One line of free text (names, supplier, labels, short notes), trimmed. Chain .min()/.max() as usual. */
+export function singleLineText(): z.ZodString {
+  return checked(z.string().trim(), false);
+}
+
+/** Free text that may span lines (reasons, justifications, notes), trimmed; CR LF becomes LF. */
+export function multiLineText(): z.ZodString {
+  return checked(
+    z
+      .string()
+      .overwrite((v) => v.replace(/\r\n/g, '\n'))
+      .trim(),
+    true,
+  );
+}
+
+/** Earliest date Drumline accepts (a received date, a filter date): no record of Drumline is older. */
+export const EARLIEST_DATE = '2000-01-01';
+/** Latest date a filter may name (far future; a received date is also checked against the site's today). */
+export const LATEST_DATE = '2199-12-31';
+
+/** A calendar date YYYY-MM-DD between `EARLIEST_DATE` and `latest`. */
+export function calendarDate(what: string, latest: string = LATEST_DATE) {
+  return z
+    .string()
+    .regex(/^\d{4}-\d{2}-\d{2}$/, `Give the ${what} as YYYY-MM-DD.`)
+    .refine(
+      (s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s,
+      `The ${what} is not a calendar date.`,
+    )
+    .refine((s) => s >= EARLIEST_DATE, `The ${what} cannot be before ${EARLIEST_DATE}. Check the year.`)
+    .refine((s) => s <= latest, `The ${what} cannot be after ${latest}. Check the year.`);
+}
+
+/** An instant (ISO 8601 with a zone) within the sane range, for filters. */
+export function instantInRange(message: string) {
+  return z.iso.datetime({ offset: true, message }).refine((s) => {
+    const t = Date.parse(s);
+    return t >= Date.parse(`${EARLIEST_DATE}T00:00:00Z`) && t <= Date.parse(`${LATEST_DATE}T23:59:59Z`);
+  }, `Give a time between ${EARLIEST_DATE} and ${LATEST_DATE}.`);
+}
 
 /** The five roles of Drumline. */
 export const ROLES = ['operator', 'verifier', 'qa_manager', 'auditor', 'admin'] as const;
@@ -74,7 +164,7 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
 /** The signature part of a request body: the password again, the user name at first signing. */
 export const signatureInput = z.object({
   password: z.string().min(1, 'Enter your password to sign.').max(200),
-  username: z.string().max(64).optional(),
+  username: singleLineText().max(64).optional(),
 });
 export type SignatureInput = z.infer<typeof signatureInput>;
 

@@ -42,21 +42,55 @@ export function spectrumRefusal(e: unknown, fileName: string | null = null): unk
   });
 }
 
+/**
+ * Errors that mean "the database connection is gone or cannot be had", whatever the layer that
+ * reports it: the socket (ECONNREFUSED, ECONNRESET, EPIPE, ETIMEDOUT, ...), mysql2's protocol layer
+ * (PROTOCOL_CONNECTION_LOST, "connection is in closed state", enqueue after a fatal error), the
+ * server (shutdown in progress, connection killed, too many connections, a Galera node not ready)
+ * and knex's pool (timeout acquiring a connection). All answer 503 with one sentence; none is a bug
+ * of the application, so none is logged with a stack trace.
+ */
 const DB_DOWN_CODES = new Set([
   'ECONNREFUSED',
-  'PROTOCOL_CONNECTION_LOST',
+  'ECONNRESET',
+  'ECONNABORTED',
+  'EPIPE',
   'ETIMEDOUT',
-  'ER_CON_COUNT_ERROR',
   'EHOSTUNREACH',
+  'ENETUNREACH',
+  'ENOTFOUND',
+  'EAI_AGAIN',
+  'PROTOCOL_CONNECTION_LOST',
+  'PROTOCOL_SEQUENCE_TIMEOUT',
+  'PROTOCOL_ENQUEUE_AFTER_FATAL_ERROR',
+  'PROTOCOL_ENQUEUE_AFTER_QUIT',
+  'PROTOCOL_ENQUEUE_HANDSHAKE_TWICE',
+  'ER_CON_COUNT_ERROR',
+  'ER_SERVER_SHUTDOWN',
+  'ER_CONNECTION_KILLED',
+  'ER_QUERY_INTERRUPTED',
+  'ER_ABORTING_CONNECTION',
+  'ER_NEW_ABORTING_CONNECTION',
 ]);
+/** Server and client error numbers of the same conditions (MariaDB error reference; 2xxx are client codes). */
+const DB_DOWN_ERRNOS = new Set([1040, 1047, 1053, 1152, 1184, 1317, 1927, 2002, 2003, 2006, 2013, 2055]);
+const DB_DOWN_MESSAGES =
+  /connect ECONNREFUSED|Timeout acquiring a connection|closed state|Connection lost|read ECONNRESET|write EPIPE|server has gone away|Lost connection to (MySQL|MariaDB) server|WSREP has not yet prepared node/i;
 
-export function isDbDown(err: unknown): boolean {
-  const e = err as { code?: string; name?: string; message?: string };
-  if (!e) return false;
+export function isDbDown(err: unknown, depth = 0): boolean {
+  const e = err as { code?: string; errno?: number; name?: string; message?: string; fatal?: boolean; cause?: unknown };
+  if (!e || typeof e !== 'object' || depth > 3) return false;
   if (e.code && DB_DOWN_CODES.has(e.code)) return true;
+  if (typeof e.errno === 'number' && DB_DOWN_ERRNOS.has(e.errno)) return true;
   if (e.name === 'KnexTimeoutError') return true;
-  return /connect ECONNREFUSED|Timeout acquiring a connection/i.test(e.message ?? '');
+  // mysql2 marks every error after which the connection is unusable as fatal.
+  if (e.fatal === true && (e.code?.startsWith('PROTOCOL_') || e.code?.startsWith('E'))) return true;
+  if (DB_DOWN_MESSAGES.test(e.message ?? '')) return true;
+  return e.cause !== undefined && isDbDown(e.cause, depth + 1);
 }
+
+export const DB_DOWN_MESSAGE =
+  'The database is not reachable. Try again in a moment; if it persists, call the system administrator.';
 
 function zodDetails(err: ZodError) {
   return err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
@@ -90,12 +124,7 @@ export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
   }
   if (e?.type === 'entity.parse.failed') return send(400, 'MALFORMED_JSON', 'The request body is not valid JSON.');
   if (e?.type === 'entity.too.large') return send(413, 'TOO_LARGE', 'The request body is too large.');
-  if (isDbDown(err))
-    return send(
-      503,
-      'DATABASE_DOWN',
-      'The database is not reachable. Try again in a moment; if it persists, call the system administrator.',
-    );
+  if (isDbDown(err)) return send(503, 'DATABASE_DOWN', DB_DOWN_MESSAGE);
   if (e?.code === 'ER_DUP_ENTRY') return send(409, 'DUPLICATE', 'A record with this identifier already exists.');
   console.error('[error]', err);
   return send(

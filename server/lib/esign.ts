@@ -7,6 +7,7 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, auditNow } from './audit';
+import { clearCredentialFailures, isLocked, lockoutPolicy, recordCredentialFailure } from './lockout';
 import type { SignatureInput, SignatureMeaning, SignatureRecord } from './contract';
 import { canonicalJson, sha256Hex } from './canonical';
 import { AppError } from './errors';
@@ -29,27 +30,54 @@ export function contentHash(content: unknown): string {
   return sha256Hex(canonicalJson(content));
 }
 
-/** Checks the credentials; throws 401 (audited) when they are wrong. Call BEFORE opening the transaction. */
+/**
+ * Checks the credentials; throws 401 (audited) when they are wrong. Call BEFORE opening the
+ * transaction. A wrong password counts toward the account's lock-out like a failed sign-in
+ * (server/lib/lockout.ts); a locked account cannot sign at all (423), and the failure that locks it
+ * also ends its sessions. A correct password ends a run of failures.
+ */
 export async function checkSignatureCredentials(db: Knex, r: Omit<SignRequest, 'content'>): Promise<void> {
   const u = await db('app_user').where({ id: r.user.id }).first();
-  const needsUsername = !r.user.signedOnce;
-  let problem: string | null = null;
-  if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== String(u.username).toLowerCase())
-    problem = 'The first signature of a session needs your user name and password.';
-  else if (!(await verifyPassword(u.password_hash, r.credentials.password)))
-    problem = 'The password is not correct. Nothing was signed.';
-  if (problem) {
-    await auditNow(db, {
+  const refused = (reason: string) =>
+    auditNow(db, {
       actor: { id: r.user.id, name: r.user.fullName },
       action: 'signature.refused',
       entityType: r.entityType,
       entityId: r.entityId,
       after: { meaning: r.meaning },
-      reason: problem,
+      reason,
       ip: r.ip,
     });
+  if (isLocked(u)) {
+    await refused('account locked');
+    throw new AppError(
+      423,
+      'ACCOUNT_LOCKED',
+      'Your account is locked after repeated wrong passwords. Nothing was signed. Wait until the lock ends or ask an administrator to unlock it.',
+    );
+  }
+  const needsUsername = !r.user.signedOnce;
+  if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== String(u.username).toLowerCase()) {
+    const problem = 'The first signature of a session needs your user name and password.';
+    await refused(problem);
     throw new AppError(401, 'SIGNATURE_REFUSED', problem, { needsUsername });
   }
+  if (!(await verifyPassword(u.password_hash, r.credentials.password))) {
+    const { locked } = await recordCredentialFailure(db, {
+      userId: r.user.id,
+      check: 'signature',
+      entityType: r.entityType,
+      entityId: r.entityId,
+      after: { meaning: r.meaning },
+      reason: 'The password is not correct. Nothing was signed.',
+      ip: r.ip ?? null,
+    });
+    const problem = locked
+      ? `The password is not correct. Nothing was signed. After ${lockoutPolicy().attempts} wrong passwords the account is locked and you are signed out; an administrator can unlock it.`
+      : 'The password is not correct. Nothing was signed.';
+    throw new AppError(401, 'SIGNATURE_REFUSED', problem, { needsUsername, locked });
+  }
+  await clearCredentialFailures(db, u);
 }
 
 /** Writes the signature row and its audit event inside the caller's transaction. */

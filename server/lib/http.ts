@@ -9,6 +9,7 @@ import { extendZodWithOpenApi } from '@asteasolutions/zod-to-openapi';
 import type { Role } from './contract';
 import { AppError, forbidden, unauthorized } from './errors';
 import type { Actor } from './audit';
+import { guardedUpload } from './upload';
 
 extendZodWithOpenApi(z);
 
@@ -108,7 +109,7 @@ export function defineRoute<B extends z.ZodType, Q extends z.ZodType, P extends 
     }
   };
   const chain: RequestHandler[] = [check];
-  if (def.upload) chain.push(def.upload);
+  if (def.upload) chain.push(guardedUpload(def.upload));
   router[def.method](def.path, ...chain, run);
 }
 

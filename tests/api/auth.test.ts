@@ -44,9 +44,11 @@ describe('sign-in', () => {
       expect(r.status).toBe(401);
     }
     const locked = await request(app).post('/api/auth/sign-in').send({ username: u.username, password: PASSWORD });
-    expect(locked.status).toBe(423);
-    expect(locked.body.error.code).toBe('ACCOUNT_LOCKED');
+    // A locked account answers exactly like an unknown one (finding 11): nothing tells it is locked.
+    expect(locked.status).toBe(401);
+    expect(locked.body.error.code).toBe('SIGN_IN_FAILED');
     expect(await auditActions(u.id)).toContain('auth.locked');
+    expect(await auditActions(u.id)).toContain('auth.sign-in-refused-locked');
     // 21 CFR 11.300(d): the administrators are told at once
     const lockMail = await db()('mail_outbox').where({ subject: `Account locked: ${u.username}` });
     expect(lockMail.map((m) => m.to_address)).toContain(`${watchingAdmin.username}@test.example`);

@@ -3,13 +3,11 @@
  * Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
+import { instantInRange, singleLineText } from '../../lib/contract';
 import type { SignatureRecord } from '../../lib/contract';
 
 /** An instant as ISO 8601 with a zone (the client converts site-local dates to UTC). */
-const instant = z.iso.datetime({
-  offset: true,
-  message: 'Give a date and time in ISO 8601 with a zone, e.g. 2026-03-14T00:00:00Z.',
-});
+const instant = instantInRange('Give a date and time in ISO 8601 with a zone, e.g. 2026-03-14T00:00:00Z.');
 
 /**
  * Action filter: an exact action name ("lot.registered") or a prefix ending in "*"
@@ -34,14 +32,14 @@ export const auditFilterSchema = z.object({
     .max(40)
     .regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.')
     .optional(),
-  entityId: z.string().trim().min(1).max(64).optional(),
-  q: z.string().trim().max(200).optional(),
+  entityId: singleLineText().min(1).max(64).optional(),
+  q: singleLineText().max(200).optional(),
   sort: z.enum(['asc', 'desc']).default('desc'),
 });
 export type AuditFilter = z.infer<typeof auditFilterSchema>;
 
 export const auditListQuerySchema = auditFilterSchema.extend({
-  cursor: z.string().trim().max(200).optional(),
+  cursor: singleLineText().max(200).optional(),
   limit: z.coerce.number().int().min(1).max(200).default(50),
 });
 export type AuditListQuery = z.infer<typeof auditListQuerySchema>;
@@ -53,7 +51,7 @@ export const historyParamsSchema = z.object({
     .min(1)
     .max(40)
     .regex(/^[a-z0-9_.-]+$/i, 'Unknown record type.'),
-  entityId: z.string().trim().min(1).max(64),
+  entityId: singleLineText().min(1).max(64),
 });
 
 /** Rows a list page shows (no before/after payloads: the detail view loads those). */

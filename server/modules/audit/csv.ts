@@ -1,7 +1,11 @@
 /**
  * CSV of audit events (RFC 4180: comma separator, CRLF line ends, a field is quoted when it holds
  * a comma, a quote, a line break or leading/trailing blanks, and quotes inside are doubled).
- * Values are written exactly as stored - an export is a true copy of the record (21 CFR 11.10(b)).
+ * Values are written as stored - an export is a true copy of the record (21 CFR 11.10(b)) - with
+ * one exception: a text cell that starts with = + - @, a tab or a carriage return gets a leading
+ * apostrophe, so that a spreadsheet shows it as text instead of running it as a formula (CSV
+ * injection; the usual neutralisation, e.g. OWASP "CSV Injection"). The stored value is the cell
+ * without that first apostrophe (docs/compliance.md, "Hardened inputs").
  */
 import type { AuditRow } from '../../lib/audit';
 
@@ -21,9 +25,18 @@ export const CSV_COLUMNS = [
   'hash',
 ] as const;
 
+/** Characters that make a spreadsheet read a cell as a formula (or shift it) when they come first. */
+const FORMULA_START = /^[=+\-@\t\r]/;
+
+/** A text value made safe to open in a spreadsheet: a leading apostrophe before a formula-leading character. */
+export function neutraliseFormula(s: string): string {
+  return FORMULA_START.test(s) ? `'${s}` : s;
+}
+
 export function csvField(v: unknown): string {
   if (v === null || v === undefined) return '';
-  const s = typeof v === 'string' ? v : String(v);
+  // Numbers stay numbers (a negative number is data, not a formula); every text value is neutralised.
+  const s = typeof v === 'string' ? neutraliseFormula(v) : String(v);
   return /[",\r\n]|^\s|\s$/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 

@@ -230,6 +230,9 @@ export async function exportCsv(
         csvLine([
           '# Times are UTC (ISO 8601). Each hash is SHA-256 over the event and the previous hash; before/after are JSON.',
         ]) +
+        csvLine([
+          '# A text cell that starts with = + - @, a tab or a carriage return has an apostrophe put in front (spreadsheet formula protection); the stored value is without it.',
+        ]) +
         csvLine([...CSV_COLUMNS]),
     );
     for await (const page of eventPages(db, f, { scope, maxId }, pageSize)) {

@@ -3,11 +3,12 @@
  * answers. Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
+import { singleLineText } from '../../lib/contract';
 import type { Role } from '../../lib/contract';
 import type { UserAccount } from '../users/contract';
 
 export const signInSchema = z.object({
-  username: z.string().trim().min(1, 'Enter your user name.').max(64),
+  username: singleLineText().min(1, 'Enter your user name.').max(64),
   password: z.string().min(1, 'Enter your password.').max(200),
 });
 export const changePasswordSchema = z.object({

@@ -3,6 +3,7 @@ import { Router } from 'express';
 import rateLimit from 'express-rate-limit';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
+import { DbRateStore } from '../../lib/rate-store';
 import { defineRoute } from '../../lib/http';
 import { SESSION_COOKIE } from '../../lib/sessions';
 import { changePasswordSchema, type Me, signInSchema, type SignInResult } from './contract';
@@ -10,11 +11,16 @@ import * as service from './service';
 
 export function authRoutes(cfg: AppConfig): Router {
   const r = Router();
+  // Per client address (req.ip: X-Forwarded-For only from TRUSTED_PROXIES), counted in MariaDB so
+  // that the limit holds across app servers.
   const limiter = rateLimit({
     windowMs: cfg.signInRateWindowMinutes * 60_000,
     limit: cfg.signInRateLimit,
     standardHeaders: 'draft-7',
     legacyHeaders: false,
+    store: new DbRateStore(getDb),
+    // A forwarded-for header from a client that is not a trusted proxy is ignored on purpose.
+    validate: { xForwardedForHeader: false },
     handler: (_req, res) =>
       res.status(429).json({
         error: {
@@ -101,7 +107,7 @@ export function authRoutes(cfg: AppConfig): Router {
       body: changePasswordSchema,
     },
     async ({ user, body, ip }) => {
-      await service.changePassword(getDb(), user, body.currentPassword, body.newPassword, ip);
+      await service.changePassword(getDb(), cfg, user, body.currentPassword, body.newPassword, ip);
     },
   );
   return r;

@@ -1,87 +1,57 @@
-/** Sign-in rules: Argon2id check, lockout after repeated failures, forced password change. */
+/**
+ * Sign-in rules: Argon2id check, lock-out after repeated failures (counted together with failed
+ * e-signatures and password changes, server/lib/lockout.ts), forced password change. An unknown,
+ * deactivated or locked account and a wrong password all get the same answer - same status, same
+ * body - after the same work (one Argon2id verification and one audit transaction), so the answer
+ * does not tell whether an account exists or is locked.
+ */
 import type { Knex } from 'knex';
 import { appendAudit, auditNow } from '../../lib/audit';
-import { enqueueMailToRole } from '../../lib/mail';
 import type { AppConfig } from '../../lib/config';
 import { AppError, badRequest } from '../../lib/errors';
-import { hashPassword, passwordProblem, verifyPassword } from '../../lib/passwords';
+import { clearCredentialFailures, isLocked, lockoutPolicy, recordCredentialFailure } from '../../lib/lockout';
+import {
+  DUMMY_HASH,
+  hashPassword,
+  isRecentPassword,
+  PASSWORD_HISTORY,
+  passwordProblem,
+  rememberPassword,
+  verifyPassword,
+} from '../../lib/passwords';
 import { createSession, invalidateSession, invalidateUserSessions } from '../../lib/sessions';
 import * as users from '../users/repo';
 import type { AuthUser } from '../../lib/http';
 
-const GENERIC = 'The user name or password is not correct.';
+export function signInFailed(): AppError {
+  const p = lockoutPolicy();
+  return new AppError(
+    401,
+    'SIGN_IN_FAILED',
+    `The user name or password is not correct, or the account is locked. After ${p.attempts} failed attempts an account is locked for ${p.minutes} minutes; an administrator can unlock it sooner.`,
+  );
+}
 
 export async function signIn(db: Knex, cfg: AppConfig, username: string, password: string, ip: string | null) {
   const u = await users.findByUsername(db, username);
-  if (!u || !u.active) {
-    // Same work and same answer whether or not the account exists.
-    await verifyPassword(
-      '$argon2id$v=19$m=19456,t=2,p=1$c29tZXNhbHRzb21lc2FsdA$Zm9vYmFyZm9vYmFyZm9vYmFyZm9vYmFyZm9vYmE',
-      password,
-    );
+  if (!u || !u.active || isLocked(u)) {
+    // Same work and same answer whether the account is unknown, deactivated or locked.
+    await verifyPassword(DUMMY_HASH, password);
     await auditNow(db, {
-      actor: { id: null, name: username },
-      action: 'auth.sign-in-failed',
+      actor: u ? { id: u.id, name: u.full_name } : { id: null, name: username },
+      action: u && u.active ? 'auth.sign-in-refused-locked' : 'auth.sign-in-failed',
       entityType: 'user',
       entityId: u?.id ?? null,
-      reason: u ? 'account deactivated' : 'unknown user name',
+      ...(u && u.active ? { after: { lockedUntil: new Date(u.locked_until!).toISOString() } } : {}),
+      reason: !u ? 'unknown user name' : !u.active ? 'account deactivated' : 'account locked',
       ip,
     });
-    throw new AppError(401, 'SIGN_IN_FAILED', GENERIC);
-  }
-  if (u.locked_until && new Date(u.locked_until).getTime() > Date.now()) {
-    await auditNow(db, {
-      actor: { id: u.id, name: u.full_name },
-      action: 'auth.sign-in-refused-locked',
-      entityType: 'user',
-      entityId: u.id,
-      ip,
-    });
-    throw new AppError(
-      423,
-      'ACCOUNT_LOCKED',
-      `This account is locked after ${cfg.lockoutAttempts} failed sign-ins. Try again after ${new Date(u.locked_until).toISOString().slice(11, 16)} UTC or ask an administrator to unlock it.`,
-      { lockedUntil: new Date(u.locked_until).toISOString() },
-    );
+    throw signInFailed();
   }
   const ok = await verifyPassword(u.password_hash, password);
   if (!ok) {
-    await db.transaction(async (trx) => {
-      const row = await trx('app_user').where({ id: u.id }).forUpdate().first();
-      const attempts = row.failed_attempts + 1;
-      const lock = attempts >= cfg.lockoutAttempts;
-      const lockedUntil = lock ? new Date(Date.now() + cfg.lockoutMinutes * 60_000) : null;
-      await users.updateUser(trx, u.id, { failed_attempts: lock ? 0 : attempts, locked_until: lockedUntil });
-      await appendAudit(trx, {
-        actor: { id: u.id, name: u.full_name },
-        action: 'auth.sign-in-failed',
-        entityType: 'user',
-        entityId: u.id,
-        after: { consecutiveFailures: attempts },
-        reason: 'wrong password',
-        ip,
-      });
-      if (lock) {
-        await appendAudit(trx, {
-          actor: { id: u.id, name: u.full_name },
-          action: 'auth.locked',
-          entityType: 'user',
-          entityId: u.id,
-          after: { lockedUntil: lockedUntil!.toISOString() },
-          reason: `${attempts} consecutive failed sign-ins`,
-          ip,
-        });
-        // Possible unauthorised use is reported at once to the administrators (21 CFR 11.300(d)).
-        await enqueueMailToRole(
-          trx,
-          'admin',
-          `Account locked: ${u.username}`,
-          `The account ${u.username} (${u.full_name}) was locked at ${new Date().toISOString()} UTC after ${attempts} consecutive failed sign-ins` +
-            `${ip ? ` from ${ip}` : ''}. It unlocks by itself at ${lockedUntil!.toISOString()} UTC, or an administrator can unlock it after checking with the person.`,
-        );
-      }
-    });
-    throw new AppError(401, 'SIGN_IN_FAILED', GENERIC);
+    await recordCredentialFailure(db, { userId: u.id, check: 'sign-in', reason: 'wrong password', ip });
+    throw signInFailed();
   }
   return db.transaction(async (trx) => {
     await users.updateUser(trx, u.id, { failed_attempts: 0, locked_until: null });
@@ -129,27 +99,41 @@ export async function signOut(db: Knex, user: AuthUser, ip: string | null): Prom
 
 export async function changePassword(
   db: Knex,
+  cfg: AppConfig,
   user: AuthUser,
   current: string,
   next: string,
   ip: string | null,
 ): Promise<void> {
   const u = (await users.findById(db, user.id))!;
+  if (isLocked(u))
+    throw new AppError(
+      423,
+      'ACCOUNT_LOCKED',
+      'Your account is locked after repeated wrong passwords. Wait until the lock ends or ask an administrator to unlock it.',
+    );
   if (!(await verifyPassword(u.password_hash, current))) {
-    await auditNow(db, {
-      actor: { id: u.id, name: u.full_name },
-      action: 'auth.password-change-refused',
-      entityType: 'user',
-      entityId: u.id,
+    const { locked } = await recordCredentialFailure(db, {
+      userId: u.id,
+      check: 'password-change',
       reason: 'current password wrong',
       ip,
     });
-    throw new AppError(401, 'WRONG_PASSWORD', 'Your current password is not correct.');
+    throw new AppError(
+      401,
+      'WRONG_PASSWORD',
+      locked
+        ? `Your current password is not correct. After ${cfg.lockoutAttempts} wrong passwords the account is locked and you are signed out; an administrator can unlock it.`
+        : 'Your current password is not correct.',
+    );
   }
-  const p = passwordProblem(next, u.username);
+  await clearCredentialFailures(db, u);
+  const p = await passwordProblem(next, { username: u.username, fullName: u.full_name, email: u.email });
   if (p) throw badRequest(p);
-  if (await verifyPassword(u.password_hash, next))
-    throw badRequest('The new password must differ from the current one.');
+  if (await isRecentPassword(db, u, next))
+    throw badRequest(
+      `The new password must differ from your last ${PASSWORD_HISTORY} passwords (the current one included). Choose one you have not used here before.`,
+    );
   const hash = await hashPassword(next);
   await db.transaction(async (trx) => {
     await users.updateUser(trx, u.id, {
@@ -157,6 +141,7 @@ export async function changePassword(
       must_change_password: 0,
       password_changed_at: new Date(),
     });
+    await rememberPassword(trx, u.id, hash);
     // Other sessions of this account end; this one continues.
     await trx('user_session').where({ user_id: u.id }).whereNot({ id: user.sessionId }).delete();
     await appendAudit(trx, {

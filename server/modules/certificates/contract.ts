@@ -3,18 +3,21 @@
  * stated content, verification report). Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
-import { type PdfSignatureCheck, signatureInput } from '../../lib/contract';
+import {
+  calendarDate,
+  multiLineText,
+  type PdfSignatureCheck,
+  signatureInput,
+  singleLineText,
+} from '../../lib/contract';
 
-const dateParam = z
-  .string()
-  .regex(/^\d{4}-\d{2}-\d{2}$/, 'Use the date format YYYY-MM-DD.')
-  .optional();
+const dateParam = calendarDate('date').optional();
 
 export const certificateListQuery = z.object({
-  lot: z.string().trim().max(60).optional(),
+  lot: singleLineText().max(60).optional(),
   lotId: z.coerce.number().int().positive().optional(),
-  material: z.string().trim().max(120).optional(),
-  number: z.string().trim().max(40).optional(),
+  material: singleLineText().max(120).optional(),
+  number: singleLineText().max(40).optional(),
   from: dateParam,
   to: dateParam,
   limit: z.coerce.number().int().min(1).max(500).default(100),
@@ -29,7 +32,7 @@ export const certificateNumberSchema = z
   .regex(/^IC-\d{4}-\d{5,}$/i, 'A certificate number looks like IC-2026-00042.');
 
 export const supersedeSchema = z.object({
-  reason: z.string().trim().min(10, 'Give the reason for the new certificate (at least 10 characters).').max(2000),
+  reason: multiLineText().min(10, 'Give the reason for the new certificate (at least 10 characters).').max(2000),
   signature: signatureInput,
 });
 

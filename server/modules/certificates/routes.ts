@@ -1,9 +1,9 @@
 /** HTTP edge of identity certificates: list, metadata, download, verification, superseding, signing identity. */
 import { Router } from 'express';
-import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { checkCertificateBytes } from '../integrity/service';
+import { uploadMiddleware } from '../../lib/upload';
 import { badRequest } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
 import { certificateListQuery, issueMissingSchema, supersedeSchema, verifyByNumberQuerySchema } from './contract';
@@ -24,10 +24,7 @@ function dayStart(d: string | undefined, end = false): Date | undefined {
 export function certificateRoutes(config: AppConfig): Router {
   service.setCertificateConfig(config);
   const r = Router();
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: config.uploadMaxBytes, files: 1 },
-  }).single('file');
+  const upload = uploadMiddleware({ maxBytes: config.uploadMaxBytes, field: 'file' });
 
   defineRoute(
     r,

@@ -20,7 +20,8 @@ import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { renderPdf } from '../../lib/pdf';
 import { getSigningIdentity, signingSettingsFrom, signPdf, verifyPdfSignature } from '../../lib/pdf-sign';
-import { prepare, readSpectrum, validateMethod, type IdentityMethod } from '../../spectra';
+import { prepare, validateMethod, type IdentityMethod } from '../../spectra';
+import { readSpectrumOff } from '../../workers/pool';
 import { gatherContent } from './content';
 import type {
   CertificateContent,
@@ -109,8 +110,8 @@ async function buildOverlay(db: Knex, content: CertificateContent): Promise<Docu
     const refRow = await db('reference_spectrum').where({ id: worst.bestReferenceId }).select('file_id').first();
     const [sf, rf] = await Promise.all([repo.fileBytes(db, measurement.file_id), repo.fileBytes(db, refRow.file_id)]);
     if (!sf || !rf) throw new Error('a raw file is missing');
-    const sample = prepare(readSpectrum(sf.data, sf.file_name), method);
-    const reference = prepare(readSpectrum(rf.data, rf.file_name), method);
+    const sample = prepare(await readSpectrumOff(sf.data, sf.file_name), method);
+    const reference = prepare(await readSpectrumOff(rf.data, rf.file_name), method);
     const svg = overlaySvg({
       grid: sample.grid,
       mask: sample.mask,

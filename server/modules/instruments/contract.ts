@@ -3,7 +3,7 @@
  * data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
-import { signatureInput, type SignatureRecord } from '../../lib/contract';
+import { multiLineText, signatureInput, type SignatureRecord, singleLineText } from '../../lib/contract';
 
 export const INSTRUMENT_TECHNIQUES = ['mid-ir', 'nir'] as const;
 export const SAMPLINGS = ['atr', 'transmission', 'diffuse-reflectance'] as const;
@@ -14,28 +14,28 @@ export const SAMPLING_LABELS: Record<(typeof SAMPLINGS)[number], string> = {
 };
 
 export const instrumentCreateSchema = z.object({
-  name: z.string().trim().min(2).max(120),
-  serialNumber: z.string().trim().min(1).max(80),
+  name: singleLineText().min(2).max(120),
+  serialNumber: singleLineText().min(1).max(80),
   technique: z.enum(INSTRUMENT_TECHNIQUES),
   sampling: z.enum(SAMPLINGS),
-  location: z.string().trim().max(160).default(''),
+  location: singleLineText().max(160).default(''),
   checkValidityHours: z
     .number()
     .int()
     .min(1)
     .max(24 * 31)
     .default(24),
-  reason: z.string().trim().max(2000).optional(),
+  reason: multiLineText().max(2000).optional(),
 });
 export type InstrumentCreate = z.infer<typeof instrumentCreateSchema>;
 /** What a client sends to register an instrument (defaults not yet applied). */
 export type InstrumentCreateInput = z.input<typeof instrumentCreateSchema>;
 
 export const instrumentUpdateSchema = z.object({
-  name: z.string().trim().min(2).max(120).optional(),
-  serialNumber: z.string().trim().min(1).max(80).optional(),
+  name: singleLineText().min(2).max(120).optional(),
+  serialNumber: singleLineText().min(1).max(80).optional(),
   sampling: z.enum(SAMPLINGS).optional(),
-  location: z.string().trim().max(160).optional(),
+  location: singleLineText().max(160).optional(),
   checkValidityHours: z
     .number()
     .int()
@@ -43,7 +43,7 @@ export const instrumentUpdateSchema = z.object({
     .max(24 * 31)
     .optional(),
   active: z.boolean().optional(),
-  reason: z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(2000),
+  reason: multiLineText().min(3, 'Give a reason (at least 3 characters).').max(2000),
 });
 export type InstrumentUpdate = z.infer<typeof instrumentUpdateSchema>;
 
@@ -62,7 +62,7 @@ export const specCreateSchema = z
     kind: z.enum(SPEC_KINDS),
     /** Required for kind "site"; ignored for the pharmacopoeial kinds (their table is used). */
     bands: z.array(checkBandSchema).min(3).max(20).optional(),
-    justification: z.string().trim().min(20, 'Write a justification of at least 20 characters.').max(4000),
+    justification: multiLineText().min(20, 'Write a justification of at least 20 characters.').max(4000),
   })
   .refine((s) => s.kind !== 'site' || (s.bands && s.bands.length >= 3), {
     message: 'A site specification needs at least three bands.',

@@ -4,10 +4,10 @@
  * instrument checks. An auditor changes nothing here; the administrator has no business here.
  */
 import { Router } from 'express';
-import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { sendCheckedFile } from '../integrity/service';
+import { uploadMiddleware } from '../../lib/upload';
 import { defineRoute, idParams } from '../../lib/http';
 import {
   checkParamsSchema,
@@ -25,10 +25,7 @@ const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as co
 
 export function instrumentRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: config.uploadMaxBytes, files: 1 },
-  }).single('file');
+  const upload = uploadMiddleware({ maxBytes: config.uploadMaxBytes, field: 'file' });
 
   defineRoute(
     r,

@@ -23,7 +23,6 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
-import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { getDb } from '../../lib/db';
 import type { SignatureInput } from '../../lib/contract';
@@ -31,13 +30,12 @@ import { checkSignatureCredentials, recordSignature, signaturesFor, toSignatureR
 import { conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import {
-  checkPolystyrene,
   PH_EUR_POLYSTYRENE_FT,
   PH_EUR_POLYSTYRENE_MONOCHROMATOR,
   type PolystyreneResult,
   type PolystyreneSpec,
-  readSpectrum,
 } from '../../spectra';
+import { instrumentCheckOff } from '../../workers/pool';
 import * as repo from './repo';
 import type {
   CheckBand,
@@ -340,16 +338,17 @@ export async function recordCheck(
   if (!file) throw unprocessable('NO_FILE', 'Choose the polystyrene film spectrum file (field "file").');
   const spec = await repo.approvedSpecOf(db, instrumentId);
   if (!spec) throw conflict('This instrument has no approved check specification; QA must approve one first.');
-  let spectrum;
+  // Reading and the polystyrene check run in the compute pool (a big file never holds the event loop).
+  let result: PolystyreneResult;
+  let sha: string;
   try {
-    spectrum = readSpectrum(new Uint8Array(file.buffer), file.originalname);
+    ({ result, sha256: sha } = await instrumentCheckOff(file, {
+      spec: engineSpecOf(spec),
+      mode: inst.sampling === 'atr' ? 'atr' : 'transmission',
+    }));
   } catch (e) {
     throw spectrumRefusal(e, file.originalname);
   }
-  const result = checkPolystyrene(spectrum, {
-    spec: engineSpecOf(spec),
-    mode: inst.sampling === 'atr' ? 'atr' : 'transmission',
-  });
   await checkSignatureCredentials(db, {
     user,
     credentials: signature,
@@ -358,7 +357,6 @@ export async function recordCheck(
     entityId: instrumentId,
     ip,
   });
-  const sha = sha256Hex(file.buffer);
   const checkId = await db.transaction(async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const current = await repo.approvedSpecOf(trx, instrumentId);
@@ -367,7 +365,7 @@ export async function recordCheck(
     const performedAt = new Date();
     const validUntil =
       result.verdict === 'pass' ? new Date(performedAt.getTime() + inst.check_validity_hours * 3600_000) : null;
-    const { id: fileId } = await storeFile(trx, file, user.id, performedAt);
+    const { id: fileId } = await storeFile(trx, file, user.id, performedAt, sha);
     const [id] = await trx('instrument_check').insert({
       instrument_id: instrumentId,
       spec_id: spec.id,

@@ -5,7 +5,7 @@
  * imports this file too.
  */
 import { z } from 'zod';
-import { signatureInput, type SignatureRecord } from '../../lib/contract';
+import { multiLineText, signatureInput, type SignatureRecord } from '../../lib/contract';
 import type { HintEntry } from '../testing/contract';
 
 export const PHASE1_ITEMS = ['instrument', 'sampleHandling', 'method', 'data'] as const;
@@ -34,7 +34,7 @@ export const PHASE1_LABELS: Record<Phase1Item, { title: string; question: string
 const checkItem = z.object({
   /** true: no laboratory error found on this point; false: an error was found. */
   ok: z.boolean(),
-  note: z.string().trim().min(3, 'Write what was checked (at least 3 characters).').max(2000),
+  note: multiLineText().min(3, 'Write what was checked (at least 3 characters).').max(2000),
 });
 
 export const phase1Schema = z.object({
@@ -42,12 +42,12 @@ export const phase1Schema = z.object({
   sampleHandling: checkItem,
   method: checkItem,
   data: checkItem,
-  summary: z.string().trim().min(10, 'Summarise the laboratory check (at least 10 characters).').max(4000),
+  summary: multiLineText().min(10, 'Summarise the laboratory check (at least 10 characters).').max(4000),
   signature: signatureInput,
 });
 export type Phase1Input = z.infer<typeof phase1Schema>;
 
-const justification = z.string().trim().min(20, 'Write a justification of at least 20 characters.').max(4000);
+const justification = multiLineText().min(20, 'Write a justification of at least 20 characters.').max(4000);
 
 export const invalidateSchema = z.object({
   /** The phase I point where the assignable laboratory error was found. */

@@ -9,7 +9,7 @@
  * size, derivative order versus polynomial, ...).
  */
 import { z } from 'zod';
-import { signatureInput, type SignatureRecord } from '../../lib/contract';
+import { multiLineText, signatureInput, type SignatureRecord, singleLineText } from '../../lib/contract';
 
 export const TECHNIQUES = ['mid-ir-atr', 'mid-ir-transmission', 'nir'] as const;
 export const TECHNIQUE_LABELS: Record<(typeof TECHNIQUES)[number], string> = {
@@ -33,7 +33,7 @@ const correlationLimit = z.number().finite().gt(-1).lte(1);
 export const identityMethodSchema = z.object({
   technique: z.enum(TECHNIQUES),
   range,
-  excludedRegions: z.array(z.object({ from: wn, to: wn, label: z.string().trim().min(1).max(80) })).max(20),
+  excludedRegions: z.array(z.object({ from: wn, to: wn, label: singleLineText().min(1).max(80) })).max(20),
   gridStep: z.number().finite().positive().max(50),
   baseline: z.enum(['none', 'offset', 'linear', 'iterative']),
   normalisation: z.enum(['none', 'snv', 'vector']),
@@ -69,11 +69,9 @@ export const identityMethodSchema = z.object({
 });
 export type IdentityMethodInput = z.infer<typeof identityMethodSchema>;
 
-export const reasonSchema = z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(2000);
+export const reasonSchema = multiLineText().min(3, 'Give a reason (at least 3 characters).').max(2000);
 /** A written justification that overrides a gate: at least 20 characters, so it says something. */
-export const justificationSchema = z
-  .string()
-  .trim()
+export const justificationSchema = multiLineText()
   .min(20, 'Write a justification of at least 20 characters.')
   .max(4000);
 
@@ -84,23 +82,23 @@ export const materialCreateSchema = z.object({
     .min(2)
     .max(40)
     .regex(/^[A-Z0-9][A-Z0-9._-]*$/, 'Use capital letters, digits, dot, dash or underscore.'),
-  name: z.string().trim().min(2).max(160),
-  grade: z.string().trim().max(120).default(''),
-  monographRef: z.string().trim().max(200).default(''),
+  name: singleLineText().min(2).max(160),
+  grade: singleLineText().max(120).default(''),
+  monographRef: singleLineText().max(200).default(''),
   techniques: z.array(z.enum(TECHNIQUES)).min(1, 'Choose at least one technique.'),
-  notes: z.string().trim().max(4000).nullable().optional(),
-  reason: z.string().trim().max(2000).optional(),
+  notes: multiLineText().max(4000).nullable().optional(),
+  reason: multiLineText().max(2000).optional(),
 });
 export type MaterialCreate = z.infer<typeof materialCreateSchema>;
 /** What a client sends to create a material (defaults not yet applied). */
 export type MaterialCreateInput = z.input<typeof materialCreateSchema>;
 
 export const materialUpdateSchema = z.object({
-  name: z.string().trim().min(2).max(160).optional(),
-  grade: z.string().trim().max(120).optional(),
-  monographRef: z.string().trim().max(200).optional(),
+  name: singleLineText().min(2).max(160).optional(),
+  grade: singleLineText().max(120).optional(),
+  monographRef: singleLineText().max(200).optional(),
   techniques: z.array(z.enum(TECHNIQUES)).min(1).optional(),
-  notes: z.string().trim().max(4000).nullable().optional(),
+  notes: multiLineText().max(4000).nullable().optional(),
   active: z.boolean().optional(),
   reason: reasonSchema,
 });
@@ -110,12 +108,12 @@ export type MaterialUpdateInput = z.input<typeof materialUpdateSchema>;
 export const methodCreateSchema = z.object({
   /** Full parameters; when absent the new draft copies the latest version (or the engine default). */
   params: identityMethodSchema.optional(),
-  changeNote: z.string().trim().max(2000).optional(),
+  changeNote: multiLineText().max(2000).optional(),
 });
 
 export const methodUpdateSchema = z.object({
   params: identityMethodSchema.optional(),
-  changeNote: z.string().trim().max(2000).optional(),
+  changeNote: multiLineText().max(2000).optional(),
   reason: reasonSchema,
 });
 export type MethodUpdateInput = z.input<typeof methodUpdateSchema>;
@@ -123,7 +121,7 @@ export type MethodUpdateInput = z.input<typeof methodUpdateSchema>;
 export const bandEditSchema = z.object({
   position: z.number().finite().positive().max(15000),
   /** QA's own assignment text; when empty the correlation table's assignment is used. */
-  assignment: z.string().trim().max(300).optional(),
+  assignment: singleLineText().max(300).optional(),
 });
 export const bandsUpdateSchema = z.object({
   bands: z.array(bandEditSchema).max(200),
@@ -132,9 +130,9 @@ export const bandsUpdateSchema = z.object({
 export type BandsUpdateInput = z.input<typeof bandsUpdateSchema>;
 
 export const referenceUploadFieldsSchema = z.object({
-  supplier: z.string().trim().max(160).default(''),
-  supplierLot: z.string().trim().max(80).default(''),
-  measuredHow: z.string().trim().max(2000).default(''),
+  supplier: singleLineText().max(160).default(''),
+  supplierLot: singleLineText().max(80).default(''),
+  measuredHow: multiLineText().max(2000).default(''),
   instrumentId: z.preprocess(
     (v) => (v === '' || v === undefined || v === null ? undefined : v),
     z.coerce.number().int().positive().optional(),

@@ -1,21 +1,14 @@
 /**
  * The library's small adapter over the spectral engine (server/spectra/index.ts): reading a
  * stored file into a spectrum (cached by file id: stored files never change), picking the
- * characteristic bands of a reference with their group-frequency assignment, and reading an
- * uploaded file (a SpectrumError becomes the API's 422 naming the file, server/lib/errors.ts).
+ * characteristic bands of a reference with their group-frequency assignment. Uploads are read in
+ * the compute pool (server/workers/pool.ts); a SpectrumError becomes the API's 422 naming the file
+ * (server/lib/errors.ts).
  */
-import { spectrumRefusal } from '../../lib/errors';
 import type { Db } from '../../lib/db';
-import {
-  type Band,
-  type IdentityMethod,
-  prepare,
-  readSpectrum,
-  shapeOf,
-  describeAssignment,
-  type Spectrum,
-} from '../../spectra';
+import { type Band, type IdentityMethod, prepare, shapeOf, describeAssignment, type Spectrum } from '../../spectra';
 import type { IdentityMethodInput, StoredBand } from './contract';
+import { readSpectrumOff } from '../../workers/pool';
 
 // Compile-time: a method validated by the contract's schema is an engine IdentityMethod and vice versa.
 type Same<A, B> = [A] extends [B] ? ([B] extends [A] ? true : false) : false;
@@ -25,15 +18,6 @@ void _methodShapeMatches;
 /** "C=O stretch, ester (1735-1750 cm-1, strong)" - the most likely group-frequency assignment (engine table). */
 export function assignmentText(position: number, width?: number): string {
   return describeAssignment(position, width === undefined ? undefined : shapeOf(width));
-}
-
-/** Reads one uploaded file; a SpectrumError becomes 422 naming the file, with the engine's sentence. */
-export function readUploaded(data: Uint8Array, fileName: string): Spectrum {
-  try {
-    return readSpectrum(data, fileName);
-  } catch (e) {
-    throw spectrumRefusal(e, fileName);
-  }
 }
 
 /**
@@ -73,13 +57,13 @@ export function round(v: number, digits: number): number {
 const spectrumCache = new Map<number, Spectrum>();
 const MAX_CACHED = 5000;
 
-/** The spectrum of a stored file (parsed once per process; the bytes never change). */
+/** The spectrum of a stored file (parsed once per process, in the compute pool; the bytes never change). */
 export async function spectrumOfFile(db: Db, fileId: number): Promise<Spectrum> {
   const hit = spectrumCache.get(fileId);
   if (hit) return hit;
   const f = await db('stored_file').where({ id: fileId }).first();
   if (!f) throw new Error(`stored file ${fileId} is missing`);
-  const s = readSpectrum(new Uint8Array(f.data as Buffer), String(f.file_name));
+  const s = await readSpectrumOff(new Uint8Array(f.data as Buffer), String(f.file_name));
   if (spectrumCache.size >= MAX_CACHED) spectrumCache.delete(spectrumCache.keys().next().value as number);
   spectrumCache.set(fileId, s);
   return s;

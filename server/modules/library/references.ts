@@ -24,12 +24,12 @@ import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, badRequest, conflict, forbidden, notFound, spectrumRefusal } from '../../lib/errors';
-import { sha256Hex } from '../../lib/canonical';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
-import { checkQuality, type IdentityMethod, prepare } from '../../spectra';
+import type { IdentityMethod, Spectrum } from '../../spectra';
+import { referenceOff } from '../../workers/pool';
 import { invalidateLibraryCache } from './approved-set';
-import { assignmentText, pickBands, readUploaded, round, spectrumOfFile } from './engine';
+import { assignmentText, round, spectrumOfFile } from './engine';
 import type {
   GateReport,
   ReferenceDetail,
@@ -80,25 +80,26 @@ export async function uploadReferences(
   const methodRow = await currentMethod(db, materialId);
   const method = JSON.parse(methodRow.params) as IdentityMethod;
 
-  // 1. Read, check and pick bands for every file before writing anything.
-  const parsed = files.map((f) => {
-    const spectrum = readUploaded(new Uint8Array(f.buffer), f.originalname);
+  // 1. Read, check and pick bands for every file before writing anything (in the compute pool,
+  //    one file after another, so a batch of big files never holds the event loop).
+  const parsed: { file: UploadedFile; spectrum: Spectrum; bands: StoredBand[]; sha256: string }[] = [];
+  for (const f of files) {
+    let out: Awaited<ReturnType<typeof referenceOff>>;
     try {
-      const q = checkQuality(spectrum, method);
-      if (!q.ok) {
-        const p = q.problems[0];
-        throw new AppError(422, p.code, `${f.originalname}: ${p.message} ${p.advice}`.trim(), {
-          fileName: f.originalname,
-          code: p.code,
-          problems: q.problems,
-        });
-      }
-      prepare(spectrum, method); // refuses a spectrum that does not cover the method range
-      return { file: f, spectrum, bands: pickBands(spectrum, method), sha256: sha256Hex(f.buffer) };
+      out = await referenceOff(f, method);
     } catch (e) {
       throw spectrumRefusal(e, f.originalname);
     }
-  });
+    if (!out.quality.ok) {
+      const p = out.quality.problems[0];
+      throw new AppError(422, p.code, `${f.originalname}: ${p.message} ${p.advice}`.trim(), {
+        fileName: f.originalname,
+        code: p.code,
+        problems: out.quality.problems,
+      });
+    }
+    parsed.push({ file: f, spectrum: out.spectrum, bands: out.bands, sha256: out.sha256 });
+  }
 
   // 2. One transaction for the whole batch.
   const actor: Actor = { id: user.id, name: user.fullName };
@@ -110,7 +111,7 @@ export async function uploadReferences(
     const now = new Date();
     for (const p of parsed) {
       seq++;
-      const { id: fileId } = await storeFile(trx, p.file, user.id, now);
+      const { id: fileId } = await storeFile(trx, p.file, user.id, now, p.sha256);
       const code = `REF-${mat.code}-${String(seq).padStart(4, '0')}`;
       const meta = {
         ...p.spectrum.meta,

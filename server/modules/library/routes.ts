@@ -3,10 +3,10 @@
  * (server-enforced here through defineRoute; the uploader-is-not-approver rule in the service).
  */
 import { Router } from 'express';
-import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { sendCheckedFile } from '../integrity/service';
+import { uploadMiddleware } from '../../lib/upload';
 import { defineRoute, idParams } from '../../lib/http';
 import * as refs from './references';
 import {
@@ -35,10 +35,7 @@ export const MAX_FILES_PER_UPLOAD = 20;
 
 export function libraryRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: config.uploadMaxBytes, files: MAX_FILES_PER_UPLOAD },
-  }).array('files', MAX_FILES_PER_UPLOAD);
+  const upload = uploadMiddleware({ maxBytes: config.uploadMaxBytes, field: 'files', maxFiles: MAX_FILES_PER_UPLOAD });
 
   // ---- materials
   defineRoute(

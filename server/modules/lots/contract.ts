@@ -4,30 +4,24 @@
  * the same rules as the server.
  */
 import { z } from 'zod';
+import { calendarDate, multiLineText, singleLineText } from '../../lib/contract';
 import type { PersonRef, SignatureRecord } from '../../lib/contract';
 
 /** Most containers one lot may have (labels carry a 3-digit sequence). */
 export const MAX_CONTAINERS = 999;
 
-const isoDate = z
-  .string()
-  .regex(/^\d{4}-\d{2}-\d{2}$/, 'Give the date as YYYY-MM-DD.')
-  .refine(
-    (s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().slice(0, 10) === s,
-    'This is not a calendar date.',
-  );
-
 export const lotCreateSchema = z.object({
   materialId: z.number().int().positive('Choose the material grade.'),
-  supplier: z.string().trim().min(2, 'Name the supplier.').max(160),
-  supplierLot: z.string().trim().min(1, "Give the supplier's lot number.").max(80),
+  supplier: singleLineText().min(2, 'Name the supplier.').max(160),
+  supplierLot: singleLineText().min(1, "Give the supplier's lot number.").max(80),
   containerCount: z
     .number()
     .int('The number of containers is a whole number.')
     .min(1, 'A lot has at least 1 container.')
     .max(MAX_CONTAINERS, `A lot has at most ${MAX_CONTAINERS} containers.`),
-  receivedDate: isoDate,
-  notes: z.string().trim().max(4000).nullable().optional(),
+  /** Not before 2000-01-01 (a year typed wrong); a date after the site's today is refused by the service. */
+  receivedDate: calendarDate('received date'),
+  notes: multiLineText().max(4000).nullable().optional(),
 });
 export type LotCreate = z.infer<typeof lotCreateSchema>;
 
@@ -58,7 +52,7 @@ export const IDENTITY_STATUS_LABELS: Record<IdentityStatus, string> = {
 
 export const lotListQuerySchema = z.object({
   identityStatus: z.enum(IDENTITY_STATUSES).optional(),
-  search: z.string().trim().max(80).optional(),
+  search: singleLineText().max(80).optional(),
 });
 
 /** State of one test attempt of a lot. */

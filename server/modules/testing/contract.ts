@@ -3,7 +3,14 @@
  * and response shapes. Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
-import { type PersonRef, type Role, signatureInput, type SignatureRecord } from '../../lib/contract';
+import {
+  multiLineText,
+  type PersonRef,
+  type Role,
+  signatureInput,
+  type SignatureRecord,
+  singleLineText,
+} from '../../lib/contract';
 import type { RecordIntegrity } from '../integrity/contract';
 import type { IdentityStatus, LotStatus, LotSummary, MeasurementVerdict, TestStatus } from '../lots/contract';
 
@@ -17,14 +24,14 @@ export const switchInstrumentSchema = startTestSchema;
 
 /** Multi-file upload, step 1: match file names to containers (stores nothing). */
 export const matchFilesSchema = z.object({
-  fileNames: z.array(z.string().min(1).max(255)).min(1, 'Choose at least one file.').max(999),
+  fileNames: z.array(singleLineText().min(1).max(255)).min(1, 'Choose at least one file.').max(999),
 });
 
 /** Multipart fields of a measurement upload besides the file: which container (id or scanned label). */
 export const measurementFieldsSchema = z
   .object({
     containerId: z.coerce.number().int().positive().optional(),
-    label: z.string().trim().max(60).optional(),
+    label: singleLineText().max(60).optional(),
   })
   .refine((v) => v.containerId !== undefined || (v.label ?? '') !== '', {
     message: 'Say which container this spectrum belongs to (container or label).',
@@ -34,11 +41,11 @@ export const performSchema = z.object({ signature: signatureInput });
 
 export const verifySchema = z.object({
   signature: signatureInput,
-  comment: z.string().trim().max(2000).optional(),
+  comment: multiLineText().max(2000).optional(),
 });
 
 export const returnSchema = z.object({
-  reason: z.string().trim().min(10, 'Say why the test goes back (at least 10 characters).').max(2000),
+  reason: multiLineText().min(10, 'Say why the test goes back (at least 10 characters).').max(2000),
   signature: signatureInput,
 });
 

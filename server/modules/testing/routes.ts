@@ -1,9 +1,9 @@
 /** HTTP edge of identity testing, verification and the work queue. */
 import { Router } from 'express';
-import multer from 'multer';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { sendCheckedFile } from '../integrity/service';
+import { uploadMiddleware } from '../../lib/upload';
 import { notFound } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
 import { listInstrumentStatuses } from './instrument-status';
@@ -27,10 +27,7 @@ const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as co
 
 export function testingRoutes(config: AppConfig): Router {
   const r = Router();
-  const upload = multer({
-    storage: multer.memoryStorage(),
-    limits: { fileSize: config.uploadMaxBytes, files: 1 },
-  }).single('file');
+  const upload = uploadMiddleware({ maxBytes: config.uploadMaxBytes, field: 'file' });
 
   defineRoute(
     r,

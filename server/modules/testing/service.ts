@@ -11,11 +11,11 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
-import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
 import { AppError, badRequest, conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { type IdentityResult, readSpectrum, scoreAgainst, type Spectrum } from '../../spectra';
+import type { Spectrum } from '../../spectra';
+import { measureOff } from '../../workers/pool';
 import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
 import * as lots from '../lots/repo';
 import { loadContext } from './context';
@@ -215,14 +215,6 @@ export interface UploadedFile {
   size: number;
 }
 
-function readOrRefuse(file: UploadedFile): Spectrum {
-  try {
-    return readSpectrum(new Uint8Array(file.buffer), file.originalname);
-  } catch (e) {
-    throw spectrumRefusal(e, file.originalname);
-  }
-}
-
 /** "Closest approved materials: ..." over the whole approved library; advisory, never blocks a measurement. */
 async function libraryHint(
   db: Knex,
@@ -293,35 +285,37 @@ export async function addMeasurement(
   const set = await approvedSetFor(ctx.lot.material.id, db);
   const instrument = await usableInstrument(db, ctx.test.instrument_id, set.method.technique);
 
-  const spectrum = readOrRefuse(file);
-  let result: IdentityResult;
+  // Reading and scoring run in the compute pool: a big file never holds the event loop.
+  let run: Awaited<ReturnType<typeof measureOff>>;
   try {
-    result = scoreAgainst(
-      spectrum,
+    run = await measureOff(
+      file,
       set.references.map((r) => r.prepared),
       set.method.params,
     );
   } catch (e) {
     throw spectrumRefusal(e, file.originalname);
   }
+  const { result, meta, sha256: sha } = run;
   const hint =
-    result.verdict === 'fail' ? await libraryHint(db, spectrum, set.method.params, ctx.lot.material.id) : null;
+    result.verdict === 'fail' && run.spectrum
+      ? await libraryHint(db, run.spectrum, set.method.params, ctx.lot.material.id)
+      : null;
   const stored: StoredResult = {
     ...result,
     libraryHint: hint?.hint ?? null,
     libraryHintText: hint?.text ?? null,
     sampleMeta: {
-      title: spectrum.meta.title,
-      format: spectrum.meta.format,
-      originalXUnits: spectrum.meta.originalXUnits,
-      originalYUnits: spectrum.meta.originalYUnits,
-      points: spectrum.meta.points,
-      warnings: spectrum.meta.warnings,
+      title: meta.title,
+      format: meta.format,
+      originalXUnits: meta.originalXUnits,
+      originalYUnits: meta.originalYUnits,
+      points: meta.points,
+      warnings: meta.warnings,
     },
   };
   const best = result.references.find((r) => r.referenceId === result.bestReferenceId);
   const score = best ? best.correlation : null;
-  const sha = sha256Hex(file.buffer);
 
   const id = await db.transaction(async (trx) => {
     // Locking the test serialises uploads of one attempt (kept in order) and signing against uploads.
@@ -329,7 +323,7 @@ export async function addMeasurement(
     if (!t || t.status !== 'in-progress') throw conflict('The test is no longer in progress; nothing was stored.');
     assertNotFailed(await repo.measurementsOfTest(trx, testId), testId, container);
     const now = new Date();
-    const { id: fileId } = await storeFile(trx, file, user.id, now);
+    const { id: fileId } = await storeFile(trx, file, user.id, now, sha);
     const mid = await repo.insertMeasurement(trx, {
       test_id: testId,
       container_id: container.id,

@@ -9,7 +9,8 @@ import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
 import { notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { type IdentityMethod, prepare, readSpectrum, type Spectrum } from '../../spectra';
+import { type IdentityMethod, prepare, type Spectrum } from '../../spectra';
+import { readSpectrumOff } from '../../workers/pool';
 import { loadContext } from './context';
 import { toCheckInfo } from './instrument-status';
 import { inScope, latestByContainer, readiness } from './outcome';
@@ -148,7 +149,7 @@ const plotCache = new Map<number, MeasurementPlotData>();
 async function spectrumOfFile(db: Knex, fileId: number): Promise<Spectrum> {
   const f = await db('stored_file').where({ id: fileId }).first();
   if (!f) throw notFound('The stored file');
-  return readSpectrum(new Uint8Array(f.data as Buffer), String(f.file_name));
+  return readSpectrumOff(new Uint8Array(f.data as Buffer), String(f.file_name));
 }
 
 function thin(x: ArrayLike<number>, ys: ArrayLike<number>[], max = 4000) {

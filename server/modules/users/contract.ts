@@ -3,9 +3,9 @@
  * Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
-import { ROLES, signatureInput, type Role } from '../../lib/contract';
+import { multiLineText, type Role, ROLES, signatureInput, singleLineText } from '../../lib/contract';
 
-const reason = z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(1000);
+const reason = multiLineText().min(3, 'Give a reason (at least 3 characters).').max(1000);
 export const userCreateSchema = z.object({
   username: z
     .string()
@@ -13,13 +13,13 @@ export const userCreateSchema = z.object({
     .min(3)
     .max(64)
     .regex(/^[a-z0-9._-]+$/, 'Use lower-case letters, digits, dot, dash or underscore.'),
-  fullName: z.string().trim().min(2).max(120),
+  fullName: singleLineText().min(2).max(120),
   email: z.email().max(200),
   roles: z.array(z.enum(ROLES)).min(1, 'Give the account at least one role.'),
   temporaryPassword: z.string().min(12, 'The password must have at least 12 characters.').max(200),
 });
 export const userUpdateSchema = z.object({
-  fullName: z.string().trim().min(2).max(120).optional(),
+  fullName: singleLineText().min(2).max(120).optional(),
   email: z.email().max(200).optional(),
   roles: z.array(z.enum(ROLES)).min(1).optional(),
   active: z.boolean().optional(),

@@ -6,7 +6,13 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
-import { hashPassword, passwordProblem } from '../../lib/passwords';
+import {
+  hashPassword,
+  isRecentPassword,
+  PASSWORD_HISTORY,
+  passwordProblem,
+  rememberPassword,
+} from '../../lib/passwords';
 import { invalidateUserSessions } from '../../lib/sessions';
 import { canonicalRoles, type Role } from '../../lib/contract';
 import { assertNotSelfStatus, assertRolesAllowed, changeRoles, splitChange } from './grants';
@@ -23,7 +29,11 @@ export interface NewUser {
 
 export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: string | null): Promise<UserAccount> {
   assertRolesAllowed(input.roles);
-  const p = passwordProblem(input.temporaryPassword, input.username);
+  const p = await passwordProblem(input.temporaryPassword, {
+    username: input.username,
+    fullName: input.fullName,
+    email: input.email,
+  });
   if (p) throw badRequest(p);
   if (await repo.findByUsername(db, input.username))
     throw conflict(`The user name "${input.username}" is already taken.`);
@@ -47,6 +57,7 @@ export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: str
     });
     // The roles that need no confirmation are granted at once and recorded in user.created; the
     // rest becomes a request for a second administrator, audited after it.
+    await rememberPassword(trx, id, hash);
     const split = splitChange([], input.roles);
     const needsConfirmation = split.confirm.length !== split.now.length;
     await changeRoles(trx, actor, (await repo.findById(trx, id))!, input.roles, 'roles of the new account', ip, {
@@ -159,8 +170,16 @@ export async function resetPassword(
 ): Promise<UserAccount> {
   const target = await repo.findById(db, id);
   if (!target) throw notFound('The account');
-  const p = passwordProblem(temporaryPassword, target.username);
+  const p = await passwordProblem(temporaryPassword, {
+    username: target.username,
+    fullName: target.full_name,
+    email: target.email,
+  });
   if (p) throw badRequest(p);
+  if (await isRecentPassword(db, target, temporaryPassword))
+    throw badRequest(
+      `The temporary password must differ from the account's last ${PASSWORD_HISTORY} passwords. Choose another one.`,
+    );
   const hash = await hashPassword(temporaryPassword);
   return db.transaction(async (trx) => {
     await repo.updateUser(trx, id, {
@@ -169,6 +188,7 @@ export async function resetPassword(
       failed_attempts: 0,
       locked_until: null,
     });
+    await rememberPassword(trx, id, hash);
     await invalidateUserSessions(trx, id);
     const after = (await repo.findById(trx, id))!;
     await appendAudit(trx, {

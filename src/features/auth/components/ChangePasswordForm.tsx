@@ -52,7 +52,7 @@ export function ChangePasswordForm({ username, forced, onChanged }: ChangePasswo
       <Field
         id="newPassword"
         label="New password"
-        hint={`At least ${MIN_PASSWORD_LENGTH} characters, not containing your user name.`}
+        hint={`At least ${MIN_PASSWORD_LENGTH} characters, hard to guess (a few unrelated words work well), without your user name, and none of your last five passwords.`}
         error={e.newPassword?.message}
       >
         <Input

@@ -76,7 +76,7 @@ export function CreateUserForm({
       <Field
         id="new-password"
         label="Temporary password"
-        hint="At least 12 characters. The person must change it at first sign-in; hand it over in person."
+        hint="At least 12 characters and hard to guess (a few unrelated words work well). The person must change it at first sign-in; hand it over in person."
         error={e.temporaryPassword?.message}
       >
         <div className="flex gap-2">

@@ -30,7 +30,7 @@ export function ResetPasswordForm({
       <Field
         id="reset-password"
         label="Temporary password"
-        hint="At least 12 characters. The person must change it at next sign-in; their open sessions end."
+        hint="At least 12 characters, hard to guess, not one of the account's last five passwords. The person must change it at next sign-in; their open sessions end."
         error={e.temporaryPassword?.message}
       >
         <div className="flex gap-2">

@@ -1,0 +1,58 @@
+/** The tasks of the compute pool and their results (shared by server/workers/pool.ts and the worker). */
+import type {
+  IdentityMethod,
+  IdentityResult,
+  PolystyreneOptions,
+  PolystyreneResult,
+  PreparedReference,
+  QualityReport,
+  Spectrum,
+  SpectrumMeta,
+} from '../spectra';
+import type { StoredBand } from '../modules/library/contract';
+
+export type Task =
+  | { op: 'sha256'; bytes: Uint8Array }
+  | { op: 'read'; bytes: Uint8Array; fileName: string }
+  | { op: 'measure'; bytes: Uint8Array; fileName: string; references: PreparedReference[]; method: IdentityMethod }
+  | { op: 'instrument-check'; bytes: Uint8Array; fileName: string; options: PolystyreneOptions }
+  | { op: 'reference'; bytes: Uint8Array; fileName: string; method: IdentityMethod }
+  | { op: 'password'; password: string; userInputs: string[] };
+
+export interface MeasureOutput {
+  meta: SpectrumMeta;
+  /** the sample as read: only when the verdict is fail (for the mix-up hint), else null */
+  spectrum: Spectrum | null;
+  result: IdentityResult;
+  sha256: string;
+}
+export interface InstrumentCheckOutput {
+  result: PolystyreneResult;
+  sha256: string;
+}
+export interface ReferenceOutput {
+  spectrum: Spectrum;
+  quality: QualityReport;
+  bands: StoredBand[];
+  sha256: string;
+}
+export interface StrengthOutput {
+  /** zxcvbn score 0-4 */
+  score: number;
+  guessesLog10: number;
+  warning: string | null;
+  suggestions: string[];
+}
+
+export interface WorkerError {
+  name: string;
+  code?: string;
+  message: string;
+  details?: unknown;
+  stack?: string;
+}
+
+export type TaskResult = { ok: true; value: unknown } | { ok: false; error: WorkerError };
+
+/** What the worker sends back: the result and the bytes the task was lent (moved back). */
+export type TaskReply = TaskResult & { bytes?: Uint8Array };
