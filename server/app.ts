@@ -28,6 +28,8 @@ import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
+import { httpLogger } from './lib/log';
+import { metricsMiddleware, setMetricsDb } from './lib/metrics';
 
 export interface CreateAppOptions {
   config?: Partial<AppConfig>;
@@ -37,13 +39,15 @@ export interface CreateAppOptions {
 
 export function createApp(opts: CreateAppOptions = {}): { app: Express; config: AppConfig } {
   const config = loadConfig(opts.config);
-  initDb(opts.database);
+  setMetricsDb(initDb(opts.database));
   const app = express();
   app.disable('x-powered-by');
   // X-Forwarded-For only from the configured proxies (none by default): req.ip is the real client.
   app.set('trust proxy', config.trustedProxies.length ? config.trustedProxies : false);
   setLockoutPolicy({ attempts: config.lockoutAttempts, minutes: config.lockoutMinutes });
   app.locals.config = config;
+  app.use(httpLogger());
+  app.use(metricsMiddleware());
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -68,7 +72,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
-    systemRoutes(),
+    systemRoutes(config),
     authRoutes(config),
     userRoutes(),
     mailRoutes(config),

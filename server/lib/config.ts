@@ -33,6 +33,10 @@ export interface AppConfig {
    */
   trustedProxies: string[];
   devMode: boolean;
+  /** Bearer token of the metrics scraper (METRICS_TOKEN, at least 24 characters); unset = administrators only. */
+  metricsToken?: string;
+  /** How long a stopping server waits for requests in flight before it exits (SHUTDOWN_GRACE_MS). */
+  shutdownGraceMs: number;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
   signingP12Passphrase?: string;
@@ -65,6 +69,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       .map((s) => s.trim())
       .filter(Boolean),
     devMode: process.env.NODE_ENV !== 'production',
+    metricsToken: process.env.METRICS_TOKEN || undefined,
+    shutdownGraceMs: num('SHUTDOWN_GRACE_MS', 10_000),
     smtp: smtpHost
       ? {
           host: smtpHost,
@@ -78,5 +84,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signingP12Path: process.env.SIGNING_P12_PATH,
     signingP12Passphrase: process.env.SIGNING_P12_PASSPHRASE,
   };
-  return { ...base, ...overrides };
+  const out = { ...base, ...overrides };
+  if (out.metricsToken !== undefined && out.metricsToken.length < 24)
+    throw new Error('METRICS_TOKEN must be at least 24 characters long (a random secret), or unset');
+  return out;
 }

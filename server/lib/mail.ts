@@ -12,6 +12,9 @@ import { parseJson } from './db';
 import type { Role } from './contract';
 import { startFakeSmtp } from './fake-smtp';
 import { startJob, type RunningJob } from './lease';
+import { childLog, safeError } from './log';
+
+const mailLog = childLog('mail');
 
 export const MAX_ATTEMPTS = 8;
 
@@ -80,7 +83,7 @@ export async function initMail(config: AppConfig): Promise<void> {
   } else {
     const port = await startFakeSmtp(Number(process.env.DEV_SMTP_PORT ?? 0));
     transporter = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
-    console.log(`[mail] development: a local fake SMTP server on 127.0.0.1:${port} captures all mail`);
+    mailLog.info({ port }, 'development: a local fake SMTP server on loopback captures all mail');
   }
 }
 
@@ -116,9 +119,7 @@ export async function processOutbox(db: Knex, limit = 20): Promise<number> {
           last_error: String((e as Error).message ?? e).slice(0, 2000),
           next_attempt_at: new Date(Date.now() + delayMs),
         });
-      console.error(
-        `[mail] sending #${m.id} failed (attempt ${attempts}${failed ? ', giving up' : ''}): ${(e as Error).message}`,
-      );
+      mailLog.error({ mailId: m.id, attempts, gaveUp: failed, err: safeError(e) }, 'sending failed');
     }
   }
   return sent;

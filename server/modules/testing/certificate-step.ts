@@ -4,6 +4,7 @@
  * verification: the lot then shows "certificate pending" (no certificate row yet) and the
  * certificates module can issue it later.
  */
+import { childLog, safeError } from '../../lib/log';
 import type { Knex } from 'knex';
 import type { Actor } from '../../lib/audit';
 import { issueCertificate } from '../certificates';
@@ -16,9 +17,9 @@ export async function runCertificateStep(
     await issueCertificate(db, args);
     return 'issued';
   } catch (e) {
-    console.error(
-      `[certificate] lot ${args.lotId}: the certificate could not be issued now; it stays pending:`,
-      (e as Error).message,
+    childLog('certificate').error(
+      { lotId: args.lotId, err: safeError(e) },
+      'the certificate could not be issued now; it stays pending',
     );
     return 'pending';
   }

@@ -9,6 +9,7 @@
  * result in the attempt is a FAIL cannot be measured again in that attempt; the only way to
  * a new result is QA invalidating it in an investigation and authorising a retest attempt.
  */
+import { childLog, safeError } from '../../lib/log';
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { storeFile } from '../../lib/files';
@@ -242,7 +243,7 @@ async function libraryHint(
       : 'Closest approved materials: none found in the approved library for this technique.';
     return { hint, text };
   } catch (e) {
-    console.error('[testing] library search for the mix-up hint failed:', (e as Error).message);
+    childLog('testing').error({ err: safeError(e) }, 'library search for the mix-up hint failed');
     return { hint: null, text: 'Closest approved materials: the library search was not available.' };
   }
 }
