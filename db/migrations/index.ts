@@ -15,6 +15,7 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m130 from './130_mail_claim';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -33,6 +34,7 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['130_mail_claim', m130],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {

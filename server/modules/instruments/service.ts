@@ -21,6 +21,7 @@
  * - "Check due": no passing check whose validity has not ended. getValidInstrumentCheck is the
  *   testing module's gate.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { storeFile } from '../../lib/files';
@@ -143,7 +144,7 @@ export async function createInstrument(
 ): Promise<InstrumentDetail> {
   if (await db('instrument').where({ name: input.name }).first())
     throw conflict(`An instrument named "${input.name}" already exists.`);
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const now = new Date();
     const [id] = await trx('instrument').insert({
       name: input.name,
@@ -202,7 +203,7 @@ export async function updateInstrument(
   patch: InstrumentUpdate,
   ip: string | null,
 ): Promise<InstrumentDetail> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const before = await trx('instrument').where({ id }).forUpdate().first();
     if (!before) throw notFound('The instrument');
     const upd: Record<string, unknown> = { updated_at: new Date() };
@@ -259,7 +260,7 @@ export async function approveSpec(
     ip,
   });
   const actor: Actor = { id: user.id, name: user.fullName };
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const latest = await trx('instrument_check_spec')
       .where({ instrument_id: instrumentId })
@@ -357,7 +358,7 @@ export async function recordCheck(
     entityId: instrumentId,
     ip,
   });
-  const checkId = await db.transaction(async (trx) => {
+  const checkId = await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const current = await repo.approvedSpecOf(trx, instrumentId);
     if (!current || current.id !== spec.id)
