@@ -26,6 +26,7 @@ import { lotRoutes } from './modules/lots/routes';
 import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
+import { archiveRoutes } from './modules/archive/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 import { httpLogger } from './lib/log';
@@ -84,6 +85,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    archiveRoutes(config),
   ];
   for (const r of routers) app.use(r);
 

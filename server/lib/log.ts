@@ -6,7 +6,7 @@
  * file bytes) or an SQL statement with its data (`safeError`). GMP events are audit events in the
  * database (server/lib/audit.ts); a log line is for operating the system, never the record.
  *
- * LOG_LEVEL: fatal, error, warn, info (default), debug, silent; under vitest the default is warn.
+ * LOG_LEVEL: fatal, error, warn, info (default), debug, silent; under vitest the default is error.
  */
 import crypto from 'node:crypto';
 import type { IncomingMessage, ServerResponse } from 'node:http';
@@ -14,7 +14,7 @@ import type { Request, RequestHandler } from 'express';
 import pino, { type Logger } from 'pino';
 import { pinoHttp } from 'pino-http';
 
-const level = process.env.LOG_LEVEL ?? (process.env.VITEST ? 'warn' : 'info');
+const level = process.env.LOG_LEVEL ?? (process.env.VITEST ? 'error' : 'info');
 
 /** The process's logger; modules take a child with their own `component`. */
 export const log: Logger = pino({
