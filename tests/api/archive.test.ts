@@ -54,7 +54,7 @@ function unzip(buf: Buffer): Promise<Map<string, Buffer>> {
   });
 }
 
-const binary = (res: import('superagent').Response, cb: (e: Error | null, b: Buffer) => void) => {
+const binary = (res: NodeJS.ReadableStream, cb: (e: Error | null, b: Buffer) => void) => {
   const chunks: Buffer[] = [];
   res.on('data', (c: Buffer) => chunks.push(c));
   res.on('end', () => cb(null, Buffer.concat(chunks)));
