@@ -10,6 +10,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import yauzl from 'yauzl';
+import type { Response as AgentResponse } from 'superagent';
 import { convert } from 'jcampconverter';
 import { createHash } from 'node:crypto';
 import { rowHash, type AuditRow } from '../../server/lib/audit';
@@ -54,10 +55,11 @@ function unzip(buf: Buffer): Promise<Map<string, Buffer>> {
   });
 }
 
-const binary = (res: NodeJS.ReadableStream, cb: (e: Error | null, b: Buffer) => void) => {
+const binary = (res: AgentResponse, cb: (e: Error | null, b: Buffer) => void) => {
   const chunks: Buffer[] = [];
-  res.on('data', (c: Buffer) => chunks.push(c));
-  res.on('end', () => cb(null, Buffer.concat(chunks)));
+  const stream = res as unknown as NodeJS.ReadableStream;
+  stream.on('data', (c: Buffer) => chunks.push(c));
+  stream.on('end', () => cb(null, Buffer.concat(chunks)));
 };
 
 let olga: Signed;
