@@ -14,6 +14,7 @@ const BENCHES: Record<string, Bench> = {
   audit: async (args) => (await import('./audit')).runAuditBench(args),
   certificate: async () => (await import('./certificate')).runCertificateBench(),
   health: async () => (await import('./health')).runHealthBench(),
+  load: async () => (await import('./load')).runLoadBench(),
 };
 
 const OPT_IN = new Set(['audit']);
