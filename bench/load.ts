@@ -228,10 +228,27 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
     // Warm-up: worker threads, approved-set cache, JIT.
     await uploads(2, 3);
     const out: Figures[] = [];
+    // Where the time goes: InnoDB row-lock waits (the audit head row, the test row) during each level.
+    const lockStats = async () => {
+      const [rows] = (await owner.raw(
+        "SHOW GLOBAL STATUS WHERE Variable_name IN ('Innodb_row_lock_waits', 'Innodb_row_lock_time')",
+      )) as [{ Variable_name: string; Value: string }[]];
+      return Object.fromEntries(rows.map((r) => [r.Variable_name, Number(r.Value)]));
+    };
+    const [[flush]] = (await owner.raw('SELECT @@innodb_flush_log_at_trx_commit AS f')) as [{ f: number }[]];
+    console.log(`[load] innodb_flush_log_at_trx_commit=${flush.f} (1: every commit waits for the redo log flush)`);
     for (const clients of [1, 5, 20]) {
+      const l0 = await lockStats();
       const f = figures('upload + read + score', clients, await uploads(clients, SECONDS));
+      const l1 = await lockStats();
       out.push(f);
-      console.log('[load] ' + line(f));
+      const waits = l1.Innodb_row_lock_waits - l0.Innodb_row_lock_waits;
+      const waitMs = l1.Innodb_row_lock_time - l0.Innodb_row_lock_time;
+      console.log(
+        '[load] ' +
+          line(f) +
+          `  row-lock waits ${waits} (${f.total ? (waitMs / f.total).toFixed(0) : 0} ms per upload)`,
+      );
     }
 
     // Read pages at 5 clients.
