@@ -75,7 +75,9 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
   });
   const { instrumentId } = await seedInstrument(rt, qa, { name: uname('FTIR-CS-'), state: 'valid' });
   const operator = await mk(['operator']);
-  const verifiers = await Promise.all(Array.from({ length: 10 }, () => mk(['verifier'])));
+  // One after the other: site setup is a one-time command, not a concurrent path.
+  const verifiers: Awaited<ReturnType<typeof mk>>[] = [];
+  for (let i = 0; i < 10; i++) verifiers.push(await mk(['verifier']));
 
   // A request to server i, again on another server while one answers 503 (its database node is gone).
   async function call(i: number, send: (base: string) => request.Test): Promise<request.Response> {
