@@ -23,6 +23,7 @@ import { pickBands } from '../../server/modules/library/engine';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,
+  estimateNoise,
   type IdentityMethod,
   PH_EUR_POLYSTYRENE_FT,
   readSpectrum,
@@ -38,6 +39,32 @@ export interface SeedUser {
 export function dataFile(rel: string): { buffer: Buffer; name: string } {
   const p = path.join(REFERENCE_DATA, rel);
   return { buffer: fs.readFileSync(p), name: path.basename(p) };
+}
+
+let acquisitions = 0;
+
+/**
+ * A new acquisition of the sample of a real file: its spectrum (read by the engine) with fresh
+ * noise added at the file's own noise level (the engine's second-difference estimate), written
+ * as CSV in absorbance. Two real scans of one sample differ in their noise, and Drumline refuses
+ * a second upload of the same acquisition (docs/provenance.md), so every sample a test uploads
+ * is made this way; the spectrum keeps its bands, so it scores like the file it comes from.
+ */
+export function distinctAcquisition(rel: string, fileName?: string): { buffer: Buffer; name: string } {
+  const f = dataFile(rel);
+  const s = readSpectrum(new Uint8Array(f.buffer), f.name, { xUnits: 'cm-1' });
+  const sigma = Math.max(estimateNoise(s.y), 1e-6);
+  let seed = (Date.now() ^ (process.pid << 8) ^ (++acquisitions * 2654435761)) >>> 0;
+  const uniform = () => {
+    seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0;
+    return (seed + 0.5) / 4294967296;
+  };
+  const lines = ['wavenumber_cm-1,absorbance'];
+  for (let i = 0; i < s.x.length; i++) {
+    const g = Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
+    lines.push(`${s.x[i]},${s.y[i] + sigma * g}`);
+  }
+  return { buffer: Buffer.from(`${lines.join('\n')}\n`, 'utf8'), name: fileName ?? f.name };
 }
 
 async function storeFile(k: Knex, rel: string, userId: number): Promise<number> {

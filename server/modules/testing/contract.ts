@@ -32,6 +32,13 @@ export const measurementFieldsSchema = z
   .object({
     containerId: z.coerce.number().int().positive().optional(),
     label: singleLineText().max(60).optional(),
+    /** why a container with a valid result is measured again (required then; audited) */
+    reason: multiLineText().max(1000).optional(),
+    /** the operator confirms a file whose own title or sample identifier names another record */
+    confirmIdentifiers: z
+      .union([z.boolean(), z.enum(['true', 'false'])])
+      .optional()
+      .transform((v) => v === true || v === 'true'),
   })
   .refine((v) => v.containerId !== undefined || (v.label ?? '') !== '', {
     message: 'Say which container this spectrum belongs to (container or label).',

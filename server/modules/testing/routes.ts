@@ -131,11 +131,18 @@ export function testingRoutes(config: AppConfig): Router {
         file: 'the spectrum file (JCAMP-DX or CSV)',
         containerId: 'container id',
         label: 'or the scanned container label',
+        reason: 'why a container with a valid result is measured again',
+        confirmIdentifiers: '"true" to confirm a file that names another record',
       },
       body: measurementFieldsSchema,
       status: 201,
     },
-    ({ params, body, req, user, ip }) => service.addMeasurement(getDb(), user, params.id, body, req.file, ip),
+    ({ params, body, req, user, ip }) =>
+      service.addMeasurement(getDb(), user, params.id, body, req.file, ip, {
+        maxInvalidMeasurements: config.maxInvalidMeasurements,
+        fileIdentifierPolicy: config.fileIdentifierPolicy,
+        siteTimeZone: config.siteTimeZone,
+      }),
   );
   defineRoute(
     r,
