@@ -388,7 +388,13 @@ export interface QueueItem {
 }
 
 export interface QueueSection {
-  key: 'lots-to-test' | 'tests-to-verify' | 'open-investigations' | 'references-to-approve' | 'instrument-checks-due';
+  key:
+    | 'lots-to-test'
+    | 'tests-to-verify'
+    | 'open-investigations'
+    | 'references-to-approve'
+    | 'instrument-checks-due'
+    | 'blocked-containers';
   title: string;
   roles: Role[];
   count: number;

@@ -12,6 +12,7 @@ import type { Role } from '../../lib/contract';
 import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
+import { blockedContainers } from '../provenance/service';
 
 const ITEMS = 50;
 
@@ -117,6 +118,17 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
   if (has('qa_manager')) {
     push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
+    push(
+      'blocked-containers',
+      'Blocked containers',
+      ['qa_manager'],
+      (await blockedContainers(db)).map((b) => ({
+        id: b.containerId,
+        title: `${b.label} · lot ${b.lotNumber}`,
+        detail: `Blocked after ${b.invalidCount} invalid measurements: decide how to go on`,
+        href: `/tests/${b.testId}`,
+      })),
+    );
   }
   if (has('operator') || has('qa_manager'))
     push(
