@@ -20,6 +20,8 @@ import { contentHash } from '../../server/lib/esign';
 import { referenceSignedContent } from '../../server/modules/library/references';
 import { methodSignedContent } from '../../server/modules/library/service';
 import { pickBands } from '../../server/modules/library/engine';
+import { recordFingerprint } from '../../server/modules/provenance/copies';
+import { provenanceKeys } from '../../server/modules/provenance/keys';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,
@@ -160,7 +162,8 @@ export async function seedApprovedMaterial(
   for (const [i, rel] of opts.referenceFiles.entries()) {
     const fileId = await storeFile(k, rel, qa.id);
     const f = dataFile(rel);
-    const bands = pickBands(readSpectrum(new Uint8Array(f.buffer), f.name), method);
+    const refSpectrum = readSpectrum(new Uint8Array(f.buffer), f.name);
+    const bands = pickBands(refSpectrum, method);
     const [refId] = await k('reference_spectrum').insert({
       material_id: materialId,
       code: `REF-${opts.code}-${i + 1}`,
@@ -196,6 +199,14 @@ export async function seedApprovedMaterial(
           referenceSignedContent(refId, sha256Hex(f.buffer), JSON.parse(JSON.stringify(bands)), methodId),
         ),
       });
+    await recordFingerprint(k, {
+      fileId,
+      recordType: 'reference',
+      recordId: refId as number,
+      sha256: sha256Hex(f.buffer),
+      keys: provenanceKeys(refSpectrum),
+      at: now,
+    });
     referenceIds.push(refId as number);
   }
   return {
@@ -271,6 +282,14 @@ export async function seedInstrument(
     valid_until:
       result.verdict === 'pass' ? (opts.validUntil ?? new Date(performedAt.getTime() + 24 * 3600_000)) : null,
     signature_id: null,
+  });
+  await recordFingerprint(k, {
+    fileId,
+    recordType: 'instrument-check',
+    recordId: checkId as number,
+    sha256: sha256Hex(dataFile('atr-ftir/polystyrene_film.csv').buffer),
+    keys: provenanceKeys(spectrum),
+    at: performedAt,
   });
   return { instrumentId: instrumentId as number, checkId: checkId as number, name: opts.name };
 }

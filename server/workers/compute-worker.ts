@@ -11,8 +11,6 @@ import { ZxcvbnFactory } from '@zxcvbn-ts/core';
 import * as zxcvbnCommon from '@zxcvbn-ts/language-common';
 import * as zxcvbnEn from '@zxcvbn-ts/language-en';
 import {
-  fingerprintOf,
-  roundingStep,
   checkPolystyrene,
   checkQuality,
   prepare,
@@ -22,6 +20,7 @@ import {
   SpectrumError,
 } from '../spectra';
 import { pickBands } from '../modules/library/engine';
+import { provenanceKeys } from '../modules/provenance/keys';
 import type { Task, TaskResult, WorkerError } from './tasks';
 
 function sha256(bytes: Uint8Array): string {
@@ -36,14 +35,6 @@ function strength() {
     translations: zxcvbnEn.translations,
   });
   return zxcvbn;
-}
-
-/** The copy lookup's keys of a spectrum (server/modules/provenance): decoded values hashed, fingerprint, rounding step. */
-function provenanceKeys(spectrum: Spectrum) {
-  const h = createHash('sha256');
-  h.update(new Uint8Array(spectrum.x.buffer, spectrum.x.byteOffset, spectrum.x.byteLength));
-  h.update(new Uint8Array(spectrum.y.buffer, spectrum.y.byteOffset, spectrum.y.byteLength));
-  return { decodedSha256: h.digest('hex'), fingerprint: fingerprintOf(spectrum), yStep: roundingStep(spectrum.y) };
 }
 
 function asWorkerError(e: unknown): WorkerError {

@@ -49,3 +49,18 @@ export interface MeasurementProvenance {
 }
 
 export const NOT_STATED = 'not stated in the file';
+
+/** One measurement of an attempt as the verifier's review lists it (every one, in order). */
+export interface ReviewMeasurementEntry {
+  id: number;
+  containerId: number;
+  label: string;
+  verdict: 'pass' | 'fail' | 'invalid';
+  matchScore: number | null;
+  /** current: the container's latest measurement in the attempt; superseded: a later one replaced it */
+  state: 'current' | 'superseded';
+  measuredBy: string;
+  measuredAt: string;
+  file: { name: string; sha256: string };
+  provenance: MeasurementProvenance;
+}

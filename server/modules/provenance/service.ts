@@ -9,7 +9,13 @@ import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { conflict, forbidden, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
-import type { BlockedContainer, HandOverInput, OperatorChoice, ReleaseBlockInput } from './contract';
+import type {
+  BlockedContainer,
+  HandOverInput,
+  OperatorChoice,
+  ReleaseBlockInput,
+  ReviewMeasurementEntry,
+} from './contract';
 import { blockState, holderOf } from './rules';
 
 /** Active operators an attempt can be handed over to (everyone but its holder). */
@@ -170,4 +176,69 @@ export async function releaseBlock(
       ip,
     });
   });
+}
+
+/**
+ * Every measurement of an attempt in the order it was recorded, for the verifier's review: who,
+ * when, the verdict, whether a later measurement of the same container replaced it, why it was
+ * measured again, and what the file states about its acquisition ("not stated in the file").
+ */
+export async function measurementHistory(db: Knex, testId: number): Promise<ReviewMeasurementEntry[]> {
+  const rows = await db('measurement as ms')
+    .join('container as c', 'c.id', 'ms.container_id')
+    .join('app_user as u', 'u.id', 'ms.created_by')
+    .join('stored_file as f', 'f.id', 'ms.file_id')
+    .leftJoin('measurement_provenance as p', 'p.measurement_id', 'ms.id')
+    .where('ms.test_id', testId)
+    .orderBy('ms.id')
+    .select(
+      'ms.id',
+      'ms.container_id',
+      'ms.verdict',
+      'ms.match_score',
+      'ms.created_at',
+      'c.label',
+      'u.full_name',
+      'f.file_name',
+      'f.sha256',
+      'p.acquired_text',
+      'p.acquired_at',
+      'p.acquired_judgement',
+      'p.instrument_text',
+      'p.stated_serial',
+      'p.serial_judgement',
+      'p.title',
+      'p.sample_text',
+      'p.identifier_findings',
+      'p.identifiers_confirmed',
+      'p.remeasure_reason',
+      'p.remeasure_of_measurement_id',
+    );
+  const latest = new Map<number, number>();
+  for (const r of rows) latest.set(r.container_id, r.id);
+  return rows.map((r) => ({
+    id: r.id,
+    containerId: r.container_id,
+    label: r.label,
+    verdict: r.verdict,
+    matchScore: r.match_score === null ? null : Number(r.match_score),
+    state: latest.get(r.container_id) === r.id ? 'current' : 'superseded',
+    measuredBy: r.full_name,
+    measuredAt: new Date(r.created_at).toISOString(),
+    file: { name: r.file_name, sha256: r.sha256 },
+    provenance: {
+      acquiredText: r.acquired_text ?? null,
+      acquiredAt: r.acquired_at ? new Date(r.acquired_at).toISOString() : null,
+      acquiredJudgement: r.acquired_judgement ?? 'not-recorded',
+      instrumentText: r.instrument_text ?? null,
+      statedSerial: r.stated_serial ?? null,
+      serialJudgement: r.serial_judgement ?? 'not-recorded',
+      title: r.title ?? null,
+      sampleText: r.sample_text ?? null,
+      identifierFindings: parseJson(r.identifier_findings, []),
+      identifiersConfirmed: !!r.identifiers_confirmed,
+      remeasureReason: r.remeasure_reason ?? null,
+      remeasureOf: r.remeasure_of_measurement_id ?? null,
+    },
+  }));
 }

@@ -12,6 +12,7 @@ import {
   singleLineText,
 } from '../../lib/contract';
 import type { RecordIntegrity } from '../integrity/contract';
+import type { ReviewMeasurementEntry } from '../provenance/contract';
 import type { IdentityStatus, LotStatus, LotSummary, MeasurementVerdict, TestStatus } from '../lots/contract';
 
 export type { MeasurementVerdict, TestStatus } from '../lots/contract';
@@ -355,6 +356,8 @@ export interface ReviewData {
   integrity: RecordIntegrity;
   test: TestDetail;
   measurements: MeasurementDetail[];
+  /** every measurement of the attempt in order, including invalid and superseded ones (docs/provenance.md) */
+  history: ReviewMeasurementEntry[];
   instrumentChecks: CitedInstrumentCheck[];
   /** The identity method versions the measurements used (params as stored with the version). */
   methods: { id: number; version: number; technique: string; approvedAt: string | null; params: unknown }[];
