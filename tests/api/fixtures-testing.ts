@@ -26,7 +26,7 @@ import {
 import type { Role } from '../../server/lib/contract';
 import { agentFor, db, makeUser, uniqueName } from './helpers';
 
-export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };
+export { dataFile, distinctAcquisition, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
 
 /**
