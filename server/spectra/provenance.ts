@@ -35,7 +35,7 @@ export interface SpectrumFingerprint {
   points: number;
   xLow: number;
   xHigh: number;
-  /** mean of y in four equal parts of [xLow, xHigh] */
+  /** tent-weighted means of y around the middles of the four quarters of [xLow, xHigh] */
   segments: [number, number, number, number];
   /** robust second-difference noise of y */
   noise: number;
@@ -47,39 +47,52 @@ export function fingerprintOf(s: Spectrum): SpectrumFingerprint {
   const n = s.x.length;
   const xLow = s.x[0];
   const xHigh = s.x[n - 1];
+  // Four tent-weighted means (centres at the middle of each quarter, half-width one quarter):
+  // a point whose x moves by rounding changes its weight by as little, so a re-export with
+  // rounded x keeps the same means; a hard cut would move whole points between segments.
   const sums = [0, 0, 0, 0];
-  const counts = [0, 0, 0, 0];
+  const weights = [0, 0, 0, 0];
   const width = (xHigh - xLow) / 4 || 1;
   let min = Infinity;
   let max = -Infinity;
   for (let i = 0; i < n; i++) {
-    const k = Math.min(3, Math.max(0, Math.floor((s.x[i] - xLow) / width)));
-    sums[k] += s.y[i];
-    counts[k]++;
+    const u = (s.x[i] - xLow) / width - 0.5; // 0 at the centre of the first quarter
+    const k0 = Math.floor(u);
+    for (const k of [k0, k0 + 1]) {
+      if (k < 0 || k > 3) continue;
+      const w = 1 - Math.abs(u - k);
+      if (w <= 0) continue;
+      sums[k] += w * s.y[i];
+      weights[k] += w;
+    }
     if (s.y[i] < min) min = s.y[i];
     if (s.y[i] > max) max = s.y[i];
   }
-  const seg = sums.map((v, k) => (counts[k] ? v / counts[k] : 0)) as SpectrumFingerprint['segments'];
+  const seg = sums.map((v, k) => (weights[k] ? v / weights[k] : 0)) as SpectrumFingerprint['segments'];
   return { points: n, xLow, xHigh, segments: seg, noise: estimateNoise(s.y), yRange: max - min };
 }
 
 /**
- * How far the fingerprint of a re-export may lie from the original's and still be looked at:
- * x by a tenth of the mean point spacing plus a rounding of 0.01 cm-1, each segment mean by a
- * tenth of the y range (far above any rounding of an export; real replicate scans often lie
- * inside too, and are then told apart by sameAcquisition()). Points: a re-export may drop or
- * add a point at either end, so the count is searched within 2 % (at least 2 points).
+ * Where the stored original of an uploaded spectrum can lie, if the upload is a copy of it:
+ * x by two point spacings (a re-export may drop or add an end point, and round x), the point
+ * count within 2 % (at least 2), and each segment mean within the upload's rounding step plus
+ * its noise. A copy differs from its original by rounding (at most half a step at any point)
+ * or by far less than the noise (the noise rule), so its segment means cannot differ by more;
+ * real replicate scans mostly lie outside (their baselines drift) and those inside are told
+ * apart by sameAcquisition().
  */
-export function lookupWindow(fp: SpectrumFingerprint) {
+export function lookupWindow(fp: SpectrumFingerprint, yStep = 0) {
   const spacing = (fp.xHigh - fp.xLow) / Math.max(1, fp.points - 1);
   const dx = Math.max(0.1 * spacing, 0.01) + 2 * spacing;
-  const dy = Math.max(0.1 * fp.yRange, 1e-6);
   const dn = Math.max(2, Math.ceil(0.02 * fp.points));
   return {
     points: [fp.points - dn, fp.points + dn] as const,
     xLow: [fp.xLow - dx, fp.xLow + dx] as const,
     xHigh: [fp.xHigh - dx, fp.xHigh + dx] as const,
-    segments: fp.segments.map((m) => [m - dy, m + dy] as const),
+    segments: fp.segments.map((m) => {
+      const dy = yStep + fp.noise + 1e-9 * Math.abs(m) + 1e-12;
+      return [m - dy, m + dy] as const;
+    }),
   };
 }
 

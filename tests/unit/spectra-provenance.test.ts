@@ -118,21 +118,38 @@ describe('re-exports of one acquisition are copies', () => {
     }
   });
 
-  it('the fingerprint of a re-export lies inside the lookup window of the original', () => {
+  it('the original lies inside the lookup window of its re-export (the window the upload searches)', () => {
     for (const { files } of ALL)
-      for (const f of files.slice(0, 5)) {
-        const c = readSpectrum(reExportCsv(f.s, 5), 'again.csv');
-        const w = lookupWindow(fingerprintOf(f.s));
-        const fc = fingerprintOf(c);
-        expect(fc.points).toBeGreaterThanOrEqual(w.points[0]);
-        expect(fc.points).toBeLessThanOrEqual(w.points[1]);
-        expect(fc.xLow).toBeGreaterThanOrEqual(w.xLow[0]);
-        expect(fc.xHigh).toBeLessThanOrEqual(w.xHigh[1]);
-        fc.segments.forEach((m, k) => {
-          expect(m).toBeGreaterThanOrEqual(w.segments[k][0]);
-          expect(m).toBeLessThanOrEqual(w.segments[k][1]);
-        });
+      for (const f of files.slice(0, 8))
+        for (const decimals of [6, 4, 3]) {
+          if (10 ** -decimals > 0.05 * fingerprintOf(f.s).yRange) continue;
+          const c = readSpectrum(reExportCsv(f.s, decimals), 'again.csv');
+          const w = lookupWindow(fingerprintOf(c), roundingStep(c.y));
+          const fo = fingerprintOf(f.s);
+          expect(fo.points).toBeGreaterThanOrEqual(w.points[0]);
+          expect(fo.points).toBeLessThanOrEqual(w.points[1]);
+          expect(fo.xLow).toBeGreaterThanOrEqual(w.xLow[0]);
+          expect(fo.xHigh).toBeLessThanOrEqual(w.xHigh[1]);
+          fo.segments.forEach((m, k) => {
+            expect(m).toBeGreaterThanOrEqual(w.segments[k][0]);
+            expect(m).toBeLessThanOrEqual(w.segments[k][1]);
+          });
+        }
+  });
+
+  it("most real replicate scans of one sample lie outside each other's lookup window", () => {
+    const nir = ALL.find((d) => d.dir === 'nir-polyolefins')!.files;
+    let inside = 0;
+    let pairs = 0;
+    for (const a of nir)
+      for (const b of nir) {
+        if (a === b) continue;
+        pairs++;
+        const w = lookupWindow(fingerprintOf(a.s), roundingStep(a.s.y));
+        const fb = fingerprintOf(b.s);
+        if (fb.segments.every((m, k) => m >= w.segments[k][0] && m <= w.segments[k][1])) inside++;
       }
+    expect(inside / pairs).toBeLessThan(0.05);
   });
 });
 

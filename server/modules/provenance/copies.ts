@@ -11,7 +11,7 @@
 import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { AppError } from '../../lib/errors';
-import { lookupWindow, sameAcquisition, type Spectrum } from '../../spectra';
+import { COPY_RATIO_LIMIT, lookupWindow, sameAcquisition, type Spectrum } from '../../spectra';
 import { readSpectrumOff } from '../../workers/pool';
 import type { ProvenanceKeys } from '../../workers/tasks';
 
@@ -79,7 +79,7 @@ interface FingerprintRow {
 
 /** Stored spectra whose fingerprint lies in the lookup window of this one (indexed on seg1). */
 export function candidatesQuery(db: Db, keys: ProvenanceKeys) {
-  const w = lookupWindow(keys.fingerprint);
+  const w = lookupWindow(keys.fingerprint, keys.yStep);
   return db('spectrum_fingerprint')
     .whereBetween('seg1', [w.segments[0][0], w.segments[0][1]])
     .whereBetween('seg2', [w.segments[1][0], w.segments[1][1]])
@@ -136,7 +136,7 @@ export async function findCopy(
         detail:
           cmp.rule === 'rounding'
             ? `every point agrees with it to within the rounding of the two files (largest difference ${cmp.maxDifference.toExponential(2)})`
-            : `it differs from it by ${cmp.ratio.toFixed(3)} times the noise of the two spectra, where two real scans differ by more than ${(10 * 0.25).toFixed(1)} times`,
+            : `it differs from it by ${cmp.ratio.toFixed(3)} times the noise of the two spectra (below ${COPY_RATIO_LIMIT}; two real scans differ by more than the noise)`,
       };
   }
   return null;
