@@ -8,7 +8,12 @@
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
-import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
+import {
+  BlockedContainersWidget,
+  LotsToTestWidget,
+  OpenInvestigationsWidget,
+  TestsToVerifyWidget,
+} from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
 import {
   AccountsToAttendWidget,
@@ -46,6 +51,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
   },
   { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
+  {
+    id: 'testing.blocked-containers',
+    title: 'Blocked containers',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: BlockedContainersWidget,
+  },
   {
     id: 'investigations.open',
     title: 'Open investigations',

@@ -126,7 +126,7 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
         id: b.containerId,
         title: `${b.label} · lot ${b.lotNumber}`,
         detail: `Blocked after ${b.invalidCount} invalid measurements: decide how to go on`,
-        href: `/tests/${b.testId}`,
+        href: `/lots/${b.lotId}`,
       })),
     );
   }
