@@ -27,6 +27,8 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { startTrendJob } from './modules/trending/service';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -80,6 +82,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    trendingRoutes(),
   ];
   for (const r of routers) app.use(r);
 
@@ -105,6 +108,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startTrendJob(getDb());
     },
   ];
   return { app, config };
