@@ -28,6 +28,7 @@ import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
 import { startTrendJob } from './modules/trending/service';
 import { initMail, startMailWorker } from './lib/mail';
 
@@ -83,6 +84,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     investigationRoutes(),
     integrityRoutes(),
     trendingRoutes(),
+    auditReviewRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
