@@ -1,13 +1,16 @@
 /**
  * A SYNTHETIC history of passed identity results for trending (docs/trending.md), for the demo
  * and the tests only. Each point is a container of its own lot, measured on a past day and
- * verified: the spectrum is GENERATED from one real sample spectrum (../shared/reference-data)
+ * verified: the spectrum is GENERATED from one sample spectrum that passes (a real one from
+ * ../shared/reference-data in the tests, a demo fixture spectrum in the demo)
  * by shifting its wavenumber axis and adding a little seeded noise, stored as its own file
  * (named "synthetic-…", every file distinct), and scored by the real engine against the
  * material's approved references. One source drifts: from `driftFrom` on, its axis shift grows
  * by `driftPerPoint` cm⁻¹ per point, so its band shift rises and its correlation falls while
  * every result still passes.
  *
+ * Each point's instrument check is a copy of a passing check of the instrument (same film file
+ * and result), performed half an hour before the point and valid for the instrument's validity.
  * The past times are set here, by the seed, through the owner's or runtime's database
  * connection: the running application never backdates a record (its clock is the server's).
  * The performed and verified signatures are real e-signature rows over the content the
@@ -20,7 +23,6 @@ import * as libraryRepo from '../../server/modules/library/repo';
 import { toEngineBands } from '../../server/modules/library/engine';
 import { loadContext, signedContent } from '../../server/modules/testing/context';
 import { prepareReference, readSpectrum, scoreAgainst, type IdentityMethod } from '../../server/spectra';
-import { dataFile } from './testing-library';
 
 export interface HistoryPerson {
   id: number;
@@ -31,11 +33,12 @@ export interface TrendHistoryOptions {
   materialId: number;
   methodId: number;
   instrumentId: number;
+  /** a passing instrument check of the instrument: each point gets a copy performed just before it */
   instrumentCheckId: number;
   operator: HistoryPerson;
   verifier: HistoryPerson;
-  /** a real sample spectrum of the material, relative to ../shared/reference-data */
-  sampleFile: string;
+  /** a sample spectrum of the material that passes (its bytes and file name) */
+  sample: { data: Uint8Array; name: string };
   /** sources in turn: point i comes from sources[i % sources.length] */
   sources: string[];
   /** the source that drifts */
@@ -101,11 +104,13 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       ),
     );
   }
-  const sample = readSpectrum(new Uint8Array(dataFile(o.sampleFile).buffer), o.sampleFile);
+  const sample = readSpectrum(new Uint8Array(o.sample.data), o.sample.name);
   const x = Array.from(sample.x);
   const y = Array.from(sample.y);
   const rand = rng(o.points * 7919 + o.prefix.length);
   const measurementIds: number[] = [];
+  const check = await k('instrument_check').where({ id: o.instrumentCheckId }).first();
+  const instrument = await k('instrument').where({ id: o.instrumentId }).first('check_validity_hours');
   const perPoint = (o.days * 86_400_000) / o.points;
   const start = now.getTime() - (o.days + 1) * 86_400_000;
   let driftStep = 0;
@@ -157,12 +162,21 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       created_at: at,
       updated_at: at,
     });
+    // the instrument check of that day, performed half an hour before the measurement
+    const checkedAt = new Date(at.getTime() - 30 * 60_000);
+    const [checkId] = await k('instrument_check').insert({
+      ...Object.fromEntries(Object.entries(check).filter(([c]) => c !== 'id')),
+      performed_by: o.operator.id,
+      performed_at: checkedAt,
+      valid_until: new Date(checkedAt.getTime() + Number(instrument.check_validity_hours) * 3_600_000),
+      signature_id: null,
+    });
     const [mId] = await k('measurement').insert({
       test_id: testId,
       container_id: containerId,
       file_id: fileId,
       instrument_id: o.instrumentId,
-      instrument_check_id: o.instrumentCheckId,
+      instrument_check_id: checkId,
       method_id: o.methodId,
       reference_ids: JSON.stringify(refs.map((r) => r.id)),
       verdict: result.verdict,

@@ -13,6 +13,7 @@ import {
   account,
   agent,
   approvedMaterial,
+  dataFile,
   FIBRES,
   instrumentWithCheck,
   retire,
@@ -47,7 +48,7 @@ beforeAll(async () => {
     instrumentCheckId: inst.checkId!,
     operator,
     verifier,
-    sampleFile: FIBRES.nylon66Samples[0],
+    sample: { data: dataFile(FIBRES.nylon66Samples[0]).buffer, name: 'nylon66-sample.csv' },
     days: 40,
   };
   history = (
