@@ -156,6 +156,13 @@ describe('signals', () => {
           s.scopeValue === STEADY && s.metric === 'band-shift' && s.rule === 'beyond-3-sigma',
       ),
     ).toEqual([]);
+    // one open signal per chart at most, and none on a filter that keeps every result (one instrument)
+    const charts = list.body.map(
+      (s: { methodId: number; metric: string; scopeKind: string; scopeValue: string }) =>
+        `${s.methodId}|${s.metric}|${s.scopeKind}|${s.scopeValue}`,
+    );
+    expect(new Set(charts).size).toBe(charts.length);
+    expect(list.body.filter((s: { scopeKind: string }) => s.scopeKind === 'instrument')).toEqual([]);
     // none on the short history
     expect((await quinn.agent.get(`/api/trending/signals?materialId=${few.materialId}`)).body).toEqual([]);
     signalId = onDrift[0].id;

@@ -4,7 +4,7 @@
  * first-derivative correlation and the largest band shift of passed measurements of verified
  * tests are charted as individuals and moving-range charts (control-chart.ts). A scan (a job
  * that runs once per site under a lease, and on QA's request) applies the run rules and raises
- * an early-warning signal for the newest hit of each rule on each series, never a failure: the
+ * an early-warning signal for the newest rule hit on each chart, never a failure: the
  * signal is listed in QA's work queue, mailed to QA, audited, and stays open until QA
  * acknowledges it with a comment (audited).
  */
@@ -249,9 +249,10 @@ const fmt = (metric: Metric, v: number) =>
   `${v.toFixed(METRIC_LABELS[metric].digits)}${METRIC_LABELS[metric].unit ? ` ${METRIC_LABELS[metric].unit}` : ''}`;
 
 /**
- * Applies the run rules to every series of every method version and raises a signal for the
- * newest hit of each rule, unless a signal of that rule is still open on the series or the hit
- * is not newer than the last signal of that rule (a series keeps one open signal per rule).
+ * Applies the run rules to every chart of every method version (all results, and each source,
+ * instrument and operator whose filter leaves out some results) and raises one signal per chart
+ * for its newest rule hit, unless a signal is still open on the chart or the hit is not newer than
+ * the chart's last signal. One open signal per chart keeps the warnings few enough to be read.
  */
 export async function scanTrends(db: Knex): Promise<ScanReport> {
   let series = 0;
@@ -268,14 +269,27 @@ export async function scanTrends(db: Knex): Promise<ScanReport> {
     for (const metric of METRICS)
       for (const [scope, value] of scopes) {
         const s = buildSeries(rows, metric, scope, value, baseline);
-        if (!s.limits) continue;
+        // a filter that keeps every result draws the same chart as "all": no second signal for it
+        if (!s.limits || (scope !== 'all' && s.rows.length === rows.length)) continue;
         series++;
-        const newest = new Map<string, RuleHit>();
-        for (const h of s.hits) newest.set(h.rule, h);
-        for (const h of newest.values()) {
-          if (await raiseSignal(db, s, h, { methodId, metric, scope, value, label: scopeLabel(rows, scope, value) }))
-            raised++;
-        }
+        // one open signal per chart: the newest hit (the first rule in RULES order at that point)
+        const last = s.hits.reduce((m, h) => Math.max(m, h.index), -1);
+        if (last < 0) continue;
+        const order = Object.keys(RULES);
+        const atLast = s.hits
+          .filter((h) => h.index === last)
+          .sort((a, b) => order.indexOf(a.rule) - order.indexOf(b.rule));
+        const also = [...new Set(atLast.slice(1).map((h) => RULES[h.rule].text))];
+        if (
+          await raiseSignal(
+            db,
+            s,
+            atLast[0],
+            { methodId, metric, scope, value, label: scopeLabel(rows, scope, value) },
+            also,
+          )
+        )
+          raised++;
       }
   }
   return { series, raised };
@@ -286,10 +300,12 @@ async function raiseSignal(
   s: Series,
   h: RuleHit,
   k: { methodId: number; metric: Metric; scope: ScopeKind; value: string; label: string },
+  also: string[] = [],
 ): Promise<boolean> {
   const point = s.rows[h.index];
-  const key = { method_id: k.methodId, metric: k.metric, scope_kind: k.scope, scope_value: k.value, rule: h.rule };
-  const last = await db('trend_signal').where(key).orderBy('id', 'desc').first('status', 'measurement_id');
+  const chartKey = { method_id: k.methodId, metric: k.metric, scope_kind: k.scope, scope_value: k.value };
+  const key = { ...chartKey, rule: h.rule };
+  const last = await db('trend_signal').where(chartKey).orderBy('id', 'desc').first('status', 'measurement_id');
   if (last?.status === 'open') return false;
   if (last) {
     const lastIndex = s.rows.findIndex((r) => r.measurementId === last.measurement_id);
@@ -300,7 +316,8 @@ async function raiseSignal(
   const detail =
     `${rule.text}: ${METRIC_LABELS[k.metric].title} ${fmt(k.metric, point.metrics[k.metric]!)} at container ` +
     `${point.container} (lot ${point.lotNumber}, source ${point.source}); centre ${fmt(k.metric, limits.centre)}, ` +
-    `control limits ${fmt(k.metric, limits.lcl)} to ${fmt(k.metric, limits.ucl)} (${limits.basis}). Rule: ${rule.source}.`;
+    `control limits ${fmt(k.metric, limits.lcl)} to ${fmt(k.metric, limits.ucl)} (${limits.basis}). Rule: ${rule.source}.` +
+    (also.length ? ` At the same point also: ${also.join('; ')}.` : '');
   return transactionWithRetry(db, async (trx) => {
     const [id] = await trx('trend_signal')
       .insert({
