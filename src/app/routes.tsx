@@ -52,6 +52,12 @@ export const appRoutes: AppRoute[] = [
     roles: ['qa_manager', 'auditor'],
   },
   {
+    path: '/qa-overview',
+    element: lazyPage(() => import('../routes/qa-overview')),
+    roles: ['qa_manager', 'auditor'],
+    nav: { label: 'QA overview', group: 'desk', order: 33 },
+  },
+  {
     path: '/audit-reviews',
     element: lazyPage(() => import('../routes/audit-reviews')),
     roles: ['qa_manager', 'auditor'],

@@ -81,6 +81,7 @@ export const qk = {
     signals: (status: string) => ['trending', 'signals', status] as const,
     signal: (id: number) => ['trending', 'signal', id] as const,
     exceptions: (testId: number) => ['trending', 'exceptions', testId] as const,
+    overview: (from: string, to: string) => ['trending', 'overview', from, to] as const,
   },
   auditReviews: {
     all: ['audit-reviews'] as const,

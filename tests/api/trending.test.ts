@@ -267,3 +267,30 @@ describe('baseline', () => {
     );
   });
 });
+
+describe('QA overview', () => {
+  const day = (offset: number) => new Date(Date.now() + offset * 86_400_000).toISOString().slice(0, 10);
+
+  it('gives first-pass rates per source and invalid rates per instrument for the period, from the records', async () => {
+    const res = await auditor.agent.get(`/api/qa-overview?from=${day(-60)}&to=${day(0)}`);
+    expect(res.status).toBe(200);
+    const bySource = new Map(res.body.firstPassBySource.map((r: { key: string }) => [r.key, r]));
+    // every synthetic lot passed at its first attempt without an investigation
+    expect(bySource.get(STEADY)).toMatchObject({ count: 20, total: 20, rate: 1 });
+    expect(bySource.get(DRIFTING)).toMatchObject({ count: 20, total: 20, rate: 1 });
+    const first = await db()('measurement').where({ id: history[0] }).first('instrument_id');
+    const inst = res.body.invalidByInstrument.find((r: { key: string }) => r.key === String(first.instrument_id));
+    // both histories (40 + 15 results) were measured on the one instrument
+    expect(inst).toMatchObject({ count: 0, total: 55, rate: 0 });
+    expect(res.body.notes.length).toBeGreaterThan(0);
+    // a period before the history holds none of it
+    const before = await auditor.agent.get('/api/qa-overview?from=2001-01-01&to=2001-12-31');
+    expect(before.body.firstPassBySource).toEqual([]);
+  });
+
+  it('refuses a reversed period and the roles that do not report', async () => {
+    expect((await quinn.agent.get(`/api/qa-overview?from=${day(0)}&to=${day(-5)}`)).status).toBe(400);
+    expect((await olga.agent.get(`/api/qa-overview?from=${day(-5)}&to=${day(0)}`)).status).toBe(403);
+    expect((await admin.agent.get(`/api/qa-overview?from=${day(-5)}&to=${day(0)}`)).status).toBe(403);
+  });
+});

@@ -209,3 +209,38 @@ export interface ReviewExceptions {
   containers: number;
   caution: string;
 }
+
+// ------------------------------------------------------------------ QA overview
+
+export const overviewQuery = z
+  .object({
+    from: calendarDate('first day of the period'),
+    to: calendarDate('last day of the period'),
+  })
+  .refine((p) => p.from <= p.to, { message: 'The period must end on or after its first day.', path: ['to'] });
+
+export interface RateRow {
+  key: string;
+  label: string;
+  count: number;
+  total: number;
+  /** count / total, null when total is 0 */
+  rate: number | null;
+}
+
+export interface QaOverview {
+  from: string;
+  to: string;
+  /** open investigations now, by age */
+  openInvestigations: { id: number; number: string; lotNumber: string; openedAt: string; ageDays: number }[];
+  investigationAgeBuckets: { label: string; count: number }[];
+  /** lots received in the period with a verified test: passed at the first attempt, per source */
+  firstPassBySource: RateRow[];
+  /** measurements recorded in the period refused by the quality check, per instrument and per operator */
+  invalidByInstrument: RateRow[];
+  invalidByOperator: RateRow[];
+  /** first certificates issued in the period: days from receipt */
+  receiptToCertificate: { lotNumber: string; source: string; days: number; issuedAt: string }[];
+  receiptToCertificateMedianDays: number | null;
+  notes: string[];
+}

@@ -3,7 +3,8 @@ import { Router } from 'express';
 import { z } from 'zod';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
-import { acknowledgeSchema, baselineSchema, chartQuery, signalListQuery } from './contract';
+import { acknowledgeSchema, baselineSchema, chartQuery, overviewQuery, signalListQuery } from './contract';
+import { qaOverview } from './overview';
 import { reviewExceptions } from './exceptions';
 import * as repo from './repo';
 import * as service from './service';
@@ -131,6 +132,18 @@ export function trendingRoutes(): Router {
       params: idParams,
     },
     ({ params }) => reviewExceptions(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/qa-overview',
+      summary: 'The figures QA reports to management for a period',
+      tag: 'trending',
+      access: READERS,
+      query: overviewQuery,
+    },
+    ({ query }) => qaOverview(getDb(), query.from, query.to),
   );
   return r;
 }

@@ -4,6 +4,7 @@ import { apiFetch, withQuery } from '../../../lib/api';
 import { qk } from '../../../lib/query-keys';
 import type {
   AcknowledgeInput,
+  QaOverview,
   BaselineInput,
   ChartResponse,
   Metric,
@@ -16,6 +17,8 @@ import type {
 } from '../../../../server/modules/trending/contract';
 
 export type {
+  QaOverview,
+  RateRow,
   ChartResponse,
   Metric,
   ReviewExceptions,
@@ -105,5 +108,13 @@ export function useReviewExceptions(testId: number) {
   return useQuery({
     queryKey: qk.trending.exceptions(testId),
     queryFn: () => apiFetch<ReviewExceptions>(`/api/tests/${testId}/exceptions`),
+  });
+}
+
+export function useQaOverview(from: string, to: string) {
+  return useQuery({
+    queryKey: qk.trending.overview(from, to),
+    queryFn: () => apiFetch<QaOverview>(`/api/qa-overview?from=${from}&to=${to}`),
+    enabled: /^\d{4}-\d{2}-\d{2}$/.test(from) && /^\d{4}-\d{2}-\d{2}$/.test(to) && from <= to,
   });
 }
