@@ -54,3 +54,32 @@ test('QA sees the drift signal, opens its chart and acknowledges it', async ({ p
   await expect(page.getByText('Supplier asked about a change of spinning oil', { exact: false })).toBeVisible();
   await expect(page.getByRole('button', { name: 'Acknowledge signal' })).toHaveCount(0);
 });
+
+test('in the demo site, QA finds the paracetamol drift signal, its chart, the recorded audit-trail review and the QA overview', async ({
+  page,
+}) => {
+  const demo = `http://127.0.0.1:${Number(process.env.E2E_DEMO_PORT)}`;
+  await page.goto(`${demo}/sign-in`);
+  await page.getByLabel('User name').fill('quinn');
+  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
+  const row = page
+    .getByTestId('trend-signal')
+    .filter({ hasText: 'Paracetamol' })
+    .filter({ hasText: 'Source Brannock Pharma Materials (synthetic history)' })
+    .first();
+  await expect(row).toBeVisible();
+  await row.getByRole('link', { name: /^Signal \d+$/ }).click();
+  await expect(page.getByRole('heading', { name: /^Trend signal \d+: Paracetamol$/ })).toBeVisible();
+  await expect(page.getByTestId('control-chart').locator('canvas')).toHaveCount(2);
+  await expect(page.getByTestId('rule-hits')).toBeVisible();
+
+  await page.goto(`${demo}/audit-reviews`);
+  await expect(page.getByTestId('audit-review').first()).toContainText(/ATR-\d{4}-\d{3}/);
+  await expect(page.getByTestId('audit-review').first()).toContainText('audit trail reviewed');
+
+  await page.goto(`${demo}/qa-overview`);
+  await expect(page.getByRole('heading', { name: 'First-pass rate per source' })).toBeVisible();
+  await expect(page.getByText('Brannock Pharma Materials (synthetic history)').first()).toBeVisible();
+});
