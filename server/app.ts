@@ -27,6 +27,9 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startTrendJob } from './modules/trending/service';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -80,6 +83,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    trendingRoutes(),
+    auditReviewRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
@@ -105,6 +110,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startTrendJob(getDb());
     },
   ];
   return { app, config };

@@ -24,6 +24,8 @@ export interface AppConfig {
   uploadMaxBytes: number;
   /** hours between scheduled integrity sweeps (docs/compliance.md); 0 = only when asked for */
   integritySweepHours: number;
+  /** months between periodic audit-trail reviews (docs/trending.md); the work queue says when one is due */
+  auditReviewMonths: number;
   allowedOrigins: string[];
   /**
    * Addresses (or CIDR ranges) of the reverse proxies whose X-Forwarded-For header is believed
@@ -56,6 +58,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
     integritySweepHours: num('INTEGRITY_SWEEP_HOURS', 24),
+    auditReviewMonths: num('AUDIT_REVIEW_MONTHS', 1),
     allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
       .split(',')
       .map((s) => s.trim())

@@ -66,6 +66,46 @@ beforeAll(async () => {
     signature: { username: qa.user.username, password: qa.user.password },
   });
   expect(off.status).toBe(200);
+  // trending and the audit-trail review (migration 150): one row of each, written as the app would
+  const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
+  const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
+  const now = new Date();
+  await db()('trend_baseline').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    period_from: now,
+    period_to: now,
+    reason: 'protection probe',
+    fixed_by: qa.user.id,
+    fixed_at: now,
+  });
+  await db()('trend_signal').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    metric: 'correlation',
+    scope_kind: 'all',
+    scope_value: '',
+    scope_label: 'All',
+    rule: 'beyond-3-sigma',
+    measurement_id: m.id,
+    point_ids: JSON.stringify([m.id]),
+    value: 0.99,
+    limits: '{}',
+    detail: 'protection probe',
+    status: 'open',
+    raised_at: now,
+  });
+  await db()('audit_review').insert({
+    number: `ATR-PROBE-${Date.now()}`,
+    period_from: '2026-01-01',
+    period_to: '2026-01-31',
+    scope: '[]',
+    exceptions: '{}',
+    findings: 'protection probe',
+    actions: 'none',
+    reviewed_by: qa.user.id,
+    reviewed_at: now,
+  });
 });
 
 afterAll(async () => {
@@ -200,6 +240,8 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
     password_history: { column: 'password_hash', value: 'rewritten' },
+    trend_baseline: { column: 'period_to', value: new Date(0) },
+    audit_review: { column: 'findings', value: 'rewritten' },
   };
   beforeAll(async () => {
     // a password change through the application writes a password_history row to try
