@@ -18,7 +18,7 @@ import { dbSettings, knexConfig } from '../db/config';
 import { migrateDatabase, recreateDatabase } from '../db/migrate';
 import { loadConfig } from '../server/lib/config';
 import { issueCertificate } from '../server/modules/certificates';
-import { prepareCertificate } from '../server/modules/certificates/service';
+import { prepareCertificate } from '../server/modules/certificates/render';
 import { createPassedLot } from '../tests/api/fixtures-certificates';
 
 const DB_NAME = process.env.CERT_BENCH_DB ?? 'drumline_bench_cert';

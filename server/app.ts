@@ -27,6 +27,7 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { startCertificateRetryJob } from './modules/certificates';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -105,6 +106,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startCertificateRetryJob(getDb(), config);
     },
   ];
   return { app, config };

@@ -197,6 +197,21 @@ export interface PdfSignatureCheck {
   signingTime: string | null;
   coversWholeFile: boolean;
   hasSigningCertificateV2: boolean;
+  /** The RFC 3161 signature time-stamp (PAdES B-T), or null when the signature carries none. */
+  timeStamp: TimeStampCheck | null;
+  problem?: string;
+}
+
+/** What a check of an RFC 3161 time-stamp token found. */
+export interface TimeStampCheck {
+  present: boolean;
+  /** Token signature, TSA certificate (time-stamping usage, trusted root, valid then) and message imprint all verify. */
+  valid: boolean;
+  /** The time the authority stamped (ISO). */
+  time: string | null;
+  /** Subject of the authority's certificate. */
+  authority: string | null;
+  serialNumber: string | null;
   problem?: string;
 }
 
