@@ -199,7 +199,16 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    password_history: { column: 'password_hash', value: 'rewritten' },
   };
+  beforeAll(async () => {
+    // a password change through the application writes a password_history row to try
+    const { agent, user } = await agentFor(['operator']);
+    const r = await agent
+      .post('/api/auth/password')
+      .send({ currentPassword: user.password, newPassword: 'violet-harbour-lamp-93' });
+    expect(r.status).toBe(204);
+  });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
   });
