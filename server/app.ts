@@ -28,6 +28,8 @@ import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { startCertificateRetryJob } from './modules/certificates';
+import { startAnchorJob } from './modules/audit/anchor';
+import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -69,7 +71,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
-    systemRoutes(),
+    systemRoutes(config),
     authRoutes(config),
     userRoutes(),
     mailRoutes(config),
@@ -107,6 +109,9 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
       startCertificateRetryJob(getDb(), config);
+      // the local fake time-stamping authority of development and tests (docs/certificates.md)
+      if (!config.tsaUrl && config.devMode) await startFakeTsa();
+      startAnchorJob(getDb(), config);
     },
   ];
   return { app, config };

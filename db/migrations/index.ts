@@ -16,6 +16,7 @@ import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
 import * as m120 from './120_certificate_numbers';
+import * as m121 from './121_audit_anchor';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -35,6 +36,7 @@ export const migrations: [string, Migration][] = [
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
   ['120_certificate_numbers', m120],
+  ['121_audit_anchor', m121],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -71,6 +73,8 @@ export const appendOnlyTables = [
   'password_history',
   'certificate_number',
   'certificate_issue_failure',
+  'audit_chain_key',
+  'audit_checkpoint',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -96,6 +100,7 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  audit_chain_run: 'progress counters of a full audit chain check; its request and its result are audit events',
   sign_in_rate:
     'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

@@ -15,6 +15,7 @@ import { appendOnlyTables, guardedTables, operationalTables } from '../../db/mig
 import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
+import { loadConfig } from '../../server/lib/config';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
@@ -200,6 +201,8 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
     password_history: { column: 'password_hash', value: 'rewritten' },
+    certificate_number: { column: 'lot_id', value: 1 },
+    certificate_issue_failure: { column: 'problem', value: 'rewritten' },
   };
   beforeAll(async () => {
     // a password change through the application writes a password_history row to try
@@ -208,6 +211,15 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       .post('/api/auth/password')
       .send({ currentPassword: user.password, newPassword: 'violet-harbour-lamp-93' });
     expect(r.status).toBe(204);
+    // a failed certificate issue writes a certificate_issue_failure row to try (its number row too)
+    const failing = await createPassedLot(db(), { containers: 1 });
+    await expect(
+      issueCertificate(
+        db(),
+        { lotId: failing.lotId, testId: failing.testId, actor: { id: null, name: 'test' } },
+        { config: loadConfig({ signingP12Path: 'no-such-signing-key.p12' }) },
+      ),
+    ).rejects.toThrow();
   });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
