@@ -91,8 +91,8 @@ export interface LockedHead {
 export async function lockHead(trx: Knex.Transaction): Promise<LockedHead> {
   const head = await trx('audit_head').where({ id: 1 }).forUpdate().first();
   const k = auditKey();
-  let lastId = Number(head.last_id);
-  let lastHash: string = head.last_hash;
+  const lastId = Number(head.last_id);
+  const lastHash: string = head.last_hash;
   if (head.keyed_from === null || head.keyed_from === undefined) {
     const id = lastId + 1;
     const row: Omit<AuditRow, 'hash'> = {

@@ -184,7 +184,7 @@ function readCheckpointFiles(db: Knex, cfg: AppConfig, which: 'latest' | 'all'):
     .sort();
   if (which === 'latest') names = names.slice(-1);
   return names.map((file) => {
-    let doc: CheckpointDocument | null = null;
+    let doc: CheckpointDocument;
     try {
       doc = JSON.parse(fs.readFileSync(path.join(dir, file), 'utf8')) as CheckpointDocument;
     } catch {
