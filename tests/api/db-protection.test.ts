@@ -9,6 +9,9 @@
  * - append-only tables refuse UPDATE and DELETE; guarded records refuse deletion and every change
  *   outside their permitted transitions; signature columns only take a signature of the same record.
  */
+import path from 'node:path';
+import os from 'node:os';
+import fs from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
 import { appendOnlyTables, guardedTables, operationalTables } from '../../db/migrations/index';
@@ -16,6 +19,7 @@ import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
 import { loadConfig } from '../../server/lib/config';
+import { writeCheckpoint } from '../../server/modules/audit/anchor';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
@@ -203,6 +207,8 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     password_history: { column: 'password_hash', value: 'rewritten' },
     certificate_number: { column: 'lot_id', value: 1 },
     certificate_issue_failure: { column: 'problem', value: 'rewritten' },
+    audit_chain_key: { column: 'first_event_id', value: 999_999 },
+    audit_checkpoint: { column: 'head_hash', value: '0'.repeat(64) },
   };
   beforeAll(async () => {
     // a password change through the application writes a password_history row to try
@@ -220,6 +226,13 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
         { config: loadConfig({ signingP12Path: 'no-such-signing-key.p12' }) },
       ),
     ).rejects.toThrow();
+    // a checkpoint row to try (the keyed start, audit_chain_key, was written by the first audit event)
+    const checkpointDir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-cp-'));
+    try {
+      await writeCheckpoint(db(), loadConfig({ auditCheckpointDir: checkpointDir }), { force: true });
+    } finally {
+      fs.rmSync(checkpointDir, { recursive: true, force: true });
+    }
   });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
