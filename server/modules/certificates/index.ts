@@ -1,5 +1,5 @@
 /** What other modules use of identity certificates. */
-export { issueCertificate, type IssueInput, type IssueOptions } from './issue';
+export { failureSentence, issueCertificate, type IssueInput, type IssueOptions } from './issue';
 export { pendingCertificates, retryPendingCertificates, startCertificateRetryJob } from './retry';
 export type { CertificateMeta, PendingCertificate } from './contract';
 export { certificateRoutes } from './routes';
