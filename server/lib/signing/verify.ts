@@ -66,7 +66,9 @@ export function verifyPdfSignature(pdf: Buffer, opts: VerifyOptions = {}): PdfSi
   base.coversWholeFile = c + d === pdf.length;
   const gap = text.slice(b, c);
   if (!/^<[0-9A-Fa-f]*>$/.test(gap)) return fail(base, 'The signature contents are not where the byte range says.');
-  const hex = gap.slice(1, -1).replace(/(00)+$/, '');
+  // The CMS is followed by zero padding up to the reserved room; its own DER length says where it
+  // ends (stripping trailing zeros would cut a CMS whose last byte happens to be 0x00).
+  const hex = gap.slice(1, -1);
   let cms = Buffer.from(hex.length % 2 ? hex + '0' : hex, 'hex');
   const signedContent = Buffer.concat([pdf.subarray(a, a + b), pdf.subarray(c, c + d)]);
 
