@@ -388,6 +388,8 @@ export interface QueueItem {
   title: string;
   detail: string;
   href: string;
+  /** An action the queue offers in place (QA's retry of a certificate that could not be issued). */
+  action?: { kind: 'issue-certificate'; lotId: number };
 }
 
 export interface QueueSection {
@@ -397,6 +399,7 @@ export interface QueueSection {
     | 'open-investigations'
     | 'references-to-approve'
     | 'instrument-checks-due'
+    | 'certificates-to-issue'
     | 'blocked-containers';
   title: string;
   roles: Role[];
