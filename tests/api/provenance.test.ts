@@ -430,12 +430,10 @@ describe('a container that keeps giving invalid measurements', () => {
           .send({ reason: 'x'.repeat(30), signature: sig(olga.user) })
       ).status,
     ).toBe(403);
-    const wrong = await qa.agent
-      .post(`/api/containers/${c.id}/release`)
-      .send({
-        reason: 'Crystal cleaned, clamp replaced; measure again.',
-        signature: { username: qa.user.username, password: 'wrong' },
-      });
+    const wrong = await qa.agent.post(`/api/containers/${c.id}/release`).send({
+      reason: 'Crystal cleaned, clamp replaced; measure again.',
+      signature: { username: qa.user.username, password: 'wrong' },
+    });
     expect(wrong.status).toBe(401);
     const rel = await qa.agent
       .post(`/api/containers/${c.id}/release`)
