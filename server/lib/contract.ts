@@ -141,6 +141,7 @@ export const SIGNATURE_MEANINGS = [
   'issued',
   'role-change-confirmed',
   'integrity-reviewed',
+  'block-released',
   'audit-trail-reviewed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
@@ -160,6 +161,7 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   issued: 'Issued',
   'role-change-confirmed': 'Role change confirmed by a second administrator',
   'integrity-reviewed': 'Integrity alert reviewed by QA',
+  'block-released': 'Blocked container released by QA',
   'audit-trail-reviewed': 'Audit trail reviewed for the period',
 };
 
