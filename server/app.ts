@@ -28,6 +28,12 @@ import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { archiveRoutes } from './modules/archive/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startTrendJob } from './modules/trending/service';
+import { startCertificateRetryJob } from './modules/certificates';
+import { startAnchorJob } from './modules/audit/anchor';
+import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 import { httpLogger } from './lib/log';
 import { metricsMiddleware, setMetricsDb } from './lib/metrics';
@@ -85,6 +91,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    trendingRoutes(),
+    auditReviewRoutes(config),
     archiveRoutes(config),
   ];
   for (const r of routers) app.use(r);
@@ -111,6 +119,11 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startTrendJob(getDb());
+      startCertificateRetryJob(getDb(), config);
+      // the local fake time-stamping authority of development and tests (docs/certificates.md)
+      if (!config.tsaUrl && config.devMode) await startFakeTsa();
+      startAnchorJob(getDb(), config);
     },
   ];
   return { app, config };

@@ -32,7 +32,7 @@ import { migrations } from '../../db/migrations/index';
 import { appendAudit } from '../lib/audit';
 import { canonicalJson } from '../lib/canonical';
 import { loadConfig } from '../lib/config';
-import { loadSigningMaterial, signingSettingsFrom } from '../lib/pdf-sign';
+import { loadSigningMaterial, signingSettingsFrom } from '../lib/signing';
 import { checkRecords, type RecordCheck } from './record-checks';
 
 export const MANIFEST = 'manifest.json';

@@ -7,7 +7,7 @@
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { verifyChain } from '../lib/audit';
-import { verifyPdfSignature } from '../lib/pdf-sign';
+import { verifyPdfSignature } from '../lib/signing';
 import type { ChainReport } from '../lib/contract';
 
 export interface RecordCheck {

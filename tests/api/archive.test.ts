@@ -14,7 +14,7 @@ import type { Response as AgentResponse } from 'superagent';
 import { convert } from 'jcampconverter';
 import { createHash } from 'node:crypto';
 import { rowHash, type AuditRow } from '../../server/lib/audit';
-import { verifyPdfSignature } from '../../server/lib/pdf-sign';
+import { verifyPdfSignature } from '../../server/lib/signing';
 import { readSpectrum } from '../../server/spectra';
 import type { ArchiveManifest, LotFacts } from '../../server/modules/archive/contract';
 import { db, sig } from './helpers';

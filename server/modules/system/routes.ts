@@ -4,13 +4,14 @@ import { Router, type Request } from 'express';
 import { migrations } from '../../../db/migrations/index';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { defineRoute } from '../../lib/http';
+import { defineRoute, idParams } from '../../lib/http';
 import { isDraining } from '../../lib/lifecycle';
 import { metricsText } from '../../lib/metrics';
 import { buildOpenApi } from '../../lib/openapi';
-import { verifyChain } from '../../lib/audit';
+import { checkChain, getChainRun, requestFullCheck } from '../audit/anchor';
 import type { Health, Live, Ready } from './contract';
 
+const CHAIN_READERS = { roles: ['auditor', 'qa_manager', 'admin'] as const };
 /** Compares the migrations the database recorded with the ones this server was built with. */
 export async function migrationState(): Promise<Pick<Ready, 'migrations' | 'missing' | 'unknown'>> {
   const rows = (await getDb()('knex_migrations').select('name')) as { name: string }[];
@@ -124,11 +125,36 @@ export function systemRoutes(config: AppConfig): Router {
     {
       method: 'get',
       path: '/api/audit/verify',
-      summary: 'Walk the audit hash chain and report intact or the first broken event',
+      summary:
+        'Check the audit chain from the latest signed checkpoint on (incremental) and report intact or the first broken event',
       tag: 'audit',
-      access: { roles: ['auditor', 'qa_manager', 'admin'] },
+      access: CHAIN_READERS,
     },
-    () => verifyChain(getDb()),
+    () => checkChain(getDb(), config),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/audit/verify/full',
+      summary: 'Start a full check of the audit chain against every checkpoint (a background job); audited',
+      tag: 'audit',
+      access: CHAIN_READERS,
+      status: 202,
+    },
+    ({ user, ip }) => requestFullCheck(getDb(), user, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/audit/verify/full/:id',
+      summary: 'Progress and result of a full chain check',
+      tag: 'audit',
+      access: CHAIN_READERS,
+      params: idParams,
+    },
+    ({ params }) => getChainRun(getDb(), params.id),
   );
   return r;
 }

@@ -1,13 +1,13 @@
 /**
  * The certificate step after a lot passed identity (DESIGN.md flow 5). Called AFTER the
  * verification transaction has committed, so a certificate problem can never undo a signed
- * verification: the lot then shows "certificate pending" (no certificate row yet) and the
- * certificates module can issue it later.
+ * verification: the lot then shows "certificate pending" (no certificate row yet), QA's work queue
+ * lists it with a retry action and the background retry issues it (docs/certificates.md).
  */
-import { childLog, safeError } from '../../lib/log';
+import { childLog } from '../../lib/log';
 import type { Knex } from 'knex';
 import type { Actor } from '../../lib/audit';
-import { issueCertificate } from '../certificates';
+import { failureSentence, issueCertificate } from '../certificates';
 
 export async function runCertificateStep(
   db: Knex,
@@ -18,7 +18,7 @@ export async function runCertificateStep(
     return 'issued';
   } catch (e) {
     childLog('certificate').error(
-      { lotId: args.lotId, err: safeError(e) },
+      { lotId: args.lotId, reason: failureSentence(e) },
       'the certificate could not be issued now; it stays pending',
     );
     return 'pending';
