@@ -405,6 +405,7 @@ export function backupKeys(target: string): { folder: string; files: string[] } 
       if (fs.statSync(path.join(keysDir, f)).isFile()) sources.push(path.join(keysDir, f));
   const cfg = loadConfig();
   if (cfg.signingP12Path) sources.push(path.resolve(repoRoot, cfg.signingP12Path));
+  if (process.env.AUDIT_CHAIN_KEY_FILE) sources.push(path.resolve(repoRoot, process.env.AUDIT_CHAIN_KEY_FILE));
   if (!sources.length) throw new Error('no keys found (.keys/ is empty and SIGNING_P12_PATH is unset)');
   const folder = path.join(dest, `drumline-keys-${stamp(new Date())}`);
   fs.mkdirSync(folder, { recursive: true, mode: 0o700 });

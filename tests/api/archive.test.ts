@@ -4,7 +4,7 @@
  * zip; the test opens it with yauzl and rebuilds the lot's facts from the archive alone: every
  * file against the manifest's SHA-256, each raw file against the hash its audit event recorded,
  * verdicts and scores from the audit events, the certificate's signature, each event's own hash
- * (server/lib/audit.ts rowHash), the JCAMP-DX copies read back by Drumline's reader and by
+ * (server/lib/audit.ts rowHash, with the audit-chain key), the JCAMP-DX copies read back by Drumline's reader and by
  * jcampconverter 10.0.2 (test reference). The rebuilt facts equal the database's. Refused: roles
  * the route does not name, a lot that does not exist.
  */
@@ -13,7 +13,8 @@ import yauzl from 'yauzl';
 import type { Response as AgentResponse } from 'superagent';
 import { convert } from 'jcampconverter';
 import { createHash } from 'node:crypto';
-import { rowHash, type AuditRow } from '../../server/lib/audit';
+import { chainState, isKeyed, rowHash, type AuditRow } from '../../server/lib/audit';
+import { auditKey } from '../../server/lib/audit-key';
 import { verifyPdfSignature } from '../../server/lib/signing';
 import { readSpectrum } from '../../server/spectra';
 import type { ArchiveManifest, LotFacts } from '../../server/modules/archive/contract';
@@ -120,8 +121,14 @@ describe('lot archive', () => {
     const events = JSON.parse(file('audit/events.json').toString()) as (AuditRow & {
       after: Record<string, unknown>;
     })[];
+    // Each event's hash is an HMAC with the audit-chain key (kept apart from the archive, as from the backups).
+    const { keyedFrom } = await chainState(db());
+    const key = auditKey().key;
     for (const e of events)
-      expect(rowHash({ ...e, occurred_at: new Date(e.occurred_at) }), `event ${e.id}`).toBe(e.hash);
+      expect(
+        rowHash({ ...e, occurred_at: new Date(e.occurred_at) }, isKeyed(Number(e.id), keyedFrom) ? key : null),
+        `event ${e.id}`,
+      ).toBe(e.hash);
     const csv = file('audit/events.csv').toString();
     expect(csv.trim().split('\n')).toHaveLength(events.length + 1);
     const received = events.find((e) => e.action === 'lot.received')!;
