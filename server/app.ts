@@ -30,6 +30,9 @@ import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
 import { startTrendJob } from './modules/trending/service';
+import { startCertificateRetryJob } from './modules/certificates';
+import { startAnchorJob } from './modules/audit/anchor';
+import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -71,7 +74,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
-    systemRoutes(),
+    systemRoutes(config),
     authRoutes(config),
     userRoutes(),
     mailRoutes(config),
@@ -111,6 +114,10 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
       startTrendJob(getDb());
+      startCertificateRetryJob(getDb(), config);
+      // the local fake time-stamping authority of development and tests (docs/certificates.md)
+      if (!config.tsaUrl && config.devMode) await startFakeTsa();
+      startAnchorJob(getDb(), config);
     },
   ];
   return { app, config };

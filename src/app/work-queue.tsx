@@ -8,7 +8,12 @@
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
-import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
+import {
+  CertificatesToIssueWidget,
+  LotsToTestWidget,
+  OpenInvestigationsWidget,
+  TestsToVerifyWidget,
+} from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
 import { AuditReviewDueWidget, OpenTrendSignalsWidget } from '../routes/trending-widgets';
 import {
@@ -95,6 +100,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     roles: ['qa_manager'],
     order: 10,
     Component: OpenIntegrityAlertsWidget,
+  },
+  {
+    id: 'certificates.to-issue',
+    title: 'Certificates that could not be issued',
+    roles: ['qa_manager'],
+    order: 11,
+    Component: CertificatesToIssueWidget,
   },
 ];
 

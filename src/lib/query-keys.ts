@@ -19,6 +19,7 @@ export const qk = {
     event: (id: number | null) => ['audit', 'event', id] as const,
     facets: ['audit', 'facets'] as const,
     chain: ['audit', 'verify'] as const,
+    fullCheck: (id: number | null) => ['audit', 'verify', 'full', id] as const,
     history: (entityType: string, entityId: string) => ['audit', 'history', entityType, entityId] as const,
   },
   certificates: {

@@ -9,12 +9,17 @@
  * - append-only tables refuse UPDATE and DELETE; guarded records refuse deletion and every change
  *   outside their permitted transitions; signature columns only take a signature of the same record.
  */
+import path from 'node:path';
+import os from 'node:os';
+import fs from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
 import { appendOnlyTables, guardedTables, operationalTables } from '../../db/migrations/index';
 import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
+import { loadConfig } from '../../server/lib/config';
+import { writeCheckpoint } from '../../server/modules/audit/anchor';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
@@ -242,6 +247,10 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     password_history: { column: 'password_hash', value: 'rewritten' },
     trend_baseline: { column: 'period_to', value: new Date(0) },
     audit_review: { column: 'findings', value: 'rewritten' },
+    certificate_number: { column: 'lot_id', value: 1 },
+    certificate_issue_failure: { column: 'problem', value: 'rewritten' },
+    audit_chain_key: { column: 'first_event_id', value: 999_999 },
+    audit_checkpoint: { column: 'head_hash', value: '0'.repeat(64) },
   };
   beforeAll(async () => {
     // a password change through the application writes a password_history row to try
@@ -250,6 +259,22 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       .post('/api/auth/password')
       .send({ currentPassword: user.password, newPassword: 'violet-harbour-lamp-93' });
     expect(r.status).toBe(204);
+    // a failed certificate issue writes a certificate_issue_failure row to try (its number row too)
+    const failing = await createPassedLot(db(), { containers: 1 });
+    await expect(
+      issueCertificate(
+        db(),
+        { lotId: failing.lotId, testId: failing.testId, actor: { id: null, name: 'test' } },
+        { config: loadConfig({ signingP12Path: 'no-such-signing-key.p12' }) },
+      ),
+    ).rejects.toThrow();
+    // a checkpoint row to try (the keyed start, audit_chain_key, was written by the first audit event)
+    const checkpointDir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-cp-'));
+    try {
+      await writeCheckpoint(db(), loadConfig({ auditCheckpointDir: checkpointDir }), { force: true });
+    } finally {
+      fs.rmSync(checkpointDir, { recursive: true, force: true });
+    }
   });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
