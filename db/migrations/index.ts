@@ -15,6 +15,7 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m110 from './110_method_control';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -33,6 +34,7 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['110_method_control', m110],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -67,6 +69,11 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'gate_override',
+  'gate_override_confirmation',
+  'method_approval',
+  'material_ir_suitability',
+  'attempt_pin',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */

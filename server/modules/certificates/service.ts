@@ -19,6 +19,7 @@ import { formatSiteDate, type PdfSignatureCheck, type SignatureInput, type Signi
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { renderPdf } from '../../lib/pdf';
+import { assertIrSuitable } from '../library/method-control';
 import { getSigningIdentity, signingSettingsFrom, signPdf, verifyPdfSignature } from '../../lib/pdf-sign';
 import { prepare, validateMethod, type IdentityMethod } from '../../spectra';
 import { readSpectrumOff } from '../../workers/pool';
@@ -229,6 +230,8 @@ export async function issueCertificate(
   const cfg = configOf(opts.config);
   const lot = await repo.findLot(db, input.lotId);
   if (!lot) throw notFound('The lot');
+  // Never an IR identity certificate for a material QA marked "identity by IR not suitable" (docs/methods.md).
+  await assertIrSuitable(db, lot.material_id, 'No IR identity certificate is issued');
   let supersedes: CertificateContent['supersedes'] = null;
   if (input.supersedesId !== undefined) {
     const old = await repo.findListRow(db, input.supersedesId);
