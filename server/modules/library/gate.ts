@@ -59,8 +59,13 @@ export function classifyResult(
   r: IdentityResult,
   margins: SpecificityMargins,
 ): { state: GateState; note: string | null } {
-  if (r.verdict === 'invalid')
-    return { state: 'not-compared', note: 'the spectrum was refused by the quality check, so no verdict exists' };
+  if (r.verdict === 'invalid') {
+    const p = r.quality.problems[0];
+    return {
+      state: 'not-compared',
+      note: `the quality check refused the spectrum${p ? ` (${p.message})` : ''}, so no verdict exists`,
+    };
+  }
   if (r.referenceModelProblems?.length)
     return { state: 'not-compared', note: `the reference-set model cannot be built: ${r.referenceModelProblems[0]}` };
   if (r.verdict === 'pass') return { state: 'would-pass', note: null };
