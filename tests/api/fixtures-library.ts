@@ -144,3 +144,15 @@ export function shiftedCsv(data: Buffer, shift: number): Buffer {
   ];
   return Buffer.from(out.join('\n') + '\n');
 }
+
+/**
+ * A material whose first method version can be approved at once: version 1 under mid-IR
+ * transmission (a technique the other test files leave empty, so their materials do not meet this
+ * one in the specificity gate) with one draft reference, uploaded by `agent` (the author).
+ * Give each material of a file a chemically different fibre.
+ */
+export async function approvableMaterial(agent: Agent, name: string, fibreFile: string) {
+  const m = await createMaterial(agent, name, { techniques: ['mid-ir-transmission'] });
+  await uploadOne(agent, m.id, fibreFile, fibre(fibreFile));
+  return m;
+}
