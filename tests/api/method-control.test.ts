@@ -15,10 +15,29 @@
  * band concordance tells them apart (the CH3 bands of polypropylene near 1375 and 2950 cm-1,
  * standard IR correlation tables, from memory).
  */
-import { beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, ownerDb } from './helpers';
-import { approveFirstVersion, createMaterial, fibre, sha256, sigOf, uploadOne, type Party } from './fixtures-library';
-import { approvedMaterial, instrumentWithCheck, receiveLot, upload, FIBRES } from './fixtures-testing';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { type agentFor, db, ownerDb } from './helpers';
+import {
+  approveFirstVersion,
+  approveMethod,
+  createMaterial,
+  fibre,
+  perturbedCsv,
+  sha256,
+  sigOf,
+  uploadOne,
+  type Party,
+} from './fixtures-library';
+import {
+  agent,
+  approvedMaterial,
+  flushMail,
+  instrumentWithCheck,
+  receiveLot,
+  retire,
+  upload,
+  FIBRES,
+} from './fixtures-testing';
 import { DEFAULT_SPECIFICITY_MARGINS } from '../../server/spectra';
 import { DEFAULT_MARGINS } from '../../server/modules/library/contract';
 import { issueCertificate } from '../../server/modules/certificates';
@@ -35,11 +54,16 @@ const PE = fibre('polyethylene-HMPE_s122.csv');
 
 beforeAll(async () => {
   [qa1, qa2, qa3, op] = await Promise.all([
-    agentFor(['qa_manager']),
-    agentFor(['qa_manager']),
-    agentFor(['qa_manager']),
-    agentFor(['operator']),
+    agent(['qa_manager']),
+    agent(['qa_manager']),
+    agent(['qa_manager']),
+    agent(['operator']),
   ]);
+});
+afterAll(async () => {
+  // Later files see only their own QA managers, and the mail this file queued is delivered.
+  await retire();
+  await flushMail();
 });
 
 const methodRow = (id: number) => db()('identity_method').where({ id }).first();
@@ -355,6 +379,52 @@ describe('the specificity gate of a method version', () => {
           .send({ signature: sigOf(qa3.user), overrideId: req.body.id })
       ).status,
     ).toBe(409);
+  });
+});
+
+describe('the same margin applies to reference approval', () => {
+  it('a reference whose pair with another material comes within the margin of the limit is refused; nothing stored', async () => {
+    // Grade C's references are polypropylene scans; its method judges the correlation coefficient
+    // alone, with the limit just above the correlation with another polypropylene grade's reference.
+    const other = await createMaterial(qa1.agent, 'Polypropylene for margin');
+    await approveFirstVersion(qa1, qa2, other, { name: 'polypropylene_s123.csv', data: PP }, qa3);
+    const c = await createMaterial(qa1.agent, 'Polypropylene grade C');
+    const file = fibre('polypropylene_s127.csv');
+    await uploadOne(qa1.agent, c.id, 'polypropylene_s127.csv', file);
+    const p = (await qa1.agent.get(`/api/methods/${c.draftMethodId}`)).body.params;
+    const corrOnly = (min: number) => ({
+      ...p,
+      thresholds: { ...p.thresholds, minCorrelation: min, minDerivativeCorrelation: null },
+      peakProminence: null,
+      maxExtraBandProminence: null,
+    });
+    await qa1.agent.patch(`/api/methods/${c.draftMethodId}`).send({ params: corrOnly(0.01), reason: 'probe' });
+    const gate = (await qa1.agent.get(`/api/methods/${c.draftMethodId}/gate`)).body;
+    const r = gate.rows.find(
+      (x: { otherMaterialId: number; direction: string }) =>
+        x.otherMaterialId === other.id && x.direction === 'other-as-sample',
+    ).correlation as number;
+    const limit = Math.min(1, Math.round((r + 0.001) * 10000) / 10000);
+    await qa1.agent.patch(`/api/methods/${c.draftMethodId}`).send({ params: corrOnly(limit), reason: 'limit' });
+    await approveMethod(qa2.agent, qa2.user, c.draftMethodId, qa3); // setup: the same pair blocks the version too
+
+    // a second scan of grade C (the first with a little noise): r with the other grade stays just below the limit
+    const ref2 = await uploadOne(qa1.agent, c.id, 'polypropylene_s127_b.csv', perturbedCsv(file, 5, 0.002, 1.02));
+    const res = await qa2.agent.post(`/api/references/${ref2.id}/approve`).send({ signature: sigOf(qa2.user) });
+    expect(res.status).toBe(409);
+    expect(res.body.error.code).toBe('SPECIFICITY_GATE');
+    expect(res.body.error.message).toContain(`${other.code} (within the margin of a limit)`);
+    const pair = res.body.error.details.offending.find((x: { materialId: number }) => x.materialId === other.id);
+    expect(pair.state).toBe('within-margin');
+    expect(pair.wouldPass).toBe(false);
+    expect(pair.otherAsSample.correlation).toBeLessThan(limit);
+    expect(res.body.error.details.margins.correlation).toBe(0.02);
+    expect((await db()('reference_spectrum').where({ id: ref2.id }).first()).status).toBe('draft');
+    expect(
+      await db()('e_signature')
+        .where({ entity_type: 'reference_spectrum', entity_id: String(ref2.id) })
+        .first(),
+    ).toBeUndefined();
   });
 });
 

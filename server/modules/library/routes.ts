@@ -170,7 +170,7 @@ export function libraryRoutes(config: AppConfig): Router {
       access: READERS,
       params: idParams,
     },
-    ({ params, user }) => service.previewMethodGate(getDb(), user, params.id),
+    ({ params }) => service.previewMethodGate(getDb(), null, params.id),
   );
   defineRoute(
     r,
