@@ -15,7 +15,11 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m100 from './100_provenance';
 import * as m110 from './110_method_control';
+import * as m120 from './120_certificate_numbers';
+import * as m121 from './121_audit_anchor';
+import * as m150 from './150_trending';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -34,7 +38,11 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['100_provenance', m100],
   ['110_method_control', m110],
+  ['120_certificate_numbers', m120],
+  ['121_audit_anchor', m121],
+  ['150_trending', m150],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -74,6 +82,16 @@ export const appendOnlyTables = [
   'method_approval',
   'material_ir_suitability',
   'attempt_pin',
+  'spectrum_fingerprint',
+  'measurement_provenance',
+  'test_handover',
+  'container_block',
+  'certificate_number',
+  'certificate_issue_failure',
+  'audit_chain_key',
+  'audit_checkpoint',
+  'trend_baseline',
+  'audit_review',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -88,6 +106,8 @@ export const guardedTables = [
   'material',
   'instrument',
   'app_user',
+  'certificate_counter',
+  'trend_signal',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */
@@ -98,6 +118,7 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  audit_chain_run: 'progress counters of a full audit chain check; its request and its result are audit events',
   sign_in_rate:
     'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

@@ -1,6 +1,8 @@
 /** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
 import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
-import { LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import { CertificatesToIssueList, LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import { BlockedContainersList } from '../features/testing/components/Provenance';
+import { useSession } from '../app/session';
 
 export function LotsToTestWidget() {
   return <LotsToTestList />;
@@ -12,4 +14,13 @@ export function TestsToVerifyWidget() {
 
 export function OpenInvestigationsWidget() {
   return <OpenInvestigationsList />;
+}
+
+export function BlockedContainersWidget() {
+  const { user } = useSession();
+  return <BlockedContainersList me={user} />;
+}
+
+export function CertificatesToIssueWidget() {
+  return <CertificatesToIssueList />;
 }

@@ -7,6 +7,7 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
+import { reviewSignedContent } from '../audit-review/service';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
 import { specSignedContent } from '../instruments/service';
@@ -15,6 +16,7 @@ import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
 import { irSuitabilitySignedContent, overrideSignedContent } from '../library/method-control';
 import { loadContext, signedContent } from '../testing/context';
+import { releaseSignedContent } from '../provenance/service';
 import { roleRequestSignedContent } from '../users/grants';
 
 export interface SignatureRow {
@@ -97,6 +99,12 @@ const overrideRequest: Recipe = async (db, s) => {
 };
 
 export const RECIPES: Record<string, Recipe> = {
+  'audit_review/audit-trail-reviewed': async (db, s) => {
+    const r = await db('audit_review')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return r ? reviewSignedContent(r) : undefined;
+  },
   'identity_method/approved': async (db, s) => {
     const m = await db('identity_method')
       .where({ id: Number(s.entity_id) })
@@ -176,6 +184,24 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     return r ? roleRequestSignedContent(r) : undefined;
+  },
+  'container_block/block-released': async (db, s) => {
+    const r = await db('container_block')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!r) return undefined;
+    const c = await db('container').where({ id: r.container_id }).first('label');
+    const blocked = await db('container_block')
+      .where({ container_id: r.container_id, event: 'blocked' })
+      .where('id', '<', r.id)
+      .orderBy('id', 'desc')
+      .first('id');
+    return releaseSignedContent({
+      label: c?.label,
+      blockId: blocked?.id,
+      invalidCount: r.invalid_count,
+      reason: r.reason,
+    });
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')
