@@ -7,6 +7,7 @@ import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
+import { transactionWithRetry } from '../../lib/retry';
 import {
   hashPassword,
   isRecentPassword,
