@@ -26,7 +26,7 @@ import knexFactory from 'knex';
 import { dbSettings, knexConfig, repoRoot } from '../db/config';
 import { migrateDatabase, recreateDatabase } from '../db/migrate';
 import { createSiteAccounts } from '../db/site-accounts';
-import { FIBRES, dataFile, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
+import { FIBRES, distinctAcquisition, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
 import { writeJcamp } from '../server/modules/archive/jcamp-writer';
 import { hashPassword } from '../server/lib/passwords';
 import { readSpectrum } from '../server/spectra';
@@ -35,7 +35,8 @@ const DB_NAME = process.env.LOAD_BENCH_DB ?? 'drumline_bench_load';
 const SECONDS = Number(process.env.LOAD_BENCH_SECONDS ?? 10);
 const PASSWORD = 'amber-quarry-signal-58';
 const LOTS = 20;
-const CONTAINERS_PER_LOT = 400;
+const CONTAINERS_PER_LOT = 150;
+const UPLOAD_FILES = Number(process.env.LOAD_BENCH_FILES ?? 2500);
 
 interface Figures {
   name: string;
@@ -96,6 +97,7 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
     const hash = await hashPassword(PASSWORD);
     const accounts = [
       { username: 'bench.qa', roles: ['qa_manager'] as const },
+      { username: 'bench.author', roles: ['qa_manager'] as const },
       { username: 'bench.operator', roles: ['operator'] as const },
       { username: 'bench.verifier', roles: ['verifier'] as const },
       { username: 'bench.auditor', roles: ['auditor'] as const },
@@ -111,24 +113,36 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
       { passwordHash: () => hash, mustChangePassword: false, reason: 'load bench account', audit: false },
     );
     const qa = { id: ids.get('bench.qa')!, fullName: 'Bench bench.qa' };
+    const author = { id: ids.get('bench.author')!, fullName: 'Bench bench.author' };
     const material = await seedApprovedMaterial(db, qa, {
+      author,
       code: 'BENCH-PA66',
       name: 'Nylon 6,6 (bench)',
       referenceFiles: [FIBRES.nylon66Reference],
     });
     const { instrumentId } = await seedInstrument(db, qa, { name: 'FTIR bench', state: 'valid' });
-    const sample = dataFile(FIBRES.nylon66Samples[0]);
-    const jdx = Buffer.from(
-      writeJcamp(readSpectrum(sample.buffer, sample.name), {
-        title: 'Nylon 6,6 yarn, bench sample',
-        origin: 'Bench',
-        owner: 'Bench',
-        measuredAt: new Date(),
-        drumline: {},
-      }),
+    // Every upload must be a new acquisition (docs/provenance.md): made beforehand from the real
+    // nylon 6,6 sample with fresh noise, each written as JCAMP-DX by Drumline.
+    const t0 = performance.now();
+    const files: Buffer[] = [];
+    for (let k = 0; k < UPLOAD_FILES; k++) {
+      const a = distinctAcquisition(FIBRES.nylon66Samples[k % FIBRES.nylon66Samples.length]);
+      files.push(
+        Buffer.from(
+          writeJcamp(readSpectrum(a.buffer, a.name), {
+            title: 'Nylon 6,6 yarn, bench sample',
+            origin: 'Bench',
+            owner: 'Bench',
+            measuredAt: new Date(),
+            drumline: {},
+          }),
+        ),
+      );
+    }
+    const jdx = files[0];
+    console.log(
+      `[load] ${UPLOAD_FILES} distinct acquisitions written as JCAMP-DX (${(jdx.length / 1024).toFixed(1)} kB each) in ${((performance.now() - t0) / 1000).toFixed(1)} s`,
     );
-    console.log(`[load] upload file: JCAMP-DX written from ${sample.name}, ${(jdx.length / 1024).toFixed(1)} kB`);
-
     const nodeArgs = (process.env.LOAD_BENCH_NODE_ARGS ?? '').split(' ').filter(Boolean);
     child = spawn(process.execPath, [...nodeArgs, '--import', 'tsx', path.join(repoRoot, 'server', 'index.ts')], {
       cwd: repoRoot,
@@ -202,7 +216,7 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
           `--${B}\r\nContent-Disposition: form-data; name="containerId"\r\n\r\n${s.containerId}\r\n` +
             `--${B}\r\nContent-Disposition: form-data; name="file"; filename="nylon-sample.jdx"\r\nContent-Type: chemical/x-jcamp-dx\r\n\r\n`,
         ),
-        jdx,
+        files[i % files.length],
         Buffer.from(`\r\n--${B}--\r\n`),
       ]);
       return { path: `/api/tests/${s.testId}/measurements`, body };
@@ -286,7 +300,7 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
       const test = await api(cookies.operator, `/api/lots/${lot.id}/tests`, { instrumentId });
       const form = new FormData();
       form.set('containerId', String(lot.containers[0].id));
-      form.set('file', new Blob([new Uint8Array(jdx)]), 'nylon-sample.jdx');
+      form.set('file', new Blob([new Uint8Array(files[files.length - 1 - k])]), 'nylon-sample.jdx');
       const up = await fetch(`${base}/api/tests/${test.id}/measurements`, {
         method: 'POST',
         headers: { cookie: cookies.operator },

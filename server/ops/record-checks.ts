@@ -8,6 +8,7 @@ import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { verifyChain } from '../lib/audit';
 import { verifyPdfSignature } from '../lib/signing';
+import { trustedTsaRoots } from '../modules/certificates/config';
 import type { ChainReport } from '../lib/contract';
 
 export interface RecordCheck {
@@ -27,7 +28,7 @@ export async function checkCertificates(db: Knex): Promise<{ checked: number; pr
     const pdf = c.pdf as Buffer;
     if (sha(pdf) !== c.sha256) problems.push(`${c.number}: bytes do not match the recorded SHA-256`);
     if (pdf.length !== Number(c.size)) problems.push(`${c.number}: size differs from the recorded size`);
-    const s = verifyPdfSignature(pdf);
+    const s = verifyPdfSignature(pdf, { tsaTrustedPem: trustedTsaRoots() });
     if (!s.valid) problems.push(`${c.number}: signature does not verify (${s.problem ?? 'invalid'})`);
     else if (s.fingerprint !== c.signer_fingerprint) problems.push(`${c.number}: signed by another key`);
   }

@@ -16,6 +16,7 @@ import { createHash } from 'node:crypto';
 import { chainState, isKeyed, rowHash, type AuditRow } from '../../server/lib/audit';
 import { auditKey } from '../../server/lib/audit-key';
 import { verifyPdfSignature } from '../../server/lib/signing';
+import { trustedTsaRoots } from '../../server/modules/certificates/config';
 import { readSpectrum } from '../../server/spectra';
 import type { ArchiveManifest, LotFacts } from '../../server/modules/archive/contract';
 import { db, sig } from './helpers';
@@ -177,7 +178,7 @@ describe('lot archive', () => {
     const cert = issued.after as { number: string; sha256: string };
     const pdf = file(`certificates/${cert.number}.pdf`);
     expect(sha(pdf)).toBe(cert.sha256);
-    expect(verifyPdfSignature(pdf).valid).toBe(true);
+    expect(verifyPdfSignature(pdf, { tsaTrustedPem: trustedTsaRoots() }).valid).toBe(true);
     expect(
       file(`review/${manifest.files.find((f) => f.name.startsWith('review/'))!.name.slice(7)}`)
         .subarray(0, 5)

@@ -14,7 +14,7 @@ import request from 'supertest';
 import type { Knex } from 'knex';
 import { expect } from 'vitest';
 import { createSiteAccounts } from '../../db/site-accounts';
-import { FIBRES, dataFile, seedApprovedMaterial, seedInstrument } from '../../db/seeds/testing-library';
+import { FIBRES, distinctAcquisition, seedApprovedMaterial, seedInstrument } from '../../db/seeds/testing-library';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/contract';
 
@@ -68,7 +68,9 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
     return { id: ids.get(username)!, username, fullName: `Suite ${username}` };
   };
   const qa = await mk(['qa_manager']);
+  const author = await mk(['qa_manager']); // methods are written by another person than their approver
   const material = await seedApprovedMaterial(rt, qa, {
+    author,
     code: uname('CS').toUpperCase().slice(0, 30),
     name: 'Nylon 6,6 yarn (concurrency suite)',
     referenceFiles: [FIBRES.nylon66Reference],
@@ -138,7 +140,7 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
       );
       expect(started.status, JSON.stringify(started.body)).toBe(201);
       const testId = started.body.id as number;
-      const f = dataFile(samples[i % samples.length]);
+      const f = distinctAcquisition(samples[i % samples.length]); // every upload a new acquisition (docs/provenance.md)
       const up = await call(i + 1, (b) =>
         request(b)
           .post(`/api/tests/${testId}/measurements`)

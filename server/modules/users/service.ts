@@ -3,7 +3,6 @@
  * Roles change through role grants (./grants.ts): nobody changes their own roles or status, and
  * QA manager, verifier and administrator need a second administrator's confirmation.
  */
-import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
