@@ -1,2 +1,3 @@
-/** What other modules (testing, work queue) may use from the instrument registry. */
-export { getValidInstrumentCheck, type ValidInstrumentCheck } from './service';
+/** What other modules (testing, work queue, integrity) may use from the instrument registry. */
+export { getValidInstrumentCheck, type ValidInstrumentCheck } from './checks';
+export { specSignedContent } from './specifications';

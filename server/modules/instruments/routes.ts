@@ -16,7 +16,9 @@ import {
   instrumentUpdateSchema,
   specApprovalSchema,
 } from './contract';
-import * as service from './service';
+import * as checks from './checks';
+import * as registry from './registry';
+import * as specifications from './specifications';
 
 const QA = { roles: ['qa_manager'] as const };
 /** Operators run the instrument check before measuring (docs/access.md); QA approves its specification. */
@@ -36,7 +38,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       tag: 'instruments',
       access: READERS,
     },
-    () => service.listInstruments(getDb()),
+    () => registry.listInstruments(getDb()),
   );
   defineRoute(
     r,
@@ -48,7 +50,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       access: READERS,
       params: idParams,
     },
-    ({ params }) => service.getInstrument(getDb(), params.id),
+    ({ params }) => registry.getInstrument(getDb(), params.id),
   );
   defineRoute(
     r,
@@ -61,7 +63,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       body: instrumentCreateSchema,
       status: 201,
     },
-    ({ body, actor, ip }) => service.createInstrument(getDb(), actor, body, ip),
+    ({ body, actor, ip }) => registry.createInstrument(getDb(), actor, body, ip),
   );
   defineRoute(
     r,
@@ -74,7 +76,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       params: idParams,
       body: instrumentUpdateSchema,
     },
-    ({ params, body, actor, ip }) => service.updateInstrument(getDb(), actor, params.id, body, ip),
+    ({ params, body, actor, ip }) => registry.updateInstrument(getDb(), actor, params.id, body, ip),
   );
   defineRoute(
     r,
@@ -89,8 +91,10 @@ export function instrumentRoutes(config: AppConfig): Router {
       body: specApprovalSchema,
       status: 201,
     },
-    ({ params, body, user, ip }) =>
-      service.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip),
+    async ({ params, body, user, ip }) => {
+      await specifications.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
   );
   defineRoute(
     r,
@@ -112,7 +116,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       body: checkUploadFieldsSchema,
       status: 201,
     },
-    ({ req, params, body, user, ip }) => service.recordCheck(getDb(), user, params.id, req.file, body, ip),
+    ({ req, params, body, user, ip }) => checks.recordCheck(getDb(), user, params.id, req.file, body, ip),
   );
   defineRoute(
     r,
@@ -126,7 +130,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       produces: 'application/octet-stream',
     },
     async ({ params, res, user, ip }) => {
-      const f = await service.checkFile(getDb(), params.id, params.checkId);
+      const f = await checks.checkFile(getDb(), params.id, params.checkId);
       await sendCheckedFile(getDb(), res, f, { foundIn: 'download', user, ip });
     },
   );

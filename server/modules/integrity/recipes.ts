@@ -9,7 +9,7 @@ import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
-import { specSignedContent } from '../instruments/service';
+import { specSignedContent } from '../instruments';
 import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
