@@ -109,3 +109,21 @@ export {
   type ReferenceModelCheck,
 } from './reference-model';
 export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';
+export {
+  checkBlank,
+  measureNoise,
+  checkWavelengthAccuracy,
+  measurePhotometricNoise,
+  type BlankLimits,
+  type BlankResult,
+  type BlankBand,
+  type NoiseLimits,
+  type NoiseResult,
+  type WavelengthLimits,
+  type WavelengthBand,
+  type WavelengthResult,
+  type WavelengthBandResult,
+  type PhotometricNoiseLimits,
+  type PhotometricNoiseResult,
+  type Region,
+} from './performance';
