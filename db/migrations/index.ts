@@ -15,6 +15,8 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m160 from './160_instrument_lifecycle';
+import * as m161 from './161_check_lookback';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -33,6 +35,8 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['160_instrument_lifecycle', m160],
+  ['161_check_lookback', m161],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -67,6 +71,11 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'instrument_qualification',
+  'instrument_maintenance',
+  'instrument_service_event',
+  'check_impact_measurement',
+  'check_impact_notice',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -81,6 +90,7 @@ export const guardedTables = [
   'material',
   'instrument',
   'app_user',
+  'check_impact_assessment',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */

@@ -141,6 +141,9 @@ export const SIGNATURE_MEANINGS = [
   'issued',
   'role-change-confirmed',
   'integrity-reviewed',
+  'qualification-approved',
+  'back-in-service',
+  'impact-assessed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -159,6 +162,9 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   issued: 'Issued',
   'role-change-confirmed': 'Role change confirmed by a second administrator',
   'integrity-reviewed': 'Integrity alert reviewed by QA',
+  'qualification-approved': 'Qualification record approved by QA',
+  'back-in-service': 'Instrument put back into service by QA',
+  'impact-assessed': 'Impact of a failed instrument check assessed by QA',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */

@@ -111,6 +111,9 @@ export {
 export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';
 export {
   checkBlank,
+  runPerformanceCheck,
+  type PerformanceCheck,
+  type PerformanceResult,
   measureNoise,
   checkWavelengthAccuracy,
   measurePhotometricNoise,

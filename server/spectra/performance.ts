@@ -27,7 +27,7 @@
  * The engine's axis is the wavenumber in cm-1 (ascending); nanometre positions convert with
  * nm = 1e7 / cm-1.
  */
-import { locateMaximum } from './polystyrene';
+import { checkPolystyrene, locateMaximum, type PolystyreneOptions, type PolystyreneResult } from './polystyrene';
 import type { Spectrum } from './types';
 import { ENGINE_VERSION } from './version';
 
@@ -281,4 +281,31 @@ export function measurePhotometricNoise(spectrum: Spectrum, limits: PhotometricN
     limit: limits.maxMeanRms,
     engineVersion: ENGINE_VERSION,
   };
+}
+
+/** One performance check as the compute pool runs it. */
+export type PerformanceCheck =
+  | { type: 'polystyrene'; options: PolystyreneOptions }
+  | { type: 'atr-blank'; limits: BlankLimits }
+  | { type: 'noise'; limits: NoiseLimits }
+  | { type: 'nir-wavelength'; limits: WavelengthLimits }
+  | { type: 'nir-photometric-noise'; limits: PhotometricNoiseLimits };
+
+export type PerformanceResult =
+  PolystyreneResult | BlankResult | NoiseResult | WavelengthResult | PhotometricNoiseResult;
+
+/** Runs the check of its type on a spectrum. */
+export function runPerformanceCheck(spectrum: Spectrum, check: PerformanceCheck): PerformanceResult {
+  switch (check.type) {
+    case 'polystyrene':
+      return checkPolystyrene(spectrum, check.options);
+    case 'atr-blank':
+      return checkBlank(spectrum, check.limits);
+    case 'noise':
+      return measureNoise(spectrum, check.limits);
+    case 'nir-wavelength':
+      return checkWavelengthAccuracy(spectrum, check.limits);
+    case 'nir-photometric-noise':
+      return measurePhotometricNoise(spectrum, check.limits);
+  }
 }

@@ -11,7 +11,7 @@ import { ZxcvbnFactory } from '@zxcvbn-ts/core';
 import * as zxcvbnCommon from '@zxcvbn-ts/language-common';
 import * as zxcvbnEn from '@zxcvbn-ts/language-en';
 import {
-  checkPolystyrene,
+  runPerformanceCheck,
   checkQuality,
   prepare,
   readSpectrum,
@@ -71,7 +71,7 @@ function run(task: Task): TaskResult {
     }
     case 'instrument-check': {
       const spectrum = readSpectrum(task.bytes, task.fileName);
-      return { ok: true, value: { result: checkPolystyrene(spectrum, task.options), sha256: sha256(task.bytes) } };
+      return { ok: true, value: { result: runPerformanceCheck(spectrum, task.check), sha256: sha256(task.bytes) } };
     }
     case 'reference': {
       const spectrum = readSpectrum(task.bytes, task.fileName);

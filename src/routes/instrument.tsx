@@ -11,7 +11,7 @@ import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatWavenumber } from '../lib/format';
-import { useInstrument, type InstrumentCheck } from '../features/instruments/api';
+import { isPolystyreneResult, useInstrument, type InstrumentCheck } from '../features/instruments/api';
 import { ApproveSpecDialog } from '../features/instruments/components/ApproveSpecDialog';
 import { CheckHistory } from '../features/instruments/components/CheckHistory';
 import { CheckStatus } from '../features/instruments/components/CheckStatus';
@@ -82,7 +82,7 @@ export default function InstrumentPage() {
               valid until <DateTime value={last.validUntil} />
             </>
           ) : (
-            `${last.result.bands.filter((b) => !b.ok).length} of ${last.result.bands.length} bands outside their tolerance; the instrument may not be used for testing.`
+            `${isPolystyreneResult(last.result) ? `${last.result.bands.filter((b) => !b.ok).length} of ${last.result.bands.length} bands outside their tolerance; ` : ''}the instrument may not be used for testing, and an impact assessment of the measurements since the last passing check is open.`
           )}
         </p>
       )}

@@ -10,6 +10,7 @@ import * as repo from './repo';
 import type { InstrumentCreate, InstrumentDetail, InstrumentListItem, InstrumentUpdate } from './contract';
 
 import { statusOf } from './checks';
+import { lifecycleOf } from './lifecycle';
 import { DEFAULT_SPEC_JUSTIFICATION, pharmacopoeiaBands } from './specifications';
 
 export async function listInstruments(db: Knex): Promise<InstrumentListItem[]> {
@@ -44,6 +45,7 @@ export async function getInstrument(db: Knex, id: number): Promise<InstrumentDet
       performedByName: name(c.performed_by),
       signature: sigs.find((x) => x.id === c.signature_id) ?? null,
     })),
+    ...(await lifecycleOf(db, id)),
   };
 }
 

@@ -8,12 +8,13 @@ import type {
   InstrumentCreateInput,
   InstrumentDetail,
   InstrumentListItem,
-  SpecCreate,
+  SpecCreateInput,
 } from '../../../../server/modules/instruments/contract';
 
 export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
 export type {
   CheckBand,
+  AnyCheckResult,
   CheckResult,
   CheckSpecView as CheckSpec,
   InstrumentCheckView as InstrumentCheck,
@@ -23,6 +24,7 @@ export type {
   PolystyreneBandResult,
   SpecKind,
 } from '../../../../server/modules/instruments/contract';
+export { CHECK_TYPE_LABELS, isPolystyreneResult } from '../../../../server/modules/instruments/contract';
 
 export function useInstruments() {
   return useQuery({ queryKey: qk.instruments.all, queryFn: () => apiFetch<InstrumentListItem[]>('/api/instruments') });
@@ -47,7 +49,7 @@ export function useCreateInstrument() {
 export function useApproveSpec() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, ...body }: { id: number; spec: SpecCreate; signature: SignatureInput }) =>
+    mutationFn: ({ id, ...body }: { id: number; spec: SpecCreateInput; signature: SignatureInput }) =>
       apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
     onSuccess: async () => {
       await qc.invalidateQueries({ queryKey: qk.instruments.all });
