@@ -17,6 +17,7 @@ import {
   useInstrument,
   type InstrumentCheck,
 } from '../features/instruments/api';
+import { ApproveLimitsDialog } from '../features/instruments/components/ApproveLimitsDialog';
 import { ApproveSpecDialog } from '../features/instruments/components/ApproveSpecDialog';
 import { CheckHistory } from '../features/instruments/components/CheckHistory';
 import { CheckStatus } from '../features/instruments/components/CheckStatus';
@@ -36,6 +37,7 @@ export default function InstrumentPage() {
   const q = useInstrument(id);
   const [checking, setChecking] = useState(false);
   const [specing, setSpecing] = useState(false);
+  const [limiting, setLimiting] = useState(false);
   const [last, setLast] = useState<InstrumentCheck | null>(null);
 
   if (q.isPending) return <PageLoading />;
@@ -62,6 +64,7 @@ export default function InstrumentPage() {
               showTrailLink={canSeeTrail}
             />
             {isQa && <Button onClick={() => setSpecing(true)}>New check specification</Button>}
+            {isQa && <Button onClick={() => setLimiting(true)}>New check limits</Button>}
             {canCheck && (
               <Button variant="primary" size="bench" onClick={() => setChecking(true)} disabled={!i.active || !current}>
                 Record instrument check
@@ -158,6 +161,15 @@ export default function InstrumentPage() {
             setLast(c);
             setChecking(false);
           }}
+        />
+      )}
+      {isQa && (
+        <ApproveLimitsDialog
+          open={limiting}
+          instrument={i}
+          printedName={user.fullName}
+          needsUsername={!user.signedOnce}
+          onClose={() => setLimiting(false)}
         />
       )}
       {isQa && (
