@@ -7,7 +7,11 @@
  */
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
-import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
+import {
+  InstrumentsCheckDueWidget,
+  OpenImpactAssessmentsWidget,
+  ReferencesAwaitingApprovalWidget,
+} from '../routes/library-widgets';
 import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
 import {
@@ -30,6 +34,13 @@ export interface WorkQueueWidget {
 
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
+  {
+    id: 'instruments.impact-assessments',
+    title: 'Failed instrument checks to assess',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: OpenImpactAssessmentsWidget,
+  },
   {
     id: 'instruments.check-due',
     title: 'Instruments with a check due',

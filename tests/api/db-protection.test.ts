@@ -217,7 +217,7 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       document_ref: 'OQ-PROBE-1',
       executed_from: '2026-01-05',
       executed_to: '2026-01-06',
-      status: 'failed',
+      status: 'passed',
       summary: 'probe record',
       signature_id: anySig.id,
       recorded_by: lot.operator.id,

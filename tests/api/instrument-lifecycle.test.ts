@@ -143,7 +143,7 @@ describe('out of service and back', () => {
 });
 
 describe('qualification and maintenance records', () => {
-  it('QA records a qualification signed with the password (not the operator; a wrong password stores nothing); the bench logs maintenance', async () => {
+  it('QA records a qualification signed with the password (not the operator; a wrong password stores nothing); a failed or overdue one stops use; the bench logs maintenance', async () => {
     const inst = await instrumentWithCheck('valid');
     const body = {
       stage: 'oq',
@@ -179,6 +179,44 @@ describe('qualification and maintenance records', () => {
       status: 'passed',
     });
     expect(ok.body.qualifications[0].signature).toMatchObject({ meaning: 'qualification-approved' });
+
+    // a failed qualification stops use until a passing one is recorded; so does a next due date passed
+    const lot = await receiveLot(op.agent, nylon.materialId, 1);
+    const failedPq = await qa.agent.post(`/api/instruments/${inst.instrumentId}/qualifications`).send({
+      ...body,
+      stage: 'pq',
+      documentRef: 'PQ-FTIR-2026-015',
+      status: 'failed',
+      summary: 'Wavenumber repeatability outside the PQ limit.',
+      signature: sigOf(qa.user),
+    });
+    expect(failedPq.status).toBe(201);
+    expect(failedPq.body.checkDue).toBe(true);
+    const refused = await op.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.instrumentId });
+    expect(refused.status).toBe(409);
+    expect(refused.body.error.message).toMatch(/qualification record .* failed/);
+    const overdue = await qa.agent.post(`/api/instruments/${inst.instrumentId}/qualifications`).send({
+      ...body,
+      stage: 'requalification',
+      documentRef: 'RQ-FTIR-2026-016',
+      executedFrom: '2025-01-10',
+      executedTo: '2025-01-11',
+      nextDue: '2026-01-10',
+      signature: sigOf(qa.user),
+    });
+    expect(overdue.status).toBe(201);
+    const late = await op.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.instrumentId });
+    expect(late.status).toBe(409);
+    expect(late.body.error.message).toMatch(/requalification .* was due on 2026-01-10/);
+    const renewed = await qa.agent.post(`/api/instruments/${inst.instrumentId}/qualifications`).send({
+      ...body,
+      stage: 'requalification',
+      documentRef: 'RQ-FTIR-2026-017',
+      signature: sigOf(qa.user),
+    });
+    expect(renewed.status).toBe(201);
+    expect(renewed.body.checkDue).toBe(false);
+    await startTest(op.agent, lot.id, inst.instrumentId);
 
     const m = await op.agent.post(`/api/instruments/${inst.instrumentId}/maintenance`).send({
       kind: 'preventive',

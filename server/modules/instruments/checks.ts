@@ -5,8 +5,8 @@
  * performer's signature (meaning "instrument-check") in one transaction. A failing check is
  * stored as well, and opens the look-back (lookback.ts) in the same transaction.
  * valid_until = performed_at + check_validity_hours when passed, null when failed.
- * "Check due": any required check type (repo.requiredCheckTypes) without a valid check, or the
- * instrument out of service. getValidInstrumentCheck is the testing module's gate.
+ * "Check due": any required check type (repo.requiredCheckTypes) without a valid check, the
+ * instrument out of service, or its latest qualification record failed or past its next due date. getValidInstrumentCheck is the testing module's gate.
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
@@ -70,6 +70,16 @@ export async function unusableReason(db: Db, inst: repo.InstrumentRow, at: Date)
   if (!inst.active) return `Instrument ${inst.name} is out of use. Choose another instrument.`;
   if (inst.service_state === 'out-of-service')
     return `Instrument ${inst.name} is out of service. Choose another instrument; QA puts it back in service.`;
+  // The latest qualification record decides: a failed one, or a next due date passed, stops use.
+  const q = await db('instrument_qualification')
+    .where({ instrument_id: inst.id })
+    .andWhere('recorded_at', '<=', at)
+    .orderBy('id', 'desc')
+    .first('stage', 'document_ref', 'status', 'next_due');
+  if (q?.status === 'failed')
+    return `The latest qualification record of ${inst.name} (${String(q.stage).toUpperCase()}, ${q.document_ref}) failed. The instrument may not be used until QA records a passing one.`;
+  if (q?.next_due && new Date(q.next_due).toISOString().slice(0, 10) < at.toISOString().slice(0, 10))
+    return `The requalification of ${inst.name} was due on ${new Date(q.next_due).toISOString().slice(0, 10)}. The instrument may not be used until QA records it.`;
   const states = await checkStates(db, inst, at);
   if (!states.length)
     return `Instrument ${inst.name} has no instrument check on record. Run the polystyrene wavenumber check first.`;
