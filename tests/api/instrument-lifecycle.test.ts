@@ -280,6 +280,59 @@ describe('ATR blank and the required checks', () => {
   });
 });
 
+describe('noise figure and NIR wavelength accuracy through the API', () => {
+  it('a noise check with QA limits passes a quiet spectrum; NIR wavelength accuracy passes the real HDPE spectrum and FAILS a shifted copy', async () => {
+    const atr = await instrumentWithCheck('valid');
+    const noiseSpec = await qa.agent.post(`/api/instruments/${atr.instrumentId}/specs`).send({
+      spec: {
+        checkType: 'noise',
+        kind: 'site',
+        limits: { region: { from: 2000, to: 2200 }, maxRms: 0.002 },
+        justification: 'Noise figure limit from the OQ report of this instrument (test).',
+      },
+      signature: sigOf(qa.user),
+    });
+    expect(noiseSpec.status, JSON.stringify(noiseSpec.body)).toBe(201);
+    const quiet = await check(op, atr.instrumentId, 'noise', 'noise.csv', blankCsv(31));
+    expect(quiet.status, JSON.stringify(quiet.body)).toBe(201);
+    expect(quiet.body).toMatchObject({ checkType: 'noise', verdict: 'pass' });
+    expect(quiet.body.result.rms).toBeGreaterThan(0.0003);
+    expect(quiet.body.result.rms).toBeLessThan(0.0008);
+
+    // Real NIR diffuse reflectance: ../shared/reference-data/nir-polyolefins/HDPE_NIST-SRM1474_N1474PE_r1.csv
+    // (NIST ECAPS, public domain). The "certified" positions are this spectrum's own band maxima
+    // (polyethylene CH2 overtone and combination bands; the engine unit test places them within
+    // 5 nm of the tabulated 1728, 1765, 2310 and 2350 nm), so it must pass and a copy shifted
+    // by 10 cm-1 (about 3 nm at 1730 nm, 5 nm at 2310 nm) must fail a 1 nm tolerance.
+    const nir = await instrumentWithCheck('valid', { technique: 'nir', sampling: 'diffuse-reflectance' });
+    const unfit = await check(op, nir.instrumentId, 'atr-blank', 'blank.csv', blankCsv(32));
+    expect(unfit.status).toBe(422);
+    const positions = [1731.84, 1765.75, 2313.05, 2351.47];
+    const wl = await qa.agent.post(`/api/instruments/${nir.instrumentId}/specs`).send({
+      spec: {
+        checkType: 'nir-wavelength',
+        kind: 'site',
+        limits: {
+          standard: 'Site polyethylene wavelength standard, certificate WS-TEST-1 (test)',
+          bands: positions.map((nominal) => ({ nominal, tolerance: 1 })),
+        },
+        justification: 'Positions and tolerances from the standard certificate (test).',
+      },
+      signature: sigOf(qa.user),
+    });
+    expect(wl.status, JSON.stringify(wl.body)).toBe(201);
+    const hdpe = refData('nir-polyolefins/HDPE_NIST-SRM1474_N1474PE_r1.csv');
+    const good = await check(op, nir.instrumentId, 'nir-wavelength', 'hdpe.csv', hdpe);
+    expect(good.status, JSON.stringify(good.body)).toBe(201);
+    expect(good.body.verdict).toBe('pass');
+    for (const b of good.body.result.bands) expect(Math.abs(b.deviation)).toBeLessThan(0.05);
+    const bad = await check(op, nir.instrumentId, 'nir-wavelength', 'hdpe-shifted.csv', shiftedCsv(hdpe, -10));
+    expect(bad.body.verdict).toBe('fail');
+    expect(bad.body.result.bands.every((b: { ok: boolean }) => !b.ok)).toBe(true);
+    expect(await db()('check_impact_assessment').where({ instrument_check_id: bad.body.id })).toHaveLength(1);
+  });
+});
+
 describe('failed-check look-back', () => {
   it('lists exactly the measurements since the last passing check of that type, with notices; QA closes it signed', async () => {
     const inst = await instrumentWithCheck('valid');
