@@ -33,7 +33,7 @@ export async function up(knex: Knex): Promise<void> {
     t.string('check_type', 24).notNullable();
     t.datetime('window_from', { precision: 3 }).nullable(); // the last passing check; null = none ever
     t.datetime('window_to', { precision: 3 }).notNullable(); // the failed check
-    t.string('basis', 24).notNullable(); // which time of a measurement was compared: upload-time
+    t.string('basis', 24).notNullable(); // which time of a measurement was compared: acquisition-or-upload
     t.datetime('opened_at', { precision: 3 }).notNullable();
     t.string('status', 16).notNullable(); // open, assessed
     t.string('decision', 16).nullable(); // none, retest

@@ -135,7 +135,7 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
     performedBy: 'Site instrument engineer (demo)',
     description: 'Desiccant replaced and ATR crystal inspected; no damage found.',
   });
-  const films = demoSpectra().filter((s) => s.kind === 'polystyrene');
+  const films = demoSpectra().filter((s) => s.kind === 'polystyrene' && !s.spare);
   for (const film of films) {
     // FTIR 3: only the drifted film is recorded, so its check fails and stays due.
     if (film.instrument === 'IR-3' && film.scaleShift === 0) continue;

@@ -130,3 +130,14 @@ export {
   type PhotometricNoiseResult,
   type Region,
 } from './performance';
+export {
+  COPY_RATIO_LIMIT,
+  fingerprintOf,
+  lookupWindow,
+  roundingStep,
+  sameAcquisition,
+  statedAcquisition,
+  type AcquisitionComparison,
+  type SpectrumFingerprint,
+  type StatedAcquisition,
+} from './provenance';

@@ -42,6 +42,51 @@ beforeAll(async () => {
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
   ).id;
+  // provenance rows (docs/provenance.md) of the passed lot's first measurement
+  const ms = await db()('measurement').where({ test_id: lot.testId }).orderBy('id').first();
+  const t = await db()('identity_test').where({ id: lot.testId }).first();
+  const provAt = new Date();
+  await db()('spectrum_fingerprint').insert({
+    file_id: ms.file_id,
+    record_type: 'measurement',
+    record_id: ms.id,
+    raw_sha256: '1'.repeat(64),
+    decoded_sha256: '2'.repeat(64),
+    points: 10,
+    x_low: 600,
+    x_high: 4000,
+    seg1: 0.1,
+    seg2: 0.1,
+    seg3: 0.1,
+    seg4: 0.1,
+    noise: 0.001,
+    y_range: 1,
+    y_step: 0,
+    created_at: provAt,
+  });
+  await db()('measurement_provenance').insert({
+    measurement_id: ms.id,
+    acquired_judgement: 'not-stated',
+    serial_judgement: 'not-stated',
+    identifier_findings: '[]',
+    created_at: provAt,
+  });
+  await db()('test_handover').insert({
+    test_id: lot.testId,
+    from_user: t.created_by,
+    to_user: t.created_by,
+    reason: 'probe',
+    created_by: t.created_by,
+    created_at: provAt,
+  });
+  await db()('container_block').insert({
+    container_id: ms.container_id,
+    test_id: lot.testId,
+    event: 'blocked',
+    invalid_count: 3,
+    created_by: t.created_by,
+    created_at: provAt,
+  });
   // a declined role change: rows in role_request and role_decision
   const a = await agentFor(['admin']);
   const b = await agentFor(['admin']);
@@ -244,6 +289,10 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    spectrum_fingerprint: { column: 'decoded_sha256', value: '0'.repeat(64) },
+    measurement_provenance: { column: 'remeasure_reason', value: 'rewritten' },
+    test_handover: { column: 'to_user', value: 1 },
+    container_block: { column: 'event', value: 'released' },
     password_history: { column: 'password_hash', value: 'rewritten' },
     trend_baseline: { column: 'period_to', value: new Date(0) },
     audit_review: { column: 'findings', value: 'rewritten' },
@@ -296,7 +345,7 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       check_type: 'polystyrene',
       window_from: null,
       window_to: at,
-      basis: 'upload-time',
+      basis: 'acquisition-or-upload',
       opened_at: at,
       status: 'open',
     });

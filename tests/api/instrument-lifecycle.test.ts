@@ -354,7 +354,7 @@ describe('failed-check look-back', () => {
     expect(a).toBeDefined();
     const view = await ver.agent.get(`/api/impact-assessments/${a.id}`);
     expect(view.status).toBe(200);
-    expect(view.body).toMatchObject({ status: 'open', checkType: 'atr-blank', basis: 'upload-time' });
+    expect(view.body).toMatchObject({ status: 'open', checkType: 'atr-blank', basis: 'acquisition-or-upload' });
     expect(view.body.measurements.map((m: { measurementId: number }) => m.measurementId)).toEqual([m2.id, m3.id]);
     expect(view.body.measurements.map((m: { measurementId: number }) => m.measurementId)).not.toContain(m1.id);
     expect(view.body.notices).toHaveLength(1);

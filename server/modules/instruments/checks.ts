@@ -18,6 +18,8 @@ import { conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/er
 import type { AuthUser } from '../../lib/http';
 import type { PerformanceCheck, PerformanceResult, PolystyreneResult } from '../../spectra';
 import { instrumentCheckOff } from '../../workers/pool';
+import type { ProvenanceKeys } from '../../workers/tasks';
+import { recordFingerprint } from '../provenance/copies';
 import * as repo from './repo';
 import {
   CHECK_TYPE_LABELS,
@@ -223,8 +225,9 @@ export async function recordCheck(
   // Reading and the check run in the compute pool (a big file never holds the event loop).
   let result: PerformanceResult;
   let sha: string;
+  let keys: ProvenanceKeys;
   try {
-    ({ result, sha256: sha } = await instrumentCheckOff(file, engineCheckOf(spec, inst)));
+    ({ result, sha256: sha, keys } = await instrumentCheckOff(file, engineCheckOf(spec, inst)));
   } catch (e) {
     throw spectrumRefusal(e, file.originalname);
   }
@@ -258,6 +261,15 @@ export async function recordCheck(
       performed_at: performedAt,
       valid_until: validUntil,
       signature_id: null,
+    });
+    // indexed for the copy lookup: a sample can never be this check's spectrum (docs/provenance.md)
+    await recordFingerprint(trx, {
+      fileId: fileId as number,
+      recordType: 'instrument-check',
+      recordId: id as number,
+      sha256: sha,
+      keys,
+      at: performedAt,
     });
     const sig = await recordSignature(trx, {
       user,

@@ -462,7 +462,7 @@ export interface ImpactAssessment {
   windowFrom: string | null;
   windowTo: string;
   /** Which time of a measurement was compared with the window. */
-  basis: 'upload-time' | 'acquisition-time';
+  basis: 'acquisition-or-upload';
   openedAt: string;
   status: 'open' | 'assessed';
   decision: 'none' | 'retest' | null;

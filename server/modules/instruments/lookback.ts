@@ -5,8 +5,8 @@
  * - When a check of any type fails, the same transaction opens an impact assessment listing
  *   every measurement made on that instrument after the last passing check of the same type and
  *   up to the failed check (all earlier measurements on the instrument when the type never
- *   passed). A measurement's time is its upload time (measurement.created_at): the acquisition
- *   time a file states is not stored yet; `basis` records which time was compared.
+ *   passed). A measurement's time is the acquisition time its file states
+ *   (measurement_provenance.acquired_at), else its upload time; `basis` records the rule.
  * - Every lot among those measurements gets a notice, and so does every certificate issued for a
  *   test holding one of them: a separate append-only record beside the certificate; the
  *   certificate itself never changes.
@@ -44,14 +44,16 @@ export async function measurementsInWindow(
   from: Date | null,
   to: Date,
 ): Promise<{ id: number; test_id: number; lot_id: number; container_id: number; created_at: Date }[]> {
+  // The acquisition time the file states (measurement_provenance.acquired_at), else the upload time.
+  const when = 'COALESCE(p.acquired_at, m.created_at)';
   const q = db('measurement as m')
     .join('identity_test as t', 't.id', 'm.test_id')
+    .leftJoin('measurement_provenance as p', 'p.measurement_id', 'm.id')
     .where('m.instrument_id', instrumentId)
-    .andWhere('m.created_at', '<=', to)
-    .orderBy('m.created_at')
-    .orderBy('m.id')
-    .select('m.id', 'm.test_id', 't.lot_id', 'm.container_id', 'm.created_at');
-  if (from) q.andWhere('m.created_at', '>', from);
+    .andWhereRaw(`${when} <= ?`, [to])
+    .orderByRaw(`${when}, m.id`)
+    .select('m.id', 'm.test_id', 't.lot_id', 'm.container_id', db.raw(`${when} as created_at`));
+  if (from) q.andWhereRaw(`${when} > ?`, [from]);
   return q;
 }
 
@@ -73,7 +75,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
     check_type: check.checkType,
     window_from: from,
     window_to: check.performedAt,
-    basis: 'upload-time',
+    basis: 'acquisition-or-upload',
     opened_at: now,
     status: 'open',
   });
@@ -126,7 +128,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
       checkType: check.checkType,
       windowFrom: from?.toISOString() ?? null,
       windowTo: check.performedAt.toISOString(),
-      basis: 'upload-time',
+      basis: 'acquisition-or-upload',
       measurementIds: rows.map((r) => r.id),
       lotIds,
       certificateIds: certs.map((c) => c.id),

@@ -21,6 +21,7 @@ import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
 import { loadContext, signedContent } from '../testing/context';
+import { releaseSignedContent } from '../provenance/service';
 import { roleRequestSignedContent } from '../users/grants';
 
 export interface SignatureRow {
@@ -197,6 +198,24 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     return r ? roleRequestSignedContent(r) : undefined;
+  },
+  'container_block/block-released': async (db, s) => {
+    const r = await db('container_block')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!r) return undefined;
+    const c = await db('container').where({ id: r.container_id }).first('label');
+    const blocked = await db('container_block')
+      .where({ container_id: r.container_id, event: 'blocked' })
+      .where('id', '<', r.id)
+      .orderBy('id', 'desc')
+      .first('id');
+    return releaseSignedContent({
+      label: c?.label,
+      blockId: blocked?.id,
+      invalidCount: r.invalid_count,
+      reason: r.reason,
+    });
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')

@@ -99,7 +99,7 @@ export function ImpactAssessments({ instrumentId, isQa, me }: { instrumentId?: n
             <p className="text-muted">
               {a.measurements.length} measurement{a.measurements.length === 1 ? '' : 's'} since{' '}
               {a.windowFrom ? <DateTime value={a.windowFrom} seconds /> : 'the first use (no earlier passing check)'},
-              by upload time (the acquisition time a file states is not stored yet).
+              by the acquisition time the file states, else the upload time.
             </p>
             {a.measurements.length > 0 && (
               <ul className="mt-1 tabular-nums">
