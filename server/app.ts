@@ -27,6 +27,9 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startTrendJob } from './modules/trending/service';
 import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
 import { startFakeTsa } from './lib/signing';
@@ -83,6 +86,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    trendingRoutes(),
+    auditReviewRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
@@ -108,6 +113,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startTrendJob(getDb());
       startCertificateRetryJob(getDb(), config);
       // the local fake time-stamping authority of development and tests (docs/certificates.md)
       if (!config.tsaUrl && config.devMode) await startFakeTsa();

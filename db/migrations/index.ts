@@ -15,8 +15,10 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m100 from './100_provenance';
 import * as m120 from './120_certificate_numbers';
 import * as m121 from './121_audit_anchor';
+import * as m150 from './150_trending';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -35,8 +37,10 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['100_provenance', m100],
   ['120_certificate_numbers', m120],
   ['121_audit_anchor', m121],
+  ['150_trending', m150],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -71,10 +75,16 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'spectrum_fingerprint',
+  'measurement_provenance',
+  'test_handover',
+  'container_block',
   'certificate_number',
   'certificate_issue_failure',
   'audit_chain_key',
   'audit_checkpoint',
+  'trend_baseline',
+  'audit_review',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -90,6 +100,7 @@ export const guardedTables = [
   'instrument',
   'app_user',
   'certificate_counter',
+  'trend_signal',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */

@@ -24,6 +24,8 @@ export interface AppConfig {
   uploadMaxBytes: number;
   /** hours between scheduled integrity sweeps (docs/compliance.md); 0 = only when asked for */
   integritySweepHours: number;
+  /** months between periodic audit-trail reviews (docs/trending.md); the work queue says when one is due */
+  auditReviewMonths: number;
   allowedOrigins: string[];
   /**
    * Addresses (or CIDR ranges) of the reverse proxies whose X-Forwarded-For header is believed
@@ -32,6 +34,10 @@ export interface AppConfig {
    * it came from, so a client cannot forge its address in the audit trail or dodge the sign-in limit.
    */
   trustedProxies: string[];
+  /** invalid measurements on one container after which it is blocked until QA decides (MAX_INVALID_MEASUREMENTS, default 3) */
+  maxInvalidMeasurements: number;
+  /** a file whose title or sample identifier names another record: 'confirm' by the operator or 'refuse' (FILE_IDENTIFIER_POLICY) */
+  fileIdentifierPolicy: 'confirm' | 'refuse';
   devMode: boolean;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
@@ -68,6 +74,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
     integritySweepHours: num('INTEGRITY_SWEEP_HOURS', 24),
+    auditReviewMonths: num('AUDIT_REVIEW_MONTHS', 1),
     allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
       .split(',')
       .map((s) => s.trim())
@@ -76,6 +83,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       .split(',')
       .map((s) => s.trim())
       .filter(Boolean),
+    maxInvalidMeasurements: Math.max(1, Math.floor(num('MAX_INVALID_MEASUREMENTS', 3))),
+    fileIdentifierPolicy: process.env.FILE_IDENTIFIER_POLICY === 'refuse' ? 'refuse' : 'confirm',
     devMode: process.env.NODE_ENV !== 'production',
     smtp: smtpHost
       ? {

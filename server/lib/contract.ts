@@ -141,6 +141,8 @@ export const SIGNATURE_MEANINGS = [
   'issued',
   'role-change-confirmed',
   'integrity-reviewed',
+  'block-released',
+  'audit-trail-reviewed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -159,6 +161,8 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   issued: 'Issued',
   'role-change-confirmed': 'Role change confirmed by a second administrator',
   'integrity-reviewed': 'Integrity alert reviewed by QA',
+  'block-released': 'Blocked container released by QA',
+  'audit-trail-reviewed': 'Audit trail reviewed for the period',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */

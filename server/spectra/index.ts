@@ -109,3 +109,14 @@ export {
   type ReferenceModelCheck,
 } from './reference-model';
 export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';
+export {
+  COPY_RATIO_LIMIT,
+  fingerprintOf,
+  lookupWindow,
+  roundingStep,
+  sameAcquisition,
+  statedAcquisition,
+  type AcquisitionComparison,
+  type SpectrumFingerprint,
+  type StatedAcquisition,
+} from './provenance';

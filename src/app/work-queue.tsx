@@ -9,12 +9,14 @@ import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 import {
+  BlockedContainersWidget,
   CertificatesToIssueWidget,
   LotsToTestWidget,
   OpenInvestigationsWidget,
   TestsToVerifyWidget,
 } from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
+import { AuditReviewDueWidget, OpenTrendSignalsWidget } from '../routes/trending-widgets';
 import {
   AccountsToAttendWidget,
   CertificatesToCheckWidget,
@@ -36,6 +38,20 @@ export interface WorkQueueWidget {
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
   {
+    id: 'trending.open-signals',
+    title: 'Open trend signals (early warnings)',
+    roles: ['qa_manager'],
+    order: 22,
+    Component: OpenTrendSignalsWidget,
+  },
+  {
+    id: 'audit-review.due',
+    title: 'Periodic audit-trail review',
+    roles: ['qa_manager'],
+    order: 24,
+    Component: AuditReviewDueWidget,
+  },
+  {
     id: 'instruments.check-due',
     title: 'Instruments with a check due',
     roles: ['operator'],
@@ -51,6 +67,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
   },
   { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
+  {
+    id: 'testing.blocked-containers',
+    title: 'Blocked containers',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: BlockedContainersWidget,
+  },
   {
     id: 'investigations.open',
     title: 'Open investigations',

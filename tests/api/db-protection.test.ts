@@ -42,6 +42,51 @@ beforeAll(async () => {
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
   ).id;
+  // provenance rows (docs/provenance.md) of the passed lot's first measurement
+  const ms = await db()('measurement').where({ test_id: lot.testId }).orderBy('id').first();
+  const t = await db()('identity_test').where({ id: lot.testId }).first();
+  const provAt = new Date();
+  await db()('spectrum_fingerprint').insert({
+    file_id: ms.file_id,
+    record_type: 'measurement',
+    record_id: ms.id,
+    raw_sha256: '1'.repeat(64),
+    decoded_sha256: '2'.repeat(64),
+    points: 10,
+    x_low: 600,
+    x_high: 4000,
+    seg1: 0.1,
+    seg2: 0.1,
+    seg3: 0.1,
+    seg4: 0.1,
+    noise: 0.001,
+    y_range: 1,
+    y_step: 0,
+    created_at: provAt,
+  });
+  await db()('measurement_provenance').insert({
+    measurement_id: ms.id,
+    acquired_judgement: 'not-stated',
+    serial_judgement: 'not-stated',
+    identifier_findings: '[]',
+    created_at: provAt,
+  });
+  await db()('test_handover').insert({
+    test_id: lot.testId,
+    from_user: t.created_by,
+    to_user: t.created_by,
+    reason: 'probe',
+    created_by: t.created_by,
+    created_at: provAt,
+  });
+  await db()('container_block').insert({
+    container_id: ms.container_id,
+    test_id: lot.testId,
+    event: 'blocked',
+    invalid_count: 3,
+    created_by: t.created_by,
+    created_at: provAt,
+  });
   // a declined role change: rows in role_request and role_decision
   const a = await agentFor(['admin']);
   const b = await agentFor(['admin']);
@@ -71,6 +116,46 @@ beforeAll(async () => {
     signature: { username: qa.user.username, password: qa.user.password },
   });
   expect(off.status).toBe(200);
+  // trending and the audit-trail review (migration 150): one row of each, written as the app would
+  const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
+  const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
+  const now = new Date();
+  await db()('trend_baseline').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    period_from: now,
+    period_to: now,
+    reason: 'protection probe',
+    fixed_by: qa.user.id,
+    fixed_at: now,
+  });
+  await db()('trend_signal').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    metric: 'correlation',
+    scope_kind: 'all',
+    scope_value: '',
+    scope_label: 'All',
+    rule: 'beyond-3-sigma',
+    measurement_id: m.id,
+    point_ids: JSON.stringify([m.id]),
+    value: 0.99,
+    limits: '{}',
+    detail: 'protection probe',
+    status: 'open',
+    raised_at: now,
+  });
+  await db()('audit_review').insert({
+    number: `ATR-PROBE-${Date.now()}`,
+    period_from: '2026-01-01',
+    period_to: '2026-01-31',
+    scope: '[]',
+    exceptions: '{}',
+    findings: 'protection probe',
+    actions: 'none',
+    reviewed_by: qa.user.id,
+    reviewed_at: now,
+  });
 });
 
 afterAll(async () => {
@@ -204,7 +289,13 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    spectrum_fingerprint: { column: 'decoded_sha256', value: '0'.repeat(64) },
+    measurement_provenance: { column: 'remeasure_reason', value: 'rewritten' },
+    test_handover: { column: 'to_user', value: 1 },
+    container_block: { column: 'event', value: 'released' },
     password_history: { column: 'password_hash', value: 'rewritten' },
+    trend_baseline: { column: 'period_to', value: new Date(0) },
+    audit_review: { column: 'findings', value: 'rewritten' },
     certificate_number: { column: 'lot_id', value: 1 },
     certificate_issue_failure: { column: 'problem', value: 'rewritten' },
     audit_chain_key: { column: 'first_event_id', value: 999_999 },

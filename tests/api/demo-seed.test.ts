@@ -291,6 +291,20 @@ describe('demo seed', () => {
     }
   });
 
+  it('stores no spectrum twice: every measurement, reference and check file is its own acquisition', async () => {
+    const used = [
+      ...(await db('measurement').select('file_id')),
+      ...(await db('reference_spectrum').select('file_id')),
+      ...(await db('instrument_check').select('file_id')),
+    ].map((r) => r.file_id as number);
+    const shas = await db('stored_file').whereIn('id', used).select('sha256');
+    expect(shas.length).toBe(used.length);
+    expect(new Set(shas.map((r) => r.sha256)).size).toBe(used.length);
+    const fps = await db('spectrum_fingerprint').select('decoded_sha256', 'file_id');
+    expect(new Set(fps.map((r) => r.file_id))).toEqual(new Set(used));
+    expect(new Set(fps.map((r) => r.decoded_sha256)).size).toBe(fps.length);
+  });
+
   it('does nothing when run again (idempotent)', async () => {
     const before = await tableCounts();
     // Only reads and sign-ins happened since the seed: no record but audit events was added.

@@ -16,6 +16,7 @@ import type { IdentityMethod } from '../../server/spectra';
 import {
   type CheckState,
   dataFile,
+  distinctAcquisition,
   FIBRES,
   REFERENCE_DATA,
   seedApprovedMaterial,
@@ -25,7 +26,7 @@ import {
 import type { Role } from '../../server/lib/contract';
 import { agentFor, db, makeUser, uniqueName } from './helpers';
 
-export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };
+export { dataFile, distinctAcquisition, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
 
 /**
@@ -121,21 +122,31 @@ export async function startTest(agent: Agent, lotId: number, instrumentId: numbe
 export function uploadRequest(
   agent: Agent,
   testId: number,
-  target: { label?: string; containerId?: number },
+  target: { label?: string; containerId?: number; reason?: string; confirmIdentifiers?: boolean },
   rel: string,
   fileName?: string,
 ) {
-  const f = dataFile(rel);
+  const f = distinctAcquisition(rel);
+  lastSent = f.buffer;
   const req = agent.post(`/api/tests/${testId}/measurements`);
   if (target.label) req.field('label', target.label);
   if (target.containerId) req.field('containerId', String(target.containerId));
+  if (target.reason) req.field('reason', target.reason);
+  if (target.confirmIdentifiers) req.field('confirmIdentifiers', 'true');
   return req.attach('file', f.buffer, { filename: fileName ?? f.name, contentType: 'text/csv' });
+}
+
+let lastSent: Buffer | null = null;
+/** The bytes of the last file uploadRequest sent (a distinct acquisition made from the real file). */
+export function lastUploadedBytes(): Buffer {
+  if (!lastSent) throw new Error('nothing uploaded yet');
+  return lastSent;
 }
 
 export async function upload(
   agent: Agent,
   testId: number,
-  target: { label?: string; containerId?: number },
+  target: { label?: string; containerId?: number; reason?: string; confirmIdentifiers?: boolean },
   rel: string,
   fileName?: string,
 ) {

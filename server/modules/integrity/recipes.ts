@@ -7,6 +7,7 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
+import { reviewSignedContent } from '../audit-review/service';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
 import { specSignedContent } from '../instruments/service';
@@ -14,6 +15,7 @@ import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
 import { loadContext, signedContent } from '../testing/context';
+import { releaseSignedContent } from '../provenance/service';
 import { roleRequestSignedContent } from '../users/grants';
 
 export interface SignatureRow {
@@ -84,6 +86,12 @@ const referenceApproval: Recipe = async (db, s) => {
 };
 
 export const RECIPES: Record<string, Recipe> = {
+  'audit_review/audit-trail-reviewed': async (db, s) => {
+    const r = await db('audit_review')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return r ? reviewSignedContent(r) : undefined;
+  },
   'identity_method/approved': async (db, s) => {
     const m = await db('identity_method')
       .where({ id: Number(s.entity_id) })
@@ -146,6 +154,24 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     return r ? roleRequestSignedContent(r) : undefined;
+  },
+  'container_block/block-released': async (db, s) => {
+    const r = await db('container_block')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!r) return undefined;
+    const c = await db('container').where({ id: r.container_id }).first('label');
+    const blocked = await db('container_block')
+      .where({ container_id: r.container_id, event: 'blocked' })
+      .where('id', '<', r.id)
+      .orderBy('id', 'desc')
+      .first('id');
+    return releaseSignedContent({
+      label: c?.label,
+      blockId: blocked?.id,
+      invalidCount: r.invalid_count,
+      reason: r.reason,
+    });
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')

@@ -26,6 +26,8 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, badRequest, conflict, forbidden, notFound, spectrumRefusal } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
+import { recordFingerprint } from '../provenance/copies';
+import type { ProvenanceKeys } from '../../workers/tasks';
 import type { IdentityMethod, Spectrum } from '../../spectra';
 import { referenceOff } from '../../workers/pool';
 import { invalidateLibraryCache } from './approved-set';
@@ -82,7 +84,13 @@ export async function uploadReferences(
 
   // 1. Read, check and pick bands for every file before writing anything (in the compute pool,
   //    one file after another, so a batch of big files never holds the event loop).
-  const parsed: { file: UploadedFile; spectrum: Spectrum; bands: StoredBand[]; sha256: string }[] = [];
+  const parsed: {
+    file: UploadedFile;
+    spectrum: Spectrum;
+    bands: StoredBand[];
+    sha256: string;
+    keys: ProvenanceKeys;
+  }[] = [];
   for (const f of files) {
     let out: Awaited<ReturnType<typeof referenceOff>>;
     try {
@@ -98,7 +106,7 @@ export async function uploadReferences(
         problems: out.quality.problems,
       });
     }
-    parsed.push({ file: f, spectrum: out.spectrum, bands: out.bands, sha256: out.sha256 });
+    parsed.push({ file: f, spectrum: out.spectrum, bands: out.bands, sha256: out.sha256, keys: out.keys });
   }
 
   // 2. One transaction for the whole batch.
@@ -140,6 +148,15 @@ export async function uploadReferences(
         approved_at: null,
         retired_signature_id: null,
         retire_reason: null,
+      });
+      // indexed for the copy lookup: a sample can never be this reference's spectrum (docs/provenance.md)
+      await recordFingerprint(trx, {
+        fileId: fileId as number,
+        recordType: 'reference',
+        recordId: id,
+        sha256: p.sha256,
+        keys: p.keys,
+        at: now,
       });
       await appendAudit(trx, {
         actor,

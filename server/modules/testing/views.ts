@@ -4,6 +4,7 @@
  * best reference and their difference on the method grid), the verifier's review and queue.
  */
 import type { Knex } from 'knex';
+import { measurementHistory } from '../provenance/service';
 import { testIntegrity, type FoundBy } from '../integrity/service';
 import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
@@ -233,6 +234,7 @@ export async function getReview(db: Knex, testId: number, by: FoundBy = { foundI
     integrity,
     test: detail,
     measurements,
+    history: await measurementHistory(db, testId),
     instrumentChecks: measurements
       .map((m) => m.instrumentCheck)
       .filter(

@@ -9,6 +9,7 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { IntegrityNotice } from '../../../components/IntegrityNotice';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
+import { MeasurementHistory } from './Provenance';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
@@ -121,6 +122,8 @@ export function ReviewView({
           <ContainerReview key={m.id} m={m} defaultOpen={data.measurements.length <= 6} />
         ))}
       </section>
+
+      <MeasurementHistory entries={data.history} />
 
       {outcome && (
         <p role="status" className="rounded-md border border-petrol/40 bg-petrol-soft px-3 py-2">
