@@ -31,7 +31,7 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
   'post /api/integrity/runs':
     'Asks for an integrity sweep: re-checking stored files and signatures against their hashes is part of the auditor role (docs/access.md). Stores the sweep run and its audit event; changes no record.',
   'post /api/audit/verify/full':
-    'Asks for a full check of the audit chain against every checkpoint: checking the chain is part of the auditor role (docs/access.md). Stores the run and its audit event; changes no record.',
+    "Starts the full check of the audit chain in the background: verifying the trail is part of the auditor role (docs/access.md). Stores the check's progress row and its audit event; changes no record.",
   'post /api/certificates/verify':
     'Checks an uploaded certificate PDF against the stored one and its signature - checking certificates is part of the auditor role (DESIGN.md). Stores nothing but the audit event of the check.',
 };
@@ -47,8 +47,6 @@ const NOT_FOR_AUDITORS: Record<string, string> = {
   'get /api/mail/outbox': 'Mail delivery queue for the administrator; not a GMP record.',
   'get /api/certificates/signing-identity':
     "Key management of the site's signing certificate (administrator). The signer of each certificate is shown by certificate verification, which auditors use.",
-  'get /api/certificates/pending':
-    "QA's retry list of passed lots whose certificate could not be issued (a QA to-do list); the lots, their certificates and the failures in the audit trail are open to auditors.",
   'get /api/verification/queue':
     "A verifier's own to-do list (tests that this verifier may verify); the tests themselves are open to auditors.",
 };
