@@ -38,6 +38,8 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
 
 /** Read routes closed to auditors, each with why (everything else must be open to them). */
 const NOT_FOR_AUDITORS: Record<string, string> = {
+  'get /api/tests/:id/hand-over-candidates':
+    'A picker of the operators who may take over an attempt, for its holder or QA; auditors read every hand-over in the audit trail and on the review.',
   'get /api/users':
     "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
   'get /api/users/:id': 'As above.',

@@ -199,7 +199,8 @@ export function testingRoutes(config: AppConfig): Router {
       path: '/api/containers/blocked',
       summary: 'Containers blocked after too many invalid measurements, awaiting QA',
       tag: 'testing',
-      access: QA,
+      // QA decides; auditors read the list like every record state (docs/access.md)
+      access: { roles: ['qa_manager', 'auditor'] as const },
     },
     () => provenance.blockedContainers(getDb()),
   );
