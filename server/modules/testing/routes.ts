@@ -28,6 +28,7 @@ const VERIFIER = { roles: ['verifier'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
 const HOLDER_OR_QA = { roles: ['operator', 'qa_manager'] as const };
 const QA = { roles: ['qa_manager'] as const };
+const QA_AND_AUDITOR = { roles: ['qa_manager', 'auditor'] as const };
 
 export function testingRoutes(config: AppConfig): Router {
   const r = Router();
@@ -199,8 +200,7 @@ export function testingRoutes(config: AppConfig): Router {
       path: '/api/containers/blocked',
       summary: 'Containers blocked after too many invalid measurements, awaiting QA',
       tag: 'testing',
-      // QA decides; auditors read the list like every record state (docs/access.md)
-      access: { roles: ['qa_manager', 'auditor'] as const },
+      access: QA_AND_AUDITOR,
     },
     () => provenance.blockedContainers(getDb()),
   );
