@@ -7,6 +7,7 @@ import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { RecordAlerts } from '../components/RecordAlerts';
+import { LotImpactNotices } from '../features/instruments/components/ImpactAssessments';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
@@ -73,6 +74,7 @@ export default function CertificatePage() {
         }
       />
       <RecordAlerts type="certificate" id={c.id} label={`Certificate ${c.number}`} />
+      <LotImpactNotices lotId={c.lotId} certificateId={c.id} />
       {c.supersedes && (
         <p className="mb-3 text-sm">
           Supersedes{' '}
