@@ -5,8 +5,14 @@
  *   (a column can opt out with `enableColumnFilter: false`).
  * - onRowClick: rows become focusable buttons: Enter/Space opens, arrow keys move between rows.
  * Column `meta: { align: 'right' }` right-aligns numbers (tabular figures are on for tables).
+ * Key columns (the record's number and what a decision rests on: status, verdict, due date) carry
+ * data-key-column in the markup: the first column always, others with `meta: { key: true }`. The
+ * layout test (e2e/layout.spec.ts) checks they are inside the viewport at 1280 x 800. When the table
+ * is wider than the page it scrolls inside a ScrollRegion (keyboard reachable, a visible hint) and
+ * its first column stays in place (sticky).
  */
 import { useMemo, useRef, useState, type KeyboardEvent, type ReactNode } from 'react';
+import { ScrollRegion } from './ScrollRegion';
 import {
   flexRender,
   getCoreRowModel,
@@ -29,6 +35,8 @@ declare module '@tanstack/react-table' {
     className?: string;
     /** let long text wrap in this column's cells (default: one line per cell, the table scrolls sideways) */
     wrap?: boolean;
+    /** a decision-relevant column that must stay in view at 1280 px (the first column always is) */
+    key?: boolean;
   }
 }
 
@@ -149,12 +157,12 @@ export function DataTable<T>({
           </span>
         </div>
       )}
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label={label}>
         <table className="w-full border-collapse text-sm" aria-label={label}>
           <thead className="bg-paper">
             {table.getHeaderGroups().map((hg) => (
               <tr key={hg.id} className="border-b border-line">
-                {hg.headers.map((h) => {
+                {hg.headers.map((h, i) => {
                   const meta = h.column.columnDef.meta;
                   const align = ALIGN[meta?.align ?? 'left'];
                   const canSort = h.column.getCanSort();
@@ -163,10 +171,11 @@ export function DataTable<T>({
                     <th
                       key={h.id}
                       scope="col"
+                      data-key-column={i === 0 || meta?.key ? h.column.id : undefined}
                       aria-sort={
                         dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined
                       }
-                      className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${meta?.className ?? ''}`}
+                      className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${i === 0 ? 'dt-sticky' : ''} ${meta?.className ?? ''}`}
                     >
                       {h.isPlaceholder ? null : canSort ? (
                         <button
@@ -210,10 +219,11 @@ export function DataTable<T>({
                     selected ? 'bg-petrol-soft' : ''
                   } ${rowClassName?.(row.original) ?? ''}`}
                 >
-                  {row.getVisibleCells().map((cell) => (
+                  {row.getVisibleCells().map((cell, i) => (
                     <td
                       key={cell.id}
-                      className={`px-3 py-2 align-top ${cell.column.columnDef.meta?.wrap ? '' : 'whitespace-nowrap'} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']}`}
+                      data-key-column={i === 0 || cell.column.columnDef.meta?.key ? cell.column.id : undefined}
+                      className={`px-3 py-2 align-top ${cell.column.columnDef.meta?.wrap ? '' : 'whitespace-nowrap'} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']} ${i === 0 ? 'dt-sticky' : ''}`}
                     >
                       {flexRender(cell.column.columnDef.cell, cell.getContext())}
                     </td>
@@ -230,7 +240,7 @@ export function DataTable<T>({
             )}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
     </div>
   );
 }

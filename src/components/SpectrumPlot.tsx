@@ -45,12 +45,12 @@ export interface SpectrumPlotProps {
 
 const C = {
   petrol: '#0f5e6e',
-  muted: '#6b7280',
+  muted: '#5f6673',
   amber: '#b7791f',
   line: '#d9dcd3',
   ink: '#1f2933',
   fail: '#b3261e',
-  shade: 'rgba(107,114,128,0.12)',
+  shade: 'rgba(95,102,115,0.12)',
 };
 const FONT = '12px "IBM Plex Sans", "DejaVu Sans", sans-serif';
 

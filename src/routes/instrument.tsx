@@ -35,7 +35,7 @@ export default function InstrumentPage() {
   const i = q.data;
   const current = i.specs.find((s) => s.status === 'approved');
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/instruments" className="text-petrol underline underline-offset-2">

@@ -30,7 +30,7 @@ export default function InvestigationPage() {
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const inv = q.data;
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/investigations" className="text-petrol underline underline-offset-2">

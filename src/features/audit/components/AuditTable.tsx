@@ -2,6 +2,7 @@
  * One page of events, newest or oldest first (the server sorts; click "Time" to turn the order).
  * Rows open the event's detail (click, Enter or Space; arrow keys move between rows).
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import type { KeyboardEvent } from 'react';
 import { DateTime } from '../../../components/DateTime';
 import type { AuditEventSummary } from '../api';
@@ -31,7 +32,7 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
     }
   };
   return (
-    <div className="overflow-x-auto rounded-md border border-line bg-white">
+    <ScrollRegion label="Audit events">
       <table className="w-full border-collapse text-sm" aria-label="Audit events">
         <thead className="bg-paper">
           <tr className="border-b border-line text-left">
@@ -98,6 +99,6 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollRegion>
   );
 }

@@ -1,4 +1,5 @@
 /** Per-band table of a polystyrene instrument check: expected, found, deviation, tolerance, verdict. */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { Verdict } from '../../../components/Verdict';
 import { formatShift, formatWavenumber } from '../../../lib/format';
 import type { CheckResult } from '../api';
@@ -6,7 +7,7 @@ import type { CheckResult } from '../api';
 export function CheckBandTable({ result }: { result: CheckResult }) {
   return (
     <div className="flex flex-col gap-1">
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label="Polystyrene bands">
         <table className="w-full text-sm tabular-nums" aria-label="Polystyrene bands">
           <thead className="bg-paper">
             <tr>
@@ -43,7 +44,7 @@ export function CheckBandTable({ result }: { result: CheckResult }) {
             ))}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       <p className="text-xs text-muted">
         {result.spec}; {result.mode === 'atr' ? 'ATR' : 'transmission'}.{' '}
         {result.resolution.applicable

@@ -1,4 +1,5 @@
 /** The specificity gate of one reference: every approved reference of another material, scored both ways. */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import type { DirectionScore, GateReport } from '../api';
@@ -33,7 +34,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
             : `${gate.offending.length} of ${gate.pairs.length} approved reference(s) of other materials would pass this grade's test under method version ${gate.methodVersion}.`}
       </p>
       {pairs.length > 0 && (
-        <div className="overflow-x-auto rounded-md border border-line bg-white">
+        <ScrollRegion label={onlyOffending ? 'Offending pairs' : 'Specificity gate'}>
           <table className="w-full text-sm" aria-label={onlyOffending ? 'Offending pairs' : 'Specificity gate'}>
             <thead className="bg-paper">
               <tr>
@@ -80,7 +81,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
               ))}
             </tbody>
           </table>
-        </div>
+        </ScrollRegion>
       )}
     </div>
   );

@@ -4,6 +4,7 @@
  * are scored as if they were that row's material. "Would pass" means the row's test does not
  * tell the column's material apart. The highest correlation is shown in every cell.
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { formatScore } from '../../../lib/format';
 import type { MatrixCell, SpecificityMatrix } from '../api';
 
@@ -40,7 +41,7 @@ export function SpecificityMatrixTable({
   const label = focusMaterialId ? 'Specificity of this grade against the approved library' : 'Specificity matrix';
   return (
     <div className="flex flex-col gap-2">
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label={label}>
         <table className="border-collapse text-sm tabular-nums" aria-label={label}>
           <thead className="bg-paper">
             <tr>
@@ -91,7 +92,7 @@ export function SpecificityMatrixTable({
             ))}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       <p className="text-xs text-muted">
         Numbers: highest correlation of a column material's approved reference against the row material's references,
         under the row material's method. “Would pass”: at least one spectrum of the column material passes every

@@ -49,11 +49,11 @@ function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen
           <HintNote result={r} />
           <div className="grid gap-4 xl:grid-cols-2">
             <div>
-              <h4 className="mb-1 text-sm font-medium">Raw spectrum as uploaded</h4>
+              <h3 className="mb-1 text-sm font-medium">Raw spectrum as uploaded</h3>
               <RawSpectrum measurementId={m.id} label={m.label} />
             </div>
             <div>
-              <h4 className="mb-1 text-sm font-medium">Sample, best reference and difference</h4>
+              <h3 className="mb-1 text-sm font-medium">Sample, best reference and difference</h3>
               <MeasurementOverlay measurementId={m.id} label={m.label} bandsOf={r} />
             </div>
           </div>
@@ -86,9 +86,12 @@ export function ReviewView({
     <div className="flex flex-col gap-5">
       <IntegrityNotice integrity={data.integrity} />
       <section
-        aria-label="Versions and instrument"
+        aria-labelledby="review-versions"
         className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
       >
+        <h2 id="review-versions" className="sr-only">
+          Versions and instrument
+        </h2>
         <div>
           <h3 className="mb-1 font-medium">Identity method</h3>
           {data.methods.map((m) => (
@@ -116,7 +119,10 @@ export function ReviewView({
         </div>
       </section>
 
-      <section aria-label="Containers" className="flex flex-col gap-2">
+      <section aria-labelledby="review-containers" className="flex flex-col gap-2">
+        <h2 id="review-containers" className="sr-only">
+          Containers
+        </h2>
         {data.measurements.map((m) => (
           <ContainerReview key={m.id} m={m} defaultOpen={data.measurements.length <= 6} />
         ))}
