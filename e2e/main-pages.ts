@@ -18,6 +18,8 @@ export interface MainPage {
   path: string | ((page: Page) => Promise<string>);
   /** heading that shows the page has loaded */
   heading: string | RegExp;
+  /** a form or a short list kept narrow on purpose (not stretched on wide screens) */
+  narrow?: boolean;
 }
 
 async function api<T>(page: Page, path: string): Promise<T> {
@@ -43,8 +45,8 @@ async function currentTestOf(page: Page, identityStatus: string): Promise<number
 }
 
 export const MAIN_PAGES: MainPage[] = [
-  { name: 'sign-in', user: '', path: '/sign-in', heading: 'Sign in' },
-  { name: 'operator work queue', user: 'olga', path: '/', heading: /^Work queue of/ },
+  { name: 'sign-in', user: '', path: '/sign-in', heading: 'Sign in', narrow: true },
+  { name: 'operator work queue', user: 'olga', path: '/', heading: /^Work queue of/, narrow: true },
   { name: 'lots', user: 'olga', path: '/lots', heading: /Lots/ },
   {
     name: 'lot bench (partly tested)',
@@ -66,8 +68,8 @@ export const MAIN_PAGES: MainPage[] = [
     heading: /FTIR/,
   },
   { name: 'certificates', user: 'olga', path: '/certificates', heading: /certificates/i },
-  { name: 'verify a certificate', user: 'olga', path: '/certificates/verify', heading: /Verify/ },
-  { name: 'change password', user: 'olga', path: '/account/password', heading: /password/i },
+  { name: 'verify a certificate', user: 'olga', path: '/certificates/verify', heading: /Verify/, narrow: true },
+  { name: 'change password', user: 'olga', path: '/account/password', heading: /password/i, narrow: true },
   { name: 'tests to verify', user: 'victor', path: '/verification', heading: /verify/i },
   {
     name: 'verifier review',
@@ -112,7 +114,7 @@ export const MAIN_PAGES: MainPage[] = [
     path: async (p) => `/certificates/${(await api<{ items: { id: number }[] }>(p, '/api/certificates')).items[0].id}`,
     heading: /IC-/,
   },
-  { name: 'auditor work queue', user: 'aurelia', path: '/', heading: /^Work queue of/ },
+  { name: 'auditor work queue', user: 'aurelia', path: '/', heading: /^Work queue of/, narrow: true },
   { name: 'user accounts', user: 'adam', path: '/admin/users', heading: /accounts/i },
 ];
 

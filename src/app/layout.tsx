@@ -203,11 +203,11 @@ export function AppShell() {
         <Header me={me.data} forced={forced} />
         <div className="flex flex-1 flex-col md:flex-row">
           {!forced && (
-            <aside className="border-b border-line bg-paper px-3 py-4 md:w-56 md:shrink-0 md:border-r md:border-b-0">
+            <aside className="border-b border-line bg-paper px-3 py-4 md:w-52 md:shrink-0 md:border-r md:border-b-0">
               <Nav me={me.data} />
             </aside>
           )}
-          <main id="main" className="min-w-0 flex-1 px-4 py-5 md:px-8">
+          <main id="main" className="min-w-0 flex-1 px-4 py-5 md:px-6 2xl:px-8">
             <ErrorBoundary resetKey={location.pathname}>
               <Outlet />
             </ErrorBoundary>

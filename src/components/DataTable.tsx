@@ -21,6 +21,7 @@ import {
   useReactTable,
   type ColumnDef,
   type ColumnFiltersState,
+  type ColumnMeta,
   type RowData,
   type SortingState,
 } from '@tanstack/react-table';
@@ -33,8 +34,10 @@ declare module '@tanstack/react-table' {
     align?: 'left' | 'right' | 'center';
     /** header cell class (widths) */
     className?: string;
-    /** let long text wrap in this column's cells (default: one line per cell, the table scrolls sideways) */
+    /** let long text wrap in this column's cells, badges included (text columns that are not key columns wrap anyway) */
     wrap?: boolean;
+    /** keep this column's cells on one line (the default for key columns and right-aligned numbers) */
+    nowrap?: boolean;
     /** a decision-relevant column that must stay in view at 1280 px (the first column always is) */
     key?: boolean;
   }
@@ -67,6 +70,16 @@ export interface DataTableProps<T> {
 }
 
 const ALIGN = { left: 'text-left', right: 'text-right', center: 'text-center' };
+
+/**
+ * Which columns stay on one line: key columns (they must be read at a glance) and numbers; other
+ * text wraps, so that a table fits a 1280 px screen without hiding its key columns.
+ */
+function keepOnOneLine(meta: ColumnMeta<unknown, unknown> | undefined, index: number): boolean {
+  if (meta?.nowrap) return true;
+  if (meta?.wrap) return false;
+  return index === 0 || meta?.key === true || meta?.align === 'right';
+}
 
 function SortMark({ dir }: { dir: false | 'asc' | 'desc' }) {
   return (
@@ -138,7 +151,7 @@ export function DataTable<T>({
   };
 
   return (
-    <div className={`flex flex-col gap-2 ${className}`}>
+    <div className={`flex min-w-0 flex-col gap-2 ${className}`}>
       {(globalFilter || toolbar) && (
         <div className="flex flex-wrap items-center gap-2">
           {globalFilter && (
@@ -164,6 +177,8 @@ export function DataTable<T>({
               <tr key={hg.id} className="border-b border-line">
                 {hg.headers.map((h, i) => {
                   const meta = h.column.columnDef.meta;
+                  // Headers wrap between words (except the first column's), cells as keepOnOneLine says.
+                  const oneLine = i === 0 || meta?.nowrap === true;
                   const align = ALIGN[meta?.align ?? 'left'];
                   const canSort = h.column.getCanSort();
                   const dir = h.column.getIsSorted();
@@ -175,7 +190,7 @@ export function DataTable<T>({
                       aria-sort={
                         dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined
                       }
-                      className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${i === 0 ? 'dt-sticky' : ''} ${meta?.className ?? ''}`}
+                      className={`px-2.5 py-2 align-top font-semibold text-ink ${oneLine ? 'whitespace-nowrap' : ''} ${align} ${i === 0 ? 'dt-sticky' : ''} ${meta?.className ?? ''}`}
                     >
                       {h.isPlaceholder ? null : canSort ? (
                         <button
@@ -223,7 +238,7 @@ export function DataTable<T>({
                     <td
                       key={cell.id}
                       data-key-column={i === 0 || cell.column.columnDef.meta?.key ? cell.column.id : undefined}
-                      className={`px-3 py-2 align-top ${cell.column.columnDef.meta?.wrap ? '' : 'whitespace-nowrap'} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']} ${i === 0 ? 'dt-sticky' : ''}`}
+                      className={`px-2.5 py-2 align-top ${keepOnOneLine(cell.column.columnDef.meta, i) ? 'whitespace-nowrap' : 'break-words'} ${cell.column.columnDef.meta?.wrap ? 'dt-wrap' : ''} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']} ${i === 0 ? 'dt-sticky' : ''}`}
                     >
                       {flexRender(cell.column.columnDef.cell, cell.getContext())}
                     </td>

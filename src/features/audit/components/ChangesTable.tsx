@@ -53,13 +53,13 @@ export function ChangesTable({
         <table className="w-full border-collapse text-sm" aria-label="Values before and after">
           <thead className="bg-paper">
             <tr className="border-b border-line text-left">
-              <th scope="col" className="px-3 py-2 font-semibold">
+              <th data-key-column="field" scope="col" className="px-3 py-2 font-semibold">
                 Field
               </th>
-              <th scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              <th data-key-column="before" scope="col" className="w-[38%] px-3 py-2 font-semibold">
                 Before
               </th>
-              <th scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              <th data-key-column="after" scope="col" className="w-[38%] px-3 py-2 font-semibold">
                 After
               </th>
             </tr>

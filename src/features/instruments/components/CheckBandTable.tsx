@@ -11,19 +11,19 @@ export function CheckBandTable({ result }: { result: CheckResult }) {
         <table className="w-full text-sm tabular-nums" aria-label="Polystyrene bands">
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-1.5 text-right">
+              <th data-key-column="expected" scope="col" className="px-3 py-1.5 text-right">
                 Expected
               </th>
               <th scope="col" className="px-3 py-1.5 text-right">
                 Found
               </th>
-              <th scope="col" className="px-3 py-1.5 text-right">
+              <th data-key-column="deviation" scope="col" className="px-3 py-1.5 text-right">
                 Deviation
               </th>
               <th scope="col" className="px-3 py-1.5 text-right">
                 Tolerance
               </th>
-              <th scope="col" className="px-3 py-1.5 text-left">
+              <th data-key-column="band" scope="col" className="px-3 py-1.5 text-left">
                 Band
               </th>
             </tr>

@@ -21,11 +21,13 @@ const columns = [
   col.accessor((i) => (!i.active ? 'out of use' : i.checkDue ? 'check due' : 'check valid'), {
     id: 'status',
     header: 'Instrument check',
+    meta: { key: true, wrap: true },
     cell: (c) => <CheckStatus instrument={c.row.original} />,
   }),
   col.accessor((i) => i.lastCheck?.performedAt ?? '', {
     id: 'last',
     header: 'Last check',
+    meta: { key: true },
     cell: (c) => {
       const l = c.row.original.lastCheck;
       if (!l) return <span className="text-muted">none yet</span>;
@@ -40,7 +42,7 @@ const columns = [
   }),
   col.accessor(
     (i) => (i.currentSpec ? `v${i.currentSpec.version} ${specKindText(i.currentSpec.kind)}` : 'none approved'),
-    { id: 'spec', header: 'Check specification' },
+    { id: 'spec', header: 'Check specification', meta: { key: true, wrap: true } },
   ),
 ];
 

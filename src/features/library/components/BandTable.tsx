@@ -58,7 +58,9 @@ export function BandTable({
           <table className="w-full text-sm" aria-label="Edit characteristic bands">
             <thead className="bg-paper">
               <tr>
-                <th className="px-3 py-2 text-left">Position (cm⁻¹)</th>
+                <th data-key-column="position" className="px-3 py-2 text-left">
+                  Position (cm⁻¹)
+                </th>
                 <th className="px-3 py-2 text-left">Assignment (empty: from the correlation table)</th>
                 <th className="px-3 py-2" />
               </tr>
@@ -123,10 +125,10 @@ export function BandTable({
         <table className="w-full text-sm tabular-nums" aria-label="Characteristic bands">
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-2 text-right">
+              <th data-key-column="position" scope="col" className="px-3 py-2 text-right">
                 Position
               </th>
-              <th scope="col" className="px-3 py-2 text-left">
+              <th data-key-column="assignment" scope="col" className="px-3 py-2 text-left">
                 Likely assignment
               </th>
               <th scope="col" className="px-3 py-2 text-right">

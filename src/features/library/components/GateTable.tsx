@@ -38,16 +38,16 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
           <table className="w-full text-sm" aria-label={onlyOffending ? 'Offending pairs' : 'Specificity gate'}>
             <thead className="bg-paper">
               <tr>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="material" scope="col" className="px-3 py-2 text-left">
                   Other material
                 </th>
                 <th scope="col" className="px-3 py-2 text-left">
                   Its reference
                 </th>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="scored-against" scope="col" className="px-3 py-2 text-left">
                   It scored against this reference
                 </th>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="scored-by" scope="col" className="px-3 py-2 text-left">
                   This reference scored against it
                 </th>
               </tr>

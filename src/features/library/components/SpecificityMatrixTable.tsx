@@ -45,7 +45,11 @@ export function SpecificityMatrixTable({
         <table className="border-collapse text-sm tabular-nums" aria-label={label}>
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-2 text-left align-bottom font-semibold">
+              <th
+                scope="col"
+                data-key-column="row"
+                className="dt-sticky px-3 py-2 text-left align-bottom font-semibold"
+              >
                 Test of ↓ / spectra of →
               </th>
               {cols.map((c) => (
@@ -59,7 +63,11 @@ export function SpecificityMatrixTable({
           <tbody>
             {rows.map((r) => (
               <tr key={r.id} className="border-t border-line">
-                <th scope="row" className="px-3 py-2 text-left font-semibold whitespace-nowrap" title={r.name}>
+                <th
+                  scope="row"
+                  className="dt-sticky px-3 py-2 text-left font-semibold whitespace-nowrap"
+                  title={r.name}
+                >
                   {r.code}
                   <span className="block text-xs font-normal text-muted">method v{r.methodVersion}</span>
                 </th>

@@ -110,10 +110,16 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
           <table className="w-full text-sm" aria-label="Files and containers">
             <thead>
               <tr className="border-b border-line text-left text-muted">
-                <th className="py-1 pr-3 font-medium">File</th>
-                <th className="py-1 pr-3 font-medium">Container</th>
+                <th data-key-column="file" className="py-1 pr-3 font-medium">
+                  File
+                </th>
+                <th data-key-column="container" className="py-1 pr-3 font-medium">
+                  Container
+                </th>
                 <th className="py-1 pr-3 font-medium">Matching</th>
-                <th className="py-1 font-medium">Upload and result</th>
+                <th data-key-column="result" className="py-1 font-medium">
+                  Upload and result
+                </th>
               </tr>
             </thead>
             <tbody>

@@ -27,9 +27,15 @@ function ContainerRows({
     <table className="w-full text-sm" aria-label="Containers of this attempt">
       <thead>
         <tr className="border-b border-line text-left text-muted">
-          <th className="py-1 pr-3 font-medium">Container</th>
-          <th className="py-1 pr-3 font-medium">Latest result</th>
-          <th className="py-1 pr-3 text-right font-medium">Match score</th>
+          <th data-key-column="container" className="py-1 pr-3 font-medium">
+            Container
+          </th>
+          <th data-key-column="result" className="py-1 pr-3 font-medium">
+            Latest result
+          </th>
+          <th data-key-column="score" className="py-1 pr-3 text-right font-medium">
+            Match score
+          </th>
           <th className="py-1 pr-3 text-right font-medium">Measurements</th>
           <th className="py-1 font-medium" />
         </tr>
