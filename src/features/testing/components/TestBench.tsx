@@ -12,7 +12,7 @@ import { useAfterUpload, usePerform, useSwitchInstrument, useTest, type TestDeta
 import { InstrumentPicker } from './InstrumentPicker';
 import { MeasurementResult, verdictLabel } from './MeasurementResult';
 import { MultiFileUpload } from './MultiFileUpload';
-import { ScanUpload } from './ScanUpload';
+import { ScanUpload, selectionProblem } from './ScanUpload';
 
 function ContainerRows({
   test,
@@ -85,6 +85,7 @@ export function TestBench({
   const perform = usePerform(lotId, testId);
   const switcher = useSwitchInstrument(lotId, testId);
   const [selected, setSelected] = useState<number | null>(null);
+  const [problem, setProblem] = useState<string | null>(null);
   const [mode, setMode] = useState<'scan' | 'many'>('scan');
   const [signing, setSigning] = useState(false);
   const [changeInstrument, setChangeInstrument] = useState(false);
@@ -93,6 +94,7 @@ export function TestBench({
   const t = q.data;
   const latestSelected = t.containers.find((c) => c.id === selected)?.latest ?? null;
   const r = t.readiness;
+  const failed = t.containers.filter((c) => c.inScope && c.latest?.verdict === 'fail').map((c) => c.label);
   return (
     <div className="flex flex-col gap-5">
       <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-sm">
@@ -144,7 +146,14 @@ export function TestBench({
         </Button>
       </div>
       {mode === 'scan' ? (
-        <ScanUpload test={t} selectedId={selected} onSelect={setSelected} onUploaded={after} />
+        <ScanUpload
+          test={t}
+          selectedId={selected}
+          onSelect={setSelected}
+          onUploaded={after}
+          problem={problem}
+          onProblem={setProblem}
+        />
       ) : (
         <MultiFileUpload test={t} onUploaded={after} />
       )}
@@ -154,8 +163,12 @@ export function TestBench({
           test={t}
           selectedId={selected}
           onSelect={(id) => {
-            setSelected(id);
+            const c = t.containers.find((x) => x.id === id);
+            const refusal = c ? selectionProblem(t, c) : null;
+            setProblem(refusal);
+            setSelected(refusal ? null : id);
             setMode('scan');
+            if (refusal) window.scrollTo({ top: 0, behavior: 'smooth' });
           }}
         />
         <div>
@@ -168,8 +181,16 @@ export function TestBench({
       </div>
 
       <section aria-label="Sign as performed" className="rounded-md border border-line bg-white p-4">
-        {r.ready ? (
-          <p className="mb-3 text-sm">
+        {r.ready && failed.length > 0 ? (
+          <p className="mb-3 text-sm" data-testid="sign-readiness">
+            Every container has a result, and{' '}
+            <strong className="text-fail">
+              {failed.length === 1 ? 'container' : 'containers'} {failed.join(', ')} failed
+            </strong>
+            . Sign the test as performed; a second person verifies it, and QA investigates the failure.
+          </p>
+        ) : r.ready ? (
+          <p className="mb-3 text-sm" data-testid="sign-readiness">
             Every container has a valid result. Sign the test as performed; a second person then verifies it.
           </p>
         ) : (
