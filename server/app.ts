@@ -27,6 +27,12 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startTrendJob } from './modules/trending/service';
+import { startCertificateRetryJob } from './modules/certificates';
+import { startAnchorJob } from './modules/audit/anchor';
+import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -68,7 +74,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
-    systemRoutes(),
+    systemRoutes(config),
     authRoutes(config),
     userRoutes(),
     mailRoutes(config),
@@ -80,6 +86,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    trendingRoutes(),
+    auditReviewRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
@@ -105,6 +113,11 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startTrendJob(getDb());
+      startCertificateRetryJob(getDb(), config);
+      // the local fake time-stamping authority of development and tests (docs/certificates.md)
+      if (!config.tsaUrl && config.devMode) await startFakeTsa();
+      startAnchorJob(getDb(), config);
     },
   ];
   return { app, config };

@@ -15,6 +15,9 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m120 from './120_certificate_numbers';
+import * as m121 from './121_audit_anchor';
+import * as m150 from './150_trending';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -33,6 +36,9 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['120_certificate_numbers', m120],
+  ['121_audit_anchor', m121],
+  ['150_trending', m150],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -67,6 +73,12 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'certificate_number',
+  'certificate_issue_failure',
+  'audit_chain_key',
+  'audit_checkpoint',
+  'trend_baseline',
+  'audit_review',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -81,6 +93,8 @@ export const guardedTables = [
   'material',
   'instrument',
   'app_user',
+  'certificate_counter',
+  'trend_signal',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */
@@ -91,6 +105,7 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  audit_chain_run: 'progress counters of a full audit chain check; its request and its result are audit events',
   sign_in_rate:
     'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

@@ -41,6 +41,7 @@ import { SPECTRA_DIR } from '../../fixtures/generate';
 import { POLYSTYRENE_CHECK_BANDS, SITE_CHECK_JUSTIFICATION } from '../../fixtures/polystyrene';
 import { fnv1a } from '../../fixtures/synth';
 import { DemoApi, DemoApiError, type DemoSession } from './demo-client';
+import { seedTrendHistory } from './trend-history';
 
 export const DEMO_SITE = {
   company: 'Lindenhall Pharma',
@@ -360,6 +361,74 @@ async function seedNewHire(adam: DemoSession, log: Log): Promise<void> {
   log(`account of a new hire (${NEW_HIRE.fullName}) awaiting first sign-in`);
 }
 
+/** The invented second source of paracetamol whose synthetic history drifts (demo data only). */
+export const DEMO_TREND = {
+  material: 'paracetamol',
+  drifting: 'Brannock Pharma Materials (synthetic history)',
+  prefix: 'SYN-PCM',
+} as const;
+
+/**
+ * Trending and the periodic review in the demo: a synthetic history of 40 passed paracetamol
+ * results over the past eight weeks from two sources (db/seeds/trend-history.ts: generated from a
+ * demo container spectrum, scored by the engine, past times set by this seed only), one source
+ * drifting; QA applies the run rules (the drift raises its signals) and records the audit-trail
+ * review of the previous month.
+ */
+async function seedTrendDemo(db: Knex, p: People, ids: DemoIds, log: Log): Promise<void> {
+  const lotB = DEMO_LOTS.find((l) => l.key === 'B')!;
+  const spec = demoSpectra().find((s) => s.kind === 'container' && s.lot === 'B' && s.container === 1)!;
+  const f = fileOf(spec);
+  const instrumentId = ids.instruments[lotB.instrument];
+  const check = await db('instrument_check')
+    .where({ instrument_id: instrumentId, verdict: 'pass' })
+    .orderBy('id', 'desc')
+    .first('id');
+  const person = async (username: string) => {
+    const u = await db('app_user').where({ username }).first('id', 'full_name');
+    return { id: u.id as number, fullName: u.full_name as string };
+  };
+  await seedTrendHistory(db, {
+    materialId: ids.materials[DEMO_TREND.material],
+    methodId: ids.methods[DEMO_TREND.material],
+    instrumentId,
+    instrumentCheckId: check.id,
+    operator: await person('olga'),
+    verifier: await person('victor'),
+    sample: { data: f.data, name: f.name },
+    sources: [lotB.supplier, DEMO_TREND.drifting],
+    drifting: DEMO_TREND.drifting,
+    points: 40,
+    driftFrom: 24,
+    driftPerPoint: 0.2,
+    days: 56,
+    prefix: DEMO_TREND.prefix,
+  });
+  const scan = await p.quinn.post<{ raised: number }>('/api/trending/scans', {});
+  const now = new Date();
+  const from = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth() - 1, 1)).toISOString().slice(0, 10);
+  const to = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), 0)).toISOString().slice(0, 10);
+  await p.quinn.post('/api/audit-reviews', {
+    from,
+    to,
+    scope: [
+      'failed-sign-ins',
+      'failed-signatures',
+      'role-changes',
+      'invalidated-results',
+      'gate-overrides',
+      'integrity-alerts',
+      'trend-signals',
+    ],
+    findings: 'No exceptions in the period: the demo site went live after it. No findings.',
+    actions: 'none',
+    signature: p.quinn.sig(),
+  });
+  log(
+    `synthetic paracetamol history of 40 passed results, one drifting source (${scan.raised} trend signal(s)); audit-trail review of ${from} to ${to}`,
+  );
+}
+
 export async function seedDemoSite(
   db: Knex,
   opts: { database?: string; log?: Log } = {},
@@ -394,6 +463,7 @@ export async function seedDemoSite(
     await seedInstruments(p, ids, log);
     await seedLibrary(p, ids, log);
     const lots = await seedLots(p, ids, log);
+    await seedTrendDemo(db, p, ids, log);
     const adam = await signIn('adam');
     await seedRoleRequest(adam, log);
     await seedNewHire(adam, log);

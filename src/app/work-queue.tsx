@@ -8,8 +8,14 @@
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
-import { LotsToTestWidget, OpenInvestigationsWidget, TestsToVerifyWidget } from '../routes/testing-widgets';
+import {
+  CertificatesToIssueWidget,
+  LotsToTestWidget,
+  OpenInvestigationsWidget,
+  TestsToVerifyWidget,
+} from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
+import { AuditReviewDueWidget, OpenTrendSignalsWidget } from '../routes/trending-widgets';
 import {
   AccountsToAttendWidget,
   CertificatesToCheckWidget,
@@ -30,6 +36,20 @@ export interface WorkQueueWidget {
 
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
+  {
+    id: 'trending.open-signals',
+    title: 'Open trend signals (early warnings)',
+    roles: ['qa_manager'],
+    order: 22,
+    Component: OpenTrendSignalsWidget,
+  },
+  {
+    id: 'audit-review.due',
+    title: 'Periodic audit-trail review',
+    roles: ['qa_manager'],
+    order: 24,
+    Component: AuditReviewDueWidget,
+  },
   {
     id: 'instruments.check-due',
     title: 'Instruments with a check due',
@@ -80,6 +100,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     roles: ['qa_manager'],
     order: 10,
     Component: OpenIntegrityAlertsWidget,
+  },
+  {
+    id: 'certificates.to-issue',
+    title: 'Certificates that could not be issued',
+    roles: ['qa_manager'],
+    order: 11,
+    Component: CertificatesToIssueWidget,
   },
 ];
 

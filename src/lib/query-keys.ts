@@ -19,6 +19,7 @@ export const qk = {
     event: (id: number | null) => ['audit', 'event', id] as const,
     facets: ['audit', 'facets'] as const,
     chain: ['audit', 'verify'] as const,
+    fullCheck: (id: number | null) => ['audit', 'verify', 'full', id] as const,
     history: (entityType: string, entityId: string) => ['audit', 'history', entityType, entityId] as const,
   },
   certificates: {
@@ -73,6 +74,22 @@ export const qk = {
     alert: (id: number) => ['integrity', 'alert', id] as const,
     runs: ['integrity', 'runs'] as const,
     record: (type: string, id: number) => ['integrity', 'record', type, id] as const,
+  },
+  trending: {
+    all: ['trending'] as const,
+    methods: ['trending', 'methods'] as const,
+    chart: (filter: object) => ['trending', 'chart', filter] as const,
+    signals: (status: string) => ['trending', 'signals', status] as const,
+    signal: (id: number) => ['trending', 'signal', id] as const,
+    exceptions: (testId: number) => ['trending', 'exceptions', testId] as const,
+    overview: (from: string, to: string) => ['trending', 'overview', from, to] as const,
+  },
+  auditReviews: {
+    all: ['audit-reviews'] as const,
+    list: ['audit-reviews', 'list'] as const,
+    one: (id: number) => ['audit-reviews', id] as const,
+    due: ['audit-reviews', 'due'] as const,
+    exceptions: (from: string, to: string) => ['audit-reviews', 'exceptions', from, to] as const,
   },
   workQueue: ['work-queue'] as const,
 };

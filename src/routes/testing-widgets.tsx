@@ -1,6 +1,6 @@
 /** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
 import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
-import { LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import { CertificatesToIssueList, LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
 
 export function LotsToTestWidget() {
   return <LotsToTestList />;
@@ -12,4 +12,8 @@ export function TestsToVerifyWidget() {
 
 export function OpenInvestigationsWidget() {
   return <OpenInvestigationsList />;
+}
+
+export function CertificatesToIssueWidget() {
+  return <CertificatesToIssueList />;
 }

@@ -9,12 +9,17 @@
  * - append-only tables refuse UPDATE and DELETE; guarded records refuse deletion and every change
  *   outside their permitted transitions; signature columns only take a signature of the same record.
  */
+import path from 'node:path';
+import os from 'node:os';
+import fs from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
 import { appendOnlyTables, guardedTables, operationalTables } from '../../db/migrations/index';
 import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
+import { loadConfig } from '../../server/lib/config';
+import { writeCheckpoint } from '../../server/modules/audit/anchor';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
@@ -66,6 +71,46 @@ beforeAll(async () => {
     signature: { username: qa.user.username, password: qa.user.password },
   });
   expect(off.status).toBe(200);
+  // trending and the audit-trail review (migration 150): one row of each, written as the app would
+  const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
+  const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
+  const now = new Date();
+  await db()('trend_baseline').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    period_from: now,
+    period_to: now,
+    reason: 'protection probe',
+    fixed_by: qa.user.id,
+    fixed_at: now,
+  });
+  await db()('trend_signal').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    metric: 'correlation',
+    scope_kind: 'all',
+    scope_value: '',
+    scope_label: 'All',
+    rule: 'beyond-3-sigma',
+    measurement_id: m.id,
+    point_ids: JSON.stringify([m.id]),
+    value: 0.99,
+    limits: '{}',
+    detail: 'protection probe',
+    status: 'open',
+    raised_at: now,
+  });
+  await db()('audit_review').insert({
+    number: `ATR-PROBE-${Date.now()}`,
+    period_from: '2026-01-01',
+    period_to: '2026-01-31',
+    scope: '[]',
+    exceptions: '{}',
+    findings: 'protection probe',
+    actions: 'none',
+    reviewed_by: qa.user.id,
+    reviewed_at: now,
+  });
 });
 
 afterAll(async () => {
@@ -200,6 +245,12 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
     password_history: { column: 'password_hash', value: 'rewritten' },
+    trend_baseline: { column: 'period_to', value: new Date(0) },
+    audit_review: { column: 'findings', value: 'rewritten' },
+    certificate_number: { column: 'lot_id', value: 1 },
+    certificate_issue_failure: { column: 'problem', value: 'rewritten' },
+    audit_chain_key: { column: 'first_event_id', value: 999_999 },
+    audit_checkpoint: { column: 'head_hash', value: '0'.repeat(64) },
   };
   beforeAll(async () => {
     // a password change through the application writes a password_history row to try
@@ -208,6 +259,22 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       .post('/api/auth/password')
       .send({ currentPassword: user.password, newPassword: 'violet-harbour-lamp-93' });
     expect(r.status).toBe(204);
+    // a failed certificate issue writes a certificate_issue_failure row to try (its number row too)
+    const failing = await createPassedLot(db(), { containers: 1 });
+    await expect(
+      issueCertificate(
+        db(),
+        { lotId: failing.lotId, testId: failing.testId, actor: { id: null, name: 'test' } },
+        { config: loadConfig({ signingP12Path: 'no-such-signing-key.p12' }) },
+      ),
+    ).rejects.toThrow();
+    // a checkpoint row to try (the keyed start, audit_chain_key, was written by the first audit event)
+    const checkpointDir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-cp-'));
+    try {
+      await writeCheckpoint(db(), loadConfig({ auditCheckpointDir: checkpointDir }), { force: true });
+    } finally {
+      fs.rmSync(checkpointDir, { recursive: true, force: true });
+    }
   });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());

@@ -7,6 +7,7 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
+import { reviewSignedContent } from '../audit-review/service';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
 import { specSignedContent } from '../instruments/service';
@@ -84,6 +85,12 @@ const referenceApproval: Recipe = async (db, s) => {
 };
 
 export const RECIPES: Record<string, Recipe> = {
+  'audit_review/audit-trail-reviewed': async (db, s) => {
+    const r = await db('audit_review')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return r ? reviewSignedContent(r) : undefined;
+  },
   'identity_method/approved': async (db, s) => {
     const m = await db('identity_method')
       .where({ id: Number(s.entity_id) })

@@ -378,10 +378,18 @@ export interface QueueItem {
   title: string;
   detail: string;
   href: string;
+  /** An action the queue offers in place (QA's retry of a certificate that could not be issued). */
+  action?: { kind: 'issue-certificate'; lotId: number };
 }
 
 export interface QueueSection {
-  key: 'lots-to-test' | 'tests-to-verify' | 'open-investigations' | 'references-to-approve' | 'instrument-checks-due';
+  key:
+    | 'lots-to-test'
+    | 'tests-to-verify'
+    | 'open-investigations'
+    | 'references-to-approve'
+    | 'instrument-checks-due'
+    | 'certificates-to-issue';
   title: string;
   roles: Role[];
   count: number;

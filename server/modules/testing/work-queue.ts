@@ -2,7 +2,8 @@
  * The work queue of the signed-in user (DESIGN.md: work queue): per role, what awaits them.
  * - operator: lots to test (quarantine, awaiting testing, testing, returned or retest authorised)
  * - verifier: tests awaiting verification that they neither performed nor measured
- * - qa_manager: open investigations; draft references awaiting approval (not their own uploads)
+ * - qa_manager: open investigations; draft references awaiting approval (not their own uploads);
+ *   passed lots whose certificate could not be issued (retry action: POST /api/certificates/issue)
  * - operator and qa_manager: instruments whose instrument check is due
  * Read-only over the library and instrument tables.
  */
@@ -10,6 +11,7 @@ import type { Knex } from 'knex';
 import type { AuthUser } from '../../lib/http';
 import type { Role } from '../../lib/contract';
 import type { QueueItem, QueueSection, WorkQueue } from './contract';
+import { pendingCertificates } from '../certificates';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
 
@@ -117,6 +119,21 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
   if (has('qa_manager')) {
     push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
+    push(
+      'certificates-to-issue',
+      'Certificates to issue',
+      ['qa_manager'],
+      (await pendingCertificates(db)).map((p) => ({
+        id: p.lotId,
+        title: `${p.lotNumber} · ${p.material}`,
+        detail:
+          `${p.supersedes ? 'Superseding certificate' : 'Certificate'} ${p.number ?? '(no number yet)'} not issued` +
+          (p.lastProblem ? `: ${p.lastProblem}` : '') +
+          (p.failures ? ` (${p.failures} failed attempt(s))` : ''),
+        href: `/lots/${p.lotId}`,
+        action: p.supersedes ? undefined : { kind: 'issue-certificate', lotId: p.lotId },
+      })),
+    );
   }
   if (has('operator') || has('qa_manager'))
     push(

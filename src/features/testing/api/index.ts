@@ -79,6 +79,17 @@ export const useVerificationQueue = () =>
 export const useWorkQueue = () =>
   useQuery({ queryKey: qk.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
 
+/** QA's retry of a certificate that could not be issued (the certificates module issues it). */
+export function useRetryCertificate() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (lotId: number) =>
+      apiFetch<{ number: string }>('/api/certificates/issue', { method: 'POST', body: { lotId } }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.workQueue }),
+    onSettled: () => void qc.invalidateQueries({ queryKey: qk.workQueue }),
+  });
+}
+
 export const labelsPdfUrl = (lotId: number) => downloadUrl(`/api/lots/${lotId}/labels.pdf`);
 export const rawFileUrl = (measurementId: number) => downloadUrl(`/api/measurements/${measurementId}/file`);
 
