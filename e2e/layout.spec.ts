@@ -71,6 +71,13 @@ async function overlaps(page: Page): Promise<string[]> {
         const s = getComputedStyle(e);
         if (s.visibility === 'hidden' || s.display === 'none' || Number(s.opacity) === 0) return true;
         if (e.getAttribute('aria-hidden') === 'true') return true;
+        // the content of a closed <details> is not shown (only its summary)
+        if (
+          e.parentElement?.tagName === 'DETAILS' &&
+          !(e.parentElement as HTMLDetailsElement).open &&
+          e.tagName !== 'SUMMARY'
+        )
+          return true;
         // visually hidden (sr-only): clipped to nothing
         if (s.position === 'absolute' && ((s.clip !== 'auto' && s.clip !== '') || s.clipPath !== 'none')) return true;
       }

@@ -107,6 +107,9 @@ export const MAIN_PAGES: MainPage[] = [
     heading: /INV-/,
   },
   { name: 'data integrity', user: 'quinn', path: '/integrity', heading: /integrity/i },
+  { name: 'trends', user: 'quinn', path: '/trending', heading: /Trend/i },
+  { name: 'QA overview', user: 'quinn', path: '/qa-overview', heading: /overview/i },
+  { name: 'audit-trail reviews', user: 'quinn', path: '/audit-reviews', heading: /review/i },
   { name: 'audit trail', user: 'aurelia', path: '/audit', heading: /Audit trail/ },
   {
     name: 'certificate',
