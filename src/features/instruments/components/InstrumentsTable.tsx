@@ -10,7 +10,11 @@ import { specKindText } from './spec-kind';
 
 const col = createColumnHelper<InstrumentListItem>();
 const columns = [
-  col.accessor('name', { header: 'Instrument', cell: (c) => <span className="font-medium">{c.getValue()}</span> }),
+  col.accessor('name', {
+    header: 'Instrument',
+    // Looks like the link it is: the row opens the instrument.
+    cell: (c) => <span className="font-medium text-petrol underline underline-offset-2">{c.getValue()}</span>,
+  }),
   col.accessor('serialNumber', { header: 'Serial number' }),
   col.accessor(
     (i) =>

@@ -3,7 +3,8 @@
  * and difference, scores, bands and explanation; the instrument checks, method and reference
  * versions used; then "Sign as verified" or "Return to operator" with a reason.
  */
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
+import { Link } from 'react-router-dom';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
@@ -11,7 +12,22 @@ import { IntegrityNotice } from '../../../components/IntegrityNotice';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
-import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
+import { useLot, useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
+
+/** The issued certificate of a lot as a link (the lot is read again after verification). */
+function CertificateLink({ lotId }: { lotId: number }) {
+  const lot = useLot(lotId);
+  const c = lot.data?.certificate;
+  if (!c || c.state !== 'issued') return null;
+  return (
+    <>
+      {' '}
+      <Link to={`/certificates/${c.id}`} className="font-medium text-petrol underline underline-offset-2">
+        Open certificate {c.number}
+      </Link>
+    </>
+  );
+}
 import {
   BandTable,
   CriteriaTable,
@@ -80,7 +96,7 @@ export function ReviewView({
   const own = t.performedBy?.id === me.id || t.measurerIds.includes(me.id);
   const failing = data.measurements.filter((m) => m.verdict === 'fail');
   const canDecide = me.isVerifier && t.status === 'awaiting-verification' && !own;
-  const [outcome, setOutcome] = useState<string | null>(null);
+  const [outcome, setOutcome] = useState<ReactNode>(null);
 
   return (
     <div className="flex flex-col gap-5">
@@ -189,9 +205,30 @@ export function ReviewView({
               onSuccess: (r) => {
                 setDialog(null);
                 setOutcome(
-                  r.outcome === 'passed'
-                    ? `Verified. Lot ${t.lot.lotNumber} passed identity${r.certificate === 'issued' ? '; the identity certificate was issued.' : '; the certificate is pending.'}`
-                    : `Verified. Lot ${t.lot.lotNumber} failed identity and stays in quarantine; investigation ${r.investigation?.number} was opened for QA.`,
+                  r.outcome === 'passed' ? (
+                    <>
+                      Verified. Lot {t.lot.lotNumber} passed identity
+                      {r.certificate === 'issued'
+                        ? '; the identity certificate was issued.'
+                        : '; the certificate is pending.'}
+                      {r.certificate === 'issued' && <CertificateLink lotId={t.lot.id} />}
+                    </>
+                  ) : (
+                    <>
+                      Verified. Lot {t.lot.lotNumber} failed identity and stays in quarantine; investigation{' '}
+                      {r.investigation ? (
+                        <Link
+                          to={`/investigations/${r.investigation.id}`}
+                          className="font-medium text-petrol underline underline-offset-2"
+                        >
+                          {r.investigation.number}
+                        </Link>
+                      ) : (
+                        '—'
+                      )}{' '}
+                      was opened for QA.
+                    </>
+                  ),
                 );
               },
             },
