@@ -104,6 +104,9 @@ test('the scan loop of a four-container lot runs with the keyboard only; a faile
   await page.keyboard.press('Enter');
   await expect(page.getByRole('alert')).toContainText('A retest needs QA authorisation');
   await expect(page.getByTestId('selected-container')).toHaveCount(0);
+  // Its result (and the library's hint) can still be read; only the upload is refused.
+  await expect(page.getByTestId('library-hint')).toBeVisible();
+  await expect(page.getByRole('button', { name: 'Choose a file', exact: true })).toHaveCount(0);
 
   // A passed container selected from the list with Enter: its file chooser is one Enter away.
   await page.getByRole('button', { name: `Select ${lot.lotNumber}-001` }).focus();

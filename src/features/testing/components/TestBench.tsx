@@ -86,13 +86,15 @@ export function TestBench({
   const switcher = useSwitchInstrument(lotId, testId);
   const [selected, setSelected] = useState<number | null>(null);
   const [problem, setProblem] = useState<string | null>(null);
+  // A container refused for upload (failed) can still be looked at: its result shows, no file drop.
+  const [viewed, setViewed] = useState<number | null>(null);
   const [mode, setMode] = useState<'scan' | 'many'>('scan');
   const [signing, setSigning] = useState(false);
   const [changeInstrument, setChangeInstrument] = useState(false);
   if (q.isPending) return <p className="text-sm text-muted">Loading the test…</p>;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const t = q.data;
-  const latestSelected = t.containers.find((c) => c.id === selected)?.latest ?? null;
+  const latestSelected = t.containers.find((c) => c.id === (selected ?? viewed))?.latest ?? null;
   const r = t.readiness;
   const failed = t.containers.filter((c) => c.inScope && c.latest?.verdict === 'fail').map((c) => c.label);
   return (
@@ -161,12 +163,13 @@ export function TestBench({
       <div className="grid items-start gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.2fr)]">
         <ContainerRows
           test={t}
-          selectedId={selected}
+          selectedId={selected ?? viewed}
           onSelect={(id) => {
             const c = t.containers.find((x) => x.id === id);
             const refusal = c ? selectionProblem(t, c) : null;
             setProblem(refusal);
             setSelected(refusal ? null : id);
+            setViewed(id);
             setMode('scan');
             if (refusal) window.scrollTo({ top: 0, behavior: 'smooth' });
           }}
