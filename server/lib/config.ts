@@ -34,6 +34,10 @@ export interface AppConfig {
    * it came from, so a client cannot forge its address in the audit trail or dodge the sign-in limit.
    */
   trustedProxies: string[];
+  /** invalid measurements on one container after which it is blocked until QA decides (MAX_INVALID_MEASUREMENTS, default 3) */
+  maxInvalidMeasurements: number;
+  /** a file whose title or sample identifier names another record: 'confirm' by the operator or 'refuse' (FILE_IDENTIFIER_POLICY) */
+  fileIdentifierPolicy: 'confirm' | 'refuse';
   devMode: boolean;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
@@ -79,6 +83,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       .split(',')
       .map((s) => s.trim())
       .filter(Boolean),
+    maxInvalidMeasurements: Math.max(1, Math.floor(num('MAX_INVALID_MEASUREMENTS', 3))),
+    fileIdentifierPolicy: process.env.FILE_IDENTIFIER_POLICY === 'refuse' ? 'refuse' : 'confirm',
     devMode: process.env.NODE_ENV !== 'production',
     smtp: smtpHost
       ? {

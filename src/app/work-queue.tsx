@@ -9,6 +9,7 @@ import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 import {
+  BlockedContainersWidget,
   CertificatesToIssueWidget,
   LotsToTestWidget,
   OpenInvestigationsWidget,
@@ -66,6 +67,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
   },
   { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
+  {
+    id: 'testing.blocked-containers',
+    title: 'Blocked containers',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: BlockedContainersWidget,
+  },
   {
     id: 'investigations.open',
     title: 'Open investigations',

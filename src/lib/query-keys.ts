@@ -59,6 +59,8 @@ export const qk = {
     /** A test, its review and everything under it. */
     one: (id: number) => ['tests', id] as const,
     review: (id: number) => ['tests', id, 'review'] as const,
+    handOverCandidates: (id: number) => ['tests', id, 'hand-over-candidates'] as const,
+    blockedContainers: ['testing', 'blocked-containers'] as const,
     instruments: ['testing', 'instruments'] as const,
     verificationQueue: ['verification', 'queue'] as const,
   },

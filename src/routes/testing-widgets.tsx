@@ -1,6 +1,8 @@
 /** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
 import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
 import { CertificatesToIssueList, LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import { BlockedContainersList } from '../features/testing/components/Provenance';
+import { useSession } from '../app/session';
 
 export function LotsToTestWidget() {
   return <LotsToTestList />;
@@ -12,6 +14,11 @@ export function TestsToVerifyWidget() {
 
 export function OpenInvestigationsWidget() {
   return <OpenInvestigationsList />;
+}
+
+export function BlockedContainersWidget() {
+  const { user } = useSession();
+  return <BlockedContainersList me={user} />;
 }
 
 export function CertificatesToIssueWidget() {

@@ -14,6 +14,7 @@ import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { pendingCertificates } from '../certificates';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
+import { blockedContainers } from '../provenance/service';
 
 const ITEMS = 50;
 
@@ -119,6 +120,17 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
   if (has('qa_manager')) {
     push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
+    push(
+      'blocked-containers',
+      'Blocked containers',
+      ['qa_manager'],
+      (await blockedContainers(db)).map((b) => ({
+        id: b.containerId,
+        title: `${b.label} · lot ${b.lotNumber}`,
+        detail: `Blocked after ${b.invalidCount} invalid measurements: decide how to go on`,
+        href: `/lots/${b.lotId}`,
+      })),
+    );
     push(
       'certificates-to-issue',
       'Certificates to issue',

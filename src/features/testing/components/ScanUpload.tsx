@@ -8,7 +8,7 @@
  */
 import { useEffect, useRef, useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
-import { Field, Input } from '../../../components/Field';
+import { Field, Input, Textarea } from '../../../components/Field';
 import { FileDrop } from '../../../components/FileDrop';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
@@ -44,6 +44,8 @@ export function ScanUpload({
 }) {
   const [code, setCode] = useState('');
   const setProblem = onProblem;
+  const [reason, setReason] = useState('');
+  const [confirmIds, setConfirmIds] = useState(false);
   const scan = useRef<HTMLInputElement>(null);
   const selected = test.containers.find((c) => c.id === selectedId) ?? null;
 
@@ -107,6 +109,28 @@ export function ScanUpload({
               Choose another container
             </Button>
           </div>
+          {selected.latest?.verdict === 'pass' && (
+            <Field
+              id="remeasure-reason"
+              label={`Container ${selected.label} already passed in this attempt: why measure it again?`}
+              hint="Kept with the new measurement and shown to the verifier."
+              className="mb-2"
+            >
+              <Textarea id="remeasure-reason" autoFocus value={reason} onChange={(e) => setReason(e.target.value)} />
+            </Field>
+          )}
+          <label className="mb-2 flex items-start gap-2 text-sm">
+            <input
+              type="checkbox"
+              className="mt-1"
+              checked={confirmIds}
+              onChange={(e) => setConfirmIds(e.target.checked)}
+            />
+            <span>
+              If the file&apos;s own title or sample identifier names another container, lot or material: I confirm this
+              spectrum was measured on container {selected.label}.
+            </span>
+          </label>
           <FileDrop
             key={selected.id}
             bench
@@ -114,8 +138,16 @@ export function ScanUpload({
             label={`Spectrum file of ${selected.label}`}
             accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
             hint="JCAMP-DX or CSV export of the instrument."
-            autoFocus
-            upload={(file, onProgress) => uploadMeasurement(test.id, { containerId: selected.id }, file, onProgress)}
+            // A container measured again first asks why (the reason field takes the focus).
+            autoFocus={selected.latest?.verdict !== 'pass'}
+            upload={(file, onProgress) =>
+              uploadMeasurement(
+                test.id,
+                { containerId: selected.id, reason: reason.trim() || undefined, confirmIdentifiers: confirmIds },
+                file,
+                onProgress,
+              )
+            }
             onUploaded={(_f, r) => onUploaded(r)}
             // Result or refusal in: back to the scan field for the next label.
             onBatchDone={() => scan.current?.focus()}
