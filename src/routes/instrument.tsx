@@ -46,7 +46,7 @@ export default function InstrumentPage() {
   const current = i.specs.find((s) => s.status === 'approved');
   const checkTypes = [...new Set(i.specs.filter((s) => s.status === 'approved').map((s) => s.checkType))];
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/instruments" className="text-petrol underline underline-offset-2">
