@@ -15,10 +15,15 @@
  * connection: the running application never backdates a record (its clock is the server's).
  * The performed and verified signatures are real e-signature rows over the content the
  * application signs (server/modules/testing/context.ts), so the integrity sweep finds them intact.
+ * The audit trail says what happened (events by the seed, at the time of seeding, naming the
+ * past times), and every passed lot gets its identity certificate, issued by the seed now; the
+ * lots stay in quarantine as the application leaves a passed lot.
  */
 import type { Knex } from 'knex';
 import { sha256Hex } from '../../server/lib/canonical';
+import { appendAudit, type Actor } from '../../server/lib/audit';
 import { contentHash } from '../../server/lib/esign';
+import { issueCertificate } from '../../server/modules/certificates';
 import * as libraryRepo from '../../server/modules/library/repo';
 import { toEngineBands } from '../../server/modules/library/engine';
 import { loadContext, signedContent } from '../../server/modules/testing/context';
@@ -82,6 +87,9 @@ function generatedCsv(x: number[], y: number[], shift: number, noise: number, ra
   return lines.join('\n') + '\n';
 }
 
+/** Who wrote the synthetic rows, in the audit trail: the seed, never the people named on them. */
+export const HISTORY_ACTOR: Actor = { id: null, name: 'Drumline demo seed (synthetic trend history)' };
+
 export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise<{ measurementIds: number[] }> {
   const now = o.now ?? new Date();
   const methodRow = await k('identity_method').where({ id: o.methodId }).first();
@@ -136,7 +144,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       container_count: 1,
       received_date: day,
       notes: 'Synthetic trend history (demo data, generated spectrum).',
-      status: 'released',
+      status: 'quarantine',
       identity_status: 'passed',
       created_by: o.operator.id,
       created_at: at,
@@ -217,6 +225,40 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       verified_signature_id: verifiedSig,
       updated_at: verifiedAt,
     });
+    // The trail says what happened: the seed wrote these rows now, with past times, and the
+    // signature rows it wrote are audited like every signature (server clock, hash chain).
+    await k.transaction(async (trx) => {
+      await appendAudit(trx, {
+        actor: HISTORY_ACTOR,
+        action: 'demo.synthetic-history-written',
+        entityType: 'lot',
+        entityId: lotId as number,
+        after: { lotNumber, testId, measurementId: mId, fileName, source, recordedAt: at.toISOString() },
+        reason: 'Synthetic trend history (demo data): generated spectrum, records written by the seed with past times.',
+        ip: null,
+      });
+      for (const [sigId, meaning, who, when] of [
+        [performedSig, 'performed', o.operator, performedAt],
+        [verifiedSig, 'verified', o.verifier, verifiedAt],
+      ] as const)
+        await appendAudit(trx, {
+          actor: HISTORY_ACTOR,
+          action: 'signature.signed',
+          entityType: 'identity_test',
+          entityId: testId as number,
+          after: {
+            signatureId: sigId,
+            meaning,
+            contentHash: contentHash(content),
+            signer: who.fullName,
+            signedAt: when.toISOString(),
+          },
+          reason: 'synthetic trend history (demo data)',
+          ip: null,
+        });
+    });
+    // every passed lot gets its identity certificate (issued now, by the seed)
+    await issueCertificate(k, { lotId: lotId as number, testId: testId as number, actor: HISTORY_ACTOR });
   }
   return { measurementIds };
 }

@@ -30,6 +30,8 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
     "Changes the auditor's own password, as 21 CFR 11.300 expects of every account (periodic revision, first sign-in); changes no GMP record.",
   'post /api/integrity/runs':
     'Asks for an integrity sweep: re-checking stored files and signatures against their hashes is part of the auditor role (docs/access.md). Stores the sweep run and its audit event; changes no record.',
+  'post /api/audit/verify/full':
+    "Starts the full check of the audit chain in the background: verifying the trail is part of the auditor role (docs/access.md). Stores the check's progress row and its audit event; changes no record.",
   'post /api/certificates/verify':
     'Checks an uploaded certificate PDF against the stored one and its signature - checking certificates is part of the auditor role (DESIGN.md). Stores nothing but the audit event of the check.',
 };

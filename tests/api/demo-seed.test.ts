@@ -10,7 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
 import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
-import { NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
+import { DEMO_TREND, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
 import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
@@ -231,7 +231,10 @@ describe('demo seed', () => {
     const agent = request.agent(app);
     await agent.post('/api/auth/sign-in').send({ username: 'aurelia', password: DEMO_PASSWORD }).expect(200);
     const passedLots = await db('lot').where({ identity_status: 'passed' });
-    expect(passedLots.length).toBe(DEMO_LOTS.filter((l) => l.state === 'passed').length);
+    // the scenario's passed lots and the 40 lots of the synthetic trend history
+    const synthetic = passedLots.filter((l) => l.lot_number.startsWith(`${DEMO_TREND.prefix}-`));
+    expect(synthetic).toHaveLength(40);
+    expect(passedLots.length).toBe(DEMO_LOTS.filter((l) => l.state === 'passed').length + 40);
     for (const lot of passedLots) {
       const certs = await db('certificate').where({ lot_id: lot.id });
       expect(certs, lot.lot_number).toHaveLength(1);
@@ -282,6 +285,30 @@ describe('demo seed', () => {
       const q = (await agent.get('/api/work-queue').expect(200)).body as { sections: { key: string; count: number }[] };
       for (const k of keys) expect(q.sections.find((s) => s.key === k)?.count, `${username} ${k}`).toBeGreaterThan(0);
     }
+  });
+
+  it('holds a synthetic drifting history of 40 passed results with its open trend signals and a signed audit-trail review', async () => {
+    const lots = await db('lot').where('lot_number', 'like', `${DEMO_TREND.prefix}-%`).orderBy('lot_number');
+    expect(lots).toHaveLength(40);
+    expect(lots.every((l) => /Synthetic trend history/.test(l.notes))).toBe(true);
+    // past times, weeks before the seed ran (set by the seed only)
+    const first = await db('measurement as m')
+      .join('identity_test as t', 't.id', 'm.test_id')
+      .where('t.lot_id', lots[0].id)
+      .first('m.created_at');
+    expect(Date.now() - new Date(first.created_at).getTime()).toBeGreaterThan(40 * 86_400_000);
+    const written = await db('audit_event').where({ action: 'demo.synthetic-history-written' });
+    expect(written).toHaveLength(40);
+    const signals = await db('trend_signal').where({
+      status: 'open',
+      scope_kind: 'source',
+      scope_value: DEMO_TREND.drifting,
+    });
+    expect(signals.length).toBeGreaterThan(0);
+    const reviews = await db('audit_review');
+    expect(reviews).toHaveLength(1);
+    const sig = await db('e_signature').where({ entity_type: 'audit_review', entity_id: String(reviews[0].id) });
+    expect(sig.map((x) => x.meaning)).toEqual(['audit-trail-reviewed']);
   });
 
   it('keeps the audit chain intact, with every signature audited', async () => {

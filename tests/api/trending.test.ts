@@ -8,6 +8,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { seedTrendHistory } from '../../db/seeds/trend-history';
+import { checkSignature } from '../../server/modules/integrity/service';
 import { db, ownerDb } from './helpers';
 import {
   account,
@@ -80,6 +81,20 @@ beforeAll(async () => {
 afterAll(retire);
 
 const chartUrl = (m: ApprovedMaterial, q: string) => `/api/trending/chart?methodId=${m.methodId}&${q}`;
+
+describe('the synthetic history', () => {
+  it('is signed like the application signs: the integrity sweep rebuilds the signed content of its tests', async () => {
+    const m = await db()('measurement').where({ id: history[5] }).first('test_id', 'instrument_check_id', 'created_at');
+    const sigs = await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(m.test_id) });
+    expect(sigs.map((s) => s.meaning).sort()).toEqual(['performed', 'verified']);
+    for (const s of sigs) expect(await checkSignature(db(), s, { foundIn: 'sweep' })).toBe(true);
+    // its instrument check was performed before it and was valid when it was measured
+    const check = await db()('instrument_check').where({ id: m.instrument_check_id }).first();
+    expect(new Date(check.performed_at).getTime()).toBeLessThan(new Date(m.created_at).getTime());
+    expect(new Date(check.valid_until).getTime()).toBeGreaterThan(new Date(m.created_at).getTime());
+    expect(check.verdict).toBe('pass');
+  });
+});
 
 describe('charts', () => {
   it('charts every passed result with limits from the first 20 points and the rules that fired', async () => {

@@ -120,7 +120,8 @@ export function certificateRoutes(config: AppConfig): Router {
       path: '/api/certificates/pending',
       summary: 'Passed lots still waiting for their certificate (reserved number, failures, last problem)',
       tag: 'certificates',
-      access: QA,
+      // QA acts on the list; auditors read it, like every record state (docs/access.md)
+      access: { roles: ['qa_manager', 'auditor'] as const },
     },
     () => pendingCertificates(getDb()),
   );
