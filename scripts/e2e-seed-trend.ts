@@ -34,6 +34,8 @@ async function main(): Promise<void> {
     name: E2E_TREND.name,
     grade: 'technical',
     referenceFiles: [FIBRES.nylon66Reference],
+    // Irene wrote the method and uploaded the reference; Quinn approved (never the author).
+    author: await person('irene'),
   });
   const inst = await seedInstrument(db, qa, { name: E2E_TREND.instrument, state: 'valid', location: 'Goods-in lab' });
   const sample = dataFile(FIBRES.nylon66Samples[0]);

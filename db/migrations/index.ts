@@ -16,6 +16,7 @@ import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
 import * as m100 from './100_provenance';
+import * as m110 from './110_method_control';
 import * as m120 from './120_certificate_numbers';
 import * as m121 from './121_audit_anchor';
 import * as m150 from './150_trending';
@@ -38,6 +39,7 @@ export const migrations: [string, Migration][] = [
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
   ['100_provenance', m100],
+  ['110_method_control', m110],
   ['120_certificate_numbers', m120],
   ['121_audit_anchor', m121],
   ['150_trending', m150],
@@ -75,6 +77,11 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'gate_override',
+  'gate_override_confirmation',
+  'method_approval',
+  'material_ir_suitability',
+  'attempt_pin',
   'spectrum_fingerprint',
   'measurement_provenance',
   'test_handover',

@@ -113,10 +113,21 @@ export interface SeededMaterial {
   referenceIds: number[];
 }
 
+/**
+ * `qa` approves; `opts.author` wrote the method version and uploaded the references (the author of a
+ * method version never approves it, and the database refuses it: db/migrations/110_method_control.ts).
+ */
 export async function seedApprovedMaterial(
   k: Knex,
   qa: SeedUser,
-  opts: { code: string; name: string; grade?: string; referenceFiles: string[]; method?: IdentityMethod },
+  opts: {
+    code: string;
+    name: string;
+    grade?: string;
+    referenceFiles: string[];
+    method?: IdentityMethod;
+    author: SeedUser;
+  },
 ): Promise<SeededMaterial> {
   const method = opts.method ?? defaultMidIrAtrMethod;
   const now = new Date();
@@ -140,7 +151,7 @@ export async function seedApprovedMaterial(
     params: JSON.stringify(method),
     change_note: 'seeded',
     supersedes_id: null,
-    created_by: qa.id,
+    created_by: opts.author.id,
     created_at: now,
     updated_at: now,
     approved_signature_id: null,
@@ -160,7 +171,7 @@ export async function seedApprovedMaterial(
     });
   const referenceIds: number[] = [];
   for (const [i, rel] of opts.referenceFiles.entries()) {
-    const fileId = await storeFile(k, rel, qa.id);
+    const fileId = await storeFile(k, rel, opts.author.id);
     const f = dataFile(rel);
     const refSpectrum = readSpectrum(new Uint8Array(f.buffer), f.name);
     const bands = pickBands(refSpectrum, method);
@@ -178,7 +189,7 @@ export async function seedApprovedMaterial(
       meta: null,
       specificity: null,
       justification: null,
-      created_by: qa.id,
+      created_by: opts.author.id,
       created_at: now,
       updated_at: now,
       approved_signature_id: null,

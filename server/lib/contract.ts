@@ -141,6 +141,8 @@ export const SIGNATURE_MEANINGS = [
   'issued',
   'role-change-confirmed',
   'integrity-reviewed',
+  'gate-override-requested',
+  'ir-suitability-decided',
   'block-released',
   'audit-trail-reviewed',
 ] as const;
@@ -161,6 +163,8 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   issued: 'Issued',
   'role-change-confirmed': 'Role change confirmed by a second administrator',
   'integrity-reviewed': 'Integrity alert reviewed by QA',
+  'gate-override-requested': 'Override of the specificity gate requested',
+  'ir-suitability-decided': 'Suitability of identity by IR decided',
   'block-released': 'Blocked container released by QA',
   'audit-trail-reviewed': 'Audit trail reviewed for the period',
 };

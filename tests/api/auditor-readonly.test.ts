@@ -49,6 +49,8 @@ const NOT_FOR_AUDITORS: Record<string, string> = {
     "Key management of the site's signing certificate (administrator). The signer of each certificate is shown by certificate verification, which auditors use.",
   'get /api/verification/queue':
     "A verifier's own to-do list (tests that this verifier may verify); the tests themselves are open to auditors.",
+  'get /api/tests/:id/hand-over-candidates':
+    'A picker of operators for handing an attempt over; every hand-over is in the audit trail and the record history.',
 };
 
 /** Query values a GET route needs to stay small in this sweep (the route is still requested). */

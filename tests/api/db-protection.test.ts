@@ -24,6 +24,9 @@ import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
+import { contentHash } from '../../server/lib/esign';
+import { methodSignedContent } from '../../server/modules/library/service';
+import { irSuitabilitySignedContent, overrideSignedContent } from '../../server/modules/library/method-control';
 
 let owner: Knex;
 let material: ApprovedMaterial;
@@ -116,6 +119,7 @@ beforeAll(async () => {
     signature: { username: qa.user.username, password: qa.user.password },
   });
   expect(off.status).toBe(200);
+  await methodControlRows(file);
   // trending and the audit-trail review (migration 150): one row of each, written as the app would
   const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
   const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
@@ -157,6 +161,90 @@ beforeAll(async () => {
     reviewed_at: now,
   });
 });
+
+/**
+ * Rows in the method-control tables (db/migrations/110_method_control.ts), written by the runtime
+ * account the way the service writes them, each signature over the content its recipe rebuilds (so
+ * the integrity sweep of later files finds them intact): an override of the gate requested by one QA
+ * manager and confirmed by another, the approval record it belongs to, an IR decision, an attempt pin.
+ */
+async function methodControlRows(file: { id: number; sha256: string }) {
+  const [u1, u2] = [await makeUser(['qa_manager']), await makeUser(['qa_manager'])];
+  const mId = material.methodId;
+  const sign = async (user: { id: number; fullName: string }, meaning: string, type: string, id: number, c: unknown) =>
+    (
+      await db()('e_signature').insert({
+        user_id: user.id,
+        printed_name: user.fullName,
+        meaning,
+        entity_type: type,
+        entity_id: String(id),
+        content_hash: contentHash(c),
+        statement: null,
+        signed_at: new Date(),
+      })
+    )[0] as number;
+  const ov = {
+    entityType: 'identity_method' as const,
+    entityId: mId,
+    justification: 'probe of the protection test',
+    changeControl: 'CC-PROBE',
+    gateSha256: '1'.repeat(64),
+  };
+  const reqSig = await sign(u1, 'gate-override-requested', 'identity_method', mId, overrideSignedContent(ov));
+  const [ovId] = await db()('gate_override').insert({
+    entity_type: ov.entityType,
+    entity_id: mId,
+    justification: ov.justification,
+    change_control: ov.changeControl,
+    gate_sha256: ov.gateSha256,
+    gate: '{}',
+    requested_by: u1.id,
+    signature_id: reqSig,
+    requested_at: new Date(),
+  });
+  const row = await db()('identity_method').where({ id: mId }).first();
+  const approval = { validationSha256: file.sha256, firstReferenceIds: [], gateOverrideId: ovId as number };
+  const confSig = await sign(u2, 'approved', 'identity_method', mId, methodSignedContent(row, approval));
+  await db()('gate_override_confirmation').insert({
+    override_id: ovId,
+    confirmed_by: u2.id,
+    signature_id: confSig,
+    confirmed_at: new Date(),
+  });
+  await db()('method_approval').insert({
+    method_id: mId,
+    validation_file_id: file.id,
+    validation_sha256: file.sha256,
+    validation: '{"gate":{}}',
+    first_reference_ids: '[]',
+    gate_override_id: ovId,
+    signature_id: confSig,
+    created_at: new Date(),
+  });
+  const irSig = await sign(
+    u1,
+    'ir-suitability-decided',
+    'material',
+    material.materialId,
+    irSuitabilitySignedContent(material.materialId, true, null, 'probe'),
+  );
+  await db()('material_ir_suitability').insert({
+    material_id: material.materialId,
+    suitable: 1,
+    replacement_test: null,
+    reason: 'probe',
+    decided_by: u1.id,
+    signature_id: irSig,
+    decided_at: new Date(),
+  });
+  await db()('attempt_pin').insert({
+    test_id: lot.testId,
+    method_id: mId,
+    reference_ids: '[]',
+    created_at: new Date(),
+  });
+}
 
 afterAll(async () => {
   await retire();
@@ -289,6 +377,11 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    gate_override: { column: 'justification', value: 'rewritten' },
+    gate_override_confirmation: { column: 'confirmed_at', value: new Date(0) },
+    method_approval: { column: 'validation_sha256', value: '0'.repeat(64) },
+    material_ir_suitability: { column: 'suitable', value: 0 },
+    attempt_pin: { column: 'reference_ids', value: '[1]' },
     spectrum_fingerprint: { column: 'decoded_sha256', value: '0'.repeat(64) },
     measurement_provenance: { column: 'remeasure_reason', value: 'rewritten' },
     test_handover: { column: 'to_user', value: 1 },

@@ -10,7 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
 import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
-import { DEMO_MATERIAL_CODES, DEMO_TREND, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
+import { DEMO_TREND, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
 import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
@@ -80,14 +80,33 @@ async function lotOf(key: string) {
 }
 
 describe('demo seed', () => {
-  it('creates every demo grade with an approved method and three approved references, uploaded and approved by different QA people', async () => {
+  it('creates every demo grade with an approved method and three approved references, written and uploaded by one QA manager, approved by another with a validation record; sodium chloride is marked "identity by IR not suitable"', async () => {
     const quinn = await db('app_user').where({ username: 'quinn' }).first();
     const irene = await db('app_user').where({ username: 'irene' }).first();
     for (const m of MATERIALS) {
       const mat = await db('material').where({ code: m.code }).first();
       expect(mat, m.code).toBeTruthy();
       const approved = await db('identity_method').where({ material_id: mat.id, status: 'approved' });
+      if (m.key === 'sodium-chloride') {
+        // no IR method, no reference: the decision that replaces them, signed by QA
+        expect(approved, m.code).toHaveLength(0);
+        const d = await db('material_ir_suitability').where({ material_id: mat.id }).orderBy('id', 'desc').first();
+        expect(d).toMatchObject({ suitable: 0, decided_by: quinn.id });
+        expect(d.replacement_test).toMatch(/sodium and of chlorides/);
+        continue;
+      }
       expect(approved, m.code).toHaveLength(1);
+      for (const v of await db('identity_method').where({ material_id: mat.id }).whereNot({ status: 'draft' })) {
+        expect(v.created_by, m.code).toBe(irene.id);
+        const s = await db('e_signature').where({ id: v.approved_signature_id }).first();
+        expect(s.user_id, m.code).toBe(quinn.id);
+        // the validation record was stored with the approval and its SHA-256 signed
+        const a = await db('method_approval').where({ method_id: v.id }).first();
+        expect(a, `${m.code} v${v.version}`).toBeTruthy();
+        const f = await db('stored_file').where({ id: a.validation_file_id }).first();
+        expect(f.media_type).toBe('application/pdf');
+        expect(f.sha256).toBe(a.validation_sha256);
+      }
       const refs = await db('reference_spectrum').where({ material_id: mat.id, status: 'approved' });
       expect(refs.length, m.code).toBe(3);
       for (const r of refs) {
@@ -103,32 +122,49 @@ describe('demo seed', () => {
     expect(drafts[0].created_by).toBe(irene.id);
   });
 
-  it('shows the look-alike pair flagged by the specificity gate, then both methods tightened (version 2) and the library specific', async () => {
+  it('shows the look-alike pair refused by the specificity gate, then the methods tightened and the library specific with its margins', async () => {
     const mh = await db('material')
       .where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code })
       .first();
-    const blocked = await db('audit_event').where({ action: 'reference.approval-blocked' });
+    const mhFirst = await db('identity_method').where({ material_id: mh.id, version: 1 }).first();
+    const blocked = await db('audit_event').where({ action: 'method.approval-blocked' });
     expect(blocked).toHaveLength(1);
-    const blockedRef = await db('reference_spectrum')
-      .where({ id: Number(blocked[0].entity_id) })
-      .first();
-    expect(blockedRef.material_id).toBe(mh.id);
-    const offending = (JSON.parse(blocked[0].after_json) as { offending: { materialCode: string }[] }).offending;
-    expect(new Set(offending.map((o) => o.materialCode))).toEqual(new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]));
+    expect(Number(blocked[0].entity_id)).toBe(mhFirst.id);
+    const offending = (JSON.parse(blocked[0].after_json) as { offending: { otherMaterialCode: string }[] }).offending;
+    expect(new Set(offending.map((o) => o.otherMaterialCode))).toEqual(
+      new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]),
+    );
+    const expected: Record<string, string[]> = {
+      [LOOK_ALIKE_PAIR[0]]: ['1:superseded', '2:approved'],
+      [LOOK_ALIKE_PAIR[1]]: ['1:approved'],
+    };
     for (const key of LOOK_ALIKE_PAIR) {
       const mat = await db('material')
         .where({ code: materialByKey(key).code })
         .first();
       const methods = await db('identity_method').where({ material_id: mat.id }).orderBy('version');
-      expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(['1:superseded', '2:approved']);
-      expect(JSON.parse(methods[1].params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
+      expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(expected[key]);
+      expect(JSON.parse(methods.at(-1).params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
     }
     const matrix = await specificityMatrixFor('mid-ir-atr', db);
-    expect(matrix.materials.map((m) => m.code).sort()).toEqual([...DEMO_MATERIAL_CODES].sort());
+    const irCodes = MATERIALS.filter((m) => m.key !== 'sodium-chloride').map((m) => m.code);
+    expect(matrix.materials.map((m) => m.code).sort()).toEqual([...irCodes].sort());
     expect(matrix.notDiscriminated).toEqual([]);
     // Every grade's references pass against each other (leave one out).
     for (const c of matrix.cells.filter((x) => x.rowMaterialId === x.columnMaterialId))
       expect(c.state, String(c.rowMaterialId)).toBe('self');
+  });
+
+  it('refuses an IR test of the sodium chloride lot (identity by IR not suitable)', async () => {
+    const app = createApp({ database: DEMO_DB }).app;
+    const agent = request.agent(app);
+    await agent.post('/api/auth/sign-in').send({ username: 'olga', password: DEMO_PASSWORD }).expect(200);
+    const lot = await lotOf('I');
+    const inst = await db('instrument').orderBy('id').first();
+    const res = await agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.id });
+    expect(res.status).toBe(409);
+    expect(res.body.error.code).toBe('IR_NOT_SUITABLE');
+    expect(await db('identity_test').where({ lot_id: lot.id }).first()).toBeUndefined();
   });
 
   it('has three instruments with the site ATR check positions, one of them with its check due', async () => {

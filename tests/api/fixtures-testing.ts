@@ -51,9 +51,19 @@ export async function account(roles: Role[]) {
 export async function retire(): Promise<void> {
   if (made.length) await db()('app_user').whereIn('id', made.splice(0)).update({ active: 0 });
   qaCache = null;
+  authorCache = null;
 }
 
 let qaCache: { id: number; fullName: string } | null = null;
+let authorCache: { id: number; fullName: string } | null = null;
+/** The QA manager who wrote the seeded methods and uploaded their references (never their approver). */
+async function fixtureAuthor() {
+  if (!authorCache) {
+    authorCache = await makeUser(['qa_manager']);
+    made.push(authorCache.id);
+  }
+  return authorCache;
+}
 async function fixtureQa() {
   if (!qaCache) {
     qaCache = await makeUser(['qa_manager']);
@@ -73,7 +83,7 @@ export async function approvedMaterial(opts: {
     .toUpperCase()
     .replace(/[^A-Z0-9]/g, '')
     .slice(0, 30);
-  const m = await seedApprovedMaterial(db(), await fixtureQa(), { ...opts, code });
+  const m = await seedApprovedMaterial(db(), await fixtureQa(), { ...opts, code, author: await fixtureAuthor() });
   invalidateLibraryCache();
   return m;
 }

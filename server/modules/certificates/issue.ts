@@ -21,6 +21,7 @@ import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { transactionWithRetry } from '../../lib/retry';
+import { assertIrSuitable } from '../library/method-control';
 import { configOf } from './config';
 import type { CertificateContent, CertificateMeta } from './contract';
 import { toMeta } from './meta';
@@ -95,6 +96,8 @@ export async function issueCertificate(
   const cfg = configOf(opts.config);
   const lot = await repo.findLot(db, input.lotId);
   if (!lot) throw notFound('The lot');
+  // Never an IR identity certificate for a material QA marked "identity by IR not suitable" (docs/methods.md).
+  await assertIrSuitable(db, lot.material_id, 'No IR identity certificate is issued');
   let supersedes: CertificateContent['supersedes'] = null;
   if (input.supersedesId !== undefined) {
     const old = await repo.findListRow(db, input.supersedesId);

@@ -14,6 +14,7 @@ import { specSignedContent } from '../instruments/service';
 import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
+import { irSuitabilitySignedContent, overrideSignedContent } from '../library/method-control';
 import { loadContext, signedContent } from '../testing/context';
 import { releaseSignedContent } from '../provenance/service';
 import { roleRequestSignedContent } from '../users/grants';
@@ -85,6 +86,18 @@ const referenceApproval: Recipe = async (db, s) => {
   );
 };
 
+const overrideRequest: Recipe = async (db, s) => {
+  const o = await db('gate_override').where({ signature_id: s.id }).first();
+  if (!o) return undefined;
+  return overrideSignedContent({
+    entityType: o.entity_type,
+    entityId: o.entity_id,
+    justification: o.justification,
+    changeControl: o.change_control,
+    gateSha256: o.gate_sha256,
+  });
+};
+
 export const RECIPES: Record<string, Recipe> = {
   'audit_review/audit-trail-reviewed': async (db, s) => {
     const r = await db('audit_review')
@@ -96,7 +109,24 @@ export const RECIPES: Record<string, Recipe> = {
     const m = await db('identity_method')
       .where({ id: Number(s.entity_id) })
       .first();
-    return m ? methodSignedContent(m) : undefined;
+    if (!m) return undefined;
+    const a = await db('method_approval').where({ method_id: m.id, signature_id: s.id }).first();
+    return methodSignedContent(
+      m,
+      a
+        ? {
+            validationSha256: a.validation_sha256,
+            firstReferenceIds: JSON.parse(a.first_reference_ids) as number[],
+            gateOverrideId: a.gate_override_id ?? null,
+          }
+        : null,
+    );
+  },
+  'identity_method/gate-override-requested': overrideRequest,
+  'reference_spectrum/gate-override-requested': overrideRequest,
+  'material/ir-suitability-decided': async (db, s) => {
+    const d = await db('material_ir_suitability').where({ signature_id: s.id }).first();
+    return d ? irSuitabilitySignedContent(d.material_id, !!d.suitable, d.replacement_test, d.reason) : undefined;
   },
   'reference_spectrum/approved': referenceApproval,
   'reference_spectrum/approved-with-justification': referenceApproval,

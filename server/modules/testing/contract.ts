@@ -362,6 +362,16 @@ export interface ReviewData {
   /** The identity method versions the measurements used (params as stored with the version). */
   methods: { id: number; version: number; technique: string; approvedAt: string | null; params: unknown }[];
   references: ReferenceRef[];
+  /** The method version and reference set the attempt started with and keeps (null: started before pins). */
+  pinned: AttemptPin | null;
+}
+
+export interface AttemptPin {
+  methodId: number;
+  methodVersion: number;
+  referenceCodes: string[];
+  /** The version approved now, when another than the pinned one: it applies to new attempts only. */
+  newerApprovedVersion: number | null;
 }
 
 export interface QueueTest {

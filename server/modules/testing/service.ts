@@ -26,7 +26,8 @@ import {
   identifierRefusal,
   judgeAcquisition,
 } from '../provenance/rules';
-import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
+import { getApprovedReferenceSet, getPinnedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
+import { assertIrSuitable } from '../library/method-control';
 import * as lots from '../lots/repo';
 import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
@@ -76,6 +77,7 @@ export async function startTest(
 ): Promise<StartedTest> {
   const lot = await lots.findLot(db, lotId);
   if (!lot) throw notFound('The lot');
+  await assertIrSuitable(db, lot.material.id, `Lot ${lot.lotNumber} cannot be put into IR testing`);
   const set = await approvedSetFor(lot.material.id, db);
   await usableInstrument(db, instrumentId, set.method.technique);
   const actor = { id: user.id, name: user.fullName };
@@ -128,6 +130,13 @@ export async function startTest(
       created_by: user.id,
       created_at: now,
       updated_at: now,
+    });
+    // The attempt keeps this method version and reference set to its end (docs/methods.md).
+    await trx('attempt_pin').insert({
+      test_id: id,
+      method_id: set.method.id,
+      reference_ids: JSON.stringify(set.references.map((r) => r.id)),
+      created_at: now,
     });
     await trx('lot').where({ id: lotId }).update({ identity_status: 'testing', updated_at: now });
     await appendAudit(trx, {
@@ -318,7 +327,7 @@ export async function addMeasurement(
       `Container ${container.label} already has a valid result in this attempt (pass, measurement ${previous.id}). A re-measurement needs a reason, which is kept with it and shown to the verifier. Nothing was stored.`,
     );
 
-  const set = await approvedSetFor(ctx.lot.material.id, db);
+  const set = (await getPinnedReferenceSet(testId, db)) ?? (await approvedSetFor(ctx.lot.material.id, db));
   const instrument = await usableInstrument(db, ctx.test.instrument_id, set.method.technique);
 
   // Reading and scoring run in the compute pool: a big file never holds the event loop.
@@ -428,8 +437,8 @@ export async function addMeasurement(
       remeasure_of_measurement_id: previousInTest?.id ?? null,
       created_at: now,
     });
-    // Each measurement records the method version it was scored under; when QA approved a new
-    // version during the attempt, the attempt follows it and the change is audited.
+    // Each measurement records the method version it was scored under. A pinned attempt keeps its
+    // version; only an attempt started before pins existed follows a new version (audited).
     await trx('identity_test').where({ id: testId }).update({ updated_at: now, method_id: set.method.id });
     if (t.method_id !== set.method.id)
       await appendAudit(trx, {

@@ -86,6 +86,14 @@ export function ReviewView({
   return (
     <div className="flex flex-col gap-5">
       <IntegrityNotice integrity={data.integrity} />
+      {data.pinned && (
+        <p className="rounded-md border border-line bg-white p-3 text-sm" data-testid="attempt-pin">
+          This attempt keeps identity method version {data.pinned.methodVersion} and the reference set it started with (
+          {data.pinned.referenceCodes.join(', ')}).
+          {data.pinned.newerApprovedVersion !== null &&
+            ` Version ${data.pinned.newerApprovedVersion} was approved since; it applies to new attempts only.`}
+        </p>
+      )}
       <section
         aria-label="Versions and instrument"
         className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
