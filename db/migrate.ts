@@ -7,8 +7,10 @@
  * the triggers that keep the audit trail append-only.
  *   tsx db/migrate.ts            # migrates DRUMLINE_DB_NAME (or DATABASE_OWNER_URL's database)
  */
+import fs from 'node:fs';
+import path from 'node:path';
 import knexFactory, { type Knex } from 'knex';
-import { dbSettings, knexConfig } from './config';
+import { dbSettings, knexConfig, repoRoot } from './config';
 import { appendOnlyTables, guardedTables, migrationSource, operationalTables } from './migrations/index';
 
 /** The runtime account's rights on a table, from its class in db/migrations/index.ts. */
@@ -53,6 +55,17 @@ export async function migrateDatabase(database?: string): Promise<void> {
   }
 }
 
+/**
+ * A dropped development database takes its audit checkpoints with it (docs/compliance.md, "Audit
+ * chain anchored outside the database"): the files in AUDIT_CHECKPOINT_DIR/<database>/ describe a
+ * trail that no longer exists, and a new trail of the same name would be held against them.
+ * Only recreateDatabase and dropDatabase call this, and they refuse every name but drumline*.
+ */
+function discardCheckpoints(database: string): void {
+  const dir = path.resolve(repoRoot, process.env.AUDIT_CHECKPOINT_DIR ?? '.data/checkpoints', database);
+  fs.rmSync(dir, { recursive: true, force: true });
+}
+
 /** Drops and recreates a database (tests and demo reset only). */
 export async function recreateDatabase(database: string): Promise<void> {
   if (!/^drumline[a-z0-9_]*$/.test(database)) throw new Error(`refusing to recreate database ${database}`);
@@ -60,6 +73,7 @@ export async function recreateDatabase(database: string): Promise<void> {
   const owner = knexFactory(knexConfig({ ...s, database: '' }, { min: 0, max: 1 }));
   try {
     await owner.raw(`DROP DATABASE IF EXISTS \`${database}\``);
+    discardCheckpoints(database);
     await owner.raw(`CREATE DATABASE \`${database}\` CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`);
   } finally {
     await owner.destroy();
@@ -74,6 +88,7 @@ export async function dropDatabase(database: string): Promise<void> {
   const owner = knexFactory(knexConfig({ ...s, database: '' }, { min: 0, max: 1 }));
   try {
     await owner.raw(`DROP DATABASE IF EXISTS \`${database}\``);
+    discardCheckpoints(database);
   } finally {
     await owner.destroy();
   }

@@ -8,19 +8,21 @@
  * other real scans of the same fibres, so every verdict below is the engine's own.
  * Demo accounts (db/seeds/accounts.ts): olga operator, victor verifier, quinn QA, adam admin.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import { expect, test, type Browser, type Page } from '@playwright/test';
-import { repoRoot } from '../db/config';
 import { DEMO_PASSWORD } from '../db/seeds/accounts';
+import { distinctAcquisition } from '../db/seeds/testing-library';
 
-const DATA = path.resolve(repoRoot, '../shared/reference-data/atr-ftir-fibres');
 const NYLON = 'Nylon 6,6 staple fibre';
 const PET = 'Polyester (PET) staple fibre';
 const INSTRUMENT = 'ATR bench E2E-1';
 
+/**
+ * A new acquisition of a real sample (its spectrum with fresh noise at its own level): Drumline
+ * refuses the same spectrum twice, and these tests share one database (docs/provenance.md).
+ */
 function spectrum(file: string, asName: string) {
-  return { name: asName, mimeType: 'text/csv', buffer: fs.readFileSync(path.join(DATA, file)) };
+  const f = distinctAcquisition(`atr-ftir-fibres/${file}`, asName);
+  return { name: asName, mimeType: 'text/csv', buffer: f.buffer };
 }
 
 async function signedIn(browser: Browser, username: string): Promise<Page> {
@@ -129,6 +131,9 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   for (const n of ['001', '002', '003'])
     await expect(victor.getByTestId(`review-${lotNumber}-${n}`)).toContainText('Pass');
   await expect(victor.getByText(/Instrument checks used/)).toBeVisible();
+  // every measurement in order, with what each file states (docs/provenance.md)
+  await expect(victor.getByTestId('measurement-history')).toContainText(`${lotNumber}-003`);
+  await expect(victor.getByTestId('measurement-history')).toContainText('not stated in the file');
   await expect(victor.getByTestId('spectrum-difference').first()).toBeVisible();
   await victor.getByRole('button', { name: 'Sign as verified' }).click();
   await sign(victor, 'victor', 'Sign as verified');

@@ -20,6 +20,8 @@ import * as m110 from './110_method_control';
 import * as m120 from './120_certificate_numbers';
 import * as m121 from './121_audit_anchor';
 import * as m150 from './150_trending';
+import * as m160 from './160_instrument_lifecycle';
+import * as m161 from './161_check_lookback';
 import * as m130 from './130_mail_claim';
 
 interface Migration {
@@ -44,6 +46,8 @@ export const migrations: [string, Migration][] = [
   ['120_certificate_numbers', m120],
   ['121_audit_anchor', m121],
   ['150_trending', m150],
+  ['160_instrument_lifecycle', m160],
+  ['161_check_lookback', m161],
   ['130_mail_claim', m130],
 ];
 
@@ -94,6 +98,11 @@ export const appendOnlyTables = [
   'audit_checkpoint',
   'trend_baseline',
   'audit_review',
+  'instrument_qualification',
+  'instrument_maintenance',
+  'instrument_service_event',
+  'check_impact_measurement',
+  'check_impact_notice',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -110,6 +119,7 @@ export const guardedTables = [
   'app_user',
   'certificate_counter',
   'trend_signal',
+  'check_impact_assessment',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */

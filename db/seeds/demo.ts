@@ -109,7 +109,30 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
       },
       signature: p.quinn.sig(),
     });
+    // Qualification records (invented documents), signed by QA; requalification due in a year.
+    const day = (offset: number) => new Date(Date.now() + offset * 86_400_000).toISOString().slice(0, 10);
+    for (const [stage, from] of [
+      ['iq', -60],
+      ['oq', -58],
+      ['pq', -50],
+    ] as const)
+      await p.quinn.post(`/api/instruments/${created.id}/qualifications`, {
+        stage,
+        documentRef: `${stage.toUpperCase()}-${inst.id}-01 (demo)`,
+        executedFrom: day(from),
+        executedTo: day(from + 1),
+        status: 'passed',
+        nextDue: stage === 'pq' ? day(315) : null,
+        summary: `${stage.toUpperCase()} protocol executed; every acceptance criterion met (demo record).`,
+        signature: p.quinn.sig(),
+      });
   }
+  await p.olga.post(`/api/instruments/${ids.instruments['IR-3']}/maintenance`, {
+    kind: 'preventive',
+    performedOn: new Date(Date.now() - 7 * 86_400_000).toISOString().slice(0, 10),
+    performedBy: 'Site instrument engineer (demo)',
+    description: 'Desiccant replaced and ATR crystal inspected; no damage found.',
+  });
   const films = demoSpectra().filter((s) => s.kind === 'polystyrene' && !s.spare);
   for (const film of films) {
     // FTIR 3: only the drifted film is recorded, so its check fails and stays due.
@@ -118,7 +141,9 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
     const f = fileOf(film);
     await who.upload(`/api/instruments/${ids.instruments[film.instrument]}/checks`, 'file', [f], who.sig());
   }
-  log('three instruments with site check positions; FTIR 1 and 2 checked, FTIR 3 check failed (due)');
+  log(
+    'three instruments with qualification records and site check positions; FTIR 1 and 2 checked, FTIR 3 check failed (due, look-back open)',
+  );
 }
 
 async function approveMethod(p: People, methodId: number): Promise<void> {

@@ -9,8 +9,10 @@
  * by `driftPerPoint` cm⁻¹ per point, so its band shift rises and its correlation falls while
  * every result still passes.
  *
- * Each point's instrument check is a copy of a passing check of the instrument (same film file
- * and result), performed half an hour before the point and valid for the instrument's validity.
+ * Every point names the instrument's passing check given by the caller (a known limit of the
+ * synthetic history: that check was recorded when the seed ran, after the points' past times;
+ * copying the check per point would store its film spectrum twice, which the provenance rules
+ * refuse). Every generated file gets its spectrum fingerprint, as an upload does.
  * The past times are set here, by the seed, through the owner's or runtime's database
  * connection: the running application never backdates a record (its clock is the server's).
  * The performed and verified signatures are real e-signature rows over the content the
@@ -24,6 +26,8 @@ import { sha256Hex } from '../../server/lib/canonical';
 import { appendAudit, type Actor } from '../../server/lib/audit';
 import { contentHash } from '../../server/lib/esign';
 import { issueCertificate } from '../../server/modules/certificates';
+import { recordFingerprint } from '../../server/modules/provenance/copies';
+import { provenanceKeys } from '../../server/modules/provenance/keys';
 import * as libraryRepo from '../../server/modules/library/repo';
 import { toEngineBands } from '../../server/modules/library/engine';
 import { loadContext, signedContent } from '../../server/modules/testing/context';
@@ -38,7 +42,7 @@ export interface TrendHistoryOptions {
   materialId: number;
   methodId: number;
   instrumentId: number;
-  /** a passing instrument check of the instrument: each point gets a copy performed just before it */
+  /** a passing instrument check of the instrument, named by every point */
   instrumentCheckId: number;
   operator: HistoryPerson;
   verifier: HistoryPerson;
@@ -117,8 +121,6 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
   const y = Array.from(sample.y);
   const rand = rng(o.points * 7919 + o.prefix.length);
   const measurementIds: number[] = [];
-  const check = await k('instrument_check').where({ id: o.instrumentCheckId }).first();
-  const instrument = await k('instrument').where({ id: o.instrumentId }).first('check_validity_hours');
   const perPoint = (o.days * 86_400_000) / o.points;
   const start = now.getTime() - (o.days + 1) * 86_400_000;
   let driftStep = 0;
@@ -170,21 +172,12 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       created_at: at,
       updated_at: at,
     });
-    // the instrument check of that day, performed half an hour before the measurement
-    const checkedAt = new Date(at.getTime() - 30 * 60_000);
-    const [checkId] = await k('instrument_check').insert({
-      ...Object.fromEntries(Object.entries(check).filter(([c]) => c !== 'id')),
-      performed_by: o.operator.id,
-      performed_at: checkedAt,
-      valid_until: new Date(checkedAt.getTime() + Number(instrument.check_validity_hours) * 3_600_000),
-      signature_id: null,
-    });
     const [mId] = await k('measurement').insert({
       test_id: testId,
       container_id: containerId,
       file_id: fileId,
       instrument_id: o.instrumentId,
-      instrument_check_id: checkId,
+      instrument_check_id: o.instrumentCheckId,
       method_id: o.methodId,
       reference_ids: JSON.stringify(refs.map((r) => r.id)),
       verdict: result.verdict,
@@ -195,6 +188,14 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       created_at: at,
     });
     measurementIds.push(mId as number);
+    await recordFingerprint(k, {
+      fileId: fileId as number,
+      recordType: 'measurement',
+      recordId: mId as number,
+      sha256: sha256Hex(bytes),
+      keys: provenanceKeys(readSpectrum(new Uint8Array(bytes), fileName)),
+      at,
+    });
     const content = signedContent(await loadContext(k, testId as number));
     const sign = async (who: HistoryPerson, meaning: string, when: Date) => {
       const [id] = await k('e_signature').insert({

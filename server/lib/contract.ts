@@ -145,6 +145,9 @@ export const SIGNATURE_MEANINGS = [
   'ir-suitability-decided',
   'block-released',
   'audit-trail-reviewed',
+  'qualification-approved',
+  'back-in-service',
+  'impact-assessed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -167,6 +170,9 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   'ir-suitability-decided': 'Suitability of identity by IR decided',
   'block-released': 'Blocked container released by QA',
   'audit-trail-reviewed': 'Audit trail reviewed for the period',
+  'qualification-approved': 'Qualification record approved by QA',
+  'back-in-service': 'Instrument put back into service by QA',
+  'impact-assessed': 'Impact of a failed instrument check assessed by QA',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */

@@ -113,6 +113,27 @@ export {
 } from './reference-model';
 export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';
 export {
+  checkBlank,
+  runPerformanceCheck,
+  type PerformanceCheck,
+  type PerformanceResult,
+  measureNoise,
+  checkWavelengthAccuracy,
+  measurePhotometricNoise,
+  type BlankLimits,
+  type BlankResult,
+  type BlankBand,
+  type NoiseLimits,
+  type NoiseResult,
+  type WavelengthLimits,
+  type WavelengthBand,
+  type WavelengthResult,
+  type WavelengthBandResult,
+  type PhotometricNoiseLimits,
+  type PhotometricNoiseResult,
+  type Region,
+} from './performance';
+export {
   COPY_RATIO_LIMIT,
   fingerprintOf,
   lookupWindow,

@@ -11,7 +11,7 @@ import { ZxcvbnFactory } from '@zxcvbn-ts/core';
 import * as zxcvbnCommon from '@zxcvbn-ts/language-common';
 import * as zxcvbnEn from '@zxcvbn-ts/language-en';
 import {
-  checkPolystyrene,
+  runPerformanceCheck,
   checkQuality,
   prepare,
   readSpectrum,
@@ -83,7 +83,7 @@ function run(task: Task): TaskResult {
       return {
         ok: true,
         value: {
-          result: checkPolystyrene(spectrum, task.options),
+          result: runPerformanceCheck(spectrum, task.check),
           sha256: sha256(task.bytes),
           spectrum,
           keys: provenanceKeys(spectrum),

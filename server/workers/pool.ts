@@ -16,7 +16,7 @@ import { computeDuration } from '../lib/metrics';
 import { ownsItsMemory } from '../lib/upload';
 import {
   type IdentityMethod,
-  type PolystyreneOptions,
+  type PerformanceCheck,
   type PreparedReference,
   type Spectrum,
   SpectrumError,
@@ -116,10 +116,10 @@ export function measureOff(
   );
 }
 
-/** Reads an uploaded polystyrene film spectrum and checks it (engine checkPolystyrene), with its SHA-256. */
-export function instrumentCheckOff(file: Upload, options: PolystyreneOptions): Promise<InstrumentCheckOutput> {
+/** Reads an uploaded check spectrum and runs the performance check of its type (engine runPerformanceCheck), with its SHA-256. */
+export function instrumentCheckOff(file: Upload, check: PerformanceCheck): Promise<InstrumentCheckOutput> {
   return run<InstrumentCheckOutput>(
-    { op: 'instrument-check', bytes: bytesOf(file.buffer), fileName: file.originalname, options },
+    { op: 'instrument-check', bytes: bytesOf(file.buffer), fileName: file.originalname, check },
     file,
   );
 }

@@ -2,8 +2,8 @@
 import type {
   IdentityMethod,
   IdentityResult,
-  PolystyreneOptions,
-  PolystyreneResult,
+  PerformanceCheck,
+  PerformanceResult,
   PreparedReference,
   QualityReport,
   Spectrum,
@@ -24,7 +24,7 @@ export type Task =
   | { op: 'sha256'; bytes: Uint8Array }
   | { op: 'read'; bytes: Uint8Array; fileName: string }
   | { op: 'measure'; bytes: Uint8Array; fileName: string; references: PreparedReference[]; method: IdentityMethod }
-  | { op: 'instrument-check'; bytes: Uint8Array; fileName: string; options: PolystyreneOptions }
+  | { op: 'instrument-check'; bytes: Uint8Array; fileName: string; check: PerformanceCheck }
   | { op: 'reference'; bytes: Uint8Array; fileName: string; method: IdentityMethod }
   | { op: 'password'; password: string; userInputs: string[] };
 
@@ -37,7 +37,7 @@ export interface MeasureOutput {
   keys: ProvenanceKeys;
 }
 export interface InstrumentCheckOutput {
-  result: PolystyreneResult;
+  result: PerformanceResult;
   sha256: string;
   spectrum: Spectrum;
   keys: ProvenanceKeys;

@@ -81,12 +81,20 @@ function Nav({ me }: { me: Me }) {
       .map((g) => ({ group: g, items: out.get(g)!.sort((a, b) => a.order - b.order) }));
   }, [me.user.roles]);
 
-  const linkClass = ({ isActive }: { isActive: boolean }) =>
-    `flex min-h-10 items-center rounded-md px-3 text-sm ${isActive ? 'bg-petrol-soft font-semibold text-petrol' : 'text-ink hover:bg-white'}`;
+  // One item is highlighted at a time: the one whose path matches the page most closely
+  // (on /certificates/verify "Verify a certificate", not also "Identity certificates").
+  const { pathname } = useLocation();
+  const current = useMemo(() => {
+    const paths = groups.flatMap((g) => g.items.map((i) => i.path));
+    const hits = paths.filter((p) => pathname === p || pathname.startsWith(`${p}/`));
+    return hits.sort((a, b) => b.length - a.length)[0] ?? (pathname === '/' ? '/' : null);
+  }, [groups, pathname]);
+  const linkClass = (path: string) => () =>
+    `flex min-h-10 items-center rounded-md px-3 text-sm ${path === current ? 'bg-petrol-soft font-semibold text-petrol' : 'text-ink hover:bg-white'}`;
 
   return (
     <nav aria-label="Main" className="flex flex-col gap-4">
-      <NavLink to="/" end className={linkClass}>
+      <NavLink to="/" end className={linkClass('/')} aria-current={current === '/' ? 'page' : false}>
         Work queue
       </NavLink>
       {groups.map(({ group, items }) => (
@@ -97,7 +105,7 @@ function Nav({ me }: { me: Me }) {
           <ul className="flex flex-col gap-0.5">
             {items.map((i) => (
               <li key={i.path}>
-                <NavLink to={i.path} className={linkClass}>
+                <NavLink to={i.path} className={linkClass(i.path)} aria-current={i.path === current ? 'page' : false}>
                   {i.label}
                 </NavLink>
               </li>
@@ -203,11 +211,11 @@ export function AppShell() {
         <Header me={me.data} forced={forced} />
         <div className="flex flex-1 flex-col md:flex-row">
           {!forced && (
-            <aside className="border-b border-line bg-paper px-3 py-4 md:w-56 md:shrink-0 md:border-r md:border-b-0">
+            <aside className="border-b border-line bg-paper px-3 py-4 md:w-52 md:shrink-0 md:border-r md:border-b-0">
               <Nav me={me.data} />
             </aside>
           )}
-          <main id="main" className="min-w-0 flex-1 px-4 py-5 md:px-8">
+          <main id="main" className="min-w-0 flex-1 px-4 py-5 md:px-6 2xl:px-8">
             <ErrorBoundary resetKey={location.pathname}>
               <Outlet />
             </ErrorBoundary>

@@ -7,7 +7,6 @@
  */
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
-import { InstrumentsCheckDueWidget, ReferencesAwaitingApprovalWidget } from '../routes/library-widgets';
 import {
   BlockedContainersWidget,
   CertificatesToIssueWidget,
@@ -15,6 +14,11 @@ import {
   OpenInvestigationsWidget,
   TestsToVerifyWidget,
 } from '../routes/testing-widgets';
+import {
+  InstrumentsCheckDueWidget,
+  OpenImpactAssessmentsWidget,
+  ReferencesAwaitingApprovalWidget,
+} from '../routes/library-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
 import { AuditReviewDueWidget, OpenTrendSignalsWidget } from '../routes/trending-widgets';
 import {
@@ -50,6 +54,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     roles: ['qa_manager'],
     order: 24,
     Component: AuditReviewDueWidget,
+  },
+  {
+    id: 'instruments.impact-assessments',
+    title: 'Failed instrument checks to assess',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: OpenImpactAssessmentsWidget,
   },
   {
     id: 'instruments.check-due',

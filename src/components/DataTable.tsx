@@ -5,8 +5,14 @@
  *   (a column can opt out with `enableColumnFilter: false`).
  * - onRowClick: rows become focusable buttons: Enter/Space opens, arrow keys move between rows.
  * Column `meta: { align: 'right' }` right-aligns numbers (tabular figures are on for tables).
+ * Key columns (the record's number and what a decision rests on: status, verdict, due date) carry
+ * data-key-column in the markup: the first column always, others with `meta: { key: true }`. The
+ * layout test (e2e/layout.spec.ts) checks they are inside the viewport at 1280 x 800. When the table
+ * is wider than the page it scrolls inside a ScrollRegion (keyboard reachable, a visible hint) and
+ * its first column stays in place (sticky).
  */
 import { useMemo, useRef, useState, type KeyboardEvent, type ReactNode } from 'react';
+import { ScrollRegion } from './ScrollRegion';
 import {
   flexRender,
   getCoreRowModel,
@@ -15,6 +21,7 @@ import {
   useReactTable,
   type ColumnDef,
   type ColumnFiltersState,
+  type ColumnMeta,
   type RowData,
   type SortingState,
 } from '@tanstack/react-table';
@@ -27,8 +34,12 @@ declare module '@tanstack/react-table' {
     align?: 'left' | 'right' | 'center';
     /** header cell class (widths) */
     className?: string;
-    /** let long text wrap in this column's cells (default: one line per cell, the table scrolls sideways) */
+    /** let long text wrap in this column's cells, badges included (text columns that are not key columns wrap anyway) */
     wrap?: boolean;
+    /** keep this column's cells on one line (the default for key columns and right-aligned numbers) */
+    nowrap?: boolean;
+    /** a decision-relevant column that must stay in view at 1280 px (the first column always is) */
+    key?: boolean;
   }
 }
 
@@ -59,6 +70,16 @@ export interface DataTableProps<T> {
 }
 
 const ALIGN = { left: 'text-left', right: 'text-right', center: 'text-center' };
+
+/**
+ * Which columns stay on one line: key columns (they must be read at a glance) and numbers; other
+ * text wraps, so that a table fits a 1280 px screen without hiding its key columns.
+ */
+function keepOnOneLine(meta: ColumnMeta<unknown, unknown> | undefined, index: number): boolean {
+  if (meta?.nowrap) return true;
+  if (meta?.wrap) return false;
+  return index === 0 || meta?.key === true || meta?.align === 'right';
+}
 
 function SortMark({ dir }: { dir: false | 'asc' | 'desc' }) {
   return (
@@ -130,7 +151,7 @@ export function DataTable<T>({
   };
 
   return (
-    <div className={`flex flex-col gap-2 ${className}`}>
+    <div className={`flex min-w-0 flex-col gap-2 ${className}`}>
       {(globalFilter || toolbar) && (
         <div className="flex flex-wrap items-center gap-2">
           {globalFilter && (
@@ -149,13 +170,15 @@ export function DataTable<T>({
           </span>
         </div>
       )}
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label={label}>
         <table className="w-full border-collapse text-sm" aria-label={label}>
           <thead className="bg-paper">
             {table.getHeaderGroups().map((hg) => (
               <tr key={hg.id} className="border-b border-line">
-                {hg.headers.map((h) => {
+                {hg.headers.map((h, i) => {
                   const meta = h.column.columnDef.meta;
+                  // Headers wrap between words (except the first column's), cells as keepOnOneLine says.
+                  const oneLine = i === 0 || meta?.nowrap === true;
                   const align = ALIGN[meta?.align ?? 'left'];
                   const canSort = h.column.getCanSort();
                   const dir = h.column.getIsSorted();
@@ -163,10 +186,11 @@ export function DataTable<T>({
                     <th
                       key={h.id}
                       scope="col"
+                      data-key-column={i === 0 || meta?.key ? h.column.id : undefined}
                       aria-sort={
                         dir === 'asc' ? 'ascending' : dir === 'desc' ? 'descending' : canSort ? 'none' : undefined
                       }
-                      className={`px-3 py-2 align-top font-semibold whitespace-nowrap text-ink ${align} ${meta?.className ?? ''}`}
+                      className={`px-2.5 py-2 align-top font-semibold text-ink ${oneLine ? 'whitespace-nowrap' : ''} ${align} ${i === 0 ? 'dt-sticky' : ''} ${meta?.className ?? ''}`}
                     >
                       {h.isPlaceholder ? null : canSort ? (
                         <button
@@ -210,10 +234,11 @@ export function DataTable<T>({
                     selected ? 'bg-petrol-soft' : ''
                   } ${rowClassName?.(row.original) ?? ''}`}
                 >
-                  {row.getVisibleCells().map((cell) => (
+                  {row.getVisibleCells().map((cell, i) => (
                     <td
                       key={cell.id}
-                      className={`px-3 py-2 align-top ${cell.column.columnDef.meta?.wrap ? '' : 'whitespace-nowrap'} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']}`}
+                      data-key-column={i === 0 || cell.column.columnDef.meta?.key ? cell.column.id : undefined}
+                      className={`px-2.5 py-2 align-top ${keepOnOneLine(cell.column.columnDef.meta, i) ? 'whitespace-nowrap' : 'break-words'} ${cell.column.columnDef.meta?.wrap ? 'dt-wrap' : ''} ${ALIGN[cell.column.columnDef.meta?.align ?? 'left']} ${i === 0 ? 'dt-sticky' : ''}`}
                     >
                       {flexRender(cell.column.columnDef.cell, cell.getContext())}
                     </td>
@@ -230,7 +255,7 @@ export function DataTable<T>({
             )}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
     </div>
   );
 }

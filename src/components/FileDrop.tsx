@@ -40,6 +40,8 @@ export interface FileDropProps<R> {
   bench?: boolean;
   disabled?: boolean;
   hint?: ReactNode;
+  /** focus the "Choose" button when shown (the scan loop: label scanned, Enter opens the chooser) */
+  autoFocus?: boolean;
 }
 
 let seq = 0;
@@ -56,6 +58,7 @@ export function FileDrop<R>({
   bench,
   disabled,
   hint,
+  autoFocus,
 }: FileDropProps<R>) {
   const id = useId();
   const input = useRef<HTMLInputElement>(null);
@@ -113,18 +116,28 @@ export function FileDrop<R>({
       >
         <p className={`font-medium ${bench ? 'text-lg' : ''}`}>{label}</p>
         <p className="text-sm text-muted">Drop {multiple ? 'files' : 'a file'} here, or</p>
-        <label
-          htmlFor={id}
+        {/* A real button: Enter and Space open the chooser, and it shows the focus ring. */}
+        <button
+          type="button"
+          autoFocus={autoFocus}
+          disabled={disabled}
+          onClick={() => input.current?.click()}
+          aria-describedby={`${id}-what`}
           className={`inline-flex cursor-pointer items-center rounded-md border border-petrol bg-petrol px-4 font-medium text-white hover:bg-petrol-dark ${
             bench ? 'min-h-11 text-base' : 'min-h-9 text-sm'
           } ${disabled ? 'pointer-events-none' : ''}`}
         >
           Choose {multiple ? 'files' : 'a file'}
-        </label>
+        </button>
+        <span id={`${id}-what`} className="sr-only">
+          {label}
+        </span>
         <input
           ref={input}
           id={id}
           type="file"
+          tabIndex={-1}
+          aria-label={`Choose ${multiple ? 'files' : 'a file'}: ${label}`}
           className="sr-only"
           accept={accept}
           multiple={multiple}

@@ -39,7 +39,11 @@ export interface SignatureDialogProps {
 }
 
 export function signatureStatement(meaningText: string): string {
-  return `By signing I confirm that I ${meaningText}. This electronic signature is the legally binding equivalent of my handwritten signature (21 CFR Part 11).`;
+  // A meaning that is itself a confirmation reads "By signing I confirm ...", never "I confirm that I confirm".
+  const what = /^confirm\b/i.test(meaningText)
+    ? `By signing I ${meaningText}`
+    : `By signing I confirm that I ${meaningText}`;
+  return `${what}. This electronic signature is the legally binding equivalent of my handwritten signature (21 CFR Part 11).`;
 }
 
 export function SignatureDialog({

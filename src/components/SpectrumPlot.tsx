@@ -3,6 +3,9 @@
  * absorbance up. Sample solid petrol, reference dashed grey; optional difference panel below in
  * amber with the same x range; excluded regions shaded; band ticks along the top edge with the
  * position and shift on hover. Drag across the plot to zoom, double-click to reset.
+ * Drumline's own readout replaces the plotting library's legend: while the pointer is over the plot,
+ * one small muted line above it gives the wavenumber and each trace's value there; a small key
+ * under the plot shows the line style of each trace.
  * The plot is built in an effect after the page has painted, so the page never waits for it.
  * x may run either way (JCAMP files often run high to low); it is sorted for uPlot.
  */
@@ -45,12 +48,12 @@ export interface SpectrumPlotProps {
 
 const C = {
   petrol: '#0f5e6e',
-  muted: '#6b7280',
+  muted: '#5f6673',
   amber: '#b7791f',
   line: '#d9dcd3',
   ink: '#1f2933',
   fail: '#b3261e',
-  shade: 'rgba(107,114,128,0.12)',
+  shade: 'rgba(95,102,115,0.12)',
 };
 const FONT = '12px "IBM Plex Sans", "DejaVu Sans", sans-serif';
 
@@ -130,6 +133,26 @@ function drawBands(bands: PlotBand[] | undefined) {
   };
 }
 
+/** One entry of the plot's key: a short line in the trace's colour and style, and its name. */
+function KeyLine({ colour, dashed, children }: { colour: string; dashed?: boolean; children: React.ReactNode }) {
+  return (
+    <span className="inline-flex items-center gap-1.5">
+      <svg width="22" height="6" aria-hidden>
+        <line
+          x1="0"
+          y1="3"
+          x2="22"
+          y2="3"
+          stroke={colour}
+          strokeWidth="2"
+          strokeDasharray={dashed ? '5 3' : undefined}
+        />
+      </svg>
+      {children}
+    </span>
+  );
+}
+
 export function SpectrumPlot({
   x,
   sample,
@@ -149,6 +172,7 @@ export function SpectrumPlot({
   const mainEl = useRef<HTMLDivElement>(null);
   const diffEl = useRef<HTMLDivElement>(null);
   const [hover, setHover] = useState<{ left: number; band: PlotBand } | null>(null);
+  const [readout, setReadout] = useState<{ x: number; values: { name: string; value: number | null }[] } | null>(null);
   const [ready, setReady] = useState(false);
   const descId = useId();
 
@@ -208,13 +232,24 @@ export function SpectrumPlot({
           scales: { x: { time: false, dir: -1 } },
           series,
           axes: axes(yLabel, !difference),
-          legend: { show: true, live: true },
+          legend: { show: false },
           cursor: { drag: { x: true, y: false, setScale: true }, sync: { key: cursorKey } },
           hooks: {
             drawClear: [shadeExcluded(excludedRegions)],
             draw: [drawBands(bands)],
             setScale: [(u, key) => key === 'x' && syncX(u)],
             setCursor: [
+              (u) => {
+                const idx = u.cursor.idx;
+                if (idx == null || (u.cursor.left ?? -1) < 0) setReadout(null);
+                else {
+                  const at = (arr: ArrayLike<number | null | undefined> | undefined) => arr?.[idx] ?? null;
+                  const values = [{ name: sampleLabel, value: at(u.data[1]) }];
+                  if (reference) values.push({ name: referenceLabel, value: at(u.data[2]) });
+                  if (ds && !(reference && referenceX)) values.push({ name: 'Sample − reference', value: at(ds) });
+                  setReadout({ x: u.data[0][idx], values });
+                }
+              },
               (u) => {
                 const left = u.cursor.left;
                 if (!bands?.length || left == null || left < 0) return setHover(null);
@@ -252,7 +287,7 @@ export function SpectrumPlot({
               },
             ],
             axes: axes('Difference', true),
-            legend: { show: true, live: true },
+            legend: { show: false },
             cursor: { drag: { x: true, y: false, setScale: true }, sync: { key: cursorKey } },
             hooks: { drawClear: [shadeExcluded(excludedRegions)], setScale: [(u, key) => key === 'x' && syncX(u)] },
           },
@@ -300,6 +335,13 @@ export function SpectrumPlot({
         {label}. Wavenumber falls from left to right. Drag across the plot to zoom; double-click to show the whole
         range.
       </p>
+      <p className="h-4 text-xs text-muted tabular-nums" aria-hidden data-testid="plot-readout">
+        {readout &&
+          [
+            formatWavenumber(readout.x),
+            ...readout.values.map((v) => `${v.name} ${v.value == null ? '—' : v.value.toFixed(4)}`),
+          ].join(' · ')}
+      </p>
       <div ref={wrap} className="relative w-full" style={{ minHeight: height + (difference ? differenceHeight : 0) }}>
         {!ready && (
           <p className="absolute inset-0 flex items-center justify-center text-sm text-muted">Drawing the spectrum…</p>
@@ -322,7 +364,14 @@ export function SpectrumPlot({
           </div>
         )}
       </div>
-      <figcaption className="mt-1 flex flex-wrap gap-4 text-xs text-muted">
+      <figcaption className="mt-1 flex flex-wrap items-center gap-4 text-xs text-muted" data-testid="plot-key">
+        <KeyLine colour={C.petrol}>{sampleLabel}</KeyLine>
+        {reference && (
+          <KeyLine colour={C.muted} dashed>
+            {referenceLabel}
+          </KeyLine>
+        )}
+        {difference && <KeyLine colour={C.amber}>Sample − reference (panel below)</KeyLine>}
         {excludedRegions?.length ? (
           <span className="inline-flex items-center gap-1">
             <span className="inline-block h-2.5 w-4 bg-muted/20" aria-hidden />

@@ -32,6 +32,9 @@ export const qk = {
   instruments: {
     all: ['instruments'] as const,
     one: (id: number) => ['instruments', id] as const,
+    /** impact assessments of failed checks sit under the instruments, so a new check refreshes them */
+    impacts: ['instruments', 'impact-assessments'] as const,
+    lotNotices: (lotId: number) => ['instruments', 'impact-notices', lotId] as const,
   },
   investigations: {
     all: ['investigations'] as const,

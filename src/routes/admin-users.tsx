@@ -1,4 +1,5 @@
 import { useState } from 'react';
+import { useSearchParams } from 'react-router-dom';
 import { useSession } from '../app/session';
 import { useCreatePanel } from '../components/CreatePanel';
 import { ErrorNote } from '../components/ErrorNote';
@@ -14,8 +15,15 @@ import { roleList } from '../lib/roles';
 export default function AdminUsersPage() {
   const { user: me } = useSession();
   const users = useUsers();
-  const [selectedId, setSelectedId] = useState<number | undefined>();
+  // ?account=ID (from the work queue) opens that account.
+  const [params, setParams] = useSearchParams();
+  const fromLink = Number(params.get('account'));
+  const [selectedId, setSelectedIdState] = useState<number | undefined>(fromLink > 0 ? fromLink : undefined);
   const [notice, setNotice] = useState<string | null>(null);
+  const setSelectedId = (id: number | undefined) => {
+    setSelectedIdState(id);
+    setParams(id ? { account: String(id) } : {}, { replace: true });
+  };
   const create = useCreatePanel({ label: 'Create account', title: 'New account', onOpen: () => setNotice(null) });
   const selected = users.data?.find((u) => u.id === selectedId);
 
@@ -56,7 +64,16 @@ export default function AdminUsersPage() {
         <ErrorNote error={users.error} onRetry={() => void users.refetch()} />
       ) : (
         <div className="grid gap-4 2xl:grid-cols-[minmax(0,1fr)_22rem] 2xl:gap-6">
-          <UsersTable users={users.data} selectedId={selectedId} onSelect={(u) => setSelectedId(u.id)} />
+          <UsersTable
+            users={users.data}
+            selectedId={selectedId}
+            onSelect={(u) => {
+              // Moving on to another account clears the notice (a new account's temporary password
+              // is shown once, only until the administrator turns to something else).
+              if (u.id !== selectedId) setNotice(null);
+              setSelectedId(u.id);
+            }}
+          />
           {/* beside the table on wide screens, above it otherwise */}
           <div className="order-first 2xl:order-last">
             {selected ? (

@@ -76,7 +76,7 @@ export default function AuditPage() {
   const isFiltered = KEYS.some((k) => form[k] !== '');
 
   return (
-    <div className="max-w-[96rem]">
+    <div className="max-w-7xl">
       <PageHeader
         title="Audit trail"
         subtitle={

@@ -6,7 +6,10 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
+import { Hash } from '../components/Hash';
+import { ScrollRegion } from '../components/ScrollRegion';
 import { RecordAlerts } from '../components/RecordAlerts';
+import { LotImpactNotices } from '../features/instruments/components/ImpactAssessments';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
@@ -29,7 +32,7 @@ export default function CertificatePage() {
   const c = q.data;
   const content = c.content;
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/certificates" className="text-petrol hover:underline">
@@ -73,6 +76,7 @@ export default function CertificatePage() {
         }
       />
       <RecordAlerts type="certificate" id={c.id} label={`Certificate ${c.number}`} />
+      <LotImpactNotices lotId={c.lotId} certificateId={c.id} />
       {c.supersedes && (
         <p className="mb-3 text-sm">
           Supersedes{' '}
@@ -106,15 +110,21 @@ export default function CertificatePage() {
       {content && (
         <>
           <h2 className="mb-2 text-lg">Result per container</h2>
-          <div className="mb-4 overflow-x-auto rounded-md border border-line bg-white">
+          <ScrollRegion label="Result per container" className="mb-4">
             <table className="w-full text-sm" aria-label="Result per container">
               <thead className="bg-paper text-left">
                 <tr className="border-b border-line">
-                  <th className="px-3 py-2">Container</th>
+                  <th className="px-3 py-2" data-key-column="container">
+                    Container
+                  </th>
                   <th className="px-3 py-2 text-right">Measurement</th>
-                  <th className="px-3 py-2 text-right">Match score</th>
+                  <th className="px-3 py-2 text-right" data-key-column="score">
+                    Match score
+                  </th>
                   <th className="px-3 py-2">Band concordance</th>
-                  <th className="px-3 py-2">Verdict</th>
+                  <th className="px-3 py-2" data-key-column="verdict">
+                    Verdict
+                  </th>
                   <th className="px-3 py-2">Raw file SHA-256</th>
                 </tr>
               </thead>
@@ -131,13 +141,13 @@ export default function CertificatePage() {
                       <Verdict verdict={r.verdict === 'pass' ? 'pass' : 'fail'} size="sm" />
                     </td>
                     <td className="px-3 py-1.5">
-                      <code className="text-xs">{r.rawFileSha256}</code>
+                      <Hash value={r.rawFileSha256} what="raw file SHA-256" />
                     </td>
                   </tr>
                 ))}
               </tbody>
             </table>
-          </div>
+          </ScrollRegion>
           <h2 className="mb-2 text-lg">Electronic signatures</h2>
           <ul className="mb-4 flex flex-col gap-1 text-sm">
             {content.signatures.map((s, i) => (

@@ -11,11 +11,19 @@ import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
 import { formatWavenumber } from '../lib/format';
-import { useInstrument, type InstrumentCheck } from '../features/instruments/api';
+import {
+  CHECK_TYPE_LABELS,
+  isPolystyreneResult,
+  useInstrument,
+  type InstrumentCheck,
+} from '../features/instruments/api';
+import { ApproveLimitsDialog } from '../features/instruments/components/ApproveLimitsDialog';
 import { ApproveSpecDialog } from '../features/instruments/components/ApproveSpecDialog';
 import { CheckHistory } from '../features/instruments/components/CheckHistory';
 import { CheckStatus } from '../features/instruments/components/CheckStatus';
 import { RecordCheckDialog } from '../features/instruments/components/RecordCheckDialog';
+import { ImpactAssessments } from '../features/instruments/components/ImpactAssessments';
+import { LifecycleRecords, ServiceBanner } from '../features/instruments/components/LifecyclePanel';
 import { specKindText } from '../features/instruments/components/spec-kind';
 import { SAMPLING_LABELS } from '../../server/modules/instruments/contract';
 
@@ -25,17 +33,20 @@ export default function InstrumentPage() {
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
   const canCheck = useHasRole('operator');
+  const canBench = useHasRole('operator', 'verifier', 'qa_manager');
   const q = useInstrument(id);
   const [checking, setChecking] = useState(false);
   const [specing, setSpecing] = useState(false);
+  const [limiting, setLimiting] = useState(false);
   const [last, setLast] = useState<InstrumentCheck | null>(null);
 
   if (q.isPending) return <PageLoading />;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const i = q.data;
   const current = i.specs.find((s) => s.status === 'approved');
+  const checkTypes = [...new Set(i.specs.filter((s) => s.status === 'approved').map((s) => s.checkType))];
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/instruments" className="text-petrol underline underline-offset-2">
@@ -53,6 +64,7 @@ export default function InstrumentPage() {
               showTrailLink={canSeeTrail}
             />
             {isQa && <Button onClick={() => setSpecing(true)}>New check specification</Button>}
+            {isQa && <Button onClick={() => setLimiting(true)}>New check limits</Button>}
             {canCheck && (
               <Button variant="primary" size="bench" onClick={() => setChecking(true)} disabled={!i.active || !current}>
                 Record instrument check
@@ -62,6 +74,7 @@ export default function InstrumentPage() {
         }
       />
       <RecordAlerts type="instrument" id={i.id} label={`Instrument ${i.name}`} />
+      <ServiceBanner instrument={i} canBench={canBench} isQa={isQa} me={user} />
       <div className="mb-6 flex flex-wrap items-center gap-3">
         <CheckStatus instrument={i} size="lg" />
         {!current && (
@@ -82,10 +95,11 @@ export default function InstrumentPage() {
               valid until <DateTime value={last.validUntil} />
             </>
           ) : (
-            `${last.result.bands.filter((b) => !b.ok).length} of ${last.result.bands.length} bands outside their tolerance; the instrument may not be used for testing.`
+            `${isPolystyreneResult(last.result) ? `${last.result.bands.filter((b) => !b.ok).length} of ${last.result.bands.length} bands outside their tolerance; ` : ''}the instrument may not be used for testing, and an impact assessment of the measurements since the last passing check is open.`
           )}
         </p>
       )}
+      <ImpactAssessments instrumentId={i.id} isQa={isQa} me={user} />
       <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
         <section aria-labelledby="hist-h" className="min-w-0">
           <h2 id="hist-h" className="mb-2 text-lg">
@@ -104,11 +118,16 @@ export default function InstrumentPage() {
                 className={`rounded-md border bg-white p-3 text-sm ${s.status === 'approved' ? 'border-petrol/50' : 'border-line text-muted'}`}
               >
                 <p className="font-medium">
-                  Version {s.version}: {specKindText(s.kind)} · {s.status === 'approved' ? 'in force' : s.status}
+                  Version {s.version}: {CHECK_TYPE_LABELS[s.checkType]}, {specKindText(s.kind)} ·{' '}
+                  {s.status === 'approved' ? 'in force' : s.status}
                 </p>
-                <p className="mt-1 tabular-nums">
-                  {s.bands.map((b) => `${formatWavenumber(b.nominal, 2)} ±${b.tolerance}`).join(', ')}
-                </p>
+                {s.checkType === 'polystyrene' ? (
+                  <p className="mt-1 tabular-nums">
+                    {s.bands.map((b) => `${formatWavenumber(b.nominal, 2)} ±${b.tolerance}`).join(', ')}
+                  </p>
+                ) : (
+                  <p className="mt-1 font-mono text-xs break-all">{JSON.stringify(s.limits)}</p>
+                )}
                 {s.justification && <p className="mt-1">“{s.justification}”</p>}
                 <p className="mt-1 text-xs text-muted">
                   {s.signature ? (
@@ -128,11 +147,13 @@ export default function InstrumentPage() {
           </ol>
         </section>
       </div>
+      <LifecycleRecords instrument={i} canBench={canBench} isQa={isQa} me={user} />
       {canCheck && (
         <RecordCheckDialog
           open={checking}
           instrumentId={i.id}
           instrumentName={i.name}
+          checkTypes={checkTypes}
           printedName={user.fullName}
           needsUsername={!user.signedOnce}
           onClose={() => setChecking(false)}
@@ -140,6 +161,15 @@ export default function InstrumentPage() {
             setLast(c);
             setChecking(false);
           }}
+        />
+      )}
+      {isQa && (
+        <ApproveLimitsDialog
+          open={limiting}
+          instrument={i}
+          printedName={user.fullName}
+          needsUsername={!user.signedOnce}
+          onClose={() => setLimiting(false)}
         />
       )}
       {isQa && (

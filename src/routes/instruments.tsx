@@ -18,7 +18,7 @@ export default function InstrumentsPage() {
     <div className="max-w-7xl">
       <PageHeader
         title="Instruments"
-        subtitle="An instrument is used for identity testing only with a passing, unexpired polystyrene instrument check."
+        subtitle="An instrument is used for identity testing only while in service and with every required instrument check passed and unexpired."
         actions={create.button}
       />
       {create.panel((close) => (

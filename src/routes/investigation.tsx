@@ -13,6 +13,7 @@ import { useInvestigation } from '../features/investigations/api';
 import { DecisionForms } from '../features/investigations/components/DecisionForms';
 import { InvestigationStatus } from '../features/investigations/components/InvestigationStatus';
 import { Phase1Form } from '../features/investigations/components/Phase1Form';
+import { MeasurementOverlay } from '../features/testing/components/MeasurementResult';
 
 const MEANINGS: Record<string, string> = {
   'phase-1-recorded': 'Phase I laboratory check recorded',
@@ -30,7 +31,7 @@ export default function InvestigationPage() {
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const inv = q.data;
   return (
-    <div className="max-w-6xl">
+    <div className="max-w-7xl">
       <PageHeader
         eyebrow={
           <Link to="/investigations" className="text-petrol underline underline-offset-2">
@@ -94,6 +95,11 @@ export default function InvestigationPage() {
                   ))}
                 </ul>
               )}
+              {/* The failing spectrum over its closest reference: what QA judges the cause by. */}
+              <div className="mt-3">
+                <h3 className="mb-1 text-sm font-medium">Failing spectrum, closest reference and difference</h3>
+                <MeasurementOverlay measurementId={f.measurementId} label={f.label} />
+              </div>
             </li>
           ))}
         </ul>

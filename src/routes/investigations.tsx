@@ -19,8 +19,13 @@ const columns: ColumnDef<Investigation, unknown>[] = [
   },
   { header: 'Lot', accessorKey: 'lotNumber' },
   { header: 'Material', accessorKey: 'materialName' },
-  { header: 'Failing containers', accessorFn: (i) => i.failing.map((f) => f.label).join(', ') },
-  { header: 'Status', accessorKey: 'status', cell: (c) => <InvestigationStatus inv={c.row.original} /> },
+  { header: 'Failing containers', meta: { key: true }, accessorFn: (i) => i.failing.map((f) => f.label).join(', ') },
+  {
+    header: 'Status',
+    meta: { key: true },
+    accessorKey: 'status',
+    cell: (c) => <InvestigationStatus inv={c.row.original} />,
+  },
   {
     header: 'Opened',
     accessorKey: 'openedAt',

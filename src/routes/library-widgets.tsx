@@ -1,7 +1,7 @@
 /** Work-queue widgets of the reference library and the instrument registry (composed here: features do not import each other). */
 import { useSession } from '../app/session';
 import { AwaitingApprovalList } from '../features/library/components/AwaitingApprovalWidget';
-import { CheckDueList } from '../features/instruments/components/CheckDueWidget';
+import { CheckDueList, OpenImpactAssessmentsList } from '../features/instruments/components/CheckDueWidget';
 
 export function ReferencesAwaitingApprovalWidget() {
   const { user } = useSession();
@@ -10,4 +10,8 @@ export function ReferencesAwaitingApprovalWidget() {
 
 export function InstrumentsCheckDueWidget() {
   return <CheckDueList />;
+}
+
+export function OpenImpactAssessmentsWidget() {
+  return <OpenImpactAssessmentsList />;
 }

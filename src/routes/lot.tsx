@@ -11,6 +11,7 @@ import { ErrorNote } from '../components/ErrorNote';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { Verdict } from '../components/Verdict';
+import { LotImpactNotices } from '../features/instruments/components/ImpactAssessments';
 import { labelsPdfUrl, useLot, useStartTest, type LotDetail } from '../features/testing/api';
 import { IdentityStatusBadge, LotStatusText } from '../features/testing/components/IdentityStatus';
 import { InstrumentPicker } from '../features/testing/components/InstrumentPicker';
@@ -120,6 +121,7 @@ export default function LotPage() {
           </>
         }
       />
+      <LotImpactNotices lotId={lot.id} />
       <div className="mb-5 flex flex-col gap-2">
         {lot.notes && <p className="text-sm">Notes: {lot.notes}</p>}
         <p className="text-sm text-muted">

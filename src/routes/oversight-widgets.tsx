@@ -139,7 +139,7 @@ export function AccountsToAttendWidget() {
     <ul className={LIST}>
       {items.map(({ user, why }) => (
         <li key={user.id} className={ITEM}>
-          <Link to="/admin/users" className={LINK}>
+          <Link to={`/admin/users?account=${user.id}`} className={LINK}>
             {user.fullName}
           </Link>
           <span>

@@ -22,12 +22,16 @@ function RateSection({ id, title, rows, what }: { id: string; title: string; row
       ) : (
         <>
           <BarPlot labels={labels} values={values} yLabel="%" digits={1} label={title} />
-          <table className="text-sm">
+          <table className="text-sm" aria-label={title}>
             <tbody>
               {rows.map((r) => (
                 <tr key={r.key} className="border-t border-line">
-                  <td className="py-1 pr-4">{r.label}</td>
-                  <td className="py-1 pr-4 tabular-nums">{pct(r.rate)}</td>
+                  <td className="py-1 pr-4" data-key-column="label">
+                    {r.label}
+                  </td>
+                  <td className="py-1 pr-4 tabular-nums" data-key-column="rate">
+                    {pct(r.rate)}
+                  </td>
                   <td className="py-1 tabular-nums text-muted">
                     {r.count} of {r.total} {what}
                   </td>

@@ -20,6 +20,7 @@ const columns: ColumnDef<QueueTest, unknown>[] = [
   { header: 'Containers', accessorKey: 'containers', meta: { align: 'right' } },
   {
     header: 'Results',
+    meta: { key: true },
     accessorKey: 'failing',
     cell: (c) =>
       (c.getValue() as number) > 0 ? (
@@ -31,6 +32,7 @@ const columns: ColumnDef<QueueTest, unknown>[] = [
   { header: 'Performed by', accessorKey: 'performedBy' },
   {
     header: 'Signed',
+    meta: { key: true },
     accessorKey: 'signedPerformedAt',
     cell: (c) => <DateTime value={c.getValue() as string} />,
     enableColumnFilter: false,

@@ -393,8 +393,70 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     certificate_issue_failure: { column: 'problem', value: 'rewritten' },
     audit_chain_key: { column: 'first_event_id', value: 999_999 },
     audit_checkpoint: { column: 'head_hash', value: '0'.repeat(64) },
+    instrument_qualification: { column: 'status', value: 'passed' },
+    instrument_maintenance: { column: 'description', value: 'rewritten' },
+    instrument_service_event: { column: 'reason', value: 'rewritten' },
+    check_impact_measurement: { column: 'measurement_id', value: 1 },
+    check_impact_notice: { column: 'notice', value: 'rewritten' },
   };
   beforeAll(async () => {
+    // lifecycle and look-back rows, written as the application would, around the passed lot's measurement
+    const m = await db()('measurement').where({ test_id: lot.testId }).first();
+    const anySig = await db()('e_signature').orderBy('id').first('id');
+    const at = new Date();
+    await db()('instrument_qualification').insert({
+      instrument_id: m.instrument_id,
+      stage: 'oq',
+      document_ref: 'OQ-PROBE-1',
+      executed_from: '2026-01-05',
+      executed_to: '2026-01-06',
+      status: 'passed',
+      summary: 'probe record',
+      signature_id: anySig.id,
+      recorded_by: lot.operator.id,
+      recorded_at: at,
+    });
+    await db()('instrument_maintenance').insert({
+      instrument_id: m.instrument_id,
+      kind: 'repair',
+      performed_on: '2026-01-07',
+      performed_by_text: 'probe engineer',
+      description: 'probe entry',
+      recorded_by: lot.operator.id,
+      recorded_at: at,
+    });
+    await db()('instrument_service_event').insert({
+      instrument_id: m.instrument_id,
+      state: 'out-of-service',
+      reason: 'probe reason',
+      recorded_by: lot.operator.id,
+      recorded_at: at,
+    });
+    const [aid] = await db()('check_impact_assessment').insert({
+      instrument_check_id: m.instrument_check_id,
+      instrument_id: m.instrument_id,
+      check_type: 'polystyrene',
+      window_from: null,
+      window_to: at,
+      basis: 'acquisition-or-upload',
+      opened_at: at,
+      status: 'open',
+    });
+    await db()('check_impact_measurement').insert({
+      assessment_id: aid,
+      measurement_id: m.id,
+      test_id: m.test_id,
+      lot_id: lot.lotId,
+      container_id: m.container_id,
+      measured_at: m.created_at,
+    });
+    await db()('check_impact_notice').insert({
+      assessment_id: aid,
+      lot_id: lot.lotId,
+      certificate_id: certificateId,
+      notice: 'probe notice',
+      created_at: at,
+    });
     // a password change through the application writes a password_history row to try
     const { agent, user } = await agentFor(['operator']);
     const r = await agent

@@ -181,6 +181,13 @@ describe('demo seed', () => {
     expect(list.filter((i) => i.checkDue).map((i) => i.name)).toEqual(['FTIR 3 - dispensary']);
     const failed = await db('instrument_check').where({ verdict: 'fail' });
     expect(failed).toHaveLength(1);
+    // every instrument qualified (IQ, OQ, PQ, signed by QA); FTIR 3's failed check opened its look-back
+    expect(await db('instrument_qualification').where({ status: 'passed' })).toHaveLength(9);
+    const open = (await agent.get('/api/impact-assessments?status=open').expect(200)).body as {
+      instrumentName: string;
+      instrumentCheckId: number;
+    }[];
+    expect(open.map((a) => [a.instrumentName, a.instrumentCheckId])).toEqual([['FTIR 3 - dispensary', failed[0].id]]);
   });
 
   it('leaves every lot in its scenario state, consistently', async () => {

@@ -27,7 +27,7 @@ import { dbSettings, knexConfig, repoRoot } from '../../db/config';
 import { createSiteAccounts } from '../../db/site-accounts';
 import { sha256Hex } from '../../server/lib/canonical';
 import { contentHash } from '../../server/lib/esign';
-import { specSignedContent } from '../../server/modules/instruments/service';
+import { specSignedContent } from '../../server/modules/instruments';
 import { referenceSignedContent } from '../../server/modules/library/references';
 import { methodSignedContent } from '../../server/modules/library/service';
 import { loadContext, signedContent } from '../../server/modules/testing/context';

@@ -22,7 +22,7 @@ function pemBlocks(text: string): string[] {
 /** The roots a time-stamp must chain to (read at every call: a changed trust file applies at once). */
 export function tsaTrustedPem(cfg: TsaConfig): string[] {
   if (cfg.tsaTrustFile) return pemBlocks(fs.readFileSync(path.resolve(repoRoot, cfg.tsaTrustFile), 'utf8'));
-  if (cfg.tsaUrl) return [];
+  if (cfg.tsaUrl || !cfg.devMode) return [];
   const fakeRoot = path.join(KEYS_DIR, 'fake-tsa', 'root.crt');
   return fs.existsSync(fakeRoot) ? pemBlocks(fs.readFileSync(fakeRoot, 'utf8')) : [];
 }

@@ -1,2 +1,6 @@
-/** What other modules (testing, work queue) may use from the instrument registry. */
-export { getValidInstrumentCheck, type ValidInstrumentCheck } from './service';
+/** What other modules (testing, work queue, integrity, lots) may use from the instrument registry. */
+export { getValidInstrumentCheck, checkSignedContent, unusableReason, type ValidInstrumentCheck } from './checks';
+export { specSignedContent } from './specifications';
+export { backInServiceSignedContent, qualificationSignedContent } from './lifecycle';
+export { assessmentSignedContent, lotNotices } from './lookback';
+export { requiredCheckTypes } from './repo';

@@ -10,18 +10,30 @@ import { sendCheckedFile } from '../integrity/service';
 import { uploadMiddleware } from '../../lib/upload';
 import { defineRoute, idParams } from '../../lib/http';
 import {
+  backInServiceSchema,
+  impactDecisionSchema,
+  impactListQuerySchema,
+  maintenanceSchema,
+  outOfServiceSchema,
+  qualificationSchema,
   checkParamsSchema,
   checkUploadFieldsSchema,
   instrumentCreateSchema,
   instrumentUpdateSchema,
   specApprovalSchema,
 } from './contract';
-import * as service from './service';
+import * as checks from './checks';
+import * as lifecycle from './lifecycle';
+import * as lookback from './lookback';
+import * as registry from './registry';
+import * as specifications from './specifications';
 
 const QA = { roles: ['qa_manager'] as const };
 /** Operators run the instrument check before measuring (docs/access.md); QA approves its specification. */
 const CHECKERS = { roles: ['operator'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
+/** Who works at the bench: records maintenance and takes an instrument out of service (docs/access.md). */
+const BENCH = { roles: ['operator', 'verifier', 'qa_manager'] as const };
 
 export function instrumentRoutes(config: AppConfig): Router {
   const r = Router();
@@ -36,7 +48,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       tag: 'instruments',
       access: READERS,
     },
-    () => service.listInstruments(getDb()),
+    () => registry.listInstruments(getDb()),
   );
   defineRoute(
     r,
@@ -48,7 +60,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       access: READERS,
       params: idParams,
     },
-    ({ params }) => service.getInstrument(getDb(), params.id),
+    ({ params }) => registry.getInstrument(getDb(), params.id),
   );
   defineRoute(
     r,
@@ -61,7 +73,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       body: instrumentCreateSchema,
       status: 201,
     },
-    ({ body, actor, ip }) => service.createInstrument(getDb(), actor, body, ip),
+    ({ body, actor, ip }) => registry.createInstrument(getDb(), actor, body, ip),
   );
   defineRoute(
     r,
@@ -74,7 +86,7 @@ export function instrumentRoutes(config: AppConfig): Router {
       params: idParams,
       body: instrumentUpdateSchema,
     },
-    ({ params, body, actor, ip }) => service.updateInstrument(getDb(), actor, params.id, body, ip),
+    ({ params, body, actor, ip }) => registry.updateInstrument(getDb(), actor, params.id, body, ip),
   );
   defineRoute(
     r,
@@ -89,30 +101,35 @@ export function instrumentRoutes(config: AppConfig): Router {
       body: specApprovalSchema,
       status: 201,
     },
-    ({ params, body, user, ip }) =>
-      service.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip),
+    async ({ params, body, user, ip }) => {
+      await specifications.approveSpec(getDb(), user, params.id, { ...body.spec, signature: body.signature }, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
   );
   defineRoute(
     r,
     {
       method: 'post',
       path: '/api/instruments/:id/checks',
-      summary: 'Record an instrument check from a polystyrene film spectrum (signed by the performer)',
+      summary:
+        'Record an instrument check (polystyrene, ATR blank, noise, NIR wavelength or photometric noise; signed by the performer)',
       description:
-        'Multipart: file = the spectrum; password (and username at the first signing of a session) = the e-signature. 422 with the reason when the file cannot be read; nothing is stored then.',
+        'Multipart: file = the spectrum; checkType (default polystyrene); password (and username at the first signing of a session) = the e-signature. 422 with the reason when the file cannot be read; nothing is stored then. A failing check opens the look-back (an impact assessment).',
       tag: 'instruments',
       access: CHECKERS,
       params: idParams,
       upload,
       uploadFields: {
-        file: 'polystyrene film spectrum (JCAMP-DX or delimited text)',
+        file: 'check spectrum (JCAMP-DX or delimited text)',
+        checkType: 'polystyrene | atr-blank | noise | nir-wavelength | nir-photometric-noise',
         password: 'your password (e-signature)',
         username: 'your user name (first signing of a session)',
       },
       body: checkUploadFieldsSchema,
       status: 201,
     },
-    ({ req, params, body, user, ip }) => service.recordCheck(getDb(), user, params.id, req.file, body, ip),
+    ({ req, params, body, user, ip }) =>
+      checks.recordCheck(getDb(), user, params.id, body.checkType, req.file, body, ip),
   );
   defineRoute(
     r,
@@ -126,9 +143,125 @@ export function instrumentRoutes(config: AppConfig): Router {
       produces: 'application/octet-stream',
     },
     async ({ params, res, user, ip }) => {
-      const f = await service.checkFile(getDb(), params.id, params.checkId);
+      const f = await checks.checkFile(getDb(), params.id, params.checkId);
       await sendCheckedFile(getDb(), res, f, { foundIn: 'download', user, ip });
     },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/qualifications',
+      summary:
+        'Record a qualification (IQ, OQ, PQ, requalification) with its documents, dates and status, signed by QA',
+      tag: 'instruments',
+      access: QA,
+      params: idParams,
+      body: qualificationSchema,
+      status: 201,
+    },
+    async ({ params, body, user, ip }) => {
+      await lifecycle.recordQualification(getDb(), user, params.id, body, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/maintenance',
+      summary: 'Add an entry to the maintenance log (append-only, audited)',
+      tag: 'instruments',
+      access: BENCH,
+      params: idParams,
+      body: maintenanceSchema,
+      status: 201,
+    },
+    async ({ params, body, actor, ip }) => {
+      await lifecycle.recordMaintenance(getDb(), actor, params.id, body, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/out-of-service',
+      summary: 'Take an instrument out of service with a reason (no test starts or measures on it)',
+      tag: 'instruments',
+      access: BENCH,
+      params: idParams,
+      body: outOfServiceSchema,
+    },
+    async ({ params, body, actor, ip }) => {
+      await lifecycle.takeOutOfService(getDb(), actor, params.id, body.reason, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/instruments/:id/back-in-service',
+      summary: 'Put an instrument back into service (QA, reason and e-signature; every required check must pass again)',
+      tag: 'instruments',
+      access: QA,
+      params: idParams,
+      body: backInServiceSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await lifecycle.putBackInService(getDb(), user, params.id, body, ip);
+      return registry.getInstrument(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/impact-assessments',
+      summary: 'Impact assessments opened by failed instrument checks (look-back)',
+      tag: 'instruments',
+      access: READERS,
+      query: impactListQuerySchema,
+    },
+    ({ query }) => lookback.listAssessments(getDb(), query.status),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/impact-assessments/:id',
+      summary: 'One impact assessment: the measurements since the last passing check, the notices, the decision',
+      tag: 'instruments',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => lookback.getAssessment(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/impact-assessments/:id/decision',
+      summary: 'Close an impact assessment: no impact, or retest of named containers (QA e-signature)',
+      tag: 'instruments',
+      access: QA,
+      params: idParams,
+      body: impactDecisionSchema,
+    },
+    ({ params, body, user, ip }) => lookback.decideAssessment(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/lots/:id/impact-notices',
+      summary: 'Notices of failed instrument checks on a lot and its certificates (the certificates stay unchanged)',
+      tag: 'instruments',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => lookback.lotNotices(getDb(), params.id),
   );
   return r;
 }

@@ -10,7 +10,13 @@ import { parseJson } from '../../lib/db';
 import { reviewSignedContent } from '../audit-review/service';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
-import { specSignedContent } from '../instruments/service';
+import {
+  assessmentSignedContent,
+  backInServiceSignedContent,
+  checkSignedContent,
+  qualificationSignedContent,
+  specSignedContent,
+} from '../instruments';
 import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
@@ -147,22 +153,60 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!sp) return undefined;
-    return specSignedContent(sp.id, sp.instrument_id, sp.version, sp.kind, instrumentsRepo.toSpec(sp).bands);
+    const spec = instrumentsRepo.toSpec(sp);
+    return specSignedContent(sp.id, sp.instrument_id, sp.version, sp.kind, spec.bands, spec.checkType, spec.limits);
   },
   'instrument_check/instrument-check': async (db, s) => {
     const c = await db('instrument_check')
       .where({ id: Number(s.entity_id) })
       .first();
     if (!c) return undefined;
-    const result = parseJson<{ bands?: unknown } | null>(c.result, null);
-    return {
-      checkId: c.id,
+    const check = instrumentsRepo.toCheck(c);
+    return checkSignedContent({
+      id: c.id,
       instrumentId: c.instrument_id,
       specId: c.spec_id,
+      checkType: check.checkType,
       fileSha256: await fileSha(db, c.file_id),
-      verdict: c.verdict,
-      bands: result?.bands,
-    };
+      result: check.result,
+    });
+  },
+  'instrument/qualification-approved': async (db, s) => {
+    const q = await db('instrument_qualification').where({ signature_id: s.id }).first();
+    if (!q) return undefined;
+    const day = (d: Date | null) => (d ? new Date(d).toISOString().slice(0, 10) : null);
+    return qualificationSignedContent(q.instrument_id, {
+      stage: q.stage,
+      documentRef: q.document_ref,
+      executedFrom: day(q.executed_from)!,
+      executedTo: day(q.executed_to)!,
+      status: q.status,
+      nextDue: day(q.next_due),
+      summary: q.summary,
+    });
+  },
+  'instrument/back-in-service': async (db, s) => {
+    const e = await db('instrument_service_event').where({ signature_id: s.id }).first();
+    return e ? backInServiceSignedContent(e.instrument_id, e.reason) : undefined;
+  },
+  'check_impact_assessment/impact-assessed': async (db, s) => {
+    const a = await db('check_impact_assessment')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!a || !a.decision) return undefined;
+    const ms: { measurement_id: number }[] = await db('check_impact_measurement')
+      .where({ assessment_id: a.id })
+      .orderBy('measured_at')
+      .orderBy('measurement_id')
+      .select('measurement_id');
+    return assessmentSignedContent({
+      id: a.id,
+      instrumentCheckId: a.instrument_check_id,
+      measurementIds: ms.map((m) => m.measurement_id),
+      decision: a.decision,
+      retestContainerIds: parseJson<number[]>(a.retest_containers, []),
+      rationale: a.rationale,
+    });
   },
   'identity_test/performed': testRecipe,
   'identity_test/verified': testRecipe,

@@ -1,7 +1,9 @@
 /**
  * Whether an instrument may be used for an identity test right now (DESIGN.md flow 1):
- * active, and its LATEST instrument check passed and has not expired. A later failing check
- * overrides an earlier passing one. The instrument's technique and sampling must also fit the
+ * in use and in service, and for EVERY required check type (the wavenumber check of a mid-IR
+ * instrument, and each type whose limits QA approved: ATR blank, noise, NIR wavelength accuracy,
+ * NIR photometric noise) the LATEST check passed, has not expired and was made after the
+ * instrument last came back into service. A later failing check overrides an earlier passing one. The instrument's technique and sampling must also fit the
  * identity method (an ATR method needs a mid-IR ATR instrument).
  * The decision is the instruments module's getValidInstrumentCheck; this file adds the
  * operator's sentence for why an instrument may not be used.
@@ -9,7 +11,7 @@
 import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import { getValidInstrumentCheck } from '../instruments';
+import { getValidInstrumentCheck, requiredCheckTypes, unusableReason } from '../instruments';
 import type { CitedInstrumentCheck, InstrumentStatus } from './contract';
 
 /** An instrument check with its stored result, as the testing module reads it. */
@@ -35,8 +37,10 @@ export async function instrumentStatus(
 ): Promise<InstrumentStatus | null> {
   const i = await db('instrument').where({ id: instrumentId }).first();
   if (!i) return null;
+  // The check a measurement cites: the latest of the first required type (the wavenumber check).
+  const primaryType = (await requiredCheckTypes(db, i))[0] ?? 'polystyrene';
   const latest = await db('instrument_check')
-    .where({ instrument_id: instrumentId })
+    .where({ instrument_id: instrumentId, check_type: primaryType })
     .andWhere('performed_at', '<=', at)
     .orderBy('performed_at', 'desc')
     .orderBy('id', 'desc')
@@ -48,21 +52,18 @@ export async function instrumentStatus(
     technique: i.technique as string,
     sampling: i.sampling as string,
     location: i.location as string,
-    active: !!i.active,
+    active: !!i.active && i.service_state !== 'out-of-service',
   };
-  const check = latest ? toCheckInfo(latest) : null;
   const valid = await getValidInstrumentCheck(instrumentId, at, db as Knex);
-  let reason: string | null = null;
-  if (!instrument.active) reason = `Instrument ${instrument.name} is out of service. Choose another instrument.`;
-  else if (!check)
-    reason = `Instrument ${instrument.name} has no instrument check on record. Run the polystyrene wavenumber check first.`;
-  else if (check.verdict !== 'pass')
-    reason = `The last instrument check of ${instrument.name} failed. The instrument may not be used until a new check passes.`;
-  else if (!check.validUntil || new Date(check.validUntil).getTime() <= at.getTime())
-    reason = `The instrument check of ${instrument.name} is due (it expired ${check.validUntil ?? 'at once'}). Run the polystyrene wavenumber check before testing.`;
-  if (!reason && !valid)
-    reason = `Instrument ${instrument.name} has no valid instrument check. Run the polystyrene wavenumber check before testing.`;
-  if (valid && reason) reason = null;
+  const reason = valid
+    ? null
+    : ((await unusableReason(db, i, at)) ?? `Instrument ${instrument.name} has no valid instrument check.`);
+  // The cited check is the one getValidInstrumentCheck names when the instrument is usable.
+  const check = valid
+    ? toCheckInfo(await db('instrument_check').where({ id: valid.id }).first())
+    : latest
+      ? toCheckInfo(latest)
+      : null;
   return { instrument, check, usable: reason === null, reason };
 }
 

@@ -28,6 +28,7 @@ const VERIFIER = { roles: ['verifier'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
 const HOLDER_OR_QA = { roles: ['operator', 'qa_manager'] as const };
 const QA = { roles: ['qa_manager'] as const };
+const QA_AND_AUDITOR = { roles: ['qa_manager', 'auditor'] as const };
 
 export function testingRoutes(config: AppConfig): Router {
   const r = Router();
@@ -199,7 +200,7 @@ export function testingRoutes(config: AppConfig): Router {
       path: '/api/containers/blocked',
       summary: 'Containers blocked after too many invalid measurements, awaiting QA',
       tag: 'testing',
-      access: QA,
+      access: QA_AND_AUDITOR,
     },
     () => provenance.blockedContainers(getDb()),
   );

@@ -46,34 +46,39 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
         <div className="flex flex-col gap-2">
           <p className="text-sm">{lists.data.totalEvents} GMP-relevant event(s) in the period. Exception lists:</p>
           {lists.data.lists.map((l) => (
-            <details key={l.key} className="rounded border border-line px-3 py-1 text-sm">
-              <summary className="flex min-h-11 cursor-pointer items-center gap-2">
-                <input
-                  type="checkbox"
-                  aria-label={`Reviewed: ${l.label}`}
-                  checked={scope.includes(l.key)}
-                  onChange={(e) => setScope((s) => (e.target.checked ? [...s, l.key] : s.filter((k) => k !== l.key)))}
-                />
-                <span className="font-medium">{l.label}</span>
-                <span className="tabular-nums text-muted">({l.count})</span>
-              </summary>
-              {l.events.length === 0 ? (
-                <p className="py-1 text-muted">None in this period.</p>
-              ) : (
-                <ul className="py-1">
-                  {l.events.map((e) => (
-                    <li key={e.id} className="flex flex-wrap gap-x-3">
-                      <span className="tabular-nums">#{e.id}</span>
-                      <DateTime value={e.occurredAt} />
-                      <span>{e.actorName}</span>
-                      <span>{e.action}</span>
-                      <span>{e.entity}</span>
-                      {e.reason && <span className="text-muted">{e.reason}</span>}
-                    </li>
-                  ))}
-                </ul>
-              )}
-            </details>
+            // The checkbox sits beside the summary, not in it: a control inside a summary is a
+            // nested interactive element (WCAG 4.1.2, docs/accessibility.md).
+            <div key={l.key} className="flex items-start gap-2 rounded border border-line px-3 py-1 text-sm">
+              <input
+                type="checkbox"
+                className="mt-3.5"
+                aria-label={`Reviewed: ${l.label}`}
+                checked={scope.includes(l.key)}
+                onChange={(e) => setScope((s) => (e.target.checked ? [...s, l.key] : s.filter((k) => k !== l.key)))}
+              />
+              <details className="min-w-0 flex-1">
+                <summary className="flex min-h-11 cursor-pointer items-center gap-2">
+                  <span className="font-medium">{l.label}</span>
+                  <span className="tabular-nums text-muted">({l.count})</span>
+                </summary>
+                {l.events.length === 0 ? (
+                  <p className="py-1 text-muted">None in this period.</p>
+                ) : (
+                  <ul className="py-1">
+                    {l.events.map((e) => (
+                      <li key={e.id} className="flex flex-wrap gap-x-3">
+                        <span className="tabular-nums">#{e.id}</span>
+                        <DateTime value={e.occurredAt} />
+                        <span>{e.actorName}</span>
+                        <span>{e.action}</span>
+                        <span>{e.entity}</span>
+                        {e.reason && <span className="text-muted">{e.reason}</span>}
+                      </li>
+                    ))}
+                  </ul>
+                )}
+              </details>
+            </div>
           ))}
         </div>
       )}

@@ -2,6 +2,7 @@
  * One page of events, newest or oldest first (the server sorts; click "Time" to turn the order).
  * Rows open the event's detail (click, Enter or Space; arrow keys move between rows).
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import type { KeyboardEvent } from 'react';
 import { DateTime } from '../../../components/DateTime';
 import type { AuditEventSummary } from '../api';
@@ -31,14 +32,15 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
     }
   };
   return (
-    <div className="overflow-x-auto rounded-md border border-line bg-white">
+    <ScrollRegion label="Audit events">
       <table className="w-full border-collapse text-sm" aria-label="Audit events">
         <thead className="bg-paper">
           <tr className="border-b border-line text-left">
-            <th scope="col" className="px-3 py-2 text-right font-semibold">
+            <th data-key-column="event" scope="col" className="px-3 py-2 text-right font-semibold">
               Event
             </th>
             <th
+              data-key-column="time"
               scope="col"
               aria-sort={sort === 'asc' ? 'ascending' : 'descending'}
               className="px-3 py-2 font-semibold whitespace-nowrap"
@@ -56,16 +58,16 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
                 <span className="sr-only">{sort === 'asc' ? ', oldest first' : ', newest first'}</span>
               </button>
             </th>
-            <th scope="col" className="px-3 py-2 font-semibold">
+            <th data-key-column="user" scope="col" className="px-3 py-2 font-semibold">
               User
             </th>
-            <th scope="col" className="px-3 py-2 font-semibold">
+            <th data-key-column="action" scope="col" className="px-3 py-2 font-semibold">
               Action
             </th>
-            <th scope="col" className="px-3 py-2 font-semibold">
+            <th data-key-column="record" scope="col" className="px-3 py-2 font-semibold">
               Record
             </th>
-            <th scope="col" className="px-3 py-2 font-semibold">
+            <th data-key-column="reason" scope="col" className="px-3 py-2 font-semibold">
               Reason
             </th>
           </tr>
@@ -98,6 +100,6 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollRegion>
   );
 }

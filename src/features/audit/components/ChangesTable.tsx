@@ -2,6 +2,7 @@
  * Before and after values of one event side by side, field by field. What changed is marked with
  * a word and a sign, not colour alone; unchanged fields are folded away unless asked for.
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { useState } from 'react';
 import type { FieldChange } from '../api';
 import { valueText } from './labels';
@@ -48,17 +49,17 @@ export function ChangesTable({
           </label>
         )}
       </div>
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label="Values before and after">
         <table className="w-full border-collapse text-sm" aria-label="Values before and after">
           <thead className="bg-paper">
             <tr className="border-b border-line text-left">
-              <th scope="col" className="px-3 py-2 font-semibold">
+              <th data-key-column="field" scope="col" className="px-3 py-2 font-semibold">
                 Field
               </th>
-              <th scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              <th data-key-column="before" scope="col" className="w-[38%] px-3 py-2 font-semibold">
                 Before
               </th>
-              <th scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              <th data-key-column="after" scope="col" className="w-[38%] px-3 py-2 font-semibold">
                 After
               </th>
             </tr>
@@ -93,7 +94,7 @@ export function ChangesTable({
             )}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
     </div>
   );
 }

@@ -35,7 +35,7 @@ export function CertificateSearchForm({
         <Input id="cert-material" value={f.material ?? ''} onChange={set('material')} placeholder="name or code" />
       </Field>
       <Field id="cert-number" label="Certificate number" className="w-44">
-        <Input id="cert-number" value={f.number ?? ''} onChange={set('number')} placeholder="IC-…" />
+        <Input id="cert-number" value={f.number ?? ''} onChange={set('number')} placeholder="IC-2026-00042" />
       </Field>
       <Field id="cert-from" label="Issued from" className="w-40">
         <Input id="cert-from" type="date" value={f.from ?? ''} onChange={set('from')} />

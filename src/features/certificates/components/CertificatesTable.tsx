@@ -21,10 +21,11 @@ const columns = [
   }),
   col.accessor('lotNumber', { header: 'Lot' }),
   col.accessor((c) => `${c.materialName} (${c.materialCode})`, { id: 'material', header: 'Material' }),
-  col.accessor('issuedAt', { header: 'Issued', cell: (c) => <DateTime value={c.getValue()} /> }),
+  col.accessor('issuedAt', { header: 'Issued', meta: { key: true }, cell: (c) => <DateTime value={c.getValue()} /> }),
   col.accessor((c) => (c.current ? 'current' : 'superseded'), {
     id: 'state',
     header: 'State',
+    meta: { key: true },
     cell: (c) => <CertificateState certificate={c.row.original} />,
   }),
   col.display({

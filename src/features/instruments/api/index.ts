@@ -4,16 +4,26 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
+  CheckType,
+  ImpactAssessment,
+  ImpactDecisionInput,
+  ImpactNotice,
+  MaintenanceInput,
+  QualificationInput,
   InstrumentCheckView,
   InstrumentCreateInput,
   InstrumentDetail,
   InstrumentListItem,
-  SpecCreate,
+  SpecCreateInput,
 } from '../../../../server/modules/instruments/contract';
 
 export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
 export type {
   CheckBand,
+  AnyCheckResult,
+  CheckType,
+  ImpactAssessment,
+  ImpactNotice,
   CheckResult,
   CheckSpecView as CheckSpec,
   InstrumentCheckView as InstrumentCheck,
@@ -22,6 +32,14 @@ export type {
   InstrumentListItem,
   PolystyreneBandResult,
   SpecKind,
+} from '../../../../server/modules/instruments/contract';
+export {
+  CHECK_TYPE_LABELS,
+  MAINTENANCE_KINDS,
+  QUALIFICATION_STAGE_LABELS,
+  QUALIFICATION_STAGES,
+  QUALIFICATION_STATUSES,
+  isPolystyreneResult,
 } from '../../../../server/modules/instruments/contract';
 
 export function useInstruments() {
@@ -47,7 +65,7 @@ export function useCreateInstrument() {
 export function useApproveSpec() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, ...body }: { id: number; spec: SpecCreate; signature: SignatureInput }) =>
+    mutationFn: ({ id, ...body }: { id: number; spec: SpecCreateInput; signature: SignatureInput }) =>
       apiFetch<InstrumentDetail>(`/api/instruments/${id}/specs`, { method: 'POST', body }),
     onSuccess: async () => {
       await qc.invalidateQueries({ queryKey: qk.instruments.all });
@@ -62,17 +80,20 @@ export function useRecordCheck() {
   return useMutation({
     mutationFn: ({
       id,
+      checkType,
       file,
       signature,
       onProgress,
     }: {
       id: number;
+      checkType: CheckType;
       file: File;
       signature: SignatureInput;
       onProgress: (p: UploadProgress) => void;
     }) => {
       const fd = new FormData();
       fd.append('file', file, file.name);
+      fd.append('checkType', checkType);
       fd.append('password', signature.password);
       if (signature.username) fd.append('username', signature.username);
       return apiUpload<InstrumentCheckView>(`/api/instruments/${id}/checks`, fd, onProgress);
@@ -86,3 +107,55 @@ export function useRecordCheck() {
 
 export const checkFileUrl = (instrumentId: number, checkId: number) =>
   downloadUrl(`/api/instruments/${instrumentId}/checks/${checkId}/file`);
+
+/** A change to one instrument that answers with the instrument: refreshes the registry and the work queue. */
+function useInstrumentChange<V extends { id: number }>(path: string, body: (v: V) => unknown) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: V) =>
+      apiFetch<InstrumentDetail>(`/api/instruments/${v.id}/${path}`, { method: 'POST', body: body(v) }),
+    onSuccess: async () => {
+      await qc.invalidateQueries({ queryKey: qk.instruments.all });
+      await invalidateMe(qc);
+    },
+  });
+}
+
+export const useOutOfService = () =>
+  useInstrumentChange<{ id: number; reason: string }>('out-of-service', ({ reason }) => ({ reason }));
+export const useBackInService = () =>
+  useInstrumentChange<{ id: number; reason: string; signature: SignatureInput }>(
+    'back-in-service',
+    ({ id: _id, ...b }) => b,
+  );
+export const useRecordMaintenance = () =>
+  useInstrumentChange<MaintenanceInput & { id: number }>('maintenance', ({ id: _id, ...b }) => b);
+export const useRecordQualification = () =>
+  useInstrumentChange<QualificationInput & { id: number }>('qualifications', ({ id: _id, ...b }) => b);
+
+export function useImpactAssessments() {
+  return useQuery({
+    queryKey: qk.instruments.impacts,
+    queryFn: () => apiFetch<ImpactAssessment[]>('/api/impact-assessments'),
+  });
+}
+
+export function useDecideImpact() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, ...body }: ImpactDecisionInput & { id: number }) =>
+      apiFetch<ImpactAssessment>(`/api/impact-assessments/${id}/decision`, { method: 'POST', body }),
+    onSuccess: async () => {
+      await qc.invalidateQueries({ queryKey: qk.instruments.all });
+      await invalidateMe(qc);
+    },
+  });
+}
+
+/** Notices of failed instrument checks on a lot and its certificates. */
+export function useLotNotices(lotId: number) {
+  return useQuery({
+    queryKey: qk.instruments.lotNotices(lotId),
+    queryFn: () => apiFetch<ImpactNotice[]>(`/api/lots/${lotId}/impact-notices`),
+  });
+}

@@ -8,7 +8,7 @@ import { useEffect, useEffectEvent, useState } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Input, Select } from '../../../components/Field';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
-import { useApproveSpec, type CheckBand, type InstrumentDetail, type SpecKind } from '../api';
+import { isPolystyreneResult, useApproveSpec, type CheckBand, type InstrumentDetail, type SpecKind } from '../api';
 
 type Row = { nominal: string; tolerance: string };
 
@@ -26,11 +26,14 @@ export function ApproveSpecDialog({
   onClose: () => void;
 }) {
   const approve = useApproveSpec();
-  const current = instrument.specs.find((s) => s.status === 'approved');
+  const current = instrument.specs.find((s) => s.status === 'approved' && s.checkType === 'polystyrene');
   const [kind, setKind] = useState<SpecKind>('site');
   const [rows, setRows] = useState<Row[]>([]);
   const [problem, setProblem] = useState<string | null>(null);
-  const lastFound = instrument.checks.find((c) => c.result.bands.every((b) => b.found !== null));
+  const lastFound = instrument.checks
+    .map((c) => c.result)
+    .filter(isPolystyreneResult)
+    .find((r) => r.bands.every((b) => b.found !== null));
 
   // Each opening starts from the specification in force (read when opening, not on every refetch).
   const start = useEffectEvent(() => {
@@ -45,7 +48,7 @@ export function ApproveSpecDialog({
   const fromLastCheck = () => {
     if (!lastFound) return;
     setRows(
-      lastFound.result.bands.map((b) => ({
+      lastFound.bands.map((b) => ({
         nominal: (Math.round(b.found! * 100) / 100).toFixed(2),
         tolerance: b.tolerance.toFixed(1),
       })),
@@ -88,7 +91,10 @@ export function ApproveSpecDialog({
             );
         }
         setProblem(null);
-        approve.mutate({ id: instrument.id, spec: { kind, bands, justification }, signature }, { onSuccess: onClose });
+        approve.mutate(
+          { id: instrument.id, spec: { checkType: 'polystyrene', kind, bands, justification }, signature },
+          { onSuccess: onClose },
+        );
       }}
     >
       <Field id="spec-kind" label="Kind">

@@ -1,4 +1,5 @@
 /** Per-band table of a polystyrene instrument check: expected, found, deviation, tolerance, verdict. */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { Verdict } from '../../../components/Verdict';
 import { formatShift, formatWavenumber } from '../../../lib/format';
 import type { CheckResult } from '../api';
@@ -6,23 +7,23 @@ import type { CheckResult } from '../api';
 export function CheckBandTable({ result }: { result: CheckResult }) {
   return (
     <div className="flex flex-col gap-1">
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label="Polystyrene bands">
         <table className="w-full text-sm tabular-nums" aria-label="Polystyrene bands">
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-1.5 text-right">
+              <th data-key-column="expected" scope="col" className="px-3 py-1.5 text-right">
                 Expected
               </th>
               <th scope="col" className="px-3 py-1.5 text-right">
                 Found
               </th>
-              <th scope="col" className="px-3 py-1.5 text-right">
+              <th data-key-column="deviation" scope="col" className="px-3 py-1.5 text-right">
                 Deviation
               </th>
               <th scope="col" className="px-3 py-1.5 text-right">
                 Tolerance
               </th>
-              <th scope="col" className="px-3 py-1.5 text-left">
+              <th data-key-column="band" scope="col" className="px-3 py-1.5 text-left">
                 Band
               </th>
             </tr>
@@ -43,7 +44,7 @@ export function CheckBandTable({ result }: { result: CheckResult }) {
             ))}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       <p className="text-xs text-muted">
         {result.spec}; {result.mode === 'atr' ? 'ATR' : 'transmission'}.{' '}
         {result.resolution.applicable

@@ -3,8 +3,9 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { Verdict } from '../../../components/Verdict';
-import { checkFileUrl, type InstrumentDetail } from '../api';
+import { CHECK_TYPE_LABELS, checkFileUrl, isPolystyreneResult, type InstrumentDetail } from '../api';
 import { CheckBandTable } from './CheckBandTable';
+import { CheckFigures } from './CheckFigures';
 
 export function CheckHistory({ instrument }: { instrument: InstrumentDetail }) {
   const [open, setOpen] = useState<number | null>(instrument.checks[0]?.id ?? null);
@@ -17,6 +18,7 @@ export function CheckHistory({ instrument }: { instrument: InstrumentDetail }) {
           <li key={c.id} className="rounded-md border border-line bg-white p-3" data-testid="check">
             <div className="flex flex-wrap items-center gap-3 text-sm">
               <Verdict verdict={c.verdict} />
+              <span className="font-medium">{CHECK_TYPE_LABELS[c.checkType]}</span>
               <DateTime value={c.performedAt} seconds />
               <span>by {c.performedByName}</span>
               {spec && <span className="text-muted">against specification v{spec.version}</span>}
@@ -45,7 +47,11 @@ export function CheckHistory({ instrument }: { instrument: InstrumentDetail }) {
             )}
             {open === c.id && (
               <div className="mt-2">
-                <CheckBandTable result={c.result} />
+                {isPolystyreneResult(c.result) ? (
+                  <CheckBandTable result={c.result} />
+                ) : (
+                  <CheckFigures result={c.result} />
+                )}
               </div>
             )}
           </li>

@@ -10,7 +10,11 @@ import { specKindText } from './spec-kind';
 
 const col = createColumnHelper<InstrumentListItem>();
 const columns = [
-  col.accessor('name', { header: 'Instrument', cell: (c) => <span className="font-medium">{c.getValue()}</span> }),
+  col.accessor('name', {
+    header: 'Instrument',
+    // Looks like the link it is: the row opens the instrument.
+    cell: (c) => <span className="font-medium text-petrol underline underline-offset-2">{c.getValue()}</span>,
+  }),
   col.accessor('serialNumber', { header: 'Serial number' }),
   col.accessor(
     (i) =>
@@ -21,11 +25,13 @@ const columns = [
   col.accessor((i) => (!i.active ? 'out of use' : i.checkDue ? 'check due' : 'check valid'), {
     id: 'status',
     header: 'Instrument check',
+    meta: { key: true, wrap: true },
     cell: (c) => <CheckStatus instrument={c.row.original} />,
   }),
   col.accessor((i) => i.lastCheck?.performedAt ?? '', {
     id: 'last',
     header: 'Last check',
+    meta: { key: true },
     cell: (c) => {
       const l = c.row.original.lastCheck;
       if (!l) return <span className="text-muted">none yet</span>;
@@ -40,7 +46,7 @@ const columns = [
   }),
   col.accessor(
     (i) => (i.currentSpec ? `v${i.currentSpec.version} ${specKindText(i.currentSpec.kind)}` : 'none approved'),
-    { id: 'spec', header: 'Check specification' },
+    { id: 'spec', header: 'Check specification', meta: { key: true, wrap: true } },
   ),
 ];
 

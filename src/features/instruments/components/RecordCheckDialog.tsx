@@ -1,18 +1,21 @@
 /**
- * Instrument check by the operator: choose the polystyrene film spectrum, sign (meaning
+ * Instrument check by the operator: choose the check type (those with an approved
+ * specification) and its spectrum (polystyrene film, clean-crystal blank, noise spectrum, NIR
+ * wavelength standard or the reference measured against itself), sign (meaning
  * "instrument check"); the file is uploaded with progress and judged against the instrument's
  * approved specification. The outcome is shown at once.
  */
 import { useEffect, useEffectEvent, useState } from 'react';
-import { Field } from '../../../components/Field';
+import { Field, Select } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { Verdict } from '../../../components/Verdict';
-import { useRecordCheck, type InstrumentCheck } from '../api';
+import { CHECK_TYPE_LABELS, useRecordCheck, type CheckType, type InstrumentCheck } from '../api';
 
 export function RecordCheckDialog({
   open,
   instrumentId,
   instrumentName,
+  checkTypes,
   printedName,
   needsUsername,
   onClose,
@@ -21,17 +24,21 @@ export function RecordCheckDialog({
   open: boolean;
   instrumentId: number;
   instrumentName: string;
+  /** the check types with an approved specification on this instrument */
+  checkTypes: CheckType[];
   printedName: string;
   needsUsername: boolean;
   onClose: () => void;
   onRecorded: (c: InstrumentCheck) => void;
 }) {
   const [file, setFile] = useState<File | null>(null);
+  const [checkType, setCheckType] = useState<CheckType>(checkTypes[0] ?? 'polystyrene');
   const [fraction, setFraction] = useState(0);
   const [problem, setProblem] = useState<string | null>(null);
   const record = useRecordCheck();
   const start = useEffectEvent(() => {
     setFile(null);
+    setCheckType(checkTypes[0] ?? 'polystyrene');
     setFraction(0);
     setProblem(null);
     record.reset();
@@ -43,7 +50,7 @@ export function RecordCheckDialog({
     <SignatureDialog
       open={open}
       title={`Instrument check of ${instrumentName}`}
-      meaningText={`measured the polystyrene film on ${instrumentName} and recorded this instrument check`}
+      meaningText={`measured the ${CHECK_TYPE_LABELS[checkType]} check spectrum on ${instrumentName} and recorded this instrument check`}
       printedName={printedName}
       needsUsername={needsUsername}
       confirmLabel="Sign and record check"
@@ -51,17 +58,30 @@ export function RecordCheckDialog({
       error={problem ?? record.error}
       onCancel={onClose}
       onSign={(signature) => {
-        if (!file) return setProblem('Choose the polystyrene film spectrum file first.');
+        if (!file) return setProblem('Choose the check spectrum file first.');
         setProblem(null);
         record.mutate(
-          { id: instrumentId, file, signature, onProgress: (p) => setFraction(p.fraction) },
+          { id: instrumentId, checkType, file, signature, onProgress: (p) => setFraction(p.fraction) },
           { onSuccess: (c) => onRecorded(c) },
         );
       }}
     >
+      <Field id={`check-type-${instrumentId}`} label="Check">
+        <Select
+          id={`check-type-${instrumentId}`}
+          value={checkType}
+          onChange={(e) => setCheckType(e.target.value as CheckType)}
+        >
+          {checkTypes.map((t) => (
+            <option key={t} value={t}>
+              {CHECK_TYPE_LABELS[t]}
+            </option>
+          ))}
+        </Select>
+      </Field>
       <Field
         id={`check-file-${instrumentId}`}
-        label="Polystyrene film spectrum"
+        label="Check spectrum"
         hint="JCAMP-DX or delimited text, as exported by the instrument."
       >
         <input

@@ -43,13 +43,19 @@ export function RunsPanel() {
         <table className="w-full text-sm" aria-label="Integrity sweeps">
           <thead>
             <tr className="text-left text-muted">
-              <th className="py-1 pr-3 font-medium">Asked</th>
+              <th data-key-column="asked" className="py-1 pr-3 font-medium">
+                Asked
+              </th>
               <th className="py-1 pr-3 font-medium">By</th>
-              <th className="py-1 pr-3 font-medium">State</th>
+              <th data-key-column="state" className="py-1 pr-3 font-medium">
+                State
+              </th>
               <th className="py-1 pr-3 font-medium">Files</th>
               <th className="py-1 pr-3 font-medium">Signatures</th>
               <th className="py-1 pr-3 font-medium">Certificates, accounts</th>
-              <th className="py-1 pr-3 font-medium">Mismatches</th>
+              <th data-key-column="mismatches" className="py-1 pr-3 font-medium">
+                Mismatches
+              </th>
             </tr>
           </thead>
           <tbody>

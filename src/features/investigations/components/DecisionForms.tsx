@@ -112,7 +112,7 @@ export function DecisionForms({
         }
         meaningText={
           mode === 'confirm'
-            ? `confirm the identity failure of lot ${inv.lotNumber} and reject the lot`
+            ? `reject lot ${inv.lotNumber} because its identity failure is confirmed by this investigation`
             : `invalidate the failing result of lot ${inv.lotNumber} for the assignable laboratory cause given and authorise a re-sample and retest of the named containers`
         }
         record={`Investigation ${inv.number}, lot ${inv.lotNumber}`}

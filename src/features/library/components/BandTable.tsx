@@ -3,6 +3,7 @@
  * wavenumber. While the reference is a draft, QA may add, move or remove bands and rewrite an
  * assignment; the change is saved with a reason (audited).
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
@@ -53,11 +54,13 @@ export function BandTable({
   if (editing)
     return (
       <div className="flex flex-col gap-3">
-        <div className="overflow-x-auto rounded-md border border-line bg-white">
+        <ScrollRegion label="Edit characteristic bands">
           <table className="w-full text-sm" aria-label="Edit characteristic bands">
             <thead className="bg-paper">
               <tr>
-                <th className="px-3 py-2 text-left">Position (cm⁻¹)</th>
+                <th data-key-column="position" className="px-3 py-2 text-left">
+                  Position (cm⁻¹)
+                </th>
                 <th className="px-3 py-2 text-left">Assignment (empty: from the correlation table)</th>
                 <th className="px-3 py-2" />
               </tr>
@@ -94,7 +97,7 @@ export function BandTable({
               ))}
             </tbody>
           </table>
-        </div>
+        </ScrollRegion>
         <div>
           <Button onClick={() => setRows([...rows, { key: ++seq, position: '', assignment: '' }])}>Add band</Button>
         </div>
@@ -118,14 +121,14 @@ export function BandTable({
 
   return (
     <div className="flex flex-col gap-2">
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label="Characteristic bands">
         <table className="w-full text-sm tabular-nums" aria-label="Characteristic bands">
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-2 text-right">
+              <th data-key-column="position" scope="col" className="px-3 py-2 text-right">
                 Position
               </th>
-              <th scope="col" className="px-3 py-2 text-left">
+              <th data-key-column="assignment" scope="col" className="px-3 py-2 text-left">
                 Likely assignment
               </th>
               <th scope="col" className="px-3 py-2 text-right">
@@ -162,7 +165,7 @@ export function BandTable({
             )}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       {editable && (
         <div>
           <Button onClick={start}>Edit bands</Button>

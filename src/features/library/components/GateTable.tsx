@@ -1,4 +1,5 @@
 /** The specificity gate of one reference: every approved reference of another material, scored both ways. */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import type { DirectionScore, GateReport } from '../api';
@@ -41,20 +42,20 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
             : `${gate.offending.length} of ${gate.pairs.length} approved reference(s) of other materials would pass this grade's test, come within the margin of a limit, or could not be compared under method version ${gate.methodVersion}.`}
       </p>
       {pairs.length > 0 && (
-        <div className="overflow-x-auto rounded-md border border-line bg-white">
+        <ScrollRegion label={onlyOffending ? 'Offending pairs' : 'Specificity gate'}>
           <table className="w-full text-sm" aria-label={onlyOffending ? 'Offending pairs' : 'Specificity gate'}>
             <thead className="bg-paper">
               <tr>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="material" scope="col" className="px-3 py-2 text-left">
                   Other material
                 </th>
                 <th scope="col" className="px-3 py-2 text-left">
                   Its reference
                 </th>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="scored-against" scope="col" className="px-3 py-2 text-left">
                   It scored against this reference
                 </th>
-                <th scope="col" className="px-3 py-2 text-left">
+                <th data-key-column="scored-by" scope="col" className="px-3 py-2 text-left">
                   This reference scored against it
                 </th>
               </tr>
@@ -88,7 +89,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
               ))}
             </tbody>
           </table>
-        </div>
+        </ScrollRegion>
       )}
     </div>
   );

@@ -20,22 +20,23 @@ const columns = [
     {
       id: 'method',
       header: 'Identity method',
+      meta: { key: true },
       cell: (c) => <span className={c.row.original.approvedMethod ? '' : 'text-amber'}>{c.getValue()}</span>,
     },
   ),
   col.accessor((m) => m.references.approved, {
     id: 'approved',
     header: 'Approved references',
-    meta: { align: 'right' },
+    meta: { align: 'right', key: true },
   }),
   col.accessor((m) => m.references.draft, {
     id: 'drafts',
     header: 'Drafts',
-    meta: { align: 'right' },
+    meta: { align: 'right', key: true, wrap: true },
     cell: (c) =>
       c.getValue() > 0 ? <span className="font-medium text-amber">{c.getValue()} awaiting approval</span> : '0',
   }),
-  col.accessor((m) => (m.active ? 'Active' : 'Inactive'), { id: 'active', header: 'Status' }),
+  col.accessor((m) => (m.active ? 'Active' : 'Inactive'), { id: 'active', header: 'Status', meta: { key: true } }),
 ];
 
 export function MaterialsTable({

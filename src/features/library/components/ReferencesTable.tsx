@@ -23,7 +23,11 @@ export function ReferencesTable({
     ...(showMaterial
       ? [col.accessor((r) => `${r.materialCode ?? ''} ${r.materialName ?? ''}`, { id: 'material', header: 'Material' })]
       : []),
-    col.accessor('status', { header: 'Status', cell: (c) => <StatusBadge status={c.getValue()} /> }),
+    col.accessor('status', {
+      header: 'Status',
+      meta: { key: true },
+      cell: (c) => <StatusBadge status={c.getValue()} />,
+    }),
     col.accessor('supplier', { header: 'Supplier' }),
     col.accessor('supplierLot', { header: 'Supplier lot' }),
     col.accessor('bandCount', { header: 'Bands', meta: { align: 'right' } }),
@@ -37,6 +41,7 @@ export function ReferencesTable({
       {
         id: 'approvedBy',
         header: 'Approved by',
+        meta: { key: true },
       },
     ),
   ];

@@ -4,6 +4,7 @@
  * are scored as if they were that row's material. "Would pass" means the row's test does not
  * tell the column's material apart. The highest correlation is shown in every cell.
  */
+import { ScrollRegion } from '../../../components/ScrollRegion';
 import { formatScore } from '../../../lib/format';
 import type { MatrixCell, SpecificityMatrix } from '../api';
 
@@ -41,11 +42,15 @@ export function SpecificityMatrixTable({
   const label = focusMaterialId ? 'Specificity of this grade against the approved library' : 'Specificity matrix';
   return (
     <div className="flex flex-col gap-2">
-      <div className="overflow-x-auto rounded-md border border-line bg-white">
+      <ScrollRegion label={label}>
         <table className="border-collapse text-sm tabular-nums" aria-label={label}>
           <thead className="bg-paper">
             <tr>
-              <th scope="col" className="px-3 py-2 text-left align-bottom font-semibold">
+              <th
+                scope="col"
+                data-key-column="row"
+                className="dt-sticky px-3 py-2 text-left align-bottom font-semibold"
+              >
                 Test of ↓ / spectra of →
               </th>
               {cols.map((c) => (
@@ -59,7 +64,11 @@ export function SpecificityMatrixTable({
           <tbody>
             {rows.map((r) => (
               <tr key={r.id} className="border-t border-line">
-                <th scope="row" className="px-3 py-2 text-left font-semibold whitespace-nowrap" title={r.name}>
+                <th
+                  scope="row"
+                  className="dt-sticky px-3 py-2 text-left font-semibold whitespace-nowrap"
+                  title={r.name}
+                >
                   {r.code}
                   <span className="block text-xs font-normal text-muted">method v{r.methodVersion}</span>
                 </th>
@@ -92,7 +101,7 @@ export function SpecificityMatrixTable({
             ))}
           </tbody>
         </table>
-      </div>
+      </ScrollRegion>
       <p className="text-xs text-muted">
         Numbers: highest correlation of a column material's approved reference against the row material's references,
         under the row material's method. “Would pass”: at least one spectrum of the column material passes every

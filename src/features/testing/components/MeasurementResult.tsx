@@ -44,10 +44,18 @@ export function CriteriaTable({ result }: { result: StoredResult }) {
     <table className="w-full text-sm" aria-label="Criteria">
       <thead>
         <tr className="border-b border-line text-left text-muted">
-          <th className="py-1 pr-3 font-medium">Criterion</th>
-          <th className="py-1 pr-3 text-right font-medium">Value</th>
-          <th className="py-1 pr-3 text-right font-medium">Limit</th>
-          <th className="py-1 font-medium">Verdict</th>
+          <th data-key-column="criterion" className="py-1 pr-3 font-medium">
+            Criterion
+          </th>
+          <th data-key-column="value" className="py-1 pr-3 text-right font-medium">
+            Value
+          </th>
+          <th data-key-column="limit" className="py-1 pr-3 text-right font-medium">
+            Limit
+          </th>
+          <th data-key-column="verdict" className="py-1 font-medium">
+            Verdict
+          </th>
         </tr>
       </thead>
       <tbody>
@@ -103,11 +111,17 @@ export function BandTable({ result }: { result: StoredResult }) {
         <table className="w-full text-sm" aria-label="Band concordance">
           <thead>
             <tr className="border-b border-line text-left text-muted">
-              <th className="py-1 pr-3 text-right font-medium">Reference band</th>
-              <th className="py-1 pr-3 text-right font-medium">Sample band</th>
+              <th data-key-column="reference-band" className="py-1 pr-3 text-right font-medium">
+                Reference band
+              </th>
+              <th data-key-column="sample-band" className="py-1 pr-3 text-right font-medium">
+                Sample band
+              </th>
               <th className="py-1 pr-3 text-right font-medium">Shift</th>
               <th className="py-1 pr-3 text-right font-medium">Tolerance</th>
-              <th className="py-1 pr-3 font-medium">Within</th>
+              <th data-key-column="within" className="py-1 pr-3 font-medium">
+                Within
+              </th>
               {intensities && (
                 <>
                   <th className="py-1 pr-3 text-right font-medium">Relative intensity, reference</th>

@@ -2,8 +2,11 @@
  * Several files at once: the files are matched to containers by the label in their names, a
  * confirmation table shows which file goes where (nothing is stored yet), and only after
  * confirmation are the matched files uploaded, each with its own progress and result.
+ * A file whose name holds no container label (e.g. an instrument's "lot-G-c3.jdx") is assigned by
+ * hand: a container list per file, pre-set when the name ends in a container number ("c3", "-003"),
+ * marked as a suggestion to check. One container takes one file; the server checks every upload.
  */
-import { useId, useState } from 'react';
+import { useId, useRef, useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Verdict } from '../../../components/Verdict';
@@ -19,44 +22,89 @@ interface Row extends MatchRow {
   fraction: number;
   result?: UploadResult;
   error?: string;
+  /** the file names no container: the operator picks one (null: not yet) */
+  manual: boolean;
+  assigned: number | null;
+  suggested: boolean;
+}
+
+/** Statuses whose file may be assigned by hand: the name holds no usable label of this lot. */
+const ASSIGNABLE = new Set(['no-label', 'unknown-label']);
+
+/** A container number at the end of a file name ("lot-G-c3.jdx", "sample_003.csv"), or null. */
+export function containerNumberInName(fileName: string): number | null {
+  const base = fileName.replace(/^.*[\\/]/, '').replace(/\.[^.]*$/, '');
+  const m = /(?:^|[^a-z0-9])(?:c|container)?[-_ ]?0*(\d{1,3})$/i.exec(base);
+  return m ? Number(m[1]) : null;
+}
+
+/** The container a row uploads to, or null. */
+function target(r: Row): number | null {
+  return r.manual ? r.assigned : r.status === 'matched' ? r.containerId : null;
 }
 
 export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUploaded: () => void }) {
   const id = useId();
+  const fileInput = useRef<HTMLInputElement>(null);
   const match = useMatchFiles(test.id);
   const [rows, setRows] = useState<Row[] | null>(null);
   const [running, setRunning] = useState(false);
 
+  const assignable = test.containers.filter((c) => c.inScope && c.latest?.verdict !== 'fail');
   const choose = (files: File[]) => {
     if (!files.length) return;
     match.mutate(
       files.map((f) => f.name),
       {
-        onSuccess: (m) =>
+        onSuccess: (m) => {
+          const taken = new Set(m.filter((r) => r.status === 'matched').map((r) => r.containerId));
           setRows(
-            m.map((r, i) => ({
-              ...r,
-              file: files[i],
-              state: r.status === 'matched' ? 'ready' : 'skipped',
-              fraction: 0,
-            })),
-          ),
+            m.map((r, i) => {
+              const manual = ASSIGNABLE.has(r.status);
+              const n = manual ? containerNumberInName(r.fileName) : null;
+              const label = n === null ? null : `${test.lot.lotNumber}-${String(n).padStart(3, '0')}`;
+              const guess = assignable.find((c) => c.label === label && !taken.has(c.id)) ?? null;
+              if (guess) taken.add(guess.id);
+              return {
+                ...r,
+                file: files[i],
+                state: r.status === 'matched' || guess ? 'ready' : 'skipped',
+                fraction: 0,
+                manual,
+                assigned: guess?.id ?? null,
+                suggested: guess !== null,
+              };
+            }),
+          );
+        },
       },
     );
+  };
+  const assign = (i: number, containerId: number | null) =>
+    patch(i, { assigned: containerId, suggested: false, state: containerId ? 'ready' : 'skipped' });
+  // One container takes one file: rows aiming at the same container wait until that is resolved.
+  const counts = new Map<number, number>();
+  for (const r of rows ?? []) {
+    const c = target(r);
+    if (c && r.state === 'ready') counts.set(c, (counts.get(c) ?? 0) + 1);
+  }
+  const clash = (r: Row) => {
+    const c = target(r);
+    return c !== null && r.state === 'ready' && (counts.get(c) ?? 0) > 1;
   };
   const patch = (i: number, p: Partial<Row>) => setRows((rs) => rs && rs.map((r, k) => (k === i ? { ...r, ...p } : r)));
 
   const uploadAll = async () => {
     if (!rows) return;
     setRunning(true);
-    const todo = rows.map((r, i) => ({ r, i })).filter((x) => x.r.state === 'ready');
+    const todo = rows.map((r, i) => ({ r, i })).filter((x) => x.r.state === 'ready' && !clash(x.r));
     let next = 0;
     const worker = async () => {
       while (next < todo.length) {
         const { r, i } = todo[next++];
         patch(i, { state: 'uploading' });
         try {
-          const result = await uploadMeasurement(test.id, { containerId: r.containerId! }, r.file, (p) =>
+          const result = await uploadMeasurement(test.id, { containerId: target(r)! }, r.file, (p) =>
             patch(i, { fraction: p.fraction }),
           );
           patch(i, { state: 'done', fraction: 1, result });
@@ -70,7 +118,8 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
     onUploaded();
   };
 
-  const ready = rows?.filter((r) => r.state === 'ready').length ?? 0;
+  const ready = rows?.filter((r) => r.state === 'ready' && !clash(r)).length ?? 0;
+  const anyManual = rows?.some((r) => r.manual && r.state === 'ready') ?? false;
   const finished =
     rows !== null && rows.every((r) => r.state === 'done' || r.state === 'failed' || r.state === 'skipped');
   return (
@@ -82,14 +131,19 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
             Each file name must contain its container label, e.g. {test.lot.lotNumber}-002.csv. You confirm the matching
             before anything is stored.
           </p>
-          <label
-            htmlFor={id}
+          {/* A real button: Enter opens the chooser (the input itself is hidden and out of the tab order). */}
+          <button
+            type="button"
+            onClick={() => fileInput.current?.click()}
             className="inline-flex min-h-11 cursor-pointer items-center rounded-md border border-petrol bg-petrol px-4 font-medium text-white hover:bg-petrol-dark"
           >
             Choose files
-          </label>
+          </button>
           <input
+            ref={fileInput}
             id={id}
+            tabIndex={-1}
+            aria-label="Choose files: spectrum files of several containers"
             type="file"
             multiple
             className="sr-only"
@@ -110,10 +164,16 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
           <table className="w-full text-sm" aria-label="Files and containers">
             <thead>
               <tr className="border-b border-line text-left text-muted">
-                <th className="py-1 pr-3 font-medium">File</th>
-                <th className="py-1 pr-3 font-medium">Container</th>
+                <th data-key-column="file" className="py-1 pr-3 font-medium">
+                  File
+                </th>
+                <th data-key-column="container" className="py-1 pr-3 font-medium">
+                  Container
+                </th>
                 <th className="py-1 pr-3 font-medium">Matching</th>
-                <th className="py-1 font-medium">Upload and result</th>
+                <th data-key-column="result" className="py-1 font-medium">
+                  Upload and result
+                </th>
               </tr>
             </thead>
             <tbody>
@@ -123,9 +183,39 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
                     <div className="font-medium break-all">{r.fileName}</div>
                     <div className="text-xs text-muted">{formatBytes(r.file.size)}</div>
                   </td>
-                  <td className="py-1.5 pr-3 whitespace-nowrap tabular-nums">{r.label ?? '—'}</td>
-                  <td className={`py-1.5 pr-3 ${r.status === 'matched' ? '' : 'text-amber-ink'}`}>
-                    {r.status === 'matched' ? 'Ready' : `Not uploaded: ${MATCH_STATUS_TEXT[r.status]}`}
+                  <td className="py-1.5 pr-3 whitespace-nowrap tabular-nums">
+                    {r.manual && (r.state === 'ready' || r.state === 'skipped') ? (
+                      <select
+                        aria-label={`Container for ${r.fileName}`}
+                        value={r.assigned ?? ''}
+                        onChange={(e) => assign(i, e.target.value ? Number(e.target.value) : null)}
+                        className="min-h-11 rounded-md border border-line bg-white px-2"
+                      >
+                        <option value="">Choose a container</option>
+                        {assignable.map((c) => (
+                          <option key={c.id} value={c.id}>
+                            {c.label}
+                          </option>
+                        ))}
+                      </select>
+                    ) : r.manual ? (
+                      (assignable.find((c) => c.id === r.assigned)?.label ?? '—')
+                    ) : (
+                      (r.label ?? '—')
+                    )}
+                  </td>
+                  <td className={`py-1.5 pr-3 ${r.status === 'matched' && !clash(r) ? '' : 'text-amber-ink'}`}>
+                    {clash(r)
+                      ? 'Another file goes to this container: choose one'
+                      : r.status === 'matched'
+                        ? 'Ready'
+                        : r.manual && r.assigned
+                          ? r.suggested
+                            ? 'Assigned: suggested from the file name, check it'
+                            : 'Assigned by hand'
+                          : r.manual
+                            ? `${MATCH_STATUS_TEXT[r.status]}: choose its container`
+                            : `Not uploaded: ${MATCH_STATUS_TEXT[r.status]}`}
                   </td>
                   <td className="py-1.5">
                     {r.state === 'uploading' && (
@@ -162,7 +252,7 @@ export function MultiFileUpload({ test, onUploaded }: { test: TestDetail; onUplo
                 busy={running}
                 onClick={() => void uploadAll()}
               >
-                Upload {ready} matched file{ready === 1 ? '' : 's'}
+                Upload {ready} {anyManual ? 'assigned' : 'matched'} file{ready === 1 ? '' : 's'}
               </Button>
             )}
             <Button size="bench" disabled={running} onClick={() => setRows(null)}>

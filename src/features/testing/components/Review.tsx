@@ -3,7 +3,8 @@
  * and difference, scores, bands and explanation; the instrument checks, method and reference
  * versions used; then "Sign as verified" or "Return to operator" with a reason.
  */
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
+import { Link } from 'react-router-dom';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
@@ -12,7 +13,22 @@ import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog
 import { MeasurementHistory } from './Provenance';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
-import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
+import { useLot, useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
+
+/** The issued certificate of a lot as a link (the lot is read again after verification). */
+function CertificateLink({ lotId }: { lotId: number }) {
+  const lot = useLot(lotId);
+  const c = lot.data?.certificate;
+  if (!c || c.state !== 'issued') return null;
+  return (
+    <>
+      {' '}
+      <Link to={`/certificates/${c.id}`} className="font-medium text-petrol underline underline-offset-2">
+        Open certificate {c.number}
+      </Link>
+    </>
+  );
+}
 import {
   BandTable,
   CriteriaTable,
@@ -50,11 +66,11 @@ function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen
           <HintNote result={r} />
           <div className="grid gap-4 xl:grid-cols-2">
             <div>
-              <h4 className="mb-1 text-sm font-medium">Raw spectrum as uploaded</h4>
+              <h3 className="mb-1 text-sm font-medium">Raw spectrum as uploaded</h3>
               <RawSpectrum measurementId={m.id} label={m.label} />
             </div>
             <div>
-              <h4 className="mb-1 text-sm font-medium">Sample, best reference and difference</h4>
+              <h3 className="mb-1 text-sm font-medium">Sample, best reference and difference</h3>
               <MeasurementOverlay measurementId={m.id} label={m.label} bandsOf={r} />
             </div>
           </div>
@@ -81,7 +97,7 @@ export function ReviewView({
   const own = t.performedBy?.id === me.id || t.measurerIds.includes(me.id);
   const failing = data.measurements.filter((m) => m.verdict === 'fail');
   const canDecide = me.isVerifier && t.status === 'awaiting-verification' && !own;
-  const [outcome, setOutcome] = useState<string | null>(null);
+  const [outcome, setOutcome] = useState<ReactNode>(null);
 
   return (
     <div className="flex flex-col gap-5">
@@ -95,9 +111,12 @@ export function ReviewView({
         </p>
       )}
       <section
-        aria-label="Versions and instrument"
+        aria-labelledby="review-versions"
         className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
       >
+        <h2 id="review-versions" className="sr-only">
+          Versions and instrument
+        </h2>
         <div>
           <h3 className="mb-1 font-medium">Identity method</h3>
           {data.methods.map((m) => (
@@ -125,7 +144,10 @@ export function ReviewView({
         </div>
       </section>
 
-      <section aria-label="Containers" className="flex flex-col gap-2">
+      <section aria-labelledby="review-containers" className="flex flex-col gap-2">
+        <h2 id="review-containers" className="sr-only">
+          Containers
+        </h2>
         {data.measurements.map((m) => (
           <ContainerReview key={m.id} m={m} defaultOpen={data.measurements.length <= 6} />
         ))}
@@ -194,9 +216,30 @@ export function ReviewView({
               onSuccess: (r) => {
                 setDialog(null);
                 setOutcome(
-                  r.outcome === 'passed'
-                    ? `Verified. Lot ${t.lot.lotNumber} passed identity${r.certificate === 'issued' ? '; the identity certificate was issued.' : '; the certificate is pending.'}`
-                    : `Verified. Lot ${t.lot.lotNumber} failed identity and stays in quarantine; investigation ${r.investigation?.number} was opened for QA.`,
+                  r.outcome === 'passed' ? (
+                    <>
+                      Verified. Lot {t.lot.lotNumber} passed identity
+                      {r.certificate === 'issued'
+                        ? '; the identity certificate was issued.'
+                        : '; the certificate is pending.'}
+                      {r.certificate === 'issued' && <CertificateLink lotId={t.lot.id} />}
+                    </>
+                  ) : (
+                    <>
+                      Verified. Lot {t.lot.lotNumber} failed identity and stays in quarantine; investigation{' '}
+                      {r.investigation ? (
+                        <Link
+                          to={`/investigations/${r.investigation.id}`}
+                          className="font-medium text-petrol underline underline-offset-2"
+                        >
+                          {r.investigation.number}
+                        </Link>
+                      ) : (
+                        '—'
+                      )}{' '}
+                      was opened for QA.
+                    </>
+                  ),
                 );
               },
             },

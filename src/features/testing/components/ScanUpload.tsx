@@ -1,6 +1,10 @@
 /**
  * One container at a time: scan its label (the scanner types the label and presses Enter) or
  * pick it from the list, then drop or choose its spectrum file. The result shows at once.
+ * Hands-free loop: a scanned label moves the focus to "Choose a file" (Enter opens the chooser);
+ * once the result is in, the focus is back in the scan field, so the next label is never lost.
+ * A container that cannot be measured now (failed, outside a retest) is refused at selection,
+ * by scan or by the list's "Select", before any file is chosen.
  */
 import { useEffect, useRef, useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
@@ -11,19 +15,35 @@ import { formatScore } from '../../../lib/format';
 import { uploadMeasurement, type TestDetail, type UploadResult } from '../api';
 import { verdictLabel } from './MeasurementResult';
 
+type Container = TestDetail['containers'][number];
+
+/** Why this container cannot be selected for a measurement now, or null. */
+export function selectionProblem(test: TestDetail, c: Container): string | null {
+  if (!c.inScope)
+    return `Container ${c.label} is not part of this retest: QA authorised only the containers named in the investigation.`;
+  if (c.latest?.verdict === 'fail')
+    return `Container ${c.label} failed in this attempt. A retest needs QA authorisation through an investigation.`;
+  return null;
+}
+
 export function ScanUpload({
   test,
   selectedId,
   onSelect,
   onUploaded,
+  problem,
+  onProblem,
 }: {
   test: TestDetail;
   selectedId: number | null;
   onSelect: (id: number | null) => void;
   onUploaded: (r: UploadResult) => void;
+  /** a refusal of the last selection (by scan here, or by the container list) */
+  problem: string | null;
+  onProblem: (p: string | null) => void;
 }) {
   const [code, setCode] = useState('');
-  const [problem, setProblem] = useState<string | null>(null);
+  const setProblem = onProblem;
   const [reason, setReason] = useState('');
   const [confirmIds, setConfirmIds] = useState(false);
   const scan = useRef<HTMLInputElement>(null);
@@ -38,17 +58,14 @@ export function ScanUpload({
     const label = code.trim().toUpperCase();
     if (!label) return;
     const c = test.containers.find((x) => x.label.toUpperCase() === label);
-    if (!c)
-      setProblem(`No container of lot ${test.lot.lotNumber} has the label ${label}. Check the label and scan again.`);
-    else if (!c.inScope)
-      setProblem(
-        `Container ${c.label} is not part of this retest: QA authorised only the containers named in the investigation.`,
-      );
-    else if (c.latest?.verdict === 'fail')
-      setProblem(
-        `Container ${c.label} failed in this attempt. A retest needs QA authorisation through an investigation.`,
-      );
-    else {
+    const refusal = c
+      ? selectionProblem(test, c)
+      : `No container of lot ${test.lot.lotNumber} has the label ${label}. Check the label and scan again.`;
+    if (refusal || !c) {
+      setProblem(refusal);
+      onSelect(null);
+      scan.current?.focus();
+    } else {
       setProblem(null);
       onSelect(c.id);
     }
@@ -99,7 +116,7 @@ export function ScanUpload({
               hint="Kept with the new measurement and shown to the verifier."
               className="mb-2"
             >
-              <Textarea id="remeasure-reason" value={reason} onChange={(e) => setReason(e.target.value)} />
+              <Textarea id="remeasure-reason" autoFocus value={reason} onChange={(e) => setReason(e.target.value)} />
             </Field>
           )}
           <label className="mb-2 flex items-start gap-2 text-sm">
@@ -121,6 +138,8 @@ export function ScanUpload({
             label={`Spectrum file of ${selected.label}`}
             accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
             hint="JCAMP-DX or CSV export of the instrument."
+            // A container measured again first asks why (the reason field takes the focus).
+            autoFocus={selected.latest?.verdict !== 'pass'}
             upload={(file, onProgress) =>
               uploadMeasurement(
                 test.id,
@@ -130,6 +149,8 @@ export function ScanUpload({
               )
             }
             onUploaded={(_f, r) => onUploaded(r)}
+            // Result or refusal in: back to the scan field for the next label.
+            onBatchDone={() => scan.current?.focus()}
             renderResult={(r) => (
               <div className="flex items-center gap-3">
                 <Verdict verdict={r.verdict} label={verdictLabel(r.verdict)} />

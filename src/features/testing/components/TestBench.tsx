@@ -13,7 +13,7 @@ import { useAfterUpload, usePerform, useSwitchInstrument, useTest, type TestDeta
 import { InstrumentPicker } from './InstrumentPicker';
 import { MeasurementResult, verdictLabel } from './MeasurementResult';
 import { MultiFileUpload } from './MultiFileUpload';
-import { ScanUpload } from './ScanUpload';
+import { ScanUpload, selectionProblem } from './ScanUpload';
 
 function ContainerRows({
   test,
@@ -28,9 +28,15 @@ function ContainerRows({
     <table className="w-full text-sm" aria-label="Containers of this attempt">
       <thead>
         <tr className="border-b border-line text-left text-muted">
-          <th className="py-1 pr-3 font-medium">Container</th>
-          <th className="py-1 pr-3 font-medium">Latest result</th>
-          <th className="py-1 pr-3 text-right font-medium">Match score</th>
+          <th data-key-column="container" className="py-1 pr-3 font-medium">
+            Container
+          </th>
+          <th data-key-column="result" className="py-1 pr-3 font-medium">
+            Latest result
+          </th>
+          <th data-key-column="score" className="py-1 pr-3 text-right font-medium">
+            Match score
+          </th>
           <th className="py-1 pr-3 text-right font-medium">Measurements</th>
           <th className="py-1 font-medium" />
         </tr>
@@ -80,14 +86,18 @@ export function TestBench({
   const perform = usePerform(lotId, testId);
   const switcher = useSwitchInstrument(lotId, testId);
   const [selected, setSelected] = useState<number | null>(null);
+  const [problem, setProblem] = useState<string | null>(null);
+  // A container refused for upload (failed) can still be looked at: its result shows, no file drop.
+  const [viewed, setViewed] = useState<number | null>(null);
   const [mode, setMode] = useState<'scan' | 'many'>('scan');
   const [signing, setSigning] = useState(false);
   const [changeInstrument, setChangeInstrument] = useState(false);
   if (q.isPending) return <p className="text-sm text-muted">Loading the test…</p>;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const t = q.data;
-  const latestSelected = t.containers.find((c) => c.id === selected)?.latest ?? null;
+  const latestSelected = t.containers.find((c) => c.id === (selected ?? viewed))?.latest ?? null;
   const r = t.readiness;
+  const failed = t.containers.filter((c) => c.inScope && c.latest?.verdict === 'fail').map((c) => c.label);
   return (
     <div className="flex flex-col gap-5">
       <div className="flex flex-wrap items-center gap-x-6 gap-y-2 text-sm">
@@ -140,7 +150,14 @@ export function TestBench({
         </Button>
       </div>
       {mode === 'scan' ? (
-        <ScanUpload test={t} selectedId={selected} onSelect={setSelected} onUploaded={after} />
+        <ScanUpload
+          test={t}
+          selectedId={selected}
+          onSelect={setSelected}
+          onUploaded={after}
+          problem={problem}
+          onProblem={setProblem}
+        />
       ) : (
         <MultiFileUpload test={t} onUploaded={after} />
       )}
@@ -148,10 +165,15 @@ export function TestBench({
       <div className="grid items-start gap-5 xl:grid-cols-[minmax(0,1fr)_minmax(0,1.2fr)]">
         <ContainerRows
           test={t}
-          selectedId={selected}
+          selectedId={selected ?? viewed}
           onSelect={(id) => {
-            setSelected(id);
+            const c = t.containers.find((x) => x.id === id);
+            const refusal = c ? selectionProblem(t, c) : null;
+            setProblem(refusal);
+            setSelected(refusal ? null : id);
+            setViewed(id);
             setMode('scan');
+            if (refusal) window.scrollTo({ top: 0, behavior: 'smooth' });
           }}
         />
         <div>
@@ -164,8 +186,16 @@ export function TestBench({
       </div>
 
       <section aria-label="Sign as performed" className="rounded-md border border-line bg-white p-4">
-        {r.ready ? (
-          <p className="mb-3 text-sm">
+        {r.ready && failed.length > 0 ? (
+          <p className="mb-3 text-sm" data-testid="sign-readiness">
+            Every container has a result, and{' '}
+            <strong className="text-fail">
+              {failed.length === 1 ? 'container' : 'containers'} {failed.join(', ')} failed
+            </strong>
+            . Sign the test as performed; a second person verifies it, and QA investigates the failure.
+          </p>
+        ) : r.ready ? (
+          <p className="mb-3 text-sm" data-testid="sign-readiness">
             Every container has a valid result. Sign the test as performed; a second person then verifies it.
           </p>
         ) : (

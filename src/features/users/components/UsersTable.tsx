@@ -28,11 +28,12 @@ export function UsersTable({
       col.accessor(
         (u) =>
           roleList(u.roles) + (u.pendingRoleChange ? ` (to confirm: ${roleList(u.pendingRoleChange.rolesAfter)})` : ''),
-        { id: 'roles', header: 'Roles' },
+        { id: 'roles', header: 'Roles', meta: { key: true } },
       ),
       col.accessor((u) => userStatusText(u), {
         id: 'status',
         header: 'Status',
+        meta: { key: true },
         cell: (c) => <UserStatus user={c.row.original} />,
       }),
       col.accessor('createdAt', {

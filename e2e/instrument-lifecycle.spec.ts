@@ -1,0 +1,83 @@
+/**
+ * Issue 15 items 4 and 5 in the browser: QA registers an ATR instrument (Ph. Eur. 2.2.24 FT
+ * specification by default); the operator records a check with the real ATR polystyrene film
+ * (../shared/reference-data/atr-ftir/polystyrene_film.csv), which FAILS the FT tolerances
+ * because ATR bands sit 0.5-2.3 cm-1 low; the look-back of the failed check appears at once and
+ * QA closes it with a signed decision. The operator then takes the instrument out of service and
+ * QA puts it back, signed. A new instrument of its own, so the other specs are not disturbed.
+ * Demo accounts (db/seeds/accounts.ts): olga operator, quinn QA.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import { expect, test, type Browser, type Page } from '@playwright/test';
+import { repoRoot } from '../db/config';
+import { DEMO_PASSWORD } from '../db/seeds/accounts';
+
+const FILM = path.resolve(repoRoot, '../shared/reference-data/atr-ftir/polystyrene_film.csv');
+
+async function signedIn(browser: Browser, username: string): Promise<Page> {
+  const page = await (await browser.newContext()).newPage();
+  await page.goto('/sign-in');
+  await page.getByLabel('User name').fill(username);
+  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
+  return page;
+}
+
+async function sign(page: Page, username: string, confirm: string) {
+  const dialog = page.getByRole('dialog');
+  await expect(dialog).toBeVisible();
+  const user = dialog.getByLabel('User name');
+  if (await user.count()) await user.fill(username);
+  await dialog.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
+  await dialog.getByRole('button', { name: confirm }).click();
+  await expect(dialog).toBeHidden({ timeout: 20_000 });
+}
+
+test('a failed check opens its look-back at once; QA assesses it signed; out of service and back', async ({
+  browser,
+}) => {
+  test.setTimeout(180_000);
+  const name = `ATR lifecycle ${Date.now().toString(36)}`;
+  const quinn = await signedIn(browser, 'quinn');
+  await quinn.goto('/instruments');
+  await quinn.getByRole('button', { name: 'Register instrument' }).click();
+  await quinn.getByLabel('Name').fill(name);
+  await quinn.getByLabel('Serial number').fill('SN-LC-1');
+  await quinn.getByLabel('Sampling').selectOption('atr');
+  await quinn.getByRole('button', { name: 'Register instrument' }).last().click();
+  await expect(quinn.getByRole('heading', { name })).toBeVisible({ timeout: 20_000 });
+  const url = quinn.url();
+
+  const olga = await signedIn(browser, 'olga');
+  await olga.goto(url);
+  await olga.getByRole('button', { name: 'Record instrument check' }).click();
+  await olga.getByLabel('Check spectrum').setInputFiles({
+    name: 'polystyrene_film.csv',
+    mimeType: 'text/csv',
+    buffer: fs.readFileSync(FILM),
+  });
+  await sign(olga, 'olga', 'Sign and record check');
+  await expect(olga.getByTestId('check-outcome')).toContainText('impact assessment');
+  await expect(olga.getByTestId('impact-assessment')).toContainText('awaiting QA assessment');
+
+  await quinn.reload();
+  await quinn.getByRole('button', { name: 'Assess impact' }).click();
+  await quinn.getByLabel('Decision').selectOption('none');
+  await quinn.getByLabel('Rationale').fill('No measurement was made on this instrument before its first check.');
+  await sign(quinn, 'quinn', 'Sign decision');
+  await expect(quinn.getByTestId('impact-assessment')).toContainText('assessed: no impact');
+
+  await olga.reload();
+  await olga.getByRole('button', { name: 'Take out of service' }).click();
+  await olga.getByLabel('Reason').fill('Detector signal unstable after the power cut.');
+  await olga.getByRole('dialog').getByRole('button', { name: 'Take out of service' }).click();
+  await expect(olga.getByTestId('service-state')).toContainText('Out of service');
+
+  await quinn.reload();
+  await quinn.getByRole('button', { name: 'Put back into service' }).click();
+  await quinn.getByRole('dialog').getByLabel('Reason').fill('Power supply replaced; engineer report attached.');
+  await sign(quinn, 'quinn', 'Sign and put back');
+  await expect(quinn.getByTestId('service-state')).not.toContainText('Out of service');
+});
