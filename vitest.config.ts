@@ -25,6 +25,19 @@ export default defineConfig({
           hookTimeout: 120_000,
         },
       },
+      // Opt-in (`npm run test:cluster`): three Galera nodes and two servers, a few minutes.
+      ...(process.env.DRUMLINE_CLUSTER_TEST
+        ? [
+            {
+              test: {
+                name: 'cluster',
+                include: ['tests/cluster/**/*.test.ts'],
+                testTimeout: 600_000,
+                hookTimeout: 600_000,
+              },
+            },
+          ]
+        : []),
     ],
   },
 });

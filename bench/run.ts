@@ -15,6 +15,7 @@ const BENCHES: Record<string, Bench> = {
   certificate: async () => (await import('./certificate')).runCertificateBench(),
   health: async () => (await import('./health')).runHealthBench(),
   provenance: async () => (await import('./provenance')).runProvenanceBench(),
+  load: async () => (await import('./load')).runLoadBench(),
 };
 
 const OPT_IN = new Set(['audit']);

@@ -39,6 +39,9 @@ export async function applyRuntimeGrants(owner: Knex, database: string): Promise
       .catch(() => undefined);
     await owner.raw(`GRANT ${runtimePrivileges(t).join(', ')} ON \`${database}\`.\`${t}\` TO ?@?`, [rt.user, host]);
   }
+  // The readiness probe (GET /api/ready) compares the applied migrations with the server's list:
+  // read-only on the bookkeeping table, nothing on its lock table.
+  await owner.raw(`GRANT SELECT ON \`${database}\`.\`knex_migrations\` TO ?@?`, [rt.user, host]);
 }
 
 export async function migrateDatabase(database?: string): Promise<void> {

@@ -26,6 +26,7 @@ import { lotRoutes } from './modules/lots/routes';
 import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
+import { archiveRoutes } from './modules/archive/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
@@ -34,6 +35,8 @@ import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
 import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
+import { httpLogger } from './lib/log';
+import { metricsMiddleware, setMetricsDb } from './lib/metrics';
 
 export interface CreateAppOptions {
   config?: Partial<AppConfig>;
@@ -43,13 +46,15 @@ export interface CreateAppOptions {
 
 export function createApp(opts: CreateAppOptions = {}): { app: Express; config: AppConfig } {
   const config = loadConfig(opts.config);
-  initDb(opts.database);
+  setMetricsDb(initDb(opts.database));
   const app = express();
   app.disable('x-powered-by');
   // X-Forwarded-For only from the configured proxies (none by default): req.ip is the real client.
   app.set('trust proxy', config.trustedProxies.length ? config.trustedProxies : false);
   setLockoutPolicy({ attempts: config.lockoutAttempts, minutes: config.lockoutMinutes });
   app.locals.config = config;
+  app.use(httpLogger());
+  app.use(metricsMiddleware());
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -88,6 +93,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     integrityRoutes(),
     trendingRoutes(),
     auditReviewRoutes(config),
+    archiveRoutes(config),
   ];
   for (const r of routers) app.use(r);
 

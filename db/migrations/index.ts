@@ -22,6 +22,7 @@ import * as m121 from './121_audit_anchor';
 import * as m150 from './150_trending';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
+import * as m130 from './130_mail_claim';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -47,6 +48,7 @@ export const migrations: [string, Migration][] = [
   ['150_trending', m150],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
+  ['130_mail_claim', m130],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {

@@ -39,6 +39,10 @@ export interface AppConfig {
   /** a file whose title or sample identifier names another record: 'confirm' by the operator or 'refuse' (FILE_IDENTIFIER_POLICY) */
   fileIdentifierPolicy: 'confirm' | 'refuse';
   devMode: boolean;
+  /** Bearer token of the metrics scraper (METRICS_TOKEN, at least 24 characters); unset = administrators only. */
+  metricsToken?: string;
+  /** How long a stopping server waits for requests in flight before it exits (SHUTDOWN_GRACE_MS). */
+  shutdownGraceMs: number;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
   signingP12Passphrase?: string;
@@ -86,6 +90,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     maxInvalidMeasurements: Math.max(1, Math.floor(num('MAX_INVALID_MEASUREMENTS', 3))),
     fileIdentifierPolicy: process.env.FILE_IDENTIFIER_POLICY === 'refuse' ? 'refuse' : 'confirm',
     devMode: process.env.NODE_ENV !== 'production',
+    metricsToken: process.env.METRICS_TOKEN || undefined,
+    shutdownGraceMs: num('SHUTDOWN_GRACE_MS', 10_000),
     smtp: smtpHost
       ? {
           host: smtpHost,
@@ -105,5 +111,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     auditCheckpointMinutes: num('AUDIT_CHECKPOINT_MINUTES', 60),
     certificateRetryMinutes: num('CERTIFICATE_RETRY_MINUTES', 5),
   };
-  return { ...base, ...overrides };
+  const out = { ...base, ...overrides };
+  if (out.metricsToken !== undefined && out.metricsToken.length < 24)
+    throw new Error('METRICS_TOKEN must be at least 24 characters long (a random secret), or unset');
+  return out;
 }

@@ -1,4 +1,5 @@
 /** Application errors and the one error shape of the API: { error: { code, message, details } }. */
+import { log, safeError } from './log';
 import type { ErrorRequestHandler } from 'express';
 import { ZodError } from 'zod';
 import { SpectrumError } from '../spectra';
@@ -140,7 +141,7 @@ export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
   if (e?.type === 'entity.too.large') return send(413, 'TOO_LARGE', 'The request body is too large.');
   if (isDbDown(err)) return send(503, 'DATABASE_DOWN', DB_DOWN_MESSAGE);
   if (e?.code === 'ER_DUP_ENTRY') return send(409, 'DUPLICATE', 'A record with this identifier already exists.');
-  console.error('[error]', loggableError(err));
+  log.error({ err: safeError(err), reqId: (_req as { id?: unknown }).id }, 'unexpected error (answered 500)');
   return send(
     500,
     'INTERNAL',

@@ -49,6 +49,11 @@ export interface RouteDef<
   /** still callable while the account must change its password. */
   allowDuringPasswordChange?: boolean;
   description?: string;
+  /**
+   * A second way in besides a session with one of `access.roles`, checked first: true lets the
+   * request through without a session (the metrics scraper's bearer token, server/lib/metrics.ts).
+   */
+  machineAccess?: (req: Request) => boolean;
 }
 
 export interface Ctx<B, Q, P> {
@@ -75,8 +80,11 @@ export function defineRoute<B extends z.ZodType, Q extends z.ZodType, P extends 
 ): void {
   routeRegistry.push(def as unknown as RouteDef);
   const check: RequestHandler = (req, _res, next) => {
+    // The declared route names the request in logs and metrics (server/lib/log.ts routeOf).
+    _res.locals.route = def.path;
     const user = _res.locals.user as AuthUser | undefined;
     if (def.access === 'public') return next();
+    if (def.machineAccess?.(req)) return next();
     if (!user) return next(unauthorized());
     if (user.mustChangePassword && !def.allowDuringPasswordChange)
       return next(new AppError(403, 'PASSWORD_CHANGE_REQUIRED', 'Change your password before you continue.'));

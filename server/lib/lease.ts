@@ -10,6 +10,9 @@
 import crypto from 'node:crypto';
 import os from 'node:os';
 import type { Knex } from 'knex';
+import { childLog, safeError } from './log';
+
+const jobLog = childLog('job');
 
 /** This process's identity in lease rows. */
 export const PROCESS_ID = `${os.hostname()}:${process.pid}:${crypto.randomBytes(3).toString('hex')}`;
@@ -82,7 +85,7 @@ export function startJob(db: Knex, spec: JobSpec): RunningJob {
         .where({ name: spec.name, holder: PROCESS_ID })
         .update({ last_run_at: started, last_error: message })
         .catch(() => undefined);
-      console.error(`[job ${spec.name}] ${message}`);
+      jobLog.error({ job: spec.name, err: safeError(e) }, 'job run failed');
     }
     return true;
   };
@@ -90,7 +93,7 @@ export function startJob(db: Knex, spec: JobSpec): RunningJob {
     if (!busy)
       busy = once()
         .catch((e) => {
-          console.error(`[job ${spec.name}] lease: ${(e as Error).message}`);
+          jobLog.error({ job: spec.name, err: safeError(e) }, 'lease could not be taken');
           return false;
         })
         .finally(() => (busy = null));

@@ -6,6 +6,7 @@
  * A lock reached through a signature or a password change (a person at a signed-in terminal who
  * does not know the password) also ends every session of the account.
  */
+import { transactionWithRetry } from './retry';
 import type { Knex } from 'knex';
 import { appendAudit } from './audit';
 import { enqueueMailToRole } from './mail';
@@ -66,7 +67,7 @@ export async function recordCredentialFailure(
   db: Knex,
   f: FailureInput,
 ): Promise<{ locked: boolean; attempts: number }> {
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     const row = await trx('app_user').where({ id: f.userId }).forUpdate().first();
     const attempts = Number(row.failed_attempts) + 1;
     const lock = attempts >= policy.attempts;

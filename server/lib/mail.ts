@@ -11,7 +11,10 @@ import type { AppConfig } from './config';
 import { parseJson } from './db';
 import type { Role } from './contract';
 import { startFakeSmtp } from './fake-smtp';
-import { startJob, type RunningJob } from './lease';
+import { PROCESS_ID, startJob, type RunningJob } from './lease';
+import { childLog, safeError } from './log';
+
+const mailLog = childLog('mail');
 
 export const MAX_ATTEMPTS = 8;
 
@@ -80,13 +83,42 @@ export async function initMail(config: AppConfig): Promise<void> {
   } else {
     const port = await startFakeSmtp(Number(process.env.DEV_SMTP_PORT ?? 0));
     transporter = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
-    console.log(`[mail] development: a local fake SMTP server on 127.0.0.1:${port} captures all mail`);
+    mailLog.info({ port }, 'development: a local fake SMTP server on loopback captures all mail');
   }
+}
+
+/** Seconds after which a row still 'sending' is taken to belong to a server that died (MAIL_SENDING_TIMEOUT_S). */
+export function sendingTimeoutMs(): number {
+  const v = Number(process.env.MAIL_SENDING_TIMEOUT_S);
+  return (Number.isFinite(v) && v > 0 ? v : 300) * 1000;
+}
+
+/**
+ * Puts rows back in the queue that a server claimed ('sending') and never finished: the server
+ * died between the claim and the outcome. Each counts as an attempt, so a message that kills its
+ * sender every time still ends as 'failed'. Delivery is at least once: a server that died after
+ * the SMTP server accepted the message but before it recorded 'sent' causes a second copy.
+ */
+export async function requeueStale(db: Knex, timeoutMs = sendingTimeoutMs()): Promise<number> {
+  const before = new Date(Date.now() - timeoutMs);
+  return db('mail_outbox')
+    .where({ status: 'sending' })
+    .andWhere((q) => q.where('claimed_at', '<', before).orWhereNull('claimed_at'))
+    .update({
+      status: db.raw("IF(attempts + 1 >= ?, 'failed', 'queued')", [MAX_ATTEMPTS]),
+      attempts: db.raw('attempts + 1'),
+      last_error: 'taken up again: the server that was sending it stopped before it finished',
+      next_attempt_at: new Date(),
+      claimed_at: null,
+      claimed_by: null,
+    });
 }
 
 /** Sends what is due. Returns how many were sent. Safe to call concurrently (rows are claimed). */
 export async function processOutbox(db: Knex, limit = 20): Promise<number> {
   if (!transporter) return 0;
+  const requeued = await requeueStale(db);
+  if (requeued) mailLog.warn({ requeued }, 'rows left sending by a stopped server were queued again');
   const due = await db('mail_outbox')
     .where({ status: 'queued' })
     .andWhere('next_attempt_at', '<=', new Date())
@@ -96,13 +128,20 @@ export async function processOutbox(db: Knex, limit = 20): Promise<number> {
   for (const m of due) {
     const claimed = await db('mail_outbox')
       .where({ id: m.id, status: 'queued', attempts: m.attempts })
-      .update({ status: 'sending' });
+      .update({ status: 'sending', claimed_at: new Date(), claimed_by: PROCESS_ID });
     if (!claimed) continue;
     try {
       await transporter.sendMail({ from: fromAddress, to: m.to_address, subject: m.subject, text: m.body });
       await db('mail_outbox')
         .where({ id: m.id })
-        .update({ status: 'sent', sent_at: new Date(), attempts: m.attempts + 1, last_error: null });
+        .update({
+          status: 'sent',
+          sent_at: new Date(),
+          attempts: m.attempts + 1,
+          last_error: null,
+          claimed_at: null,
+          claimed_by: null,
+        });
       sent++;
     } catch (e) {
       const attempts = m.attempts + 1;
@@ -115,10 +154,10 @@ export async function processOutbox(db: Knex, limit = 20): Promise<number> {
           attempts,
           last_error: String((e as Error).message ?? e).slice(0, 2000),
           next_attempt_at: new Date(Date.now() + delayMs),
+          claimed_at: null,
+          claimed_by: null,
         });
-      console.error(
-        `[mail] sending #${m.id} failed (attempt ${attempts}${failed ? ', giving up' : ''}): ${(e as Error).message}`,
-      );
+      mailLog.error({ mailId: m.id, attempts, gaveUp: failed, err: safeError(e) }, 'sending failed');
     }
   }
   return sent;

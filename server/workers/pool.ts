@@ -12,6 +12,7 @@ import { createRequire } from 'node:module';
 import os from 'node:os';
 import { pathToFileURL } from 'node:url';
 import { Piscina } from 'piscina';
+import { computeDuration } from '../lib/metrics';
 import { ownsItsMemory } from '../lib/upload';
 import {
   type IdentityMethod,
@@ -69,9 +70,12 @@ async function run<T>(task: Task, lend?: Upload): Promise<T> {
   const buf = lend?.buffer;
   const transferable = !!buf && ownsItsMemory(buf);
   let out: TaskReply;
+  const timer = computeDuration.startTimer({ task: task.op });
   try {
     out = (await getPool().run(task, transferable ? { transferList: [buf!.buffer as ArrayBuffer] } : {})) as TaskReply;
+    timer({ outcome: out.ok ? 'ok' : 'refused' });
   } catch (e) {
+    timer({ outcome: 'error' });
     // The worker died: its bytes are gone with it. The request fails; keep the object usable.
     if (transferable && lend && lend.buffer.byteLength === 0) lend.buffer = Buffer.alloc(0);
     throw e;

@@ -38,6 +38,8 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
 
 /** Read routes closed to auditors, each with why (everything else must be open to them). */
 const NOT_FOR_AUDITORS: Record<string, string> = {
+  'get /api/metrics':
+    'Operating figures (latency, queue depths, pool use) for the administrator and the monitoring scraper; no GMP record is in them (docs/access.md).',
   'get /api/users':
     "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
   'get /api/users/:id': 'As above.',

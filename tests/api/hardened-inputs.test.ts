@@ -10,6 +10,7 @@
  * - every multipart parser error is a 4xx in the error shape with no stack trace in the log;
  * - a maximum-size spectrum is read and scored in the compute pool and stored byte for byte.
  */
+import { log } from '../../server/lib/log';
 import net from 'node:net';
 import type { AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
@@ -208,7 +209,7 @@ describe('multipart uploads: every parser error is a 4xx without a stack trace (
     'Connection: close\r\n\r\n';
 
   async function expectRefused(h: string, body: string, status: number, code: string) {
-    const errors = vi.spyOn(console, 'error');
+    const errors = vi.spyOn(log, 'error');
     const before = await writeCounts();
     const res = await rawRequest(port, h, body);
     expect(res.status).toBe(status);

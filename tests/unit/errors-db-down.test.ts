@@ -7,6 +7,7 @@
  * server gone away, 2013 lost connection during query). tests/api/db-killed.test.ts kills a real
  * server under load.
  */
+import { log as appLog } from '../../server/lib/log';
 import { describe, expect, it, vi } from 'vitest';
 import { errorHandler, isDbDown } from '../../server/lib/errors';
 
@@ -65,7 +66,7 @@ function run(err: unknown) {
 
 describe('lost database connections answer 503', () => {
   it.each(LOST)('%s', (_what, err) => {
-    const log = vi.spyOn(console, 'error').mockImplementation(() => undefined);
+    const log = vi.spyOn(appLog, 'error').mockImplementation(() => undefined);
     expect(isDbDown(err)).toBe(true);
     const res = run(err);
     expect(res.statusCode).toBe(503);
@@ -87,7 +88,7 @@ describe('lost database connections answer 503', () => {
     expect(isDbDown(trigger)).toBe(false);
     expect(isDbDown(syntax)).toBe(false);
     expect(run(dup).statusCode).toBe(409);
-    const log = vi.spyOn(console, 'error').mockImplementation(() => undefined);
+    const log = vi.spyOn(appLog, 'error').mockImplementation(() => undefined);
     expect(run(syntax).statusCode).toBe(500);
     log.mockRestore();
   });

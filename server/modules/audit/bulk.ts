@@ -5,6 +5,7 @@
  * audit_head row lock, like appendAudit; times never go backwards (clamped to the last event).
  * Not used by the application's own routes.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { lockHead, rowHash, type Actor, type AuditRow } from '../../lib/audit';
 import { canonicalJson } from '../../lib/canonical';
@@ -36,7 +37,7 @@ export async function bulkAppendAudit(
   let lastId = 0;
   for (let start = 0; start < count; start += chunkSize) {
     const end = Math.min(count, start + chunkSize);
-    await db.transaction(async (trx) => {
+    await transactionWithRetry(db, async (trx) => {
       const head = await lockHead(trx);
       let id = head.lastId;
       let prev: string = head.lastHash;

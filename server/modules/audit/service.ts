@@ -3,6 +3,7 @@
  * exports (CSV streamed page by page with back-pressure, PDF report capped). Every export is
  * itself an audit event ('audit.exported', with the filter) written before any data leaves.
  */
+import { childLog, safeError } from '../../lib/log';
 import type { Response } from 'express';
 import type { Knex } from 'knex';
 import { auditNow, type Actor, type AuditRow } from '../../lib/audit';
@@ -244,7 +245,7 @@ export async function exportCsv(
     if (!closed) res.end();
   } catch (e) {
     // Headers are gone: the only honest signal left is to break the connection.
-    console.error('[audit export] failed', e);
+    childLog('audit-export').error({ err: safeError(e) }, 'audit export failed mid-stream');
     res.destroy(e as Error);
   }
 }

@@ -5,6 +5,7 @@
  * body - after the same work (one Argon2id verification and one audit transaction), so the answer
  * does not tell whether an account exists or is locked.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, auditNow } from '../../lib/audit';
 import type { AppConfig } from '../../lib/config';
@@ -53,7 +54,7 @@ export async function signIn(db: Knex, cfg: AppConfig, username: string, passwor
     await recordCredentialFailure(db, { userId: u.id, check: 'sign-in', reason: 'wrong password', ip });
     throw signInFailed();
   }
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     await users.updateUser(trx, u.id, { failed_attempts: 0, locked_until: null });
     // Periodic revision of passwords (21 CFR 11.300(b)): past the maximum age the password must be changed now.
     const changedAt = new Date(u.password_changed_at ?? u.created_at).getTime();
@@ -85,7 +86,7 @@ export async function signIn(db: Knex, cfg: AppConfig, username: string, passwor
 }
 
 export async function signOut(db: Knex, user: AuthUser, ip: string | null): Promise<void> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await invalidateSession(trx, user.sessionId);
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },
@@ -135,7 +136,7 @@ export async function changePassword(
       `The new password must differ from your last ${PASSWORD_HISTORY} passwords (the current one included). Choose one you have not used here before.`,
     );
   const hash = await hashPassword(next);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await users.updateUser(trx, u.id, {
       password_hash: hash,
       must_change_password: 0,

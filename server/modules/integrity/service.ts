@@ -369,7 +369,7 @@ export async function signOffAlert(db: Knex, user: AuthUser, id: number, input: 
     ip,
   });
   const comment = input.comment.trim();
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     if (await trx('integrity_signoff').where({ alert_id: id }).forUpdate().first())
       throw conflict('This alert was signed off meanwhile by someone else.');
     const sig = await recordSignature(trx, {
@@ -629,7 +629,7 @@ export async function runSweep(db: Knex, runId: number, leaseMs = 120_000): Prom
 export async function requestSweep(db: Knex, user: AuthUser, ip: string | null): Promise<IntegrityRun> {
   const open = await db('integrity_run').whereIn('status', ['queued', 'running']).orderBy('id').first();
   if (open) return toRun(open, null);
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const [id] = await trx('integrity_run').insert({
       origin: 'request',
       requested_by: user.id,

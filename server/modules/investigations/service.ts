@@ -8,6 +8,7 @@
  * lot. Each step is an e-signature and an audit event; mail tells QA when one opens and closes.
  * There is no other way to retest a failed container: see testing/service.ts.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
@@ -166,7 +167,7 @@ export async function recordPhase1(
     entityId: id,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
     if (!row || row.status !== 'open')
       throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
@@ -246,7 +247,7 @@ export async function invalidateResult(
   });
   const retest = [...new Set(input.retestContainerIds)].sort((a, b) => a - b);
   const labels = inv.failing.filter((f) => retest.includes(f.containerId)).map((f) => f.label);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
     if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
     const content = {
@@ -331,7 +332,7 @@ export async function confirmFailure(
     entityId: id,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await repo.lockInvestigation(trx, id);
     if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
     const content = {

@@ -23,6 +23,7 @@
  * - Retirement: qa_manager, a reason and a signature (meaning "retired"); drafts may be retired
  *   too (a bad upload is withdrawn, not deleted).
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
@@ -117,7 +118,7 @@ export async function uploadReferences(
 
   // 2. One transaction for the whole batch.
   const actor: Actor = { id: user.id, name: user.fullName };
-  const ids = await db.transaction(async (trx) => {
+  const ids = await transactionWithRetry(db, async (trx) => {
     await trx('material').where({ id: materialId }).forUpdate().first();
     const existing = await trx('reference_spectrum').where({ material_id: materialId }).count({ n: '*' }).first();
     let seq = Number(existing?.n ?? 0);
@@ -302,7 +303,7 @@ export async function updateBands(
   input: { bands: { position: number; assignment?: string }[]; reason: string },
   ip: string | null,
 ): Promise<ReferenceDetail> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const before = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (!before) throw notFound('The reference spectrum');
     if (before.status !== 'draft')
@@ -497,7 +498,7 @@ export async function approveReference(
   }
   const justification = override?.justification ?? null;
   const meaning = override ? 'approved-with-justification' : 'approved';
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (row.status !== 'draft') throw conflict(`Reference ${row.code} was ${row.status} meanwhile by someone else.`);
     if (row.bands !== r.bands)
@@ -574,7 +575,7 @@ export async function retireReference(
     entityId: id,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (row.status === 'retired') throw conflict(`Reference ${row.code} was retired meanwhile.`);
     const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();

@@ -14,6 +14,7 @@
  * - Method approval is an e-signature (meaning "approved") by a qa_manager over
  *   {methodId, materialId, version, technique, params}.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
@@ -125,7 +126,7 @@ export async function createMaterial(
 ): Promise<Material & { draftMethodId: number }> {
   if (await db('material').where({ code: input.code }).first())
     throw conflict(`A material with the code "${input.code}" already exists.`);
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     const now = new Date();
     const id = await repo.insertMaterial(trx, {
       code: input.code,
@@ -184,7 +185,7 @@ export async function updateMaterial(
   patch: MaterialUpdate,
   ip: string | null,
 ): Promise<Material> {
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     const before = await trx('material').where({ id }).forUpdate().first();
     if (!before) throw notFound('The material');
     const upd: Record<string, unknown> = { updated_at: new Date() };
@@ -261,7 +262,7 @@ export async function createMethodVersion(
   ip: string | null,
 ): Promise<MethodWithSignatures> {
   if (input.params) assertMethodValid(input.params);
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const mat = await trx('material').where({ id: materialId }).forUpdate().first();
     if (!mat) throw notFound('The material');
     const draft = await repo.draftMethodOf(trx, materialId);
@@ -305,7 +306,7 @@ export async function updateMethod(
   ip: string | null,
 ): Promise<MethodWithSignatures> {
   if (patch.params) assertMethodValid(patch.params);
-  const outcome = await db.transaction(async (trx) => {
+  const outcome = await transactionWithRetry(db, async (trx) => {
     const before = await trx('identity_method').where({ id: methodId }).forUpdate().first();
     if (!before) throw notFound('The identity method');
     await trx('material').where({ id: before.material_id }).forUpdate().first();
@@ -627,7 +628,7 @@ export async function approveMethod(
   });
   const pdf = await validationRecordPdf(record, user.fullName);
   const pdfSha = sha256Hex(pdf);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('identity_method').where({ id: methodId }).forUpdate().first();
     if (row.status !== 'draft') throw conflict(`Version ${row.version} was approved meanwhile by someone else.`);
     if (row.params !== m.params)

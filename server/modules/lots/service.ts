@@ -4,6 +4,7 @@
  * of a grade that has an approved identity method and at least one approved reference; Drumline
  * gives it an internal lot number and one labelled container per drum or bag.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { formatSiteDate } from '../../lib/contract';
@@ -92,7 +93,7 @@ export async function receiveLot(
   if (input.receivedDate > today)
     throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
   const now = new Date();
-  const { id, number } = await db.transaction(async (trx) => {
+  const { id, number } = await transactionWithRetry(db, async (trx) => {
     const created = await insertWithNextNumber(trx, {
       table: 'lot',
       column: 'lot_number',

@@ -4,6 +4,7 @@
  * verification: the lot then shows "certificate pending" (no certificate row yet), QA's work queue
  * lists it with a retry action and the background retry issues it (docs/certificates.md).
  */
+import { childLog } from '../../lib/log';
 import type { Knex } from 'knex';
 import type { Actor } from '../../lib/audit';
 import { failureSentence, issueCertificate } from '../certificates';
@@ -16,10 +17,9 @@ export async function runCertificateStep(
     await issueCertificate(db, args);
     return 'issued';
   } catch (e) {
-    // one sentence, never the PDF or an SQL statement with its values (docs/certificates.md)
-    console.error(
-      `[certificate] lot ${args.lotId}: the certificate could not be issued now; it stays pending:`,
-      failureSentence(e),
+    childLog('certificate').error(
+      { lotId: args.lotId, reason: failureSentence(e) },
+      'the certificate could not be issued now; it stays pending',
     );
     return 'pending';
   }

@@ -9,6 +9,8 @@
  * result in the attempt is a FAIL cannot be measured again in that attempt; the only way to
  * a new result is QA invalidating it in an investigation and authorising a retest attempt.
  */
+import { transactionWithRetry } from '../../lib/retry';
+import { childLog, safeError } from '../../lib/log';
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { storeFile } from '../../lib/files';
@@ -81,7 +83,7 @@ export async function startTest(
   const set = await approvedSetFor(lot.material.id, db);
   await usableInstrument(db, instrumentId, set.method.technique);
   const actor = { id: user.id, name: user.fullName };
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     const row = await lots.lockLot(trx, lotId);
     if (!row) throw notFound('The lot');
     if (row.status !== 'quarantine') throw conflict(`Lot ${row.lot_number} is ${row.status}; it cannot be tested.`);
@@ -180,7 +182,7 @@ export async function switchInstrument(
   const ctx = await loadContext(db, testId);
   const method = await db('identity_method').where({ id: ctx.test.method_id }).first();
   await usableInstrument(db, instrumentId, method.technique);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const t = await repo.lockTest(trx, testId);
     if (!t || t.status !== 'in-progress') throw conflict('Only a test in progress can change its instrument.');
     if (t.instrument_id === instrumentId) return;
@@ -261,7 +263,7 @@ async function libraryHint(
       : 'Closest approved materials: none found in the approved library for this technique.';
     return { hint, text };
   } catch (e) {
-    console.error('[testing] library search for the mix-up hint failed:', (e as Error).message);
+    childLog('testing').error({ err: safeError(e) }, 'library search for the mix-up hint failed');
     return { hint: null, text: 'Closest approved materials: the library search was not available.' };
   }
 }
@@ -379,7 +381,7 @@ export async function addMeasurement(
   const best = result.references.find((r) => r.referenceId === result.bestReferenceId);
   const score = best ? best.correlation : null;
 
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     // Locking the test serialises uploads of one attempt (kept in order) and signing against uploads.
     const t = await repo.lockTest(trx, testId);
     if (!t || t.status !== 'in-progress') throw conflict('The test is no longer in progress; nothing was stored.');

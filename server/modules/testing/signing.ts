@@ -9,6 +9,7 @@
  * inside the transaction, so of two verifiers signing at once exactly one signature is stored
  * and the other gets 409.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
@@ -53,7 +54,7 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
     entityId: testId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'in-progress') throw statusConflict(ctx, 'signed performed');
     const r = readiness(ctx.containers, ctx.scope, ctx.measurements);
@@ -172,7 +173,7 @@ export async function verify(
     ip,
   });
   const actor = { id: user.id, name: user.fullName };
-  const outcome = await db.transaction(async (trx) => {
+  const outcome = await transactionWithRetry(db, async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'awaiting-verification') throw statusConflict(ctx, 'verified');
     assertIndependent(ctx, user, 'verify');
@@ -307,7 +308,7 @@ export async function returnTest(
     entityId: testId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const ctx = await loadContext(trx, testId, true);
     if (ctx.test.status !== 'awaiting-verification') throw statusConflict(ctx, 'returned');
     assertIndependent(ctx, user, 'return');

@@ -9,6 +9,7 @@
  * - Nobody changes their own roles, and the administrator role is held alone.
  * Every step is audited in the same transaction; a request is mailed to the other administrators.
  */
+import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
@@ -220,7 +221,7 @@ export async function confirmRoleChange(
     ip,
   });
   const actor: Actor = { id: user.id, name: user.fullName };
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const r = await lockedRequest(trx, requestId);
     const subject = await trx('app_user').where({ id: r.user_id }).forUpdate().first();
     if (subject.roles !== r.roles_before)
@@ -283,7 +284,7 @@ export async function confirmRoleChange(
 }
 
 export async function declineRoleChange(db: Knex, actor: Actor, requestId: number, reason: string, ip: string | null) {
-  const userId = await db.transaction(async (trx) => {
+  const userId = await transactionWithRetry(db, async (trx) => {
     const r = await lockedRequest(trx, requestId);
     if (r.user_id === actor.id) throw forbidden('Nobody decides a change of their own roles.');
     const decision = r.requested_by === actor.id ? 'withdrawn' : 'declined';
