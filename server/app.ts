@@ -26,6 +26,7 @@ import { lotRoutes } from './modules/lots/routes';
 import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
+import { supplierRoutes } from './modules/suppliers/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 
@@ -80,6 +81,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    supplierRoutes(),
   ];
   for (const r of routers) app.use(r);
 

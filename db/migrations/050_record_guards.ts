@@ -16,7 +16,7 @@ import { appendOnly, dropAppendOnly, dropGuard, guardRows, type GuardSpec } from
 
 const APPEND_ONLY = ['stored_file', 'measurement', 'container'];
 
-const GUARDS: GuardSpec[] = [
+export const GUARDS: GuardSpec[] = [
   {
     table: 'identity_method',
     fixed: ['id', 'material_id', 'version', 'supersedes_id', 'created_by', 'created_at'],

@@ -15,6 +15,7 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m140 from './140_suppliers';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -33,6 +34,7 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['140_suppliers', m140],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -67,6 +69,9 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'supplier',
+  'material_source',
+  'source_status',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */

@@ -26,6 +26,7 @@ import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import {
   DEMO_INSTRUMENTS,
   DEMO_LOTS,
+  DEMO_SUPPLIERS,
   DRAFT_REFERENCE_MATERIAL,
   type DemoSpectrum,
   demoSpectra,
@@ -256,12 +257,109 @@ const PHASE1_NO_LAB_ERROR = {
   },
 };
 
-async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<string, number>> {
+/** Demo-only suppliers beyond those of the demo lots: one blocked, one conditional, one new. */
+export const DEMO_EXTRA_SOURCES = [
+  {
+    supplier: 'Brackwater Trading (broker)',
+    material: 'lactose-monohydrate',
+    status: 'blocked' as const,
+    reason: 'Broker could not name the manufacturing site of its last delivery; blocked pending audit.',
+  },
+  {
+    supplier: 'Oskarsfeld Chemie',
+    material: 'paracetamol',
+    status: 'conditional' as const,
+    conditions:
+      'Certificate of analysis reviewed against the specification for every lot until the audit of March closes.',
+    reason: 'Questionnaire accepted; on-site audit scheduled.',
+  },
+  {
+    supplier: 'Veltmoor Minerals',
+    material: 'maize-starch',
+    status: 'new' as const,
+    reason: 'Second source under evaluation.',
+  },
+];
+
+/** The justification of the demo's one reduced sampling plan (QA's validation record, invented). */
+export const DEMO_REDUCED_PLAN = {
+  supplier: DEMO_SUPPLIERS.quellmoor,
+  material: 'lactose-monohydrate',
+  justification:
+    'Validated reduced sampling (VAL-SAM-014): manufacturer-sealed bags direct from the producing site, audited 2025, ' +
+    '36 consecutive lots concordant on every container; dedicated product, no broker.',
+};
+
+/**
+ * The supplier master: every supplier of the demo lots is recorded by QA and approved as a source
+ * of its grades (qualified, every container sampled; one reduced plan with its justification), and
+ * three sources in the other states.
+ */
+async function seedSuppliers(p: People, ids: DemoIds, log: Log): Promise<Map<string, number>> {
+  const supplierIds = new Map<string, number>();
+  const sup = async (name: string) => {
+    if (!supplierIds.has(name)) {
+      const s = await p.quinn.post<{ id: number }>('/api/suppliers', {
+        name,
+        kind: 'supplier',
+        signature: p.quinn.sig(),
+      });
+      supplierIds.set(name, s.id);
+    }
+    return supplierIds.get(name)!;
+  };
+  const source = async (material: string, supplier: string, reason: string) =>
+    p.quinn.post<{ id: number }>('/api/sources', {
+      materialId: ids.materials[material],
+      supplierId: await sup(supplier),
+      reason,
+      signature: p.quinn.sig(),
+    });
+  const today = daysAgo(60);
+  const pairs = [...new Set(DEMO_LOTS.map((l) => `${l.material}|${l.supplier}`))];
+  for (const pair of pairs) {
+    const [material, supplier] = pair.split('|');
+    const src = await source(material, supplier, 'Long-standing supplier of this grade.');
+    const reduced = material === DEMO_REDUCED_PLAN.material && supplier === DEMO_REDUCED_PLAN.supplier;
+    await p.quinn.post(`/api/sources/${src.id}/status`, {
+      status: 'qualified',
+      samplingPlan: reduced ? 'sqrt-n-plus-1' : 'every-container',
+      samplingJustification: reduced ? DEMO_REDUCED_PLAN.justification : null,
+      effectiveFrom: today,
+      reviewBy: null,
+      reason: 'Supplier audit passed; quality agreement signed.',
+      signature: p.quinn.sig(),
+    });
+  }
+  for (const x of DEMO_EXTRA_SOURCES) {
+    const src = await source(x.material, x.supplier, x.reason);
+    if (x.status === 'new') continue;
+    await p.quinn.post(`/api/sources/${src.id}/status`, {
+      status: x.status,
+      conditions: 'conditions' in x ? x.conditions : null,
+      samplingPlan: 'every-container',
+      effectiveFrom: today,
+      reason: x.reason,
+      signature: p.quinn.sig(),
+    });
+  }
+  log(
+    `${supplierIds.size} suppliers, ${pairs.length + DEMO_EXTRA_SOURCES.length} sources (qualified, conditional, blocked, new)`,
+  );
+  return supplierIds;
+}
+
+async function seedLots(
+  p: People,
+  ids: DemoIds,
+  supplierIds: Map<string, number>,
+  log: Log,
+): Promise<Record<string, number>> {
   const lotIds: Record<string, number> = {};
   for (const l of DEMO_LOTS) {
     const lot = await p.olga.post<LotDetail>('/api/lots', {
       materialId: ids.materials[l.material],
-      supplier: l.supplier,
+      supplierId: supplierIds.get(l.supplier),
       supplierLot: l.supplierLot,
       containerCount: l.containers,
       receivedDate: daysAgo(l.receivedDaysAgo),
@@ -393,7 +491,8 @@ export async function seedDemoSite(
     const ids: DemoIds = { materials: {}, methods: {}, instruments: {}, references: {} };
     await seedInstruments(p, ids, log);
     await seedLibrary(p, ids, log);
-    const lots = await seedLots(p, ids, log);
+    const supplierIds = await seedSuppliers(p, ids, log);
+    const lots = await seedLots(p, ids, supplierIds, log);
     const adam = await signIn('adam');
     await seedRoleRequest(adam, log);
     await seedNewHire(adam, log);

@@ -141,6 +141,14 @@ export const SIGNATURE_MEANINGS = [
   'issued',
   'role-change-confirmed',
   'integrity-reviewed',
+  'source-recorded',
+  'source-status-set',
+  'material-profile-approved',
+  'line-cleared',
+  'sampled',
+  'check-recorded',
+  'released',
+  'rejected',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -159,6 +167,14 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   issued: 'Issued',
   'role-change-confirmed': 'Role change confirmed by a second administrator',
   'integrity-reviewed': 'Integrity alert reviewed by QA',
+  'source-recorded': 'Supplier or source recorded by QA',
+  'source-status-set': 'Qualification status of a source set by QA',
+  'material-profile-approved': 'Material master data approved by QA',
+  'line-cleared': 'Line clearance of the sampling area',
+  sampled: 'Sampling performed',
+  'check-recorded': 'Release check recorded',
+  released: 'Released by QA',
+  rejected: 'Rejected by QA',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */

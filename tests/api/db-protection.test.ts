@@ -17,7 +17,14 @@ import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
-import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
+import {
+  approvedMaterial,
+  FIBRES,
+  instrumentWithCheck,
+  retire,
+  supplierFor,
+  type ApprovedMaterial,
+} from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
 
 let owner: Knex;
@@ -33,6 +40,8 @@ beforeAll(async () => {
   owner = ownerDb();
   material = await approvedMaterial({ name: 'Nylon 6,6 (protection test)', referenceFiles: [FIBRES.nylon66Reference] });
   failedCheck = await instrumentWithCheck('failed');
+  // a supplier, a source of the material and its status history (supplier master, issue 14)
+  await supplierFor(material.materialId, { status: 'blocked' });
   lot = await createPassedLot(db(), { containers: 2 });
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
@@ -199,6 +208,9 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    supplier: { column: 'name', value: 'Renamed Ltd' },
+    material_source: { column: 'manufacturer_key', value: 99 },
+    source_status: { column: 'status', value: 'qualified' },
   };
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());

@@ -23,7 +23,7 @@ import {
   type SeededMaterial,
 } from '../../db/seeds/testing-library';
 import type { Role } from '../../server/lib/contract';
-import { agentFor, db, makeUser, uniqueName } from './helpers';
+import { agentFor, db, makeUser, sig, uniqueName } from './helpers';
 
 export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
@@ -50,6 +50,8 @@ export async function account(roles: Role[]) {
 export async function retire(): Promise<void> {
   if (made.length) await db()('app_user').whereIn('id', made.splice(0)).update({ active: 0 });
   qaCache = null;
+  qaAgentCache = null;
+  sourceCache.clear();
 }
 
 let qaCache: { id: number; fullName: string } | null = null;
@@ -94,15 +96,72 @@ export async function instrumentWithCheck(
 
 type Agent = SupertestAgent;
 
+let qaAgentCache: Awaited<ReturnType<typeof agentFor>> | null = null;
+/** A QA manager signed in through the API, for the supplier master steps of the fixtures. */
+export async function fixtureQaAgent() {
+  if (!qaAgentCache) {
+    qaAgentCache = await agentFor(['qa_manager']);
+    made.push(qaAgentCache.user.id);
+  }
+  return qaAgentCache;
+}
+
+const sourceCache = new Map<number, number>();
+/**
+ * A supplier recorded by QA and approved as a source of the material with the given status
+ * (default: qualified, every container sampled), through the supplier-master API. Returns its id.
+ */
+export async function supplierFor(
+  materialId: number,
+  opts: {
+    status?: string;
+    samplingPlan?: string;
+    samplingJustification?: string;
+    conditions?: string;
+    fresh?: boolean;
+  } = {},
+): Promise<{ supplierId: number; sourceId: number }> {
+  if (!opts.fresh && !opts.status && sourceCache.has(materialId)) {
+    const sourceId = sourceCache.get(materialId)!;
+    const row = await db()('material_source').where({ id: sourceId }).first();
+    return { supplierId: row.supplier_id as number, sourceId };
+  }
+  const qa = await fixtureQaAgent();
+  const s = await qa.agent
+    .post('/api/suppliers')
+    .send({ name: uniqueName('Brightwater Fibres '), kind: 'supplier', signature: sig(qa.user) });
+  if (s.status !== 201) throw new Error(`supplier failed: ${s.status} ${JSON.stringify(s.body)}`);
+  const src = await qa.agent
+    .post('/api/sources')
+    .send({ materialId, supplierId: s.body.id, reason: 'approved for the tests', signature: sig(qa.user) });
+  if (src.status !== 201) throw new Error(`source failed: ${src.status} ${JSON.stringify(src.body)}`);
+  const status = opts.status ?? 'qualified';
+  if (status !== 'new') {
+    const st = await qa.agent.post(`/api/sources/${src.body.id}/status`).send({
+      status,
+      samplingPlan: opts.samplingPlan ?? 'every-container',
+      samplingJustification: opts.samplingJustification ?? null,
+      conditions: opts.conditions ?? null,
+      effectiveFrom: new Date().toISOString().slice(0, 10),
+      reason: `set to ${status} for the tests`,
+      signature: sig(qa.user),
+    });
+    if (st.status !== 200) throw new Error(`source status failed: ${st.status} ${JSON.stringify(st.body)}`);
+  }
+  if (!opts.status && !opts.fresh) sourceCache.set(materialId, src.body.id as number);
+  return { supplierId: s.body.id as number, sourceId: src.body.id as number };
+}
+
 export async function receiveLot(
   agent: Agent,
   materialId: number,
   containerCount: number,
   extra: Record<string, unknown> = {},
 ) {
+  const supplierId = extra.supplierId ?? (await supplierFor(materialId)).supplierId;
   const res = await agent.post('/api/lots').send({
     materialId,
-    supplier: 'Brightwater Fibres (invented)',
+    supplierId,
     supplierLot: 'SL-' + Math.random().toString(36).slice(2, 8).toUpperCase(),
     containerCount,
     receivedDate: new Date().toISOString().slice(0, 10),

@@ -7,6 +7,14 @@ export interface LotRow {
   lot_number: string;
   material_id: number;
   supplier: string;
+  supplier_id: number | null;
+  manufacturer_id: number | null;
+  source_id: number | null;
+  source_status: 'new' | 'qualified' | 'conditional' | null;
+  source_conditions: string | null;
+  first_delivery: number | boolean;
+  sampling_plan: 'every-container' | 'sqrt-n-plus-1' | null;
+  sample_count: number | null;
   supplier_lot: string;
   container_count: number;
   received_date: Date | string;
@@ -25,7 +33,7 @@ export interface ContainerRow {
   label: string;
 }
 
-type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string };
+type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string; mf_name: string | null };
 
 /** DATE columns come back as a Date at UTC midnight (connection time zone Z). */
 export function dateOnly(v: Date | string): string {
@@ -39,6 +47,16 @@ export function toLotSummary(r: LotJoined): LotSummary {
     lotNumber: r.lot_number,
     material: { id: r.material_id, code: r.m_code, name: r.m_name, grade: r.m_grade },
     supplier: r.supplier,
+    supplierId: r.supplier_id,
+    manufacturer: r.manufacturer_id ? { id: r.manufacturer_id, name: r.mf_name ?? '' } : null,
+    source: {
+      id: r.source_id,
+      statusAtReceipt: r.source_status,
+      conditions: r.source_conditions,
+      firstDelivery: !!r.first_delivery,
+      samplingPlan: r.sampling_plan,
+      sampleCount: r.sample_count,
+    },
     supplierLot: r.supplier_lot,
     containerCount: r.container_count,
     receivedDate: dateOnly(r.received_date),
@@ -55,7 +73,15 @@ export function lotQuery(db: Db) {
   return db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .join('app_user as u', 'u.id', 'l.created_by')
-    .select('l.*', 'm.code as m_code', 'm.name as m_name', 'm.grade as m_grade', 'u.full_name as u_name');
+    .leftJoin('supplier as mf', 'mf.id', 'l.manufacturer_id')
+    .select(
+      'l.*',
+      'm.code as m_code',
+      'm.name as m_name',
+      'm.grade as m_grade',
+      'u.full_name as u_name',
+      'mf.name as mf_name',
+    );
 }
 
 export async function findLot(db: Db, id: number): Promise<LotSummary | undefined> {

@@ -13,6 +13,7 @@ import * as inv from '../investigations/repo';
 import { scopesOf } from '../testing/context';
 import { effectiveResults, latestByContainer } from '../testing/outcome';
 import * as testing from '../testing/repo';
+import { sourceForReceipt } from '../suppliers/service';
 import { insertWithNextNumber, yearOf } from './numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
@@ -66,6 +67,14 @@ export async function receiveLot(
   const today = siteToday(siteTimeZone);
   if (input.receivedDate > today)
     throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
+  // The approved source and its status decide whether the lot may be received and how it is sampled.
+  const source = await sourceForReceipt(db, actor, {
+    materialId: input.materialId,
+    supplierId: input.supplierId,
+    manufacturerId: input.manufacturerId ?? null,
+    containerCount: input.containerCount,
+    ip,
+  });
   const now = new Date();
   const { id, number } = await db.transaction(async (trx) => {
     const created = await insertWithNextNumber(trx, {
@@ -76,7 +85,15 @@ export async function receiveLot(
       row: (lotNumber) => ({
         lot_number: lotNumber,
         material_id: input.materialId,
-        supplier: input.supplier,
+        supplier: source.supplier.name,
+        supplier_id: source.supplier.id,
+        manufacturer_id: source.manufacturerId,
+        source_id: source.sourceId,
+        source_status: source.status,
+        source_conditions: source.conditions,
+        first_delivery: source.firstDelivery,
+        sampling_plan: source.samplingPlan,
+        sample_count: source.sampleCount,
         supplier_lot: input.supplierLot,
         container_count: input.containerCount,
         received_date: input.receivedDate,
@@ -103,7 +120,15 @@ export async function receiveLot(
         lotNumber: created.number,
         materialId: input.materialId,
         material: `${material.name} (${material.code})`,
-        supplier: input.supplier,
+        supplier: source.supplier.name,
+        supplierId: source.supplier.id,
+        manufacturerId: source.manufacturerId,
+        sourceId: source.sourceId,
+        sourceStatus: source.status,
+        sourceConditions: source.conditions,
+        firstDelivery: source.firstDelivery,
+        samplingPlan: source.samplingPlan,
+        sampleCount: source.sampleCount,
         supplierLot: input.supplierLot,
         containerCount: input.containerCount,
         receivedDate: input.receivedDate,
