@@ -27,6 +27,7 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { supplierRoutes } from './modules/suppliers/routes';
+import { dispositionRoutes } from './modules/disposition/routes';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 
@@ -82,6 +83,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),
+    dispositionRoutes(),
   ];
   for (const r of routers) app.use(r);
 

@@ -16,6 +16,7 @@ import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
 import * as m140 from './140_suppliers';
+import * as m141 from './141_material_profile';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -35,6 +36,7 @@ export const migrations: [string, Migration][] = [
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
   ['140_suppliers', m140],
+  ['141_material_profile', m141],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -72,6 +74,7 @@ export const appendOnlyTables = [
   'supplier',
   'material_source',
   'source_status',
+  'material_profile',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */

@@ -21,6 +21,7 @@ import {
   approvedMaterial,
   FIBRES,
   instrumentWithCheck,
+  profileFor,
   retire,
   supplierFor,
   type ApprovedMaterial,
@@ -42,6 +43,7 @@ beforeAll(async () => {
   failedCheck = await instrumentWithCheck('failed');
   // a supplier, a source of the material and its status history (supplier master, issue 14)
   await supplierFor(material.materialId, { status: 'blocked' });
+  await profileFor(material.materialId);
   lot = await createPassedLot(db(), { containers: 2 });
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
@@ -211,6 +213,7 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     supplier: { column: 'name', value: 'Renamed Ltd' },
     material_source: { column: 'manufacturer_key', value: 99 },
     source_status: { column: 'status', value: 'qualified' },
+    material_profile: { column: 'retest_months', value: 120 },
   };
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());

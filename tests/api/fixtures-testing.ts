@@ -152,6 +152,27 @@ export async function supplierFor(
   return { supplierId: s.body.id as number, sourceId: src.body.id as number };
 }
 
+/** A disposition profile of the material approved by the fixture QA manager (retest 24 months, CoA review and appearance). */
+export async function profileFor(
+  materialId: number,
+  checks: { key: string; kind: string; label: string }[] = [
+    { key: 'coa-review', kind: 'coa-review', label: 'CoA reviewed against the specification' },
+    { key: 'appearance', kind: 'appearance', label: 'Appearance as specified' },
+  ],
+) {
+  const qa = await fixtureQaAgent();
+  const res = await qa.agent.post(`/api/material-profiles/${materialId}`).send({
+    retestMonths: 24,
+    shelfLifeMonths: 36,
+    riskClass: 'medium',
+    checks,
+    reason: 'profile for the tests',
+    signature: sig(qa.user),
+  });
+  if (res.status !== 201) throw new Error(`profile failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body;
+}
+
 export async function receiveLot(
   agent: Agent,
   materialId: number,
