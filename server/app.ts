@@ -28,6 +28,10 @@ import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { supplierRoutes } from './modules/suppliers/routes';
 import { dispositionRoutes } from './modules/disposition/routes';
+import { samplingRoutes } from './modules/sampling/routes';
+import { integrationRoutes } from './modules/integration/routes';
+import { machineTokenMiddleware } from './modules/integration/tokens';
+import { startWebhookJob } from './modules/integration/outbox';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 
@@ -67,6 +71,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use(cookieParser());
   app.use('/api', originCheck(config));
   app.use('/api', sessionMiddleware(config));
+  app.use('/api', machineTokenMiddleware());
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
@@ -83,7 +88,9 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),
-    dispositionRoutes(),
+    dispositionRoutes(config),
+    integrationRoutes(config),
+    samplingRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
@@ -109,6 +116,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startWebhookJob(getDb());
     },
   ];
   return { app, config };

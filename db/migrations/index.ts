@@ -17,6 +17,9 @@ import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
 import * as m140 from './140_suppliers';
 import * as m141 from './141_material_profile';
+import * as m142 from './142_sampling';
+import * as m143 from './143_disposition';
+import * as m144 from './144_integration';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -37,6 +40,9 @@ export const migrations: [string, Migration][] = [
   ['061_sign_in_rate', m061],
   ['140_suppliers', m140],
   ['141_material_profile', m141],
+  ['142_sampling', m142],
+  ['143_disposition', m143],
+  ['144_integration', m144],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -75,6 +81,12 @@ export const appendOnlyTables = [
   'material_source',
   'source_status',
   'material_profile',
+  'line_clearance',
+  'sampling_record',
+  'sampled_container',
+  'container_status',
+  'lot_check',
+  'lot_disposition',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -89,6 +101,8 @@ export const guardedTables = [
   'material',
   'instrument',
   'app_user',
+  'machine_account',
+  'webhook_endpoint',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */
@@ -99,6 +113,8 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  webhook_delivery:
+    'outbox of webhook deliveries (attempts, back-off, delivery state); the GMP event that caused each is in the audit trail',
   sign_in_rate:
     'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

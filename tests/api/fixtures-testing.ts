@@ -51,6 +51,7 @@ export async function retire(): Promise<void> {
   if (made.length) await db()('app_user').whereIn('id', made.splice(0)).update({ active: 0 });
   qaCache = null;
   qaAgentCache = null;
+  samplerCache = null;
   sourceCache.clear();
 }
 
@@ -173,22 +174,61 @@ export async function profileFor(
   return res.body;
 }
 
+let samplerCache: Awaited<ReturnType<typeof agentFor>> | null = null;
+/** An operator who clears the booth and samples for the fixtures. */
+export async function fixtureSampler() {
+  if (!samplerCache) {
+    samplerCache = await agentFor(['operator']);
+    made.push(samplerCache.user.id);
+  }
+  return samplerCache;
+}
+
+/**
+ * Signed line clearance and sampling record of a lot (sampling precedes testing): the named
+ * containers, or as many as the lot's plan asks (every container, or the first 1 + sqrt(N)).
+ */
+export async function sampleLot(lotId: number, containerIds?: number[]) {
+  const s = await fixtureSampler();
+  const lot = (await s.agent.get(`/api/lots/${lotId}`)).body as {
+    containers: { id: number }[];
+    source: { sampleCount: number | null };
+  };
+  const clear = await s.agent
+    .post(`/api/lots/${lotId}/line-clearance`)
+    .send({ area: 'Sampling booth 1', previousUse: 'empty, cleaned', signature: sig(s.user) });
+  if (clear.status !== 201) throw new Error(`line clearance failed: ${clear.status} ${JSON.stringify(clear.body)}`);
+  const ids = containerIds ?? lot.containers.slice(0, lot.source.sampleCount ?? lot.containers.length).map((c) => c.id);
+  const res = await s.agent.post(`/api/lots/${lotId}/sampling`).send({
+    lineClearanceId: clear.body.clearances.at(-1).id,
+    sampledAt: new Date().toISOString(),
+    tool: 'stainless steel sampling spear ST-04, cleaned',
+    containers: ids.map((containerId) => ({ containerId, opened: true, sampled: true, resealed: true })),
+    reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, shelf R2' },
+    signature: sig(s.user),
+  });
+  if (res.status !== 201) throw new Error(`sampling failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body;
+}
+
 export async function receiveLot(
   agent: Agent,
   materialId: number,
   containerCount: number,
   extra: Record<string, unknown> = {},
 ) {
-  const supplierId = extra.supplierId ?? (await supplierFor(materialId)).supplierId;
+  const { sample = true, ...rest } = extra;
+  const supplierId = rest.supplierId ?? (await supplierFor(materialId)).supplierId;
   const res = await agent.post('/api/lots').send({
     materialId,
     supplierId,
     supplierLot: 'SL-' + Math.random().toString(36).slice(2, 8).toUpperCase(),
     containerCount,
     receivedDate: new Date().toISOString().slice(0, 10),
-    ...extra,
+    ...rest,
   });
   if (res.status !== 201) throw new Error(`receipt failed: ${res.status} ${JSON.stringify(res.body)}`);
+  if (sample) await sampleLot(res.body.id as number);
   return res.body as { id: number; lotNumber: string; containers: { id: number; label: string; seq: number }[] };
 }
 

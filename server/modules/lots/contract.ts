@@ -98,7 +98,10 @@ export interface LotSummary {
   notes: string | null;
   status: LotStatus;
   identityStatus: IdentityStatus;
+  /** The person who registered the lot; for a lot the ERP created, id 0 and the machine account named. */
   createdBy: PersonRef;
+  /** The ERP's goods-receipt number, for a lot the ERP created. */
+  erpReceiptNumber: string | null;
   createdAt: string;
   updatedAt: string;
 }
@@ -113,6 +116,10 @@ export interface LotContainer {
   current: { measurementId: number; verdict: MeasurementVerdict; matchScore: number | null } | null;
   currentInScope: boolean;
   measurements: number;
+  /** quarantine, sampled, released, rejected or blocked (server/modules/sampling/contract.ts). */
+  status: 'quarantine' | 'sampled' | 'released' | 'rejected' | 'blocked';
+  /** Sampled under the lot's sampling record (every container for a lot received before sampling records). */
+  sampled: boolean;
 }
 
 export interface LotTestSummary {
@@ -144,6 +151,8 @@ export type LotCertificateState =
 
 export interface LotDetail extends LotSummary {
   containers: LotContainer[];
+  /** The sampling record is signed (always true for a lot received before sampling records). */
+  sampledAt: string | null;
   tests: LotTestSummary[];
   currentTestId: number | null;
   investigations: LotInvestigation[];

@@ -21,7 +21,8 @@ export interface LotRow {
   notes: string | null;
   status: LotStatus;
   identity_status: IdentityStatus;
-  created_by: number;
+  created_by: number | null;
+  erp_receipt_number?: string | null;
   created_at: Date;
   updated_at: Date;
 }
@@ -33,7 +34,14 @@ export interface ContainerRow {
   label: string;
 }
 
-type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string; mf_name: string | null };
+type LotJoined = LotRow & {
+  m_code: string;
+  m_name: string;
+  m_grade: string;
+  u_name: string | null;
+  mf_name: string | null;
+  ma_name: string | null;
+};
 
 /** DATE columns come back as a Date at UTC midnight (connection time zone Z). */
 export function dateOnly(v: Date | string): string {
@@ -63,7 +71,10 @@ export function toLotSummary(r: LotJoined): LotSummary {
     notes: r.notes,
     status: r.status,
     identityStatus: r.identity_status,
-    createdBy: { id: r.created_by, name: r.u_name },
+    createdBy: r.created_by
+      ? { id: r.created_by, name: r.u_name ?? '' }
+      : { id: 0, name: `ERP interface (machine account ${r.ma_name ?? '?'})` },
+    erpReceiptNumber: r.erp_receipt_number ?? null,
     createdAt: new Date(r.created_at).toISOString(),
     updatedAt: new Date(r.updated_at).toISOString(),
   };
@@ -72,8 +83,9 @@ export function toLotSummary(r: LotJoined): LotSummary {
 export function lotQuery(db: Db) {
   return db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
-    .join('app_user as u', 'u.id', 'l.created_by')
+    .leftJoin('app_user as u', 'u.id', 'l.created_by')
     .leftJoin('supplier as mf', 'mf.id', 'l.manufacturer_id')
+    .leftJoin('machine_account as ma', 'ma.id', 'l.erp_account_id')
     .select(
       'l.*',
       'm.code as m_code',
@@ -81,6 +93,7 @@ export function lotQuery(db: Db) {
       'm.grade as m_grade',
       'u.full_name as u_name',
       'mf.name as mf_name',
+      'ma.name as ma_name',
     );
 }
 

@@ -10,10 +10,12 @@ import { formatSiteDate } from '../../lib/contract';
 import { AppError, notFound } from '../../lib/errors';
 import { signaturesFor } from '../../lib/esign';
 import * as inv from '../investigations/repo';
-import { scopesOf } from '../testing/context';
+import { scopesOf, underTest } from '../testing/context';
+import { currentStatuses } from '../sampling/status';
 import { effectiveResults, latestByContainer } from '../testing/outcome';
 import * as testing from '../testing/repo';
 import { sourceForReceipt } from '../suppliers/service';
+import { enqueueEvent } from '../integration/outbox';
 import { insertWithNextNumber, yearOf } from './numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
@@ -53,6 +55,7 @@ export async function receiveLot(
   input: LotCreate,
   ip: string | null,
   siteTimeZone = 'UTC',
+  erp?: { accountId: number; receiptNumber: string },
 ): Promise<LotDetail> {
   const material = await db('material').where({ id: input.materialId }).first();
   if (!material || !material.active)
@@ -100,6 +103,8 @@ export async function receiveLot(
         notes: input.notes ?? null,
         status: 'quarantine',
         identity_status: 'awaiting-testing',
+        erp_account_id: erp?.accountId ?? null,
+        erp_receipt_number: erp?.receiptNumber ?? null,
         created_by: actor.id,
         created_at: now,
         updated_at: now,
@@ -111,6 +116,17 @@ export async function receiveLot(
       label: containerLabel(created.number, i + 1),
     }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
+    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id as number);
+    await trx('container_status').insert(
+      ids.map((cid) => ({
+        container_id: cid,
+        status: 'quarantine',
+        reason: 'Received',
+        signature_id: null,
+        changed_by: actor.id,
+        changed_at: now,
+      })),
+    );
     await appendAudit(trx, {
       actor,
       action: 'lot.received',
@@ -136,8 +152,21 @@ export async function receiveLot(
         status: 'quarantine',
         identityStatus: 'awaiting-testing',
         labels: containers.map((c) => c.label),
+        erpReceiptNumber: erp?.receiptNumber ?? null,
       },
       ip,
+    });
+    await enqueueEvent(trx, 'lot.received', {
+      lotNumber: created.number,
+      erpReceiptNumber: erp?.receiptNumber ?? null,
+      material: material.code,
+      supplier: source.supplier.name,
+      supplierLot: input.supplierLot,
+      containerCount: input.containerCount,
+      samplingPlan: source.samplingPlan,
+      sampleCount: source.sampleCount,
+      firstDelivery: source.firstDelivery,
+      status: 'quarantine',
     });
     return created;
   });
@@ -152,7 +181,14 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
   const tests = await testing.testsOfLot(db, id);
   const scopes = await scopesOf(db, tests);
   const measurements = await testing.measurementsOfLot(db, id);
-  const refs = containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label }));
+  const refs = await underTest(
+    db,
+    id,
+    containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label })),
+  );
+  const sampledIds = new Set(refs.map((c) => c.id));
+  const statuses = await currentStatuses(db, id);
+  const samplingRow = await db('sampling_record').where({ lot_id: id }).first('sampled_at');
   const effective = effectiveResults(refs, tests, scopes, measurements);
   const current =
     [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
@@ -217,8 +253,15 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
             scopes.get(current.id)!.containerIds!.includes(c.id)
           : false,
         measurements: measurements.filter((m) => m.containerId === c.id).length,
+        status: statuses.get(c.id) ?? 'quarantine',
+        sampled: sampledIds.has(c.id),
       };
     }),
+    sampledAt: samplingRow
+      ? new Date(samplingRow.sampled_at).toISOString()
+      : lot.source.samplingPlan
+        ? null
+        : lot.createdAt,
     tests: testSummaries,
     currentTestId: current?.id ?? null,
     investigations,
