@@ -221,6 +221,7 @@ interface LotDetail {
   id: number;
   lotNumber: string;
   containers: { id: number; seq: number; label: string }[];
+  source: { sampleCount: number | null };
 }
 
 /** Files of a lot's containers, by container number (the poor-contact file kept apart). */
@@ -256,6 +257,27 @@ const PHASE1_NO_LAB_ERROR = {
     note: 'The stored raw file is the one measured on this container (file name, time, SHA-256 checked).',
   },
 };
+
+/** Olga clears sampling booth 1 for the lot and samples the containers its plan asks for (all, or 1 + √N). */
+async function sample(olga: DemoSession, lot: LotDetail, receivedDaysAgo: number): Promise<void> {
+  const clear = await olga.post<{ clearances: { id: number }[] }>(`/api/lots/${lot.id}/line-clearance`, {
+    area: 'Sampling booth 1 (warehouse, down-flow)',
+    previousUse: 'Empty; cleaned after the previous lot',
+    signature: olga.sig(),
+  });
+  const n = lot.source.sampleCount ?? lot.containers.length;
+  void receivedDaysAgo; // sampled now: the booth was cleared just before
+  await olga.post(`/api/lots/${lot.id}/sampling`, {
+    lineClearanceId: clear.clearances.at(-1)!.id,
+    sampledAt: new Date().toISOString(),
+    tool: 'Stainless steel sampling spear SP-02, cleaned and dried',
+    containers: lot.containers
+      .slice(0, n)
+      .map((c) => ({ containerId: c.id, opened: true, sampled: true, resealed: true })),
+    reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, cabinet R2' },
+    signature: olga.sig(),
+  });
+}
 
 /** Demo-only suppliers beyond those of the demo lots: one blocked, one conditional, one new. */
 export const DEMO_EXTRA_SOURCES = [
@@ -369,6 +391,7 @@ async function seedLots(
           : (l.notes ?? null),
     });
     lotIds[l.key] = lot.id;
+    await sample(p.olga, lot, l.receivedDaysAgo);
     if (l.state === 'awaiting-testing') continue;
 
     // Who does the work: Dana performs the paracetamol test (and verifies the citric acid
@@ -422,6 +445,77 @@ async function seedLots(
   }
   log(`${DEMO_LOTS.length} lots: ${DEMO_LOTS.map((l) => `${l.key} ${l.state}`).join(', ')}`);
   return lotIds;
+}
+
+/** The release checks of every demo grade (QA's material master for disposition). */
+const DEMO_CHECKS = [
+  {
+    key: 'coa-review',
+    kind: 'coa-review',
+    label: "Supplier's certificate of analysis reviewed against the specification",
+  },
+  { key: 'appearance', kind: 'appearance', label: 'Appearance of the sampled material as specified' },
+];
+
+/**
+ * Disposition: QA approves a profile for every grade; for lot A (identity passed) Irene records the
+ * checks and Quinn releases it; a reduced-plan lot of lactose (12 bags, 5 sampled); the ERP link:
+ * Adam makes a machine account and a webhook to the local fake receiver (port 8090).
+ */
+async function seedDisposition(
+  p: People & { adam: DemoSession },
+  ids: DemoIds,
+  supplierIds: Map<string, number>,
+  lots: Record<string, number>,
+  log: Log,
+): Promise<void> {
+  for (const [key, id] of Object.entries(ids.materials))
+    await p.quinn.post(`/api/material-profiles/${id}`, {
+      retestMonths: key === 'magnesium-stearate' ? 12 : 24,
+      shelfLifeMonths: 36,
+      riskClass: key === 'paracetamol' ? 'high' : 'medium',
+      checks: DEMO_CHECKS,
+      reason: 'Release checks of the site specification (demo).',
+      signature: p.quinn.sig(),
+    });
+  const a = lots.A;
+  await p.irene.post(`/api/lots/${a}/checks`, {
+    checkKey: 'coa-review',
+    outcome: 'conforms',
+    reference: 'Supplier CoA QX-24-1187, checked against SPEC-LAC-03',
+    signature: p.irene.sig(),
+  });
+  await p.irene.post(`/api/lots/${a}/checks`, {
+    checkKey: 'appearance',
+    outcome: 'conforms',
+    signature: p.irene.sig(),
+  });
+  await p.quinn.post(`/api/lots/${a}/release`, {
+    comment: 'Identity of every container confirmed and verified; CoA and appearance conform.',
+    signature: p.quinn.sig(),
+  });
+  const reduced = await p.olga.post<LotDetail>('/api/lots', {
+    materialId: ids.materials[DEMO_REDUCED_PLAN.material],
+    supplierId: supplierIds.get(DEMO_REDUCED_PLAN.supplier),
+    supplierLot: 'QX-24-1302',
+    containerCount: 12,
+    receivedDate: daysAgo(1),
+    notes: 'Twelve sealed bags direct from the producer.',
+  });
+  await sample(p.olga, reduced, 1);
+  const erp = await p.adam.post<{ token: string; name: string }>('/api/machine-accounts', {
+    name: 'ERP (demo)',
+    scopes: ['lots:receive', 'lots:read'],
+    reason: 'Goods receipt and results for the demo ERP.',
+  });
+  await p.adam.post('/api/webhooks', {
+    name: 'Demo ERP (local fake receiver)',
+    url: 'http://127.0.0.1:8090/hooks',
+    events: ['lot.received', 'lot.identity-passed', 'lot.identity-failed', 'lot.released', 'lot.rejected'],
+  });
+  log(
+    `disposition: profiles for ${Object.keys(ids.materials).length} grades, lot A released, lot ${reduced.lotNumber} sampled under the reduced plan (5 of 12); machine account "${erp.name}" (token, shown once: ${erp.token}); webhook to http://127.0.0.1:8090/hooks`,
+  );
 }
 
 /** A new hire whose account the administrator created; the temporary password is random and not published. */
@@ -494,6 +588,7 @@ export async function seedDemoSite(
     const supplierIds = await seedSuppliers(p, ids, log);
     const lots = await seedLots(p, ids, supplierIds, log);
     const adam = await signIn('adam');
+    await seedDisposition({ ...p, adam }, ids, supplierIds, lots, log);
     await seedRoleRequest(adam, log);
     await seedNewHire(adam, log);
     return { seeded: true, ids: { ...ids, lots } };

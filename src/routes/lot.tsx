@@ -16,6 +16,8 @@ import { IdentityStatusBadge, LotStatusText } from '../features/testing/componen
 import { InstrumentPicker } from '../features/testing/components/InstrumentPicker';
 import { SignatureList } from '../features/testing/components/Signatures';
 import { TestBench } from '../features/testing/components/TestBench';
+import { DispositionPanel } from '../features/disposition/components/DispositionPanel';
+import { SamplingPanel } from '../features/disposition/components/SamplingPanel';
 
 const TEST_STATUS: Record<string, string> = {
   'in-progress': 'In progress',
@@ -71,6 +73,7 @@ export default function LotPage() {
   const { user } = useSession();
   const isOperator = useHasRole('operator');
   const isVerifier = useHasRole('verifier');
+  const isQa = useHasRole('qa_manager');
   const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const q = useLot(id);
   if (q.isPending) return <PageLoading />;
@@ -80,6 +83,7 @@ export default function LotPage() {
   const canStart =
     isOperator &&
     lot.status === 'quarantine' &&
+    lot.sampledAt !== null &&
     !current &&
     ['awaiting-testing', 'testing', 'retest-authorised'].includes(lot.identityStatus);
   return (
@@ -99,7 +103,7 @@ export default function LotPage() {
             <LotStatusText status={lot.status} />
           </span>
         }
-        subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}`}
+        subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}${lot.manufacturer ? ` (made by ${lot.manufacturer.name})` : ''}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}${lot.source.firstDelivery ? ' · first delivery from a new source' : ''}`}
         actions={
           <>
             <RecordHistory
@@ -122,6 +126,9 @@ export default function LotPage() {
       />
       <div className="mb-5 flex flex-col gap-2">
         {lot.notes && <p className="text-sm">Notes: {lot.notes}</p>}
+        {lot.source.conditions && (
+          <p className="text-sm text-amber-ink">Conditional source. QA's conditions: {lot.source.conditions}</p>
+        )}
         <p className="text-sm text-muted">
           Registered by {lot.createdBy.name}, <DateTime value={lot.createdAt} />.
         </p>
@@ -142,6 +149,7 @@ export default function LotPage() {
         ))}
       </div>
 
+      <SamplingPanel lotId={lot.id} me={user} canSample={isOperator && lot.status === 'quarantine'} />
       {canStart && <StartAttempt lot={lot} />}
       {current?.status === 'in-progress' &&
         (isOperator ? (
@@ -180,6 +188,7 @@ export default function LotPage() {
               data-testid={`lot-container-${c.label}`}
             >
               <span className="tabular-nums">{c.label}</span>
+              {!c.sampled && <span className="text-muted">not sampled</span>}
               {c.effective ? (
                 <Verdict verdict={c.effective.verdict} size="sm" />
               ) : (
@@ -192,6 +201,8 @@ export default function LotPage() {
           )}
         </div>
       </section>
+
+      <DispositionPanel lotId={lot.id} me={user} canRecord={isOperator || isQa} canDecide={isQa} />
 
       <section aria-labelledby="attempts" className="mt-6">
         <h2 id="attempts" className="mb-2 text-lg">
