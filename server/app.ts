@@ -32,6 +32,7 @@ import { samplingRoutes } from './modules/sampling/routes';
 import { integrationRoutes } from './modules/integration/routes';
 import { machineTokenMiddleware } from './modules/integration/tokens';
 import { startWebhookJob } from './modules/integration/outbox';
+import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
 import { initMail, startMailWorker } from './lib/mail';
 
@@ -93,6 +94,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     samplingRoutes(config),
   ];
   for (const r of routers) app.use(r);
+
+  app.use(apiReferenceRoutes());
 
   app.use('/api', (req, res) => {
     res

@@ -223,6 +223,17 @@ describe('webhooks', () => {
     expect(JSON.stringify(eps.body)).not.toContain(ep.body.secret);
   });
 
+  it('serves the API reference page from the app, with the viewer shipped in the package', async () => {
+    const page = await request(testApp()).get('/api-reference/');
+    expect(page.status).toBe(200);
+    expect(page.text).toContain('swagger-ui-bundle.js');
+    expect(page.text).not.toMatch(/https?:\/\//); // nothing fetched from elsewhere
+    const bundle = await request(testApp()).get('/api-reference/swagger-ui-bundle.js');
+    expect(bundle.status).toBe(200);
+    expect(bundle.text.length).toBeGreaterThan(100_000);
+    expect((await request(testApp()).get('/api-reference/start.js')).text).toContain('/api/openapi.json');
+  });
+
   it('documents the ERP routes in the OpenAPI document', async () => {
     const doc = (await request(testApp()).get('/api/openapi.json')).body;
     expect(doc.paths['/api/erp/receipts'].post['x-roles']).toEqual(['machine:lots:receive']);
