@@ -1,6 +1,12 @@
 /** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
 import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
-import { LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import {
+  LotsAwaitingDispositionList,
+  LotsToSampleList,
+  LotsToTestList,
+  RetestsDueList,
+  TestsToVerifyList,
+} from '../features/testing/components/Widgets';
 
 export function LotsToTestWidget() {
   return <LotsToTestList />;
@@ -12,4 +18,16 @@ export function TestsToVerifyWidget() {
 
 export function OpenInvestigationsWidget() {
   return <OpenInvestigationsList />;
+}
+
+export function LotsToSampleWidget() {
+  return <LotsToSampleList />;
+}
+
+export function LotsAwaitingDispositionWidget() {
+  return <LotsAwaitingDispositionList />;
+}
+
+export function RetestsDueWidget() {
+  return <RetestsDueList />;
 }
