@@ -92,11 +92,13 @@ export async function runHealthBench(): Promise<{ ok: boolean; maxMs: number }> 
       return { id: id as number, fullName: `Bench ${username}` };
     };
     const qa = await user('bench.qa', ['qa_manager']);
+    const author = await user('bench.author', ['qa_manager']);
     await user('bench.operator', ['operator']);
     const material = await seedApprovedMaterial(db, qa, {
       code: 'BENCH-PA66',
       name: 'Nylon 6,6 (bench)',
       referenceFiles: [FIBRES.nylon66Reference],
+      author,
     });
     const { instrumentId } = await seedInstrument(db, qa, { name: 'FTIR bench', state: 'valid' });
     const big = bigSpectrumCsv(config.uploadMaxBytes);

@@ -14,6 +14,7 @@ const BENCHES: Record<string, Bench> = {
   audit: async (args) => (await import('./audit')).runAuditBench(args),
   certificate: async () => (await import('./certificate')).runCertificateBench(),
   health: async () => (await import('./health')).runHealthBench(),
+  provenance: async () => (await import('./provenance')).runProvenanceBench(),
 };
 
 const OPT_IN = new Set(['audit']);

@@ -1,8 +1,9 @@
 /**
- * Issue 4, client side: a QA manager creates a material, approves its identity method, uploads a
- * reference spectrum and sees its characteristic bands with their assignments; a second QA
- * manager (the uploader may not approve) approves it with the password again, and the signature
- * (printed name, meaning, date and time) appears on the reference page (21 CFR 11.50).
+ * Issue 4 and issue 11, client side: a QA manager creates a material (she writes its identity method
+ * version 1), uploads a reference spectrum and sees its characteristic bands with their assignments;
+ * a second QA manager (the author and uploader may not approve) approves the first method version
+ * together with its first reference with the password again, and the signatures (printed name,
+ * meaning, date and time) appear on the method and the reference (21 CFR 11.50).
  * Spectrum: a real ATR-FTIR para-aramid fibre scan from ../shared/reference-data/atr-ftir-fibres
  * (FasTEX-KCL, MIT; see that folder's README), not used by other browser tests, so the
  * specificity gate has no look-alike in the library.
@@ -36,13 +37,13 @@ async function sign(page: Page, username: string, confirm: string) {
   await dialog.getByRole('button', { name: confirm }).click();
 }
 
-test('QA uploads a reference, sees its bands; a second QA manager approves it with the password and the signature appears', async ({
+test('QA writes a method and uploads a reference, sees its bands; a second QA manager approves the first method version with it and the signatures appear', async ({
   page,
 }) => {
   test.setTimeout(180_000);
   const code = `PAR${Date.now().toString(36).toUpperCase()}`;
 
-  // Quinn (QA) creates the material and approves identity method version 1.
+  // Quinn (QA) creates the material: she writes identity method version 1.
   await signIn(page, 'quinn');
   await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Reference library' }).click();
   await expect(page.getByRole('heading', { name: 'Reference library' })).toBeVisible();
@@ -53,13 +54,12 @@ test('QA uploads a reference, sees its bands; a second QA manager approves it wi
   await form.getByLabel('Grade').fill('staple, 1.7 dtex');
   await form.getByRole('button', { name: 'Create material' }).click();
   await expect(page.getByRole('heading', { name: `${code} · Para-aramid fibre` })).toBeVisible();
+  const materialUrl = page.url();
 
   const v1 = page.getByTestId('method-v1');
   await expect(v1).toContainText('Draft');
-  await v1.getByRole('button', { name: 'Approve method version' }).click();
-  await sign(page, 'quinn', 'Approve method version');
-  await expect(v1).toContainText('Approved');
-  await expect(v1.getByTestId('signature')).toContainText('Quinn Okafor');
+  // the author never approves her own version
+  await expect(v1.getByRole('button', { name: 'Approve method version' })).toBeDisabled();
 
   // Upload the reference spectrum: per-file progress ends with the draft's code and its bands.
   await page.getByRole('button', { name: 'Upload reference spectra' }).click();
@@ -73,6 +73,7 @@ test('QA uploads a reference, sees its bands; a second QA manager approves it wi
 
   // Reference page: the bands with their group-frequency assignments; the uploader cannot approve.
   await expect(page.getByRole('heading', { name: `Reference ${refCode}` })).toBeVisible();
+  const referenceUrl = page.url();
   const bands = page.getByRole('table', { name: 'Characteristic bands' });
   await expect(bands.getByTestId('band-row').first()).toBeVisible();
   expect(await bands.getByTestId('band-row').count()).toBeGreaterThan(3);
@@ -90,29 +91,33 @@ test('QA uploads a reference, sees its bands; a second QA manager approves it wi
   await expect(page.getByText('Not approved yet: no signature.')).toBeVisible();
   await signOut(page);
 
-  // Irene (QA) finds it in her work queue and approves it with her password.
+  // Irene (QA) approves method version 1 together with its first reference, with her password.
   await signIn(page, 'irene');
-  const widget = page.getByRole('region', { name: 'Reference spectra awaiting approval' });
-  await widget.getByRole('link', { name: refCode }).click();
-  await expect(page.getByRole('heading', { name: `Reference ${refCode}` })).toBeVisible();
-  await page.getByRole('button', { name: 'Approve reference' }).click();
+  await page.goto(materialUrl);
+  const card = page.getByTestId('method-v1');
+  await card.getByRole('button', { name: 'Approve method version' }).click();
   const dialog = page.getByRole('dialog');
-  await expect(dialog.getByTestId('gate-summary')).toBeVisible();
+  await expect(dialog).toContainText('and its first 1 reference spectra');
   // a wrong password is refused in words, nothing is signed
   const user = dialog.getByLabel('User name');
   if (await user.isVisible()) await user.fill('irene');
   await dialog.getByLabel('Password', { exact: true }).fill('not-my-password');
-  await dialog.getByRole('button', { name: 'Approve reference' }).click();
+  await dialog.getByRole('button', { name: 'Approve method version' }).click();
   await expect(dialog.getByRole('alert')).toContainText('The password is not correct');
-  await sign(page, 'irene', 'Approve reference');
+  await sign(page, 'irene', 'Approve method version');
   await expect(page.getByRole('dialog')).toHaveCount(0);
+  await expect(card).toContainText('Approved');
+  await expect(card.getByTestId('signature')).toContainText('Irene Castell');
+  await expect(card.getByRole('link', { name: 'Download the validation record (PDF)' })).toBeVisible();
 
+  // The reference was approved with it: its signature appears on the reference page.
+  await page.goto(referenceUrl);
+  await expect(page.getByRole('heading', { name: `Reference ${refCode}` })).toBeVisible();
   const signature = page.getByTestId('signature').first();
   await expect(signature).toContainText('Irene Castell');
   await expect(signature).toContainText('Approved');
   await expect(signature.locator('time')).toHaveAttribute('datetime', /^\d{4}-\d\d-\d\dT/);
   await expect(signature).toContainText(/content SHA-256 [0-9a-f]{64}/);
-  await expect(page.getByText('Approved', { exact: true }).first()).toBeVisible();
   await expect(page.getByRole('button', { name: 'Approve reference' })).toHaveCount(0);
   await expect(page.getByRole('button', { name: 'Edit bands' })).toHaveCount(0);
 });

@@ -23,17 +23,23 @@ async function main(): Promise<void> {
   const quinn = await db('app_user').where({ username: 'quinn' }).first();
   if (!quinn) throw new Error('the demo QA account "quinn" is missing; seed the accounts first');
   const qa = { id: quinn.id as number, fullName: quinn.full_name as string };
+  // Irene wrote the methods and uploaded the references; Quinn approved (never the author).
+  const irene = await db('app_user').where({ username: 'irene' }).first();
+  if (!irene) throw new Error('the demo QA account "irene" is missing; seed the accounts first');
+  const author = { id: irene.id as number, fullName: irene.full_name as string };
   if (!(await db('material').where({ code: E2E_LIBRARY.nylon.code }).first()))
     await seedApprovedMaterial(db, qa, {
       ...E2E_LIBRARY.nylon,
       grade: 'technical',
       referenceFiles: [FIBRES.nylon66Reference],
+      author,
     });
   if (!(await db('material').where({ code: E2E_LIBRARY.pet.code }).first()))
     await seedApprovedMaterial(db, qa, {
       ...E2E_LIBRARY.pet,
       grade: 'technical',
       referenceFiles: [FIBRES.petReference],
+      author,
     });
   // Supplier master and material profile (issue 14): one qualified supplier of both fibres, sampled
   // container by container, and release checks for nylon; each row signed by the demo QA manager.

@@ -10,6 +10,7 @@ export DRUMLINE_E2E_DB="${DRUMLINE_E2E_DB:-drumline_e2e}"
 bash db/mariadb.sh start
 npx tsx scripts/e2e-db.ts
 npx tsx scripts/e2e-seed-library.ts  # approved library and a checked instrument for the testing e2e (e2e/testing.spec.ts)
+npx tsx scripts/e2e-seed-trend.ts     # synthetic trend history with a drift signal (e2e/trending.spec.ts)
 export PORT="${E2E_PORT:-4173}"
 # The client is built into its own folder so that `npm start`, `npm run build` or another test
 # run in the same tree cannot replace the files under the running test.

@@ -34,6 +34,12 @@ import { machineTokenMiddleware } from './modules/integration/tokens';
 import { startWebhookJob } from './modules/integration/outbox';
 import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
+import { trendingRoutes } from './modules/trending/routes';
+import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startTrendJob } from './modules/trending/service';
+import { startCertificateRetryJob } from './modules/certificates';
+import { startAnchorJob } from './modules/audit/anchor';
+import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 
 export interface CreateAppOptions {
@@ -76,7 +82,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
-    systemRoutes(),
+    systemRoutes(config),
     authRoutes(config),
     userRoutes(),
     mailRoutes(config),
@@ -92,6 +98,8 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     dispositionRoutes(config),
     integrationRoutes(config),
     samplingRoutes(config),
+    trendingRoutes(),
+    auditReviewRoutes(config),
   ];
   for (const r of routers) app.use(r);
 
@@ -120,6 +128,11 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
       startWebhookJob(getDb());
+      startTrendJob(getDb());
+      startCertificateRetryJob(getDb(), config);
+      // the local fake time-stamping authority of development and tests (docs/certificates.md)
+      if (!config.tsaUrl && config.devMode) await startFakeTsa();
+      startAnchorJob(getDb(), config);
     },
   ];
   return { app, config };

@@ -15,11 +15,16 @@ import * as m051 from './051_role_grants';
 import * as m052 from './052_integrity';
 import * as m060 from './060_password_history';
 import * as m061 from './061_sign_in_rate';
+import * as m100 from './100_provenance';
+import * as m110 from './110_method_control';
+import * as m120 from './120_certificate_numbers';
+import * as m121 from './121_audit_anchor';
 import * as m140 from './140_suppliers';
 import * as m141 from './141_material_profile';
 import * as m142 from './142_sampling';
 import * as m143 from './143_disposition';
 import * as m144 from './144_integration';
+import * as m150 from './150_trending';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -38,11 +43,16 @@ export const migrations: [string, Migration][] = [
   ['052_integrity', m052],
   ['060_password_history', m060],
   ['061_sign_in_rate', m061],
+  ['100_provenance', m100],
+  ['110_method_control', m110],
+  ['120_certificate_numbers', m120],
+  ['121_audit_anchor', m121],
   ['140_suppliers', m140],
   ['141_material_profile', m141],
   ['142_sampling', m142],
   ['143_disposition', m143],
   ['144_integration', m144],
+  ['150_trending', m150],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -77,6 +87,21 @@ export const appendOnlyTables = [
   'integrity_alert_record',
   'integrity_signoff',
   'password_history',
+  'gate_override',
+  'gate_override_confirmation',
+  'method_approval',
+  'material_ir_suitability',
+  'attempt_pin',
+  'spectrum_fingerprint',
+  'measurement_provenance',
+  'test_handover',
+  'container_block',
+  'certificate_number',
+  'certificate_issue_failure',
+  'audit_chain_key',
+  'audit_checkpoint',
+  'trend_baseline',
+  'audit_review',
   'supplier',
   'material_source',
   'source_status',
@@ -101,6 +126,8 @@ export const guardedTables = [
   'material',
   'instrument',
   'app_user',
+  'certificate_counter',
+  'trend_signal',
   'machine_account',
   'webhook_endpoint',
 ];
@@ -113,6 +140,7 @@ export const operationalTables: Record<string, string> = {
   audit_head: 'the single row that serialises audit appends; the chain check compares it with the trail',
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
+  audit_chain_run: 'progress counters of a full audit chain check; its request and its result are audit events',
   webhook_delivery:
     'outbox of webhook deliveries (attempts, back-off, delivery state); the GMP event that caused each is in the audit trail',
   sign_in_rate:

@@ -5,13 +5,17 @@
  * Everything is done through the HTTP API of the real application, by the person whose job it
  * is (db/seeds/demo-client.ts), so every record carries real e-signatures and audit events and
  * the audit chain is the application's own:
- *  - QA (Quinn Okafor) registers the three instruments, approves the site's ATR polystyrene
- *    positions, creates the nine grades and approves their identity methods; a second QA
- *    manager (Irene Castell) uploads the reference spectra, Quinn approves them (the approver
- *    is never the uploader).
- *  - The citric acid pair: the anhydrous grade is approved first; approving the first
- *    monohydrate reference under the default method is refused by the specificity gate
- *    (audited); QA tightens both methods (version 2) and the approvals then pass the gate.
+ *  - QA (Quinn Okafor) registers the three instruments and approves the site's ATR polystyrene
+ *    positions; a second QA manager (Irene Castell) creates the nine grades (she writes each
+ *    method version 1) and uploads the reference spectra; Quinn approves each first method
+ *    version together with its first references, after the version's specificity gate, with a
+ *    validation record (the approver is never the author or the uploader).
+ *  - Sodium chloride: Quinn marks it "identity by IR not suitable" (with the chemical tests that
+ *    replace IR) instead of approving an IR method; its lot is received but never IR-tested.
+ *  - The citric acid pair: the anhydrous grade is approved first; approving the monohydrate's
+ *    first version under the default method is refused by the specificity gate (audited); QA
+ *    tightens the anhydrous method (version 2) and the monohydrate draft, and both approvals
+ *    then pass the gate.
  *  - Operators check FTIR 1 and FTIR 2 with the polystyrene film; FTIR 3's check fails
  *    (wavenumber scale drifted), so its check is due.
  *  - Lots in every state (fixtures/catalogue.ts DEMO_LOTS), see seedLots.
@@ -31,17 +35,12 @@ import {
   type DemoSpectrum,
   demoSpectra,
 } from '../../fixtures/catalogue';
-import {
-  LOOK_ALIKE_PAIR,
-  SODIUM_CHLORIDE_METHOD,
-  SODIUM_CHLORIDE_NOTE,
-  TIGHTENED_HYDRATE_METHOD,
-  TIGHTENED_HYDRATE_NOTE,
-} from '../../fixtures/demo-methods';
+import { LOOK_ALIKE_PAIR, TIGHTENED_HYDRATE_METHOD, TIGHTENED_HYDRATE_NOTE } from '../../fixtures/demo-methods';
 import { SPECTRA_DIR } from '../../fixtures/generate';
 import { POLYSTYRENE_CHECK_BANDS, SITE_CHECK_JUSTIFICATION } from '../../fixtures/polystyrene';
 import { fnv1a } from '../../fixtures/synth';
 import { DemoApi, DemoApiError, type DemoSession } from './demo-client';
+import { seedTrendHistory } from './trend-history';
 
 export const DEMO_SITE = {
   company: 'Lindenhall Pharma',
@@ -112,7 +111,7 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
       signature: p.quinn.sig(),
     });
   }
-  const films = demoSpectra().filter((s) => s.kind === 'polystyrene');
+  const films = demoSpectra().filter((s) => s.kind === 'polystyrene' && !s.spare);
   for (const film of films) {
     // FTIR 3: only the drifted film is recorded, so its check fails and stays due.
     if (film.instrument === 'IR-3' && film.scaleShift === 0) continue;
@@ -155,13 +154,15 @@ async function uploadReferences(
   return out;
 }
 
-async function approveReferences(p: People, refIds: number[]): Promise<void> {
-  for (const id of refIds) await p.quinn.post(`/api/references/${id}/approve`, { signature: p.quinn.sig() });
-}
+/** The test that replaces identity by IR for sodium chloride (Ph. Eur. 2.3.1, identification reactions of ions; from memory). */
+export const SODIUM_CHLORIDE_REPLACEMENT_TEST =
+  'Pharmacopoeial identification reactions of sodium and of chlorides (Ph. Eur. 2.3.1), performed in the wet-chemistry laboratory.';
 
 async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
   for (const m of MATERIALS) {
-    const created = await p.quinn.post('/api/materials', {
+    // Irene writes each grade's method version 1 and uploads its references; Quinn approves the
+    // first version together with its first references (never the author or the uploader).
+    const created = await p.irene.post('/api/materials', {
       code: m.code,
       name: m.name,
       grade: m.grade,
@@ -172,44 +173,49 @@ async function seedLibrary(p: People, ids: DemoIds, log: Log): Promise<void> {
     });
     ids.materials[m.key] = created.id;
     ids.methods[m.key] = created.draftMethodId;
-    // Version 1 is the engine default for mid-IR ATR (sodium chloride: without the derivative criterion).
     if (m.key === 'sodium-chloride') {
-      await p.quinn.patch(`/api/methods/${created.draftMethodId}`, {
-        params: SODIUM_CHLORIDE_METHOD,
-        changeNote: SODIUM_CHLORIDE_NOTE,
-        reason: 'method for a grade without mid-IR bands',
+      // Mid-IR cannot identify sodium chloride: QA marks it instead of approving an IR method.
+      await p.quinn.post(`/api/materials/${created.id}/ir-suitability`, {
+        suitable: false,
+        replacementTest: SODIUM_CHLORIDE_REPLACEMENT_TEST,
+        reason: 'An ionic solid without mid-IR bands: a mid-IR spectrum cannot confirm its identity.',
+        signature: p.quinn.sig(),
       });
-    }
-    await approveMethod(p, created.draftMethodId);
-    const refIds = await uploadReferences(p, ids, m.key, ['reference']);
-    if (m.key !== LOOK_ALIKE_PAIR[1]) {
-      await approveReferences(p, refIds);
       continue;
     }
-    // The look-alike: the specificity gate refuses the first monohydrate reference ...
+    await uploadReferences(p, ids, m.key, ['reference']);
+    if (m.key !== LOOK_ALIKE_PAIR[1]) {
+      await approveMethod(p, created.draftMethodId);
+      continue;
+    }
+    // The look-alike: the specificity gate refuses the monohydrate's first version with its references ...
     try {
-      await p.quinn.post(`/api/references/${refIds[0]}/approve`, { signature: p.quinn.sig() });
+      await approveMethod(p, created.draftMethodId);
       throw new Error(
-        'demo seed: the specificity gate was expected to refuse the citric acid monohydrate reference under the default method',
+        'demo seed: the specificity gate was expected to refuse citric acid monohydrate under the default method',
       );
     } catch (e) {
       if (!(e instanceof DemoApiError) || e.code !== 'SPECIFICITY_GATE') throw e;
     }
-    // ... so QA tightens the methods of both hydrate forms (version 2) and approves again.
-    for (const key of LOOK_ALIKE_PAIR) {
-      const v2 = await p.quinn.post(`/api/materials/${ids.materials[key]}/methods`, {
-        params: TIGHTENED_HYDRATE_METHOD,
-        changeNote: TIGHTENED_HYDRATE_NOTE,
-      });
-      await approveMethod(p, v2.id);
-      ids.methods[key] = v2.id;
-    }
-    await approveReferences(p, refIds);
+    // ... so QA tightens the anhydrous grade's method (version 2) and the monohydrate's draft, and approves again.
+    const anhydrous = LOOK_ALIKE_PAIR[0];
+    const v2 = await p.irene.post(`/api/materials/${ids.materials[anhydrous]}/methods`, {
+      params: TIGHTENED_HYDRATE_METHOD,
+      changeNote: TIGHTENED_HYDRATE_NOTE,
+    });
+    await approveMethod(p, v2.id);
+    ids.methods[anhydrous] = v2.id;
+    await p.irene.patch(`/api/methods/${created.draftMethodId}`, {
+      params: TIGHTENED_HYDRATE_METHOD,
+      changeNote: TIGHTENED_HYDRATE_NOTE,
+      reason: 'tightened after the specificity gate refused the default method',
+    });
+    await approveMethod(p, created.draftMethodId);
   }
   // One more maize starch reference waits for QA approval (the newcomer approves it).
   await uploadReferences(p, ids, DRAFT_REFERENCE_MATERIAL, ['draft-reference']);
   log(
-    `${MATERIALS.length} grades with approved methods and three approved references each; citric acid methods tightened after the specificity gate; one draft reference`,
+    `${MATERIALS.length - 1} grades with approved methods (each with its validation record) and three approved references each; citric acid methods tightened after the specificity gate; sodium chloride marked "identity by IR not suitable"; one draft reference`,
   );
 }
 
@@ -552,6 +558,74 @@ async function seedNewHire(adam: DemoSession, log: Log): Promise<void> {
   log(`account of a new hire (${NEW_HIRE.fullName}) awaiting first sign-in`);
 }
 
+/** The invented second source of paracetamol whose synthetic history drifts (demo data only). */
+export const DEMO_TREND = {
+  material: 'paracetamol',
+  drifting: 'Brannock Pharma Materials (synthetic history)',
+  prefix: 'SYN-PCM',
+} as const;
+
+/**
+ * Trending and the periodic review in the demo: a synthetic history of 40 passed paracetamol
+ * results over the past eight weeks from two sources (db/seeds/trend-history.ts: generated from a
+ * demo container spectrum, scored by the engine, past times set by this seed only), one source
+ * drifting; QA applies the run rules (the drift raises its signals) and records the audit-trail
+ * review of the previous month.
+ */
+async function seedTrendDemo(db: Knex, p: People, ids: DemoIds, log: Log): Promise<void> {
+  const lotB = DEMO_LOTS.find((l) => l.key === 'B')!;
+  const spec = demoSpectra().find((s) => s.kind === 'container' && s.lot === 'B' && s.container === 1)!;
+  const f = fileOf(spec);
+  const instrumentId = ids.instruments[lotB.instrument];
+  const check = await db('instrument_check')
+    .where({ instrument_id: instrumentId, verdict: 'pass' })
+    .orderBy('id', 'desc')
+    .first('id');
+  const person = async (username: string) => {
+    const u = await db('app_user').where({ username }).first('id', 'full_name');
+    return { id: u.id as number, fullName: u.full_name as string };
+  };
+  await seedTrendHistory(db, {
+    materialId: ids.materials[DEMO_TREND.material],
+    methodId: ids.methods[DEMO_TREND.material],
+    instrumentId,
+    instrumentCheckId: check.id,
+    operator: await person('olga'),
+    verifier: await person('victor'),
+    sample: { data: f.data, name: f.name },
+    sources: [lotB.supplier, DEMO_TREND.drifting],
+    drifting: DEMO_TREND.drifting,
+    points: 40,
+    driftFrom: 24,
+    driftPerPoint: 0.2,
+    days: 56,
+    prefix: DEMO_TREND.prefix,
+  });
+  const scan = await p.quinn.post<{ raised: number }>('/api/trending/scans', {});
+  const now = new Date();
+  const from = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth() - 1, 1)).toISOString().slice(0, 10);
+  const to = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), 0)).toISOString().slice(0, 10);
+  await p.quinn.post('/api/audit-reviews', {
+    from,
+    to,
+    scope: [
+      'failed-sign-ins',
+      'failed-signatures',
+      'role-changes',
+      'invalidated-results',
+      'gate-overrides',
+      'integrity-alerts',
+      'trend-signals',
+    ],
+    findings: 'No exceptions in the period: the demo site went live after it. No findings.',
+    actions: 'none',
+    signature: p.quinn.sig(),
+  });
+  log(
+    `synthetic paracetamol history of 40 passed results, one drifting source (${scan.raised} trend signal(s)); audit-trail review of ${from} to ${to}`,
+  );
+}
+
 export async function seedDemoSite(
   db: Knex,
   opts: { database?: string; log?: Log } = {},
@@ -587,6 +661,7 @@ export async function seedDemoSite(
     await seedLibrary(p, ids, log);
     const supplierIds = await seedSuppliers(p, ids, log);
     const lots = await seedLots(p, ids, supplierIds, log);
+    await seedTrendDemo(db, p, ids, log);
     const adam = await signIn('adam');
     await seedDisposition({ ...p, adam }, ids, supplierIds, lots, log);
     await seedRoleRequest(adam, log);

@@ -20,9 +20,12 @@ import { contentHash } from '../../server/lib/esign';
 import { referenceSignedContent } from '../../server/modules/library/references';
 import { methodSignedContent } from '../../server/modules/library/service';
 import { pickBands } from '../../server/modules/library/engine';
+import { recordFingerprint } from '../../server/modules/provenance/copies';
+import { provenanceKeys } from '../../server/modules/provenance/keys';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,
+  estimateNoise,
   type IdentityMethod,
   PH_EUR_POLYSTYRENE_FT,
   readSpectrum,
@@ -38,6 +41,32 @@ export interface SeedUser {
 export function dataFile(rel: string): { buffer: Buffer; name: string } {
   const p = path.join(REFERENCE_DATA, rel);
   return { buffer: fs.readFileSync(p), name: path.basename(p) };
+}
+
+let acquisitions = 0;
+
+/**
+ * A new acquisition of the sample of a real file: its spectrum (read by the engine) with fresh
+ * noise added at the file's own noise level (the engine's second-difference estimate), written
+ * as CSV in absorbance. Two real scans of one sample differ in their noise, and Drumline refuses
+ * a second upload of the same acquisition (docs/provenance.md), so every sample a test uploads
+ * is made this way; the spectrum keeps its bands, so it scores like the file it comes from.
+ */
+export function distinctAcquisition(rel: string, fileName?: string): { buffer: Buffer; name: string } {
+  const f = dataFile(rel);
+  const s = readSpectrum(new Uint8Array(f.buffer), f.name, { xUnits: 'cm-1' });
+  const sigma = Math.max(estimateNoise(s.y), 1e-6);
+  let seed = (Date.now() ^ (process.pid << 8) ^ (++acquisitions * 2654435761)) >>> 0;
+  const uniform = () => {
+    seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0;
+    return (seed + 0.5) / 4294967296;
+  };
+  const lines = ['wavenumber_cm-1,absorbance'];
+  for (let i = 0; i < s.x.length; i++) {
+    const g = Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
+    lines.push(`${s.x[i]},${s.y[i] + sigma * g}`);
+  }
+  return { buffer: Buffer.from(`${lines.join('\n')}\n`, 'utf8'), name: fileName ?? f.name };
 }
 
 async function storeFile(k: Knex, rel: string, userId: number): Promise<number> {
@@ -84,10 +113,21 @@ export interface SeededMaterial {
   referenceIds: number[];
 }
 
+/**
+ * `qa` approves; `opts.author` wrote the method version and uploaded the references (the author of a
+ * method version never approves it, and the database refuses it: db/migrations/110_method_control.ts).
+ */
 export async function seedApprovedMaterial(
   k: Knex,
   qa: SeedUser,
-  opts: { code: string; name: string; grade?: string; referenceFiles: string[]; method?: IdentityMethod },
+  opts: {
+    code: string;
+    name: string;
+    grade?: string;
+    referenceFiles: string[];
+    method?: IdentityMethod;
+    author: SeedUser;
+  },
 ): Promise<SeededMaterial> {
   const method = opts.method ?? defaultMidIrAtrMethod;
   const now = new Date();
@@ -111,7 +151,7 @@ export async function seedApprovedMaterial(
     params: JSON.stringify(method),
     change_note: 'seeded',
     supersedes_id: null,
-    created_by: qa.id,
+    created_by: opts.author.id,
     created_at: now,
     updated_at: now,
     approved_signature_id: null,
@@ -131,9 +171,10 @@ export async function seedApprovedMaterial(
     });
   const referenceIds: number[] = [];
   for (const [i, rel] of opts.referenceFiles.entries()) {
-    const fileId = await storeFile(k, rel, qa.id);
+    const fileId = await storeFile(k, rel, opts.author.id);
     const f = dataFile(rel);
-    const bands = pickBands(readSpectrum(new Uint8Array(f.buffer), f.name), method);
+    const refSpectrum = readSpectrum(new Uint8Array(f.buffer), f.name);
+    const bands = pickBands(refSpectrum, method);
     const [refId] = await k('reference_spectrum').insert({
       material_id: materialId,
       code: `REF-${opts.code}-${i + 1}`,
@@ -148,7 +189,7 @@ export async function seedApprovedMaterial(
       meta: null,
       specificity: null,
       justification: null,
-      created_by: qa.id,
+      created_by: opts.author.id,
       created_at: now,
       updated_at: now,
       approved_signature_id: null,
@@ -169,6 +210,14 @@ export async function seedApprovedMaterial(
           referenceSignedContent(refId, sha256Hex(f.buffer), JSON.parse(JSON.stringify(bands)), methodId),
         ),
       });
+    await recordFingerprint(k, {
+      fileId,
+      recordType: 'reference',
+      recordId: refId as number,
+      sha256: sha256Hex(f.buffer),
+      keys: provenanceKeys(refSpectrum),
+      at: now,
+    });
     referenceIds.push(refId as number);
   }
   return {
@@ -244,6 +293,14 @@ export async function seedInstrument(
     valid_until:
       result.verdict === 'pass' ? (opts.validUntil ?? new Date(performedAt.getTime() + 24 * 3600_000)) : null,
     signature_id: null,
+  });
+  await recordFingerprint(k, {
+    fileId,
+    recordType: 'instrument-check',
+    recordId: checkId as number,
+    sha256: sha256Hex(dataFile('atr-ftir/polystyrene_film.csv').buffer),
+    keys: provenanceKeys(spectrum),
+    at: performedAt,
   });
   return { instrumentId: instrumentId as number, checkId: checkId as number, name: opts.name };
 }

@@ -24,6 +24,8 @@ export interface AppConfig {
   uploadMaxBytes: number;
   /** hours between scheduled integrity sweeps (docs/compliance.md); 0 = only when asked for */
   integritySweepHours: number;
+  /** months between periodic audit-trail reviews (docs/trending.md); the work queue says when one is due */
+  auditReviewMonths: number;
   allowedOrigins: string[];
   /**
    * Addresses (or CIDR ranges) of the reverse proxies whose X-Forwarded-For header is believed
@@ -32,10 +34,26 @@ export interface AppConfig {
    * it came from, so a client cannot forge its address in the audit trail or dodge the sign-in limit.
    */
   trustedProxies: string[];
+  /** invalid measurements on one container after which it is blocked until QA decides (MAX_INVALID_MEASUREMENTS, default 3) */
+  maxInvalidMeasurements: number;
+  /** a file whose title or sample identifier names another record: 'confirm' by the operator or 'refuse' (FILE_IDENTIFIER_POLICY) */
+  fileIdentifierPolicy: 'confirm' | 'refuse';
   devMode: boolean;
   smtp: { host: string; port: number; user?: string; password?: string; secure: boolean; from: string } | null;
   signingP12Path?: string;
   signingP12Passphrase?: string;
+  /** RFC 3161 time-stamping authority (TSA_URL); without it a development server runs a local fake one. */
+  tsaUrl?: string;
+  /** PEM file with the roots the authority's certificates chain to (TSA_TRUST_FILE). */
+  tsaTrustFile?: string;
+  /** Key of the audit chain's HMAC (AUDIT_CHAIN_KEY, hex; else the file AUDIT_CHAIN_KEY_FILE, default .keys/audit-chain.key). */
+  auditChainKeyFile?: string;
+  /** Folder where signed audit checkpoints are written (AUDIT_CHECKPOINT_DIR, default .data/checkpoints). */
+  auditCheckpointDir: string;
+  /** Minutes between audit checkpoints (AUDIT_CHECKPOINT_MINUTES, default 60; 0 = only when asked). */
+  auditCheckpointMinutes: number;
+  /** Minutes between retries of certificates that could not be issued (CERTIFICATE_RETRY_MINUTES, default 5). */
+  certificateRetryMinutes: number;
 }
 
 export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
@@ -56,6 +74,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     signInRateWindowMinutes: num('SIGNIN_RATE_WINDOW_MINUTES', 5),
     uploadMaxBytes: num('UPLOAD_MAX_MB', 20) * 1024 * 1024,
     integritySweepHours: num('INTEGRITY_SWEEP_HOURS', 24),
+    auditReviewMonths: num('AUDIT_REVIEW_MONTHS', 1),
     allowedOrigins: (process.env.ALLOWED_ORIGINS ?? '')
       .split(',')
       .map((s) => s.trim())
@@ -64,6 +83,8 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       .split(',')
       .map((s) => s.trim())
       .filter(Boolean),
+    maxInvalidMeasurements: Math.max(1, Math.floor(num('MAX_INVALID_MEASUREMENTS', 3))),
+    fileIdentifierPolicy: process.env.FILE_IDENTIFIER_POLICY === 'refuse' ? 'refuse' : 'confirm',
     devMode: process.env.NODE_ENV !== 'production',
     smtp: smtpHost
       ? {
@@ -77,6 +98,12 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       : null,
     signingP12Path: process.env.SIGNING_P12_PATH,
     signingP12Passphrase: process.env.SIGNING_P12_PASSPHRASE,
+    tsaUrl: process.env.TSA_URL || undefined,
+    tsaTrustFile: process.env.TSA_TRUST_FILE || undefined,
+    auditChainKeyFile: process.env.AUDIT_CHAIN_KEY_FILE || undefined,
+    auditCheckpointDir: process.env.AUDIT_CHECKPOINT_DIR ?? '.data/checkpoints',
+    auditCheckpointMinutes: num('AUDIT_CHECKPOINT_MINUTES', 60),
+    certificateRetryMinutes: num('CERTIFICATE_RETRY_MINUTES', 5),
   };
   return { ...base, ...overrides };
 }

@@ -149,6 +149,10 @@ export const SIGNATURE_MEANINGS = [
   'check-recorded',
   'released',
   'rejected',
+  'gate-override-requested',
+  'ir-suitability-decided',
+  'block-released',
+  'audit-trail-reviewed',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -175,6 +179,10 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   'check-recorded': 'Release check recorded',
   released: 'Released by QA',
   rejected: 'Rejected by QA',
+  'gate-override-requested': 'Override of the specificity gate requested',
+  'ir-suitability-decided': 'Suitability of identity by IR decided',
+  'block-released': 'Blocked container released by QA',
+  'audit-trail-reviewed': 'Audit trail reviewed for the period',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */
@@ -196,9 +204,47 @@ export interface SignatureRecord {
 }
 
 /** The result of walking the audit hash chain. */
-export type ChainReport =
+export type ChainReport = (
   | { ok: true; events: number; lastHash: string; lastId: number }
-  | { ok: false; events: number; brokenAt: number; problem: string; expected?: string; found?: string };
+  | { ok: false; events: number; brokenAt: number; problem: string; expected?: string; found?: string }
+) &
+  ChainContext;
+
+/** Where a chain check started and which checkpoint outside the database it was held against. */
+export interface ChainContext {
+  /** 'incremental': from the latest checkpoint on; 'full': every event, and every checkpoint compared. */
+  mode?: 'incremental' | 'full';
+  /** The first event whose content was re-hashed. */
+  checkedFrom?: number;
+  /** The first event of the keyed chain (HMAC with a key held outside the database). */
+  keyedFrom?: number | null;
+  checkpoint?: ChainCheckpointInfo | null;
+  /** Checkpoint files compared (full check). */
+  checkpointsCompared?: number;
+}
+
+/** A signed, time-stamped checkpoint of the audit chain, as read back from its file. */
+export interface ChainCheckpointInfo {
+  eventCount: number;
+  headHash: string;
+  createdAt: string;
+  /** The RFC 3161 time-stamp's time, when it verifies. */
+  timeStampedAt: string | null;
+  file: string;
+}
+
+/** A full chain check running in the background. */
+export interface ChainRun {
+  id: number;
+  status: 'queued' | 'running' | 'finished' | 'failed';
+  requestedAt: string;
+  startedAt: string | null;
+  finishedAt: string | null;
+  total: number;
+  checked: number;
+  result: ChainReport | null;
+  error: string | null;
+}
 
 /** What a check of a PDF's digital signature found. */
 export interface PdfSignatureCheck {
@@ -213,6 +259,21 @@ export interface PdfSignatureCheck {
   signingTime: string | null;
   coversWholeFile: boolean;
   hasSigningCertificateV2: boolean;
+  /** The RFC 3161 signature time-stamp (PAdES B-T), or null when the signature carries none. */
+  timeStamp: TimeStampCheck | null;
+  problem?: string;
+}
+
+/** What a check of an RFC 3161 time-stamp token found. */
+export interface TimeStampCheck {
+  present: boolean;
+  /** Token signature, TSA certificate (time-stamping usage, trusted root, valid then) and message imprint all verify. */
+  valid: boolean;
+  /** The time the authority stamped (ISO). */
+  time: string | null;
+  /** Subject of the authority's certificate. */
+  authority: string | null;
+  serialNumber: string | null;
   problem?: string;
 }
 

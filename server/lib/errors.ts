@@ -96,6 +96,20 @@ function zodDetails(err: ZodError) {
   return err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
 }
 
+/**
+ * What the log may say about an unexpected error. A database error is logged as its code and the
+ * server's own message with the stack below it: knex prefixes its messages with the SQL statement
+ * and its bound values (a certificate's PDF, a raw file), and mysql2 keeps the statement in `sql`;
+ * neither is ever written to the log (docs/certificates.md, "When issuing fails").
+ */
+export function loggableError(err: unknown): unknown {
+  const e = err as { sqlMessage?: string; code?: string; errno?: number; stack?: string } | null;
+  if (!e || typeof e !== 'object' || typeof e.sqlMessage !== 'string') return err;
+  const head = `database error ${e.code ?? ''} (${e.errno ?? '?'}): ${e.sqlMessage}`;
+  const frames = (e.stack ?? '').split('\n').filter((l) => /^\s+at /.test(l));
+  return [head, ...frames].join('\n');
+}
+
 export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
   if (res.headersSent) return;
   const send = (status: number, code: string, message: string, details?: unknown) =>
@@ -126,7 +140,7 @@ export const errorHandler: ErrorRequestHandler = (err, _req, res, _next) => {
   if (e?.type === 'entity.too.large') return send(413, 'TOO_LARGE', 'The request body is too large.');
   if (isDbDown(err)) return send(503, 'DATABASE_DOWN', DB_DOWN_MESSAGE);
   if (e?.code === 'ER_DUP_ENTRY') return send(409, 'DUPLICATE', 'A record with this identifier already exists.');
-  console.error('[error]', err);
+  console.error('[error]', loggableError(err));
   return send(
     500,
     'INTERNAL',

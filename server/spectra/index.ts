@@ -19,6 +19,9 @@ export {
   type QualityLimits,
   type DistanceModelSettings,
   type IdentityMethod,
+  type SpecificityMargins,
+  DEFAULT_SPECIFICITY_MARGINS,
+  specificityMarginsOf,
   CO2_REGION,
   DIAMOND_ATR_REGION,
   defaultMidIrAtrMethod,
@@ -109,3 +112,14 @@ export {
   type ReferenceModelCheck,
 } from './reference-model';
 export { compareIntensities, DEFAULT_RELATIVE_INTENSITY_TOLERANCE, type BandIntensity } from './intensity';
+export {
+  COPY_RATIO_LIMIT,
+  fingerprintOf,
+  lookupWindow,
+  roundingStep,
+  sameAcquisition,
+  statedAcquisition,
+  type AcquisitionComparison,
+  type SpectrumFingerprint,
+  type StatedAcquisition,
+} from './provenance';

@@ -17,6 +17,7 @@
 import type { RawSpectrum } from './assemble';
 import { SpectrumError } from './errors';
 import { decodeJcamp } from './jcamp';
+import { statedAcquisition } from './provenance';
 import type { ReadOptions } from './parse';
 import { fmt, parseXUnitLabel, parseYUnitLabel } from './units';
 
@@ -108,6 +109,7 @@ export function jcampToRawSpectrum(text: string, fileName: string, options: Read
       ...(Number.isFinite(resolution) ? { resolution } : {}),
       dataType,
       warnings: [...doc.warnings],
+      stated: statedAcquisition(doc.labels),
     },
   };
 }

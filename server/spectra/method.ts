@@ -114,6 +114,48 @@ export interface IdentityMethod {
   relativeIntensityTolerance?: number | null;
   quality: QualityLimits;
   distanceModel: DistanceModelSettings | null;
+  /**
+   * How far another material must stay from each limit before a method version or a reference
+   * is approved (the server's specificity gate; scoring never reads it). null or absent = the
+   * defaults in DEFAULT_SPECIFICITY_MARGINS (docs/methods.md).
+   */
+  specificityMargins?: SpecificityMargins | null;
+}
+
+/**
+ * Minimum distance of another material from each limit (docs/methods.md): another material
+ * counts as distinct only when some criterion fails by more than its margin.
+ */
+export interface SpecificityMargins {
+  /** Correlation coefficient (r): the other material must stay below minCorrelation minus this. */
+  correlation: number;
+  /** First-derivative correlation, same sense. */
+  derivativeCorrelation: number;
+  /** Mahalanobis distance, in RMS standard deviations above maxMahalanobis. */
+  mahalanobis: number;
+  /** Spectral residual, as a fraction of its limit above 1 (Q / limit). */
+  residual: number;
+  /** Band criteria (concordance, relative intensity, extra bands): bands beyond the limit. */
+  bands: number;
+}
+
+/**
+ * Default margins. 0.02 in r is the issue's figure; the others are our equivalents, chosen so
+ * a look-alike must fail clearly (no standard gives them): half a standard deviation for the
+ * distance, a quarter of the residual limit, and for the band counts, which are whole numbers,
+ * no extra band (a missing band is already a clear difference).
+ */
+export const DEFAULT_SPECIFICITY_MARGINS: SpecificityMargins = {
+  correlation: 0.02,
+  derivativeCorrelation: 0.02,
+  mahalanobis: 0.5,
+  residual: 0.25,
+  bands: 0,
+};
+
+/** The margins of a method: its own, else the defaults. */
+export function specificityMarginsOf(method: Pick<IdentityMethod, 'specificityMargins'>): SpecificityMargins {
+  return { ...DEFAULT_SPECIFICITY_MARGINS, ...(method.specificityMargins ?? {}) };
 }
 
 /** Atmospheric CO2 stretching band, left out of mid-IR methods (common practice). */
@@ -314,6 +356,18 @@ export function validateMethod(m: unknown): string[] {
     }
     if (!isNum(q.minSignalToNoise) || q.minSignalToNoise < 0)
       problems.push('quality.minSignalToNoise must be a number of at least 0.');
+  }
+  const sm = m.specificityMargins ?? null;
+  if (sm !== null) {
+    if (!isObject(sm)) problems.push('specificityMargins must be an object or null.');
+    else
+      for (const k of Object.keys(DEFAULT_SPECIFICITY_MARGINS)) {
+        const v = sm[k];
+        const max = k === 'correlation' || k === 'derivativeCorrelation' ? 0.5 : k === 'bands' ? 10 : 5;
+        if (!isNum(v) || v < 0 || v > max) problems.push(`specificityMargins.${k} must be a number from 0 to ${max}.`);
+        else if (k === 'bands' && !Number.isInteger(v))
+          problems.push('specificityMargins.bands must be a whole number.');
+      }
   }
   const dm = m.distanceModel;
   if (dm !== null && dm !== undefined) {

@@ -2,6 +2,7 @@
  * Shared types of the spectral engine. The engine is pure: typed arrays in,
  * plain data out; no I/O, no Express, no database.
  */
+import type { StatedAcquisition } from './provenance';
 
 /** What the y values of a spectrum mean after reading (always absorbance-like). */
 export type AbsorbanceKind = 'absorbance' | 'log-inverse-reflectance' | 'kubelka-munk';
@@ -23,6 +24,8 @@ export interface SpectrumMeta {
   dataType?: string;
   /** Non-fatal remarks for the reviewer (e.g. "x was descending, reversed"). */
   warnings: string[];
+  /** What the file states about its acquisition (JCAMP-DX only; provenance.ts). */
+  stated?: StatedAcquisition;
 }
 
 /** A spectrum on a wavenumber axis (cm-1, strictly ascending) with absorbance-like y. */

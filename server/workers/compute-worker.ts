@@ -20,6 +20,7 @@ import {
   SpectrumError,
 } from '../spectra';
 import { pickBands } from '../modules/library/engine';
+import { provenanceKeys } from '../modules/provenance/keys';
 import type { Task, TaskResult, WorkerError } from './tasks';
 
 function sha256(bytes: Uint8Array): string {
@@ -65,22 +66,48 @@ function run(task: Task): TaskResult {
     case 'measure': {
       const spectrum = readSpectrum(task.bytes, task.fileName);
       const result = scoreAgainst(spectrum, task.references, task.method);
-      // the sample itself goes back only when the caller needs it (the mix-up hint of a failure)
-      const back = result.verdict === 'fail' ? spectrum : null;
-      return { ok: true, value: { meta: spectrum.meta, spectrum: back, result, sha256: sha256(task.bytes) } };
+      // the sample goes back for the copy check (server/modules/provenance) and the mix-up hint
+      return {
+        ok: true,
+        value: {
+          meta: spectrum.meta,
+          spectrum,
+          result,
+          sha256: sha256(task.bytes),
+          keys: provenanceKeys(spectrum),
+        },
+      };
     }
     case 'instrument-check': {
       const spectrum = readSpectrum(task.bytes, task.fileName);
-      return { ok: true, value: { result: checkPolystyrene(spectrum, task.options), sha256: sha256(task.bytes) } };
+      return {
+        ok: true,
+        value: {
+          result: checkPolystyrene(spectrum, task.options),
+          sha256: sha256(task.bytes),
+          spectrum,
+          keys: provenanceKeys(spectrum),
+        },
+      };
     }
     case 'reference': {
       const spectrum = readSpectrum(task.bytes, task.fileName);
       const quality = checkQuality(spectrum, task.method);
-      if (!quality.ok) return { ok: true, value: { spectrum, quality, bands: [], sha256: sha256(task.bytes) } };
+      if (!quality.ok)
+        return {
+          ok: true,
+          value: { spectrum, quality, bands: [], sha256: sha256(task.bytes), keys: provenanceKeys(spectrum) },
+        };
       prepare(spectrum, task.method); // refuses a spectrum that does not cover the method range
       return {
         ok: true,
-        value: { spectrum, quality, bands: pickBands(spectrum, task.method), sha256: sha256(task.bytes) },
+        value: {
+          spectrum,
+          quality,
+          bands: pickBands(spectrum, task.method),
+          sha256: sha256(task.bytes),
+          keys: provenanceKeys(spectrum),
+        },
       };
     }
     case 'password': {

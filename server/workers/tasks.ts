@@ -10,6 +10,15 @@ import type {
   SpectrumMeta,
 } from '../spectra';
 import type { StoredBand } from '../modules/library/contract';
+import type { SpectrumFingerprint } from '../spectra';
+
+/** What the copy lookup indexes of a spectrum (server/modules/provenance). */
+export interface ProvenanceKeys {
+  decodedSha256: string;
+  fingerprint: SpectrumFingerprint;
+  /** rounding step of y (0 = full precision) */
+  yStep: number;
+}
 
 export type Task =
   | { op: 'sha256'; bytes: Uint8Array }
@@ -21,20 +30,24 @@ export type Task =
 
 export interface MeasureOutput {
   meta: SpectrumMeta;
-  /** the sample as read: only when the verdict is fail (for the mix-up hint), else null */
-  spectrum: Spectrum | null;
+  /** the sample as read (for the copy check and the mix-up hint) */
+  spectrum: Spectrum;
   result: IdentityResult;
   sha256: string;
+  keys: ProvenanceKeys;
 }
 export interface InstrumentCheckOutput {
   result: PolystyreneResult;
   sha256: string;
+  spectrum: Spectrum;
+  keys: ProvenanceKeys;
 }
 export interface ReferenceOutput {
   spectrum: Spectrum;
   quality: QualityReport;
   bands: StoredBand[];
   sha256: string;
+  keys: ProvenanceKeys;
 }
 export interface StrengthOutput {
   /** zxcvbn score 0-4 */

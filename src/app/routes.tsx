@@ -41,6 +41,29 @@ export const appRoutes: AppRoute[] = [
   },
   // Feature pages: append below, one line each.
   {
+    path: '/trending',
+    element: lazyPage(() => import('../routes/trending')),
+    roles: ['qa_manager', 'auditor'],
+    nav: { label: 'Trends', group: 'desk', order: 32 },
+  },
+  {
+    path: '/trending/signals/:id',
+    element: lazyPage(() => import('../routes/trend-signal')),
+    roles: ['qa_manager', 'auditor'],
+  },
+  {
+    path: '/qa-overview',
+    element: lazyPage(() => import('../routes/qa-overview')),
+    roles: ['qa_manager', 'auditor'],
+    nav: { label: 'QA overview', group: 'desk', order: 33 },
+  },
+  {
+    path: '/audit-reviews',
+    element: lazyPage(() => import('../routes/audit-reviews')),
+    roles: ['qa_manager', 'auditor'],
+    nav: { label: 'Audit-trail reviews', group: 'desk', order: 62 },
+  },
+  {
     path: '/library',
     element: lazyPage(() => import('../routes/library')),
     roles: ['operator', 'verifier', 'qa_manager', 'auditor'],

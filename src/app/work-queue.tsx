@@ -14,9 +14,12 @@ import {
   LotsToTestWidget,
   OpenInvestigationsWidget,
   RetestsDueWidget,
+  BlockedContainersWidget,
+  CertificatesToIssueWidget,
   TestsToVerifyWidget,
 } from '../routes/testing-widgets';
 import { OpenIntegrityAlertsWidget } from '../routes/integrity-widgets';
+import { AuditReviewDueWidget, OpenTrendSignalsWidget } from '../routes/trending-widgets';
 import {
   AccountsToAttendWidget,
   CertificatesToCheckWidget,
@@ -37,6 +40,20 @@ export interface WorkQueueWidget {
 
 export const workQueueWidgets: WorkQueueWidget[] = [
   // Feature widgets: append below, one entry each.
+  {
+    id: 'trending.open-signals',
+    title: 'Open trend signals (early warnings)',
+    roles: ['qa_manager'],
+    order: 22,
+    Component: OpenTrendSignalsWidget,
+  },
+  {
+    id: 'audit-review.due',
+    title: 'Periodic audit-trail review',
+    roles: ['qa_manager'],
+    order: 24,
+    Component: AuditReviewDueWidget,
+  },
   {
     id: 'instruments.check-due',
     title: 'Instruments with a check due',
@@ -75,6 +92,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
   },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
   {
+    id: 'testing.blocked-containers',
+    title: 'Blocked containers',
+    roles: ['qa_manager'],
+    order: 19,
+    Component: BlockedContainersWidget,
+  },
+  {
     id: 'investigations.open',
     title: 'Open investigations',
     roles: ['qa_manager'],
@@ -108,6 +132,13 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     roles: ['qa_manager'],
     order: 10,
     Component: OpenIntegrityAlertsWidget,
+  },
+  {
+    id: 'certificates.to-issue',
+    title: 'Certificates that could not be issued',
+    roles: ['qa_manager'],
+    order: 11,
+    Component: CertificatesToIssueWidget,
   },
 ];
 

@@ -19,6 +19,7 @@ export const qk = {
     event: (id: number | null) => ['audit', 'event', id] as const,
     facets: ['audit', 'facets'] as const,
     chain: ['audit', 'verify'] as const,
+    fullCheck: (id: number | null) => ['audit', 'verify', 'full', id] as const,
     history: (entityType: string, entityId: string) => ['audit', 'history', entityType, entityId] as const,
   },
   certificates: {
@@ -58,6 +59,8 @@ export const qk = {
     /** A test, its review and everything under it. */
     one: (id: number) => ['tests', id] as const,
     review: (id: number) => ['tests', id, 'review'] as const,
+    handOverCandidates: (id: number) => ['tests', id, 'hand-over-candidates'] as const,
+    blockedContainers: ['testing', 'blocked-containers'] as const,
     instruments: ['testing', 'instruments'] as const,
     verificationQueue: ['verification', 'queue'] as const,
   },
@@ -90,6 +93,22 @@ export const qk = {
     accounts: ['integration', 'accounts'] as const,
     webhooks: ['integration', 'webhooks'] as const,
     deliveries: ['integration', 'deliveries'] as const,
+  },
+  trending: {
+    all: ['trending'] as const,
+    methods: ['trending', 'methods'] as const,
+    chart: (filter: object) => ['trending', 'chart', filter] as const,
+    signals: (status: string) => ['trending', 'signals', status] as const,
+    signal: (id: number) => ['trending', 'signal', id] as const,
+    exceptions: (testId: number) => ['trending', 'exceptions', testId] as const,
+    overview: (from: string, to: string) => ['trending', 'overview', from, to] as const,
+  },
+  auditReviews: {
+    all: ['audit-reviews'] as const,
+    list: ['audit-reviews', 'list'] as const,
+    one: (id: number) => ['audit-reviews', id] as const,
+    due: ['audit-reviews', 'due'] as const,
+    exceptions: (from: string, to: string) => ['audit-reviews', 'exceptions', from, to] as const,
   },
   workQueue: ['work-queue'] as const,
 };

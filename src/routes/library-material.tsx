@@ -9,6 +9,7 @@ import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { useMaterial, useReferences, useSpecificityMatrix } from '../features/library/api';
 import { EditMaterialDialog } from '../features/library/components/EditMaterialDialog';
+import { IrSuitabilityDialog } from '../features/library/components/IrSuitabilityDialog';
 import { MethodVersions } from '../features/library/components/MethodVersions';
 import { ReferencesTable } from '../features/library/components/ReferencesTable';
 import { SpecificityMatrixTable } from '../features/library/components/SpecificityMatrixTable';
@@ -38,10 +39,12 @@ export default function LibraryMaterialPage() {
   const navigate = useNavigate();
   const [uploading, setUploading] = useState(false);
   const [editing, setEditing] = useState(false);
+  const [decidingIr, setDecidingIr] = useState(false);
 
   if (material.isPending) return <PageLoading />;
   if (material.isError) return <ErrorNote error={material.error} onRetry={() => void material.refetch()} />;
   const m = material.data;
+  const irUnsuitable = m.irSuitability !== null && !m.irSuitability.suitable;
   const approved = m.methods.find((x) => x.status === 'approved');
   const technique = approved?.technique ?? m.methods[0]?.technique ?? 'mid-ir-atr';
   return (
@@ -72,6 +75,9 @@ export default function LibraryMaterialPage() {
             {isQa && (
               <>
                 <Button onClick={() => setEditing(true)}>Change material</Button>
+                <Button onClick={() => setDecidingIr(true)}>
+                  {irUnsuitable ? 'Allow identity by IR again' : 'Mark identity by IR not suitable'}
+                </Button>
                 <Button variant="primary" onClick={() => setUploading(true)} disabled={!m.active}>
                   Upload reference spectra
                 </Button>
@@ -81,6 +87,17 @@ export default function LibraryMaterialPage() {
         }
       />
       {m.notes && <p className="-mt-2 mb-4 text-sm whitespace-pre-wrap">{m.notes}</p>}
+      {irUnsuitable && (
+        <p
+          className="mb-4 rounded-md border border-amber/50 bg-amber-soft px-3 py-2 text-sm"
+          role="note"
+          data-testid="ir-not-suitable"
+        >
+          <strong>Identity by IR not suitable.</strong> No IR method is approved for this grade, its lots are not tested
+          by IR and no IR identity certificate is issued. Its identity is tested by: {m.irSuitability!.replacementTest}{' '}
+          (decided by {m.irSuitability!.decidedByName}).
+        </p>
+      )}
 
       <section aria-labelledby="refs-h" className="mb-8">
         <h2 id="refs-h" className="mb-2 text-lg">
@@ -105,6 +122,12 @@ export default function LibraryMaterialPage() {
         </p>
         <MethodVersions
           methods={m.methods}
+          userId={user.id}
+          firstVersionDrafts={
+            references.data && !references.data.some((r) => r.status === 'approved')
+              ? references.data.filter((r) => r.status === 'draft').length
+              : 0
+          }
           canWrite={isQa}
           signer={{ printedName: user.fullName, needsUsername: !user.signedOnce }}
         />
@@ -127,6 +150,15 @@ export default function LibraryMaterialPage() {
             onOpenReference={(rid) => navigate(`/library/references/${rid}`)}
           />
           <EditMaterialDialog open={editing} material={m} onClose={() => setEditing(false)} />
+          <IrSuitabilityDialog
+            open={decidingIr}
+            materialId={m.id}
+            label={`${m.code} ${m.name}`}
+            markUnsuitable={!irUnsuitable}
+            printedName={user.fullName}
+            needsUsername={!user.signedOnce}
+            onClose={() => setDecidingIr(false)}
+          />
         </>
       )}
     </div>

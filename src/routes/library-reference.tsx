@@ -17,6 +17,7 @@ import { formatBytes } from '../lib/format';
 import { referenceFileUrl, useReference, useSpecificityGate } from '../features/library/api';
 import { ApproveReferenceDialog } from '../features/library/components/ApproveReferenceDialog';
 import { BandTable } from '../features/library/components/BandTable';
+import { GateOverrideDialog } from '../features/library/components/GateOverrideDialog';
 import { GateTable } from '../features/library/components/GateTable';
 import { ReferenceOverlay } from '../features/library/components/ReferenceOverlay';
 import { RetireReferenceDialog } from '../features/library/components/RetireReferenceDialog';
@@ -41,6 +42,7 @@ export default function LibraryReferencePage() {
   const mayDownload = useHasRole('verifier', 'qa_manager', 'auditor'); // docs/access.md: reference raw files
   const ref = useReference(id);
   const [approving, setApproving] = useState(false);
+  const [requestingOverride, setRequestingOverride] = useState(false);
   const [retiring, setRetiring] = useState(false);
 
   if (ref.isPending) return <PageLoading />;
@@ -125,6 +127,9 @@ export default function LibraryReferencePage() {
             />
             {isQa && (
               <>
+                {r.status === 'draft' && !ownUpload && (
+                  <Button onClick={() => setRequestingOverride(true)}>Request gate override</Button>
+                )}
                 {r.status === 'draft' && (
                   <Button
                     variant="primary"
@@ -215,7 +220,17 @@ export default function LibraryReferencePage() {
             code={r.code}
             printedName={user.fullName}
             needsUsername={!user.signedOnce}
+            pendingOverride={r.overrides.find((o) => !o.confirmedAt && o.requestedBy !== user.id) ?? null}
             onClose={() => setApproving(false)}
+          />
+          <GateOverrideDialog
+            open={requestingOverride}
+            kind="references"
+            id={r.id}
+            label={`reference ${r.code}`}
+            printedName={user.fullName}
+            needsUsername={!user.signedOnce}
+            onClose={() => setRequestingOverride(false)}
           />
           <RetireReferenceDialog
             open={retiring}

@@ -8,6 +8,7 @@ import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { useReview } from '../features/testing/api';
 import { ReviewView } from '../features/testing/components/Review';
 import { SignatureList } from '../features/testing/components/Signatures';
+import { ReviewExceptions } from '../features/trending/components/ReviewExceptions';
 
 export default function TestReviewPage() {
   const id = Number(useParams().id);
@@ -37,6 +38,7 @@ export default function TestReviewPage() {
         }
         subtitle={`${t.lot.material.name} · ${t.statusLabel} · ${t.readiness.inScope} container(s)${t.retestOfInvestigationId ? ' · retest authorised by QA' : ''} · instrument ${t.instrument?.name ?? '—'}`}
       />
+      <ReviewExceptions testId={t.id} />
       <div className="mb-4">
         <SignatureList signatures={t.signatures} />
         {t.returnedReason && <p className="mt-1 text-sm">Returned: {t.returnedReason}</p>}

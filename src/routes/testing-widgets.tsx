@@ -7,6 +7,9 @@ import {
   RetestsDueList,
   TestsToVerifyList,
 } from '../features/testing/components/Widgets';
+import { CertificatesToIssueList } from '../features/testing/components/Widgets';
+import { BlockedContainersList } from '../features/testing/components/Provenance';
+import { useSession } from '../app/session';
 
 export function LotsToTestWidget() {
   return <LotsToTestList />;
@@ -30,4 +33,13 @@ export function LotsAwaitingDispositionWidget() {
 
 export function RetestsDueWidget() {
   return <RetestsDueList />;
+}
+
+export function BlockedContainersWidget() {
+  const { user } = useSession();
+  return <BlockedContainersList me={user} />;
+}
+
+export function CertificatesToIssueWidget() {
+  return <CertificatesToIssueList />;
 }

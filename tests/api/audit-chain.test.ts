@@ -10,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { agentFor, db, ownerDb } from './helpers';
 import { privateEntityType, seedEvents } from './fixtures-audit';
 import { rowHash, verifyChain, type AuditRow } from '../../server/lib/audit';
+import { auditKey } from '../../server/lib/audit-key';
 
 const owner = ownerDb();
 const T = privateEntityType('chn');
@@ -69,11 +70,12 @@ describe('chain check from the UI', () => {
     const res = await auditor.get('/api/audit/verify');
     expect(res.status).toBe(200);
     const head = await db()('audit_head').where({ id: 1 }).first();
-    expect(res.body).toEqual({
+    expect(res.body).toMatchObject({
       ok: true,
       events: Number(head.last_id),
       lastId: Number(head.last_id),
       lastHash: head.last_hash,
+      keyedFrom: Number(head.keyed_from),
     });
   });
 
@@ -100,7 +102,29 @@ describe('chain check from the UI', () => {
     expect((await auditor.get('/api/audit/verify')).body.ok).toBe(true);
   });
 
-  it('an altered event whose own hash was recomputed breaks the link of the next event', async () => {
+  it('an altered event whose hash was recomputed without the chain key (plain SHA-256) is found at that event', async () => {
+    // The keyed chain (HMAC with a key outside the database; docs/compliance.md): the owner
+    // account can recompute a SHA-256, but not the keyed hash.
+    const a = await row(ids[2]);
+    try {
+      const { hash: _old, ...content } = { ...a, reason: 'quietly rewritten' };
+      await withoutTrigger('update', () =>
+        owner('audit_event')
+          .where({ id: ids[2] })
+          .update({ reason: content.reason, hash: rowHash(content) }),
+      );
+      const res = await auditor.get('/api/audit/verify');
+      expect(res.body).toMatchObject({
+        ok: false,
+        brokenAt: ids[2],
+        problem: 'content does not match its hash (altered)',
+      });
+    } finally {
+      await restore(a);
+    }
+  });
+
+  it('an altered event whose own hash was recomputed with the key breaks the link of the next event', async () => {
     const a = await row(ids[2]);
     try {
       const forged = { ...a, reason: 'quietly rewritten' };
@@ -108,7 +132,7 @@ describe('chain check from the UI', () => {
       await withoutTrigger('update', () =>
         owner('audit_event')
           .where({ id: ids[2] })
-          .update({ reason: forged.reason, hash: rowHash(content) }),
+          .update({ reason: forged.reason, hash: rowHash(content, auditKey().key) }),
       );
       const res = await auditor.get('/api/audit/verify');
       expect(res.body).toMatchObject({

@@ -10,7 +10,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { agentFor, db, ownerDb, testApp } from './helpers';
-import { createMaterial } from './fixtures-library';
+import { approvableMaterial } from './fixtures-library';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
 let author: Agent;
@@ -30,8 +30,8 @@ beforeAll(async () => {
 
 describe('two components at the first signing of a session, the password after (21 CFR 11.200)', () => {
   it('password alone is refused at the first signing (audited); user name + password signs; then the password alone signs', async () => {
-    const m1 = await createMaterial(author, 'Esign control one');
-    const m2 = await createMaterial(author, 'Esign control two');
+    const m1 = await approvableMaterial(author, 'Esign control one', 'nylon6_s074.csv');
+    const m2 = await approvableMaterial(author, 'Esign control two', 'polyester-PET_s135_r2.csv');
 
     const first = await approve(signer.agent, m1.draftMethodId, { password: signer.user.password });
     expect(first.status).toBe(401);
@@ -66,7 +66,7 @@ describe('two components at the first signing of a session, the password after (
     const second = await approve(signer.agent, m2.draftMethodId, { password: signer.user.password });
     expect(second.status).toBe(200);
     // a wrong password still signs nothing
-    const m3 = await createMaterial(author, 'Esign control three');
+    const m3 = await approvableMaterial(author, 'Esign control three', 'wool_Coopworth_s11.3_r1.csv');
     expect((await approve(signer.agent, m3.draftMethodId, { password: 'not-my-password' })).status).toBe(401);
 
     // a new session starts over: both components again
@@ -81,7 +81,7 @@ describe('two components at the first signing of a session, the password after (
   });
 
   it("a signature cannot be given in one's session with another person's user name and password", async () => {
-    const m = await createMaterial(author, 'Esign control four');
+    const m = await approvableMaterial(author, 'Esign control four', 'cotton_cord_s6.1_r1.csv');
     const fresh = request.agent(testApp());
     expect(
       (await fresh.post('/api/auth/sign-in').send({ username: signer.user.username, password: signer.user.password }))
@@ -97,7 +97,7 @@ describe('two components at the first signing of a session, the password after (
 
 describe('signatures stay with their record (21 CFR 11.50, 11.70; Annex 11 §14)', () => {
   it('is shown with the record (history) and cannot be changed or moved to another record, even by the owner account', async () => {
-    const m = await createMaterial(author, 'Esign control five');
+    const m = await approvableMaterial(author, 'Esign control five', 'para-aramid_s050.csv');
     expect(
       (await approve(signer.agent, m.draftMethodId, { username: signer.user.username, password: signer.user.password }))
         .status,

@@ -30,6 +30,8 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
     "Changes the auditor's own password, as 21 CFR 11.300 expects of every account (periodic revision, first sign-in); changes no GMP record.",
   'post /api/integrity/runs':
     'Asks for an integrity sweep: re-checking stored files and signatures against their hashes is part of the auditor role (docs/access.md). Stores the sweep run and its audit event; changes no record.',
+  'post /api/audit/verify/full':
+    "Starts the full check of the audit chain in the background: verifying the trail is part of the auditor role (docs/access.md). Stores the check's progress row and its audit event; changes no record.",
   'post /api/certificates/verify':
     'Checks an uploaded certificate PDF against the stored one and its signature - checking certificates is part of the auditor role (DESIGN.md). Stores nothing but the audit event of the check.',
 };
@@ -42,6 +44,8 @@ const NOT_FOR_AUDITORS: Record<string, string> = {
   'get /api/webhook-deliveries':
     "The administrator's delivery queue (operational state); the events announced are GMP events in the audit trail.",
   'get /api/erp/lots/:lotNumber': 'A machine route: reached only with a machine token, by no person.',
+  'get /api/tests/:id/hand-over-candidates':
+    'A picker of the operators who may take over an attempt, for its holder or QA; auditors read every hand-over in the audit trail and on the review.',
   'get /api/users':
     "Account administration (e-mail addresses, lock state) is the administrator's; auditors read every account event in the audit trail.",
   'get /api/users/:id': 'As above.',

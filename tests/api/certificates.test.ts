@@ -18,7 +18,7 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { sha256Hex } from '../../server/lib/canonical';
-import { extractSignatureDer, verifyPdfSignature } from '../../server/lib/pdf-sign';
+import { extractSignatureDer, KEYS_DIR, verifyPdfSignature } from '../../server/lib/signing';
 import { issueCertificate } from '../../server/modules/certificates';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { agentFor, db, ownerDb, sig, testApp } from './helpers';
@@ -183,7 +183,9 @@ describe('issuing a certificate for a passed lot', () => {
   });
 
   it('our own verifier agrees with pdfsig on the intact file', () => {
-    const v = verifyPdfSignature(pdf);
+    const v = verifyPdfSignature(pdf, {
+      tsaTrustedPem: [fs.readFileSync(path.join(KEYS_DIR, 'fake-tsa', 'root.crt'), 'utf8')],
+    });
     expect(v).toMatchObject({
       signed: true,
       valid: true,

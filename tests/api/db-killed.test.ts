@@ -149,19 +149,20 @@ interface Sent {
 describe('MariaDB killed with SIGKILL during writes', () => {
   it('every in-flight request answers 503 or succeeds, nothing is half-written, the chain stays intact', async () => {
     const { hashPassword } = await import('../../server/lib/passwords');
-    const now = new Date();
-    await db('app_user').insert({
-      username: 'kt.admin',
-      full_name: 'Kill Test Admin',
-      email: 'kt.admin@test.example',
-      password_hash: await hashPassword('violet-harbour-lamp-93'),
-      roles: JSON.stringify(['admin']),
-      must_change_password: 0,
-      failed_attempts: 0,
-      active: 1,
-      created_at: now,
-      updated_at: now,
-    });
+    // the administrator comes from the site-setup path of the owner account (docs/access.md), as on a real site
+    const { createSiteAccounts } = await import('../../db/site-accounts');
+    const knexFactory = (await import('knex')).default;
+    const owner = knexFactory({ client: 'mysql2', connection: process.env.DATABASE_OWNER_URL });
+    const hash = await hashPassword('violet-harbour-lamp-93');
+    try {
+      await createSiteAccounts(
+        owner,
+        [{ username: 'kt.admin', fullName: 'Kill Test Admin', email: 'kt.admin@test.example', roles: ['admin'] }],
+        { passwordHash: () => hash, mustChangePassword: false, reason: 'kill test administrator', audit: false },
+      );
+    } finally {
+      await owner.destroy();
+    }
     const admin = request.agent(server!);
     expect(
       (await admin.post('/api/auth/sign-in').send({ username: 'kt.admin', password: 'violet-harbour-lamp-93' })).status,

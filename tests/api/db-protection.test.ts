@@ -9,12 +9,17 @@
  * - append-only tables refuse UPDATE and DELETE; guarded records refuse deletion and every change
  *   outside their permitted transitions; signature columns only take a signature of the same record.
  */
+import path from 'node:path';
+import os from 'node:os';
+import fs from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
 import { appendOnlyTables, guardedTables, operationalTables } from '../../db/migrations/index';
 import { runtimePrivileges } from '../../db/migrate';
 import { guardTriggerName } from '../../db/protect';
 import { issueCertificate } from '../../server/modules/certificates';
+import { loadConfig } from '../../server/lib/config';
+import { writeCheckpoint } from '../../server/modules/audit/anchor';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import {
@@ -30,6 +35,9 @@ import {
   type ApprovedMaterial,
 } from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
+import { contentHash } from '../../server/lib/esign';
+import { methodSignedContent } from '../../server/modules/library/service';
+import { irSuitabilitySignedContent, overrideSignedContent } from '../../server/modules/library/method-control';
 
 let owner: Knex;
 let material: ApprovedMaterial;
@@ -66,6 +74,51 @@ beforeAll(async () => {
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
   ).id;
+  // provenance rows (docs/provenance.md) of the passed lot's first measurement
+  const ms = await db()('measurement').where({ test_id: lot.testId }).orderBy('id').first();
+  const t = await db()('identity_test').where({ id: lot.testId }).first();
+  const provAt = new Date();
+  await db()('spectrum_fingerprint').insert({
+    file_id: ms.file_id,
+    record_type: 'measurement',
+    record_id: ms.id,
+    raw_sha256: '1'.repeat(64),
+    decoded_sha256: '2'.repeat(64),
+    points: 10,
+    x_low: 600,
+    x_high: 4000,
+    seg1: 0.1,
+    seg2: 0.1,
+    seg3: 0.1,
+    seg4: 0.1,
+    noise: 0.001,
+    y_range: 1,
+    y_step: 0,
+    created_at: provAt,
+  });
+  await db()('measurement_provenance').insert({
+    measurement_id: ms.id,
+    acquired_judgement: 'not-stated',
+    serial_judgement: 'not-stated',
+    identifier_findings: '[]',
+    created_at: provAt,
+  });
+  await db()('test_handover').insert({
+    test_id: lot.testId,
+    from_user: t.created_by,
+    to_user: t.created_by,
+    reason: 'probe',
+    created_by: t.created_by,
+    created_at: provAt,
+  });
+  await db()('container_block').insert({
+    container_id: ms.container_id,
+    test_id: lot.testId,
+    event: 'blocked',
+    invalid_count: 3,
+    created_by: t.created_by,
+    created_at: provAt,
+  });
   // a declined role change: rows in role_request and role_decision
   const a = await agentFor(['admin']);
   const b = await agentFor(['admin']);
@@ -103,7 +156,132 @@ beforeAll(async () => {
     signature: { username: qa.user.username, password: qa.user.password },
   });
   expect(off.status).toBe(200);
+  await methodControlRows(file);
+  // trending and the audit-trail review (migration 150): one row of each, written as the app would
+  const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
+  const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
+  const now = new Date();
+  await db()('trend_baseline').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    period_from: now,
+    period_to: now,
+    reason: 'protection probe',
+    fixed_by: qa.user.id,
+    fixed_at: now,
+  });
+  await db()('trend_signal').insert({
+    material_id: method.material_id,
+    method_id: m.method_id,
+    metric: 'correlation',
+    scope_kind: 'all',
+    scope_value: '',
+    scope_label: 'All',
+    rule: 'beyond-3-sigma',
+    measurement_id: m.id,
+    point_ids: JSON.stringify([m.id]),
+    value: 0.99,
+    limits: '{}',
+    detail: 'protection probe',
+    status: 'open',
+    raised_at: now,
+  });
+  await db()('audit_review').insert({
+    number: `ATR-PROBE-${Date.now()}`,
+    period_from: '2026-01-01',
+    period_to: '2026-01-31',
+    scope: '[]',
+    exceptions: '{}',
+    findings: 'protection probe',
+    actions: 'none',
+    reviewed_by: qa.user.id,
+    reviewed_at: now,
+  });
 });
+
+/**
+ * Rows in the method-control tables (db/migrations/110_method_control.ts), written by the runtime
+ * account the way the service writes them, each signature over the content its recipe rebuilds (so
+ * the integrity sweep of later files finds them intact): an override of the gate requested by one QA
+ * manager and confirmed by another, the approval record it belongs to, an IR decision, an attempt pin.
+ */
+async function methodControlRows(file: { id: number; sha256: string }) {
+  const [u1, u2] = [await makeUser(['qa_manager']), await makeUser(['qa_manager'])];
+  const mId = material.methodId;
+  const sign = async (user: { id: number; fullName: string }, meaning: string, type: string, id: number, c: unknown) =>
+    (
+      await db()('e_signature').insert({
+        user_id: user.id,
+        printed_name: user.fullName,
+        meaning,
+        entity_type: type,
+        entity_id: String(id),
+        content_hash: contentHash(c),
+        statement: null,
+        signed_at: new Date(),
+      })
+    )[0] as number;
+  const ov = {
+    entityType: 'identity_method' as const,
+    entityId: mId,
+    justification: 'probe of the protection test',
+    changeControl: 'CC-PROBE',
+    gateSha256: '1'.repeat(64),
+  };
+  const reqSig = await sign(u1, 'gate-override-requested', 'identity_method', mId, overrideSignedContent(ov));
+  const [ovId] = await db()('gate_override').insert({
+    entity_type: ov.entityType,
+    entity_id: mId,
+    justification: ov.justification,
+    change_control: ov.changeControl,
+    gate_sha256: ov.gateSha256,
+    gate: '{}',
+    requested_by: u1.id,
+    signature_id: reqSig,
+    requested_at: new Date(),
+  });
+  const row = await db()('identity_method').where({ id: mId }).first();
+  const approval = { validationSha256: file.sha256, firstReferenceIds: [], gateOverrideId: ovId as number };
+  const confSig = await sign(u2, 'approved', 'identity_method', mId, methodSignedContent(row, approval));
+  await db()('gate_override_confirmation').insert({
+    override_id: ovId,
+    confirmed_by: u2.id,
+    signature_id: confSig,
+    confirmed_at: new Date(),
+  });
+  await db()('method_approval').insert({
+    method_id: mId,
+    validation_file_id: file.id,
+    validation_sha256: file.sha256,
+    validation: '{"gate":{}}',
+    first_reference_ids: '[]',
+    gate_override_id: ovId,
+    signature_id: confSig,
+    created_at: new Date(),
+  });
+  const irSig = await sign(
+    u1,
+    'ir-suitability-decided',
+    'material',
+    material.materialId,
+    irSuitabilitySignedContent(material.materialId, true, null, 'probe'),
+  );
+  await db()('material_ir_suitability').insert({
+    material_id: material.materialId,
+    suitable: 1,
+    replacement_test: null,
+    reason: 'probe',
+    decided_by: u1.id,
+    signature_id: irSig,
+    decided_at: new Date(),
+  });
+  await db()('attempt_pin').insert({
+    test_id: lot.testId,
+    method_id: mId,
+    reference_ids: '[]',
+    created_at: new Date(),
+  });
+}
 
 afterAll(async () => {
   await retire();
@@ -246,7 +424,47 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     container_status: { column: 'status', value: 'released' },
     lot_check: { column: 'outcome', value: 'conforms' },
     lot_disposition: { column: 'decision', value: 'released' },
+    gate_override: { column: 'justification', value: 'rewritten' },
+    gate_override_confirmation: { column: 'confirmed_at', value: new Date(0) },
+    method_approval: { column: 'validation_sha256', value: '0'.repeat(64) },
+    material_ir_suitability: { column: 'suitable', value: 0 },
+    attempt_pin: { column: 'reference_ids', value: '[1]' },
+    spectrum_fingerprint: { column: 'decoded_sha256', value: '0'.repeat(64) },
+    measurement_provenance: { column: 'remeasure_reason', value: 'rewritten' },
+    test_handover: { column: 'to_user', value: 1 },
+    container_block: { column: 'event', value: 'released' },
+    password_history: { column: 'password_hash', value: 'rewritten' },
+    trend_baseline: { column: 'period_to', value: new Date(0) },
+    audit_review: { column: 'findings', value: 'rewritten' },
+    certificate_number: { column: 'lot_id', value: 1 },
+    certificate_issue_failure: { column: 'problem', value: 'rewritten' },
+    audit_chain_key: { column: 'first_event_id', value: 999_999 },
+    audit_checkpoint: { column: 'head_hash', value: '0'.repeat(64) },
   };
+  beforeAll(async () => {
+    // a password change through the application writes a password_history row to try
+    const { agent, user } = await agentFor(['operator']);
+    const r = await agent
+      .post('/api/auth/password')
+      .send({ currentPassword: user.password, newPassword: 'violet-harbour-lamp-93' });
+    expect(r.status).toBe(204);
+    // a failed certificate issue writes a certificate_issue_failure row to try (its number row too)
+    const failing = await createPassedLot(db(), { containers: 1 });
+    await expect(
+      issueCertificate(
+        db(),
+        { lotId: failing.lotId, testId: failing.testId, actor: { id: null, name: 'test' } },
+        { config: loadConfig({ signingP12Path: 'no-such-signing-key.p12' }) },
+      ),
+    ).rejects.toThrow();
+    // a checkpoint row to try (the keyed start, audit_chain_key, was written by the first audit event)
+    const checkpointDir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-cp-'));
+    try {
+      await writeCheckpoint(db(), loadConfig({ auditCheckpointDir: checkpointDir }), { force: true });
+    } finally {
+      fs.rmSync(checkpointDir, { recursive: true, force: true });
+    }
+  });
   it('covers every append-only table', () => {
     expect(Object.keys(probes).sort()).toEqual([...appendOnlyTables].sort());
   });

@@ -10,7 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { migrateDatabase, dropDatabase, recreateDatabase } from '../../db/migrate';
 import { DEMO_ACCOUNTS, seedAccounts, DEMO_PASSWORD } from '../../db/seeds/accounts';
-import { DEMO_MATERIAL_CODES, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
+import { DEMO_TREND, NEW_HIRE, ROLE_REQUEST, seedDemoSite } from '../../db/seeds/demo';
 import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import { DEMO_LOTS, type LotState } from '../../fixtures/catalogue';
 import { LOOK_ALIKE_PAIR } from '../../fixtures/demo-methods';
@@ -80,14 +80,33 @@ async function lotOf(key: string) {
 }
 
 describe('demo seed', () => {
-  it('creates every demo grade with an approved method and three approved references, uploaded and approved by different QA people', async () => {
+  it('creates every demo grade with an approved method and three approved references, written and uploaded by one QA manager, approved by another with a validation record; sodium chloride is marked "identity by IR not suitable"', async () => {
     const quinn = await db('app_user').where({ username: 'quinn' }).first();
     const irene = await db('app_user').where({ username: 'irene' }).first();
     for (const m of MATERIALS) {
       const mat = await db('material').where({ code: m.code }).first();
       expect(mat, m.code).toBeTruthy();
       const approved = await db('identity_method').where({ material_id: mat.id, status: 'approved' });
+      if (m.key === 'sodium-chloride') {
+        // no IR method, no reference: the decision that replaces them, signed by QA
+        expect(approved, m.code).toHaveLength(0);
+        const d = await db('material_ir_suitability').where({ material_id: mat.id }).orderBy('id', 'desc').first();
+        expect(d).toMatchObject({ suitable: 0, decided_by: quinn.id });
+        expect(d.replacement_test).toMatch(/sodium and of chlorides/);
+        continue;
+      }
       expect(approved, m.code).toHaveLength(1);
+      for (const v of await db('identity_method').where({ material_id: mat.id }).whereNot({ status: 'draft' })) {
+        expect(v.created_by, m.code).toBe(irene.id);
+        const s = await db('e_signature').where({ id: v.approved_signature_id }).first();
+        expect(s.user_id, m.code).toBe(quinn.id);
+        // the validation record was stored with the approval and its SHA-256 signed
+        const a = await db('method_approval').where({ method_id: v.id }).first();
+        expect(a, `${m.code} v${v.version}`).toBeTruthy();
+        const f = await db('stored_file').where({ id: a.validation_file_id }).first();
+        expect(f.media_type).toBe('application/pdf');
+        expect(f.sha256).toBe(a.validation_sha256);
+      }
       const refs = await db('reference_spectrum').where({ material_id: mat.id, status: 'approved' });
       expect(refs.length, m.code).toBe(3);
       for (const r of refs) {
@@ -103,32 +122,49 @@ describe('demo seed', () => {
     expect(drafts[0].created_by).toBe(irene.id);
   });
 
-  it('shows the look-alike pair flagged by the specificity gate, then both methods tightened (version 2) and the library specific', async () => {
+  it('shows the look-alike pair refused by the specificity gate, then the methods tightened and the library specific with its margins', async () => {
     const mh = await db('material')
       .where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code })
       .first();
-    const blocked = await db('audit_event').where({ action: 'reference.approval-blocked' });
+    const mhFirst = await db('identity_method').where({ material_id: mh.id, version: 1 }).first();
+    const blocked = await db('audit_event').where({ action: 'method.approval-blocked' });
     expect(blocked).toHaveLength(1);
-    const blockedRef = await db('reference_spectrum')
-      .where({ id: Number(blocked[0].entity_id) })
-      .first();
-    expect(blockedRef.material_id).toBe(mh.id);
-    const offending = (JSON.parse(blocked[0].after_json) as { offending: { materialCode: string }[] }).offending;
-    expect(new Set(offending.map((o) => o.materialCode))).toEqual(new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]));
+    expect(Number(blocked[0].entity_id)).toBe(mhFirst.id);
+    const offending = (JSON.parse(blocked[0].after_json) as { offending: { otherMaterialCode: string }[] }).offending;
+    expect(new Set(offending.map((o) => o.otherMaterialCode))).toEqual(
+      new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]),
+    );
+    const expected: Record<string, string[]> = {
+      [LOOK_ALIKE_PAIR[0]]: ['1:superseded', '2:approved'],
+      [LOOK_ALIKE_PAIR[1]]: ['1:approved'],
+    };
     for (const key of LOOK_ALIKE_PAIR) {
       const mat = await db('material')
         .where({ code: materialByKey(key).code })
         .first();
       const methods = await db('identity_method').where({ material_id: mat.id }).orderBy('version');
-      expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(['1:superseded', '2:approved']);
-      expect(JSON.parse(methods[1].params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
+      expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(expected[key]);
+      expect(JSON.parse(methods.at(-1).params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
     }
     const matrix = await specificityMatrixFor('mid-ir-atr', db);
-    expect(matrix.materials.map((m) => m.code).sort()).toEqual([...DEMO_MATERIAL_CODES].sort());
+    const irCodes = MATERIALS.filter((m) => m.key !== 'sodium-chloride').map((m) => m.code);
+    expect(matrix.materials.map((m) => m.code).sort()).toEqual([...irCodes].sort());
     expect(matrix.notDiscriminated).toEqual([]);
     // Every grade's references pass against each other (leave one out).
     for (const c of matrix.cells.filter((x) => x.rowMaterialId === x.columnMaterialId))
       expect(c.state, String(c.rowMaterialId)).toBe('self');
+  });
+
+  it('refuses an IR test of the sodium chloride lot (identity by IR not suitable)', async () => {
+    const app = createApp({ database: DEMO_DB }).app;
+    const agent = request.agent(app);
+    await agent.post('/api/auth/sign-in').send({ username: 'olga', password: DEMO_PASSWORD }).expect(200);
+    const lot = await lotOf('I');
+    const inst = await db('instrument').orderBy('id').first();
+    const res = await agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.id });
+    expect(res.status).toBe(409);
+    expect(res.body.error.code).toBe('IR_NOT_SUITABLE');
+    expect(await db('identity_test').where({ lot_id: lot.id }).first()).toBeUndefined();
   });
 
   it('has three instruments with the site ATR check positions, one of them with its check due', async () => {
@@ -195,7 +231,10 @@ describe('demo seed', () => {
     const agent = request.agent(app);
     await agent.post('/api/auth/sign-in').send({ username: 'aurelia', password: DEMO_PASSWORD }).expect(200);
     const passedLots = await db('lot').where({ identity_status: 'passed' });
-    expect(passedLots.length).toBe(DEMO_LOTS.filter((l) => l.state === 'passed').length);
+    // the scenario's passed lots and the 40 lots of the synthetic trend history
+    const synthetic = passedLots.filter((l) => l.lot_number.startsWith(`${DEMO_TREND.prefix}-`));
+    expect(synthetic).toHaveLength(40);
+    expect(passedLots.length).toBe(DEMO_LOTS.filter((l) => l.state === 'passed').length + 40);
     for (const lot of passedLots) {
       const certs = await db('certificate').where({ lot_id: lot.id });
       expect(certs, lot.lot_number).toHaveLength(1);
@@ -263,7 +302,10 @@ describe('demo seed', () => {
         .where('r.lot_id', reducedLot.id),
     ).toHaveLength(5);
     // every lot that was tested was sampled first
-    const tested = await db('identity_test').distinct('lot_id');
+    const tested = await db('identity_test as t')
+      .join('lot as l', 'l.id', 't.lot_id')
+      .whereNotNull('l.sampling_plan')
+      .distinct('t.lot_id as lot_id');
     for (const t of tested)
       expect(await db('sampling_record').where({ lot_id: t.lot_id }).first(), `lot ${t.lot_id}`).toBeTruthy();
     expect(await db('lot').where({ status: 'released' }).whereNotNull('retest_date')).toHaveLength(1);
@@ -271,6 +313,30 @@ describe('demo seed', () => {
     expect((await db('lot').where({ status: 'quarantine', identity_status: 'passed' })).length).toBeGreaterThan(0);
     expect(await db('machine_account').whereNull('revoked_at')).toHaveLength(1);
     expect((await db('webhook_endpoint').first()).url).toBe('http://127.0.0.1:8090/hooks');
+  });
+
+  it('holds a synthetic drifting history of 40 passed results with its open trend signals and a signed audit-trail review', async () => {
+    const lots = await db('lot').where('lot_number', 'like', `${DEMO_TREND.prefix}-%`).orderBy('lot_number');
+    expect(lots).toHaveLength(40);
+    expect(lots.every((l) => /Synthetic trend history/.test(l.notes))).toBe(true);
+    // past times, weeks before the seed ran (set by the seed only)
+    const first = await db('measurement as m')
+      .join('identity_test as t', 't.id', 'm.test_id')
+      .where('t.lot_id', lots[0].id)
+      .first('m.created_at');
+    expect(Date.now() - new Date(first.created_at).getTime()).toBeGreaterThan(40 * 86_400_000);
+    const written = await db('audit_event').where({ action: 'demo.synthetic-history-written' });
+    expect(written).toHaveLength(40);
+    const signals = await db('trend_signal').where({
+      status: 'open',
+      scope_kind: 'source',
+      scope_value: DEMO_TREND.drifting,
+    });
+    expect(signals.length).toBeGreaterThan(0);
+    const reviews = await db('audit_review');
+    expect(reviews).toHaveLength(1);
+    const sig = await db('e_signature').where({ entity_type: 'audit_review', entity_id: String(reviews[0].id) });
+    expect(sig.map((x) => x.meaning)).toEqual(['audit-trail-reviewed']);
   });
 
   it('keeps the audit chain intact, with every signature audited', async () => {
@@ -314,6 +380,20 @@ describe('demo seed', () => {
       const u = await db('app_user').where({ username: a.username }).first();
       expect(JSON.parse(u.roles)).toEqual(a.roles);
     }
+  });
+
+  it('stores no spectrum twice: every measurement, reference and check file is its own acquisition', async () => {
+    const used = [
+      ...(await db('measurement').select('file_id')),
+      ...(await db('reference_spectrum').select('file_id')),
+      ...(await db('instrument_check').select('file_id')),
+    ].map((r) => r.file_id as number);
+    const shas = await db('stored_file').whereIn('id', used).select('sha256');
+    expect(shas.length).toBe(used.length);
+    expect(new Set(shas.map((r) => r.sha256)).size).toBe(used.length);
+    const fps = await db('spectrum_fingerprint').select('decoded_sha256', 'file_id');
+    expect(new Set(fps.map((r) => r.file_id))).toEqual(new Set(used));
+    expect(new Set(fps.map((r) => r.decoded_sha256)).size).toBe(fps.length);
   });
 
   it('does nothing when run again (idempotent)', async () => {

@@ -211,6 +211,8 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     created_at: at(0),
     updated_at: at(0),
   });
+  // The method's author is another QA manager: the author never approves (db/migrations/110_method_control.ts).
+  const author = await insertUser(db, ['qa_manager'], 'qa', `Irma Author ${tag}`);
   const [methodId] = await db('identity_method').insert({
     material_id: materialId,
     version: 1,
@@ -219,7 +221,7 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     params: JSON.stringify(defaultMidIrAtrMethod),
     change_note: 'First version',
     supersedes_id: null,
-    created_by: qa.id,
+    created_by: author.id,
     created_at: at(1),
     updated_at: at(2),
     approved_signature_id: null,

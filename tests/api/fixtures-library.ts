@@ -48,10 +48,50 @@ export async function createMaterial(agent: Agent, name: string, over: Record<st
   return res.body as { id: number; code: string; draftMethodId: number };
 }
 
-export async function approveMethod(agent: Agent, signer: Signer, methodId: number) {
-  const res = await agent.post(`/api/methods/${methodId}/approve`).send({ signature: sigOf(signer) });
+export type Party = { agent: Agent; user: Signer & { id: number } };
+
+/**
+ * Approves a method version (signed by `signer`). A first version is approved together with the
+ * material's draft references. When materials of other test files (same database) block the gate and
+ * `overrider` is given, the overrider requests an override and the signer confirms it (setup only).
+ */
+export async function approveMethod(
+  agent: Agent,
+  signer: Signer,
+  methodId: number,
+  overrider?: Party,
+  extra: Record<string, unknown> = {},
+) {
+  let res = await agent.post(`/api/methods/${methodId}/approve`).send({ signature: sigOf(signer), ...extra });
+  if (res.status === 409 && res.body.error.code === 'SPECIFICITY_GATE' && overrider) {
+    const o = await overrider.agent.post(`/api/methods/${methodId}/gate-override`).send({
+      justification: 'Test setup: other test files share this database.',
+      changeControl: 'CC-TEST-SETUP',
+      signature: sigOf(overrider.user),
+    });
+    if (o.status !== 201) throw new Error(`override request: ${o.status} ${JSON.stringify(o.body)}`);
+    res = await agent
+      .post(`/api/methods/${methodId}/approve`)
+      .send({ signature: sigOf(signer), overrideId: o.body.id, ...extra });
+  }
   if (res.status !== 200) throw new Error(`method approve: ${res.status} ${JSON.stringify(res.body)}`);
   return res.body;
+}
+
+/**
+ * A material's first method version approved together with its first reference: `uploader`
+ * (who also created the material and wrote version 1) uploads the file, `approver` signs both.
+ */
+export async function approveFirstVersion(
+  uploader: Party,
+  approver: Party,
+  m: { id: number; draftMethodId: number },
+  file: { name: string; data: Buffer },
+  overrider?: Party,
+) {
+  const ref = await uploadOne(uploader.agent, m.id, file.name, file.data);
+  const method = await approveMethod(approver.agent, approver.user, m.draftMethodId, overrider);
+  return { method, ref };
 }
 
 export async function upload(
@@ -103,4 +143,16 @@ export function shiftedCsv(data: Buffer, shift: number): Buffer {
     }),
   ];
   return Buffer.from(out.join('\n') + '\n');
+}
+
+/**
+ * A material whose first method version can be approved at once: version 1 under mid-IR
+ * transmission (a technique the other test files leave empty, so their materials do not meet this
+ * one in the specificity gate) with one draft reference, uploaded by `agent` (the author).
+ * Give each material of a file a chemically different fibre.
+ */
+export async function approvableMaterial(agent: Agent, name: string, fibreFile: string) {
+  const m = await createMaterial(agent, name, { techniques: ['mid-ir-transmission'] });
+  await uploadOne(agent, m.id, fibreFile, fibre(fibreFile));
+  return m;
 }

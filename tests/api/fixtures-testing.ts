@@ -16,6 +16,7 @@ import type { IdentityMethod } from '../../server/spectra';
 import {
   type CheckState,
   dataFile,
+  distinctAcquisition,
   FIBRES,
   REFERENCE_DATA,
   seedApprovedMaterial,
@@ -25,7 +26,7 @@ import {
 import type { Role } from '../../server/lib/contract';
 import { agentFor, db, makeUser, sig, uniqueName } from './helpers';
 
-export { dataFile, FIBRES, REFERENCE_DATA, type CheckState };
+export { dataFile, distinctAcquisition, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
 
 /**
@@ -53,9 +54,19 @@ export async function retire(): Promise<void> {
   qaAgentCache = null;
   samplerCache = null;
   sourceCache.clear();
+  authorCache = null;
 }
 
 let qaCache: { id: number; fullName: string } | null = null;
+let authorCache: { id: number; fullName: string } | null = null;
+/** The QA manager who wrote the seeded methods and uploaded their references (never their approver). */
+async function fixtureAuthor() {
+  if (!authorCache) {
+    authorCache = await makeUser(['qa_manager']);
+    made.push(authorCache.id);
+  }
+  return authorCache;
+}
 async function fixtureQa() {
   if (!qaCache) {
     qaCache = await makeUser(['qa_manager']);
@@ -75,7 +86,7 @@ export async function approvedMaterial(opts: {
     .toUpperCase()
     .replace(/[^A-Z0-9]/g, '')
     .slice(0, 30);
-  const m = await seedApprovedMaterial(db(), await fixtureQa(), { ...opts, code });
+  const m = await seedApprovedMaterial(db(), await fixtureQa(), { ...opts, code, author: await fixtureAuthor() });
   invalidateLibraryCache();
   return m;
 }
@@ -241,21 +252,31 @@ export async function startTest(agent: Agent, lotId: number, instrumentId: numbe
 export function uploadRequest(
   agent: Agent,
   testId: number,
-  target: { label?: string; containerId?: number },
+  target: { label?: string; containerId?: number; reason?: string; confirmIdentifiers?: boolean },
   rel: string,
   fileName?: string,
 ) {
-  const f = dataFile(rel);
+  const f = distinctAcquisition(rel);
+  lastSent = f.buffer;
   const req = agent.post(`/api/tests/${testId}/measurements`);
   if (target.label) req.field('label', target.label);
   if (target.containerId) req.field('containerId', String(target.containerId));
+  if (target.reason) req.field('reason', target.reason);
+  if (target.confirmIdentifiers) req.field('confirmIdentifiers', 'true');
   return req.attach('file', f.buffer, { filename: fileName ?? f.name, contentType: 'text/csv' });
+}
+
+let lastSent: Buffer | null = null;
+/** The bytes of the last file uploadRequest sent (a distinct acquisition made from the real file). */
+export function lastUploadedBytes(): Buffer {
+  if (!lastSent) throw new Error('nothing uploaded yet');
+  return lastSent;
 }
 
 export async function upload(
   agent: Agent,
   testId: number,
-  target: { label?: string; containerId?: number },
+  target: { label?: string; containerId?: number; reason?: string; confirmIdentifiers?: boolean },
   rel: string,
   fileName?: string,
 ) {

@@ -20,7 +20,7 @@ import { sha256Hex } from '../../server/lib/canonical';
 import { db, sig } from './helpers';
 import {
   approvedMaterial,
-  dataFile,
+  lastUploadedBytes,
   FIBRES,
   flushMail,
   account,
@@ -269,9 +269,10 @@ describe('measurements', () => {
     expect(m.matchScore).toBeGreaterThan(0.99);
     const row = await db()('measurement').where({ id: m.id }).first();
     const file = await db()('stored_file').where({ id: row.file_id }).first();
-    const original = dataFile(FIBRES.nylon66Samples[0]).buffer;
-    expect(Buffer.compare(file.data, original)).toBe(0);
-    expect(file.sha256).toBe(sha256Hex(original));
+    // stored byte for byte as sent (a new acquisition made from the real file, docs/provenance.md)
+    const sent = lastUploadedBytes();
+    expect(Buffer.compare(file.data, sent)).toBe(0);
+    expect(file.sha256).toBe(sha256Hex(sent));
     expect(row).toMatchObject({ method_id: nylon.methodId, instrument_check_id: expect.any(Number), verdict: 'pass' });
     expect(JSON.parse(row.reference_ids)).toEqual(nylon.referenceIds);
     const result = JSON.parse(row.result);
@@ -292,7 +293,7 @@ describe('measurements', () => {
         r.on('data', (c: Buffer) => chunks.push(c));
         r.on('end', () => cb(null, Buffer.concat(chunks)));
       });
-    expect(Buffer.compare(raw.body as Buffer, original)).toBe(0);
+    expect(Buffer.compare(raw.body as Buffer, sent)).toBe(0);
   });
 
   it('stores nothing for a file that cannot be read (422 with the reason)', async () => {
@@ -352,10 +353,11 @@ describe('measurements', () => {
     const testId = await startTest(operator.agent, lot.id, instrument.instrumentId);
     const first = await upload(operator.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
     const rowBefore = await db()('measurement').where({ id: first.id }).first();
+    // the container has a valid result (pass): the re-measurement needs a reason (docs/provenance.md)
     const second = await upload(
       operator.agent,
       testId,
-      { containerId: lot.containers[0].id },
+      { containerId: lot.containers[0].id, reason: 'Sample spilled on the crystal edge; measured again.' },
       FIBRES.nylon66Samples[2],
     );
     expect(second.id).toBeGreaterThan(first.id);
@@ -379,7 +381,14 @@ describe('measurements', () => {
       FIBRES.nylon66Samples[0],
     ];
     const res = await Promise.all(
-      files.map((f) => uploadRequest(operator.agent, testId, { containerId: lot.containers[0].id }, f)),
+      files.map((f) =>
+        uploadRequest(
+          operator.agent,
+          testId,
+          { containerId: lot.containers[0].id, reason: 'Repeat scans requested by the verifier.' },
+          f,
+        ),
+      ),
     );
     expect(res.map((r) => r.status)).toEqual([201, 201, 201, 201]);
     const rows = await db()('measurement').where({ test_id: testId }).orderBy('id');

@@ -85,6 +85,11 @@ describe('segregation of duties', () => {
     const lot = await receiveLot(olga.agent, nylon.materialId, 2);
     const testId = await startTest(olga.agent, lot.id, instrumentId);
     await upload(olga.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]);
+    // the helper may measure only once the attempt is handed over (docs/provenance.md)
+    const h = await olga.agent
+      .post(`/api/tests/${testId}/hand-over`)
+      .send({ toUserId: helper.user.id, reason: 'Olga is called to the receiving bay.' });
+    expect(h.status).toBe(200);
     await upload(helper.agent, testId, { containerId: lot.containers[1].id }, FIBRES.nylon66Samples[1]);
     expect((await olga.agent.post(`/api/tests/${testId}/perform`).send({ signature: sig(olga.user) })).status).toBe(
       200,

@@ -13,7 +13,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { demoSpectra } from '../../fixtures/catalogue';
 import { SPECTRA_DIR, generateAll } from '../../fixtures/generate';
 import { NPOINTS, SYNTHETIC_LABEL } from '../../fixtures/synth';
-import { readSpectrum } from '../../server/spectra/index';
+import { readSpectrum, sameAcquisition } from '../../server/spectra/index';
 
 function listFiles(dir: string, base = ''): string[] {
   const out: string[] = [];
@@ -132,5 +132,18 @@ describe('demo spectra generator', () => {
       // A = -log10(T / 100) (Ph. Eur. 2.2.24).
       expect(s.y[s.y.length - 1]).toBeCloseTo(-Math.log10(Number(t0.replace(',', '.')) / 100), 9);
     }
+  });
+});
+
+describe('every demo file is a distinct acquisition (docs/provenance.md)', () => {
+  it("no two demo spectra are the same acquisition by the engine's copy rule", () => {
+    const files = listFiles(SPECTRA_DIR).filter((f) => /\.(jdx|csv)$/i.test(f));
+    const spectra = files.map((f) => ({ f, s: readSpectrum(readFileSync(path.join(SPECTRA_DIR, f)), f) }));
+    expect(spectra.length).toBeGreaterThan(20);
+    const copies: string[] = [];
+    for (let i = 0; i < spectra.length; i++)
+      for (let j = i + 1; j < spectra.length; j++)
+        if (sameAcquisition(spectra[i].s, spectra[j].s).copy) copies.push(`${spectra[i].f} = ${spectra[j].f}`);
+    expect(copies).toEqual([]);
   });
 });

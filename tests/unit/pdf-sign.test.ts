@@ -20,7 +20,7 @@ import {
   OID,
   signPdf,
   verifyPdfSignature,
-} from '../../server/lib/pdf-sign';
+} from '../../server/lib/signing';
 
 const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-sign-'));
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));

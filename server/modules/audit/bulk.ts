@@ -1,12 +1,12 @@
 /**
  * Bulk append for benchmarks and tests: many events with multi-row INSERTs, hashed exactly as
- * appendAudit hashes them (rowHash over the same columns, each row pointing at the previous
+ * appendAudit hashes them (rowHash over the same columns, keyed, each row pointing at the previous
  * hash), so the result is one valid chain. Each chunk is a transaction that holds the
  * audit_head row lock, like appendAudit; times never go backwards (clamped to the last event).
  * Not used by the application's own routes.
  */
 import type { Knex } from 'knex';
-import { rowHash, type Actor, type AuditRow } from '../../lib/audit';
+import { lockHead, rowHash, type Actor, type AuditRow } from '../../lib/audit';
 import { canonicalJson } from '../../lib/canonical';
 
 export interface BulkEvent {
@@ -37,9 +37,9 @@ export async function bulkAppendAudit(
   for (let start = 0; start < count; start += chunkSize) {
     const end = Math.min(count, start + chunkSize);
     await db.transaction(async (trx) => {
-      const head = await trx('audit_head').where({ id: 1 }).forUpdate().first();
-      let id = Number(head.last_id);
-      let prev: string = head.last_hash;
+      const head = await lockHead(trx);
+      let id = head.lastId;
+      let prev: string = head.lastHash;
       const lastRow = id > 0 ? await trx('audit_event').select('occurred_at').where({ id }).first() : undefined;
       let lastTime = lastRow ? new Date(lastRow.occurred_at).getTime() : 0;
       let batch: AuditRow[] = [];
@@ -62,7 +62,7 @@ export async function bulkAppendAudit(
           ip: e.ip ?? null,
           prev_hash: prev,
         };
-        const hash = rowHash(row);
+        const hash = rowHash(row, head.key);
         prev = hash;
         batch.push({ ...row, hash });
         if (batch.length >= batchSize) {
@@ -72,7 +72,7 @@ export async function bulkAppendAudit(
       }
       if (batch.length) await trx('audit_event').insert(batch);
       await trx('audit_head').where({ id: 1 }).update({ last_id: id, last_hash: prev });
-      if (!firstId) firstId = Number(head.last_id) + 1;
+      if (!firstId) firstId = head.lastId + 1;
       lastId = id;
     });
     opts.onProgress?.(end);

@@ -207,8 +207,21 @@ export async function findEvent(db: Db, id: number): Promise<AuditRow | undefine
 
 /** Events of one record in time order (oldest first), at most `cap` + 1. */
 export async function eventsOfRecord(db: Db, entityType: string, entityId: string, cap: number): Promise<AuditRow[]> {
+  // The history of a test attempt lists its measurement events too (docs/provenance.md).
+  const measurements =
+    entityType === 'identity_test'
+      ? (
+          await db('measurement')
+            .where({ test_id: Number(entityId) || 0 })
+            .select('id')
+        ).map((r) => String(r.id))
+      : [];
   return db('audit_event')
-    .where({ entity_type: entityType, entity_id: entityId })
+    .where((q) => {
+      q.where({ entity_type: entityType, entity_id: entityId });
+      if (measurements.length)
+        q.orWhere((m) => m.where('entity_type', 'measurement').whereIn('entity_id', measurements));
+    })
     .orderBy([
       { column: 'occurred_at', order: 'asc' },
       { column: 'id', order: 'asc' },

@@ -181,3 +181,18 @@ export interface VerificationReport {
   signedBySite: boolean | null;
   lot: { id: number; lotNumber: string; materialCode: string; materialName: string } | null;
 }
+
+/** A passed lot still waiting for its certificate (QA's work queue; docs/certificates.md). */
+export interface PendingCertificate {
+  lotId: number;
+  lotNumber: string;
+  material: string;
+  /** The reserved number, or null when none is reserved yet. */
+  number: string | null;
+  /** A superseding certificate (only QA can retry it, with a signature). */
+  supersedes: boolean;
+  reservedAt: string | null;
+  failures: number;
+  lastProblem: string | null;
+  lastFailedAt: string | null;
+}

@@ -12,6 +12,18 @@ export const CAUTION_TEXT =
   "This certificate records an identity test carried out under the laboratory's validated procedure. " +
   'It is not a release of the lot: release remains the responsibility of the authorised person under local GMP rules.';
 
+/**
+ * What the infrared test confirms and what it does not (issue 11 item 6; docs/certificates.md,
+ * "Identity, not grade"): an IR spectrum identifies the substance; grade, purity, pharmacopoeial
+ * compliance and other quality attributes are only copied from the label and the material record.
+ */
+export const IDENTITY_ONLY_TEXT =
+  'This certificate confirms the identity of the substance only. Grade, monograph compliance, purity, ' +
+  'assay and other quality attributes are stated as labelled and are not confirmed by the infrared test.';
+
+/** A grade attribute IR cannot confirm, printed as the label states it. */
+export const asLabelled = (v: string): string => (v ? `${v} (as labelled)` : '—');
+
 const MEANING_WORDS: Record<string, string> = {
   performed: 'Performed',
   verified: 'Verified',
@@ -125,8 +137,8 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
   body.push(
     kvTable([
       ['Material', `${c.material.name} (${c.material.code})`],
-      ['Grade', c.material.grade || '—'],
-      ...(c.material.monographRef ? ([['Monograph', c.material.monographRef]] as [string, string][]) : []),
+      ['Grade', asLabelled(c.material.grade)],
+      ...(c.material.monographRef ? ([['Monograph', asLabelled(c.material.monographRef)]] as [string, string][]) : []),
       ['Internal lot', { text: c.lot.lotNumber, bold: true }],
       ['Supplier', c.lot.supplier],
       ['Supplier lot', c.lot.supplierLot],
@@ -286,6 +298,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
       text: `Reduced sampling: ${c.lot.sampling.sampledCount} of ${c.lot.containerCount} containers were sampled and tested under the validated plan of 1 + √N containers (WHO TRS 929 Annex 4, 5.1; EU GMP Annex 8 para 2 requires the validation, recorded by QA with the supplier's qualification). This certificate states the identity of the sampled containers only: ${c.lot.sampling.sampledLabels.join(', ')}.`,
       margin: [0, 4, 0, 0],
     });
+  body.push({ text: IDENTITY_ONLY_TEXT, margin: [0, 4, 0, 0] });
 
   body.push({
     unbreakable: true,

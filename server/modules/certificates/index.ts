@@ -1,4 +1,5 @@
 /** What other modules use of identity certificates. */
-export { issueCertificate, type IssueInput, type IssueOptions } from './service';
-export type { CertificateMeta } from './contract';
+export { failureSentence, issueCertificate, type IssueInput, type IssueOptions } from './issue';
+export { pendingCertificates, retryPendingCertificates, startCertificateRetryJob } from './retry';
+export type { CertificateMeta, PendingCertificate } from './contract';
 export { certificateRoutes } from './routes';

@@ -7,7 +7,11 @@ import { uploadMiddleware } from '../../lib/upload';
 import { badRequest } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
 import { certificateListQuery, issueMissingSchema, supersedeSchema, verifyByNumberQuerySchema } from './contract';
-import * as service from './service';
+import { setCertificateConfig, signingIdentity } from './config';
+import { issueMissing, supersedeCertificate } from './issue';
+import { downloadCertificate, getCertificate, listCertificates } from './reading';
+import { pendingCertificates } from './retry';
+import { verifyByNumber, verifyUpload } from './verification';
 
 const QA = { roles: ['qa_manager'] as const };
 const ADMIN = { roles: ['admin'] as const };
@@ -22,7 +26,7 @@ function dayStart(d: string | undefined, end = false): Date | undefined {
 }
 
 export function certificateRoutes(config: AppConfig): Router {
-  service.setCertificateConfig(config);
+  setCertificateConfig(config);
   const r = Router();
   const upload = uploadMiddleware({ maxBytes: config.uploadMaxBytes, field: 'file' });
 
@@ -37,7 +41,7 @@ export function certificateRoutes(config: AppConfig): Router {
       query: certificateListQuery,
     },
     ({ query }) =>
-      service.listCertificates(getDb(), {
+      listCertificates(getDb(), {
         lot: query.lot || undefined,
         lotId: query.lotId,
         material: query.material || undefined,
@@ -58,7 +62,7 @@ export function certificateRoutes(config: AppConfig): Router {
       tag: 'certificates',
       access: ADMIN,
     },
-    () => service.signingIdentity(config),
+    () => signingIdentity(config),
   );
 
   defineRoute(
@@ -72,7 +76,7 @@ export function certificateRoutes(config: AppConfig): Router {
       access: 'authenticated',
       query: verifyByNumberQuerySchema,
     },
-    ({ query, actor, ip }) => service.verifyByNumber(getDb(), query.number, actor, ip),
+    ({ query, actor, ip }) => verifyByNumber(getDb(), query.number, actor, ip),
   );
 
   defineRoute(
@@ -91,7 +95,7 @@ export function certificateRoutes(config: AppConfig): Router {
     ({ req, actor, ip }) => {
       const file = (req as unknown as { file?: Express.Multer.File }).file;
       if (!file) throw badRequest('Attach the certificate PDF as the field "file".');
-      return service.verifyUpload(getDb(), file.buffer, actor, ip);
+      return verifyUpload(getDb(), file.buffer, actor, ip);
     },
   );
 
@@ -106,7 +110,20 @@ export function certificateRoutes(config: AppConfig): Router {
       body: issueMissingSchema,
       status: 201,
     },
-    ({ body, actor, ip }) => service.issueMissing(getDb(), body.lotId, actor, ip, config),
+    ({ body, actor, ip }) => issueMissing(getDb(), body.lotId, actor, ip, config),
+  );
+
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/certificates/pending',
+      summary: 'Passed lots still waiting for their certificate (reserved number, failures, last problem)',
+      tag: 'certificates',
+      // QA acts on the list; auditors read it, like every record state (docs/access.md)
+      access: { roles: ['qa_manager', 'auditor'] as const },
+    },
+    () => pendingCertificates(getDb()),
   );
 
   defineRoute(
@@ -119,7 +136,7 @@ export function certificateRoutes(config: AppConfig): Router {
       access: 'authenticated',
       params: idParams,
     },
-    ({ params }) => service.getCertificate(getDb(), params.id),
+    ({ params }) => getCertificate(getDb(), params.id),
   );
 
   defineRoute(
@@ -134,7 +151,7 @@ export function certificateRoutes(config: AppConfig): Router {
       produces: 'application/pdf',
     },
     async ({ params, actor, user, ip, res }) => {
-      const { meta, pdf } = await service.downloadCertificate(getDb(), params.id, actor, ip);
+      const { meta, pdf } = await downloadCertificate(getDb(), params.id, actor, ip);
       // the SHA-256 of the bytes sent; a difference from the recorded one raises an integrity alert
       const sent = await checkCertificateBytes(getDb(), meta, pdf, { foundIn: 'download', user, ip });
       res.status(200);
@@ -162,7 +179,7 @@ export function certificateRoutes(config: AppConfig): Router {
       status: 201,
     },
     ({ params, body, user, ip }) =>
-      service.supersedeCertificate(
+      supersedeCertificate(
         getDb(),
         { certificateId: params.id, reason: body.reason, user, credentials: body.signature, ip },
         config,

@@ -36,6 +36,8 @@ import {
   type PolystyreneSpec,
 } from '../../spectra';
 import { instrumentCheckOff } from '../../workers/pool';
+import type { ProvenanceKeys } from '../../workers/tasks';
+import { recordFingerprint } from '../provenance/copies';
 import * as repo from './repo';
 import type {
   CheckBand,
@@ -341,8 +343,13 @@ export async function recordCheck(
   // Reading and the polystyrene check run in the compute pool (a big file never holds the event loop).
   let result: PolystyreneResult;
   let sha: string;
+  let keys: ProvenanceKeys;
   try {
-    ({ result, sha256: sha } = await instrumentCheckOff(file, {
+    ({
+      result,
+      sha256: sha,
+      keys,
+    } = await instrumentCheckOff(file, {
       spec: engineSpecOf(spec),
       mode: inst.sampling === 'atr' ? 'atr' : 'transmission',
     }));
@@ -377,6 +384,15 @@ export async function recordCheck(
       performed_at: performedAt,
       valid_until: validUntil,
       signature_id: null,
+    });
+    // indexed for the copy lookup: a sample can never be this film's spectrum (docs/provenance.md)
+    await recordFingerprint(trx, {
+      fileId: fileId as number,
+      recordType: 'instrument-check',
+      recordId: id as number,
+      sha256: sha,
+      keys,
+      at: performedAt,
     });
     const sig = await recordSignature(trx, {
       user,

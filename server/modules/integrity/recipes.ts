@@ -7,13 +7,16 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
+import { reviewSignedContent } from '../audit-review/service';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
 import * as instrumentsRepo from '../instruments/repo';
 import { specSignedContent } from '../instruments/service';
 import { referenceSignedContent } from '../library/references';
 import * as libraryRepo from '../library/repo';
 import { methodSignedContent } from '../library/service';
+import { irSuitabilitySignedContent, overrideSignedContent } from '../library/method-control';
 import { loadContext, signedContent } from '../testing/context';
+import { releaseSignedContent } from '../provenance/service';
 import { roleRequestSignedContent } from '../users/grants';
 
 export interface SignatureRow {
@@ -83,12 +86,47 @@ const referenceApproval: Recipe = async (db, s) => {
   );
 };
 
+const overrideRequest: Recipe = async (db, s) => {
+  const o = await db('gate_override').where({ signature_id: s.id }).first();
+  if (!o) return undefined;
+  return overrideSignedContent({
+    entityType: o.entity_type,
+    entityId: o.entity_id,
+    justification: o.justification,
+    changeControl: o.change_control,
+    gateSha256: o.gate_sha256,
+  });
+};
+
 export const RECIPES: Record<string, Recipe> = {
+  'audit_review/audit-trail-reviewed': async (db, s) => {
+    const r = await db('audit_review')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    return r ? reviewSignedContent(r) : undefined;
+  },
   'identity_method/approved': async (db, s) => {
     const m = await db('identity_method')
       .where({ id: Number(s.entity_id) })
       .first();
-    return m ? methodSignedContent(m) : undefined;
+    if (!m) return undefined;
+    const a = await db('method_approval').where({ method_id: m.id, signature_id: s.id }).first();
+    return methodSignedContent(
+      m,
+      a
+        ? {
+            validationSha256: a.validation_sha256,
+            firstReferenceIds: JSON.parse(a.first_reference_ids) as number[],
+            gateOverrideId: a.gate_override_id ?? null,
+          }
+        : null,
+    );
+  },
+  'identity_method/gate-override-requested': overrideRequest,
+  'reference_spectrum/gate-override-requested': overrideRequest,
+  'material/ir-suitability-decided': async (db, s) => {
+    const d = await db('material_ir_suitability').where({ signature_id: s.id }).first();
+    return d ? irSuitabilitySignedContent(d.material_id, !!d.suitable, d.replacement_test, d.reason) : undefined;
   },
   'reference_spectrum/approved': referenceApproval,
   'reference_spectrum/approved-with-justification': referenceApproval,
@@ -146,6 +184,24 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     return r ? roleRequestSignedContent(r) : undefined;
+  },
+  'container_block/block-released': async (db, s) => {
+    const r = await db('container_block')
+      .where({ id: Number(s.entity_id) })
+      .first();
+    if (!r) return undefined;
+    const c = await db('container').where({ id: r.container_id }).first('label');
+    const blocked = await db('container_block')
+      .where({ container_id: r.container_id, event: 'blocked' })
+      .where('id', '<', r.id)
+      .orderBy('id', 'desc')
+      .first('id');
+    return releaseSignedContent({
+      label: c?.label,
+      blockId: blocked?.id,
+      invalidCount: r.invalid_count,
+      reason: r.reason,
+    });
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')

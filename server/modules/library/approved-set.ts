@@ -205,3 +205,40 @@ export async function searchApprovedLibrary(
   const byId = new Map(lib.entries.map((e) => [String(e.referenceId), e]));
   return hits.map((h: { id: string; score: number }) => ({ ...byId.get(h.id)!, score: h.score }));
 }
+
+const pinnedCache = new Map<string, ApprovedReferenceSet>();
+
+/**
+ * The method version and reference set a test attempt started with (attempt_pin, docs/methods.md):
+ * a new method version or a newly approved or retired reference applies to new attempts only.
+ * Returns null for an attempt started before pins were recorded (it follows the approved set).
+ *   getPinnedReferenceSet(testId: number, db?: Knex): Promise<ApprovedReferenceSet | null>
+ */
+export async function getPinnedReferenceSet(testId: number, db: Knex = getDb()): Promise<ApprovedReferenceSet | null> {
+  const pin = await db('attempt_pin').where({ test_id: testId }).first();
+  if (!pin) return null;
+  const key = `${pin.method_id}|${pin.reference_ids}`;
+  const hit = pinnedCache.get(key);
+  if (hit) return hit;
+  const methodRow = await repo.findMethod(db, pin.method_id);
+  if (!methodRow) return null;
+  const method = repo.toMethod(methodRow);
+  const ids = JSON.parse(pin.reference_ids) as number[];
+  const refRows: repo.ReferenceRow[] = await db('reference_spectrum')
+    .whereIn('id', ids.length ? ids : [0])
+    .orderBy('id');
+  const references: ApprovedReference[] = [];
+  for (const r of refRows) {
+    const spectrum = await spectrumOfFile(db, r.file_id);
+    const bands = toEngineBands(repo.toReference(r).bands);
+    const prepared = prepareReference(
+      { id: String(r.id), label: r.code, materialId: String(r.material_id), spectrum, bands },
+      method.params,
+    );
+    references.push({ id: r.id, code: r.code, materialId: r.material_id, spectrum, bands, prepared });
+  }
+  const value = { method, references };
+  if (pinnedCache.size > 500) pinnedCache.clear();
+  pinnedCache.set(key, value);
+  return value;
+}

@@ -30,6 +30,23 @@ const range = z.object({ from: wn, to: wn }).refine((r) => r.from < r.to, { mess
 const fraction = z.number().finite().gt(0).lte(1);
 const correlationLimit = z.number().finite().gt(-1).lte(1);
 
+/** The engine's DEFAULT_SPECIFICITY_MARGINS, repeated so the client does not load the engine (tests/api/method-control.test.ts keeps them equal). */
+export const DEFAULT_MARGINS = {
+  correlation: 0.02,
+  derivativeCorrelation: 0.02,
+  mahalanobis: 0.5,
+  residual: 0.25,
+  bands: 0,
+} as const;
+
+export const specificityMarginsSchema = z.object({
+  correlation: z.number().finite().min(0).max(0.5),
+  derivativeCorrelation: z.number().finite().min(0).max(0.5),
+  mahalanobis: z.number().finite().min(0).max(5),
+  residual: z.number().finite().min(0).max(5),
+  bands: z.number().int().min(0).max(10),
+});
+
 export const identityMethodSchema = z.object({
   technique: z.enum(TECHNIQUES),
   range,
@@ -66,6 +83,8 @@ export const identityMethodSchema = z.object({
   distanceModel: z
     .object({ components: z.number().int().min(1).max(20), minReferences: z.number().int().min(3) })
     .nullable(),
+  /** How far another material must stay from each limit at approval (docs/methods.md); absent = defaults. */
+  specificityMargins: specificityMarginsSchema.nullable().optional(),
 });
 export type IdentityMethodInput = z.infer<typeof identityMethodSchema>;
 
@@ -148,12 +167,42 @@ export const referenceStatusQuerySchema = z.object({
 });
 export const approveReferenceSchema = z.object({
   signature: signatureInput,
-  justification: justificationSchema.optional(),
+  /** A gate override requested and signed by another QA manager; approving confirms it (docs/methods.md). */
+  overrideId: z.number().int().positive().optional(),
 });
 export type ApproveReferenceInput = z.input<typeof approveReferenceSchema>;
 export const retireReferenceSchema = z.object({ reason: reasonSchema, signature: signatureInput });
 export type RetireReferenceInput = z.input<typeof retireReferenceSchema>;
-export const approveMethodSchema = z.object({ signature: signatureInput });
+export const approveMethodSchema = z.object({
+  signature: signatureInput,
+  /** First version only: the draft references approved with it (default: every draft reference of the material). */
+  referenceIds: z.array(z.number().int().positive()).min(1).max(50).optional(),
+  /** A gate override requested and signed by another QA manager; approving confirms it (docs/methods.md). */
+  overrideId: z.number().int().positive().optional(),
+});
+export type ApproveMethodInput = z.input<typeof approveMethodSchema>;
+
+/** A request to approve although the specificity gate refuses: the first of two QA signatures. */
+export const gateOverrideRequestSchema = z.object({
+  justification: justificationSchema,
+  changeControl: singleLineText().min(3, 'Name the change-control record (at least 3 characters).').max(80),
+  signature: signatureInput,
+});
+export type GateOverrideRequestInput = z.input<typeof gateOverrideRequestSchema>;
+
+/** QA's signed decision whether identity by IR suits a material, and the test that replaces it. */
+export const irSuitabilitySchema = z
+  .object({
+    suitable: z.boolean(),
+    replacementTest: multiLineText().max(2000).optional(),
+    reason: reasonSchema,
+    signature: signatureInput,
+  })
+  .refine((v) => v.suitable || (v.replacementTest ?? '').trim().length >= 10, {
+    message: 'Name the test that replaces identity by IR (at least 10 characters).',
+    path: ['replacementTest'],
+  });
+export type IrSuitabilityInput = z.input<typeof irSuitabilitySchema>;
 export const specificityMatrixQuerySchema = z.object({ technique: z.enum(TECHNIQUES).default('mid-ir-atr') });
 
 // ------------------------------------------------------------------ response shapes
@@ -175,7 +224,18 @@ export interface Material {
   updatedAt: string;
 }
 
+/** QA's decision in force on identity by IR for a material (null: none taken, IR applies). */
+export interface IrSuitability {
+  suitable: boolean;
+  replacementTest: string | null;
+  reason: string;
+  decidedByName: string;
+  decidedAt: string;
+  signatureId: number;
+}
+
 export interface MaterialListItem extends Material {
+  irSuitability: IrSuitability | null;
   approvedMethod: { id: number; version: number; technique: string } | null;
   draftMethodId: number | null;
   references: { draft: number; approved: number; retired: number };
@@ -198,11 +258,37 @@ export interface MethodVersion {
   approvedAt: string | null;
 }
 
+/** What the approval of a version signed besides the method itself. */
+export interface MethodApprovalRecord {
+  validationFileId: number;
+  validationSha256: string;
+  firstReferenceIds: number[];
+  gateOverrideId: number | null;
+  gate: MethodGateReport;
+}
+
+/** A request to override the specificity gate, with its confirmation once given. */
+export interface GateOverride {
+  id: number;
+  entityType: 'identity_method' | 'reference_spectrum';
+  entityId: number;
+  justification: string;
+  changeControl: string;
+  requestedBy: number;
+  requestedByName: string;
+  requestedAt: string;
+  confirmedByName: string | null;
+  confirmedAt: string | null;
+}
+
 export interface MethodWithSignatures extends MethodVersion {
   signatures: SignatureRecord[];
+  approval: MethodApprovalRecord | null;
+  overrides: GateOverride[];
 }
 
 export interface MaterialDetail extends Material {
+  irSuitability: IrSuitability | null;
   methods: MethodWithSignatures[];
 }
 
@@ -269,6 +355,7 @@ export interface ReferenceDetail extends ReferenceSummary {
   instrument: { id: number; name: string } | null;
   file: { id: number; sha256: string; fileName: string; mediaType: string; size: number; uploadedAt: string } | null;
   signatures: SignatureRecord[];
+  overrides: GateOverride[];
 }
 
 export interface OverlayTrace {
@@ -287,7 +374,50 @@ export interface ReferenceOverlay {
 
 // Specificity gate and matrix
 
+/** Anything but "distinct" blocks approval; "not compared" is never "distinct" (docs/methods.md). */
+export type GateState = 'would-pass' | 'within-margin' | 'not-compared' | 'distinct';
+export const GATE_STATE_LABELS: Record<GateState, string> = {
+  'would-pass': 'Would pass',
+  'within-margin': 'Within the margin',
+  'not-compared': 'Not compared',
+  distinct: 'Distinct',
+};
+
+export interface SpecificityMarginsValue {
+  correlation: number;
+  derivativeCorrelation: number;
+  mahalanobis: number;
+  residual: number;
+  bands: number;
+}
+
+export interface MethodGateRow {
+  otherMaterialId: number;
+  otherMaterialCode: string;
+  otherMaterialName: string;
+  /** other-as-sample: the other's reference judged by this version; this-as-sample: ours judged by the other's method. */
+  direction: 'other-as-sample' | 'this-as-sample';
+  sampleReferenceCode: string;
+  judgedBy: string;
+  state: GateState;
+  correlation: number | null;
+  correlationLimit: number;
+  note: string | null;
+}
+
+export interface MethodGateReport {
+  methodId: number;
+  methodVersion: number;
+  computedAt: string;
+  margins: SpecificityMarginsValue;
+  referenceCodes: string[];
+  rows: MethodGateRow[];
+  offending: MethodGateRow[];
+  passed: boolean;
+}
+
 export interface DirectionScore {
+  state?: GateState;
   verdict: 'pass' | 'fail' | 'invalid';
   correlation: number | null;
   derivativeCorrelation: number | null;
@@ -303,6 +433,8 @@ export interface GatePair {
   otherAsSample: DirectionScore | null;
   candidateAsSample: DirectionScore | null;
   wouldPass: boolean;
+  /** The worse direction (absent in reports stored before the margin rule). */
+  state?: GateState;
   /** Why the pair could not be compared (e.g. the other spectrum does not cover the method range). */
   notComparable: string | null;
 }
@@ -314,6 +446,7 @@ export interface GateReport {
   pairs: GatePair[];
   offending: GatePair[];
   passed: boolean;
+  margins?: SpecificityMarginsValue;
 }
 
 export interface MatrixCell {
@@ -327,7 +460,7 @@ export interface MatrixCell {
   passing: number;
   scored: number;
   /** would-pass: some column reference passes the row's test (for the diagonal: the set is consistent). */
-  state: 'would-pass' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
+  state: 'would-pass' | 'within-margin' | 'distinct' | 'not-comparable' | 'self' | 'self-inconsistent' | 'single';
 }
 
 export interface MatrixMaterial {
@@ -345,6 +478,6 @@ export interface SpecificityMatrix {
   computedAt: string;
   materials: MatrixMaterial[];
   cells: MatrixCell[];
-  /** Off-diagonal pairs that would pass: the library is not specific for them. */
+  /** Off-diagonal pairs that would pass, come within the margin or could not be compared: the library is not shown specific for them. */
   notDiscriminated: { rowMaterialId: number; columnMaterialId: number }[];
 }

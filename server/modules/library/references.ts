@@ -11,10 +11,14 @@
  * - Bands are picked under that method and frozen at approval; QA edits them only while the
  *   reference is a draft (audited with before/after and a reason).
  * - Approval: qa_manager only (route), never the uploader (403), the material must have an
- *   approved method, the password is asked again, then the specificity gate runs; an offending
- *   pair refuses approval (409 SPECIFICITY_GATE, audited) unless a justification of at least 20
- *   characters is given, in which case the signature meaning is "approved-with-justification"
- *   and the justification is the signed statement. The signed content is
+ *   approved method (a material's first references are approved together with its first method
+ *   version, service.ts approveMethod), the password is asked again, then the specificity gate runs
+ *   with the method's margins (docs/methods.md): a pair that would pass, comes within the margin of
+ *   a limit, or could not be compared refuses approval (409 SPECIFICITY_GATE, audited). Only an
+ *   override overrules it: one QA manager requests it (justification, change-control reference,
+ *   signature), a second confirms it by approving with its id (meaning "approved-with-justification",
+ *   the justification is the signed statement); neither is the uploader or the author of the
+ *   method version (method-control.ts). The signed content is
  *   {referenceId, fileSha256, bands, methodVersionId} (canonical JSON, SHA-256).
  * - Retirement: qa_manager, a reason and a signature (meaning "retired"); drafts may be retired
  *   too (a bad upload is withdrawn, not deleted).
@@ -26,6 +30,8 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, badRequest, conflict, forbidden, notFound, spectrumRefusal } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
+import { recordFingerprint } from '../provenance/copies';
+import type { ProvenanceKeys } from '../../workers/tasks';
 import type { IdentityMethod, Spectrum } from '../../spectra';
 import { referenceOff } from '../../workers/pool';
 import { invalidateLibraryCache } from './approved-set';
@@ -40,6 +46,8 @@ import type {
 } from './contract';
 import * as repo from './repo';
 import { specificityGate } from './specificity';
+import { gateHash } from './gate';
+import { checkOverride, confirmOverride, overridesOf, recordOverrideRequest } from './method-control';
 import { storeFile } from '../../lib/files';
 
 export interface UploadedFile {
@@ -82,7 +90,13 @@ export async function uploadReferences(
 
   // 1. Read, check and pick bands for every file before writing anything (in the compute pool,
   //    one file after another, so a batch of big files never holds the event loop).
-  const parsed: { file: UploadedFile; spectrum: Spectrum; bands: StoredBand[]; sha256: string }[] = [];
+  const parsed: {
+    file: UploadedFile;
+    spectrum: Spectrum;
+    bands: StoredBand[];
+    sha256: string;
+    keys: ProvenanceKeys;
+  }[] = [];
   for (const f of files) {
     let out: Awaited<ReturnType<typeof referenceOff>>;
     try {
@@ -98,7 +112,7 @@ export async function uploadReferences(
         problems: out.quality.problems,
       });
     }
-    parsed.push({ file: f, spectrum: out.spectrum, bands: out.bands, sha256: out.sha256 });
+    parsed.push({ file: f, spectrum: out.spectrum, bands: out.bands, sha256: out.sha256, keys: out.keys });
   }
 
   // 2. One transaction for the whole batch.
@@ -140,6 +154,15 @@ export async function uploadReferences(
         approved_at: null,
         retired_signature_id: null,
         retire_reason: null,
+      });
+      // indexed for the copy lookup: a sample can never be this reference's spectrum (docs/provenance.md)
+      await recordFingerprint(trx, {
+        fileId: fileId as number,
+        recordType: 'reference',
+        recordId: id,
+        sha256: p.sha256,
+        keys: p.keys,
+        at: now,
       });
       await appendAudit(trx, {
         actor,
@@ -204,6 +227,7 @@ export async function getReference(db: Knex, id: number): Promise<ReferenceDetai
         }
       : null,
     signatures: await signaturesFor(db, 'reference_spectrum', id),
+    overrides: await overridesOf(db, 'reference_spectrum', id),
   };
 }
 
@@ -346,11 +370,61 @@ export async function previewGate(db: Knex, id: number): Promise<GateReport> {
   );
 }
 
+/** Who may not sign an override or approval of this reference: its uploader and the author of the method it is judged under. */
+function excludedFor(r: repo.ReferenceRow, method: repo.MethodRow) {
+  return [
+    { userId: r.created_by, why: 'You uploaded this reference.' },
+    {
+      userId: method.created_by,
+      why: `You wrote the method version (${method.version}) this reference is judged under.`,
+    },
+  ];
+}
+
+export async function requestReferenceOverride(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: { justification: string; changeControl: string; signature: SignatureInput },
+  ip: string | null,
+) {
+  const r = await repo.findReference(db, id);
+  if (!r) throw notFound('The reference spectrum');
+  if (r.status !== 'draft') throw conflict(`Reference ${r.code} is ${r.status}; only a draft can be approved.`);
+  const methodRow = await repo.approvedMethodOf(db, r.material_id);
+  if (!methodRow)
+    throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+  const gate = await previewGate(db, id);
+  return recordOverrideRequest(
+    db,
+    user,
+    {
+      entityType: 'reference_spectrum',
+      entityId: id,
+      label: `reference ${r.code}`,
+      gatePassed: gate.passed,
+      gate,
+      gateSha256: gateHash(gate),
+      excluded: excludedFor(r, methodRow),
+      justification: input.justification,
+      changeControl: input.changeControl,
+      signature: input.signature,
+    },
+    ip,
+  );
+}
+
+const PAIR_WORDS: Record<string, string> = {
+  'would-pass': 'would pass',
+  'within-margin': 'within the margin of a limit',
+  'not-compared': 'not compared',
+};
+
 export async function approveReference(
   db: Knex,
   user: AuthUser,
   id: number,
-  input: { signature: SignatureInput; justification?: string },
+  input: { signature: SignatureInput; overrideId?: number },
   ip: string | null,
 ): Promise<ReferenceDetail> {
   const r = await repo.findReference(db, id);
@@ -360,7 +434,9 @@ export async function approveReference(
     throw forbidden('You uploaded this reference. Another QA manager must approve it (segregation of duties).');
   const methodRow = await repo.approvedMethodOf(db, r.material_id);
   if (!methodRow)
-    throw conflict('The identity method of this material is not approved yet; approve it before approving references.');
+    throw conflict(
+      'The identity method of this material is not approved yet: approve its first method version together with its first references.',
+    );
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,
@@ -377,33 +453,50 @@ export async function approveReference(
     { id, materialId: r.material_id, spectrum, bands: repo.toReference(r).bands },
     repo.toMethod(methodRow),
   );
-  const justification = input.justification?.trim() || null;
-  if (!gate.passed && !justification) {
-    await auditNow(db, {
-      actor,
-      action: 'reference.approval-blocked',
-      entityType: 'reference_spectrum',
-      entityId: id,
-      after: {
-        offending: gate.offending.map((p) => ({
-          referenceId: p.referenceId,
-          materialCode: p.materialCode,
-          otherAsSample: p.otherAsSample,
-          candidateAsSample: p.candidateAsSample,
-        })),
-      },
-      reason: 'specificity gate: another material would pass this method',
-      ip,
-    });
-    throw new AppError(
-      409,
-      'SPECIFICITY_GATE',
-      `Approval refused: ${gate.offending.length} reference(s) of other materials would pass this grade's method ` +
-        `(${[...new Set(gate.offending.map((p) => p.materialCode))].join(', ')}). Tighten the identity method, or approve with a written justification.`,
-      gate,
-    );
+  let override: Awaited<ReturnType<typeof checkOverride>> | null = null;
+  if (!gate.passed) {
+    if (input.overrideId)
+      override = await checkOverride(
+        db,
+        user,
+        input.overrideId,
+        'reference_spectrum',
+        id,
+        gateHash(gate),
+        excludedFor(r, methodRow),
+      );
+    else {
+      await auditNow(db, {
+        actor,
+        action: 'reference.approval-blocked',
+        entityType: 'reference_spectrum',
+        entityId: id,
+        after: {
+          offending: gate.offending.map((p) => ({
+            referenceId: p.referenceId,
+            materialCode: p.materialCode,
+            state: p.state,
+            otherAsSample: p.otherAsSample,
+            candidateAsSample: p.candidateAsSample,
+          })),
+        },
+        reason: 'specificity gate: another material would pass, comes within the margin, or could not be compared',
+        ip,
+      });
+      const words = [
+        ...new Set(gate.offending.map((p) => `${p.materialCode} (${PAIR_WORDS[p.state ?? 'would-pass']})`)),
+      ];
+      throw new AppError(
+        409,
+        'SPECIFICITY_GATE',
+        `Approval refused: references of other materials are not shown distinct from this one under this grade's method: ${words.join(', ')}. ` +
+          'Tighten the identity method, or have one QA manager request an override (justification and change control) and a second confirm it.',
+        gate,
+      );
+    }
   }
-  const meaning = gate.passed ? 'approved' : 'approved-with-justification';
+  const justification = override?.justification ?? null;
+  const meaning = override ? 'approved-with-justification' : 'approved';
   await db.transaction(async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
     if (row.status !== 'draft') throw conflict(`Reference ${row.code} was ${row.status} meanwhile by someone else.`);
@@ -418,7 +511,7 @@ export async function approveReference(
       entityType: 'reference_spectrum',
       entityId: id,
       content: referenceSignedContent(id, file.sha256, bands, methodRow.id),
-      statement: gate.passed ? null : justification,
+      statement: justification,
       ip,
     });
     const now = new Date();
@@ -430,12 +523,13 @@ export async function approveReference(
         approved_method_id: methodRow.id,
         approved_at: now,
         specificity: JSON.stringify(gate),
-        justification: gate.passed ? null : justification,
+        justification,
         updated_at: now,
       });
+    if (override) await confirmOverride(trx, actor, override.id, sig.id, { type: 'reference_spectrum', id }, ip);
     await appendAudit(trx, {
       actor,
-      action: gate.passed ? 'reference.approved' : 'reference.approved-with-justification',
+      action: override ? 'reference.approved-with-justification' : 'reference.approved',
       entityType: 'reference_spectrum',
       entityId: id,
       before: { status: 'draft' },
@@ -444,12 +538,17 @@ export async function approveReference(
         signatureId: sig.id,
         meaning,
         methodId: methodRow.id,
+        gateOverrideId: override?.id ?? null,
         specificity: {
           passed: gate.passed,
-          offending: gate.offending.map((p) => ({ referenceId: p.referenceId, materialCode: p.materialCode })),
+          offending: gate.offending.map((p) => ({
+            referenceId: p.referenceId,
+            materialCode: p.materialCode,
+            state: p.state,
+          })),
         },
       },
-      reason: gate.passed ? null : justification,
+      reason: justification,
       ip,
     });
   });

@@ -13,6 +13,8 @@ import {
   approveMethodSchema,
   approveReferenceSchema,
   bandsUpdateSchema,
+  gateOverrideRequestSchema,
+  irSuitabilitySchema,
   materialCreateSchema,
   materialUpdateSchema,
   methodCreateSchema,
@@ -24,6 +26,7 @@ import {
 } from './contract';
 import * as service from './service';
 import { specificityMatrixFor } from './specificity';
+import { decideIrSuitability } from './method-control';
 
 const QA = { roles: ['qa_manager'] as const };
 /** The GMP readers (docs/access.md): the library is the lab's; the administrator manages accounts only. */
@@ -155,7 +158,63 @@ export function libraryRoutes(config: AppConfig): Router {
       params: idParams,
       body: approveMethodSchema,
     },
-    ({ params, body, user, ip }) => service.approveMethod(getDb(), user, params.id, body.signature, ip),
+    ({ params, body, user, ip }) => service.approveMethod(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/methods/:id/gate',
+      summary: 'Specificity gate of a draft method version, computed now (no signature)',
+      tag: 'library',
+      access: READERS,
+      params: idParams,
+    },
+    ({ params }) => service.previewMethodGate(getDb(), null, params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/methods/:id/gate-override',
+      summary: 'Request an override of the specificity gate for a method version (first of two QA signatures)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: gateOverrideRequestSchema,
+      status: 201,
+    },
+    ({ params, body, user, ip }) => service.requestMethodOverride(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/methods/:id/validation-record',
+      summary: 'The validation record (PDF) signed with the approval of a method version',
+      tag: 'library',
+      access: READERS,
+      params: idParams,
+      produces: 'application/pdf',
+    },
+    async ({ params, res, user, ip }) => {
+      const f = await service.validationRecordFile(getDb(), params.id);
+      await sendCheckedFile(getDb(), res, f, { foundIn: 'download', user, ip });
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/materials/:id/ir-suitability',
+      summary: 'Decide whether identity by IR suits a material (e-signature; the test that replaces it)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: irSuitabilitySchema,
+      status: 201,
+    },
+    ({ params, body, user, ip }) => decideIrSuitability(getDb(), user, params.id, body, ip),
   );
 
   // ---- reference spectra
@@ -280,13 +339,27 @@ export function libraryRoutes(config: AppConfig): Router {
       path: '/api/references/:id/approve',
       summary: 'Approve a draft reference (e-signature; specificity gate; never by its uploader)',
       description:
-        '409 SPECIFICITY_GATE with the gate report in details when a reference of another material would pass; send a justification (at least 20 characters) to approve anyway (signature meaning approved-with-justification).',
+        '409 SPECIFICITY_GATE with the gate report in details when a reference of another material would pass, comes within the margin of a limit, or could not be compared; a second QA manager approves anyway only by confirming an override another QA manager requested (overrideId; signature meaning approved-with-justification).',
       tag: 'library',
       access: QA,
       params: idParams,
       body: approveReferenceSchema,
     },
     ({ params, body, user, ip }) => refs.approveReference(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/references/:id/gate-override',
+      summary: 'Request an override of the specificity gate for a reference (first of two QA signatures)',
+      tag: 'library',
+      access: QA,
+      params: idParams,
+      body: gateOverrideRequestSchema,
+      status: 201,
+    },
+    ({ params, body, user, ip }) => refs.requestReferenceOverride(getDb(), user, params.id, body, ip),
   );
   defineRoute(
     r,

@@ -25,8 +25,10 @@ import {
   prepareReference,
   scoreAgainst,
   type Spectrum,
+  specificityMarginsOf,
   SpectrumError,
 } from '../../spectra';
+import { classifyResult, worse } from './gate';
 import { getApprovedReferenceSet, onLibraryInvalidate } from './approved-set';
 import { round, spectrumOfFile, toEngineBands } from './engine';
 import type {
@@ -45,11 +47,13 @@ function direction(sample: Spectrum, refs: PreparedReference[], method: Identity
   // One reference on each side: criteria on the whole reference set (NIR distance, residual) cannot apply, so
   // they are left out explicitly and the pair is judged on the per-reference criteria.
   const r = scoreAgainst(sample, refs, method, { referenceSetCriteria: false });
+  const { state } = classifyResult(r, specificityMarginsOf(method));
   if (r.verdict === 'invalid')
-    return { verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
+    return { state, verdict: 'invalid', correlation: null, derivativeCorrelation: null, bandsMatched: null };
   const best = r.references.find((x) => x.referenceId === r.bestReferenceId) ?? r.references[0];
   const band = best?.criteria.find((c) => c.key === 'band-concordance');
   return {
+    state,
     verdict: r.verdict,
     correlation: best ? round(best.correlation, 6) : null,
     derivativeCorrelation: best && best.derivativeCorrelation !== null ? round(best.derivativeCorrelation, 6) : null,
@@ -106,19 +110,32 @@ export async function specificityGate(
       );
       const otherAsSample = direction(spectrum, [candPrepared], params);
       const candidateAsSample = direction(candidate.spectrum, [oPrepared], params);
+      const state = worse(otherAsSample.state ?? 'distinct', candidateAsSample.state ?? 'distinct');
       pairs.push({
         ...base,
         otherAsSample,
         candidateAsSample,
         wouldPass: otherAsSample.verdict === 'pass' || candidateAsSample.verdict === 'pass',
-        notComparable: null,
+        state,
+        notComparable:
+          state === 'not-compared'
+            ? 'a spectrum of the pair was refused by the quality check, so no verdict exists'
+            : null,
       });
     } catch (e) {
       if (!(e instanceof SpectrumError)) throw e;
-      pairs.push({ ...base, otherAsSample: null, candidateAsSample: null, wouldPass: false, notComparable: e.message });
+      pairs.push({
+        ...base,
+        otherAsSample: null,
+        candidateAsSample: null,
+        wouldPass: false,
+        state: 'not-compared',
+        notComparable: e.message,
+      });
     }
   }
-  const offending = pairs.filter((p) => p.wouldPass);
+  // Anything but "distinct" blocks: would pass, within the margin of a limit, or not compared.
+  const offending = pairs.filter((p) => p.state !== 'distinct');
   return {
     methodId: method.id,
     methodVersion: method.version,
@@ -126,6 +143,7 @@ export async function specificityGate(
     pairs,
     offending,
     passed: offending.length === 0,
+    margins: specificityMarginsOf(params),
   };
 }
 
@@ -178,6 +196,7 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
       let passing = 0;
       let scored = 0;
       let notComparable = false;
+      let withinMargin = false;
       for (const cr of colSet.references) {
         const judges = row.id === col.id ? rowSet.references.filter((r) => r.id !== cr.id) : rowSet.references;
         if (judges.length === 0) continue;
@@ -187,14 +206,16 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
             judges.map((j) => j.prepared),
             rowSet.method.params,
           );
-          if (res.verdict === 'invalid') continue;
-          // The row's reference-set model (NIR) cannot be built: the pair cannot be judged, which is not "distinct".
-          if (res.referenceModelProblems?.length) {
+          // An invalid spectrum or a reference-set model (NIR) that cannot be built: the pair cannot be
+          // judged, which is never "distinct".
+          if (res.verdict === 'invalid' || res.referenceModelProblems?.length) {
             notComparable = true;
             continue;
           }
           scored++;
           if (res.verdict === 'pass') passing++;
+          else if (classifyResult(res, specificityMarginsOf(rowSet.method.params)).state === 'within-margin')
+            withinMargin = true;
           const c = Math.max(...res.references.map((x) => x.correlation));
           if (best === null || c > best) best = c;
         } catch (e) {
@@ -204,8 +225,10 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
       }
       let state: MatrixCell['state'];
       if (row.id === col.id) state = scored === 0 ? 'single' : passing === scored ? 'self' : 'self-inconsistent';
-      else if (scored === 0) state = notComparable ? 'not-comparable' : 'distinct';
-      else state = passing > 0 ? 'would-pass' : 'distinct';
+      else if (passing > 0) state = 'would-pass';
+      else if (withinMargin) state = 'within-margin';
+      else if (notComparable || scored === 0) state = 'not-comparable';
+      else state = 'distinct';
       cells.push({
         rowMaterialId: row.id,
         columnMaterialId: col.id,
@@ -222,7 +245,7 @@ export async function specificityMatrixFor(technique: string, db: Knex = getDb()
     materials,
     cells,
     notDiscriminated: cells
-      .filter((c) => c.state === 'would-pass')
+      .filter((c) => c.state === 'would-pass' || c.state === 'within-margin' || c.state === 'not-comparable')
       .map((c) => ({ rowMaterialId: c.rowMaterialId, columnMaterialId: c.columnMaterialId })),
   };
   matrixCache.set(technique, { fingerprint, value });

@@ -70,8 +70,11 @@ export interface ReceivableMaterial {
   code: string;
   name: string;
   grade: string;
-  methodVersion: number;
-  technique: string;
+  /** null when QA marked the grade "identity by IR not suitable" (docs/methods.md). */
+  methodVersion: number | null;
+  technique: string | null;
+  /** Received and labelled, but its identity is tested by the test that replaces IR, never here. */
+  irNotSuitable: boolean;
 }
 
 export interface LotSummary {

@@ -12,6 +12,7 @@ import { signaturesFor } from '../../lib/esign';
 import * as inv from '../investigations/repo';
 import { scopesOf, underTest } from '../testing/context';
 import { currentStatuses } from '../sampling/status';
+import { irSuitabilityMap } from '../library/method-control';
 import { effectiveResults, latestByContainer } from '../testing/outcome';
 import * as testing from '../testing/repo';
 import { sourceForReceipt } from '../suppliers/service';
@@ -20,8 +21,14 @@ import { insertWithNextNumber, yearOf } from './numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
 
-/** Material grades a lot may be received for: active, approved method, at least one approved reference. */
+/**
+ * Material grades a lot may be received for: active, approved method, at least one approved
+ * reference; or marked "identity by IR not suitable" by QA (received and labelled, tested by the
+ * test that replaces IR; an IR test of such a lot is refused, docs/methods.md).
+ */
 export async function receivableMaterials(db: Knex): Promise<ReceivableMaterial[]> {
+  const ir = await irSuitabilityMap(db);
+  const unsuitable = [...ir].filter(([, d]) => !d.suitable).map(([id]) => id);
   const rows = await db('material as m')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
@@ -30,14 +37,32 @@ export async function receivableMaterials(db: Knex): Promise<ReceivableMaterial[
     .whereExists(db('reference_spectrum as r').whereRaw('r.material_id = m.id').andWhere('r.status', 'approved'))
     .select('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
     .orderBy('m.name');
-  return rows.map((r) => ({
-    id: r.id as number,
-    code: r.code as string,
-    name: r.name as string,
-    grade: r.grade as string,
-    methodVersion: r.method_version as number,
-    technique: r.technique as string,
-  }));
+  const out: ReceivableMaterial[] = rows
+    .filter((r) => !unsuitable.includes(r.id as number))
+    .map((r) => ({
+      id: r.id as number,
+      code: r.code as string,
+      name: r.name as string,
+      grade: r.grade as string,
+      methodVersion: r.method_version as number,
+      technique: r.technique as string,
+      irNotSuitable: false,
+    }));
+  const marked = await db('material')
+    .whereIn('id', unsuitable.length ? unsuitable : [0])
+    .andWhere('active', 1)
+    .select('id', 'code', 'name', 'grade');
+  for (const m of marked)
+    out.push({
+      id: m.id,
+      code: m.code,
+      name: m.name,
+      grade: m.grade,
+      methodVersion: null,
+      technique: null,
+      irNotSuitable: true,
+    });
+  return out.sort((a, b) => a.name.localeCompare(b.name));
 }
 
 export function containerLabel(lotNumber: string, seq: number): string {

@@ -1,12 +1,15 @@
 /** Health, the OpenAPI document and the audit chain check. */
 import { Router } from 'express';
 import { getDb } from '../../lib/db';
-import { defineRoute } from '../../lib/http';
+import { defineRoute, idParams } from '../../lib/http';
 import { buildOpenApi } from '../../lib/openapi';
-import { verifyChain } from '../../lib/audit';
+import type { AppConfig } from '../../lib/config';
+import { checkChain, getChainRun, requestFullCheck } from '../audit/anchor';
 import type { Health } from './contract';
 
-export function systemRoutes(): Router {
+const CHAIN_READERS = { roles: ['auditor', 'qa_manager', 'admin'] as const };
+
+export function systemRoutes(config: AppConfig): Router {
   const r = Router();
   defineRoute(
     r,
@@ -43,11 +46,36 @@ export function systemRoutes(): Router {
     {
       method: 'get',
       path: '/api/audit/verify',
-      summary: 'Walk the audit hash chain and report intact or the first broken event',
+      summary:
+        'Check the audit chain from the latest signed checkpoint on (incremental) and report intact or the first broken event',
       tag: 'audit',
-      access: { roles: ['auditor', 'qa_manager', 'admin'] },
+      access: CHAIN_READERS,
     },
-    () => verifyChain(getDb()),
+    () => checkChain(getDb(), config),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/audit/verify/full',
+      summary: 'Start a full check of the audit chain against every checkpoint (a background job); audited',
+      tag: 'audit',
+      access: CHAIN_READERS,
+      status: 202,
+    },
+    ({ user, ip }) => requestFullCheck(getDb(), user, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/audit/verify/full/:id',
+      summary: 'Progress and result of a full chain check',
+      tag: 'audit',
+      access: CHAIN_READERS,
+      params: idParams,
+    },
+    ({ params }) => getChainRun(getDb(), params.id),
   );
   return r;
 }

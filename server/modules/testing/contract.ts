@@ -12,6 +12,7 @@ import {
   singleLineText,
 } from '../../lib/contract';
 import type { RecordIntegrity } from '../integrity/contract';
+import type { ReviewMeasurementEntry } from '../provenance/contract';
 import type { IdentityStatus, LotStatus, LotSummary, MeasurementVerdict, TestStatus } from '../lots/contract';
 
 export type { MeasurementVerdict, TestStatus } from '../lots/contract';
@@ -32,6 +33,13 @@ export const measurementFieldsSchema = z
   .object({
     containerId: z.coerce.number().int().positive().optional(),
     label: singleLineText().max(60).optional(),
+    /** why a container with a valid result is measured again (required then; audited) */
+    reason: multiLineText().max(1000).optional(),
+    /** the operator confirms a file whose own title or sample identifier names another record */
+    confirmIdentifiers: z
+      .union([z.boolean(), z.enum(['true', 'false'])])
+      .optional()
+      .transform((v) => v === true || v === 'true'),
   })
   .refine((v) => v.containerId !== undefined || (v.label ?? '') !== '', {
     message: 'Say which container this spectrum belongs to (container or label).',
@@ -350,10 +358,22 @@ export interface ReviewData {
   integrity: RecordIntegrity;
   test: TestDetail;
   measurements: MeasurementDetail[];
+  /** every measurement of the attempt in order, including invalid and superseded ones (docs/provenance.md) */
+  history: ReviewMeasurementEntry[];
   instrumentChecks: CitedInstrumentCheck[];
   /** The identity method versions the measurements used (params as stored with the version). */
   methods: { id: number; version: number; technique: string; approvedAt: string | null; params: unknown }[];
   references: ReferenceRef[];
+  /** The method version and reference set the attempt started with and keeps (null: started before pins). */
+  pinned: AttemptPin | null;
+}
+
+export interface AttemptPin {
+  methodId: number;
+  methodVersion: number;
+  referenceCodes: string[];
+  /** The version approved now, when another than the pinned one: it applies to new attempts only. */
+  newerApprovedVersion: number | null;
 }
 
 export interface QueueTest {
@@ -380,6 +400,8 @@ export interface QueueItem {
   title: string;
   detail: string;
   href: string;
+  /** An action the queue offers in place (QA's retry of a certificate that could not be issued). */
+  action?: { kind: 'issue-certificate'; lotId: number };
 }
 
 export interface QueueSection {
@@ -391,7 +413,9 @@ export interface QueueSection {
     | 'lots-awaiting-disposition'
     | 'retests-due'
     | 'references-to-approve'
-    | 'instrument-checks-due';
+    | 'instrument-checks-due'
+    | 'certificates-to-issue'
+    | 'blocked-containers';
   title: string;
   roles: Role[];
   count: number;

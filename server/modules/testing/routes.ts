@@ -20,10 +20,14 @@ import * as service from './service';
 import * as signing from './signing';
 import * as views from './views';
 import { workQueueFor } from './work-queue';
+import { handOverSchema, releaseBlockSchema } from '../provenance/contract';
+import * as provenance from '../provenance/service';
 
 const OPERATOR = { roles: ['operator'] as const };
 const VERIFIER = { roles: ['verifier'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
+const HOLDER_OR_QA = { roles: ['operator', 'qa_manager'] as const };
+const QA = { roles: ['qa_manager'] as const };
 
 export function testingRoutes(config: AppConfig): Router {
   const r = Router();
@@ -131,11 +135,18 @@ export function testingRoutes(config: AppConfig): Router {
         file: 'the spectrum file (JCAMP-DX or CSV)',
         containerId: 'container id',
         label: 'or the scanned container label',
+        reason: 'why a container with a valid result is measured again',
+        confirmIdentifiers: '"true" to confirm a file that names another record',
       },
       body: measurementFieldsSchema,
       status: 201,
     },
-    ({ params, body, req, user, ip }) => service.addMeasurement(getDb(), user, params.id, body, req.file, ip),
+    ({ params, body, req, user, ip }) =>
+      service.addMeasurement(getDb(), user, params.id, body, req.file, ip, {
+        maxInvalidMeasurements: config.maxInvalidMeasurements,
+        fileIdentifierPolicy: config.fileIdentifierPolicy,
+        siteTimeZone: config.siteTimeZone,
+      }),
   );
   defineRoute(
     r,
@@ -151,6 +162,62 @@ export function testingRoutes(config: AppConfig): Router {
     async ({ params, body, user, ip }) => {
       await signing.perform(getDb(), user, params.id, body.signature, ip);
       return views.getTestDetail(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/tests/:id/hand-over-candidates',
+      summary: 'Active operators an attempt in progress can be handed over to',
+      tag: 'testing',
+      access: HOLDER_OR_QA,
+      params: idParams,
+    },
+    ({ params }) => provenance.handOverCandidates(getDb(), params.id),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/tests/:id/hand-over',
+      summary: 'Hand an attempt in progress over to another operator (recorded and audited)',
+      tag: 'testing',
+      access: HOLDER_OR_QA,
+      params: idParams,
+      body: handOverSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await provenance.handOver(getDb(), user, params.id, body, ip);
+      return views.getTestDetail(getDb(), params.id);
+    },
+  );
+  defineRoute(
+    r,
+    {
+      method: 'get',
+      path: '/api/containers/blocked',
+      summary: 'Containers blocked after too many invalid measurements, awaiting QA',
+      tag: 'testing',
+      // QA decides; auditors read the list like every record state (docs/access.md)
+      access: { roles: ['qa_manager', 'auditor'] as const },
+    },
+    () => provenance.blockedContainers(getDb()),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/containers/:id/release',
+      summary: 'Release a blocked container for further measurements (QA, signed)',
+      tag: 'testing',
+      access: QA,
+      params: idParams,
+      body: releaseBlockSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await provenance.releaseBlock(getDb(), user, params.id, body, ip);
+      return provenance.blockedContainers(getDb());
     },
   );
   defineRoute(

@@ -16,7 +16,18 @@ import { AppError, badRequest, conflict, notFound, spectrumRefusal, unprocessabl
 import type { AuthUser } from '../../lib/http';
 import type { Spectrum } from '../../spectra';
 import { measureOff } from '../../workers/pool';
-import { getApprovedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
+import { enqueueMailToRole } from '../../lib/mail';
+import { copyRefusal, findCopy, lockAndRecheck, recordFingerprint } from '../provenance/copies';
+import {
+  assertHolder,
+  blockedRefusal,
+  blockState,
+  identifierFindings,
+  identifierRefusal,
+  judgeAcquisition,
+} from '../provenance/rules';
+import { getApprovedReferenceSet, getPinnedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
+import { assertIrSuitable } from '../library/method-control';
 import * as lots from '../lots/repo';
 import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
@@ -66,6 +77,7 @@ export async function startTest(
 ): Promise<StartedTest> {
   const lot = await lots.findLot(db, lotId);
   if (!lot) throw notFound('The lot');
+  await assertIrSuitable(db, lot.material.id, `Lot ${lot.lotNumber} cannot be put into IR testing`);
   const set = await approvedSetFor(lot.material.id, db);
   await usableInstrument(db, instrumentId, set.method.technique);
   const actor = { id: user.id, name: user.fullName };
@@ -122,6 +134,13 @@ export async function startTest(
       created_by: user.id,
       created_at: now,
       updated_at: now,
+    });
+    // The attempt keeps this method version and reference set to its end (docs/methods.md).
+    await trx('attempt_pin').insert({
+      test_id: id,
+      method_id: set.method.id,
+      reference_ids: JSON.stringify(set.references.map((r) => r.id)),
+      created_at: now,
     });
     await trx('lot').where({ id: lotId }).update({ identity_status: 'testing', updated_at: now });
     await appendAudit(trx, {
@@ -254,13 +273,29 @@ async function libraryHint(
 }
 
 /** Records one measurement of one container. A file that cannot be read stores nothing (422). */
+/** Site settings of the provenance rules (server/lib/config.ts; docs/provenance.md). */
+export interface ProvenanceSettings {
+  /** invalid measurements on one container after which it is blocked until QA decides */
+  maxInvalidMeasurements: number;
+  /** a file naming another record: the operator confirms it, or the site refuses it */
+  fileIdentifierPolicy: 'confirm' | 'refuse';
+  siteTimeZone: string;
+}
+
+export const DEFAULT_PROVENANCE: ProvenanceSettings = {
+  maxInvalidMeasurements: 3,
+  fileIdentifierPolicy: 'confirm',
+  siteTimeZone: 'Europe/Berlin',
+};
+
 export async function addMeasurement(
   db: Knex,
   user: AuthUser,
   testId: number,
-  target: { containerId?: number; label?: string },
+  target: { containerId?: number; label?: string; reason?: string; confirmIdentifiers?: boolean },
   file: UploadedFile | undefined,
   ip: string | null,
+  settings: ProvenanceSettings = DEFAULT_PROVENANCE,
 ): Promise<UploadResult> {
   if (!file || !file.buffer) throw badRequest('Attach the spectrum file (field "file").');
   const ctx = await loadContext(db, testId);
@@ -292,8 +327,18 @@ export async function addMeasurement(
     );
   assertNotFailed(ctx.measurements, testId, container);
   if (!ctx.test.instrument_id) throw conflict('Choose an instrument for this test first.');
+  await assertHolder(db, ctx.test, user.id);
+  if ((await blockState(db, container.id)).blocked)
+    throw blockedRefusal(container.label, settings.maxInvalidMeasurements);
+  const previous = latestByContainer(ctx.measurements, testId).get(container.id);
+  const reason = target.reason?.trim() || null;
+  if (previous?.verdict === 'pass' && !reason)
+    throw unprocessable(
+      'REMEASURE_REASON_REQUIRED',
+      `Container ${container.label} already has a valid result in this attempt (pass, measurement ${previous.id}). A re-measurement needs a reason, which is kept with it and shown to the verifier. Nothing was stored.`,
+    );
 
-  const set = await approvedSetFor(ctx.lot.material.id, db);
+  const set = (await getPinnedReferenceSet(testId, db)) ?? (await approvedSetFor(ctx.lot.material.id, db));
   const instrument = await usableInstrument(db, ctx.test.instrument_id, set.method.technique);
 
   // Reading and scoring run in the compute pool: a big file never holds the event loop.
@@ -308,6 +353,23 @@ export async function addMeasurement(
     throw spectrumRefusal(e, file.originalname);
   }
   const { result, meta, sha256: sha } = run;
+  // Provenance before anything is judged or stored: a copy, a contradicting acquisition, a file
+  // that names another record (docs/provenance.md).
+  const copy = await findCopy(db, sha, run.spectrum, run.keys);
+  if (copy) throw copyRefusal(copy, `the measurement of container ${container.label}`);
+  const acquisition = judgeAcquisition(meta.stated, {
+    checkAt: new Date(instrument.check!.performedAt),
+    now: new Date(),
+    timeZone: settings.siteTimeZone,
+    instrument: { name: instrument.instrument.name, serial_number: instrument.instrument.serialNumber ?? null },
+  });
+  const findings = await identifierFindings(db, [meta.title, meta.stated?.sampleText], {
+    label: container.label,
+    lotNumber: ctx.lot.lotNumber,
+    materialCode: ctx.lot.material.code,
+  });
+  if (findings.length && (settings.fileIdentifierPolicy === 'refuse' || !target.confirmIdentifiers))
+    throw identifierRefusal(findings, container, settings.fileIdentifierPolicy);
   const hint =
     result.verdict === 'fail' && run.spectrum
       ? await libraryHint(db, run.spectrum, set.method.params, ctx.lot.material.id)
@@ -332,7 +394,17 @@ export async function addMeasurement(
     // Locking the test serialises uploads of one attempt (kept in order) and signing against uploads.
     const t = await repo.lockTest(trx, testId);
     if (!t || t.status !== 'in-progress') throw conflict('The test is no longer in progress; nothing was stored.');
-    assertNotFailed(await repo.measurementsOfTest(trx, testId), testId, container);
+    const inTest = await repo.measurementsOfTest(trx, testId);
+    assertNotFailed(inTest, testId, container);
+    if (latestByContainer(inTest, testId).get(container.id)?.verdict === 'pass' && !reason)
+      throw unprocessable(
+        'REMEASURE_REASON_REQUIRED',
+        `Container ${container.label} already has a valid result in this attempt. A re-measurement needs a reason. Nothing was stored.`,
+      );
+    await lockAndRecheck(trx, sha, run.keys);
+    await trx('container').where({ id: container.id }).forUpdate().first('id');
+    if ((await blockState(trx, container.id)).blocked)
+      throw blockedRefusal(container.label, settings.maxInvalidMeasurements);
     const now = new Date();
     const { id: fileId } = await storeFile(trx, file, user.id, now, sha);
     const mid = await repo.insertMeasurement(trx, {
@@ -351,8 +423,33 @@ export async function addMeasurement(
       created_by: user.id,
       created_at: now,
     });
-    // Each measurement records the method version it was scored under; when QA approved a new
-    // version during the attempt, the attempt follows it and the change is audited.
+    await recordFingerprint(trx, {
+      fileId: fileId as number,
+      recordType: 'measurement',
+      recordId: mid,
+      sha256: sha,
+      keys: run.keys,
+      at: now,
+    });
+    const previousInTest = latestByContainer(inTest, testId).get(container.id) ?? null;
+    await trx('measurement_provenance').insert({
+      measurement_id: mid,
+      acquired_text: acquisition.acquiredText?.slice(0, 120) ?? null,
+      acquired_at: acquisition.acquiredAt,
+      acquired_judgement: acquisition.acquiredJudgement,
+      instrument_text: acquisition.instrumentText,
+      stated_serial: acquisition.statedSerial,
+      serial_judgement: acquisition.serialJudgement,
+      title: meta.title?.slice(0, 300) || null,
+      sample_text: meta.stated?.sampleText ?? null,
+      identifier_findings: JSON.stringify(findings),
+      identifiers_confirmed: findings.length > 0,
+      remeasure_reason: reason,
+      remeasure_of_measurement_id: previousInTest?.id ?? null,
+      created_at: now,
+    });
+    // Each measurement records the method version it was scored under. A pinned attempt keeps its
+    // version; only an attempt started before pins existed follows a new version (audited).
     await trx('identity_test').where({ id: testId }).update({ updated_at: now, method_id: set.method.id });
     if (t.method_id !== set.method.id)
       await appendAudit(trx, {
@@ -382,9 +479,56 @@ export async function addMeasurement(
         verdict: result.verdict,
         matchScore: score,
         engineVersion: result.engineVersion,
+        remeasureOf: previousInTest?.id ?? null,
+        acquisition: {
+          stated: acquisition.acquiredText,
+          judgement: acquisition.acquiredJudgement,
+          instrument: acquisition.instrumentText,
+          serial: acquisition.statedSerial,
+          serialJudgement: acquisition.serialJudgement,
+        },
+        identifiersConfirmed: findings.length ? findings.map((f) => f.text) : null,
       },
+      reason: reason ?? undefined,
       ip,
     });
+    if (result.verdict === 'invalid') {
+      const state = await blockState(trx, container.id);
+      if (state.invalidSince >= settings.maxInvalidMeasurements) {
+        await trx('container_block').insert({
+          container_id: container.id,
+          test_id: testId,
+          event: 'blocked',
+          invalid_count: state.invalidSince,
+          reason: null,
+          signature_id: null,
+          created_by: user.id,
+          created_at: now,
+        });
+        await appendAudit(trx, {
+          actor: { id: user.id, name: user.fullName },
+          action: 'container.blocked',
+          entityType: 'container',
+          entityId: container.id,
+          after: {
+            label: container.label,
+            lotNumber: ctx.lot.lotNumber,
+            testId,
+            invalidMeasurements: state.invalidSince,
+          },
+          reason: `${state.invalidSince} invalid measurements (site limit ${settings.maxInvalidMeasurements}).`,
+          ip,
+        });
+        await enqueueMailToRole(
+          trx,
+          'qa_manager',
+          `Drumline: container ${container.label} blocked after ${state.invalidSince} invalid measurements`,
+          `Container ${container.label} of lot ${ctx.lot.lotNumber} (${ctx.lot.material.code}) had ${state.invalidSince} invalid measurements in a row ` +
+            `(the quality gate refused a verdict each time). It is blocked: no further measurement can be added until a QA manager decides how to go on ` +
+            `(work queue, "Blocked containers").`,
+        );
+      }
+    }
     return mid;
   });
   return {

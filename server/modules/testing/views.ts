@@ -4,6 +4,7 @@
  * best reference and their difference on the method grid), the verifier's review and queue.
  */
 import type { Knex } from 'knex';
+import { measurementHistory } from '../provenance/service';
 import { testIntegrity, type FoundBy } from '../integrity/service';
 import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
@@ -16,6 +17,7 @@ import { toCheckInfo } from './instrument-status';
 import { inScope, latestByContainer, readiness } from './outcome';
 import * as repo from './repo';
 import {
+  type AttemptPin,
   type CitedInstrumentCheck,
   type InstrumentRef,
   type MeasurementDetail,
@@ -233,6 +235,7 @@ export async function getReview(db: Knex, testId: number, by: FoundBy = { foundI
     integrity,
     test: detail,
     measurements,
+    history: await measurementHistory(db, testId),
     instrumentChecks: measurements
       .map((m) => m.instrumentCheck)
       .filter(
@@ -249,6 +252,29 @@ export async function getReview(db: Knex, testId: number, by: FoundBy = { foundI
         params: x.params,
       })),
     references: await referenceInfos(db, refIds),
+    pinned: await attemptPin(db, testId),
+  };
+}
+
+async function attemptPin(db: Knex, testId: number): Promise<AttemptPin | null> {
+  const pin = await db('attempt_pin as p')
+    .join('identity_method as m', 'm.id', 'p.method_id')
+    .where('p.test_id', testId)
+    .first('p.method_id', 'p.reference_ids', 'm.version', 'm.material_id');
+  if (!pin) return null;
+  const ids = JSON.parse(pin.reference_ids) as number[];
+  const codes: { code: string }[] = await db('reference_spectrum')
+    .whereIn('id', ids.length ? ids : [0])
+    .orderBy('id')
+    .select('code');
+  const current = await db('identity_method')
+    .where({ material_id: pin.material_id, status: 'approved' })
+    .first('id', 'version');
+  return {
+    methodId: pin.method_id,
+    methodVersion: pin.version,
+    referenceCodes: codes.map((c) => c.code),
+    newerApprovedVersion: current && current.id !== pin.method_id ? current.version : null,
   };
 }
 

@@ -2,7 +2,8 @@
  * The work queue of the signed-in user (DESIGN.md: work queue): per role, what awaits them.
  * - operator: lots to test (quarantine, awaiting testing, testing, returned or retest authorised)
  * - verifier: tests awaiting verification that they neither performed nor measured
- * - qa_manager: open investigations; draft references awaiting approval (not their own uploads)
+ * - qa_manager: open investigations; draft references awaiting approval (not their own uploads);
+ *   passed lots whose certificate could not be issued (retry action: POST /api/certificates/issue)
  * - operator and qa_manager: instruments whose instrument check is due
  * Read-only over the library and instrument tables.
  */
@@ -10,9 +11,11 @@ import type { Knex } from 'knex';
 import type { AuthUser } from '../../lib/http';
 import type { Role } from '../../lib/contract';
 import type { QueueItem, QueueSection, WorkQueue } from './contract';
+import { pendingCertificates } from '../certificates';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
 import { lotsAwaitingDisposition, retestsDue } from '../disposition/service';
+import { blockedContainers } from '../provenance/service';
 
 const ITEMS = 50;
 
@@ -175,6 +178,32 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
       })),
     );
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
+    push(
+      'blocked-containers',
+      'Blocked containers',
+      ['qa_manager'],
+      (await blockedContainers(db)).map((b) => ({
+        id: b.containerId,
+        title: `${b.label} · lot ${b.lotNumber}`,
+        detail: `Blocked after ${b.invalidCount} invalid measurements: decide how to go on`,
+        href: `/lots/${b.lotId}`,
+      })),
+    );
+    push(
+      'certificates-to-issue',
+      'Certificates to issue',
+      ['qa_manager'],
+      (await pendingCertificates(db)).map((p) => ({
+        id: p.lotId,
+        title: `${p.lotNumber} · ${p.material}`,
+        detail:
+          `${p.supersedes ? 'Superseding certificate' : 'Certificate'} ${p.number ?? '(no number yet)'} not issued` +
+          (p.lastProblem ? `: ${p.lastProblem}` : '') +
+          (p.failures ? ` (${p.failures} failed attempt(s))` : ''),
+        href: `/lots/${p.lotId}`,
+        action: p.supersedes ? undefined : { kind: 'issue-certificate', lotId: p.lotId },
+      })),
+    );
   }
   if (has('operator') || has('qa_manager'))
     push(

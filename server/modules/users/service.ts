@@ -6,6 +6,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
+import { transactionWithRetry } from '../../lib/retry';
 import {
   hashPassword,
   isRecentPassword,
@@ -38,7 +39,7 @@ export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: str
   if (await repo.findByUsername(db, input.username))
     throw conflict(`The user name "${input.username}" is already taken.`);
   const hash = await hashPassword(input.temporaryPassword);
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const now = new Date();
     // An account is created without roles; its roles come from role grants (docs/access.md).
     const id = await repo.insertUser(trx, {
@@ -100,7 +101,7 @@ export async function updateUser(
 ): Promise<UserAccount> {
   assertNotSelfStatus(actor, id, patch);
   if (patch.roles) assertRolesAllowed(patch.roles);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
     const upd: Partial<repo.UserRow> = {};
@@ -141,7 +142,7 @@ export async function unlockUser(
   reason: string,
   ip: string | null,
 ): Promise<UserAccount> {
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
     await repo.updateUser(trx, id, { failed_attempts: 0, locked_until: null });
@@ -181,7 +182,7 @@ export async function resetPassword(
       `The temporary password must differ from the account's last ${PASSWORD_HISTORY} passwords. Choose another one.`,
     );
   const hash = await hashPassword(temporaryPassword);
-  return db.transaction(async (trx) => {
+  return transactionWithRetry(db, async (trx) => {
     await repo.updateUser(trx, id, {
       password_hash: hash,
       must_change_password: 1,

@@ -1,5 +1,5 @@
 /** Audit trail hooks: the browser's pages, one event, filter choices, the chain check, record history, export links. */
-import { keepPreviousData, useQuery } from '@tanstack/react-query';
+import { keepPreviousData, useMutation, useQuery } from '@tanstack/react-query';
 import { apiFetch, downloadUrl } from '../../../lib/api';
 import { qk } from '../../../lib/query-keys';
 import type {
@@ -10,7 +10,7 @@ import type {
   AuditPage,
   RecordHistory,
 } from '../../../../server/modules/audit/contract';
-import type { ChainReport } from '../../../../server/lib/contract';
+import type { ChainReport, ChainRun } from '../../../../server/lib/contract';
 
 export type {
   AuditEventDetail,
@@ -98,6 +98,23 @@ export function useChainCheck() {
     enabled: false,
     gcTime: Infinity,
     retry: false,
+  });
+}
+
+/** Starts a full chain check (a background job on the server). */
+export function useStartFullCheck() {
+  return useMutation({
+    mutationFn: () => apiFetch<ChainRun>('/api/audit/verify/full', { method: 'POST' }),
+  });
+}
+
+/** Polls a full chain check every second until it has finished or failed. */
+export function useFullCheckRun(id: number | null) {
+  return useQuery({
+    queryKey: qk.audit.fullCheck(id),
+    queryFn: () => apiFetch<ChainRun>(`/api/audit/verify/full/${id}`),
+    enabled: id !== null,
+    refetchInterval: (q) => (q.state.data && ['finished', 'failed'].includes(q.state.data.status) ? false : 1000),
   });
 }
 

@@ -105,6 +105,27 @@ export function VerificationResult({ report }: { report: VerificationReport }) {
             )}
           </Row>
         )}
+        {report.signature && (
+          <Row label="Signature time-stamp (RFC 3161)" testId="time-stamp">
+            {report.signature.timeStamp ? (
+              <span>
+                <YesNo value={report.signature.timeStamp.valid} />
+                {report.signature.timeStamp.time && (
+                  <span className="text-muted">
+                    {' '}
+                    · <DateTime value={report.signature.timeStamp.time} seconds />
+                    {report.signature.timeStamp.authority ? ` by ${report.signature.timeStamp.authority}` : ''}
+                  </span>
+                )}
+                {report.signature.timeStamp.problem && (
+                  <span className="ml-2 text-fail">{report.signature.timeStamp.problem}</span>
+                )}
+              </span>
+            ) : (
+              <span className="text-muted">none (the signature carries no time-stamp)</span>
+            )}
+          </Row>
+        )}
         {report.signature?.fingerprint && (
           <Row label="Signing certificate SHA-256">
             <code className="break-all text-xs">{report.signature.fingerprint}</code>

@@ -3,7 +3,12 @@ import { useMutation, useQuery, useQueryClient, type QueryClient } from '@tansta
 import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../lib/api';
 import { invalidateMe, qk } from '../../../lib/query-keys';
 import type {
+  ApproveMethodInput,
   ApproveReferenceInput,
+  GateOverride,
+  GateOverrideRequestInput,
+  IrSuitability,
+  IrSuitabilityInput,
   BandsUpdateInput,
   GateReport,
   Material,
@@ -27,6 +32,9 @@ export type { SignatureRecord as Signature } from '../../../../server/lib/contra
 export type { SignatureCredentials } from '../../../components/SignatureDialog';
 export type {
   DirectionScore,
+  GateOverride,
+  IrSuitability,
+  MethodGateReport,
   GatePair,
   GateReport,
   IdentityMethodInput as IdentityMethodParams,
@@ -145,11 +153,33 @@ export function useNewMethodVersion() {
 
 export function useApproveMethod() {
   return useLibraryMutation(
-    ({ id, signature }: { id: number; signature: SignatureCredentials }) =>
-      apiFetch<MethodWithSignatures>(`/api/methods/${id}/approve`, { method: 'POST', body: { signature } }),
+    ({ id, signature, overrideId }: { id: number; signature: SignatureCredentials; overrideId?: number }) =>
+      apiFetch<MethodWithSignatures>(`/api/methods/${id}/approve`, {
+        method: 'POST',
+        body: { signature, overrideId } satisfies ApproveMethodInput,
+      }),
     { signs: true },
   );
 }
+
+/** First of the two QA signatures of a gate override (kind: methods or references). */
+export function useRequestGateOverride(kind: 'methods' | 'references') {
+  return useLibraryMutation(
+    ({ id, ...body }: GateOverrideRequestInput & { id: number }) =>
+      apiFetch<GateOverride>(`/api/${kind}/${id}/gate-override`, { method: 'POST', body }),
+    { signs: true },
+  );
+}
+
+export function useDecideIrSuitability() {
+  return useLibraryMutation(
+    ({ id, ...body }: IrSuitabilityInput & { id: number }) =>
+      apiFetch<IrSuitability>(`/api/materials/${id}/ir-suitability`, { method: 'POST', body }),
+    { signs: true },
+  );
+}
+
+export const validationRecordUrl = (methodId: number) => downloadUrl(`/api/methods/${methodId}/validation-record`);
 
 export function useUpdateBands() {
   return useLibraryMutation(({ id, bands, reason }: BandsUpdateInput & { id: number }) =>
@@ -159,10 +189,10 @@ export function useUpdateBands() {
 
 export function useApproveReference() {
   return useLibraryMutation(
-    ({ id, signature, justification }: ApproveReferenceInput & { id: number }) =>
+    ({ id, signature, overrideId }: ApproveReferenceInput & { id: number }) =>
       apiFetch<ReferenceDetail>(`/api/references/${id}/approve`, {
         method: 'POST',
-        body: { signature, justification },
+        body: { signature, overrideId },
       }),
     { signs: true },
   );

@@ -1,11 +1,12 @@
 /**
- * Approval of a draft reference: the specificity gate is shown first; when another material
- * would pass, approval needs a written justification (at least 20 characters) that is signed
- * with it. The password is asked again (e-signature).
+ * Approval of a draft reference: the specificity gate is shown first. When another material would
+ * pass, comes within the margin of a limit, or could not be compared, one QA manager cannot approve
+ * alone: an override needs a request signed by one QA manager and the approval of a second, who
+ * confirms it here (docs/methods.md). The password is asked again (e-signature).
  */
 import { ApiError } from '../../../lib/api';
-import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
-import { useApproveReference, useSpecificityGate, type GateReport } from '../api';
+import { SignatureDialog } from '../../../components/SignatureDialog';
+import { useApproveReference, useSpecificityGate, type GateOverride, type GateReport } from '../api';
 import { GateTable } from './GateTable';
 
 export function ApproveReferenceDialog({
@@ -14,6 +15,7 @@ export function ApproveReferenceDialog({
   code,
   printedName,
   needsUsername,
+  pendingOverride,
   onClose,
 }: {
   open: boolean;
@@ -21,6 +23,8 @@ export function ApproveReferenceDialog({
   code: string;
   printedName: string;
   needsUsername: boolean;
+  /** An override another QA manager requested, which approving confirms. */
+  pendingOverride: GateOverride | null;
   onClose: () => void;
 }) {
   const gate = useSpecificityGate(referenceId, open);
@@ -33,39 +37,29 @@ export function ApproveReferenceDialog({
       : null;
   const report = refusedGate ?? gate.data ?? null;
   const blocked = report ? !report.passed : false;
+  const confirming = blocked && pendingOverride !== null;
 
   return (
-    <ReasonSignatureDialog
+    <SignatureDialog
       open={open}
       title={`Approve reference ${code}`}
       meaningText={
-        blocked
-          ? `approve reference ${code} although another material would pass this grade's test, for the reason written above`
+        confirming
+          ? `confirm the override requested by ${pendingOverride!.requestedByName} (${pendingOverride!.changeControl}) and approve reference ${code}`
           : `reviewed reference ${code}, its characteristic bands and the specificity check, and approve it for identity testing`
       }
       printedName={printedName}
       needsUsername={needsUsername}
-      confirmLabel={blocked ? 'Approve with justification' : 'Approve reference'}
+      confirmLabel={confirming ? 'Confirm override and approve' : 'Approve reference'}
       busy={approve.isPending}
       error={approve.error}
       onCancel={() => {
         approve.reset();
         onClose();
       }}
-      reason={
-        blocked
-          ? {
-              label: 'Justification',
-              hint: 'Why approval is right although the method does not tell these materials apart (at least 20 characters). It is signed and kept in the audit trail.',
-              minLength: 20,
-              tooShort:
-                'Another material would pass this test. Write a justification of at least 20 characters, or tighten the identity method first.',
-            }
-          : undefined
-      }
-      onSign={(signature, justification) =>
+      onSign={(signature) =>
         approve.mutate(
-          { id: referenceId, signature, justification: blocked ? justification : undefined },
+          { id: referenceId, signature, overrideId: confirming ? pendingOverride!.id : undefined },
           { onSuccess: onClose },
         )
       }
@@ -76,8 +70,15 @@ export function ApproveReferenceDialog({
           <p className="text-sm text-muted">Scoring against the approved references of other materials…</p>
         ) : null}
         {gate.isError && !report ? <p className="text-sm text-fail">{(gate.error as Error).message}</p> : null}
+        {blocked && !confirming && (
+          <p className="text-sm text-amber">
+            The gate refuses this reference. One QA manager cannot approve alone: a QA manager requests an override
+            (justification and change control), and a second one confirms it by approving.
+          </p>
+        )}
+        {confirming && <p className="text-sm">Override justification: {pendingOverride!.justification}</p>}
         {report && <GateTable gate={report} onlyOffending={blocked} />}
       </section>
-    </ReasonSignatureDialog>
+    </SignatureDialog>
   );
 }

@@ -9,7 +9,15 @@ function Dir({ d }: { d: DirectionScore | null }) {
     <span className="flex flex-wrap items-center gap-2">
       <Verdict
         verdict={d.verdict === 'pass' ? 'invalid' : d.verdict === 'invalid' ? 'pending' : 'pass'}
-        label={d.verdict === 'pass' ? 'would pass' : d.verdict === 'invalid' ? 'not judged (quality)' : 'told apart'}
+        label={
+          d.verdict === 'pass'
+            ? 'would pass'
+            : d.verdict === 'invalid'
+              ? 'not compared (quality)'
+              : d.state === 'within-margin'
+                ? 'within the margin of a limit'
+                : 'told apart'
+        }
         size="sm"
       />
       <span className="tabular-nums">r {formatScore(d.correlation)}</span>
@@ -30,7 +38,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
           ? `No other material has approved references under this technique: nothing to tell apart (method version ${gate.methodVersion}).`
           : gate.passed
             ? `Every one of ${gate.pairs.length} approved reference(s) of other materials is told apart under method version ${gate.methodVersion}.`
-            : `${gate.offending.length} of ${gate.pairs.length} approved reference(s) of other materials would pass this grade's test under method version ${gate.methodVersion}.`}
+            : `${gate.offending.length} of ${gate.pairs.length} approved reference(s) of other materials would pass this grade's test, come within the margin of a limit, or could not be compared under method version ${gate.methodVersion}.`}
       </p>
       {pairs.length > 0 && (
         <div className="overflow-x-auto rounded-md border border-line bg-white">
@@ -55,7 +63,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
               {pairs.map((p) => (
                 <tr
                   key={p.referenceId}
-                  className={`border-t border-line ${p.wouldPass ? 'bg-fail-soft/50' : ''}`}
+                  className={`border-t border-line ${p.state && p.state !== 'distinct' ? 'bg-fail-soft/50' : p.wouldPass ? 'bg-fail-soft/50' : ''}`}
                   data-would-pass={p.wouldPass}
                 >
                   <td className="px-3 py-1.5">
@@ -64,7 +72,7 @@ export function GateTable({ gate, onlyOffending = false }: { gate: GateReport; o
                   <td className="px-3 py-1.5">{p.referenceCode}</td>
                   {p.notComparable ? (
                     <td colSpan={2} className="px-3 py-1.5 text-muted">
-                      not comparable: {p.notComparable}
+                      not compared (never counted distinct): {p.notComparable}
                     </td>
                   ) : (
                     <>

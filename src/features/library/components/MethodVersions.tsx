@@ -5,8 +5,9 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { formatScore } from '../../../lib/format';
-import { TECHNIQUE_LABELS } from '../../../../server/modules/library/contract';
-import { useApproveMethod, useNewMethodVersion, type MethodVersion } from '../api';
+import { DEFAULT_MARGINS, TECHNIQUE_LABELS } from '../../../../server/modules/library/contract';
+import { useApproveMethod, useNewMethodVersion, validationRecordUrl, type MethodVersion } from '../api';
+import { GateOverrideDialog } from './GateOverrideDialog';
 import { MethodForm } from './MethodForm';
 import { SignatureList } from './SignatureList';
 import { StatusBadge } from './StatusBadge';
@@ -53,15 +54,36 @@ function summary(m: MethodVersion): [string, string][] {
             : ''),
     ],
     [
+      'Approval margins',
+      (() => {
+        const g = { ...DEFAULT_MARGINS, ...(p.specificityMargins ?? {}) };
+        return `another material must stay ${g.correlation} below the correlation limit, ${g.derivativeCorrelation} below the derivative limit, ${g.mahalanobis} above the distance limit, ${g.residual} above the residual limit, ${g.bands} band(s) beyond the band limits`;
+      })(),
+    ],
+    [
       'Quality',
       `band height ≥ ${p.quality.minMaxAbsorbance}, absorbance ≤ ${p.quality.maxAbsorbance}, signal-to-noise ≥ ${p.quality.minSignalToNoise}`,
     ],
   ];
 }
 
-function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: boolean; signer: Signer }) {
+function VersionCard({
+  m,
+  canWrite,
+  signer,
+  userId,
+  firstVersionDrafts,
+}: {
+  m: MethodVersion;
+  canWrite: boolean;
+  signer: Signer;
+  userId: number;
+  firstVersionDrafts: number;
+}) {
   const [editing, setEditing] = useState(false);
   const [signing, setSigning] = useState(false);
+  const [requesting, setRequesting] = useState(false);
+  const pending = m.overrides.find((o) => !o.confirmedAt && o.requestedBy !== userId) ?? null;
   const approve = useApproveMethod();
   const newVersion = useNewMethodVersion();
   return (
@@ -85,7 +107,13 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
         {canWrite && m.status === 'draft' && !editing && (
           <span className="ml-auto flex gap-2">
             <Button onClick={() => setEditing(true)}>Edit draft</Button>
-            <Button variant="primary" onClick={() => setSigning(true)}>
+            {m.createdBy !== userId && <Button onClick={() => setRequesting(true)}>Request gate override</Button>}
+            <Button
+              variant="primary"
+              onClick={() => setSigning(true)}
+              disabled={m.createdBy === userId}
+              title={m.createdBy === userId ? 'You wrote this version; another QA manager must approve it.' : undefined}
+            >
               Approve method version
             </Button>
           </span>
@@ -117,15 +145,55 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
           ))}
         </dl>
       )}
+      {m.approval && (
+        <p className="mt-3 text-sm">
+          <a className="text-petrol underline underline-offset-2" href={validationRecordUrl(m.id)} download>
+            Download the validation record (PDF)
+          </a>{' '}
+          <span className="text-muted">
+            specificity gate {m.approval.gate.passed ? 'passed' : 'overridden'} against{' '}
+            {new Set(m.approval.gate.rows.map((r) => r.otherMaterialCode)).size} other material(s)
+            {m.approval.firstReferenceIds.length > 0 &&
+              `; approved with its first ${m.approval.firstReferenceIds.length} reference(s)`}
+          </span>
+        </p>
+      )}
+      {m.overrides.length > 0 && (
+        <ul className="mt-2 text-sm" aria-label="Gate overrides">
+          {m.overrides.map((o) => (
+            <li key={o.id}>
+              Override {o.id} ({o.changeControl}) requested by {o.requestedByName}:{' '}
+              {o.confirmedByName ? `confirmed by ${o.confirmedByName}` : 'awaiting a second QA manager'} —{' '}
+              {o.justification}
+            </li>
+          ))}
+        </ul>
+      )}
       {m.signatures.length > 0 && (
         <div className="mt-3">
           <SignatureList signatures={m.signatures} />
         </div>
       )}
+      <GateOverrideDialog
+        open={requesting}
+        kind="methods"
+        id={m.id}
+        label={`method version ${m.version}`}
+        printedName={signer.printedName}
+        needsUsername={signer.needsUsername}
+        onClose={() => setRequesting(false)}
+      />
       <SignatureDialog
         open={signing}
         title={`Approve identity method version ${m.version}`}
-        meaningText={`approve version ${m.version} of this identity method; approved, it cannot be changed and every new identity test will use it`}
+        meaningText={
+          (pending
+            ? `confirm the gate override requested by ${pending.requestedByName} (${pending.changeControl}) and `
+            : '') +
+          `approve version ${m.version} of this identity method after its specificity check, with its validation record` +
+          (firstVersionDrafts > 0 ? ` and its first ${firstVersionDrafts} reference spectra` : '') +
+          '; approved, it cannot be changed and every new identity test will use it'
+        }
         printedName={signer.printedName}
         needsUsername={signer.needsUsername}
         confirmLabel="Approve method version"
@@ -135,7 +203,9 @@ function VersionCard({ m, canWrite, signer }: { m: MethodVersion; canWrite: bool
           setSigning(false);
           approve.reset();
         }}
-        onSign={(signature) => approve.mutate({ id: m.id, signature }, { onSuccess: () => setSigning(false) })}
+        onSign={(signature) =>
+          approve.mutate({ id: m.id, signature, overrideId: pending?.id }, { onSuccess: () => setSigning(false) })
+        }
       />
     </article>
   );
@@ -145,16 +215,28 @@ export function MethodVersions({
   methods,
   canWrite,
   signer,
+  userId,
+  firstVersionDrafts,
 }: {
   methods: MethodVersion[];
   canWrite: boolean;
   signer: Signer;
+  userId: number;
+  /** Draft references approved with the first version (0 once the material has approved references). */
+  firstVersionDrafts: number;
 }) {
   if (methods.length === 0) return <p className="text-sm text-muted">No identity method yet.</p>;
   return (
     <div className="flex flex-col gap-3">
       {methods.map((m) => (
-        <VersionCard key={m.id} m={m} canWrite={canWrite} signer={signer} />
+        <VersionCard
+          key={m.id}
+          m={m}
+          canWrite={canWrite}
+          signer={signer}
+          userId={userId}
+          firstVersionDrafts={firstVersionDrafts}
+        />
       ))}
     </div>
   );

@@ -9,8 +9,9 @@ import type { MatrixCell, SpecificityMatrix } from '../api';
 
 const STATE: Record<MatrixCell['state'], { word: string; icon: string; cls: string }> = {
   'would-pass': { word: 'would pass', icon: '⚠', cls: 'bg-fail-soft text-fail font-semibold' },
+  'within-margin': { word: 'within the margin of a limit', icon: '⚠', cls: 'bg-amber-soft text-amber font-semibold' },
   distinct: { word: 'distinct', icon: '✓', cls: 'text-ink' },
-  'not-comparable': { word: 'not comparable', icon: '–', cls: 'text-muted' },
+  'not-comparable': { word: 'not compared (never counted distinct)', icon: '?', cls: 'bg-amber-soft text-amber' },
   self: { word: 'same material: consistent', icon: '=', cls: 'bg-paper text-muted' },
   'self-inconsistent': {
     word: 'same material: a reference fails the others',

@@ -19,7 +19,15 @@ import type {
   WorkQueue,
 } from '../../../../server/modules/testing/contract';
 
+import type {
+  BlockedContainer,
+  HandOverInput,
+  OperatorChoice,
+  ReviewMeasurementEntry,
+} from '../../../../server/modules/provenance/contract';
+
 export type { SignatureRecord as Signature } from '../../../../server/lib/contract';
+export type { BlockedContainer, OperatorChoice, ReviewMeasurementEntry };
 export type {
   LotContainer,
   LotDetail,
@@ -79,6 +87,17 @@ export const useVerificationQueue = () =>
   useQuery({ queryKey: qk.tests.verificationQueue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
 export const useWorkQueue = () =>
   useQuery({ queryKey: qk.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
+
+/** QA's retry of a certificate that could not be issued (the certificates module issues it). */
+export function useRetryCertificate() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (lotId: number) =>
+      apiFetch<{ number: string }>('/api/certificates/issue', { method: 'POST', body: { lotId } }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.workQueue }),
+    onSettled: () => void qc.invalidateQueries({ queryKey: qk.workQueue }),
+  });
+}
 
 export const labelsPdfUrl = (lotId: number) => downloadUrl(`/api/lots/${lotId}/labels.pdf`);
 export const rawFileUrl = (measurementId: number) => downloadUrl(`/api/measurements/${measurementId}/file`);
@@ -140,13 +159,15 @@ export function useMatchFiles(testId: number) {
 /** Uploads the spectrum of one container, with progress; rejects with the server's sentence. */
 export function uploadMeasurement(
   testId: number,
-  target: { containerId?: number; label?: string },
+  target: { containerId?: number; label?: string; reason?: string; confirmIdentifiers?: boolean },
   file: File,
   onProgress?: (p: UploadProgress) => void,
 ) {
   const fd = new FormData();
   if (target.containerId) fd.append('containerId', String(target.containerId));
   if (target.label) fd.append('label', target.label);
+  if (target.reason) fd.append('reason', target.reason);
+  if (target.confirmIdentifiers) fd.append('confirmIdentifiers', 'true');
   fd.append('file', file, file.name);
   return apiUpload<UploadResult>(`/api/tests/${testId}/measurements`, fd, onProgress);
 }
@@ -200,5 +221,53 @@ export function useReturnTest(testId: number) {
     mutationFn: (body: { signature: SignatureInput; reason: string }) =>
       apiFetch<TestDetail>(`/api/tests/${testId}/return`, { method: 'POST', body }),
     onSuccess: done,
+  });
+}
+
+/** Operators an attempt in progress can be handed over to. */
+export function useHandOverCandidates(testId: number, enabled: boolean) {
+  return useQuery({
+    queryKey: qk.tests.handOverCandidates(testId),
+    queryFn: () => apiFetch<OperatorChoice[]>(`/api/tests/${testId}/hand-over-candidates`),
+    enabled,
+  });
+}
+
+/** Hands the attempt over to another operator (recorded and audited). */
+export function useHandOver(lotId: number, testId: number) {
+  const refresh = useLotRefresh();
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: HandOverInput) =>
+      apiFetch<TestDetail>(`/api/tests/${testId}/hand-over`, { method: 'POST', body }),
+    onSuccess: () => {
+      refresh(lotId, testId);
+      void qc.invalidateQueries({ queryKey: qk.tests.handOverCandidates(testId) });
+    },
+  });
+}
+
+/** Containers blocked after too many invalid measurements (QA). */
+export function useBlockedContainers(enabled: boolean) {
+  return useQuery({
+    queryKey: qk.tests.blockedContainers,
+    queryFn: () => apiFetch<BlockedContainer[]>('/api/containers/blocked'),
+    enabled,
+  });
+}
+
+/** QA releases a blocked container, with a reason and an e-signature. */
+export function useReleaseBlock() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (v: { containerId: number; reason: string; signature: SignatureInput }) =>
+      apiFetch<BlockedContainer[]>(`/api/containers/${v.containerId}/release`, {
+        method: 'POST',
+        body: { reason: v.reason, signature: v.signature },
+      }),
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: qk.tests.blockedContainers });
+      void qc.invalidateQueries({ queryKey: qk.workQueue });
+    },
   });
 }

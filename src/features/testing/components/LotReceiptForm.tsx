@@ -76,7 +76,10 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
           {materials.data?.map((m) => (
             <option key={m.id} value={m.id}>
               {m.name} ({m.code}
-              {m.grade ? `, ${m.grade}` : ''}) · method v{m.methodVersion}
+              {m.grade ? `, ${m.grade}` : ''}) ·{' '}
+              {m.irNotSuitable
+                ? 'identity by IR not suitable (tested by the replacing test)'
+                : `method v${m.methodVersion}`}
             </option>
           ))}
         </Select>

@@ -9,6 +9,7 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { IntegrityNotice } from '../../../components/IntegrityNotice';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
+import { MeasurementHistory } from './Provenance';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import { useReturnTest, useVerify, type MeasurementDetail, type ReviewData } from '../api';
@@ -85,6 +86,14 @@ export function ReviewView({
   return (
     <div className="flex flex-col gap-5">
       <IntegrityNotice integrity={data.integrity} />
+      {data.pinned && (
+        <p className="rounded-md border border-line bg-white p-3 text-sm" data-testid="attempt-pin">
+          This attempt keeps identity method version {data.pinned.methodVersion} and the reference set it started with (
+          {data.pinned.referenceCodes.join(', ')}).
+          {data.pinned.newerApprovedVersion !== null &&
+            ` Version ${data.pinned.newerApprovedVersion} was approved since; it applies to new attempts only.`}
+        </p>
+      )}
       <section
         aria-label="Versions and instrument"
         className="grid gap-3 rounded-md border border-line bg-white p-4 text-sm md:grid-cols-3"
@@ -121,6 +130,8 @@ export function ReviewView({
           <ContainerReview key={m.id} m={m} defaultOpen={data.measurements.length <= 6} />
         ))}
       </section>
+
+      <MeasurementHistory entries={data.history} />
 
       {outcome && (
         <p role="status" className="rounded-md border border-petrol/40 bg-petrol-soft px-3 py-2">

@@ -4,7 +4,7 @@
  */
 import { useEffect, useRef, useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
-import { Field, Input } from '../../../components/Field';
+import { Field, Input, Textarea } from '../../../components/Field';
 import { FileDrop } from '../../../components/FileDrop';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
@@ -24,6 +24,8 @@ export function ScanUpload({
 }) {
   const [code, setCode] = useState('');
   const [problem, setProblem] = useState<string | null>(null);
+  const [reason, setReason] = useState('');
+  const [confirmIds, setConfirmIds] = useState(false);
   const scan = useRef<HTMLInputElement>(null);
   const selected = test.containers.find((c) => c.id === selectedId) ?? null;
 
@@ -90,6 +92,28 @@ export function ScanUpload({
               Choose another container
             </Button>
           </div>
+          {selected.latest?.verdict === 'pass' && (
+            <Field
+              id="remeasure-reason"
+              label={`Container ${selected.label} already passed in this attempt: why measure it again?`}
+              hint="Kept with the new measurement and shown to the verifier."
+              className="mb-2"
+            >
+              <Textarea id="remeasure-reason" value={reason} onChange={(e) => setReason(e.target.value)} />
+            </Field>
+          )}
+          <label className="mb-2 flex items-start gap-2 text-sm">
+            <input
+              type="checkbox"
+              className="mt-1"
+              checked={confirmIds}
+              onChange={(e) => setConfirmIds(e.target.checked)}
+            />
+            <span>
+              If the file&apos;s own title or sample identifier names another container, lot or material: I confirm this
+              spectrum was measured on container {selected.label}.
+            </span>
+          </label>
           <FileDrop
             key={selected.id}
             bench
@@ -97,7 +121,14 @@ export function ScanUpload({
             label={`Spectrum file of ${selected.label}`}
             accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
             hint="JCAMP-DX or CSV export of the instrument."
-            upload={(file, onProgress) => uploadMeasurement(test.id, { containerId: selected.id }, file, onProgress)}
+            upload={(file, onProgress) =>
+              uploadMeasurement(
+                test.id,
+                { containerId: selected.id, reason: reason.trim() || undefined, confirmIdentifiers: confirmIds },
+                file,
+                onProgress,
+              )
+            }
             onUploaded={(_f, r) => onUploaded(r)}
             renderResult={(r) => (
               <div className="flex items-center gap-3">

@@ -6,6 +6,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { SignatureDialog } from '../../../components/SignatureDialog';
+import { HandOverPanel } from './Provenance';
 import { Verdict } from '../../../components/Verdict';
 import { formatScore } from '../../../lib/format';
 import { useAfterUpload, usePerform, useSwitchInstrument, useTest, type TestDetail } from '../api';
@@ -106,6 +107,7 @@ export function TestBench({
         <span className="tabular-nums">
           {r.measured} of {r.inScope} containers have a valid result
         </span>
+        <HandOverPanel lotId={lotId} testId={testId} />
       </div>
       {changeInstrument && (
         <InstrumentPicker

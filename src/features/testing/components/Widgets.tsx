@@ -1,7 +1,24 @@
 /** Work-queue widgets of testing: lots to test (operator) and tests to verify (verifier, never their own). */
 import { Link } from 'react-router-dom';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { useWorkQueue } from '../api';
+import { useRetryCertificate, useWorkQueue } from '../api';
+
+function RetryButton({ lotId }: { lotId: number }) {
+  const retry = useRetryCertificate();
+  return (
+    <span className="inline-flex items-center gap-2">
+      <button
+        type="button"
+        className="min-h-11 rounded-md border border-line px-3 font-medium text-petrol"
+        disabled={retry.isPending}
+        onClick={() => retry.mutate(lotId)}
+      >
+        {retry.isPending ? 'Issuing…' : 'Issue now'}
+      </button>
+      {retry.isError && <ErrorNote error={retry.error} />}
+    </span>
+  );
+}
 
 function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
   const q = useWorkQueue();
@@ -20,6 +37,7 @@ function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
             {i.title}
           </Link>
           <span className="text-muted">{i.detail}</span>
+          {i.action?.kind === 'issue-certificate' && <RetryButton lotId={i.action.lotId} />}
         </li>
       ))}
       {s.count > s.items.length && (
@@ -47,4 +65,8 @@ export function LotsAwaitingDispositionList() {
 
 export function RetestsDueList() {
   return <Section sectionKey="retests-due" empty="No retest date within 30 days." />;
+}
+
+export function CertificatesToIssueList() {
+  return <Section sectionKey="certificates-to-issue" empty="Every passed lot has its certificate." />;
 }
