@@ -1,6 +1,7 @@
 /**
- * Issue 5 in the browser (Debian Chromium): receipt, every-container testing, two-person
- * verification, and a failing container with its investigation.
+ * Issues 5 and 14 in the browser (Debian Chromium): receipt from an approved source, the signed
+ * sampling record, every-container testing, two-person verification, QA release with the status
+ * labels downloaded, and a failing container with its investigation.
  *
  * The e2e server (scripts/e2e-server.sh) seeds an approved library with scripts/e2e-seed-library.ts:
  * nylon 6,6 and polyester (PET) fibres with real reference spectra from ../shared/reference-data
@@ -57,13 +58,27 @@ async function registerLot(
   const materialSelect = page.getByLabel('Material grade');
   const option = materialSelect.locator('option', { hasText: material });
   await materialSelect.selectOption({ value: (await option.getAttribute('value')) ?? '' });
-  await page.getByLabel('Supplier', { exact: true }).fill('Harrowgate Fibre Supply');
+  const supplier = page.getByLabel('Supplier (approved source)');
+  const supplierOption = supplier.locator('option', { hasText: 'Harrowgate Fibre Supply' });
+  await expect(supplierOption).toHaveCount(1);
+  await supplier.selectOption({ value: (await supplierOption.getAttribute('value')) ?? '' });
   await page.getByLabel("Supplier's lot number").fill(`HF-${Date.now().toString(36).toUpperCase()}`);
   await page.getByLabel('Number of containers').fill(String(containers));
   await page.getByRole('button', { name: 'Register lot and create labels' }).click();
   const lotNumber = (await page.getByTestId('lot-number').textContent({ timeout: 20_000 }))!.trim();
   expect(lotNumber).toMatch(/^L-\d{4}-\d{5}$/);
   return { lotNumber, url: page.url() };
+}
+
+/** Sampling precedes testing: the signed line clearance, then the signed sampling record of every container. */
+async function sampleLot(page: Page, username: string) {
+  await page.getByRole('button', { name: 'Sign line clearance' }).click();
+  await sign(page, username, 'Sign line clearance');
+  await page.getByLabel('Sampling tool').fill('Stainless steel sampling spear SP-02');
+  await page.getByLabel('Reserve sample kept in').fill('Reserve store R2');
+  await page.getByRole('button', { name: 'Sign sampling record' }).click();
+  await sign(page, username, 'Sign sampling record');
+  await expect(page.getByTestId('sampling-record')).toBeVisible();
 }
 
 async function startTesting(page: Page) {
@@ -85,6 +100,7 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   const labels = await olga.request.get(url.replace(/\/lots\/(\d+).*/, '/api/lots/$1/labels.pdf'));
   expect(labels.headers()['content-type']).toBe('application/pdf');
 
+  await sampleLot(olga, 'olga');
   await startTesting(olga);
 
   // One at a time: the scanner types the label and Enter, then the file of that container.
@@ -147,6 +163,29 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   await expect(
     olga.getByRole('main').getByText(/^Identity certificate IC-\d{4}-\d+ issued|certificate is pending/),
   ).toBeVisible();
+
+  // QA disposition (issue 14): Quinn records the release check and releases the lot with a signature;
+  // every container then shows RELEASED and its status label prints as a PDF.
+  const quinn = await signedIn(browser, 'quinn');
+  await expect(quinn.getByRole('link', { name: new RegExp(lotNumber) })).toBeVisible();
+  await quinn.goto(url);
+  await expect(quinn.getByTestId('condition-checks')).toContainText('Open');
+  await quinn.getByRole('button', { name: 'Conforms' }).click();
+  await quinn
+    .getByRole('dialog')
+    .getByLabel(/^Reference/)
+    .fill('CoA HF-7781');
+  await sign(quinn, 'quinn', 'Sign check');
+  await expect(quinn.getByTestId('condition-checks')).toContainText('Met');
+  await quinn.getByRole('button', { name: 'Release lot' }).click();
+  await sign(quinn, 'quinn', 'Sign as released');
+  await expect(quinn.getByTestId('disposition-decision')).toContainText(/Released by .* retest by \d{4}-\d{2}-\d{2}/);
+  for (const n of ['001', '002', '003'])
+    await expect(quinn.getByTestId(`container-status-${lotNumber}-${n}`)).toContainText('RELEASED');
+  const href = await quinn.getByTestId('status-labels').getAttribute('href');
+  const pdf = await quinn.request.get(href!);
+  expect(pdf.headers()['content-type']).toBe('application/pdf');
+  expect((await pdf.body()).subarray(0, 5).toString()).toBe('%PDF-');
 });
 
 test('a failing container opens an investigation with the library hint, and QA receives the e-mail', async ({
@@ -155,6 +194,7 @@ test('a failing container opens an investigation with the library hint, and QA r
   test.setTimeout(180_000);
   const olga = await signedIn(browser, 'olga');
   const { lotNumber, url } = await registerLot(olga, NYLON, 2);
+  await sampleLot(olga, 'olga');
   await startTesting(olga);
   // container 002 holds polyester: a real mix-up
   await olga.getByRole('tab', { name: 'Several files' }).click();

@@ -15,6 +15,7 @@ const E2E_LIBRARY = {
   nylon: { code: 'E2E-NY66', name: 'Nylon 6,6 staple fibre' },
   pet: { code: 'E2E-PET', name: 'Polyester (PET) staple fibre' },
   instrument: 'ATR bench E2E-1',
+  supplier: { code: 'SUP-E2E', name: 'Harrowgate Fibre Supply' },
 };
 
 async function main(): Promise<void> {
@@ -40,6 +41,66 @@ async function main(): Promise<void> {
       referenceFiles: [FIBRES.petReference],
       author,
     });
+  // Supplier master and material profile (issue 14): one qualified supplier of both fibres, sampled
+  // container by container, and release checks for nylon; each row signed by the demo QA manager.
+  if (!(await db('supplier').where({ code: E2E_LIBRARY.supplier.code }).first())) {
+    const now = new Date();
+    const signature = async (entityType: string, entityId: number, meaning: string) =>
+      (
+        await db('e_signature').insert({
+          user_id: qa.id,
+          printed_name: qa.fullName,
+          meaning,
+          entity_type: entityType,
+          entity_id: String(entityId),
+          content_hash: '0'.repeat(64),
+          statement: 'browser test fixture',
+          signed_at: now,
+        })
+      )[0] as number;
+    const [supplierId] = await db('supplier').insert({
+      ...E2E_LIBRARY.supplier,
+      kind: 'supplier',
+      created_by: qa.id,
+      created_at: now,
+    });
+    for (const code of [E2E_LIBRARY.nylon.code, E2E_LIBRARY.pet.code]) {
+      const m = await db('material').where({ code }).first();
+      const [sourceId] = await db('material_source').insert({
+        material_id: m.id,
+        supplier_id: supplierId,
+        manufacturer_id: null,
+        manufacturer_key: 0,
+        created_by: qa.id,
+        created_at: now,
+      });
+      await db('source_status').insert({
+        source_id: sourceId,
+        status: 'qualified',
+        sampling_plan: 'every-container',
+        effective_from: now.toISOString().slice(0, 10),
+        reason: 'browser test fixture',
+        signature_id: await signature('material_source', sourceId, 'source-status-set'),
+        set_by: qa.id,
+        set_at: now,
+      });
+    }
+    const nylon = await db('material').where({ code: E2E_LIBRARY.nylon.code }).first();
+    await db('material_profile').insert({
+      material_id: nylon.id,
+      version: 1,
+      retest_months: 24,
+      shelf_life_months: 36,
+      risk_class: 'medium',
+      checks: JSON.stringify([
+        { key: 'coa-review', kind: 'coa-review', label: 'CoA reviewed against the specification' },
+      ]),
+      reason: 'browser test fixture',
+      signature_id: await signature('material', nylon.id, 'material-profile-approved'),
+      created_by: qa.id,
+      created_at: now,
+    });
+  }
   if (!(await db('instrument').where({ name: E2E_LIBRARY.instrument }).first()))
     await seedInstrument(db, qa, { name: E2E_LIBRARY.instrument, state: 'valid', location: 'Warehouse goods-in' });
 }

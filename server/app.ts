@@ -27,6 +27,13 @@ import { testingRoutes } from './modules/testing/routes';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { archiveRoutes } from './modules/archive/routes';
+import { supplierRoutes } from './modules/suppliers/routes';
+import { dispositionRoutes } from './modules/disposition/routes';
+import { samplingRoutes } from './modules/sampling/routes';
+import { integrationRoutes } from './modules/integration/routes';
+import { machineTokenMiddleware } from './modules/integration/tokens';
+import { startWebhookJob } from './modules/integration/outbox';
+import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
@@ -76,6 +83,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
   app.use(cookieParser());
   app.use('/api', originCheck(config));
   app.use('/api', sessionMiddleware(config));
+  app.use('/api', machineTokenMiddleware());
 
   // Module routers: each declares its routes through server/lib/http.ts (validation, roles, OpenAPI).
   const routers = [
@@ -91,11 +99,17 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     testingRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
+    supplierRoutes(),
+    dispositionRoutes(config),
+    integrationRoutes(config),
+    samplingRoutes(config),
     trendingRoutes(),
     auditReviewRoutes(config),
     archiveRoutes(config),
   ];
   for (const r of routers) app.use(r);
+
+  app.use(apiReferenceRoutes());
 
   app.use('/api', (req, res) => {
     res
@@ -119,6 +133,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       await initMail(config);
       startMailWorker(getDb());
       startIntegrityJob(getDb(), config.integritySweepHours);
+      startWebhookJob(getDb());
       startTrendJob(getDb());
       startCertificateRetryJob(getDb(), config);
       // the local fake time-stamping authority of development and tests (docs/certificates.md)

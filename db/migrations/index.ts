@@ -19,10 +19,15 @@ import * as m100 from './100_provenance';
 import * as m110 from './110_method_control';
 import * as m120 from './120_certificate_numbers';
 import * as m121 from './121_audit_anchor';
+import * as m130 from './130_mail_claim';
+import * as m140 from './140_suppliers';
+import * as m141 from './141_material_profile';
+import * as m142 from './142_sampling';
+import * as m143 from './143_disposition';
+import * as m144 from './144_integration';
 import * as m150 from './150_trending';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
-import * as m130 from './130_mail_claim';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -45,10 +50,15 @@ export const migrations: [string, Migration][] = [
   ['110_method_control', m110],
   ['120_certificate_numbers', m120],
   ['121_audit_anchor', m121],
+  ['130_mail_claim', m130],
+  ['140_suppliers', m140],
+  ['141_material_profile', m141],
+  ['142_sampling', m142],
+  ['143_disposition', m143],
+  ['144_integration', m144],
   ['150_trending', m150],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
-  ['130_mail_claim', m130],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -103,6 +113,16 @@ export const appendOnlyTables = [
   'instrument_service_event',
   'check_impact_measurement',
   'check_impact_notice',
+  'supplier',
+  'material_source',
+  'source_status',
+  'material_profile',
+  'line_clearance',
+  'sampling_record',
+  'sampled_container',
+  'container_status',
+  'lot_check',
+  'lot_disposition',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
@@ -120,6 +140,8 @@ export const guardedTables = [
   'certificate_counter',
   'trend_signal',
   'check_impact_assessment',
+  'machine_account',
+  'webhook_endpoint',
 ];
 
 /** State that is not a GMP record: the runtime account may change and delete it. */
@@ -131,6 +153,8 @@ export const operationalTables: Record<string, string> = {
   integrity_run:
     'progress counters of an integrity sweep; its findings are append-only alerts and its start and end are audit events',
   audit_chain_run: 'progress counters of a full audit chain check; its request and its result are audit events',
+  webhook_delivery:
+    'outbox of webhook deliveries (attempts, back-off, delivery state); the GMP event that caused each is in the audit trail',
   sign_in_rate:
     'per-address sign-in counters of the rate limit (shared by all app servers); refused attempts are audit events',
 };

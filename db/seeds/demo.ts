@@ -30,6 +30,7 @@ import { MATERIALS, materialByKey } from '../../fixtures/band-lists';
 import {
   DEMO_INSTRUMENTS,
   DEMO_LOTS,
+  DEMO_SUPPLIERS,
   DRAFT_REFERENCE_MATERIAL,
   type DemoSpectrum,
   demoSpectra,
@@ -251,6 +252,7 @@ interface LotDetail {
   id: number;
   lotNumber: string;
   containers: { id: number; seq: number; label: string }[];
+  source: { sampleCount: number | null };
 }
 
 /** Files of a lot's containers, by container number (the poor-contact file kept apart). */
@@ -287,12 +289,130 @@ const PHASE1_NO_LAB_ERROR = {
   },
 };
 
-async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<string, number>> {
+/** Olga clears sampling booth 1 for the lot and samples the containers its plan asks for (all, or 1 + √N). */
+async function sample(olga: DemoSession, lot: LotDetail, receivedDaysAgo: number): Promise<void> {
+  const clear = await olga.post<{ clearances: { id: number }[] }>(`/api/lots/${lot.id}/line-clearance`, {
+    area: 'Sampling booth 1 (warehouse, down-flow)',
+    previousUse: 'Empty; cleaned after the previous lot',
+    signature: olga.sig(),
+  });
+  const n = lot.source.sampleCount ?? lot.containers.length;
+  void receivedDaysAgo; // sampled now: the booth was cleared just before
+  await olga.post(`/api/lots/${lot.id}/sampling`, {
+    lineClearanceId: clear.clearances.at(-1)!.id,
+    sampledAt: new Date().toISOString(),
+    tool: 'Stainless steel sampling spear SP-02, cleaned and dried',
+    containers: lot.containers
+      .slice(0, n)
+      .map((c) => ({ containerId: c.id, opened: true, sampled: true, resealed: true })),
+    reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, cabinet R2' },
+    signature: olga.sig(),
+  });
+}
+
+/** Demo-only suppliers beyond those of the demo lots: one blocked, one conditional, one new. */
+export const DEMO_EXTRA_SOURCES = [
+  {
+    supplier: 'Brackwater Trading (broker)',
+    material: 'lactose-monohydrate',
+    status: 'blocked' as const,
+    reason: 'Broker could not name the manufacturing site of its last delivery; blocked pending audit.',
+  },
+  {
+    supplier: 'Oskarsfeld Chemie',
+    material: 'paracetamol',
+    status: 'conditional' as const,
+    conditions:
+      'Certificate of analysis reviewed against the specification for every lot until the audit of March closes.',
+    reason: 'Questionnaire accepted; on-site audit scheduled.',
+  },
+  {
+    supplier: 'Veltmoor Minerals',
+    material: 'maize-starch',
+    status: 'new' as const,
+    reason: 'Second source under evaluation.',
+  },
+];
+
+/** The justification of the demo's one reduced sampling plan (QA's validation record, invented). */
+export const DEMO_REDUCED_PLAN = {
+  supplier: DEMO_SUPPLIERS.quellmoor,
+  material: 'lactose-monohydrate',
+  justification:
+    'Validated reduced sampling (VAL-SAM-014): manufacturer-sealed bags direct from the producing site, audited 2025, ' +
+    '36 consecutive lots concordant on every container; dedicated product, no broker.',
+};
+
+/**
+ * The supplier master: every supplier of the demo lots is recorded by QA and approved as a source
+ * of its grades (qualified, every container sampled; one reduced plan with its justification), and
+ * three sources in the other states.
+ */
+async function seedSuppliers(p: People, ids: DemoIds, log: Log): Promise<Map<string, number>> {
+  const supplierIds = new Map<string, number>();
+  const sup = async (name: string) => {
+    if (!supplierIds.has(name)) {
+      const s = await p.quinn.post<{ id: number }>('/api/suppliers', {
+        name,
+        kind: 'supplier',
+        signature: p.quinn.sig(),
+      });
+      supplierIds.set(name, s.id);
+    }
+    return supplierIds.get(name)!;
+  };
+  const source = async (material: string, supplier: string, reason: string) =>
+    p.quinn.post<{ id: number }>('/api/sources', {
+      materialId: ids.materials[material],
+      supplierId: await sup(supplier),
+      reason,
+      signature: p.quinn.sig(),
+    });
+  const today = daysAgo(60);
+  const pairs = [...new Set(DEMO_LOTS.map((l) => `${l.material}|${l.supplier}`))];
+  for (const pair of pairs) {
+    const [material, supplier] = pair.split('|');
+    const src = await source(material, supplier, 'Long-standing supplier of this grade.');
+    const reduced = material === DEMO_REDUCED_PLAN.material && supplier === DEMO_REDUCED_PLAN.supplier;
+    await p.quinn.post(`/api/sources/${src.id}/status`, {
+      status: 'qualified',
+      samplingPlan: reduced ? 'sqrt-n-plus-1' : 'every-container',
+      samplingJustification: reduced ? DEMO_REDUCED_PLAN.justification : null,
+      effectiveFrom: today,
+      reviewBy: null,
+      reason: 'Supplier audit passed; quality agreement signed.',
+      signature: p.quinn.sig(),
+    });
+  }
+  for (const x of DEMO_EXTRA_SOURCES) {
+    const src = await source(x.material, x.supplier, x.reason);
+    if (x.status === 'new') continue;
+    await p.quinn.post(`/api/sources/${src.id}/status`, {
+      status: x.status,
+      conditions: 'conditions' in x ? x.conditions : null,
+      samplingPlan: 'every-container',
+      effectiveFrom: today,
+      reason: x.reason,
+      signature: p.quinn.sig(),
+    });
+  }
+  log(
+    `${supplierIds.size} suppliers, ${pairs.length + DEMO_EXTRA_SOURCES.length} sources (qualified, conditional, blocked, new)`,
+  );
+  return supplierIds;
+}
+
+async function seedLots(
+  p: People,
+  ids: DemoIds,
+  supplierIds: Map<string, number>,
+  log: Log,
+): Promise<Record<string, number>> {
   const lotIds: Record<string, number> = {};
   for (const l of DEMO_LOTS) {
     const lot = await p.olga.post<LotDetail>('/api/lots', {
       materialId: ids.materials[l.material],
-      supplier: l.supplier,
+      supplierId: supplierIds.get(l.supplier),
       supplierLot: l.supplierLot,
       containerCount: l.containers,
       receivedDate: daysAgo(l.receivedDaysAgo),
@@ -302,6 +422,7 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
           : (l.notes ?? null),
     });
     lotIds[l.key] = lot.id;
+    await sample(p.olga, lot, l.receivedDaysAgo);
     if (l.state === 'awaiting-testing') continue;
 
     // Who does the work: Dana performs the paracetamol test (and verifies the citric acid
@@ -355,6 +476,77 @@ async function seedLots(p: People, ids: DemoIds, log: Log): Promise<Record<strin
   }
   log(`${DEMO_LOTS.length} lots: ${DEMO_LOTS.map((l) => `${l.key} ${l.state}`).join(', ')}`);
   return lotIds;
+}
+
+/** The release checks of every demo grade (QA's material master for disposition). */
+const DEMO_CHECKS = [
+  {
+    key: 'coa-review',
+    kind: 'coa-review',
+    label: "Supplier's certificate of analysis reviewed against the specification",
+  },
+  { key: 'appearance', kind: 'appearance', label: 'Appearance of the sampled material as specified' },
+];
+
+/**
+ * Disposition: QA approves a profile for every grade; for lot A (identity passed) Irene records the
+ * checks and Quinn releases it; a reduced-plan lot of lactose (12 bags, 5 sampled); the ERP link:
+ * Adam makes a machine account and a webhook to the local fake receiver (port 8090).
+ */
+async function seedDisposition(
+  p: People & { adam: DemoSession },
+  ids: DemoIds,
+  supplierIds: Map<string, number>,
+  lots: Record<string, number>,
+  log: Log,
+): Promise<void> {
+  for (const [key, id] of Object.entries(ids.materials))
+    await p.quinn.post(`/api/material-profiles/${id}`, {
+      retestMonths: key === 'magnesium-stearate' ? 12 : 24,
+      shelfLifeMonths: 36,
+      riskClass: key === 'paracetamol' ? 'high' : 'medium',
+      checks: DEMO_CHECKS,
+      reason: 'Release checks of the site specification (demo).',
+      signature: p.quinn.sig(),
+    });
+  const a = lots.A;
+  await p.irene.post(`/api/lots/${a}/checks`, {
+    checkKey: 'coa-review',
+    outcome: 'conforms',
+    reference: 'Supplier CoA QX-24-1187, checked against SPEC-LAC-03',
+    signature: p.irene.sig(),
+  });
+  await p.irene.post(`/api/lots/${a}/checks`, {
+    checkKey: 'appearance',
+    outcome: 'conforms',
+    signature: p.irene.sig(),
+  });
+  await p.quinn.post(`/api/lots/${a}/release`, {
+    comment: 'Identity of every container confirmed and verified; CoA and appearance conform.',
+    signature: p.quinn.sig(),
+  });
+  const reduced = await p.olga.post<LotDetail>('/api/lots', {
+    materialId: ids.materials[DEMO_REDUCED_PLAN.material],
+    supplierId: supplierIds.get(DEMO_REDUCED_PLAN.supplier),
+    supplierLot: 'QX-24-1302',
+    containerCount: 12,
+    receivedDate: daysAgo(1),
+    notes: 'Twelve sealed bags direct from the producer.',
+  });
+  await sample(p.olga, reduced, 1);
+  const erp = await p.adam.post<{ token: string; name: string }>('/api/machine-accounts', {
+    name: 'ERP (demo)',
+    scopes: ['lots:receive', 'lots:read'],
+    reason: 'Goods receipt and results for the demo ERP.',
+  });
+  await p.adam.post('/api/webhooks', {
+    name: 'Demo ERP (local fake receiver)',
+    url: 'http://127.0.0.1:8090/hooks',
+    events: ['lot.received', 'lot.identity-passed', 'lot.identity-failed', 'lot.released', 'lot.rejected'],
+  });
+  log(
+    `disposition: profiles for ${Object.keys(ids.materials).length} grades, lot A released, lot ${reduced.lotNumber} sampled under the reduced plan (5 of 12); machine account "${erp.name}" (token, shown once: ${erp.token}); webhook to http://127.0.0.1:8090/hooks`,
+  );
 }
 
 /** A new hire whose account the administrator created; the temporary password is random and not published. */
@@ -492,9 +684,11 @@ export async function seedDemoSite(
     const ids: DemoIds = { materials: {}, methods: {}, instruments: {}, references: {} };
     await seedInstruments(p, ids, log);
     await seedLibrary(p, ids, log);
-    const lots = await seedLots(p, ids, log);
+    const supplierIds = await seedSuppliers(p, ids, log);
+    const lots = await seedLots(p, ids, supplierIds, log);
     await seedTrendDemo(db, p, ids, log);
     const adam = await signIn('adam');
+    await seedDisposition({ ...p, adam }, ids, supplierIds, lots, log);
     await seedRoleRequest(adam, log);
     await seedNewHire(adam, log);
     return { seeded: true, ids: { ...ids, lots } };

@@ -24,7 +24,18 @@ export interface AuthUser {
   signedOnce: boolean;
 }
 
-export type Access = 'public' | 'authenticated' | { roles: readonly Role[] };
+/** A machine account (ERP, LIMS) calling with its API token (server/modules/integration/tokens.ts). */
+export interface MachineUser {
+  id: number;
+  name: string;
+  scopes: string[];
+}
+
+/**
+ * Who may call a route: anyone, any signed-in person, the named roles, or a machine account whose
+ * token holds the scope (a person's session never reaches a machine route).
+ */
+export type Access = 'public' | 'authenticated' | { roles: readonly Role[] } | { machine: string };
 export type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';
 
 export interface RouteDef<
@@ -65,6 +76,8 @@ export interface Ctx<B, Q, P> {
   query: Q;
   params: P;
   ip: string | null;
+  /** Set on machine routes: the calling machine account. */
+  machine?: MachineUser;
 }
 
 export const routeRegistry: RouteDef[] = [];
@@ -85,10 +98,26 @@ export function defineRoute<B extends z.ZodType, Q extends z.ZodType, P extends 
     const user = _res.locals.user as AuthUser | undefined;
     if (def.access === 'public') return next();
     if (def.machineAccess?.(req)) return next();
+    if (typeof def.access === 'object' && 'machine' in def.access) {
+      const machine = _res.locals.machine as MachineUser | undefined;
+      if (!machine)
+        return next(
+          user
+            ? forbidden('This route is for machine accounts (ERP, LIMS) with an API token, not for a signed-in person.')
+            : new AppError(401, 'UNAUTHENTICATED', 'Send the machine token as "Authorization: Bearer dl_...".'),
+        );
+      if (!machine.scopes.includes(def.access.machine))
+        return next(forbidden(`This machine token does not hold the scope ${def.access.machine}.`));
+      return next();
+    }
     if (!user) return next(unauthorized());
     if (user.mustChangePassword && !def.allowDuringPasswordChange)
       return next(new AppError(403, 'PASSWORD_CHANGE_REQUIRED', 'Change your password before you continue.'));
-    if (def.access !== 'authenticated' && !def.access.roles.some((r) => user.roles.includes(r)))
+    if (
+      def.access !== 'authenticated' &&
+      'roles' in def.access &&
+      !def.access.roles.some((r) => user.roles.includes(r))
+    )
       return next(forbidden(`This needs the role ${def.access.roles.join(' or ')}.`));
     next();
   };
@@ -103,6 +132,7 @@ export function defineRoute<B extends z.ZodType, Q extends z.ZodType, P extends 
         res,
         user,
         actor: user ? { id: user.id, name: user.fullName } : { id: null, name: 'anonymous' },
+        machine: res.locals.machine as MachineUser | undefined,
         body,
         query,
         params,

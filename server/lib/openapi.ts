@@ -20,7 +20,9 @@ export function buildOpenApi(): object {
         ? 'public'
         : def.access === 'authenticated'
           ? 'any signed-in user'
-          : def.access.roles.join(', ');
+          : 'machine' in def.access
+            ? `machine account (Authorization: Bearer token) with the scope ${def.access.machine}`
+            : def.access.roles.join(', ');
     const request: Record<string, unknown> = {};
     if (def.params) request.params = def.params;
     if (def.query) request.query = def.query;
@@ -55,7 +57,12 @@ export function buildOpenApi(): object {
         403: { description: 'Role not allowed', content: { 'application/json': { schema: Err } } },
       },
       ...({
-        'x-roles': def.access === 'public' || def.access === 'authenticated' ? [def.access] : [...def.access.roles],
+        'x-roles':
+          def.access === 'public' || def.access === 'authenticated'
+            ? [def.access]
+            : 'machine' in def.access
+              ? [`machine:${def.access.machine}`]
+              : [...def.access.roles],
       } as object),
     });
   }
@@ -66,7 +73,10 @@ export function buildOpenApi(): object {
       version: '1.0.0',
       description:
         'REST API of Drumline. JSON in and out; errors as { "error": { "code", "message", "details" } }. ' +
-        'Sign in with POST /api/auth/sign-in; the session travels in an httpOnly cookie.',
+        'Sign in with POST /api/auth/sign-in; the session travels in an httpOnly cookie. Machine accounts (ERP, LIMS) ' +
+        'send their API token as "Authorization: Bearer dl_..." and reach only the routes of their scopes; webhooks ' +
+        'are signed after the Standard Webhooks scheme (HMAC-SHA256 over id.timestamp.body, headers webhook-id, ' +
+        'webhook-timestamp, webhook-signature).',
     },
   });
 }

@@ -8,10 +8,13 @@
 import type { ComponentType } from 'react';
 import type { Role } from '../lib/roles';
 import {
-  BlockedContainersWidget,
-  CertificatesToIssueWidget,
+  LotsAwaitingDispositionWidget,
+  LotsToSampleWidget,
   LotsToTestWidget,
   OpenInvestigationsWidget,
+  RetestsDueWidget,
+  BlockedContainersWidget,
+  CertificatesToIssueWidget,
   TestsToVerifyWidget,
 } from '../routes/testing-widgets';
 import {
@@ -76,7 +79,28 @@ export const workQueueWidgets: WorkQueueWidget[] = [
     order: 30,
     Component: ReferencesAwaitingApprovalWidget,
   },
+  {
+    id: 'testing.lots-to-sample',
+    title: 'Lots to sample',
+    roles: ['operator'],
+    order: 0,
+    Component: LotsToSampleWidget,
+  },
   { id: 'testing.lots-to-test', title: 'Lots to test', roles: ['operator'], order: 1, Component: LotsToTestWidget },
+  {
+    id: 'disposition.awaiting',
+    title: 'Lots awaiting disposition',
+    roles: ['qa_manager'],
+    order: 15,
+    Component: LotsAwaitingDispositionWidget,
+  },
+  {
+    id: 'disposition.retests',
+    title: 'Retest dates within 30 days',
+    roles: ['qa_manager'],
+    order: 16,
+    Component: RetestsDueWidget,
+  },
   { id: 'testing.to-verify', title: 'Tests to verify', roles: ['verifier'], order: 2, Component: TestsToVerifyWidget },
   {
     id: 'testing.blocked-containers',

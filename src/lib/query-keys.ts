@@ -80,6 +80,23 @@ export const qk = {
     runs: ['integrity', 'runs'] as const,
     record: (type: string, id: number) => ['integrity', 'record', type, id] as const,
   },
+  suppliers: {
+    all: ['suppliers'] as const,
+    list: ['suppliers', 'list'] as const,
+    sources: (materialId: number | null) => ['suppliers', 'sources', materialId] as const,
+  },
+  disposition: {
+    all: ['disposition'] as const,
+    lot: (lotId: number) => ['disposition', 'lot', lotId] as const,
+    profile: (materialId: number) => ['disposition', 'profile', materialId] as const,
+    profiles: ['disposition', 'profiles'] as const,
+  },
+  integration: {
+    all: ['integration'] as const,
+    accounts: ['integration', 'accounts'] as const,
+    webhooks: ['integration', 'webhooks'] as const,
+    deliveries: ['integration', 'deliveries'] as const,
+  },
   trending: {
     all: ['trending'] as const,
     methods: ['trending', 'methods'] as const,

@@ -17,6 +17,8 @@ import { IdentityStatusBadge, LotStatusText } from '../features/testing/componen
 import { InstrumentPicker } from '../features/testing/components/InstrumentPicker';
 import { SignatureList } from '../features/testing/components/Signatures';
 import { TestBench } from '../features/testing/components/TestBench';
+import { DispositionPanel } from '../features/disposition/components/DispositionPanel';
+import { SamplingPanel } from '../features/disposition/components/SamplingPanel';
 
 const TEST_STATUS: Record<string, string> = {
   'in-progress': 'In progress',
@@ -72,6 +74,7 @@ export default function LotPage() {
   const { user } = useSession();
   const isOperator = useHasRole('operator');
   const isVerifier = useHasRole('verifier');
+  const isQa = useHasRole('qa_manager');
   const canSeeTrail = useHasRole('auditor', 'qa_manager', 'admin');
   const q = useLot(id);
   if (q.isPending) return <PageLoading />;
@@ -81,6 +84,7 @@ export default function LotPage() {
   const canStart =
     isOperator &&
     lot.status === 'quarantine' &&
+    lot.sampledAt !== null &&
     !current &&
     ['awaiting-testing', 'testing', 'retest-authorised'].includes(lot.identityStatus);
   return (
@@ -100,7 +104,7 @@ export default function LotPage() {
             <LotStatusText status={lot.status} />
           </span>
         }
-        subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}`}
+        subtitle={`${lot.material.name} (${lot.material.code}) · ${lot.supplier}${lot.manufacturer ? ` (made by ${lot.manufacturer.name})` : ''}, supplier lot ${lot.supplierLot} · ${lot.containerCount} container(s) · received ${lot.receivedDate}${lot.source.firstDelivery ? ' · first delivery from a new source' : ''}`}
         actions={
           <>
             <RecordHistory
@@ -124,6 +128,9 @@ export default function LotPage() {
       <LotImpactNotices lotId={lot.id} />
       <div className="mb-5 flex flex-col gap-2">
         {lot.notes && <p className="text-sm">Notes: {lot.notes}</p>}
+        {lot.source.conditions && (
+          <p className="text-sm text-amber-ink">Conditional source. QA's conditions: {lot.source.conditions}</p>
+        )}
         <p className="text-sm text-muted">
           Registered by {lot.createdBy.name}, <DateTime value={lot.createdAt} />.
         </p>
@@ -144,6 +151,7 @@ export default function LotPage() {
         ))}
       </div>
 
+      <SamplingPanel lotId={lot.id} me={user} canSample={isOperator && lot.status === 'quarantine'} />
       {canStart && <StartAttempt lot={lot} />}
       {current?.status === 'in-progress' &&
         (isOperator ? (
@@ -182,6 +190,7 @@ export default function LotPage() {
               data-testid={`lot-container-${c.label}`}
             >
               <span className="tabular-nums">{c.label}</span>
+              {!c.sampled && <span className="text-muted">not sampled</span>}
               {c.effective ? (
                 <Verdict verdict={c.effective.verdict} size="sm" />
               ) : (
@@ -194,6 +203,8 @@ export default function LotPage() {
           )}
         </div>
       </section>
+
+      <DispositionPanel lotId={lot.id} me={user} canRecord={isOperator || isQa} canDecide={isQa} />
 
       <section aria-labelledby="attempts" className="mt-6">
         <h2 id="attempts" className="mb-2 text-lg">

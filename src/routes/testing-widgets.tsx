@@ -1,6 +1,13 @@
 /** Work-queue widgets of testing and investigations (composed here: features do not import each other). */
 import { OpenInvestigationsList } from '../features/investigations/components/OpenInvestigationsWidget';
-import { CertificatesToIssueList, LotsToTestList, TestsToVerifyList } from '../features/testing/components/Widgets';
+import {
+  LotsAwaitingDispositionList,
+  LotsToSampleList,
+  LotsToTestList,
+  RetestsDueList,
+  TestsToVerifyList,
+} from '../features/testing/components/Widgets';
+import { CertificatesToIssueList } from '../features/testing/components/Widgets';
 import { BlockedContainersList } from '../features/testing/components/Provenance';
 import { useSession } from '../app/session';
 
@@ -14,6 +21,18 @@ export function TestsToVerifyWidget() {
 
 export function OpenInvestigationsWidget() {
   return <OpenInvestigationsList />;
+}
+
+export function LotsToSampleWidget() {
+  return <LotsToSampleList />;
+}
+
+export function LotsAwaitingDispositionWidget() {
+  return <LotsAwaitingDispositionList />;
+}
+
+export function RetestsDueWidget() {
+  return <RetestsDueList />;
 }
 
 export function BlockedContainersWidget() {

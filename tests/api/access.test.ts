@@ -15,7 +15,7 @@ import { routeRegistry } from '../../server/lib/http';
 import { agentFor, db, makeUser, testApp } from './helpers';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
-type Access = 'public' | 'signed in' | Role[];
+type Access = 'public' | 'signed in' | Role[] | `machine ${string}`;
 
 /** The route table of docs/access.md: "| `METHOD /api/...` | roles | why |". */
 function documented(): Map<string, Access> {
@@ -33,7 +33,9 @@ function documented(): Map<string, Access> {
         ? 'public'
         : roles === 'signed in'
           ? 'signed in'
-          : [...roles.matchAll(/`([a-z_]+)`/g)].map((x) => x[1] as Role),
+          : roles.startsWith('machine ')
+            ? (`machine ${/`([a-z:]+)`/.exec(roles)?.[1]}` as const)
+            : [...roles.matchAll(/`([a-z_]+)`/g)].map((x) => x[1] as Role),
     );
   }
   return out;
@@ -43,7 +45,13 @@ function declared(): Map<string, Access> {
   return new Map(
     routeRegistry.map((d) => [
       `${d.method} ${d.path}`,
-      d.access === 'public' ? 'public' : d.access === 'authenticated' ? 'signed in' : [...d.access.roles].sort(),
+      d.access === 'public'
+        ? 'public'
+        : d.access === 'authenticated'
+          ? 'signed in'
+          : 'machine' in d.access
+            ? (`machine ${d.access.machine}` as const)
+            : [...d.access.roles].sort(),
     ]),
   );
 }
@@ -118,7 +126,8 @@ describe('every route walked with no session and with each role', () => {
     );
     for (const key of keys) {
       const access = declared().get(key)!;
-      const may = access === 'public' || access === 'signed in' || access.includes(role);
+      // a machine route is never open to a person's session (403 for every role)
+      const may = access === 'public' || access === 'signed in' || (Array.isArray(access) && access.includes(role));
       const res = await call(agent, key);
       const forbidden = res.status === 403 && res.body?.error?.code === 'FORBIDDEN';
       if (res.status === 401) wrong.push(`${key} -> 401 (the session was lost)`);

@@ -22,7 +22,18 @@ import { loadConfig } from '../../server/lib/config';
 import { writeCheckpoint } from '../../server/modules/audit/anchor';
 import { raiseAlert } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
-import { approvedMaterial, FIBRES, instrumentWithCheck, retire, type ApprovedMaterial } from './fixtures-testing';
+import {
+  agent,
+  approvedMaterial,
+  FIBRES,
+  fixtureQaAgent,
+  receiveLot,
+  instrumentWithCheck,
+  profileFor,
+  retire,
+  supplierFor,
+  type ApprovedMaterial,
+} from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
 import { contentHash } from '../../server/lib/esign';
 import { methodSignedContent } from '../../server/modules/library/service';
@@ -41,6 +52,24 @@ beforeAll(async () => {
   owner = ownerDb();
   material = await approvedMaterial({ name: 'Nylon 6,6 (protection test)', referenceFiles: [FIBRES.nylon66Reference] });
   failedCheck = await instrumentWithCheck('failed');
+  // a supplier, a source of the material and its status history (supplier master, issue 14)
+  await supplierFor(material.materialId, { status: 'blocked' });
+  await profileFor(material.materialId);
+  // a sampled lot with a recorded check, rejected by QA: rows in the sampling and disposition tables
+  const sampler = await agent(['operator']);
+  const sampled = await receiveLot(sampler.agent, material.materialId, 1);
+  const qaDisp = await fixtureQaAgent();
+  const chk = await qaDisp.agent.post(`/api/lots/${sampled.id}/checks`).send({
+    checkKey: 'appearance',
+    outcome: 'does-not-conform',
+    signature: { username: qaDisp.user.username, password: qaDisp.user.password },
+  });
+  expect(chk.status).toBe(201);
+  const rej = await qaDisp.agent.post(`/api/lots/${sampled.id}/reject`).send({
+    reason: 'Appearance out of specification (protection test).',
+    signature: { username: qaDisp.user.username, password: qaDisp.user.password },
+  });
+  expect(rej.status).toBe(200);
   lot = await createPassedLot(db(), { containers: 2 });
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
@@ -98,6 +127,14 @@ beforeAll(async () => {
   await b.agent
     .post(`/api/users/role-changes/${req.body.pendingRoleChange.requestId}/decline`)
     .send({ reason: 'probe' });
+  // a machine account and a webhook endpoint (ERP link, issue 14)
+  await a.agent
+    .post('/api/machine-accounts')
+    .send({ name: 'Protection probe', scopes: ['lots:read'], reason: 'probe' });
+  const hook = await a.agent
+    .post('/api/webhooks')
+    .send({ name: 'Protection probe', url: 'https://erp.example.com/hooks', events: ['lot.released'] });
+  await a.agent.post(`/api/webhooks/${hook.body.id}/deactivate`);
   // an integrity alert (about a made-up finding) and its QA sign-off: rows in the integrity tables
   const qa = await agentFor(['qa_manager']);
   const file = await db()('stored_file').orderBy('id').first('id', 'sha256');
@@ -377,6 +414,16 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     integrity_alert: { column: 'found', value: '0'.repeat(64) },
     integrity_alert_record: { column: 'label', value: 'elsewhere' },
     integrity_signoff: { column: 'comment', value: 'rewritten' },
+    supplier: { column: 'name', value: 'Renamed Ltd' },
+    material_source: { column: 'manufacturer_key', value: 99 },
+    source_status: { column: 'status', value: 'qualified' },
+    material_profile: { column: 'retest_months', value: 120 },
+    line_clearance: { column: 'area', value: 'elsewhere' },
+    sampling_record: { column: 'tool', value: 'none' },
+    sampled_container: { column: 'note', value: 'never opened' },
+    container_status: { column: 'status', value: 'released' },
+    lot_check: { column: 'outcome', value: 'conforms' },
+    lot_disposition: { column: 'decision', value: 'released' },
     gate_override: { column: 'justification', value: 'rewritten' },
     gate_override_confirmation: { column: 'confirmed_at', value: new Date(0) },
     method_approval: { column: 'validation_sha256', value: '0'.repeat(64) },
@@ -577,8 +624,32 @@ describe('guarded records: never deleted, only the permitted changes', () => {
     await expect(
       db()('lot').where({ id: other.lotId }).update({ certificate_id: certificateId }),
     ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/certificate of this lot/) });
-    // the permitted change: a passed lot is released
-    await db()('lot').where({ id: lot.lotId }).update({ status: 'released' });
+    // a passed lot is released only through a release record of this lot (issue 14 item 5)
+    await expect(db()('lot').where({ id: lot.lotId }).update({ status: 'released' })).rejects.toMatchObject({
+      ...REFUSED,
+      sqlMessage: expect.stringMatching(/released only through a signed release record/),
+    });
+    const [sigId] = await db()('e_signature').insert({
+      user_id: lot.operator.id,
+      printed_name: 'probe',
+      meaning: 'released',
+      entity_type: 'lot',
+      entity_id: String(lot.lotId),
+      content_hash: '0'.repeat(64),
+      signed_at: new Date(),
+    });
+    const [dispositionId] = await db()('lot_disposition').insert({
+      lot_id: lot.lotId,
+      decision: 'released',
+      retest_date: '2030-01-01',
+      conditions: '[]',
+      signature_id: sigId,
+      decided_by: lot.operator.id,
+      decided_at: new Date(),
+    });
+    await db()('lot')
+      .where({ id: lot.lotId })
+      .update({ status: 'released', disposition_id: dispositionId, retest_date: '2030-01-01' });
     expect((await db()('lot').where({ id: lot.lotId }).first()).status).toBe('released');
   });
 

@@ -284,7 +284,7 @@ describe('demo seed', () => {
       olga: ['lots-to-test', 'instrument-checks-due'],
       victor: ['tests-to-verify'],
       dana: ['lots-to-test', 'tests-to-verify'],
-      quinn: ['open-investigations', 'references-to-approve', 'instrument-checks-due'],
+      quinn: ['open-investigations', 'lots-awaiting-disposition', 'references-to-approve', 'instrument-checks-due'],
     };
     for (const [username, keys] of Object.entries(expected)) {
       const agent = request.agent(app);
@@ -292,6 +292,34 @@ describe('demo seed', () => {
       const q = (await agent.get('/api/work-queue').expect(200)).body as { sections: { key: string; count: number }[] };
       for (const k of keys) expect(q.sections.find((s) => s.key === k)?.count, `${username} ${k}`).toBeGreaterThan(0);
     }
+  });
+
+  it('has suppliers in each status, a reduced-plan lot with its justification, lots awaiting disposition, a released and a rejected lot, a machine account and a webhook', async () => {
+    const statuses = await db('source_status as s')
+      .whereRaw('s.id = (SELECT MAX(x.id) FROM source_status x WHERE x.source_id = s.source_id)')
+      .select('s.status', 's.sampling_plan', 's.sampling_justification');
+    expect(new Set(statuses.map((x) => x.status))).toEqual(new Set(['new', 'qualified', 'conditional', 'blocked']));
+    const reducedSource = statuses.find((x) => x.sampling_plan === 'sqrt-n-plus-1');
+    expect(reducedSource?.sampling_justification).toMatch(/Validated reduced sampling/);
+    const reducedLot = await db('lot').where({ sampling_plan: 'sqrt-n-plus-1', container_count: 12 }).first();
+    expect(reducedLot.sample_count).toBe(5); // ceil(1 + sqrt(12)), WHO TRS 929 Annex 4, 5.1
+    expect(
+      await db('sampled_container as s')
+        .join('sampling_record as r', 'r.id', 's.sampling_record_id')
+        .where('r.lot_id', reducedLot.id),
+    ).toHaveLength(5);
+    // every lot that was tested was sampled first
+    const tested = await db('identity_test as t')
+      .join('lot as l', 'l.id', 't.lot_id')
+      .whereNotNull('l.sampling_plan')
+      .distinct('t.lot_id as lot_id');
+    for (const t of tested)
+      expect(await db('sampling_record').where({ lot_id: t.lot_id }).first(), `lot ${t.lot_id}`).toBeTruthy();
+    expect(await db('lot').where({ status: 'released' }).whereNotNull('retest_date')).toHaveLength(1);
+    expect((await db('lot').where({ status: 'rejected' })).length).toBeGreaterThan(0);
+    expect((await db('lot').where({ status: 'quarantine', identity_status: 'passed' })).length).toBeGreaterThan(0);
+    expect(await db('machine_account').whereNull('revoked_at')).toHaveLength(1);
+    expect((await db('webhook_endpoint').first()).url).toBe('http://127.0.0.1:8090/hooks');
   });
 
   it('holds a synthetic drifting history of 40 passed results with its open trend signals and a signed audit-trail review', async () => {

@@ -24,7 +24,7 @@ import {
   type SeededMaterial,
 } from '../../db/seeds/testing-library';
 import type { Role } from '../../server/lib/contract';
-import { agentFor, db, makeUser, uniqueName } from './helpers';
+import { agentFor, db, makeUser, sig, uniqueName } from './helpers';
 
 export { dataFile, distinctAcquisition, FIBRES, REFERENCE_DATA, type CheckState };
 export type ApprovedMaterial = SeededMaterial;
@@ -51,6 +51,9 @@ export async function account(roles: Role[]) {
 export async function retire(): Promise<void> {
   if (made.length) await db()('app_user').whereIn('id', made.splice(0)).update({ active: 0 });
   qaCache = null;
+  qaAgentCache = null;
+  samplerCache = null;
+  sourceCache.clear();
   authorCache = null;
 }
 
@@ -105,21 +108,138 @@ export async function instrumentWithCheck(
 
 type Agent = SupertestAgent;
 
+let qaAgentCache: Awaited<ReturnType<typeof agentFor>> | null = null;
+/** A QA manager signed in through the API, for the supplier master steps of the fixtures. */
+export async function fixtureQaAgent() {
+  if (!qaAgentCache) {
+    qaAgentCache = await agentFor(['qa_manager']);
+    made.push(qaAgentCache.user.id);
+  }
+  return qaAgentCache;
+}
+
+const sourceCache = new Map<number, number>();
+/**
+ * A supplier recorded by QA and approved as a source of the material with the given status
+ * (default: qualified, every container sampled), through the supplier-master API. Returns its id.
+ */
+export async function supplierFor(
+  materialId: number,
+  opts: {
+    status?: string;
+    samplingPlan?: string;
+    samplingJustification?: string;
+    conditions?: string;
+    fresh?: boolean;
+  } = {},
+): Promise<{ supplierId: number; sourceId: number }> {
+  if (!opts.fresh && !opts.status && sourceCache.has(materialId)) {
+    const sourceId = sourceCache.get(materialId)!;
+    const row = await db()('material_source').where({ id: sourceId }).first();
+    return { supplierId: row.supplier_id as number, sourceId };
+  }
+  const qa = await fixtureQaAgent();
+  const s = await qa.agent
+    .post('/api/suppliers')
+    .send({ name: uniqueName('Brightwater Fibres '), kind: 'supplier', signature: sig(qa.user) });
+  if (s.status !== 201) throw new Error(`supplier failed: ${s.status} ${JSON.stringify(s.body)}`);
+  const src = await qa.agent
+    .post('/api/sources')
+    .send({ materialId, supplierId: s.body.id, reason: 'approved for the tests', signature: sig(qa.user) });
+  if (src.status !== 201) throw new Error(`source failed: ${src.status} ${JSON.stringify(src.body)}`);
+  const status = opts.status ?? 'qualified';
+  if (status !== 'new') {
+    const st = await qa.agent.post(`/api/sources/${src.body.id}/status`).send({
+      status,
+      samplingPlan: opts.samplingPlan ?? 'every-container',
+      samplingJustification: opts.samplingJustification ?? null,
+      conditions: opts.conditions ?? null,
+      effectiveFrom: new Date().toISOString().slice(0, 10),
+      reason: `set to ${status} for the tests`,
+      signature: sig(qa.user),
+    });
+    if (st.status !== 200) throw new Error(`source status failed: ${st.status} ${JSON.stringify(st.body)}`);
+  }
+  if (!opts.status && !opts.fresh) sourceCache.set(materialId, src.body.id as number);
+  return { supplierId: s.body.id as number, sourceId: src.body.id as number };
+}
+
+/** A disposition profile of the material approved by the fixture QA manager (retest 24 months, CoA review and appearance). */
+export async function profileFor(
+  materialId: number,
+  checks: { key: string; kind: string; label: string }[] = [
+    { key: 'coa-review', kind: 'coa-review', label: 'CoA reviewed against the specification' },
+    { key: 'appearance', kind: 'appearance', label: 'Appearance as specified' },
+  ],
+) {
+  const qa = await fixtureQaAgent();
+  const res = await qa.agent.post(`/api/material-profiles/${materialId}`).send({
+    retestMonths: 24,
+    shelfLifeMonths: 36,
+    riskClass: 'medium',
+    checks,
+    reason: 'profile for the tests',
+    signature: sig(qa.user),
+  });
+  if (res.status !== 201) throw new Error(`profile failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body;
+}
+
+let samplerCache: Awaited<ReturnType<typeof agentFor>> | null = null;
+/** An operator who clears the booth and samples for the fixtures. */
+export async function fixtureSampler() {
+  if (!samplerCache) {
+    samplerCache = await agentFor(['operator']);
+    made.push(samplerCache.user.id);
+  }
+  return samplerCache;
+}
+
+/**
+ * Signed line clearance and sampling record of a lot (sampling precedes testing): the named
+ * containers, or as many as the lot's plan asks (every container, or the first 1 + sqrt(N)).
+ */
+export async function sampleLot(lotId: number, containerIds?: number[]) {
+  const s = await fixtureSampler();
+  const lot = (await s.agent.get(`/api/lots/${lotId}`)).body as {
+    containers: { id: number }[];
+    source: { sampleCount: number | null };
+  };
+  const clear = await s.agent
+    .post(`/api/lots/${lotId}/line-clearance`)
+    .send({ area: 'Sampling booth 1', previousUse: 'empty, cleaned', signature: sig(s.user) });
+  if (clear.status !== 201) throw new Error(`line clearance failed: ${clear.status} ${JSON.stringify(clear.body)}`);
+  const ids = containerIds ?? lot.containers.slice(0, lot.source.sampleCount ?? lot.containers.length).map((c) => c.id);
+  const res = await s.agent.post(`/api/lots/${lotId}/sampling`).send({
+    lineClearanceId: clear.body.clearances.at(-1).id,
+    sampledAt: new Date().toISOString(),
+    tool: 'stainless steel sampling spear ST-04, cleaned',
+    containers: ids.map((containerId) => ({ containerId, opened: true, sampled: true, resealed: true })),
+    reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, shelf R2' },
+    signature: sig(s.user),
+  });
+  if (res.status !== 201) throw new Error(`sampling failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body;
+}
+
 export async function receiveLot(
   agent: Agent,
   materialId: number,
   containerCount: number,
   extra: Record<string, unknown> = {},
 ) {
+  const { sample = true, ...rest } = extra;
+  const supplierId = rest.supplierId ?? (await supplierFor(materialId)).supplierId;
   const res = await agent.post('/api/lots').send({
     materialId,
-    supplier: 'Brightwater Fibres (invented)',
+    supplierId,
     supplierLot: 'SL-' + Math.random().toString(36).slice(2, 8).toUpperCase(),
     containerCount,
     receivedDate: new Date().toISOString().slice(0, 10),
-    ...extra,
+    ...rest,
   });
   if (res.status !== 201) throw new Error(`receipt failed: ${res.status} ${JSON.stringify(res.body)}`);
+  if (sample) await sampleLot(res.body.id as number);
   return res.body as { id: number; lotNumber: string; containers: { id: number; label: string; seq: number }[] };
 }
 

@@ -29,15 +29,18 @@ import {
   startTest,
   writeCounts,
   type ApprovedMaterial,
+  supplierFor,
 } from './fixtures-testing';
 import { bigSpectrumCsv } from './fixtures-big-upload';
 
 let nylon: ApprovedMaterial;
 let operator: Awaited<ReturnType<typeof agent>>;
 let instrumentId: number;
+let supplierId: number;
 
 beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 for input checks', referenceFiles: [FIBRES.nylon66Reference] });
+  ({ supplierId } = await supplierFor(nylon.materialId));
   operator = await agent(['operator']);
   ({ instrumentId } = await instrumentWithCheck('valid'));
 });
@@ -49,7 +52,7 @@ afterAll(async () => {
 
 const lotBody = (over: Record<string, unknown> = {}) => ({
   materialId: nylon.materialId,
-  supplier: 'Harrowgate Polymers (invented)',
+  supplierId,
   supplierLot: 'HP-2211',
   containerCount: 2,
   receivedDate: new Date().toISOString().slice(0, 10),
@@ -60,9 +63,9 @@ const lotCount = async () => Number((await db()('lot').count({ n: '*' }).first()
 
 describe('free text and dates (finding 11)', () => {
   it.each([
-    ['the right-to-left override U+202E', { supplier: 'Harrowgate \u202Eslyt\u202C Ltd' }, /U\+202E/],
+    ['the right-to-left override U+202E', { supplierLot: 'HP \u202Eslyt\u202C 11' }, /U\+202E/],
     ['a right-to-left isolate U+2067', { supplierLot: 'HP-\u20672211' }, /U\+2067/],
-    ['a BEL control character', { supplier: 'Harrowgate\u0007 Polymers' }, /U\+0007/],
+    ['a BEL control character', { supplierLot: 'HP\u0007 2211' }, /U\+0007/],
     ['a tab in a one-line field', { supplierLot: 'HP\t2211' }, /U\+0009/],
     ['an escape sequence in notes', { notes: 'ok \u001b[31mred\u001b[0m' }, /U\+001B/],
     ['a C1 control character in notes', { notes: 'next line\u0085here' }, /U\+0085/],

@@ -29,6 +29,7 @@ import {
   instrumentWithCheck,
   receiveLot,
   startTest,
+  supplierFor,
   upload,
   uploadRequest,
   writeCounts,
@@ -92,7 +93,7 @@ describe('lot receipt', () => {
     for (const id of [noMethod, noRef.materialId]) {
       const res = await operator.agent.post('/api/lots').send({
         materialId: id,
-        supplier: 'X Supplies',
+        supplierId: (await supplierFor(nylon.materialId)).supplierId,
         supplierLot: 'A1',
         containerCount: 2,
         receivedDate: '2026-01-05',
@@ -111,7 +112,7 @@ describe('lot receipt', () => {
   it('refuses 0 and 1000 containers, a future date, and non-operators', async () => {
     const base = {
       materialId: nylon.materialId,
-      supplier: 'X Supplies',
+      supplierId: (await supplierFor(nylon.materialId)).supplierId,
       supplierLot: 'A1',
       receivedDate: '2026-01-05',
     };
@@ -127,11 +128,12 @@ describe('lot receipt', () => {
   });
 
   it('gives 10 lots received at the same moment 10 different, consecutive numbers', async () => {
+    const { supplierId } = await supplierFor(nylon.materialId);
     const results = await Promise.all(
       Array.from({ length: 10 }, (_, i) =>
         operator.agent.post('/api/lots').send({
           materialId: nylon.materialId,
-          supplier: 'Parallel Ltd',
+          supplierId,
           supplierLot: `P${i}`,
           containerCount: 2,
           receivedDate: '2026-01-05',

@@ -9,6 +9,7 @@
  */
 import { parseJson, type Db } from '../../lib/db';
 import { conflict, notFound } from '../../lib/errors';
+import { sampledContainerIds } from '../sampling/service';
 import type { IdentityResult } from '../../spectra';
 import type { CertificateContent, ContainerLine, SignatureLine } from './contract';
 import * as repo from './repo';
@@ -76,8 +77,12 @@ export async function gatherContent(
     );
   const material = await repo.findMaterial(db, lot.material_id);
   if (!material) throw notFound('The material of the lot');
-  const containers = await repo.containersOf(db, lot.id);
-  if (containers.length === 0) throw conflict(`Lot ${lot.lot_number} has no containers.`);
+  const allContainers = await repo.containersOf(db, lot.id);
+  if (allContainers.length === 0) throw conflict(`Lot ${lot.lot_number} has no containers.`);
+  // Under a reduced sampling plan the certificate covers the sampled containers (and says so).
+  const sampled = await sampledContainerIds(db, lot.id);
+  const containers = sampled === null ? allContainers : allContainers.filter((c) => sampled.includes(c.id));
+  const reduced = lot.sampling_plan === 'sqrt-n-plus-1' && containers.length < allContainers.length;
 
   const tests = await repo.testsOf(db, lot.id);
   const test = tests.find((t) => t.id === input.testId);
@@ -183,7 +188,16 @@ export async function gatherContent(
       supplier: lot.supplier,
       supplierLot: lot.supplier_lot,
       receivedDate: dateOnly(lot.received_date),
-      containerCount: containers.length,
+      containerCount: allContainers.length,
+      ...(reduced
+        ? {
+            sampling: {
+              plan: 'sqrt-n-plus-1' as const,
+              sampledCount: containers.length,
+              sampledLabels: containers.map((c) => c.label),
+            },
+          }
+        : {}),
     },
     material: {
       id: material.id,

@@ -119,6 +119,11 @@ export interface CertificateContent {
     supplierLot: string;
     receivedDate: string; // YYYY-MM-DD
     containerCount: number;
+    /**
+     * Present only for a lot sampled under a validated reduced plan (issue 14 item 3): the
+     * certificate covers the sampled containers and says so.
+     */
+    sampling?: { plan: 'sqrt-n-plus-1'; sampledCount: number; sampledLabels: string[] };
   };
   material: { id: number; code: string; name: string; grade: string; monographRef: string };
   tests: { id: number; attempt: number }[];

@@ -92,7 +92,12 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
           { text: c.site.name, style: 'site' },
           ...(c.site.address ? [{ text: c.site.address, color: '#555555' } as Content] : []),
           { text: 'Identity certificate', style: 'h1', margin: [0, 8, 0, 0] },
-          { text: `Infrared identity test of every container of lot ${c.lot.lotNumber}`, color: '#333333' },
+          {
+            text: c.lot.sampling
+              ? `Infrared identity test of the ${c.lot.sampling.sampledCount} sampled containers (of ${c.lot.containerCount}) of lot ${c.lot.lotNumber}, validated reduced sampling plan`
+              : `Infrared identity test of every container of lot ${c.lot.lotNumber}`,
+            color: '#333333',
+          },
         ],
       },
       {
@@ -283,9 +288,16 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
   body.push({
     text: [
       { text: '✓ ', color: '#1d6b34', bold: true },
-      `All ${c.containers.length} containers of lot ${c.lot.lotNumber} conform to the identity method: every container passed and the test was verified by a second person.`,
+      c.lot.sampling
+        ? `All ${c.containers.length} sampled containers of lot ${c.lot.lotNumber} conform to the identity method: every sampled container passed and the test was verified by a second person.`
+        : `All ${c.containers.length} containers of lot ${c.lot.lotNumber} conform to the identity method: every container passed and the test was verified by a second person.`,
     ],
   });
+  if (c.lot.sampling)
+    body.push({
+      text: `Reduced sampling: ${c.lot.sampling.sampledCount} of ${c.lot.containerCount} containers were sampled and tested under the validated plan of 1 + √N containers (WHO TRS 929 Annex 4, 5.1; EU GMP Annex 8 para 2 requires the validation, recorded by QA with the supplier's qualification). This certificate states the identity of the sampled containers only: ${c.lot.sampling.sampledLabels.join(', ')}.`,
+      margin: [0, 4, 0, 0],
+    });
   body.push({ text: IDENTITY_ONLY_TEXT, margin: [0, 4, 0, 0] });
 
   body.push({

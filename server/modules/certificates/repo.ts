@@ -165,6 +165,7 @@ export interface LotRow {
   status: string;
   identity_status: string;
   certificate_id: number | null;
+  sampling_plan: 'every-container' | 'sqrt-n-plus-1' | null;
   updated_at: Date;
 }
 

@@ -18,6 +18,7 @@ import { enqueueMailToRole } from '../../lib/mail';
 import { pageLink } from '../lots/links';
 import { insertWithNextNumber, yearOf } from '../lots/numbering';
 import * as repo from './repo';
+import { setContainerStatus } from '../sampling/status';
 import type {
   ConfirmInput,
   FailingContainer,
@@ -64,6 +65,15 @@ export async function openInvestigation(
       closed_at: null,
       updated_at: now,
     }),
+  });
+  // The investigation holds the failing containers (issue 14 item 4).
+  await setContainerStatus(trx, {
+    lotId: input.lot.id,
+    containerIds: input.failing.map((f) => f.containerId),
+    status: 'blocked',
+    reason: `Held by investigation ${created.number}`,
+    userId: input.actor.id,
+    onlyWhereAllowed: true,
   });
   await appendAudit(trx, {
     actor: input.actor,
@@ -281,6 +291,15 @@ export async function invalidateResult(
       });
     const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
     await trx('lot').where({ id: inv.lotId }).update({ identity_status: 'retest-authorised', updated_at: now });
+    await setContainerStatus(trx, {
+      lotId: inv.lotId,
+      containerIds: inv.failing.map((f) => f.containerId),
+      status: 'sampled',
+      reason: `Released from hold by investigation ${inv.number}: result invalidated, retest authorised`,
+      signatureId: sig.id,
+      userId: user.id,
+      onlyWhereAllowed: true,
+    });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor,
@@ -365,6 +384,15 @@ export async function confirmFailure(
     await trx('lot')
       .where({ id: inv.lotId })
       .update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
+    await setContainerStatus(trx, {
+      lotId: inv.lotId,
+      containerIds: (await trx('container').where({ lot_id: inv.lotId }).select('id')).map((c) => c.id as number),
+      status: 'rejected',
+      reason: `Lot rejected: failure confirmed by investigation ${inv.number}`,
+      signatureId: sig.id,
+      userId: user.id,
+      onlyWhereAllowed: true,
+    });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor,

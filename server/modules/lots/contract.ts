@@ -12,7 +12,9 @@ export const MAX_CONTAINERS = 999;
 
 export const lotCreateSchema = z.object({
   materialId: z.number().int().positive('Choose the material grade.'),
-  supplier: singleLineText().min(2, 'Name the supplier.').max(160),
+  /** An approved source of the material (server/modules/suppliers): the supplier, and the manufacturer if named. */
+  supplierId: z.number().int().positive('Choose the supplier.'),
+  manufacturerId: z.number().int().positive().nullable().optional(),
   supplierLot: singleLineText().min(1, "Give the supplier's lot number.").max(80),
   containerCount: z
     .number()
@@ -79,14 +81,30 @@ export interface LotSummary {
   id: number;
   lotNumber: string;
   material: { id: number; code: string; name: string; grade: string };
+  /** The supplier's name as stored at receipt (lots before the supplier master keep their free text). */
   supplier: string;
+  /** The supplier master record (linked by migration 140 for older lots). */
+  supplierId: number | null;
+  manufacturer: { id: number; name: string } | null;
+  /** The source's qualification status at receipt, QA's conditions, the first-delivery flag and the sampling plan. */
+  source: {
+    id: number | null;
+    statusAtReceipt: 'new' | 'qualified' | 'conditional' | null;
+    conditions: string | null;
+    firstDelivery: boolean;
+    samplingPlan: 'every-container' | 'sqrt-n-plus-1' | null;
+    sampleCount: number | null;
+  };
   supplierLot: string;
   containerCount: number;
   receivedDate: string;
   notes: string | null;
   status: LotStatus;
   identityStatus: IdentityStatus;
+  /** The person who registered the lot; for a lot the ERP created, id 0 and the machine account named. */
   createdBy: PersonRef;
+  /** The ERP's goods-receipt number, for a lot the ERP created. */
+  erpReceiptNumber: string | null;
   createdAt: string;
   updatedAt: string;
 }
@@ -101,6 +119,10 @@ export interface LotContainer {
   current: { measurementId: number; verdict: MeasurementVerdict; matchScore: number | null } | null;
   currentInScope: boolean;
   measurements: number;
+  /** quarantine, sampled, released, rejected or blocked (server/modules/sampling/contract.ts). */
+  status: 'quarantine' | 'sampled' | 'released' | 'rejected' | 'blocked';
+  /** Sampled under the lot's sampling record (every container for a lot received before sampling records). */
+  sampled: boolean;
 }
 
 export interface LotTestSummary {
@@ -132,6 +154,8 @@ export type LotCertificateState =
 
 export interface LotDetail extends LotSummary {
   containers: LotContainer[];
+  /** The sampling record is signed (always true for a lot received before sampling records). */
+  sampledAt: string | null;
   tests: LotTestSummary[];
   currentTestId: number | null;
   investigations: LotInvestigation[];

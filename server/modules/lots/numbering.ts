@@ -35,6 +35,8 @@ export async function insertWithNextNumber<R extends object>(
       return { id: id as number, number };
     } catch (e) {
       if ((e as { code?: string }).code !== 'ER_DUP_ENTRY') throw e;
+      // another unique key of the row (e.g. an ERP receipt number) is not a number collision
+      if (!String((e as { sqlMessage?: string }).sqlMessage ?? '').includes(spec.column)) throw e;
     }
   }
   throw new Error(`could not allocate a number in ${spec.table} after 50 tries`);

@@ -7,13 +7,22 @@ export interface LotRow {
   lot_number: string;
   material_id: number;
   supplier: string;
+  supplier_id: number | null;
+  manufacturer_id: number | null;
+  source_id: number | null;
+  source_status: 'new' | 'qualified' | 'conditional' | null;
+  source_conditions: string | null;
+  first_delivery: number | boolean;
+  sampling_plan: 'every-container' | 'sqrt-n-plus-1' | null;
+  sample_count: number | null;
   supplier_lot: string;
   container_count: number;
   received_date: Date | string;
   notes: string | null;
   status: LotStatus;
   identity_status: IdentityStatus;
-  created_by: number;
+  created_by: number | null;
+  erp_receipt_number?: string | null;
   created_at: Date;
   updated_at: Date;
 }
@@ -25,7 +34,14 @@ export interface ContainerRow {
   label: string;
 }
 
-type LotJoined = LotRow & { m_code: string; m_name: string; m_grade: string; u_name: string };
+type LotJoined = LotRow & {
+  m_code: string;
+  m_name: string;
+  m_grade: string;
+  u_name: string | null;
+  mf_name: string | null;
+  ma_name: string | null;
+};
 
 /** DATE columns come back as a Date at UTC midnight (connection time zone Z). */
 export function dateOnly(v: Date | string): string {
@@ -39,13 +55,26 @@ export function toLotSummary(r: LotJoined): LotSummary {
     lotNumber: r.lot_number,
     material: { id: r.material_id, code: r.m_code, name: r.m_name, grade: r.m_grade },
     supplier: r.supplier,
+    supplierId: r.supplier_id,
+    manufacturer: r.manufacturer_id ? { id: r.manufacturer_id, name: r.mf_name ?? '' } : null,
+    source: {
+      id: r.source_id,
+      statusAtReceipt: r.source_status,
+      conditions: r.source_conditions,
+      firstDelivery: !!r.first_delivery,
+      samplingPlan: r.sampling_plan,
+      sampleCount: r.sample_count,
+    },
     supplierLot: r.supplier_lot,
     containerCount: r.container_count,
     receivedDate: dateOnly(r.received_date),
     notes: r.notes,
     status: r.status,
     identityStatus: r.identity_status,
-    createdBy: { id: r.created_by, name: r.u_name },
+    createdBy: r.created_by
+      ? { id: r.created_by, name: r.u_name ?? '' }
+      : { id: 0, name: `ERP interface (machine account ${r.ma_name ?? '?'})` },
+    erpReceiptNumber: r.erp_receipt_number ?? null,
     createdAt: new Date(r.created_at).toISOString(),
     updatedAt: new Date(r.updated_at).toISOString(),
   };
@@ -54,8 +83,18 @@ export function toLotSummary(r: LotJoined): LotSummary {
 export function lotQuery(db: Db) {
   return db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
-    .join('app_user as u', 'u.id', 'l.created_by')
-    .select('l.*', 'm.code as m_code', 'm.name as m_name', 'm.grade as m_grade', 'u.full_name as u_name');
+    .leftJoin('app_user as u', 'u.id', 'l.created_by')
+    .leftJoin('supplier as mf', 'mf.id', 'l.manufacturer_id')
+    .leftJoin('machine_account as ma', 'ma.id', 'l.erp_account_id')
+    .select(
+      'l.*',
+      'm.code as m_code',
+      'm.name as m_name',
+      'm.grade as m_grade',
+      'u.full_name as u_name',
+      'mf.name as mf_name',
+      'ma.name as ma_name',
+    );
 }
 
 export async function findLot(db: Db, id: number): Promise<LotSummary | undefined> {

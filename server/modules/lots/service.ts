@@ -11,10 +11,13 @@ import { formatSiteDate } from '../../lib/contract';
 import { AppError, notFound } from '../../lib/errors';
 import { signaturesFor } from '../../lib/esign';
 import * as inv from '../investigations/repo';
+import { scopesOf, underTest } from '../testing/context';
+import { currentStatuses } from '../sampling/status';
 import { irSuitabilityMap } from '../library/method-control';
-import { scopesOf } from '../testing/context';
 import { effectiveResults, latestByContainer } from '../testing/outcome';
 import * as testing from '../testing/repo';
+import { sourceForReceipt } from '../suppliers/service';
+import { enqueueEvent } from '../integration/outbox';
 import { insertWithNextNumber, yearOf } from './numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
@@ -78,6 +81,7 @@ export async function receiveLot(
   input: LotCreate,
   ip: string | null,
   siteTimeZone = 'UTC',
+  erp?: { accountId: number; receiptNumber: string },
 ): Promise<LotDetail> {
   const material = await db('material').where({ id: input.materialId }).first();
   if (!material || !material.active)
@@ -92,6 +96,14 @@ export async function receiveLot(
   const today = siteToday(siteTimeZone);
   if (input.receivedDate > today)
     throw new AppError(422, 'DATE_IN_FUTURE', 'The received date cannot be in the future.');
+  // The approved source and its status decide whether the lot may be received and how it is sampled.
+  const source = await sourceForReceipt(db, actor, {
+    materialId: input.materialId,
+    supplierId: input.supplierId,
+    manufacturerId: input.manufacturerId ?? null,
+    containerCount: input.containerCount,
+    ip,
+  });
   const now = new Date();
   const { id, number } = await transactionWithRetry(db, async (trx) => {
     const created = await insertWithNextNumber(trx, {
@@ -102,13 +114,23 @@ export async function receiveLot(
       row: (lotNumber) => ({
         lot_number: lotNumber,
         material_id: input.materialId,
-        supplier: input.supplier,
+        supplier: source.supplier.name,
+        supplier_id: source.supplier.id,
+        manufacturer_id: source.manufacturerId,
+        source_id: source.sourceId,
+        source_status: source.status,
+        source_conditions: source.conditions,
+        first_delivery: source.firstDelivery,
+        sampling_plan: source.samplingPlan,
+        sample_count: source.sampleCount,
         supplier_lot: input.supplierLot,
         container_count: input.containerCount,
         received_date: input.receivedDate,
         notes: input.notes ?? null,
         status: 'quarantine',
         identity_status: 'awaiting-testing',
+        erp_account_id: erp?.accountId ?? null,
+        erp_receipt_number: erp?.receiptNumber ?? null,
         created_by: actor.id,
         created_at: now,
         updated_at: now,
@@ -120,6 +142,17 @@ export async function receiveLot(
       label: containerLabel(created.number, i + 1),
     }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
+    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id as number);
+    await trx('container_status').insert(
+      ids.map((cid) => ({
+        container_id: cid,
+        status: 'quarantine',
+        reason: 'Received',
+        signature_id: null,
+        changed_by: actor.id,
+        changed_at: now,
+      })),
+    );
     await appendAudit(trx, {
       actor,
       action: 'lot.received',
@@ -129,7 +162,15 @@ export async function receiveLot(
         lotNumber: created.number,
         materialId: input.materialId,
         material: `${material.name} (${material.code})`,
-        supplier: input.supplier,
+        supplier: source.supplier.name,
+        supplierId: source.supplier.id,
+        manufacturerId: source.manufacturerId,
+        sourceId: source.sourceId,
+        sourceStatus: source.status,
+        sourceConditions: source.conditions,
+        firstDelivery: source.firstDelivery,
+        samplingPlan: source.samplingPlan,
+        sampleCount: source.sampleCount,
         supplierLot: input.supplierLot,
         containerCount: input.containerCount,
         receivedDate: input.receivedDate,
@@ -137,8 +178,21 @@ export async function receiveLot(
         status: 'quarantine',
         identityStatus: 'awaiting-testing',
         labels: containers.map((c) => c.label),
+        erpReceiptNumber: erp?.receiptNumber ?? null,
       },
       ip,
+    });
+    await enqueueEvent(trx, 'lot.received', {
+      lotNumber: created.number,
+      erpReceiptNumber: erp?.receiptNumber ?? null,
+      material: material.code,
+      supplier: source.supplier.name,
+      supplierLot: input.supplierLot,
+      containerCount: input.containerCount,
+      samplingPlan: source.samplingPlan,
+      sampleCount: source.sampleCount,
+      firstDelivery: source.firstDelivery,
+      status: 'quarantine',
     });
     return created;
   });
@@ -153,7 +207,14 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
   const tests = await testing.testsOfLot(db, id);
   const scopes = await scopesOf(db, tests);
   const measurements = await testing.measurementsOfLot(db, id);
-  const refs = containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label }));
+  const refs = await underTest(
+    db,
+    id,
+    containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label })),
+  );
+  const sampledIds = new Set(refs.map((c) => c.id));
+  const statuses = await currentStatuses(db, id);
+  const samplingRow = await db('sampling_record').where({ lot_id: id }).first('sampled_at');
   const effective = effectiveResults(refs, tests, scopes, measurements);
   const current =
     [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
@@ -218,8 +279,15 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
             scopes.get(current.id)!.containerIds!.includes(c.id)
           : false,
         measurements: measurements.filter((m) => m.containerId === c.id).length,
+        status: statuses.get(c.id) ?? 'quarantine',
+        sampled: sampledIds.has(c.id),
       };
     }),
+    sampledAt: samplingRow
+      ? new Date(samplingRow.sampled_at).toISOString()
+      : lot.source.samplingPlan
+        ? null
+        : lot.createdAt,
     tests: testSummaries,
     currentTestId: current?.id ?? null,
     investigations,

@@ -8,11 +8,15 @@ import * as lots from '../lots/repo';
 import { latestByContainer, type AttemptScope, type ContainerRef } from './outcome';
 import type { MeasurementSummary } from './contract';
 import * as repo from './repo';
+import { sampledContainerIds } from '../sampling/service';
 
 export interface TestContext {
   test: repo.TestRow;
   lot: LotSummary;
+  /** The containers under test: the sampled ones (every container for a lot received before sampling records). */
   containers: ContainerRef[];
+  /** Every container of the lot, sampled or not. */
+  allContainers: ContainerRef[];
   scope: AttemptScope;
   measurements: MeasurementSummary[];
 }
@@ -39,10 +43,27 @@ export async function loadContext(db: Knex | Knex.Transaction, testId: number, l
   if (!test) throw notFound('The identity test');
   const lot = await lots.findLot(db, test.lot_id);
   if (!lot) throw notFound('The lot');
-  const containers = (await lots.containersOf(db, test.lot_id)).map((c) => ({ id: c.id, seq: c.seq, label: c.label }));
+  const allContainers = (await lots.containersOf(db, test.lot_id)).map((c) => ({
+    id: c.id,
+    seq: c.seq,
+    label: c.label,
+  }));
+  const containers = await underTest(db, test.lot_id, allContainers);
   const scope = await scopeOf(db, test);
   const measurements = await repo.measurementsOfTest(db, testId);
-  return { test, lot, containers, scope, measurements };
+  return { test, lot, containers, allContainers, scope, measurements };
+}
+
+/**
+ * The containers of a lot under test: the sampled ones (issue 14 item 3: under a reduced plan
+ * "every container has a result" means every sampled container), or all of them for a lot received
+ * before sampling records existed.
+ */
+export async function underTest<C extends { id: number }>(db: Db, lotId: number, all: C[]): Promise<C[]> {
+  const sampled = await sampledContainerIds(db, lotId);
+  if (sampled === null) return all;
+  const set = new Set(sampled);
+  return all.filter((c) => set.has(c.id));
 }
 
 /** What a signature of the test covers: every container's latest result and the versions used. */

@@ -71,6 +71,7 @@ export type MatchStatus =
   | 'unknown-label'
   | 'other-lot'
   | 'not-in-scope'
+  | 'not-sampled'
   | 'duplicate'
   | 'failed-needs-qa';
 
@@ -81,6 +82,7 @@ export const MATCH_STATUS_TEXT: Record<MatchStatus, string> = {
   'unknown-label': 'No container has this label',
   'other-lot': 'The label belongs to another lot',
   'not-in-scope': 'This container is not part of this test attempt',
+  'not-sampled': 'This container was not sampled (sampling record of the lot); it cannot be measured',
   duplicate: 'Another chosen file names the same container',
   'failed-needs-qa': 'This container failed; a retest needs QA authorisation through an investigation',
 };
@@ -404,9 +406,12 @@ export interface QueueItem {
 
 export interface QueueSection {
   key:
+    | 'lots-to-sample'
     | 'lots-to-test'
     | 'tests-to-verify'
     | 'open-investigations'
+    | 'lots-awaiting-disposition'
+    | 'retests-due'
     | 'references-to-approve'
     | 'instrument-checks-due'
     | 'certificates-to-issue'

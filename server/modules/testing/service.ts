@@ -96,6 +96,10 @@ export async function startTest(
             : `Its identity status is "${row.identity_status}".`;
       throw conflict(`A new test attempt cannot be started for lot ${row.lot_number}. ${why}`);
     }
+    if (row.sampling_plan && !(await trx('sampling_record').where({ lot_id: lotId }).first('id')))
+      throw conflict(
+        `Lot ${row.lot_number} has not been sampled yet. Sampling precedes testing: clear the sampling booth, sample the containers and sign the sampling record first.`,
+      );
     const tests = await repo.testsOfLot(trx, lotId);
     const open = tests.find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification');
     if (open)
@@ -202,7 +206,8 @@ export async function switchInstrument(
 /** Multi-file upload, step 1: which file goes to which container, judged by the label in its name. Stores nothing. */
 export async function matchFiles(db: Knex, testId: number, fileNames: string[]): Promise<MatchRow[]> {
   const ctx = await loadContext(db, testId);
-  const byLabel = new Map(ctx.containers.map((c) => [c.label.toUpperCase(), c]));
+  const byLabel = new Map(ctx.allContainers.map((c) => [c.label.toUpperCase(), c]));
+  const sampled = new Set(ctx.containers.map((c) => c.id));
   const latest = latestByContainer(ctx.measurements, testId);
   const rows: MatchRow[] = fileNames.map((fileName) => {
     const labels = labelsInFileName(fileName);
@@ -217,6 +222,7 @@ export async function matchFiles(db: Knex, testId: number, fileNames: string[]):
         label,
         containerId: null,
       };
+    if (!sampled.has(c.id)) return { fileName, status: 'not-sampled', label, containerId: c.id };
     if (!inScope(ctx.scope, c.id)) return { fileName, status: 'not-in-scope', label, containerId: c.id };
     if (latest.get(c.id)?.verdict === 'fail') return { fileName, status: 'failed-needs-qa', label, containerId: c.id };
     return { fileName, status: 'matched', label, containerId: c.id };
@@ -300,8 +306,13 @@ export async function addMeasurement(
       `Attempt ${ctx.test.attempt} of lot ${ctx.lot.lotNumber} is ${ctx.test.status}; measurements can only be added while it is in progress.`,
     );
   const container = target.containerId
-    ? ctx.containers.find((c) => c.id === target.containerId)
-    : ctx.containers.find((c) => c.label.toUpperCase() === (target.label ?? '').trim().toUpperCase());
+    ? ctx.allContainers.find((c) => c.id === target.containerId)
+    : ctx.allContainers.find((c) => c.label.toUpperCase() === (target.label ?? '').trim().toUpperCase());
+  if (container && !ctx.containers.some((c) => c.id === container.id))
+    throw unprocessable(
+      'CONTAINER_NOT_SAMPLED',
+      `Container ${container.label} was not sampled (see the sampling record of lot ${ctx.lot.lotNumber}), so it cannot be measured. Sampling precedes testing.`,
+    );
   if (!container) {
     const other = target.label ? await lots.findContainerByLabel(db, target.label.trim().toUpperCase()) : undefined;
     throw unprocessable(

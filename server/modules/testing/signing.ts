@@ -25,6 +25,7 @@ import { pageLink } from '../lots/links';
 import { runCertificateStep } from './certificate-step';
 import { loadContext, scopesOf, signedContent, type TestContext } from './context';
 import { effectiveResults, latestByContainer, lotOutcome, readiness } from './outcome';
+import { enqueueEvent } from '../integration/outbox';
 import * as repo from './repo';
 import type { StoredResult, VerifyOutcome } from './contract';
 
@@ -226,6 +227,14 @@ export async function verify(
     const retestOf = ctx.test.retest_of_investigation_id;
     if (out.kind === 'passed') {
       await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'passed', updated_at: now });
+      await enqueueEvent(trx, 'lot.identity-passed', {
+        lotNumber: ctx.lot.lotNumber,
+        erpReceiptNumber: ctx.lot.erpReceiptNumber,
+        material: ctx.lot.material.code,
+        identityStatus: 'passed',
+        testedContainers: ctx.containers.length,
+        status: 'quarantine',
+      });
       await appendAudit(trx, {
         actor,
         action: 'lot.identity-passed',
@@ -251,6 +260,13 @@ export async function verify(
     );
     const failing = failingList(ctx, out.failing, rows);
     await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'failed', updated_at: now });
+    await enqueueEvent(trx, 'lot.identity-failed', {
+      lotNumber: ctx.lot.lotNumber,
+      erpReceiptNumber: ctx.lot.erpReceiptNumber,
+      material: ctx.lot.material.code,
+      identityStatus: 'failed',
+      status: 'quarantine',
+    });
     await appendAudit(trx, {
       actor,
       action: 'lot.identity-failed',

@@ -14,6 +14,7 @@ import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { pendingCertificates } from '../certificates';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
+import { lotsAwaitingDisposition, retestsDue } from '../disposition/service';
 import { blockedContainers } from '../provenance/service';
 
 const ITEMS = 50;
@@ -23,6 +24,10 @@ export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
     .join('material as m', 'm.id', 'l.material_id')
     .where('l.status', 'quarantine')
     .whereIn('l.identity_status', ['awaiting-testing', 'testing', 'retest-authorised'])
+    // sampling precedes testing: a lot under a sampling plan is listed once it is sampled
+    .where((w) =>
+      w.whereNull('l.sampling_plan').orWhereExists(db('sampling_record as sr').whereRaw('sr.lot_id = l.id')),
+    )
     .select('l.id', 'l.lot_number', 'l.identity_status', 'l.container_count', 'l.received_date', 'm.name as m_name')
     .orderBy('l.id');
   const tests = rows.length
@@ -51,6 +56,34 @@ export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
       href: `/lots/${r.id}`,
     };
   });
+}
+
+/** Lots in quarantine under a sampling plan that have no sampling record yet. */
+export async function lotsToSample(db: Knex): Promise<QueueItem[]> {
+  const rows = await db('lot as l')
+    .join('material as m', 'm.id', 'l.material_id')
+    .where('l.status', 'quarantine')
+    .whereNotNull('l.sampling_plan')
+    .whereNotExists(db('sampling_record as sr').whereRaw('sr.lot_id = l.id'))
+    .select(
+      'l.id',
+      'l.lot_number',
+      'l.sampling_plan',
+      'l.sample_count',
+      'l.container_count',
+      'l.first_delivery',
+      'm.name as m_name',
+    )
+    .orderBy('l.id');
+  return rows.map((r) => ({
+    id: r.id,
+    title: `${r.lot_number} · ${r.m_name}`,
+    detail:
+      r.sampling_plan === 'every-container'
+        ? `sample every container (${r.container_count})${r.first_delivery ? ', first delivery from a new source' : ''}`
+        : `sample ${r.sample_count} of ${r.container_count} containers (validated reduced plan)`,
+    href: `/lots/${r.id}`,
+  }));
 }
 
 export async function openInvestigations(db: Knex): Promise<QueueItem[]> {
@@ -104,7 +137,10 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
   const sections: QueueSection[] = [];
   const push = (key: QueueSection['key'], title: string, roles: Role[], items: QueueItem[]) =>
     sections.push({ key, title, roles, count: items.length, items: items.slice(0, ITEMS) });
-  if (has('operator')) push('lots-to-test', 'Lots to test', ['operator'], await lotsToTest(db));
+  if (has('operator')) {
+    push('lots-to-sample', 'Lots to sample', ['operator'], await lotsToSample(db));
+    push('lots-to-test', 'Lots to test', ['operator'], await lotsToTest(db));
+  }
   if (has('verifier'))
     push(
       'tests-to-verify',
@@ -119,6 +155,28 @@ export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue>
     );
   if (has('qa_manager')) {
     push('open-investigations', 'Open investigations', ['qa_manager'], await openInvestigations(db));
+    push(
+      'lots-awaiting-disposition',
+      'Lots awaiting disposition',
+      ['qa_manager'],
+      (await lotsAwaitingDisposition(db)).map((r) => ({
+        id: r.id,
+        title: `${r.lot_number} · ${r.m_name}`,
+        detail: 'Identity passed: record the release checks, then release or reject',
+        href: `/lots/${r.id}`,
+      })),
+    );
+    push(
+      'retests-due',
+      'Retest dates within 30 days',
+      ['qa_manager'],
+      (await retestsDue(db)).map((r) => ({
+        id: r.id,
+        title: `${r.lot_number} · ${r.m_name}`,
+        detail: `Retest by ${new Date(r.retest_date).toISOString().slice(0, 10)}`,
+        href: `/lots/${r.id}`,
+      })),
+    );
     push('references-to-approve', 'References to approve', ['qa_manager'], await referencesToApprove(db, user));
     push(
       'blocked-containers',

@@ -4,6 +4,7 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from '../../../../server/modules/lots/contract';
+import type { SourceRecord } from '../../../../server/modules/suppliers/contract';
 import type {
   InstrumentStatus,
   MatchRow,
@@ -100,6 +101,14 @@ export function useRetryCertificate() {
 
 export const labelsPdfUrl = (lotId: number) => downloadUrl(`/api/lots/${lotId}/labels.pdf`);
 export const rawFileUrl = (measurementId: number) => downloadUrl(`/api/measurements/${measurementId}/file`);
+
+/** The approved sources of a grade, with their status, for the receipt form. */
+export const useReceiptSources = (materialId: number | null) =>
+  useQuery({
+    queryKey: qk.suppliers.sources(materialId),
+    queryFn: () => apiFetch<SourceRecord[]>(`/api/sources?materialId=${materialId}`),
+    enabled: !!materialId,
+  });
 
 export function useReceiveLot() {
   const qc = useQueryClient();

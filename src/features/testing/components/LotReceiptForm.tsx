@@ -5,7 +5,8 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input, Select, Textarea } from '../../../components/Field';
 import { formatDate } from '../../../lib/format';
 import { lotCreateSchema, MAX_CONTAINERS } from '../../../../server/modules/lots/contract';
-import { useReceivableMaterials, useReceiveLot, type LotDetail } from '../api';
+import { SAMPLING_PLAN_LABELS, SOURCE_STATUS_LABELS } from '../../../../server/modules/suppliers/contract';
+import { useReceiptSources, useReceivableMaterials, useReceiveLot, type LotDetail } from '../api';
 
 /** Today at the site (the site's time zone, not the browser's). */
 const today = () => formatDate(new Date());
@@ -15,7 +16,7 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
   const receive = useReceiveLot();
   const [v, setV] = useState({
     materialId: '',
-    supplier: '',
+    sourceId: '',
     supplierLot: '',
     containerCount: '',
     receivedDate: today(),
@@ -24,11 +25,15 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
   const [errors, setErrors] = useState<Record<string, string>>({});
   const set = (k: keyof typeof v) => (e: { target: { value: string } }) => setV({ ...v, [k]: e.target.value });
 
+  const sources = useReceiptSources(v.materialId ? Number(v.materialId) : null);
+  const source = sources.data?.find((s) => String(s.id) === v.sourceId) ?? null;
+
   const submit = (e: FormEvent) => {
     e.preventDefault();
     const parsed = lotCreateSchema.safeParse({
       materialId: v.materialId ? Number(v.materialId) : 0,
-      supplier: v.supplier,
+      supplierId: source?.supplier.id ?? 0,
+      manufacturerId: source?.manufacturer?.id ?? null,
       supplierLot: v.supplierLot,
       containerCount: v.containerCount === '' ? NaN : Number(v.containerCount),
       receivedDate: v.receivedDate,
@@ -79,8 +84,36 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
           ))}
         </Select>
       </Field>
-      <Field id="lot-supplier" label="Supplier" error={errors.supplier}>
-        <Input id="lot-supplier" bench value={v.supplier} onChange={set('supplier')} autoComplete="off" />
+      <Field
+        id="lot-supplier"
+        label="Supplier (approved source)"
+        error={errors.supplierId}
+        hint={
+          source
+            ? `${SOURCE_STATUS_LABELS[source.current.status]}. Sampling: ${
+                SAMPLING_PLAN_LABELS[
+                  source.current.status === 'qualified' ? source.current.samplingPlan : 'every-container'
+                ]
+              }.${source.current.conditions ? ` Conditions: ${source.current.conditions}` : ''}`
+            : 'Only sources QA approved for this grade. A blocked source cannot be received.'
+        }
+      >
+        <Select
+          id="lot-supplier"
+          bench
+          value={v.sourceId}
+          onChange={set('sourceId')}
+          disabled={!v.materialId || !sources.data}
+        >
+          <option value="">{v.materialId ? 'Choose the supplier' : 'Choose the grade first'}</option>
+          {sources.data?.map((s) => (
+            <option key={s.id} value={s.id} disabled={s.current.status === 'blocked'}>
+              {s.supplier.name}
+              {s.manufacturer ? ` (made by ${s.manufacturer.name})` : ''} · {s.current.status}
+              {s.current.status === 'blocked' ? ': receipt refused' : ''}
+            </option>
+          ))}
+        </Select>
       </Field>
       <Field id="lot-supplier-lot" label="Supplier's lot number" error={errors.supplierLot}>
         <Input id="lot-supplier-lot" bench value={v.supplierLot} onChange={set('supplierLot')} autoComplete="off" />
@@ -89,7 +122,7 @@ export function LotReceiptForm({ onDone, onCancel }: { onDone: (lot: LotDetail) 
         id="lot-count"
         label="Number of containers"
         error={errors.containerCount}
-        hint={`1 to ${MAX_CONTAINERS}; every container gets a label and is tested.`}
+        hint={`1 to ${MAX_CONTAINERS}; every container gets a label; the source's sampling plan says which are sampled and tested.`}
       >
         <Input id="lot-count" bench inputMode="numeric" value={v.containerCount} onChange={set('containerCount')} />
       </Field>

@@ -55,6 +55,18 @@ export function TestsToVerifyList() {
   return <Section sectionKey="tests-to-verify" empty="No tests await your verification." />;
 }
 
+export function LotsToSampleList() {
+  return <Section sectionKey="lots-to-sample" empty="No lot awaits sampling." />;
+}
+
+export function LotsAwaitingDispositionList() {
+  return <Section sectionKey="lots-awaiting-disposition" empty="No lot awaits disposition." />;
+}
+
+export function RetestsDueList() {
+  return <Section sectionKey="retests-due" empty="No retest date within 30 days." />;
+}
+
 export function CertificatesToIssueList() {
   return <Section sectionKey="certificates-to-issue" empty="Every passed lot has its certificate." />;
 }

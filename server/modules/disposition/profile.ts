@@ -1,0 +1,151 @@
+/**
+ * Material master for disposition (issue 14 item 2): QA's versioned, signed profile of a material.
+ * The "IR not suitable" flag of a material belongs to the identity-method work (material.ir_not_suitable,
+ * issue 11); where it is set, the profile must name the identity test that replaces IR, and release
+ * then asks for that test's recorded result instead of an identity certificate.
+ */
+import type { Knex } from 'knex';
+import { appendAudit } from '../../lib/audit';
+import type { Db } from '../../lib/db';
+import { parseJson } from '../../lib/db';
+import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
+import { AppError, notFound } from '../../lib/errors';
+import type { AuthUser } from '../../lib/http';
+import type { CheckDef, MaterialProfile, MaterialProfileView, ProfileInput } from './contract';
+
+/** The material's "IR not suitable" flag (a column of the identity-method work; absent = IR suitable). */
+export function irNotSuitable(material: Record<string, unknown>): boolean {
+  return Boolean(material.ir_not_suitable);
+}
+
+async function toProfile(db: Db, r: Record<string, unknown>, names: Map<number, string>): Promise<MaterialProfile> {
+  const sigs = await signaturesFor(db, 'material', r.material_id as number);
+  return {
+    id: r.id as number,
+    materialId: r.material_id as number,
+    version: r.version as number,
+    retestMonths: r.retest_months as number,
+    shelfLifeMonths: r.shelf_life_months as number,
+    riskClass: r.risk_class as MaterialProfile['riskClass'],
+    checks: parseJson<CheckDef[]>(r.checks as string, []),
+    reason: r.reason as string,
+    createdBy: { id: r.created_by as number, name: names.get(r.created_by as number) ?? '' },
+    createdAt: new Date(r.created_at as string).toISOString(),
+    signature: sigs.find((s) => s.id === r.signature_id) ?? null,
+  };
+}
+
+/** The current (newest) profile of a material, or null. */
+export async function currentProfile(db: Db, materialId: number): Promise<MaterialProfile | null> {
+  const r = await db('material_profile').where({ material_id: materialId }).orderBy('version', 'desc').first();
+  if (!r) return null;
+  const u = await db('app_user').where({ id: r.created_by }).first('full_name');
+  return toProfile(db, r, new Map([[r.created_by, u?.full_name ?? '']]));
+}
+
+export async function profileView(db: Db, materialId: number): Promise<MaterialProfileView> {
+  const m = await db('material').where({ id: materialId }).first();
+  if (!m) throw notFound('The material');
+  const rows = await db('material_profile as p')
+    .join('app_user as u', 'u.id', 'p.created_by')
+    .where('p.material_id', materialId)
+    .orderBy('p.version')
+    .select('p.*', 'u.full_name as u_name');
+  const names = new Map(rows.map((r) => [r.created_by as number, r.u_name as string]));
+  const history: MaterialProfile[] = [];
+  for (const r of rows) history.push(await toProfile(db, r, names));
+  return {
+    material: { id: m.id, code: m.code, name: m.name, irNotSuitable: irNotSuitable(m) },
+    current: history.at(-1) ?? null,
+    history,
+  };
+}
+
+export async function listProfiles(db: Db): Promise<MaterialProfileView[]> {
+  const ids = (await db('material').where({ active: 1 }).orderBy('name').select('id')).map((r) => r.id as number);
+  const out: MaterialProfileView[] = [];
+  for (const id of ids) out.push(await profileView(db, id));
+  return out;
+}
+
+export async function saveProfile(
+  db: Knex,
+  user: AuthUser,
+  materialId: number,
+  input: ProfileInput,
+  ip: string | null,
+): Promise<MaterialProfileView> {
+  const m = await db('material').where({ id: materialId }).first();
+  if (!m) throw notFound('The material');
+  if (irNotSuitable(m) && !input.checks.some((c) => c.kind === 'alternative-identity'))
+    throw new AppError(
+      422,
+      'IDENTITY_TEST_MISSING',
+      `${m.name} is flagged "IR not suitable": name the identity test that replaces IR (a check of the kind "alternative identity").`,
+    );
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'material-profile-approved',
+    entityType: 'material',
+    entityId: materialId,
+    ip,
+  });
+  await db.transaction(async (trx) => {
+    const previous = await trx('material_profile')
+      .where({ material_id: materialId })
+      .orderBy('version', 'desc')
+      .first();
+    const version = Number(previous?.version ?? 0) + 1;
+    const content = {
+      material: m.code,
+      version,
+      retestMonths: input.retestMonths,
+      shelfLifeMonths: input.shelfLifeMonths,
+      riskClass: input.riskClass,
+      checks: input.checks,
+    };
+    // Signed on the material (the profile row is append-only and carries its signature's id).
+    const sig = await recordSignature(trx, {
+      user,
+      credentials: input.signature,
+      meaning: 'material-profile-approved',
+      entityType: 'material',
+      entityId: materialId,
+      content,
+      statement: input.reason,
+      ip,
+    });
+    const [id] = await trx('material_profile').insert({
+      material_id: materialId,
+      version,
+      retest_months: input.retestMonths,
+      shelf_life_months: input.shelfLifeMonths,
+      risk_class: input.riskClass,
+      checks: JSON.stringify(input.checks),
+      reason: input.reason,
+      signature_id: sig.id,
+      created_by: user.id,
+      created_at: new Date(),
+    });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'material.profile-approved',
+      entityType: 'material',
+      entityId: materialId,
+      before: previous
+        ? {
+            version: previous.version,
+            retestMonths: previous.retest_months,
+            shelfLifeMonths: previous.shelf_life_months,
+            riskClass: previous.risk_class,
+            checks: parseJson(previous.checks, []),
+          }
+        : null,
+      after: { ...content, profileId: id },
+      reason: input.reason,
+      ip,
+    });
+  });
+  return profileView(db, materialId);
+}

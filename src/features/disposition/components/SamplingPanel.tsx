@@ -1,0 +1,211 @@
+/**
+ * Sampling of a lot (bench screen): the signed line clearance of the booth, then the sampling
+ * record with every sampled container opened, sampled and resealed; afterwards the record and
+ * each container's status with its printable status label.
+ */
+import { useState } from 'react';
+import { Button, buttonClass } from '../../../components/Button';
+import { DateTime } from '../../../components/DateTime';
+import { ErrorNote } from '../../../components/ErrorNote';
+import { Field, Input, Select } from '../../../components/Field';
+import { SignatureDialog } from '../../../components/SignatureDialog';
+import { CONTAINER_STATUS_WORDS, RESERVE_UNITS } from '../../../../server/modules/sampling/contract';
+import { SAMPLING_PLAN_LABELS } from '../../../../server/modules/suppliers/contract';
+import { statusLabelsUrl, useLineClearance, useRecordSampling, useSampling } from '../api';
+
+interface Me {
+  fullName: string;
+  signedOnce: boolean;
+}
+
+export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me; canSample: boolean }) {
+  const q = useSampling(lotId);
+  const clear = useLineClearance(lotId);
+  const record = useRecordSampling(lotId);
+  const [area, setArea] = useState('Sampling booth 1');
+  const [previousUse, setPreviousUse] = useState('');
+  const [tool, setTool] = useState('');
+  const [qty, setQty] = useState('50');
+  const [unit, setUnit] = useState<(typeof RESERVE_UNITS)[number]>('g');
+  const [location, setLocation] = useState('');
+  const [picked, setPicked] = useState<Set<number> | null>(null);
+  const [dialog, setDialog] = useState<'clear' | 'sample' | null>(null);
+  if (q.isPending) return <p className="text-sm text-muted">Loading the sampling record…</p>;
+  if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
+  const s = q.data;
+  const plan = s.samplingPlan;
+  const need = s.sampleCount ?? s.containers.length;
+  const chosen = picked ?? new Set(s.containers.slice(0, need).map((c) => c.containerId));
+  const clearance = s.clearances.at(-1) ?? null;
+  const toggle = (id: number) => {
+    const next = new Set(chosen);
+    if (next.has(id)) next.delete(id);
+    else next.add(id);
+    setPicked(next);
+  };
+  return (
+    <section aria-labelledby="sampling" className="mt-6 rounded-md border border-line bg-white p-4">
+      <h2 id="sampling" className="mb-1 text-lg">
+        Sampling and container status
+      </h2>
+      {plan && (
+        <p className="mb-3 text-sm" data-testid="sampling-plan">
+          Plan: {SAMPLING_PLAN_LABELS[plan]} · {need} of {s.containers.length} container(s) to sample.
+        </p>
+      )}
+      {s.record ? (
+        <div className="mb-3 text-sm" data-testid="sampling-record">
+          <p>
+            Sampled by {s.record.sampler.name} in {s.record.area}, <DateTime value={s.record.sampledAt} />, with{' '}
+            {s.record.tool}. Reserve sample: {s.record.reserve.quantity} {s.record.reserve.unit} in{' '}
+            {s.record.reserve.location}.
+          </p>
+          <p className="text-muted">
+            Line clearance signed by {s.record.lineClearance.clearedBy.name},{' '}
+            <DateTime value={s.record.lineClearance.clearedAt} />.
+          </p>
+        </div>
+      ) : plan && canSample ? (
+        !clearance ? (
+          <div className="mb-3 grid gap-3 md:grid-cols-2">
+            <Field id="lc-area" label="Sampling booth or area">
+              <Input id="lc-area" bench value={area} onChange={(e) => setArea(e.target.value)} />
+            </Field>
+            <Field id="lc-prev" label="Found in the booth before this lot (optional)">
+              <Input id="lc-prev" bench value={previousUse} onChange={(e) => setPreviousUse(e.target.value)} />
+            </Field>
+            <div className="md:col-span-2">
+              <Button size="bench" variant="primary" onClick={() => setDialog('clear')}>
+                Sign line clearance
+              </Button>
+            </div>
+          </div>
+        ) : (
+          <div className="mb-3 grid gap-3 md:grid-cols-2">
+            <p className="text-sm md:col-span-2">
+              Booth {clearance.area} cleared by {clearance.clearedBy.name}, <DateTime value={clearance.clearedAt} />.
+            </p>
+            <Field id="sa-tool" label="Sampling tool">
+              <Input id="sa-tool" bench value={tool} onChange={(e) => setTool(e.target.value)} />
+            </Field>
+            <Field id="sa-loc" label="Reserve sample kept in">
+              <Input id="sa-loc" bench value={location} onChange={(e) => setLocation(e.target.value)} />
+            </Field>
+            <Field id="sa-qty" label="Reserve sample quantity">
+              <Input id="sa-qty" bench inputMode="decimal" value={qty} onChange={(e) => setQty(e.target.value)} />
+            </Field>
+            <Field id="sa-unit" label="Unit">
+              <Select id="sa-unit" bench value={unit} onChange={(e) => setUnit(e.target.value as typeof unit)}>
+                {RESERVE_UNITS.map((u) => (
+                  <option key={u}>{u}</option>
+                ))}
+              </Select>
+            </Field>
+            <fieldset className="md:col-span-2">
+              <legend className="mb-1 text-sm font-medium">
+                Containers opened, sampled and resealed ({chosen.size} of at least {need})
+              </legend>
+              <div className="flex flex-wrap gap-2">
+                {s.containers.map((c) => (
+                  <label
+                    key={c.containerId}
+                    className="flex min-h-11 items-center gap-2 rounded border border-line px-2"
+                  >
+                    <input
+                      type="checkbox"
+                      checked={chosen.has(c.containerId)}
+                      onChange={() => toggle(c.containerId)}
+                      aria-label={`${c.label} opened, sampled and resealed`}
+                    />
+                    <span className="tabular-nums">{c.label}</span>
+                  </label>
+                ))}
+              </div>
+            </fieldset>
+            <div className="md:col-span-2">
+              <Button size="bench" variant="primary" onClick={() => setDialog('sample')}>
+                Sign sampling record
+              </Button>
+            </div>
+          </div>
+        )
+      ) : plan ? (
+        <p className="mb-3 text-sm text-amber-ink">Not sampled yet: sampling precedes testing.</p>
+      ) : null}
+      <ul className="flex flex-wrap gap-2" aria-label="Container status">
+        {s.containers.slice(0, 200).map((c) => (
+          <li
+            key={c.containerId}
+            className="flex items-center gap-2 rounded-md border border-line px-2 py-1 text-sm"
+            data-testid={`container-status-${c.label}`}
+          >
+            <span className="tabular-nums">{c.label}</span>
+            <span className="font-semibold tracking-wide">{CONTAINER_STATUS_WORDS[c.status]}</span>
+          </li>
+        ))}
+      </ul>
+      <a
+        className={`${buttonClass('secondary', 'bench')} mt-3`}
+        href={statusLabelsUrl(lotId)}
+        target="_blank"
+        rel="noreferrer"
+        data-testid="status-labels"
+      >
+        Print status labels (PDF)
+      </a>
+      <SignatureDialog
+        open={dialog === 'clear'}
+        title="Sign the line clearance"
+        meaningText={`cleared ${area} for this lot: no material, label or container of another lot is left in it`}
+        printedName={me.fullName}
+        needsUsername={!me.signedOnce}
+        confirmLabel="Sign line clearance"
+        busy={clear.isPending}
+        error={clear.error}
+        onCancel={() => {
+          setDialog(null);
+          clear.reset();
+        }}
+        onSign={(signature) =>
+          clear.mutate(
+            { area, previousUse: previousUse.trim() || null, signature },
+            { onSuccess: () => setDialog(null) },
+          )
+        }
+      />
+      <SignatureDialog
+        open={dialog === 'sample'}
+        title="Sign the sampling record"
+        meaningText={`opened, sampled and resealed the ${chosen.size} container(s) named, and kept the reserve sample`}
+        printedName={me.fullName}
+        needsUsername={!me.signedOnce}
+        confirmLabel="Sign sampling record"
+        busy={record.isPending}
+        error={record.error}
+        onCancel={() => {
+          setDialog(null);
+          record.reset();
+        }}
+        onSign={(signature) =>
+          record.mutate(
+            {
+              lineClearanceId: clearance?.id ?? 0,
+              sampledAt: new Date().toISOString(),
+              tool,
+              containers: [...chosen].map((containerId) => ({
+                containerId,
+                opened: true,
+                sampled: true,
+                resealed: true,
+              })),
+              reserve: { quantity: Number(qty), unit, location },
+              note: null,
+              signature,
+            },
+            { onSuccess: () => setDialog(null) },
+          )
+        }
+      />
+    </section>
+  );
+}
