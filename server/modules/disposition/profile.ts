@@ -1,7 +1,7 @@
 /**
  * Material master for disposition (issue 14 item 2): QA's versioned, signed profile of a material.
- * The "IR not suitable" flag of a material belongs to the identity-method work (material.ir_not_suitable,
- * issue 11); where it is set, the profile must name the identity test that replaces IR, and release
+ * The "IR not suitable" flag of a material is QA's signed decision of the identity-method work
+ * (material_ir_suitability, read through the library module); where it is set, the profile must name the identity test that replaces IR, and release
  * then asks for that test's recorded result instead of an identity certificate.
  */
 import type { Knex } from 'knex';
@@ -11,9 +11,18 @@ import { parseJson } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
+import { irSuitabilityOf } from '../library';
 import type { CheckDef, MaterialProfile, MaterialProfileView, ProfileInput } from './contract';
 
-/** The material's "IR not suitable" flag (a column of the identity-method work; absent = IR suitable). */
+/** A material row with `ir_not_suitable` set from QA's latest IR-suitability decision. */
+export async function materialWithIr(db: Db, materialId: number) {
+  const m = await db('material').where({ id: materialId }).first();
+  if (!m) return undefined;
+  const d = await irSuitabilityOf(db, materialId);
+  return { ...m, ir_not_suitable: !!d && !d.suitable };
+}
+
+/** The material's "IR not suitable" flag, on a row read by materialWithIr (absent = IR suitable). */
 export function irNotSuitable(material: Record<string, unknown>): boolean {
   return Boolean(material.ir_not_suitable);
 }
@@ -44,7 +53,7 @@ export async function currentProfile(db: Db, materialId: number): Promise<Materi
 }
 
 export async function profileView(db: Db, materialId: number): Promise<MaterialProfileView> {
-  const m = await db('material').where({ id: materialId }).first();
+  const m = await materialWithIr(db, materialId);
   if (!m) throw notFound('The material');
   const rows = await db('material_profile as p')
     .join('app_user as u', 'u.id', 'p.created_by')
@@ -75,7 +84,7 @@ export async function saveProfile(
   input: ProfileInput,
   ip: string | null,
 ): Promise<MaterialProfileView> {
-  const m = await db('material').where({ id: materialId }).first();
+  const m = await materialWithIr(db, materialId);
   if (!m) throw notFound('The material');
   if (irNotSuitable(m) && !input.checks.some((c) => c.kind === 'alternative-identity'))
     throw new AppError(

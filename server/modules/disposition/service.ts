@@ -32,7 +32,7 @@ import {
   type ReleaseCondition,
   type ReleaseInput,
 } from './contract';
-import { currentProfile, irNotSuitable } from './profile';
+import { currentProfile, irNotSuitable, materialWithIr } from './profile';
 
 async function lotRow(db: Db, lotId: number) {
   const lot = await db('lot as l')
@@ -40,7 +40,7 @@ async function lotRow(db: Db, lotId: number) {
     .where('l.id', lotId)
     .first('l.*', 'm.name as m_name', 'm.code as m_code');
   if (!lot) throw notFound('The lot');
-  const material = await db('material').where({ id: lot.material_id }).first();
+  const material = await materialWithIr(db, lot.material_id);
   return { lot, material };
 }
 

@@ -14,3 +14,4 @@ export {
 } from './approved-set';
 export { toMethod } from './repo';
 export type { MethodVersion, StoredBand } from './contract';
+export { irSuitabilityOf, irSuitabilityMap } from './method-control';
