@@ -107,6 +107,37 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
   expect(me.status).toBe(200);
   expect(me.body.user.username).toBe(operator.username);
 
+  // A qualified source of the material, set up by QA (a receipt names an approved source).
+  const qaCookie = await signIn(0, qa);
+  const sup = await request(server(0))
+    .post('/api/suppliers')
+    .set('Cookie', qaCookie)
+    .send({ name: uname('Brightwater Fibres '), kind: 'supplier', signature: sig(qa) });
+  expect(sup.status, JSON.stringify(sup.body)).toBe(201);
+  const src = await request(server(0))
+    .post('/api/sources')
+    .set('Cookie', qaCookie)
+    .send({
+      materialId: material.materialId,
+      supplierId: sup.body.id,
+      reason: 'approved for the suite',
+      signature: sig(qa),
+    });
+  expect(src.status, JSON.stringify(src.body)).toBe(201);
+  const qualified = await request(server(0))
+    .post(`/api/sources/${src.body.id}/status`)
+    .set('Cookie', qaCookie)
+    .send({
+      status: 'qualified',
+      samplingPlan: 'every-container',
+      samplingJustification: null,
+      conditions: null,
+      effectiveFrom: new Date().toISOString().slice(0, 10),
+      reason: 'qualified for the suite',
+      signature: sig(qa),
+    });
+  expect(qualified.status, JSON.stringify(qualified.body)).toBe(200);
+
   // Lot numbering: eleven lots received at once on both servers.
   const today = new Date().toISOString().slice(0, 10);
   const lots = await Promise.all(
@@ -117,7 +148,7 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
           .set('Cookie', opCookie)
           .send({
             materialId: material.materialId,
-            supplier: 'Brightwater Fibres (invented)',
+            supplierId: sup.body.id,
             supplierLot: `CS-${i}`,
             containerCount: 1,
             receivedDate: today,
@@ -135,6 +166,28 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
   const mid = ctx.midRun ? new Promise((r) => setTimeout(r, 300)).then(ctx.midRun) : Promise.resolve();
   const testIds = await Promise.all(
     lots.map(async (l, i) => {
+      // sampling precedes testing: the operator's signed line clearance and sampling record
+      const clear = await call(i, (b) =>
+        request(b)
+          .post(`/api/lots/${l.body.id}/line-clearance`)
+          .set('Cookie', opCookie)
+          .send({ area: 'Sampling booth 1', previousUse: 'empty, cleaned', signature: sig(operator) }),
+      );
+      expect(clear.status, JSON.stringify(clear.body)).toBe(201);
+      const sampled = await call(i, (b) =>
+        request(b)
+          .post(`/api/lots/${l.body.id}/sampling`)
+          .set('Cookie', opCookie)
+          .send({
+            lineClearanceId: clear.body.clearances.at(-1).id,
+            sampledAt: new Date().toISOString(),
+            tool: 'stainless steel sampling spear ST-04, cleaned',
+            containers: [{ containerId: l.body.containers[0].id, opened: true, sampled: true, resealed: true }],
+            reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, shelf R2' },
+            signature: sig(operator),
+          }),
+      );
+      expect(sampled.status, JSON.stringify(sampled.body)).toBe(201);
       const started = await call(i, (b) =>
         request(b).post(`/api/lots/${l.body.id}/tests`).set('Cookie', opCookie).send({ instrumentId }),
       );

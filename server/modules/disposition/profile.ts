@@ -13,6 +13,7 @@ import { AppError, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { irSuitabilityOf } from '../library';
 import type { CheckDef, MaterialProfile, MaterialProfileView, ProfileInput } from './contract';
+import { transactionWithRetry } from '../../lib/retry';
 
 /** A material row with `ir_not_suitable` set from QA's latest IR-suitability decision. */
 export async function materialWithIr(db: Db, materialId: number) {
@@ -100,7 +101,7 @@ export async function saveProfile(
     entityId: materialId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const previous = await trx('material_profile')
       .where({ material_id: materialId })
       .orderBy('version', 'desc')

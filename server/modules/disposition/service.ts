@@ -33,6 +33,7 @@ import {
   type ReleaseInput,
 } from './contract';
 import { currentProfile, irNotSuitable, materialWithIr } from './profile';
+import { transactionWithRetry } from '../../lib/retry';
 
 async function lotRow(db: Db, lotId: number) {
   const lot = await db('lot as l')
@@ -238,7 +239,7 @@ export async function recordCheck(
     entityId: lotId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const content = {
       lot: lot.lot_number,
       check: def.key,
@@ -341,7 +342,7 @@ export async function release(
   });
   const today = formatSiteDate(new Date(), siteTimeZone);
   const retestDate = addMonths(today, c.profile!.retestMonths);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('lot').where({ id: lotId }).forUpdate().first();
     if (row.status !== 'quarantine') throw conflict(`Lot ${lot.lot_number} is already ${row.status}.`);
     const content = {
@@ -441,7 +442,7 @@ export async function reject(
     entityId: lotId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('lot').where({ id: lotId }).forUpdate().first();
     if (row.status !== 'quarantine') throw conflict(`Lot ${lot.lot_number} is already ${row.status}.`);
     const content = { lot: lot.lot_number, decision: 'rejected', reason: input.reason };

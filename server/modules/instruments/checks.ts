@@ -37,6 +37,7 @@ import {
 } from './contract';
 import { openLookback } from './lookback';
 import { engineSpecOf } from './specifications';
+import { transactionWithRetry } from '../../lib/retry';
 
 // Compile-time: the engine's results are what the contract calls stored check results.
 const _storedResultShape = (r: PolystyreneResult): CheckResult => r;
@@ -240,7 +241,7 @@ export async function recordCheck(
     ip,
   });
   const actor = { id: user.id, name: user.fullName };
-  const checkId = await db.transaction(async (trx) => {
+  const checkId = await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const current = await repo.approvedSpecOf(trx, instrumentId, checkType);
     if (!current || current.id !== spec.id)

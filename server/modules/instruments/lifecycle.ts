@@ -21,6 +21,7 @@ import type { Actor } from '../../lib/audit';
 import type { AuthUser } from '../../lib/http';
 import type { MaintenanceEntry, MaintenanceInput, Qualification, QualificationInput, ServiceEvent } from './contract';
 import * as repo from './repo';
+import { transactionWithRetry } from '../../lib/retry';
 
 const dateOnly = (d: Date | string | null): string | null =>
   d === null ? null : typeof d === 'string' ? d.slice(0, 10) : new Date(d).toISOString().slice(0, 10);
@@ -67,7 +68,7 @@ export async function recordQualification(
     ip,
   });
   const content = qualificationSignedContent(instrumentId, input);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const sig = await recordSignature(trx, {
       user,
@@ -111,7 +112,7 @@ export async function recordMaintenance(
   ip: string | null,
 ): Promise<void> {
   await mustFind(db, instrumentId);
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const [id] = await trx('instrument_maintenance').insert({
       instrument_id: instrumentId,
       kind: input.kind,
@@ -139,7 +140,7 @@ export async function takeOutOfService(
   reason: string,
   ip: string | null,
 ): Promise<void> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const inst = await mustFind(trx, instrumentId);
     if (inst.service_state === 'out-of-service') throw conflict(`Instrument ${inst.name} is already out of service.`);
@@ -183,7 +184,7 @@ export async function putBackInService(
     entityId: instrumentId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     if (row.service_state !== 'out-of-service') throw conflict(`Instrument ${inst.name} is in service.`);
     const sig = await recordSignature(trx, {

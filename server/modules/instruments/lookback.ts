@@ -29,6 +29,7 @@ import {
   type ImpactNotice,
 } from './contract';
 import { iso } from './repo';
+import { transactionWithRetry } from '../../lib/retry';
 
 interface FailedCheck {
   id: number;
@@ -267,7 +268,7 @@ export async function decideAssessment(
     entityId: id,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('check_impact_assessment').where({ id }).forUpdate().first();
     if (row.status !== 'open') throw conflict('This impact assessment is already closed; its decision stands.');
     const now = new Date();

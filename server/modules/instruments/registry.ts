@@ -12,6 +12,7 @@ import type { InstrumentCreate, InstrumentDetail, InstrumentListItem, Instrument
 import { statusOf } from './checks';
 import { lifecycleOf } from './lifecycle';
 import { DEFAULT_SPEC_JUSTIFICATION, pharmacopoeiaBands } from './specifications';
+import { transactionWithRetry } from '../../lib/retry';
 
 export async function listInstruments(db: Knex): Promise<InstrumentListItem[]> {
   const rows: repo.InstrumentRow[] = await db('instrument').orderBy('name');
@@ -57,7 +58,7 @@ export async function createInstrument(
 ): Promise<InstrumentDetail> {
   if (await db('instrument').where({ name: input.name }).first())
     throw conflict(`An instrument named "${input.name}" already exists.`);
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const now = new Date();
     const [id] = await trx('instrument').insert({
       name: input.name,
@@ -116,7 +117,7 @@ export async function updateInstrument(
   patch: InstrumentUpdate,
   ip: string | null,
 ): Promise<InstrumentDetail> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const before = await trx('instrument').where({ id }).forUpdate().first();
     if (!before) throw notFound('The instrument');
     const upd: Record<string, unknown> = { updated_at: new Date() };

@@ -29,6 +29,7 @@ import {
   type CheckLimits,
   type CheckType,
 } from './contract';
+import { transactionWithRetry } from '../../lib/retry';
 
 export const DEFAULT_SPEC_JUSTIFICATION =
   'Default: Ph. Eur. 2.2.24, Table 2.2.24.-1, polystyrene film positions with the FT-instrument tolerances (all bands +-1.0 cm-1).';
@@ -105,7 +106,7 @@ export async function approveSpec(
     ip,
   });
   const actor: Actor = { id: user.id, name: user.fullName };
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('instrument').where({ id: instrumentId }).forUpdate().first();
     const latest = await trx('instrument_check_spec')
       .where({ instrument_id: instrumentId })

@@ -22,6 +22,7 @@ import type {
   WebhookEvent,
 } from './contract';
 import { hashToken, newToken } from './tokens';
+import { transactionWithRetry } from '../../lib/retry';
 
 const person = (u: AuthUser): Actor => ({ id: u.id, name: u.fullName });
 
@@ -53,7 +54,7 @@ export async function createMachineAccount(
     throw conflict(`A machine account named "${input.name}" exists already.`);
   const token = newToken();
   const scopes = [...new Set(input.scopes)].sort();
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const [id] = await trx('machine_account').insert({
       name: input.name,
       scopes: JSON.stringify(scopes),
@@ -84,7 +85,7 @@ export async function revokeMachineAccount(
   reason: string,
   ip: string | null,
 ): Promise<MachineAccountRecord> {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('machine_account').where({ id }).forUpdate().first();
     if (!row) throw notFound('The machine account');
     if (row.revoked_at) throw conflict(`The token of ${row.name} is revoked already.`);
@@ -137,7 +138,7 @@ export async function createEndpoint(
 ): Promise<WebhookEndpointCreated> {
   const secret = `whsec_${crypto.randomBytes(24).toString('base64')}`;
   const events = [...new Set(input.events)].sort();
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const [id] = await trx('webhook_endpoint').insert({
       name: input.name,
       url: input.url,
@@ -161,7 +162,7 @@ export async function createEndpoint(
 }
 
 export async function deactivateEndpoint(db: Knex, user: AuthUser, id: number, ip: string | null) {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = await trx('webhook_endpoint').where({ id }).forUpdate().first();
     if (!row) throw notFound('The webhook endpoint');
     if (row.deactivated_at) throw conflict(`${row.name} is deactivated already.`);

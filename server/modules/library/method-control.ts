@@ -18,6 +18,7 @@ import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { invalidateLibraryCache } from './approved-set';
 import type { GateOverride, IrSuitability, IrSuitabilityInput } from './contract';
+import { transactionWithRetry } from '../../lib/retry';
 
 type Db = Knex | Knex.Transaction;
 
@@ -103,7 +104,7 @@ export async function decideIrSuitability(
     ip,
   });
   const replacementTest = input.suitable ? null : (input.replacementTest ?? '').trim();
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('material').where({ id: materialId }).forUpdate().first();
     const now = new Date();
     const sig = await recordSignature(trx, {
@@ -239,7 +240,7 @@ export async function recordOverrideRequest(
     entityId: r.entityId,
     ip,
   });
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const now = new Date();
     const content = overrideSignedContent({
       entityType: r.entityType,

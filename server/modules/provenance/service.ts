@@ -17,6 +17,7 @@ import type {
   ReviewMeasurementEntry,
 } from './contract';
 import { blockState, holderOf } from './rules';
+import { transactionWithRetry } from '../../lib/retry';
 
 /** Active operators an attempt can be handed over to (everyone but its holder). */
 export async function handOverCandidates(db: Knex, testId: number): Promise<OperatorChoice[]> {
@@ -34,7 +35,7 @@ export async function handOverCandidates(db: Knex, testId: number): Promise<Oper
  * holder hands it over; a QA manager may too (the holder is absent). Recorded and audited.
  */
 export async function handOver(db: Knex, user: AuthUser, testId: number, input: HandOverInput, ip: string | null) {
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const t = await trx('identity_test').where({ id: testId }).forUpdate().first();
     if (!t) throw notFound('The identity test');
     if (t.status !== 'in-progress')
@@ -133,7 +134,7 @@ export async function releaseBlock(
     entityId: containerId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     await trx('container').where({ id: containerId }).forUpdate().first('id');
     const state = await blockState(trx, containerId);
     if (!state.blocked) throw conflict(`Container ${c.label} is not blocked.`);

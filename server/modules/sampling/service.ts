@@ -25,6 +25,7 @@ import type {
   SamplingRecordView,
 } from './contract';
 import { currentStatuses, setContainerStatus, statusHistory } from './status';
+import { transactionWithRetry } from '../../lib/retry';
 
 /**
  * The containers of a lot that were sampled, or null for a lot received before sampling records
@@ -139,7 +140,7 @@ export async function recordLineClearance(
     entityId: lotId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const content = {
       lot: lot.lot_number,
       area: input.area,
@@ -239,7 +240,7 @@ export async function recordSampling(
     entityId: lotId,
     ip,
   });
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     if (await trx('sampling_record').where({ lot_id: lotId }).forUpdate().first('id'))
       throw conflict(`Lot ${lot.lot_number} has been sampled already.`);
     const labels = ids.map((id) => byId.get(id)!.label).sort();

@@ -28,6 +28,7 @@ import {
   type SupplierCreate,
   type SupplierRecord,
 } from './contract';
+import { transactionWithRetry } from '../../lib/retry';
 
 export async function createSupplier(
   db: Knex,
@@ -44,7 +45,7 @@ export async function createSupplier(
     ip,
   });
   const now = new Date();
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const created = await insertWithNextNumber(trx, {
       table: 'supplier',
       column: 'code',
@@ -117,7 +118,7 @@ export async function createSource(
     ip,
   });
   const now = new Date();
-  const id = await db.transaction(async (trx) => {
+  const id = await transactionWithRetry(db, async (trx) => {
     const [sourceId] = await trx('material_source').insert({
       material_id: input.materialId,
       supplier_id: input.supplierId,
@@ -211,7 +212,7 @@ export async function setSourceStatus(
     ip,
   });
   const now = new Date();
-  await db.transaction(async (trx) => {
+  await transactionWithRetry(db, async (trx) => {
     const row = {
       status: input.status,
       conditions: input.status === 'conditional' ? (input.conditions ?? null) : null,
