@@ -37,6 +37,8 @@ export interface SuiteResult {
   certificateNumbers: string[];
   testIds: number[];
   retried503: number;
+  /** requests whose connection a server closed mid-body (EPIPE/ECONNRESET) and that were sent again */
+  retriedReset: number;
   /** Certificates not issued at verification (issued afterwards through QA's recovery route). */
   pendingCertificates: number;
 }
@@ -54,6 +56,7 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
   const { urls, rt, owner } = ctx;
   const tries = ctx.tries ?? 1;
   let retried503 = 0;
+  let retriedReset = 0;
   const server = (i: number) => urls[i % urls.length];
 
   // Accounts through the site-setup path (as tests/api/helpers.ts makeUser does).
@@ -85,7 +88,17 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
   async function call(i: number, send: (base: string) => request.Test): Promise<request.Response> {
     let res: request.Response | undefined;
     for (let t = 0; t < tries; t++) {
-      res = await send(server(i + t));
+      try {
+        res = await send(server(i + t));
+      } catch (e) {
+        // A server whose database node is gone may answer 503 and close the connection before a
+        // multipart body is fully sent: the client then sees EPIPE or ECONNRESET, not the answer.
+        const code = (e as { code?: string }).code;
+        if (tries === 1 || (code !== 'EPIPE' && code !== 'ECONNRESET')) throw e;
+        retriedReset++;
+        await new Promise((r) => setTimeout(r, 500));
+        continue;
+      }
       if (res.status !== 503) return res;
       retried503++;
       await new Promise((r) => setTimeout(r, 500));
@@ -275,5 +288,5 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
     expect(
       await rt('e_signature').where({ entity_type: 'identity_test', entity_id: String(testId), meaning: 'verified' }),
     ).toHaveLength(1);
-  return { lotNumbers, certificateNumbers, testIds, retried503, pendingCertificates: pendingLots.length };
+  return { lotNumbers, certificateNumbers, testIds, retried503, retriedReset, pendingCertificates: pendingLots.length };
 }

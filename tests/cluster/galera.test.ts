@@ -195,7 +195,7 @@ describe('Drumline on a three-node Galera cluster', () => {
       });
       expect(killedAt).toBeGreaterThan(0);
       console.log(
-        `[cluster] node 3 killed mid-run; ${r.retried503} requests answered 503 by its server and were sent again; ` +
+        `[cluster] node 3 killed mid-run; ${r.retried503} requests answered 503 by its server and ${r.retriedReset} had their connection closed mid-upload, all sent again; ` +
           `certificates pending after verification: ${r.pendingCertificates}`,
       );
       expect(consecutive(r.lotNumbers)).toBe(true);
