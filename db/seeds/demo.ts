@@ -505,7 +505,14 @@ async function seedDisposition(
       retestMonths: key === 'magnesium-stearate' ? 12 : 24,
       shelfLifeMonths: 36,
       riskClass: key === 'paracetamol' ? 'high' : 'medium',
-      checks: DEMO_CHECKS,
+      // sodium chloride is "identity by IR not suitable": its release asks for the test that replaces IR
+      checks:
+        key === 'sodium-chloride'
+          ? [
+              ...DEMO_CHECKS,
+              { key: 'identity-chemical', kind: 'alternative-identity', label: SODIUM_CHLORIDE_REPLACEMENT_TEST },
+            ]
+          : DEMO_CHECKS,
       reason: 'Release checks of the site specification (demo).',
       signature: p.quinn.sig(),
     });

@@ -29,6 +29,9 @@ export function machineTokenMiddleware(): RequestHandler {
       const h = req.get('authorization');
       if (!h || !/^Bearer\s+/i.test(h)) return next();
       const token = h.replace(/^Bearer\s+/i, '').trim();
+      // Only tokens in the machine-account form are ours to judge here; another bearer token (the
+      // metrics scraper's) is left to the route it is sent to, and a machine route still refuses it.
+      if (!token.startsWith('dl_')) return next();
       const db = getDb();
       const row = /^dl_[a-z2-7]{32}$/.test(token)
         ? await db('machine_account')
