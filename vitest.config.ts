@@ -21,7 +21,7 @@ export default defineConfig({
           include: ['tests/api/**/*.test.ts'],
           globalSetup: ['tests/api/global-setup.ts'],
           fileParallelism: false,
-          testTimeout: 60_000,
+          testTimeout: 120_000,
           hookTimeout: 120_000,
         },
       },

@@ -36,7 +36,6 @@ import {
 type Signed = Awaited<ReturnType<typeof agent>>;
 
 let nylon: ApprovedMaterial;
-let pet: ApprovedMaterial;
 let instrumentId: number;
 let olga: Signed;
 let victor: Signed;
@@ -53,7 +52,8 @@ const phase1 = (overrides: Record<string, unknown> = {}) => ({
 
 beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 technical yarn', referenceFiles: [FIBRES.nylon66Reference] });
-  pet = await approvedMaterial({ name: 'Polyester PET technical yarn', referenceFiles: [FIBRES.petReference] });
+  // a polyester material in the library, so that the mix-up hint has one to name
+  await approvedMaterial({ name: 'Polyester PET technical yarn', referenceFiles: [FIBRES.petReference] });
   instrumentId = (await instrumentWithCheck('valid')).instrumentId;
   olga = await agent(['operator']);
   victor = await agent(['verifier']);
@@ -105,7 +105,6 @@ describe('a failing container', () => {
     expect(first.isTestedMaterial).toBe(false);
     expect(first.score).toBeGreaterThan(0.99);
     expect(await isPolyesterReference(first.referenceCode)).toBe(true);
-    expect(m.body.result.libraryHint.map((h: { materialId: number }) => h.materialId)).toContain(pet.materialId);
     expect(m.body.result.libraryHintText).toMatch(/^Closest approved materials: /);
     expect(m.body.result.libraryHintText).toContain(first.materialName);
 
