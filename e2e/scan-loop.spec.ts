@@ -13,6 +13,7 @@ import path from 'node:path';
 import { expect, test, type Page } from '@playwright/test';
 import { repoRoot } from '../db/config';
 import { DEMO, signInDemo } from './main-pages';
+import { DEMO_PASSWORD } from '../db/seeds/accounts';
 
 const SPECTRA = path.join(repoRoot, 'fixtures', 'spectra');
 const STEARATE = (n: number) => path.join(SPECTRA, 'magnesium-stearate', `lot-G-c${n}.jdx`);
@@ -26,17 +27,41 @@ async function newLotInTesting(page: Page, containers: number): Promise<{ id: nu
   const material = materials.find((m) => m.code === 'MGS-VEG');
   expect(material, 'the demo grade MGS-VEG can be received').toBeTruthy();
   const today = new Date().toISOString().slice(0, 10);
+  // received from a qualified source of the supplier master, every container sampled (sampling precedes testing)
+  const sources = (await (await page.request.get(`${DEMO}/api/sources?materialId=${material!.id}`)).json()) as {
+    supplier: { id: number };
+    current: { status: string; samplingPlan: string };
+  }[];
+  const source = sources.find((x) => x.current.status === 'qualified' && x.current.samplingPlan === 'every-container');
+  expect(source, 'a qualified source of MGS-VEG sampled container by container').toBeTruthy();
   const created = await page.request.post(`${DEMO}/api/lots`, {
     data: {
       materialId: material!.id,
-      supplier: 'Quellmoor Excipients',
+      supplierId: source!.supplier.id,
       supplierLot: `QX-MS-${Date.now().toString(36).toUpperCase()}`,
       containerCount: containers,
       receivedDate: today,
     },
   });
   expect(created.status(), await created.text()).toBe(201);
-  const lot = (await created.json()) as { id: number; lotNumber: string };
+  const lot = (await created.json()) as { id: number; lotNumber: string; containers: { id: number }[] };
+  const signature = { username: 'olga', password: DEMO_PASSWORD };
+  const clear = await page.request.post(`${DEMO}/api/lots/${lot.id}/line-clearance`, {
+    data: { area: 'Sampling booth 1', previousUse: 'empty, cleaned', signature },
+  });
+  expect(clear.status(), await clear.text()).toBe(201);
+  const clearances = ((await clear.json()) as { clearances: { id: number }[] }).clearances;
+  const sampled = await page.request.post(`${DEMO}/api/lots/${lot.id}/sampling`, {
+    data: {
+      lineClearanceId: clearances[clearances.length - 1].id,
+      sampledAt: new Date().toISOString(),
+      tool: 'stainless steel sampling spear ST-04, cleaned',
+      containers: lot.containers.map((c) => ({ containerId: c.id, opened: true, sampled: true, resealed: true })),
+      reserve: { quantity: 50, unit: 'g', location: 'Reserve sample store, shelf R2' },
+      signature,
+    },
+  });
+  expect(sampled.status(), await sampled.text()).toBe(201);
   const usable = (await (await page.request.get(`${DEMO}/api/testing/instruments`)).json()) as {
     instrument: { id: number; name: string };
   }[];

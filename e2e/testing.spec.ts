@@ -82,7 +82,7 @@ async function sampleLot(page: Page, username: string) {
 }
 
 async function startTesting(page: Page) {
-  const select = page.getByLabel('Instrument');
+  const select = page.getByLabel('Instrument', { exact: true });
   const option = select.locator('option', { hasText: INSTRUMENT });
   await select.selectOption({ value: (await option.getAttribute('value')) ?? '' });
   await page.getByRole('button', { name: 'Start testing' }).click();

@@ -65,6 +65,9 @@ export function CertificatesToCheckWidget() {
 
 const DECISION_WORDS: Record<string, string> = {
   'reference.approval-blocked': 'Reference approval refused by the specificity check',
+  'method.approval-blocked': 'Method approval refused by the specificity check',
+  'gate-override.requested': 'Override of the specificity check requested',
+  'gate-override.confirmed': 'Override of the specificity check confirmed by a second QA manager',
   'reference.approved-with-justification': 'Reference approved with a written justification',
   'instrument.check-failed': 'Instrument check failed',
   'investigation.opened': 'Investigation opened',
@@ -79,6 +82,8 @@ export function DecisionsToReviewWidget() {
   const from = `${daysBack(30)}T00:00:00.000Z`;
   const queries = [
     useAuditEvents({ action: 'reference.approval-blocked', from }, null, SHOWN),
+    useAuditEvents({ action: 'method.approval-blocked', from }, null, SHOWN),
+    useAuditEvents({ action: 'gate-override.*', from }, null, SHOWN),
     useAuditEvents({ action: 'reference.approved-with-justification', from }, null, SHOWN),
     useAuditEvents({ action: 'instrument.check-failed', from }, null, SHOWN),
     useAuditEvents({ action: 'investigation.*', from }, null, SHOWN),

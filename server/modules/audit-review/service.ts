@@ -43,7 +43,13 @@ export const CATEGORY_ACTIONS: Record<ReviewCategory, string[]> = {
     'user.password-reset',
   ],
   'invalidated-results': ['investigation.result-invalidated', 'lot.retest-authorised'],
-  'gate-overrides': ['reference.approval-blocked', 'reference.approved-with-justification'],
+  'gate-overrides': [
+    'reference.approval-blocked',
+    'reference.approved-with-justification',
+    'method.approval-blocked',
+    'gate-override.requested',
+    'gate-override.confirmed',
+  ],
   'integrity-alerts': ['integrity.mismatch-found', 'integrity.alert-signed-off'],
   'trend-signals': ['trend.signal-raised', 'trend.signal-acknowledged'],
 };

@@ -65,8 +65,10 @@ export function DispositionPanel({
           <caption className="text-left font-medium">Release checks of the material</caption>
           <thead>
             <tr className="text-left text-muted">
-              <th className="py-1">Check</th>
-              <th>Recorded</th>
+              <th data-key-column="check" className="py-1">
+                Check
+              </th>
+              <th data-key-column="recorded">Recorded</th>
               <th>Reference</th>
               {canRecord && open && <th>Record</th>}
             </tr>

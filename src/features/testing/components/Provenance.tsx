@@ -49,12 +49,16 @@ export function MeasurementHistory({ entries }: { entries: ReviewMeasurementEntr
         what each file states about its acquisition.
       </p>
       <div className="overflow-x-auto">
-        <table className="w-full text-left text-sm" data-testid="measurement-history">
+        <table className="w-full text-left text-sm" data-testid="measurement-history" aria-label="Every measurement">
           <thead>
             <tr className="border-b border-line text-muted">
               <th className="py-1 pr-3">#</th>
-              <th className="py-1 pr-3">Container</th>
-              <th className="py-1 pr-3">Result</th>
+              <th data-key-column="container" className="py-1 pr-3">
+                Container
+              </th>
+              <th data-key-column="result" className="py-1 pr-3">
+                Result
+              </th>
               <th className="py-1 pr-3">Counts</th>
               <th className="py-1 pr-3">Measured by, uploaded</th>
               <th className="py-1 pr-3">Why again</th>
