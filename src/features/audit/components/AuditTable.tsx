@@ -87,8 +87,8 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
               <td className="px-3 py-1.5 align-top">
                 <DateTime value={e.occurredAt} seconds />
               </td>
-              <td className="px-3 py-1.5 align-top whitespace-nowrap">{e.actorName}</td>
-              <td className="px-3 py-1.5 align-top font-mono text-[13px] whitespace-nowrap">{e.action}</td>
+              <td className="px-3 py-1.5 align-top">{e.actorName}</td>
+              <td className="px-3 py-1.5 align-top font-mono text-[13px] break-all">{e.action}</td>
               <td className="px-3 py-1.5 align-top whitespace-nowrap">
                 {recordTypeLabel(e.entityType)}
                 {e.entityId && <span className="tabular-nums"> {e.entityId}</span>}
