@@ -5,7 +5,7 @@
  *
  * Cache validity: each entry carries a fingerprint read from the database on every call
  * (approved method id + approved reference ids), so a change made by another server process
- * is seen too (DESIGN.md section 9); approvals and retirements in this process also clear the
+ * is seen too (docs/architecture.md, "The identity flow"); approvals and retirements in this process also clear the
  * cache at once (invalidateLibraryCache). Approved references never change (bands are frozen
  * at approval and files are immutable), so a fingerprint of ids is enough.
  *

@@ -1,5 +1,5 @@
 /**
- * The certificate step after a lot passed identity (DESIGN.md flow 5). Called AFTER the
+ * The certificate step after a lot passed identity (docs/architecture.md, "The identity flow"). Called AFTER the
  * verification transaction has committed, so a certificate problem can never undo a signed
  * verification: the lot then shows "certificate pending" (no certificate row yet), QA's work queue
  * lists it with a retry action and the background retry issues it (docs/certificates.md).

@@ -1,5 +1,5 @@
 /**
- * Whether an instrument may be used for an identity test right now (DESIGN.md flow 1):
+ * Whether an instrument may be used for an identity test right now (docs/architecture.md, "The identity flow"):
  * in use and in service, and for EVERY required check type (the wavenumber check of a mid-IR
  * instrument, and each type whose limits QA approved: ATR blank, noise, NIR wavelength accuracy,
  * NIR photometric noise) the LATEST check passed, has not expired and was made after the

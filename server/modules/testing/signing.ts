@@ -1,7 +1,7 @@
 /**
  * The two signatures of an identity test (21 CFR 211.194(a)(7)-(8): the person who performed
  * the test and a second person who reviewed it) and the lot outcome decided in the same
- * transaction as the verification signature (DESIGN.md section 5).
+ * transaction as the verification signature (docs/architecture.md, "The identity flow").
  *
  * Segregation of duties is enforced here, not in the client: the verifier (or returner) of a
  * test is never its performer nor anyone who recorded one of its measurements, whatever roles

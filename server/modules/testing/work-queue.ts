@@ -1,5 +1,5 @@
 /**
- * The work queue of the signed-in user (DESIGN.md: work queue): per role, what awaits them.
+ * The work queue of the signed-in user (docs/architecture.md, "The identity flow"): per role, what awaits them.
  * - operator: lots to test (quarantine, awaiting testing, testing, returned or retest authorised)
  * - verifier: tests awaiting verification that they neither performed nor measured
  * - qa_manager: open investigations; draft references awaiting approval (not their own uploads);
