@@ -33,7 +33,7 @@ const AUDITOR_MAY_WRITE: Record<string, string> = {
   'post /api/audit/verify/full':
     "Starts the full check of the audit chain in the background: verifying the trail is part of the auditor role (docs/access.md). Stores the check's progress row and its audit event; changes no record.",
   'post /api/certificates/verify':
-    'Checks an uploaded certificate PDF against the stored one and its signature - checking certificates is part of the auditor role (DESIGN.md). Stores nothing but the audit event of the check.',
+    'Checks an uploaded certificate PDF against the stored one and its signature - checking certificates is part of the auditor role (docs/access.md). Stores nothing but the audit event of the check.',
 };
 
 /** Read routes closed to auditors, each with why (everything else must be open to them). */

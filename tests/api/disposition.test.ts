@@ -11,7 +11,7 @@
  * - release and rejection are e-signed with their meaning (21 CFR 11.50) and audited;
  * - the release sets the retest date from the material's retest interval (21 CFR 211.87;
  *   ICH Q7 para 11.6 on retest dates, from memory);
- * - segregation of duties: whoever did lab work on a lot does not release it (DESIGN.md).
+ * - segregation of duties: whoever did lab work on a lot does not release it (docs/architecture.md, "The identity flow").
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { db, sig } from './helpers';

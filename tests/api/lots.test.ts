@@ -6,10 +6,10 @@
  * - every container gets its own identity test: EU GMP Annex 8 para 2; 21 CFR 211.84(d)(1);
  *   a lot is held in quarantine until tested and released: 21 CFR 211.84(a);
  * - an instrument without a passing, unexpired wavenumber check is refused: Ph. Eur. 2.2.24
- *   (control of the wavenumber scale with polystyrene), DESIGN.md flow 1;
+ *   (control of the wavenumber scale with polystyrene), docs/architecture.md, "The identity flow";
  * - raw data kept byte for byte with its SHA-256 and never overwritten: 21 CFR 11.10(e),
- *   ALCOA+ "original" (PIC/S PI 041-1); a refused file stores nothing partial (DESIGN.md);
- * - a measurement refused by the quality gate is neither pass nor fail (DESIGN.md section 4).
+ *   ALCOA+ "original" (PIC/S PI 041-1); a refused file stores nothing partial (docs/architecture.md, "The identity flow");
+ * - a measurement refused by the quality gate is neither pass nor fail (docs/architecture.md, "The identity flow").
  */
 import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';

@@ -6,7 +6,7 @@
  *   the test and of a second person who reviewed it -> the verifier is never the performer,
  *   enforced by the server even for an account holding both roles (the demo account "dana");
  * - 21 CFR 11.50 / 11.200: a signature shows name, time and meaning and re-asks the password;
- * - DESIGN.md section 5: the outcome is written in the same transaction as the signature, and
+ * - docs/architecture.md, "The identity flow": the outcome is written in the same transaction as the signature, and
  *   concurrent signing of one record lets exactly one through (the other gets 409);
  * - EU GMP Annex 8 para 2: the lot passes only when every container passes.
  */

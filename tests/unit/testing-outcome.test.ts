@@ -3,7 +3,7 @@
  * identity of every container (EU GMP Annex 8 para 2; 21 CFR 211.84(d)(1)); returned attempts
  * never count; a retest attempt authorised by QA replaces only the named containers' results
  * while the originals stay on record (FDA OOS guidance; 21 CFR 211.194); a quality-gate
- * 'invalid' measurement is neither pass nor fail (DESIGN.md section 4).
+ * 'invalid' measurement is neither pass nor fail (docs/architecture.md, "The identity flow").
  */
 import { describe, expect, it } from 'vitest';
 import {

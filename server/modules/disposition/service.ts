@@ -10,7 +10,7 @@
  * reason. The release record is separate from the identity certificate (21 CFR 211.84(a): each lot
  * released by the quality unit; EU GMP Annex 16 is about finished batches and does not apply here).
  * Nobody releases a lot whose identity test, sampling or checks they performed or verified
- * themselves (segregation of duties, DESIGN.md).
+ * themselves (segregation of duties, docs/architecture.md, "The identity flow").
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
