@@ -218,7 +218,12 @@ export async function walkChain(db: Knex, opts: WalkOptions = {}): Promise<Chain
   let expectedId = opts.from ?? 1;
   let count = expectedId - 1;
   for (;;) {
-    const rows: AuditRow[] = await db('audit_event').where('id', '>=', expectedId).orderBy('id').limit(pageSize);
+    // Only up to the head read above: events committed while the walk runs belong to the next walk.
+    const rows: AuditRow[] = await db('audit_event')
+      .where('id', '>=', expectedId)
+      .andWhere('id', '<=', state.headId)
+      .orderBy('id')
+      .limit(pageSize);
     if (rows.length === 0) break;
     for (const r of rows) {
       const id = Number(r.id);
@@ -270,6 +275,27 @@ export async function walkChain(db: Knex, opts: WalkOptions = {}): Promise<Chain
       events: count,
       brokenAt: count + 1,
       problem: `the chain ends at event ${count} but ${state.headId} were written (events removed)`,
+    };
+  if (count > 0 && prevHash !== state.headHash)
+    return {
+      ok: false,
+      events: count,
+      brokenAt: count,
+      problem: 'the last event does not match the hash the head recorded for it',
+      expected: state.headHash,
+      found: prevHash,
+    };
+  // Every writer inserts an event and moves the head in one transaction, so an event beyond the
+  // head read afterwards was added around the head (written without the audit service).
+  const maxRow = await db('audit_event').max({ m: 'id' }).first();
+  const headAfter = await db('audit_head').where({ id: 1 }).first();
+  const maxId = Number(maxRow?.m ?? 0);
+  if (maxId > Number(headAfter?.last_id ?? 0))
+    return {
+      ok: false,
+      events: count,
+      brokenAt: Number(headAfter?.last_id ?? 0) + 1,
+      problem: `event ${maxId} lies beyond the head (${Number(headAfter?.last_id ?? 0)}): written around the audit service`,
     };
   return { ok: true, events: count, lastHash: prevHash, lastId: count };
 }

@@ -114,7 +114,7 @@ describe('a forced failure and the retry', () => {
     expect(await db()('certificate_number').where({ lot_id: lot.lotId })).toHaveLength(1);
 
     const qa = await agentFor(['qa_manager']);
-    const queue = await qa.agent.get('/api/work-queue');
+    const queue = await qa.agent.get('/api/work-queue?full=certificates-to-issue');
     const section = queue.body.sections.find((s: { key: string }) => s.key === 'certificates-to-issue');
     const item = section.items.find((i: { id: number }) => i.id === lot.lotId);
     expect(item.detail).toContain(number);

@@ -156,7 +156,7 @@ describe('a failing container', () => {
     const start = await olga.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId });
     expect(start.status).toBe(409);
     expect(start.body.error.message).toMatch(/QA authorisation/);
-    const qa = await quinn.agent.get('/api/work-queue');
+    const qa = await quinn.agent.get('/api/work-queue?full=open-investigations');
     const open = qa.body.sections.find((s: { key: string }) => s.key === 'open-investigations');
     expect(open.items.map((i: { id: number }) => i.id)).toContain(v.body.investigation.id);
   });

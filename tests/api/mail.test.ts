@@ -1,7 +1,7 @@
 /** Mail goes through an outbox: captured by the local fake SMTP server; failures are retried, never lost. */
 import { describe, expect, it } from 'vitest';
 import { db, makeUser } from './helpers';
-import { enqueueMail, enqueueMailToRole, initMail, processOutbox } from '../../server/lib/mail';
+import { drainOutbox, enqueueMail, enqueueMailToRole, initMail, processOutbox } from '../../server/lib/mail';
 import { capturedMail } from '../../server/lib/fake-smtp';
 import { loadConfig } from '../../server/lib/config';
 
@@ -33,6 +33,19 @@ describe('mail outbox', () => {
     expect(row.attempts).toBe(1);
     expect(row.last_error).toMatch(/550|unavailable/);
     expect(new Date(row.next_attempt_at).getTime()).toBeGreaterThan(Date.now());
+  });
+});
+
+describe('a backlog', () => {
+  it('drains in one run of the mail job, over one reused connection, not one batch per tick', async () => {
+    await initMail(loadConfig({ smtp: null }));
+    await processOutbox(db(), 100_000);
+    const to = Array.from({ length: 180 }, (_, i) => `backlog-${i}@test.example`);
+    const first = await db().transaction((trx) => enqueueMail(trx, { to, subject: 'backlog', text: 'x' }));
+    const sent = await drainOutbox(db(), 60_000, 50);
+    expect(sent).toBeGreaterThanOrEqual(180);
+    const left = await db()('mail_outbox').where('id', '>=', first!).andWhere({ status: 'queued' }).count({ n: '*' });
+    expect(Number(left[0].n)).toBe(0);
   });
 });
 

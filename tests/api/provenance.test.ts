@@ -419,7 +419,7 @@ describe('a container that keeps giving invalid measurements', () => {
     expect(res.body.error.code).toBe('CONTAINER_BLOCKED');
     expect(await counts()).toEqual(before);
     const qa = await agent(['qa_manager']);
-    const queue = await qa.agent.get('/api/work-queue');
+    const queue = await qa.agent.get('/api/work-queue?full=blocked-containers');
     const section = queue.body.sections.find((s: { key: string }) => s.key === 'blocked-containers');
     expect(section.items.map((i: { id: number }) => i.id)).toContain(c.id);
     // the operator cannot release it; QA needs a reason and the password

@@ -17,7 +17,10 @@ import { verificationQueue } from './views';
 import { lotsAwaitingDisposition, retestsDue } from '../disposition/service';
 import { blockedContainers } from '../provenance/service';
 
-const ITEMS = 50;
+/** Items listed per section; the count covers all. */
+export const QUEUE_ITEMS = 50;
+/** Items listed when one section is asked for whole (?full=key). */
+export const QUEUE_FULL_ITEMS = 1000;
 
 export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
   const rows = await db('lot as l')
@@ -132,11 +135,17 @@ export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
   return out;
 }
 
-export async function workQueueFor(db: Knex, user: AuthUser): Promise<WorkQueue> {
+export async function workQueueFor(db: Knex, user: AuthUser, full?: string): Promise<WorkQueue> {
   const has = (r: Role) => user.roles.includes(r);
   const sections: QueueSection[] = [];
   const push = (key: QueueSection['key'], title: string, roles: Role[], items: QueueItem[]) =>
-    sections.push({ key, title, roles, count: items.length, items: items.slice(0, ITEMS) });
+    sections.push({
+      key,
+      title,
+      roles,
+      count: items.length,
+      items: items.slice(0, key === full ? QUEUE_FULL_ITEMS : QUEUE_ITEMS),
+    });
   if (has('operator')) {
     push('lots-to-sample', 'Lots to sample', ['operator'], await lotsToSample(db));
     push('lots-to-test', 'Lots to test', ['operator'], await lotsToTest(db));

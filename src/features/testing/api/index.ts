@@ -85,8 +85,12 @@ export const useMeasurementPlot = (id: number | null) =>
   });
 export const useVerificationQueue = () =>
   useQuery({ queryKey: qk.tests.verificationQueue, queryFn: () => apiFetch<QueueTest[]>('/api/verification/queue') });
-export const useWorkQueue = () =>
-  useQuery({ queryKey: qk.workQueue, queryFn: () => apiFetch<WorkQueue>('/api/work-queue') });
+/** The work queue; `full` names one section to list whole (the others keep their first items). */
+export const useWorkQueue = (full?: string) =>
+  useQuery({
+    queryKey: full ? [...qk.workQueue, full] : qk.workQueue,
+    queryFn: () => apiFetch<WorkQueue>(full ? `/api/work-queue?full=${encodeURIComponent(full)}` : '/api/work-queue'),
+  });
 
 /** QA's retry of a certificate that could not be issued (the certificates module issues it). */
 export function useRetryCertificate() {

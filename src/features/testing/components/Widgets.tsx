@@ -1,4 +1,5 @@
 /** Work-queue widgets of testing: lots to test (operator) and tests to verify (verifier, never their own). */
+import { useState } from 'react';
 import { Link } from 'react-router-dom';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { useRetryCertificate, useWorkQueue } from '../api';
@@ -21,7 +22,8 @@ function RetryButton({ lotId }: { lotId: number }) {
 }
 
 function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
-  const q = useWorkQueue();
+  const [full, setFull] = useState(false);
+  const q = useWorkQueue(full ? sectionKey : undefined);
   if (q.isPending) return <p className="text-sm text-muted">Loading…</p>;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const s = q.data.sections.find((x) => x.key === sectionKey);
@@ -41,7 +43,16 @@ function Section({ sectionKey, empty }: { sectionKey: string; empty: string }) {
         </li>
       ))}
       {s.count > s.items.length && (
-        <li className="px-3 py-2 text-sm text-muted">… and {s.count - s.items.length} more.</li>
+        <li className="px-3 py-2 text-sm text-muted">
+          … and {s.count - s.items.length} more.{' '}
+          <button
+            type="button"
+            className="min-h-11 font-medium text-petrol underline underline-offset-2"
+            onClick={() => setFull(true)}
+          >
+            Show all {s.count}
+          </button>
+        </li>
       )}
     </ul>
   );
