@@ -53,6 +53,18 @@ export function ScanUpload({
     if (!selected) scan.current?.focus();
   }, [selected]);
 
+  // Whether the container had already passed when it was selected: only then does the reason field
+  // take the focus. A pass that comes in while it stays selected leaves the focus in the scan field.
+  const [passedAtSelection, setPassedAtSelection] = useState<number | null>(null);
+  const remeasure = selected !== null && passedAtSelection === selected.id;
+  useEffect(() => {
+    const c = test.containers.find((x) => x.id === selectedId);
+    setPassedAtSelection(c?.latest?.verdict === 'pass' ? c.id : null);
+    setReason('');
+    // only on a new selection, not when the test is refetched after an upload
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [selectedId]);
+
   const submit = (e: FormEvent) => {
     e.preventDefault();
     const label = code.trim().toUpperCase();
@@ -116,7 +128,7 @@ export function ScanUpload({
               hint="Kept with the new measurement and shown to the verifier."
               className="mb-2"
             >
-              <Textarea id="remeasure-reason" autoFocus value={reason} onChange={(e) => setReason(e.target.value)} />
+              <Textarea id="remeasure-reason" autoFocus={remeasure} value={reason} onChange={(e) => setReason(e.target.value)} />
             </Field>
           )}
           <label className="mb-2 flex items-start gap-2 text-sm">
@@ -139,7 +151,7 @@ export function ScanUpload({
             accept=".jdx,.dx,.jcamp,.csv,.txt,.tsv"
             hint="JCAMP-DX or CSV export of the instrument."
             // A container measured again first asks why (the reason field takes the focus).
-            autoFocus={selected.latest?.verdict !== 'pass'}
+            autoFocus={!remeasure}
             upload={(file, onProgress) =>
               uploadMeasurement(
                 test.id,
