@@ -128,7 +128,12 @@ export function ScanUpload({
               hint="Kept with the new measurement and shown to the verifier."
               className="mb-2"
             >
-              <Textarea id="remeasure-reason" autoFocus={remeasure} value={reason} onChange={(e) => setReason(e.target.value)} />
+              <Textarea
+                id="remeasure-reason"
+                autoFocus={remeasure}
+                value={reason}
+                onChange={(e) => setReason(e.target.value)}
+              />
             </Field>
           )}
           <label className="mb-2 flex items-start gap-2 text-sm">
