@@ -2,7 +2,9 @@
 // and Drumline's import boundaries (docs/architecture.md, "Module map"):
 //   - a client feature never imports another feature (compose them in src/routes);
 //   - the client imports nothing from server/ except the contract files (server/**/contract.ts);
-//   - the engine (server/spectra) imports nothing of the application, only itself and packages.
+//   - the engine (server/spectra) imports nothing of the application, only itself and packages;
+//   - a server module (server/modules/<a>) imports another module only through its index.ts (its
+//     public face) or its contract.ts.
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import js from '@eslint/js';
@@ -31,6 +33,11 @@ export function boundaryViolation(from, to) {
     if (to.startsWith('server/') && !/\/contract(\.ts)?$/.test(to))
       return `the client imports a server internal (${to}); import the module's contract file instead`;
   }
+  const serverModule = (p) => /^server\/modules\/([^/]+)(\/|$)/.exec(p)?.[1];
+  const own = serverModule(from);
+  const other = serverModule(to);
+  if (own && other && own !== other && !new RegExp(`^server/modules/${other}(/index|/contract)?(\\.ts)?$`).test(to))
+    return `a server module imports another module's internals (${own} -> ${to}); import its index (server/modules/${other}) or its contract.ts`;
   if (from.startsWith('server/spectra/') && !to.startsWith('server/spectra/'))
     return `the engine imports application code (${to}); server/spectra uses nothing of ours`;
   return null;

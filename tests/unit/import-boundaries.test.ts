@@ -2,6 +2,7 @@
  * Drumline's import boundaries (DEVELOPERS.md, "Contracts"), as the ESLint rule
  * `drumline/boundaries` in eslint.config.js applies them to every import of the tree.
  */
+import { ESLint } from 'eslint';
 import { describe, expect, it } from 'vitest';
 import { boundaryViolation } from '../../eslint.config.js';
 
@@ -36,5 +37,34 @@ describe('boundaryViolation', () => {
       /the engine imports application code/,
     );
     expect(boundaryViolation('server/spectra/score.ts', 'server/spectra/bands')).toBeNull();
+  });
+
+  it("reports a server module importing another module's internals", () => {
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/lots/repo')).toMatch(
+      /a server module imports another module's internals \(testing -> server\/modules\/lots\/repo\)/,
+    );
+    expect(boundaryViolation('server/modules/lots/service.ts', 'server/modules/testing/outcome.ts')).toMatch(
+      /another module's internals/,
+    );
+  });
+
+  it("lets a server module import another module's index or contract, and its own files", () => {
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/lots')).toBeNull();
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/lots/index')).toBeNull();
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/lots/contract')).toBeNull();
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/testing/repo')).toBeNull();
+    expect(boundaryViolation('server/modules/testing/service.ts', 'server/lib/db')).toBeNull();
+  });
+});
+
+describe('the drumline/boundaries rule in ESLint', () => {
+  it('fails the lint of a module file that reaches into another module', async () => {
+    const eslint = new ESLint();
+    const code = "import { findLot } from '../lots/repo';\nexport const f = findLot;\n";
+    const [bad] = await eslint.lintText(code, { filePath: 'server/modules/testing/example.ts' });
+    expect(bad.messages.map((m) => m.ruleId)).toContain('drumline/boundaries');
+    const fine = "import { findLot } from '../lots';\nexport const f = findLot;\n";
+    const [good] = await eslint.lintText(fine, { filePath: 'server/modules/testing/example.ts' });
+    expect(good.messages.filter((m) => m.ruleId === 'drumline/boundaries')).toEqual([]);
   });
 });

@@ -18,7 +18,7 @@ import { parseJson } from '../../lib/db';
 import { notFound, unprocessable } from '../../lib/errors';
 import { renderPdf, type Content, type TableCell } from '../../lib/pdf';
 import { readSpectrumOff } from '../../workers/pool';
-import { CSV_COLUMNS, csvLine, eventCsvLine } from '../audit/csv';
+import { CSV_COLUMNS, csvLine, eventCsvLine } from '../audit';
 import { UnevenAxisError, writeJcamp } from './jcamp-writer';
 import type { ArchiveManifest, LotFacts } from './contract';
 

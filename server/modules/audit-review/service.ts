@@ -14,7 +14,7 @@ import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
 import { renderPdf } from '../../lib/pdf';
 import { transactionWithRetry } from '../../lib/retry';
-import { insertWithNextNumber, yearOf } from '../lots/numbering';
+import { insertWithNextNumber, yearOf } from '../../lib/numbering';
 import {
   REVIEW_CATEGORIES,
   REVIEW_CATEGORY_LABELS,

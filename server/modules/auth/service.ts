@@ -21,7 +21,7 @@ import {
   verifyPassword,
 } from '../../lib/passwords';
 import { createSession, invalidateSession, invalidateUserSessions } from '../../lib/sessions';
-import * as users from '../users/repo';
+import * as users from '../users';
 import type { AuthUser } from '../../lib/http';
 
 export function signInFailed(): AppError {

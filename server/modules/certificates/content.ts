@@ -9,7 +9,7 @@
  */
 import { parseJson, type Db } from '../../lib/db';
 import { conflict, notFound } from '../../lib/errors';
-import { sampledContainerIds } from '../sampling/service';
+import { sampledContainerIds } from '../sampling';
 import type { IdentityResult } from '../../spectra';
 import type { CertificateContent, ContainerLine, SignatureLine } from './contract';
 import * as repo from './repo';

@@ -21,7 +21,7 @@ import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import type { AuthUser } from '../../lib/http';
 import { transactionWithRetry } from '../../lib/retry';
-import { assertIrSuitable } from '../library/method-control';
+import { assertIrSuitable } from '../library';
 import { configOf } from './config';
 import type { CertificateContent, CertificateMeta } from './contract';
 import { toMeta } from './meta';

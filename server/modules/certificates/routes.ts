@@ -2,7 +2,7 @@
 import { Router } from 'express';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { checkCertificateBytes } from '../integrity/service';
+import { checkCertificateBytes } from '../integrity';
 import { uploadMiddleware } from '../../lib/upload';
 import { badRequest } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';

@@ -19,8 +19,8 @@ import type { Db } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { setContainerStatus } from '../sampling/status';
-import { enqueueEvent } from '../integration/outbox';
+import { moveLot, setContainerStatus } from '../lots';
+import { enqueueEvent } from '../integration';
 import {
   DISPOSITION_CAUTION,
   type CheckDef,
@@ -381,9 +381,6 @@ export async function release(
       decided_by: user.id,
       decided_at: now,
     });
-    await trx('lot')
-      .where({ id: lotId })
-      .update({ status: 'released', retest_date: retestDate, disposition_id: dispositionId, updated_at: now });
     await setContainerStatus(trx, {
       lotId,
       containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id as number),
@@ -392,15 +389,21 @@ export async function release(
       signatureId: sig.id,
       userId: user.id,
     });
-    await appendAudit(trx, {
-      actor: { id: user.id, name: user.fullName },
-      action: 'lot.released',
-      entityType: 'lot',
-      entityId: lotId,
-      before: { status: 'quarantine' },
-      after: { ...content, status: 'released', dispositionId },
-      reason: input.comment ?? null,
-      ip,
+    await moveLot(trx, {
+      lotId,
+      to: { status: 'released' },
+      set: { retest_date: retestDate, disposition_id: dispositionId },
+      now,
+      audit: {
+        actor: { id: user.id, name: user.fullName },
+        action: 'lot.released',
+        entityType: 'lot',
+        entityId: lotId,
+        before: { status: 'quarantine' },
+        after: { ...content, status: 'released', dispositionId },
+        reason: input.comment ?? null,
+        ip,
+      },
     });
     await enqueueEvent(trx, 'lot.released', {
       lotNumber: lot.lot_number,
@@ -469,12 +472,6 @@ export async function reject(
       decided_by: user.id,
       decided_at: now,
     });
-    await trx('lot').where({ id: lotId }).update({
-      status: 'rejected',
-      identity_status: 'rejected',
-      disposition_id: dispositionId,
-      updated_at: now,
-    });
     await setContainerStatus(trx, {
       lotId,
       containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id as number),
@@ -484,15 +481,21 @@ export async function reject(
       userId: user.id,
       onlyWhereAllowed: true,
     });
-    await appendAudit(trx, {
-      actor: { id: user.id, name: user.fullName },
-      action: 'lot.rejected',
-      entityType: 'lot',
-      entityId: lotId,
-      before: { status: 'quarantine', identityStatus: lot.identity_status },
-      after: { status: 'rejected', identityStatus: 'rejected', dispositionId },
-      reason: input.reason,
-      ip,
+    await moveLot(trx, {
+      lotId,
+      to: { status: 'rejected', identityStatus: 'rejected' },
+      set: { disposition_id: dispositionId },
+      now,
+      audit: {
+        actor: { id: user.id, name: user.fullName },
+        action: 'lot.rejected',
+        entityType: 'lot',
+        entityId: lotId,
+        before: { status: 'quarantine', identityStatus: lot.identity_status },
+        after: { status: 'rejected', identityStatus: 'rejected', dispositionId },
+        reason: input.reason,
+        ip,
+      },
     });
     await enqueueEvent(trx, 'lot.rejected', {
       lotNumber: lot.lot_number,

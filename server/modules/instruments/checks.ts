@@ -19,7 +19,7 @@ import type { AuthUser } from '../../lib/http';
 import type { PerformanceCheck, PerformanceResult, PolystyreneResult } from '../../spectra';
 import { instrumentCheckOff } from '../../workers/pool';
 import type { ProvenanceKeys } from '../../workers/tasks';
-import { recordFingerprint } from '../provenance/copies';
+import { recordFingerprint } from '../provenance';
 import * as repo from './repo';
 import {
   CHECK_TYPE_LABELS,

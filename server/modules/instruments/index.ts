@@ -4,3 +4,5 @@ export { specSignedContent } from './specifications';
 export { backInServiceSignedContent, qualificationSignedContent } from './lifecycle';
 export { assessmentSignedContent, lotNotices } from './lookback';
 export { requiredCheckTypes } from './repo';
+export { toCheck, toSpec } from './repo';
+export { instrumentRoutes } from './routes';

@@ -9,7 +9,7 @@ import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser, MachineUser } from '../../lib/http';
-import { getLotDetail, receiveLot } from '../lots/service';
+import { getLotDetail, receiveLot } from '../lots';
 import type {
   ErpLotView,
   ErpReceipt,

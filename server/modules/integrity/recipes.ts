@@ -7,9 +7,9 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
-import { reviewSignedContent } from '../audit-review/service';
+import { reviewSignedContent } from '../audit-review';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
-import * as instrumentsRepo from '../instruments/repo';
+import * as instrumentsRepo from '../instruments';
 import {
   assessmentSignedContent,
   backInServiceSignedContent,
@@ -17,13 +17,13 @@ import {
   qualificationSignedContent,
   specSignedContent,
 } from '../instruments';
-import { referenceSignedContent } from '../library/references';
-import * as libraryRepo from '../library/repo';
-import { methodSignedContent } from '../library/service';
-import { irSuitabilitySignedContent, overrideSignedContent } from '../library/method-control';
-import { loadContext, signedContent } from '../testing/context';
-import { releaseSignedContent } from '../provenance/service';
-import { roleRequestSignedContent } from '../users/grants';
+import { referenceSignedContent } from '../library';
+import * as libraryRepo from '../library';
+import { methodSignedContent } from '../library';
+import { irSuitabilitySignedContent, overrideSignedContent } from '../library';
+import { loadContext, signedContent } from '../testing';
+import { releaseSignedContent } from '../provenance';
+import { roleRequestSignedContent } from '../users';
 
 export interface SignatureRow {
   id: number;

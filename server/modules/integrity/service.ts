@@ -24,7 +24,7 @@ import type { AuthUser } from '../../lib/http';
 import { acquireLease, startJob, type RunningJob } from '../../lib/lease';
 import { enqueueMailToRole } from '../../lib/mail';
 import { transactionWithRetry } from '../../lib/retry';
-import { pageLink } from '../lots/links';
+import { pageLink } from '../../lib/links';
 import {
   ALERT_KIND_LABELS,
   type AlertKind,

@@ -15,10 +15,10 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
-import { pageLink } from '../lots/links';
-import { insertWithNextNumber, yearOf } from '../lots/numbering';
+import { pageLink } from '../../lib/links';
+import { insertWithNextNumber, yearOf } from '../../lib/numbering';
 import * as repo from './repo';
-import { setContainerStatus } from '../sampling/status';
+import { moveLot, setContainerStatus } from '../lots';
 import type {
   ConfirmInput,
   FailingContainer,
@@ -290,7 +290,6 @@ export async function invalidateResult(
         updated_at: now,
       });
     const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
-    await trx('lot').where({ id: inv.lotId }).update({ identity_status: 'retest-authorised', updated_at: now });
     await setContainerStatus(trx, {
       lotId: inv.lotId,
       containerIds: inv.failing.map((f) => f.containerId),
@@ -311,15 +310,20 @@ export async function invalidateResult(
       reason: input.justification,
       ip,
     });
-    await appendAudit(trx, {
-      actor,
-      action: 'lot.retest-authorised',
-      entityType: 'lot',
-      entityId: inv.lotId,
-      before: { identityStatus: lot.identity_status },
-      after: { identityStatus: 'retest-authorised', containers: labels },
-      reason: `Investigation ${inv.number}: ${input.justification}`,
-      ip,
+    await moveLot(trx, {
+      lotId: inv.lotId,
+      to: { identityStatus: 'retest-authorised' },
+      now,
+      audit: {
+        actor,
+        action: 'lot.retest-authorised',
+        entityType: 'lot',
+        entityId: inv.lotId,
+        before: { identityStatus: lot.identity_status },
+        after: { identityStatus: 'retest-authorised', containers: labels },
+        reason: `Investigation ${inv.number}: ${input.justification}`,
+        ip,
+      },
     });
     await enqueueMailToRole(
       trx,
@@ -381,9 +385,6 @@ export async function confirmFailure(
       updated_at: now,
     });
     const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
-    await trx('lot')
-      .where({ id: inv.lotId })
-      .update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
     await setContainerStatus(trx, {
       lotId: inv.lotId,
       containerIds: (await trx('container').where({ lot_id: inv.lotId }).select('id')).map((c) => c.id as number),
@@ -404,15 +405,20 @@ export async function confirmFailure(
       reason: input.justification,
       ip,
     });
-    await appendAudit(trx, {
-      actor,
-      action: 'lot.rejected',
-      entityType: 'lot',
-      entityId: inv.lotId,
-      before: { status: lot.status, identityStatus: lot.identity_status },
-      after: { status: 'rejected', identityStatus: 'rejected' },
-      reason: `Investigation ${inv.number}: ${input.justification}`,
-      ip,
+    await moveLot(trx, {
+      lotId: inv.lotId,
+      to: { status: 'rejected', identityStatus: 'rejected' },
+      now,
+      audit: {
+        actor,
+        action: 'lot.rejected',
+        entityType: 'lot',
+        entityId: inv.lotId,
+        before: { status: lot.status, identityStatus: lot.identity_status },
+        after: { status: 'rejected', identityStatus: 'rejected' },
+        reason: `Investigation ${inv.number}: ${input.justification}`,
+        ip,
+      },
     });
     await enqueueMailToRole(
       trx,

@@ -15,3 +15,9 @@ export {
 export { toMethod } from './repo';
 export type { MethodVersion, StoredBand } from './contract';
 export { irSuitabilityOf, irSuitabilityMap } from './method-control';
+export { assertIrSuitable, irSuitabilitySignedContent, overrideSignedContent } from './method-control';
+export { getPinnedReferenceSet } from './approved-set';
+export { referenceSignedContent } from './references';
+export { toReference } from './repo';
+export { methodSignedContent } from './service';
+export { libraryRoutes } from './routes';

@@ -31,7 +31,7 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, badRequest, conflict, forbidden, notFound, spectrumRefusal } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
-import { recordFingerprint } from '../provenance/copies';
+import { recordFingerprint } from '../provenance';
 import type { ProvenanceKeys } from '../../workers/tasks';
 import type { IdentityMethod, Spectrum } from '../../spectra';
 import { referenceOff } from '../../workers/pool';

@@ -5,7 +5,7 @@
 import { Router } from 'express';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { sendCheckedFile } from '../integrity/service';
+import { sendCheckedFile } from '../integrity';
 import { uploadMiddleware } from '../../lib/upload';
 import { defineRoute, idParams } from '../../lib/http';
 import * as refs from './references';

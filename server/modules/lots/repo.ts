@@ -1,5 +1,6 @@
 /** Data access of lots and containers. */
 import type { Db } from '../../lib/db';
+import { dateOnly } from '../../lib/dates';
 import type { IdentityStatus, LotStatus, LotSummary } from './contract';
 
 export interface LotRow {
@@ -42,12 +43,6 @@ type LotJoined = LotRow & {
   mf_name: string | null;
   ma_name: string | null;
 };
-
-/** DATE columns come back as a Date at UTC midnight (connection time zone Z). */
-export function dateOnly(v: Date | string): string {
-  if (typeof v === 'string') return v.slice(0, 10);
-  return v.toISOString().slice(0, 10);
-}
 
 export function toLotSummary(r: LotJoined): LotSummary {
   return {

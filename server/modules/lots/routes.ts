@@ -6,7 +6,7 @@ import { getDb } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
 import { labelSheetPdf } from './labels-pdf';
-import { setPublicUrl } from './links';
+import { setPublicUrl } from '../../lib/links';
 import * as repo from './repo';
 import { lotCreateSchema, lotListQuerySchema } from './contract';
 import * as service from './service';

@@ -10,15 +10,15 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { formatSiteDate } from '../../lib/contract';
 import { AppError, notFound } from '../../lib/errors';
 import { signaturesFor } from '../../lib/esign';
-import * as inv from '../investigations/repo';
-import { scopesOf, underTest } from '../testing/context';
-import { currentStatuses } from '../sampling/status';
-import { irSuitabilityMap } from '../library/method-control';
-import { effectiveResults, latestByContainer } from '../testing/outcome';
-import * as testing from '../testing/repo';
-import { sourceForReceipt } from '../suppliers/service';
-import { enqueueEvent } from '../integration/outbox';
-import { insertWithNextNumber, yearOf } from './numbering';
+import * as inv from '../investigations';
+import { scopesOf, underTest } from '../testing';
+import { currentStatuses, RECEIVED_LOT, recordReceivedContainers } from './state';
+import { irSuitabilityMap } from '../library';
+import { effectiveResults, latestByContainer } from '../testing';
+import * as testing from '../testing';
+import { sourceForReceipt } from '../suppliers';
+import { enqueueEvent } from '../integration';
+import { insertWithNextNumber, yearOf } from '../../lib/numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
 
@@ -127,8 +127,7 @@ export async function receiveLot(
         container_count: input.containerCount,
         received_date: input.receivedDate,
         notes: input.notes ?? null,
-        status: 'quarantine',
-        identity_status: 'awaiting-testing',
+        ...RECEIVED_LOT,
         erp_account_id: erp?.accountId ?? null,
         erp_receipt_number: erp?.receiptNumber ?? null,
         created_by: actor.id,
@@ -143,16 +142,7 @@ export async function receiveLot(
     }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
     const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id as number);
-    await trx('container_status').insert(
-      ids.map((cid) => ({
-        container_id: cid,
-        status: 'quarantine',
-        reason: 'Received',
-        signature_id: null,
-        changed_by: actor.id,
-        changed_at: now,
-      })),
-    );
+    await recordReceivedContainers(trx, { containerIds: ids, userId: actor.id, now });
     await appendAudit(trx, {
       actor,
       action: 'lot.received',

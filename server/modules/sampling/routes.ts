@@ -5,7 +5,7 @@ import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
-import * as lots from '../lots/repo';
+import * as lots from '../lots';
 import { lineClearanceSchema, samplingSchema } from './contract';
 import { statusLabelsPdf, type StatusLabel } from './labels-pdf';
 import * as service from './service';

@@ -15,7 +15,8 @@ import type { Db } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import * as lots from '../lots/repo';
+import * as lots from '../lots';
+import { currentStatuses, setContainerStatus } from '../lots';
 import { SAMPLING_PLAN_LABELS } from '../suppliers/contract';
 import type {
   LineClearanceInput,
@@ -24,7 +25,7 @@ import type {
   SamplingInput,
   SamplingRecordView,
 } from './contract';
-import { currentStatuses, setContainerStatus, statusHistory } from './status';
+import { statusHistory } from './status';
 import { transactionWithRetry } from '../../lib/retry';
 
 /**

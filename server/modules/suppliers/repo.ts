@@ -2,7 +2,7 @@
 import type { Db } from '../../lib/db';
 import { toSignatureRecord } from '../../lib/esign';
 import type { SourceRecord, SourceStatusRecord, SupplierRecord } from './contract';
-import { dateOnly } from '../lots/repo';
+import { dateOnly } from '../../lib/dates';
 
 export async function listSuppliers(db: Db): Promise<SupplierRecord[]> {
   const rows = await db('supplier as s')

@@ -15,7 +15,7 @@ import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { insertWithNextNumber } from '../lots/numbering';
+import { insertWithNextNumber } from '../../lib/numbering';
 import * as repo from './repo';
 import {
   MIN_JUSTIFICATION,

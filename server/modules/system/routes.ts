@@ -8,7 +8,7 @@ import { defineRoute, idParams } from '../../lib/http';
 import { isDraining } from '../../lib/lifecycle';
 import { metricsText } from '../../lib/metrics';
 import { buildOpenApi } from '../../lib/openapi';
-import { checkChain, getChainRun, requestFullCheck } from '../audit/anchor';
+import { checkChain, getChainRun, requestFullCheck } from '../audit';
 import type { Health, Live, Ready } from './contract';
 
 const CHAIN_READERS = { roles: ['auditor', 'qa_manager', 'admin'] as const };

@@ -4,11 +4,11 @@ import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import { notFound } from '../../lib/errors';
 import type { LotSummary } from '../lots/contract';
-import * as lots from '../lots/repo';
+import * as lots from '../lots';
 import { latestByContainer, type AttemptScope, type ContainerRef } from './outcome';
 import type { MeasurementSummary } from './contract';
 import * as repo from './repo';
-import { sampledContainerIds } from '../sampling/service';
+import { sampledContainerIds } from '../sampling';
 
 export interface TestContext {
   test: repo.TestRow;

@@ -2,7 +2,7 @@
 import { Router } from 'express';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
-import { sendCheckedFile } from '../integrity/service';
+import { sendCheckedFile } from '../integrity';
 import { uploadMiddleware } from '../../lib/upload';
 import { notFound } from '../../lib/errors';
 import { defineRoute, idParams } from '../../lib/http';
@@ -22,7 +22,7 @@ import * as views from './views';
 import { z } from 'zod';
 import { QUEUE_FULL_ITEMS, QUEUE_ITEMS, workQueueFor } from './work-queue';
 import { handOverSchema, releaseBlockSchema } from '../provenance/contract';
-import * as provenance from '../provenance/service';
+import * as provenance from '../provenance';
 
 const OPERATOR = { roles: ['operator'] as const };
 const VERIFIER = { roles: ['verifier'] as const };

@@ -19,7 +19,7 @@ import type { AuthUser } from '../../lib/http';
 import type { Spectrum } from '../../spectra';
 import { measureOff } from '../../workers/pool';
 import { enqueueMailToRole } from '../../lib/mail';
-import { copyRefusal, findCopy, lockAndRecheck, recordFingerprint } from '../provenance/copies';
+import { copyRefusal, findCopy, lockAndRecheck, recordFingerprint } from '../provenance';
 import {
   assertHolder,
   blockedRefusal,
@@ -27,10 +27,10 @@ import {
   identifierFindings,
   identifierRefusal,
   judgeAcquisition,
-} from '../provenance/rules';
-import { getApprovedReferenceSet, getPinnedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
-import { assertIrSuitable } from '../library/method-control';
-import * as lots from '../lots/repo';
+} from '../provenance';
+import { getApprovedReferenceSet, getPinnedReferenceSet, searchApprovedLibrary } from '../library';
+import { assertIrSuitable } from '../library';
+import * as lots from '../lots';
 import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
 import { inScope, labelsInFileName, latestByContainer } from './outcome';
@@ -144,7 +144,6 @@ export async function startTest(
       reference_ids: JSON.stringify(set.references.map((r) => r.id)),
       created_at: now,
     });
-    await trx('lot').where({ id: lotId }).update({ identity_status: 'testing', updated_at: now });
     await appendAudit(trx, {
       actor,
       action: 'test.started',
@@ -161,16 +160,24 @@ export async function startTest(
       },
       ip,
     });
-    if (row.identity_status !== 'testing')
-      await appendAudit(trx, {
-        actor,
-        action: 'lot.identity-status-changed',
-        entityType: 'lot',
-        entityId: lotId,
-        before: { identityStatus: row.identity_status },
-        after: { identityStatus: 'testing' },
-        ip,
-      });
+    await lots.moveLot(trx, {
+      lotId,
+      to: { identityStatus: 'testing' },
+      now,
+      // a new attempt on a lot already in testing (after a returned attempt) moves nothing
+      audit:
+        row.identity_status !== 'testing'
+          ? {
+              actor,
+              action: 'lot.identity-status-changed',
+              entityType: 'lot',
+              entityId: lotId,
+              before: { identityStatus: row.identity_status },
+              after: { identityStatus: 'testing' },
+              ip,
+            }
+          : { recordedBy: 'test.started' },
+    });
     return { id, attempt };
   });
 }

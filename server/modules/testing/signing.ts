@@ -18,14 +18,15 @@ import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
 import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
-import { assertTestIntact } from '../integrity/service';
-import { closeAfterRetest, openInvestigation } from '../investigations/service';
+import { assertTestIntact } from '../integrity';
+import { closeAfterRetest, openInvestigation } from '../investigations';
 import type { FailingContainer } from '../investigations/contract';
-import { pageLink } from '../lots/links';
+import { pageLink } from '../../lib/links';
 import { runCertificateStep } from './certificate-step';
 import { loadContext, scopesOf, signedContent, type TestContext } from './context';
 import { effectiveResults, latestByContainer, lotOutcome, readiness } from './outcome';
-import { enqueueEvent } from '../integration/outbox';
+import { enqueueEvent } from '../integration';
+import { moveLot } from '../lots';
 import * as repo from './repo';
 import type { StoredResult, VerifyOutcome } from './contract';
 
@@ -93,7 +94,12 @@ export async function perform(db: Knex, user: AuthUser, testId: number, signatur
         updated_at: now,
         row_version: ctx.test.row_version + 1,
       });
-    await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'awaiting-verification', updated_at: now });
+    await moveLot(trx, {
+      lotId: ctx.lot.id,
+      to: { identityStatus: 'awaiting-verification' },
+      now,
+      audit: { recordedBy: 'test.performed' },
+    });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },
       action: 'test.performed',
@@ -226,7 +232,6 @@ export async function verify(
       );
     const retestOf = ctx.test.retest_of_investigation_id;
     if (out.kind === 'passed') {
-      await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'passed', updated_at: now });
       await enqueueEvent(trx, 'lot.identity-passed', {
         lotNumber: ctx.lot.lotNumber,
         erpReceiptNumber: ctx.lot.erpReceiptNumber,
@@ -235,14 +240,19 @@ export async function verify(
         testedContainers: ctx.containers.length,
         status: 'quarantine',
       });
-      await appendAudit(trx, {
-        actor,
-        action: 'lot.identity-passed',
-        entityType: 'lot',
-        entityId: ctx.lot.id,
-        before: { identityStatus: lotRow.identity_status },
-        after: { identityStatus: 'passed', testId, containers: ctx.containers.length },
-        ip,
+      await moveLot(trx, {
+        lotId: ctx.lot.id,
+        to: { identityStatus: 'passed' },
+        now,
+        audit: {
+          actor,
+          action: 'lot.identity-passed',
+          entityType: 'lot',
+          entityId: ctx.lot.id,
+          before: { identityStatus: lotRow.identity_status },
+          after: { identityStatus: 'passed', testId, containers: ctx.containers.length },
+          ip,
+        },
       });
       if (retestOf)
         await closeAfterRetest(
@@ -259,7 +269,6 @@ export async function verify(
       out.failing.map((f) => f.measurementId),
     );
     const failing = failingList(ctx, out.failing, rows);
-    await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: 'failed', updated_at: now });
     await enqueueEvent(trx, 'lot.identity-failed', {
       lotNumber: ctx.lot.lotNumber,
       erpReceiptNumber: ctx.lot.erpReceiptNumber,
@@ -267,14 +276,19 @@ export async function verify(
       identityStatus: 'failed',
       status: 'quarantine',
     });
-    await appendAudit(trx, {
-      actor,
-      action: 'lot.identity-failed',
-      entityType: 'lot',
-      entityId: ctx.lot.id,
-      before: { identityStatus: lotRow.identity_status },
-      after: { identityStatus: 'failed', status: lotRow.status, failing: failing.map((f) => f.label) },
-      ip,
+    await moveLot(trx, {
+      lotId: ctx.lot.id,
+      to: { identityStatus: 'failed' },
+      now,
+      audit: {
+        actor,
+        action: 'lot.identity-failed',
+        entityType: 'lot',
+        entityId: ctx.lot.id,
+        before: { identityStatus: lotRow.identity_status },
+        after: { identityStatus: 'failed', status: lotRow.status, failing: failing.map((f) => f.label) },
+        ip,
+      },
     });
     const inv = await openInvestigation(trx, {
       lot: { id: ctx.lot.id, lotNumber: ctx.lot.lotNumber, materialName: ctx.lot.material.name },
@@ -350,7 +364,12 @@ export async function returnTest(
       });
     // A returned retest goes back to its QA authorisation, so the next attempt is again a retest of the named containers.
     const nextStatus = ctx.test.retest_of_investigation_id ? 'retest-authorised' : 'testing';
-    await trx('lot').where({ id: ctx.lot.id }).update({ identity_status: nextStatus, updated_at: now });
+    await moveLot(trx, {
+      lotId: ctx.lot.id,
+      to: { identityStatus: nextStatus },
+      now,
+      audit: { recordedBy: 'test.returned' },
+    });
     const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor,

@@ -4,8 +4,8 @@
  * best reference and their difference on the method grid), the verifier's review and queue.
  */
 import type { Knex } from 'knex';
-import { measurementHistory } from '../provenance/service';
-import { testIntegrity, type FoundBy } from '../integrity/service';
+import { measurementHistory } from '../provenance';
+import { testIntegrity, type FoundBy } from '../integrity';
 import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
 import { notFound } from '../../lib/errors';

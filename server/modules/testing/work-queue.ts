@@ -14,8 +14,8 @@ import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { pendingCertificates } from '../certificates';
 import { instrumentStatus } from './instrument-status';
 import { verificationQueue } from './views';
-import { lotsAwaitingDisposition, retestsDue } from '../disposition/service';
-import { blockedContainers } from '../provenance/service';
+import { lotsAwaitingDisposition, retestsDue } from '../disposition';
+import { blockedContainers } from '../provenance';
 
 /** Items listed per section; the count covers all. */
 export const QUEUE_ITEMS = 50;

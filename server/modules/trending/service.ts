@@ -15,8 +15,8 @@ import type { AuthUser } from '../../lib/http';
 import { startJob, type RunningJob } from '../../lib/lease';
 import { enqueueMailToRole } from '../../lib/mail';
 import { transactionWithRetry } from '../../lib/retry';
-import { csvLine } from '../audit/csv';
-import { pageLink } from '../lots/links';
+import { csvLine } from '../audit';
+import { pageLink } from '../../lib/links';
 import {
   METRIC_LABELS,
   METRICS,

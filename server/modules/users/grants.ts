@@ -26,7 +26,7 @@ import {
   type SignatureInput,
 } from '../../lib/contract';
 import { invalidateUserSessions } from '../../lib/sessions';
-import { pageLink } from '../lots/links';
+import { pageLink } from '../../lib/links';
 import type { RoleChangeWaiting } from './contract';
 import * as repo from './repo';
 
