@@ -24,6 +24,7 @@ import { auditRoutes } from './modules/audit/routes';
 import { certificateRoutes } from './modules/certificates/routes';
 import { lotRoutes } from './modules/lots/routes';
 import { testingRoutes } from './modules/testing/routes';
+import { workQueueRoutes } from './modules/work-queue';
 import { investigationRoutes } from './modules/investigations/routes';
 import { integrityRoutes } from './modules/integrity/routes';
 import { archiveRoutes } from './modules/archive/routes';
@@ -32,7 +33,7 @@ import { dispositionRoutes } from './modules/disposition/routes';
 import { samplingRoutes } from './modules/sampling/routes';
 import { integrationRoutes } from './modules/integration/routes';
 import { machineTokenMiddleware } from './modules/integration/tokens';
-import { startWebhookJob } from './modules/integration/outbox';
+import { startWebhookJob } from './lib/webhook-outbox';
 import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
@@ -97,6 +98,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     certificateRoutes(config),
     lotRoutes(config),
     testingRoutes(config),
+    workQueueRoutes(),
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),

@@ -13,7 +13,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Webhook } from 'standardwebhooks';
 import { startFakeWebhookReceiver, type FakeWebhookReceiver } from '../../server/lib/fake-webhook-receiver';
-import { backoffMs, deliverDue } from '../../server/modules/integration/outbox';
+import { backoffMs, deliverDue } from '../../server/lib/webhook-outbox';
 import { agentFor, db, testApp } from './helpers';
 import { approvedMaterial, FIBRES, flushMail, retire, supplierFor, type ApprovedMaterial } from './fixtures-testing';
 

@@ -20,7 +20,7 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { moveLot, setContainerStatus } from '../lots';
-import { enqueueEvent } from '../integration';
+import { enqueueEvent } from '../../lib/webhook-outbox';
 import {
   DISPOSITION_CAUTION,
   type CheckDef,

@@ -1,4 +1,6 @@
-/** What other modules use of the ERP/LIMS integration: the outbox of events (written in the change's transaction). */
-export { enqueueEvent, startWebhookJob } from './outbox';
+/**
+ * The ERP/LIMS integration's public face: machine tokens and its routes. The outbox of webhook
+ * events that other modules write in their change's transaction is server/lib/webhook-outbox.ts.
+ */
 export { machineTokenMiddleware } from './tokens';
 export { integrationRoutes } from './routes';

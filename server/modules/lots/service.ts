@@ -17,7 +17,7 @@ import { irSuitabilityMap } from '../library';
 import { effectiveResults, latestByContainer } from '../testing';
 import * as testing from '../testing';
 import { sourceForReceipt } from '../suppliers';
-import { enqueueEvent } from '../integration';
+import { enqueueEvent } from '../../lib/webhook-outbox';
 import { insertWithNextNumber, yearOf } from '../../lib/numbering';
 import * as repo from './repo';
 import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';

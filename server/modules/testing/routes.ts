@@ -19,8 +19,6 @@ import {
 import * as service from './service';
 import * as signing from './signing';
 import * as views from './views';
-import { z } from 'zod';
-import { QUEUE_FULL_ITEMS, QUEUE_ITEMS, workQueueFor } from './work-queue';
 import { handOverSchema, releaseBlockSchema } from '../provenance/contract';
 import * as provenance from '../provenance';
 
@@ -70,19 +68,6 @@ export function testingRoutes(config: AppConfig): Router {
       access: VERIFIER,
     },
     ({ user }) => views.verificationQueue(getDb(), user),
-  );
-  defineRoute(
-    r,
-    {
-      method: 'get',
-      path: '/api/work-queue',
-      summary: 'What awaits the signed-in user, per role',
-      description: `Each section lists its first ${QUEUE_ITEMS} items and counts all; ?full=<section key> lists that section whole (up to ${QUEUE_FULL_ITEMS}).`,
-      tag: 'testing',
-      access: 'authenticated',
-      query: z.object({ full: z.string().max(60).optional() }).strict(),
-    },
-    ({ user, query }) => workQueueFor(getDb(), user, query.full),
   );
   defineRoute(
     r,

@@ -25,7 +25,7 @@ import { pageLink } from '../../lib/links';
 import { runCertificateStep } from './certificate-step';
 import { loadContext, scopesOf, signedContent, type TestContext } from './context';
 import { effectiveResults, latestByContainer, lotOutcome, readiness } from './outcome';
-import { enqueueEvent } from '../integration';
+import { enqueueEvent } from '../../lib/webhook-outbox';
 import { moveLot } from '../lots';
 import * as repo from './repo';
 import type { StoredResult, VerifyOutcome } from './contract';

@@ -13,10 +13,10 @@
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { Webhook } from 'standardwebhooks';
-import { canonicalJson } from '../../lib/canonical';
-import { startJob, type RunningJob } from '../../lib/lease';
-import { parseJson } from '../../lib/db';
-import type { WebhookEvent } from './contract';
+import { canonicalJson } from './canonical';
+import { startJob, type RunningJob } from './lease';
+import { parseJson } from './db';
+import type { WebhookEvent } from '../modules/integration/contract';
 
 export const MAX_ATTEMPTS = 8;
 const FIRST_BACKOFF_MS = 30_000;

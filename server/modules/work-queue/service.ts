@@ -1,5 +1,6 @@
 /**
- * The work queue of the signed-in user (docs/architecture.md, "The identity flow"): per role, what awaits them.
+ * The work queue of the signed-in user (docs/architecture.md, "The identity flow"): per role, what awaits them,
+ * read from the other modules through their indexes (this module is imported by none of them).
  * - operator: lots to test (quarantine, awaiting testing, testing, returned or retest authorised)
  * - verifier: tests awaiting verification that they neither performed nor measured
  * - qa_manager: open investigations; draft references awaiting approval (not their own uploads);
@@ -10,10 +11,9 @@
 import type { Knex } from 'knex';
 import type { AuthUser } from '../../lib/http';
 import type { Role } from '../../lib/contract';
-import type { QueueItem, QueueSection, WorkQueue } from './contract';
+import type { QueueItem, QueueSection, WorkQueue } from '../testing/contract';
 import { pendingCertificates } from '../certificates';
-import { instrumentStatus } from './instrument-status';
-import { verificationQueue } from './views';
+import { instrumentStatus, verificationQueue } from '../testing';
 import { lotsAwaitingDisposition, retestsDue } from '../disposition';
 import { blockedContainers } from '../provenance';
 
