@@ -1,12 +1,11 @@
 /**
- * Contract of identity testing, verification and the work queue: request schemas (zod), labels
+ * Contract of identity testing and verification: request schemas (zod), labels
  * and response shapes. Pure data and zod only: the client imports this file too.
  */
 import { z } from 'zod';
 import {
   multiLineText,
   type PersonRef,
-  type Role,
   signatureInput,
   type SignatureRecord,
   singleLineText,
@@ -395,33 +394,5 @@ export interface VerifyOutcome {
   certificate: 'issued' | 'pending' | null;
 }
 
-export interface QueueItem {
-  id: number;
-  title: string;
-  detail: string;
-  href: string;
-  /** An action the queue offers in place (QA's retry of a certificate that could not be issued). */
-  action?: { kind: 'issue-certificate'; lotId: number };
-}
-
-export interface QueueSection {
-  key:
-    | 'lots-to-sample'
-    | 'lots-to-test'
-    | 'tests-to-verify'
-    | 'open-investigations'
-    | 'lots-awaiting-disposition'
-    | 'retests-due'
-    | 'references-to-approve'
-    | 'instrument-checks-due'
-    | 'certificates-to-issue'
-    | 'blocked-containers';
-  title: string;
-  roles: Role[];
-  count: number;
-  items: QueueItem[];
-}
-
-export interface WorkQueue {
-  sections: QueueSection[];
-}
+// The work queue's response types live in its own module's contract (server/modules/work-queue).
+export type { QueueItem, QueueSection, WorkQueue } from '../work-queue/contract';

@@ -11,7 +11,7 @@
 import type { Knex } from 'knex';
 import type { AuthUser } from '../../lib/http';
 import type { Role } from '../../lib/contract';
-import type { QueueItem, QueueSection, WorkQueue } from '../testing/contract';
+import type { QueueItem, QueueSection, WorkQueue } from './contract';
 import { pendingCertificates } from '../certificates';
 import { instrumentStatus, verificationQueue } from '../testing';
 import { lotsAwaitingDisposition, retestsDue } from '../disposition';
