@@ -36,6 +36,8 @@ import { machineTokenMiddleware } from './modules/integration/tokens';
 import { startWebhookJob } from './lib/webhook-outbox';
 import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
+import { useRecipes } from './modules/integrity';
+import { RECIPES } from './signature-recipes';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
 import { startTrendJob } from './modules/trending/service';
@@ -51,6 +53,10 @@ export interface CreateAppOptions {
   database?: string;
   serveClient?: boolean;
 }
+
+// The integrity checks rebuild every module's signed content from this table (docs/architecture.md,
+// "Direction of imports"); handed over when the app is loaded, before any check can run.
+useRecipes(RECIPES);
 
 export function createApp(opts: CreateAppOptions = {}): { app: Express; config: AppConfig } {
   const config = loadConfig(opts.config);

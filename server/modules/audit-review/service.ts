@@ -2,7 +2,7 @@
  * The periodic audit-trail review (EU GMP Annex 11 §9; docs/trending.md): exception lists of a
  * period drawn from the audit trail, QA's signed review record (append-only table audit_review,
  * e-signature meaning "audit-trail-reviewed" over the stored content, recipe in
- * server/modules/integrity/recipes.ts), the list, the PDF and whether a review is due (site
+ * server/signature-recipes.ts), the list, the PDF and whether a review is due (site
  * setting AUDIT_REVIEW_MONTHS, default monthly).
  */
 import type { Knex } from 'knex';

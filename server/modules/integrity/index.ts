@@ -8,3 +8,4 @@ export {
   type FoundBy,
 } from './service';
 export { integrityRoutes } from './routes';
+export { alertSignedContent, useRecipes, type Recipe, type SignatureRow } from './signatures';

@@ -1,7 +1,7 @@
 /**
  * The integrity sweep (docs/compliance.md, "Integrity sweep"; issue 12 item 3). Re-hashes every
  * stored file against its SHA-256, every certificate PDF against its SHA-256, every signed record
- * against its signature's content hash (./recipes.ts), and every account's roles against its
+ * against its signature's content hash (./signatures.ts, the table in server/signature-recipes.ts), and every account's roles against its
  * latest role grant. It runs as a background job once per site under the 'integrity-sweep' lease
  * (daily by default, INTEGRITY_SWEEP_HOURS) and whenever an auditor or QA asks for a run. Downloads
  * and the verifier's review hash the bytes they serve the same way, and verification refuses to
@@ -35,7 +35,7 @@ import {
   type RecordIntegrity,
   type SignOffInput,
 } from './contract';
-import { alertSignedContent, RECIPES, recipeKey, type SignatureRow } from './recipes';
+import { alertSignedContent, recipeFor, recipeKey, type SignatureRow } from './signatures';
 
 export const SWEEP_LEASE = 'integrity-sweep';
 const FILE_PAGE = 20;
@@ -477,7 +477,7 @@ export async function checkCertificateBytes(
 
 /** Re-checks one signature against its record; null when no recipe knows its kind. */
 export async function checkSignature(db: Knex, s: SignatureRow, by: FoundBy): Promise<boolean | null> {
-  const recipe = RECIPES[recipeKey(s)];
+  const recipe = recipeFor(recipeKey(s));
   if (!recipe) return null;
   const content = await recipe(db, s);
   const actual = content === undefined ? 'record missing' : contentHash(content);

@@ -4,39 +4,30 @@
  * database instead of the request. The sweep hashes the rebuilt content and compares it with the
  * signature's content_hash; a difference means the signed record changed after signing. A kind of
  * signature without a recipe here is counted as "not checked" in the run (never silently passed).
+ * The composition root (server/app.ts) hands this table to the integrity module
+ * (`useRecipes`), so integrity imports none of the modules whose records it checks
+ * (docs/architecture.md, "Direction of imports").
  */
 import type { Knex } from 'knex';
-import { parseJson } from '../../lib/db';
-import { reviewSignedContent } from '../audit-review';
-import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
-import * as instrumentsRepo from '../instruments';
+import { parseJson } from './lib/db';
+import { alertSignedContent, type Recipe } from './modules/integrity';
+import { reviewSignedContent } from './modules/audit-review';
+import { PHASE1_ITEMS, PHASE1_LABELS } from './modules/investigations/contract';
+import * as instrumentsRepo from './modules/instruments';
 import {
   assessmentSignedContent,
   backInServiceSignedContent,
   checkSignedContent,
   qualificationSignedContent,
   specSignedContent,
-} from '../instruments';
-import { referenceSignedContent } from '../library';
-import * as libraryRepo from '../library';
-import { methodSignedContent } from '../library';
-import { irSuitabilitySignedContent, overrideSignedContent } from '../library';
-import { loadContext, signedContent } from '../testing';
-import { releaseSignedContent } from '../provenance';
-import { roleRequestSignedContent } from '../users';
-
-export interface SignatureRow {
-  id: number;
-  user_id: number;
-  meaning: string;
-  entity_type: string;
-  entity_id: string;
-  content_hash: string;
-  statement: string | null;
-}
-
-/** Rebuilds the signed content; undefined when the record it belongs to no longer exists. */
-type Recipe = (db: Knex, s: SignatureRow) => Promise<unknown>;
+} from './modules/instruments';
+import { referenceSignedContent } from './modules/library';
+import * as libraryRepo from './modules/library';
+import { methodSignedContent } from './modules/library';
+import { irSuitabilitySignedContent, overrideSignedContent } from './modules/library';
+import { loadContext, signedContent } from './modules/testing';
+import { releaseSignedContent } from './modules/provenance';
+import { roleRequestSignedContent } from './modules/users';
 
 const fileSha = async (db: Knex, fileId: number): Promise<string> =>
   (await db('stored_file').where({ id: fileId }).first('sha256'))?.sha256;
@@ -258,20 +249,3 @@ export const RECIPES: Record<string, Recipe> = {
     return alertSignedContent(a, so.comment);
   },
 };
-
-/** The content QA signs when signing off an alert. */
-export function alertSignedContent(
-  a: { id: number; kind: string; subject_type: string; subject_id: string; expected: string; found: string },
-  comment: string,
-) {
-  return {
-    alertId: a.id,
-    kind: a.kind,
-    subject: `${a.subject_type} ${a.subject_id}`,
-    expected: a.expected,
-    found: a.found,
-    comment,
-  };
-}
-
-export const recipeKey = (s: Pick<SignatureRow, 'entity_type' | 'meaning'>) => `${s.entity_type}/${s.meaning}`;
