@@ -34,6 +34,7 @@ import {
 } from './contract';
 import { currentProfile, irNotSuitable, materialWithIr } from './profile';
 import { transactionWithRetry } from '../../lib/retry';
+import { latestRetest, retestsOf } from './retest';
 
 async function lotRow(db: Db, lotId: number) {
   const lot = await db('lot as l')
@@ -70,7 +71,7 @@ async function currentCertificate(db: Db, lotId: number) {
     .where('c.lot_id', lotId)
     .whereNull('n.id')
     .orderBy('c.id', 'desc')
-    .first('c.id', 'c.number');
+    .first('c.id', 'c.number', 'c.issued_at');
 }
 
 /** Every release condition of a lot, each with whether it holds and why not. */
@@ -81,7 +82,7 @@ export async function releaseConditions(
   conditions: ReleaseCondition[];
   required: (CheckDef & { record: LotCheckRecord | null })[];
   checks: LotCheckRecord[];
-  certificate: { id: number; number: string } | null;
+  certificate: { id: number; number: string; issued_at: Date } | null;
   profile: Awaited<ReturnType<typeof currentProfile>>;
 }> {
   const { lot, material } = await lotRow(db, lotId);
@@ -101,17 +102,24 @@ export async function releaseConditions(
       : `${material.name} has no approved disposition profile; QA approves one first (it sets the retest date).`,
   });
 
-  const cert = await currentCertificate(db, lotId);
+  const retest = await latestRetest(db, lotId);
+  let cert = await currentCertificate(db, lotId);
+  // After a retest only a certificate of the retest counts (issued after the retest started).
+  if (cert && retest && new Date(cert.issued_at) < new Date(retest.started_at)) cert = undefined;
   if (irNotSuitable(material)) {
     const alt = required.find((r) => r.kind === 'alternative-identity');
-    const ok = alt?.record?.outcome === 'conforms';
+    // after a retest, the replacing test is recorded again for the retest
+    const fresh = !retest || (!!alt?.record && new Date(alt.record.recordedAt) >= new Date(retest.started_at));
+    const ok = alt?.record?.outcome === 'conforms' && fresh;
     conditions.push({
       key: 'identity',
       label: 'Identity confirmed by the test that replaces IR (material flagged "IR not suitable")',
       met: ok,
       detail: ok
         ? `${alt!.label}: conforms (${alt!.record!.reference}).`
-        : 'Record the result of the replacing identity test as conforming.',
+        : alt?.record?.outcome === 'conforms'
+          ? 'The lot is under retest: record the result of the replacing identity test for the retest.'
+          : 'Record the result of the replacing identity test as conforming (reference, result, signed).',
     });
   } else {
     const ok = lot.identity_status === 'passed' && !!cert;
@@ -123,7 +131,9 @@ export async function releaseConditions(
         ? `Identity passed; certificate ${cert!.number}.`
         : lot.identity_status !== 'passed'
           ? `The identity status is "${lot.identity_status}".`
-          : 'Identity passed but the certificate is not issued yet.',
+          : retest
+            ? 'Identity passed in the retest but its certificate is not issued yet.'
+            : 'Identity passed but the certificate is not issued yet.',
     });
   }
 
@@ -204,6 +214,7 @@ export async function dispositionView(db: Db, lotId: number): Promise<LotDisposi
     requiredChecks: c.required,
     checks: c.checks,
     disposition: await dispositionOf(db, lotId),
+    retests: await retestsOf(db, lotId),
     caution: DISPOSITION_CAUTION,
   };
 }
