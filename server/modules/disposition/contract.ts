@@ -117,7 +117,7 @@ export type RejectInput = z.infer<typeof rejectSchema>;
 
 /** One condition of release, with whether it holds and why not. */
 export interface ReleaseCondition {
-  key: 'identity' | 'investigations' | 'checks' | 'source' | 'sampling' | 'profile';
+  key: 'identity' | 'investigations' | 'containers' | 'checks' | 'source' | 'sampling' | 'profile';
   label: string;
   met: boolean;
   detail: string;

@@ -19,7 +19,7 @@ import type { Db } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { setContainerStatus } from '../sampling/status';
+import { currentStatuses, holdsOf, setContainerStatus } from '../sampling/status';
 import { enqueueEvent } from '../integration/outbox';
 import {
   DISPOSITION_CAUTION,
@@ -143,6 +143,25 @@ export async function releaseConditions(
     label: 'No open investigation',
     met: open.length === 0,
     detail: open.length ? `Open: ${open.map((o) => o.number).join(', ')}.` : 'None open.',
+  });
+
+  // one place decides a container's status (server/modules/sampling/status.ts): a blocked one stops the release
+  const statuses = await currentStatuses(db, lotId);
+  const holds = await holdsOf(db, lotId);
+  const labels = new Map(
+    (await db('container').where({ lot_id: lotId }).select('id', 'label')).map((x) => [
+      x.id as number,
+      x.label as string,
+    ]),
+  );
+  const blocked = [...statuses].filter(([, st]) => st === 'blocked').map(([id]) => id);
+  conditions.push({
+    key: 'containers',
+    label: 'No container blocked',
+    met: blocked.length === 0,
+    detail: blocked.length
+      ? `Blocked: ${blocked.map((id) => `${labels.get(id)} (${(holds.get(id) ?? ['blocked']).join('; ')})`).join(', ')}.`
+      : 'None blocked.',
   });
 
   const missing = required.filter((r) => r.kind !== 'alternative-identity' || !irNotSuitable(material));
@@ -517,12 +536,28 @@ export async function reject(
   return dispositionView(db, lotId);
 }
 
-/** Lots whose disposition QA has to decide: in quarantine, identity passed (or an IR-not-suitable material's lot sampled). */
+/** Lots whose disposition QA has to decide: in quarantine, identity passed, or (material not identified by IR) sampled. */
 export async function lotsAwaitingDisposition(db: Db) {
+  const latestIr = db('material_ir_suitability').max('id').groupBy('material_id');
   return db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where('l.status', 'quarantine')
-    .where('l.identity_status', 'passed')
+    .where((w) =>
+      w.where('l.identity_status', 'passed').orWhere((x) =>
+        // a material whose identity is not tested by IR: sampled, awaiting the replacing test's result and QA
+        x
+          .where('l.identity_status', 'awaiting-testing')
+          .whereExists(
+            db('material_ir_suitability as s')
+              .whereRaw('s.material_id = l.material_id')
+              .where('s.suitable', 0)
+              .whereIn('s.id', latestIr),
+          )
+          .where((y) =>
+            y.whereNull('l.sampling_plan').orWhereExists(db('sampling_record as r').whereRaw('r.lot_id = l.id')),
+          ),
+      ),
+    )
     .select('l.id', 'l.lot_number', 'm.name as m_name', 'l.received_date')
     .orderBy('l.id');
 }
