@@ -41,6 +41,12 @@ export const appRoutes: AppRoute[] = [
   },
   // Feature pages: append below, one line each.
   {
+    path: '/admin/integration',
+    element: lazyPage(() => import('../routes/admin-integration')),
+    roles: ['admin'],
+    nav: { label: 'ERP link', group: 'admin', order: 20 },
+  },
+  {
     path: '/trending',
     element: lazyPage(() => import('../routes/trending')),
     roles: ['qa_manager', 'auditor'],
