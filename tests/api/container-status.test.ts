@@ -105,7 +105,12 @@ describe('a container blocked by the provenance rule', () => {
       (c: { containerId: number }) => c.containerId === c1.id,
     );
     expect(after.heldBy).toEqual([]);
-    expect(after.history.map((h: { status: string }) => h.status)).toEqual(['quarantine', 'sampled', 'blocked', 'sampled']);
+    expect(after.history.map((h: { status: string }) => h.status)).toEqual([
+      'quarantine',
+      'sampled',
+      'blocked',
+      'sampled',
+    ]);
     expect(after.history.at(-1).reason).toMatch(/Block released by QA/);
     const cond2 = (await qa.agent.get(`/api/lots/${lot.id}/disposition`)).body.conditions.find(
       (c: { key: string }) => c.key === 'containers',
