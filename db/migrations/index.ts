@@ -26,6 +26,7 @@ import * as m142 from './142_sampling';
 import * as m143 from './143_disposition';
 import * as m144 from './144_integration';
 import * as m150 from './150_trending';
+import * as m155 from './155_trend_investigation';
 import * as m156 from './156_audit_review_reminder';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
@@ -58,6 +59,7 @@ export const migrations: [string, Migration][] = [
   ['143_disposition', m143],
   ['144_integration', m144],
   ['150_trending', m150],
+  ['155_trend_investigation', m155],
   ['156_audit_review_reminder', m156],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],

@@ -55,7 +55,7 @@ export const CATEGORY_ACTIONS: Record<ReviewCategory, string[]> = {
     'gate-override.confirmed',
   ],
   'integrity-alerts': ['integrity.mismatch-found', 'integrity.alert-signed-off'],
-  'trend-signals': ['trend.signal-raised', 'trend.signal-acknowledged'],
+  'trend-signals': ['trend.signal-raised', 'trend.signal-acknowledged', 'trend.signal-investigated'],
 };
 
 /** Actions that are not GMP-relevant changes (sessions and reading): left out of the period total. */
