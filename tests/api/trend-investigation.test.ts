@@ -95,6 +95,22 @@ const open = (who: Signed, signalId: number, over: Record<string, unknown> = {})
 
 const investigationsOf = (signalId: number) => db()('investigation').where({ trend_signal_id: signalId });
 
+/** The review exceptions of a verified test of the drifting source, as a verifier reads them. */
+async function driftExceptions(): Promise<string[]> {
+  const m = await db()('measurement as me')
+    .join('identity_test as t', 't.id', 'me.test_id')
+    .join('lot as l', 'l.id', 't.lot_id')
+    .whereIn('me.id', history)
+    .where('l.supplier', DRIFTING)
+    .orderBy('me.id', 'desc')
+    .first('me.test_id');
+  const res = await olga.agent.get(`/api/tests/${m.test_id}/exceptions`);
+  expect(res.status).toBe(200);
+  return res.body.exceptions
+    .filter((e: { kind: string }) => e.kind === 'open-signal')
+    .map((e: { text: string }) => e.text);
+}
+
 describe('opening an investigation from a trend signal', () => {
   let target: Signal;
   let invId: number;
@@ -161,6 +177,11 @@ describe('opening an investigation from a trend signal', () => {
     // listed with the open investigations and in the work queue data
     const list = await olga.agent.get('/api/investigations');
     expect(list.body.map((i: { id: number }) => i.id)).toContain(invId);
+    // the verifier's review still leads with the signal while its investigation is open
+    const ex = await driftExceptions();
+    expect(
+      ex.some((t) => t.includes(`Trend signal ${target.id} `) && t.includes(`under investigation ${res.body.number}`)),
+    ).toBe(true);
   });
 
   it('refuses a second investigation of the same signal, and an acknowledgement of an investigated signal', async () => {
@@ -239,7 +260,8 @@ describe('opening an investigation from a trend signal', () => {
     const twice = await quinn.agent
       .post(`/api/investigations/${invId}/conclude`)
       .send({ conclusion, signature: sig(quinn.user) });
-    expect(twice.status).toBe(409);
+    expect(twice.status).toBe(409); // concluded: no longer an exception of the verifier's review
+    expect((await driftExceptions()).some((t) => t.includes(`signal ${target.id} `))).toBe(false);
   });
 
   it('refuses a conclusion on an investigation of a failing result', async () => {
