@@ -299,5 +299,19 @@ describe('opening an investigation from a trend signal', () => {
         /may not change/,
       );
     }
+    // a second trend investigation, phase I recorded: no retest can be authorised through it
+    const still = (await quinn.agent.get(`/api/trending/signals?materialId=${nylon.materialId}`)).body as Signal[];
+    expect(still.length).toBeGreaterThan(0);
+    const second = await open(quinn2, still[0].id);
+    expect(second.status).toBe(201);
+    expect(
+      (await quinn.agent.post(`/api/investigations/${second.body.id}/phase1`).send(phase1(quinn.user))).status,
+    ).toBe(200);
+    for (const k of [db(), ownerDb()])
+      await expect(
+        k('investigation')
+          .where({ id: second.body.id })
+          .update({ status: 'retest-authorised', decision: 'invalidated', retest_containers: '[]' }),
+      ).rejects.toThrow(/never authorises a retest|needs|must name/);
   });
 });
