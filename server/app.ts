@@ -40,6 +40,7 @@ import { useRecipes } from './modules/integrity';
 import { RECIPES } from './signature-recipes';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startAuditReviewReminderJob } from './modules/audit-review/service';
 import { startTrendJob } from './modules/trending/service';
 import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
@@ -104,7 +105,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     certificateRoutes(config),
     lotRoutes(config),
     testingRoutes(config),
-    workQueueRoutes(),
+    workQueueRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),
@@ -143,6 +144,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       startIntegrityJob(getDb(), config.integritySweepHours);
       startWebhookJob(getDb());
       startTrendJob(getDb());
+      startAuditReviewReminderJob(getDb(), config.auditReviewMonths);
       startCertificateRetryJob(getDb(), config);
       // the local fake time-stamping authority of development and tests (docs/certificates.md)
       if (!config.tsaUrl && config.devMode) await startFakeTsa();

@@ -12,7 +12,8 @@ import type { Knex } from 'knex';
 import { parseJson } from './lib/db';
 import { alertSignedContent, type Recipe } from './modules/integrity';
 import { reviewSignedContent } from './modules/audit-review';
-import { PHASE1_ITEMS, PHASE1_LABELS } from './modules/investigations/contract';
+import { PHASE1_ITEMS, PHASE1_LABELS, type TrendSubject } from './modules/investigations/contract';
+import { openingContent } from './modules/investigations';
 import * as instrumentsRepo from './modules/instruments';
 import {
   assessmentSignedContent,
@@ -27,6 +28,7 @@ import { methodSignedContent } from './modules/library';
 import { irSuitabilitySignedContent, overrideSignedContent } from './modules/library';
 import { loadContext, signedContent } from './modules/testing';
 import { releaseSignedContent } from './modules/provenance';
+import { retestSignedContent } from './modules/disposition';
 import { roleRequestSignedContent } from './modules/users';
 
 const fileSha = async (db: Knex, fileId: number): Promise<string> =>
@@ -38,6 +40,12 @@ const investigationRecipe: Recipe = async (db, s) => {
     .first();
   if (!inv) return undefined;
   const failing = parseJson<{ containerId: number; label: string }[]>(inv.failing, []);
+  if (s.meaning === 'investigation-opened') {
+    const subject = parseJson<TrendSubject | null>(inv.subject, null);
+    return subject ? openingContent(inv.number, subject) : null;
+  }
+  if (s.meaning === 'trend-concluded')
+    return { investigation: inv.number, decision: 'concluded', conclusion: inv.justification };
   if (s.meaning === 'phase-1-recorded') {
     const p = parseJson<{ items: unknown; summary: string } | null>(inv.phase1, null);
     return { investigation: inv.number, items: p?.items, summary: p?.summary };
@@ -205,6 +213,8 @@ export const RECIPES: Record<string, Recipe> = {
   'investigation/phase-1-recorded': investigationRecipe,
   'investigation/result-invalidated': investigationRecipe,
   'investigation/failure-confirmed': investigationRecipe,
+  'investigation/investigation-opened': investigationRecipe,
+  'investigation/trend-concluded': investigationRecipe,
   'certificate/issued': async (db, s) => {
     const c = await db('certificate')
       .where({ number: s.entity_id })
@@ -237,6 +247,20 @@ export const RECIPES: Record<string, Recipe> = {
       invalidCount: r.invalid_count,
       reason: r.reason,
     });
+  },
+  'lot/retest-started': async (db, s) => {
+    const r = await db('lot_retest as r')
+      .join('lot as l', 'l.id', 'r.lot_id')
+      .where('r.signature_id', s.id)
+      .first('r.*', 'l.lot_number');
+    return r
+      ? retestSignedContent({
+          lotNumber: r.lot_number,
+          reopenedDispositionId: r.reopened_disposition_id,
+          retestDateDue: r.retest_date_due ? new Date(r.retest_date_due).toISOString().slice(0, 10) : null,
+          reason: r.reason,
+        })
+      : undefined;
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')

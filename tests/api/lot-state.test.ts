@@ -60,7 +60,8 @@ describe('moveLot', () => {
     );
     await expect(refused).rejects.toMatchObject({
       status: 409,
-      message: 'Only a lot whose identity passed can be released.',
+      message:
+        'Only a lot whose identity passed (or, for a material not identified by IR, whose replacing identity test conforms) can be released.',
     });
     expect((await db()('lot').where({ id: lot.id }).first()).status).toBe('quarantine');
   });
@@ -90,17 +91,32 @@ describe('moveLot', () => {
 });
 
 describe('setContainerStatus', () => {
-  it('refuses to block a container still in quarantine (409) and stores no status row', async () => {
-    const lot = await receiveLot(operator.agent, nylon.materialId, 2, { sample: false });
+  it('refuses to return a sampled container to quarantine (409) and stores no status row', async () => {
+    const lot = await receiveLot(operator.agent, nylon.materialId, 2);
     const [c] = lot.containers;
     const rows = async () => (await db()('container_status').where({ container_id: c.id })).length;
     const before = await rows();
     const refused = db().transaction((trx) =>
-      setContainerStatus(trx, { lotId: lot.id, containerIds: [c.id], status: 'blocked', userId: null }),
+      setContainerStatus(trx, { lotId: lot.id, containerIds: [c.id], status: 'quarantine', userId: null }),
     );
     await expect(refused).rejects.toMatchObject({
       status: 409,
-      message: 'A container that is quarantine cannot become blocked.',
+      message: 'A container that is sampled cannot become quarantine.',
+    });
+    expect(await rows()).toBe(before);
+  });
+
+  it('refuses a retest move of containers whose lot was not returned to quarantine by a retest (409)', async () => {
+    const lot = await receiveLot(operator.agent, nylon.materialId, 1);
+    const [c] = lot.containers;
+    const rows = async () => (await db()('container_status').where({ container_id: c.id })).length;
+    const before = await rows();
+    const refused = db().transaction((trx) =>
+      setContainerStatus(trx, { lotId: lot.id, containerIds: [c.id], status: 'sampled', userId: null, retest: true }),
+    );
+    await expect(refused).rejects.toMatchObject({
+      status: 409,
+      message: 'Containers go back under test only after the lot was returned to quarantine by a retest.',
     });
     expect(await rows()).toBe(before);
   });

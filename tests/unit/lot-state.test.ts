@@ -1,10 +1,10 @@
 /**
  * The lot and container state machine (server/modules/lots/state.ts; docs/architecture.md, "The lot
  * and container state machine"): which transitions are allowed, which are refused, and that the
- * list matches the database guard of the lot (db/migrations/144_integration.ts, lotGuard144).
+ * list matches the database guard of the lot (db/migrations/145_retest.ts, lotGuard145).
  */
 import { describe, expect, it } from 'vitest';
-import { lotGuard144 } from '../../db/migrations/144_integration';
+import { lotGuard145 } from '../../db/migrations/145_retest';
 import { CONTAINER_STATUSES } from '../../server/modules/sampling/contract';
 import { IDENTITY_STATUSES, LOT_STATUSES } from '../../server/modules/lots/contract';
 import {
@@ -58,12 +58,26 @@ describe('lot identity status transitions', () => {
 });
 
 describe('lot disposition status transitions', () => {
-  it('releases only a lot whose identity passed', () => {
+  it('releases only a lot whose identity passed, or whose replacing identity test conforms (material not identified by IR)', () => {
     expect(lotTransitionRefusal(inQuarantine('passed'), { status: 'released' })).toBeNull();
     expect(lotTransitionRefusal(inQuarantine('awaiting-verification'), { status: 'released' })).toBe(
-      'Only a lot whose identity passed can be released.',
+      'Only a lot whose identity passed (or, for a material not identified by IR, whose replacing identity test conforms) can be released.',
     );
     expect(lotTransitionRefusal(inQuarantine('failed'), { status: 'released' })).toMatch(/identity passed/);
+    expect(
+      lotTransitionRefusal(
+        inQuarantine('awaiting-testing'),
+        { status: 'released' },
+        { replacingIdentityConforms: true },
+      ),
+    ).toBeNull();
+    expect(
+      lotTransitionRefusal(
+        inQuarantine('awaiting-testing'),
+        { status: 'released' },
+        { replacingIdentityConforms: false },
+      ),
+    ).toMatch(/replacing identity test conforms/);
   });
 
   it('rejects a lot only together with its identity status', () => {
@@ -73,10 +87,22 @@ describe('lot disposition status transitions', () => {
     );
   });
 
-  it('never moves a released or rejected lot to another disposition', () => {
-    expect(lotTransitionRefusal({ status: 'released', identityStatus: 'passed' }, { status: 'quarantine' })).toBe(
-      'A lot that is released cannot become quarantine.',
+  it('returns a released lot to quarantine and awaiting testing only through a retest of its current release', () => {
+    const released = { status: 'released', identityStatus: 'passed' } as const;
+    const back = { status: 'quarantine', identityStatus: 'awaiting-testing' } as const;
+    expect(lotTransitionRefusal(released, back, { retestOfCurrentRelease: true })).toBeNull();
+    expect(lotTransitionRefusal(released, back)).toBe(
+      'A released lot returns to quarantine only through a signed retest of its current release.',
     );
+    expect(lotTransitionRefusal(released, { status: 'quarantine' }, { retestOfCurrentRelease: true })).toMatch(
+      /only through a signed retest/,
+    );
+    expect(lotTransitionRefusal(inQuarantine('passed'), { identityStatus: 'awaiting-testing' })).toBe(
+      'Identity goes back from passed to awaiting testing only when a released lot is retested.',
+    );
+  });
+
+  it('never moves a released or rejected lot to another disposition', () => {
     expect(lotTransitionRefusal({ status: 'released', identityStatus: 'passed' }, { status: 'rejected' })).toMatch(
       /released cannot become rejected/,
     );
@@ -87,20 +113,29 @@ describe('lot disposition status transitions', () => {
 });
 
 describe('container status transitions', () => {
-  it('allows quarantine -> sampled -> released or rejected, and a block held by an investigation', () => {
+  it('allows quarantine -> sampled -> released or rejected, and a block by a hold and back to the former status', () => {
     expect(containerTransitionRefusal('quarantine', 'sampled')).toBeNull();
     expect(containerTransitionRefusal('sampled', 'released')).toBeNull();
     expect(containerTransitionRefusal('sampled', 'blocked')).toBeNull();
+    expect(containerTransitionRefusal('quarantine', 'blocked')).toBeNull();
     expect(containerTransitionRefusal('blocked', 'sampled')).toBeNull();
+    expect(containerTransitionRefusal('blocked', 'quarantine')).toBeNull();
     expect(containerTransitionRefusal('blocked', 'rejected')).toBeNull();
   });
 
-  it('refuses a released container back to sampled, leaving rejected, and blocking an unsampled container', () => {
+  it('puts a released container back under test only in a retest of its lot', () => {
+    expect(containerTransitionRefusal('released', 'sampled', { retest: true })).toBeNull();
+    expect(containerTransitionRefusal('released', 'quarantine', { retest: true })).toBeNull();
     expect(containerTransitionRefusal('released', 'sampled')).toBe(
-      'A container that is released cannot become sampled.',
+      'A released container becomes sampled only through a retest of its lot.',
     );
+    expect(containerTransitionRefusal('released', 'rejected', { retest: true })).toMatch(
+      /released cannot become rejected/,
+    );
+  });
+
+  it('refuses leaving rejected and releasing a blocked container', () => {
     expect(containerTransitionRefusal('rejected', 'quarantine')).toMatch(/rejected cannot become quarantine/);
-    expect(containerTransitionRefusal('quarantine', 'blocked')).toMatch(/quarantine cannot become blocked/);
     expect(containerTransitionRefusal('blocked', 'released')).toMatch(/blocked cannot become released/);
   });
 
@@ -111,7 +146,7 @@ describe('container status transitions', () => {
 });
 
 describe('the state machine and the database guard of the lot agree', () => {
-  const guard = lotGuard144();
+  const guard = lotGuard145();
   const pairs = (column: string) =>
     guard
       .states!.find((s) => s.column === column)!

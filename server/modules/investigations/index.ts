@@ -1,4 +1,4 @@
 /** What other modules use of investigations: opening one on a failed container, closing after a retest. */
 export { investigationRowsOfLot } from './repo';
-export { closeAfterRetest, openInvestigation } from './service';
+export { closeAfterRetest, openingContent, openInvestigation } from './service';
 export { investigationRoutes } from './routes';

@@ -8,9 +8,12 @@ export {
   LOT_TRANSITIONS,
   containerTransitionRefusal,
   currentStatuses,
+  holdsOf,
   lotTransitionRefusal,
   moveLot,
+  recordHoldChange,
   setContainerStatus,
   type LotState,
   type TransitionAudit,
+  type TransitionContext,
 } from './state';

@@ -3,12 +3,20 @@
  * machine"): the only writer of `lot.status`, `lot.identity_status` and the `container_status`
  * history. Every change checks its transition here (409 with a sentence when refused) before the
  * row is written, and writes the audit event that records it in the caller's transaction. The
- * database guards the same transitions once more (lot: guardRows in db/migrations/050 and 143;
- * container_status: append-only).
+ * database guards the same transitions once more (lot: guardRows in db/migrations/050, 143 and
+ * 145; container_status: append-only).
+ *
+ * Container status is decided here too, in one place (`currentStatuses`): the recorded life cycle,
+ * and "blocked" while a hold is active on a container not yet released or rejected:
+ * - an investigation that is open or has its phase I check recorded holds its failing containers;
+ * - the provenance rule blocks a container after too many invalid measurements until QA releases
+ *   it (container_block, server/modules/provenance/rules.ts).
+ * When the last hold ends the container returns to its status before the block
+ * (`recordHoldChange`).
  */
 import type { Knex } from 'knex';
 import { appendAudit, type AuditInput } from '../../lib/audit';
-import type { Db } from '../../lib/db';
+import { parseJson, type Db } from '../../lib/db';
 import { AppError, conflict } from '../../lib/errors';
 import type { ContainerStatus } from '../sampling/contract';
 import type { IdentityStatus, LotStatus } from './contract';
@@ -19,32 +27,51 @@ export const RECEIVED_LOT = { status: 'quarantine', identity_status: 'awaiting-t
   identity_status: IdentityStatus;
 };
 
-/** The identity statuses a lot may move to from each status (the lot guard of db/migrations/143 holds the same list). */
+/**
+ * The identity statuses a lot may move to from each status (the lot guard of db/migrations/145
+ * holds the same list). passed -> awaiting-testing only in a retest of a released lot
+ * (`lotTransitionRefusal`).
+ */
 export const IDENTITY_TRANSITIONS: Record<IdentityStatus, readonly IdentityStatus[]> = {
   'awaiting-testing': ['testing', 'rejected'],
   testing: ['awaiting-verification'],
   'awaiting-verification': ['passed', 'failed', 'testing', 'retest-authorised'],
-  passed: ['rejected'],
+  passed: ['rejected', 'awaiting-testing'],
   failed: ['retest-authorised', 'rejected'],
   'retest-authorised': ['testing', 'rejected'],
   rejected: [],
 };
 
-/** The disposition statuses of a lot. */
+/** The disposition statuses of a lot; released -> quarantine only through a retest of its current release. */
 export const LOT_TRANSITIONS: Record<LotStatus, readonly LotStatus[]> = {
   quarantine: ['released', 'rejected'],
-  released: [],
+  released: ['quarantine'],
   rejected: [],
 };
 
-/** Each container moves quarantine -> sampled -> released or rejected, and is blocked while an investigation holds it. */
+/**
+ * Each container moves quarantine -> sampled -> released or rejected; it is blocked while a hold
+ * keeps it and returns to its former status (quarantine or sampled) when the last hold ends; a
+ * retest of its lot puts a released container back under test (sampled, or quarantine when it
+ * was not sampled).
+ */
 export const CONTAINER_TRANSITIONS: Record<ContainerStatus, readonly ContainerStatus[]> = {
-  quarantine: ['sampled', 'released', 'rejected'],
+  quarantine: ['sampled', 'released', 'rejected', 'blocked'],
   sampled: ['released', 'rejected', 'blocked'],
-  blocked: ['sampled', 'rejected'],
-  released: [],
+  blocked: ['sampled', 'quarantine', 'rejected'],
+  released: ['sampled', 'quarantine'],
   rejected: [],
 };
+
+/**
+ * What the database knows that a transition may need (the lot guard of db/migrations/145 checks
+ * the same): whether a signed retest record names the lot's current release, and whether the lot's
+ * material is not identified by IR and its replacing identity test conforms.
+ */
+export interface TransitionContext {
+  retestOfCurrentRelease?: boolean;
+  replacingIdentityConforms?: boolean;
+}
 
 export interface LotState {
   status: LotStatus;
@@ -53,27 +80,47 @@ export interface LotState {
 
 /**
  * Why the lot cannot move from `from` to `to`, or null when it can. Staying in the same status is
- * allowed (nothing moves). A release also needs a passed identity, and a rejection rejects the
- * identity with it (the lot guard's checks).
+ * allowed (nothing moves). A release also needs a passed identity (or, for a material not
+ * identified by IR, a conforming replacing identity test), a rejection rejects the identity with
+ * it, and a released lot returns to quarantine and "awaiting testing" only together and only
+ * through a retest of its current release (the lot guard's checks).
  */
-export function lotTransitionRefusal(from: LotState, to: Partial<LotState>): string | null {
+export function lotTransitionRefusal(
+  from: LotState,
+  to: Partial<LotState>,
+  ctx: TransitionContext = {},
+): string | null {
   const identity = to.identityStatus ?? from.identityStatus;
   const status = to.status ?? from.status;
   if (identity !== from.identityStatus && !IDENTITY_TRANSITIONS[from.identityStatus].includes(identity))
     return `A lot whose identity status is ${from.identityStatus} cannot move to ${identity}.`;
   if (status !== from.status && !LOT_TRANSITIONS[from.status].includes(status))
     return `A lot that is ${from.status} cannot become ${status}.`;
-  if (status === 'released' && from.status !== 'released' && identity !== 'passed')
-    return 'Only a lot whose identity passed can be released.';
+  const reopens = from.status === 'released' && status === 'quarantine';
+  if (reopens && (identity !== 'awaiting-testing' || !ctx.retestOfCurrentRelease))
+    return 'A released lot returns to quarantine only through a signed retest of its current release.';
+  if (from.identityStatus === 'passed' && identity === 'awaiting-testing' && !reopens)
+    return 'Identity goes back from passed to awaiting testing only when a released lot is retested.';
+  if (status === 'released' && from.status !== 'released' && identity !== 'passed' && !ctx.replacingIdentityConforms)
+    return 'Only a lot whose identity passed (or, for a material not identified by IR, whose replacing identity test conforms) can be released.';
   if (status === 'rejected' && from.status !== 'rejected' && identity !== 'rejected')
     return 'A lot is rejected together with its identity status.';
   return null;
 }
 
-/** Why a container cannot move from `from` to `to`, or null when it can (staying put is allowed). */
-export function containerTransitionRefusal(from: ContainerStatus, to: ContainerStatus): string | null {
-  if (from === to || CONTAINER_TRANSITIONS[from].includes(to)) return null;
-  return `A container that is ${from} cannot become ${to}.`;
+/**
+ * Why a container cannot move from `from` to `to`, or null when it can (staying put is allowed).
+ * A released container goes back under test only in a retest of its lot.
+ */
+export function containerTransitionRefusal(
+  from: ContainerStatus,
+  to: ContainerStatus,
+  ctx: { retest?: boolean } = {},
+): string | null {
+  if (from === to) return null;
+  if (!CONTAINER_TRANSITIONS[from].includes(to)) return `A container that is ${from} cannot become ${to}.`;
+  if (from === 'released' && !ctx.retest) return `A released container becomes ${to} only through a retest of its lot.`;
+  return null;
 }
 
 /**
@@ -82,6 +129,39 @@ export function containerTransitionRefusal(from: ContainerStatus, to: ContainerS
  * before/after carry the move).
  */
 export type TransitionAudit = AuditInput | { recordedBy: string };
+
+/** Reads from the database only what the requested move needs (the same conditions as the lot guard). */
+async function transitionContext(
+  trx: Knex.Transaction,
+  lotId: number,
+  row: { status: LotStatus; identity_status: IdentityStatus; material_id: number; disposition_id: number | null },
+  to: Partial<LotState>,
+): Promise<TransitionContext> {
+  const ctx: TransitionContext = {};
+  if (row.status === 'released' && to.status === 'quarantine') {
+    const q = trx('lot_retest').where({ lot_id: lotId });
+    ctx.retestOfCurrentRelease = !!(await (
+      row.disposition_id === null
+        ? q.whereNull('reopened_disposition_id')
+        : q.where({ reopened_disposition_id: row.disposition_id })
+    ).first('id'));
+  }
+  if (
+    to.status === 'released' &&
+    row.status !== 'released' &&
+    (to.identityStatus ?? row.identity_status) !== 'passed'
+  ) {
+    const ir = await trx('material_ir_suitability')
+      .where({ material_id: row.material_id })
+      .orderBy('id', 'desc')
+      .first('suitable');
+    const alt = await trx('lot_check')
+      .where({ lot_id: lotId, check_kind: 'alternative-identity', outcome: 'conforms' })
+      .first('id');
+    ctx.replacingIdentityConforms = !!ir && !Number(ir.suitable) && !!alt;
+  }
+  return ctx;
+}
 
 /**
  * Moves a lot inside the caller's transaction: locks the row, refuses (409) a transition the
@@ -98,10 +178,13 @@ export async function moveLot(
     now?: Date;
   },
 ): Promise<LotState> {
-  const row = await trx('lot').where({ id: r.lotId }).forUpdate().first('status', 'identity_status');
+  const row = await trx('lot')
+    .where({ id: r.lotId })
+    .forUpdate()
+    .first('status', 'identity_status', 'material_id', 'disposition_id');
   if (!row) throw new AppError(404, 'NOT_FOUND', `Lot ${r.lotId} does not exist.`);
   const from: LotState = { status: row.status, identityStatus: row.identity_status };
-  const why = lotTransitionRefusal(from, r.to);
+  const why = lotTransitionRefusal(from, r.to, await transitionContext(trx, r.lotId, row, r.to));
   if (why) throw conflict(why, { lotId: r.lotId, from, to: r.to });
   await trx('lot')
     .where({ id: r.lotId })
@@ -115,17 +198,114 @@ export async function moveLot(
   return from;
 }
 
-/** Current status of each container of a lot (quarantine where no row exists: containers stored before migration 142). */
-export async function currentStatuses(db: Db, lotId: number): Promise<Map<number, ContainerStatus>> {
+const FINAL = new Set<ContainerStatus>(['released', 'rejected']);
+
+/** Why each container of a lot is held now (no entry: not held). */
+export async function holdsOf(db: Db, lotId: number): Promise<Map<number, string[]>> {
+  const out = new Map<number, string[]>();
+  const add = (id: number, why: string) => out.set(id, [...(out.get(id) ?? []), why]);
+  const investigations = await db('investigation')
+    .where({ lot_id: lotId })
+    .whereIn('status', ['open', 'phase1-recorded'])
+    .select('number', 'failing');
+  for (const inv of investigations)
+    for (const f of parseJson<{ containerId: number }[]>(inv.failing, []))
+      add(f.containerId, `held by investigation ${inv.number}`);
+  const latest = db('container_block as b2')
+    .join('container as c2', 'c2.id', 'b2.container_id')
+    .where('c2.lot_id', lotId)
+    .max('b2.id as id')
+    .groupBy('b2.container_id');
+  const blocks = await db('container_block')
+    .whereIn('id', latest)
+    .where('event', 'blocked')
+    .select('container_id', 'invalid_count');
+  for (const b of blocks)
+    add(b.container_id, `blocked after ${b.invalid_count} invalid measurements until QA releases it`);
+  return out;
+}
+
+/** The recorded life cycle of each container: its newest row, and its newest status other than blocked (quarantine where no row exists: containers stored before migration 142). */
+async function recorded(
+  db: Db,
+  lotId: number,
+): Promise<Map<number, { last: ContainerStatus; former: ContainerStatus }>> {
   const rows = await db('container_status as s')
     .join('container as c', 'c.id', 's.container_id')
     .where('c.lot_id', lotId)
     .orderBy('s.id')
     .select('s.container_id', 's.status');
-  const out = new Map<number, ContainerStatus>();
-  for (const c of await db('container').where({ lot_id: lotId }).select('id')) out.set(c.id, 'quarantine');
-  for (const r of rows) out.set(r.container_id, r.status);
+  const out = new Map<number, { last: ContainerStatus; former: ContainerStatus }>();
+  for (const c of await db('container').where({ lot_id: lotId }).select('id'))
+    out.set(c.id, { last: 'quarantine', former: 'quarantine' });
+  for (const r of rows) {
+    const e = out.get(r.container_id)!;
+    e.last = r.status;
+    if (r.status !== 'blocked') e.former = r.status;
+  }
   return out;
+}
+
+/**
+ * The status of each container of a lot (the one place that decides it, see the head of this
+ * file): released and rejected are final; otherwise "blocked" while a hold is active, else the
+ * recorded status (a recorded block whose hold has ended returns to the status before it).
+ */
+export async function currentStatuses(db: Db, lotId: number): Promise<Map<number, ContainerStatus>> {
+  const rec = await recorded(db, lotId);
+  const holds = await holdsOf(db, lotId);
+  const out = new Map<number, ContainerStatus>();
+  for (const [id, r] of rec) {
+    if (FINAL.has(r.last)) out.set(id, r.last);
+    else if (holds.has(id)) out.set(id, 'blocked');
+    else out.set(id, r.last === 'blocked' ? r.former : r.last);
+  }
+  return out;
+}
+
+/** The status a change starts from: the recorded one (a recorded block whose hold has ended counts as its former status). */
+async function transitionFrom(db: Db, lotId: number): Promise<Map<number, ContainerStatus>> {
+  const rec = await recorded(db, lotId);
+  const holds = await holdsOf(db, lotId);
+  const out = new Map<number, ContainerStatus>();
+  for (const [id, r] of rec) out.set(id, r.last === 'blocked' && !holds.has(id) ? r.former : r.last);
+  return out;
+}
+
+/**
+ * Records a hold's start or end as a status change (so that a label can be printed for it),
+ * inside the caller's transaction, AFTER the hold's own row was written (the hold's own audit
+ * event records it): at the start the container becomes blocked; at the end it returns to its
+ * status before the block, unless another hold still keeps it.
+ */
+export async function recordHoldChange(
+  trx: Knex.Transaction,
+  r: {
+    lotId: number;
+    containerId: number;
+    held: boolean;
+    reason: string;
+    signatureId?: number | null;
+    userId: number | null;
+  },
+): Promise<void> {
+  if (r.held) {
+    await setContainerStatus(trx, { ...r, containerIds: [r.containerId], status: 'blocked', onlyWhereAllowed: true });
+    return;
+  }
+  if ((await holdsOf(trx, r.lotId)).has(r.containerId)) return; // another hold remains
+  const rec = (await recorded(trx, r.lotId)).get(r.containerId);
+  if (!rec || rec.last !== 'blocked') return;
+  const why = containerTransitionRefusal('blocked', rec.former);
+  if (why) throw conflict(why, { containerId: r.containerId, from: 'blocked', to: rec.former });
+  await trx('container_status').insert({
+    container_id: r.containerId,
+    status: rec.former,
+    reason: r.reason,
+    signature_id: r.signatureId ?? null,
+    changed_by: r.userId,
+    changed_at: new Date(),
+  });
 }
 
 /** The first status row of the containers of a lot just received. */
@@ -164,17 +344,27 @@ export async function setContainerStatus(
     userId: number | null;
     /** leave containers whose current status does not allow the change as they are (instead of 409) */
     onlyWhereAllowed?: boolean;
+    /** a retest of the lot puts its released containers back under test (checked: the lot is back in quarantine through a retest record) */
+    retest?: boolean;
     audit?: TransitionAudit;
   },
 ): Promise<number[]> {
-  const current = await currentStatuses(trx, r.lotId);
+  if (r.retest) {
+    const lot = await trx('lot').where({ id: r.lotId }).first('status');
+    const retest = await trx('lot_retest').where({ lot_id: r.lotId }).first('id');
+    if (lot?.status !== 'quarantine' || !retest)
+      throw conflict('Containers go back under test only after the lot was returned to quarantine by a retest.', {
+        lotId: r.lotId,
+      });
+  }
+  const current = await transitionFrom(trx, r.lotId);
   const now = new Date();
   const rows = [];
   for (const id of r.containerIds) {
     const from = current.get(id);
     if (from === undefined) throw conflict(`Container ${id} is not a container of this lot.`);
     if (from === r.status) continue;
-    const why = containerTransitionRefusal(from, r.status);
+    const why = containerTransitionRefusal(from, r.status, { retest: r.retest });
     if (why && r.onlyWhereAllowed) continue;
     if (why) throw conflict(why, { containerId: id, from, to: r.status });
     rows.push({

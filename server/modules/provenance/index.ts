@@ -15,4 +15,5 @@ export {
   measurementHistory,
   releaseBlock,
   releaseSignedContent,
+  type HoldChangeWriter,
 } from './service';

@@ -116,6 +116,24 @@ export async function blockedContainers(db: Knex): Promise<BlockedContainer[]> {
   }));
 }
 
+/**
+ * Records the end of a hold as a container status change in the caller's transaction: the lot and
+ * container state machine's `recordHoldChange` (server/modules/lots/state.ts), handed in by the
+ * caller so that provenance imports no lot code (the lots module reaches provenance through
+ * library and testing; docs/architecture.md, "Direction of imports").
+ */
+export type HoldChangeWriter = (
+  trx: Knex.Transaction,
+  r: {
+    lotId: number;
+    containerId: number;
+    held: boolean;
+    reason: string;
+    signatureId?: number | null;
+    userId: number | null;
+  },
+) => Promise<void>;
+
 /** QA releases a blocked container for further measurements, with a reason and an e-signature. */
 export async function releaseBlock(
   db: Knex,
@@ -123,8 +141,9 @@ export async function releaseBlock(
   containerId: number,
   input: ReleaseBlockInput,
   ip: string | null,
+  recordHoldChange: HoldChangeWriter,
 ) {
-  const c = await db('container').where({ id: containerId }).first('id', 'label');
+  const c = await db('container').where({ id: containerId }).first('id', 'label', 'lot_id');
   if (!c) throw notFound('The container');
   await checkSignatureCredentials(db, {
     user,
@@ -156,7 +175,7 @@ export async function releaseBlock(
       invalidCount: block.invalid_count,
       reason: input.reason,
     });
-    await recordSignature(trx, {
+    const signed = await recordSignature(trx, {
       user,
       credentials: input.signature,
       meaning: 'block-released',
@@ -165,6 +184,15 @@ export async function releaseBlock(
       content,
       statement: input.reason,
       ip,
+    });
+    // back to the status before the block, unless an investigation still holds it (server/modules/lots/state.ts)
+    await recordHoldChange(trx, {
+      lotId: c.lot_id,
+      containerId,
+      held: false,
+      reason: `Block released by QA: ${input.reason}`.slice(0, 2000),
+      signatureId: signed.id,
+      userId: user.id,
     });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },

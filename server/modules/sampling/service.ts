@@ -16,7 +16,7 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import * as lots from '../lots';
-import { currentStatuses, setContainerStatus } from '../lots';
+import { currentStatuses, holdsOf, setContainerStatus } from '../lots';
 import { SAMPLING_PLAN_LABELS } from '../suppliers/contract';
 import type {
   LineClearanceInput,
@@ -97,6 +97,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
   }
   const history = await statusHistory(db, lotId);
   const current = await currentStatuses(db, lotId);
+  const holds = await holdsOf(db, lotId);
   return {
     lotId,
     samplingPlan: lot.sampling_plan,
@@ -108,6 +109,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
       seq: c.seq,
       label: c.label,
       status: current.get(c.id) ?? 'quarantine',
+      heldBy: holds.get(c.id) ?? [],
       history: history.filter((h) => h.containerId === c.id),
     })),
   };

@@ -1,9 +1,11 @@
 /**
  * Container status (issue 14 item 4): each container moves quarantine -> sampled -> released or
- * rejected, and is blocked while an investigation holds it. One append-only row per change
- * (container_status); the current status is the newest row, and a container without rows (stored
- * before migration 142) is in quarantine. The transitions and the writer are in the lot and
- * container state machine (server/modules/lots/state.ts); this file reads the history.
+ * rejected, and is blocked while something holds it (an open investigation, too many invalid
+ * measurements). One append-only row per change (container_status, the label printed from it); a
+ * container without rows (stored before migration 142) is in quarantine. The transitions, the
+ * writer and the one place that decides the current status with its holds (currentStatuses,
+ * holdsOf, recordHoldChange) are in the lot and container state machine
+ * (server/modules/lots/state.ts); this file reads the history.
  */
 import type { Db } from '../../lib/db';
 import type { ContainerStatusRecord } from './contract';

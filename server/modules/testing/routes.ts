@@ -21,6 +21,7 @@ import * as signing from './signing';
 import * as views from './views';
 import { handOverSchema, releaseBlockSchema } from '../provenance/contract';
 import * as provenance from '../provenance';
+import { recordHoldChange } from '../lots';
 
 const OPERATOR = { roles: ['operator'] as const };
 const VERIFIER = { roles: ['verifier'] as const };
@@ -204,7 +205,8 @@ export function testingRoutes(config: AppConfig): Router {
       body: releaseBlockSchema,
     },
     async ({ params, body, user, ip }) => {
-      await provenance.releaseBlock(getDb(), user, params.id, body, ip);
+      // the container returns to its status before the block through the state machine
+      await provenance.releaseBlock(getDb(), user, params.id, body, ip, recordHoldChange);
       return provenance.blockedContainers(getDb());
     },
   );

@@ -528,6 +528,14 @@ export async function addMeasurement(
           reason: `${state.invalidSince} invalid measurements (site limit ${settings.maxInvalidMeasurements}).`,
           ip,
         });
+        // the container's status shows the block (server/modules/lots/state.ts decides it)
+        await lots.recordHoldChange(trx, {
+          lotId: ctx.lot.id,
+          containerId: container.id,
+          held: true,
+          reason: `Blocked after ${state.invalidSince} invalid measurements until QA releases it`,
+          userId: user.id,
+        });
         await enqueueMailToRole(
           trx,
           'qa_manager',

@@ -2,10 +2,11 @@
 import { Router } from 'express';
 import { z } from 'zod';
 import { getDb } from '../../lib/db';
+import type { AppConfig } from '../../lib/config';
 import { defineRoute } from '../../lib/http';
 import { QUEUE_FULL_ITEMS, QUEUE_ITEMS, workQueueFor } from './service';
 
-export function workQueueRoutes(): Router {
+export function workQueueRoutes(config: Pick<AppConfig, 'retestNoticeDays'>): Router {
   const r = Router();
   defineRoute(
     r,
@@ -18,7 +19,7 @@ export function workQueueRoutes(): Router {
       access: 'authenticated',
       query: z.object({ full: z.string().max(60).optional() }).strict(),
     },
-    ({ user, query }) => workQueueFor(getDb(), user, query.full),
+    ({ user, query }) => workQueueFor(getDb(), user, query.full, config.retestNoticeDays),
   );
   return r;
 }
