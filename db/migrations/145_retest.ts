@@ -30,18 +30,22 @@ export function lotGuard145(): GuardSpec {
     mutable: [...(base.mutable ?? []), 'retest_date', 'disposition_id'],
     states,
     checks: [
-      // replaced below: a lot of a material whose identity is not tested by IR is released on the
-      // replacing identity test's conforming result instead of a passed IR identity
-      ...(base.checks ?? []).filter((c) => c.message !== 'only a lot whose identity passed can be released'),
-      {
-        sql:
-          "NOT (NEW.status = 'released') OR OLD.status = 'released' OR NEW.identity_status = 'passed' OR (" +
-          'EXISTS (SELECT 1 FROM material_ir_suitability s WHERE s.material_id = NEW.material_id AND s.suitable = 0 AND ' +
-          's.id = (SELECT MAX(s2.id) FROM material_ir_suitability s2 WHERE s2.material_id = NEW.material_id)) AND ' +
-          "EXISTS (SELECT 1 FROM lot_check c WHERE c.lot_id = NEW.id AND c.check_kind = 'alternative-identity' AND c.outcome = 'conforms'))",
-        message:
-          'only a lot whose identity passed, or (material not identified by IR) whose replacing identity test conforms, can be released',
-      },
+      // replaced in its place (so it is still the first refusal a release of an untested lot meets):
+      // a lot of a material whose identity is not tested by IR is released on the replacing identity
+      // test's conforming result instead of a passed IR identity
+      ...(base.checks ?? []).map((c) =>
+        c.message !== 'only a lot whose identity passed can be released'
+          ? c
+          : {
+              sql:
+                "NOT (NEW.status = 'released') OR OLD.status = 'released' OR NEW.identity_status = 'passed' OR (" +
+                'EXISTS (SELECT 1 FROM material_ir_suitability s WHERE s.material_id = NEW.material_id AND s.suitable = 0 AND ' +
+                's.id = (SELECT MAX(s2.id) FROM material_ir_suitability s2 WHERE s2.material_id = NEW.material_id)) AND ' +
+                "EXISTS (SELECT 1 FROM lot_check c WHERE c.lot_id = NEW.id AND c.check_kind = 'alternative-identity' AND c.outcome = 'conforms'))",
+              message:
+                'only a lot whose identity passed, or (material not identified by IR) whose replacing identity test conforms, can be released',
+            },
+      ),
       {
         sql:
           "NOT (OLD.status = 'released' AND NEW.status = 'quarantine') OR (NEW.identity_status = 'awaiting-testing' AND " +
