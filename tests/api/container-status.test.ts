@@ -1,5 +1,5 @@
 /**
- * Container status "blocked" (issue 14 item 4) decided in one place (server/modules/sampling/status.ts),
+ * Container status "blocked" (issue 14 item 4) decided in one place (server/modules/lots/state.ts),
  * against the real MariaDB and the real engine with real spectra from ../shared/reference-data.
  *
  * Rules checked and their sources:
