@@ -26,8 +26,11 @@ import * as m142 from './142_sampling';
 import * as m143 from './143_disposition';
 import * as m144 from './144_integration';
 import * as m150 from './150_trending';
+import * as m155 from './155_trend_investigation';
+import * as m156 from './156_audit_review_reminder';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
+import * as m145 from './145_retest';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -57,8 +60,11 @@ export const migrations: [string, Migration][] = [
   ['143_disposition', m143],
   ['144_integration', m144],
   ['150_trending', m150],
+  ['155_trend_investigation', m155],
+  ['156_audit_review_reminder', m156],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
+  ['145_retest', m145],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -108,6 +114,7 @@ export const appendOnlyTables = [
   'audit_checkpoint',
   'trend_baseline',
   'audit_review',
+  'audit_review_reminder',
   'instrument_qualification',
   'instrument_maintenance',
   'instrument_service_event',
@@ -123,6 +130,7 @@ export const appendOnlyTables = [
   'container_status',
   'lot_check',
   'lot_disposition',
+  'lot_retest',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */

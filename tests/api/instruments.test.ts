@@ -23,12 +23,22 @@ let aud: Ctx;
 const filmFile = refData('atr-ftir/polystyrene_film.csv');
 /**
  * A check is a new acquisition each time: a stored check's file (the fixtures store this film as
- * checks of other instruments) is refused as a copy, tried below. Each check here sends the film
- * moved by a further 0.04 cm-1 (at most 0.3 cm-1 in this file), so the band positions stay known
- * exactly, where added noise would lose the weak 1583 cm-1 shoulder now and then.
+ * checks of other instruments), or a copy moved along x or rescaled, is refused, tried below. Each
+ * check here sends the film on its own gentle baseline (a cubic in wavenumber, up to 0.004 k
+ * absorbance at the ends, as a real rescan drifts), so the band positions stay within 0.2 cm-1 of
+ * the film's own while no two sent files are the same acquisition.
  */
-let moved = 0;
-const newFilm = () => shiftedCsv(filmFile, ++moved * 0.04);
+let scans = 0;
+function newFilm(): Buffer {
+  const k = ++scans;
+  const lines = filmFile.toString('utf8').trim().split(/\r?\n/);
+  const rows = lines.slice(1).map((l) => {
+    const [x, y] = l.split(',');
+    const u = (Number(x) - 2300) / 1700;
+    return `${x},${(Number(y) + k * 0.004 * u * u * u).toFixed(7)}`;
+  });
+  return Buffer.from([lines[0], ...rows].join('\n') + '\n');
+}
 
 const PH_EUR_FT = [3060.0, 2849.5, 1942.9, 1601.2, 1583.0, 1154.5, 1028.3];
 
@@ -266,6 +276,10 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
           .join('\n') +
         '\n',
     );
+    // the first check's spectrum moved by 0.3 cm-1 (a script editing the x column)
+    const movedCopy = await check(op, inst.id, 'polystyrene_moved.csv', shiftedCsv(sentFirst, 0.3));
+    expect(movedCopy.status).toBe(422);
+    expect(movedCopy.body.error.message).toMatch(/moved by 0\.3\d* cm-1/);
     const re = await check(op, inst.id, 'polystyrene_export.csv', reexport);
     expect(re.status, JSON.stringify(re.body)).toBe(422);
     expect(re.body.error.code).toBe('SPECTRUM_ALREADY_USED');
