@@ -157,7 +157,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
           ? ([['Spectral range', `${m.rangeTo}–${m.rangeFrom} cm⁻¹`]] as [string, string][])
           : []),
         ...(m.minCorrelation !== null
-          ? ([['Minimum match score', m.minCorrelation.toFixed(4)]] as [string, string][])
+          ? ([['Minimum correlation coefficient (r)', m.minCorrelation.toFixed(4)]] as [string, string][])
           : []),
         ['Approval', sigText(m.approval, tz)],
       ]),
@@ -231,7 +231,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
         [
           th6('Container'),
           th6('Measurement'),
-          th6('Match score'),
+          th6('Correlation coefficient (r)'),
           th6('Band concordance'),
           th6('Verdict'),
           th6('Raw file SHA-256'),

@@ -266,7 +266,7 @@ async function libraryHint(
     }
     const hint = [...best.values()].slice(0, 3);
     const text = hint.length
-      ? `Closest approved materials: ${hint.map((h) => `${h.materialName} (${h.materialCode}, match score ${h.score.toFixed(3)}${h.isTestedMaterial ? ', the tested material' : ''})`).join('; ')}.`
+      ? `Closest approved materials: ${hint.map((h) => `${h.materialName} (${h.materialCode}, correlation coefficient (r) ${h.score.toFixed(3)}${h.isTestedMaterial ? ', the tested material' : ''})`).join('; ')}.`
       : 'Closest approved materials: none found in the approved library for this technique.';
     return { hint, text };
   } catch (e) {
