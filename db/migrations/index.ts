@@ -28,6 +28,7 @@ import * as m144 from './144_integration';
 import * as m150 from './150_trending';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
+import * as m163 from './163_folder_intake';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -59,6 +60,7 @@ export const migrations: [string, Migration][] = [
   ['150_trending', m150],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
+  ['163_folder_intake', m163],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -123,6 +125,9 @@ export const appendOnlyTables = [
   'container_status',
   'lot_check',
   'lot_disposition',
+  'instrument_intake_setting',
+  'folder_acquisition',
+  'folder_acquisition_event',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */
