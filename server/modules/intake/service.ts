@@ -22,7 +22,8 @@ import { parseJson } from '../../lib/db';
 import type { Role } from '../../lib/contract';
 import { readSpectrumOff, sha256Off } from '../../workers/pool';
 import { holderOf, zonedToUtc } from '../provenance/rules';
-import { LABEL_PATTERN, labelsInFileName, latestByContainer } from '../testing/outcome';
+import { latestByContainer } from '../testing/outcome';
+import { labelsOfFile } from './labels';
 import { addMeasurement, type ProvenanceSettings } from '../testing/service';
 import * as testRepo from '../testing/repo';
 import type {
@@ -199,14 +200,6 @@ export async function setIntakeSetting(
 }
 
 // ---- a file arrives
-
-/** Container labels named by a file: in its name, its title and its sample identifier. */
-export function labelsOfFile(fileName: string, title: string | null | undefined, sample: string | null | undefined) {
-  const inside = [title ?? '', sample ?? ''].flatMap((t) =>
-    [...t.matchAll(LABEL_PATTERN)].map((m) => m[0].toUpperCase()),
-  );
-  return [...new Set([...labelsInFileName(fileName), ...inside])];
-}
 
 async function asOperator(db: Knex, userId: number): Promise<AuthUser> {
   const u = await db('app_user').where({ id: userId }).first('id', 'username', 'full_name', 'email', 'roles');
