@@ -13,6 +13,9 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import crypto from 'node:crypto';
+import { execFile } from 'node:child_process';
+import { promisify } from 'node:util';
+import { TEST_DB } from './db-name';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadConfig, type AppConfig } from '../../server/lib/config';
 import { startIntakeJob, type IntakeJob } from '../../server/modules/intake/watcher';
@@ -366,5 +369,32 @@ describe('polling (a mounted share) and the instrument clock', () => {
     expect(manual.status).toBe(201);
     const fresh = await olga.agent.get(`/api/tests/${testId}/review`);
     expect(fresh.body.history[1].provenance).toMatchObject({ source: 'manual-upload', clockWarning: null });
+  });
+});
+
+describe('the simulator command (npm run instrument:simulate)', () => {
+  it('each run writes a new acquisition into the folder: the first becomes the measurement, the second waits for a reason', async () => {
+    const lot = await receiveLot(olga.agent, nylon.materialId, 1);
+    await startTest(olga.agent, lot.id, instrument.instrumentId);
+    const label = lot.containers[0].label;
+    const run = () =>
+      promisify(execFile)(
+        process.execPath,
+        ['--import', 'tsx', 'scripts/instrument-simulate.ts', '--instrument', instrument.name, '--label', label],
+        { env: { ...process.env, DRUMLINE_DB_NAME: TEST_DB, INSTRUMENT_EXPORT_ROOT: root }, timeout: 60_000 },
+      );
+    const written: string[] = [];
+    for (let i = 0; i < 2; i++) {
+      const out = await run();
+      const m = /wrote (.+)\n/.exec(out.stdout);
+      expect(m).not.toBeNull();
+      written.push(path.resolve(m![1]));
+    }
+    expect(written[0]).not.toBe(written[1]);
+    expect(sha(written[0])).not.toBe(sha(written[1]));
+    const a = await decided(instrument.instrumentId, written[0]);
+    const b = await decided(instrument.instrumentId, written[1]);
+    expect(a.events[0]).toMatchObject({ event: 'attached', container_id: lot.containers[0].id });
+    expect(b.events[0]).toMatchObject({ event: 'unassigned', code: 'HAS_VALID_RESULT' });
   });
 });
