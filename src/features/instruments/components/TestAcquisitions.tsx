@@ -3,18 +3,38 @@
  * test's instrument during the test window, assigned or not, and the test's hand uploads, so a
  * discarded acquisition cannot hide.
  */
+import { useEffect, useRef } from 'react';
+import { useQueryClient } from '@tanstack/react-query';
 import { DateTime } from '../../../components/DateTime';
+import { qk } from '../../../lib/query-keys';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { useTestAcquisitions } from '../api';
 import { AcquisitionTable } from './IntakePanel';
 
-export function TestAcquisitions({ testId, live = false }: { testId: number; live?: boolean }) {
+/**
+ * `live` (the operator's bench): refreshed every few seconds, and when a file from the folder became
+ * a measurement the test (and its lot) is read again, so the bench shows the new result at once.
+ */
+export function TestAcquisitions({ testId, lotId, live = false }: { testId: number; lotId?: number; live?: boolean }) {
   const q = useTestAcquisitions(testId, live);
+  const qc = useQueryClient();
+  const recorded = q.data?.acquisitions.filter((a) => a.measurementId !== null).length ?? 0;
+  const seen = useRef(recorded);
+  useEffect(() => {
+    if (recorded === seen.current) return;
+    seen.current = recorded;
+    void qc.invalidateQueries({ queryKey: qk.tests.one(testId) });
+    if (lotId) void qc.invalidateQueries({ queryKey: qk.lots.one(lotId) });
+  }, [recorded, testId, lotId, qc]);
   if (q.isPending) return null;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const v = q.data;
   return (
-    <section aria-labelledby="test-acq-h" className="mt-6 rounded-md border border-line bg-white p-4">
+    <section
+      aria-labelledby="test-acq-h"
+      className="mt-6 rounded-md border border-line bg-white p-4"
+      data-testid="test-acquisitions"
+    >
       <h3 id="test-acq-h" className="font-medium">
         Acquisitions on {v.instrumentName ?? 'the instrument'} during this attempt
       </h3>
