@@ -44,15 +44,16 @@ test('the simulator writes three files into the export folder, the bench shows t
 
   // QA: the instrument's export folder (manual upload stays allowed for the other browser tests)
   const quinn = await signedIn(browser, 'quinn');
-  await quinn.goto('/instruments');
-  await quinn.getByRole('link', { name: INSTRUMENT, exact: true }).click();
+  const list = await quinn.request.get('/api/instruments');
+  const inst = ((await list.json()) as { id: number; name: string; serialNumber: string }[]).find(
+    (i) => i.name === INSTRUMENT,
+  )!;
+  await quinn.goto(`/instruments/${inst.id}`);
   await quinn.getByRole('button', { name: 'Change intake settings…' }).click();
-  await quinn.getByLabel('Export folder').fill(folder);
+  await quinn.getByRole('textbox', { name: 'Export folder' }).fill(folder);
   await quinn.getByLabel('Reason for the change').fill('The bench exports every scan into its folder.');
   await quinn.getByRole('button', { name: 'Save intake settings' }).click();
   await expect(quinn.getByTestId('intake-summary')).toContainText(`Watching instrument-exports/${folder}`);
-  const list = await quinn.request.get('/api/instruments');
-  const inst = ((await list.json()) as { name: string; serialNumber: string }[]).find((i) => i.name === INSTRUMENT)!;
 
   // Operator: receipt, sampling, start testing on the bench
   const olga = await signedIn(browser, 'olga');

@@ -257,6 +257,14 @@ describe('files from the export folder', () => {
     const list = await olga.agent.get(`/api/instruments/${instrument.instrumentId}/acquisitions?state=unassigned`);
     expect(list.status).toBe(200);
     expect(list.body.map((x: { id: number }) => x.id)).toEqual(expect.arrayContaining([remeasure, stray]));
+    expect(list.body.every((x: { state: string }) => x.state === 'unassigned')).toBe(true);
+    // every file received, latest first
+    const all = await olga.agent.get(`/api/instruments/${instrument.instrumentId}/acquisitions`);
+    expect(all.status).toBe(200);
+    const ids = all.body.map((x: { id: number }) => x.id);
+    expect(ids[0]).toBe(stray);
+    expect(ids).toEqual([...ids].sort((x: number, y: number) => y - x));
+    expect(new Set(all.body.map((x: { state: string }) => x.state))).toEqual(new Set(['attached', 'unassigned']));
   });
 
   it('the operator assigns an unassigned file with a confirmation (audited); refused unconfirmed, by another operator, or twice', async () => {

@@ -62,6 +62,21 @@ describe('a JCAMP-DX time without a zone, read in the instrument clock zone', ()
   });
 });
 
+describe('what the simulated instrument states', () => {
+  it('its serial whole, even with spaces, and the container label as the sample', () => {
+    const bytes = newAcquisition({
+      folder: '/unused',
+      label: 'L-2026-00007-003',
+      source: { bytes: csv(), name: 'demo.csv' },
+      instrument: { name: 'ATR bench 2', serialNumber: 'SN-ATR bench 2' },
+      timeZone: 'Europe/Berlin',
+    });
+    const s = readSpectrum(new Uint8Array(bytes), 'scan.jdx');
+    expect(s.meta.stated?.serial).toBe('SN-ATR bench 2');
+    expect(s.meta.stated?.sampleText).toBe('L-2026-00007-003');
+  });
+});
+
 describe('clock offset and warning', () => {
   it('warns only beyond the tolerance, in either direction', () => {
     const received = new Date('2026-05-04T10:00:00Z');

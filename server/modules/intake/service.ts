@@ -493,6 +493,15 @@ export async function acquisitionEntries(
   });
 }
 
+/** Ids of the acquisitions whose latest event is "unassigned" (a subquery). */
+function unassignedIds(db: Knex) {
+  return db('folder_acquisition_event as e')
+    .whereIn('e.id', db('folder_acquisition_event').max('id').groupBy('acquisition_id'))
+    .where('e.event', 'unassigned')
+    .select('e.acquisition_id');
+}
+
+/** An instrument's unassigned acquisitions (oldest first, all of them), or its latest 200 of any state. */
 export async function instrumentAcquisitions(
   db: Knex,
   config: AppConfig,
@@ -501,19 +510,32 @@ export async function instrumentAcquisitions(
 ) {
   const inst = await db('instrument').where({ id: instrumentId }).first('id');
   if (!inst) throw notFound('The instrument');
-  const all = await acquisitionEntries(db, config, (q) => q.where('a.instrument_id', instrumentId));
-  return state === 'unassigned' ? all.filter((a) => a.state === 'unassigned') : all.reverse().slice(0, 200);
+  if (state === 'unassigned')
+    return acquisitionEntries(db, config, (q) =>
+      q.where('a.instrument_id', instrumentId).whereIn('a.id', unassignedIds(db)),
+    );
+  const latest = await acquisitionEntries(db, config, (q) =>
+    q.where('a.instrument_id', instrumentId).whereIn('a.id', function latest200() {
+      this.select('id').from(
+        db('folder_acquisition')
+          .where({ instrument_id: instrumentId })
+          .orderBy('id', 'desc')
+          .limit(200)
+          .select('id')
+          .as('t'),
+      );
+    }),
+  );
+  return latest.reverse();
 }
 
 /** QA's reconciliation: acquisitions left unassigned longer than the site setting. */
 export async function overdueAcquisitions(db: Knex, config: AppConfig): Promise<OverdueAcquisitions> {
   const hours = config.unassignedAcquisitionHours;
   const before = new Date(Date.now() - hours * 3600_000);
-  const open = db('folder_acquisition_event as e')
-    .whereIn('e.id', db('folder_acquisition_event').max('id').groupBy('acquisition_id'))
-    .where('e.event', 'unassigned')
-    .select('e.acquisition_id');
-  const all = await acquisitionEntries(db, config, (q) => q.whereIn('a.id', open).where('a.received_at', '<', before));
+  const all = await acquisitionEntries(db, config, (q) =>
+    q.whereIn('a.id', unassignedIds(db)).where('a.received_at', '<', before),
+  );
   return { hours, acquisitions: all };
 }
 
