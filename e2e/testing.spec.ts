@@ -186,6 +186,16 @@ test('operator registers a 3-container lot, uploads one at a time and several at
   const pdf = await quinn.request.get(href!);
   expect(pdf.headers()['content-type']).toBe('application/pdf');
   expect((await pdf.body()).subarray(0, 5).toString()).toBe('%PDF-');
+
+  // Retest (issue 14 item 5): Quinn starts it with a reason and a signature; the lot is back in
+  // quarantine, its containers under test again, awaiting a new attempt under the current method.
+  await quinn.getByRole('button', { name: 'Start retest' }).click();
+  await quinn.getByRole('dialog').getByLabel('Reason').fill('Retest date reached; lot still in stock for production.');
+  await sign(quinn, 'quinn', 'Sign retest start');
+  await expect(quinn.getByTestId('retests')).toContainText('Retest started by');
+  for (const n of ['001', '002', '003'])
+    await expect(quinn.getByTestId(`container-status-${lotNumber}-${n}`)).toContainText('SAMPLED');
+  await expect(quinn.getByRole('button', { name: 'Release lot' })).toBeDisabled();
 });
 
 test('a failing container opens an investigation with the library hint, and QA receives the e-mail', async ({

@@ -28,6 +28,7 @@ import * as m144 from './144_integration';
 import * as m150 from './150_trending';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
+import * as m145 from './145_retest';
 import * as m163 from './163_folder_intake';
 
 interface Migration {
@@ -60,6 +61,7 @@ export const migrations: [string, Migration][] = [
   ['150_trending', m150],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
+  ['145_retest', m145],
   ['163_folder_intake', m163],
 ];
 
@@ -125,6 +127,7 @@ export const appendOnlyTables = [
   'container_status',
   'lot_check',
   'lot_disposition',
+  'lot_retest',
   'instrument_intake_setting',
   'folder_acquisition',
   'folder_acquisition_event',

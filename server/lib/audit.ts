@@ -13,6 +13,7 @@
  */
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
+import { transactionWithRetry } from './retry';
 import { auditKey } from './audit-key';
 import { canonicalJson, sha256Hex } from './canonical';
 import type { ChainReport } from './contract';
@@ -154,7 +155,8 @@ export async function appendAudit(trx: Knex.Transaction, e: AuditInput): Promise
 
 /** Appends in a transaction of its own (for events outside any business write, e.g. a failed sign-in). */
 export async function auditNow(db: Knex, e: AuditInput): Promise<number> {
-  return db.transaction((trx) => appendAudit(trx, e));
+  // retried whole on deadlock or Galera certification failure, like every write that takes the head
+  return transactionWithRetry(db, (trx) => appendAudit(trx, e));
 }
 
 export interface WalkOptions {

@@ -36,6 +36,8 @@ export interface AppConfig {
   trustedProxies: string[];
   /** invalid measurements on one container after which it is blocked until QA decides (MAX_INVALID_MEASUREMENTS, default 3) */
   maxInvalidMeasurements: number;
+  /** released lots whose retest date is this many days away (or past) are listed in QA's work queue */
+  retestNoticeDays: number;
   /** a file whose title or sample identifier names another record: 'confirm' by the operator or 'refuse' (FILE_IDENTIFIER_POLICY) */
   fileIdentifierPolicy: 'confirm' | 'refuse';
   devMode: boolean;
@@ -98,6 +100,7 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
       .map((s) => s.trim())
       .filter(Boolean),
     maxInvalidMeasurements: Math.max(1, Math.floor(num('MAX_INVALID_MEASUREMENTS', 3))),
+    retestNoticeDays: Math.max(0, Math.floor(num('RETEST_NOTICE_DAYS', 30))),
     fileIdentifierPolicy: process.env.FILE_IDENTIFIER_POLICY === 'refuse' ? 'refuse' : 'confirm',
     devMode: process.env.NODE_ENV !== 'production',
     metricsToken: process.env.METRICS_TOKEN || undefined,

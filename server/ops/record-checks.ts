@@ -35,9 +35,9 @@ export async function checkCertificates(db: Knex): Promise<{ checked: number; pr
   return { checked: ids.length, problems };
 }
 
-export async function checkStoredFiles(db: Knex): Promise<{ checked: number; problems: string[] }> {
+export async function checkStoredFiles(db: Knex, afterId = 0): Promise<{ checked: number; problems: string[] }> {
   const problems: string[] = [];
-  let last = 0;
+  let last = afterId;
   let checked = 0;
   for (;;) {
     const rows = (await db('stored_file')

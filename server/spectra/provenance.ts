@@ -99,8 +99,8 @@ export function lookupWindow(fp: SpectrumFingerprint, yStep = 0) {
 export interface AcquisitionComparison {
   /** true: b is the same acquisition as a (a copy or a re-export) */
   copy: boolean;
-  /** which rule found the copy */
-  rule: 'noise' | 'rounding' | null;
+  /** which rule found the copy ('moved': after an x offset and a straight-line map of y, alignedRatio) */
+  rule: 'noise' | 'rounding' | 'moved' | null;
   /** rms of the difference divided by the combined noise; Infinity when not comparable */
   ratio: number;
   /** points of a inside the common x range */
@@ -114,6 +114,8 @@ export interface AcquisitionComparison {
   stepB: number;
   /** why the pair was not compared, when it was not */
   notComparable?: string;
+  /** the best x offset (cm-1) and y scale found by alignedRatio, and the ratio left after them */
+  alignment?: { ratio: number; offset: number; beta: number };
 }
 
 /**
@@ -207,10 +209,14 @@ export function sameAcquisition(a: Spectrum, b: Spectrum): AcquisitionComparison
   const steps = stepA + stepB;
   const byRounding = steps > 0 && steps <= 0.05 * range && maxDifference <= (steps / 2) * (1 + 1e-6) + 1e-12;
   const byNoise = ratio < COPY_RATIO_LIMIT;
+  // Only when neither rule found it: the same acquisition moved along x or rescaled in y by a script.
+  const moved = !byNoise && !byRounding ? alignedRatio(a, b) : null;
+  const byMoving = moved !== null && moved.ratio < COPY_RATIO_LIMIT;
   return {
-    copy: byNoise || byRounding,
-    rule: byNoise ? 'noise' : byRounding ? 'rounding' : null,
-    ratio,
+    copy: byNoise || byRounding || byMoving,
+    rule: byNoise ? 'noise' : byRounding ? 'rounding' : byMoving ? 'moved' : null,
+    ratio: byMoving ? moved.ratio : ratio,
+    ...(moved ? { alignment: { ratio: moved.ratio, offset: moved.offset, beta: moved.beta } } : {}),
     compared: count,
     rmsDifference,
     maxDifference,
@@ -219,6 +225,88 @@ export function sameAcquisition(a: Spectrum, b: Spectrum): AcquisitionComparison
     stepA,
     stepB,
   };
+}
+
+/**
+ * The difference-to-noise ratio of b against a after the best small x offset (within two point
+ * spacings) and the best straight-line map of y (b ~ alpha + beta * a, least squares): what is left
+ * when a copy was moved along x or had its y scaled or offset by a script. Two real scans still
+ * differ by their noise (ratio near 1 or more); a moved or rescaled copy by interpolation only.
+ */
+export function alignedRatio(a: Spectrum, b: Spectrum): { ratio: number; offset: number; beta: number } {
+  const n = a.x.length;
+  const spacing = Math.abs(a.x[n - 1] - a.x[0]) / Math.max(1, n - 1);
+  const noiseA = estimateNoise(a.y);
+  const noiseB = estimateNoise(b.y);
+  const bLo = Math.min(b.x[0], b.x[b.x.length - 1]);
+  const bHi = Math.max(b.x[0], b.x[b.x.length - 1]);
+  // b's points in increasing x for the interpolation
+  const order = b.x[0] <= b.x[b.x.length - 1];
+  const bx = order ? b.x : Float64Array.from(b.x).reverse();
+  const by = order ? b.y : Float64Array.from(b.y).reverse();
+  // a's points in increasing x too, so one moving pointer walks b (linear interpolation, O(n))
+  const aUp = a.x[0] <= a.x[n - 1];
+  const ax = aUp ? a.x : Float64Array.from(a.x).reverse();
+  const ay = aUp ? a.y : Float64Array.from(a.y).reverse();
+  const nb = bx.length;
+  const at = (offset: number) => {
+    let j = 0;
+    let m = 0;
+    let sa = 0;
+    let sb = 0;
+    let saa = 0;
+    let sab = 0;
+    let sbb = 0;
+    for (let i = 0; i < n; i++) {
+      const x = ax[i] + offset;
+      if (x < bLo || x > bHi) continue;
+      while (j < nb - 2 && bx[j + 1] < x) j++;
+      const x0 = bx[j];
+      const x1 = bx[j + 1];
+      const t = x1 > x0 ? (x - x0) / (x1 - x0) : 0;
+      const yb = by[j] + t * (by[j + 1] - by[j]);
+      const ya = ay[i];
+      m++;
+      sa += ya;
+      sb += yb;
+      saa += ya * ya;
+      sab += ya * yb;
+      sbb += yb * yb;
+    }
+    if (m < 10) return { ratio: Infinity, beta: 1 };
+    const den = m * saa - sa * sa;
+    const beta = den > 0 ? (m * sab - sa * sb) / den : 1;
+    const alpha = (sb - beta * sa) / m;
+    // residual sum of squares of yb - (alpha + beta * ya), from the sums
+    const ss = Math.max(
+      0,
+      sbb - 2 * alpha * sb - 2 * beta * sab + m * alpha * alpha + 2 * alpha * beta * sa + beta * beta * saa,
+    );
+    const noise = Math.hypot(Math.abs(beta) * noiseA, noiseB);
+    const rms = Math.sqrt(ss / m);
+    return { ratio: rms === 0 ? 0 : noise > 0 ? rms / noise : Infinity, beta };
+  };
+  let best = { ratio: Infinity, offset: 0, beta: 1 };
+  const consider = (offset: number) => {
+    const r = at(offset);
+    if (r.ratio < best.ratio) best = { ratio: r.ratio, offset, beta: r.beta };
+  };
+  for (let k = -20; k <= 20; k++) consider(k * 0.1 * spacing); // coarse, two spacings either way
+  // then narrower around the best: the two neighbours and the vertex of the parabola through the three
+  for (const h of [0.05, 0.01, 0.002, 0.0004, 0.00008]) {
+    const step = h * spacing;
+    const c = best.offset;
+    const r0 = best.ratio;
+    const minus = at(c - step);
+    const plus = at(c + step);
+    const rm = minus.ratio;
+    const rp = plus.ratio;
+    if (rm < best.ratio) best = { ...minus, offset: c - step };
+    if (rp < best.ratio) best = { ...plus, offset: c + step };
+    const curve = rm + rp - 2 * r0;
+    if (Number.isFinite(curve) && curve > 0) consider(c + (step * (rm - rp)) / (2 * curve));
+  }
+  return best;
 }
 
 function samePoints(xa: Float64Array, xb: Float64Array): boolean {

@@ -41,6 +41,18 @@ export const appRoutes: AppRoute[] = [
   },
   // Feature pages: append below, one line each.
   {
+    path: '/master-data',
+    element: lazyPage(() => import('../routes/master-data')),
+    roles: ['operator', 'verifier', 'qa_manager', 'auditor'],
+    nav: { label: 'Suppliers and materials', group: 'desk', order: 22 },
+  },
+  {
+    path: '/admin/integration',
+    element: lazyPage(() => import('../routes/admin-integration')),
+    roles: ['admin'],
+    nav: { label: 'ERP link', group: 'admin', order: 20 },
+  },
+  {
     path: '/trending',
     element: lazyPage(() => import('../routes/trending')),
     roles: ['qa_manager', 'auditor'],

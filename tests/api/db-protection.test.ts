@@ -71,6 +71,45 @@ beforeAll(async () => {
   });
   expect(rej.status).toBe(200);
   lot = await createPassedLot(db(), { containers: 2 });
+  {
+    // a released lot and the start of its retest (db/migrations/145_retest.ts), for the append-only probe
+    const rl = await createPassedLot(db(), { containers: 1 });
+    const sigRow = (meaning: string) => ({
+      user_id: rl.operator.id,
+      printed_name: 'probe',
+      meaning,
+      entity_type: 'lot',
+      entity_id: String(rl.lotId),
+      content_hash: '0'.repeat(64),
+      signed_at: new Date(),
+    });
+    const [relSig] = await db()('e_signature').insert(sigRow('released'));
+    const [dispId] = await db()('lot_disposition').insert({
+      lot_id: rl.lotId,
+      decision: 'released',
+      retest_date: '2030-01-01',
+      conditions: '[]',
+      signature_id: relSig,
+      decided_by: rl.operator.id,
+      decided_at: new Date(),
+    });
+    await db()('lot')
+      .where({ id: rl.lotId })
+      .update({ status: 'released', disposition_id: dispId, retest_date: '2030-01-01' });
+    const [retSig] = await db()('e_signature').insert(sigRow('retest-started'));
+    const retest = {
+      lot_id: rl.lotId,
+      reopened_disposition_id: dispId,
+      retest_date_due: '2030-01-01',
+      reason: 'probe retest of the protection test',
+      signature_id: retSig,
+      started_by: rl.operator.id,
+      started_at: new Date(),
+    };
+    await db()('lot_retest').insert(retest);
+    // the same release is reopened once only
+    await expect(db()('lot_retest').insert(retest)).rejects.toThrow(/Duplicate/);
+  }
   certificateId = (
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
   ).id;
@@ -424,6 +463,7 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     container_status: { column: 'status', value: 'released' },
     lot_check: { column: 'outcome', value: 'conforms' },
     lot_disposition: { column: 'decision', value: 'released' },
+    lot_retest: { column: 'reason', value: 'rewritten reason of the retest' },
     gate_override: { column: 'justification', value: 'rewritten' },
     gate_override_confirmation: { column: 'confirmed_at', value: new Date(0) },
     method_approval: { column: 'validation_sha256', value: '0'.repeat(64) },
@@ -641,13 +681,16 @@ describe('guarded records: never deleted, only the permitted changes', () => {
       db()('lot').where({ id: lot.lotId }).update({ identity_status: 'awaiting-testing' }),
     ).rejects.toMatchObject({
       ...REFUSED,
-      sqlMessage: expect.stringMatching(/identity_status may not change from passed/),
+      // only a retest of a released lot takes a passed identity back (db/migrations/145_retest.ts)
+      sqlMessage: expect.stringMatching(
+        /identity goes back from passed to awaiting testing only when a released lot is retested/,
+      ),
     });
     await expect(db()('lot').where({ id: lot.lotId }).update({ container_count: 1 })).rejects.toMatchObject(REFUSED);
     const other = await createPassedLot(db(), { containers: 1, stage: 'awaiting-verification' });
     await expect(db()('lot').where({ id: other.lotId }).update({ status: 'released' })).rejects.toMatchObject({
       ...REFUSED,
-      sqlMessage: expect.stringMatching(/only a lot whose identity passed can be released/),
+      sqlMessage: expect.stringMatching(/only a lot whose identity passed/),
     });
     await expect(
       db()('lot').where({ id: other.lotId }).update({ certificate_id: certificateId }),

@@ -13,13 +13,32 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { agentFor, db, uniqueName } from './helpers';
 import { canonical, refData, sha256, shiftedCsv, sigOf } from './fixtures-library';
+import { instrumentWithCheck } from './fixtures-testing';
 import { getValidInstrumentCheck } from '../../server/modules/instruments';
 
 type Ctx = Awaited<ReturnType<typeof agentFor>>;
 let qa: Ctx;
 let op: Ctx;
 let aud: Ctx;
-const film = refData('atr-ftir/polystyrene_film.csv');
+const filmFile = refData('atr-ftir/polystyrene_film.csv');
+/**
+ * A check is a new acquisition each time: a stored check's file (the fixtures store this film as
+ * checks of other instruments), or a copy moved along x or rescaled, is refused, tried below. Each
+ * check here sends the film on its own gentle baseline (a cubic in wavenumber, up to 0.004 k
+ * absorbance at the ends, as a real rescan drifts), so the band positions stay within 0.2 cm-1 of
+ * the film's own while no two sent files are the same acquisition.
+ */
+let scans = 0;
+function newFilm(): Buffer {
+  const k = ++scans;
+  const lines = filmFile.toString('utf8').trim().split(/\r?\n/);
+  const rows = lines.slice(1).map((l) => {
+    const [x, y] = l.split(',');
+    const u = (Number(x) - 2300) / 1700;
+    return `${x},${(Number(y) + k * 0.004 * u * u * u).toFixed(7)}`;
+  });
+  return Buffer.from([lines[0], ...rows].join('\n') + '\n');
+}
 
 const PH_EUR_FT = [3060.0, 2849.5, 1942.9, 1601.2, 1583.0, 1154.5, 1028.3];
 
@@ -76,7 +95,7 @@ describe('instrument registry', () => {
           .status,
       ).toBe(403);
     }
-    expect((await check(aud, inst.id, 'polystyrene_film.csv', film)).status).toBe(403);
+    expect((await check(aud, inst.id, 'polystyrene_film.csv', newFilm())).status).toBe(403);
     expect(await db()('instrument_check').where({ instrument_id: inst.id }).first()).toBeUndefined();
   });
 });
@@ -84,15 +103,18 @@ describe('instrument registry', () => {
 describe('polystyrene instrument checks on the real ATR film spectrum', () => {
   let inst: { id: number };
   let found: number[] = [];
+  let sentFirst: Buffer = Buffer.alloc(0);
 
   beforeAll(async () => {
     inst = await newInstrument();
   });
 
   it('FAILS under the default Ph. Eur. FT specification (ATR bands sit 0.5-2.3 cm-1 low); stored with file, band table and signature', async () => {
+    const film = newFilm();
     const res = await check(op, inst.id, 'polystyrene_film.csv', film);
     expect(res.status, JSON.stringify(res.body)).toBe(201);
     expect(res.body.verdict).toBe('fail');
+    sentFirst = film;
     expect(res.body.validUntil).toBeNull();
     const bands = res.body.result.bands as { nominal: number; found: number; deviation: number; ok: boolean }[];
     expect(bands.map((b) => b.nominal)).toEqual(PH_EUR_FT);
@@ -178,7 +200,7 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
   });
 
   it('PASSES under the approved site specification; valid for check_validity_hours; getValidInstrumentCheck returns it', async () => {
-    const res = await check(op, inst.id, 'polystyrene_film.csv', film);
+    const res = await check(op, inst.id, 'polystyrene_film.csv', newFilm());
     expect(res.status).toBe(201);
     expect(res.body.verdict).toBe('pass');
     expect(res.body.result.bands.every((b: { ok: boolean }) => b.ok)).toBe(true);
@@ -192,7 +214,7 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
   });
 
   it('a copy shifted by 1.5 cm-1 FAILS the site specification, and the instrument is "check due" again', async () => {
-    const res = await check(op, inst.id, 'polystyrene_shifted.csv', shiftedCsv(film, 1.5));
+    const res = await check(op, inst.id, 'polystyrene_shifted.csv', shiftedCsv(newFilm(), 1.5));
     expect(res.status).toBe(201);
     expect(res.body.verdict).toBe('fail');
     for (const b of res.body.result.bands) expect(Math.abs(b.deviation - 1.5)).toBeLessThan(0.3);
@@ -213,12 +235,56 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     expect(res.status).toBe(422);
     expect(res.body.error.code).toBe('EMPTY_FILE');
     expect(res.body.error.message).toMatch(/^empty\.csv: /);
-    const wrong = await check(op, inst.id, 'polystyrene_film.csv', film, 'not-my-password');
+    const wrong = await check(op, inst.id, 'polystyrene_film.csv', newFilm(), 'not-my-password');
     expect(wrong.status).toBe(401);
     expect(
       Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n),
     ).toBe(before);
     expect(Number((await db()('stored_file').count({ n: '*' }).first())!.n)).toBe(files);
+  });
+
+  it('a copy of an earlier check (the same file, or the same acquisition re-exported) is refused and stores nothing', async () => {
+    const checks = async () =>
+      Number((await db()('instrument_check').where({ instrument_id: inst.id }).count({ n: '*' }).first())!.n);
+    const files = async () => Number((await db()('stored_file').count({ n: '*' }).first())!.n);
+    await instrumentWithCheck('valid'); // stores the film file itself as another instrument's check
+    const [c0, f0] = [await checks(), await files()];
+    // the first check's own file again: the instrument would look checked today without a new scan
+    const same = await check(op, inst.id, 'polystyrene_film.csv', sentFirst);
+    expect(same.status).toBe(422);
+    expect(same.body.error.code).toBe('SPECTRUM_ALREADY_USED');
+    expect(same.body.error.message).toMatch(/byte for byte .* instrument check/i);
+    expect(same.body.error.message).toMatch(/cannot be the Wavenumber scale \(polystyrene\) check/);
+    // the film file as it is, stored as another instrument's check
+    const raw = await check(op, inst.id, 'polystyrene_film.csv', filmFile);
+    expect(raw.status).toBe(422);
+    expect(raw.body.error.code).toBe('SPECTRUM_ALREADY_USED');
+    // the same values written with other decimals and another header (a re-export)
+    const reexport = Buffer.from(
+      'cm-1;A\n' +
+        sentFirst
+          .toString()
+          .trim()
+          .split('\n')
+          .slice(1)
+          .map((l) =>
+            l
+              .split(',')
+              .map((v) => Number(v).toFixed(6))
+              .join(';'),
+          )
+          .join('\n') +
+        '\n',
+    );
+    // the first check's spectrum moved by 0.3 cm-1 (a script editing the x column)
+    const movedCopy = await check(op, inst.id, 'polystyrene_moved.csv', shiftedCsv(sentFirst, 0.3));
+    expect(movedCopy.status).toBe(422);
+    expect(movedCopy.body.error.message).toMatch(/moved by 0\.3\d* cm-1/);
+    const re = await check(op, inst.id, 'polystyrene_export.csv', reexport);
+    expect(re.status, JSON.stringify(re.body)).toBe(422);
+    expect(re.body.error.code).toBe('SPECTRUM_ALREADY_USED');
+    expect(await checks()).toBe(c0);
+    expect(await files()).toBe(f0);
   });
 
   it('the raw file of a check downloads byte for byte', async () => {
@@ -233,13 +299,13 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
         r.on('end', () => cb(null, Buffer.concat(chunks)));
       });
     expect(res.status).toBe(200);
-    expect(sha256(res.body as Buffer)).toBe(sha256(film));
+    expect(sha256(res.body as Buffer)).toBe(sha256(sentFirst));
   });
 
   it('an NIR instrument has no default specification: a check is refused until QA approves one', async () => {
     const nir = await newInstrument({ technique: 'nir', sampling: 'diffuse-reflectance' });
     expect(nir.specs).toHaveLength(0);
-    const res = await check(op, nir.id, 'polystyrene_film.csv', film);
+    const res = await check(op, nir.id, 'polystyrene_film.csv', newFilm());
     expect(res.status).toBe(409);
   });
 });

@@ -13,7 +13,8 @@ import { createFirstAccounts } from '../../db/first-accounts';
 import { dropDatabase, migrateDatabase, recreateDatabase } from '../../db/migrate';
 import { dbSettings, knexConfig } from '../../db/config';
 import knexFactory from 'knex';
-import { agentFor, db, makeUser, ownerDb, sig } from './helpers';
+import request from 'supertest';
+import { agentFor, db, makeUser, ownerDb, sig, testApp } from './helpers';
 import { TEST_DB } from './db-name';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
@@ -225,6 +226,52 @@ describe('two-person rule: QA manager, verifier and administrator need a second 
       .post(`/api/users/role-changes/${requestId}/confirm`)
       .send({ signature: sig(adminB.user) });
     expect(again.status).toBe(409);
+  });
+
+  it('an administrator who reset the second one\u2019s password (so knew it) cannot have that account confirm their request; a third can', async () => {
+    const c = await agentFor(['admin']);
+    const d = await agentFor(['admin']);
+    const e = await agentFor(['admin']);
+    // C resets D's password: C now knows a password of D's account and could sign in as D.
+    const temp = 'temporary-reset-Password-77';
+    const reset = await c.agent
+      .post(`/api/users/${d.user.id}/reset-password`)
+      .send({ temporaryPassword: temp, reason: 'forgot password, identity checked by phone' });
+    expect(reset.status, JSON.stringify(reset.body)).toBe(200);
+    const asD = request.agent(testApp());
+    expect((await asD.post('/api/auth/sign-in').send({ username: d.user.username, password: temp })).status).toBe(200);
+    const newPassword = 'chosen-by-whoever-signed-in-9';
+    expect((await asD.post('/api/auth/password').send({ currentPassword: temp, newPassword })).status).toBe(204);
+    // C asks QA manager for a puppet account, and "D" confirms it
+    const puppet = await makeUser(['operator']);
+    const asked = await c.agent
+      .patch(`/api/users/${puppet.id}`)
+      .send({ roles: ['operator', 'qa_manager'], reason: 'appointed QA manager' });
+    const requestId = asked.body.pendingRoleChange.requestId as number;
+    const refused = await asD
+      .post(`/api/users/role-changes/${requestId}/confirm`)
+      .send({ signature: { username: d.user.username, password: newPassword } });
+    expect(refused.status).toBe(403);
+    expect(refused.body.error.message).toMatch(/reset your password on \d{4}-\d{2}-\d{2}.*third administrator/);
+    expect(await roles(puppet.id)).toEqual(['operator']);
+    expect(
+      await db()('e_signature')
+        .where({ entity_type: 'role_request', entity_id: String(requestId) })
+        .first(),
+    ).toBeUndefined();
+    // the same for an e-mail address C changed (a reset would go there)
+    const f = await agentFor(['admin']);
+    expect(
+      (await c.agent.patch(`/api/users/${f.user.id}`).send({ email: 'elsewhere@test.example', reason: 'new address' }))
+        .status,
+    ).toBe(200);
+    const byF = await f.agent.post(`/api/users/role-changes/${requestId}/confirm`).send({ signature: sig(f.user) });
+    expect(byF.status).toBe(403);
+    expect(byF.body.error.message).toMatch(/changed your e-mail address/);
+    // a third administrator, untouched by C, confirms
+    const ok = await e.agent.post(`/api/users/role-changes/${requestId}/confirm`).send({ signature: sig(e.user) });
+    expect(ok.status, JSON.stringify(ok.body)).toBe(200);
+    expect(await roles(puppet.id)).toEqual(['operator', 'qa_manager']);
   });
 
   it('a new account asked with operator and verifier gets operator at once and verifier on confirmation', async () => {

@@ -17,6 +17,7 @@ import {
   lookupWindow,
   roundingStep,
   sameAcquisition,
+  alignedRatio,
   statedAcquisition,
 } from '../../server/spectra/provenance';
 import type { Spectrum } from '../../server/spectra/types';
@@ -110,6 +111,42 @@ describe('re-exports of one acquisition are copies', () => {
       }
     });
   }
+
+  it('a copy moved along x (within two point spacings) or rescaled in y by a script is a copy (rule "moved")', () => {
+    for (const { files } of ALL)
+      for (const f of files.slice(0, 4)) {
+        const n = f.s.x.length;
+        const spacing = Math.abs(f.s.x[n - 1] - f.s.x[0]) / (n - 1);
+        for (const [dx, scale, offset] of [
+          [0.04, 1, 0],
+          [0.7 * spacing, 1, 0],
+          [0, 1.003, 0],
+          [0, 1, 0.001],
+          [-0.3 * spacing, 0.998, -0.0005],
+        ]) {
+          const moved = {
+            ...f.s,
+            x: Float64Array.from(f.s.x, (x) => x + dx),
+            y: Float64Array.from(f.s.y, (y) => y * scale + offset),
+          };
+          const r = sameAcquisition(f.s, moved);
+          if (!r.copy) expect.fail(`${f.name} moved by ${dx}, x${scale} +${offset}: ratio ${r.alignment?.ratio}`);
+          expect(r.rule === 'moved' || r.rule === 'noise').toBe(true);
+        }
+      }
+  });
+
+  it('real acquisitions stay apart after the best move and rescaling (aligned ratio at least ten times the limit)', () => {
+    for (const { dir, files } of ALL) {
+      let smallest = Infinity;
+      for (const a of files.slice(0, 12))
+        for (const b of files.slice(0, 12)) {
+          if (a === b || sameAcquisition(a.s, b.s).notComparable) continue;
+          smallest = Math.min(smallest, alignedRatio(a.s, b.s).ratio);
+        }
+      if (Number.isFinite(smallest)) expect(smallest, dir).toBeGreaterThan(10 * COPY_RATIO_LIMIT);
+    }
+  });
 
   it('a JCAMP-DX transmittance re-export of a CSV absorbance file is a copy', () => {
     for (const f of ALL.find((d) => d.dir === 'nir-polyolefins')!.files.slice(0, 4)) {

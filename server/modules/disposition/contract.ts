@@ -117,10 +117,27 @@ export type RejectInput = z.infer<typeof rejectSchema>;
 
 /** One condition of release, with whether it holds and why not. */
 export interface ReleaseCondition {
-  key: 'identity' | 'investigations' | 'checks' | 'source' | 'sampling' | 'profile';
+  key: 'identity' | 'investigations' | 'containers' | 'checks' | 'source' | 'sampling' | 'profile';
   label: string;
   met: boolean;
   detail: string;
+}
+
+export const retestSchema = z.object({
+  reason: multiLineText().min(10, 'Give the reason for the retest (at least 10 characters).').max(2000),
+  signature: signatureInput,
+});
+export type RetestInput = z.infer<typeof retestSchema>;
+
+/** A retest of a released lot started by QA (the release it reopened stays on record). */
+export interface RetestRecord {
+  id: number;
+  reopenedDispositionId: number;
+  retestDateDue: string | null;
+  reason: string;
+  startedBy: PersonRef;
+  startedAt: string;
+  signature: SignatureRecord | null;
 }
 
 export interface DispositionRecord {
@@ -143,6 +160,8 @@ export interface LotDispositionView {
   requiredChecks: (CheckDef & { record: LotCheckRecord | null })[];
   checks: LotCheckRecord[];
   disposition: DispositionRecord | null;
+  /** Retests of the lot, oldest first; a lot under retest is back in quarantine until QA decides again. */
+  retests: RetestRecord[];
   /** Shown beside the decision: the result supports, and does not replace, the lab's procedure. */
   caution: string;
 }

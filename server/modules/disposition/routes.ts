@@ -3,7 +3,8 @@ import { Router } from 'express';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
 import type { AppConfig } from '../../lib/config';
-import { lotCheckSchema, profileSchema, rejectSchema, releaseSchema } from './contract';
+import { lotCheckSchema, profileSchema, rejectSchema, releaseSchema, retestSchema } from './contract';
+import * as retest from './retest';
 import * as profile from './profile';
 import * as service from './service';
 
@@ -100,6 +101,23 @@ export function dispositionRoutes(config: AppConfig): Router {
       body: rejectSchema,
     },
     ({ params, body, user, ip }) => service.reject(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/lots/:id/retest',
+      summary:
+        'Start the retest of a released lot (QA, signed, with a reason): back to quarantine for a new identity test under the current method',
+      tag: 'disposition',
+      access: QA,
+      params: idParams,
+      body: retestSchema,
+    },
+    async ({ params, body, user, ip }) => {
+      await retest.startRetest(getDb(), user, params.id, body, ip);
+      return service.dispositionView(getDb(), params.id);
+    },
   );
   return r;
 }

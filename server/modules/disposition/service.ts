@@ -19,7 +19,7 @@ import type { Db } from '../../lib/db';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { setContainerStatus } from '../sampling/status';
+import { currentStatuses, holdsOf, setContainerStatus } from '../sampling/status';
 import { enqueueEvent } from '../integration/outbox';
 import {
   DISPOSITION_CAUTION,
@@ -34,6 +34,7 @@ import {
 } from './contract';
 import { currentProfile, irNotSuitable, materialWithIr } from './profile';
 import { transactionWithRetry } from '../../lib/retry';
+import { latestRetest, retestsOf } from './retest';
 
 async function lotRow(db: Db, lotId: number) {
   const lot = await db('lot as l')
@@ -70,7 +71,7 @@ async function currentCertificate(db: Db, lotId: number) {
     .where('c.lot_id', lotId)
     .whereNull('n.id')
     .orderBy('c.id', 'desc')
-    .first('c.id', 'c.number');
+    .first('c.id', 'c.number', 'c.issued_at');
 }
 
 /** Every release condition of a lot, each with whether it holds and why not. */
@@ -81,7 +82,7 @@ export async function releaseConditions(
   conditions: ReleaseCondition[];
   required: (CheckDef & { record: LotCheckRecord | null })[];
   checks: LotCheckRecord[];
-  certificate: { id: number; number: string } | null;
+  certificate: { id: number; number: string; issued_at: Date } | null;
   profile: Awaited<ReturnType<typeof currentProfile>>;
 }> {
   const { lot, material } = await lotRow(db, lotId);
@@ -101,17 +102,24 @@ export async function releaseConditions(
       : `${material.name} has no approved disposition profile; QA approves one first (it sets the retest date).`,
   });
 
-  const cert = await currentCertificate(db, lotId);
+  const retest = await latestRetest(db, lotId);
+  let cert = await currentCertificate(db, lotId);
+  // After a retest only a certificate of the retest counts (issued after the retest started).
+  if (cert && retest && new Date(cert.issued_at) < new Date(retest.started_at)) cert = undefined;
   if (irNotSuitable(material)) {
     const alt = required.find((r) => r.kind === 'alternative-identity');
-    const ok = alt?.record?.outcome === 'conforms';
+    // after a retest, the replacing test is recorded again for the retest
+    const fresh = !retest || (!!alt?.record && new Date(alt.record.recordedAt) >= new Date(retest.started_at));
+    const ok = alt?.record?.outcome === 'conforms' && fresh;
     conditions.push({
       key: 'identity',
       label: 'Identity confirmed by the test that replaces IR (material flagged "IR not suitable")',
       met: ok,
       detail: ok
         ? `${alt!.label}: conforms (${alt!.record!.reference}).`
-        : 'Record the result of the replacing identity test as conforming.',
+        : alt?.record?.outcome === 'conforms'
+          ? 'The lot is under retest: record the result of the replacing identity test for the retest.'
+          : 'Record the result of the replacing identity test as conforming (reference, result, signed).',
     });
   } else {
     const ok = lot.identity_status === 'passed' && !!cert;
@@ -123,7 +131,9 @@ export async function releaseConditions(
         ? `Identity passed; certificate ${cert!.number}.`
         : lot.identity_status !== 'passed'
           ? `The identity status is "${lot.identity_status}".`
-          : 'Identity passed but the certificate is not issued yet.',
+          : retest
+            ? 'Identity passed in the retest but its certificate is not issued yet.'
+            : 'Identity passed but the certificate is not issued yet.',
     });
   }
 
@@ -133,6 +143,25 @@ export async function releaseConditions(
     label: 'No open investigation',
     met: open.length === 0,
     detail: open.length ? `Open: ${open.map((o) => o.number).join(', ')}.` : 'None open.',
+  });
+
+  // one place decides a container's status (server/modules/sampling/status.ts): a blocked one stops the release
+  const statuses = await currentStatuses(db, lotId);
+  const holds = await holdsOf(db, lotId);
+  const labels = new Map(
+    (await db('container').where({ lot_id: lotId }).select('id', 'label')).map((x) => [
+      x.id as number,
+      x.label as string,
+    ]),
+  );
+  const blocked = [...statuses].filter(([, st]) => st === 'blocked').map(([id]) => id);
+  conditions.push({
+    key: 'containers',
+    label: 'No container blocked',
+    met: blocked.length === 0,
+    detail: blocked.length
+      ? `Blocked: ${blocked.map((id) => `${labels.get(id)} (${(holds.get(id) ?? ['blocked']).join('; ')})`).join(', ')}.`
+      : 'None blocked.',
   });
 
   const missing = required.filter((r) => r.kind !== 'alternative-identity' || !irNotSuitable(material));
@@ -204,6 +233,7 @@ export async function dispositionView(db: Db, lotId: number): Promise<LotDisposi
     requiredChecks: c.required,
     checks: c.checks,
     disposition: await dispositionOf(db, lotId),
+    retests: await retestsOf(db, lotId),
     caution: DISPOSITION_CAUTION,
   };
 }
@@ -506,12 +536,28 @@ export async function reject(
   return dispositionView(db, lotId);
 }
 
-/** Lots whose disposition QA has to decide: in quarantine, identity passed (or an IR-not-suitable material's lot sampled). */
+/** Lots whose disposition QA has to decide: in quarantine, identity passed, or (material not identified by IR) sampled. */
 export async function lotsAwaitingDisposition(db: Db) {
+  const latestIr = db('material_ir_suitability').max('id').groupBy('material_id');
   return db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where('l.status', 'quarantine')
-    .where('l.identity_status', 'passed')
+    .where((w) =>
+      w.where('l.identity_status', 'passed').orWhere((x) =>
+        // a material whose identity is not tested by IR: sampled, awaiting the replacing test's result and QA
+        x
+          .where('l.identity_status', 'awaiting-testing')
+          .whereExists(
+            db('material_ir_suitability as s')
+              .whereRaw('s.material_id = l.material_id')
+              .where('s.suitable', 0)
+              .whereIn('s.id', latestIr),
+          )
+          .where((y) =>
+            y.whereNull('l.sampling_plan').orWhereExists(db('sampling_record as r').whereRaw('r.lot_id = l.id')),
+          ),
+      ),
+    )
     .select('l.id', 'l.lot_number', 'm.name as m_name', 'l.received_date')
     .orderBy('l.id');
 }

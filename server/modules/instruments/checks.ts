@@ -17,9 +17,9 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import type { PerformanceCheck, PerformanceResult, PolystyreneResult } from '../../spectra';
-import { instrumentCheckOff } from '../../workers/pool';
+import { instrumentCheckOff, readSpectrumOff } from '../../workers/pool';
 import type { ProvenanceKeys } from '../../workers/tasks';
-import { recordFingerprint } from '../provenance/copies';
+import { copyRefusal, findCopy, lockAndRecheck, recordFingerprint } from '../provenance/copies';
 import * as repo from './repo';
 import {
   CHECK_TYPE_LABELS,
@@ -232,6 +232,10 @@ export async function recordCheck(
   } catch (e) {
     throw spectrumRefusal(e, file.originalname);
   }
+  // A check is a new acquisition of the standard each time: an earlier check's file (or a sample's,
+  // or a reference's) copied or re-exported would make the instrument look checked when it was not.
+  const copy = await findCopy(db, sha, await readSpectrumOff(new Uint8Array(file.buffer), file.originalname), keys);
+  if (copy) throw copyRefusal(copy, `the ${CHECK_TYPE_LABELS[checkType]} check`);
   await checkSignatureCredentials(db, {
     user,
     credentials: signature,
@@ -246,6 +250,7 @@ export async function recordCheck(
     const current = await repo.approvedSpecOf(trx, instrumentId, checkType);
     if (!current || current.id !== spec.id)
       throw conflict('The check specification changed while you were signing; upload the spectrum again.');
+    await lockAndRecheck(trx, sha, keys);
     const performedAt = new Date();
     const validUntil =
       result.verdict === 'pass' ? new Date(performedAt.getTime() + inst.check_validity_hours * 3600_000) : null;

@@ -21,6 +21,7 @@ export const WEBHOOK_EVENTS = [
   'lot.identity-failed',
   'lot.released',
   'lot.rejected',
+  'lot.retest-started',
 ] as const;
 export type WebhookEvent = (typeof WEBHOOK_EVENTS)[number];
 

@@ -23,6 +23,7 @@ import { methodSignedContent } from '../library/service';
 import { irSuitabilitySignedContent, overrideSignedContent } from '../library/method-control';
 import { loadContext, signedContent } from '../testing/context';
 import { releaseSignedContent } from '../provenance/service';
+import { retestSignedContent } from '../disposition/retest';
 import { roleRequestSignedContent } from '../users/grants';
 
 export interface SignatureRow {
@@ -246,6 +247,20 @@ export const RECIPES: Record<string, Recipe> = {
       invalidCount: r.invalid_count,
       reason: r.reason,
     });
+  },
+  'lot/retest-started': async (db, s) => {
+    const r = await db('lot_retest as r')
+      .join('lot as l', 'l.id', 'r.lot_id')
+      .where('r.signature_id', s.id)
+      .first('r.*', 'l.lot_number');
+    return r
+      ? retestSignedContent({
+          lotNumber: r.lot_number,
+          reopenedDispositionId: r.reopened_disposition_id,
+          retestDateDue: r.retest_date_due ? new Date(r.retest_date_due).toISOString().slice(0, 10) : null,
+          reason: r.reason,
+        })
+      : undefined;
   },
   'integrity_alert/integrity-reviewed': async (db, s) => {
     const a = await db('integrity_alert')

@@ -136,7 +136,9 @@ export async function findCopy(
         detail:
           cmp.rule === 'rounding'
             ? `every point agrees with it to within the rounding of the two files (largest difference ${cmp.maxDifference.toExponential(2)})`
-            : `it differs from it by ${cmp.ratio.toFixed(3)} times the noise of the two spectra (below ${COPY_RATIO_LIMIT}; two real scans differ by more than the noise)`,
+            : cmp.rule === 'moved' && cmp.alignment
+              ? `moved by ${cmp.alignment.offset.toFixed(3)} cm-1 and scaled by ${cmp.alignment.beta.toFixed(4)}, it differs from it by ${cmp.alignment.ratio.toFixed(3)} times the noise (below ${COPY_RATIO_LIMIT}; two real scans differ by more than the noise)`
+              : `it differs from it by ${cmp.ratio.toFixed(3)} times the noise of the two spectra (below ${COPY_RATIO_LIMIT}; two real scans differ by more than the noise)`,
       };
   }
   return null;

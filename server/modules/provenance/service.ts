@@ -19,6 +19,7 @@ import type {
 } from './contract';
 import { blockState, holderOf } from './rules';
 import { transactionWithRetry } from '../../lib/retry';
+import { recordHoldChange } from '../sampling/status';
 import { loadConfig } from '../../lib/config';
 import { FROM_EXPORT_FOLDER } from '../intake/contract';
 import { clockWarning } from '../intake/clock';
@@ -128,7 +129,7 @@ export async function releaseBlock(
   input: ReleaseBlockInput,
   ip: string | null,
 ) {
-  const c = await db('container').where({ id: containerId }).first('id', 'label');
+  const c = await db('container').where({ id: containerId }).first('id', 'label', 'lot_id');
   if (!c) throw notFound('The container');
   await checkSignatureCredentials(db, {
     user,
@@ -160,7 +161,7 @@ export async function releaseBlock(
       invalidCount: block.invalid_count,
       reason: input.reason,
     });
-    await recordSignature(trx, {
+    const signed = await recordSignature(trx, {
       user,
       credentials: input.signature,
       meaning: 'block-released',
@@ -169,6 +170,15 @@ export async function releaseBlock(
       content,
       statement: input.reason,
       ip,
+    });
+    // back to the status before the block, unless an investigation still holds it (server/modules/sampling/status.ts)
+    await recordHoldChange(trx, {
+      lotId: c.lot_id,
+      containerId,
+      held: false,
+      reason: `Block released by QA: ${input.reason}`.slice(0, 2000),
+      signatureId: signed.id,
+      userId: user.id,
     });
     await appendAudit(trx, {
       actor: { id: user.id, name: user.fullName },

@@ -102,6 +102,8 @@ export interface LotSamplingView {
     seq: number;
     label: string;
     status: ContainerStatus;
+    /** What blocks it now (an open investigation, too many invalid measurements); empty when not held. */
+    heldBy: string[];
     history: ContainerStatusRecord[];
   }[];
 }

@@ -9,7 +9,7 @@ import * as lots from '../lots/repo';
 import { lineClearanceSchema, samplingSchema } from './contract';
 import { statusLabelsPdf, type StatusLabel } from './labels-pdf';
 import * as service from './service';
-import { statusHistory } from './status';
+import { currentStatuses, holdsOf, statusHistory } from './status';
 
 const OPERATOR = { roles: ['operator'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
@@ -74,20 +74,25 @@ export function samplingRoutes(config: AppConfig): Router {
       const containers = await lots.containersOf(db, params.id);
       const history = await statusHistory(db, params.id);
       const change = Number(req.query.change ?? 0) || null;
+      // the current label shows the status as decided in one place (status.ts), with the hold that blocks it
+      const current = await currentStatuses(db, params.id);
+      const holds = await holdsOf(db, params.id);
       const rows = change
         ? history.filter((h) => h.id === change)
-        : containers.map(
-            (c) =>
-              [...history].reverse().find((h) => h.containerId === c.id) ?? {
-                id: 0,
-                containerId: c.id,
-                label: c.label,
-                status: 'quarantine' as const,
-                reason: null,
-                changedBy: lot.createdBy,
-                changedAt: lot.createdAt,
-              },
-          );
+        : containers.map((c) => {
+            const last = [...history].reverse().find((h) => h.containerId === c.id);
+            const status = current.get(c.id) ?? 'quarantine';
+            if (last && last.status === status) return last;
+            return {
+              id: 0,
+              containerId: c.id,
+              label: c.label,
+              status,
+              reason: status === 'blocked' ? (holds.get(c.id) ?? []).join('; ') : (last?.reason ?? null),
+              changedBy: last?.changedBy ?? lot.createdBy,
+              changedAt: last?.changedAt ?? lot.createdAt,
+            };
+          });
       if (!rows.length) throw notFound('The status change');
       const seqOf = new Map(containers.map((c) => [c.id, c.seq]));
       const labels: StatusLabel[] = rows.map((h) => ({

@@ -24,7 +24,7 @@ import type {
   SamplingInput,
   SamplingRecordView,
 } from './contract';
-import { currentStatuses, setContainerStatus, statusHistory } from './status';
+import { currentStatuses, holdsOf, setContainerStatus, statusHistory } from './status';
 import { transactionWithRetry } from '../../lib/retry';
 
 /**
@@ -96,6 +96,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
   }
   const history = await statusHistory(db, lotId);
   const current = await currentStatuses(db, lotId);
+  const holds = await holdsOf(db, lotId);
   return {
     lotId,
     samplingPlan: lot.sampling_plan,
@@ -107,6 +108,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
       seq: c.seq,
       label: c.label,
       status: current.get(c.id) ?? 'quarantine',
+      heldBy: holds.get(c.id) ?? [],
       history: history.filter((h) => h.containerId === c.id),
     })),
   };

@@ -14,7 +14,7 @@ export async function runCertificateStep(
   args: { lotId: number; testId: number; actor: Actor },
 ): Promise<'issued' | 'pending'> {
   try {
-    await issueCertificate(db, args);
+    await issueCertificate(db, { ...args, ...(await retestSupersession(db, args.lotId)) });
     return 'issued';
   } catch (e) {
     childLog('certificate').error(
@@ -23,4 +23,19 @@ export async function runCertificateStep(
     );
     return 'pending';
   }
+}
+
+/**
+ * A lot passed again in the retest of a released lot (server/modules/disposition/retest.ts): its
+ * certificate from before the retest is superseded by one that states the retest's result.
+ */
+async function retestSupersession(db: Knex, lotId: number): Promise<{ supersedesId?: number; reason?: string }> {
+  const retest = await db('lot_retest').where({ lot_id: lotId }).orderBy('id', 'desc').first('started_at', 'reason');
+  if (!retest) return {};
+  const cert = await db('lot as l')
+    .join('certificate as c', 'c.id', 'l.certificate_id')
+    .where('l.id', lotId)
+    .first('c.id', 'c.issued_at');
+  if (!cert || new Date(cert.issued_at) >= new Date(retest.started_at)) return {};
+  return { supersedesId: Number(cert.id), reason: `Retest of the released lot: ${retest.reason}`.slice(0, 2000) };
 }

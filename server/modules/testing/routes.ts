@@ -82,7 +82,7 @@ export function testingRoutes(config: AppConfig): Router {
       access: 'authenticated',
       query: z.object({ full: z.string().max(60).optional() }).strict(),
     },
-    ({ user, query }) => workQueueFor(getDb(), user, query.full),
+    ({ user, query }) => workQueueFor(getDb(), user, query.full, config.retestNoticeDays),
   );
   defineRoute(
     r,

@@ -31,6 +31,7 @@ import {
 import { getApprovedReferenceSet, getPinnedReferenceSet, searchApprovedLibrary } from '../library/approved-set';
 import { assertIrSuitable } from '../library/method-control';
 import * as lots from '../lots/repo';
+import { recordHoldChange } from '../sampling/status';
 import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
 import { inScope, labelsInFileName, latestByContainer } from './outcome';
@@ -565,6 +566,14 @@ export async function addMeasurement(
           },
           reason: `${state.invalidSince} invalid measurements (site limit ${settings.maxInvalidMeasurements}).`,
           ip,
+        });
+        // the container's status shows the block (server/modules/sampling/status.ts decides it)
+        await recordHoldChange(trx, {
+          lotId: ctx.lot.id,
+          containerId: container.id,
+          held: true,
+          reason: `Blocked after ${state.invalidSince} invalid measurements until QA releases it`,
+          userId: user.id,
         });
         await enqueueMailToRole(
           trx,

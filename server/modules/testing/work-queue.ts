@@ -135,7 +135,7 @@ export async function instrumentChecksDue(db: Knex): Promise<QueueItem[]> {
   return out;
 }
 
-export async function workQueueFor(db: Knex, user: AuthUser, full?: string): Promise<WorkQueue> {
+export async function workQueueFor(db: Knex, user: AuthUser, full?: string, retestNoticeDays = 30): Promise<WorkQueue> {
   const has = (r: Role) => user.roles.includes(r);
   const sections: QueueSection[] = [];
   const push = (key: QueueSection['key'], title: string, roles: Role[], items: QueueItem[]) =>
@@ -177,9 +177,9 @@ export async function workQueueFor(db: Knex, user: AuthUser, full?: string): Pro
     );
     push(
       'retests-due',
-      'Retest dates within 30 days',
+      `Retest dates within ${retestNoticeDays} days`,
       ['qa_manager'],
-      (await retestsDue(db)).map((r) => ({
+      (await retestsDue(db, retestNoticeDays)).map((r) => ({
         id: r.id,
         title: `${r.lot_number} · ${r.m_name}`,
         detail: `Retest by ${new Date(r.retest_date).toISOString().slice(0, 10)}`,

@@ -200,6 +200,38 @@ export function roleRequestSignedContent(r: {
   };
 }
 
+/** Days after an administrator reset another's password or changed their e-mail in which that other account cannot confirm the first one's role requests. */
+export const CONTROL_WINDOW_DAYS = 90;
+
+/**
+ * The two-person rule needs two people. An administrator who reset the confirming account's password
+ * (and so knew a password of it) or changed its e-mail address (where a reset would be sent) could be
+ * the one confirming. Within CONTROL_WINDOW_DAYS of such a change, a third administrator confirms.
+ */
+async function assertNotControlledByRequester(db: Knex, confirmer: AuthUser, requesterId: number): Promise<void> {
+  const since = new Date(Date.now() - CONTROL_WINDOW_DAYS * 86_400_000);
+  const events = await db('audit_event')
+    .where({ entity_type: 'user', entity_id: String(confirmer.id), actor_id: requesterId })
+    .whereIn('action', ['user.password-reset', 'user.updated'])
+    .where('occurred_at', '>=', since)
+    .orderBy('id', 'desc')
+    .select('action', 'occurred_at', 'before_json', 'after_json');
+  const control = events.find((e) => {
+    if (e.action === 'user.password-reset') return true;
+    const b = parseJson<{ email?: string }>(e.before_json, {});
+    const a = parseJson<{ email?: string }>(e.after_json, {});
+    return b.email !== a.email;
+  });
+  if (control) {
+    const requester = await db('app_user').where({ id: requesterId }).first();
+    const what = control.action === 'user.password-reset' ? 'reset your password' : 'changed your e-mail address';
+    throw forbidden(
+      `${requester?.full_name ?? 'The requesting administrator'} ${what} on ${new Date(control.occurred_at).toISOString().slice(0, 10)}; ` +
+        `within ${CONTROL_WINDOW_DAYS} days of that, a third administrator confirms their role requests (two-person rule).`,
+    );
+  }
+}
+
 export async function confirmRoleChange(
   db: Knex,
   user: AuthUser,
@@ -212,6 +244,7 @@ export async function confirmRoleChange(
   if (pre.requested_by === user.id)
     throw forbidden('You asked for this role change; a second administrator must confirm it (two-person rule).');
   if (pre.user_id === user.id) throw forbidden('Nobody confirms a change of their own roles.');
+  await assertNotControlledByRequester(db, user, pre.requested_by);
   await checkSignatureCredentials(db, {
     user,
     credentials: signature,

@@ -67,7 +67,7 @@ export function useRecordCheck(lotId: number) {
 export function useDecide(lotId: number) {
   const refresh = useRefresh(lotId);
   return useMutation({
-    mutationFn: (b: { decision: 'release' | 'reject'; text: string; signature: SignatureInput }) =>
+    mutationFn: (b: { decision: 'release' | 'reject' | 'retest'; text: string; signature: SignatureInput }) =>
       apiFetch<LotDispositionView>(`/api/lots/${lotId}/${b.decision}`, {
         method: 'POST',
         body:

@@ -33,7 +33,7 @@ export function DispositionPanel({
   const decide = useDecide(lotId);
   const [pending, setPending] = useState<{ key: string; outcome: 'conforms' | 'does-not-conform' } | null>(null);
   const [reference, setReference] = useState('');
-  const [dialog, setDialog] = useState<'release' | 'reject' | null>(null);
+  const [dialog, setDialog] = useState<'release' | 'reject' | 'retest' | null>(null);
   if (q.isPending) return <p className="text-sm text-muted">Loading the disposition…</p>;
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const d = q.data;
@@ -50,6 +50,16 @@ export function DispositionPanel({
           {d.disposition.retestDate ? ` · retest by ${d.disposition.retestDate}` : ''}
           {d.disposition.reason ? ` · ${d.disposition.reason}` : ''}
         </p>
+      )}
+      {d.retests.length > 0 && (
+        <ul className="mb-3 flex flex-col gap-1 text-sm" aria-label="Retests" data-testid="retests">
+          {d.retests.map((r) => (
+            <li key={r.id}>
+              Retest started by {r.startedBy.name}, <DateTime value={r.startedAt} />
+              {r.retestDateDue ? ` (retest date ${r.retestDateDue})` : ''} · {r.reason}
+            </li>
+          ))}
+        </ul>
       )}
       <ul className="mb-3 flex flex-col gap-1 text-sm" aria-label="Release conditions">
         {d.conditions.map((c) => (
@@ -109,6 +119,11 @@ export function DispositionPanel({
           </Button>
         </div>
       )}
+      {canDecide && d.status === 'released' && (
+        <Button size="bench" onClick={() => setDialog('retest')}>
+          Start retest
+        </Button>
+      )}
       <ReasonSignatureDialog
         open={pending !== null}
         title="Sign the release check"
@@ -136,21 +151,25 @@ export function DispositionPanel({
       </ReasonSignatureDialog>
       <ReasonSignatureDialog
         open={dialog !== null}
-        title={dialog === 'release' ? 'Release the lot' : 'Reject the lot'}
+        title={dialog === 'release' ? 'Release the lot' : dialog === 'retest' ? 'Start the retest' : 'Reject the lot'}
         meaningText={
           dialog === 'release'
             ? `release lot ${d.lotNumber}: every condition above is met`
-            : `reject lot ${d.lotNumber} for the reason given`
+            : dialog === 'retest'
+              ? `put lot ${d.lotNumber} back into quarantine for a new identity test under the current method`
+              : `reject lot ${d.lotNumber} for the reason given`
         }
         printedName={me.fullName}
         needsUsername={!me.signedOnce}
-        confirmLabel={dialog === 'release' ? 'Sign as released' : 'Sign rejection'}
+        confirmLabel={
+          dialog === 'release' ? 'Sign as released' : dialog === 'retest' ? 'Sign retest start' : 'Sign rejection'
+        }
         reason={
-          dialog === 'reject'
+          dialog === 'reject' || dialog === 'retest'
             ? {
                 label: 'Reason',
                 minLength: 10,
-                tooShort: 'Give the reason for the rejection (at least 10 characters).',
+                tooShort: `Give the reason for the ${dialog === 'retest' ? 'retest' : 'rejection'} (at least 10 characters).`,
               }
             : { label: 'Comment (optional)', minLength: 0, tooShort: '' }
         }

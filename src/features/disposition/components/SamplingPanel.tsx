@@ -141,6 +141,7 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
           >
             <span className="tabular-nums">{c.label}</span>
             <span className="font-semibold tracking-wide">{CONTAINER_STATUS_WORDS[c.status]}</span>
+            {c.heldBy.length > 0 && <span className="text-amber-ink">({c.heldBy.join('; ')})</span>}
           </li>
         ))}
       </ul>
