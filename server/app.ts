@@ -37,6 +37,7 @@ import { apiReferenceRoutes } from './modules/system/api-reference';
 import { startIntegrityJob } from './modules/integrity/service';
 import { trendingRoutes } from './modules/trending/routes';
 import { auditReviewRoutes } from './modules/audit-review/routes';
+import { startAuditReviewReminderJob } from './modules/audit-review/service';
 import { startTrendJob } from './modules/trending/service';
 import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
@@ -138,6 +139,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       startIntegrityJob(getDb(), config.integritySweepHours);
       startWebhookJob(getDb());
       startTrendJob(getDb());
+      startAuditReviewReminderJob(getDb(), config.auditReviewMonths);
       startCertificateRetryJob(getDb(), config);
       // the local fake time-stamping authority of development and tests (docs/certificates.md)
       if (!config.tsaUrl && config.devMode) await startFakeTsa();

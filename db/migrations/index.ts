@@ -26,6 +26,8 @@ import * as m142 from './142_sampling';
 import * as m143 from './143_disposition';
 import * as m144 from './144_integration';
 import * as m150 from './150_trending';
+import * as m155 from './155_trend_investigation';
+import * as m156 from './156_audit_review_reminder';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
 import * as m145 from './145_retest';
@@ -59,6 +61,8 @@ export const migrations: [string, Migration][] = [
   ['143_disposition', m143],
   ['144_integration', m144],
   ['150_trending', m150],
+  ['155_trend_investigation', m155],
+  ['156_audit_review_reminder', m156],
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
   ['145_retest', m145],
@@ -112,6 +116,7 @@ export const appendOnlyTables = [
   'audit_checkpoint',
   'trend_baseline',
   'audit_review',
+  'audit_review_reminder',
   'instrument_qualification',
   'instrument_maintenance',
   'instrument_service_event',

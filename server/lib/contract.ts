@@ -157,6 +157,8 @@ export const SIGNATURE_MEANINGS = [
   'qualification-approved',
   'back-in-service',
   'impact-assessed',
+  'investigation-opened',
+  'trend-concluded',
 ] as const;
 export type SignatureMeaning = (typeof SIGNATURE_MEANINGS)[number];
 
@@ -191,6 +193,8 @@ export const SIGNATURE_MEANING_LABELS: Record<SignatureMeaning, string> = {
   'qualification-approved': 'Qualification record approved by QA',
   'back-in-service': 'Instrument put back into service by QA',
   'impact-assessed': 'Impact of a failed instrument check assessed by QA',
+  'investigation-opened': 'Investigation of a trend signal opened by QA',
+  'trend-concluded': 'Investigation of a trend signal concluded by QA',
 };
 
 /** The signature part of a request body: the password again, the user name at first signing. */

@@ -1,4 +1,7 @@
-/** One investigation: failing containers with the library hint, phase I record, decision, signatures. */
+/**
+ * One investigation: failing containers with the library hint (or, for a trend signal, the signal
+ * and its measurements), phase I record, decision or conclusion, signatures.
+ */
 import { Link, useParams } from 'react-router-dom';
 import { PageLoading } from '../app/lazy-page';
 import { useHasRole, useSession } from '../app/session';
@@ -10,15 +13,19 @@ import { Verdict } from '../components/Verdict';
 import { formatScore } from '../lib/format';
 import { PHASE1_ITEMS, PHASE1_LABELS } from '../../server/modules/investigations/contract';
 import { useInvestigation } from '../features/investigations/api';
+import { ConcludeForm } from '../features/investigations/components/ConcludeForm';
 import { DecisionForms } from '../features/investigations/components/DecisionForms';
 import { InvestigationStatus } from '../features/investigations/components/InvestigationStatus';
 import { Phase1Form } from '../features/investigations/components/Phase1Form';
+import { TrendSubjectView } from '../features/investigations/components/TrendSubjectView';
 import { MeasurementOverlay } from '../features/testing/components/MeasurementResult';
 
 const MEANINGS: Record<string, string> = {
   'phase-1-recorded': 'Phase I laboratory check recorded',
   'result-invalidated': 'Result invalidated, retest authorised',
   'failure-confirmed': 'Failure confirmed, lot rejected',
+  'investigation-opened': 'Investigation of a trend signal opened',
+  'trend-concluded': 'Investigation of a trend signal concluded',
 };
 
 export default function InvestigationPage() {
@@ -53,57 +60,69 @@ export default function InvestigationPage() {
           />
         }
         subtitle={
-          <>
-            Lot{' '}
-            <Link to={`/lots/${inv.lotId}`} className="text-petrol underline underline-offset-2">
-              {inv.lotNumber}
-            </Link>{' '}
-            · {inv.materialName} · attempt {inv.attempt} (
-            <Link to={`/tests/${inv.testId}/review`} className="text-petrol underline underline-offset-2">
-              results
-            </Link>
-            ) · opened <DateTime value={inv.openedAt} />
-          </>
+          inv.kind === 'trend' ? (
+            <>
+              Trend signal · {inv.materialName} · opened <DateTime value={inv.openedAt} />
+            </>
+          ) : (
+            <>
+              Lot{' '}
+              <Link to={`/lots/${inv.lotId}`} className="text-petrol underline underline-offset-2">
+                {inv.lotNumber}
+              </Link>{' '}
+              · {inv.materialName} · attempt {inv.attempt} (
+              <Link to={`/tests/${inv.testId}/review`} className="text-petrol underline underline-offset-2">
+                results
+              </Link>
+              ) · opened <DateTime value={inv.openedAt} />
+            </>
+          )
         }
       />
-      <section aria-labelledby="failing" className="mb-5">
-        <h2 id="failing" className="mb-2 text-lg">
-          Failing containers
-        </h2>
-        <ul className="flex flex-col gap-2">
-          {inv.failing.map((f) => (
-            <li
-              key={f.containerId}
-              className="rounded-md border border-line bg-white p-3 text-sm"
-              data-testid={`failing-${f.label}`}
-            >
-              <div className="mb-1 flex flex-wrap items-center gap-3">
-                <span className="font-medium tabular-nums">{f.label}</span>
-                <Verdict verdict="fail" />
-                <span className="text-muted">match score {formatScore(f.score)}</span>
-                {inv.retestContainerIds.includes(f.containerId) && (
-                  <span className="text-amber-ink">retest authorised</span>
+      {inv.trend && <TrendSubjectView subject={inv.trend} />}
+      {inv.kind !== 'trend' && (
+        <section aria-labelledby="failing" className="mb-5">
+          <h2 id="failing" className="mb-2 text-lg">
+            Failing containers
+          </h2>
+          <ul className="flex flex-col gap-2">
+            {inv.failing.map((f) => (
+              <li
+                key={f.containerId}
+                className="rounded-md border border-line bg-white p-3 text-sm"
+                data-testid={`failing-${f.label}`}
+              >
+                <div className="mb-1 flex flex-wrap items-center gap-3">
+                  <span className="font-medium tabular-nums">{f.label}</span>
+                  <Verdict verdict="fail" />
+                  <span className="text-muted">match score {formatScore(f.score)}</span>
+                  {inv.retestContainerIds.includes(f.containerId) && (
+                    <span className="text-amber-ink">retest authorised</span>
+                  )}
+                </div>
+                <p
+                  className="mb-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2"
+                  data-testid="library-hint"
+                >
+                  {f.hintText}
+                </p>
+                {f.explanation.length > 0 && (
+                  <ul className="list-disc pl-5">
+                    {f.explanation.map((e, i) => (
+                      <li key={i}>{e}</li>
+                    ))}
+                  </ul>
                 )}
-              </div>
-              <p className="mb-2 rounded-md border border-amber/50 bg-amber-soft px-3 py-2" data-testid="library-hint">
-                {f.hintText}
-              </p>
-              {f.explanation.length > 0 && (
-                <ul className="list-disc pl-5">
-                  {f.explanation.map((e, i) => (
-                    <li key={i}>{e}</li>
-                  ))}
-                </ul>
-              )}
-              {/* The failing spectrum over its closest reference: what QA judges the cause by. */}
-              <div className="mt-3">
-                <h3 className="mb-1 text-sm font-medium">Failing spectrum, closest reference and difference</h3>
-                <MeasurementOverlay measurementId={f.measurementId} label={f.label} />
-              </div>
-            </li>
-          ))}
-        </ul>
-      </section>
+                {/* The failing spectrum over its closest reference: what QA judges the cause by. */}
+                <div className="mt-3">
+                  <h3 className="mb-1 text-sm font-medium">Failing spectrum, closest reference and difference</h3>
+                  <MeasurementOverlay measurementId={f.measurementId} label={f.label} />
+                </div>
+              </li>
+            ))}
+          </ul>
+        </section>
+      )}
 
       {inv.phase1 && (
         <section aria-labelledby="p1r" className="mb-5 rounded-md border border-line bg-white p-4 text-sm">
@@ -132,15 +151,18 @@ export default function InvestigationPage() {
       {inv.justification && (
         <p className="mb-5 text-sm">
           <span className="font-medium">
-            Decision ({inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'}) by{' '}
-            {inv.decidedBy?.name}:{' '}
+            {inv.decision === 'concluded'
+              ? 'Conclusion'
+              : `Decision (${inv.decision === 'confirmed' ? 'failure confirmed' : 'result invalidated'})`}{' '}
+            by {inv.decidedBy?.name}:{' '}
           </span>
           {inv.justification}
         </p>
       )}
 
       {isQa && inv.status === 'open' && <Phase1Form inv={inv} me={user} />}
-      {isQa && inv.status === 'phase1-recorded' && <DecisionForms inv={inv} me={user} />}
+      {isQa && inv.status === 'phase1-recorded' && inv.kind === 'trend' && <ConcludeForm inv={inv} me={user} />}
+      {isQa && inv.status === 'phase1-recorded' && inv.kind !== 'trend' && <DecisionForms inv={inv} me={user} />}
       {!isQa && (inv.status === 'open' || inv.status === 'phase1-recorded') && (
         <p className="text-sm text-muted">QA records the laboratory check and decides.</p>
       )}

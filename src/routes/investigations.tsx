@@ -17,9 +17,16 @@ const columns: ColumnDef<Investigation, unknown>[] = [
     accessorKey: 'number',
     cell: (c) => <span className="font-medium tabular-nums">{c.getValue() as string}</span>,
   },
-  { header: 'Lot', accessorKey: 'lotNumber' },
+  { header: 'Lot', accessorFn: (i) => (i.kind === 'trend' ? 'trend signal' : (i.lotNumber ?? '')) },
   { header: 'Material', accessorKey: 'materialName' },
-  { header: 'Failing containers', meta: { key: true }, accessorFn: (i) => i.failing.map((f) => f.label).join(', ') },
+  {
+    header: 'Failing containers',
+    meta: { key: true },
+    accessorFn: (i) =>
+      i.kind === 'trend'
+        ? `${i.trend?.measurements.length ?? 0} measurements of signal ${i.trend?.signal.id ?? ''}`
+        : i.failing.map((f) => f.label).join(', '),
+  },
   {
     header: 'Status',
     meta: { key: true },
@@ -42,7 +49,7 @@ export default function InvestigationsPage() {
     <div className="max-w-7xl">
       <PageHeader
         title="Investigations"
-        subtitle="A verified test with a failing container opens an investigation. QA records the phase I laboratory check and decides."
+        subtitle="A verified test with a failing container opens an investigation; QA opens one from a trend signal. QA records the phase I laboratory check and decides."
         actions={
           <Button onClick={() => setState(state === 'open' ? 'all' : 'open')}>
             {state === 'open' ? 'Show closed ones too' : 'Show open ones only'}

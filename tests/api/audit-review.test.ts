@@ -6,7 +6,12 @@
 import { execFileSync } from 'node:child_process';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { checkSignature } from '../../server/modules/integrity/service';
-import { reviewDue } from '../../server/modules/audit-review/service';
+import {
+  remindIfDue,
+  reviewDue,
+  startAuditReviewReminderJob,
+  stopAuditReviewReminderJob,
+} from '../../server/modules/audit-review/service';
 import { db, ownerDb, sig } from './helpers';
 import { agent, retire } from './fixtures-testing';
 import request from 'supertest';
@@ -141,5 +146,55 @@ describe('the signed review', () => {
     expect(next.due).toBe(true);
     expect(next.text).toMatch(/is due since/);
     expect((await olga.agent.get('/api/audit-reviews/due')).status).toBe(403);
+  });
+
+  it('the reminder mails QA once per due period, nothing before the review is due, and keeps its record append-only', async () => {
+    const latest = await db()('audit_review').orderBy('period_to', 'desc').orderBy('id', 'desc').first('period_to');
+    const to = new Date(latest.period_to).toISOString().slice(0, 10);
+    const r = await reviewDue(db(), 1, to);
+    const reminders = (dueFrom: string) =>
+      db()('mail_outbox').where('subject', 'like', `Audit-trail review due since ${dueFrom}%`);
+    // not due yet: no mail
+    expect(await remindIfDue(db(), 1, to)).toEqual({ due: false, mailed: false, dueKey: null });
+    expect(await reminders(r.dueFrom!)).toEqual([]);
+    // due: one mail to every QA manager
+    const first = await remindIfDue(db(), 1, r.dueFrom!);
+    expect(first).toEqual({ due: true, mailed: true, dueKey: r.dueFrom });
+    const sent = await reminders(r.dueFrom!);
+    expect(sent.map((m) => m.to_address)).toContain(`${quinn.user.username}@test.example`);
+    expect(sent.map((m) => m.to_address)).not.toContain(`${olga.user.username}@test.example`);
+    expect(sent[0].body).toMatch(/\/audit-reviews/);
+    // the same due period again, and a later day of it: no repeat mail
+    expect((await remindIfDue(db(), 1, r.dueFrom!)).mailed).toBe(false);
+    const later = new Date(new Date(`${r.dueFrom}T00:00:00Z`).getTime() + 5 * 86_400_000).toISOString().slice(0, 10);
+    expect(await remindIfDue(db(), 1, later)).toEqual({ due: true, mailed: false, dueKey: r.dueFrom });
+    expect(await reminders(r.dueFrom!)).toHaveLength(sent.length);
+    // the record of the reminder: one row, never changed or deleted by the runtime account
+    const rows = await db()('audit_review_reminder').where({ due_key: r.dueFrom });
+    expect(rows).toHaveLength(1);
+    expect(rows[0].recipients).toBe(sent.length);
+    await expect(db()('audit_review_reminder').where({ id: rows[0].id }).delete()).rejects.toThrow(
+      /DELETE command denied/,
+    );
+    await expect(
+      ownerDb()('audit_review_reminder').where({ id: rows[0].id }).update({ recipients: 0 }),
+    ).rejects.toThrow(/append-only/);
+  });
+
+  it('the reminder runs as a job under its lease, once per site', async () => {
+    const job = startAuditReviewReminderJob(db(), 1, 3_600_000);
+    try {
+      expect(await job.tick()).toBe(true);
+      const lease = await db()('job_lease').where({ name: 'audit-review-reminder' }).first();
+      expect(lease.last_ok_at).toBeTruthy();
+      expect(lease.last_error).toBeNull();
+      // a process that does not hold the lease does not run it
+      await db()('job_lease')
+        .where({ name: 'audit-review-reminder' })
+        .update({ holder: 'another-app-server', expires_at: new Date(Date.now() + 60_000) });
+      expect(await job.tick()).toBe(false);
+    } finally {
+      await stopAuditReviewReminderJob();
+    }
   });
 });

@@ -236,6 +236,14 @@ beforeAll(async () => {
     reviewed_by: qa.user.id,
     reviewed_at: now,
   });
+  // the review reminder (migration 156): one row, written as the reminder job writes it
+  await db()('audit_review_reminder').insert({
+    due_key: `probe-${Date.now() % 1e9}`,
+    after_review_id: null,
+    interval_months: 1,
+    recipients: 1,
+    mailed_at: now,
+  });
 });
 
 /**
@@ -476,6 +484,7 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     password_history: { column: 'password_hash', value: 'rewritten' },
     trend_baseline: { column: 'period_to', value: new Date(0) },
     audit_review: { column: 'findings', value: 'rewritten' },
+    audit_review_reminder: { column: 'recipients', value: 0 },
     certificate_number: { column: 'lot_id', value: 1 },
     certificate_issue_failure: { column: 'problem', value: 'rewritten' },
     audit_chain_key: { column: 'first_event_id', value: 999_999 },

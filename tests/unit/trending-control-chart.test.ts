@@ -1,6 +1,8 @@
 /**
  * Control-chart maths of trending (server/modules/trending/control-chart.ts).
  * Sources beside each check:
+ *  - limits: the worked example of the NIST/SEMATECH e-Handbook of Statistical Methods, 6.3.2.2
+ *    (published answer, checked at the end of this file);
  *  - d2, d3, D4 for n = 2: the tabulated values (ASTM E2587 and Montgomery, Introduction to
  *    Statistical Quality Control, appendix table of factors; from memory) are checked against
  *    their closed forms for the range of two independent normal values: E|X1 - X2| = 2 sigma / sqrt(pi),
@@ -129,5 +131,43 @@ describe('run rules', () => {
       if (r.key !== 'moving-range') expect(r.source).toMatch(/from memory/);
     }
     expect(MIN_POINTS).toBe(20);
+  });
+});
+
+/**
+ * A published worked example: NIST/SEMATECH e-Handbook of Statistical Methods, section 6.3.2.2
+ * "Individuals Control Charts" (US government work, public domain): the flow rate of the first
+ * 10 batches of a new process, with the published answer x-bar = 50.81, MR-bar = 1.8778,
+ * UCL = 55.8041, LCL = 45.8159. The same figures are reproduced by several independent open-source reimplementations of that example.
+ * The handbook's chart shows every batch inside its limits.
+ */
+describe('NIST/SEMATECH e-Handbook 6.3.2.2 worked example (flow rate, 10 batches)', () => {
+  const flowRate = [49.6, 47.6, 49.9, 51.3, 47.8, 51.2, 52.6, 52.4, 53.6, 52.1];
+  it('moving ranges, centre, MR-bar and limits as published', () => {
+    const mr = movingRanges(flowRate).slice(1) as number[];
+    // published moving ranges: 2.0, 2.3, 1.4, 3.5, 3.4, 1.4, 0.2, 1.2, 1.5
+    expect(mr.map((x) => Math.round(x * 10) / 10)).toEqual([2.0, 2.3, 1.4, 3.5, 3.4, 1.4, 0.2, 1.2, 1.5]);
+    const l = limitsFrom(flowRate);
+    expect(l.centre).toBeCloseTo(50.81, 10);
+    expect(l.mrBar).toBeCloseTo(1.8778, 4);
+    expect(l.ucl).toBeCloseTo(55.8041, 4);
+    expect(l.lcl).toBeCloseTo(45.8159, 4);
+    // the moving-range limit: D4 = 3.267 times the published MR-bar
+    expect(l.mrUcl).toBeCloseTo(3.267 * 1.8778, 3);
+  });
+  it('every batch lies inside its limits, as the handbook’s chart shows; a 20-point series built from it raises no 3-sigma signal', () => {
+    const l = limitsFrom(flowRate);
+    expect(flowRate.every((x) => x < l.ucl && x > l.lcl)).toBe(true);
+    // the rules only look at 20 points or more: the published batches repeated twice, against the published limits
+    const hits = evaluateRules([...flowRate, ...flowRate], l).map((h) => h.rule);
+    expect(hits).not.toContain('beyond-3-sigma');
+    expect(hits).not.toContain('moving-range');
+    // one batch moved just beyond the published UCL fires rule 1 at that point
+    const moved = [...flowRate, ...flowRate.slice(0, 9), 55.81];
+    expect(
+      evaluateRules(moved, l)
+        .filter((h) => h.index === 19)
+        .map((h) => h.rule),
+    ).toContain('beyond-3-sigma');
   });
 });

@@ -3,7 +3,8 @@
  * period drawn from the audit trail, QA's signed review record (append-only table audit_review,
  * e-signature meaning "audit-trail-reviewed" over the stored content, recipe in
  * server/modules/integrity/recipes.ts), the list, the PDF and whether a review is due (site
- * setting AUDIT_REVIEW_MONTHS, default monthly).
+ * setting AUDIT_REVIEW_MONTHS, default monthly), and the reminder job that mails QA once per due
+ * period (table audit_review_reminder, lease `audit-review-reminder`).
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
@@ -12,8 +13,11 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { parseJson } from '../../lib/db';
+import { startJob, type RunningJob } from '../../lib/lease';
+import { emailsOfRole, enqueueMail } from '../../lib/mail';
 import { renderPdf } from '../../lib/pdf';
 import { transactionWithRetry } from '../../lib/retry';
+import { pageLink } from '../lots/links';
 import { insertWithNextNumber, yearOf } from '../lots/numbering';
 import {
   REVIEW_CATEGORIES,
@@ -51,7 +55,7 @@ export const CATEGORY_ACTIONS: Record<ReviewCategory, string[]> = {
     'gate-override.confirmed',
   ],
   'integrity-alerts': ['integrity.mismatch-found', 'integrity.alert-signed-off'],
-  'trend-signals': ['trend.signal-raised', 'trend.signal-acknowledged'],
+  'trend-signals': ['trend.signal-raised', 'trend.signal-acknowledged', 'trend.signal-investigated'],
 };
 
 /** Actions that are not GMP-relevant changes (sessions and reading): left out of the period total. */
@@ -257,7 +261,7 @@ export async function reviewDue(db: Knex, months: number, on = today()): Promise
       intervalMonths: months,
       lastReview: null,
       dueFrom: null,
-      text: 'No audit-trail review is on record. Review the audit trail and record the signed review.',
+      text: 'Audit-trail review due: none is on record. Review the audit trail and record the signed review.',
     };
   const to = dateOnly(last.period_to);
   const next = new Date(`${to}T00:00:00.000Z`);
@@ -270,7 +274,7 @@ export async function reviewDue(db: Knex, months: number, on = today()): Promise
     lastReview: { id: last.id, number: last.number, to },
     dueFrom,
     text: due
-      ? `The audit-trail review after ${last.number} (period ending ${to}) is due since ${dueFrom}.`
+      ? `Audit-trail review due: the review after ${last.number} (period ending ${to}) is due since ${dueFrom}.`
       : `The next audit-trail review is due on ${dueFrom}.`,
   };
 }
@@ -340,4 +344,66 @@ export async function reviewPdf(
     }),
   });
   return { fileName: `${r.number}.pdf`, pdf };
+}
+
+/** The key of a due period: the day the review fell due, or none on record. */
+const NONE_ON_RECORD = 'none-on-record';
+
+/**
+ * Mails QA that the periodic audit-trail review is due, once per due period: the reminder row
+ * (unique per due day) and the mail are written in one short transaction, so a second run, on this
+ * or another app server, finds the row and mails nothing. Returns whether it mailed.
+ */
+export async function remindIfDue(
+  db: Knex,
+  months: number,
+  on = today(),
+): Promise<{ due: boolean; mailed: boolean; dueKey: string | null }> {
+  const d = await reviewDue(db, months, on);
+  if (!d.due) return { due: false, mailed: false, dueKey: null };
+  const dueKey = d.dueFrom ?? NONE_ON_RECORD;
+  const mailed = await transactionWithRetry(db, async (trx) => {
+    const to = await emailsOfRole(trx, 'qa_manager');
+    // nobody to tell yet: no row, so the next run tries again
+    if (to.length === 0) return false;
+    const [id] = await trx('audit_review_reminder')
+      .insert({
+        due_key: dueKey,
+        after_review_id: d.lastReview?.id ?? null,
+        interval_months: months,
+        recipients: to.length,
+        mailed_at: new Date(),
+      })
+      .onConflict()
+      .ignore();
+    if (!id) return false;
+    await enqueueMail(trx, {
+      to,
+      subject: d.lastReview
+        ? `Audit-trail review due since ${d.dueFrom} (last: ${d.lastReview.number})`
+        : 'Audit-trail review due: none on record',
+      text: [
+        d.text,
+        `The site reviews its audit trail every ${months} month${months === 1 ? '' : 's'} (EU GMP Annex 11 §9: audit trails are reviewed regularly).`,
+        `Choose the period, read its exception lists, record findings and actions and sign: ${pageLink('/audit-reviews')}`,
+      ].join('\n'),
+    });
+    return true;
+  });
+  return { due: true, mailed, dueKey };
+}
+
+let reminderJob: RunningJob | null = null;
+/** The reminder job: once per site under a lease (server/lib/lease.ts), hourly. */
+export function startAuditReviewReminderJob(db: Knex, months: number, intervalMs = 60 * 60_000): RunningJob {
+  reminderJob ??= startJob(db, {
+    name: 'audit-review-reminder',
+    intervalMs,
+    run: (d) => remindIfDue(d, months),
+  });
+  return reminderJob;
+}
+export async function stopAuditReviewReminderJob(): Promise<void> {
+  await reminderJob?.stop();
+  reminderJob = null;
 }

@@ -8,7 +8,8 @@
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
 import { reviewSignedContent } from '../audit-review/service';
-import { PHASE1_ITEMS, PHASE1_LABELS } from '../investigations/contract';
+import { PHASE1_ITEMS, PHASE1_LABELS, type TrendSubject } from '../investigations/contract';
+import { openingContent } from '../investigations/service';
 import * as instrumentsRepo from '../instruments/repo';
 import {
   assessmentSignedContent,
@@ -48,6 +49,12 @@ const investigationRecipe: Recipe = async (db, s) => {
     .first();
   if (!inv) return undefined;
   const failing = parseJson<{ containerId: number; label: string }[]>(inv.failing, []);
+  if (s.meaning === 'investigation-opened') {
+    const subject = parseJson<TrendSubject | null>(inv.subject, null);
+    return subject ? openingContent(inv.number, subject) : null;
+  }
+  if (s.meaning === 'trend-concluded')
+    return { investigation: inv.number, decision: 'concluded', conclusion: inv.justification };
   if (s.meaning === 'phase-1-recorded') {
     const p = parseJson<{ items: unknown; summary: string } | null>(inv.phase1, null);
     return { investigation: inv.number, items: p?.items, summary: p?.summary };
@@ -215,6 +222,8 @@ export const RECIPES: Record<string, Recipe> = {
   'investigation/phase-1-recorded': investigationRecipe,
   'investigation/result-invalidated': investigationRecipe,
   'investigation/failure-confirmed': investigationRecipe,
+  'investigation/investigation-opened': investigationRecipe,
+  'investigation/trend-concluded': investigationRecipe,
   'certificate/issued': async (db, s) => {
     const c = await db('certificate')
       .where({ number: s.entity_id })

@@ -67,6 +67,23 @@ export const confirmSchema = z.object({
 });
 export type ConfirmInput = z.infer<typeof confirmSchema>;
 
+/** Opening an investigation from a trend signal (docs/trending.md): why, and the e-signature. */
+export const openFromSignalSchema = z.object({
+  reason: multiLineText().min(10, 'Say why the signal needs an investigation (at least 10 characters).').max(4000),
+  signature: signatureInput,
+});
+export type OpenFromSignalInput = z.infer<typeof openFromSignalSchema>;
+
+/** Closing an investigation of a trend signal after its phase I check: the signed conclusion. */
+export const concludeSchema = z.object({
+  conclusion: multiLineText().min(20, 'Write a conclusion of at least 20 characters.').max(4000),
+  signature: signatureInput,
+});
+export type ConcludeInput = z.infer<typeof concludeSchema>;
+
+export const INVESTIGATION_KINDS = ['failure', 'trend'] as const;
+export type InvestigationKind = (typeof INVESTIGATION_KINDS)[number];
+
 export const INVESTIGATION_STATUSES = ['open', 'phase1-recorded', 'retest-authorised', 'closed'] as const;
 export type InvestigationStatus = (typeof INVESTIGATION_STATUSES)[number];
 
@@ -96,16 +113,54 @@ export interface Phase1Record {
   signatureId: number;
 }
 
+/** A measurement of the pattern of a trend signal, as named when the investigation opened. */
+export interface TrendSubjectMeasurement {
+  measurementId: number;
+  at: string;
+  value: number | null;
+  lotNumber: string;
+  container: string;
+  source: string;
+  instrument: string;
+  operator: string;
+}
+
+/** What an investigation of a trend signal is about, fixed when it opens. */
+export interface TrendSubject {
+  signal: {
+    id: number;
+    materialId: number;
+    materialName: string;
+    methodId: number;
+    methodVersion: number;
+    metric: string;
+    metricTitle: string;
+    scopeLabel: string;
+    rule: string;
+    ruleText: string;
+    ruleSource: string;
+    value: number;
+    detail: string;
+    raisedAt: string;
+  };
+  measurements: TrendSubjectMeasurement[];
+  reason: string;
+}
+
 export interface InvestigationSummary {
   id: number;
   number: string;
-  lotId: number;
-  lotNumber: string;
+  /** failure: a verified test with failing containers; trend: a trend signal (no lot, no test) */
+  kind: InvestigationKind;
+  lotId: number | null;
+  lotNumber: string | null;
   materialName: string;
-  testId: number;
-  attempt: number;
+  testId: number | null;
+  attempt: number | null;
+  /** the signal and its measurements, for kind trend */
+  trend: TrendSubject | null;
   status: InvestigationStatus;
-  decision: 'invalidated' | 'confirmed' | null;
+  decision: 'invalidated' | 'confirmed' | 'concluded' | null;
   failing: FailingContainer[];
   phase1: Phase1Record | null;
   justification: string | null;

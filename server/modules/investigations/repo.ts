@@ -1,17 +1,28 @@
 /** Data access of investigations. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type { FailingContainer, InvestigationStatus, InvestigationSummary, Phase1Record } from './contract';
+import type {
+  FailingContainer,
+  InvestigationKind,
+  InvestigationStatus,
+  InvestigationSummary,
+  Phase1Record,
+  TrendSubject,
+} from './contract';
 
 export interface InvestigationRow {
   id: number;
   number: string;
-  lot_id: number;
-  test_id: number;
+  kind: InvestigationKind;
+  lot_id: number | null;
+  test_id: number | null;
+  trend_signal_id: number | null;
+  subject: string | null;
+  opening_signature_id: number | null;
   status: InvestigationStatus;
   failing: string;
   phase1: string | null;
-  decision: 'invalidated' | 'confirmed' | null;
+  decision: 'invalidated' | 'confirmed' | 'concluded' | null;
   justification: string | null;
   retest_containers: string | null;
   opened_by: number | null;
@@ -22,17 +33,25 @@ export interface InvestigationRow {
   updated_at: Date;
 }
 
-type Joined = InvestigationRow & { lot_number: string; m_name: string; attempt: number; d_name: string | null };
+type Joined = InvestigationRow & {
+  lot_number: string | null;
+  m_name: string | null;
+  attempt: number | null;
+  d_name: string | null;
+};
 
 export function toSummary(r: Joined): InvestigationSummary {
+  const trend = parseJson<TrendSubject | null>(r.subject, null);
   return {
     id: r.id,
     number: r.number,
+    kind: r.kind ?? 'failure',
     lotId: r.lot_id,
-    lotNumber: r.lot_number,
-    materialName: r.m_name,
+    lotNumber: r.lot_number ?? null,
+    materialName: r.m_name ?? trend?.signal.materialName ?? '',
     testId: r.test_id,
-    attempt: r.attempt,
+    attempt: r.attempt ?? null,
+    trend,
     status: r.status,
     decision: r.decision,
     failing: parseJson<FailingContainer[]>(r.failing, []),
@@ -47,10 +66,11 @@ export function toSummary(r: Joined): InvestigationSummary {
 }
 
 export function query(db: Db) {
+  // a trend investigation holds no lot or test (db/migrations/155_trend_investigation.ts)
   return db('investigation as i')
-    .join('lot as l', 'l.id', 'i.lot_id')
-    .join('material as m', 'm.id', 'l.material_id')
-    .join('identity_test as t', 't.id', 'i.test_id')
+    .leftJoin('lot as l', 'l.id', 'i.lot_id')
+    .leftJoin('material as m', 'm.id', 'l.material_id')
+    .leftJoin('identity_test as t', 't.id', 'i.test_id')
     .leftJoin('app_user as d', 'd.id', 'i.decided_by')
     .select('i.*', 'l.lot_number', 'm.name as m_name', 't.attempt', 'd.full_name as d_name');
 }

@@ -1,9 +1,19 @@
-/** HTTP edge of investigations: list, detail, phase I record, invalidate with retest, confirm and reject. */
+/**
+ * HTTP edge of investigations: list, detail, phase I record, invalidate with retest, confirm and
+ * reject; and investigations of trend signals: open from a signal (signed), conclude (signed).
+ */
 import { Router } from 'express';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
 import * as repo from './repo';
-import { confirmSchema, invalidateSchema, investigationListQuery, phase1Schema } from './contract';
+import {
+  concludeSchema,
+  confirmSchema,
+  invalidateSchema,
+  investigationListQuery,
+  openFromSignalSchema,
+  phase1Schema,
+} from './contract';
 import * as service from './service';
 
 const QA = { roles: ['qa_manager'] as const };
@@ -74,6 +84,33 @@ export function investigationRoutes(): Router {
       body: confirmSchema,
     },
     ({ params, body, user, ip }) => service.confirmFailure(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/trending/signals/:id/investigation',
+      summary: 'Open an investigation of an open trend signal (signed); the signal links to it',
+      tag: 'investigations',
+      access: QA,
+      params: idParams,
+      body: openFromSignalSchema,
+      status: 201,
+    },
+    ({ params, body, user, ip }) => service.openFromSignal(getDb(), user, params.id, body, ip),
+  );
+  defineRoute(
+    r,
+    {
+      method: 'post',
+      path: '/api/investigations/:id/conclude',
+      summary: 'Close an investigation of a trend signal with the signed conclusion',
+      tag: 'investigations',
+      access: QA,
+      params: idParams,
+      body: concludeSchema,
+    },
+    ({ params, body, user, ip }) => service.concludeTrend(getDb(), user, params.id, body, ip),
   );
   return r;
 }

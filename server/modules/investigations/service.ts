@@ -20,13 +20,19 @@ import { insertWithNextNumber, yearOf } from '../lots/numbering';
 import * as repo from './repo';
 import { setContainerStatus } from '../sampling/status';
 import type {
+  ConcludeInput,
   ConfirmInput,
   FailingContainer,
   InvalidateInput,
   InvestigationDetail,
+  InvestigationSummary,
+  OpenFromSignalInput,
   Phase1Input,
   Phase1Record,
+  TrendSubject,
 } from './contract';
+import { METRIC_LABELS, TREND_CAUTION } from '../trending/contract';
+import * as trendRepo from '../trending/repo';
 import { PHASE1_ITEMS, PHASE1_LABELS } from './contract';
 
 export interface OpenInput {
@@ -149,12 +155,35 @@ export async function getInvestigation(db: Knex, id: number): Promise<Investigat
 }
 
 /** QA's independence from the laboratory work under investigation. */
-async function assertNotAnalyst(db: Knex | Knex.Transaction, user: AuthUser, testId: number): Promise<void> {
-  const t = await db('identity_test').where({ id: testId }).first();
-  const measured = await db('measurement').where({ test_id: testId, created_by: user.id }).first();
+async function assertNotAnalyst(
+  db: Knex | Knex.Transaction,
+  user: AuthUser,
+  inv: Pick<InvestigationSummary, 'kind' | 'testId' | 'trend'>,
+): Promise<void> {
+  if (inv.kind === 'trend') {
+    const ids = (inv.trend?.measurements ?? []).map((m) => m.measurementId);
+    const measured = ids.length
+      ? await db('measurement').whereIn('id', ids).where({ created_by: user.id }).first('id')
+      : undefined;
+    if (measured)
+      throw forbidden(
+        'You recorded measurements of this trend signal, so you cannot decide its investigation. Another QA manager must do it.',
+      );
+    return;
+  }
+  const t = await db('identity_test').where({ id: inv.testId }).first();
+  const measured = await db('measurement').where({ test_id: inv.testId, created_by: user.id }).first();
   if (t?.performed_by === user.id || measured)
     throw forbidden(
       'You performed or measured this test, so you cannot decide its investigation. Another QA manager must do it.',
+    );
+}
+
+/** A trend investigation neither invalidates a result nor rejects a lot: it is concluded. */
+function assertFailureKind(inv: InvestigationSummary): void {
+  if (inv.kind === 'trend')
+    throw conflict(
+      `Investigation ${inv.number} looks into a trend signal, not a failing result: it never invalidates a result or rejects a lot. Record its conclusion instead.`,
     );
 }
 
@@ -168,7 +197,7 @@ export async function recordPhase1(
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   if (inv.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
-  await assertNotAnalyst(db, user, inv.testId);
+  await assertNotAnalyst(db, user, inv);
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,
@@ -228,6 +257,7 @@ export async function invalidateResult(
 ): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
+  assertFailureKind(inv);
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
   if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
   const item = inv.phase1!.items[input.cause];
@@ -246,7 +276,7 @@ export async function invalidateResult(
       'Only failing containers of this investigation can be authorised for retest.',
       { containerIds: notFailing },
     );
-  await assertNotAnalyst(db, user, inv.testId);
+  await assertNotAnalyst(db, user, inv);
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,
@@ -289,10 +319,10 @@ export async function invalidateResult(
         decision_signature_id: sig.id,
         updated_at: now,
       });
-    const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
-    await trx('lot').where({ id: inv.lotId }).update({ identity_status: 'retest-authorised', updated_at: now });
+    const lot = await trx('lot').where({ id: inv.lotId! }).forUpdate().first();
+    await trx('lot').where({ id: inv.lotId! }).update({ identity_status: 'retest-authorised', updated_at: now });
     await setContainerStatus(trx, {
-      lotId: inv.lotId,
+      lotId: inv.lotId!,
       containerIds: inv.failing.map((f) => f.containerId),
       status: 'sampled',
       reason: `Released from hold by investigation ${inv.number}: result invalidated, retest authorised`,
@@ -315,7 +345,7 @@ export async function invalidateResult(
       actor,
       action: 'lot.retest-authorised',
       entityType: 'lot',
-      entityId: inv.lotId,
+      entityId: inv.lotId!,
       before: { identityStatus: lot.identity_status },
       after: { identityStatus: 'retest-authorised', containers: labels },
       reason: `Investigation ${inv.number}: ${input.justification}`,
@@ -340,9 +370,10 @@ export async function confirmFailure(
 ): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
+  assertFailureKind(inv);
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
   if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-  await assertNotAnalyst(db, user, inv.testId);
+  await assertNotAnalyst(db, user, inv);
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,
@@ -380,13 +411,13 @@ export async function confirmFailure(
       closed_at: now,
       updated_at: now,
     });
-    const lot = await trx('lot').where({ id: inv.lotId }).forUpdate().first();
+    const lot = await trx('lot').where({ id: inv.lotId! }).forUpdate().first();
     await trx('lot')
-      .where({ id: inv.lotId })
+      .where({ id: inv.lotId! })
       .update({ status: 'rejected', identity_status: 'rejected', updated_at: now });
     await setContainerStatus(trx, {
-      lotId: inv.lotId,
-      containerIds: (await trx('container').where({ lot_id: inv.lotId }).select('id')).map((c) => c.id as number),
+      lotId: inv.lotId!,
+      containerIds: (await trx('container').where({ lot_id: inv.lotId! }).select('id')).map((c) => c.id as number),
       status: 'rejected',
       reason: `Lot rejected: failure confirmed by investigation ${inv.number}`,
       signatureId: sig.id,
@@ -408,7 +439,7 @@ export async function confirmFailure(
       actor,
       action: 'lot.rejected',
       entityType: 'lot',
-      entityId: inv.lotId,
+      entityId: inv.lotId!,
       before: { status: lot.status, identityStatus: lot.identity_status },
       after: { status: 'rejected', identityStatus: 'rejected' },
       reason: `Investigation ${inv.number}: ${input.justification}`,
@@ -419,6 +450,251 @@ export async function confirmFailure(
       'qa_manager',
       `Investigation ${inv.number} closed: lot ${inv.lotNumber} rejected`,
       `${user.fullName} confirmed the identity failure of lot ${inv.lotNumber} (${inv.materialName}) and rejected the lot.\nJustification: ${input.justification}\n${pageLink(`/investigations/${id}`)}`,
+    );
+  });
+  return getInvestigation(db, id);
+}
+
+// ------------------------------------------------------------------ investigations of trend signals
+
+/** The content QA signs when opening an investigation of a trend signal (rebuilt by the integrity recipe). */
+export function openingContent(number: string, subject: TrendSubject) {
+  return {
+    investigation: number,
+    signal: subject.signal.id,
+    material: subject.signal.materialName,
+    methodVersion: subject.signal.methodVersion,
+    metric: subject.signal.metric,
+    scope: subject.signal.scopeLabel,
+    rule: subject.signal.rule,
+    measurements: subject.measurements.map((m) => m.measurementId),
+    reason: subject.reason,
+  };
+}
+
+/**
+ * Opens an investigation of an open trend signal (docs/trending.md, "Investigating a signal"): QA
+ * signs (meaning "investigation-opened") over the signal and the measurements of its pattern, the
+ * signal moves to "investigated" and links to the investigation, both audited, QA mailed; one short
+ * transaction. The investigation holds no lot: a trend signal is an early warning, not a failure.
+ */
+export async function openFromSignal(
+  db: Knex,
+  user: AuthUser,
+  signalId: number,
+  input: OpenFromSignalInput,
+  ip: string | null,
+): Promise<InvestigationDetail> {
+  const signal = await trendRepo.findSignal(db, signalId);
+  if (!signal) throw notFound('The trend signal');
+  const refuse = (status: string, investigationId: number | null) => {
+    if (investigationId) throw conflict(`Trend signal ${signalId} already has its investigation.`, { investigationId });
+    if (status !== 'open')
+      throw conflict(
+        `Trend signal ${signalId} is already acknowledged; an investigation opens only from an open signal.`,
+      );
+  };
+  refuse(signal.status, signal.investigationId);
+  const ids = [...new Set([...signal.pointIds, signal.measurementId])];
+  const rows = (await trendRepo.trendRows(db, signal.methodId)).filter((r) => ids.includes(r.measurementId));
+  const subject: TrendSubject = {
+    signal: {
+      id: signal.id,
+      materialId: signal.materialId,
+      materialName: signal.materialName,
+      methodId: signal.methodId,
+      methodVersion: signal.methodVersion,
+      metric: signal.metric,
+      metricTitle: METRIC_LABELS[signal.metric].title,
+      scopeLabel: signal.scopeLabel,
+      rule: signal.rule,
+      ruleText: signal.ruleText,
+      ruleSource: signal.ruleSource,
+      value: signal.value,
+      detail: signal.detail,
+      raisedAt: signal.raisedAt,
+    },
+    measurements: rows.map((r) => ({
+      measurementId: r.measurementId,
+      at: r.at.toISOString(),
+      value: r.metrics[signal.metric],
+      lotNumber: r.lotNumber,
+      container: r.container,
+      source: r.source,
+      instrument: r.instrument,
+      operator: r.operator,
+    })),
+    reason: input.reason,
+  };
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'investigation-opened',
+    entityType: 'trend_signal',
+    entityId: signalId,
+    ip,
+  });
+  const created = await transactionWithRetry(db, async (trx) => {
+    const row = await trendRepo.lockSignal(trx, signalId);
+    if (!row) throw notFound('The trend signal');
+    refuse(row.status, row.investigation_id);
+    const now = new Date();
+    const inv = await insertWithNextNumber(trx, {
+      table: 'investigation',
+      column: 'number',
+      prefix: `INV-${yearOf(now)}-`,
+      width: 4,
+      row: (number) => ({
+        number,
+        kind: 'trend',
+        lot_id: null,
+        test_id: null,
+        trend_signal_id: signalId,
+        subject: JSON.stringify(subject),
+        status: 'open',
+        failing: '[]',
+        phase1: null,
+        decision: null,
+        justification: null,
+        retest_containers: null,
+        opened_by: user.id,
+        opened_at: now,
+        decided_by: null,
+        decision_signature_id: null,
+        closed_at: null,
+        updated_at: now,
+      }),
+    });
+    const sig = await recordSignature(trx, {
+      user,
+      credentials: input.signature,
+      meaning: 'investigation-opened',
+      entityType: 'investigation',
+      entityId: inv.id,
+      content: openingContent(inv.number, subject),
+      statement: input.reason,
+      ip,
+    });
+    await trx('investigation').where({ id: inv.id }).update({ opening_signature_id: sig.id });
+    await trx('trend_signal').where({ id: signalId }).update({ status: 'investigated', investigation_id: inv.id });
+    const actor = { id: user.id, name: user.fullName };
+    await appendAudit(trx, {
+      actor,
+      action: 'investigation.opened',
+      entityType: 'investigation',
+      entityId: inv.id,
+      after: {
+        number: inv.number,
+        kind: 'trend',
+        trendSignalId: signalId,
+        rule: signal.rule,
+        metric: signal.metric,
+        scope: signal.scopeLabel,
+        measurements: subject.measurements.map((m) => ({
+          measurementId: m.measurementId,
+          lot: m.lotNumber,
+          container: m.container,
+        })),
+      },
+      reason: input.reason,
+      ip,
+    });
+    await appendAudit(trx, {
+      actor,
+      action: 'trend.signal-investigated',
+      entityType: 'trend_signal',
+      entityId: signalId,
+      before: { status: 'open', investigationId: null },
+      after: { status: 'investigated', investigationId: inv.id, investigation: inv.number },
+      reason: input.reason,
+      ip,
+    });
+    await enqueueMailToRole(
+      trx,
+      'qa_manager',
+      `Investigation ${inv.number} opened: trend signal on ${signal.materialName}`,
+      [
+        `${user.fullName} opened investigation ${inv.number} of the trend signal on ${signal.materialName} (identity method version ${signal.methodVersion}), ${signal.scopeLabel}.`,
+        signal.detail,
+        `Reason: ${input.reason}`,
+        `Measurements of the pattern: ${subject.measurements.map((m) => `${m.lotNumber} ${m.container}`).join(', ')}.`,
+        '',
+        TREND_CAUTION,
+        `Record the phase I laboratory check and the conclusion: ${pageLink(`/investigations/${inv.id}`)}`,
+      ].join('\n'),
+      user.id,
+    );
+    return inv;
+  });
+  return getInvestigation(db, created.id);
+}
+
+/**
+ * Closes an investigation of a trend signal after its phase I check with QA's signed conclusion
+ * (meaning "trend-concluded"). Changes no result, lot or certificate.
+ */
+export async function concludeTrend(
+  db: Knex,
+  user: AuthUser,
+  id: number,
+  input: ConcludeInput,
+  ip: string | null,
+): Promise<InvestigationDetail> {
+  const inv = await repo.findInvestigation(db, id);
+  if (!inv) throw notFound('The investigation');
+  if (inv.kind !== 'trend')
+    throw conflict(
+      `Investigation ${inv.number} looks into a failing result: QA invalidates the result or confirms the failure.`,
+    );
+  if (inv.status === 'open') throw conflict('Record the phase I laboratory check before the conclusion.');
+  if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already closed.`);
+  await assertNotAnalyst(db, user, inv);
+  await checkSignatureCredentials(db, {
+    user,
+    credentials: input.signature,
+    meaning: 'trend-concluded',
+    entityType: 'investigation',
+    entityId: id,
+    ip,
+  });
+  await transactionWithRetry(db, async (trx) => {
+    const row = await repo.lockInvestigation(trx, id);
+    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already closed.`);
+    const sig = await recordSignature(trx, {
+      user,
+      credentials: input.signature,
+      meaning: 'trend-concluded',
+      entityType: 'investigation',
+      entityId: id,
+      content: { investigation: inv.number, decision: 'concluded', conclusion: input.conclusion },
+      statement: input.conclusion,
+      ip,
+    });
+    const now = new Date();
+    await trx('investigation').where({ id }).update({
+      status: 'closed',
+      decision: 'concluded',
+      justification: input.conclusion,
+      decided_by: user.id,
+      decision_signature_id: sig.id,
+      closed_at: now,
+      updated_at: now,
+    });
+    await appendAudit(trx, {
+      actor: { id: user.id, name: user.fullName },
+      action: 'investigation.trend-concluded',
+      entityType: 'investigation',
+      entityId: id,
+      before: { status: 'phase1-recorded', decision: null },
+      after: { status: 'closed', decision: 'concluded' },
+      reason: input.conclusion,
+      ip,
+    });
+    await enqueueMailToRole(
+      trx,
+      'qa_manager',
+      `Investigation ${inv.number} closed: trend signal on ${inv.materialName} concluded`,
+      `${user.fullName} concluded investigation ${inv.number} of a trend signal on ${inv.materialName}.\nConclusion: ${input.conclusion}\n${pageLink(`/investigations/${id}`)}`,
     );
   });
   return getInvestigation(db, id);

@@ -90,16 +90,19 @@ export async function lotsToSample(db: Knex): Promise<QueueItem[]> {
 }
 
 export async function openInvestigations(db: Knex): Promise<QueueItem[]> {
+  // an investigation of a trend signal holds no lot: its material comes from the signal
   const rows = await db('investigation as i')
-    .join('lot as l', 'l.id', 'i.lot_id')
-    .join('material as m', 'm.id', 'l.material_id')
+    .leftJoin('lot as l', 'l.id', 'i.lot_id')
+    .leftJoin('material as m', 'm.id', 'l.material_id')
+    .leftJoin('trend_signal as s', 's.id', 'i.trend_signal_id')
+    .leftJoin('material as sm', 'sm.id', 's.material_id')
     .whereIn('i.status', ['open', 'phase1-recorded'])
-    .select('i.id', 'i.number', 'i.status', 'l.lot_number', 'm.name as m_name')
+    .select('i.id', 'i.number', 'i.status', 'i.kind', 'l.lot_number', 'm.name as m_name', 'sm.name as s_name')
     .orderBy('i.id');
   return rows.map((r) => ({
     id: r.id,
-    title: `${r.number} · lot ${r.lot_number}`,
-    detail: `${r.m_name}: ${r.status === 'open' ? 'phase I laboratory check to record' : 'decision to take'}`,
+    title: r.kind === 'trend' ? `${r.number} · trend signal` : `${r.number} · lot ${r.lot_number}`,
+    detail: `${r.m_name ?? r.s_name}: ${r.status === 'open' ? 'phase I laboratory check to record' : r.kind === 'trend' ? 'conclusion to record' : 'decision to take'}`,
     href: `/investigations/${r.id}`,
   }));
 }

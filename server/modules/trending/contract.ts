@@ -114,8 +114,11 @@ export interface TrendSignal {
   pointIds: number[];
   value: number;
   detail: string;
-  status: 'open' | 'acknowledged';
+  /** open; acknowledged with a comment; or investigated (an investigation was opened from it) */
+  status: 'open' | 'acknowledged' | 'investigated';
   raisedAt: string;
+  investigationId: number | null;
+  investigationNumber: string | null;
   acknowledgedBy: { id: number; name: string } | null;
   acknowledgedAt: string | null;
   ackComment: string | null;

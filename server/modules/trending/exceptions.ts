@@ -11,7 +11,8 @@
  *  - repeated: a container was measured more than once in this attempt;
  *  - invalid: a measurement was refused by the quality check;
  *  - time-anomaly: the attempt's measurements span more than one working shift;
- *  - open-signal: a trend signal is open on the material (any series) or on this lot's source.
+ *  - open-signal: a trend signal is open on the material (any series) or on this lot's source, or
+ *    is under an investigation that is still open.
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
@@ -119,8 +120,22 @@ export async function reviewExceptions(db: Knex, testId: number): Promise<Review
       });
   }
 
-  const signals = (await listSignals(db, { status: 'open', materialId: test.material_id })).filter(
-    (s) => s.scopeKind !== 'source' || s.scopeValue === test.supplier,
+  // an investigated signal stays an exception while its investigation is open
+  const all = await listSignals(db, { status: 'all', materialId: test.material_id });
+  const investigated = all
+    .filter((s) => s.status === 'investigated' && s.investigationId)
+    .map((s) => s.investigationId!);
+  const stillOpen = new Set(
+    investigated.length
+      ? (await db('investigation').whereIn('id', investigated).whereNot('status', 'closed').select('id')).map(
+          (r) => r.id as number,
+        )
+      : [],
+  );
+  const signals = all.filter(
+    (s) =>
+      (s.status === 'open' || (s.status === 'investigated' && stillOpen.has(s.investigationId!))) &&
+      (s.scopeKind !== 'source' || s.scopeValue === test.supplier),
   );
   for (const s of signals)
     out.push({
@@ -128,7 +143,10 @@ export async function reviewExceptions(db: Knex, testId: number): Promise<Review
       containerId: null,
       containerLabel: null,
       measurementId: s.measurementId,
-      text: `Open trend signal ${s.id} on ${s.materialName} (${s.scopeLabel}): ${s.ruleText}.`,
+      text:
+        s.status === 'investigated'
+          ? `Trend signal ${s.id} on ${s.materialName} (${s.scopeLabel}) is under investigation ${s.investigationNumber}: ${s.ruleText}.`
+          : `Open trend signal ${s.id} on ${s.materialName} (${s.scopeLabel}): ${s.ruleText}.`,
     });
 
   const flagged = new Set(out.filter((e) => e.containerId !== null).map((e) => e.containerId));

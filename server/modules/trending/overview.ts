@@ -35,15 +35,16 @@ function rates(rows: { key: string; label: string; hit: boolean }[]): RateRow[] 
 export async function qaOverview(db: Knex, from: string, to: string, now = new Date()): Promise<QaOverview> {
   const [a, b] = bounds(from, to);
 
+  // an investigation of a trend signal holds no lot (db/migrations/155_trend_investigation.ts)
   const open = await db('investigation as i')
-    .join('lot as l', 'l.id', 'i.lot_id')
+    .leftJoin('lot as l', 'l.id', 'i.lot_id')
     .whereIn('i.status', ['open', 'phase1-recorded', 'retest-authorised'])
     .orderBy('i.opened_at')
-    .select('i.id', 'i.number', 'i.opened_at', 'l.lot_number');
+    .select('i.id', 'i.number', 'i.opened_at', 'i.kind', 'l.lot_number');
   const openInvestigations = open.map((r) => ({
     id: r.id as number,
     number: r.number as string,
-    lotNumber: r.lot_number as string,
+    lotNumber: r.kind === 'trend' ? 'trend signal' : (r.lot_number as string),
     openedAt: new Date(r.opened_at).toISOString(),
     ageDays: Math.floor((now.getTime() - new Date(r.opened_at).getTime()) / DAY),
   }));

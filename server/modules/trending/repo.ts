@@ -137,7 +137,14 @@ function signalQuery(db: Db) {
     .join('material as ma', 'ma.id', 's.material_id')
     .join('identity_method as im', 'im.id', 's.method_id')
     .leftJoin('app_user as a', 'a.id', 's.acknowledged_by')
-    .select('s.*', 'ma.name as material_name', 'im.version as method_version', 'a.full_name as ack_name');
+    .leftJoin('investigation as inv', 'inv.id', 's.investigation_id')
+    .select(
+      's.*',
+      'ma.name as material_name',
+      'im.version as method_version',
+      'a.full_name as ack_name',
+      'inv.number as investigation_number',
+    );
 }
 
 function toSignal(r: Record<string, unknown>): TrendSignal {
@@ -159,8 +166,10 @@ function toSignal(r: Record<string, unknown>): TrendSignal {
     pointIds: parseJson<number[]>(r.point_ids as string, []),
     value: r.value as number,
     detail: r.detail as string,
-    status: r.status as 'open' | 'acknowledged',
+    status: r.status as TrendSignal['status'],
     raisedAt: new Date(r.raised_at as Date).toISOString(),
+    investigationId: (r.investigation_id as number | null) ?? null,
+    investigationNumber: (r.investigation_number as string | null) ?? null,
     acknowledgedBy: r.acknowledged_by ? { id: r.acknowledged_by as number, name: (r.ack_name as string) ?? '' } : null,
     acknowledgedAt: r.acknowledged_at ? new Date(r.acknowledged_at as Date).toISOString() : null,
     ackComment: (r.ack_comment as string | null) ?? null,

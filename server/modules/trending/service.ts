@@ -383,6 +383,8 @@ export async function acknowledge(
   await transactionWithRetry(db, async (trx) => {
     const row = await repo.lockSignal(trx, id);
     if (!row) throw notFound('The trend signal');
+    if (row.status === 'investigated')
+      throw conflict(`Trend signal ${id} is under investigation; its investigation records the outcome.`);
     if (row.status !== 'open') throw conflict(`Trend signal ${id} is already acknowledged.`);
     const now = new Date();
     await trx('trend_signal')

@@ -1,4 +1,4 @@
-/** Hooks of investigations of failing identity results. */
+/** Hooks of investigations of failing identity results and of trend signals. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { apiFetch } from '../../../lib/api';
 import { invalidateMe, qk } from '../../../lib/query-keys';
@@ -15,6 +15,7 @@ export type {
   InvestigationDetail,
   InvestigationSummary as Investigation,
   Phase1Record,
+  TrendSubject,
 } from '../../../../server/modules/investigations/contract';
 
 export const useInvestigations = (state: 'open' | 'all') =>
@@ -58,6 +59,15 @@ export function useInvalidate(id: number) {
       retestContainerIds: number[];
       signature: SignatureInput;
     }) => apiFetch<InvestigationDetail>(`/api/investigations/${id}/invalidate`, { method: 'POST', body }),
+    onSuccess: done,
+  });
+}
+
+export function useConclude(id: number) {
+  const done = useDone(id);
+  return useMutation({
+    mutationFn: (body: { conclusion: string; signature: SignatureInput }) =>
+      apiFetch<InvestigationDetail>(`/api/investigations/${id}/conclude`, { method: 'POST', body }),
     onSuccess: done,
   });
 }

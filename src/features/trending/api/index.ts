@@ -15,6 +15,8 @@ import type {
   TrendMethodOption,
   TrendSignal,
 } from '../../../../server/modules/trending/contract';
+import type { SignatureInput } from '../../../../server/lib/contract';
+import type { InvestigationDetail } from '../../../../server/modules/investigations/contract';
 
 export type {
   QaOverview,
@@ -85,6 +87,19 @@ export function useAcknowledge(id: number) {
     mutationFn: (body: AcknowledgeInput) =>
       apiFetch<TrendSignal>(`/api/trending/signals/${id}/acknowledge`, { method: 'POST', body }),
     onSuccess: () => void qc.invalidateQueries({ queryKey: qk.trending.all }),
+  });
+}
+
+export function useOpenInvestigation(signalId: number) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: { reason: string; signature: SignatureInput }) =>
+      apiFetch<InvestigationDetail>(`/api/trending/signals/${signalId}/investigation`, { method: 'POST', body }),
+    onSuccess: () => {
+      void qc.invalidateQueries({ queryKey: qk.trending.all });
+      void qc.invalidateQueries({ queryKey: qk.investigations.all });
+      void qc.invalidateQueries({ queryKey: qk.workQueue });
+    },
   });
 }
 

@@ -1,12 +1,16 @@
-/** Trend signals: the list (work queue and trending page) and QA's acknowledgement with a comment. */
+/**
+ * Trend signals: the list (work queue and trending page), QA's acknowledgement with a comment, and
+ * opening an investigation of the signal (signed).
+ */
 import { useState } from 'react';
-import { Link } from 'react-router-dom';
+import { Link, useNavigate } from 'react-router-dom';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Textarea } from '../../../components/Field';
+import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { errorMessage } from '../../../lib/api';
-import { METRIC_LABELS, useAcknowledge, useSignals, type TrendSignal } from '../api';
+import { METRIC_LABELS, useAcknowledge, useOpenInvestigation, useSignals, type TrendSignal } from '../api';
 
 const LINK = 'inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2';
 
@@ -27,7 +31,11 @@ export function SignalRow({ s }: { s: TrendSignal }) {
         raised <DateTime value={s.raisedAt} />
       </span>
       <span className={s.status === 'open' ? 'font-medium text-amber-ink' : 'text-muted'}>
-        {s.status === 'open' ? '⚠ open: early warning' : `acknowledged by ${s.acknowledgedBy?.name ?? ''}`}
+        {s.status === 'open'
+          ? '⚠ open: early warning'
+          : s.status === 'investigated'
+            ? `under investigation ${s.investigationNumber ?? ''}`
+            : `acknowledged by ${s.acknowledgedBy?.name ?? ''}`}
       </span>
     </li>
   );
@@ -78,6 +86,65 @@ export function AcknowledgePanel({ signal }: { signal: TrendSignal }) {
           Acknowledge signal
         </Button>
       </div>
+    </section>
+  );
+}
+
+/** QA opens an investigation of an open signal: a reason and the e-signature; then its page. */
+export function OpenInvestigationPanel({
+  signal,
+  me,
+}: {
+  signal: TrendSignal;
+  me: { fullName: string; signedOnce: boolean };
+}) {
+  const open = useOpenInvestigation(signal.id);
+  const navigate = useNavigate();
+  const [signing, setSigning] = useState(false);
+  return (
+    <section aria-labelledby="inv" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
+      <h2 id="inv" className="text-lg">
+        Investigate the signal
+      </h2>
+      <p className="text-sm text-muted">
+        When the warning needs more than a comment: the investigation names this signal and the measurements of its
+        pattern, QA records the phase I laboratory check and signs the conclusion. No result, lot or certificate
+        changes.
+      </p>
+      <div>
+        <Button onClick={() => setSigning(true)}>Open an investigation</Button>
+      </div>
+      <ReasonSignatureDialog
+        open={signing}
+        title="Open an investigation of this trend signal"
+        meaningText="open an investigation of this trend signal and the measurements of its pattern"
+        record={`Trend signal ${signal.id}: ${signal.materialName}, ${signal.scopeLabel}, ${signal.ruleText}`}
+        printedName={me.fullName}
+        needsUsername={!me.signedOnce}
+        confirmLabel="Open the investigation"
+        busy={open.isPending}
+        error={open.error}
+        reason={{
+          label: 'Why the signal needs an investigation',
+          minLength: 10,
+          tooShort: 'Say why the signal needs an investigation (at least 10 characters).',
+        }}
+        onCancel={() => {
+          setSigning(false);
+          open.reset();
+        }}
+        onSign={(signature, reason) =>
+          open.mutate(
+            { reason, signature },
+            {
+              onSuccess: (inv) => {
+                setSigning(false);
+                void navigate(`/investigations/${inv.id}`);
+              },
+            },
+          )
+        }
+      />
     </section>
   );
 }
