@@ -41,6 +41,8 @@ import { startAuditReviewReminderJob } from './modules/audit-review/service';
 import { startTrendJob } from './modules/trending/service';
 import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
+import { intakeRoutes } from './modules/intake/routes';
+import { startIntakeJob } from './modules/intake/watcher';
 import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 import { httpLogger } from './lib/log';
@@ -98,6 +100,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     certificateRoutes(config),
     lotRoutes(config),
     testingRoutes(config),
+    intakeRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),
@@ -141,6 +144,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       // the local fake time-stamping authority of development and tests (docs/certificates.md)
       if (!config.tsaUrl && config.devMode) await startFakeTsa();
       startAnchorJob(getDb(), config);
+      startIntakeJob(getDb(), config);
     },
   ];
   return { app, config };

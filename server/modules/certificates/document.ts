@@ -4,6 +4,7 @@
  * figure, e-signatures, conclusion, caution, QR code to the verification page, and
  * "Page x of y" on every page. Verdicts are printed as symbol and word.
  */
+import { FROM_EXPORT_FOLDER } from '../intake/contract';
 import { formatSiteTime } from '../../lib/contract';
 import type { Content, TableCell, TDocumentDefinitions } from '../../lib/pdf';
 import type { CertificateContent, SignatureLine } from './contract';
@@ -241,6 +242,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
             stack: [
               { text: r.label, bold: true, noWrap: true },
               { text: r.rawFileName, fontSize: 6, color: '#555555' },
+              ...(r.source === 'export-folder' ? [{ text: FROM_EXPORT_FOLDER, fontSize: 6, color: '#555555' }] : []),
             ],
           },
           { text: String(r.measurementId) },
