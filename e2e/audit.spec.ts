@@ -58,7 +58,7 @@ test('an administrator changes roles, a second one confirms; the account history
   await expect(history).toBeVisible();
   const events = history.getByTestId('history-event');
   await expect(events).toHaveCount(3);
-  await expect(events.nth(0)).toContainText('user.created');
+  await expect(events.nth(0)).toContainText('Account created (user.created)');
   await expect(events.nth(1)).toContainText('user.role-change-requested');
   await expect(events.nth(2)).toContainText('user.roles-changed');
   await expect(events.nth(2)).toContainText('trained as second person, training record TR-118');
@@ -91,6 +91,12 @@ test('an administrator changes roles, a second one confirms; the account history
   await expect(rows.nth(0)).toContainText('user.created');
   await expect(rows.nth(1)).toContainText('user.role-change-requested');
   await expect(rows.nth(2)).toContainText('user.roles-changed');
+  // Business numbers (issue 18, item 3): the record by its user name, never "Account <id>"; the event
+  // type in words first with its code beside it; the actor with the user name.
+  for (let i = 0; i < 3; i++) await expect(rows.nth(i).getByTestId('audit-record')).toHaveText(`Account ${username}`);
+  await expect(rows.nth(0).getByTestId('audit-action')).toHaveText(/^Account created\s*user\.created$/);
+  await expect(rows.nth(2).getByTestId('audit-action')).toHaveText(/^Roles changed\s*user\.roles-changed$/);
+  await expect(rows.nth(0)).toContainText('adam');
 
   // The event's values side by side: asked by Adam, confirmed by Sigrid.
   await rows.nth(2).click();
@@ -98,6 +104,11 @@ test('an administrator changes roles, a second one confirms; the account history
   await expect(detail).toContainText('Sigrid Achterberg');
   await expect(detail).toContainText('Adam Lindqvist');
   await expect(detail).toContainText('trained as second person, training record TR-118');
+  await expect(detail).toContainText(`Account ${username}`);
+  await expect(detail).toContainText('Roles changed (user.roles-changed)');
+  await expect(detail).toContainText('user name sigrid');
+  // field names in words ("requested by", "confirmed by"), not the stored keys alone
+  await expect(detail.getByRole('rowheader').filter({ hasText: /^requested by/ })).toBeVisible();
   const rolesRow = detail.getByRole('row').filter({ hasText: 'changed' });
   await expect(rolesRow.getByRole('rowheader')).toContainText('roles');
   await expect(rolesRow.getByRole('cell').nth(0)).toHaveText('["operator"]');

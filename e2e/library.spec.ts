@@ -77,13 +77,22 @@ test('QA writes a method and uploads a reference, sees its bands; a second QA ma
   const bands = page.getByRole('table', { name: 'Characteristic bands' });
   await expect(bands.getByTestId('band-row').first()).toBeVisible();
   expect(await bands.getByTestId('band-row').count()).toBeGreaterThan(3);
-  // para-aramid: amide I (C=O stretch) near 1640 cm-1 (standard IR correlation tables, from memory)
+  // para-aramid: amide I (C=O stretch) near 1640 cm-1 (standard IR correlation tables, from memory).
+  // Issue 18 item 4: no assignment until QA sets one; QA reviewing the draft sees the table's
+  // candidates, for information, with amide I first.
+  const amideRow = bands
+    .getByTestId('band-row')
+    .filter({ hasText: /16[3-5]\d\.\d cm⁻¹/ })
+    .first();
+  await expect(amideRow.getByTestId('band-assignment')).toHaveText('not set by QA');
+  const candidates = page.getByTestId('band-candidates');
+  await candidates.getByText('Correlation-table candidates, for information').click();
   await expect(
-    bands
-      .getByTestId('band-row')
-      .filter({ hasText: /16[3-5]\d\.\d cm⁻¹/ })
+    candidates
+      .getByRole('listitem')
+      .filter({ hasText: /^16[3-5]\d\.\d cm⁻¹/ })
       .first(),
-  ).toContainText(/C=O|amide/i);
+  ).toContainText(/^16[3-5]\d\.\d cm⁻¹: [^;]*amide/i);
   await expect(page.getByRole('group', { name: new RegExp(`^Reference ${refCode}`) })).toBeVisible();
   await expect(page.getByRole('button', { name: 'Approve reference' })).toBeDisabled();
   await expect(page.getByRole('note')).toContainText('Another QA manager must approve it');

@@ -118,7 +118,9 @@ export const MAIN_PAGES: MainPage[] = [
     heading: /IC-/,
   },
   { name: 'auditor work queue', user: 'aurelia', path: '/', heading: /^Work queue of/, narrow: true },
+  { name: 'suppliers and materials', user: 'quinn', path: '/master-data', heading: /Suppliers and materials/ },
   { name: 'user accounts', user: 'adam', path: '/admin/users', heading: /accounts/i },
+  { name: 'ERP link', user: 'adam', path: '/admin/integration', heading: /ERP link/ },
 ];
 
 export async function signInDemo(page: Page, username: string): Promise<void> {

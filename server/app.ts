@@ -44,6 +44,7 @@ import { startAuditReviewReminderJob } from './modules/audit-review/service';
 import { startTrendJob } from './modules/trending/service';
 import { startCertificateRetryJob } from './modules/certificates';
 import { startAnchorJob } from './modules/audit/anchor';
+import { intakeRoutes, startIntakeJob } from './modules/intake';
 import { startFakeTsa } from './lib/signing';
 import { initMail, startMailWorker } from './lib/mail';
 import { httpLogger } from './lib/log';
@@ -106,6 +107,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     lotRoutes(config),
     testingRoutes(config),
     workQueueRoutes(config),
+    intakeRoutes(config),
     investigationRoutes(),
     integrityRoutes(),
     supplierRoutes(),
@@ -149,6 +151,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
       // the local fake time-stamping authority of development and tests (docs/certificates.md)
       if (!config.tsaUrl && config.devMode) await startFakeTsa();
       startAnchorJob(getDb(), config);
+      startIntakeJob(getDb(), config);
     },
   ];
   return { app, config };

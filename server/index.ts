@@ -10,6 +10,7 @@
 import { createApp } from './app';
 import { closeDb } from './lib/db';
 import { stopAllJobs } from './lib/lease';
+import { stopIntakeJob } from './modules/intake/watcher';
 import { startDraining } from './lib/lifecycle';
 import { childLog, safeError } from './lib/log';
 import { closeComputePool } from './workers/pool';
@@ -43,7 +44,7 @@ function shutdown(signal: string) {
   }, config.shutdownGraceMs);
   force.unref();
   server.close(() => {
-    Promise.all([stopAllJobs(), closeComputePool()])
+    Promise.all([stopIntakeJob(), stopAllJobs(), closeComputePool()])
       .catch((e) => log.error({ err: safeError(e) }, 'stopping jobs failed'))
       .finally(() =>
         closeDb().finally(() => {

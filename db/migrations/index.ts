@@ -31,6 +31,7 @@ import * as m156 from './156_audit_review_reminder';
 import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
 import * as m145 from './145_retest';
+import * as m163 from './163_folder_intake';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -65,6 +66,7 @@ export const migrations: [string, Migration][] = [
   ['160_instrument_lifecycle', m160],
   ['161_check_lookback', m161],
   ['145_retest', m145],
+  ['163_folder_intake', m163],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {
@@ -131,6 +133,9 @@ export const appendOnlyTables = [
   'lot_check',
   'lot_disposition',
   'lot_retest',
+  'instrument_intake_setting',
+  'folder_acquisition',
+  'folder_acquisition_event',
 ];
 
 /** GMP records with a life cycle: only the permitted changes, never deleted (db/protect.ts guardRows). */

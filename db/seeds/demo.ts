@@ -134,6 +134,15 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
     performedBy: 'Site instrument engineer (demo)',
     description: 'Desiccant replaced and ATR crystal inspected; no damage found.',
   });
+  // FTIR 1 exports into a watched folder (under the ignored .data/ folder; docs/instrument-intake.md);
+  // `npm run instrument:simulate -- --instrument "FTIR 1" --label <container label>` writes into it.
+  await p.quinn.put(`/api/instruments/${ids.instruments['IR-1']}/intake`, {
+    exportFolder: 'ftir-1',
+    usePolling: false,
+    manualUploadAllowed: true,
+    timeZone: 'Europe/Berlin',
+    reason: 'FTIR 1 exports every scan into its folder; hand uploads stay allowed while the lab changes over (demo).',
+  });
   const films = demoSpectra().filter((s) => s.kind === 'polystyrene' && !s.spare);
   for (const film of films) {
     // FTIR 3: only the drifted film is recorded, so its check fails and stays due.
@@ -143,7 +152,7 @@ async function seedInstruments(p: People, ids: DemoIds, log: Log): Promise<void>
     await who.upload(`/api/instruments/${ids.instruments[film.instrument]}/checks`, 'file', [f], who.sig());
   }
   log(
-    'three instruments with qualification records and site check positions; FTIR 1 and 2 checked, FTIR 3 check failed (due, look-back open)',
+    'three instruments with qualification records and site check positions; FTIR 1 and 2 checked, FTIR 3 check failed (due, look-back open); FTIR 1 exports into its watched folder',
   );
 }
 

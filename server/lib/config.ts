@@ -60,6 +60,16 @@ export interface AppConfig {
   auditCheckpointMinutes: number;
   /** Minutes between retries of certificates that could not be issued (CERTIFICATE_RETRY_MINUTES, default 5). */
   certificateRetryMinutes: number;
+  /** Folder under which every instrument's export folder lies (INSTRUMENT_EXPORT_ROOT, default .data/instrument-exports; docs/instrument-intake.md). */
+  instrumentExportRoot: string;
+  /** Milliseconds a new file's size must stay unchanged before it is taken (INTAKE_STABLE_MS, default 2000). */
+  intakeStableMs: number;
+  /** Milliseconds between the watcher's lease ticks and polls of mounted shares (INTAKE_POLL_MS, default 2000). */
+  intakePollMs: number;
+  /** Hours after which an unassigned acquisition is listed for QA (UNASSIGNED_ACQUISITION_HOURS, default 24). */
+  unassignedAcquisitionHours: number;
+  /** Minutes of clock offset (file's stated acquisition time vs receipt) beyond which the verifier is warned; also the "in the future" tolerance (CLOCK_TOLERANCE_MINUTES, default 5). */
+  clockToleranceMinutes: number;
 }
 
 export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
@@ -113,6 +123,11 @@ export function loadConfig(overrides: Partial<AppConfig> = {}): AppConfig {
     auditCheckpointDir: process.env.AUDIT_CHECKPOINT_DIR ?? '.data/checkpoints',
     auditCheckpointMinutes: num('AUDIT_CHECKPOINT_MINUTES', 60),
     certificateRetryMinutes: num('CERTIFICATE_RETRY_MINUTES', 5),
+    instrumentExportRoot: process.env.INSTRUMENT_EXPORT_ROOT ?? '.data/instrument-exports',
+    intakeStableMs: num('INTAKE_STABLE_MS', 2000),
+    intakePollMs: num('INTAKE_POLL_MS', 2000),
+    unassignedAcquisitionHours: num('UNASSIGNED_ACQUISITION_HOURS', 24),
+    clockToleranceMinutes: num('CLOCK_TOLERANCE_MINUTES', 5),
   };
   const out = { ...base, ...overrides };
   if (out.metricsToken !== undefined && out.metricsToken.length < 24)

@@ -34,7 +34,8 @@ export interface StoredFileRow {
 export async function storeFile(
   db: Db,
   file: UploadedFile,
-  userId: number,
+  /** null: received by the system itself (the export-folder watcher) */
+  userId: number | null,
   at: Date = new Date(),
   knownSha256?: string,
 ): Promise<{ id: number; sha256: string }> {

@@ -46,6 +46,9 @@ export function bandMeaning(position: number, width: number | undefined): string
   return best.meaning ? `${best.group}; usually ${best.meaning}` : best.group;
 }
 
+/** QA's assignment of a reference band in brackets; nothing when QA set none. */
+const named = (r: BandRow) => (r.assignment ? ` (${r.assignment})` : '');
+
 function missingSentences(rows: BandRow[]): string[] {
   const bad = rows
     .filter((r) => !r.withinTolerance)
@@ -54,8 +57,8 @@ function missingSentences(rows: BandRow[]): string[] {
     .slice(0, MAX_BAND_SENTENCES)
     .map((r) =>
       r.sampleBand === null || r.shift === null
-        ? `Reference band at ${cm(r.referenceBand)} (${r.assignment}) is missing in the sample.`
-        : `Reference band at ${cm(r.referenceBand)} (${r.assignment}) appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed${r.toleranceRule ? ` (${r.toleranceRule})` : ''}.`,
+        ? `Reference band at ${cm(r.referenceBand)}${named(r)} is missing in the sample.`
+        : `Reference band at ${cm(r.referenceBand)}${named(r)} appears at ${cm(r.sampleBand)} in the sample, shifted by ${signed(r.shift)}; at most ±${r.tolerance.toFixed(1)} cm-1 is allowed${r.toleranceRule ? ` (${r.toleranceRule})` : ''}.`,
     );
   if (bad.length > MAX_BAND_SENTENCES)
     out.push(`${bad.length - MAX_BAND_SENTENCES} further reference bands are missing or shifted (see the band table).`);

@@ -17,7 +17,7 @@ export type CriterionKey =
 
 export interface Criterion {
   key: CriterionKey;
-  /** Plain-words name, e.g. "Correlation with the reference". */
+  /** Plain-words name, e.g. "Correlation coefficient (r) with the reference". */
   name: string;
   value: number;
   limit: number;

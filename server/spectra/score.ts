@@ -122,7 +122,9 @@ export function scoreReference(
   const t = method.thresholds;
   const criteria: Criterion[] = [];
   const r = corr(sampleUnit, ref.unit);
-  criteria.push(criterion('correlation', 'Correlation with the reference', r, t.minCorrelation, '>=', ref.id));
+  criteria.push(
+    criterion('correlation', 'Correlation coefficient (r) with the reference', r, t.minCorrelation, '>=', ref.id),
+  );
   let rd: number | null = null;
   if (t.minDerivativeCorrelation !== null && sampleUnitDerivative && ref.unitDerivative) {
     rd = corr(sampleUnitDerivative, ref.unitDerivative);

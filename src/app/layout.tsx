@@ -3,11 +3,21 @@
  * routes.tsx filtered by the user's roles, session handling (ended session -> sign-in page with
  * the reason; forced password change), and an error boundary around the page.
  */
-import { useEffect, useEffectEvent, useMemo, useRef } from 'react';
+import { useEffect, useEffectEvent, useMemo, useRef, useState } from 'react';
 import { Link, Navigate, NavLink, Outlet, useLocation, useNavigate } from 'react-router-dom';
 import { useQueryClient } from '@tanstack/react-query';
 import { useMe, useSignOut } from '../features/auth/api';
 import { lastApiActivity, onUnauthorized } from '../lib/api';
+import {
+  announce,
+  clearDrafts,
+  isSigningOut,
+  leaveNotice,
+  markSigningOut,
+  onSessionMessage,
+  setDraftOwner,
+  takeNotice,
+} from '../lib/session-sync';
 import { setSiteTimeZone } from '../lib/format';
 import { qk } from '../lib/query-keys';
 import { hasAnyRole, roleList } from '../lib/roles';
@@ -25,6 +35,13 @@ export function sessionEndedMessage(minutes: number): string {
   return `Your session ended after ${minutes} minutes without activity. Sign in again to continue.`;
 }
 
+/** A session that ended while the tab was active: signed out elsewhere, not idle. */
+export const SESSION_GONE_MESSAGE =
+  'Your session has ended: you signed out in another tab or window, or an administrator ended it. Sign in again to continue.';
+
+/** Warned this long before the idle sign-out. */
+export const IDLE_WARNING_MS = 2 * 60_000;
+
 /** Sends the user to sign-in when the server says the session is gone. */
 function useSessionGuard(me: Me | null | undefined) {
   const navigate = useNavigate();
@@ -36,17 +53,50 @@ function useSessionGuard(me: Me | null | undefined) {
 
   useEffect(
     () =>
-      onUnauthorized(() => {
+      onUnauthorized((_path, quietSince) => {
+        if (isSigningOut()) return; // this tab's own sign-out: its page says so
         const had = qc.getQueryData<Me | null>(qk.me);
         if (!had) return; // nobody was signed in: the shell redirects without a message
+        // Idle expiry only when the tab really was quiet for the idle time; otherwise the session
+        // was ended by a sign-out elsewhere (issue 18, item 5).
+        const idle = Date.now() - quietSince >= had.site.idleMinutes * 60_000 - 5_000;
         qc.clear();
         qc.setQueryData(qk.me, null);
         navigate('/sign-in', {
           replace: true,
-          state: { message: sessionEndedMessage(had.site.idleMinutes), from: where.current },
+          state: {
+            message: idle ? sessionEndedMessage(had.site.idleMinutes) : SESSION_GONE_MESSAGE,
+            from: where.current,
+          },
         });
       }),
     [navigate, qc],
+  );
+
+  // Other tabs of this browser share the session cookie: a sign-in as someone else there makes
+  // this tab act as that person, so say so and reload as them; a sign-out there ends this one.
+  const myId = me?.user.id ?? null;
+  useEffect(() => {
+    setDraftOwner(myId);
+  }, [myId]);
+  useEffect(
+    () =>
+      onSessionMessage((m) => {
+        if (m.type === 'signed-in' && m.userId !== myId) {
+          leaveNotice(
+            `Another tab of this browser signed in as ${m.fullName} (${m.username}). This tab now works as ${m.fullName}; anything not yet saved here was not sent.`,
+          );
+          window.location.reload();
+        } else if (m.type === 'signed-out' && myId !== null) {
+          qc.clear();
+          qc.setQueryData(qk.me, null);
+          navigate('/sign-in', {
+            replace: true,
+            state: { message: 'You signed out in another tab of this browser.', from: where.current },
+          });
+        }
+      }),
+    [myId, navigate, qc],
   );
 
   // Moving to another page is activity: when the server has not been asked for a minute (the page
@@ -120,10 +170,17 @@ function Nav({ me }: { me: Me }) {
 function Header({ me, forced }: { me: Me; forced: boolean }) {
   const signOut = useSignOut();
   const navigate = useNavigate();
-  const doSignOut = () =>
+  const doSignOut = () => {
+    markSigningOut(true);
+    clearDrafts();
     signOut.mutate(undefined, {
-      onSettled: () => navigate('/sign-in', { replace: true, state: { message: 'You have signed out.' } }),
+      onSettled: () => {
+        announce({ type: 'signed-out', userId: me.user.id });
+        navigate('/sign-in', { replace: true, state: { message: 'You have signed out.' } });
+        markSigningOut(false);
+      },
     });
+  };
   return (
     <header className="border-b border-line bg-white">
       <div className="flex flex-wrap items-center justify-between gap-x-6 gap-y-2 px-4 py-2">
@@ -172,6 +229,75 @@ function Header({ me, forced }: { me: Me; forced: boolean }) {
   );
 }
 
+/**
+ * The notice left by a switch of user in another tab (shown once), and the warning two minutes
+ * before the idle sign-out, with "Stay signed in" (a request restarts the server's idle clock).
+ */
+function SessionNotices({ me }: { me: Me }) {
+  const qc = useQueryClient();
+  const [notice, setNotice] = useState<string | null>(() => takeNotice());
+  const [left, setLeft] = useState<number | null>(null);
+  const idleMs = me.site.idleMinutes * 60_000;
+  useEffect(() => {
+    const tick = () => {
+      const remaining = idleMs - (Date.now() - lastApiActivity());
+      setLeft(remaining <= IDLE_WARNING_MS && remaining > 0 ? remaining : null);
+    };
+    tick();
+    const t = window.setInterval(tick, 1_000);
+    return () => window.clearInterval(t);
+  }, [idleMs]);
+  const stay = () => {
+    setLeft(null);
+    void qc.invalidateQueries({ queryKey: qk.me });
+  };
+  const mmss = (ms: number) => {
+    const s = Math.ceil(ms / 1000);
+    return `${Math.floor(s / 60)}:${String(s % 60).padStart(2, '0')}`;
+  };
+  return (
+    <>
+      {notice && (
+        <div
+          role="status"
+          data-testid="session-notice"
+          className="flex items-start justify-between gap-4 border-b border-amber/50 bg-amber-soft px-4 py-2 text-sm text-amber-ink"
+        >
+          <span>{notice}</span>
+          <button type="button" className="underline underline-offset-2" onClick={() => setNotice(null)}>
+            Dismiss
+          </button>
+        </div>
+      )}
+      {left !== null && (
+        <div
+          role="alertdialog"
+          aria-labelledby="idle-warning-title"
+          aria-describedby="idle-warning-text"
+          data-testid="idle-warning"
+          className="fixed right-4 bottom-4 z-50 flex max-w-sm flex-col gap-2 rounded-md border border-amber/60 bg-white p-4 shadow-lg"
+        >
+          <h2 id="idle-warning-title" className="text-base font-semibold text-amber-ink">
+            You will be signed out soon
+          </h2>
+          <p id="idle-warning-text" className="text-sm">
+            No activity for a while: Drumline signs you out in {mmss(left)}. Text you typed in open forms is kept as a
+            draft on this computer until you sign out.
+          </p>
+          <button
+            type="button"
+            onClick={stay}
+            autoFocus
+            className="min-h-11 rounded-md bg-petrol px-4 text-sm font-medium text-white hover:bg-petrol/90"
+          >
+            Stay signed in
+          </button>
+        </div>
+      )}
+    </>
+  );
+}
+
 export function AppShell() {
   const me = useMe();
   const location = useLocation();
@@ -209,6 +335,7 @@ export function AppShell() {
           Skip to the page
         </a>
         <Header me={me.data} forced={forced} />
+        <SessionNotices me={me.data} />
         <div className="flex flex-1 flex-col md:flex-row">
           {!forced && (
             <aside className="border-b border-line bg-paper px-3 py-4 md:w-52 md:shrink-0 md:border-r md:border-b-0">

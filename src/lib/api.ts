@@ -22,14 +22,15 @@ export class ApiError extends Error {
  * shell registers one. Other 401s (a wrong password in a signature or password change) are
  * answers to show, not a lost session.
  */
-type UnauthorizedListener = (path: string) => void;
+type UnauthorizedListener = (path: string, quietSince: number) => void;
 const unauthorizedListeners = new Set<UnauthorizedListener>();
 export function onUnauthorized(fn: UnauthorizedListener): () => void {
   unauthorizedListeners.add(fn);
   return () => unauthorizedListeners.delete(fn);
 }
-function notifyUnauthorized(path: string) {
-  for (const fn of unauthorizedListeners) fn(path);
+/** quietSince: the time of the server's last answer before this 401 (how long the session was idle). */
+function notifyUnauthorized(path: string, quietSince: number) {
+  for (const fn of unauthorizedListeners) fn(path, quietSince);
 }
 
 /** Time of the last answer from the server (the server's idle clock restarts with each request). */
@@ -94,10 +95,11 @@ export async function apiFetch<T = unknown>(path: string, opts: ApiFetchOptions 
     if ((e as Error)?.name === 'AbortError') throw e;
     throw new ApiError(0, 'NETWORK', 'The server could not be reached. Check the network connection and try again.');
   }
+  const quietSince = lastServerContact;
   lastServerContact = Date.now();
   if (!res.ok) {
     const err = await errorFrom(res);
-    if (err.status === 401 && err.code === 'UNAUTHENTICATED') notifyUnauthorized(path);
+    if (err.status === 401 && err.code === 'UNAUTHENTICATED') notifyUnauthorized(path, quietSince);
     throw err;
   }
   if (res.status === 204) return undefined as T;
@@ -131,6 +133,7 @@ export function apiUpload<T = unknown>(
         onProgress({ loaded: ev.loaded, total, fraction: total ? ev.loaded / total : 0 });
       };
     xhr.onload = () => {
+      const quietSince = lastServerContact;
       lastServerContact = Date.now();
       let body: unknown;
       try {
@@ -143,7 +146,7 @@ export function apiUpload<T = unknown>(
         resolve(body as T);
       } else {
         const err = errorFromBody(xhr.status, body);
-        if (err.status === 401 && err.code === 'UNAUTHENTICATED') notifyUnauthorized(path);
+        if (err.status === 401 && err.code === 'UNAUTHENTICATED') notifyUnauthorized(path, quietSince);
         reject(err);
       }
     };

@@ -35,6 +35,10 @@ export const qk = {
     /** impact assessments of failed checks sit under the instruments, so a new check refreshes them */
     impacts: ['instruments', 'impact-assessments'] as const,
     lotNotices: (lotId: number) => ['instruments', 'impact-notices', lotId] as const,
+    /** export-folder intake (docs/instrument-intake.md) */
+    intake: (id: number) => ['instruments', id, 'intake'] as const,
+    acquisitions: (id: number) => ['instruments', id, 'acquisitions'] as const,
+    testAcquisitions: (testId: number) => ['instruments', 'test-acquisitions', testId] as const,
   },
   investigations: {
     all: ['investigations'] as const,

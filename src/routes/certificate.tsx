@@ -119,7 +119,7 @@ export default function CertificatePage() {
                   </th>
                   <th className="px-3 py-2 text-right">Measurement</th>
                   <th className="px-3 py-2 text-right" data-key-column="score">
-                    Match score
+                    Correlation coefficient (r)
                   </th>
                   <th className="px-3 py-2">Band concordance</th>
                   <th className="px-3 py-2" data-key-column="verdict">

@@ -23,6 +23,7 @@ import { CheckHistory } from '../features/instruments/components/CheckHistory';
 import { CheckStatus } from '../features/instruments/components/CheckStatus';
 import { RecordCheckDialog } from '../features/instruments/components/RecordCheckDialog';
 import { ImpactAssessments } from '../features/instruments/components/ImpactAssessments';
+import { IntakePanel } from '../features/instruments/components/IntakePanel';
 import { LifecycleRecords, ServiceBanner } from '../features/instruments/components/LifecyclePanel';
 import { specKindText } from '../features/instruments/components/spec-kind';
 import { SAMPLING_LABELS } from '../../server/modules/instruments/contract';
@@ -32,6 +33,7 @@ export default function InstrumentPage() {
   const id = Number(useParams().id);
   const { user } = useSession();
   const isQa = useHasRole('qa_manager');
+  const isAdmin = useHasRole('admin');
   const canCheck = useHasRole('operator');
   const canBench = useHasRole('operator', 'verifier', 'qa_manager');
   const q = useInstrument(id);
@@ -147,6 +149,7 @@ export default function InstrumentPage() {
           </ol>
         </section>
       </div>
+      <IntakePanel instrumentId={i.id} canSet={isQa || isAdmin} canDecide={canCheck} />
       <LifecycleRecords instrument={i} canBench={canBench} isQa={isQa} me={user} />
       {canCheck && (
         <RecordCheckDialog

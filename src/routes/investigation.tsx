@@ -95,7 +95,7 @@ export default function InvestigationPage() {
                 <div className="mb-1 flex flex-wrap items-center gap-3">
                   <span className="font-medium tabular-nums">{f.label}</span>
                   <Verdict verdict="fail" />
-                  <span className="text-muted">match score {formatScore(f.score)}</span>
+                  <span className="text-muted">correlation coefficient (r) {formatScore(f.score)}</span>
                   {inv.retestContainerIds.includes(f.containerId) && (
                     <span className="text-amber-ink">retest authorised</span>
                   )}

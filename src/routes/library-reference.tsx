@@ -170,7 +170,12 @@ export default function LibraryReferencePage() {
             <h2 id="bands-h" className="mb-2 text-lg">
               Characteristic bands
             </h2>
-            <BandTable referenceId={r.id} bands={r.bands} editable={isQa && r.status === 'draft'} />
+            <BandTable
+              referenceId={r.id}
+              bands={r.bands}
+              editable={isQa && r.status === 'draft'}
+              candidates={r.bandCandidates}
+            />
           </section>
           <section aria-labelledby="gate-h">
             <h2 id="gate-h" className="mb-2 text-lg">

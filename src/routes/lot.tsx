@@ -19,6 +19,7 @@ import { SignatureList } from '../features/testing/components/Signatures';
 import { TestBench } from '../features/testing/components/TestBench';
 import { DispositionPanel } from '../features/disposition/components/DispositionPanel';
 import { SamplingPanel } from '../features/disposition/components/SamplingPanel';
+import { TestAcquisitions } from '../features/instruments/components/TestAcquisitions';
 
 const TEST_STATUS: Record<string, string> = {
   'in-progress': 'In progress',
@@ -160,6 +161,7 @@ export default function LotPage() {
               Testing
             </h2>
             <TestBench testId={current.id} lotId={lot.id} me={user} />
+            <TestAcquisitions testId={current.id} lotId={lot.id} live />
           </section>
         ) : (
           <p className="text-sm">Attempt {current.attempt} is in progress.</p>

@@ -9,7 +9,7 @@ import { Link } from 'react-router-dom';
 import { DateTime } from '../components/DateTime';
 import { ErrorNote } from '../components/ErrorNote';
 import { type AuditEventSummary, useAuditEvents } from '../features/audit/api';
-import { recordTypeLabel } from '../features/audit/components/labels';
+import { recordText } from '../features/audit/components/labels';
 import { useCertificates } from '../features/certificates/api';
 import { useUsers } from '../features/users/api';
 import { useSession } from '../app/session';
@@ -104,7 +104,7 @@ export function DecisionsToReviewWidget() {
             {DECISION_WORDS[e.action]}
           </Link>
           <span>
-            {recordTypeLabel(e.entityType)} {e.entityId ?? ''} · {e.actorName}
+            {recordText(e.entityType, e.entityId, e.recordNumber)} · {e.actorName}
           </span>
           <span className="text-muted">
             <DateTime value={e.occurredAt} />

@@ -9,6 +9,7 @@ import { useReview } from '../features/testing/api';
 import { ReviewView } from '../features/testing/components/Review';
 import { SignatureList } from '../features/testing/components/Signatures';
 import { ReviewExceptions } from '../features/trending/components/ReviewExceptions';
+import { TestAcquisitions } from '../features/instruments/components/TestAcquisitions';
 
 export default function TestReviewPage() {
   const id = Number(useParams().id);
@@ -47,6 +48,7 @@ export default function TestReviewPage() {
         data={q.data}
         me={{ id: user.id, fullName: user.fullName, signedOnce: user.signedOnce, isVerifier }}
       />
+      <TestAcquisitions testId={t.id} />
     </div>
   );
 }

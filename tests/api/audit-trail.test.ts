@@ -354,13 +354,17 @@ describe('exports', () => {
       'event_id',
       'occurred_at_utc',
       'actor_id',
+      'actor_username',
       'actor_name',
       'action',
+      'action_words',
       'entity_type',
       'entity_id',
+      'record_number',
       'reason',
       'before',
       'after',
+      'named_ids',
       'ip',
       'prev_hash',
       'hash',
@@ -370,8 +374,8 @@ describe('exports', () => {
     expect(data.map((r) => Number(r[0]))).toEqual(seeded.map((e) => e.id));
     data.forEach((r, i) => {
       expect(r[1]).toBe(seeded[i].occurredAt);
-      expect(r[7]).toBe(reasonOf(i) ?? ''); // commas, quotes and line breaks survive the round trip
-      expect(JSON.parse(r[9])).toMatchObject({ n: i });
+      expect(r[10]).toBe(reasonOf(i) ?? ''); // commas, quotes and line breaks survive the round trip
+      expect(JSON.parse(r[12])).toMatchObject({ n: i });
     });
     const ev = await db()('audit_event')
       .where({ id: Number(res.headers['x-audit-export-event']) })

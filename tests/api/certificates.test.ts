@@ -168,9 +168,11 @@ describe('issuing a certificate for a passed lot', () => {
     expect(flat).toContain('release remains the responsibility of the authorised person');
     expect(flat).toMatch(/Europe\/Berlin \(GMT[+-]\d+/); // date and time with the zone named
     expect(flat).toContain('/certificates/verify?number=IC-');
-    // match score to 4 decimals, band concordance as "n of m"
+    // the correlation coefficient to 4 decimals, under its one name (issue 18 item 4), band concordance as "n of m"
     const row = await db()('measurement').where({ id: lot.containers[0].measurementId }).first();
     expect(flat).toContain(Number(row.match_score).toFixed(4));
+    expect(text.replace(/\s+/g, '')).toContain('Correlationcoefficient(r)');
+    expect(flat).not.toMatch(/match score/i);
     expect(flat).toMatch(/\d+ of \d+/);
   });
 

@@ -494,6 +494,9 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
     instrument_service_event: { column: 'reason', value: 'rewritten' },
     check_impact_measurement: { column: 'measurement_id', value: 1 },
     check_impact_notice: { column: 'notice', value: 'rewritten' },
+    instrument_intake_setting: { column: 'manual_upload_allowed', value: 1 },
+    folder_acquisition: { column: 'sha256', value: 'f'.repeat(64) },
+    folder_acquisition_event: { column: 'event', value: 'not-a-sample' },
   };
   beforeAll(async () => {
     // lifecycle and look-back rows, written as the application would, around the passed lot's measurement
@@ -551,6 +554,31 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
       lot_id: lot.lotId,
       certificate_id: certificateId,
       notice: 'probe notice',
+      created_at: at,
+    });
+    // intake rows (docs/instrument-intake.md): a setting, a received file and its event
+    await db()('instrument_intake_setting').insert({
+      instrument_id: m.instrument_id,
+      export_folder: null,
+      use_polling: false,
+      manual_upload_allowed: false,
+      time_zone: 'Europe/Berlin',
+      reason: 'probe reason',
+      set_by: lot.operator.id,
+      created_at: at,
+    });
+    const [acq] = await db()('folder_acquisition').insert({
+      instrument_id: m.instrument_id,
+      relative_path: 'probe.jdx',
+      file_id: m.file_id,
+      sha256: 'a'.repeat(64),
+      size: 1,
+      received_at: at,
+    });
+    await db()('folder_acquisition_event').insert({
+      acquisition_id: acq,
+      event: 'attached',
+      measurement_id: m.id,
       created_at: at,
     });
     // a password change through the application writes a password_history row to try

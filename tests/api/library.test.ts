@@ -417,6 +417,48 @@ describe('bands, approval, e-signature, retirement', () => {
     ).toBe(403);
   });
 
+  it('GMP views show only the assignments QA set; the table candidates go to QA on a draft only, for information', async () => {
+    // issue 18 item 4 (docs/methods.md, "Band assignments")
+    const asQa = await qa1.agent.get(`/api/references/${ref.id}`);
+    expect(asQa.status).toBe(200);
+    const auto = asQa.body.bands.filter((b: { origin: string }) => b.origin === 'auto');
+    expect(auto.length).toBeGreaterThan(0);
+    for (const b of auto) expect(b.shownAssignment).toBeNull(); // the table's text is no assignment
+    expect(asQa.body.bandCandidates.length).toBe(asQa.body.bands.length);
+    // PET's ester C=O near 1715 cm-1 (standard IR correlation tables, from memory): a carbonyl candidate first
+    const co = asQa.body.bandCandidates.find((c: { position: number }) => c.position > 1700 && c.position < 1730);
+    expect(co.candidates[0].group).toMatch(/C=O/);
+    // an operator, an auditor: no candidates
+    for (const who of [op, aud]) {
+      const r = await who.agent.get(`/api/references/${ref.id}`);
+      expect(r.status).toBe(200);
+      expect(r.body.bandCandidates).toBeUndefined();
+    }
+    // QA sets an assignment on one band: that band shows it, the others still show none
+    const target = asQa.body.bands.find((b: { position: number }) => b.position > 1700 && b.position < 1730);
+    const res = await qa1.agent.put(`/api/references/${ref.id}/bands`).send({
+      bands: asQa.body.bands.map((b: { position: number }) =>
+        b.position === target.position
+          ? { position: b.position, assignment: 'C=O stretch of the aromatic ester' }
+          : { position: b.position },
+      ),
+      reason: 'assignment of the ester carbonyl band, per SOP QC-IR-004',
+    });
+    expect(res.status).toBe(200);
+    const after = res.body.bands.find((b: { position: number }) => b.position === target.position);
+    expect(after).toMatchObject({
+      qaAssignment: 'C=O stretch of the aromatic ester',
+      shownAssignment: 'C=O stretch of the aromatic ester',
+    });
+    const others = res.body.bands.filter((b: { position: number }) => b.position !== target.position);
+    expect(others.every((b: { shownAssignment: string | null }) => b.shownAssignment === null)).toBe(true);
+    // an operator may not set assignments
+    const refused = await op.agent
+      .put(`/api/references/${ref.id}/bands`)
+      .send({ bands: [{ position: target.position, assignment: 'my guess' }], reason: 'operator try' });
+    expect(refused.status).toBe(403);
+  });
+
   it('an approved method is required before approving a reference; the first version comes with its first reference', async () => {
     const res = await qa2.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(qa2.user) });
     expect(res.status).toBe(409);

@@ -90,7 +90,7 @@ export async function measurementJcamp(
       'container label': c?.label,
       'test id': m.test_id,
       verdict: m.verdict,
-      'match score': m.match_score,
+      'correlation coefficient (r)': m.match_score,
       'engine version': m.engine_version,
     },
   });
@@ -125,7 +125,10 @@ async function reviewPdf(
     .orderBy('id')
     .select('printed_name', 'meaning', 'signed_at', 'statement');
   const rows: TableCell[][] = [
-    ['Measurement', 'Container', 'Verdict', 'Match score', 'Raw file SHA-256'].map((h) => ({ text: h, bold: true })),
+    ['Measurement', 'Container', 'Verdict', 'Correlation coefficient (r)', 'Raw file SHA-256'].map((h) => ({
+      text: h,
+      bold: true,
+    })),
     ...ms.map((m) => [
       String(m.id),
       labels.get(Number(m.container_id)) ?? String(m.container_id),
@@ -250,7 +253,7 @@ async function gather(db: Knex, lotId: number, siteName: string) {
           'measurement id': m.id,
           'lot number': lot.lot_number,
           verdict: m.verdict,
-          'match score': m.match_score,
+          'correlation coefficient (r)': m.match_score,
         },
       });
       files.push({

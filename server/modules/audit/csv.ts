@@ -8,18 +8,24 @@
  * without that first apostrophe (docs/compliance.md, "Hardened inputs").
  */
 import type { AuditRow } from '../../lib/audit';
+import { actionWords, refKey, type RecordNames } from './contract';
+import { referencesOf } from './names';
 
 export const CSV_COLUMNS = [
   'event_id',
   'occurred_at_utc',
   'actor_id',
+  'actor_username',
   'actor_name',
   'action',
+  'action_words',
   'entity_type',
   'entity_id',
+  'record_number',
   'reason',
   'before',
   'after',
+  'named_ids',
   'ip',
   'prev_hash',
   'hash',
@@ -44,18 +50,37 @@ export function csvLine(values: unknown[]): string {
   return values.map(csvField).join(',') + '\r\n';
 }
 
-export function eventCsvLine(r: AuditRow): string {
+/**
+ * The ids inside before/after that name other records, with their business numbers beside them
+ * ("lot 5 = L-2026-00005; user 1 = olga"); the JSON columns stay as stored.
+ */
+export function namedIds(r: AuditRow, names: RecordNames): string {
+  const parts: string[] = [];
+  const refs = referencesOf([{ ...r, entity_id: null, actor_id: null }]);
+  for (const [kind, ids] of refs)
+    for (const id of [...ids].sort((a, b) => a - b)) {
+      const name = names[refKey(kind, id)];
+      if (name) parts.push(`${kind} ${id} = ${name}`);
+    }
+  return parts.join('; ');
+}
+
+export function eventCsvLine(r: AuditRow, names: RecordNames = {}): string {
   return csvLine([
     Number(r.id),
     new Date(r.occurred_at).toISOString(),
     r.actor_id,
+    r.actor_id === null ? null : (names[refKey('user', Number(r.actor_id))] ?? null),
     r.actor_name,
     r.action,
+    actionWords(r.action),
     r.entity_type,
     r.entity_id,
+    r.entity_id === null ? null : (names[refKey(r.entity_type, r.entity_id)] ?? null),
     r.reason,
     r.before_json,
     r.after_json,
+    namedIds(r, names),
     r.ip,
     r.prev_hash,
     r.hash,

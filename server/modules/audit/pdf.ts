@@ -4,7 +4,7 @@
  * capped at PDF_ROW_CAP rows and says so; the CSV export carries every event.
  */
 import { renderPdf, type Content, type TDocumentDefinitions, type TableCell } from '../../lib/pdf';
-import type { AuditEventDetail } from './contract';
+import { recordTypeWords, type AuditEventDetail } from './contract';
 import { formatSiteTime } from '../../lib/contract';
 
 export interface AuditReportInput {
@@ -24,6 +24,18 @@ function short(v: unknown, max = 70): string {
   return s.length > max ? `${s.slice(0, max - 1)}…` : s;
 }
 
+/** A value with the record it names beside the stored id: "Olga Brandt (olga) [id 1]". */
+function named(v: unknown, name: string | null | undefined): string {
+  return name ? `${short(name)} [id ${short(v, 30)}]` : short(v);
+}
+
+/** The record as its business number with type and stored id beside it: "Lot L-2026-00005 (id 5)". */
+export function recordText(e: AuditEventDetail): string {
+  const type = recordTypeWords(e.entityType);
+  if (!e.entityId) return type;
+  return e.recordNumber ? `${type} ${e.recordNumber} (id ${e.entityId})` : `${type} ${e.entityId}`;
+}
+
 function changesText(e: AuditEventDetail): string {
   const changed = e.changes.filter((c) => c.kind !== 'unchanged');
   if (changed.length === 0) return '';
@@ -31,10 +43,10 @@ function changesText(e: AuditEventDetail): string {
     .slice(0, 6)
     .map((c) =>
       c.kind === 'added'
-        ? `${c.path}: ${short(c.after)}`
+        ? `${c.label}: ${named(c.after, c.afterName)}`
         : c.kind === 'removed'
-          ? `${c.path}: ${short(c.before)} → (removed)`
-          : `${c.path}: ${short(c.before)} → ${short(c.after)}`,
+          ? `${c.label}: ${named(c.before, c.beforeName)} → (removed)`
+          : `${c.label}: ${named(c.before, c.beforeName)} → ${named(c.after, c.afterName)}`,
     );
   if (changed.length > 6) lines.push(`… ${changed.length - 6} more field(s)`);
   return lines.join('\n');
@@ -50,9 +62,9 @@ export function auditReportDefinition(r: AuditReportInput): TDocumentDefinitions
     body.push([
       { text: String(e.id), alignment: 'right' },
       formatSiteTime(e.occurredAt, zone, { seconds: true }),
-      e.actorName,
-      e.action,
-      e.entityId ? `${e.entityType} ${e.entityId}` : e.entityType,
+      e.actorUsername ? `${e.actorName} (${e.actorUsername})` : e.actorName,
+      { text: [e.actionWords, { text: `\n${e.action}`, fontSize: 6.5, color: '#5f6673' }] },
+      recordText(e),
       e.reason ?? '',
       { text: changesText(e), fontSize: 6.5 },
     ]);

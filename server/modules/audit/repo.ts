@@ -11,12 +11,18 @@
 import type { Knex } from 'knex';
 import type { AuditRow } from '../../lib/audit';
 import { parseJson } from '../../lib/db';
+import { namesFor } from './names';
 import {
   TEXT_WINDOW,
   type AuditEventDetail,
   type AuditEventSummary,
   type AuditFilter,
   type FieldChange,
+  type RecordNames,
+  actionWords,
+  fieldWords,
+  referenceKind,
+  refKey,
 } from './contract';
 
 export type Scope = 'all' | 'accounts';
@@ -120,7 +126,12 @@ export async function listPage(db: Db, f: Partial<AuditFilter>, o: FilterOptions
   const edge = f.q ? await windowEdge(db, f, o, p, TEXT_WINDOW) : null;
   const raw = await pageQuery(db, f, o, { ...p, edge }, SUMMARY_COLUMNS as unknown as string[]);
   const more = raw.length > p.limit;
-  const rows = (more ? raw.slice(0, p.limit) : raw).map(toSummary);
+  const kept = more ? raw.slice(0, p.limit) : raw;
+  const names = await namesFor(
+    db,
+    kept.map((r) => ({ ...r, before_json: null, after_json: null })),
+  );
+  const rows = kept.map((r) => toSummary(r, names));
   const last = rows[rows.length - 1];
   if (more && last)
     return {
@@ -252,24 +263,62 @@ export async function facets(
   return { actions, entityTypes, actors };
 }
 
-export function toSummary(r: Pick<AuditRow, (typeof SUMMARY_COLUMNS)[number]>): AuditEventSummary {
+export function toSummary(
+  r: Pick<AuditRow, (typeof SUMMARY_COLUMNS)[number]>,
+  names: RecordNames = {},
+): AuditEventSummary {
   return {
     id: Number(r.id),
     occurredAt: new Date(r.occurred_at).toISOString(),
     actorId: r.actor_id === null ? null : Number(r.actor_id),
     actorName: r.actor_name,
+    actorUsername: r.actor_id === null ? null : (names[refKey('user', Number(r.actor_id))] ?? null),
     action: r.action,
+    actionWords: actionWords(r.action),
     entityType: r.entity_type,
     entityId: r.entity_id,
+    recordNumber: r.entity_id === null ? null : (names[refKey(r.entity_type, r.entity_id)] ?? null),
     reason: r.reason,
     ip: r.ip,
   };
 }
 
-export function toDetail(r: AuditRow): AuditEventDetail {
+export function toDetail(r: AuditRow, names: RecordNames = {}): AuditEventDetail {
   const before = parseJson<unknown>(r.before_json, null);
   const after = parseJson<unknown>(r.after_json, null);
-  return { ...toSummary(r), before, after, changes: diffValues(before, after), prevHash: r.prev_hash, hash: r.hash };
+  return {
+    ...toSummary(r, names),
+    before,
+    after,
+    changes: nameChanges(diffValues(before, after), names),
+    prevHash: r.prev_hash,
+    hash: r.hash,
+  };
+}
+
+/** What a stored id (or list of ids) in a field names: a person for account fields, else the record's number. */
+export function nameOfValue(path: string, v: unknown, names: RecordNames): string | null {
+  const kind = referenceKind(path);
+  if (!kind) return null;
+  const one = (x: unknown): string | null =>
+    typeof x === 'number' ? (names[refKey(kind === 'user' ? 'person' : kind, x)] ?? null) : null;
+  if (Array.isArray(v)) {
+    const all = v.map(one);
+    return all.length > 0 && all.every((x) => x !== null) ? all.join(', ') : null;
+  }
+  return one(v);
+}
+
+function nameChanges(changes: FieldChange[], names: RecordNames): FieldChange[] {
+  return changes.map((c) => {
+    const beforeName = nameOfValue(c.path, c.before, names);
+    const afterName = nameOfValue(c.path, c.after, names);
+    return {
+      ...c,
+      ...(beforeName !== null ? { beforeName } : {}),
+      ...(afterName !== null ? { afterName } : {}),
+    };
+  });
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -318,6 +367,6 @@ export function diffValues(before: unknown, after: unknown): FieldChange[] {
         : JSON.stringify(bv) === JSON.stringify(av)
           ? 'unchanged'
           : 'changed';
-    return { path, before: bv, after: av, kind };
+    return { path, label: fieldWords(path), before: bv, after: av, kind };
   });
 }

@@ -13,6 +13,7 @@ import { signaturesFor } from '../../lib/esign';
 import * as repo from './repo';
 import { CSV_COLUMNS, csvLine, eventCsvLine } from './csv';
 import { renderAuditPdf } from './pdf';
+import { namesFor } from './names';
 import { formatSiteTime, validTimeZone } from '../../lib/contract';
 import {
   COUNT_CAP,
@@ -24,6 +25,7 @@ import {
   type AuditListQuery,
   type AuditPage,
   type RecordHistory,
+  refKey,
 } from './contract';
 
 /** Full trail for auditors and QA; account and sign-in events only for administrators. */
@@ -63,7 +65,7 @@ export async function getEvent(db: Knex, user: AuthUser, id: number): Promise<Au
   const scope = scopeFor(user);
   const row = await repo.findEvent(db, id);
   if (!row || (scope === 'accounts' && row.entity_type !== 'user')) throw notFound(`Audit event ${id}`);
-  return repo.toDetail(row);
+  return repo.toDetail(row, await namesFor(db, [row]));
 }
 
 export async function getFacets(db: Knex, user: AuthUser): Promise<AuditFacets> {
@@ -99,7 +101,19 @@ export async function recordHistory(
   const rows = await repo.eventsOfRecord(db, entityType, entityId, HISTORY_CAP);
   const truncated = rows.length > HISTORY_CAP;
   const signatures = await signaturesFor(db, entityType, entityId);
-  return { entityType, entityId, events: rows.slice(0, HISTORY_CAP).map(repo.toDetail), signatures, truncated };
+  const kept = rows.slice(0, HISTORY_CAP);
+  const names = await namesFor(db, [
+    { entity_type: entityType, entity_id: entityId, actor_id: null, before_json: null, after_json: null },
+    ...kept,
+  ]);
+  return {
+    entityType,
+    entityId,
+    recordNumber: names[refKey(entityType, entityId)] ?? null,
+    events: kept.map((r) => repo.toDetail(r, names)),
+    signatures,
+    truncated,
+  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -128,10 +142,17 @@ export async function describeFilter(
     const u = await db('app_user').where({ id: f.actorId }).first();
     parts.push(`user ${u ? `${u.full_name} (${u.username}, id ${f.actorId})` : `id ${f.actorId}`}`);
   }
+  let recordName: string | undefined;
+  if (f.entityType && f.entityId) {
+    const names = await namesFor(db, [
+      { entity_type: f.entityType, entity_id: f.entityId, actor_id: null, before_json: null, after_json: null },
+    ]);
+    recordName = names[refKey(f.entityType, f.entityId)];
+  }
   if (f.action)
     parts.push(f.action.endsWith('*') ? `action starting with "${f.action.slice(0, -1)}"` : `action "${f.action}"`);
   if (f.entityType) parts.push(`record type "${f.entityType}"`);
-  if (f.entityId) parts.push(`record id "${f.entityId}"`);
+  if (f.entityId) parts.push(`record id "${f.entityId}"${recordName ? ` (${recordName})` : ''}`);
   if (f.q) parts.push(`reason contains "${f.q}"`);
   if (parts.length === 0) parts.push('all events');
   parts.push(`sorted ${f.sort === 'asc' ? 'oldest' : 'newest'} first`);
@@ -232,14 +253,18 @@ export async function exportCsv(
           '# Times are UTC (ISO 8601). Each hash is SHA-256 over the event and the previous hash; before/after are JSON.',
         ]) +
         csvLine([
+          '# actor_username, action_words, record_number and named_ids give the user names, event types in words and business numbers (L-, INV-, IC-, REF-) looked up at export; the stored ids stay in their own columns.',
+        ]) +
+        csvLine([
           '# A text cell that starts with = + - @, a tab or a carriage return has an apostrophe put in front (spreadsheet formula protection); the stored value is without it.',
         ]) +
         csvLine([...CSV_COLUMNS]),
     );
     for await (const page of eventPages(db, f, { scope, maxId }, pageSize)) {
       if (closed) return;
+      const names = await namesFor(db, page);
       let chunk = '';
-      for (const r of page) chunk += eventCsvLine(r);
+      for (const r of page) chunk += eventCsvLine(r, names);
       await write(chunk);
     }
     if (!closed) res.end();
@@ -279,6 +304,7 @@ export async function exportPdf(
   const more = raw.length > PDF_ROW_CAP;
   const rows = more ? raw.slice(0, PDF_ROW_CAP) : raw;
   const total = more ? await repo.countCapped(db, f, { scope, maxId }, COUNT_CAP) : { count: rows.length, exact: true };
+  const names = await namesFor(db, rows);
   const pdf = await renderAuditPdf({
     siteName: ctx.siteName,
     timeZone: tz,
@@ -286,7 +312,7 @@ export async function exportPdf(
     generatedBy: `${ctx.user.fullName} (${ctx.user.username})`,
     exportEventId: eventId,
     filter: words,
-    rows: rows.map(repo.toDetail),
+    rows: rows.map((r) => repo.toDetail(r, names)),
     more,
     total,
   });

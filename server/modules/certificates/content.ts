@@ -123,6 +123,17 @@ export async function gatherContent(
     );
 
   const usedTests = verified.filter((t) => [...counting.values()].some((x) => x.t.id === t.id));
+  // measurements whose file came from the instrument's export folder (docs/instrument-intake.md)
+  const fromFolder = new Set<number>(
+    (
+      await db('folder_acquisition_event')
+        .whereIn(
+          'measurement_id',
+          [...counting.values()].map((x) => x.m.id),
+        )
+        .select('measurement_id')
+    ).map((r) => r.measurement_id as number),
+  );
   const containerLines: ContainerLine[] = containers.map((c) => {
     const { m, t } = counting.get(c.id)!;
     const result = parseJson<IdentityResult | null>(m.result, null);
@@ -143,6 +154,8 @@ export async function gatherContent(
       rawFileName: m.file_name,
       measuredAt: new Date(m.created_at).toISOString(),
       bestReferenceId: bestReference(result, refIds),
+      // only stated for a file from the export folder, so certificates issued before keep their content
+      ...(fromFolder.has(m.id) ? { source: 'export-folder' as const } : {}),
     };
   });
 

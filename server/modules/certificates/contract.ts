@@ -104,6 +104,8 @@ export interface ContainerLine {
   rawFileName: string;
   measuredAt: string;
   bestReferenceId: number | null;
+  /** 'export-folder': the file was received from the instrument's export folder (absent: uploaded by hand) */
+  source?: 'export-folder';
 }
 
 export interface CertificateContent {

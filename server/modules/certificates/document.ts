@@ -4,6 +4,7 @@
  * figure, e-signatures, conclusion, caution, QR code to the verification page, and
  * "Page x of y" on every page. Verdicts are printed as symbol and word.
  */
+import { FROM_EXPORT_FOLDER } from '../intake/contract';
 import { formatSiteTime } from '../../lib/contract';
 import type { Content, TableCell, TDocumentDefinitions } from '../../lib/pdf';
 import type { CertificateContent, SignatureLine } from './contract';
@@ -157,7 +158,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
           ? ([['Spectral range', `${m.rangeTo}–${m.rangeFrom} cm⁻¹`]] as [string, string][])
           : []),
         ...(m.minCorrelation !== null
-          ? ([['Minimum match score', m.minCorrelation.toFixed(4)]] as [string, string][])
+          ? ([['Minimum correlation coefficient (r)', m.minCorrelation.toFixed(4)]] as [string, string][])
           : []),
         ['Approval', sigText(m.approval, tz)],
       ]),
@@ -231,7 +232,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
         [
           th6('Container'),
           th6('Measurement'),
-          th6('Match score'),
+          th6('Correlation coefficient (r)'),
           th6('Band concordance'),
           th6('Verdict'),
           th6('Raw file SHA-256'),
@@ -241,6 +242,7 @@ export function certificateDocument(c: CertificateContent, extras: DocumentExtra
             stack: [
               { text: r.label, bold: true, noWrap: true },
               { text: r.rawFileName, fontSize: 6, color: '#555555' },
+              ...(r.source === 'export-folder' ? [{ text: FROM_EXPORT_FOLDER, fontSize: 6, color: '#555555' }] : []),
             ],
           },
           { text: String(r.measurementId) },

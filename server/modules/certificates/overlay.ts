@@ -16,8 +16,9 @@ export interface OverlayInput {
   height?: number;
 }
 
-export const SAMPLE_COLOUR = '#0f5e6e'; // petrol, solid (STYLE.md)
-export const REFERENCE_COLOUR = '#6b7280'; // muted, dashed (STYLE.md)
+export const SAMPLE_COLOUR = '#0f5e6e'; // petrol, solid: the petrol token of src/index.css
+// muted, dashed: the muted token of src/index.css (#6b7280 reached only 4.49:1 on paper and is no longer ours)
+export const REFERENCE_COLOUR = '#5f6673';
 
 function esc(s: string): string {
   return s.replace(/[&<>"]/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!);

@@ -49,7 +49,7 @@ async function buildOverlay(db: Knex, content: CertificateContent): Promise<Docu
     return {
       overlaySvg: svg,
       overlayCaption:
-        `Container ${worst.label}, the lowest match score of the lot (${worst.matchScore === null ? 'n/a' : worst.matchScore.toFixed(4)}), ` +
+        `Container ${worst.label}, the lowest correlation coefficient (r) of the lot (${worst.matchScore === null ? 'n/a' : worst.matchScore.toFixed(4)}), ` +
         `against reference ${ref?.code ?? worst.bestReferenceId}: baseline-corrected, smoothed absorbance scaled to the strongest band, ` +
         `on the method grid; shaded regions are excluded by the method.`,
     };

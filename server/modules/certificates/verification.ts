@@ -81,7 +81,9 @@ function report(
 async function auditVerification(db: Knex, actor: Actor, ip: string | null, r: VerificationReport): Promise<void> {
   await auditNow(db, {
     actor,
-    action: 'certificate.verified',
+    // A check that does not find the file authentic is its own event: a failed verification,
+    // never recorded under the word "verified" (docs/certificates.md, "Checking a certificate").
+    action: r.verdict === 'authentic' ? 'certificate.verified' : 'certificate.verification-failed',
     entityType: 'certificate',
     entityId: r.certificate?.id ?? null,
     after: {

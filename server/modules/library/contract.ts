@@ -139,7 +139,7 @@ export type MethodUpdateInput = z.input<typeof methodUpdateSchema>;
 
 export const bandEditSchema = z.object({
   position: z.number().finite().positive().max(15000),
-  /** QA's own assignment text; when empty the correlation table's assignment is used. */
+  /** QA's own assignment text for this band; empty: QA sets none (GMP views then show no assignment). */
   assignment: singleLineText().max(300).optional(),
 });
 export const bandsUpdateSchema = z.object({
@@ -297,9 +297,26 @@ export interface StoredBand {
   position: number;
   prominence?: number;
   width?: number;
+  /**
+   * The correlation table's candidate text written at upload (or QA's own text on references
+   * edited before issue 18). Never shown in GMP views as an assignment: see qaAssignment.
+   */
   assignment: string;
+  /** The assignment QA set for this band (the band edit while the reference is a draft; signed at approval). */
+  qaAssignment?: string;
+  /**
+   * Derived when read, not stored: what GMP views show as the band's assignment - QA's own text,
+   * or null when QA set none (docs/methods.md, "Band assignments").
+   */
+  shownAssignment?: string | null;
   /** auto: picked by the engine; edited: added or moved by QA. */
   origin: 'auto' | 'edited';
+}
+
+/** Correlation-table candidates for one band, ranked by the spectrum's other bands: for QA's information while reviewing a draft. */
+export interface BandCandidates {
+  position: number;
+  candidates: { group: string; range: string; why: string }[];
 }
 
 /** What the reading of a reference file noted (stored beside it). */
@@ -356,6 +373,8 @@ export interface ReferenceDetail extends ReferenceSummary {
   file: { id: number; sha256: string; fileName: string; mediaType: string; size: number; uploadedAt: string } | null;
   signatures: SignatureRecord[];
   overrides: GateOverride[];
+  /** Only for a QA manager reading a draft: the table's candidates per band, for information (never an assignment). */
+  bandCandidates?: BandCandidates[];
 }
 
 export interface OverlayTrace {

@@ -6,8 +6,16 @@
  * (server/lib/errors.ts).
  */
 import type { Db } from '../../lib/db';
-import { type Band, type IdentityMethod, prepare, shapeOf, describeAssignment, type Spectrum } from '../../spectra';
-import type { IdentityMethodInput, StoredBand } from './contract';
+import {
+  type Band,
+  type IdentityMethod,
+  prepare,
+  shapeOf,
+  describeAssignment,
+  rankCandidates,
+  type Spectrum,
+} from '../../spectra';
+import type { BandCandidates, IdentityMethodInput, StoredBand } from './contract';
 import { readSpectrumOff } from '../../workers/pool';
 
 // Compile-time: a method validated by the contract's schema is an engine IdentityMethod and vice versa.
@@ -39,13 +47,49 @@ export function pickBands(spectrum: Spectrum, method: IdentityMethod): StoredBan
     }));
 }
 
-/** Stored bands as the engine's Band list. */
+/**
+ * The assignment QA set for a band (docs/methods.md, "Band assignments"): the qaAssignment field
+ * (from issue 18 on); on a band QA edited before that, its own text when it differs from the
+ * correlation table's; otherwise null - the table's text is a candidate, not an assignment.
+ */
+export function qaAssignmentOf(b: StoredBand): string | null {
+  if (b.qaAssignment !== undefined) return b.qaAssignment.trim() || null;
+  if (b.origin === 'edited' && b.assignment.trim() && b.assignment !== assignmentText(b.position, b.width))
+    return b.assignment;
+  return null;
+}
+
+/** Bands as GMP views read them: each with the assignment QA set (or null). */
+export function withShownAssignments(bands: StoredBand[]): StoredBand[] {
+  return bands.map((b) => ({ ...b, shownAssignment: qaAssignmentOf(b) }));
+}
+
+/** The correlation table's candidates for each band, ranked by the spectrum's other bands (for QA's information). */
+export function bandCandidates(bands: StoredBand[]): BandCandidates[] {
+  const all = bands.map((b) => ({ position: b.position, prominence: b.prominence, width: b.width }));
+  return all.map((b) => ({
+    position: b.position,
+    candidates: rankCandidates(b, all)
+      .slice(0, 3)
+      .map((c) => ({
+        group: c.group.group,
+        range: `${c.group.from}-${c.group.to} cm-1, ${c.group.intensity}`,
+        why: c.missing.length
+          ? `no ${c.missing.join(', no ')}`
+          : c.support.length
+            ? `with ${c.support.join(', ')}`
+            : '',
+      })),
+  }));
+}
+
+/** Stored bands as the engine's Band list: a band carries QA's assignment or none (empty). */
 export function toEngineBands(bands: StoredBand[]): Band[] {
   return bands.map((b) => ({
     position: b.position,
     prominence: b.prominence,
     width: b.width,
-    assignment: b.assignment,
+    assignment: qaAssignmentOf(b) ?? '',
   }));
 }
 

@@ -36,7 +36,7 @@ import type { ProvenanceKeys } from '../../workers/tasks';
 import type { IdentityMethod, Spectrum } from '../../spectra';
 import { referenceOff } from '../../workers/pool';
 import { invalidateLibraryCache } from './approved-set';
-import { assignmentText, round, spectrumOfFile } from './engine';
+import { assignmentText, bandCandidates, qaAssignmentOf, round, spectrumOfFile, withShownAssignments } from './engine';
 import type {
   GateReport,
   ReferenceDetail,
@@ -200,7 +200,11 @@ export async function uploadReferences(
   return Promise.all(ids.map((id) => getReference(db, id)));
 }
 
-export async function getReference(db: Knex, id: number): Promise<ReferenceDetail> {
+export async function getReference(
+  db: Knex,
+  id: number,
+  viewer?: { roles: readonly string[] },
+): Promise<ReferenceDetail> {
   const r = await repo.findReference(db, id);
   if (!r) throw notFound('The reference spectrum');
   const file = await db('stored_file')
@@ -212,8 +216,14 @@ export async function getReference(db: Knex, id: number): Promise<ReferenceDetai
   const instrument = r.instrument_id
     ? await db('instrument').where({ id: r.instrument_id }).select('id', 'name').first()
     : null;
+  const summary = repo.toReference(r);
+  // The table's candidates only for QA reviewing a draft (docs/methods.md, "Band assignments").
+  const candidates =
+    viewer?.roles.includes('qa_manager') && summary.status === 'draft' ? bandCandidates(summary.bands) : undefined;
   return {
-    ...repo.toReference(r),
+    ...summary,
+    bands: withShownAssignments(summary.bands),
+    ...(candidates ? { bandCandidates: candidates } : {}),
     material: mat ? { id: mat.id, code: mat.code, name: mat.name, grade: mat.grade } : null,
     uploadedByName: uploader?.full_name ?? null,
     instrument: instrument ? { id: instrument.id, name: instrument.name } : null,
@@ -319,13 +329,16 @@ export async function updateBands(
         throw badRequest(`Two bands sit at ${sorted[i].position} cm-1; list each band once.`);
     const next: StoredBand[] = sorted.map((b) => {
       const same = old.find((o) => Math.abs(o.position - b.position) < 0.005);
-      const text = b.assignment && b.assignment.trim() ? b.assignment.trim() : null;
-      if (same && (!text || text === same.assignment)) return same;
+      const text = b.assignment && b.assignment.trim() ? b.assignment.trim() : '';
+      // The text QA types is QA's assignment of the band (signed with the reference at approval);
+      // the table's candidate text stays in `assignment` and is never shown as an assignment.
+      if (same && text === (qaAssignmentOf(same) ?? '')) return same;
       return {
         position: round(b.position, 2),
         prominence: same?.prominence,
         width: same?.width,
-        assignment: text ?? assignmentText(b.position, same?.width),
+        assignment: same?.assignment ?? assignmentText(b.position, same?.width),
+        qaAssignment: text,
         origin: 'edited',
       };
     });

@@ -277,7 +277,7 @@ export function libraryRoutes(config: AppConfig): Router {
       access: READERS,
       params: idParams,
     },
-    ({ params }) => refs.getReference(getDb(), params.id),
+    ({ params, user }) => refs.getReference(getDb(), params.id, user),
   );
   defineRoute(
     r,

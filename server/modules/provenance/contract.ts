@@ -46,6 +46,15 @@ export interface MeasurementProvenance {
   identifiersConfirmed: boolean;
   remeasureReason: string | null;
   remeasureOf: number | null;
+  /** where the file came from (docs/instrument-intake.md) */
+  source: 'manual-upload' | 'export-folder';
+  /** e.g. "received from the instrument's export folder (FTIR-1, received ...)" */
+  sourceText: string;
+  acquisitionId: number | null;
+  /** receipt minus the file's stated acquisition time (export folder only) */
+  clockOffsetSeconds: number | null;
+  /** set when the offset exceeds the site's clock tolerance */
+  clockWarning: string | null;
 }
 
 export const NOT_STATED = 'not stated in the file';

@@ -4,9 +4,11 @@ export {
   assertHolder,
   blockedRefusal,
   blockState,
+  holderOf,
   identifierFindings,
   identifierRefusal,
   judgeAcquisition,
+  zonedToUtc,
 } from './rules';
 export {
   blockedContainers,

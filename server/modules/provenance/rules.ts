@@ -74,6 +74,8 @@ export function judgeAcquisition(
     now: Date;
     timeZone: string;
     instrument: { name: string; serial_number: string | null };
+    /** clock tolerance for "in the future" (site setting CLOCK_TOLERANCE_MINUTES; default 5 minutes) */
+    futureToleranceMs?: number;
   },
 ): AcquisitionJudgement {
   const s = stated;
@@ -98,7 +100,7 @@ export function judgeAcquisition(
         'ACQUIRED_BEFORE_CHECK',
         `The file states it was acquired on ${s.whenText}, before the instrument check this test relies on (${fmt(ctx.checkAt)}). A spectrum measured before the check is not covered by it; measure the container again after the check. Nothing was stored.`,
       );
-    if (at.getTime() - (s.hasTime ? 5 * 60_000 : 0) > ctx.now.getTime())
+    if (at.getTime() - (s.hasTime ? (ctx.futureToleranceMs ?? 5 * 60_000) : 0) > ctx.now.getTime())
       throw unprocessable(
         'ACQUIRED_IN_FUTURE',
         `The file states it was acquired on ${s.whenText}, which lies in the future. The instrument clock or the export is wrong; correct it and measure again. Nothing was stored.`,

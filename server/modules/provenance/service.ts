@@ -13,11 +13,15 @@ import type {
   BlockedContainer,
   HandOverInput,
   OperatorChoice,
+  MeasurementProvenance,
   ReleaseBlockInput,
   ReviewMeasurementEntry,
 } from './contract';
 import { blockState, holderOf } from './rules';
 import { transactionWithRetry } from '../../lib/retry';
+import { loadConfig } from '../../lib/config';
+import { FROM_EXPORT_FOLDER } from '../intake/contract';
+import { clockWarning } from '../../lib/clock-offset';
 
 /** Active operators an attempt can be handed over to (everyone but its holder). */
 export async function handOverCandidates(db: Knex, testId: number): Promise<OperatorChoice[]> {
@@ -218,6 +222,9 @@ export async function measurementHistory(db: Knex, testId: number): Promise<Revi
     .join('app_user as u', 'u.id', 'ms.created_by')
     .join('stored_file as f', 'f.id', 'ms.file_id')
     .leftJoin('measurement_provenance as p', 'p.measurement_id', 'ms.id')
+    .leftJoin('folder_acquisition_event as fe', 'fe.measurement_id', 'ms.id')
+    .leftJoin('folder_acquisition as fa', 'fa.id', 'fe.acquisition_id')
+    .leftJoin('instrument as fi', 'fi.id', 'fa.instrument_id')
     .where('ms.test_id', testId)
     .orderBy('ms.id')
     .select(
@@ -242,7 +249,13 @@ export async function measurementHistory(db: Knex, testId: number): Promise<Revi
       'p.identifiers_confirmed',
       'p.remeasure_reason',
       'p.remeasure_of_measurement_id',
+      'fe.event as folder_event',
+      'fe.acquisition_id',
+      'fa.received_at as folder_received_at',
+      'fa.clock_offset_seconds',
+      'fi.name as folder_instrument',
     );
+  const tolerance = loadConfig().clockToleranceMinutes;
   const latest = new Map<number, number>();
   for (const r of rows) latest.set(r.container_id, r.id);
   return rows.map((r) => ({
@@ -268,6 +281,37 @@ export async function measurementHistory(db: Knex, testId: number): Promise<Revi
       identifiersConfirmed: !!r.identifiers_confirmed,
       remeasureReason: r.remeasure_reason ?? null,
       remeasureOf: r.remeasure_of_measurement_id ?? null,
+      ...sourceOf(r, tolerance),
     },
   }));
+}
+
+/** Where the measurement's file came from: a manual upload, or the instrument's export folder (docs/instrument-intake.md). */
+function sourceOf(
+  r: {
+    folder_event?: string | null;
+    acquisition_id?: number | null;
+    folder_received_at?: Date | null;
+    clock_offset_seconds?: number | null;
+    folder_instrument?: string | null;
+  },
+  toleranceMinutes: number,
+): Pick<MeasurementProvenance, 'source' | 'sourceText' | 'acquisitionId' | 'clockOffsetSeconds' | 'clockWarning'> {
+  if (!r.folder_event)
+    return {
+      source: 'manual-upload',
+      sourceText: 'uploaded by hand',
+      acquisitionId: null,
+      clockOffsetSeconds: null,
+      clockWarning: null,
+    };
+  const offset =
+    r.clock_offset_seconds === null || r.clock_offset_seconds === undefined ? null : Number(r.clock_offset_seconds);
+  return {
+    source: 'export-folder',
+    sourceText: `${FROM_EXPORT_FOLDER} (${r.folder_instrument}, received ${new Date(r.folder_received_at!).toISOString().replace('T', ' ').slice(0, 19)} UTC${r.folder_event === 'assigned' ? '; assigned to the container by the operator' : '; attached by its label'})`,
+    acquisitionId: r.acquisition_id ?? null,
+    clockOffsetSeconds: offset,
+    clockWarning: clockWarning(offset, toleranceMinutes),
+  };
 }

@@ -167,7 +167,7 @@ export interface Criterion {
     | 'mahalanobis'
     | 'residual'
     | 'reference-model';
-  /** Plain-words name, e.g. "Correlation with the reference". */
+  /** Plain-words name, e.g. "Correlation coefficient (r) with the reference". */
   name: string;
   value: number;
   limit: number;

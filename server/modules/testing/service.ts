@@ -35,6 +35,7 @@ import { loadContext } from './context';
 import { fitsMethod, instrumentStatus } from './instrument-status';
 import { inScope, labelsInFileName, latestByContainer } from './outcome';
 import * as repo from './repo';
+import { FOLDER_WATCHER, intakeSettingOf, lockUnassigned, recordFolderEvent } from '../../lib/intake-records';
 import type { HintEntry, MatchRow, MeasurementSummary, StartedTest, StoredResult, UploadResult } from './contract';
 
 const STARTABLE = new Set(['awaiting-testing', 'testing', 'retest-authorised']);
@@ -272,7 +273,7 @@ async function libraryHint(
     }
     const hint = [...best.values()].slice(0, 3);
     const text = hint.length
-      ? `Closest approved materials: ${hint.map((h) => `${h.materialName} (${h.materialCode}, match score ${h.score.toFixed(3)}${h.isTestedMaterial ? ', the tested material' : ''})`).join('; ')}.`
+      ? `Closest approved materials: ${hint.map((h) => `${h.materialName} (${h.materialCode}, correlation coefficient (r) ${h.score.toFixed(3)}${h.isTestedMaterial ? ', the tested material' : ''})`).join('; ')}.`
       : 'Closest approved materials: none found in the approved library for this technique.';
     return { hint, text };
   } catch (e) {
@@ -289,13 +290,31 @@ export interface ProvenanceSettings {
   /** a file naming another record: the operator confirms it, or the site refuses it */
   fileIdentifierPolicy: 'confirm' | 'refuse';
   siteTimeZone: string;
+  /** clock tolerance in minutes (CLOCK_TOLERANCE_MINUTES): "in the future" and the clock-offset warning */
+  clockToleranceMinutes?: number;
 }
 
 export const DEFAULT_PROVENANCE: ProvenanceSettings = {
   maxInvalidMeasurements: 3,
   fileIdentifierPolicy: 'confirm',
   siteTimeZone: 'Europe/Berlin',
+  clockToleranceMinutes: 5,
 };
+
+/**
+ * Where a measurement's file came from when it was not a manual upload: an acquisition received
+ * from the instrument's export folder (docs/instrument-intake.md). Its bytes are already stored;
+ * the measurement uses that stored file, and the acquisition's event ('attached' by the watcher,
+ * 'assigned' by an operator) is written in the measurement's transaction.
+ */
+export interface FolderSource {
+  kind: 'export-folder';
+  acquisitionId: number;
+  fileId: number;
+  event: 'attached' | 'assigned';
+  /** the operator who assigned it; null when the watcher attached it */
+  by: number | null;
+}
 
 export async function addMeasurement(
   db: Knex,
@@ -305,6 +324,7 @@ export async function addMeasurement(
   file: UploadedFile | undefined,
   ip: string | null,
   settings: ProvenanceSettings = DEFAULT_PROVENANCE,
+  source?: FolderSource,
 ): Promise<UploadResult> {
   if (!file || !file.buffer) throw badRequest('Attach the spectrum file (field "file").');
   const ctx = await loadContext(db, testId);
@@ -336,6 +356,13 @@ export async function addMeasurement(
     );
   assertNotFailed(ctx.measurements, testId, container);
   if (!ctx.test.instrument_id) throw conflict('Choose an instrument for this test first.');
+  const intake = await intakeSettingOf(db, ctx.test.instrument_id, settings.siteTimeZone);
+  if (!source && !intake.manualUploadAllowed)
+    throw new AppError(
+      409,
+      'MANUAL_UPLOAD_OFF',
+      `Manual upload is switched off for this instrument: its spectra arrive from its export folder only. Measure the container; the file is taken from the folder (or assign it from the instrument's unassigned acquisitions). Nothing was stored.`,
+    );
   await assertHolder(db, ctx.test, user.id);
   if ((await blockState(db, container.id)).blocked)
     throw blockedRefusal(container.label, settings.maxInvalidMeasurements);
@@ -369,8 +396,10 @@ export async function addMeasurement(
   const acquisition = judgeAcquisition(meta.stated, {
     checkAt: new Date(instrument.check!.performedAt),
     now: new Date(),
-    timeZone: settings.siteTimeZone,
+    // a time without a zone is read in the instrument clock's zone (its intake settings), else the site's
+    timeZone: intake.timeZone,
     instrument: { name: instrument.instrument.name, serial_number: instrument.instrument.serialNumber ?? null },
+    futureToleranceMs: (settings.clockToleranceMinutes ?? 5) * 60_000,
   });
   const findings = await identifierFindings(db, [meta.title, meta.stated?.sampleText], {
     label: container.label,
@@ -414,8 +443,9 @@ export async function addMeasurement(
     await trx('container').where({ id: container.id }).forUpdate().first('id');
     if ((await blockState(trx, container.id)).blocked)
       throw blockedRefusal(container.label, settings.maxInvalidMeasurements);
+    if (source) await lockUnassigned(trx, source.acquisitionId, source.event);
     const now = new Date();
-    const { id: fileId } = await storeFile(trx, file, user.id, now, sha);
+    const { id: fileId } = source ? { id: source.fileId } : await storeFile(trx, file, user.id, now, sha);
     const mid = await repo.insertMeasurement(trx, {
       test_id: testId,
       container_id: container.id,
@@ -497,10 +527,25 @@ export async function addMeasurement(
           serialJudgement: acquisition.serialJudgement,
         },
         identifiersConfirmed: findings.length ? findings.map((f) => f.text) : null,
+        source: source
+          ? { kind: source.kind, acquisitionId: source.acquisitionId, event: source.event }
+          : { kind: 'manual-upload' },
       },
       reason: reason ?? undefined,
       ip,
     });
+    if (source)
+      await recordFolderEvent(trx, {
+        acquisitionId: source.acquisitionId,
+        event: source.event,
+        measurementId: mid,
+        testId,
+        containerId: container.id,
+        by: source.by,
+        actorName: source.by ? user.fullName : FOLDER_WATCHER,
+        reason: reason,
+        ip,
+      });
     if (result.verdict === 'invalid') {
       const state = await blockState(trx, container.id);
       if (state.invalidSince >= settings.maxInvalidMeasurements) {

@@ -10,7 +10,7 @@ import { parseJson } from '../../lib/db';
 import { signaturesFor } from '../../lib/esign';
 import { notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { type IdentityMethod, prepare, type Spectrum } from '../../spectra';
+import { describeAssignment, type IdentityMethod, prepare, shapeOf, type Spectrum } from '../../spectra';
 import { readSpectrumOff } from '../../workers/pool';
 import { loadContext } from './context';
 import { toCheckInfo } from './instrument-status';
@@ -129,6 +129,27 @@ async function referenceInfos(db: Knex, ids: number[]): Promise<ReferenceRef[]> 
   }));
 }
 
+/**
+ * A stored result as GMP views show it (docs/methods.md, "Band assignments"): a band row carries
+ * only the assignment QA set. Results recorded before issue 18 carry the correlation table's text
+ * for every band; that text is blanked here (the stored result stays as recorded), and its
+ * bracketed copy in the explanation sentences with it.
+ */
+export function gmpResultView(result: StoredResult | null): StoredResult | null {
+  if (!result) return result;
+  const tableText = (position: number, width: number | null | undefined) => [
+    describeAssignment(position, width === null || width === undefined ? undefined : shapeOf(width)),
+    describeAssignment(position),
+  ];
+  let explanation = result.explanation;
+  const bands = result.bands.map((r) => {
+    if (!r.assignment || !tableText(r.referenceBand, r.referenceWidth).includes(r.assignment)) return r;
+    explanation = explanation.map((e) => e.split(` (${r.assignment})`).join(''));
+    return { ...r, assignment: '' };
+  });
+  return { ...result, bands, explanation };
+}
+
 export async function getMeasurementDetail(db: Knex, id: number): Promise<MeasurementDetail> {
   const m = await repo.findMeasurementSummary(db, id);
   if (!m) throw notFound('The measurement');
@@ -136,7 +157,7 @@ export async function getMeasurementDetail(db: Knex, id: number): Promise<Measur
   const check = await db('instrument_check').where({ id: m.instrumentCheckId }).first();
   return {
     ...m,
-    result: parseJson<StoredResult | null>(row.result, null),
+    result: gmpResultView(parseJson<StoredResult | null>(row.result, null)),
     method: await methodInfo(db, m.methodId).then(
       (x) => x && { id: x.id, version: x.version, technique: x.technique, status: x.status },
     ),

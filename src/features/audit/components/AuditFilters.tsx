@@ -6,7 +6,7 @@ import { useEffect, useMemo, useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Input, Select } from '../../../components/Field';
 import { useAuditFacets } from '../api';
-import { recordTypeLabel } from './labels';
+import { actionWords, recordTypeLabel } from './labels';
 
 export interface FilterForm {
   fromDay: string;
@@ -95,7 +95,7 @@ export function AuditFilters({
           />
           <datalist id="af-action-list">
             {actionChoices.map((a) => (
-              <option key={a} value={a} />
+              <option key={a} value={a} label={a.endsWith('*') ? a : `${actionWords(a)} (${a})`} />
             ))}
           </datalist>
         </Field>

@@ -6,7 +6,7 @@ import { ScrollRegion } from '../../../components/ScrollRegion';
 import type { KeyboardEvent } from 'react';
 import { DateTime } from '../../../components/DateTime';
 import type { AuditEventSummary } from '../api';
-import { recordTypeLabel } from './labels';
+import { recordText } from './labels';
 
 export interface AuditTableProps {
   events: AuditEventSummary[];
@@ -87,11 +87,16 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
               <td className="px-3 py-1.5 align-top">
                 <DateTime value={e.occurredAt} seconds />
               </td>
-              <td className="px-3 py-1.5 align-top">{e.actorName}</td>
-              <td className="px-3 py-1.5 align-top font-mono text-[13px] break-all">{e.action}</td>
-              <td className="px-3 py-1.5 align-top whitespace-nowrap">
-                {recordTypeLabel(e.entityType)}
-                {e.entityId && <span className="tabular-nums"> {e.entityId}</span>}
+              <td className="px-3 py-1.5 align-top">
+                {e.actorName}
+                {e.actorUsername && <span className="block text-xs text-muted">{e.actorUsername}</span>}
+              </td>
+              <td className="px-3 py-1.5 align-top" data-testid="audit-action">
+                {e.actionWords}
+                <span className="block font-mono text-xs break-all text-muted">{e.action}</span>
+              </td>
+              <td className="px-3 py-1.5 align-top whitespace-nowrap" data-testid="audit-record">
+                {recordText(e.entityType, e.entityId, e.recordNumber)}
               </td>
               <td className="max-w-[28rem] truncate px-3 py-1.5 align-top" title={e.reason ?? undefined}>
                 {e.reason ?? <span className="text-muted">—</span>}

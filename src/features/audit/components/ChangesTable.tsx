@@ -5,7 +5,7 @@
 import { ScrollRegion } from '../../../components/ScrollRegion';
 import { useState } from 'react';
 import type { FieldChange } from '../api';
-import { valueText } from './labels';
+import { namedValueText } from './labels';
 
 const KIND: Record<FieldChange['kind'], { word: string; sign: string; row: string }> = {
   changed: { word: 'changed', sign: '≠', row: 'bg-amber-soft' },
@@ -70,17 +70,18 @@ export function ChangesTable({
               return (
                 <tr key={c.path} className={`border-b border-line last:border-b-0 ${k.row}`} data-kind={c.kind}>
                   <th scope="row" className="px-3 py-1.5 text-left align-top font-normal">
-                    <span className="font-mono text-xs break-all">{c.path}</span>
+                    <span className="break-words">{c.label}</span>
+                    <span className="ml-2 font-mono text-xs break-all text-muted">{c.path}</span>
                     <span className="ml-2 text-xs whitespace-nowrap text-muted">
                       <span aria-hidden>{k.sign} </span>
                       {k.word}
                     </span>
                   </th>
                   <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">
-                    {c.kind === 'added' ? '' : valueText(c.before)}
+                    {c.kind === 'added' ? '' : namedValueText(c.before, c.beforeName)}
                   </td>
                   <td className="px-3 py-1.5 align-top font-mono text-xs break-all whitespace-pre-wrap">
-                    {c.kind === 'removed' ? '' : valueText(c.after)}
+                    {c.kind === 'removed' ? '' : namedValueText(c.after, c.afterName)}
                   </td>
                 </tr>
               );

@@ -3,7 +3,7 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { useAuditEvent } from '../api';
 import { ChangesTable } from './ChangesTable';
-import { recordTypeLabel } from './labels';
+import { recordText } from './labels';
 
 export interface EventDetailProps {
   id: number;
@@ -32,15 +32,20 @@ export function EventDetail({ id, onShowRecord }: EventDetailProps) {
           {e.actorId === null ? (
             <span className="text-muted"> (no signed-in account)</span>
           ) : (
-            <span className="text-muted"> (account {e.actorId})</span>
+            <span className="text-muted">
+              {' '}
+              ({e.actorUsername ? `user name ${e.actorUsername}, ` : ''}stored id {e.actorId})
+            </span>
           )}
         </dd>
         <dt className="text-muted">What</dt>
-        <dd className="font-mono text-[13px]">{e.action}</dd>
+        <dd>
+          {e.actionWords} <span className="font-mono text-[13px] text-muted">({e.action})</span>
+        </dd>
         <dt className="text-muted">Record</dt>
         <dd>
-          {recordTypeLabel(e.entityType)}
-          {e.entityId && <span className="tabular-nums"> {e.entityId}</span>}
+          {recordText(e.entityType, e.entityId, e.recordNumber)}
+          {e.entityId && e.recordNumber && <span className="text-muted tabular-nums"> (stored id {e.entityId})</span>}
           {e.entityId && onShowRecord && (
             <button
               type="button"

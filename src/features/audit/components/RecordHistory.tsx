@@ -19,7 +19,7 @@ import { formatNumber } from '../../../lib/format';
 import { HISTORY_CAP, useRecordHistory, type AuditEventDetail, type SignatureOnRecord } from '../api';
 import { ChangesTable } from './ChangesTable';
 import { Drawer } from './Drawer';
-import { recordTypeLabel, valueText } from './labels';
+import { namedValueText, recordTypeLabel } from './labels';
 
 export interface RecordHistoryProps {
   entityType: string;
@@ -143,8 +143,13 @@ function HistoryItem({ e }: { e: AuditEventDetail }) {
     <li className="rounded-md border border-line bg-white px-3 py-2 text-sm" data-testid="history-event">
       <div className="flex flex-wrap items-baseline gap-x-3 gap-y-1">
         <DateTime value={e.occurredAt} seconds />
-        <span className="font-mono text-[13px]">{e.action}</span>
-        <span>{e.actorName}</span>
+        <span>
+          {e.actionWords} <span className="font-mono text-xs text-muted">({e.action})</span>
+        </span>
+        <span>
+          {e.actorName}
+          {e.actorUsername && <span className="text-muted"> ({e.actorUsername})</span>}
+        </span>
         <span className="ml-auto text-xs text-muted tabular-nums">event {e.id}</span>
       </div>
       {e.reason && (
@@ -156,9 +161,9 @@ function HistoryItem({ e }: { e: AuditEventDetail }) {
       {changed.length > 0 && (
         <ul className="mt-1 flex flex-col gap-0.5">
           {changed.slice(0, 4).map((c) => (
-            <li key={c.path} className="font-mono text-xs break-all">
-              {c.path}: {c.kind === 'added' ? '' : `${valueText(c.before)} → `}
-              {c.kind === 'removed' ? '(removed)' : valueText(c.after)}
+            <li key={c.path} className="text-xs break-all" data-testid="history-change">
+              {c.label}: {c.kind === 'added' ? '' : `${namedValueText(c.before, c.beforeName)} → `}
+              {c.kind === 'removed' ? '(removed)' : namedValueText(c.after, c.afterName)}
             </li>
           ))}
           {changed.length > 4 && <li className="text-xs text-muted">and {changed.length - 4} more field(s)</li>}

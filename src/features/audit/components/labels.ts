@@ -1,24 +1,17 @@
-/** Words for record types and values in the audit views. */
+/** Words for record types, event types and values in the audit views (shared with the exports: the audit contract). */
+import { actionWords, recordTypeWords } from '../../../../server/modules/audit/contract';
 
-const RECORD_TYPES: Record<string, string> = {
-  lot: 'Lot',
-  container: 'Container',
-  measurement: 'Measurement',
-  identity_test: 'Identity test',
-  reference_spectrum: 'Reference spectrum',
-  identity_method: 'Identity method',
-  material: 'Material',
-  instrument: 'Instrument',
-  instrument_check: 'Instrument check',
-  instrument_check_spec: 'Instrument check specification',
-  investigation: 'Investigation',
-  certificate: 'Identity certificate',
-  user: 'Account',
-  audit_trail: 'Audit trail',
-};
+export { actionWords };
 
 export function recordTypeLabel(t: string): string {
-  return RECORD_TYPES[t] ?? t;
+  return recordTypeWords(t);
+}
+
+/** A record as its business number ("Lot L-2026-00005"); the stored id only where no number exists. */
+export function recordText(entityType: string, entityId: string | null, recordNumber: string | null): string {
+  const type = recordTypeLabel(entityType);
+  if (!entityId) return type;
+  return `${type} ${recordNumber ?? entityId}`;
 }
 
 /** A stored value as text: strings as they are, nothing as a dash, the rest as JSON. */
@@ -26,4 +19,9 @@ export function valueText(v: unknown): string {
   if (v === null || v === undefined) return '—';
   if (typeof v === 'string') return v === '' ? '(empty)' : v;
   return JSON.stringify(v);
+}
+
+/** A value that holds a stored id: what it names, the id beside it ("Olga Brandt (olga) · id 1"). */
+export function namedValueText(v: unknown, name: string | null | undefined): string {
+  return name ? `${name} · id ${valueText(v)}` : valueText(v);
 }

@@ -1,6 +1,7 @@
 /** Session hooks: who is signed in, sign in, sign out, change password. */
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import { ApiError, apiFetch } from '../../../lib/api';
+import { announce } from '../../../lib/session-sync';
 import { qk } from '../../../lib/query-keys';
 import type { ChangePasswordInput, Me, SignInInput, SignInResult } from '../../../../server/modules/auth/contract';
 
@@ -33,9 +34,11 @@ export function useSignIn() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: (body: SignInInput) => apiFetch<SignInResult>('/api/auth/sign-in', { method: 'POST', body }),
-    onSuccess: async () => {
+    onSuccess: async (r) => {
       qc.removeQueries({ predicate: (q) => q.queryKey[0] !== qk.me[0] });
       await qc.invalidateQueries({ queryKey: qk.me });
+      // the other tabs share the cookie: they now act as this user and say so (issue 18, item 5)
+      announce({ type: 'signed-in', userId: r.user.id, username: r.user.username, fullName: r.user.fullName });
     },
   });
 }

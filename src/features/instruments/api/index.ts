@@ -4,6 +4,13 @@ import { apiFetch, apiUpload, downloadUrl, type UploadProgress } from '../../../
 import { invalidateMe, qk } from '../../../lib/query-keys';
 import type { SignatureInput } from '../../../../server/lib/contract';
 import type {
+  AcquisitionEntry,
+  AssignAcquisitionInput,
+  IntakeSettingInput,
+  IntakeSettingView,
+  TestAcquisitionsView,
+} from '../../../../server/modules/intake/contract';
+import type {
   CheckType,
   ImpactAssessment,
   ImpactDecisionInput,
@@ -157,5 +164,68 @@ export function useLotNotices(lotId: number) {
   return useQuery({
     queryKey: qk.instruments.lotNotices(lotId),
     queryFn: () => apiFetch<ImpactNotice[]>(`/api/lots/${lotId}/impact-notices`),
+  });
+}
+
+// ---- export-folder intake (docs/instrument-intake.md)
+
+export type {
+  AcquisitionEntry,
+  IntakeSettingInput,
+  IntakeSettingView,
+  TestAcquisitionsView,
+} from '../../../../server/modules/intake/contract';
+export { ACQUISITION_STATE_LABELS } from '../../../../server/modules/intake/contract';
+
+export function useIntakeSetting(id: number) {
+  return useQuery({
+    queryKey: qk.instruments.intake(id),
+    queryFn: () => apiFetch<IntakeSettingView>(`/api/instruments/${id}/intake`),
+  });
+}
+
+export function useSetIntake(id: number) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (body: IntakeSettingInput) =>
+      apiFetch<IntakeSettingView>(`/api/instruments/${id}/intake`, { method: 'PUT', body }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.instruments.intake(id) }),
+  });
+}
+
+/** Files received from the folder; refreshed every few seconds while the page is open (files arrive on their own). */
+export function useAcquisitions(id: number, enabled = true) {
+  return useQuery({
+    queryKey: qk.instruments.acquisitions(id),
+    queryFn: () => apiFetch<AcquisitionEntry[]>(`/api/instruments/${id}/acquisitions`, { query: { state: 'all' } }),
+    refetchInterval: 3000,
+    enabled,
+  });
+}
+
+export function useAssignAcquisition(instrumentId: number) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, ...body }: AssignAcquisitionInput & { id: number }) =>
+      apiFetch<{ id: number }>(`/api/acquisitions/${id}/assign`, { method: 'POST', body }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.instruments.acquisitions(instrumentId) }),
+  });
+}
+
+export function useNotASample(instrumentId: number) {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, reason }: { id: number; reason: string }) =>
+      apiFetch<{ ok: true }>(`/api/acquisitions/${id}/not-a-sample`, { method: 'POST', body: { reason } }),
+    onSuccess: () => void qc.invalidateQueries({ queryKey: qk.instruments.acquisitions(instrumentId) }),
+  });
+}
+
+/** Every acquisition on a test's instrument during the test window (the review and the bench). */
+export function useTestAcquisitions(testId: number, live = false) {
+  return useQuery({
+    queryKey: qk.instruments.testAcquisitions(testId),
+    queryFn: () => apiFetch<TestAcquisitionsView>(`/api/tests/${testId}/acquisitions`),
+    refetchInterval: live ? 3000 : false,
   });
 }

@@ -6,6 +6,7 @@
 import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { Field, Select, Textarea } from '../../../components/Field';
+import { useDraft } from '../../../lib/session-sync';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { useConfirm, useInvalidate, type InvestigationDetail } from '../api';
@@ -22,7 +23,8 @@ export function DecisionForms({
   const causes = PHASE1_ITEMS.filter((k) => inv.phase1 && !inv.phase1.items[k].ok);
   const [mode, setMode] = useState<'invalidate' | 'confirm' | null>(null);
   const [cause, setCause] = useState<Phase1Item | ''>(causes[0] ?? '');
-  const [just, setJust] = useState('');
+  // kept as this user's local draft until it is signed or the user signs out
+  const [just, setJust, clearJust] = useDraft(`investigation.${inv.id}.justification`);
   const [retest, setRetest] = useState<number[]>(inv.failing.map((f) => f.containerId));
   const [error, setError] = useState<string | null>(null);
   const [signing, setSigning] = useState(false);
@@ -127,7 +129,12 @@ export function DecisionForms({
           confirm.reset();
         }}
         onSign={(signature) => {
-          const close = { onSuccess: () => setSigning(false) };
+          const close = {
+            onSuccess: () => {
+              setSigning(false);
+              clearJust();
+            },
+          };
           if (mode === 'confirm') confirm.mutate({ justification: just.trim(), signature }, close);
           else if (cause)
             invalidate.mutate({ cause, justification: just.trim(), retestContainerIds: retest, signature }, close);

@@ -1,6 +1,7 @@
 /** QA's phase I laboratory check: four structured points (no error found / error found, with what was checked) and a summary, signed. */
 import { useState } from 'react';
 import { Button } from '../../../components/Button';
+import { useDraft } from '../../../lib/session-sync';
 import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
@@ -15,7 +16,8 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
         { ok: boolean | null; note: string }
       >,
   );
-  const [summary, setSummary] = useState('');
+  // A long note survives a reload or an idle sign-out as this user's local draft (cleared at sign-out).
+  const [summary, setSummary, clearSummary] = useDraft(`investigation.${inv.id}.phase1-summary`);
   const [errors, setErrors] = useState<Record<string, string>>({});
   const [signing, setSigning] = useState(false);
 
@@ -101,7 +103,12 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
               summary: summary.trim(),
               signature,
             },
-            { onSuccess: () => setSigning(false) },
+            {
+              onSuccess: () => {
+                setSigning(false);
+                clearSummary();
+              },
+            },
           )
         }
       />

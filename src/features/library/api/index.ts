@@ -52,6 +52,7 @@ export type {
   ReferenceUploadFields as UploadFields,
   SpecificityMatrix,
   StoredBand,
+  BandCandidates,
 } from '../../../../server/modules/library/contract';
 
 /** Everything in the library may change after a write (status counts, matrix, gate). */

@@ -1,7 +1,10 @@
 /**
- * Characteristic bands of a reference with their group-frequency assignment, high to low
- * wavenumber. While the reference is a draft, QA may add, move or remove bands and rewrite an
- * assignment; the change is saved with a reason (audited).
+ * Characteristic bands of a reference, high to low wavenumber, with the assignment QA set for
+ * each band (none shown where QA set none). While the reference is a draft, QA may add, move or
+ * remove bands and set an assignment per band; the change is saved with a reason (audited) and
+ * signed with the reference at approval. QA reviewing a draft also sees the correlation table's
+ * candidates, ranked by the spectrum's other bands, for information only (docs/methods.md,
+ * "Band assignments").
  */
 import { ScrollRegion } from '../../../components/ScrollRegion';
 import { useState } from 'react';
@@ -9,7 +12,7 @@ import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Field, Input } from '../../../components/Field';
 import { formatWavenumber } from '../../../lib/format';
-import { useUpdateBands, type StoredBand } from '../api';
+import { useUpdateBands, type BandCandidates, type StoredBand } from '../api';
 
 type Row = { key: number; position: string; assignment: string; original?: StoredBand };
 let seq = 0;
@@ -18,10 +21,13 @@ export function BandTable({
   referenceId,
   bands,
   editable,
+  candidates,
 }: {
   referenceId: number;
   bands: StoredBand[];
   editable: boolean;
+  /** only for QA reviewing a draft */
+  candidates?: BandCandidates[];
 }) {
   const [editing, setEditing] = useState(false);
   const [rows, setRows] = useState<Row[]>([]);
@@ -32,7 +38,12 @@ export function BandTable({
 
   const start = () => {
     setRows(
-      sorted.map((b) => ({ key: ++seq, position: b.position.toFixed(2), assignment: b.assignment, original: b })),
+      sorted.map((b) => ({
+        key: ++seq,
+        position: b.position.toFixed(2),
+        assignment: b.shownAssignment ?? '',
+        original: b,
+      })),
     );
     setReason('');
     setProblem(null);
@@ -43,8 +54,7 @@ export function BandTable({
     for (const r of rows) {
       const p = Number(r.position.replace(',', '.'));
       if (!Number.isFinite(p) || p <= 0) return setProblem(`“${r.position}” is not a wavenumber.`);
-      const changedText = !r.original || r.assignment.trim() !== r.original.assignment;
-      out.push({ position: p, assignment: changedText && r.assignment.trim() ? r.assignment.trim() : undefined });
+      out.push({ position: p, assignment: r.assignment.trim() || undefined });
     }
     if (reason.trim().length < 3) return setProblem('Give a reason for the change (at least 3 characters).');
     setProblem(null);
@@ -61,7 +71,7 @@ export function BandTable({
                 <th data-key-column="position" className="px-3 py-2 text-left">
                   Position (cm⁻¹)
                 </th>
-                <th className="px-3 py-2 text-left">Assignment (empty: from the correlation table)</th>
+                <th className="px-3 py-2 text-left">Assignment set by QA (empty: none shown)</th>
                 <th className="px-3 py-2" />
               </tr>
             </thead>
@@ -129,7 +139,7 @@ export function BandTable({
                 Position
               </th>
               <th data-key-column="assignment" scope="col" className="px-3 py-2 text-left">
-                Likely assignment
+                Assignment (set by QA)
               </th>
               <th scope="col" className="px-3 py-2 text-right">
                 Relative height
@@ -146,7 +156,9 @@ export function BandTable({
             {sorted.map((b) => (
               <tr key={b.position} className="border-t border-line" data-testid="band-row">
                 <td className="px-3 py-1.5 text-right whitespace-nowrap">{formatWavenumber(b.position)}</td>
-                <td className="px-3 py-1.5">{b.assignment}</td>
+                <td className="px-3 py-1.5" data-testid="band-assignment">
+                  {b.shownAssignment ?? <span className="text-muted">not set by QA</span>}
+                </td>
                 <td className="px-3 py-1.5 text-right">
                   {b.prominence !== undefined ? `${Math.round(b.prominence * 100)} %` : '—'}
                 </td>
@@ -168,9 +180,44 @@ export function BandTable({
       </ScrollRegion>
       {editable && (
         <div>
-          <Button onClick={start}>Edit bands</Button>
+          <Button onClick={start}>Edit bands and assignments</Button>
         </div>
       )}
+      {candidates && candidates.length > 0 && <CandidateList candidates={candidates} />}
     </div>
+  );
+}
+
+/** The correlation table's candidates per band: for QA's information while reviewing a draft, never an assignment. */
+function CandidateList({ candidates }: { candidates: BandCandidates[] }) {
+  const sorted = [...candidates].sort((a, b) => b.position - a.position);
+  return (
+    <details className="rounded-md border border-line bg-white px-3 py-2 text-sm" data-testid="band-candidates">
+      <summary className="cursor-pointer text-petrol">Correlation-table candidates, for information</summary>
+      <p className="mt-2 text-muted">
+        Group frequencies whose usual range holds each band, ranked by the partner bands the spectrum shows. They are
+        candidates for your judgement, not assignments: only the text you set above is shown in test results and signed
+        with the reference.
+      </p>
+      <ul className="mt-2 flex flex-col gap-1">
+        {sorted.map((b) => (
+          <li key={b.position}>
+            <span className="tabular-nums">{formatWavenumber(b.position)}</span>:{' '}
+            {b.candidates.length === 0
+              ? 'no common group frequency'
+              : b.candidates.map((c, i) => (
+                  <span key={i}>
+                    {i > 0 && '; '}
+                    {c.group}{' '}
+                    <span className="text-muted">
+                      ({c.range}
+                      {c.why ? `; ${c.why}` : ''})
+                    </span>
+                  </span>
+                ))}
+          </li>
+        ))}
+      </ul>
+    </details>
   );
 }

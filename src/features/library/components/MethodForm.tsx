@@ -223,13 +223,13 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
         <legend className="mb-1 text-sm font-semibold">Acceptance criteria</legend>
         <NumField
           id={id('minr')}
-          label="Minimum correlation"
+          label="Minimum correlation coefficient (r)"
           value={f.minCorrelation}
           onChange={set('minCorrelation')}
         />
         <NumField
           id={id('mind')}
-          label="Minimum first-derivative correlation"
+          label="Minimum correlation coefficient (r) of the first derivatives"
           hint="Empty: not used"
           value={f.minDerivativeCorrelation}
           onChange={set('minDerivativeCorrelation')}

@@ -38,9 +38,9 @@ function summary(m: MethodVersion): [string, string][] {
     ],
     [
       'Criteria',
-      `correlation ≥ ${formatScore(p.thresholds.minCorrelation)}` +
+      `correlation coefficient (r) ≥ ${formatScore(p.thresholds.minCorrelation)}` +
         (p.thresholds.minDerivativeCorrelation !== null
-          ? `, first-derivative correlation ≥ ${formatScore(p.thresholds.minDerivativeCorrelation)}`
+          ? `, first-derivative correlation coefficient (r) ≥ ${formatScore(p.thresholds.minDerivativeCorrelation)}`
           : '') +
         (p.thresholds.maxMahalanobis !== null ? `, Mahalanobis distance ≤ ${p.thresholds.maxMahalanobis}` : ''),
     ],

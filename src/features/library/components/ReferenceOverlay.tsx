@@ -23,7 +23,7 @@ export function ReferenceOverlay({
   const self = overlay.data?.traces.find((t) => t.isThis);
   const other = others.find((t) => t.referenceId === (otherId ?? others[0]?.referenceId)) ?? null;
   const plotBands: PlotBand[] = useMemo(
-    () => bands.map((b) => ({ position: b.position, label: b.assignment })),
+    () => bands.map((b) => ({ position: b.position, label: b.shownAssignment ?? undefined })),
     [bands],
   );
 

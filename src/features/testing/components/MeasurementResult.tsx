@@ -130,7 +130,7 @@ export function BandTable({ result }: { result: StoredResult }) {
                   <th className="py-1 pr-3 font-medium">Agrees</th>
                 </>
               )}
-              <th className="py-1 font-medium">Likely assignment</th>
+              <th className="py-1 font-medium">Assignment (set by QA)</th>
             </tr>
           </thead>
           <tbody>
@@ -157,7 +157,7 @@ export function BandTable({ result }: { result: StoredResult }) {
                   />
                 </td>
                 {intensities && <IntensityCells intensity={b.intensity} />}
-                <td className="py-1 text-muted">{b.assignment}</td>
+                <td className="py-1 text-muted">{b.assignment || '—'}</td>
               </tr>
             ))}
           </tbody>
@@ -179,7 +179,7 @@ export function BandTable({ result }: { result: StoredResult }) {
       {result.extraBands.length > 0 && (
         <p className="text-sm">
           <span className="font-medium">Strong bands of the sample missing from the reference: </span>
-          {result.extraBands.map((b) => `${formatWavenumber(b.position)} (${b.assignment})`).join('; ')}
+          {result.extraBands.map((b) => formatWavenumber(b.position)).join('; ')}
         </p>
       )}
     </div>
@@ -202,7 +202,7 @@ export function MeasurementOverlay({
         position: b.referenceBand,
         shift: b.shift,
         matched: b.withinTolerance,
-        label: b.assignment,
+        label: b.assignment || undefined,
       })),
     [bandsOf],
   );
@@ -309,7 +309,7 @@ export function MeasurementResult({ measurementId, compact }: { measurementId: n
         <Verdict verdict={m.verdict} label={verdictLabel(m.verdict)} size="lg" />
         <div className="text-sm">
           <div className="font-medium">{m.label}</div>
-          <div className="text-muted">Match score {formatScore(m.matchScore)}</div>
+          <div className="text-muted">Correlation coefficient (r) {formatScore(m.matchScore)}</div>
         </div>
       </div>
       {m.verdict === 'invalid' && (

@@ -80,6 +80,14 @@ export function MeasurementHistory({ entries }: { entries: ReviewMeasurementEntr
                 </td>
                 <td className="py-1 pr-3">{e.provenance.remeasureReason ?? '—'}</td>
                 <td className="py-1">
+                  <p data-testid="measurement-source">
+                    {e.provenance.source === 'export-folder' ? e.provenance.sourceText : 'uploaded by hand'}
+                  </p>
+                  {e.provenance.clockWarning && (
+                    <p role="note" className="mt-1 rounded bg-amber-soft px-2 py-1">
+                      Instrument clock: {e.provenance.clockWarning}
+                    </p>
+                  )}
                   {stated(e)}
                   {e.provenance.identifierFindings.length > 0 && (
                     <p className="mt-1 rounded bg-amber-soft px-2 py-1">

@@ -52,7 +52,7 @@ function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen
       <summary className="flex min-h-11 cursor-pointer flex-wrap items-center gap-3 px-3 py-2">
         <span className="font-medium tabular-nums">{m.label}</span>
         <Verdict verdict={m.verdict} label={verdictLabel(m.verdict)} />
-        <span className="text-sm text-muted">match score {formatScore(m.matchScore)}</span>
+        <span className="text-sm text-muted">correlation coefficient (r) {formatScore(m.matchScore)}</span>
       </summary>
       {open && r && (
         <div className="flex flex-col gap-4 border-t border-line p-3">

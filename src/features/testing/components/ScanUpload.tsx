@@ -171,7 +171,7 @@ export function ScanUpload({
             renderResult={(r) => (
               <div className="flex items-center gap-3">
                 <Verdict verdict={r.verdict} label={verdictLabel(r.verdict)} />
-                <span className="text-sm text-muted">match score {formatScore(r.matchScore)}</span>
+                <span className="text-sm text-muted">correlation coefficient (r) {formatScore(r.matchScore)}</span>
               </div>
             )}
           />

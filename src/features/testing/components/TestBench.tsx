@@ -35,7 +35,7 @@ function ContainerRows({
             Latest result
           </th>
           <th data-key-column="score" className="py-1 pr-3 text-right font-medium">
-            Match score
+            Correlation coefficient (r)
           </th>
           <th className="py-1 pr-3 text-right font-medium">Measurements</th>
           <th className="py-1 font-medium" />

@@ -33,7 +33,8 @@ export function suggestPassword(length = 16): string {
 export const ROLE_HINTS: Record<Role, string> = {
   operator: 'registers lots, measures containers, signs tests as performed',
   verifier: 'reviews and verifies tests performed by someone else',
-  qa_manager: 'owns materials, methods and references; releases or rejects lots',
+  qa_manager:
+    'owns materials, identity methods, references, instruments and their check specifications, suppliers and sources; decides investigations and retests; releases or rejects lots; reviews the audit trail, trends and integrity alerts; never tests or verifies',
   auditor: 'reads everything and the audit trail; changes nothing',
   admin: 'manages accounts and roles; signs no GMP record',
 };
