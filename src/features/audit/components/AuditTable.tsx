@@ -95,10 +95,10 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
                 {e.actionWords}
                 <span className="block font-mono text-xs break-all text-muted">{e.action}</span>
               </td>
-              <td className="px-3 py-1.5 align-top whitespace-nowrap" data-testid="audit-record">
+              <td className="px-3 py-1.5 align-top break-words" data-testid="audit-record">
                 {recordText(e.entityType, e.entityId, e.recordNumber)}
               </td>
-              <td className="max-w-[28rem] truncate px-3 py-1.5 align-top" title={e.reason ?? undefined}>
+              <td className="max-w-[22rem] truncate px-3 py-1.5 align-top" title={e.reason ?? undefined}>
                 {e.reason ?? <span className="text-muted">—</span>}
               </td>
             </tr>

@@ -222,11 +222,17 @@ export function AcquisitionTable({
       <table className="w-full text-left text-sm" aria-label={label}>
         <thead>
           <tr className="border-b border-line text-muted">
-            <th className="py-1 pr-3">File</th>
+            <th className="py-1 pr-3" data-key-column="file">
+              File
+            </th>
             <th className="py-1 pr-3">Received</th>
             <th className="py-1 pr-3">Acquired (file)</th>
-            <th className="py-1 pr-3">State</th>
-            <th className="py-1 pr-3">Container, measurement</th>
+            <th className="py-1 pr-3" data-key-column="state">
+              State
+            </th>
+            <th className="py-1 pr-3" data-key-column="container">
+              Container, measurement
+            </th>
             {actions && <th className="py-1">Decide</th>}
           </tr>
         </thead>

@@ -75,12 +75,14 @@ export function MachineAccounts() {
         <table className="mb-4 w-full text-sm">
           <thead>
             <tr className="text-left text-muted">
-              <th className="py-1">Name</th>
-              <th>Scopes</th>
+              <th className="py-1" data-key-column="name">
+                Name
+              </th>
+              <th data-key-column="scopes">Scopes</th>
               <th>Token starts</th>
               <th>Made</th>
               <th>Last used</th>
-              <th>State</th>
+              <th data-key-column="state">State</th>
             </tr>
           </thead>
           <tbody>

@@ -76,11 +76,13 @@ export function Webhooks() {
         <table className="mb-4 w-full text-sm">
           <thead>
             <tr className="text-left text-muted">
-              <th className="py-1">Name</th>
+              <th className="py-1" data-key-column="name">
+                Name
+              </th>
               <th>Receiver</th>
               <th>Events</th>
               <th>Deliveries</th>
-              <th>State</th>
+              <th data-key-column="state">State</th>
             </tr>
           </thead>
           <tbody>
@@ -152,9 +154,11 @@ export function Webhooks() {
         <table className="w-full text-sm" data-testid="deliveries">
           <thead>
             <tr className="text-left text-muted">
-              <th className="py-1">Event</th>
+              <th className="py-1" data-key-column="event">
+                Event
+              </th>
               <th>Endpoint</th>
-              <th>State</th>
+              <th data-key-column="state">State</th>
               <th>Attempts</th>
               <th>Next attempt</th>
               <th>Last answer or error</th>

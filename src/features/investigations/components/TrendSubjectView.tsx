@@ -28,8 +28,12 @@ export function TrendSubjectView({ subject }: { subject: TrendSubject }) {
         <caption className="mb-1 text-left font-medium">Measurements of the pattern</caption>
         <thead>
           <tr className="border-b border-line">
-            <th className="py-1 pr-3">Recorded</th>
-            <th className="py-1 pr-3">Lot</th>
+            <th className="py-1 pr-3" data-key-column="recorded">
+              Recorded
+            </th>
+            <th className="py-1 pr-3" data-key-column="lot">
+              Lot
+            </th>
             <th className="py-1 pr-3">Container</th>
             <th className="py-1 pr-3">Source</th>
             <th className="py-1 pr-3">Instrument</th>

@@ -145,10 +145,12 @@ export function SourcesTable({ me, canEdit }: { me: { fullName: string; signedOn
     <table className="w-full text-sm">
       <thead>
         <tr className="text-left text-muted">
-          <th className="py-1">Material</th>
-          <th>Supplier</th>
+          <th className="py-1" data-key-column="material">
+            Material
+          </th>
+          <th data-key-column="supplier">Supplier</th>
           <th>Manufacturer</th>
-          <th>Status</th>
+          <th data-key-column="status">Status</th>
           <th>Sampling plan</th>
           <th>Review by</th>
         </tr>
