@@ -9,7 +9,7 @@ import v8 from 'node:v8';
 import vm from 'node:vm';
 import type { AddressInfo } from 'node:net';
 import request from 'supertest';
-import { db, makeUser, testApp } from './helpers';
+import { binaryBody, db, makeUser, testApp } from './helpers';
 import { privateEntityType, seedEvents } from './fixtures-audit';
 import { verifyChain } from '../../server/lib/audit';
 
@@ -190,11 +190,7 @@ describe('export of 100,000 events', () => {
       .set('Cookie', cookie)
       .query({ entityType: E })
       .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+      .parse(binaryBody);
     expect(res.status).toBe(200);
     const { execFileSync } = await import('node:child_process');
     const text = execFileSync('pdftotext', ['-', '-'], {

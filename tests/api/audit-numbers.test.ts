@@ -15,7 +15,7 @@ import { auditNow } from '../../server/lib/audit';
 import { issueCertificate } from '../../server/modules/certificates';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
 import { parseCsv } from './fixtures-audit';
-import { agentFor, db } from './helpers';
+import { agentFor, binaryBody, db } from './helpers';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
 
@@ -140,11 +140,7 @@ describe('exports keep the stored ids and add the business numbers beside them',
       .get('/api/audit/export.pdf')
       .query({ entityType: 'identity_test', entityId: String(lot.testId), sort: 'asc' })
       .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+      .parse(binaryBody);
     expect(res.status).toBe(200);
     const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'audit-num-')), 'r.pdf');
     fs.writeFileSync(file, res.body as Buffer);

@@ -12,7 +12,7 @@ import {
   startAuditReviewReminderJob,
   stopAuditReviewReminderJob,
 } from '../../server/modules/audit-review/service';
-import { db, ownerDb, sig } from './helpers';
+import { binaryBody, db, ownerDb, sig } from './helpers';
 import { agent, retire } from './fixtures-testing';
 import request from 'supertest';
 import { testApp } from './helpers';
@@ -108,14 +108,7 @@ describe('the signed review', () => {
     expect(await checkSignature(db(), s, { foundIn: 'sweep' })).toBe(true);
     const list = await auditor.agent.get('/api/audit-reviews');
     expect(list.body.some((r: { id: number }) => r.id === id)).toBe(true);
-    const pdf = await auditor.agent
-      .get(`/api/audit-reviews/${id}/pdf`)
-      .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+    const pdf = await auditor.agent.get(`/api/audit-reviews/${id}/pdf`).buffer(true).parse(binaryBody);
     expect(pdf.status).toBe(200);
     expect(pdf.headers['content-type']).toBe('application/pdf');
     const text = execFileSync('pdftotext', ['-', '-'], { input: pdf.body as Buffer }).toString();

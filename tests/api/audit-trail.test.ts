@@ -9,7 +9,7 @@ import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { agentFor, db, makeUser } from './helpers';
+import { agentFor, binaryBody, db, makeUser } from './helpers';
 import { parseCsv, privateEntityType, seedEvents } from './fixtures-audit';
 import { loadConfig } from '../../server/lib/config';
 
@@ -389,11 +389,7 @@ describe('exports', () => {
       .get('/api/audit/export.pdf')
       .query({ entityType: T, sort: 'asc' })
       .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+      .parse(binaryBody);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     const pdf = res.body as Buffer;

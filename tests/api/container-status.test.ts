@@ -12,7 +12,7 @@
  *   briefed: "releasing the block returns it to its former status").
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { db, sig } from './helpers';
+import { binaryBody, db, sig } from './helpers';
 import {
   agent,
   approvedMaterial,
@@ -51,14 +51,7 @@ const statuses = async (lotId: number) =>
   (await qa.agent.get(`/api/lots/${lotId}`)).body.containers.map((c: { status: string }) => c.status);
 
 async function labelsPrinted(lotId: number): Promise<string[]> {
-  const res = await operator.agent
-    .get(`/api/lots/${lotId}/status-labels.pdf`)
-    .buffer(true)
-    .parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on('data', (c: Buffer) => chunks.push(c));
-      r.on('end', () => cb(null, Buffer.concat(chunks)));
-    });
+  const res = await operator.agent.get(`/api/lots/${lotId}/status-labels.pdf`).buffer(true).parse(binaryBody);
   expect(res.status).toBe(200);
   const ev = await db()('audit_event')
     .where({ action: 'lot.status-labels-printed', entity_id: String(lotId) })

@@ -73,3 +73,10 @@ export async function agentFor(roles: Role[]) {
 export function sig(u: { username: string; password: string }) {
   return { username: u.username, password: u.password };
 }
+
+/** supertest parser that keeps a binary body (PDF, zip) as one Buffer: `.buffer(true).parse(binaryBody)`. */
+export function binaryBody(res: request.Response, cb: (err: Error | null, body: Buffer) => void): void {
+  const chunks: Buffer[] = [];
+  res.on('data', (c: Buffer) => chunks.push(c));
+  res.on('end', () => cb(null, Buffer.concat(chunks)));
+}

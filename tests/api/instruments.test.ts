@@ -11,7 +11,7 @@
  *   positions it passes, and a copy shifted by 1.5 cm-1 fails that specification.
  */
 import { beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, uniqueName } from './helpers';
+import { agentFor, binaryBody, db, uniqueName } from './helpers';
 import { canonical, refData, sha256, shiftedCsv, sigOf } from './fixtures-library';
 import { instrumentWithCheck } from './fixtures-testing';
 import { getValidInstrumentCheck } from '../../server/modules/instruments';
@@ -293,11 +293,7 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     const res = await aud.agent
       .get(`/api/instruments/${inst.id}/checks/${first.id}/file`)
       .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+      .parse(binaryBody);
     expect(res.status).toBe(200);
     expect(sha256(res.body as Buffer)).toBe(sha256(sentFirst));
   });

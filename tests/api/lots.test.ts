@@ -17,7 +17,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sha256Hex } from '../../server/lib/canonical';
-import { db, sig } from './helpers';
+import { binaryBody, db, sig } from './helpers';
 import {
   approvedMaterial,
   lastUploadedBytes,
@@ -157,14 +157,7 @@ describe('lot receipt', () => {
 
   it('prints a label sheet PDF with each label as text and as a QR code', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 23);
-    const res = await operator.agent
-      .get(`/api/lots/${lot.id}/labels.pdf`)
-      .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+    const res = await operator.agent.get(`/api/lots/${lot.id}/labels.pdf`).buffer(true).parse(binaryBody);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'labels-'));
@@ -285,14 +278,7 @@ describe('measurements', () => {
     expect(detail.body.method.version).toBe(1);
     expect(detail.body.references[0].id).toBe(nylon.referenceIds[0]);
     expect(detail.body.instrumentCheck.verdict).toBe('pass');
-    const raw = await operator.agent
-      .get(`/api/measurements/${m.id}/file`)
-      .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+    const raw = await operator.agent.get(`/api/measurements/${m.id}/file`).buffer(true).parse(binaryBody);
     expect(Buffer.compare(raw.body as Buffer, sent)).toBe(0);
   });
 

@@ -16,7 +16,7 @@
  * standard IR correlation tables, from memory).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { type agentFor, db, ownerDb } from './helpers';
+import { binaryBody, db, ownerDb, type agentFor } from './helpers';
 import {
   approveFirstVersion,
   approveMethod,
@@ -149,11 +149,7 @@ describe('the specificity gate of a method version', () => {
     const pdf = await qa2.agent
       .get(`/api/methods/${pe.draftMethodId}/validation-record`)
       .buffer(true)
-      .parse((res, cb) => {
-        const chunks: Buffer[] = [];
-        res.on('data', (c: Buffer) => chunks.push(c));
-        res.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+      .parse(binaryBody);
     expect(pdf.status).toBe(200);
     const bytes = pdf.body as Buffer;
     expect(bytes.subarray(0, 5).toString()).toBe('%PDF-');

@@ -17,7 +17,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { issueCertificate } from '../../server/modules/certificates';
-import { db, sig } from './helpers';
+import { binaryBody, db, sig } from './helpers';
 import {
   agent,
   approvedMaterial,
@@ -189,14 +189,7 @@ describe('a reduced plan', () => {
 describe('status labels', () => {
   it('prints the current status of every container as a PDF, audited', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 2);
-    const res = await operator.agent
-      .get(`/api/lots/${lot.id}/status-labels.pdf`)
-      .buffer(true)
-      .parse((r, cb) => {
-        const chunks: Buffer[] = [];
-        r.on('data', (c: Buffer) => chunks.push(c));
-        r.on('end', () => cb(null, Buffer.concat(chunks)));
-      });
+    const res = await operator.agent.get(`/api/lots/${lot.id}/status-labels.pdf`).buffer(true).parse(binaryBody);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
     expect((res.body as Buffer).subarray(0, 5).toString()).toBe('%PDF-');
