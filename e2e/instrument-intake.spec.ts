@@ -8,33 +8,13 @@
  * noise, so every verdict is the engine's own. docs/instrument-intake.md.
  */
 import path from 'node:path';
-import { expect, test, type Browser, type Page } from '@playwright/test';
-import { DEMO_PASSWORD } from '../db/seeds/accounts';
+import { expect, test } from '@playwright/test';
 import { dataFile, FIBRES } from '../db/seeds/testing-library';
 import { simulateAcquisition } from '../fixtures/instrument-simulator';
+import { sign, signedIn } from './session';
 
 const NYLON = 'Nylon 6,6 staple fibre';
 const INSTRUMENT = 'ATR bench E2E-1';
-
-async function signedIn(browser: Browser, username: string): Promise<Page> {
-  const page = await (await browser.newContext()).newPage();
-  await page.goto('/sign-in');
-  await page.getByLabel('User name').fill(username);
-  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await page.getByRole('button', { name: 'Sign in' }).click();
-  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
-  return page;
-}
-
-async function sign(page: Page, username: string, confirm: string) {
-  const dialog = page.getByRole('dialog');
-  await expect(dialog).toBeVisible();
-  const user = dialog.getByLabel('User name');
-  if (await user.count()) await user.fill(username);
-  await dialog.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await dialog.getByRole('button', { name: confirm }).click();
-  await expect(dialog).toBeHidden({ timeout: 20_000 });
-}
 
 test('the simulator writes three files into the export folder, the bench shows them arriving, the test is signed performed', async ({
   browser,

@@ -9,9 +9,9 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { expect, test, type Browser, type Page } from '@playwright/test';
+import { expect, test } from '@playwright/test';
 import { repoRoot } from '../db/config';
-import { DEMO_PASSWORD } from '../db/seeds/accounts';
+import { sign, signedIn } from './session';
 
 const FILM = path.resolve(repoRoot, '../shared/reference-data/atr-ftir/polystyrene_film.csv');
 
@@ -28,26 +28,6 @@ function newFilmAcquisition(): Buffer {
     return `${x},${(Number(y) + 0.004 * u * u * u).toFixed(7)}`;
   });
   return Buffer.from([lines[0], ...rows].join('\n') + '\n');
-}
-
-async function signedIn(browser: Browser, username: string): Promise<Page> {
-  const page = await (await browser.newContext()).newPage();
-  await page.goto('/sign-in');
-  await page.getByLabel('User name').fill(username);
-  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await page.getByRole('button', { name: 'Sign in' }).click();
-  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
-  return page;
-}
-
-async function sign(page: Page, username: string, confirm: string) {
-  const dialog = page.getByRole('dialog');
-  await expect(dialog).toBeVisible();
-  const user = dialog.getByLabel('User name');
-  if (await user.count()) await user.fill(username);
-  await dialog.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await dialog.getByRole('button', { name: confirm }).click();
-  await expect(dialog).toBeHidden({ timeout: 20_000 });
 }
 
 test('a failed check opens its look-back at once; QA assesses it signed; out of service and back', async ({

@@ -9,9 +9,9 @@
  * other real scans of the same fibres, so every verdict below is the engine's own.
  * Demo accounts (db/seeds/accounts.ts): olga operator, victor verifier, quinn QA, adam admin.
  */
-import { expect, test, type Browser, type Page } from '@playwright/test';
-import { DEMO_PASSWORD } from '../db/seeds/accounts';
+import { expect, test, type Page } from '@playwright/test';
 import { distinctAcquisition } from '../db/seeds/testing-library';
+import { sign, signedIn } from './session';
 
 const NYLON = 'Nylon 6,6 staple fibre';
 const PET = 'Polyester (PET) staple fibre';
@@ -24,28 +24,6 @@ const INSTRUMENT = 'ATR bench E2E-1';
 function spectrum(file: string, asName: string) {
   const f = distinctAcquisition(`atr-ftir-fibres/${file}`, asName);
   return { name: asName, mimeType: 'text/csv', buffer: f.buffer };
-}
-
-async function signedIn(browser: Browser, username: string): Promise<Page> {
-  const context = await browser.newContext();
-  const page = await context.newPage();
-  await page.goto('/sign-in');
-  await page.getByLabel('User name').fill(username);
-  await page.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await page.getByRole('button', { name: 'Sign in' }).click();
-  await expect(page.getByRole('heading', { name: /^Work queue of/ })).toBeVisible();
-  return page;
-}
-
-/** Fills the signature dialog; the first signature of a session asks the user name too. */
-async function sign(page: Page, username: string, confirm: string) {
-  const dialog = page.getByRole('dialog');
-  await expect(dialog).toBeVisible();
-  const user = dialog.getByLabel('User name');
-  if (await user.count()) await user.fill(username);
-  await dialog.getByLabel('Password', { exact: true }).fill(DEMO_PASSWORD);
-  await dialog.getByRole('button', { name: confirm }).click();
-  await expect(dialog).toBeHidden({ timeout: 20_000 });
 }
 
 async function registerLot(
