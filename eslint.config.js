@@ -4,7 +4,7 @@
 //   - the client imports nothing from server/ except the contract files (server/**/contract.ts);
 //   - the engine (server/spectra) imports nothing of the application, only itself and packages;
 //   - a server module (server/modules/<a>) imports another module only through its index.ts (its
-//     public face) or its contract.ts.
+//     public face) or its contract.ts; so do scripts/ and db/ (tests and benchmarks may reach in).
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import js from '@eslint/js';
@@ -38,6 +38,14 @@ export function boundaryViolation(from, to) {
   const other = serverModule(to);
   if (own && other && own !== other && !new RegExp(`^server/modules/${other}(/index|/contract)?(\\.ts)?$`).test(to))
     return `a server module imports another module's internals (${own} -> ${to}); import its index (server/modules/${other}) or its contract.ts`;
+  // Application code outside server/ (scripts, the database set-up and demo seed) uses a module
+  // through its public face too; tests and benchmarks may reach a module's internals on purpose.
+  if (
+    /^(scripts|db)\//.test(from) &&
+    other &&
+    !new RegExp(`^server/modules/${other}(/index|/contract)?(\\.ts)?$`).test(to)
+  )
+    return `a script or seed imports a module's internals (${to}); import its index (server/modules/${other}) or its contract.ts`;
   if (from.startsWith('server/spectra/') && !to.startsWith('server/spectra/'))
     return `the engine imports application code (${to}); server/spectra uses nothing of ours`;
   return null;

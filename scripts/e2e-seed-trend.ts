@@ -8,7 +8,7 @@
 import { FIBRES, dataFile, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
 import { seedTrendHistory } from '../db/seeds/trend-history';
 import { closeDb, initDb } from '../server/lib/db';
-import { scanTrends } from '../server/modules/trending/service';
+import { scanTrends } from '../server/modules/trending';
 
 const database = process.env.DRUMLINE_E2E_DB ?? 'drumline_e2e';
 

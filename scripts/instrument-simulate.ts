@@ -14,7 +14,7 @@ import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { loadConfig } from '../server/lib/config';
 import { closeDb, initDb } from '../server/lib/db';
-import { resolveExportFolder } from '../server/modules/intake/service';
+import { resolveExportFolder } from '../server/modules/intake';
 import { intakeSettingOf } from '../server/lib/intake-records';
 import { simulateAcquisition } from '../fixtures/instrument-simulator';
 

@@ -17,11 +17,8 @@ import type { Knex } from 'knex';
 import { repoRoot } from '../config';
 import { sha256Hex } from '../../server/lib/canonical';
 import { contentHash } from '../../server/lib/esign';
-import { referenceSignedContent } from '../../server/modules/library/references';
-import { methodSignedContent } from '../../server/modules/library/service';
-import { pickBands } from '../../server/modules/library/engine';
-import { recordFingerprint } from '../../server/modules/provenance/copies';
-import { provenanceKeys } from '../../server/modules/provenance/keys';
+import { methodSignedContent, pickBands, referenceSignedContent } from '../../server/modules/library';
+import { provenanceKeys, recordFingerprint } from '../../server/modules/provenance';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,

@@ -26,11 +26,9 @@ import { sha256Hex } from '../../server/lib/canonical';
 import { appendAudit, type Actor } from '../../server/lib/audit';
 import { contentHash } from '../../server/lib/esign';
 import { issueCertificate } from '../../server/modules/certificates';
-import { recordFingerprint } from '../../server/modules/provenance/copies';
-import { provenanceKeys } from '../../server/modules/provenance/keys';
-import * as libraryRepo from '../../server/modules/library/repo';
-import { toEngineBands } from '../../server/modules/library/engine';
-import { loadContext, signedContent } from '../../server/modules/testing/context';
+import { provenanceKeys, recordFingerprint } from '../../server/modules/provenance';
+import { toEngineBands, toReference } from '../../server/modules/library';
+import { loadContext, signedContent } from '../../server/modules/testing';
 import { prepareReference, readSpectrum, scoreAgainst, type IdentityMethod } from '../../server/spectra';
 
 export interface HistoryPerson {
@@ -110,7 +108,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
           label: r.code,
           materialId: String(o.materialId),
           spectrum,
-          bands: toEngineBands(libraryRepo.toReference(r).bands),
+          bands: toEngineBands(toReference(r).bands),
         },
         method,
       ),

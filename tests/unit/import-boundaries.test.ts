@@ -55,6 +55,20 @@ describe('boundaryViolation', () => {
     expect(boundaryViolation('server/modules/testing/service.ts', 'server/modules/testing/repo')).toBeNull();
     expect(boundaryViolation('server/modules/testing/service.ts', 'server/lib/db')).toBeNull();
   });
+
+  it("reports a script or the seed importing a module's internals; tests and benchmarks may", () => {
+    expect(boundaryViolation('scripts/e2e-seed-trend.ts', 'server/modules/trending/service')).toMatch(
+      /a script or seed imports a module's internals \(server\/modules\/trending\/service\)/,
+    );
+    expect(boundaryViolation('db/seeds/trend-history.ts', 'server/modules/provenance/copies')).toMatch(
+      /a script or seed imports/,
+    );
+    expect(boundaryViolation('scripts/e2e-seed-trend.ts', 'server/modules/trending')).toBeNull();
+    expect(boundaryViolation('db/seeds/demo.ts', 'server/modules/lots/contract')).toBeNull();
+    expect(boundaryViolation('db/seeds/demo.ts', 'server/lib/audit')).toBeNull();
+    expect(boundaryViolation('tests/api/lots.test.ts', 'server/modules/lots/repo')).toBeNull();
+    expect(boundaryViolation('bench/provenance.ts', 'server/modules/provenance/copies')).toBeNull();
+  });
 });
 
 describe('the drumline/boundaries rule in ESLint', () => {

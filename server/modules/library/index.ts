@@ -19,5 +19,6 @@ export { assertIrSuitable, irSuitabilitySignedContent, overrideSignedContent } f
 export { getPinnedReferenceSet } from './approved-set';
 export { referenceSignedContent } from './references';
 export { toReference } from './repo';
+export { pickBands, toEngineBands } from './engine';
 export { methodSignedContent } from './service';
 export { libraryRoutes } from './routes';

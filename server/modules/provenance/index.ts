@@ -1,5 +1,6 @@
 /** What other modules use of raw-file provenance: fingerprints, copy detection, blocks and hand-overs. */
 export { copyRefusal, findCopy, lockAndRecheck, recordFingerprint } from './copies';
+export { provenanceKeys } from './keys';
 export {
   assertHolder,
   blockedRefusal,
