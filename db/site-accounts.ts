@@ -7,6 +7,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../server/lib/audit';
 import { canonicalRoles, roleCombinationProblem, type Role } from '../server/lib/contract';
+import { insertRoleGrant } from '../server/lib/grant-seal';
 
 export interface SiteAccount {
   username: string;
@@ -65,7 +66,7 @@ export async function createSiteAccounts(
         created_at: now,
         updated_at: now,
       });
-      const [grantId] = await trx('role_grant').insert({
+      const grantId = await insertRoleGrant(trx, {
         user_id: id,
         roles,
         kind: 'site-setup',

@@ -32,6 +32,7 @@ import * as m160 from './160_instrument_lifecycle';
 import * as m161 from './161_check_lookback';
 import * as m145 from './145_retest';
 import * as m163 from './163_folder_intake';
+import * as m170 from './170_role_grant_seal';
 
 interface Migration {
   up(knex: Knex): Promise<void>;
@@ -67,6 +68,7 @@ export const migrations: [string, Migration][] = [
   ['161_check_lookback', m161],
   ['145_retest', m145],
   ['163_folder_intake', m163],
+  ['170_role_grant_seal', m170],
 ];
 
 export const migrationSource: Knex.MigrationSource<[string, Migration]> = {

@@ -2,6 +2,7 @@
 import type { RequestHandler } from 'express';
 import { getDb, parseJson } from './db';
 import { SESSION_COOKIE, validateSession } from './sessions';
+import { grantStanding } from './grant-seal';
 import type { AuthUser } from './http';
 import type { AppConfig } from './config';
 import type { Role } from './contract';
@@ -19,12 +20,17 @@ export function sessionMiddleware(config: AppConfig): RequestHandler {
       }
       const u = await db('app_user').where({ id: s.user_id }).first();
       if (!u || !u.active) return next();
+      // Roles only from a grant Drumline wrote: sealed and linked to the one before, and the same
+      // roles as the account row (server/lib/grant-seal.ts); otherwise the account acts with no role
+      // and the integrity sweep raises the alert.
+      const standing = await grantStanding(db, u.id);
+      const roles = standing.ok && standing.roles === u.roles ? parseJson<Role[]>(u.roles, []) : [];
       const user: AuthUser = {
         id: u.id,
         username: u.username,
         fullName: u.full_name,
         email: u.email,
-        roles: parseJson<Role[]>(u.roles, []),
+        roles,
         mustChangePassword: !!u.must_change_password,
         sessionId: s.id,
         signedOnce: !!s.signed_once,

@@ -1489,6 +1489,8 @@ export interface RoleGrantRow {
   decision_id: number | null;
   granted_at: Date;
   reason: string;
+  previous_grant_id: number | null;
+  seal: string;
 }
 
 export interface RoleGrantInsert {
@@ -1501,6 +1503,8 @@ export interface RoleGrantInsert {
   decision_id?: number | null;
   granted_at: Date;
   reason: string;
+  previous_grant_id?: number | null;
+  seal: string;
 }
 
 export interface RoleRequestRow {

@@ -24,6 +24,7 @@ import type { AuthUser } from '../../lib/http';
 import { acquireLease, startJob, type RunningJob } from '../../lib/lease';
 import { enqueueMailToRole } from '../../lib/mail';
 import { transactionWithRetry } from '../../lib/retry';
+import { grantStanding } from '../../lib/grant-seal';
 import { pageLink } from '../../lib/links';
 import {
   ALERT_KIND_LABELS,
@@ -576,10 +577,26 @@ export async function runSweep(db: Knex, runId: number, leaseMs = 120_000): Prom
       }
       await progress();
     }
-    // accounts: roles against the latest role grant
+    // accounts: roles against the latest role grant, which must be sealed and linked (server/lib/grant-seal.ts)
     for (const u of await db('app_user').select('id', 'username', 'roles')) {
-      const g = await db('role_grant').where({ user_id: u.id }).orderBy('id', 'desc').first('roles');
-      const expected = g?.roles ?? '[]';
+      const standing = await grantStanding(db, u.id);
+      if (!standing.ok) {
+        counts.mismatches++;
+        await raiseAlert(
+          db,
+          {
+            kind: 'role-grant',
+            subjectType: 'app_user',
+            subjectId: String(u.id),
+            expected: `role grant ${standing.grantId} sealed by Drumline and following the account's previous grant`,
+            found: standing.why,
+            summary: `The latest role grant of account ${u.username} was not written by Drumline: the account holds no role until an administrator grants its roles again.`,
+            records: [await describeRecord(db, 'user', String(u.id))],
+          },
+          by,
+        );
+      }
+      const expected = standing.roles;
       if (expected !== u.roles) {
         counts.mismatches++;
         await raiseAlert(

@@ -2,6 +2,7 @@
  * Role grants and the two-person rule (docs/access.md, "Roles and who grants them"). An account's
  * roles are the roles of its latest row in the append-only table role_grant; app_user.roles is
  * kept equal to it (a database trigger refuses anything else, db/migrations/051_role_grants.ts).
+ * Each grant is sealed and linked to the one before (server/lib/grant-seal.ts, `insertRoleGrant`).
  * - Removing roles, and adding operator or auditor, is one administrator's change ('administrator').
  * - Adding QA manager, verifier or administrator is a request that a second administrator
  *   confirms with an e-signature ('two-person'); the requester may withdraw it, another
@@ -26,6 +27,7 @@ import {
   type SignatureInput,
 } from '../../lib/contract';
 import { invalidateUserSessions } from '../../lib/sessions';
+import { insertRoleGrant } from '../../lib/grant-seal';
 import { pageLink } from '../../lib/links';
 import type { RoleChangeWaiting } from './contract';
 import * as repo from './repo';
@@ -61,7 +63,7 @@ async function grantDirect(
 ): Promise<number> {
   const before = repo.toPublicUser(user);
   const json = JSON.stringify(canonicalRoles(roles));
-  const [grantId] = await trx('role_grant').insert({
+  const grantId = await insertRoleGrant(trx, {
     user_id: user.id,
     roles: json,
     kind: 'administrator',
@@ -279,7 +281,7 @@ export async function confirmRoleChange(
       reason: null,
       signature_id: sig.id,
     });
-    const [grantId] = await trx('role_grant').insert({
+    const grantId = await insertRoleGrant(trx, {
       user_id: r.user_id,
       roles: r.roles_after,
       kind: 'two-person',
