@@ -86,7 +86,7 @@ beforeAll(async () => {
   );
   lotId = lot.id;
   lotNumber = lot.lotNumber;
-  expect((await db()('lot').where({ id: lotId }).first()).certificate_id).not.toBeNull();
+  expect((await db()('lot').where({ id: lotId }).first())!.certificate_id).not.toBeNull();
 }, 120_000);
 
 afterAll(async () => {
@@ -191,8 +191,8 @@ describe('lot archive', () => {
       measurements: rebuiltMeasurements,
       certificate: { number: cert.number, sha256: cert.sha256 },
     };
-    const lot = await db()('lot').where({ id: lotId }).first();
-    const dbCert = await db()('certificate').where({ id: lot.certificate_id }).first();
+    const lot = (await db()('lot').where({ id: lotId }).first())!;
+    const dbCert = (await db()('certificate').where({ id: lot.certificate_id! }).first())!;
     const dbMeasurements = await db()('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .join('stored_file as f', 'f.id', 'm.file_id')
@@ -219,7 +219,7 @@ describe('lot archive', () => {
     // 6. The export itself is on the record.
     const exported = await db()('audit_event').where({ action: 'lot.archive-exported', entity_id: String(lotId) });
     expect(exported).toHaveLength(1);
-    expect(JSON.parse(exported[0].after_json).manifestSha256).toBe(sha(file('manifest.json')));
+    expect(JSON.parse(exported[0].after_json!).manifestSha256).toBe(sha(file('manifest.json')));
   }, 60_000);
 });
 
@@ -235,12 +235,12 @@ describe('JCAMP-DX downloads', () => {
     const text = res.text;
     expect(text).toContain('##JCAMP-DX=4.24');
     expect(text).toContain(`##$DRUMLINE MEASUREMENT ID=${m.id}`);
-    const raw = (await db()('stored_file').where({ id: m.file_id }).first()).data as Buffer;
+    const raw = (await db()('stored_file').where({ id: m.file_id }).first())!.data;
     expect(text).toContain(`##$DRUMLINE RAW FILE SHA256=${sha(raw)}`);
     expect(readSpectrum(text, 'x.jdx').x.length).toBe(readSpectrum(raw, 'raw.csv').x.length);
     expect(convert(text).flatten[0].spectra[0].data.y.length).toBe(readSpectrum(raw, 'raw.csv').x.length);
 
-    const refId = (await db()('reference_spectrum').orderBy('id', 'desc').first('id')).id;
+    const refId = (await db()('reference_spectrum').orderBy('id', 'desc').first('id'))!.id;
     expect((await olga.agent.get(`/api/references/${refId}/jcamp`)).status).toBe(403);
     expect((await victor.agent.get(`/api/references/${refId}/jcamp`)).status).toBe(200);
     expect((await olga.agent.get('/api/measurements/999999999/jcamp')).status).toBe(404);

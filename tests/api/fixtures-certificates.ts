@@ -234,7 +234,8 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     'identity_method',
     methodId,
     at(2),
-    methodSignedContent(await db('identity_method').where({ id: methodId }).first()),
+    // inserted above as approved; the status column is a plain string in the table type
+    methodSignedContent({ ...(await db('identity_method').where({ id: methodId }).first())!, status: 'approved' }),
   );
   await db('identity_method')
     .where({ id: methodId })
