@@ -19,6 +19,7 @@ import { verifyPdfSignature } from '../../server/lib/signing';
 import { trustedTsaRoots } from '../../server/modules/certificates/config';
 import { readSpectrum } from '../../server/spectra';
 import type { ArchiveManifest, LotFacts } from '../../server/modules/archive/contract';
+import type { ContainerRow, MeasurementRow, StoredFileRow } from '../../server/lib/db-tables';
 import { db, sig } from './helpers';
 import {
   agent,
@@ -199,7 +200,11 @@ describe('lot archive', () => {
       .join('container as c', 'c.id', 'm.container_id')
       .where('t.lot_id', lotId)
       .orderBy('m.id')
-      .select('m.id', 'c.label', 'm.verdict', 'm.match_score', 'f.sha256');
+      .select<
+        (Pick<MeasurementRow, 'id' | 'verdict' | 'match_score'> &
+          Pick<ContainerRow, 'label'> &
+          Pick<StoredFileRow, 'sha256'>)[]
+      >('m.id', 'c.label', 'm.verdict', 'm.match_score', 'f.sha256');
     expect(rebuilt).toEqual({
       lotNumber: lot.lot_number,
       measurements: dbMeasurements.map((m) => ({
@@ -225,10 +230,10 @@ describe('lot archive', () => {
 
 describe('JCAMP-DX downloads', () => {
   it('a measurement downloads as JCAMP-DX that both readers read; an operator may not download a reference copy', async () => {
-    const m = await db()('measurement as m')
+    const m = (await db()('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .where('t.lot_id', lotId)
-      .first('m.id', 'm.file_id');
+      .first<Pick<MeasurementRow, 'id' | 'file_id'> | undefined>('m.id', 'm.file_id'))!;
     const res = await olga.agent.get(`/api/measurements/${m.id}/jcamp`);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toMatch(/^chemical\/x-jcamp-dx/);

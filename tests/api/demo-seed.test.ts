@@ -19,6 +19,7 @@ import { verifyChain } from '../../server/lib/audit';
 import { closeDb, initDb } from '../../server/lib/db';
 import { specificityMatrixFor } from '../../server/modules/library/specificity';
 import type { Knex } from 'knex';
+import type { LotRow, MeasurementRow, RoleRequestRow, SourceStatusRow } from '../../server/lib/db-tables';
 
 const DEMO_DB = `drumline_demo_test_${process.pid}`;
 let db: Knex;
@@ -69,14 +70,15 @@ afterAll(async () => {
   if (!process.env.KEEP_TEST_DB) await dropDatabase(DEMO_DB);
 });
 
-async function lotOf(key: string) {
+/** The seeded lot of a catalogue entry (the seed writes every one). */
+async function lotOf(key: string): Promise<LotRow> {
   const l = DEMO_LOTS.find((x) => x.key === key)!;
   const m = materialByKey(l.material);
-  return db('lot as l')
+  return (await db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where({ 'm.code': m.code, 'l.supplier_lot': l.supplierLot })
-    .select('l.*')
-    .first();
+    .select<LotRow[]>('l.*')
+    .first())!;
 }
 
 describe('demo seed', () => {
@@ -297,7 +299,11 @@ describe('demo seed', () => {
   it('has suppliers in each status, a reduced-plan lot with its justification, lots awaiting disposition, a released and a rejected lot, a machine account and a webhook', async () => {
     const statuses = await db('source_status as s')
       .whereRaw('s.id = (SELECT MAX(x.id) FROM source_status x WHERE x.source_id = s.source_id)')
-      .select('s.status', 's.sampling_plan', 's.sampling_justification');
+      .select<Pick<SourceStatusRow, 'status' | 'sampling_plan' | 'sampling_justification'>[]>(
+        's.status',
+        's.sampling_plan',
+        's.sampling_justification',
+      );
     expect(new Set(statuses.map((x) => x.status))).toEqual(new Set(['new', 'qualified', 'conditional', 'blocked']));
     const reducedSource = statuses.find((x) => x.sampling_plan === 'sqrt-n-plus-1');
     expect(reducedSource?.sampling_justification).toMatch(/Validated reduced sampling/);
@@ -312,7 +318,7 @@ describe('demo seed', () => {
     const tested = await db('identity_test as t')
       .join('lot as l', 'l.id', 't.lot_id')
       .whereNotNull('l.sampling_plan')
-      .distinct('t.lot_id as lot_id');
+      .distinct<{ lot_id: number }[]>('t.lot_id as lot_id');
     for (const t of tested)
       expect(await db('sampling_record').where({ lot_id: t.lot_id }).first(), `lot ${t.lot_id}`).toBeTruthy();
     expect(await db('lot').where({ status: 'released' }).whereNotNull('retest_date')).toHaveLength(1);
@@ -327,10 +333,10 @@ describe('demo seed', () => {
     expect(lots).toHaveLength(40);
     expect(lots.every((l) => /Synthetic trend history/.test(l.notes ?? ''))).toBe(true);
     // past times, weeks before the seed ran (set by the seed only)
-    const first = await db('measurement as m')
+    const first = (await db('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .where('t.lot_id', lots[0].id)
-      .first('m.created_at');
+      .first<Pick<MeasurementRow, 'created_at'> | undefined>('m.created_at'))!;
     expect(Date.now() - new Date(first.created_at).getTime()).toBeGreaterThan(40 * 86_400_000);
     const written = await db('audit_event').where({ action: 'demo.synthetic-history-written' });
     expect(written).toHaveLength(40);
@@ -374,7 +380,7 @@ describe('demo seed', () => {
       .leftJoin('role_decision as d', 'd.request_id', 'r.id')
       .where('r.user_id', olga.id)
       .whereNull('d.id')
-      .first('r.*');
+      .first<RoleRequestRow | undefined>('r.*');
     expect(req).toMatchObject({ requested_by: adam.id, roles_after: JSON.stringify(ROLE_REQUEST.roles) });
     expect(JSON.parse(olga.roles)).toEqual(['operator']);
     // the demo accounts came through the site-setup path, audited as such
