@@ -36,6 +36,7 @@ import {
 } from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
 import { contentHash } from '../../server/lib/esign';
+import type { StoredFileRow } from '../../server/lib/db-tables';
 import { methodSignedContent } from '../../server/modules/library/service';
 import { irSuitabilitySignedContent, overrideSignedContent } from '../../server/modules/library/method-control';
 
@@ -252,7 +253,7 @@ beforeAll(async () => {
  * the integrity sweep of later files finds them intact): an override of the gate requested by one QA
  * manager and confirmed by another, the approval record it belongs to, an IR decision, an attempt pin.
  */
-async function methodControlRows(file: { id: number; sha256: string }) {
+async function methodControlRows(file: Pick<StoredFileRow, 'id' | 'sha256'>) {
   const [u1, u2] = [await makeUser(['qa_manager']), await makeUser(['qa_manager'])];
   const mId = material.methodId;
   const sign = async (user: { id: number; fullName: string }, meaning: string, type: string, id: number, c: unknown) =>

@@ -33,6 +33,7 @@ import { methodSignedContent } from '../../server/modules/library/service';
 import { loadContext, signedContent } from '../../server/modules/testing/context';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/contract';
+import type { StoredFileRow } from '../../server/lib/db-tables';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,
@@ -154,7 +155,7 @@ async function storeFile(
   mediaType: string,
   by: number,
   at: Date,
-): Promise<{ id: number; sha256: string }> {
+): Promise<Pick<StoredFileRow, 'id' | 'sha256'>> {
   const sha = sha256Hex(data);
   const [id] = await db('stored_file').insert({
     sha256: sha,
