@@ -19,6 +19,7 @@ import { verifyPdfSignature } from '../../server/lib/signing';
 import { trustedTsaRoots } from '../../server/modules/certificates/config';
 import { readSpectrum } from '../../server/spectra';
 import type { ArchiveManifest, LotFacts } from '../../server/modules/archive/contract';
+import type { ContainerRow, MeasurementRow, StoredFileRow } from '../../server/lib/db-tables';
 import { db, sig } from './helpers';
 import {
   agent,
@@ -86,7 +87,7 @@ beforeAll(async () => {
   );
   lotId = lot.id;
   lotNumber = lot.lotNumber;
-  expect((await db()('lot').where({ id: lotId }).first()).certificate_id).not.toBeNull();
+  expect((await db()('lot').where({ id: lotId }).first())!.certificate_id).not.toBeNull();
 }, 120_000);
 
 afterAll(async () => {
@@ -191,15 +192,19 @@ describe('lot archive', () => {
       measurements: rebuiltMeasurements,
       certificate: { number: cert.number, sha256: cert.sha256 },
     };
-    const lot = await db()('lot').where({ id: lotId }).first();
-    const dbCert = await db()('certificate').where({ id: lot.certificate_id }).first();
+    const lot = (await db()('lot').where({ id: lotId }).first())!;
+    const dbCert = (await db()('certificate').where({ id: lot.certificate_id! }).first())!;
     const dbMeasurements = await db()('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .join('stored_file as f', 'f.id', 'm.file_id')
       .join('container as c', 'c.id', 'm.container_id')
       .where('t.lot_id', lotId)
       .orderBy('m.id')
-      .select('m.id', 'c.label', 'm.verdict', 'm.match_score', 'f.sha256');
+      .select<
+        (Pick<MeasurementRow, 'id' | 'verdict' | 'match_score'> &
+          Pick<ContainerRow, 'label'> &
+          Pick<StoredFileRow, 'sha256'>)[]
+      >('m.id', 'c.label', 'm.verdict', 'm.match_score', 'f.sha256');
     expect(rebuilt).toEqual({
       lotNumber: lot.lot_number,
       measurements: dbMeasurements.map((m) => ({
@@ -219,28 +224,28 @@ describe('lot archive', () => {
     // 6. The export itself is on the record.
     const exported = await db()('audit_event').where({ action: 'lot.archive-exported', entity_id: String(lotId) });
     expect(exported).toHaveLength(1);
-    expect(JSON.parse(exported[0].after_json).manifestSha256).toBe(sha(file('manifest.json')));
+    expect(JSON.parse(exported[0].after_json!).manifestSha256).toBe(sha(file('manifest.json')));
   }, 60_000);
 });
 
 describe('JCAMP-DX downloads', () => {
   it('a measurement downloads as JCAMP-DX that both readers read; an operator may not download a reference copy', async () => {
-    const m = await db()('measurement as m')
+    const m = (await db()('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .where('t.lot_id', lotId)
-      .first('m.id', 'm.file_id');
+      .first<Pick<MeasurementRow, 'id' | 'file_id'> | undefined>('m.id', 'm.file_id'))!;
     const res = await olga.agent.get(`/api/measurements/${m.id}/jcamp`);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toMatch(/^chemical\/x-jcamp-dx/);
     const text = res.text;
     expect(text).toContain('##JCAMP-DX=4.24');
     expect(text).toContain(`##$DRUMLINE MEASUREMENT ID=${m.id}`);
-    const raw = (await db()('stored_file').where({ id: m.file_id }).first()).data as Buffer;
+    const raw = (await db()('stored_file').where({ id: m.file_id }).first())!.data;
     expect(text).toContain(`##$DRUMLINE RAW FILE SHA256=${sha(raw)}`);
     expect(readSpectrum(text, 'x.jdx').x.length).toBe(readSpectrum(raw, 'raw.csv').x.length);
     expect(convert(text).flatten[0].spectra[0].data.y.length).toBe(readSpectrum(raw, 'raw.csv').x.length);
 
-    const refId = (await db()('reference_spectrum').orderBy('id', 'desc').first('id')).id;
+    const refId = (await db()('reference_spectrum').orderBy('id', 'desc').first('id'))!.id;
     expect((await olga.agent.get(`/api/references/${refId}/jcamp`)).status).toBe(403);
     expect((await victor.agent.get(`/api/references/${refId}/jcamp`)).status).toBe(200);
     expect((await olga.agent.get('/api/measurements/999999999/jcamp')).status).toBe(404);

@@ -22,7 +22,7 @@ import { loadConfig } from '../../server/lib/config';
 import { fakeTsaFiles } from '../../server/lib/signing';
 import { anchorTick, checkChain, checkpointDir, fullCheck, writeCheckpoint } from '../../server/modules/audit/anchor';
 import { privateEntityType, seedEvents } from './fixtures-audit';
-import { agentFor, db, ownerDb } from './helpers';
+import { agentFor, db, ownerDb, untyped } from './helpers';
 
 const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-checkpoints-'));
 process.env.AUDIT_CHECKPOINT_DIR = dir; // the app under test (helpers' testApp) reads it at creation
@@ -44,18 +44,16 @@ async function rewriteAndRecompute(
   check: () => Promise<void>,
 ): Promise<void> {
   const original: AuditRow[] = await owner('audit_event').where('id', '>=', from).orderBy('id');
-  const head = await owner('audit_head').where({ id: 1 }).first();
+  const head = (await owner('audit_head').where({ id: 1 }).first())!;
   await owner.raw('DROP TRIGGER audit_event_no_update');
   try {
-    let prev = (
-      await owner('audit_event')
-        .where({ id: from - 1 })
-        .first()
-    ).hash as string;
+    let prev = (await owner('audit_event')
+      .where({ id: from - 1 })
+      .first())!.hash;
     for (const r of original) {
       const { hash: _h, ...content } = { ...r, ...(Number(r.id) === from ? change : {}), prev_hash: prev };
       const hash = rowHash(content, key);
-      await owner('audit_event')
+      await untyped(owner, 'audit_event')
         .where({ id: r.id })
         .update({ ...content, hash });
       prev = hash;
@@ -65,7 +63,7 @@ async function rewriteAndRecompute(
   } finally {
     for (const r of original) {
       const { id, ...rest } = r;
-      await owner('audit_event').where({ id }).update(rest);
+      await untyped(owner, 'audit_event').where({ id }).update(rest);
     }
     await owner('audit_head').where({ id: 1 }).update({ last_hash: head.last_hash });
     await owner.raw(TRIGGER);
@@ -91,16 +89,16 @@ afterAll(async () => {
 
 describe('the keyed chain', () => {
   it('starts at a stated, recorded event; from there every hash is an HMAC-SHA-256 with the key held outside the database', async () => {
-    const head = await db()('audit_head').where({ id: 1 }).first();
+    const head = (await db()('audit_head').where({ id: 1 }).first())!;
     const starts = await db()('audit_chain_key');
     expect(starts).toHaveLength(1);
     expect(Number(starts[0].first_event_id)).toBe(Number(head.keyed_from));
     expect(starts[0].key_id).toBe(auditKey().keyId);
-    const first = await db()('audit_event').where({ id: head.keyed_from }).first();
+    const first = (await db()('audit_event').where({ id: head.keyed_from! }).first())!;
     expect(first.action).toBe('audit.chain-keyed');
-    expect(JSON.parse(first.after_json)).toMatchObject({ firstKeyedEvent: Number(head.keyed_from) });
+    expect(JSON.parse(first.after_json!)).toMatchObject({ firstKeyedEvent: Number(head.keyed_from) });
     // RFC 2104 HMAC with node:crypto over the same canonical content: the stored hash
-    const r: AuditRow = await db()('audit_event').where({ id: ids[2] }).first();
+    const r: AuditRow = (await db()('audit_event').where({ id: ids[2] }).first())!;
     const { hash, ...content } = r;
     const canonical = canonicalJson({
       ...content,
@@ -116,7 +114,7 @@ describe('the keyed chain', () => {
   });
 
   it('the runtime account cannot move or remove the recorded start', async () => {
-    await expect(db()('audit_chain_key').update({ first_event_id: 999999 })).rejects.toMatchObject({
+    await expect(untyped(db(), 'audit_chain_key').update({ first_event_id: 999999 })).rejects.toMatchObject({
       code: 'ER_TABLEACCESS_DENIED_ERROR',
     });
     await expect(owner('audit_chain_key').del()).rejects.toMatchObject({ sqlState: '45000' });
@@ -134,18 +132,18 @@ describe('signed, time-stamped checkpoints', () => {
 
   it('are written to the configured folder with count, head hash, time, signature and time-stamp; recorded, audited and mailed to QA', async () => {
     const doc = JSON.parse(fs.readFileSync(file, 'utf8'));
-    const head = await db()('audit_head').where({ id: 1 }).first();
+    const head = (await db()('audit_head').where({ id: 1 }).first())!;
     // the checkpoint's own audit event came after it
     expect(doc.payload.eventCount).toBe(Number(head.last_id) - 1);
-    const ev = await db()('audit_event').where({ id: doc.payload.eventCount }).first();
+    const ev = (await db()('audit_event').where({ id: doc.payload.eventCount }).first())!;
     expect(doc.payload.headHash).toBe(ev.hash);
     expect(doc.payload.keyedFrom).toBe(Number(head.keyed_from));
-    const row = await db()('audit_checkpoint').orderBy('id', 'desc').first();
+    const row = (await db()('audit_checkpoint').orderBy('id', 'desc').first())!;
     expect(row.file_name).toBe(path.basename(file));
     expect(row.time_stamped_at).not.toBeNull();
-    const last = await db()('audit_event').where({ id: head.last_id }).first();
+    const last = (await db()('audit_event').where({ id: head.last_id }).first())!;
     expect(last.action).toBe('audit.checkpoint-written');
-    const mail = await db()('mail_outbox').orderBy('id', 'desc').first();
+    const mail = (await db()('mail_outbox').orderBy('id', 'desc').first())!;
     expect(mail.subject).toMatch(/Audit trail checkpoint/);
     expect(mail.body).toContain(doc.payload.headHash);
   });
@@ -223,10 +221,10 @@ describe('the full check runs in the background with progress', () => {
 
   it('finds an altered event behind the latest checkpoint, which the incremental check does not re-hash', async () => {
     await writeCheckpoint(db(), cfg, { force: true });
-    const original: AuditRow = await owner('audit_event').where({ id: ids[1] }).first();
+    const original: AuditRow = (await owner('audit_event').where({ id: ids[1] }).first())!;
     await owner.raw('DROP TRIGGER audit_event_no_update');
     try {
-      await owner('audit_event').where({ id: ids[1] }).update({ reason: 'changed, hash left as it was' });
+      await untyped(owner, 'audit_event').where({ id: ids[1] }).update({ reason: 'changed, hash left as it was' });
       // (the job's own audit events are left out here; the route and the job were tried above)
       const inc = await checkChain(db(), cfg);
       expect(inc).toMatchObject({ ok: true, mode: 'incremental' }); // starts after the latest checkpoint
@@ -235,7 +233,7 @@ describe('the full check runs in the background with progress', () => {
       expect(full).toMatchObject({ ok: false, brokenAt: ids[1], problem: 'content does not match its hash (altered)' });
     } finally {
       const { id, ...rest } = original;
-      await owner('audit_event').where({ id }).update(rest);
+      await untyped(owner, 'audit_event').where({ id }).update(rest);
       await owner.raw(TRIGGER);
     }
     expect((await fullCheck(db(), cfg)).ok).toBe(true);

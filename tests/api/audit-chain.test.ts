@@ -7,7 +7,7 @@
  * is undone in `finally`, because the other test files share this database.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, ownerDb } from './helpers';
+import { agentFor, db, ownerDb, untyped } from './helpers';
 import { privateEntityType, seedEvents } from './fixtures-audit';
 import { rowHash, verifyChain, type AuditRow } from '../../server/lib/audit';
 import { auditKey } from '../../server/lib/audit-key';
@@ -36,12 +36,12 @@ async function withoutTrigger(kind: 'update' | 'delete', fn: () => Promise<unkno
 }
 
 async function row(id: number): Promise<AuditRow> {
-  return owner('audit_event').where({ id }).first();
+  return (await owner('audit_event').where({ id }).first())!;
 }
 
 async function restore(original: AuditRow): Promise<void> {
   const { id, ...rest } = original;
-  await withoutTrigger('update', () => owner('audit_event').where({ id }).update(rest));
+  await withoutTrigger('update', () => untyped(owner, 'audit_event').where({ id }).update(rest));
 }
 
 beforeAll(async () => {
@@ -69,7 +69,7 @@ describe('chain check from the UI', () => {
   it('reports intact with the number of events and the last hash', async () => {
     const res = await auditor.get('/api/audit/verify');
     expect(res.status).toBe(200);
-    const head = await db()('audit_head').where({ id: 1 }).first();
+    const head = (await db()('audit_head').where({ id: 1 }).first())!;
     expect(res.body).toMatchObject({
       ok: true,
       events: Number(head.last_id),
@@ -84,8 +84,8 @@ describe('chain check from the UI', () => {
     const b = await row(ids[3]);
     try {
       await withoutTrigger('update', async () => {
-        await owner('audit_event').where({ id: ids[3] }).update({ reason: 'changed later' });
-        await owner('audit_event').where({ id: ids[1] }).update({ after_json: '{"i":99}' });
+        await untyped(owner, 'audit_event').where({ id: ids[3] }).update({ reason: 'changed later' });
+        await untyped(owner, 'audit_event').where({ id: ids[1] }).update({ after_json: '{"i":99}' });
       });
       const res = await auditor.get('/api/audit/verify');
       expect(res.body).toMatchObject({
@@ -109,7 +109,7 @@ describe('chain check from the UI', () => {
     try {
       const { hash: _old, ...content } = { ...a, reason: 'quietly rewritten' };
       await withoutTrigger('update', () =>
-        owner('audit_event')
+        untyped(owner, 'audit_event')
           .where({ id: ids[2] })
           .update({ reason: content.reason, hash: rowHash(content) }),
       );
@@ -130,7 +130,7 @@ describe('chain check from the UI', () => {
       const forged = { ...a, reason: 'quietly rewritten' };
       const { hash: _old, ...content } = forged;
       await withoutTrigger('update', () =>
-        owner('audit_event')
+        untyped(owner, 'audit_event')
           .where({ id: ids[2] })
           .update({ reason: forged.reason, hash: rowHash(content, auditKey().key) }),
       );
@@ -161,7 +161,7 @@ describe('chain check from the UI', () => {
   it('a removed LAST event is caught by the head record', async () => {
     // Append one more event so that it is the last, then remove it behind the app's back.
     await seedEvents(1, () => ({ actor: { id: null, name: 'chain test' }, action: 'test.chain-last', entityType: T }));
-    const last = await owner('audit_event').orderBy('id', 'desc').first();
+    const last = (await owner('audit_event').orderBy('id', 'desc').first())!;
     try {
       await withoutTrigger('delete', () => owner('audit_event').where({ id: last.id }).delete());
       const res = await auditor.get('/api/audit/verify');
@@ -173,7 +173,7 @@ describe('chain check from the UI', () => {
     expect((await auditor.get('/api/audit/verify')).body.ok).toBe(true);
   });
   it('an event inserted beyond the head, around the audit service, is reported', async () => {
-    const head = await owner('audit_head').where({ id: 1 }).first();
+    const head = (await owner('audit_head').where({ id: 1 }).first())!;
     const last = await row(Number(head.last_id));
     const { id: _id, ...rest } = last;
     const fake = Number(head.last_id) + 1;

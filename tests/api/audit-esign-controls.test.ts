@@ -9,7 +9,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
-import { agentFor, db, ownerDb, testApp } from './helpers';
+import { agentFor, db, ownerDb, testApp, untyped } from './helpers';
 import { approvableMaterial } from './fixtures-library';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
@@ -53,9 +53,9 @@ describe('two components at the first signing of a session, the password after (
       password: signer.user.password,
     });
     expect(ok.status).toBe(200);
-    const s = await db()('e_signature')
+    const s = (await db()('e_signature')
       .where({ entity_type: 'identity_method', entity_id: String(m1.draftMethodId) })
-      .first();
+      .first())!;
     // 11.50: printed name, meaning, date and time (UTC, server clock)
     expect(s).toMatchObject({ user_id: signer.user.id, printed_name: signer.user.fullName, meaning: 'approved' });
     expect(Math.abs(new Date(s.signed_at).getTime() - before)).toBeLessThan(10_000);
@@ -102,9 +102,9 @@ describe('signatures stay with their record (21 CFR 11.50, 11.70; Annex 11 §14)
       (await approve(signer.agent, m.draftMethodId, { username: signer.user.username, password: signer.user.password }))
         .status,
     ).toBe(200);
-    const s = await db()('e_signature')
+    const s = (await db()('e_signature')
       .where({ entity_type: 'identity_method', entity_id: String(m.draftMethodId) })
-      .first();
+      .first())!;
 
     const { agent: auditor } = await agentFor(['auditor']);
     const h = await auditor.get(`/api/history/identity_method/${m.draftMethodId}`);
@@ -122,13 +122,13 @@ describe('signatures stay with their record (21 CFR 11.50, 11.70; Annex 11 §14)
     );
 
     // moving the signature to another record: the runtime account lacks the privilege, the owner meets the trigger
-    await expect(db()('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
+    await expect(untyped(db(), 'e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
       errno: 1142,
     });
-    await expect(owner('e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
+    await expect(untyped(owner, 'e_signature').where({ id: s.id }).update({ entity_id: '1' })).rejects.toMatchObject({
       errno: 1644,
     });
     await expect(owner('e_signature').where({ id: s.id }).delete()).rejects.toMatchObject({ errno: 1644 });
-    expect((await db()('e_signature').where({ id: s.id }).first()).entity_id).toBe(String(m.draftMethodId));
+    expect((await db()('e_signature').where({ id: s.id }).first())!.entity_id).toBe(String(m.draftMethodId));
   });
 });

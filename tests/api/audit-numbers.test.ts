@@ -40,7 +40,7 @@ beforeAll(async () => {
     actor: { id: null, name: 'Drumline (system)' },
   });
   certId = meta.id;
-  certNumber = (await db()('certificate').where({ id: certId }).first()).number;
+  certNumber = (await db()('certificate').where({ id: certId }).first())!.number;
   // An event that names people and records by id inside its values, as test.performed does.
   performedEventId = await auditNow(db(), {
     actor: { id: lot.operator.id, name: lot.operator.fullName },
@@ -90,7 +90,7 @@ describe('audit views name records by number', () => {
     const issued = res.body.events.find((e: { action: string }) => e.action === 'certificate.issued');
     expect(issued.recordNumber).toBe(certNumber);
     expect(issued.changes.find((c: { path: string }) => c.path === 'lotId').afterName).toBe(lot.lotNumber);
-    const ref = await db()('reference_spectrum').where({ code: lot.referenceCode }).first();
+    const ref = (await db()('reference_spectrum').where({ code: lot.referenceCode }).first())!;
     const h = await auditor.get(`/api/history/reference_spectrum/${ref.id}`);
     expect(h.body.recordNumber).toBe(lot.referenceCode);
     const user = await auditor.get(`/api/history/user/${lot.operator.id}`);
@@ -159,7 +159,7 @@ describe('exports keep the stored ids and add the business numbers beside them',
 describe('certificate checks', () => {
   it('a tampered certificate is recorded as a failed verification, not as certificate.verified', async () => {
     const { agent, user } = await agentFor(['auditor']);
-    const pdf = (await db()('certificate').where({ id: certId }).select('pdf').first()).pdf as Buffer;
+    const pdf = (await db()('certificate').where({ id: certId }).select('pdf').first())!.pdf;
     const tampered = Buffer.from(pdf);
     const at = tampered.indexOf('Identity certificate IC-');
     expect(at).toBeGreaterThan(0);
@@ -169,7 +169,7 @@ describe('certificate checks', () => {
     expect(res.body.verdict).toBe('not authentic');
     const mine = await db()('audit_event').where({ actor_id: user.id }).where('action', 'like', 'certificate.%');
     expect(mine.map((e: { action: string }) => e.action)).toEqual(['certificate.verification-failed']);
-    expect(JSON.parse(mine[0].after_json)).toMatchObject({ verdict: 'not authentic', byteIdentical: false });
+    expect(JSON.parse(mine[0].after_json!)).toMatchObject({ verdict: 'not authentic', byteIdentical: false });
     const ev = await auditor.get(`/api/audit/events/${mine[0].id}`);
     expect(ev.body.actionWords).toBe('Certificate checked: NOT authentic');
     expect(ev.body.recordNumber).toBe(certNumber);
@@ -177,7 +177,7 @@ describe('certificate checks', () => {
 
   it('an intact certificate is still recorded as certificate.verified', async () => {
     const { agent, user } = await agentFor(['auditor']);
-    const pdf = (await db()('certificate').where({ id: certId }).select('pdf').first()).pdf as Buffer;
+    const pdf = (await db()('certificate').where({ id: certId }).select('pdf').first())!.pdf;
     const res = await agent.post('/api/certificates/verify').attach('file', pdf, 'certificate.pdf');
     expect(res.body.verdict).toBe('authentic');
     const mine = await db()('audit_event').where({ actor_id: user.id }).where('action', 'like', 'certificate.%');

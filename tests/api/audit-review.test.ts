@@ -12,7 +12,7 @@ import {
   startAuditReviewReminderJob,
   stopAuditReviewReminderJob,
 } from '../../server/modules/audit-review/service';
-import { binaryBody, db, ownerDb, sig } from './helpers';
+import { binaryBody, db, ownerDb, sig, untyped } from './helpers';
 import { agent, retire } from './fixtures-testing';
 import request from 'supertest';
 import { testApp } from './helpers';
@@ -102,9 +102,9 @@ describe('the signed review', () => {
     const ev = await db()('audit_event').where({ action: 'audit.reviewed', entity_id: String(id) });
     expect(ev).toHaveLength(1);
     // the integrity sweep's recipe rebuilds exactly the signed content
-    const s = await db()('e_signature')
+    const s = (await db()('e_signature')
       .where({ entity_type: 'audit_review', entity_id: String(id) })
-      .first();
+      .first())!;
     expect(await checkSignature(db(), s, { foundIn: 'sweep' })).toBe(true);
     const list = await auditor.agent.get('/api/audit-reviews');
     expect(list.body.some((r: { id: number }) => r.id === id)).toBe(true);
@@ -118,10 +118,10 @@ describe('the signed review', () => {
   });
 
   it('the database refuses to change or delete a review (runtime: no privilege; owner: trigger)', async () => {
-    await expect(db()('audit_review').where({ id }).update({ findings: 'rewritten' })).rejects.toThrow(
+    await expect(untyped(db(), 'audit_review').where({ id }).update({ findings: 'rewritten' })).rejects.toThrow(
       /UPDATE command denied/,
     );
-    await expect(ownerDb()('audit_review').where({ id }).update({ findings: 'rewritten' })).rejects.toThrow(
+    await expect(untyped(ownerDb(), 'audit_review').where({ id }).update({ findings: 'rewritten' })).rejects.toThrow(
       /append-only/,
     );
     await expect(ownerDb()('audit_review').where({ id }).delete()).rejects.toThrow(/append-only/);
@@ -131,7 +131,7 @@ describe('the signed review', () => {
     const due = await quinn.agent.get('/api/audit-reviews/due');
     expect(due.status).toBe(200);
     expect(due.body.intervalMonths).toBe(1);
-    const latest = await db()('audit_review').orderBy('period_to', 'desc').orderBy('id', 'desc').first('period_to');
+    const latest = (await db()('audit_review').orderBy('period_to', 'desc').orderBy('id', 'desc').first('period_to'))!;
     const to = new Date(latest.period_to).toISOString().slice(0, 10);
     const r = await reviewDue(db(), 1, to);
     expect(r.due).toBe(false);
@@ -142,7 +142,7 @@ describe('the signed review', () => {
   });
 
   it('the reminder mails QA once per due period, nothing before the review is due, and keeps its record append-only', async () => {
-    const latest = await db()('audit_review').orderBy('period_to', 'desc').orderBy('id', 'desc').first('period_to');
+    const latest = (await db()('audit_review').orderBy('period_to', 'desc').orderBy('id', 'desc').first('period_to'))!;
     const to = new Date(latest.period_to).toISOString().slice(0, 10);
     const r = await reviewDue(db(), 1, to);
     const reminders = (dueFrom: string) =>
@@ -163,14 +163,14 @@ describe('the signed review', () => {
     expect(await remindIfDue(db(), 1, later)).toEqual({ due: true, mailed: false, dueKey: r.dueFrom });
     expect(await reminders(r.dueFrom!)).toHaveLength(sent.length);
     // the record of the reminder: one row, never changed or deleted by the runtime account
-    const rows = await db()('audit_review_reminder').where({ due_key: r.dueFrom });
+    const rows = await db()('audit_review_reminder').where({ due_key: r.dueFrom! });
     expect(rows).toHaveLength(1);
     expect(rows[0].recipients).toBe(sent.length);
     await expect(db()('audit_review_reminder').where({ id: rows[0].id }).delete()).rejects.toThrow(
       /DELETE command denied/,
     );
     await expect(
-      ownerDb()('audit_review_reminder').where({ id: rows[0].id }).update({ recipients: 0 }),
+      untyped(ownerDb(), 'audit_review_reminder').where({ id: rows[0].id }).update({ recipients: 0 }),
     ).rejects.toThrow(/append-only/);
   });
 
@@ -178,7 +178,7 @@ describe('the signed review', () => {
     const job = startAuditReviewReminderJob(db(), 1, 3_600_000);
     try {
       expect(await job.tick()).toBe(true);
-      const lease = await db()('job_lease').where({ name: 'audit-review-reminder' }).first();
+      const lease = (await db()('job_lease').where({ name: 'audit-review-reminder' }).first())!;
       expect(lease.last_ok_at).toBeTruthy();
       expect(lease.last_error).toBeNull();
       // a process that does not hold the lease does not run it

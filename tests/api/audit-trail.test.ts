@@ -377,11 +377,11 @@ describe('exports', () => {
       expect(r[10]).toBe(reasonOf(i) ?? ''); // commas, quotes and line breaks survive the round trip
       expect(JSON.parse(r[12])).toMatchObject({ n: i });
     });
-    const ev = await db()('audit_event')
+    const ev = (await db()('audit_event')
       .where({ id: Number(res.headers['x-audit-export-event']) })
-      .first();
+      .first())!;
     expect(ev.action).toBe('audit.exported');
-    expect(JSON.parse(ev.after_json)).toMatchObject({ format: 'csv', filter: { entityType: T, sort: 'asc' } });
+    expect(JSON.parse(ev.after_json!)).toMatchObject({ format: 'csv', filter: { entityType: T, sort: 'asc' } });
   });
 
   it('PDF: the filter stated, page x of y, the events listed, and the export audited', async () => {
@@ -411,11 +411,11 @@ describe('exports', () => {
       timeStyle: 'medium',
     }).format(new Date(seeded[0].occurredAt));
     expect(text).toContain(local);
-    const ev = await db()('audit_event')
+    const ev = (await db()('audit_event')
       .where({ id: Number(res.headers['x-audit-export-event']) })
-      .first();
+      .first())!;
     expect(ev.action).toBe('audit.exported');
-    expect(JSON.parse(ev.after_json)).toMatchObject({ format: 'pdf', filter: { entityType: T } });
+    expect(JSON.parse(ev.after_json!)).toMatchObject({ format: 'pdf', filter: { entityType: T } });
   });
 });
 

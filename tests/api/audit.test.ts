@@ -3,7 +3,7 @@
  * made behind the application's back (issue 2; 21 CFR 11.10(e); EU GMP Annex 11 §9).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { agentFor, db, ownerDb, sig } from './helpers';
+import { agentFor, db, ownerDb, sig, untyped } from './helpers';
 import { appendAudit, verifyChain } from '../../server/lib/audit';
 
 const owner = ownerDb();
@@ -18,10 +18,14 @@ beforeAll(async () => {
 describe('append-only audit table (runtime account)', () => {
   // The runtime account lacks the privilege (errno 1142); even the owner account is stopped by the triggers (errno 1644).
   it('rejects UPDATE', async () => {
-    await expect(db()('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({
+    await expect(
+      untyped(db(), 'audit_event').update({ reason: 'rewritten' }).where('id', '>', 0),
+    ).rejects.toMatchObject({
       errno: 1142,
     });
-    await expect(owner('audit_event').update({ reason: 'rewritten' }).where('id', '>', 0)).rejects.toMatchObject({
+    await expect(
+      untyped(owner, 'audit_event').update({ reason: 'rewritten' }).where('id', '>', 0),
+    ).rejects.toMatchObject({
       errno: 1644,
     });
   });
@@ -60,10 +64,10 @@ describe('hash chain', () => {
     expect(ok.body.lastHash).toMatch(/^[0-9a-f]{64}$/);
 
     // Tamper with a privileged account: drop the trigger, change one reason, restore the trigger.
-    const target = await db()('audit_event').where({ action: 'test.event' }).first();
+    const target = (await db()('audit_event').where({ action: 'test.event' }).first())!;
     await owner.raw('DROP TRIGGER audit_event_no_update');
     try {
-      await owner('audit_event').where({ id: target.id }).update({ reason: 'quietly rewritten' });
+      await untyped(owner, 'audit_event').where({ id: target.id }).update({ reason: 'quietly rewritten' });
     } finally {
       await owner.raw(
         "CREATE TRIGGER audit_event_no_update BEFORE UPDATE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
@@ -77,7 +81,7 @@ describe('hash chain', () => {
     // Put it back so later tests in this run see an intact chain.
     await owner.raw('DROP TRIGGER audit_event_no_update');
     try {
-      await owner('audit_event').where({ id: target.id }).update({ reason: 'original' });
+      await untyped(owner, 'audit_event').where({ id: target.id }).update({ reason: 'original' });
     } finally {
       await owner.raw(
         "CREATE TRIGGER audit_event_no_update BEFORE UPDATE ON audit_event FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'audit_event is append-only'",
@@ -126,11 +130,11 @@ describe('user administration is audited with before and after values', () => {
       .post(`/api/users/role-changes/${upd.body.pendingRoleChange.requestId}/confirm`)
       .send({ signature: sig(secondAdmin) });
     expect(confirmed.status).toBe(200);
-    const ev = await db()('audit_event')
+    const ev = (await db()('audit_event')
       .where({ entity_type: 'user', entity_id: String(id), action: 'user.roles-changed' })
-      .first();
-    expect(JSON.parse(ev.before_json).roles).toEqual(['operator']);
-    expect(JSON.parse(ev.after_json).roles).toEqual(['operator', 'verifier']);
+      .first())!;
+    expect(JSON.parse(ev.before_json!).roles).toEqual(['operator']);
+    expect(JSON.parse(ev.after_json!).roles).toEqual(['operator', 'verifier']);
     expect(ev.reason).toBe('trained as verifier');
   });
 });

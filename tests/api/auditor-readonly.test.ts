@@ -117,7 +117,7 @@ describe('the route list', () => {
 describe('an auditor-only account cannot write', () => {
   it('every write route answers 403 FORBIDDEN, and nothing is written', async () => {
     const writes = routes.filter((r) => r.method !== 'get' && !(r.key in AUDITOR_MAY_WRITE));
-    const headBefore = await db()('audit_head').where({ id: 1 }).first();
+    const headBefore = (await db()('audit_head').where({ id: 1 }).first())!;
     const wrong: string[] = [];
     for (const r of writes) {
       const res = await (auditor as unknown as Record<string, (u: string) => request.Test>)
@@ -128,7 +128,7 @@ describe('an auditor-only account cannot write', () => {
     }
     expect(wrong, 'write routes an auditor could call').toEqual([]);
     // Every write in Drumline is audited: an unchanged head means nothing was written.
-    const headAfter = await db()('audit_head').where({ id: 1 }).first();
+    const headAfter = (await db()('audit_head').where({ id: 1 }).first())!;
     expect(Number(headAfter.last_id)).toBe(Number(headBefore.last_id));
     console.log(`[auditor-readonly] ${writes.length} write routes refused`);
   });
@@ -238,15 +238,15 @@ describe('an auditor downloads raw spectrum files and certificates', () => {
       expect(sha(res.body as Buffer)).toBe(c.fileSha256);
     }
     // the reference spectrum's raw file
-    const ref = await db()('reference_spectrum').where({ code: lot.referenceCode }).first();
-    const refFile = await db()('stored_file').where({ id: ref.file_id }).first();
+    const ref = (await db()('reference_spectrum').where({ code: lot.referenceCode }).first())!;
+    const refFile = (await db()('stored_file').where({ id: ref.file_id }).first())!;
     const r1 = await auditor.get(`/api/references/${ref.id}/file`).buffer(true).parse(binary);
     expect(r1.status).toBe(200);
     expect(sha(r1.body as Buffer)).toBe(refFile.sha256);
     // the instrument check's polystyrene file
-    const m = await db()('measurement').where({ id: lot.containers[0].measurementId }).first();
-    const check = await db()('instrument_check').where({ id: m.instrument_check_id }).first();
-    const checkFile = await db()('stored_file').where({ id: check.file_id }).first();
+    const m = (await db()('measurement').where({ id: lot.containers[0].measurementId }).first())!;
+    const check = (await db()('instrument_check').where({ id: m.instrument_check_id }).first())!;
+    const checkFile = (await db()('stored_file').where({ id: check.file_id }).first())!;
     const r2 = await auditor
       .get(`/api/instruments/${check.instrument_id}/checks/${check.id}/file`)
       .buffer(true)
@@ -260,7 +260,7 @@ describe('an auditor downloads raw spectrum files and certificates', () => {
       testId: lot.testId,
       actor: { id: null, name: 'Drumline (system)' },
     });
-    const stored = await db()('certificate').where({ id: meta.id }).first();
+    const stored = (await db()('certificate').where({ id: meta.id }).first())!;
     const pdf = await auditor.get(`/api/certificates/${meta.id}/pdf`).buffer(true).parse(binary);
     expect(pdf.status).toBe(200);
     expect(pdf.headers['content-type']).toBe('application/pdf');

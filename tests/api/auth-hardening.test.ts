@@ -49,23 +49,23 @@ describe('every password check counts toward the lock-out (finding 5)', () => {
       const r = await approve(signer.agent, m.draftMethodId, sig);
       expect(r.status).toBe(401);
       expect(r.body.error.code).toBe('SIGNATURE_REFUSED');
-      expect((await userRow(signer.user.id)).failed_attempts).toBe(i);
+      expect((await userRow(signer.user.id))!.failed_attempts).toBe(i);
     }
     const fifth = await approve(signer.agent, m.draftMethodId, sig);
     expect(fifth.status).toBe(401);
     expect(fifth.body.error.details).toMatchObject({ locked: true });
     expect(fifth.body.error.message).toMatch(/locked/);
-    const u = await userRow(signer.user.id);
-    expect(new Date(u.locked_until).getTime()).toBeGreaterThan(Date.now());
+    const u = (await userRow(signer.user.id))!;
+    expect(new Date(u.locked_until!).getTime()).toBeGreaterThan(Date.now());
     // each refusal is audited on the record it was for, with the running count
     const refused = await db()('audit_event')
       .where({ action: 'signature.refused', entity_type: 'identity_method', entity_id: String(m.draftMethodId) })
       .orderBy('id');
-    expect(refused.map((e) => JSON.parse(e.after_json).consecutiveFailures)).toEqual([1, 2, 3, 4, 5]);
-    const lock = await db()('audit_event')
+    expect(refused.map((e) => JSON.parse(e.after_json!).consecutiveFailures)).toEqual([1, 2, 3, 4, 5]);
+    const lock = (await db()('audit_event')
       .where({ action: 'auth.locked', entity_id: String(signer.user.id) })
-      .first();
-    expect(JSON.parse(lock.after_json)).toMatchObject({ after: 'signature', sessionsEnded: true });
+      .first())!;
+    expect(JSON.parse(lock.after_json!)).toMatchObject({ after: 'signature', sessionsEnded: true });
     expect(lock.reason).toBe('5 consecutive failed password entries');
     const mail = await db()('mail_outbox').where({ subject: `Account locked: ${signer.user.username}` });
     expect(mail.length).toBeGreaterThan(0);
@@ -100,7 +100,7 @@ describe('every password check counts toward the lock-out (finding 5)', () => {
 
   it('five wrong current passwords in a password change lock the account and end its sessions', async () => {
     const { agent, user } = await agentFor(['operator']);
-    const before = await userRow(user.id);
+    const before = (await userRow(user.id))!;
     for (let i = 1; i <= 5; i++) {
       const r = await agent
         .post('/api/auth/password')
@@ -108,11 +108,11 @@ describe('every password check counts toward the lock-out (finding 5)', () => {
       expect(r.status).toBe(401);
       expect(r.body.error.code).toBe('WRONG_PASSWORD');
     }
-    expect(new Date((await userRow(user.id)).locked_until).getTime()).toBeGreaterThan(Date.now());
+    expect(new Date((await userRow(user.id))!.locked_until!).getTime()).toBeGreaterThan(Date.now());
     expect(await actions(user.id)).toEqual(expect.arrayContaining(['auth.password-change-refused', 'auth.locked']));
     expect((await agent.get('/api/auth/me')).status).toBe(401);
     // the password was not changed
-    const after = await userRow(user.id);
+    const after = (await userRow(user.id))!;
     expect(after.password_hash).toBe(before.password_hash);
     expect(after.password_changed_at).toEqual(before.password_changed_at);
   });
@@ -124,13 +124,13 @@ describe('every password check counts toward the lock-out (finding 5)', () => {
     await signer.agent
       .post('/api/auth/password')
       .send({ currentPassword: 'wrong-two-bb', newPassword: 'violet-harbour-lamp-93' });
-    expect((await userRow(signer.user.id)).failed_attempts).toBe(2);
+    expect((await userRow(signer.user.id))!.failed_attempts).toBe(2);
     // a right password (here: the current one in a refused change) ends the run
     const weak = await signer.agent
       .post('/api/auth/password')
       .send({ currentPassword: PASSWORD, newPassword: 'aaaaaaaaaaaa' });
     expect(weak.status).toBe(400);
-    expect((await userRow(signer.user.id)).failed_attempts).toBe(0);
+    expect((await userRow(signer.user.id))!.failed_attempts).toBe(0);
     // three of each kind: locked at the fifth, whichever check it was
     for (let i = 0; i < 2; i++)
       await request(testApp())
@@ -140,13 +140,13 @@ describe('every password check counts toward the lock-out (finding 5)', () => {
     await signer.agent
       .post('/api/auth/password')
       .send({ currentPassword: 'wrong-four-dd', newPassword: 'violet-harbour-lamp-93' });
-    expect((await userRow(signer.user.id)).failed_attempts).toBe(4);
+    expect((await userRow(signer.user.id))!.failed_attempts).toBe(4);
     const last = await approve(signer.agent, m.draftMethodId, {
       username: signer.user.username,
       password: 'wrong-five-ee',
     });
     expect(last.body.error.details).toMatchObject({ locked: true });
-    expect(new Date((await userRow(signer.user.id)).locked_until).getTime()).toBeGreaterThan(Date.now());
+    expect(new Date((await userRow(signer.user.id))!.locked_until!).getTime()).toBeGreaterThan(Date.now());
   });
 });
 

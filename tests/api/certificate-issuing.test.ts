@@ -22,7 +22,7 @@ import { extractSignatureDer, extractTimeStampToken, fakeTsaFiles, verifyPdfSign
 import { issueCertificate, pendingCertificates, retryPendingCertificates } from '../../server/modules/certificates';
 import { failureSentence } from '../../server/modules/certificates/issue';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
-import { agentFor, db, ownerDb, sig, testApp } from './helpers';
+import { agentFor, db, ownerDb, sig, testApp, untyped } from './helpers';
 
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-issue-'));
 afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }));
@@ -37,8 +37,8 @@ function writeTmp(name: string, data: Buffer | string): string {
 const seqOf = (number: string) => Number(/^IC-\d{4}-(\d+)$/.exec(number)![1]);
 
 async function storedPdf(lotId: number): Promise<Buffer> {
-  const lot = await db()('lot').where({ id: lotId }).first('certificate_id');
-  return (await db()('certificate').where({ id: lot.certificate_id }).first('pdf')).pdf as Buffer;
+  const lot = (await db()('lot').where({ id: lotId }).first('certificate_id'))!;
+  return (await db()('certificate').where({ id: lot.certificate_id! }).first('pdf'))!.pdf;
 }
 
 async function trustedRoots(): Promise<string[]> {
@@ -74,7 +74,7 @@ describe('numbers under concurrency', () => {
     const reserved = await db()('certificate_number').where('id', '>', before?.id ?? 0);
     expect(reserved.map((r) => r.number).sort()).toEqual(certs.map((c) => c.number).sort());
     const year = Number(certs[0].number.slice(3, 7));
-    expect((await db()('certificate_counter').where({ year }).first()).last_seq).toBe(seqs.at(-1));
+    expect((await db()('certificate_counter').where({ year }).first())!.last_seq).toBe(seqs.at(-1));
   });
 });
 
@@ -130,7 +130,7 @@ describe('a forced failure and the retry', () => {
   it('the background retry issues it with the reserved number, and the lot leaves the list', async () => {
     const r = await retryPendingCertificates(db(), loadConfig());
     expect(r.issued).toBeGreaterThanOrEqual(1);
-    const cert = await db()('certificate').where({ lot_id: lot.lotId }).first();
+    const cert = (await db()('certificate').where({ lot_id: lot.lotId }).first())!;
     expect(cert.number).toBe(number);
     expect((await pendingCertificates(db())).find((p) => p.lotId === lot.lotId)).toBeUndefined();
   });
@@ -145,14 +145,14 @@ describe('a forced failure and the retry', () => {
           testHooks: {
             beforeCommit: async (trx) => {
               // a real database error on a statement that carries the PDF bytes as a bound value
-              const pdf = (await trx('certificate').where({ lot_id: other.lotId }).first('pdf')).pdf as Buffer;
-              await trx('certificate').insert({ id: 1, number: 'IC-0000-00000', pdf });
+              const pdf = (await trx('certificate').where({ lot_id: other.lotId }).first('pdf'))!.pdf;
+              await untyped(trx, 'certificate').insert({ id: 1, number: 'IC-0000-00000', pdf });
             },
           },
         },
       ),
     ).rejects.toBeTruthy();
-    const f = await db()('certificate_issue_failure').where({ lot_id: other.lotId }).first();
+    const f = (await db()('certificate_issue_failure').where({ lot_id: other.lotId }).first())!;
     expect(f.problem).toMatch(/^database error/);
     for (const text of [f.problem, ...logged]) {
       expect(text).not.toMatch(/insert into/i);
@@ -162,7 +162,7 @@ describe('a forced failure and the retry', () => {
     }
     expect(failureSentence(new Error(`insert into x ${'A'.repeat(1000)}`)).length).toBeLessThanOrEqual(300);
     // QA's retry action issues it with its reserved number.
-    const reserved = await db()('certificate_number').where({ lot_id: other.lotId }).first();
+    const reserved = (await db()('certificate_number').where({ lot_id: other.lotId }).first())!;
     const qa = await agentFor(['qa_manager']);
     const res = await qa.agent.post('/api/certificates/issue').send({ lotId: other.lotId });
     expect(res.status).toBe(201);
@@ -172,14 +172,14 @@ describe('a forced failure and the retry', () => {
 
 describe('the database holds the numbering rules', () => {
   it('the counter only advances by one and is never deleted; reservations and failures are append-only', async () => {
-    const year = (await db()('certificate_counter').first()).year;
+    const year = (await db()('certificate_counter').first())!.year;
     for (const q of [
       () => db()('certificate_counter').where({ year }).increment('last_seq', 5),
       () => db()('certificate_counter').where({ year }).decrement('last_seq', 1),
       () => db()('certificate_counter').where({ year }).del(),
-      () => db()('certificate_number').update({ lot_id: 1 }),
+      () => untyped(db(), 'certificate_number').update({ lot_id: 1 }),
       () => db()('certificate_number').del(),
-      () => db()('certificate_issue_failure').update({ problem: 'x' }),
+      () => untyped(db(), 'certificate_issue_failure').update({ problem: 'x' }),
     ])
       // a trigger's refusal (45000), or no DELETE grant at all for the runtime account (42000)
       await expect(q()).rejects.toMatchObject({ sqlState: expect.stringMatching(/^(45000|42000)$/) });
@@ -308,8 +308,8 @@ describe('the background retry runs under a lease', () => {
     } finally {
       await job.stop();
     }
-    const lease = await db()('job_lease').where({ name: 'certificate-retry' }).first();
+    const lease = (await db()('job_lease').where({ name: 'certificate-retry' }).first())!;
     expect(lease.last_error).toBeNull();
-    expect((await db()('lot').where({ id: lot.lotId }).first()).certificate_id).not.toBeNull();
+    expect((await db()('lot').where({ id: lot.lotId }).first())!.certificate_id).not.toBeNull();
   });
 });

@@ -21,7 +21,7 @@ import { sha256Hex } from '../../server/lib/canonical';
 import { extractSignatureDer, KEYS_DIR, verifyPdfSignature } from '../../server/lib/signing';
 import { issueCertificate } from '../../server/modules/certificates';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
-import { agentFor, db, ownerDb, sig, testApp } from './helpers';
+import { agentFor, db, ownerDb, sig, testApp, untyped } from './helpers';
 
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'drumline-cert-'));
 afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }));
@@ -55,8 +55,8 @@ function binary(res: request.Response, cb: (err: Error | null, body: Buffer) => 
 }
 
 async function storedPdf(id: number): Promise<Buffer> {
-  const r = await db()('certificate').where({ id }).select('pdf').first();
-  return r.pdf as Buffer;
+  const r = (await db()('certificate').where({ id }).select('pdf').first())!;
+  return r.pdf;
 }
 
 const SYSTEM = { id: null, name: 'Drumline (system)' };
@@ -77,12 +77,12 @@ describe('issuing a certificate for a passed lot', () => {
   });
 
   it('stores the signed bytes with their SHA-256 and records the certificate against the lot', async () => {
-    const row = await db()('certificate').where({ id: certId }).first();
+    const row = (await db()('certificate').where({ id: certId }).first())!;
     expect(row.number).toMatch(/^IC-\d{4}-\d{5}$/);
     expect(row.sha256).toBe(sha256Hex(pdf));
     expect(row.size).toBe(pdf.length);
     expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
-    const l = await db()('lot').where({ id: lot.lotId }).first();
+    const l = (await db()('lot').where({ id: lot.lotId }).first())!;
     expect(l.certificate_id).toBe(certId);
     const audit = await db()('audit_event').where({
       action: 'certificate.issued',
@@ -90,7 +90,7 @@ describe('issuing a certificate for a passed lot', () => {
       entity_id: String(certId),
     });
     expect(audit).toHaveLength(1);
-    expect(JSON.parse(audit[0].after_json)).toMatchObject({
+    expect(JSON.parse(audit[0].after_json!)).toMatchObject({
       number: row.number,
       sha256: row.sha256,
       lotNumber: lot.lotNumber,
@@ -122,7 +122,7 @@ describe('issuing a certificate for a passed lot', () => {
     expect(printed).toMatch(/contentType \(1\.2\.840\.113549\.1\.9\.3\)/);
     expect(printed).toMatch(/signingTime \(1\.2\.840\.113549\.1\.9\.5\)/);
     expect(printed).toMatch(/messageDigest \(1\.2\.840\.113549\.1\.9\.4\)/);
-    const row = await db()('certificate').where({ id: certId }).first();
+    const row = (await db()('certificate').where({ id: certId }).first())!;
     // The attribute's certHash is the signer certificate fingerprint recorded with the certificate.
     expect(printed.replace(/\s/g, '')).toContain(row.signer_fingerprint.toUpperCase());
     const content = writeTmp('signed-ranges.bin', signedRanges(pdf));
@@ -169,7 +169,7 @@ describe('issuing a certificate for a passed lot', () => {
     expect(flat).toMatch(/Europe\/Berlin \(GMT[+-]\d+/); // date and time with the zone named
     expect(flat).toContain('/certificates/verify?number=IC-');
     // the correlation coefficient to 4 decimals, under its one name (issue 18 item 4), band concordance as "n of m"
-    const row = await db()('measurement').where({ id: lot.containers[0].measurementId }).first();
+    const row = (await db()('measurement').where({ id: lot.containers[0].measurementId }).first())!;
     expect(flat).toContain(Number(row.match_score).toFixed(4));
     expect(text.replace(/\s+/g, '')).toContain('Correlationcoefficient(r)');
     expect(flat).not.toMatch(/match score/i);
@@ -246,12 +246,12 @@ describe('issuing a certificate for a passed lot', () => {
     expect(res.body.lot).toMatchObject({ id: lot.lotId, lotNumber: lot.lotNumber });
     const a = await db()('audit_event').where({ action: 'certificate.verified', actor_id: user.id });
     expect(a).toHaveLength(1);
-    expect(JSON.parse(a[0].after_json)).toMatchObject({ verdict: 'authentic', byteIdentical: true });
+    expect(JSON.parse(a[0].after_json!)).toMatchObject({ verdict: 'authentic', byteIdentical: true });
   });
 
   it('verifies by number (stored bytes against the recorded hash) and says so for an unknown number', async () => {
     const { agent } = await agentFor(['operator']);
-    const row = await db()('certificate').where({ id: certId }).first();
+    const row = (await db()('certificate').where({ id: certId }).first())!;
     const ok = await agent.get('/api/certificates/verify').query({ number: row.number });
     expect(ok.status).toBe(200);
     expect(ok.body).toMatchObject({ verdict: 'authentic', byteIdentical: true, checkedBy: 'number' });
@@ -319,7 +319,7 @@ describe('issuing a certificate for a passed lot', () => {
     const { agent: admin } = await agentFor(['admin']);
     const res = await admin.get('/api/certificates/signing-identity');
     expect(res.status).toBe(200);
-    const row = await db()('certificate').where({ id: certId }).first();
+    const row = (await db()('certificate').where({ id: certId }).first())!;
     expect(res.body.fingerprint).toBe(row.signer_fingerprint);
     expect(res.body.subject).toMatch(/identity certificates/);
     expect(new Date(res.body.notAfter).getTime()).toBeGreaterThan(Date.now());
@@ -331,7 +331,7 @@ describe('issuing a certificate for a passed lot', () => {
     const owner = ownerDb();
     try {
       await expect(
-        owner('certificate')
+        untyped(owner, 'certificate')
           .where({ id: certId })
           .update({ sha256: 'x'.repeat(64) }),
       ).rejects.toThrow(/append-only/);
@@ -339,7 +339,7 @@ describe('issuing a certificate for a passed lot', () => {
     } finally {
       await owner.destroy();
     }
-    await expect(db()('certificate').where({ id: certId }).update({ size: 1 })).rejects.toThrow(/denied/);
+    await expect(untyped(db(), 'certificate').where({ id: certId }).update({ size: 1 })).rejects.toThrow(/denied/);
   });
 });
 
@@ -364,7 +364,7 @@ describe('atomic issuing', () => {
       ),
     ).rejects.toMatchObject({ code: 'ER_DUP_ENTRY' });
     expect(await db()('certificate').where({ lot_id: lot.lotId })).toHaveLength(0);
-    const after = await db()('lot').where({ id: lot.lotId }).first();
+    const after = (await db()('lot').where({ id: lot.lotId }).first())!;
     expect(after).toEqual(before);
     expect(after.certificate_id).toBeNull();
     const auditAfter = await db()('audit_event')
@@ -375,7 +375,7 @@ describe('atomic issuing', () => {
     // Nothing half-stored blocks the next attempt.
     const ok = await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM });
     expect(ok.created).toBe(true);
-    expect((await db()('lot').where({ id: lot.lotId }).first()).certificate_id).toBe(ok.id);
+    expect((await db()('lot').where({ id: lot.lotId }).first())!.certificate_id).toBe(ok.id);
   });
 
   it('concurrent issuing: two lots get distinct numbers; the same lot twice gets one certificate', async () => {
@@ -407,7 +407,7 @@ describe('atomic issuing', () => {
   it('refuses a lot where a container did not pass', async () => {
     const lot = await createPassedLot(db(), { containers: 2 });
     // A later failing re-measurement of container 2 in the same (verified) attempt counts.
-    const m = await db()('measurement').where({ id: lot.containers[1].measurementId }).first();
+    const m = (await db()('measurement').where({ id: lot.containers[1].measurementId }).first())!;
     const { id: _id, ...rest } = m;
     await db()('measurement').insert({ ...rest, verdict: 'fail', created_at: new Date() });
     await expect(issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: SYSTEM })).rejects.toThrow(
@@ -451,14 +451,14 @@ describe('superseding', () => {
     expect(rows).toHaveLength(2);
     expect(rows[1].supersedes_id).toBe(first.id);
     expect(rows[1].supersede_reason).toBe('Supplier name corrected on the lot record');
-    const s = await db()('e_signature').where({ id: rows[1].supersede_signature_id }).first();
+    const s = await db()('e_signature').where({ id: rows[1].supersede_signature_id! }).first();
     expect(s).toMatchObject({
       meaning: 'issued',
       printed_name: user.fullName,
       entity_type: 'certificate',
       entity_id: res.body.number,
     });
-    expect((await db()('lot').where({ id: lot.lotId }).first()).certificate_id).toBe(rows[1].id);
+    expect((await db()('lot').where({ id: lot.lotId }).first())!.certificate_id).toBe(rows[1].id);
 
     // Old bytes are unchanged and still verify; the new one prints what it supersedes.
     expect(Buffer.compare(await storedPdf(first.id), oldPdf)).toBe(0);

@@ -274,10 +274,7 @@ export async function runConcurrencySuite(ctx: SuiteContext): Promise<SuiteResul
       expect([200, 201], JSON.stringify(res.body)).toContain(res.status);
     }
   }
-  const certs = (await rt('certificate').whereIn('lot_id', lotIds).select('number', 'lot_id')) as {
-    number: string;
-    lot_id: number;
-  }[];
+  const certs = await rt('certificate').whereIn('lot_id', lotIds).select('number', 'lot_id');
   expect(certs).toHaveLength(11);
   expect(new Set(certs.map((c) => c.lot_id)).size).toBe(11);
   const certificateNumbers = certs.map((c) => c.number);

@@ -53,11 +53,11 @@ const statuses = async (lotId: number) =>
 async function labelsPrinted(lotId: number): Promise<string[]> {
   const res = await operator.agent.get(`/api/lots/${lotId}/status-labels.pdf`).buffer(true).parse(binaryBody);
   expect(res.status).toBe(200);
-  const ev = await db()('audit_event')
+  const ev = (await db()('audit_event')
     .where({ action: 'lot.status-labels-printed', entity_id: String(lotId) })
     .orderBy('id', 'desc')
-    .first();
-  return JSON.parse(ev.after_json).labels;
+    .first())!;
+  return JSON.parse(ev.after_json!).labels;
 }
 
 describe('a container blocked by the provenance rule', () => {

@@ -36,6 +36,7 @@ import {
 } from './fixtures-testing';
 import { agentFor, db, makeUser, ownerDb } from './helpers';
 import { contentHash } from '../../server/lib/esign';
+import type { StoredFileRow } from '../../server/lib/db-tables';
 import { methodSignedContent } from '../../server/modules/library/service';
 import { irSuitabilitySignedContent, overrideSignedContent } from '../../server/modules/library/method-control';
 
@@ -114,8 +115,8 @@ beforeAll(async () => {
     await issueCertificate(db(), { lotId: lot.lotId, testId: lot.testId, actor: { id: null, name: 't' } })
   ).id;
   // provenance rows (docs/provenance.md) of the passed lot's first measurement
-  const ms = await db()('measurement').where({ test_id: lot.testId }).orderBy('id').first();
-  const t = await db()('identity_test').where({ id: lot.testId }).first();
+  const ms = (await db()('measurement').where({ test_id: lot.testId }).orderBy('id').first())!;
+  const t = (await db()('identity_test').where({ id: lot.testId }).first())!;
   const provAt = new Date();
   await db()('spectrum_fingerprint').insert({
     file_id: ms.file_id,
@@ -176,7 +177,7 @@ beforeAll(async () => {
   await a.agent.post(`/api/webhooks/${hook.body.id}/deactivate`);
   // an integrity alert (about a made-up finding) and its QA sign-off: rows in the integrity tables
   const qa = await agentFor(['qa_manager']);
-  const file = await db()('stored_file').orderBy('id').first('id', 'sha256');
+  const file = (await db()('stored_file').orderBy('id').first('id', 'sha256'))!;
   const { id: alertId } = await raiseAlert(
     db(),
     {
@@ -197,8 +198,8 @@ beforeAll(async () => {
   expect(off.status).toBe(200);
   await methodControlRows(file);
   // trending and the audit-trail review (migration 150): one row of each, written as the app would
-  const m = await db()('measurement').orderBy('id', 'desc').first('id', 'method_id');
-  const method = await db()('identity_method').where({ id: m.method_id }).first('material_id');
+  const m = (await db()('measurement').orderBy('id', 'desc').first('id', 'method_id'))!;
+  const method = (await db()('identity_method').where({ id: m.method_id }).first('material_id'))!;
   const now = new Date();
   await db()('trend_baseline').insert({
     material_id: method.material_id,
@@ -252,7 +253,7 @@ beforeAll(async () => {
  * the integrity sweep of later files finds them intact): an override of the gate requested by one QA
  * manager and confirmed by another, the approval record it belongs to, an IR decision, an attempt pin.
  */
-async function methodControlRows(file: { id: number; sha256: string }) {
+async function methodControlRows(file: Pick<StoredFileRow, 'id' | 'sha256'>) {
   const [u1, u2] = [await makeUser(['qa_manager']), await makeUser(['qa_manager'])];
   const mId = material.methodId;
   const sign = async (user: { id: number; fullName: string }, meaning: string, type: string, id: number, c: unknown) =>
@@ -267,7 +268,7 @@ async function methodControlRows(file: { id: number; sha256: string }) {
         statement: null,
         signed_at: new Date(),
       })
-    )[0] as number;
+    )[0];
   const ov = {
     entityType: 'identity_method' as const,
     entityId: mId,
@@ -287,9 +288,16 @@ async function methodControlRows(file: { id: number; sha256: string }) {
     signature_id: reqSig,
     requested_at: new Date(),
   });
-  const row = await db()('identity_method').where({ id: mId }).first();
-  const approval = { validationSha256: file.sha256, firstReferenceIds: [], gateOverrideId: ovId as number };
-  const confSig = await sign(u2, 'approved', 'identity_method', mId, methodSignedContent(row, approval));
+  // the fixture's approved method; the status column is a plain string in the table type
+  const row = (await db()('identity_method').where({ id: mId }).first())!;
+  const approval = { validationSha256: file.sha256, firstReferenceIds: [], gateOverrideId: ovId };
+  const confSig = await sign(
+    u2,
+    'approved',
+    'identity_method',
+    mId,
+    methodSignedContent({ ...row, status: 'approved' }, approval),
+  );
   await db()('gate_override_confirmation').insert({
     override_id: ovId,
     confirmed_by: u2.id,
@@ -409,7 +417,7 @@ describe('every table is classified, with the grants and triggers of its class',
 
 describe('the probe of issue 12: approved content can no longer be changed behind the application', () => {
   it("an approved method's minimum correlation cannot be set to 0", async () => {
-    const m = await db()('identity_method').where({ id: material.methodId }).first();
+    const m = (await db()('identity_method').where({ id: material.methodId }).first())!;
     const params = JSON.parse(m.params);
     params.thresholds.minCorrelation = 0;
     await expect(
@@ -422,7 +430,7 @@ describe('the probe of issue 12: approved content can no longer be changed behin
         .where({ id: material.methodId })
         .update({ params: JSON.stringify(params) }),
     ).rejects.toMatchObject(REFUSED);
-    expect(JSON.parse((await db()('identity_method').where({ id: material.methodId }).first()).params)).toEqual(
+    expect(JSON.parse((await db()('identity_method').where({ id: material.methodId }).first())!.params)).toEqual(
       JSON.parse(m.params),
     );
   });
@@ -433,7 +441,7 @@ describe('the probe of issue 12: approved content can no longer be changed behin
       ...REFUSED,
       sqlMessage: expect.stringMatching(/bands cannot change once approved/),
     });
-    expect(JSON.parse((await db()('reference_spectrum').where({ id }).first()).bands).length).toBeGreaterThan(3);
+    expect(JSON.parse((await db()('reference_spectrum').where({ id }).first())!.bands).length).toBeGreaterThan(3);
   });
 
   it('a failed instrument check cannot be turned into a pass', async () => {
@@ -443,7 +451,7 @@ describe('the probe of issue 12: approved content can no longer be changed behin
         .where({ id })
         .update({ verdict: 'pass', valid_until: new Date(Date.now() + 86_400_000) }),
     ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/verdict never changes/) });
-    expect((await db()('instrument_check').where({ id }).first()).verdict).toBe('fail');
+    expect((await db()('instrument_check').where({ id }).first())!.verdict).toBe('fail');
   });
 });
 
@@ -500,8 +508,8 @@ describe('append-only tables refuse UPDATE and DELETE (runtime: no privilege; ow
   };
   beforeAll(async () => {
     // lifecycle and look-back rows, written as the application would, around the passed lot's measurement
-    const m = await db()('measurement').where({ test_id: lot.testId }).first();
-    const anySig = await db()('e_signature').orderBy('id').first('id');
+    const m = (await db()('measurement').where({ test_id: lot.testId }).first())!;
+    const anySig = (await db()('e_signature').orderBy('id').first('id'))!;
     const at = new Date();
     await db()('instrument_qualification').insert({
       instrument_id: m.instrument_id,
@@ -634,7 +642,7 @@ describe('guarded records: never deleted, only the permitted changes', () => {
       ...REFUSED,
       sqlMessage: expect.stringMatching(/status may not change from approved to draft/),
     });
-    const v1 = await db()('identity_method').where({ id: material.methodId }).first();
+    const v1 = (await db()('identity_method').where({ id: material.methodId }).first())!;
     const [draftId] = await db()('identity_method').insert({
       ...v1,
       id: undefined,
@@ -677,9 +685,9 @@ describe('guarded records: never deleted, only the permitted changes', () => {
   });
 
   it('an approved check specification cannot change its bands', async () => {
-    const spec = await db()('instrument_check_spec')
+    const spec = (await db()('instrument_check_spec')
       .where({ instrument_id: failedCheck.instrumentId, status: 'approved' })
-      .first();
+      .first())!;
     await expect(db()('instrument_check_spec').where({ id: spec.id }).update({ bands: '[]' })).rejects.toMatchObject(
       REFUSED,
     );
@@ -730,7 +738,7 @@ describe('guarded records: never deleted, only the permitted changes', () => {
     await db()('lot')
       .where({ id: lot.lotId })
       .update({ status: 'released', disposition_id: dispositionId, retest_date: '2030-01-01' });
-    expect((await db()('lot').where({ id: lot.lotId }).first()).status).toBe('released');
+    expect((await db()('lot').where({ id: lot.lotId }).first())!.status).toBe('released');
   });
 
   it('a verified test is frozen: no status change, no other verifier, no other measurement scope', async () => {

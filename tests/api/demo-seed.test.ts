@@ -19,6 +19,7 @@ import { verifyChain } from '../../server/lib/audit';
 import { closeDb, initDb } from '../../server/lib/db';
 import { specificityMatrixFor } from '../../server/modules/library/specificity';
 import type { Knex } from 'knex';
+import type { LotRow, MeasurementRow, RoleRequestRow, SourceStatusRow } from '../../server/lib/db-tables';
 
 const DEMO_DB = `drumline_demo_test_${process.pid}`;
 let db: Knex;
@@ -69,28 +70,29 @@ afterAll(async () => {
   if (!process.env.KEEP_TEST_DB) await dropDatabase(DEMO_DB);
 });
 
-async function lotOf(key: string) {
+/** The seeded lot of a catalogue entry (the seed writes every one). */
+async function lotOf(key: string): Promise<LotRow> {
   const l = DEMO_LOTS.find((x) => x.key === key)!;
   const m = materialByKey(l.material);
-  return db('lot as l')
+  return (await db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where({ 'm.code': m.code, 'l.supplier_lot': l.supplierLot })
-    .select('l.*')
-    .first();
+    .select<LotRow[]>('l.*')
+    .first())!;
 }
 
 describe('demo seed', () => {
   it('creates every demo grade with an approved method and three approved references, written and uploaded by one QA manager, approved by another with a validation record; sodium chloride is marked "identity by IR not suitable"', async () => {
-    const quinn = await db('app_user').where({ username: 'quinn' }).first();
-    const irene = await db('app_user').where({ username: 'irene' }).first();
+    const quinn = (await db('app_user').where({ username: 'quinn' }).first())!;
+    const irene = (await db('app_user').where({ username: 'irene' }).first())!;
     for (const m of MATERIALS) {
-      const mat = await db('material').where({ code: m.code }).first();
+      const mat = (await db('material').where({ code: m.code }).first())!;
       expect(mat, m.code).toBeTruthy();
       const approved = await db('identity_method').where({ material_id: mat.id, status: 'approved' });
       if (m.key === 'sodium-chloride') {
         // no IR method, no reference: the decision that replaces them, signed by QA
         expect(approved, m.code).toHaveLength(0);
-        const d = await db('material_ir_suitability').where({ material_id: mat.id }).orderBy('id', 'desc').first();
+        const d = (await db('material_ir_suitability').where({ material_id: mat.id }).orderBy('id', 'desc').first())!;
         expect(d).toMatchObject({ suitable: 0, decided_by: quinn.id });
         expect(d.replacement_test).toMatch(/sodium and of chlorides/);
         continue;
@@ -98,12 +100,12 @@ describe('demo seed', () => {
       expect(approved, m.code).toHaveLength(1);
       for (const v of await db('identity_method').where({ material_id: mat.id }).whereNot({ status: 'draft' })) {
         expect(v.created_by, m.code).toBe(irene.id);
-        const s = await db('e_signature').where({ id: v.approved_signature_id }).first();
+        const s = (await db('e_signature').where({ id: v.approved_signature_id! }).first())!;
         expect(s.user_id, m.code).toBe(quinn.id);
         // the validation record was stored with the approval and its SHA-256 signed
-        const a = await db('method_approval').where({ method_id: v.id }).first();
+        const a = (await db('method_approval').where({ method_id: v.id }).first())!;
         expect(a, `${m.code} v${v.version}`).toBeTruthy();
-        const f = await db('stored_file').where({ id: a.validation_file_id }).first();
+        const f = (await db('stored_file').where({ id: a.validation_file_id }).first())!;
         expect(f.media_type).toBe('application/pdf');
         expect(f.sha256).toBe(a.validation_sha256);
       }
@@ -111,7 +113,7 @@ describe('demo seed', () => {
       expect(refs.length, m.code).toBe(3);
       for (const r of refs) {
         expect(r.created_by).toBe(irene.id);
-        const s = await db('e_signature').where({ id: r.approved_signature_id }).first();
+        const s = (await db('e_signature').where({ id: r.approved_signature_id! }).first())!;
         expect(s.user_id).toBe(quinn.id);
         expect(s.meaning).toBe('approved');
       }
@@ -123,14 +125,14 @@ describe('demo seed', () => {
   });
 
   it('shows the look-alike pair refused by the specificity gate, then the methods tightened and the library specific with its margins', async () => {
-    const mh = await db('material')
+    const mh = (await db('material')
       .where({ code: materialByKey(LOOK_ALIKE_PAIR[1]).code })
-      .first();
-    const mhFirst = await db('identity_method').where({ material_id: mh.id, version: 1 }).first();
+      .first())!;
+    const mhFirst = (await db('identity_method').where({ material_id: mh.id, version: 1 }).first())!;
     const blocked = await db('audit_event').where({ action: 'method.approval-blocked' });
     expect(blocked).toHaveLength(1);
     expect(Number(blocked[0].entity_id)).toBe(mhFirst.id);
-    const offending = (JSON.parse(blocked[0].after_json) as { offending: { otherMaterialCode: string }[] }).offending;
+    const offending = (JSON.parse(blocked[0].after_json!) as { offending: { otherMaterialCode: string }[] }).offending;
     expect(new Set(offending.map((o) => o.otherMaterialCode))).toEqual(
       new Set([materialByKey(LOOK_ALIKE_PAIR[0]).code]),
     );
@@ -139,12 +141,12 @@ describe('demo seed', () => {
       [LOOK_ALIKE_PAIR[1]]: ['1:approved'],
     };
     for (const key of LOOK_ALIKE_PAIR) {
-      const mat = await db('material')
+      const mat = (await db('material')
         .where({ code: materialByKey(key).code })
-        .first();
+        .first())!;
       const methods = await db('identity_method').where({ material_id: mat.id }).orderBy('version');
       expect(methods.map((x) => `${x.version}:${x.status}`)).toEqual(expected[key]);
-      expect(JSON.parse(methods.at(-1).params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
+      expect(JSON.parse(methods.at(-1)!.params).bandTolerance).toEqual({ mode: 'absolute', cm1: 3 });
     }
     const matrix = await specificityMatrixFor('mid-ir-atr', db);
     const irCodes = MATERIALS.filter((m) => m.key !== 'sodium-chloride').map((m) => m.code);
@@ -160,7 +162,7 @@ describe('demo seed', () => {
     const agent = request.agent(app);
     await agent.post('/api/auth/sign-in').send({ username: 'olga', password: DEMO_PASSWORD }).expect(200);
     const lot = await lotOf('I');
-    const inst = await db('instrument').orderBy('id').first();
+    const inst = (await db('instrument').orderBy('id').first())!;
     const res = await agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.id });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('IR_NOT_SUITABLE');
@@ -297,11 +299,15 @@ describe('demo seed', () => {
   it('has suppliers in each status, a reduced-plan lot with its justification, lots awaiting disposition, a released and a rejected lot, a machine account and a webhook', async () => {
     const statuses = await db('source_status as s')
       .whereRaw('s.id = (SELECT MAX(x.id) FROM source_status x WHERE x.source_id = s.source_id)')
-      .select('s.status', 's.sampling_plan', 's.sampling_justification');
+      .select<Pick<SourceStatusRow, 'status' | 'sampling_plan' | 'sampling_justification'>[]>(
+        's.status',
+        's.sampling_plan',
+        's.sampling_justification',
+      );
     expect(new Set(statuses.map((x) => x.status))).toEqual(new Set(['new', 'qualified', 'conditional', 'blocked']));
     const reducedSource = statuses.find((x) => x.sampling_plan === 'sqrt-n-plus-1');
     expect(reducedSource?.sampling_justification).toMatch(/Validated reduced sampling/);
-    const reducedLot = await db('lot').where({ sampling_plan: 'sqrt-n-plus-1', container_count: 12 }).first();
+    const reducedLot = (await db('lot').where({ sampling_plan: 'sqrt-n-plus-1', container_count: 12 }).first())!;
     expect(reducedLot.sample_count).toBe(5); // ceil(1 + sqrt(12)), WHO TRS 929 Annex 4, 5.1
     expect(
       await db('sampled_container as s')
@@ -312,25 +318,25 @@ describe('demo seed', () => {
     const tested = await db('identity_test as t')
       .join('lot as l', 'l.id', 't.lot_id')
       .whereNotNull('l.sampling_plan')
-      .distinct('t.lot_id as lot_id');
+      .distinct<{ lot_id: number }[]>('t.lot_id as lot_id');
     for (const t of tested)
       expect(await db('sampling_record').where({ lot_id: t.lot_id }).first(), `lot ${t.lot_id}`).toBeTruthy();
     expect(await db('lot').where({ status: 'released' }).whereNotNull('retest_date')).toHaveLength(1);
     expect((await db('lot').where({ status: 'rejected' })).length).toBeGreaterThan(0);
     expect((await db('lot').where({ status: 'quarantine', identity_status: 'passed' })).length).toBeGreaterThan(0);
     expect(await db('machine_account').whereNull('revoked_at')).toHaveLength(1);
-    expect((await db('webhook_endpoint').first()).url).toBe('http://127.0.0.1:8090/hooks');
+    expect((await db('webhook_endpoint').first())!.url).toBe('http://127.0.0.1:8090/hooks');
   });
 
   it('holds a synthetic drifting history of 40 passed results with its open trend signals and a signed audit-trail review', async () => {
     const lots = await db('lot').where('lot_number', 'like', `${DEMO_TREND.prefix}-%`).orderBy('lot_number');
     expect(lots).toHaveLength(40);
-    expect(lots.every((l) => /Synthetic trend history/.test(l.notes))).toBe(true);
+    expect(lots.every((l) => /Synthetic trend history/.test(l.notes ?? ''))).toBe(true);
     // past times, weeks before the seed ran (set by the seed only)
-    const first = await db('measurement as m')
+    const first = (await db('measurement as m')
       .join('identity_test as t', 't.id', 'm.test_id')
       .where('t.lot_id', lots[0].id)
-      .first('m.created_at');
+      .first<Pick<MeasurementRow, 'created_at'> | undefined>('m.created_at'))!;
     expect(Date.now() - new Date(first.created_at).getTime()).toBeGreaterThan(40 * 86_400_000);
     const written = await db('audit_event').where({ action: 'demo.synthetic-history-written' });
     expect(written).toHaveLength(40);
@@ -358,23 +364,23 @@ describe('demo seed', () => {
   });
 
   it('leaves the administrator an account to attend to: a new hire created by adam, not yet signed in', async () => {
-    const u = await db('app_user').where({ username: NEW_HIRE.username }).first();
+    const u = (await db('app_user').where({ username: NEW_HIRE.username }).first())!;
     expect(u.must_change_password).toBe(1);
-    const adam = await db('app_user').where({ username: 'adam' }).first();
-    const created = await db('audit_event')
+    const adam = (await db('app_user').where({ username: 'adam' }).first())!;
+    const created = (await db('audit_event')
       .where({ action: 'user.created', entity_id: String(u.id) })
-      .first();
+      .first())!;
     expect(created.actor_id).toBe(adam.id);
   });
 
   it('leaves a role change for the second administrator: Adam asked for verifier for Olga, Sigrid confirms', async () => {
-    const olga = await db('app_user').where({ username: 'olga' }).first();
-    const adam = await db('app_user').where({ username: 'adam' }).first();
+    const olga = (await db('app_user').where({ username: 'olga' }).first())!;
+    const adam = (await db('app_user').where({ username: 'adam' }).first())!;
     const req = await db('role_request as r')
       .leftJoin('role_decision as d', 'd.request_id', 'r.id')
       .where('r.user_id', olga.id)
       .whereNull('d.id')
-      .first('r.*');
+      .first<RoleRequestRow | undefined>('r.*');
     expect(req).toMatchObject({ requested_by: adam.id, roles_after: JSON.stringify(ROLE_REQUEST.roles) });
     expect(JSON.parse(olga.roles)).toEqual(['operator']);
     // the demo accounts came through the site-setup path, audited as such
@@ -384,7 +390,7 @@ describe('demo seed', () => {
 
   it('has every demo account, with the roles README lists', async () => {
     for (const a of DEMO_ACCOUNTS) {
-      const u = await db('app_user').where({ username: a.username }).first();
+      const u = (await db('app_user').where({ username: a.username }).first())!;
       expect(JSON.parse(u.roles)).toEqual(a.roles);
     }
   });
@@ -394,7 +400,7 @@ describe('demo seed', () => {
       ...(await db('measurement').select('file_id')),
       ...(await db('reference_spectrum').select('file_id')),
       ...(await db('instrument_check').select('file_id')),
-    ].map((r) => r.file_id as number);
+    ].map((r) => r.file_id);
     const shas = await db('stored_file').whereIn('id', used).select('sha256');
     expect(shas.length).toBe(used.length);
     expect(new Set(shas.map((r) => r.sha256)).size).toBe(used.length);

@@ -108,10 +108,10 @@ describe('release', () => {
     expect(d.retestDate.slice(0, 7)).toBe(expected.toISOString().slice(0, 7)); // 24 months of the profile
     const detail = (await qa.agent.get(`/api/lots/${lot.id}`)).body;
     expect(detail.containers.map((c: { status: string }) => c.status)).toEqual(['released', 'released']);
-    const ev = await db()('audit_event')
+    const ev = (await db()('audit_event')
       .where({ action: 'lot.released', entity_id: String(lot.id) })
-      .first();
-    expect(JSON.parse(ev.after_json).retestDate).toBe(d.retestDate);
+      .first())!;
+    expect(JSON.parse(ev.after_json!).retestDate).toBe(d.retestDate);
     // the release record is not the certificate: the certificate stays a statement of identity
     const cert = await db()('certificate').where({ lot_id: lot.id }).first();
     expect(cert).toBeDefined();

@@ -33,6 +33,7 @@ import { methodSignedContent } from '../../server/modules/library/service';
 import { loadContext, signedContent } from '../../server/modules/testing/context';
 import { hashPassword } from '../../server/lib/passwords';
 import type { Role } from '../../server/lib/contract';
+import type { StoredFileRow } from '../../server/lib/db-tables';
 import {
   checkPolystyrene,
   defaultMidIrAtrMethod,
@@ -154,7 +155,7 @@ async function storeFile(
   mediaType: string,
   by: number,
   at: Date,
-): Promise<{ id: number; sha256: string }> {
+): Promise<Pick<StoredFileRow, 'id' | 'sha256'>> {
   const sha = sha256Hex(data);
   const [id] = await db('stored_file').insert({
     sha256: sha,
@@ -234,7 +235,8 @@ export async function createPassedLot(db: Knex, opts: PassedLotOptions = {}): Pr
     'identity_method',
     methodId,
     at(2),
-    methodSignedContent(await db('identity_method').where({ id: methodId }).first()),
+    // inserted above as approved; the status column is a plain string in the table type
+    methodSignedContent({ ...(await db('identity_method').where({ id: methodId }).first())!, status: 'approved' }),
   );
   await db('identity_method')
     .where({ id: methodId })

@@ -135,8 +135,8 @@ export async function supplierFor(
 ): Promise<{ supplierId: number; sourceId: number }> {
   if (!opts.fresh && !opts.status && sourceCache.has(materialId)) {
     const sourceId = sourceCache.get(materialId)!;
-    const row = await db()('material_source').where({ id: sourceId }).first();
-    return { supplierId: row.supplier_id as number, sourceId };
+    const row = (await db()('material_source').where({ id: sourceId }).first())!;
+    return { supplierId: row.supplier_id, sourceId };
   }
   const qa = await fixtureQaAgent();
   const s = await qa.agent

@@ -84,7 +84,7 @@ describe('free text and dates (finding 11)', () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 1, {
       notes: 'drum 1:\tseal intact\r\ndrum 2:\tlabel torn',
     });
-    const row = await db()('lot').where({ id: lot.id }).first();
+    const row = (await db()('lot').where({ id: lot.id }).first())!;
     expect(row.notes).toBe('drum 1:\tseal intact\ndrum 2:\tlabel torn');
   });
 
@@ -109,7 +109,7 @@ describe('free text and dates (finding 11)', () => {
       .patch(`/api/users/${u.id}`)
       .send({ fullName: 'Test \u202Enamdiva', reason: 'name corrected' });
     expect(bidiReason.status).toBe(400);
-    expect((await db()('app_user').where({ id: u.id }).first()).full_name).toBe(u.fullName);
+    expect((await db()('app_user').where({ id: u.id }).first())!.full_name).toBe(u.fullName);
     const auditBefore = Number((await db()('audit_event').count({ n: '*' }).first())!.n);
     const s = await request(testApp()).post('/api/auth/sign-in').send({ username: 'admin\u0000', password: PASSWORD });
     expect(s.status).toBe(400);
@@ -154,7 +154,7 @@ describe('CSV export of formula-leading cells (finding 6)', () => {
     // numbers are data, not formulas: ids and times are not touched
     expect(text).not.toMatch(/,'\d/);
     // the audit trail itself keeps the values exactly as entered
-    const stored = await db()('audit_event').where({ actor_name: formula }).first();
+    const stored = (await db()('audit_event').where({ actor_name: formula }).first())!;
     expect(stored.actor_name).toBe(formula);
     const reasonsStored = await db()('audit_event')
       .where({ entity_type: 'user', entity_id: String(u.id) })
@@ -280,8 +280,8 @@ describe('a maximum-size upload is parsed off the event loop (finding 10)', () =
     expect(res.body.verdict).toBe('pass');
     expect(res.body.result.sampleMeta.points).toBeGreaterThan(800_000);
     expect(computePoolStats().completed).toBeGreaterThan(tasksBefore);
-    const m = await db()('measurement').where({ id: res.body.id }).first();
-    const f = await db()('stored_file').where({ id: m.file_id }).first();
+    const m = (await db()('measurement').where({ id: res.body.id }).first())!;
+    const f = (await db()('stored_file').where({ id: m.file_id }).first())!;
     expect(f.size).toBe(bytes.length);
     expect(f.sha256).toBe(sha256Hex(bytes));
     expect(sha256Hex(f.data)).toBe(f.sha256);
