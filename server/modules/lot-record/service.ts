@@ -64,8 +64,8 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
     certRow != null
       ? {
           state: 'issued' as const,
-          id: certRow.id as number,
-          number: certRow.number as string,
+          id: certRow.id,
+          number: certRow.number,
           issuedAt: new Date(certRow.issued_at).toISOString(),
         }
       : lot.identityStatus === 'passed'

@@ -6,6 +6,7 @@
  */
 import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
+import type { IdentityMethodRow, MaterialRow } from '../../lib/db-tables';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { formatSiteDate } from '../../lib/contract';
 import { AppError } from '../../lib/errors';
@@ -31,17 +32,20 @@ export async function receivableMaterials(db: Knex): Promise<ReceivableMaterial[
     })
     .where('m.active', 1)
     .whereExists(db('reference_spectrum as r').whereRaw('r.material_id = m.id').andWhere('r.status', 'approved'))
-    .select('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
+    .select<
+      (Pick<MaterialRow, 'id' | 'code' | 'name' | 'grade'> &
+        Pick<IdentityMethodRow, 'technique'> & { method_version: IdentityMethodRow['version'] })[]
+    >('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
     .orderBy('m.name');
   const out: ReceivableMaterial[] = rows
-    .filter((r) => !unsuitable.includes(r.id as number))
+    .filter((r) => !unsuitable.includes(r.id))
     .map((r) => ({
-      id: r.id as number,
-      code: r.code as string,
-      name: r.name as string,
-      grade: r.grade as string,
-      methodVersion: r.method_version as number,
-      technique: r.technique as string,
+      id: r.id,
+      code: r.code,
+      name: r.name,
+      grade: r.grade,
+      methodVersion: r.method_version,
+      technique: r.technique,
       irNotSuitable: false,
     }));
   const marked = await db('material')
@@ -136,7 +140,7 @@ export async function receiveLot(
       label: containerLabel(created.number, i + 1),
     }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
-    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id as number);
+    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id);
     await recordReceivedContainers(trx, { containerIds: ids, userId: actor.id, now });
     await appendAudit(trx, {
       actor,
