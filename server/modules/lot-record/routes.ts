@@ -6,7 +6,7 @@ import { Router } from 'express';
 import type { AppConfig } from '../../lib/config';
 import { getDb } from '../../lib/db';
 import { defineRoute, idParams } from '../../lib/http';
-import { lotCreateSchema } from '../lots/contract';
+import { lotCreateSchema } from './contract';
 import * as service from './service';
 
 const OPERATOR = { roles: ['operator'] as const };

@@ -10,7 +10,7 @@ import { notFound } from '../../lib/errors';
 import { signaturesFor } from '../../lib/esign';
 import * as inv from '../investigations';
 import * as lots from '../lots';
-import type { LotCreate, LotDetail } from '../lots/contract';
+import type { LotCreate, LotDetail } from './contract';
 import * as testing from '../testing';
 
 /** Receives a lot (lots' `receiveLot`) and answers with its record page. */
