@@ -43,7 +43,9 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
   const effective = testing.effectiveResults(refs, tests, scopes, measurements);
   const current =
     [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
-  const latestCurrent = current ? testing.latestByContainer(measurements, current.id) : new Map();
+  const latestCurrent: ReturnType<typeof testing.latestByContainer> = current
+    ? testing.latestByContainer(measurements, current.id)
+    : new Map();
   const names = await testing.userNames(
     db,
     tests.flatMap((t) => [t.performed_by, t.verified_by]),
