@@ -23,6 +23,7 @@ import { instrumentRoutes } from './modules/instruments/routes';
 import { auditRoutes } from './modules/audit/routes';
 import { certificateRoutes } from './modules/certificates/routes';
 import { lotRoutes } from './modules/lots/routes';
+import { lotRecordRoutes } from './modules/lot-record';
 import { testingRoutes } from './modules/testing/routes';
 import { workQueueRoutes } from './modules/work-queue';
 import { investigationRoutes } from './modules/investigations/routes';
@@ -105,6 +106,7 @@ export function createApp(opts: CreateAppOptions = {}): { app: Express; config: 
     auditRoutes(config),
     certificateRoutes(config),
     lotRoutes(config),
+    lotRecordRoutes(config),
     testingRoutes(config),
     workQueueRoutes(config),
     intakeRoutes(config),

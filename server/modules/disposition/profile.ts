@@ -12,7 +12,15 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { AppError, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { irSuitabilityOf } from '../library';
-import type { CheckDef, MaterialProfile, MaterialProfileView, ProfileInput } from './contract';
+import type { AppUserRow, MaterialProfileRow } from '../../lib/db-tables';
+import { oneOf } from '../lots';
+import {
+  RISK_CLASSES,
+  type CheckDef,
+  type MaterialProfile,
+  type MaterialProfileView,
+  type ProfileInput,
+} from './contract';
 import { transactionWithRetry } from '../../lib/retry';
 
 /** A material row with `ir_not_suitable` set from QA's latest IR-suitability decision. */
@@ -24,23 +32,23 @@ export async function materialWithIr(db: Db, materialId: number) {
 }
 
 /** The material's "IR not suitable" flag, on a row read by materialWithIr (absent = IR suitable). */
-export function irNotSuitable(material: Record<string, unknown>): boolean {
+export function irNotSuitable(material: { ir_not_suitable?: boolean }): boolean {
   return Boolean(material.ir_not_suitable);
 }
 
-async function toProfile(db: Db, r: Record<string, unknown>, names: Map<number, string>): Promise<MaterialProfile> {
-  const sigs = await signaturesFor(db, 'material', r.material_id as number);
+async function toProfile(db: Db, r: MaterialProfileRow, names: Map<number, string>): Promise<MaterialProfile> {
+  const sigs = await signaturesFor(db, 'material', r.material_id);
   return {
-    id: r.id as number,
-    materialId: r.material_id as number,
-    version: r.version as number,
-    retestMonths: r.retest_months as number,
-    shelfLifeMonths: r.shelf_life_months as number,
-    riskClass: r.risk_class as MaterialProfile['riskClass'],
-    checks: parseJson<CheckDef[]>(r.checks as string, []),
-    reason: r.reason as string,
-    createdBy: { id: r.created_by as number, name: names.get(r.created_by as number) ?? '' },
-    createdAt: new Date(r.created_at as string).toISOString(),
+    id: r.id,
+    materialId: r.material_id,
+    version: r.version,
+    retestMonths: r.retest_months,
+    shelfLifeMonths: r.shelf_life_months,
+    riskClass: oneOf(RISK_CLASSES, r.risk_class, `material profile ${r.id} risk class`),
+    checks: parseJson<CheckDef[]>(r.checks, []),
+    reason: r.reason,
+    createdBy: { id: r.created_by, name: names.get(r.created_by) ?? '' },
+    createdAt: new Date(r.created_at).toISOString(),
     signature: sigs.find((s) => s.id === r.signature_id) ?? null,
   };
 }
@@ -60,8 +68,8 @@ export async function profileView(db: Db, materialId: number): Promise<MaterialP
     .join('app_user as u', 'u.id', 'p.created_by')
     .where('p.material_id', materialId)
     .orderBy('p.version')
-    .select('p.*', 'u.full_name as u_name');
-  const names = new Map(rows.map((r) => [r.created_by as number, r.u_name as string]));
+    .select<(MaterialProfileRow & { u_name: AppUserRow['full_name'] })[]>('p.*', 'u.full_name as u_name');
+  const names = new Map(rows.map((r) => [r.created_by, r.u_name]));
   const history: MaterialProfile[] = [];
   for (const r of rows) history.push(await toProfile(db, r, names));
   return {
@@ -72,7 +80,7 @@ export async function profileView(db: Db, materialId: number): Promise<MaterialP
 }
 
 export async function listProfiles(db: Db): Promise<MaterialProfileView[]> {
-  const ids = (await db('material').where({ active: 1 }).orderBy('name').select('id')).map((r) => r.id as number);
+  const ids = (await db('material').where({ active: 1 }).orderBy('name').select('id')).map((r) => r.id);
   const out: MaterialProfileView[] = [];
   for (const id of ids) out.push(await profileView(db, id));
   return out;

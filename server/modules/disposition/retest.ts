@@ -12,7 +12,8 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
-import type { Db } from '../../lib/db';
+import { must, type Db } from '../../lib/db';
+import type { AppUserRow, LotRetestRow, LotRow, MaterialRow } from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
@@ -22,7 +23,7 @@ import { moveLot, setContainerStatus } from '../lots';
 import { sampledContainerIds } from '../sampling';
 import type { RetestInput, RetestRecord } from './contract';
 
-const isoDate = (d: unknown) => (d ? new Date(d as string).toISOString().slice(0, 10) : null);
+const isoDate = (d: Date | null) => (d ? new Date(d).toISOString().slice(0, 10) : null);
 
 /** The signed content of a retest start (rebuilt by the integrity sweep, server/signature-recipes.ts). */
 export function retestSignedContent(r: {
@@ -45,7 +46,7 @@ export async function retestsOf(db: Db, lotId: number): Promise<RetestRecord[]> 
     .join('app_user as u', 'u.id', 'r.started_by')
     .where('r.lot_id', lotId)
     .orderBy('r.id')
-    .select('r.*', 'u.full_name as u_name');
+    .select<(LotRetestRow & { u_name: AppUserRow['full_name'] })[]>('r.*', 'u.full_name as u_name');
   if (!rows.length) return [];
   const sigs = await signaturesFor(db, 'lot', lotId);
   return rows.map((r) => ({
@@ -74,7 +75,7 @@ export async function startRetest(
   const lot = await db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where('l.id', lotId)
-    .first('l.*', 'm.code as m_code');
+    .first<(LotRow & { m_code: MaterialRow['code'] }) | undefined>('l.*', 'm.code as m_code');
   if (!lot) throw notFound('The lot');
   if (lot.status !== 'released')
     throw conflict(
@@ -90,12 +91,14 @@ export async function startRetest(
   });
   const sampled = await sampledContainerIds(db, lotId);
   await transactionWithRetry(db, async (trx) => {
-    const row = await trx('lot').where({ id: lotId }).forUpdate().first();
+    const row = must(await trx('lot').where({ id: lotId }).forUpdate().first(), `lot ${lot.lot_number}`);
     if (row.status !== 'released') throw conflict(`Lot ${lot.lot_number} is ${row.status}; it was changed meanwhile.`);
+    // a release always records its disposition (lots' state machine, `moveLot` with `disposition_id`)
+    const dispositionId = must(row.disposition_id ?? undefined, `disposition of released lot ${lot.lot_number}`);
     const retestDateDue = isoDate(row.retest_date);
     const content = retestSignedContent({
       lotNumber: lot.lot_number,
-      reopenedDispositionId: row.disposition_id,
+      reopenedDispositionId: dispositionId,
       retestDateDue,
       reason: input.reason,
     });
@@ -112,7 +115,7 @@ export async function startRetest(
     const now = new Date();
     const [retestId] = await trx('lot_retest').insert({
       lot_id: lotId,
-      reopened_disposition_id: row.disposition_id,
+      reopened_disposition_id: dispositionId,
       retest_date_due: row.retest_date,
       reason: input.reason,
       signature_id: sig.id,
@@ -126,7 +129,7 @@ export async function startRetest(
       now,
       audit: { recordedBy: 'lot.retest-started' },
     });
-    const all = (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id as number);
+    const all = (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id);
     const underTest = sampled ? all.filter((id) => sampled.includes(id)) : all;
     const rest = all.filter((id) => !underTest.includes(id));
     const reason = `Retest of the lot started by QA: ${input.reason}`.slice(0, 2000);

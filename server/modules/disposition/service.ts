@@ -15,13 +15,25 @@
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { formatSiteDate } from '../../lib/contract';
-import type { Db } from '../../lib/db';
+import { must, type Db } from '../../lib/db';
+import type {
+  AppUserRow,
+  CertificateRow,
+  LotCheckRow,
+  LotDispositionRow,
+  LotRow,
+  MaterialRow,
+  MeasurementRow,
+} from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { currentStatuses, holdsOf, moveLot, setContainerStatus } from '../lots';
+import { currentStatuses, holdsOf, moveLot, oneOf, setContainerStatus } from '../lots';
+import { LOT_STATUSES } from '../lots/contract';
 import { enqueueEvent } from '../../lib/webhook-outbox';
 import {
+  CHECK_OUTCOMES,
+  DECISIONS,
   DISPOSITION_CAUTION,
   type CheckDef,
   type DispositionRecord,
@@ -40,9 +52,14 @@ async function lotRow(db: Db, lotId: number) {
   const lot = await db('lot as l')
     .join('material as m', 'm.id', 'l.material_id')
     .where('l.id', lotId)
-    .first('l.*', 'm.name as m_name', 'm.code as m_code');
+    .first<(LotRow & { m_name: MaterialRow['name']; m_code: MaterialRow['code'] }) | undefined>(
+      'l.*',
+      'm.name as m_name',
+      'm.code as m_code',
+    );
   if (!lot) throw notFound('The lot');
-  const material = await materialWithIr(db, lot.material_id);
+  // the lot's material exists: lot.material_id references it, and materials are never deleted
+  const material = must(await materialWithIr(db, lot.material_id), `material of lot ${lot.lot_number}`);
   return { lot, material };
 }
 
@@ -51,12 +68,12 @@ async function checkRecords(db: Db, lotId: number): Promise<LotCheckRecord[]> {
     .join('app_user as u', 'u.id', 'c.recorded_by')
     .where('c.lot_id', lotId)
     .orderBy('c.id')
-    .select('c.*', 'u.full_name as u_name');
+    .select<(LotCheckRow & { u_name: AppUserRow['full_name'] })[]>('c.*', 'u.full_name as u_name');
   const sigs = await signaturesFor(db, 'lot', lotId);
   return rows.map((r) => ({
     id: r.id,
     checkKey: r.check_key,
-    outcome: r.outcome,
+    outcome: oneOf(CHECK_OUTCOMES, r.outcome, `lot check ${r.id} outcome`),
     reference: r.reference,
     note: r.note,
     recordedBy: { id: r.recorded_by, name: r.u_name },
@@ -71,7 +88,7 @@ async function currentCertificate(db: Db, lotId: number) {
     .where('c.lot_id', lotId)
     .whereNull('n.id')
     .orderBy('c.id', 'desc')
-    .first('c.id', 'c.number', 'c.issued_at');
+    .first<Pick<CertificateRow, 'id' | 'number' | 'issued_at'> | undefined>('c.id', 'c.number', 'c.issued_at');
 }
 
 /** Every release condition of a lot, each with whether it holds and why not. */
@@ -149,10 +166,7 @@ export async function releaseConditions(
   const statuses = await currentStatuses(db, lotId);
   const holds = await holdsOf(db, lotId);
   const labels = new Map(
-    (await db('container').where({ lot_id: lotId }).select('id', 'label')).map((x) => [
-      x.id as number,
-      x.label as string,
-    ]),
+    (await db('container').where({ lot_id: lotId }).select('id', 'label')).map((x) => [x.id, x.label]),
   );
   const blocked = [...statuses].filter(([, st]) => st === 'blocked').map(([id]) => id);
   conditions.push({
@@ -182,9 +196,10 @@ export async function releaseConditions(
   if (lot.source_id) {
     const st = await db('source_status').where({ source_id: lot.source_id }).orderBy('id', 'desc').first();
     sourceOk = st?.status !== 'blocked';
-    sourceDetail = sourceOk
-      ? `Source status now: ${st?.status ?? 'unknown'}${lot.source_conditions ? `; conditions at receipt: ${lot.source_conditions}` : ''}.`
-      : `The source was blocked on ${formatSiteDate(st.effective_from, 'UTC')}: ${st.reason}`;
+    sourceDetail =
+      st?.status === 'blocked'
+        ? `The source was blocked on ${formatSiteDate(st.effective_from, 'UTC')}: ${st.reason}`
+        : `Source status now: ${st?.status ?? 'unknown'}${lot.source_conditions ? `; conditions at receipt: ${lot.source_conditions}` : ''}.`;
   }
   conditions.push({ key: 'source', label: 'The source is not blocked', met: sourceOk, detail: sourceDetail });
 
@@ -206,12 +221,14 @@ async function dispositionOf(db: Db, lotId: number): Promise<DispositionRecord |
     .leftJoin('certificate as c', 'c.id', 'd.certificate_id')
     .where('d.lot_id', lotId)
     .orderBy('d.id', 'desc')
-    .first('d.*', 'u.full_name as u_name', 'c.number as c_number');
+    .first<
+      (LotDispositionRow & { u_name: AppUserRow['full_name']; c_number: CertificateRow['number'] | null }) | undefined
+    >('d.*', 'u.full_name as u_name', 'c.number as c_number');
   if (!r) return null;
   const sigs = await signaturesFor(db, 'lot', lotId);
   return {
     id: r.id,
-    decision: r.decision,
+    decision: oneOf(DECISIONS, r.decision, `disposition ${r.id} decision`),
     reason: r.reason,
     retestDate: r.retest_date ? new Date(r.retest_date).toISOString().slice(0, 10) : null,
     certificateNumber: r.c_number ?? null,
@@ -227,7 +244,7 @@ export async function dispositionView(db: Db, lotId: number): Promise<LotDisposi
   return {
     lotId,
     lotNumber: lot.lot_number,
-    status: lot.status,
+    status: oneOf(LOT_STATUSES, lot.status, `lot ${lot.lot_number} status`),
     conditions: c.conditions,
     releasable: lot.status === 'quarantine' && c.conditions.every((x) => x.met),
     requiredChecks: c.required,
@@ -324,7 +341,7 @@ async function labPeople(db: Db, lotId: number): Promise<Set<number>> {
   for (const m of await db('measurement as m')
     .join('identity_test as t', 't.id', 'm.test_id')
     .where('t.lot_id', lotId)
-    .distinct('m.created_by'))
+    .distinct<Pick<MeasurementRow, 'created_by'>[]>('m.created_by'))
     out.add(m.created_by);
   const s = await db('sampling_record').where({ lot_id: lotId }).first('sampler_id');
   if (s) out.add(s.sampler_id);
@@ -373,7 +390,7 @@ export async function release(
   const today = formatSiteDate(new Date(), siteTimeZone);
   const retestDate = addMonths(today, c.profile!.retestMonths);
   await transactionWithRetry(db, async (trx) => {
-    const row = await trx('lot').where({ id: lotId }).forUpdate().first();
+    const row = must(await trx('lot').where({ id: lotId }).forUpdate().first(), `lot ${lot.lot_number}`);
     if (row.status !== 'quarantine') throw conflict(`Lot ${lot.lot_number} is already ${row.status}.`);
     const content = {
       lot: lot.lot_number,
@@ -413,7 +430,7 @@ export async function release(
     });
     await setContainerStatus(trx, {
       lotId,
-      containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id as number),
+      containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id),
       status: 'released',
       reason: `Lot released by QA; retest by ${retestDate}`,
       signatureId: sig.id,
@@ -476,7 +493,7 @@ export async function reject(
     ip,
   });
   await transactionWithRetry(db, async (trx) => {
-    const row = await trx('lot').where({ id: lotId }).forUpdate().first();
+    const row = must(await trx('lot').where({ id: lotId }).forUpdate().first(), `lot ${lot.lot_number}`);
     if (row.status !== 'quarantine') throw conflict(`Lot ${lot.lot_number} is already ${row.status}.`);
     const content = { lot: lot.lot_number, decision: 'rejected', reason: input.reason };
     const sig = await recordSignature(trx, {
@@ -504,7 +521,7 @@ export async function reject(
     });
     await setContainerStatus(trx, {
       lotId,
-      containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id as number),
+      containerIds: (await trx('container').where({ lot_id: lotId }).select('id')).map((x) => x.id),
       status: 'rejected',
       reason: `Lot rejected by QA: ${input.reason}`.slice(0, 2000),
       signatureId: sig.id,
@@ -561,7 +578,12 @@ export async function lotsAwaitingDisposition(db: Db) {
           ),
       ),
     )
-    .select('l.id', 'l.lot_number', 'm.name as m_name', 'l.received_date')
+    .select<(Pick<LotRow, 'id' | 'lot_number' | 'received_date'> & { m_name: MaterialRow['name'] })[]>(
+      'l.id',
+      'l.lot_number',
+      'm.name as m_name',
+      'l.received_date',
+    )
     .orderBy('l.id');
 }
 
@@ -573,6 +595,11 @@ export async function retestsDue(db: Db, days = 30) {
     .where('l.status', 'released')
     .whereNotNull('l.retest_date')
     .where('l.retest_date', '<=', until)
-    .select('l.id', 'l.lot_number', 'm.name as m_name', 'l.retest_date')
+    .select<
+      (Pick<LotRow, 'id' | 'lot_number'> & {
+        retest_date: NonNullable<LotRow['retest_date']>; // whereNotNull above
+        m_name: MaterialRow['name'];
+      })[]
+    >('l.id', 'l.lot_number', 'm.name as m_name', 'l.retest_date')
     .orderBy('l.retest_date');
 }

@@ -9,7 +9,8 @@ import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser, MachineUser } from '../../lib/http';
-import { getLotDetail, receiveLot } from '../lots';
+import { getLotDetail } from '../lot-record';
+import { receiveLot } from '../lots';
 import type {
   ErpLotView,
   ErpReceipt,

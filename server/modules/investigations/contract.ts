@@ -86,6 +86,8 @@ export type InvestigationKind = (typeof INVESTIGATION_KINDS)[number];
 
 export const INVESTIGATION_STATUSES = ['open', 'phase1-recorded', 'retest-authorised', 'closed'] as const;
 export type InvestigationStatus = (typeof INVESTIGATION_STATUSES)[number];
+export const INVESTIGATION_DECISIONS = ['invalidated', 'confirmed', 'concluded'] as const;
+export type InvestigationDecision = (typeof INVESTIGATION_DECISIONS)[number];
 
 export const investigationListQuery = z.object({
   state: z.enum(['open', 'all']).default('open'),
@@ -160,7 +162,7 @@ export interface InvestigationSummary {
   /** the signal and its measurements, for kind trend */
   trend: TrendSubject | null;
   status: InvestigationStatus;
-  decision: 'invalidated' | 'confirmed' | 'concluded' | null;
+  decision: InvestigationDecision | null;
   failing: FailingContainer[];
   phase1: Phase1Record | null;
   justification: string | null;

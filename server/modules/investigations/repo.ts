@@ -1,43 +1,24 @@
 /** Data access of investigations. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
-import type {
-  FailingContainer,
-  InvestigationKind,
-  InvestigationStatus,
-  InvestigationSummary,
-  Phase1Record,
-  TrendSubject,
+import type { AppUserRow, IdentityTestRow, InvestigationRow, LotRow, MaterialRow } from '../../lib/db-tables';
+import { oneOf, oneOfOrNull } from '../lots';
+import {
+  INVESTIGATION_DECISIONS,
+  INVESTIGATION_KINDS,
+  INVESTIGATION_STATUSES,
+  type FailingContainer,
+  type InvestigationSummary,
+  type Phase1Record,
+  type TrendSubject,
 } from './contract';
 
-export interface InvestigationRow {
-  id: number;
-  number: string;
-  kind: InvestigationKind;
-  lot_id: number | null;
-  test_id: number | null;
-  trend_signal_id: number | null;
-  subject: string | null;
-  opening_signature_id: number | null;
-  status: InvestigationStatus;
-  failing: string;
-  phase1: string | null;
-  decision: 'invalidated' | 'confirmed' | 'concluded' | null;
-  justification: string | null;
-  retest_containers: string | null;
-  opened_by: number | null;
-  opened_at: Date;
-  decided_by: number | null;
-  decision_signature_id: number | null;
-  closed_at: Date | null;
-  updated_at: Date;
-}
-
+/** An investigation with its lot's number, material name, test attempt and decider (left joins: a trend investigation has no lot or test). */
 type Joined = InvestigationRow & {
-  lot_number: string | null;
-  m_name: string | null;
-  attempt: number | null;
-  d_name: string | null;
+  lot_number: LotRow['lot_number'] | null;
+  m_name: MaterialRow['name'] | null;
+  attempt: IdentityTestRow['attempt'] | null;
+  d_name: AppUserRow['full_name'] | null;
 };
 
 export function toSummary(r: Joined): InvestigationSummary {
@@ -45,15 +26,15 @@ export function toSummary(r: Joined): InvestigationSummary {
   return {
     id: r.id,
     number: r.number,
-    kind: r.kind ?? 'failure',
+    kind: oneOf(INVESTIGATION_KINDS, r.kind, `investigation ${r.number} kind`),
     lotId: r.lot_id,
     lotNumber: r.lot_number ?? null,
     materialName: r.m_name ?? trend?.signal.materialName ?? '',
     testId: r.test_id,
     attempt: r.attempt ?? null,
     trend,
-    status: r.status,
-    decision: r.decision,
+    status: oneOf(INVESTIGATION_STATUSES, r.status, `investigation ${r.number} status`),
+    decision: oneOfOrNull(INVESTIGATION_DECISIONS, r.decision, `investigation ${r.number} decision`),
     failing: parseJson<FailingContainer[]>(r.failing, []),
     phase1: parseJson<Phase1Record | null>(r.phase1, null),
     justification: r.justification,
@@ -72,7 +53,7 @@ export function query(db: Db) {
     .leftJoin('material as m', 'm.id', 'l.material_id')
     .leftJoin('identity_test as t', 't.id', 'i.test_id')
     .leftJoin('app_user as d', 'd.id', 'i.decided_by')
-    .select('i.*', 'l.lot_number', 'm.name as m_name', 't.attempt', 'd.full_name as d_name');
+    .select<Joined[]>('i.*', 'l.lot_number', 'm.name as m_name', 't.attempt', 'd.full_name as d_name');
 }
 
 export async function findInvestigation(db: Db, id: number): Promise<InvestigationSummary | undefined> {

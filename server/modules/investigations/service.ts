@@ -12,6 +12,7 @@ import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
+import { must } from '../../lib/db';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { enqueueMailToRole } from '../../lib/mail';
@@ -150,7 +151,7 @@ export async function getInvestigation(db: Knex, id: number): Promise<Investigat
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
   const signatures = await signaturesFor(db, 'investigation', id);
-  const test = await db('identity_test').where({ id: inv.testId }).first();
+  const test = inv.testId === null ? undefined : await db('identity_test').where({ id: inv.testId }).first();
   return { ...inv, signatures, performedBy: test?.performed_by ?? null };
 }
 
@@ -171,6 +172,7 @@ async function assertNotAnalyst(
       );
     return;
   }
+  if (inv.testId === null) return; // only a trend investigation has no test (db/migrations/155_trend_investigation.ts)
   const t = await db('identity_test').where({ id: inv.testId }).first();
   const measured = await db('measurement').where({ test_id: inv.testId, created_by: user.id }).first();
   if (t?.performed_by === user.id || measured)
@@ -319,7 +321,10 @@ export async function invalidateResult(
         decision_signature_id: sig.id,
         updated_at: now,
       });
-    const lot = await trx('lot').where({ id: inv.lotId! }).forUpdate().first();
+    const lot = must(
+      await trx('lot').where({ id: inv.lotId! }).forUpdate().first(),
+      `lot ${inv.lotId} of investigation ${inv.number}`,
+    );
     await setContainerStatus(trx, {
       lotId: inv.lotId!,
       containerIds: inv.failing.map((f) => f.containerId),
@@ -415,10 +420,13 @@ export async function confirmFailure(
       closed_at: now,
       updated_at: now,
     });
-    const lot = await trx('lot').where({ id: inv.lotId! }).forUpdate().first();
+    const lot = must(
+      await trx('lot').where({ id: inv.lotId! }).forUpdate().first(),
+      `lot ${inv.lotId} of investigation ${inv.number}`,
+    );
     await setContainerStatus(trx, {
       lotId: inv.lotId!,
-      containerIds: (await trx('container').where({ lot_id: inv.lotId! }).select('id')).map((c) => c.id as number),
+      containerIds: (await trx('container').where({ lot_id: inv.lotId! }).select('id')).map((c) => c.id),
       status: 'rejected',
       reason: `Lot rejected: failure confirmed by investigation ${inv.number}`,
       signatureId: sig.id,

@@ -1,6 +1,10 @@
-/** What other modules use of lots and containers: lookups, receipt and the lot's detail. */
+/**
+ * What other modules use of lots and containers: lookups, receipt and the state machine. The lot's
+ * record page is composed above, in server/modules/lot-record.
+ */
 export { containersOf, findContainerByLabel, findLot, lockLot } from './repo';
-export { getLotDetail, receiveLot } from './service';
+export { receiveLot } from './service';
+export { oneOf, oneOfOrNull } from './values';
 export { lotRoutes } from './routes';
 export {
   CONTAINER_TRANSITIONS,

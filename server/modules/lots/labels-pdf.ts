@@ -3,7 +3,7 @@
  * (pdfmake's built-in QR node; a scanner reads the label and types it followed by Enter) and
  * the label in plain text, so a person can read and type it too.
  */
-import { type Content, renderPdf, type TableCell } from '../../lib/pdf';
+import { renderPdf, type TableCell } from '../../lib/pdf';
 import type { LotSummary } from './contract';
 
 const COLUMNS = 3;
@@ -25,7 +25,7 @@ export async function labelSheetPdf(
       { text: c.label, bold: true, fontSize: 10.5, margin: [0, 0, 0, 3] },
       {
         columns: [
-          { qr: c.label, fit: 70, eccLevel: 'M' } as unknown as Content,
+          { qr: c.label, fit: 70, eccLevel: 'M' },
           {
             width: '*',
             stack: [

@@ -1,39 +1,13 @@
 /** Data access of lots and containers. */
 import type { Db } from '../../lib/db';
+import type { ContainerRow, LotRow } from '../../lib/db-tables';
 import { dateOnly } from '../../lib/dates';
-import type { IdentityStatus, LotStatus, LotSummary } from './contract';
+import { SAMPLING_PLANS, SOURCE_STATUSES, type SourceStatus } from '../suppliers/contract';
+import { IDENTITY_STATUSES, LOT_STATUSES, type LotSummary } from './contract';
+import { oneOf, oneOfOrNull } from './values';
 
-export interface LotRow {
-  id: number;
-  lot_number: string;
-  material_id: number;
-  supplier: string;
-  supplier_id: number | null;
-  manufacturer_id: number | null;
-  source_id: number | null;
-  source_status: 'new' | 'qualified' | 'conditional' | null;
-  source_conditions: string | null;
-  first_delivery: number | boolean;
-  sampling_plan: 'every-container' | 'sqrt-n-plus-1' | null;
-  sample_count: number | null;
-  supplier_lot: string;
-  container_count: number;
-  received_date: Date | string;
-  notes: string | null;
-  status: LotStatus;
-  identity_status: IdentityStatus;
-  created_by: number | null;
-  erp_receipt_number?: string | null;
-  created_at: Date;
-  updated_at: Date;
-}
-
-export interface ContainerRow {
-  id: number;
-  lot_id: number;
-  seq: number;
-  label: string;
-}
+/** A lot is never received from a blocked source (suppliers' receipt rules), so its recorded source status is one of these. */
+const RECEIPT_SOURCE_STATUSES = SOURCE_STATUSES.filter((x): x is Exclude<SourceStatus, 'blocked'> => x !== 'blocked');
 
 type LotJoined = LotRow & {
   m_code: string;
@@ -54,18 +28,18 @@ export function toLotSummary(r: LotJoined): LotSummary {
     manufacturer: r.manufacturer_id ? { id: r.manufacturer_id, name: r.mf_name ?? '' } : null,
     source: {
       id: r.source_id,
-      statusAtReceipt: r.source_status,
+      statusAtReceipt: oneOfOrNull(RECEIPT_SOURCE_STATUSES, r.source_status, `lot ${r.lot_number} source status`),
       conditions: r.source_conditions,
       firstDelivery: !!r.first_delivery,
-      samplingPlan: r.sampling_plan,
+      samplingPlan: oneOfOrNull(SAMPLING_PLANS, r.sampling_plan, `lot ${r.lot_number} sampling plan`),
       sampleCount: r.sample_count,
     },
     supplierLot: r.supplier_lot,
     containerCount: r.container_count,
     receivedDate: dateOnly(r.received_date),
     notes: r.notes,
-    status: r.status,
-    identityStatus: r.identity_status,
+    status: oneOf(LOT_STATUSES, r.status, `lot ${r.lot_number} status`),
+    identityStatus: oneOf(IDENTITY_STATUSES, r.identity_status, `lot ${r.lot_number} identity status`),
     createdBy: r.created_by
       ? { id: r.created_by, name: r.u_name ?? '' }
       : { id: 0, name: `ERP interface (machine account ${r.ma_name ?? '?'})` },
@@ -81,7 +55,7 @@ export function lotQuery(db: Db) {
     .leftJoin('app_user as u', 'u.id', 'l.created_by')
     .leftJoin('supplier as mf', 'mf.id', 'l.manufacturer_id')
     .leftJoin('machine_account as ma', 'ma.id', 'l.erp_account_id')
-    .select(
+    .select<LotJoined[]>(
       'l.*',
       'm.code as m_code',
       'm.name as m_name',
@@ -129,6 +103,9 @@ export const findContainerByLabel = (db: Db, label: string): Promise<ContainerRo
 
 /** The highest lot number of a year (L-YYYY-NNNNN), or null. */
 export async function lastLotNumberOfYear(db: Db, prefix: string): Promise<string | null> {
-  const r = await db('lot').where('lot_number', 'like', `${prefix}%`).max('lot_number as n').first();
-  return (r?.n as string | null) ?? null;
+  const r = await db('lot')
+    .where('lot_number', 'like', `${prefix}%`)
+    .max<{ n: string | null }>('lot_number as n')
+    .first();
+  return r?.n ?? null;
 }

@@ -1,4 +1,7 @@
-/** HTTP edge of lot receipt: receivable grades, register a lot, list, detail, label sheet PDF. */
+/**
+ * HTTP edge of lot receipt: receivable grades, list, label sheet PDF. Registering a lot and the
+ * lot's record page answer with the whole record, so they live in server/modules/lot-record.
+ */
 import { Router } from 'express';
 import { auditNow } from '../../lib/audit';
 import type { AppConfig } from '../../lib/config';
@@ -8,10 +11,9 @@ import { defineRoute, idParams } from '../../lib/http';
 import { labelSheetPdf } from './labels-pdf';
 import { setPublicUrl } from '../../lib/links';
 import * as repo from './repo';
-import { lotCreateSchema, lotListQuerySchema } from './contract';
+import { lotListQuerySchema } from './contract';
 import * as service from './service';
 
-const OPERATOR = { roles: ['operator'] as const };
 const READERS = { roles: ['operator', 'verifier', 'qa_manager', 'auditor'] as const };
 
 export function lotRoutes(config: AppConfig): Router {
@@ -39,31 +41,6 @@ export function lotRoutes(config: AppConfig): Router {
       query: lotListQuerySchema,
     },
     ({ query }) => service.listLots(getDb(), query),
-  );
-  defineRoute(
-    r,
-    {
-      method: 'post',
-      path: '/api/lots',
-      summary: 'Register a received lot (quarantine) and create its labelled containers',
-      tag: 'lots',
-      access: OPERATOR,
-      body: lotCreateSchema,
-      status: 201,
-    },
-    ({ body, actor, ip }) => service.receiveLot(getDb(), actor, body, ip, config.siteTimeZone),
-  );
-  defineRoute(
-    r,
-    {
-      method: 'get',
-      path: '/api/lots/:id',
-      summary: 'A lot with its containers, test attempts, investigations and certificate state',
-      tag: 'lots',
-      access: READERS,
-      params: idParams,
-    },
-    ({ params }) => service.getLotDetail(getDb(), params.id),
   );
   defineRoute(
     r,

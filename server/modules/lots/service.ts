@@ -6,21 +6,17 @@
  */
 import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
+import type { IdentityMethodRow, MaterialRow } from '../../lib/db-tables';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { formatSiteDate } from '../../lib/contract';
-import { AppError, notFound } from '../../lib/errors';
-import { signaturesFor } from '../../lib/esign';
-import * as inv from '../investigations';
-import { scopesOf, underTest } from '../testing';
-import { currentStatuses, RECEIVED_LOT, recordReceivedContainers } from './state';
+import { AppError } from '../../lib/errors';
+import { RECEIVED_LOT, recordReceivedContainers } from './state';
 import { irSuitabilityMap } from '../library';
-import { effectiveResults, latestByContainer } from '../testing';
-import * as testing from '../testing';
 import { sourceForReceipt } from '../suppliers';
 import { enqueueEvent } from '../../lib/webhook-outbox';
 import { insertWithNextNumber, yearOf } from '../../lib/numbering';
 import * as repo from './repo';
-import type { LotCreate, LotDetail, LotSummary, ReceivableMaterial } from './contract';
+import type { LotCreate, LotSummary, ReceivableMaterial } from './contract';
 
 /**
  * Material grades a lot may be received for: active, approved method, at least one approved
@@ -36,17 +32,20 @@ export async function receivableMaterials(db: Knex): Promise<ReceivableMaterial[
     })
     .where('m.active', 1)
     .whereExists(db('reference_spectrum as r').whereRaw('r.material_id = m.id').andWhere('r.status', 'approved'))
-    .select('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
+    .select<
+      (Pick<MaterialRow, 'id' | 'code' | 'name' | 'grade'> &
+        Pick<IdentityMethodRow, 'technique'> & { method_version: IdentityMethodRow['version'] })[]
+    >('m.id', 'm.code', 'm.name', 'm.grade', 'im.version as method_version', 'im.technique')
     .orderBy('m.name');
   const out: ReceivableMaterial[] = rows
-    .filter((r) => !unsuitable.includes(r.id as number))
+    .filter((r) => !unsuitable.includes(r.id))
     .map((r) => ({
-      id: r.id as number,
-      code: r.code as string,
-      name: r.name as string,
-      grade: r.grade as string,
-      methodVersion: r.method_version as number,
-      technique: r.technique as string,
+      id: r.id,
+      code: r.code,
+      name: r.name,
+      grade: r.grade,
+      methodVersion: r.method_version,
+      technique: r.technique,
       irNotSuitable: false,
     }));
   const marked = await db('material')
@@ -82,7 +81,7 @@ export async function receiveLot(
   ip: string | null,
   siteTimeZone = 'UTC',
   erp?: { accountId: number; receiptNumber: string },
-): Promise<LotDetail> {
+): Promise<{ id: number; number: string }> {
   const material = await db('material').where({ id: input.materialId }).first();
   if (!material || !material.active)
     throw new AppError(422, 'MATERIAL_NOT_RECEIVABLE', 'This material grade does not exist or is no longer active.');
@@ -141,7 +140,7 @@ export async function receiveLot(
       label: containerLabel(created.number, i + 1),
     }));
     for (let i = 0; i < containers.length; i += 200) await trx('container').insert(containers.slice(i, i + 200));
-    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id as number);
+    const ids = (await trx('container').where({ lot_id: created.id }).select('id')).map((c) => c.id);
     await recordReceivedContainers(trx, { containerIds: ids, userId: actor.id, now });
     await appendAudit(trx, {
       actor,
@@ -186,103 +185,7 @@ export async function receiveLot(
     });
     return created;
   });
-  void number;
-  return getLotDetail(db, id);
-}
-
-export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
-  const lot = await repo.findLot(db, id);
-  if (!lot) throw notFound('The lot');
-  const containers = await repo.containersOf(db, id);
-  const tests = await testing.testsOfLot(db, id);
-  const scopes = await scopesOf(db, tests);
-  const measurements = await testing.measurementsOfLot(db, id);
-  const refs = await underTest(
-    db,
-    id,
-    containers.map((c) => ({ id: c.id, seq: c.seq, label: c.label })),
-  );
-  const sampledIds = new Set(refs.map((c) => c.id));
-  const statuses = await currentStatuses(db, id);
-  const samplingRow = await db('sampling_record').where({ lot_id: id }).first('sampled_at');
-  const effective = effectiveResults(refs, tests, scopes, measurements);
-  const current =
-    [...tests].reverse().find((t) => t.status === 'in-progress' || t.status === 'awaiting-verification') ?? null;
-  const latestCurrent = current ? latestByContainer(measurements, current.id) : new Map();
-  const names = await testing.userNames(
-    db,
-    tests.flatMap((t) => [t.performed_by, t.verified_by]),
-  );
-  const investigations = (await inv.investigationRowsOfLot(db, id)).map((r) => ({
-    id: r.id,
-    number: r.number,
-    status: r.status,
-    decision: r.decision,
-    openedAt: new Date(r.opened_at).toISOString(),
-    closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
-  }));
-  const certRow = await db('certificate')
-    .where({ lot_id: id })
-    .orderBy('id', 'desc')
-    .first('id', 'number', 'issued_at');
-  const certificate =
-    certRow != null
-      ? {
-          state: 'issued' as const,
-          id: certRow.id as number,
-          number: certRow.number as string,
-          issuedAt: new Date(certRow.issued_at).toISOString(),
-        }
-      : lot.identityStatus === 'passed'
-        ? { state: 'pending' as const }
-        : { state: 'none' as const };
-  const testSummaries = [];
-  for (const t of tests) {
-    testSummaries.push({
-      id: t.id,
-      attempt: t.attempt,
-      status: t.status,
-      retestOfInvestigationId: t.retest_of_investigation_id,
-      instrumentId: t.instrument_id,
-      methodId: t.method_id,
-      createdAt: new Date(t.created_at).toISOString(),
-      performedBy: t.performed_by ? { id: t.performed_by, name: names.get(t.performed_by) ?? '' } : null,
-      verifiedBy: t.verified_by ? { id: t.verified_by, name: names.get(t.verified_by) ?? '' } : null,
-      returnedReason: t.returned_reason,
-      measurements: measurements.filter((m) => m.testId === t.id).length,
-      signatures: await signaturesFor(db, 'identity_test', t.id),
-    });
-  }
-  return {
-    ...lot,
-    containers: containers.map((c) => {
-      const e = effective.get(c.id) ?? null;
-      const cur = latestCurrent.get(c.id) ?? null;
-      return {
-        id: c.id,
-        seq: c.seq,
-        label: c.label,
-        effective: e,
-        current: cur ? { measurementId: cur.id, verdict: cur.verdict, matchScore: cur.matchScore } : null,
-        currentInScope: current
-          ? (scopes.get(current.id)?.containerIds ?? null) === null ||
-            scopes.get(current.id)!.containerIds!.includes(c.id)
-          : false,
-        measurements: measurements.filter((m) => m.containerId === c.id).length,
-        status: statuses.get(c.id) ?? 'quarantine',
-        sampled: sampledIds.has(c.id),
-      };
-    }),
-    sampledAt: samplingRow
-      ? new Date(samplingRow.sampled_at).toISOString()
-      : lot.source.samplingPlan
-        ? null
-        : lot.createdAt,
-    tests: testSummaries,
-    currentTestId: current?.id ?? null,
-    investigations,
-    certificate,
-  };
+  return { id, number };
 }
 
 export async function listLots(db: Knex, f: { identityStatus?: string; search?: string }): Promise<LotSummary[]> {

@@ -18,8 +18,10 @@ import type { Knex } from 'knex';
 import { appendAudit, type AuditInput } from '../../lib/audit';
 import { parseJson, type Db } from '../../lib/db';
 import { AppError, conflict } from '../../lib/errors';
-import type { ContainerStatus } from '../sampling/contract';
-import type { IdentityStatus, LotStatus } from './contract';
+import { CONTAINER_STATUSES, type ContainerStatus } from '../sampling/contract';
+import type { ContainerStatusRow, LotRow } from '../../lib/db-tables';
+import { IDENTITY_STATUSES, LOT_STATUSES, type IdentityStatus, type LotStatus } from './contract';
+import { oneOf } from './values';
 
 /** A new lot: in quarantine, awaiting its identity test. */
 export const RECEIVED_LOT = { status: 'quarantine', identity_status: 'awaiting-testing' } as const satisfies {
@@ -134,7 +136,7 @@ export type TransitionAudit = AuditInput | { recordedBy: string };
 async function transitionContext(
   trx: Knex.Transaction,
   lotId: number,
-  row: { status: LotStatus; identity_status: IdentityStatus; material_id: number; disposition_id: number | null },
+  row: Pick<LotRow, 'status' | 'identity_status' | 'material_id' | 'disposition_id'>,
   to: Partial<LotState>,
 ): Promise<TransitionContext> {
   const ctx: TransitionContext = {};
@@ -183,7 +185,10 @@ export async function moveLot(
     .forUpdate()
     .first('status', 'identity_status', 'material_id', 'disposition_id');
   if (!row) throw new AppError(404, 'NOT_FOUND', `Lot ${r.lotId} does not exist.`);
-  const from: LotState = { status: row.status, identityStatus: row.identity_status };
+  const from: LotState = {
+    status: oneOf(LOT_STATUSES, row.status, `lot ${r.lotId} status`),
+    identityStatus: oneOf(IDENTITY_STATUSES, row.identity_status, `lot ${r.lotId} identity status`),
+  };
   const why = lotTransitionRefusal(from, r.to, await transitionContext(trx, r.lotId, row, r.to));
   if (why) throw conflict(why, { lotId: r.lotId, from, to: r.to });
   await trx('lot')
@@ -234,14 +239,15 @@ async function recorded(
     .join('container as c', 'c.id', 's.container_id')
     .where('c.lot_id', lotId)
     .orderBy('s.id')
-    .select('s.container_id', 's.status');
+    .select<Pick<ContainerStatusRow, 'container_id' | 'status'>[]>('s.container_id', 's.status');
   const out = new Map<number, { last: ContainerStatus; former: ContainerStatus }>();
   for (const c of await db('container').where({ lot_id: lotId }).select('id'))
     out.set(c.id, { last: 'quarantine', former: 'quarantine' });
   for (const r of rows) {
     const e = out.get(r.container_id)!;
-    e.last = r.status;
-    if (r.status !== 'blocked') e.former = r.status;
+    const status = oneOf(CONTAINER_STATUSES, r.status, `container ${r.container_id} status`);
+    e.last = status;
+    if (status !== 'blocked') e.former = status;
   }
   return out;
 }

@@ -47,7 +47,7 @@ export async function statusLabelsPdf(labels: StatusLabel[], siteName: string, t
       },
       {
         columns: [
-          { qr: l.containerLabel, fit: 96, eccLevel: 'M', margin: [0, 10, 0, 0] } as unknown as Content,
+          { qr: l.containerLabel, fit: 96, eccLevel: 'M', margin: [0, 10, 0, 0] },
           {
             width: '*',
             margin: [12, 10, 0, 0],

@@ -12,12 +12,13 @@
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import type { Db } from '../../lib/db';
+import type { AppUserRow, LineClearanceRow, SampledContainerRow, SamplingRecordRow } from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import * as lots from '../lots';
 import { currentStatuses, holdsOf, setContainerStatus } from '../lots';
-import { SAMPLING_PLAN_LABELS } from '../suppliers/contract';
+import { SAMPLING_PLANS, SAMPLING_PLAN_LABELS } from '../suppliers/contract';
 import type {
   LineClearanceInput,
   LineClearanceRecord,
@@ -38,8 +39,8 @@ export async function sampledContainerIds(db: Db, lotId: number): Promise<number
   const rows = await db('sampled_container as s')
     .join('sampling_record as r', 'r.id', 's.sampling_record_id')
     .where('r.lot_id', lotId)
-    .select('s.container_id');
-  return rows.map((r) => r.container_id as number);
+    .select<Pick<SampledContainerRow, 'container_id'>[]>('s.container_id');
+  return rows.map((r) => r.container_id);
 }
 
 async function clearances(db: Db, lotId: number): Promise<LineClearanceRecord[]> {
@@ -47,7 +48,7 @@ async function clearances(db: Db, lotId: number): Promise<LineClearanceRecord[]>
     .join('app_user as u', 'u.id', 'l.cleared_by')
     .where('l.lot_id', lotId)
     .orderBy('l.id')
-    .select('l.*', 'u.full_name as u_name');
+    .select<(LineClearanceRow & { u_name: AppUserRow['full_name'] })[]>('l.*', 'u.full_name as u_name');
   const sigs = await signaturesFor(db, 'lot', lotId);
   return rows.map((r) => ({
     id: r.id,
@@ -67,7 +68,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
   const rec = await db('sampling_record as r')
     .join('app_user as u', 'u.id', 'r.sampler_id')
     .where('r.lot_id', lotId)
-    .first('r.*', 'u.full_name as u_name');
+    .first<(SamplingRecordRow & { u_name: AppUserRow['full_name'] }) | undefined>('r.*', 'u.full_name as u_name');
   const containers = await lots.containersOf(db, lotId);
   const labelOf = new Map(containers.map((c) => [c.id, c.label]));
   let record: SamplingRecordView | null = null;
@@ -82,7 +83,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
       tool: rec.tool,
       reserve: { quantity: Number(rec.reserve_quantity), unit: rec.reserve_unit, location: rec.reserve_location },
       note: rec.note,
-      samplingPlan: rec.sampling_plan,
+      samplingPlan: lots.oneOf(SAMPLING_PLANS, rec.sampling_plan, `sampling record ${rec.id} plan`),
       sampler: { id: rec.sampler_id, name: rec.u_name },
       containers: sc.map((s) => ({
         containerId: s.container_id,
@@ -100,7 +101,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
   const holds = await holdsOf(db, lotId);
   return {
     lotId,
-    samplingPlan: lot.sampling_plan,
+    samplingPlan: lots.oneOfOrNull(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`),
     sampleCount: lot.sample_count,
     clearances: cl,
     record,
@@ -124,7 +125,7 @@ async function sampleableLot(db: Db, lotId: number) {
     throw conflict(`Lot ${lot.lot_number} was received before sampling records existed; it has no sampling plan.`);
   if (await db('sampling_record').where({ lot_id: lotId }).first('id'))
     throw conflict(`Lot ${lot.lot_number} has been sampled already; its sampling record cannot be replaced.`);
-  return lot;
+  return { lot, plan: lots.oneOf(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`) };
 }
 
 export async function recordLineClearance(
@@ -134,7 +135,7 @@ export async function recordLineClearance(
   input: LineClearanceInput,
   ip: string | null,
 ): Promise<LotSamplingView> {
-  const lot = await sampleableLot(db, lotId);
+  const { lot } = await sampleableLot(db, lotId);
   await checkSignatureCredentials(db, {
     user,
     credentials: input.signature,
@@ -188,7 +189,7 @@ export async function recordSampling(
   input: SamplingInput,
   ip: string | null,
 ): Promise<LotSamplingView> {
-  const lot = await sampleableLot(db, lotId);
+  const { lot, plan } = await sampleableLot(db, lotId);
   const clearance = await db('line_clearance').where({ id: input.lineClearanceId, lot_id: lotId }).first();
   if (!clearance)
     throw new AppError(
@@ -222,7 +223,6 @@ export async function recordSampling(
       `Container ${byId.get(unfinished.containerId)!.label} is not recorded as ${missing.join(' and ')}. Record a container only once it was opened, sampled and resealed.`,
     );
   }
-  const plan = lot.sampling_plan as 'every-container' | 'sqrt-n-plus-1';
   const needed = plan === 'every-container' ? containers.length : Number(lot.sample_count);
   if (ids.length < needed) {
     const rule =
@@ -273,7 +273,7 @@ export async function recordSampling(
       area: clearance.area,
       sampled_at: sampledAt,
       tool: input.tool,
-      reserve_quantity: input.reserve.quantity,
+      reserve_quantity: String(input.reserve.quantity), // a DECIMAL column: the driver sends a number as this text too
       reserve_unit: input.reserve.unit,
       reserve_location: input.reserve.location,
       note: input.note ?? null,

@@ -8,7 +8,9 @@
  * (server/modules/lots/state.ts); this file reads the history.
  */
 import type { Db } from '../../lib/db';
-import type { ContainerStatusRecord } from './contract';
+import type { AppUserRow, ContainerRow, ContainerStatusRow } from '../../lib/db-tables';
+import { oneOf } from '../lots';
+import { CONTAINER_STATUSES, type ContainerStatusRecord } from './contract';
 
 export async function statusHistory(db: Db, lotId: number): Promise<ContainerStatusRecord[]> {
   const rows = await db('container_status as s')
@@ -16,14 +18,18 @@ export async function statusHistory(db: Db, lotId: number): Promise<ContainerSta
     .leftJoin('app_user as u', 'u.id', 's.changed_by')
     .where('c.lot_id', lotId)
     .orderBy('s.id')
-    .select('s.*', 'c.label', 'u.full_name as u_name');
+    .select<(ContainerStatusRow & Pick<ContainerRow, 'label'> & { u_name: AppUserRow['full_name'] | null })[]>(
+      's.*',
+      'c.label',
+      'u.full_name as u_name',
+    );
   return rows.map((r) => ({
     id: r.id,
     containerId: r.container_id,
     label: r.label,
-    status: r.status,
+    status: oneOf(CONTAINER_STATUSES, r.status, `container ${r.container_id} status`),
     reason: r.reason,
-    changedBy: r.changed_by ? { id: r.changed_by, name: r.u_name } : null,
+    changedBy: r.changed_by ? { id: r.changed_by, name: r.u_name ?? '' } : null,
     changedAt: new Date(r.changed_at).toISOString(),
   }));
 }

@@ -9,6 +9,7 @@
  * Read-only over the library and instrument tables.
  */
 import type { Knex } from 'knex';
+import type { InvestigationRow, LotRow, MaterialRow, ReferenceSpectrumRow } from '../../lib/db-tables';
 import type { AuthUser } from '../../lib/http';
 import type { Role } from '../../lib/contract';
 import type { QueueItem, QueueSection, WorkQueue } from './contract';
@@ -31,7 +32,11 @@ export async function lotsToTest(db: Knex): Promise<QueueItem[]> {
     .where((w) =>
       w.whereNull('l.sampling_plan').orWhereExists(db('sampling_record as sr').whereRaw('sr.lot_id = l.id')),
     )
-    .select('l.id', 'l.lot_number', 'l.identity_status', 'l.container_count', 'l.received_date', 'm.name as m_name')
+    .select<
+      (Pick<LotRow, 'id' | 'lot_number' | 'identity_status' | 'container_count' | 'received_date'> & {
+        m_name: MaterialRow['name'];
+      })[]
+    >('l.id', 'l.lot_number', 'l.identity_status', 'l.container_count', 'l.received_date', 'm.name as m_name')
     .orderBy('l.id');
   const tests = rows.length
     ? await db('identity_test')
@@ -68,7 +73,11 @@ export async function lotsToSample(db: Knex): Promise<QueueItem[]> {
     .where('l.status', 'quarantine')
     .whereNotNull('l.sampling_plan')
     .whereNotExists(db('sampling_record as sr').whereRaw('sr.lot_id = l.id'))
-    .select(
+    .select<
+      (Pick<LotRow, 'id' | 'lot_number' | 'sampling_plan' | 'sample_count' | 'container_count' | 'first_delivery'> & {
+        m_name: MaterialRow['name'];
+      })[]
+    >(
       'l.id',
       'l.lot_number',
       'l.sampling_plan',
@@ -97,7 +106,13 @@ export async function openInvestigations(db: Knex): Promise<QueueItem[]> {
     .leftJoin('trend_signal as s', 's.id', 'i.trend_signal_id')
     .leftJoin('material as sm', 'sm.id', 's.material_id')
     .whereIn('i.status', ['open', 'phase1-recorded'])
-    .select('i.id', 'i.number', 'i.status', 'i.kind', 'l.lot_number', 'm.name as m_name', 'sm.name as s_name')
+    .select<
+      (Pick<InvestigationRow, 'id' | 'number' | 'status' | 'kind'> & {
+        lot_number: LotRow['lot_number'] | null;
+        m_name: MaterialRow['name'] | null;
+        s_name: MaterialRow['name'] | null;
+      })[]
+    >('i.id', 'i.number', 'i.status', 'i.kind', 'l.lot_number', 'm.name as m_name', 'sm.name as s_name')
     .orderBy('i.id');
   return rows.map((r) => ({
     id: r.id,
@@ -112,7 +127,12 @@ export async function referencesToApprove(db: Knex, user: AuthUser): Promise<Que
     .join('material as m', 'm.id', 'r.material_id')
     .where('r.status', 'draft')
     .whereNot('r.created_by', user.id)
-    .select('r.id', 'r.code', 'r.material_id', 'm.name as m_name')
+    .select<(Pick<ReferenceSpectrumRow, 'id' | 'code' | 'material_id'> & { m_name: MaterialRow['name'] })[]>(
+      'r.id',
+      'r.code',
+      'r.material_id',
+      'm.name as m_name',
+    )
     .orderBy('r.id');
   return rows.map((r) => ({
     id: r.id,
