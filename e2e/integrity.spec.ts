@@ -45,8 +45,9 @@ test.beforeAll(async () => {
   const db = knexFactory(knexConfig(dbSettings('runtime', DB), { min: 0, max: 2 }));
   const owner = knexFactory(knexConfig(dbSettings('owner', DB), { min: 0, max: 1 }));
   try {
-    const olga = (await db('app_user').where({ username: 'olga' }).first())!;
-    const quinn = (await db('app_user').where({ username: 'quinn' }).first())!;
+    const olga = await db('app_user').where({ username: 'olga' }).first();
+    const quinn = await db('app_user').where({ username: 'quinn' }).first();
+    if (!olga || !quinn) throw new Error('the e2e database lacks the demo accounts');
     lot = await createPassedLot(db, {
       containers: 2,
       stage: 'awaiting-verification',
