@@ -11,6 +11,7 @@ import knexFactory, { type Knex } from 'knex';
 import { dbSettings, knexConfig } from '../db/config';
 import { DEMO_PASSWORD } from '../db/seeds/accounts';
 import { createPassedLot, type PassedLot } from '../tests/api/fixtures-certificates';
+import { untyped } from '../tests/api/helpers';
 
 const DB = process.env.DRUMLINE_E2E_DB!;
 
@@ -46,6 +47,7 @@ test.beforeAll(async () => {
   try {
     const olga = await db('app_user').where({ username: 'olga' }).first();
     const quinn = await db('app_user').where({ username: 'quinn' }).first();
+    if (!olga || !quinn) throw new Error('the e2e database lacks the demo accounts');
     lot = await createPassedLot(db, {
       containers: 2,
       stage: 'awaiting-verification',
@@ -54,13 +56,13 @@ test.beforeAll(async () => {
         qa: { id: quinn.id, username: 'quinn', fullName: quinn.full_name, password: DEMO_PASSWORD },
       },
     });
-    const m = await db('measurement').where({ id: lot.containers[0].measurementId }).first();
-    const f = await db('stored_file').where({ id: m.file_id }).first();
+    const m = (await db('measurement').where({ id: lot.containers[0].measurementId }).first())!;
+    const f = (await db('stored_file').where({ id: m.file_id }).first())!;
     fileName = f.file_name;
-    const data = Buffer.from(f.data as Buffer);
+    const data = Buffer.from(f.data);
     data[data.indexOf('.')] = ','.charCodeAt(0);
     await withoutTrigger(owner, 'stored_file_no_update', () =>
-      owner('stored_file').where({ id: f.id }).update({ data }),
+      untyped(owner, 'stored_file').where({ id: f.id }).update({ data }),
     );
   } finally {
     await owner.destroy();

@@ -42,9 +42,9 @@ async function idOf(table: string, where: Record<string, unknown>): Promise<numb
 }
 
 async function lastTestOf(supplierLot: string): Promise<number> {
-  const lot = await getDb()('lot').where({ supplier_lot: supplierLot }).first();
-  const t = await getDb()('identity_test').where({ lot_id: lot.id }).orderBy('attempt', 'desc').first();
-  return Number(t.id);
+  const lot = (await getDb()('lot').where({ supplier_lot: supplierLot }).first())!;
+  const t = (await getDb()('identity_test').where({ lot_id: lot.id }).orderBy('attempt', 'desc').first())!;
+  return t.id;
 }
 
 async function lotOf(supplierLot: string): Promise<number> {
@@ -103,7 +103,7 @@ const SHOTS: Shot[] = [
   {
     file: '12-certificate.png',
     user: 'aurelia',
-    path: async () => `/certificates/${(await getDb()('certificate').orderBy('id').first()).id}`,
+    path: async () => `/certificates/${(await getDb()('certificate').orderBy('id').first())!.id}`,
     waitFor: /IC-/,
   },
   { file: '13-auditor-audit-trail.png', user: 'aurelia', path: '/audit', waitFor: /Audit trail/ },

@@ -52,7 +52,7 @@ let otto: Signed;
 let qa: Awaited<ReturnType<typeof fixtureQaAgent>>;
 let job: IntakeJob;
 let config: AppConfig;
-const serial = (id: number) => db()('instrument').where({ id }).first('serial_number');
+const serial = async (id: number) => (await db()('instrument').where({ id }).first('serial_number'))!;
 
 beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 (intake)', referenceFiles: [FIBRES.nylon66Reference] });
@@ -134,7 +134,7 @@ describe('intake settings', () => {
     const audit = await db()('audit_event')
       .where({ action: 'instrument.intake-changed', entity_id: String(instrument.instrumentId) })
       .first();
-    expect(audit.reason).toBe('Export folder set up for the tests');
+    expect(audit!.reason).toBe('Export folder set up for the tests');
     expect(fs.statSync(path.join(root, 'ftir-events')).isDirectory()).toBe(true);
     expect((await setIntake(polled.instrumentId, { exportFolder: 'share/ftir-polled', usePolling: true })).status).toBe(
       200,
@@ -204,9 +204,9 @@ describe('files from the export folder', () => {
     expect(rows[0].sha256).toBe(sha(first));
     expect(rows[0].size).toBe(fs.statSync(first).size);
     expect(events.map((e) => e.event)).toEqual(['attached']);
-    const m = await db()('measurement').where({ id: events[0].measurement_id }).first();
+    const m = await db()('measurement').where({ id: events[0].measurement_id! }).first();
     expect(m).toMatchObject({ test_id: testId, container_id: lot.containers[0].id, file_id: rows[0].file_id });
-    expect(m.created_by).toBe(olga.user.id);
+    expect(m!.created_by).toBe(olga.user.id);
     // taken once: a further tick (and chokidar's change events) add nothing
     await job.job.tick();
     expect(
@@ -219,7 +219,7 @@ describe('files from the export folder', () => {
       await db()('audit_event').where({ action: 'acquisition.received', entity_id: String(rows[0].id) }),
     ).toHaveLength(1);
     const review = await olga.agent.get(`/api/tests/${testId}/review`);
-    const entry = review.body.history.find((h: { id: number }) => h.id === m.id);
+    const entry = review.body.history.find((h: { id: number }) => h.id === m!.id);
     expect(entry.provenance.source).toBe('export-folder');
     expect(entry.provenance.sourceText).toMatch(/^received from the instrument's export folder/);
   });
@@ -291,7 +291,7 @@ describe('files from the export folder', () => {
     const audit = await db()('audit_event')
       .where({ action: 'acquisition.assigned', entity_id: String(remeasure) })
       .first();
-    expect(audit.actor_id).toBe(olga.user.id);
+    expect(audit!.actor_id).toBe(olga.user.id);
     const twice = await olga.agent
       .post(`/api/acquisitions/${remeasure}/assign`)
       .send({ containerId: c.id, confirm: true, reason: 'Second scan after cleaning the crystal' });
@@ -310,8 +310,10 @@ describe('files from the export folder', () => {
       .post(`/api/acquisitions/${stray}/assign`)
       .send({ containerId: lot.containers[2].id, confirm: true });
     expect(assign.status).toBe(409);
-    const attached = (await db()('folder_acquisition_event').where({ event: 'attached' }).orderBy('id', 'desc').first())
-      .acquisition_id;
+    const attached = (await db()('folder_acquisition_event')
+      .where({ event: 'attached' })
+      .orderBy('id', 'desc')
+      .first())!.acquisition_id;
     const setAside = await olga.agent
       .post(`/api/acquisitions/${attached}/not-a-sample`)
       .send({ reason: 'trying to hide a measurement' });

@@ -125,11 +125,11 @@ describe('polystyrene instrument checks on the real ATR film spectrum', () => {
     }
     found = bands.map((b) => b.found);
     // the file is kept byte for byte; the performer's signature is on the record
-    const row = await db()('instrument_check').where({ id: res.body.id }).first();
-    const f = await db()('stored_file').where({ id: row.file_id }).first();
+    const row = (await db()('instrument_check').where({ id: res.body.id }).first())!;
+    const f = (await db()('stored_file').where({ id: row.file_id }).first())!;
     expect(Buffer.compare(f.data, film)).toBe(0);
     expect(f.sha256).toBe(sha256(film));
-    const s = await db()('e_signature').where({ id: row.signature_id }).first();
+    const s = (await db()('e_signature').where({ id: row.signature_id! }).first())!;
     expect(s).toMatchObject({
       user_id: op.user.id,
       meaning: 'instrument-check',

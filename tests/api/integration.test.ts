@@ -26,7 +26,7 @@ beforeAll(async () => {
   nylon = await approvedMaterial({ name: 'Nylon 6,6 from the ERP', referenceFiles: [FIBRES.nylon66Reference] });
   admin = await agentFor(['admin']);
   const { supplierId } = await supplierFor(nylon.materialId);
-  supplierCode = (await db()('supplier').where({ id: supplierId }).first('code')).code;
+  supplierCode = (await db()('supplier').where({ id: supplierId }).first('code'))!.code;
   receiver = await startFakeWebhookReceiver();
 });
 
@@ -60,7 +60,7 @@ describe('machine accounts', () => {
   it('show the token once, store only its SHA-256, and audit every use', async () => {
     const m = await machine(['lots:read']);
     expect(m.token).toMatch(/^dl_[a-z2-7]{32}$/);
-    const row = await db()('machine_account').where({ id: m.id }).first();
+    const row = (await db()('machine_account').where({ id: m.id }).first())!;
     expect(row.token_hash).toBe(crypto.createHash('sha256').update(m.token).digest('hex'));
     expect(JSON.stringify(row)).not.toContain(m.token);
     const list = await admin.agent.get('/api/machine-accounts');
@@ -111,7 +111,7 @@ describe('machine accounts', () => {
     const ev = await db()('audit_event')
       .where({ action: 'machine.token-refused', entity_id: String(reader.id) })
       .first();
-    expect(ev.reason).toBe('token revoked');
+    expect(ev!.reason).toBe('token revoked');
     // the database keeps the revocation: it cannot be undone
     await expect(db()('machine_account').where({ id: reader.id }).update({ revoked_at: null })).rejects.toThrow(
       /set once/,
@@ -152,7 +152,7 @@ describe('ERP goods receipt', () => {
       .set('Authorization', `Bearer ${m.token}`);
     expect(read.status).toBe(200);
     expect(read.body.containers).toHaveLength(2);
-    const lot = await db()('lot').where({ lot_number: first.body.lotNumber }).first();
+    const lot = (await db()('lot').where({ lot_number: first.body.lotNumber }).first())!;
     expect(lot.created_by).toBeNull();
     expect(lot.erp_account_id).toBe(m.id);
   });
@@ -160,7 +160,7 @@ describe('ERP goods receipt', () => {
   it('refuses a receipt from a blocked source, as for a person', async () => {
     const m = await machine(['lots:receive']);
     const { supplierId } = await supplierFor(nylon.materialId, { status: 'blocked' });
-    const code = (await db()('supplier').where({ id: supplierId }).first('code')).code;
+    const code = (await db()('supplier').where({ id: supplierId }).first('code'))!.code;
     const res = await request(testApp())
       .post('/api/erp/receipts')
       .set('Authorization', `Bearer ${m.token}`)
@@ -191,7 +191,7 @@ describe('webhooks', () => {
     receiver.failNext(1);
     const d1 = await deliverDue(db());
     expect(d1.failed).toBeGreaterThanOrEqual(1);
-    const row = await db()('webhook_delivery').where({ endpoint_id: ep.body.id }).orderBy('id', 'desc').first();
+    const row = (await db()('webhook_delivery').where({ endpoint_id: ep.body.id }).orderBy('id', 'desc').first())!;
     expect(row).toMatchObject({ status: 'pending', attempts: 1, last_status_code: 503 });
     expect(new Date(row.next_attempt_at).getTime()).toBeGreaterThan(Date.now() + backoffMs(1) - 5_000);
     // nothing is sent again before the back-off ends

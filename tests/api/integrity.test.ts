@@ -8,11 +8,12 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
+import type { IdentityMethodRow } from '../../server/lib/db-tables';
 import type request from 'supertest';
 import { createHash } from 'node:crypto';
 import { sweepTick } from '../../server/modules/integrity/service';
 import { createPassedLot, type PassedLot } from './fixtures-certificates';
-import { agentFor, db, ownerDb } from './helpers';
+import { agentFor, db, ownerDb, untyped } from './helpers';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
 
@@ -90,14 +91,16 @@ describe('a flipped byte in a stored file (owner account)', () => {
   let alertId: number;
 
   beforeAll(async () => {
-    const m = await db()('measurement').where({ id: lot.containers[0].measurementId }).first();
+    const m = (await db()('measurement').where({ id: lot.containers[0].measurementId }).first())!;
     fileId = m.file_id;
-    const f = await db()('stored_file').where({ id: fileId }).first();
+    const f = (await db()('stored_file').where({ id: fileId }).first())!;
     recorded = f.sha256;
-    const data = Buffer.from(f.data as Buffer);
+    const data = Buffer.from(f.data);
     const i = data.indexOf('.'); // a decimal point in the data becomes a comma: one byte
     data[i] = ','.charCodeAt(0);
-    await withoutTrigger('stored_file_no_update', () => owner('stored_file').where({ id: fileId }).update({ data }));
+    await withoutTrigger('stored_file_no_update', () =>
+      untyped(owner, 'stored_file').where({ id: fileId }).update({ data }),
+    );
   });
 
   it('is found by the sweep an auditor asks for: an alert for QA naming the file and the test, audited and mailed', async () => {
@@ -107,8 +110,8 @@ describe('a flipped byte in a stored file (owner account)', () => {
       .where({ kind: 'file-hash', subject_id: String(fileId) })
       .first();
     expect(alert).toMatchObject({ subject_type: 'stored_file', expected: recorded, found_in: 'sweep', run_id: runId });
-    expect(alert.found).not.toBe(recorded);
-    alertId = alert.id;
+    expect(alert!.found).not.toBe(recorded);
+    alertId = alert!.id;
     const records = await db()('integrity_alert_record').where({ alert_id: alertId });
     expect(records.map((r) => [r.record_type, r.record_id])).toContainEqual(['identity_test', String(lot.testId)]);
     const ev = await db()('audit_event')
@@ -164,7 +167,7 @@ describe('a flipped byte in a stored file (owner account)', () => {
         meaning: 'verified',
       }),
     ).toHaveLength(0);
-    expect((await db()('identity_test').where({ id: lot.testId }).first()).status).toBe('awaiting-verification');
+    expect((await db()('identity_test').where({ id: lot.testId }).first())!.status).toBe('awaiting-verification');
 
     // QA signs the alert off (a wrong password signs nothing; roles are checked)
     expect(
@@ -208,7 +211,9 @@ describe('a flipped byte in a stored file (owner account)', () => {
     await expect(db()('integrity_signoff').where({ alert_id: alertId }).delete()).rejects.toMatchObject({
       errno: 1142,
     });
-    await expect(db()('integrity_alert').where({ id: alertId }).update({ found: recorded })).rejects.toMatchObject({
+    await expect(
+      untyped(db(), 'integrity_alert').where({ id: alertId }).update({ found: recorded }),
+    ).rejects.toMatchObject({
       errno: 1142,
     });
   });
@@ -216,10 +221,10 @@ describe('a flipped byte in a stored file (owner account)', () => {
 
 describe('a changed signed row (owner account)', () => {
   it("an approved method's minimum correlation lowered behind the triggers is found against its approval signature", async () => {
-    const m = await db()('identity_method as m')
+    const m = (await db()('identity_method as m')
       .join('material as x', 'x.id', 'm.material_id')
       .where('x.code', lot.materialCode)
-      .first('m.*');
+      .first<IdentityMethodRow | undefined>('m.*'))!;
     const params = JSON.parse(m.params);
     params.thresholds.minCorrelation = 0.5;
     await withoutTrigger('identity_method_guard_update', () =>
@@ -232,17 +237,17 @@ describe('a changed signed row (owner account)', () => {
       .where({ kind: 'signature-content', subject_id: String(m.approved_signature_id) })
       .first();
     expect(alert).toBeTruthy();
-    expect(alert.summary).toMatch(/no longer matches what was signed "approved"/);
-    const records = await db()('integrity_alert_record').where({ alert_id: alert.id });
+    expect(alert!.summary).toMatch(/no longer matches what was signed "approved"/);
+    const records = await db()('integrity_alert_record').where({ alert_id: alert!.id });
     expect(records.map((r) => [r.record_type, r.record_id])).toEqual([['identity_method', String(m.id)]]);
   });
 
   it("a test's performed signature no longer matching its measurement is shown on the review and blocks verification", async () => {
     // the clean lot's signed measurement is turned from pass to fail: what was signed is not what is stored
     const mid = clean.containers[0].measurementId;
-    const before = await db()('measurement').where({ id: mid }).first();
+    const before = (await db()('measurement').where({ id: mid }).first())!;
     await withoutTrigger('measurement_no_update', () =>
-      owner('measurement').where({ id: mid }).update({ verdict: 'fail' }),
+      untyped(owner, 'measurement').where({ id: mid }).update({ verdict: 'fail' }),
     );
     try {
       const r = await verifier.agent.get(`/api/tests/${clean.testId}/review`);
@@ -254,18 +259,18 @@ describe('a changed signed row (owner account)', () => {
       expect(v.body.error.code).toBe('INTEGRITY_MISMATCH');
     } finally {
       await withoutTrigger('measurement_no_update', () =>
-        owner('measurement').where({ id: mid }).update({ verdict: before.verdict }),
+        untyped(owner, 'measurement').where({ id: mid }).update({ verdict: before.verdict }),
       );
     }
     const alert = await db()('integrity_alert')
       .where({ kind: 'signature-content', found_in: 'review' })
       .orderBy('id', 'desc')
       .first();
-    expect(alert.summary).toMatch(/no longer matches what was signed "performed"/);
+    expect(alert!.summary).toMatch(/no longer matches what was signed "performed"/);
   });
 
   it('roles written behind the grant triggers are found', async () => {
-    const u = await db()('app_user').where({ username: verifier.user.username }).first();
+    const u = (await db()('app_user').where({ username: verifier.user.username }).first())!;
     await withoutTrigger('app_user_guard_update', () =>
       owner('app_user').where({ id: u.id }).update({ roles: '["verifier","qa_manager"]' }),
     );

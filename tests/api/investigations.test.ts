@@ -67,8 +67,8 @@ afterAll(async () => {
 
 /** Whether a reference was made from one of the real polyester (PET) fibre spectra. */
 async function isPolyesterReference(code: string): Promise<boolean> {
-  const ref = await db()('reference_spectrum').where({ code }).first();
-  const file = await db()('stored_file').where({ id: ref.file_id }).first();
+  const ref = (await db()('reference_spectrum').where({ code }).first())!;
+  const file = (await db()('stored_file').where({ id: ref.file_id }).first())!;
   const dir = path.join(REFERENCE_DATA, 'atr-ftir-fibres');
   return fs
     .readdirSync(dir)
@@ -247,7 +247,7 @@ describe('a failing container', () => {
     expect((await olga.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId })).status).toBe(409);
     const first = await upload(olga.agent, retestId, { containerId: lot.containers[2].id }, FIBRES.nylon66Samples[1]);
     expect(first.verdict).toBe('pass');
-    expect((await db()('measurement').where({ id: first.id }).first()).authorised_by_investigation_id).toBe(invId);
+    expect((await db()('measurement').where({ id: first.id }).first())!.authorised_by_investigation_id).toBe(invId);
     expect((await olga.agent.post(`/api/tests/${retestId}/perform`).send({ signature: sig(olga.user) })).status).toBe(
       200,
     );

@@ -132,7 +132,7 @@ describe('a material whose identity is not tested by IR', () => {
     const ev = await db()('audit_event')
       .where({ action: 'lot.released', entity_id: String(lot.id) })
       .first();
-    const checks = JSON.parse(ev.after_json).checks;
+    const checks = JSON.parse(ev!.after_json!).checks;
     expect(checks).toEqual(
       expect.arrayContaining([expect.objectContaining({ key: 'chem-identity', outcome: 'conforms', checkId: rec.id })]),
     );

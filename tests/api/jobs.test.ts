@@ -47,7 +47,7 @@ describe('job leases', () => {
     expect(await job.tick()).toBe(true);
     expect(runs).toBe(1);
     const row = await db()('job_lease').where({ name }).first();
-    expect(row.last_ok_at).not.toBeNull();
+    expect(row!.last_ok_at).not.toBeNull();
     await job.stop();
   });
 });

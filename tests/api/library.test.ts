@@ -110,8 +110,8 @@ describe('materials', () => {
       .send({ name: 'Microcrystalline cellulose 102', reason: 'grade named on the supplier CoA' });
     expect(res.status).toBe(200);
     const [ev] = await auditRows('material', m.id, 'material.updated');
-    expect(JSON.parse(ev.before_json).name).toBe('Microcrystalline cellulose');
-    expect(JSON.parse(ev.after_json).name).toBe('Microcrystalline cellulose 102');
+    expect(JSON.parse(ev.before_json!).name).toBe('Microcrystalline cellulose');
+    expect(JSON.parse(ev.after_json!).name).toBe('Microcrystalline cellulose 102');
     expect(ev.reason).toBe('grade named on the supplier CoA');
   });
 
@@ -127,7 +127,7 @@ describe('materials', () => {
       ).toBe(403);
     }
     expect(await db()('material').where({ code: 'NOPE1' }).first()).toBeUndefined();
-    expect((await db()('material').where({ id: m.id }).first()).name).toBe('Talc');
+    expect((await db()('material').where({ id: m.id }).first())!.name).toBe('Talc');
   });
 });
 
@@ -165,7 +165,7 @@ describe('identity methods are versioned; an approved version is immutable', () 
     expect(approval).toMatchObject({ meaning: 'approved', printedName: qa2.user.fullName });
 
     // the approved version cannot change: 409 + a new draft version carrying the change
-    const before = await db()('identity_method').where({ id: v1 }).first();
+    const before = (await db()('identity_method').where({ id: v1 }).first())!;
     const attempt = await qa1.agent
       .patch(`/api/methods/${v1}`)
       .send({ params: { ...p1, thresholds: { ...p1.thresholds, minCorrelation: 0.99 } }, reason: 'tighten further' });
@@ -173,7 +173,7 @@ describe('identity methods are versioned; an approved version is immutable', () 
     expect(attempt.body.error.code).toBe('METHOD_IMMUTABLE');
     const newId = attempt.body.error.details.newDraftId;
     expect(newId).toBeGreaterThan(v1);
-    const after = await db()('identity_method').where({ id: v1 }).first();
+    const after = (await db()('identity_method').where({ id: v1 }).first())!;
     expect(after.params).toBe(before.params);
     expect(after.status).toBe('approved');
     const v2 = await get(newId);
@@ -219,7 +219,7 @@ describe('identity methods are versioned; an approved version is immutable', () 
     const res = await qa2.agent.post(`/api/methods/${draft.body.id}/approve`).send({ signature: sigOf(qa2.user) });
     expect(res.status).toBe(409);
     expect(res.body.error.message).toContain(ref.code);
-    expect((await db()('identity_method').where({ id: draft.body.id }).first()).status).toBe('draft');
+    expect((await db()('identity_method').where({ id: draft.body.id }).first())!.status).toBe('draft');
   });
 
   it('a draft keeps the relative-intensity tolerance and the residual confidence; out-of-range values store nothing', async () => {
@@ -241,7 +241,7 @@ describe('identity methods are versioned; an approved version is immutable', () 
     expect(ok.status, JSON.stringify(ok.body)).toBe(200);
     expect(ok.body.params.relativeIntensityTolerance).toBe(0.15);
     expect(ok.body.params.thresholds.residualConfidence).toBe(0.99);
-    const stored = await db()('identity_method').where({ id }).first();
+    const stored = (await db()('identity_method').where({ id }).first())!;
     for (const [bad, sentence] of [
       [{ ...p, relativeIntensityTolerance: 1.5 }, /relativeIntensityTolerance/],
       [
@@ -258,7 +258,7 @@ describe('identity methods are versioned; an approved version is immutable', () 
       expect(res.status).toBe(400);
       expect(JSON.stringify(res.body.error)).toMatch(sentence);
     }
-    expect((await db()('identity_method').where({ id }).first()).params).toBe(stored.params);
+    expect((await db()('identity_method').where({ id }).first())!.params).toBe(stored.params);
   });
 
   it('POST new-version creates a draft from an approved version', async () => {
@@ -299,7 +299,7 @@ describe('reference upload', () => {
       const ref = res.body[i];
       expect(ref).toMatchObject({ status: 'draft', supplier: 'Fibre Works', supplierLot: 'FW-22' });
       expect(ref.code).toMatch(new RegExp(`^REF-${m.code}-000${i + 1}$`));
-      const f = await db()('stored_file').where({ id: ref.fileId }).first();
+      const f = (await db()('stored_file').where({ id: ref.fileId }).first())!;
       expect(Buffer.compare(f.data, data)).toBe(0);
       expect(f.sha256).toBe(sha256(data));
       expect(ref.file.sha256).toBe(sha256(data));
@@ -408,8 +408,8 @@ describe('bands, approval, e-signature, retirement', () => {
     expect(added).toMatchObject({ origin: 'edited' });
     expect(added.assignment.length).toBeGreaterThan(3);
     const [ev] = await auditRows('reference_spectrum', ref.id, 'reference.bands-edited');
-    expect(JSON.parse(ev.before_json).bands).toHaveLength(ref.bands.length);
-    expect(JSON.parse(ev.after_json).bands).toHaveLength(ref.bands.length + 1);
+    expect(JSON.parse(ev.before_json!).bands).toHaveLength(ref.bands.length);
+    expect(JSON.parse(ev.after_json!).bands).toHaveLength(ref.bands.length + 1);
     expect(ev.reason).toMatch(/1410/);
     // the auditor changes nothing
     expect(
@@ -464,8 +464,8 @@ describe('bands, approval, e-signature, retirement', () => {
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(/first method version together with its first references/);
     await approveMethod(qa2.agent, qa2.user, mat.draftMethodId, qa3, { referenceIds: [firstRef.id] });
-    expect((await db()('reference_spectrum').where({ id: firstRef.id }).first()).status).toBe('approved');
-    expect((await db()('reference_spectrum').where({ id: ref.id }).first()).status).toBe('draft');
+    expect((await db()('reference_spectrum').where({ id: firstRef.id }).first())!.status).toBe('approved');
+    expect((await db()('reference_spectrum').where({ id: ref.id }).first())!.status).toBe('draft');
   });
 
   it('role rules: the operator and the auditor cannot approve; the uploader cannot approve her own reference', async () => {
@@ -478,7 +478,7 @@ describe('bands, approval, e-signature, retirement', () => {
     const own = await qa1.agent.post(`/api/references/${ref.id}/approve`).send({ signature: sigOf(qa1.user) });
     expect(own.status).toBe(403);
     expect(own.body.error.message).toMatch(/uploaded this reference/);
-    expect((await db()('reference_spectrum').where({ id: ref.id }).first()).status).toBe('draft');
+    expect((await db()('reference_spectrum').where({ id: ref.id }).first())!.status).toBe('draft');
   });
 
   it('a wrong password is refused (401) and audited; nothing is signed', async () => {
@@ -495,14 +495,14 @@ describe('bands, approval, e-signature, retirement', () => {
         .where({ entity_type: 'reference_spectrum', entity_id: String(ref.id) })
         .first(),
     ).toBeUndefined();
-    expect((await db()('reference_spectrum').where({ id: ref.id }).first()).status).toBe('draft');
+    expect((await db()('reference_spectrum').where({ id: ref.id }).first())!.status).toBe('draft');
   });
 
   it('approval stores a signature whose content hash is the SHA-256 of {referenceId, fileSha256, bands, methodVersionId}', async () => {
     const body = await approveForSetup(qa2, ref.id);
     expect(body.status).toBe('approved');
-    const row = await db()('reference_spectrum').where({ id: ref.id }).first();
-    const s = await db()('e_signature').where({ id: row.approved_signature_id }).first();
+    const row = (await db()('reference_spectrum').where({ id: ref.id }).first())!;
+    const s = (await db()('e_signature').where({ id: row.approved_signature_id! }).first())!;
     expect(s).toMatchObject({
       user_id: qa2.user.id,
       printed_name: qa2.user.fullName,
@@ -574,9 +574,9 @@ describe('bands, approval, e-signature, retirement', () => {
         .map((s: { meaning: string }) => s.meaning)
         .filter((m: string) => m !== 'gate-override-requested'),
     ).toEqual([expect.stringMatching(/^approved/), 'retired']);
-    const row = await db()('reference_spectrum').where({ id: ref.id }).first();
+    const row = (await db()('reference_spectrum').where({ id: ref.id }).first())!;
     expect(row.retire_reason).toBe('supplier changed the spinning process');
-    expect(await db()('stored_file').where({ id: row.file_id }).first()).toBeTruthy();
+    expect(await db()('stored_file').where({ id: row.file_id }).first())!.toBeTruthy();
     expect((await getApprovedReferenceSet(mat.id))!.references.map((r) => r.id)).toEqual([firstRef.id]);
     expect(
       (await qa2.agent.post(`/api/references/${ref.id}/retire`).send({ reason: 'again', signature: sigOf(qa2.user) }))
@@ -620,7 +620,7 @@ describe('specificity gate', () => {
     // both regenerated cellulose: correlation of the prepared spectra above the default 0.95 limit
     expect(pair.otherAsSample.correlation).toBeGreaterThan(0.95);
     expect(pair.candidateAsSample.correlation).toBeGreaterThan(0.95);
-    expect((await db()('reference_spectrum').where({ id: rayRef.id }).first()).status).toBe('draft');
+    expect((await db()('reference_spectrum').where({ id: rayRef.id }).first())!.status).toBe('draft');
     expect(await auditRows('reference_spectrum', rayRef.id, 'reference.approval-blocked')).toHaveLength(1);
 
     // one QA manager with a justification alone: still refused (the old single-signature path is closed)
@@ -661,7 +661,7 @@ describe('specificity gate', () => {
     const [ev] = await auditRows('reference_spectrum', rayRef.id, 'reference.approved-with-justification');
     expect(ev.reason).toBe(justification);
     expect(
-      JSON.parse(ev.after_json).specificity.offending.map((p: { referenceId: number }) => p.referenceId),
+      JSON.parse(ev.after_json!).specificity.offending.map((p: { referenceId: number }) => p.referenceId),
     ).toContain(lyoRef.id);
 
     // the library matrix shows the pair as would-pass, in numbers and words
@@ -689,7 +689,7 @@ describe('specificity gate', () => {
     expect(
       res.body.error.details.offending.filter((p: { otherMaterialId: number }) => p.otherMaterialId === a.id),
     ).toHaveLength(2); // both directions
-    expect((await db()('identity_method').where({ id: b.draftMethodId }).first()).status).toBe('draft');
+    expect((await db()('identity_method').where({ id: b.draftMethodId }).first())!.status).toBe('draft');
 
     // para-aramid shares no chemistry with acrylic: the pair with A is distinct, far below the limit
     await uploadOne(qa1.agent, c.id, 'para-aramid_s049.csv', fibre('para-aramid_s049.csv'));

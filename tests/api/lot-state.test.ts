@@ -34,7 +34,7 @@ const auditCount = async (lotId: number) =>
 describe('moveLot', () => {
   it('refuses to pass a lot that was never tested (409) and changes nothing', async () => {
     const lot = await receiveLot(operator.agent, nylon.materialId, 2);
-    const before = await db()('lot').where({ id: lot.id }).first();
+    const before = (await db()('lot').where({ id: lot.id }).first())!;
     const events = await auditCount(lot.id);
     const refused = db().transaction((trx) =>
       moveLot(trx, {
@@ -47,7 +47,7 @@ describe('moveLot', () => {
       status: 409,
       message: 'A lot whose identity status is awaiting-testing cannot move to passed.',
     });
-    const after = await db()('lot').where({ id: lot.id }).first();
+    const after = (await db()('lot').where({ id: lot.id }).first())!;
     expect(after.identity_status).toBe('awaiting-testing');
     expect(after.updated_at).toEqual(before.updated_at);
     expect(await auditCount(lot.id)).toBe(events);
@@ -63,7 +63,7 @@ describe('moveLot', () => {
       message:
         'Only a lot whose identity passed (or, for a material not identified by IR, whose replacing identity test conforms) can be released.',
     });
-    expect((await db()('lot').where({ id: lot.id }).first()).status).toBe('quarantine');
+    expect((await db()('lot').where({ id: lot.id }).first())!.status).toBe('quarantine');
   });
 
   it('writes an allowed move together with its audit event', async () => {
@@ -85,7 +85,7 @@ describe('moveLot', () => {
       }),
     );
     expect(from).toEqual({ status: 'quarantine', identityStatus: 'awaiting-testing' });
-    expect((await db()('lot').where({ id: lot.id }).first()).identity_status).toBe('testing');
+    expect((await db()('lot').where({ id: lot.id }).first())!.identity_status).toBe('testing');
     expect(await auditCount(lot.id)).toBe(events + 1);
   });
 });

@@ -28,7 +28,7 @@ describe('mail outbox', () => {
       enqueueMail(trx, { to: ['nobody@mailbox.invalid'], subject: 'bad', text: 'x' }),
     );
     await processOutbox(db(), 100_000);
-    const row = await db()('mail_outbox').where({ id }).first();
+    const row = (await db()('mail_outbox').where({ id: id! }).first())!;
     expect(row.status).toBe('queued');
     expect(row.attempts).toBe(1);
     expect(row.last_error).toMatch(/550|unavailable/);

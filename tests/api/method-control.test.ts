@@ -66,7 +66,7 @@ afterAll(async () => {
   await flushMail();
 });
 
-const methodRow = (id: number) => db()('identity_method').where({ id }).first();
+const methodRow = async (id: number) => (await db()('identity_method').where({ id }).first())!;
 const approvalSigs = (id: number) =>
   db()('e_signature').where({ entity_type: 'identity_method', entity_id: String(id), meaning: 'approved' });
 
@@ -170,7 +170,7 @@ describe('the specificity gate of a method version', () => {
     );
     // the record's content: the other materials with their scores, the polypropylene among them
     const stored = JSON.parse(
-      (await db()('method_approval').where({ method_id: pe.draftMethodId }).first()).validation,
+      (await db()('method_approval').where({ method_id: pe.draftMethodId }).first())!.validation,
     );
     expect(stored.closest.map((c: { materialCode: string }) => c.materialCode)).toContain(pp.code);
     expect(stored.caution).toMatch(/does not replace/);
@@ -365,7 +365,7 @@ describe('the specificity gate of a method version', () => {
     expect(ok.body.status).toBe('approved');
     expect(ok.body.approval.gateOverrideId).toBe(req.body.id);
     expect(ok.body.overrides[0]).toMatchObject({ changeControl: 'CC-2026-031', confirmedByName: qa3.user.fullName });
-    const conf = await db()('gate_override_confirmation').where({ override_id: req.body.id }).first();
+    const conf = (await db()('gate_override_confirmation').where({ override_id: req.body.id }).first())!;
     expect(conf.confirmed_by).toBe(qa3.user.id);
     // confirmed once only
     expect(
@@ -415,7 +415,7 @@ describe('the same margin applies to reference approval', () => {
     expect(pair.wouldPass).toBe(false);
     expect(pair.otherAsSample.correlation).toBeLessThan(limit);
     expect(res.body.error.details.margins.correlation).toBe(0.02);
-    expect((await db()('reference_spectrum').where({ id: ref2.id }).first()).status).toBe('draft');
+    expect((await db()('reference_spectrum').where({ id: ref2.id }).first())!.status).toBe('draft');
     expect(
       await db()('e_signature')
         .where({ entity_type: 'reference_spectrum', entity_id: String(ref2.id) })
@@ -453,11 +453,11 @@ describe('identity by IR not suitable', () => {
     const sigRow = await db()('e_signature')
       .where({ entity_type: 'material', entity_id: String(salt.id), meaning: 'ir-suitability-decided' })
       .first();
-    expect(sigRow.user_id).toBe(qa2.user.id);
+    expect(sigRow!.user_id).toBe(qa2.user.id);
     const ev = await db()('audit_event')
       .where({ entity_type: 'material', entity_id: String(salt.id), action: 'material.ir-not-suitable' })
       .first();
-    expect(ev.reason).toBe('an ionic solid without mid-IR bands');
+    expect(ev!.reason).toBe('an ionic solid without mid-IR bands');
     const detail = (await op.agent.get(`/api/materials/${salt.id}`)).body;
     expect(detail.irSuitability.replacementTest).toMatch(/sodium and chloride/);
 
@@ -514,7 +514,7 @@ describe('a test attempt keeps the method version and reference set it started w
     const lot = await receiveLot(op.agent, mat.materialId, 2);
     const testId = (await op.agent.post(`/api/lots/${lot.id}/tests`).send({ instrumentId: inst.instrumentId })).body
       .id as number;
-    const pin = await db()('attempt_pin').where({ test_id: testId }).first();
+    const pin = (await db()('attempt_pin').where({ test_id: testId }).first())!;
     expect(pin).toMatchObject({ method_id: mat.methodId });
     expect(JSON.parse(pin.reference_ids)).toEqual(mat.referenceIds);
 
@@ -540,10 +540,10 @@ describe('a test attempt keeps the method version and reference set it started w
     expect(ok.status, JSON.stringify(ok.body)).toBe(200);
 
     const m = await upload(op.agent, testId, { label: lot.containers[0].label }, FIBRES.petSample);
-    const stored = await db()('measurement').where({ id: m.id }).first();
+    const stored = (await db()('measurement').where({ id: m.id }).first())!;
     expect(stored.method_id).toBe(mat.methodId);
     expect(JSON.parse(stored.reference_ids)).toEqual(mat.referenceIds);
-    expect((await db()('identity_test').where({ id: testId }).first()).method_id).toBe(mat.methodId);
+    expect((await db()('identity_test').where({ id: testId }).first())!.method_id).toBe(mat.methodId);
 
     const review = await op.agent.get(`/api/tests/${testId}/review`);
     expect(review.status).toBe(200);

@@ -304,7 +304,7 @@ describe('a file that names another record', () => {
     const lot = await receiveLot(a, nylon.materialId, 1);
     const testId = await startTest(a, lot.id, instrument.instrumentId);
     const f = distinctAcquisition(FIBRES.nylon66Samples[2]);
-    const code = (await db()('material').where({ id: pet.materialId }).first('code')).code;
+    const code = (await db()('material').where({ id: pet.materialId }).first('code'))!.code;
     const text = `material ${code}\n${f.buffer.toString('utf8')}`;
     const before = await counts();
     const res = await a
@@ -346,7 +346,7 @@ describe('re-measurement, the holder of an attempt, and the review', () => {
     const audit = await db()('audit_event')
       .where({ entity_type: 'measurement', entity_id: String(second.id) })
       .first();
-    expect(audit.reason).toBe(reason);
+    expect(audit!.reason).toBe(reason);
     const review = await olga.agent.get(`/api/tests/${testId}/review`);
     expect(review.body.history.map((h: { id: number; state: string }) => [h.id, h.state])).toEqual([
       [first.id, 'superseded'],
@@ -387,7 +387,7 @@ describe('re-measurement, the holder of an attempt, and the review', () => {
     const ev = await db()('audit_event')
       .where({ action: 'test.handed-over', entity_id: String(testId) })
       .first();
-    expect(ev.reason).toBe('End of shift; colleague continues.');
+    expect(ev!.reason).toBe('End of shift; colleague continues.');
     expect(
       (await uploadRequest(other.agent, testId, { containerId: lot.containers[0].id }, FIBRES.nylon66Samples[0]))
         .status,

@@ -151,7 +151,7 @@ describe('retest of a released lot', () => {
 
   it('QA starts it signed and audited; the new test runs under the current method version; verification and disposition follow again', async () => {
     const { lot, ids, release } = await releasedLot();
-    const firstCert = (await db()('lot').where({ id: lot.id }).first('certificate_id')).certificate_id;
+    const firstCert = (await db()('lot').where({ id: lot.id }).first('certificate_id'))!.certificate_id;
 
     // QA approves a new method version after the release: the retest must use it.
     const current = (await qa.agent.get(`/api/methods/${nylon.methodId}`)).body;
@@ -174,8 +174,8 @@ describe('retest of a released lot', () => {
     const ev = await db()('audit_event')
       .where({ action: 'lot.retest-started', entity_id: String(lot.id) })
       .first();
-    expect(JSON.parse(ev.before_json)).toMatchObject({ status: 'released' });
-    expect(JSON.parse(ev.after_json)).toMatchObject({ status: 'quarantine', reopens: release.id });
+    expect(JSON.parse(ev!.before_json!)).toMatchObject({ status: 'released' });
+    expect(JSON.parse(ev!.after_json!)).toMatchObject({ status: 'quarantine', reopens: release.id });
     // the first release stays on record
     expect(await db()('lot_disposition').where({ id: release.id }).first()).toMatchObject({ decision: 'released' });
     // a second retest while the first is under way is refused
@@ -191,15 +191,15 @@ describe('retest of a released lot', () => {
     // the retest attempt: every container measured again, under the newly approved version
     const { testId, outcome } = await testAndVerify(lot.id, ids, FIBRES.nylon66Samples.slice(1, 3));
     expect(outcome).toBe('passed');
-    const t = await db()('identity_test').where({ id: testId }).first('method_id', 'attempt');
+    const t = (await db()('identity_test').where({ id: testId }).first('method_id', 'attempt'))!;
     expect(t.method_id).toBe(draft.body.id);
     expect(t.method_id).not.toBe(nylon.methodId);
     expect(t.attempt).toBe(2);
     // a new certificate supersedes the one from before the retest
-    const lotRow = await db()('lot').where({ id: lot.id }).first('certificate_id', 'identity_status');
+    const lotRow = (await db()('lot').where({ id: lot.id }).first('certificate_id', 'identity_status'))!;
     expect(lotRow.identity_status).toBe('passed');
     expect(lotRow.certificate_id).not.toBe(firstCert);
-    const newCert = await db()('certificate').where({ id: lotRow.certificate_id }).first('supersedes_id', 'test_id');
+    const newCert = await db()('certificate').where({ id: lotRow.certificate_id! }).first('supersedes_id', 'test_id');
     expect(newCert).toMatchObject({ supersedes_id: firstCert, test_id: testId });
 
     // QA's disposition again: released with a new release record and retest date

@@ -133,7 +133,7 @@ describe('sampling precedes testing', () => {
     const ev = await db()('audit_event')
       .where({ action: 'lot.sampled', entity_id: String(lot.id) })
       .first();
-    expect(JSON.parse(ev.after_json).containers).toHaveLength(2);
+    expect(JSON.parse(ev!.after_json!).containers).toHaveLength(2);
   });
 });
 
@@ -161,7 +161,7 @@ describe('a reduced plan', () => {
       .send({ fileNames: [`${unsampled.label}.csv`, `${lot.containers[0].label}.csv`] });
     expect(match.body.map((m: { status: string }) => m.status)).toEqual(['not-sampled', 'matched']);
     // the database refuses it too
-    const m = await db()('measurement').orderBy('id', 'desc').first();
+    const m = (await db()('measurement').orderBy('id', 'desc').first())!;
     await expect(
       db()('measurement').insert({ ...m, id: undefined, container_id: unsampled.id, test_id: testId }),
     ).rejects.toThrow(/not sampled/);
@@ -176,9 +176,9 @@ describe('a reduced plan', () => {
     expect(v.body.outcome).toBe('passed');
     // the certificate covers the sampled containers and says so
     const cert = await issueCertificate(db(), { lotId: lot.id, testId, actor: { id: null, name: 't' } });
-    const row = await db()('certificate').where({ id: cert.id }).first('pdf');
+    const row = (await db()('certificate').where({ id: cert.id }).first('pdf'))!;
     const file = path.join(os.tmpdir(), `reduced-${lot.id}.pdf`);
-    fs.writeFileSync(file, row.pdf as Buffer);
+    fs.writeFileSync(file, row.pdf);
     const text = execFileSync('pdftotext', [file, '-'], { encoding: 'utf8' }).replace(/\s+/g, ' ');
     expect(text).toMatch(/3 sampled containers \(of 4\)/);
     expect(text).toMatch(/Reduced sampling: 3 of 4 containers were sampled/);
@@ -196,7 +196,7 @@ describe('status labels', () => {
     const ev = await db()('audit_event')
       .where({ action: 'lot.status-labels-printed', entity_id: String(lot.id) })
       .first();
-    expect(JSON.parse(ev.after_json).labels).toEqual([
+    expect(JSON.parse(ev!.after_json!).labels).toEqual([
       `${lot.containers[0].label} sampled`,
       `${lot.containers[1].label} sampled`,
     ]);

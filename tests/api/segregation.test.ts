@@ -9,12 +9,13 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Knex } from 'knex';
+import type { RoleGrantInsert } from '../../server/lib/db-tables';
 import { createFirstAccounts } from '../../db/first-accounts';
 import { dropDatabase, migrateDatabase, recreateDatabase } from '../../db/migrate';
 import { dbSettings, knexConfig } from '../../db/config';
 import knexFactory from 'knex';
 import request from 'supertest';
-import { agentFor, db, makeUser, ownerDb, sig, testApp } from './helpers';
+import { agentFor, db, makeUser, ownerDb, sig, testApp, untyped } from './helpers';
 import { TEST_DB } from './db-name';
 
 type Agent = Awaited<ReturnType<typeof agentFor>>['agent'];
@@ -34,7 +35,7 @@ afterAll(async () => {
   await owner.destroy();
 });
 
-const roles = async (id: number) => JSON.parse((await db()('app_user').where({ id }).first()).roles) as string[];
+const roles = async (id: number) => JSON.parse((await db()('app_user').where({ id }).first())!.roles) as string[];
 
 describe('the administrator role is held alone', () => {
   it('an account with administrator and another role is refused on creation and on change; nothing is stored', async () => {
@@ -72,7 +73,7 @@ describe('nobody changes their own roles or status (finding 1: an administrator 
       .send({ roles: ['qa_manager'], reason: 'more work' });
     expect(self.body.error.message).toMatch(/Nobody changes their own roles/);
     expect(await roles(adminA.user.id)).toEqual(['admin']);
-    expect((await db()('app_user').where({ id: adminA.user.id }).first()).active).toBe(1);
+    expect((await db()('app_user').where({ id: adminA.user.id }).first())!.active).toBe(1);
     // a change of one's own name stays possible
     const name = await adminA.agent
       .patch(`/api/users/${adminA.user.id}`)
@@ -101,7 +102,7 @@ describe('nobody changes their own roles or status (finding 1: an administrator 
         updated_at: new Date(),
       }),
     ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/created without roles/) });
-    const grant = (g: Record<string, unknown>) =>
+    const grant = (g: Omit<RoleGrantInsert, 'granted_at' | 'reason'>) =>
       db()('role_grant').insert({ granted_at: new Date(), reason: 'behind the application', ...g });
     // an administrator granting themselves a role
     await expect(
@@ -126,7 +127,7 @@ describe('nobody changes their own roles or status (finding 1: an administrator 
     ).rejects.toMatchObject({ ...REFUSED, sqlMessage: expect.stringMatching(/cannot be combined/) });
     // the grants themselves are append-only
     await expect(
-      db()('role_grant').where({ user_id: op.id }).update({ roles: '["qa_manager"]' }),
+      untyped(db(), 'role_grant').where({ user_id: op.id }).update({ roles: '["qa_manager"]' }),
     ).rejects.toMatchObject({ errno: 1142 });
     await expect(db()('role_grant').where({ user_id: op.id }).delete()).rejects.toMatchObject({ errno: 1142 });
     await expect(owner('role_grant').where({ user_id: op.id }).delete()).rejects.toMatchObject(REFUSED);
@@ -217,9 +218,9 @@ describe('two-person rule: QA manager, verifier and administrator need a second 
       .where({ entity_type: 'user', entity_id: String(op.id) })
       .orderBy('id');
     expect(events.map((e) => e.action)).toEqual(['user.role-change-requested', 'user.roles-changed']);
-    const changed = JSON.parse(events[1].after_json);
+    const changed = JSON.parse(events[1].after_json!);
     expect(changed).toMatchObject({ roles: ['operator', 'qa_manager'], grantKind: 'two-person', requestId });
-    expect(JSON.parse(events[1].before_json).roles).toEqual(['operator']);
+    expect(JSON.parse(events[1].before_json!).roles).toEqual(['operator']);
     expect(events[1].reason).toBe('appointed QA manager, letter QA-2026-14');
     // decided once
     const again = await adminB.agent
@@ -294,7 +295,7 @@ describe('two-person rule: QA manager, verifier and administrator need a second 
     const ev = await db()('audit_event')
       .where({ entity_type: 'user', entity_id: String(res.body.id), action: 'user.role-change-declined' })
       .first();
-    expect(ev.reason).toBe('training record missing');
+    expect(ev!.reason).toBe('training record missing');
   });
 
   it('removing a role, or adding operator or auditor, is one administrator\u2019s change', async () => {
@@ -305,7 +306,7 @@ describe('two-person rule: QA manager, verifier and administrator need a second 
     expect(res.status).toBe(200);
     expect(res.body.roles).toEqual(['operator', 'auditor']);
     expect(res.body.pendingRoleChange).toBeNull();
-    expect((await db()('role_grant').where({ user_id: u.id }).orderBy('id', 'desc').first()).kind).toBe(
+    expect((await db()('role_grant').where({ user_id: u.id }).orderBy('id', 'desc').first())!.kind).toBe(
       'administrator',
     );
   });
@@ -360,7 +361,7 @@ describe("the command that creates a site's first accounts", () => {
   it('its path is closed to the runtime account of that database', async () => {
     const rt = knexFactory(knexConfig(dbSettings('runtime', SETUP_DB), { min: 0, max: 1 }));
     try {
-      const u = await setup('app_user').where({ username: 'qa.one' }).first();
+      const u = (await setup('app_user').where({ username: 'qa.one' }).first())!;
       await expect(
         rt('role_grant').insert({
           user_id: u.id,

@@ -10,6 +10,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { seedTrendHistory } from '../../db/seeds/trend-history';
 import { checkSignature } from '../../server/modules/integrity/service';
+import type { MeasurementRow } from '../../server/lib/db-tables';
 import { db, ownerDb, sig } from './helpers';
 import {
   account,
@@ -103,8 +104,8 @@ async function driftExceptions(): Promise<string[]> {
     .whereIn('me.id', history)
     .where('l.supplier', DRIFTING)
     .orderBy('me.id', 'desc')
-    .first('me.test_id');
-  const res = await olga.agent.get(`/api/tests/${m.test_id}/exceptions`);
+    .first<Pick<MeasurementRow, 'test_id'> | undefined>('me.test_id');
+  const res = await olga.agent.get(`/api/tests/${m!.test_id}/exceptions`);
   expect(res.status).toBe(200);
   return res.body.exceptions
     .filter((e: { kind: string }) => e.kind === 'open-signal')
@@ -153,9 +154,9 @@ describe('opening an investigation from a trend signal', () => {
     // signed, and the signature rebuilds from the stored record
     const opened = res.body.signatures.find((x: { meaning: string }) => x.meaning === 'investigation-opened');
     expect(opened).toBeTruthy();
-    const row = await db()('e_signature').where({ id: opened.id }).first();
+    const row = (await db()('e_signature').where({ id: opened.id }).first())!;
     expect(await checkSignature(db(), row, { foundIn: 'sweep' })).toBe(true);
-    expect((await db()('investigation').where({ id: invId }).first()).opening_signature_id).toBe(opened.id);
+    expect((await db()('investigation').where({ id: invId }).first())!.opening_signature_id).toBe(opened.id);
     // the signal links to it and leaves the open list
     const s = await quinn.agent.get(`/api/trending/signals/${target.id}`);
     expect(s.body).toMatchObject({
@@ -241,7 +242,7 @@ describe('opening an investigation from a trend signal', () => {
       .send({ conclusion: 'fine', signature: sig(quinn.user) });
     expect(short.status).toBe(400);
     expect((await auditor.agent.post(`/api/investigations/${invId}/conclude`).send(body)).status).toBe(403);
-    expect((await db()('investigation').where({ id: invId }).first()).status).toBe('phase1-recorded');
+    expect((await db()('investigation').where({ id: invId }).first())!.status).toBe('phase1-recorded');
   });
 
   it('QA concludes it with a signature; closed once; audited', async () => {
@@ -252,7 +253,7 @@ describe('opening an investigation from a trend signal', () => {
     expect(res.status).toBe(200);
     expect(res.body).toMatchObject({ status: 'closed', decision: 'concluded', justification: conclusion });
     const s = res.body.signatures.find((x: { meaning: string }) => x.meaning === 'trend-concluded');
-    const row = await db()('e_signature').where({ id: s.id }).first();
+    const row = (await db()('e_signature').where({ id: s.id }).first())!;
     expect(await checkSignature(db(), row, { foundIn: 'sweep' })).toBe(true);
     expect(
       await db()('audit_event').where({ action: 'investigation.trend-concluded', entity_id: String(invId) }),
@@ -265,8 +266,8 @@ describe('opening an investigation from a trend signal', () => {
   });
 
   it('refuses a conclusion on an investigation of a failing result', async () => {
-    const m = await db()('measurement').where({ id: history[0] }).first('test_id');
-    const t = await db()('identity_test').where({ id: m.test_id }).first('lot_id');
+    const m = (await db()('measurement').where({ id: history[0] }).first('test_id'))!;
+    const t = (await db()('identity_test').where({ id: m.test_id }).first('lot_id'))!;
     const [failId] = await db()('investigation').insert({
       number: `INV-PROBE-${Date.now() % 1e8}`,
       kind: 'failure',

@@ -9,7 +9,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { seedTrendHistory } from '../../db/seeds/trend-history';
 import { checkSignature } from '../../server/modules/integrity/service';
-import { db, ownerDb } from './helpers';
+import { db, ownerDb, untyped } from './helpers';
 import {
   account,
   agent,
@@ -84,7 +84,9 @@ const chartUrl = (m: ApprovedMaterial, q: string) => `/api/trending/chart?method
 
 describe('the synthetic history', () => {
   it('is signed like the application signs: the integrity sweep rebuilds the signed content of its tests', async () => {
-    const m = await db()('measurement').where({ id: history[5] }).first('test_id', 'instrument_check_id', 'created_at');
+    const m = (await db()('measurement')
+      .where({ id: history[5] })
+      .first('test_id', 'instrument_check_id', 'created_at'))!;
     const sigs = await db()('e_signature').where({ entity_type: 'identity_test', entity_id: String(m.test_id) });
     expect(sigs.map((s) => s.meaning).sort()).toEqual(['performed', 'verified']);
     for (const s of sigs) expect(await checkSignature(db(), s, { foundIn: 'sweep' })).toBe(true);
@@ -193,10 +195,10 @@ describe('signals', () => {
     const test = await db()('measurement')
       .where({ id: history.at(-1) })
       .first('test_id');
-    const ex = await olga.agent.get(`/api/tests/${test.test_id}/exceptions`);
+    const ex = await olga.agent.get(`/api/tests/${test!.test_id}/exceptions`);
     expect(ex.status).toBe(200);
     expect(ex.body.exceptions.some((e: { kind: string }) => e.kind === 'open-signal')).toBe(true);
-    expect((await admin.agent.get(`/api/tests/${test.test_id}/exceptions`)).status).toBe(403);
+    expect((await admin.agent.get(`/api/tests/${test!.test_id}/exceptions`)).status).toBe(403);
   });
 
   it('refuses an acknowledgement by the auditor, and one without a real comment', async () => {
@@ -273,12 +275,12 @@ describe('baseline', () => {
     expect(
       await db()('audit_event').where({ action: 'trend.baseline-fixed', entity_id: String(res.body.id) }),
     ).toHaveLength(1);
-    await expect(db()('trend_baseline').where({ id: res.body.id }).update({ reason: 'x' })).rejects.toThrow(
+    await expect(untyped(db(), 'trend_baseline').where({ id: res.body.id }).update({ reason: 'x' })).rejects.toThrow(
       /UPDATE command denied/,
     );
-    await expect(ownerDb()('trend_baseline').where({ id: res.body.id }).update({ reason: 'x' })).rejects.toThrow(
-      /append-only/,
-    );
+    await expect(
+      untyped(ownerDb(), 'trend_baseline').where({ id: res.body.id }).update({ reason: 'x' }),
+    ).rejects.toThrow(/append-only/);
   });
 });
 
@@ -292,7 +294,7 @@ describe('QA overview', () => {
     // every synthetic lot passed at its first attempt without an investigation
     expect(bySource.get(STEADY)).toMatchObject({ count: 20, total: 20, rate: 1 });
     expect(bySource.get(DRIFTING)).toMatchObject({ count: 20, total: 20, rate: 1 });
-    const first = await db()('measurement').where({ id: history[0] }).first('instrument_id');
+    const first = (await db()('measurement').where({ id: history[0] }).first('instrument_id'))!;
     const inst = res.body.invalidByInstrument.find((r: { key: string }) => r.key === String(first.instrument_id));
     // both histories (40 + 15 results) were measured on the one instrument
     expect(inst).toMatchObject({ count: 0, total: 55, rate: 0 });

@@ -79,7 +79,7 @@ describe('two Drumline processes on one database', () => {
     }
     expect(row?.status).toBe('sent');
     expect(row?.attempts).toBe(2); // the crashed try counts, then one delivery
-    const lease = await db()('job_lease').where({ name: 'mail' }).first();
+    const lease = (await db()('job_lease').where({ name: 'mail' }).first())!;
     const holders = [a, b].filter((p) => String(lease.holder).includes(`:${p.child.pid}:`));
     expect(holders).toHaveLength(1);
     expect(new Date(lease.expires_at).getTime()).toBeGreaterThan(Date.now());
@@ -99,9 +99,9 @@ describe('two Drumline processes on one database', () => {
       claimed_by: 'live-host:1:abcdef',
     });
     await requeueStale(db(), 300_000);
-    expect((await db()('mail_outbox').where({ id: fresh }).first()).status).toBe('sending');
+    expect((await db()('mail_outbox').where({ id: fresh }).first())!.status).toBe('sending');
     await requeueStale(db(), 0);
-    const after = await db()('mail_outbox').where({ id: fresh }).first();
+    const after = (await db()('mail_outbox').where({ id: fresh }).first())!;
     expect(after.status).toBe('queued');
     expect(after.claimed_by).toBeNull();
     expect(after.last_error).toMatch(/taken up again/);

@@ -110,7 +110,7 @@ describe('segregation of duties', () => {
       .post(`/api/tests/${testId}/verify`)
       .send({ signature: { username: v2.user.username, password: 'not-the-password' } });
     expect(bad.status).toBe(401);
-    expect((await db()('identity_test').where({ id: testId }).first()).status).toBe('awaiting-verification');
+    expect((await db()('identity_test').where({ id: testId }).first())!.status).toBe('awaiting-verification');
     const refused = await db()('audit_event').where({
       action: 'signature.refused',
       entity_type: 'identity_test',
@@ -190,7 +190,7 @@ describe('verification and outcome', () => {
       1,
     );
     const winner = res.findIndex((r) => r.status === 200);
-    expect((await db()('identity_test').where({ id: testId }).first()).verified_by).toBe(verifiers[winner].user.id);
+    expect((await db()('identity_test').where({ id: testId }).first())!.verified_by).toBe(verifiers[winner].user.id);
     for (const r of res.filter((x) => x.status === 409)) expect(r.body.error.message).toMatch(/already been verified/);
   });
 
@@ -221,8 +221,8 @@ describe('verification and outcome', () => {
     const mail = await db()('mail_outbox')
       .where('subject', 'like', `Identity test returned: lot ${lot.lotNumber}%`)
       .first();
-    expect(mail.to_address).toBe(`${olga.user.username}@test.example`);
-    expect(mail.body).toContain(reason);
+    expect(mail!.to_address).toBe(`${olga.user.username}@test.example`);
+    expect(mail!.body).toContain(reason);
     const lotNow = await olga.agent.get(`/api/lots/${lot.id}`);
     expect(lotNow.body.identityStatus).toBe('testing');
     // the returned attempt's results do not count for the lot
@@ -257,7 +257,7 @@ describe('verification and outcome', () => {
       .send({ reason: 'Please measure the second drum again.', signature: sig(victor.user) });
     expect(r.status).toBe(409);
     expect(r.body.error.code).toBe('FAILURE_NEEDS_INVESTIGATION');
-    expect((await db()('identity_test').where({ id: testId }).first()).status).toBe('awaiting-verification');
+    expect((await db()('identity_test').where({ id: testId }).first())!.status).toBe('awaiting-verification');
   });
 
   it('the work queue lists lots to test for operators and tests to verify for verifiers', async () => {
