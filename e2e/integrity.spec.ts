@@ -11,7 +11,7 @@ import knexFactory, { type Knex } from 'knex';
 import { dbSettings, knexConfig } from '../db/config';
 import { DEMO_PASSWORD } from '../db/seeds/accounts';
 import { createPassedLot, type PassedLot } from '../tests/api/fixtures-certificates';
-import { untyped } from '../tests/api/helpers';
+import { untyped } from '../tests/api/untyped';
 
 const DB = process.env.DRUMLINE_E2E_DB!;
 
