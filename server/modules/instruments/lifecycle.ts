@@ -186,6 +186,7 @@ export async function putBackInService(
   });
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('instrument').where({ id: instrumentId }).forUpdate().first();
+    if (!row) throw notFound('The instrument');
     if (row.service_state !== 'out-of-service') throw conflict(`Instrument ${inst.name} is in service.`);
     const sig = await recordSignature(trx, {
       user,
@@ -243,7 +244,9 @@ export async function lifecycleOf(
   const sigIds = [...quals.map((q) => q.signature_id), ...events.map((e) => e.signature_id)].filter(
     (x): x is number => !!x,
   );
-  const sigs = sigIds.length ? (await db('e_signature').whereIn('id', sigIds)).map(toSignatureRecord) : [];
+  const sigs = sigIds.length
+    ? (await db('e_signature').whereIn('id', sigIds)).map((s) => toSignatureRecord({ ...s }))
+    : [];
   const sig = (id: number | null) => sigs.find((s) => s.id === id) ?? null;
   return {
     qualifications: quals.map((q) => ({

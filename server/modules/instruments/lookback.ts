@@ -17,6 +17,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { parseJson, type Db } from '../../lib/db';
+import type { CheckImpactNoticeInsert } from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { conflict, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
@@ -99,7 +100,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
   const certs: { id: number; lot_id: number; number: string }[] = testIds.length
     ? await trx('certificate').whereIn('test_id', testIds).select('id', 'lot_id', 'number')
     : [];
-  const notices: Record<string, unknown>[] = [];
+  const notices: CheckImpactNoticeInsert[] = [];
   for (const lotId of lotIds) {
     const n = rows.filter((r) => r.lot_id === lotId).length;
     const text =
@@ -136,7 +137,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
     },
     ip,
   });
-  return assessmentId as number;
+  return assessmentId;
 }
 
 async function noticesOf(db: Db, where: { assessmentId?: number; lotId?: number }): Promise<ImpactNotice[]> {
@@ -270,6 +271,7 @@ export async function decideAssessment(
   });
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('check_impact_assessment').where({ id }).forUpdate().first();
+    if (!row) throw notFound('The impact assessment');
     if (row.status !== 'open') throw conflict('This impact assessment is already closed; its decision stands.');
     const now = new Date();
     const sig = await recordSignature(trx, {
