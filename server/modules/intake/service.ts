@@ -19,6 +19,7 @@ import { storeFile } from '../../lib/files';
 import { transactionWithRetry } from '../../lib/retry';
 import { childLog, safeError } from '../../lib/log';
 import { parseJson } from '../../lib/db';
+import type { InstrumentIntakeSettingRow } from '../../lib/db-tables';
 import type { Role } from '../../lib/contract';
 import { readSpectrumOff, sha256Off } from '../../workers/pool';
 import { holderOf, zonedToUtc } from '../provenance';
@@ -87,16 +88,16 @@ function validZone(zone: string): boolean {
   }
 }
 
-function settingRow(r: Record<string, unknown>, names: Map<number, string>): IntakeSetting {
+function settingRow(r: InstrumentIntakeSettingRow, names: Map<number, string>): IntakeSetting {
   return {
-    instrumentId: r.instrument_id as number,
-    exportFolder: (r.export_folder as string | null) ?? null,
+    instrumentId: r.instrument_id,
+    exportFolder: r.export_folder,
     usePolling: !!r.use_polling,
     manualUploadAllowed: !!r.manual_upload_allowed,
-    timeZone: r.time_zone as string,
-    setBy: names.get(r.set_by as number) ?? null,
-    setAt: new Date(r.created_at as Date).toISOString(),
-    reason: (r.reason as string) ?? null,
+    timeZone: r.time_zone,
+    setBy: names.get(r.set_by) ?? null,
+    setAt: new Date(r.created_at).toISOString(),
+    reason: r.reason,
   };
 }
 
@@ -107,8 +108,8 @@ export async function getIntakeSetting(db: Knex, config: AppConfig, instrumentId
     .join('app_user as u', 'u.id', 's.set_by')
     .where('s.instrument_id', instrumentId)
     .orderBy('s.id', 'desc')
-    .select('s.*', 'u.full_name');
-  const names = new Map(rows.map((r) => [r.set_by as number, r.full_name as string]));
+    .select<(InstrumentIntakeSettingRow & { full_name: string })[]>('s.*', 'u.full_name');
+  const names = new Map(rows.map((r) => [r.set_by, r.full_name]));
   const history = rows.map((r) => settingRow(r, names));
   const current: IntakeSetting = history[0] ?? {
     instrumentId,
@@ -201,6 +202,7 @@ export async function setIntakeSetting(
 
 async function asOperator(db: Knex, userId: number): Promise<AuthUser> {
   const u = await db('app_user').where({ id: userId }).first('id', 'username', 'full_name', 'email', 'roles');
+  if (!u) throw new Error(`user ${userId} holding the test is missing`);
   return {
     id: u.id,
     username: u.username,
@@ -304,7 +306,7 @@ export async function ingestFile(
         entityId: id,
         after: { instrumentId, file: { name: rel, sha256: sha, size: bytes.length }, labels, acquiredText },
       });
-      return id as number;
+      return id;
     });
   } catch (e) {
     if ((e as { code?: string }).code === 'ER_DUP_ENTRY') return { acquisitionId: null, state: 'taken-before' };
@@ -358,7 +360,9 @@ export async function ingestFile(
 }
 
 async function fileIdOf(db: Knex, acquisitionId: number): Promise<number> {
-  return (await db('folder_acquisition').where({ id: acquisitionId }).first('file_id')).file_id as number;
+  const a = await db('folder_acquisition').where({ id: acquisitionId }).first('file_id');
+  if (!a) throw new Error(`folder acquisition ${acquisitionId} just received is missing`);
+  return a.file_id;
 }
 
 // ---- the operator decides
@@ -403,7 +407,8 @@ export async function assignAcquisition(
       `The test in progress of container ${c.label} runs on another instrument than the one this file came from. Nothing was stored.`,
     );
   const file = await db('stored_file').where({ id: a.file_id }).first('data', 'file_name');
-  const buffer = Buffer.from(file.data as Buffer);
+  if (!file) throw new Error(`stored file ${a.file_id} of acquisition ${a.id} is missing`);
+  const buffer = Buffer.from(file.data);
   return addMeasurement(
     db,
     user,
