@@ -20,12 +20,12 @@ export type SpecRow = InstrumentCheckSpecRow;
 export type CheckRow = InstrumentCheckRow;
 
 /** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
-function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
+export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
   const found = values.find((x) => x === v);
   if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
   return found;
 }
-const SERVICE_STATES = ['in-service', 'out-of-service'] as const;
+export const SERVICE_STATES = ['in-service', 'out-of-service'] as const;
 const SPEC_STATUSES = ['draft', 'approved', 'superseded'] as const;
 const VERDICTS = ['pass', 'fail'] as const;
 export const checkTypeOf = (v: string): CheckType => oneOf(CHECK_TYPES, v, 'check type');

@@ -247,7 +247,7 @@ export async function listReferences(db: Knex, materialId: number): Promise<Refe
   const rows = await repo.referencesOf(db, materialId);
   const sigIds = rows.flatMap((r) => [r.approved_signature_id, r.retired_signature_id]).filter((x): x is number => !!x);
   const sigs = sigIds.length ? await db('e_signature').whereIn('id', sigIds) : [];
-  const users: { id: number; full_name: string }[] = await db('app_user')
+  const users = await db('app_user')
     .whereIn('id', [...new Set(rows.map((r) => r.created_by)), 0])
     .select('id', 'full_name');
   return rows.map((r) => {

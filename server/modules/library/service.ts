@@ -79,7 +79,7 @@ export function assertMethodValid(params: IdentityMethod): void {
 export async function listMaterials(db: Knex): Promise<MaterialListItem[]> {
   const mats = await repo.listMaterialRows(db);
   const methods = await db('identity_method').whereIn('status', ['approved', 'draft']);
-  const counts: { material_id: number; status: string; n: number }[] = await db('reference_spectrum')
+  const counts = await db('reference_spectrum')
     .select('material_id', 'status')
     .count({ n: '*' })
     .groupBy('material_id', 'status');
