@@ -19,7 +19,13 @@ import { storeFile } from '../../lib/files';
 import { transactionWithRetry } from '../../lib/retry';
 import { childLog, safeError } from '../../lib/log';
 import { parseJson } from '../../lib/db';
-import type { InstrumentIntakeSettingRow } from '../../lib/db-tables';
+import type {
+  FolderAcquisitionEventRow,
+  FolderAcquisitionRow,
+  IdentityTestRow,
+  InstrumentIntakeSettingRow,
+  MeasurementRow,
+} from '../../lib/db-tables';
 import type { Role } from '../../lib/contract';
 import { readSpectrumOff, sha256Off } from '../../workers/pool';
 import { holderOf, zonedToUtc } from '../provenance';
@@ -35,8 +41,16 @@ import type {
   OverdueAcquisitions,
   TestAcquisitionsView,
 } from './contract';
+import { ACQUISITION_STATES, type AcquisitionState } from './contract';
 import { FOLDER_WATCHER, intakeSettingOf, lockUnassigned, recordFolderEvent } from '../../lib/intake-records';
 import { clockOffsetSeconds, clockWarning } from '../../lib/clock-offset';
+
+/** The state an acquisition event records (checked: the schema keeps it a VARCHAR). */
+function acquisitionStateOf(v: string): AcquisitionState {
+  const found = ACQUISITION_STATES.find((x) => x === v);
+  if (found === undefined) throw new Error(`acquisition event "${v}" is not one of ${ACQUISITION_STATES.join(', ')}`);
+  return found;
+}
 
 const log = childLog('intake');
 
@@ -453,7 +467,10 @@ export async function acquisitionEntries(
 ): Promise<AcquisitionEntry[]> {
   const q = db('folder_acquisition as a').join('instrument as i', 'i.id', 'a.instrument_id');
   where(q);
-  const rows = await q.select('a.*', 'i.name as instrument_name').orderBy('a.id').limit(2000);
+  const rows = await q
+    .select<(FolderAcquisitionRow & { instrument_name: string })[]>('a.*', 'i.name as instrument_name')
+    .orderBy('a.id')
+    .limit(2000);
   if (!rows.length) return [];
   const events = await db('folder_acquisition_event as e')
     .leftJoin('app_user as u', 'u.id', 'e.created_by')
@@ -463,7 +480,11 @@ export async function acquisitionEntries(
       rows.map((r) => r.id),
     )
     .orderBy('e.id')
-    .select('e.*', 'u.full_name', 'c.label');
+    .select<(FolderAcquisitionEventRow & { full_name: string | null; label: string | null })[]>(
+      'e.*',
+      'u.full_name',
+      'c.label',
+    );
   const last = new Map<number, (typeof events)[number]>();
   for (const e of events) last.set(e.acquisition_id, e);
   return rows.map((r) => {
@@ -484,7 +505,7 @@ export async function acquisitionEntries(
       labelFound: r.label_found,
       sampleText: r.sample_text,
       readError: r.read_error,
-      state: e?.event ?? 'received',
+      state: e ? acquisitionStateOf(e.event) : 'received',
       stateCode: e?.code ?? null,
       stateReason: e?.reason ?? null,
       decidedBy: e ? (e.full_name ?? FOLDER_WATCHER) : null,
@@ -552,7 +573,13 @@ export async function testAcquisitions(db: Knex, config: AppConfig, testId: numb
     .leftJoin('e_signature as s', 's.id', 't.performed_signature_id')
     .leftJoin('instrument as i', 'i.id', 't.instrument_id')
     .where('t.id', testId)
-    .first('t.id', 't.created_at', 't.instrument_id', 's.signed_at', 'i.name');
+    .first<
+      | (Pick<IdentityTestRow, 'id' | 'created_at' | 'instrument_id'> & {
+          signed_at: Date | null;
+          name: string | null;
+        })
+      | undefined
+    >('t.id', 't.created_at', 't.instrument_id', 's.signed_at', 'i.name');
   if (!t) throw notFound('The identity test');
   const from = new Date(t.created_at);
   const to = t.signed_at ? new Date(t.signed_at) : new Date();
@@ -580,7 +607,13 @@ export async function testAcquisitions(db: Knex, config: AppConfig, testId: numb
     .where('m.test_id', testId)
     .whereNotIn('m.id', folderMeasurements)
     .orderBy('m.id')
-    .select('m.id', 'c.label', 'f.file_name', 'm.created_at', 'u.full_name');
+    .select<(Pick<MeasurementRow, 'id' | 'created_at'> & { label: string; file_name: string; full_name: string })[]>(
+      'm.id',
+      'c.label',
+      'f.file_name',
+      'm.created_at',
+      'u.full_name',
+    );
   return {
     testId,
     instrumentId: t.instrument_id ?? null,
