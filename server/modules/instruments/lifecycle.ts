@@ -258,6 +258,7 @@ export async function lifecycleOf(
   const sigIds = [...quals.map((q) => q.signature_id), ...events.map((e) => e.signature_id)].filter(
     (x): x is number => !!x,
   );
+  // A plain copy of each row: toSignatureRecord (server/lib/esign.ts) takes a record of columns.
   const sigs = sigIds.length
     ? (await db('e_signature').whereIn('id', sigIds)).map((s) => toSignatureRecord({ ...s }))
     : [];

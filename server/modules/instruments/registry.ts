@@ -30,6 +30,7 @@ export async function getInstrument(db: Knex, id: number): Promise<InstrumentDet
   const sigIds = [...specs.map((s) => s.approved_signature_id), ...checks.map((c) => c.signature_id)].filter(
     (x): x is number => !!x,
   );
+  // A plain copy of each row: toSignatureRecord (server/lib/esign.ts) takes a record of columns.
   const sigs = sigIds.length
     ? (await db('e_signature').whereIn('id', sigIds)).map((s) => toSignatureRecord({ ...s }))
     : [];
