@@ -11,6 +11,7 @@
  *   append-only and the database refuses a confirmation by the requester.
  */
 import type { Knex } from 'knex';
+import { must } from '../../lib/db';
 import { appendAudit, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
 import type { GateOverrideRow, MaterialIrSuitabilityRow } from '../../lib/db-tables';
@@ -264,7 +265,10 @@ export async function recordOverrideRequest(
     });
     return oid;
   });
-  return (await overridesOf(db, r.entityType, r.entityId)).find((o) => o.id === id)!;
+  return must(
+    (await overridesOf(db, r.entityType, r.entityId)).find((o) => o.id === id),
+    `gate override ${id} just requested`,
+  );
 }
 
 /**
