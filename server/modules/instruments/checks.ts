@@ -11,7 +11,7 @@
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { storeFile } from '../../lib/files';
-import { getDb, type Db } from '../../lib/db';
+import { getDb, must, type Db } from '../../lib/db';
 import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { conflict, notFound, spectrumRefusal, unprocessable } from '../../lib/errors';
@@ -110,13 +110,12 @@ export async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Prom
   const primary = states[0];
   const reason = await unusableReason(db, i, now);
   const valid = reason === null ? primary?.valid : undefined;
-  const last: (repo.CheckRow & { full_name: string | null }) | undefined = await db('instrument_check as c')
+  const last = await db('instrument_check as c')
     .leftJoin('app_user as u', 'u.id', 'c.performed_by')
     .where('c.instrument_id', i.id)
     .orderBy('c.performed_at', 'desc')
     .orderBy('c.id', 'desc')
-    .select('c.*', 'u.full_name')
-    .first();
+    .first<(repo.CheckRow & { full_name: string | null }) | undefined>('c.*', 'u.full_name');
   const spec = await repo.approvedSpecOf(db, i.id);
   return {
     checkDue: reason !== null,
@@ -126,7 +125,7 @@ export async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Prom
     lastCheck: last
       ? {
           id: last.id,
-          verdict: last.verdict,
+          verdict: repo.verdictOf(last.verdict),
           performedAt: repo.iso(last.performed_at)!,
           validUntil: repo.iso(last.valid_until),
           performedByName: last.full_name,
@@ -136,7 +135,7 @@ export async function statusOf(db: Knex, i: repo.InstrumentRow, now: Date): Prom
     required: states.map((s) => ({
       checkType: s.checkType,
       valid: !!s.valid,
-      lastVerdict: s.latest?.verdict ?? null,
+      lastVerdict: s.latest ? repo.verdictOf(s.latest.verdict) : null,
       validUntil: repo.iso(s.valid?.valid_until),
     })),
   };
@@ -151,7 +150,7 @@ export interface CheckUpload {
 /** The engine check for an approved specification of a type. */
 function engineCheckOf(spec: repo.SpecRow, inst: repo.InstrumentRow): PerformanceCheck {
   const limits = repo.toSpec(spec).limits;
-  switch (spec.check_type) {
+  switch (repo.checkTypeOf(spec.check_type)) {
     case 'polystyrene':
       return {
         type: 'polystyrene',
@@ -270,9 +269,9 @@ export async function recordCheck(
     });
     // indexed for the copy lookup: a sample can never be this check's spectrum (docs/provenance.md)
     await recordFingerprint(trx, {
-      fileId: fileId as number,
+      fileId,
       recordType: 'instrument-check',
-      recordId: id as number,
+      recordId: id,
       sha256: sha,
       keys,
       at: performedAt,
@@ -305,9 +304,12 @@ export async function recordCheck(
       ip,
     });
     if (result.verdict === 'fail') await openLookback(trx, { id, instrumentId, checkType, performedAt }, actor, ip);
-    return id as number;
+    return id;
   });
-  const row = (await db('instrument_check').where({ id: checkId }).first()) as repo.CheckRow;
+  const row = must(
+    await db('instrument_check').where({ id: checkId }).first(),
+    `instrument check ${checkId} just recorded`,
+  );
   return {
     ...repo.toCheck(row),
     signature: (await signaturesFor(db, 'instrument_check', checkId))[0] ?? null,
@@ -318,7 +320,7 @@ export async function recordCheck(
 export async function checkFile(db: Knex, instrumentId: number, checkId: number) {
   const c = await db('instrument_check').where({ id: checkId, instrument_id: instrumentId }).first();
   if (!c) throw notFound('The instrument check');
-  return db('stored_file').where({ id: c.file_id }).first();
+  return must(await db('stored_file').where({ id: c.file_id }).first(), `stored file ${c.file_id} of check ${c.id}`);
 }
 
 export interface ValidInstrumentCheck {

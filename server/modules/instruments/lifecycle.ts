@@ -19,7 +19,21 @@ import { checkSignatureCredentials, recordSignature, toSignatureRecord } from '.
 import { conflict, notFound } from '../../lib/errors';
 import type { Actor } from '../../lib/audit';
 import type { AuthUser } from '../../lib/http';
-import type { MaintenanceEntry, MaintenanceInput, Qualification, QualificationInput, ServiceEvent } from './contract';
+import {
+  MAINTENANCE_KINDS,
+  QUALIFICATION_STAGES,
+  QUALIFICATION_STATUSES,
+  type MaintenanceEntry,
+  type MaintenanceInput,
+  type Qualification,
+  type QualificationInput,
+  type ServiceEvent,
+} from './contract';
+import type {
+  InstrumentMaintenanceRow,
+  InstrumentQualificationRow,
+  InstrumentServiceEventRow,
+} from '../../lib/db-tables';
 import * as repo from './repo';
 import { transactionWithRetry } from '../../lib/retry';
 
@@ -186,6 +200,7 @@ export async function putBackInService(
   });
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('instrument').where({ id: instrumentId }).forUpdate().first();
+    if (!row) throw notFound('The instrument');
     if (row.service_state !== 'out-of-service') throw conflict(`Instrument ${inst.name} is in service.`);
     const sig = await recordSignature(trx, {
       user,
@@ -229,31 +244,34 @@ export async function lifecycleOf(
     .leftJoin('app_user as u', 'u.id', 'q.recorded_by')
     .where('q.instrument_id', instrumentId)
     .orderBy('q.id', 'desc')
-    .select('q.*', 'u.full_name');
+    .select<(InstrumentQualificationRow & { full_name: string | null })[]>('q.*', 'u.full_name');
   const maint = await db('instrument_maintenance as m')
     .leftJoin('app_user as u', 'u.id', 'm.recorded_by')
     .where('m.instrument_id', instrumentId)
     .orderBy('m.id', 'desc')
-    .select('m.*', 'u.full_name');
+    .select<(InstrumentMaintenanceRow & { full_name: string | null })[]>('m.*', 'u.full_name');
   const events = await db('instrument_service_event as e')
     .leftJoin('app_user as u', 'u.id', 'e.recorded_by')
     .where('e.instrument_id', instrumentId)
     .orderBy('e.id', 'desc')
-    .select('e.*', 'u.full_name');
+    .select<(InstrumentServiceEventRow & { full_name: string | null })[]>('e.*', 'u.full_name');
   const sigIds = [...quals.map((q) => q.signature_id), ...events.map((e) => e.signature_id)].filter(
     (x): x is number => !!x,
   );
-  const sigs = sigIds.length ? (await db('e_signature').whereIn('id', sigIds)).map(toSignatureRecord) : [];
+  // A plain copy of each row: toSignatureRecord (server/lib/esign.ts) takes a record of columns.
+  const sigs = sigIds.length
+    ? (await db('e_signature').whereIn('id', sigIds)).map((s) => toSignatureRecord({ ...s }))
+    : [];
   const sig = (id: number | null) => sigs.find((s) => s.id === id) ?? null;
   return {
     qualifications: quals.map((q) => ({
       id: q.id,
       instrumentId: q.instrument_id,
-      stage: q.stage,
+      stage: repo.oneOf(QUALIFICATION_STAGES, q.stage, 'qualification stage'),
       documentRef: q.document_ref,
       executedFrom: dateOnly(q.executed_from)!,
       executedTo: dateOnly(q.executed_to)!,
-      status: q.status,
+      status: repo.oneOf(QUALIFICATION_STATUSES, q.status, 'qualification status'),
       nextDue: dateOnly(q.next_due),
       summary: q.summary,
       recordedBy: q.recorded_by,
@@ -264,7 +282,7 @@ export async function lifecycleOf(
     maintenance: maint.map((m) => ({
       id: m.id,
       instrumentId: m.instrument_id,
-      kind: m.kind,
+      kind: repo.oneOf(MAINTENANCE_KINDS, m.kind, 'maintenance kind'),
       performedOn: dateOnly(m.performed_on)!,
       performedBy: m.performed_by_text,
       description: m.description,
@@ -275,7 +293,7 @@ export async function lifecycleOf(
     serviceEvents: events.map((e) => ({
       id: e.id,
       instrumentId: e.instrument_id,
-      state: e.state,
+      state: repo.oneOf(repo.SERVICE_STATES, e.state, 'service state'),
       reason: e.reason,
       recordedBy: e.recorded_by,
       recordedByName: e.full_name ?? null,

@@ -17,6 +17,12 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { parseJson, type Db } from '../../lib/db';
+import type {
+  CheckImpactAssessmentRow,
+  CheckImpactMeasurementRow,
+  CheckImpactNoticeInsert,
+  CheckImpactNoticeRow,
+} from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { conflict, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
@@ -28,7 +34,11 @@ import {
   type ImpactMeasurement,
   type ImpactNotice,
 } from './contract';
-import { iso } from './repo';
+import { checkTypeOf, iso, oneOf } from './repo';
+
+const ASSESSMENT_STATUSES = ['open', 'assessed'] as const;
+const DECISIONS = ['none', 'retest'] as const;
+const BASES = ['acquisition-or-upload'] as const;
 import { transactionWithRetry } from '../../lib/retry';
 
 interface FailedCheck {
@@ -53,7 +63,13 @@ export async function measurementsInWindow(
     .where('m.instrument_id', instrumentId)
     .andWhereRaw(`${when} <= ?`, [to])
     .orderByRaw(`${when}, m.id`)
-    .select('m.id', 'm.test_id', 't.lot_id', 'm.container_id', db.raw(`${when} as created_at`));
+    .select<{ id: number; test_id: number; lot_id: number; container_id: number; created_at: Date }[]>(
+      'm.id',
+      'm.test_id',
+      't.lot_id',
+      'm.container_id',
+      db.raw(`${when} as created_at`),
+    );
   if (from) q.andWhereRaw(`${when} > ?`, [from]);
   return q;
 }
@@ -99,7 +115,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
   const certs: { id: number; lot_id: number; number: string }[] = testIds.length
     ? await trx('certificate').whereIn('test_id', testIds).select('id', 'lot_id', 'number')
     : [];
-  const notices: Record<string, unknown>[] = [];
+  const notices: CheckImpactNoticeInsert[] = [];
   for (const lotId of lotIds) {
     const n = rows.filter((r) => r.lot_id === lotId).length;
     const text =
@@ -136,7 +152,7 @@ export async function openLookback(trx: Knex.Transaction, check: FailedCheck, ac
     },
     ip,
   });
-  return assessmentId as number;
+  return assessmentId;
 }
 
 async function noticesOf(db: Db, where: { assessmentId?: number; lotId?: number }): Promise<ImpactNotice[]> {
@@ -145,7 +161,13 @@ async function noticesOf(db: Db, where: { assessmentId?: number; lotId?: number 
     .join('check_impact_assessment as a', 'a.id', 'n.assessment_id')
     .leftJoin('certificate as c', 'c.id', 'n.certificate_id')
     .orderBy('n.id')
-    .select('n.*', 'l.lot_number', 'c.number as certificate_number', 'a.status', 'a.decision');
+    .select<
+      (CheckImpactNoticeRow &
+        Pick<CheckImpactAssessmentRow, 'status' | 'decision'> & {
+          lot_number: string;
+          certificate_number: string | null;
+        })[]
+    >('n.*', 'l.lot_number', 'c.number as certificate_number', 'a.status', 'a.decision');
   if (where.assessmentId) q.where('n.assessment_id', where.assessmentId);
   if (where.lotId) q.where('n.lot_id', where.lotId);
   const rows = await q;
@@ -155,11 +177,11 @@ async function noticesOf(db: Db, where: { assessmentId?: number; lotId?: number 
     lotId: r.lot_id,
     lotNumber: r.lot_number,
     certificateId: r.certificate_id,
-    certificateNumber: r.certificate_number ?? null,
+    certificateNumber: r.certificate_number,
     notice: r.notice,
     createdAt: iso(r.created_at)!,
-    assessmentStatus: r.status,
-    decision: r.decision ?? null,
+    assessmentStatus: oneOf(ASSESSMENT_STATUSES, r.status, 'impact assessment status'),
+    decision: r.decision === null ? null : oneOf(DECISIONS, r.decision, 'impact decision'),
   }));
 }
 
@@ -171,7 +193,11 @@ export async function getAssessment(db: Knex, id: number): Promise<ImpactAssessm
     .join('instrument as i', 'i.id', 'a.instrument_id')
     .leftJoin('app_user as u', 'u.id', 'a.assessed_by')
     .where('a.id', id)
-    .first('a.*', 'i.name as instrument_name', 'u.full_name as assessed_by_name');
+    .first<(CheckImpactAssessmentRow & { instrument_name: string; assessed_by_name: string | null }) | undefined>(
+      'a.*',
+      'i.name as instrument_name',
+      'u.full_name as assessed_by_name',
+    );
   if (!a) throw notFound('The impact assessment');
   const ms = await db('check_impact_measurement as x')
     .join('measurement as m', 'm.id', 'x.measurement_id')
@@ -180,7 +206,12 @@ export async function getAssessment(db: Knex, id: number): Promise<ImpactAssessm
     .where('x.assessment_id', id)
     .orderBy('x.measured_at')
     .orderBy('x.measurement_id')
-    .select('x.*', 'l.lot_number', 'c.label', 'm.verdict');
+    .select<(CheckImpactMeasurementRow & { lot_number: string; label: string; verdict: string })[]>(
+      'x.*',
+      'l.lot_number',
+      'c.label',
+      'm.verdict',
+    );
   const measurements: ImpactMeasurement[] = ms.map((r) => ({
     measurementId: r.measurement_id,
     testId: r.test_id,
@@ -196,13 +227,13 @@ export async function getAssessment(db: Knex, id: number): Promise<ImpactAssessm
     instrumentCheckId: a.instrument_check_id,
     instrumentId: a.instrument_id,
     instrumentName: a.instrument_name,
-    checkType: a.check_type,
+    checkType: checkTypeOf(a.check_type),
     windowFrom: iso(a.window_from),
     windowTo: iso(a.window_to)!,
-    basis: a.basis,
+    basis: oneOf(BASES, a.basis, 'look-back basis'),
     openedAt: iso(a.opened_at)!,
-    status: a.status,
-    decision: a.decision ?? null,
+    status: oneOf(ASSESSMENT_STATUSES, a.status, 'impact assessment status'),
+    decision: a.decision === null ? null : oneOf(DECISIONS, a.decision, 'impact decision'),
     retestContainerIds: parseJson<number[]>(a.retest_containers, []),
     rationale: a.rationale ?? null,
     assessedBy: a.assessed_by ?? null,
@@ -217,7 +248,7 @@ export async function getAssessment(db: Knex, id: number): Promise<ImpactAssessm
 export async function listAssessments(db: Knex, status?: 'open' | 'assessed'): Promise<ImpactAssessment[]> {
   const q = db('check_impact_assessment').orderBy('id', 'desc').limit(200).select('id');
   if (status) q.where({ status });
-  const ids: { id: number }[] = await q;
+  const ids = await q;
   const out: ImpactAssessment[] = [];
   for (const r of ids) out.push(await getAssessment(db, r.id));
   return out;
@@ -270,6 +301,7 @@ export async function decideAssessment(
   });
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('check_impact_assessment').where({ id }).forUpdate().first();
+    if (!row) throw notFound('The impact assessment');
     if (row.status !== 'open') throw conflict('This impact assessment is already closed; its decision stands.');
     const now = new Date();
     const sig = await recordSignature(trx, {

@@ -7,6 +7,8 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { toSignatureRecord } from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
 import * as repo from './repo';
+import { must } from '../../lib/db';
+import type { InstrumentInsert } from '../../lib/db-tables';
 import type { InstrumentCreate, InstrumentDetail, InstrumentListItem, InstrumentUpdate } from './contract';
 
 import { statusOf } from './checks';
@@ -15,7 +17,7 @@ import { DEFAULT_SPEC_JUSTIFICATION, pharmacopoeiaBands } from './specifications
 import { transactionWithRetry } from '../../lib/retry';
 
 export async function listInstruments(db: Knex): Promise<InstrumentListItem[]> {
-  const rows: repo.InstrumentRow[] = await db('instrument').orderBy('name');
+  const rows = await db('instrument').orderBy('name');
   const now = new Date();
   return Promise.all(rows.map(async (r) => ({ ...repo.toInstrument(r), ...(await statusOf(db, r, now)) })));
 }
@@ -28,8 +30,11 @@ export async function getInstrument(db: Knex, id: number): Promise<InstrumentDet
   const sigIds = [...specs.map((s) => s.approved_signature_id), ...checks.map((c) => c.signature_id)].filter(
     (x): x is number => !!x,
   );
-  const sigs = sigIds.length ? (await db('e_signature').whereIn('id', sigIds)).map(toSignatureRecord) : [];
-  const users: { id: number; full_name: string }[] = await db('app_user')
+  // A plain copy of each row: toSignatureRecord (server/lib/esign.ts) takes a record of columns.
+  const sigs = sigIds.length
+    ? (await db('e_signature').whereIn('id', sigIds)).map((s) => toSignatureRecord({ ...s }))
+    : [];
+  const users = await db('app_user')
     .whereIn('id', [...new Set([...checks.map((c) => c.performed_by), ...specs.map((s) => s.created_by)]), 0])
     .select('id', 'full_name');
   const name = (uid: number) => users.find((u) => u.id === uid)?.full_name ?? null;
@@ -72,7 +77,7 @@ export async function createInstrument(
       created_at: now,
       updated_at: now,
     });
-    const inst = repo.toInstrument((await repo.findInstrument(trx, id))!);
+    const inst = repo.toInstrument(must(await repo.findInstrument(trx, id), `instrument ${id} just inserted`));
     await appendAudit(trx, {
       actor,
       action: 'instrument.created',
@@ -105,7 +110,7 @@ export async function createInstrument(
         ip,
       });
     }
-    return id as number;
+    return id;
   });
   return getInstrument(db, id);
 }
@@ -120,7 +125,7 @@ export async function updateInstrument(
   await transactionWithRetry(db, async (trx) => {
     const before = await trx('instrument').where({ id }).forUpdate().first();
     if (!before) throw notFound('The instrument');
-    const upd: Record<string, unknown> = { updated_at: new Date() };
+    const upd: Partial<InstrumentInsert> = { updated_at: new Date() };
     if (patch.name !== undefined) upd.name = patch.name;
     if (patch.serialNumber !== undefined) upd.serial_number = patch.serialNumber;
     if (patch.sampling !== undefined) upd.sampling = patch.sampling;
@@ -128,7 +133,7 @@ export async function updateInstrument(
     if (patch.checkValidityHours !== undefined) upd.check_validity_hours = patch.checkValidityHours;
     if (patch.active !== undefined) upd.active = patch.active ? 1 : 0;
     await trx('instrument').where({ id }).update(upd);
-    const after = (await repo.findInstrument(trx, id))!;
+    const after = must(await repo.findInstrument(trx, id), `instrument ${id} just updated`);
     await appendAudit(trx, {
       actor,
       action: 'instrument.updated',

@@ -10,51 +10,26 @@ import type {
   Instrument,
   InstrumentCheck,
 } from './contract';
+import { CHECK_TYPES } from './contract';
+import type { InstrumentCheckRow, InstrumentCheckSpecRow, InstrumentRow } from '../../lib/db-tables';
 
-export interface InstrumentRow {
-  id: number;
-  name: string;
-  serial_number: string;
-  technique: string;
-  sampling: string;
-  location: string;
-  check_validity_hours: number;
-  active: number;
-  service_state: 'in-service' | 'out-of-service';
-  created_by: number;
-  created_at: Date;
-  updated_at: Date;
-}
+export type { InstrumentRow };
+/** A check specification of an instrument (table instrument_check_spec). */
+export type SpecRow = InstrumentCheckSpecRow;
+/** A performed instrument check (table instrument_check). */
+export type CheckRow = InstrumentCheckRow;
 
-export interface SpecRow {
-  id: number;
-  instrument_id: number;
-  check_type: CheckType;
-  limits: string | null;
-  version: number;
-  kind: string;
-  bands: string;
-  justification: string | null;
-  status: 'draft' | 'approved' | 'superseded';
-  created_by: number;
-  created_at: Date;
-  approved_signature_id: number | null;
+/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
+export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
+  const found = values.find((x) => x === v);
+  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
+  return found;
 }
-
-export interface CheckRow {
-  id: number;
-  instrument_id: number;
-  check_type: CheckType;
-  spec_id: number;
-  file_id: number;
-  result: string;
-  verdict: 'pass' | 'fail';
-  engine_version: string;
-  performed_by: number;
-  performed_at: Date;
-  valid_until: Date | null;
-  signature_id: number | null;
-}
+export const SERVICE_STATES = ['in-service', 'out-of-service'] as const;
+const SPEC_STATUSES = ['draft', 'approved', 'superseded'] as const;
+const VERDICTS = ['pass', 'fail'] as const;
+export const checkTypeOf = (v: string): CheckType => oneOf(CHECK_TYPES, v, 'check type');
+export const verdictOf = (v: string): 'pass' | 'fail' => oneOf(VERDICTS, v, 'check verdict');
 
 export const iso = (d: Date | null | undefined): string | null => (d ? new Date(d).toISOString() : null);
 
@@ -68,7 +43,7 @@ export function toInstrument(r: InstrumentRow): Instrument {
     location: r.location,
     checkValidityHours: r.check_validity_hours,
     active: !!r.active,
-    serviceState: r.service_state,
+    serviceState: oneOf(SERVICE_STATES, r.service_state, 'service state'),
     createdBy: r.created_by,
     createdAt: iso(r.created_at)!,
     updatedAt: iso(r.updated_at)!,
@@ -79,13 +54,13 @@ export function toSpec(r: SpecRow): CheckSpec {
   return {
     id: r.id,
     instrumentId: r.instrument_id,
-    checkType: r.check_type,
+    checkType: checkTypeOf(r.check_type),
     version: r.version,
     kind: r.kind,
     limits: parseJson<CheckLimits | null>(r.limits, null),
     bands: parseJson<CheckBand[]>(r.bands, []),
     justification: r.justification,
-    status: r.status,
+    status: oneOf(SPEC_STATUSES, r.status, 'specification status'),
     createdBy: r.created_by,
     createdAt: iso(r.created_at)!,
     approvedSignatureId: r.approved_signature_id,
@@ -96,11 +71,11 @@ export function toCheck(r: CheckRow): InstrumentCheck {
   return {
     id: r.id,
     instrumentId: r.instrument_id,
-    checkType: r.check_type,
+    checkType: checkTypeOf(r.check_type),
     specId: r.spec_id,
     fileId: r.file_id,
     result: parseJson<AnyCheckResult>(r.result, null as unknown as AnyCheckResult),
-    verdict: r.verdict,
+    verdict: verdictOf(r.verdict),
     engineVersion: r.engine_version,
     performedBy: r.performed_by,
     performedAt: iso(r.performed_at)!,
@@ -109,9 +84,9 @@ export function toCheck(r: CheckRow): InstrumentCheck {
   };
 }
 
-export const findInstrument = (db: Db, id: number): Promise<InstrumentRow | undefined> =>
+export const findInstrument = async (db: Db, id: number): Promise<InstrumentRow | undefined> =>
   db('instrument').where({ id }).first();
-export const approvedSpecOf = (
+export const approvedSpecOf = async (
   db: Db,
   instrumentId: number,
   checkType: CheckType = 'polystyrene',
@@ -120,9 +95,9 @@ export const approvedSpecOf = (
     .where({ instrument_id: instrumentId, status: 'approved', check_type: checkType })
     .orderBy('version', 'desc')
     .first();
-export const specsOf = (db: Db, instrumentId: number): Promise<SpecRow[]> =>
+export const specsOf = async (db: Db, instrumentId: number): Promise<SpecRow[]> =>
   db('instrument_check_spec').where({ instrument_id: instrumentId }).orderBy('version', 'desc');
-export const checksOf = (db: Db, instrumentId: number, limit = 200): Promise<CheckRow[]> =>
+export const checksOf = async (db: Db, instrumentId: number, limit = 200): Promise<CheckRow[]> =>
   db('instrument_check')
     .where({ instrument_id: instrumentId })
     .orderBy('performed_at', 'desc')
@@ -141,7 +116,7 @@ export async function lastBackInService(db: Db, instrumentId: number, at: Date):
 }
 
 /** The latest check of a type performed by `at`. */
-export const latestCheckOf = (
+export const latestCheckOf = async (
   db: Db,
   instrumentId: number,
   checkType: CheckType,
@@ -186,11 +161,11 @@ export async function validCheckOf(
  * except by a new approved version, so the requirement stays).
  */
 export async function requiredCheckTypes(db: Db, inst: { id: number; technique: string }): Promise<CheckType[]> {
-  const rows: { check_type: CheckType }[] = await db('instrument_check_spec')
+  const rows = await db('instrument_check_spec')
     .where({ instrument_id: inst.id })
     .whereIn('status', ['approved', 'superseded'])
     .distinct('check_type');
-  const types = new Set<CheckType>(rows.map((r) => r.check_type));
+  const types = new Set<CheckType>(rows.map((r) => checkTypeOf(r.check_type)));
   if (inst.technique === 'mid-ir') types.add('polystyrene');
   const order: CheckType[] = ['polystyrene', 'atr-blank', 'noise', 'nir-wavelength', 'nir-photometric-noise'];
   return order.filter((t) => types.has(t));

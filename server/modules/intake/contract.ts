@@ -37,7 +37,8 @@ export type NotASampleInput = z.infer<typeof notASampleSchema>;
 
 export const acquisitionListQuery = z.object({ state: z.enum(['unassigned', 'all']).optional() }).strict();
 
-export type AcquisitionState = 'received' | 'attached' | 'unassigned' | 'assigned' | 'not-a-sample';
+export const ACQUISITION_STATES = ['received', 'attached', 'unassigned', 'assigned', 'not-a-sample'] as const;
+export type AcquisitionState = (typeof ACQUISITION_STATES)[number];
 
 export const ACQUISITION_STATE_LABELS: Record<AcquisitionState, string> = {
   received: 'Received, being read',

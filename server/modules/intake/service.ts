@@ -19,6 +19,13 @@ import { storeFile } from '../../lib/files';
 import { transactionWithRetry } from '../../lib/retry';
 import { childLog, safeError } from '../../lib/log';
 import { parseJson } from '../../lib/db';
+import type {
+  FolderAcquisitionEventRow,
+  FolderAcquisitionRow,
+  IdentityTestRow,
+  InstrumentIntakeSettingRow,
+  MeasurementRow,
+} from '../../lib/db-tables';
 import type { Role } from '../../lib/contract';
 import { readSpectrumOff, sha256Off } from '../../workers/pool';
 import { holderOf, zonedToUtc } from '../provenance';
@@ -34,8 +41,16 @@ import type {
   OverdueAcquisitions,
   TestAcquisitionsView,
 } from './contract';
+import { ACQUISITION_STATES, type AcquisitionState } from './contract';
 import { FOLDER_WATCHER, intakeSettingOf, lockUnassigned, recordFolderEvent } from '../../lib/intake-records';
 import { clockOffsetSeconds, clockWarning } from '../../lib/clock-offset';
+
+/** The state an acquisition event records (checked: the schema keeps it a VARCHAR). */
+function acquisitionStateOf(v: string): AcquisitionState {
+  const found = ACQUISITION_STATES.find((x) => x === v);
+  if (found === undefined) throw new Error(`acquisition event "${v}" is not one of ${ACQUISITION_STATES.join(', ')}`);
+  return found;
+}
 
 const log = childLog('intake');
 
@@ -87,16 +102,16 @@ function validZone(zone: string): boolean {
   }
 }
 
-function settingRow(r: Record<string, unknown>, names: Map<number, string>): IntakeSetting {
+function settingRow(r: InstrumentIntakeSettingRow, names: Map<number, string>): IntakeSetting {
   return {
-    instrumentId: r.instrument_id as number,
-    exportFolder: (r.export_folder as string | null) ?? null,
+    instrumentId: r.instrument_id,
+    exportFolder: r.export_folder,
     usePolling: !!r.use_polling,
     manualUploadAllowed: !!r.manual_upload_allowed,
-    timeZone: r.time_zone as string,
-    setBy: names.get(r.set_by as number) ?? null,
-    setAt: new Date(r.created_at as Date).toISOString(),
-    reason: (r.reason as string) ?? null,
+    timeZone: r.time_zone,
+    setBy: names.get(r.set_by) ?? null,
+    setAt: new Date(r.created_at).toISOString(),
+    reason: r.reason,
   };
 }
 
@@ -107,8 +122,8 @@ export async function getIntakeSetting(db: Knex, config: AppConfig, instrumentId
     .join('app_user as u', 'u.id', 's.set_by')
     .where('s.instrument_id', instrumentId)
     .orderBy('s.id', 'desc')
-    .select('s.*', 'u.full_name');
-  const names = new Map(rows.map((r) => [r.set_by as number, r.full_name as string]));
+    .select<(InstrumentIntakeSettingRow & { full_name: string })[]>('s.*', 'u.full_name');
+  const names = new Map(rows.map((r) => [r.set_by, r.full_name]));
   const history = rows.map((r) => settingRow(r, names));
   const current: IntakeSetting = history[0] ?? {
     instrumentId,
@@ -201,6 +216,7 @@ export async function setIntakeSetting(
 
 async function asOperator(db: Knex, userId: number): Promise<AuthUser> {
   const u = await db('app_user').where({ id: userId }).first('id', 'username', 'full_name', 'email', 'roles');
+  if (!u) throw new Error(`user ${userId} holding the test is missing`);
   return {
     id: u.id,
     username: u.username,
@@ -304,7 +320,7 @@ export async function ingestFile(
         entityId: id,
         after: { instrumentId, file: { name: rel, sha256: sha, size: bytes.length }, labels, acquiredText },
       });
-      return id as number;
+      return id;
     });
   } catch (e) {
     if ((e as { code?: string }).code === 'ER_DUP_ENTRY') return { acquisitionId: null, state: 'taken-before' };
@@ -358,7 +374,9 @@ export async function ingestFile(
 }
 
 async function fileIdOf(db: Knex, acquisitionId: number): Promise<number> {
-  return (await db('folder_acquisition').where({ id: acquisitionId }).first('file_id')).file_id as number;
+  const a = await db('folder_acquisition').where({ id: acquisitionId }).first('file_id');
+  if (!a) throw new Error(`folder acquisition ${acquisitionId} just received is missing`);
+  return a.file_id;
 }
 
 // ---- the operator decides
@@ -403,7 +421,8 @@ export async function assignAcquisition(
       `The test in progress of container ${c.label} runs on another instrument than the one this file came from. Nothing was stored.`,
     );
   const file = await db('stored_file').where({ id: a.file_id }).first('data', 'file_name');
-  const buffer = Buffer.from(file.data as Buffer);
+  if (!file) throw new Error(`stored file ${a.file_id} of acquisition ${a.id} is missing`);
+  const buffer = Buffer.from(file.data);
   return addMeasurement(
     db,
     user,
@@ -448,7 +467,10 @@ export async function acquisitionEntries(
 ): Promise<AcquisitionEntry[]> {
   const q = db('folder_acquisition as a').join('instrument as i', 'i.id', 'a.instrument_id');
   where(q);
-  const rows = await q.select('a.*', 'i.name as instrument_name').orderBy('a.id').limit(2000);
+  const rows = await q
+    .select<(FolderAcquisitionRow & { instrument_name: string })[]>('a.*', 'i.name as instrument_name')
+    .orderBy('a.id')
+    .limit(2000);
   if (!rows.length) return [];
   const events = await db('folder_acquisition_event as e')
     .leftJoin('app_user as u', 'u.id', 'e.created_by')
@@ -458,7 +480,11 @@ export async function acquisitionEntries(
       rows.map((r) => r.id),
     )
     .orderBy('e.id')
-    .select('e.*', 'u.full_name', 'c.label');
+    .select<(FolderAcquisitionEventRow & { full_name: string | null; label: string | null })[]>(
+      'e.*',
+      'u.full_name',
+      'c.label',
+    );
   const last = new Map<number, (typeof events)[number]>();
   for (const e of events) last.set(e.acquisition_id, e);
   return rows.map((r) => {
@@ -479,7 +505,7 @@ export async function acquisitionEntries(
       labelFound: r.label_found,
       sampleText: r.sample_text,
       readError: r.read_error,
-      state: e?.event ?? 'received',
+      state: e ? acquisitionStateOf(e.event) : 'received',
       stateCode: e?.code ?? null,
       stateReason: e?.reason ?? null,
       decidedBy: e ? (e.full_name ?? FOLDER_WATCHER) : null,
@@ -547,7 +573,13 @@ export async function testAcquisitions(db: Knex, config: AppConfig, testId: numb
     .leftJoin('e_signature as s', 's.id', 't.performed_signature_id')
     .leftJoin('instrument as i', 'i.id', 't.instrument_id')
     .where('t.id', testId)
-    .first('t.id', 't.created_at', 't.instrument_id', 's.signed_at', 'i.name');
+    .first<
+      | (Pick<IdentityTestRow, 'id' | 'created_at' | 'instrument_id'> & {
+          signed_at: Date | null;
+          name: string | null;
+        })
+      | undefined
+    >('t.id', 't.created_at', 't.instrument_id', 's.signed_at', 'i.name');
   if (!t) throw notFound('The identity test');
   const from = new Date(t.created_at);
   const to = t.signed_at ? new Date(t.signed_at) : new Date();
@@ -575,7 +607,13 @@ export async function testAcquisitions(db: Knex, config: AppConfig, testId: numb
     .where('m.test_id', testId)
     .whereNotIn('m.id', folderMeasurements)
     .orderBy('m.id')
-    .select('m.id', 'c.label', 'f.file_name', 'm.created_at', 'u.full_name');
+    .select<(Pick<MeasurementRow, 'id' | 'created_at'> & { label: string; file_name: string; full_name: string })[]>(
+      'm.id',
+      'c.label',
+      'f.file_name',
+      'm.created_at',
+      'u.full_name',
+    );
   return {
     testId,
     instrumentId: t.instrument_id ?? null,

@@ -12,6 +12,7 @@ import path from 'node:path';
 import { watch, type FSWatcher } from 'chokidar';
 import type { Knex } from 'knex';
 import type { AppConfig } from '../../lib/config';
+import type { InstrumentIntakeSettingRow } from '../../lib/db-tables';
 import { startJob, type RunningJob } from '../../lib/lease';
 import { childLog, safeError } from '../../lib/log';
 import { ingestFile, logIngestError, resolveExportFolder } from './service';
@@ -52,9 +53,14 @@ export function startIntakeJob(db: Knex, config: AppConfig): IntakeJob {
     const latest = await db('instrument_intake_setting as s')
       .whereIn('s.id', db('instrument_intake_setting').max('id').groupBy('instrument_id'))
       .whereNotNull('s.export_folder')
-      .select('s.instrument_id', 's.export_folder', 's.use_polling');
+      .select<Pick<InstrumentIntakeSettingRow, 'instrument_id' | 'export_folder' | 'use_polling'>[]>(
+        's.instrument_id',
+        's.export_folder',
+        's.use_polling',
+      );
     const wanted = new Map<number, { folder: string; polling: boolean }>();
     for (const r of latest) {
+      if (r.export_folder === null) continue; // selected whereNotNull: never taken
       try {
         wanted.set(r.instrument_id, { folder: resolveExportFolder(config, r.export_folder), polling: !!r.use_polling });
       } catch (e) {

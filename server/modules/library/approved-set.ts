@@ -101,9 +101,7 @@ export async function getApprovedReferenceSet(
 ): Promise<ApprovedReferenceSet | null> {
   const methodRow = await repo.approvedMethodOf(db, materialId);
   if (!methodRow) return null;
-  const refRows: repo.ReferenceRow[] = await db('reference_spectrum')
-    .where({ material_id: materialId, status: 'approved' })
-    .orderBy('id');
+  const refRows = await db('reference_spectrum').where({ material_id: materialId, status: 'approved' }).orderBy('id');
   const fingerprint = `${methodRow.id}|${refRows.map((r) => r.id).join(',')}`;
   const hit = setCache.get(materialId);
   if (hit && hit.fingerprint === fingerprint) return hit.value;
@@ -130,7 +128,7 @@ export async function getApprovedReferenceSet(
  * Signature: getLibraryForMethodGrid(method: IdentityMethod, db?: Knex): Promise<MethodGridLibrary>
  */
 export async function getLibraryForMethodGrid(method: IdentityMethod, db: Knex = getDb()): Promise<MethodGridLibrary> {
-  const rows: (repo.ReferenceRow & { m_code: string; m_name: string })[] = await db('reference_spectrum as r')
+  const rows = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
@@ -138,7 +136,7 @@ export async function getLibraryForMethodGrid(method: IdentityMethod, db: Knex =
     .where('r.status', 'approved')
     .andWhere('m.active', 1)
     .andWhere('im.technique', method.technique)
-    .select('r.*', 'm.code as m_code', 'm.name as m_name')
+    .select<(repo.ReferenceRow & { m_code: string; m_name: string })[]>('r.*', 'm.code as m_code', 'm.name as m_name')
     .orderBy('r.id');
   const key = preparationKey(method);
   const fingerprint = rows.map((r) => r.id).join(',');
@@ -224,7 +222,7 @@ export async function getPinnedReferenceSet(testId: number, db: Knex = getDb()):
   if (!methodRow) return null;
   const method = repo.toMethod(methodRow);
   const ids = JSON.parse(pin.reference_ids) as number[];
-  const refRows: repo.ReferenceRow[] = await db('reference_spectrum')
+  const refRows = await db('reference_spectrum')
     .whereIn('id', ids.length ? ids : [0])
     .orderBy('id');
   const references: ApprovedReference[] = [];

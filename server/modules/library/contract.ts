@@ -207,8 +207,10 @@ export const specificityMatrixQuerySchema = z.object({ technique: z.enum(TECHNIQ
 
 // ------------------------------------------------------------------ response shapes
 
-export type MethodStatus = 'draft' | 'approved' | 'superseded';
-export type ReferenceStatus = 'draft' | 'approved' | 'retired';
+export const METHOD_STATUSES = ['draft', 'approved', 'superseded'] as const;
+export type MethodStatus = (typeof METHOD_STATUSES)[number];
+export const REFERENCE_STATUSES = ['draft', 'approved', 'retired'] as const;
+export type ReferenceStatus = (typeof REFERENCE_STATUSES)[number];
 
 export interface Material {
   id: number;

@@ -34,10 +34,11 @@ export function assignmentText(position: number, width?: number): string {
  * when a reference has no band list), each with its assignment. Empty when band picking is off.
  */
 export function pickBands(spectrum: Spectrum, method: IdentityMethod): StoredBand[] {
-  if (method.peakProminence === null) return [];
+  const minProminence = method.peakProminence;
+  if (minProminence === null) return [];
   const prepared = prepare(spectrum, method);
   return prepared.peaks
-    .filter((p) => p.prominence >= (method.peakProminence as number))
+    .filter((p) => p.prominence >= minProminence)
     .map((p) => ({
       position: round(p.position, 2),
       prominence: round(p.prominence, 4),
@@ -107,7 +108,7 @@ export async function spectrumOfFile(db: Db, fileId: number): Promise<Spectrum> 
   if (hit) return hit;
   const f = await db('stored_file').where({ id: fileId }).first();
   if (!f) throw new Error(`stored file ${fileId} is missing`);
-  const s = await readSpectrumOff(new Uint8Array(f.data as Buffer), String(f.file_name));
+  const s = await readSpectrumOff(new Uint8Array(f.data), f.file_name);
   if (spectrumCache.size >= MAX_CACHED) spectrumCache.delete(spectrumCache.keys().next().value as number);
   spectrumCache.set(fileId, s);
   return s;

@@ -15,6 +15,7 @@
  */
 import type { Knex } from 'knex';
 import { canonicalJson, sha256Hex } from '../../lib/canonical';
+import type { MaterialRow } from '../../lib/db-tables';
 import {
   type Criterion,
   type IdentityMethod,
@@ -133,14 +134,14 @@ export async function methodGate(
       params,
     ),
   );
-  const others: { id: number; code: string; name: string }[] = await db('material as m')
+  const others = await db('material as m')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
     })
     .where('m.active', 1)
     .andWhere('im.technique', method.technique)
     .andWhereNot('m.id', method.materialId)
-    .select('m.id', 'm.code', 'm.name')
+    .select<Pick<MaterialRow, 'id' | 'code' | 'name'>[]>('m.id', 'm.code', 'm.name')
     .orderBy('m.code');
   const rows: MethodGateRow[] = [];
   for (const o of others) {

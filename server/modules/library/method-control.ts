@@ -11,8 +11,10 @@
  *   append-only and the database refuses a confirmation by the requester.
  */
 import type { Knex } from 'knex';
+import { must } from '../../lib/db';
 import { appendAudit, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
+import type { GateOverrideRow, MaterialIrSuitabilityRow } from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
@@ -22,24 +24,15 @@ import { transactionWithRetry } from '../../lib/retry';
 
 type Db = Knex | Knex.Transaction;
 
-interface SuitabilityRow {
-  id: number;
-  material_id: number;
-  suitable: number;
-  replacement_test: string | null;
-  reason: string;
-  decided_by: number;
-  signature_id: number;
-  decided_at: Date;
-  full_name?: string;
-}
+/** A decision with the name of who took it (join with app_user). */
+type SuitabilityRow = MaterialIrSuitabilityRow & { full_name: string };
 
 function toSuitability(r: SuitabilityRow): IrSuitability {
   return {
     suitable: !!r.suitable,
     replacementTest: r.replacement_test,
     reason: r.reason,
-    decidedByName: r.full_name ?? '',
+    decidedByName: r.full_name,
     decidedAt: new Date(r.decided_at).toISOString(),
     signatureId: r.signature_id,
   };
@@ -52,9 +45,9 @@ export async function irSuitabilityMap(db: Db, materialIds?: number[]): Promise<
     .whereIn('d.id', function () {
       this.from('material_ir_suitability').max('id').groupBy('material_id');
     })
-    .select('d.*', 'u.full_name');
+    .select<SuitabilityRow[]>('d.*', 'u.full_name');
   if (materialIds) q = q.whereIn('d.material_id', materialIds.length ? materialIds : [0]);
-  const rows: SuitabilityRow[] = await q;
+  const rows = await q;
   return new Map(rows.map((r) => [r.material_id, toSuitability(r)]));
 }
 
@@ -154,31 +147,22 @@ export function irSuitabilitySignedContent(
 
 type Entity = 'identity_method' | 'reference_spectrum';
 
-interface OverrideRow {
-  id: number;
-  entity_type: Entity;
-  entity_id: number;
-  justification: string;
-  change_control: string;
-  gate_sha256: string;
-  requested_by: number;
-  signature_id: number;
-  requested_at: Date;
-}
-
 export async function overridesOf(db: Db, entityType: Entity, entityId: number): Promise<GateOverride[]> {
-  const rows: (OverrideRow & { req_name: string; conf_name: string | null; confirmed_at: Date | null })[] = await db(
-    'gate_override as o',
-  )
+  const rows = await db('gate_override as o')
     .join('app_user as u', 'u.id', 'o.requested_by')
     .leftJoin('gate_override_confirmation as c', 'c.override_id', 'o.id')
     .leftJoin('app_user as cu', 'cu.id', 'c.confirmed_by')
     .where({ 'o.entity_type': entityType, 'o.entity_id': entityId })
-    .select('o.*', 'u.full_name as req_name', 'cu.full_name as conf_name', 'c.confirmed_at')
+    .select<(GateOverrideRow & { req_name: string; conf_name: string | null; confirmed_at: Date | null })[]>(
+      'o.*',
+      'u.full_name as req_name',
+      'cu.full_name as conf_name',
+      'c.confirmed_at',
+    )
     .orderBy('o.id');
   return rows.map((r) => ({
     id: r.id,
-    entityType: r.entity_type,
+    entityType, // the rows were selected by it
     entityId: r.entity_id,
     justification: r.justification,
     changeControl: r.change_control,
@@ -279,9 +263,12 @@ export async function recordOverrideRequest(
       reason: r.justification,
       ip,
     });
-    return oid as number;
+    return oid;
   });
-  return (await overridesOf(db, r.entityType, r.entityId)).find((o) => o.id === id)!;
+  return must(
+    (await overridesOf(db, r.entityType, r.entityId)).find((o) => o.id === id),
+    `gate override ${id} just requested`,
+  );
 }
 
 /**
@@ -296,8 +283,8 @@ export async function checkOverride(
   entityId: number,
   gateSha256: string,
   excluded: { userId: number; why: string }[],
-): Promise<OverrideRow> {
-  const o: OverrideRow | undefined = await db('gate_override').where({ id: overrideId }).first();
+): Promise<GateOverrideRow> {
+  const o = await db('gate_override').where({ id: overrideId }).first();
   if (!o || o.entity_type !== entityType || o.entity_id !== entityId)
     throw new AppError(422, 'OVERRIDE_UNKNOWN', `Override request ${overrideId} does not belong to this record.`);
   if (await db('gate_override_confirmation').where({ override_id: overrideId }).first())
@@ -318,7 +305,7 @@ export async function checkOverride(
 
 export async function confirmOverride(
   trx: Knex.Transaction,
-  actor: Actor,
+  actor: Actor & { id: number },
   overrideId: number,
   signatureId: number,
   entity: { type: Entity; id: number },

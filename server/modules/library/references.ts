@@ -24,6 +24,7 @@
  *   too (a bad upload is withdrawn, not deleted).
  */
 import { transactionWithRetry } from '../../lib/retry';
+import { must } from '../../lib/db';
 import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import type { SignatureInput } from '../../lib/contract';
@@ -158,7 +159,7 @@ export async function uploadReferences(
       });
       // indexed for the copy lookup: a sample can never be this reference's spectrum (docs/provenance.md)
       await recordFingerprint(trx, {
-        fileId: fileId as number,
+        fileId,
         recordType: 'reference',
         recordId: id,
         sha256: p.sha256,
@@ -246,7 +247,7 @@ export async function listReferences(db: Knex, materialId: number): Promise<Refe
   const rows = await repo.referencesOf(db, materialId);
   const sigIds = rows.flatMap((r) => [r.approved_signature_id, r.retired_signature_id]).filter((x): x is number => !!x);
   const sigs = sigIds.length ? await db('e_signature').whereIn('id', sigIds) : [];
-  const users: { id: number; full_name: string }[] = await db('app_user')
+  const users = await db('app_user')
     .whereIn('id', [...new Set(rows.map((r) => r.created_by)), 0])
     .select('id', 'full_name');
   return rows.map((r) => {
@@ -265,13 +266,16 @@ export async function listReferences(db: Knex, materialId: number): Promise<Refe
 
 /** References across all materials by status (e.g. drafts awaiting approval, for the QA work queue). */
 export async function referencesByStatus(db: Knex, status: ReferenceStatus): Promise<ReferenceListItem[]> {
-  const rows: (repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[] = await db(
-    'reference_spectrum as r',
-  )
+  const rows = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
     .join('app_user as u', 'u.id', 'r.created_by')
     .where('r.status', status)
-    .select('r.*', 'm.code as m_code', 'm.name as m_name', 'u.full_name as uploader')
+    .select<(repo.ReferenceRow & { m_code: string; m_name: string; uploader: string })[]>(
+      'r.*',
+      'm.code as m_code',
+      'm.name as m_name',
+      'u.full_name as uploader',
+    )
     .orderBy('r.created_at', 'asc')
     .limit(500);
   return rows.map((r) => {
@@ -297,7 +301,7 @@ export async function referenceOverlay(db: Knex, id: number): Promise<ReferenceO
     traces.push({
       referenceId: x.id,
       code: x.code,
-      status: x.status,
+      status: repo.referenceStatus(x.status),
       isThis: x.id === id,
       x: Array.from(s.x, (v) => round(v, 3)),
       y: Array.from(s.y, (v) => round(v, 5)),
@@ -460,7 +464,7 @@ export async function approveReference(
     ip,
   });
 
-  const actor: Actor = { id: user.id, name: user.fullName };
+  const actor = { id: user.id, name: user.fullName };
   const spectrum = await spectrumOfFile(db, r.file_id);
   const gate = await specificityGate(
     db,
@@ -513,10 +517,14 @@ export async function approveReference(
   const meaning = override ? 'approved-with-justification' : 'approved';
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
+    if (!row) throw notFound('The reference spectrum');
     if (row.status !== 'draft') throw conflict(`Reference ${row.code} was ${row.status} meanwhile by someone else.`);
     if (row.bands !== r.bands)
       throw conflict('The bands were changed while you were signing; review them and sign again.');
-    const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();
+    const file = must(
+      await trx('stored_file').where({ id: row.file_id }).select('sha256').first(),
+      `stored file ${row.file_id} of reference ${row.code}`,
+    );
     const bands = repo.toReference(row).bands;
     const sig = await recordSignature(trx, {
       user,
@@ -590,8 +598,12 @@ export async function retireReference(
   });
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('reference_spectrum').where({ id }).forUpdate().first();
+    if (!row) throw notFound('The reference spectrum');
     if (row.status === 'retired') throw conflict(`Reference ${row.code} was retired meanwhile.`);
-    const file = await trx('stored_file').where({ id: row.file_id }).select('sha256').first();
+    const file = must(
+      await trx('stored_file').where({ id: row.file_id }).select('sha256').first(),
+      `stored file ${row.file_id} of reference ${row.code}`,
+    );
     const sig = await recordSignature(trx, {
       user,
       credentials: input.signature,

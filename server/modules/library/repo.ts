@@ -2,6 +2,15 @@
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import type {
+  IdentityMethodInsert,
+  IdentityMethodRow,
+  MaterialInsert,
+  MaterialRow,
+  ReferenceSpectrumInsert,
+  ReferenceSpectrumRow,
+  StoredFileRow,
+} from '../../lib/db-tables';
+import type {
   GateReport,
   IdentityMethodInput,
   Material,
@@ -12,20 +21,28 @@ import type {
   ReferenceSummary,
   StoredBand,
 } from './contract';
+import { METHOD_STATUSES, REFERENCE_STATUSES } from './contract';
 
-export interface MaterialRow {
-  id: number;
-  code: string;
-  name: string;
-  grade: string;
-  monograph_ref: string;
-  techniques: string;
-  notes: string | null;
-  active: number;
-  created_by: number;
-  created_at: Date;
-  updated_at: Date;
+/** The stored status of a method version, checked against the values the API knows. */
+function methodStatus(s: string): MethodStatus {
+  const v = METHOD_STATUSES.find((x) => x === s);
+  if (v === undefined) throw new Error(`identity_method status "${s}" is not one of ${METHOD_STATUSES.join(', ')}`);
+  return v;
 }
+
+/** The stored status of a reference, checked against the values the API knows. */
+export function referenceStatus(s: string): ReferenceStatus {
+  const v = REFERENCE_STATUSES.find((x) => x === s);
+  if (v === undefined)
+    throw new Error(`reference_spectrum status "${s}" is not one of ${REFERENCE_STATUSES.join(', ')}`);
+  return v;
+}
+
+export type { MaterialRow, StoredFileRow };
+/** A version of a material's identity method (table identity_method). */
+export type MethodRow = IdentityMethodRow;
+/** A reference spectrum (table reference_spectrum). */
+export type ReferenceRow = ReferenceSpectrumRow;
 
 export function toMaterial(r: MaterialRow): Material {
   return {
@@ -43,28 +60,12 @@ export function toMaterial(r: MaterialRow): Material {
   };
 }
 
-export interface MethodRow {
-  id: number;
-  material_id: number;
-  version: number;
-  status: MethodStatus;
-  technique: string;
-  params: string;
-  change_note: string | null;
-  supersedes_id: number | null;
-  created_by: number;
-  created_at: Date;
-  updated_at: Date;
-  approved_signature_id: number | null;
-  approved_at: Date | null;
-}
-
 export function toMethod(r: MethodRow): MethodVersion {
   return {
     id: r.id,
     materialId: r.material_id,
     version: r.version,
-    status: r.status,
+    status: methodStatus(r.status),
     technique: r.technique,
     params: parseJson<IdentityMethodInput>(r.params, null as unknown as IdentityMethodInput),
     changeNote: r.change_note,
@@ -77,37 +78,12 @@ export function toMethod(r: MethodRow): MethodVersion {
   };
 }
 
-export interface ReferenceRow {
-  id: number;
-  material_id: number;
-  code: string;
-  file_id: number;
-  status: ReferenceStatus;
-  technique: string;
-  supplier: string;
-  supplier_lot: string;
-  measured_how: string | null;
-  instrument_id: number | null;
-  bands: string;
-  meta: string | null;
-  specificity: string | null;
-  justification: string | null;
-  created_by: number;
-  created_at: Date;
-  updated_at: Date;
-  approved_signature_id: number | null;
-  approved_method_id: number | null;
-  approved_at: Date | null;
-  retired_signature_id: number | null;
-  retire_reason: string | null;
-}
-
 export function toReference(r: ReferenceRow): ReferenceSummary {
   return {
     id: r.id,
     materialId: r.material_id,
     code: r.code,
-    status: r.status,
+    status: referenceStatus(r.status),
     technique: r.technique,
     supplier: r.supplier,
     supplierLot: r.supplier_lot,
@@ -129,52 +105,41 @@ export function toReference(r: ReferenceRow): ReferenceSummary {
   };
 }
 
-export interface StoredFileRow {
-  id: number;
-  sha256: string;
-  file_name: string;
-  media_type: string;
-  size: number;
-  data: Buffer;
-  uploaded_by: number | null;
-  uploaded_at: Date;
-}
-
 // ---- materials
-export const findMaterial = (db: Db, id: number): Promise<MaterialRow | undefined> =>
+export const findMaterial = async (db: Db, id: number): Promise<MaterialRow | undefined> =>
   db('material').where({ id }).first();
 export const listMaterialRows = (db: Db): Promise<MaterialRow[]> => db('material').orderBy('code');
-export async function insertMaterial(db: Db, row: Omit<MaterialRow, 'id'>): Promise<number> {
+export async function insertMaterial(db: Db, row: MaterialInsert): Promise<number> {
   const [id] = await db('material').insert(row);
-  return id as number;
+  return id;
 }
 
 // ---- methods
-export const findMethod = (db: Db, id: number): Promise<MethodRow | undefined> =>
+export const findMethod = async (db: Db, id: number): Promise<MethodRow | undefined> =>
   db('identity_method').where({ id }).first();
-export const methodsOf = (db: Db, materialId: number): Promise<MethodRow[]> =>
+export const methodsOf = async (db: Db, materialId: number): Promise<MethodRow[]> =>
   db('identity_method').where({ material_id: materialId }).orderBy('version', 'desc');
-export const approvedMethodOf = (db: Db, materialId: number): Promise<MethodRow | undefined> =>
+export const approvedMethodOf = async (db: Db, materialId: number): Promise<MethodRow | undefined> =>
   db('identity_method').where({ material_id: materialId, status: 'approved' }).orderBy('version', 'desc').first();
-export const draftMethodOf = (db: Db, materialId: number): Promise<MethodRow | undefined> =>
+export const draftMethodOf = async (db: Db, materialId: number): Promise<MethodRow | undefined> =>
   db('identity_method').where({ material_id: materialId, status: 'draft' }).orderBy('version', 'desc').first();
-export const latestMethodOf = (db: Db, materialId: number): Promise<MethodRow | undefined> =>
+export const latestMethodOf = async (db: Db, materialId: number): Promise<MethodRow | undefined> =>
   db('identity_method').where({ material_id: materialId }).orderBy('version', 'desc').first();
-export async function insertMethod(db: Db, row: Omit<MethodRow, 'id'>): Promise<number> {
+export async function insertMethod(db: Db, row: IdentityMethodInsert): Promise<number> {
   const [id] = await db('identity_method').insert(row);
-  return id as number;
+  return id;
 }
 
 // ---- references
-export const findReference = (db: Db, id: number): Promise<ReferenceRow | undefined> =>
+export const findReference = async (db: Db, id: number): Promise<ReferenceRow | undefined> =>
   db('reference_spectrum').where({ id }).first();
-export const referencesOf = (db: Db, materialId: number): Promise<ReferenceRow[]> =>
+export const referencesOf = async (db: Db, materialId: number): Promise<ReferenceRow[]> =>
   db('reference_spectrum').where({ material_id: materialId }).orderBy('id');
-export async function insertReference(db: Db, row: Omit<ReferenceRow, 'id'>): Promise<number> {
+export async function insertReference(db: Db, row: ReferenceSpectrumInsert): Promise<number> {
   const [id] = await db('reference_spectrum').insert(row);
-  return id as number;
+  return id;
 }
 
 // ---- stored files (append-only)
-export const findStoredFile = (db: Db, id: number): Promise<StoredFileRow | undefined> =>
+export const findStoredFile = async (db: Db, id: number): Promise<StoredFileRow | undefined> =>
   db('stored_file').where({ id }).first();

@@ -16,6 +16,8 @@
  */
 import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
+import { must } from '../../lib/db';
+import type { IdentityMethodInsert, MaterialInsert } from '../../lib/db-tables';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
 import { storeFile } from '../../lib/files';
@@ -76,8 +78,8 @@ export function assertMethodValid(params: IdentityMethod): void {
 
 export async function listMaterials(db: Knex): Promise<MaterialListItem[]> {
   const mats = await repo.listMaterialRows(db);
-  const methods: repo.MethodRow[] = await db('identity_method').whereIn('status', ['approved', 'draft']);
-  const counts: { material_id: number; status: string; n: number }[] = await db('reference_spectrum')
+  const methods = await db('identity_method').whereIn('status', ['approved', 'draft']);
+  const counts = await db('reference_spectrum')
     .select('material_id', 'status')
     .count({ n: '*' })
     .groupBy('material_id', 'status');
@@ -155,7 +157,7 @@ export async function createMaterial(
       approved_signature_id: null,
       approved_at: null,
     });
-    const mat = repo.toMaterial((await repo.findMaterial(trx, id))!);
+    const mat = repo.toMaterial(must(await repo.findMaterial(trx, id), `material ${id} just inserted`));
     await appendAudit(trx, {
       actor,
       action: 'material.created',
@@ -188,7 +190,7 @@ export async function updateMaterial(
   return transactionWithRetry(db, async (trx) => {
     const before = await trx('material').where({ id }).forUpdate().first();
     if (!before) throw notFound('The material');
-    const upd: Record<string, unknown> = { updated_at: new Date() };
+    const upd: Partial<MaterialInsert> = { updated_at: new Date() };
     if (patch.name !== undefined) upd.name = patch.name;
     if (patch.grade !== undefined) upd.grade = patch.grade;
     if (patch.monographRef !== undefined) upd.monograph_ref = patch.monographRef;
@@ -196,7 +198,7 @@ export async function updateMaterial(
     if (patch.notes !== undefined) upd.notes = patch.notes;
     if (patch.active !== undefined) upd.active = patch.active ? 1 : 0;
     await trx('material').where({ id }).update(upd);
-    const after = (await repo.findMaterial(trx, id))!;
+    const after = must(await repo.findMaterial(trx, id), `material ${id} just updated`);
     await appendAudit(trx, {
       actor,
       action: 'material.updated',
@@ -276,7 +278,7 @@ export async function createMethodVersion(
       (base ? (JSON.parse(base.params) as IdentityMethod) : defaultMethodFor(JSON.parse(mat.techniques)[0]));
     return insertDraftVersion(trx, actor, materialId, base, params, input.changeNote ?? null, 'new draft version', ip);
   });
-  return methodWithSignatures(db, (await repo.findMethod(db, id))!);
+  return methodWithSignatures(db, must(await repo.findMethod(db, id), `identity method ${id} just written`));
 }
 
 /** New draft from a given (usually approved) version, for POST /api/methods/:id/new-version. */
@@ -348,14 +350,14 @@ export async function updateMethod(
         created: true,
       };
     }
-    const upd: Record<string, unknown> = { updated_at: new Date() };
+    const upd: Partial<IdentityMethodInsert> = { updated_at: new Date() };
     if (patch.params) {
       upd.params = JSON.stringify(patch.params);
       upd.technique = patch.params.technique;
     }
     if (patch.changeNote !== undefined) upd.change_note = patch.changeNote;
     await trx('identity_method').where({ id: methodId }).update(upd);
-    const after = (await repo.findMethod(trx, methodId))!;
+    const after = must(await repo.findMethod(trx, methodId), `identity method ${methodId} just updated`);
     await appendAudit(trx, {
       actor,
       action: 'method.updated',
@@ -387,7 +389,10 @@ export async function updateMethod(
       );
     throw new AppError(409, 'METHOD_IMMUTABLE', `Version ${outcome.version} is superseded and cannot be changed.`);
   }
-  return methodWithSignatures(db, (await repo.findMethod(db, methodId))!);
+  return methodWithSignatures(
+    db,
+    must(await repo.findMethod(db, methodId), `identity method ${methodId} just written`),
+  );
 }
 
 /** The content an approval signature of a method covers (with what the approval signed beside it, docs/methods.md). */
@@ -431,7 +436,7 @@ async function ownReferencesFor(
   m: repo.MethodRow,
   referenceIds: number[] | undefined,
 ): Promise<{ own: OwnReference[]; first: number[] }> {
-  const approved: repo.ReferenceRow[] = await db('reference_spectrum')
+  const approved = await db('reference_spectrum')
     .where({ material_id: m.material_id, status: 'approved' })
     .orderBy('id');
   let rows = approved;
@@ -444,9 +449,7 @@ async function ownReferencesFor(
         'This material has approved references already: only its first method version is approved together with references. Approve new references on their own page.',
       );
   } else {
-    const drafts: repo.ReferenceRow[] = await db('reference_spectrum')
-      .where({ material_id: m.material_id, status: 'draft' })
-      .orderBy('id');
+    const drafts = await db('reference_spectrum').where({ material_id: m.material_id, status: 'draft' }).orderBy('id');
     rows = referenceIds ? drafts.filter((d) => referenceIds.includes(d.id)) : drafts;
     if (referenceIds && rows.length !== referenceIds.length)
       throw new AppError(
@@ -619,7 +622,7 @@ export async function approveMethod(
     }
   }
   // The validation record is assembled and printed before any lock is taken.
-  const mat = (await repo.findMaterial(db, m.material_id))!;
+  const mat = must(await repo.findMaterial(db, m.material_id), `material ${m.material_id} of method ${m.id}`);
   const record = await assembleValidationRecord(db, {
     material: { id: mat.id, code: mat.code, name: mat.name, grade: mat.grade },
     method: { id: m.id, version: m.version, technique: m.technique, params },
@@ -630,6 +633,7 @@ export async function approveMethod(
   const pdfSha = sha256Hex(pdf);
   await transactionWithRetry(db, async (trx) => {
     const row = await trx('identity_method').where({ id: methodId }).forUpdate().first();
+    if (!row) throw notFound('The identity method');
     if (row.status !== 'draft') throw conflict(`Version ${row.version} was approved meanwhile by someone else.`);
     if (row.params !== m.params)
       throw conflict('The method version was changed while you were signing; review it and sign again.');
@@ -706,7 +710,10 @@ export async function approveMethod(
       ip,
     });
     for (const r of firstRows) {
-      const file = await trx('stored_file').where({ id: r.file_id }).select('sha256').first();
+      const file = must(
+        await trx('stored_file').where({ id: r.file_id }).select('sha256').first(),
+        `stored file ${r.file_id} of reference ${r.code}`,
+      );
       const rsig = await recordSignature(trx, {
         user,
         credentials: signature,
@@ -736,7 +743,10 @@ export async function approveMethod(
     }
   });
   invalidateLibraryCache();
-  return methodWithSignatures(db, (await repo.findMethod(db, methodId))!);
+  return methodWithSignatures(
+    db,
+    must(await repo.findMethod(db, methodId), `identity method ${methodId} just written`),
+  );
 }
 
 /** The validation record PDF of an approved version. */

@@ -77,7 +77,7 @@ export async function specificityGate(
     },
     params,
   );
-  const others: (repo.ReferenceRow & { m_code: string; m_name: string })[] = await db('reference_spectrum as r')
+  const others = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
@@ -86,7 +86,7 @@ export async function specificityGate(
     .andWhere('m.active', 1)
     .andWhere('im.technique', method.technique)
     .andWhereNot('r.material_id', candidate.materialId)
-    .select('r.*', 'm.code as m_code', 'm.name as m_name')
+    .select<(repo.ReferenceRow & { m_code: string; m_name: string })[]>('r.*', 'm.code as m_code', 'm.name as m_name')
     .orderBy(['r.material_id', 'r.id']);
   const pairs: GatePair[] = [];
   for (const o of others) {
@@ -154,15 +154,19 @@ onLibraryInvalidate(() => matrixCache.clear());
 
 /** The whole specificity matrix of one technique's approved library. */
 export async function specificityMatrixFor(technique: string, db: Knex = getDb()): Promise<SpecificityMatrix> {
-  const mats: (repo.MaterialRow & { method_id: number; method_version: number })[] = await db('material as m')
+  const mats = await db('material as m')
     .join('identity_method as im', function () {
       this.on('im.material_id', '=', 'm.id').andOnVal('im.status', '=', 'approved');
     })
     .where('m.active', 1)
     .andWhere('im.technique', technique)
-    .select('m.*', 'im.id as method_id', 'im.version as method_version')
+    .select<(repo.MaterialRow & { method_id: number; method_version: number })[]>(
+      'm.*',
+      'im.id as method_id',
+      'im.version as method_version',
+    )
     .orderBy('m.code');
-  const refs: { id: number; material_id: number }[] = await db('reference_spectrum')
+  const refs = await db('reference_spectrum')
     .whereIn('material_id', mats.length ? mats.map((m) => m.id) : [0])
     .andWhere({ status: 'approved' })
     .select('id', 'material_id')

@@ -11,6 +11,7 @@
  * approval signature's content.
  */
 import type { Knex } from 'knex';
+import type { ContainerRow, LotRow, MeasurementRow } from '../../lib/db-tables';
 import { type Content, renderPdf, type TableCell } from '../../lib/pdf';
 import {
   ENGINE_VERSION,
@@ -117,21 +118,18 @@ export async function assembleValidationRecord(
     });
 
   // 2. Passed measurements of the material, re-scored under this version.
-  const rows: {
-    file_id: number;
-    lot_number: string;
-    label: string;
-    instrument: string;
-    operator: string;
-    created_at: Date;
-  }[] = await db('measurement as me')
+  const rows = await db('measurement as me')
     .join('container as c', 'c.id', 'me.container_id')
     .join('lot as l', 'l.id', 'c.lot_id')
     .join('instrument as i', 'i.id', 'me.instrument_id')
     .join('app_user as u', 'u.id', 'me.created_by')
     .where('l.material_id', input.material.id)
     .andWhere('me.verdict', 'pass')
-    .select('me.file_id', 'l.lot_number', 'c.label', 'i.name as instrument', 'u.full_name as operator', 'me.created_at')
+    .select<
+      (Pick<MeasurementRow, 'file_id' | 'created_at'> &
+        Pick<LotRow, 'lot_number'> &
+        Pick<ContainerRow, 'label'> & { instrument: string; operator: string })[]
+    >('me.file_id', 'l.lot_number', 'c.label', 'i.name as instrument', 'u.full_name as operator', 'me.created_at')
     .orderBy('me.id', 'desc')
     .limit(MAX_MEASUREMENTS);
   const measurements: ValidationRecord['measurements'] = [];

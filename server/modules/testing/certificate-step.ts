@@ -6,6 +6,7 @@
  */
 import { childLog } from '../../lib/log';
 import type { Knex } from 'knex';
+import type { CertificateRow } from '../../lib/db-tables';
 import type { Actor } from '../../lib/audit';
 import { failureSentence, issueCertificate } from '../certificates';
 
@@ -35,7 +36,7 @@ async function retestSupersession(db: Knex, lotId: number): Promise<{ supersedes
   const cert = await db('lot as l')
     .join('certificate as c', 'c.id', 'l.certificate_id')
     .where('l.id', lotId)
-    .first('c.id', 'c.issued_at');
+    .first<Pick<CertificateRow, 'id' | 'issued_at'> | undefined>('c.id', 'c.issued_at');
   if (!cert || new Date(cert.issued_at) >= new Date(retest.started_at)) return {};
-  return { supersedesId: Number(cert.id), reason: `Retest of the released lot: ${retest.reason}`.slice(0, 2000) };
+  return { supersedesId: cert.id, reason: `Retest of the released lot: ${retest.reason}`.slice(0, 2000) };
 }

@@ -10,25 +10,28 @@
  */
 import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
+import type { InstrumentCheckRow } from '../../lib/db-tables';
+import { oneOf } from './repo';
 import { getValidInstrumentCheck, requiredCheckTypes, unusableReason } from '../instruments';
 import type { CitedInstrumentCheck, InstrumentStatus } from './contract';
 
 /** An instrument check with its stored result, as the testing module reads it. */
 export type InstrumentCheckInfo = CitedInstrumentCheck & { result: unknown };
 
-export function toCheckInfo(r: Record<string, unknown>): InstrumentCheckInfo {
+export function toCheckInfo(r: InstrumentCheckRow): InstrumentCheckInfo {
   return {
-    id: Number(r.id),
-    specId: Number(r.spec_id),
-    verdict: r.verdict as 'pass' | 'fail',
-    performedAt: new Date(r.performed_at as string).toISOString(),
-    validUntil: r.valid_until ? new Date(r.valid_until as string).toISOString() : null,
-    performedBy: Number(r.performed_by),
-    engineVersion: String(r.engine_version),
+    id: r.id,
+    specId: r.spec_id,
+    verdict: oneOf(CHECK_VERDICTS, r.verdict, 'check verdict'),
+    performedAt: new Date(r.performed_at).toISOString(),
+    validUntil: r.valid_until ? new Date(r.valid_until).toISOString() : null,
+    performedBy: r.performed_by,
+    engineVersion: r.engine_version,
     result: parseJson<unknown>(r.result, null),
   };
 }
+const CHECK_VERDICTS = ['pass', 'fail'] as const;
 
 export async function instrumentStatus(
   db: Db,
@@ -46,12 +49,12 @@ export async function instrumentStatus(
     .orderBy('id', 'desc')
     .first();
   const instrument = {
-    id: i.id as number,
-    name: i.name as string,
-    serialNumber: i.serial_number as string,
-    technique: i.technique as string,
-    sampling: i.sampling as string,
-    location: i.location as string,
+    id: i.id,
+    name: i.name,
+    serialNumber: i.serial_number,
+    technique: i.technique,
+    sampling: i.sampling,
+    location: i.location,
     active: !!i.active && i.service_state !== 'out-of-service',
   };
   const valid = await getValidInstrumentCheck(instrumentId, at, db as Knex);
@@ -60,7 +63,7 @@ export async function instrumentStatus(
     : ((await unusableReason(db, i, at)) ?? `Instrument ${instrument.name} has no valid instrument check.`);
   // The cited check is the one getValidInstrumentCheck names when the instrument is usable.
   const check = valid
-    ? toCheckInfo(await db('instrument_check').where({ id: valid.id }).first())
+    ? toCheckInfo(must(await db('instrument_check').where({ id: valid.id }).first(), `instrument check ${valid.id}`))
     : latest
       ? toCheckInfo(latest)
       : null;
@@ -86,7 +89,7 @@ export async function listInstrumentStatuses(db: Db): Promise<InstrumentStatus[]
   const rows = await db('instrument').where({ active: 1 }).orderBy('name').select('id');
   const out: InstrumentStatus[] = [];
   for (const r of rows) {
-    const s = await instrumentStatus(db, r.id as number);
+    const s = await instrumentStatus(db, r.id);
     if (s) out.push(s);
   }
   return out;

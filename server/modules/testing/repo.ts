@@ -1,47 +1,30 @@
 /** Data access of identity tests (attempts) and measurements. Measurements are insert-only. */
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
+import type { IdentityTestInsert, IdentityTestRow, MeasurementInsert, MeasurementRow } from '../../lib/db-tables';
 import type { MeasurementSummary, MeasurementVerdict, TestStatus } from './contract';
 
-export interface TestRow {
-  id: number;
-  lot_id: number;
-  attempt: number;
-  status: TestStatus;
-  method_id: number;
-  instrument_id: number | null;
-  performed_by: number | null;
-  performed_signature_id: number | null;
-  verified_by: number | null;
-  verified_signature_id: number | null;
-  returned_reason: string | null;
-  returned_signature_id: number | null;
-  retest_of_investigation_id: number | null;
-  created_by: number;
-  created_at: Date;
-  updated_at: Date;
-  row_version: number;
-}
+/** An attempt at a lot's identity test (table identity_test). */
+export type TestRow = IdentityTestRow;
+export type { MeasurementRow };
 
-export interface MeasurementRow {
-  id: number;
-  test_id: number;
-  container_id: number;
-  file_id: number;
-  instrument_id: number;
-  instrument_check_id: number;
-  method_id: number;
-  reference_ids: string;
-  verdict: MeasurementVerdict;
-  match_score: number | null;
-  result: string;
-  engine_version: string;
-  authorised_by_investigation_id: number | null;
-  created_by: number;
-  created_at: Date;
+/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
+export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
+  const found = values.find((x) => x === v);
+  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
+  return found;
 }
+const TEST_STATUSES = [
+  'in-progress',
+  'awaiting-verification',
+  'verified',
+  'returned',
+] as const satisfies readonly TestStatus[];
+const VERDICTS = ['pass', 'fail', 'invalid'] as const satisfies readonly MeasurementVerdict[];
+export const testStatusOf = (v: string): TestStatus => oneOf(TEST_STATUSES, v, 'test status');
+export const verdictOf = (v: string): MeasurementVerdict => oneOf(VERDICTS, v, 'measurement verdict');
 
-type MeasurementJoined = MeasurementRow & {
+type MeasurementJoined = Omit<MeasurementRow, 'result'> & {
   label: string;
   f_name: string;
   f_sha: string;
@@ -55,7 +38,7 @@ export function toMeasurementSummary(r: MeasurementJoined): MeasurementSummary {
     testId: r.test_id,
     containerId: r.container_id,
     label: r.label,
-    verdict: r.verdict,
+    verdict: verdictOf(r.verdict),
     matchScore: r.match_score === null ? null : Number(r.match_score),
     file: { id: r.file_id, name: r.f_name, sha256: r.f_sha, size: r.f_size },
     instrumentId: r.instrument_id,
@@ -74,7 +57,7 @@ function measurementQuery(db: Db) {
     .join('container as c', 'c.id', 'ms.container_id')
     .join('stored_file as f', 'f.id', 'ms.file_id')
     .join('app_user as u', 'u.id', 'ms.created_by')
-    .select(
+    .select<MeasurementJoined[]>(
       'ms.id',
       'ms.test_id',
       'ms.container_id',
@@ -113,23 +96,24 @@ export async function findMeasurementSummary(db: Db, id: number): Promise<Measur
   return r ? toMeasurementSummary(r) : undefined;
 }
 
-export const findMeasurementRow = (db: Db, id: number): Promise<MeasurementRow | undefined> =>
+export const findMeasurementRow = async (db: Db, id: number): Promise<MeasurementRow | undefined> =>
   db('measurement').where({ id }).first();
 
-export const findTest = (db: Db, id: number): Promise<TestRow | undefined> => db('identity_test').where({ id }).first();
-export const lockTest = (db: Db, id: number): Promise<TestRow | undefined> =>
+export const findTest = async (db: Db, id: number): Promise<TestRow | undefined> =>
+  db('identity_test').where({ id }).first();
+export const lockTest = async (db: Db, id: number): Promise<TestRow | undefined> =>
   db('identity_test').where({ id }).forUpdate().first();
-export const testsOfLot = (db: Db, lotId: number): Promise<TestRow[]> =>
+export const testsOfLot = async (db: Db, lotId: number): Promise<TestRow[]> =>
   db('identity_test').where({ lot_id: lotId }).orderBy('attempt');
 
-export async function insertTest(db: Db, row: Omit<TestRow, 'id' | 'row_version'>): Promise<number> {
+export async function insertTest(db: Db, row: Omit<IdentityTestInsert, 'id' | 'row_version'>): Promise<number> {
   const [id] = await db('identity_test').insert({ ...row, row_version: 0 });
-  return id as number;
+  return id;
 }
 
-export async function insertMeasurement(db: Db, row: Omit<MeasurementRow, 'id'>): Promise<number> {
+export async function insertMeasurement(db: Db, row: MeasurementInsert): Promise<number> {
   const [id] = await db('measurement').insert(row);
-  return id as number;
+  return id;
 }
 
 /** Names of accounts by id, for display. */
@@ -137,5 +121,5 @@ export async function userNames(db: Db, ids: (number | null | undefined)[]): Pro
   const want = [...new Set(ids.filter((x): x is number => typeof x === 'number'))];
   if (!want.length) return new Map();
   const rows = await db('app_user').whereIn('id', want).select('id', 'full_name');
-  return new Map(rows.map((r) => [r.id as number, r.full_name as string]));
+  return new Map(rows.map((r) => [r.id, r.full_name]));
 }

@@ -1,7 +1,7 @@
 /** HTTP edge of identity testing, verification and the work queue. */
 import { Router } from 'express';
 import type { AppConfig } from '../../lib/config';
-import { getDb } from '../../lib/db';
+import { getDb, must } from '../../lib/db';
 import { sendCheckedFile } from '../integrity';
 import { uploadMiddleware } from '../../lib/upload';
 import { notFound } from '../../lib/errors';
@@ -291,7 +291,10 @@ export function testingRoutes(config: AppConfig): Router {
       const db = getDb();
       const m = await db('measurement').where({ id: params.id }).first();
       if (!m) throw notFound('The measurement');
-      const f = await db('stored_file').where({ id: m.file_id }).first();
+      const f = must(
+        await db('stored_file').where({ id: m.file_id }).first(),
+        `stored file ${m.file_id} of measurement ${m.id}`,
+      );
       await sendCheckedFile(db, res, f, { foundIn: 'download', user, ip });
     },
   );

@@ -10,6 +10,7 @@
  * a new result is QA invalidating it in an investigation and authorising a retest attempt.
  */
 import { transactionWithRetry } from '../../lib/retry';
+import { must } from '../../lib/db';
 import { childLog, safeError } from '../../lib/log';
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
@@ -117,7 +118,7 @@ export async function startTest(
       if (!inv) throw conflict('No retest authorisation was found for this lot.');
       if (tests.some((t) => t.retest_of_investigation_id === inv.id && t.status !== 'returned'))
         throw conflict(`The retest authorised by investigation ${inv.number} has already been performed.`);
-      retestOf = inv.id as number;
+      retestOf = inv.id;
     }
     const now = new Date();
     const attempt = (tests.at(-1)?.attempt ?? 0) + 1;
@@ -192,7 +193,10 @@ export async function switchInstrument(
   ip: string | null,
 ) {
   const ctx = await loadContext(db, testId);
-  const method = await db('identity_method').where({ id: ctx.test.method_id }).first();
+  const method = must(
+    await db('identity_method').where({ id: ctx.test.method_id }).first(),
+    `identity method ${ctx.test.method_id} of test ${testId}`,
+  );
   await usableInstrument(db, instrumentId, method.technique);
   await transactionWithRetry(db, async (trx) => {
     const t = await repo.lockTest(trx, testId);
@@ -449,7 +453,7 @@ export async function addMeasurement(
     const mid = await repo.insertMeasurement(trx, {
       test_id: testId,
       container_id: container.id,
-      file_id: fileId as number,
+      file_id: fileId,
       instrument_id: instrument.instrument.id,
       instrument_check_id: instrument.check!.id,
       method_id: set.method.id,
@@ -463,7 +467,7 @@ export async function addMeasurement(
       created_at: now,
     });
     await recordFingerprint(trx, {
-      fileId: fileId as number,
+      fileId,
       recordType: 'measurement',
       recordId: mid,
       sha256: sha,

@@ -16,7 +16,7 @@ import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, forbidden } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
 import { enqueueMail, enqueueMailToRole } from '../../lib/mail';
 import { assertTestIntact } from '../integrity';
 import { closeAfterRetest, openInvestigation } from '../investigations';
@@ -222,7 +222,10 @@ export async function verify(
     const all = await repo.measurementsOfLot(trx, ctx.lot.id);
     const eff = effectiveResults(ctx.containers, tests, scopes, all, testId);
     const out = lotOutcome(ctx.containers, eff);
-    const lotRow = await trx('lot').where({ id: ctx.lot.id }).forUpdate().first();
+    const lotRow = must(
+      await trx('lot').where({ id: ctx.lot.id }).forUpdate().first(),
+      `lot ${ctx.lot.id} of test ${testId}`,
+    );
     if (out.kind === 'incomplete')
       throw new AppError(
         409,
@@ -264,7 +267,7 @@ export async function verify(
         );
       return { kind: 'passed' as const, investigation: null };
     }
-    const rows: repo.MeasurementRow[] = await trx('measurement').whereIn(
+    const rows = await trx('measurement').whereIn(
       'id',
       out.failing.map((f) => f.measurementId),
     );

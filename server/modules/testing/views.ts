@@ -6,7 +6,14 @@
 import type { Knex } from 'knex';
 import { measurementHistory } from '../provenance';
 import { testIntegrity, type FoundBy } from '../integrity';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
+import type {
+  AttemptPinRow,
+  IdentityMethodRow,
+  IdentityTestRow,
+  LotRow,
+  ReferenceSpectrumRow,
+} from '../../lib/db-tables';
 import { signaturesFor } from '../../lib/esign';
 import { notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
@@ -34,10 +41,10 @@ export async function methodInfo(db: Knex, methodId: number) {
   const m = await db('identity_method').where({ id: methodId }).first();
   if (!m) return null;
   return {
-    id: m.id as number,
-    version: m.version as number,
-    status: m.status as string,
-    technique: m.technique as string,
+    id: m.id,
+    version: m.version,
+    status: m.status,
+    technique: m.technique,
     approvedAt: m.approved_at ? new Date(m.approved_at).toISOString() : null,
     params: parseJson<IdentityMethod | null>(m.params, null),
   };
@@ -48,11 +55,11 @@ export async function instrumentInfo(db: Knex, instrumentId: number | null): Pro
   const i = await db('instrument').where({ id: instrumentId }).first();
   return i
     ? {
-        id: i.id as number,
-        name: i.name as string,
-        serialNumber: i.serial_number as string,
-        technique: i.technique as string,
-        sampling: i.sampling as string,
+        id: i.id,
+        name: i.name,
+        serialNumber: i.serial_number,
+        technique: i.technique,
+        sampling: i.sampling,
       }
     : null;
 }
@@ -64,6 +71,7 @@ export async function getTestDetail(db: Knex, testId: number): Promise<TestDetai
   const names = await repo.userNames(db, [test.performed_by, test.verified_by, test.created_by]);
   const ready = readiness(ctx.containers, ctx.scope, ctx.measurements);
   const method = await methodInfo(db, test.method_id);
+  const status = repo.testStatusOf(test.status);
   return {
     id: test.id,
     lot: {
@@ -75,8 +83,8 @@ export async function getTestDetail(db: Knex, testId: number): Promise<TestDetai
       containerCount: ctx.lot.containerCount,
     },
     attempt: test.attempt,
-    status: test.status,
-    statusLabel: TEST_STATUS_LABELS[test.status],
+    status,
+    statusLabel: TEST_STATUS_LABELS[status],
     method: method && { id: method.id, version: method.version, technique: method.technique, status: method.status },
     instrument: await instrumentInfo(db, test.instrument_id),
     retestOfInvestigationId: test.retest_of_investigation_id,
@@ -110,7 +118,12 @@ async function referenceInfos(db: Knex, ids: number[]): Promise<ReferenceRef[]> 
   const rows = await db('reference_spectrum as r')
     .join('material as m', 'm.id', 'r.material_id')
     .whereIn('r.id', ids)
-    .select(
+    .select<
+      (Pick<ReferenceSpectrumRow, 'id' | 'code' | 'status' | 'approved_at' | 'approved_method_id' | 'file_id'> & {
+        m_code: string;
+        m_name: string;
+      })[]
+    >(
       'r.id',
       'r.code',
       'r.status',
@@ -121,11 +134,11 @@ async function referenceInfos(db: Knex, ids: number[]): Promise<ReferenceRef[]> 
       'm.name as m_name',
     );
   return rows.map((r) => ({
-    id: r.id as number,
-    code: r.code as string,
-    status: r.status as string,
+    id: r.id,
+    code: r.code,
+    status: r.status,
     approvedAt: r.approved_at ? new Date(r.approved_at).toISOString() : null,
-    material: { code: r.m_code as string, name: r.m_name as string },
+    material: { code: r.m_code, name: r.m_name },
   }));
 }
 
@@ -153,7 +166,7 @@ export function gmpResultView(result: StoredResult | null): StoredResult | null 
 export async function getMeasurementDetail(db: Knex, id: number): Promise<MeasurementDetail> {
   const m = await repo.findMeasurementSummary(db, id);
   if (!m) throw notFound('The measurement');
-  const row = (await repo.findMeasurementRow(db, id))!;
+  const row = must(await repo.findMeasurementRow(db, id), `measurement ${id}`);
   const check = await db('instrument_check').where({ id: m.instrumentCheckId }).first();
   return {
     ...m,
@@ -172,7 +185,7 @@ const plotCache = new Map<number, MeasurementPlotData>();
 async function spectrumOfFile(db: Knex, fileId: number): Promise<Spectrum> {
   const f = await db('stored_file').where({ id: fileId }).first();
   if (!f) throw notFound('The stored file');
-  return readSpectrumOff(new Uint8Array(f.data as Buffer), String(f.file_name));
+  return readSpectrumOff(new Uint8Array(f.data), f.file_name);
 }
 
 function thin(x: ArrayLike<number>, ys: ArrayLike<number>[], max = 4000) {
@@ -281,10 +294,13 @@ async function attemptPin(db: Knex, testId: number): Promise<AttemptPin | null> 
   const pin = await db('attempt_pin as p')
     .join('identity_method as m', 'm.id', 'p.method_id')
     .where('p.test_id', testId)
-    .first('p.method_id', 'p.reference_ids', 'm.version', 'm.material_id');
+    .first<
+      | (Pick<AttemptPinRow, 'method_id' | 'reference_ids'> & Pick<IdentityMethodRow, 'version' | 'material_id'>)
+      | undefined
+    >('p.method_id', 'p.reference_ids', 'm.version', 'm.material_id');
   if (!pin) return null;
   const ids = JSON.parse(pin.reference_ids) as number[];
-  const codes: { code: string }[] = await db('reference_spectrum')
+  const codes = await db('reference_spectrum')
     .whereIn('id', ids.length ? ids : [0])
     .orderBy('id')
     .select('code');
@@ -308,7 +324,15 @@ export async function verificationQueue(db: Knex, user: AuthUser): Promise<Queue
     .where('t.status', 'awaiting-verification')
     .whereNot('t.performed_by', user.id)
     .whereNotExists(db('measurement as ms').whereRaw('ms.test_id = t.id').andWhere('ms.created_by', user.id))
-    .select(
+    .select<
+      (Pick<IdentityTestRow, 'id' | 'attempt' | 'updated_at' | 'retest_of_investigation_id'> &
+        Pick<LotRow, 'lot_number' | 'container_count'> & {
+          lot_id: number;
+          m_name: string;
+          m_code: string;
+          p_name: string | null;
+        })[]
+    >(
       't.id',
       't.attempt',
       't.updated_at',
@@ -336,15 +360,15 @@ export async function verificationQueue(db: Knex, user: AuthUser): Promise<Queue
       if (!p || f.id > p.id) latest.set(f.container_id, f);
     }
     return {
-      testId: r.id as number,
-      lotId: r.lot_id as number,
-      lotNumber: r.lot_number as string,
+      testId: r.id,
+      lotId: r.lot_id,
+      lotNumber: r.lot_number,
       material: `${r.m_name} (${r.m_code})`,
-      attempt: r.attempt as number,
+      attempt: r.attempt,
       isRetest: !!r.retest_of_investigation_id,
       containers: latest.size,
       failing: [...latest.values()].filter((m) => m.verdict === 'fail').length,
-      performedBy: (r.p_name as string) ?? '',
+      performedBy: r.p_name ?? '',
       signedPerformedAt: new Date(r.updated_at).toISOString(),
     };
   });

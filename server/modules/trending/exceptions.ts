@@ -16,6 +16,7 @@
  */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
+import type { ContainerRow, IdentityTestRow, LotRow, MeasurementRow } from '../../lib/db-tables';
 import { notFound } from '../../lib/errors';
 import { TREND_CAUTION, type ReviewException, type ReviewExceptions } from './contract';
 import { metricsOf, trendRows, latestBaseline, listSignals } from './repo';
@@ -52,13 +53,20 @@ export async function reviewExceptions(db: Knex, testId: number): Promise<Review
   const test = await db('identity_test as t')
     .join('lot as l', 'l.id', 't.lot_id')
     .where('t.id', testId)
-    .first('t.id', 't.method_id', 'l.material_id', 'l.supplier', 'l.received_date', 'l.container_count');
+    .first<
+      | (Pick<IdentityTestRow, 'id' | 'method_id'> &
+          Pick<LotRow, 'material_id' | 'supplier' | 'received_date' | 'container_count'>)
+      | undefined
+    >('t.id', 't.method_id', 'l.material_id', 'l.supplier', 'l.received_date', 'l.container_count');
   if (!test) throw notFound('The test');
   const ms = await db('measurement as me')
     .join('container as c', 'c.id', 'me.container_id')
     .where('me.test_id', testId)
     .orderBy('me.id')
-    .select('me.id', 'me.container_id', 'me.verdict', 'me.result', 'me.created_at', 'me.method_id', 'c.label');
+    .select<
+      (Pick<MeasurementRow, 'id' | 'container_id' | 'verdict' | 'result' | 'created_at' | 'method_id'> &
+        Pick<ContainerRow, 'label'>)[]
+    >('me.id', 'me.container_id', 'me.verdict', 'me.result', 'me.created_at', 'me.method_id', 'c.label');
   const out: ReviewException[] = [];
   const byContainer = new Map<number, typeof ms>();
   for (const m of ms) byContainer.set(m.container_id, [...(byContainer.get(m.container_id) ?? []), m]);
@@ -68,7 +76,7 @@ export async function reviewExceptions(db: Knex, testId: number): Promise<Review
   const shiftChart = buildSeries(rows, 'band-shift', 'all', '', await latestBaseline(db, test.method_id));
 
   for (const [containerId, list] of byContainer) {
-    const label = list[0].label as string;
+    const label = list[0].label;
     if (list.length > 1)
       out.push({
         kind: 'repeated',
@@ -128,7 +136,7 @@ export async function reviewExceptions(db: Knex, testId: number): Promise<Review
   const stillOpen = new Set(
     investigated.length
       ? (await db('investigation').whereIn('id', investigated).whereNot('status', 'closed').select('id')).map(
-          (r) => r.id as number,
+          (r) => r.id,
         )
       : [],
   );

@@ -10,6 +10,7 @@
  *    from the lot's received date to the certificate's issue time (median over the lots).
  */
 import type { Knex } from 'knex';
+import type { CertificateRow, InvestigationRow, LotRow, MeasurementRow } from '../../lib/db-tables';
 import { median } from 'simple-statistics';
 import type { QaOverview, RateRow } from './contract';
 
@@ -40,11 +41,17 @@ export async function qaOverview(db: Knex, from: string, to: string, now = new D
     .leftJoin('lot as l', 'l.id', 'i.lot_id')
     .whereIn('i.status', ['open', 'phase1-recorded', 'retest-authorised'])
     .orderBy('i.opened_at')
-    .select('i.id', 'i.number', 'i.opened_at', 'i.kind', 'l.lot_number');
+    .select<(Pick<InvestigationRow, 'id' | 'number' | 'opened_at' | 'kind'> & { lot_number: string | null })[]>(
+      'i.id',
+      'i.number',
+      'i.opened_at',
+      'i.kind',
+      'l.lot_number',
+    );
   const openInvestigations = open.map((r) => ({
-    id: r.id as number,
-    number: r.number as string,
-    lotNumber: r.kind === 'trend' ? 'trend signal' : (r.lot_number as string),
+    id: r.id,
+    number: r.number,
+    lotNumber: r.kind === 'trend' ? 'trend signal' : (r.lot_number ?? ''),
     openedAt: new Date(r.opened_at).toISOString(),
     ageDays: Math.floor((now.getTime() - new Date(r.opened_at).getTime()) / DAY),
   }));
@@ -58,7 +65,7 @@ export async function qaOverview(db: Knex, from: string, to: string, now = new D
     .where('received_date', '>=', from)
     .andWhere('received_date', '<=', to)
     .select('id', 'supplier', 'identity_status');
-  const lotIds = lots.map((l) => l.id as number);
+  const lotIds = lots.map((l) => l.id);
   const tests = lotIds.length
     ? await db('identity_test').whereIn('lot_id', lotIds).where('status', 'verified').select('lot_id', 'attempt')
     : [];
@@ -81,7 +88,13 @@ export async function qaOverview(db: Knex, from: string, to: string, now = new D
     .join('app_user as u', 'u.id', 'me.created_by')
     .where('me.created_at', '>=', a)
     .andWhere('me.created_at', '<', b)
-    .select('me.verdict', 'me.instrument_id', 'ins.name', 'me.created_by', 'u.full_name');
+    .select<(Pick<MeasurementRow, 'verdict' | 'instrument_id' | 'created_by'> & { name: string; full_name: string })[]>(
+      'me.verdict',
+      'me.instrument_id',
+      'ins.name',
+      'me.created_by',
+      'u.full_name',
+    );
   const invalidByInstrument = rates(
     ms.map((m) => ({ key: String(m.instrument_id), label: m.name, hit: m.verdict === 'invalid' })),
   );
@@ -95,12 +108,17 @@ export async function qaOverview(db: Knex, from: string, to: string, now = new D
     .where('c.issued_at', '>=', a)
     .andWhere('c.issued_at', '<', b)
     .orderBy('c.issued_at')
-    .select('c.issued_at', 'l.lot_number', 'l.supplier', 'l.received_date');
+    .select<(Pick<CertificateRow, 'issued_at'> & Pick<LotRow, 'lot_number' | 'supplier' | 'received_date'>)[]>(
+      'c.issued_at',
+      'l.lot_number',
+      'l.supplier',
+      'l.received_date',
+    );
   const receiptToCertificate = certs.map((c) => {
     const received = new Date(`${new Date(c.received_date).toISOString().slice(0, 10)}T00:00:00.000Z`);
     return {
-      lotNumber: c.lot_number as string,
-      source: c.supplier as string,
+      lotNumber: c.lot_number,
+      source: c.supplier,
       days: Math.round(((new Date(c.issued_at).getTime() - received.getTime()) / DAY) * 10) / 10,
       issuedAt: new Date(c.issued_at).toISOString(),
     };

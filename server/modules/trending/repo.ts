@@ -1,10 +1,28 @@
 /** Data access of trending: passed results of verified tests, baselines and signals. */
 import type { Knex } from 'knex';
 import { parseJson } from '../../lib/db';
-import type { Metric, ScopeKind, TrendBaseline, TrendSignal } from './contract';
-import { RULES, type RuleKey } from './control-chart';
+import type {
+  ContainerRow,
+  IdentityMethodRow,
+  InstrumentRow,
+  LotRow,
+  MaterialRow,
+  MeasurementRow,
+  TrendBaselineRow,
+  TrendSignalRow,
+} from '../../lib/db-tables';
+import { METRICS, SCOPE_KINDS, type Metric, type ScopeKind, type TrendBaseline, type TrendSignal } from './contract';
+import { RULES } from './control-chart';
 
 type Db = Knex | Knex.Transaction;
+
+/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
+function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
+  const found = values.find((x) => x === v);
+  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
+  return found;
+}
+const SIGNAL_STATUSES = ['open', 'acknowledged', 'investigated'] as const satisfies readonly TrendSignal['status'][];
 
 interface ResultJson {
   bestReferenceId?: string | null;
@@ -46,6 +64,17 @@ export function metricsOf(resultJson: string): Record<Metric, number | null> {
   };
 }
 
+/** A passed measurement with what its trend point names (the select of base()). */
+type BaseRow = Pick<MeasurementRow, 'id' | 'created_at' | 'result' | 'method_id' | 'instrument_id' | 'created_by'> &
+  Pick<LotRow, 'lot_number' | 'supplier'> &
+  Pick<ContainerRow, 'label'> & {
+    method_version: IdentityMethodRow['version'];
+    material_id: MaterialRow['id'];
+    material_name: MaterialRow['name'];
+    instrument_name: InstrumentRow['name'];
+    full_name: string;
+  };
+
 function base(db: Db) {
   return db('measurement as me')
     .join('identity_test as t', 't.id', 'me.test_id')
@@ -57,7 +86,7 @@ function base(db: Db) {
     .join('app_user as u', 'u.id', 'me.created_by')
     .where('me.verdict', 'pass')
     .where('t.status', 'verified')
-    .select(
+    .select<BaseRow[]>(
       'me.id',
       'me.created_at',
       'me.result',
@@ -79,22 +108,22 @@ function base(db: Db) {
     ]);
 }
 
-function toTrendRow(r: Record<string, unknown>): TrendRow {
+function toTrendRow(r: BaseRow): TrendRow {
   return {
-    measurementId: r.id as number,
-    at: new Date(r.created_at as Date),
-    materialId: r.material_id as number,
-    materialName: r.material_name as string,
-    methodId: r.method_id as number,
-    methodVersion: r.method_version as number,
-    lotNumber: r.lot_number as string,
-    container: r.label as string,
-    source: r.supplier as string,
-    instrumentId: r.instrument_id as number,
-    instrument: r.instrument_name as string,
-    operatorId: r.created_by as number,
-    operator: r.full_name as string,
-    metrics: metricsOf(r.result as string),
+    measurementId: r.id,
+    at: new Date(r.created_at),
+    materialId: r.material_id,
+    materialName: r.material_name,
+    methodId: r.method_id,
+    methodVersion: r.method_version,
+    lotNumber: r.lot_number,
+    container: r.label,
+    source: r.supplier,
+    instrumentId: r.instrument_id,
+    instrument: r.instrument_name,
+    operatorId: r.created_by,
+    operator: r.full_name,
+    metrics: metricsOf(r.result),
   };
 }
 
@@ -109,9 +138,9 @@ export async function trendedMethodIds(db: Db): Promise<number[]> {
     .join('identity_test as t', 't.id', 'me.test_id')
     .where('me.verdict', 'pass')
     .where('t.status', 'verified')
-    .distinct('me.method_id as id')
+    .distinct<{ id: number }[]>('me.method_id as id')
     .orderBy('me.method_id');
-  return rows.map((r) => r.id as number);
+  return rows.map((r) => r.id);
 }
 
 export async function latestBaseline(db: Db, methodId: number): Promise<TrendBaseline | null> {
@@ -119,7 +148,7 @@ export async function latestBaseline(db: Db, methodId: number): Promise<TrendBas
     .join('app_user as u', 'u.id', 'b.fixed_by')
     .where('b.method_id', methodId)
     .orderBy('b.id', 'desc')
-    .first('b.*', 'u.full_name');
+    .first<(TrendBaselineRow & { full_name: string }) | undefined>('b.*', 'u.full_name');
   if (!r) return null;
   return {
     id: r.id,
@@ -132,13 +161,21 @@ export async function latestBaseline(db: Db, methodId: number): Promise<TrendBas
   };
 }
 
+/** A trend signal with the names it is shown with (the select of signalQuery()). */
+type SignalRow = TrendSignalRow & {
+  material_name: string;
+  method_version: number;
+  ack_name: string | null;
+  investigation_number: string | null;
+};
+
 function signalQuery(db: Db) {
   return db('trend_signal as s')
     .join('material as ma', 'ma.id', 's.material_id')
     .join('identity_method as im', 'im.id', 's.method_id')
     .leftJoin('app_user as a', 'a.id', 's.acknowledged_by')
     .leftJoin('investigation as inv', 'inv.id', 's.investigation_id')
-    .select(
+    .select<SignalRow[]>(
       's.*',
       'ma.name as material_name',
       'im.version as method_version',
@@ -147,32 +184,32 @@ function signalQuery(db: Db) {
     );
 }
 
-function toSignal(r: Record<string, unknown>): TrendSignal {
-  const rule = RULES[r.rule as RuleKey];
+function toSignal(r: SignalRow): TrendSignal {
+  const rule = Object.values(RULES).find((x) => x.key === r.rule);
   return {
-    id: r.id as number,
-    materialId: r.material_id as number,
-    materialName: r.material_name as string,
-    methodId: r.method_id as number,
-    methodVersion: r.method_version as number,
-    metric: r.metric as Metric,
-    scopeKind: r.scope_kind as ScopeKind,
-    scopeValue: r.scope_value as string,
-    scopeLabel: r.scope_label as string,
-    rule: r.rule as string,
-    ruleText: rule?.text ?? (r.rule as string),
+    id: r.id,
+    materialId: r.material_id,
+    materialName: r.material_name,
+    methodId: r.method_id,
+    methodVersion: r.method_version,
+    metric: oneOf(METRICS, r.metric, 'trend metric'),
+    scopeKind: oneOf(SCOPE_KINDS, r.scope_kind, 'trend scope'),
+    scopeValue: r.scope_value,
+    scopeLabel: r.scope_label,
+    rule: r.rule,
+    ruleText: rule?.text ?? r.rule,
     ruleSource: rule?.source ?? '',
-    measurementId: r.measurement_id as number,
-    pointIds: parseJson<number[]>(r.point_ids as string, []),
-    value: r.value as number,
-    detail: r.detail as string,
-    status: r.status as TrendSignal['status'],
-    raisedAt: new Date(r.raised_at as Date).toISOString(),
-    investigationId: (r.investigation_id as number | null) ?? null,
-    investigationNumber: (r.investigation_number as string | null) ?? null,
-    acknowledgedBy: r.acknowledged_by ? { id: r.acknowledged_by as number, name: (r.ack_name as string) ?? '' } : null,
-    acknowledgedAt: r.acknowledged_at ? new Date(r.acknowledged_at as Date).toISOString() : null,
-    ackComment: (r.ack_comment as string | null) ?? null,
+    measurementId: r.measurement_id,
+    pointIds: parseJson<number[]>(r.point_ids, []),
+    value: r.value,
+    detail: r.detail,
+    status: oneOf(SIGNAL_STATUSES, r.status, 'trend signal status'),
+    raisedAt: new Date(r.raised_at).toISOString(),
+    investigationId: r.investigation_id,
+    investigationNumber: r.investigation_number,
+    acknowledgedBy: r.acknowledged_by ? { id: r.acknowledged_by, name: r.ack_name ?? '' } : null,
+    acknowledgedAt: r.acknowledged_at ? new Date(r.acknowledged_at).toISOString() : null,
+    ackComment: r.ack_comment,
   };
 }
 

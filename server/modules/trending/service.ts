@@ -11,6 +11,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, SYSTEM_ACTOR } from '../../lib/audit';
 import { conflict, notFound, unprocessable } from '../../lib/errors';
+import type { IdentityMethodRow } from '../../lib/db-tables';
 import type { AuthUser } from '../../lib/http';
 import { startJob, type RunningJob } from '../../lib/lease';
 import { enqueueMailToRole } from '../../lib/mail';
@@ -75,7 +76,7 @@ export function buildSeries(
   baseline: TrendBaseline | null,
 ): Series {
   const rows = all.filter((r) => inScope(r, scope, value) && r.metrics[metric] !== null);
-  const values = rows.map((r) => r.metrics[metric] as number);
+  const values = rows.flatMap((r) => r.metrics[metric] ?? []);
   let limits: ChartLimits | null = null;
   if (baseline) {
     const from = dayStart(baseline.from);
@@ -119,9 +120,14 @@ async function methodInfo(db: Knex, methodId: number) {
   const m = await db('identity_method as im')
     .join('material as ma', 'ma.id', 'im.material_id')
     .where('im.id', methodId)
-    .first('im.id', 'im.version', 'ma.id as material_id', 'ma.name as material_name');
+    .first<(Pick<IdentityMethodRow, 'id' | 'version'> & { material_id: number; material_name: string }) | undefined>(
+      'im.id',
+      'im.version',
+      'ma.id as material_id',
+      'ma.name as material_name',
+    );
   if (!m) throw notFound('The identity method');
-  return m as { id: number; version: number; material_id: number; material_name: string };
+  return m;
 }
 
 export async function chart(db: Knex, q: ChartQuery): Promise<ChartResponse> {
@@ -313,20 +319,22 @@ async function raiseSignal(
   }
   const limits = s.limits!;
   const rule = RULES[h.rule];
+  const value = point.metrics[k.metric];
+  if (value === null) throw new Error(`trend point ${point.measurementId} has no ${k.metric} but a rule hit it`);
   const detail =
-    `${rule.text}: ${METRIC_LABELS[k.metric].title} ${fmt(k.metric, point.metrics[k.metric]!)} at container ` +
+    `${rule.text}: ${METRIC_LABELS[k.metric].title} ${fmt(k.metric, value)} at container ` +
     `${point.container} (lot ${point.lotNumber}, source ${point.source}); centre ${fmt(k.metric, limits.centre)}, ` +
     `control limits ${fmt(k.metric, limits.lcl)} to ${fmt(k.metric, limits.ucl)} (${limits.basis}). Rule: ${rule.source}.` +
     (also.length ? ` At the same point also: ${also.join('; ')}.` : '');
   return transactionWithRetry(db, async (trx) => {
     const [id] = await trx('trend_signal')
-      .insert({
+      .insert<number[]>({
         ...key,
         material_id: point.materialId,
         scope_label: k.label.slice(0, 200),
         measurement_id: point.measurementId,
         point_ids: JSON.stringify(h.points.map((i) => s.rows[i].measurementId)),
-        value: point.metrics[k.metric],
+        value,
         limits: JSON.stringify(limits),
         detail,
         status: 'open',
