@@ -43,3 +43,20 @@ export function must<T>(row: T | undefined, what: string): T {
   if (row === undefined) throw new Error(`${what} is missing`);
   return row;
 }
+
+/**
+ * A text column that holds one of a contract's values (a status, a verdict, a check type): the
+ * generated row types (server/lib/db-tables.ts) type it as string, as the schema keeps it a VARCHAR;
+ * this narrows a stored value to the contract's union by checking it, so a value the code does not
+ * know fails loudly instead of passing through a cast.
+ */
+export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
+  const found = values.find((x) => x === v);
+  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
+  return found;
+}
+
+/** `oneOf` for a nullable column. */
+export function oneOfOrNull<T extends string>(values: readonly T[], v: string | null, what: string): T | null {
+  return v === null ? null : oneOf(values, v, what);
+}

@@ -13,7 +13,7 @@ import { AppError, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
 import { irSuitabilityOf } from '../library';
 import type { AppUserRow, MaterialProfileRow } from '../../lib/db-tables';
-import { oneOf } from '../lots';
+import { oneOf } from '../../lib/db';
 import {
   RISK_CLASSES,
   type CheckDef,

@@ -28,7 +28,8 @@ import type {
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { currentStatuses, holdsOf, moveLot, oneOf, setContainerStatus } from '../lots';
+import { currentStatuses, holdsOf, moveLot, setContainerStatus } from '../lots';
+import { oneOf } from '../../lib/db';
 import { LOT_STATUSES } from '../lots/contract';
 import { enqueueEvent } from '../../lib/webhook-outbox';
 import {

@@ -17,6 +17,7 @@ import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature, toSignatureRecord } from '../../lib/esign';
 import { conflict, notFound } from '../../lib/errors';
+import { oneOf } from '../../lib/db';
 import type { Actor } from '../../lib/audit';
 import type { AuthUser } from '../../lib/http';
 import {
@@ -267,11 +268,11 @@ export async function lifecycleOf(
     qualifications: quals.map((q) => ({
       id: q.id,
       instrumentId: q.instrument_id,
-      stage: repo.oneOf(QUALIFICATION_STAGES, q.stage, 'qualification stage'),
+      stage: oneOf(QUALIFICATION_STAGES, q.stage, 'qualification stage'),
       documentRef: q.document_ref,
       executedFrom: dateOnly(q.executed_from)!,
       executedTo: dateOnly(q.executed_to)!,
-      status: repo.oneOf(QUALIFICATION_STATUSES, q.status, 'qualification status'),
+      status: oneOf(QUALIFICATION_STATUSES, q.status, 'qualification status'),
       nextDue: dateOnly(q.next_due),
       summary: q.summary,
       recordedBy: q.recorded_by,
@@ -282,7 +283,7 @@ export async function lifecycleOf(
     maintenance: maint.map((m) => ({
       id: m.id,
       instrumentId: m.instrument_id,
-      kind: repo.oneOf(MAINTENANCE_KINDS, m.kind, 'maintenance kind'),
+      kind: oneOf(MAINTENANCE_KINDS, m.kind, 'maintenance kind'),
       performedOn: dateOnly(m.performed_on)!,
       performedBy: m.performed_by_text,
       description: m.description,
@@ -293,7 +294,7 @@ export async function lifecycleOf(
     serviceEvents: events.map((e) => ({
       id: e.id,
       instrumentId: e.instrument_id,
-      state: repo.oneOf(repo.SERVICE_STATES, e.state, 'service state'),
+      state: oneOf(repo.SERVICE_STATES, e.state, 'service state'),
       reason: e.reason,
       recordedBy: e.recorded_by,
       recordedByName: e.full_name ?? null,

@@ -34,7 +34,8 @@ import {
   type ImpactMeasurement,
   type ImpactNotice,
 } from './contract';
-import { checkTypeOf, iso, oneOf } from './repo';
+import { checkTypeOf, iso } from './repo';
+import { oneOf } from '../../lib/db';
 
 const ASSESSMENT_STATUSES = ['open', 'assessed'] as const;
 const DECISIONS = ['none', 'retest'] as const;

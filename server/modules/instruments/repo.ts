@@ -1,6 +1,5 @@
 /** Data access of the instrument registry, check specifications and instrument checks. */
-import type { Db } from '../../lib/db';
-import { parseJson } from '../../lib/db';
+import { oneOf, parseJson, type Db } from '../../lib/db';
 import type {
   AnyCheckResult,
   CheckBand,
@@ -19,12 +18,6 @@ export type SpecRow = InstrumentCheckSpecRow;
 /** A performed instrument check (table instrument_check). */
 export type CheckRow = InstrumentCheckRow;
 
-/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
-export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
-  const found = values.find((x) => x === v);
-  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
-  return found;
-}
 export const SERVICE_STATES = ['in-service', 'out-of-service'] as const;
 const SPEC_STATUSES = ['draft', 'approved', 'superseded'] as const;
 const VERDICTS = ['pass', 'fail'] as const;

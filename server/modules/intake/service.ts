@@ -18,7 +18,7 @@ import type { AuthUser } from '../../lib/http';
 import { storeFile } from '../../lib/files';
 import { transactionWithRetry } from '../../lib/retry';
 import { childLog, safeError } from '../../lib/log';
-import { parseJson } from '../../lib/db';
+import { oneOf, parseJson } from '../../lib/db';
 import type {
   FolderAcquisitionEventRow,
   FolderAcquisitionRow,
@@ -47,9 +47,7 @@ import { clockOffsetSeconds, clockWarning } from '../../lib/clock-offset';
 
 /** The state an acquisition event records (checked: the schema keeps it a VARCHAR). */
 function acquisitionStateOf(v: string): AcquisitionState {
-  const found = ACQUISITION_STATES.find((x) => x === v);
-  if (found === undefined) throw new Error(`acquisition event "${v}" is not one of ${ACQUISITION_STATES.join(', ')}`);
-  return found;
+  return oneOf(ACQUISITION_STATES, v, 'acquisition event');
 }
 
 const log = childLog('intake');

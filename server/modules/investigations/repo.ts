@@ -2,7 +2,7 @@
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import type { AppUserRow, IdentityTestRow, InvestigationRow, LotRow, MaterialRow } from '../../lib/db-tables';
-import { oneOf, oneOfOrNull } from '../lots';
+import { oneOf, oneOfOrNull } from '../../lib/db';
 import {
   INVESTIGATION_DECISIONS,
   INVESTIGATION_KINDS,

@@ -4,7 +4,6 @@
  */
 export { containersOf, findContainerByLabel, findLot, lockLot } from './repo';
 export { receiveLot } from './service';
-export { oneOf, oneOfOrNull } from './values';
 export { lotRoutes } from './routes';
 export {
   CONTAINER_TRANSITIONS,

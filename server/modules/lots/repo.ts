@@ -4,7 +4,7 @@ import type { ContainerRow, LotRow } from '../../lib/db-tables';
 import { dateOnly } from '../../lib/dates';
 import { SAMPLING_PLANS, SOURCE_STATUSES, type SourceStatus } from '../suppliers/contract';
 import { IDENTITY_STATUSES, LOT_STATUSES, type LotSummary } from './contract';
-import { oneOf, oneOfOrNull } from './values';
+import { oneOf, oneOfOrNull } from '../../lib/db';
 
 /** A lot is never received from a blocked source (suppliers' receipt rules), so its recorded source status is one of these. */
 const RECEIPT_SOURCE_STATUSES = SOURCE_STATUSES.filter((x): x is Exclude<SourceStatus, 'blocked'> => x !== 'blocked');

@@ -21,7 +21,7 @@ import { AppError, conflict } from '../../lib/errors';
 import { CONTAINER_STATUSES, type ContainerStatus } from '../sampling/contract';
 import type { ContainerStatusRow, LotRow } from '../../lib/db-tables';
 import { IDENTITY_STATUSES, LOT_STATUSES, type IdentityStatus, type LotStatus } from './contract';
-import { oneOf } from './values';
+import { oneOf } from '../../lib/db';
 
 /** A new lot: in quarantine, awaiting its identity test. */
 export const RECEIVED_LOT = { status: 'quarantine', identity_status: 'awaiting-testing' } as const satisfies {

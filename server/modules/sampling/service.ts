@@ -11,7 +11,7 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit } from '../../lib/audit';
-import type { Db } from '../../lib/db';
+import { oneOf, oneOfOrNull, type Db } from '../../lib/db';
 import type { AppUserRow, LineClearanceRow, SampledContainerRow, SamplingRecordRow } from '../../lib/db-tables';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
@@ -83,7 +83,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
       tool: rec.tool,
       reserve: { quantity: Number(rec.reserve_quantity), unit: rec.reserve_unit, location: rec.reserve_location },
       note: rec.note,
-      samplingPlan: lots.oneOf(SAMPLING_PLANS, rec.sampling_plan, `sampling record ${rec.id} plan`),
+      samplingPlan: oneOf(SAMPLING_PLANS, rec.sampling_plan, `sampling record ${rec.id} plan`),
       sampler: { id: rec.sampler_id, name: rec.u_name },
       containers: sc.map((s) => ({
         containerId: s.container_id,
@@ -101,7 +101,7 @@ export async function samplingView(db: Db, lotId: number): Promise<LotSamplingVi
   const holds = await holdsOf(db, lotId);
   return {
     lotId,
-    samplingPlan: lots.oneOfOrNull(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`),
+    samplingPlan: oneOfOrNull(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`),
     sampleCount: lot.sample_count,
     clearances: cl,
     record,
@@ -125,7 +125,7 @@ async function sampleableLot(db: Db, lotId: number) {
     throw conflict(`Lot ${lot.lot_number} was received before sampling records existed; it has no sampling plan.`);
   if (await db('sampling_record').where({ lot_id: lotId }).first('id'))
     throw conflict(`Lot ${lot.lot_number} has been sampled already; its sampling record cannot be replaced.`);
-  return { lot, plan: lots.oneOf(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`) };
+  return { lot, plan: oneOf(SAMPLING_PLANS, lot.sampling_plan, `lot ${lot.lot_number} sampling plan`) };
 }
 
 export async function recordLineClearance(

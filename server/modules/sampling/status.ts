@@ -9,7 +9,7 @@
  */
 import type { Db } from '../../lib/db';
 import type { AppUserRow, ContainerRow, ContainerStatusRow } from '../../lib/db-tables';
-import { oneOf } from '../lots';
+import { oneOf } from '../../lib/db';
 import { CONTAINER_STATUSES, type ContainerStatusRecord } from './contract';
 
 export async function statusHistory(db: Db, lotId: number): Promise<ContainerStatusRecord[]> {

@@ -12,7 +12,7 @@ import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { must, parseJson } from '../../lib/db';
 import type { InstrumentCheckRow } from '../../lib/db-tables';
-import { oneOf } from './repo';
+import { oneOf } from '../../lib/db';
 import { getValidInstrumentCheck, requiredCheckTypes, unusableReason } from '../instruments';
 import type { CitedInstrumentCheck, InstrumentStatus } from './contract';
 

@@ -1,6 +1,5 @@
 /** Data access of identity tests (attempts) and measurements. Measurements are insert-only. */
-import type { Db } from '../../lib/db';
-import { parseJson } from '../../lib/db';
+import { oneOf, parseJson, type Db } from '../../lib/db';
 import type { IdentityTestInsert, IdentityTestRow, MeasurementInsert, MeasurementRow } from '../../lib/db-tables';
 import type { MeasurementSummary, MeasurementVerdict, TestStatus } from './contract';
 
@@ -8,12 +7,6 @@ import type { MeasurementSummary, MeasurementVerdict, TestStatus } from './contr
 export type TestRow = IdentityTestRow;
 export type { MeasurementRow };
 
-/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
-export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
-  const found = values.find((x) => x === v);
-  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
-  return found;
-}
 const TEST_STATUSES = [
   'in-progress',
   'awaiting-verification',

@@ -1,6 +1,6 @@
 /** Data access of trending: passed results of verified tests, baselines and signals. */
 import type { Knex } from 'knex';
-import { parseJson } from '../../lib/db';
+import { oneOf, parseJson } from '../../lib/db';
 import type {
   ContainerRow,
   IdentityMethodRow,
@@ -16,12 +16,6 @@ import { RULES } from './control-chart';
 
 type Db = Knex | Knex.Transaction;
 
-/** A stored text column that holds one of `values` (checked: the schema keeps it a VARCHAR). */
-function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
-  const found = values.find((x) => x === v);
-  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
-  return found;
-}
 const SIGNAL_STATUSES = ['open', 'acknowledged', 'investigated'] as const satisfies readonly TrendSignal['status'][];
 
 interface ResultJson {
