@@ -37,3 +37,9 @@ export function parseJson<T>(v: unknown, fallback: T): T {
 }
 
 export type Db = Knex | Knex.Transaction;
+
+/** A row that exists by construction (inserted in this transaction, a single-row table): its absence is a bug. */
+export function must<T>(row: T | undefined, what: string): T {
+  if (row === undefined) throw new Error(`${what} is missing`);
+  return row;
+}
