@@ -342,7 +342,7 @@ export async function declineRoleChange(db: Knex, actor: Actor, requestId: numbe
     });
     return r.user_id;
   });
-  return repo.toPublicUser((await repo.findById(db, userId))!, null);
+  return repo.toPublicUser(must(await repo.findById(db, userId), `Account ${userId}`), null);
 }
 
 export async function roleChangesWaiting(db: Knex): Promise<RoleChangeWaiting[]> {
