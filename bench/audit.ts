@@ -19,6 +19,7 @@ import { bulkAppendAudit, type BulkEvent } from '../server/modules/audit/bulk';
 import * as repo from '../server/modules/audit/repo';
 import * as service from '../server/modules/audit/service';
 import type { AuthUser } from '../server/lib/http';
+import { must } from '../server/lib/db';
 import type { AuditListQuery } from '../server/modules/audit/contract';
 
 const DB_NAME = process.env.AUDIT_BENCH_DB ?? 'drumline_bench';
@@ -244,8 +245,10 @@ export async function runAuditBench(
     const deepCursor = async (f: Partial<AuditListQuery>) => {
       // a cursor half-way into the matching events: the keyset makes page 10,000 cost what page 1 costs
       const id = Math.floor(EVENTS * (0.3 + rnd() * 0.4));
-      const row = await db('audit_event').select('occurred_at', 'id').where('id', id).first();
-      return { ...f, cursor: repo.encodeCursor({ t: new Date(row.occurred_at).getTime(), id: Number(row.id) }) };
+      // the bench wrote EVENTS gap-free events, so every id up to EVENTS exists
+      const found = await db('audit_event').select('occurred_at', 'id').where('id', id).first();
+      const row = must(found, `Audit event ${id}`);
+      return { ...f, cursor: repo.encodeCursor({ t: new Date(row.occurred_at).getTime(), id: row.id }) };
     };
     const actionsFor = (prefix: string) => KINDS.filter((k) => k[0].startsWith(prefix)).map((k) => k[0]);
     /** the record id of a random existing event of that type (so that the record has a history) */

@@ -89,7 +89,7 @@ export async function runHealthBench(): Promise<{ ok: boolean; maxMs: number }> 
         created_at: now,
         updated_at: now,
       });
-      return { id: id as number, fullName: `Bench ${username}` };
+      return { id, fullName: `Bench ${username}` };
     };
     const qa = await user('bench.qa', ['qa_manager']);
     const author = await user('bench.author', ['qa_manager']);

@@ -29,6 +29,7 @@ import { createSiteAccounts } from '../db/site-accounts';
 import { FIBRES, distinctAcquisition, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
 import { writeJcamp } from '../server/modules/archive/jcamp-writer';
 import { hashPassword } from '../server/lib/passwords';
+import { must } from '../server/lib/db';
 import { readSpectrum } from '../server/spectra';
 
 const DB_NAME = process.env.LOAD_BENCH_DB ?? 'drumline_bench_load';
@@ -266,7 +267,8 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
     }
 
     // Read pages at 5 clients.
-    const someLot = (await db('lot').orderBy('id').first('id')).id;
+    const firstLot = await db('lot').orderBy('id').first('id');
+    const someLot = must(firstLot, 'A lot made by this bench').id;
     const someTest =
       (await db('identity_test').where({ status: 'verified' }).orderBy('id').first('id'))?.id ?? slots[0][0].testId;
     const pages: [string, string, string][] = [
@@ -315,7 +317,7 @@ export async function runLoadBench(): Promise<{ ok: boolean; figures: Figures[] 
         signature: { username: 'bench.verifier', password: PASSWORD },
       });
       certTimes.push(performance.now() - t0);
-      if (!(await db('lot').where({ id: lot.id }).first('certificate_id')).certificate_id)
+      if (!(await db('lot').where({ id: lot.id }).first('certificate_id'))?.certificate_id)
         throw new Error('no certificate issued');
     }
     certTimes.sort((a, b) => a - b);

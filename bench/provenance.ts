@@ -16,6 +16,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import knexFactory from 'knex';
+import type { SpectrumFingerprintInsert } from '../server/lib/db-tables';
 import { dbSettings, knexConfig, repoRoot } from '../db/config';
 import { migrateDatabase, recreateDatabase } from '../db/migrate';
 import { candidatesQuery } from '../server/modules/provenance/copies';
@@ -73,7 +74,7 @@ export async function runProvenanceBench(): Promise<{ ok: boolean }> {
     const rand = prng(11);
     await owner.raw('SET FOREIGN_KEY_CHECKS = 0');
     const t0 = performance.now();
-    let batch: Record<string, unknown>[] = [];
+    let batch: SpectrumFingerprintInsert[] = [];
     for (let i = 0; i < SPECTRA; i++) {
       const s = acquisition(base[i % base.length], rand);
       const k = provenanceKeys(s);

@@ -6,6 +6,7 @@
  */
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../server/lib/audit';
+import { must } from '../server/lib/db';
 import { canonicalRoles, roleCombinationProblem, type Role } from '../server/lib/contract';
 import { insertRoleGrant } from '../server/lib/grant-seal';
 
@@ -57,7 +58,7 @@ export async function createSiteAccounts(
         username: a.username,
         full_name: a.fullName,
         email: a.email,
-        password_hash: hashes.get(a.username),
+        password_hash: must(hashes.get(a.username), `The password hash of ${a.username}`),
         roles: '[]',
         must_change_password: opts.mustChangePassword ? 1 : 0,
         failed_attempts: 0,
@@ -84,7 +85,7 @@ export async function createSiteAccounts(
           after: { username: a.username, fullName: a.fullName, roles: canonicalRoles(a.roles), grantId },
           reason: opts.reason,
         });
-      ids.set(a.username, id as number);
+      ids.set(a.username, id);
     }
   });
   return ids;

@@ -7,7 +7,7 @@
  *   DRUMLINE_E2E_DB=drumline_e2e tsx scripts/e2e-seed-library.ts
  */
 import { FIBRES, seedApprovedMaterial, seedInstrument } from '../db/seeds/testing-library';
-import { closeDb, initDb } from '../server/lib/db';
+import { closeDb, initDb, must } from '../server/lib/db';
 
 const database = process.env.DRUMLINE_E2E_DB ?? 'drumline_e2e';
 
@@ -22,11 +22,11 @@ async function main(): Promise<void> {
   const db = initDb(database);
   const quinn = await db('app_user').where({ username: 'quinn' }).first();
   if (!quinn) throw new Error('the demo QA account "quinn" is missing; seed the accounts first');
-  const qa = { id: quinn.id as number, fullName: quinn.full_name as string };
+  const qa = { id: quinn.id, fullName: quinn.full_name };
   // Irene wrote the methods and uploaded the references; Quinn approved (never the author).
   const irene = await db('app_user').where({ username: 'irene' }).first();
   if (!irene) throw new Error('the demo QA account "irene" is missing; seed the accounts first');
-  const author = { id: irene.id as number, fullName: irene.full_name as string };
+  const author = { id: irene.id, fullName: irene.full_name };
   if (!(await db('material').where({ code: E2E_LIBRARY.nylon.code }).first()))
     await seedApprovedMaterial(db, qa, {
       ...E2E_LIBRARY.nylon,
@@ -57,7 +57,7 @@ async function main(): Promise<void> {
           statement: 'browser test fixture',
           signed_at: now,
         })
-      )[0] as number;
+      )[0];
     const [supplierId] = await db('supplier').insert({
       ...E2E_LIBRARY.supplier,
       kind: 'supplier',
@@ -65,7 +65,8 @@ async function main(): Promise<void> {
       created_at: now,
     });
     for (const code of [E2E_LIBRARY.nylon.code, E2E_LIBRARY.pet.code]) {
-      const m = await db('material').where({ code }).first();
+      // both materials were seeded above
+      const m = must(await db('material').where({ code }).first(), `Material ${code}`);
       const [sourceId] = await db('material_source').insert({
         material_id: m.id,
         supplier_id: supplierId,
@@ -85,7 +86,10 @@ async function main(): Promise<void> {
         set_at: now,
       });
     }
-    const nylon = await db('material').where({ code: E2E_LIBRARY.nylon.code }).first();
+    const nylon = must(
+      await db('material').where({ code: E2E_LIBRARY.nylon.code }).first(),
+      `Material ${E2E_LIBRARY.nylon.code}`,
+    );
     await db('material_profile').insert({
       material_id: nylon.id,
       version: 1,

@@ -26,7 +26,7 @@ async function main(): Promise<void> {
   const person = async (username: string) => {
     const u = await db('app_user').where({ username }).first('id', 'full_name');
     if (!u) throw new Error(`the demo account "${username}" is missing; seed the accounts first`);
-    return { id: u.id as number, fullName: u.full_name as string };
+    return { id: u.id, fullName: u.full_name };
   };
   const qa = await person('quinn');
   const m = await seedApprovedMaterial(db, qa, {

@@ -14,6 +14,7 @@ import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { loadConfig } from '../server/lib/config';
 import { closeDb, initDb } from '../server/lib/db';
+import type { StoredFileRow } from '../server/lib/db-tables';
 import { resolveExportFolder } from '../server/modules/intake';
 import { intakeSettingOf } from '../server/lib/intake-records';
 import { simulateAcquisition } from '../fixtures/instrument-simulator';
@@ -60,9 +61,9 @@ async function main() {
         .where('c.label', label)
         .where('r.status', 'approved')
         .orderBy('r.id')
-        .first('f.data', 'f.file_name');
+        .first<Pick<StoredFileRow, 'data' | 'file_name'> | undefined>('f.data', 'f.file_name');
       if (!ref) throw new Error(`container ${label} is unknown or its material has no approved reference; pass --file`);
-      source = { bytes: new Uint8Array(ref.data as Buffer), name: ref.file_name as string };
+      source = { bytes: new Uint8Array(ref.data), name: ref.file_name };
     }
     const offset = Number(values['clock-offset-minutes'] ?? 0);
     const file = await simulateAcquisition({

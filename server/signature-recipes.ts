@@ -9,12 +9,20 @@
  * (docs/architecture.md, "Direction of imports").
  */
 import type { Knex } from 'knex';
-import { parseJson } from './lib/db';
+import { must, parseJson } from './lib/db';
 import { alertSignedContent, type Recipe } from './modules/integrity';
 import { reviewSignedContent } from './modules/audit-review';
 import { PHASE1_ITEMS, PHASE1_LABELS, type TrendSubject } from './modules/investigations/contract';
 import { openingContent } from './modules/investigations';
-import * as instrumentsRepo from './modules/instruments';
+import {
+  CHECK_TYPES,
+  QUALIFICATION_STAGES,
+  QUALIFICATION_STATUSES,
+  type AnyCheckResult,
+  type CheckBand,
+  type CheckLimits,
+} from './modules/instruments/contract';
+import type { MethodStatus, StoredBand } from './modules/library/contract';
 import {
   assessmentSignedContent,
   backInServiceSignedContent,
@@ -23,7 +31,6 @@ import {
   specSignedContent,
 } from './modules/instruments';
 import { referenceSignedContent } from './modules/library';
-import * as libraryRepo from './modules/library';
 import { methodSignedContent } from './modules/library';
 import { irSuitabilitySignedContent, overrideSignedContent } from './modules/library';
 import { loadContext, signedContent } from './modules/testing';
@@ -31,8 +38,25 @@ import { releaseSignedContent } from './modules/provenance';
 import { retestSignedContent } from './modules/disposition';
 import { roleRequestSignedContent } from './modules/users';
 
-const fileSha = async (db: Knex, fileId: number): Promise<string> =>
-  (await db('stored_file').where({ id: fileId }).first('sha256'))?.sha256;
+// a record's file_id is a foreign key into the append-only stored_file
+const fileSha = async (db: Knex, fileId: number): Promise<string> => {
+  const f = await db('stored_file').where({ id: fileId }).first('sha256');
+  return must(f, `Stored file ${fileId}`).sha256;
+};
+
+/**
+ * The content a recipe rebuilds when a stored value is one the signing code never writes (a value
+ * outside its column's set, a missing value the database's guards require): the record was changed
+ * behind the application, and this content matches no signature, so the sweep reports it.
+ */
+const changedBehindApplication = (column: string, value: unknown) => ({ changedBehindApplication: column, value });
+
+/** Whether a stored text is one of the values the application writes to its column. */
+const oneOf = <T extends string>(values: readonly T[], v: string): v is T => values.some((x) => x === v);
+
+const METHOD_STATUSES: Record<MethodStatus, true> = { draft: true, approved: true, superseded: true };
+const isMethodStatus = (v: string): v is MethodStatus => Object.hasOwn(METHOD_STATUSES, v);
+const OVERRIDE_ENTITIES = ['identity_method', 'reference_spectrum'] as const;
 
 const investigationRecipe: Recipe = async (db, s) => {
   const inv = await db('investigation')
@@ -83,10 +107,12 @@ const referenceApproval: Recipe = async (db, s) => {
     .where({ id: Number(s.entity_id) })
     .first();
   if (!r) return undefined;
+  // the database's guard requires the method with the approval (db/migrations/050_record_guards.ts)
+  if (r.approved_method_id === null) return changedBehindApplication('approved_method_id', null);
   return referenceSignedContent(
     r.id,
     await fileSha(db, r.file_id),
-    libraryRepo.toReference(r).bands,
+    parseJson<StoredBand[]>(r.bands, []),
     r.approved_method_id,
   );
 };
@@ -94,6 +120,7 @@ const referenceApproval: Recipe = async (db, s) => {
 const overrideRequest: Recipe = async (db, s) => {
   const o = await db('gate_override').where({ signature_id: s.id }).first();
   if (!o) return undefined;
+  if (!oneOf(OVERRIDE_ENTITIES, o.entity_type)) return changedBehindApplication('entity_type', o.entity_type);
   return overrideSignedContent({
     entityType: o.entity_type,
     entityId: o.entity_id,
@@ -115,9 +142,11 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!m) return undefined;
+    const status = m.status;
+    if (!isMethodStatus(status)) return changedBehindApplication('status', status);
     const a = await db('method_approval').where({ method_id: m.id, signature_id: s.id }).first();
     return methodSignedContent(
-      m,
+      { ...m, status },
       a
         ? {
             validationSha256: a.validation_sha256,
@@ -152,35 +181,45 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!sp) return undefined;
-    const spec = instrumentsRepo.toSpec(sp);
-    return specSignedContent(sp.id, sp.instrument_id, sp.version, sp.kind, spec.bands, spec.checkType, spec.limits);
+    if (!oneOf(CHECK_TYPES, sp.check_type)) return changedBehindApplication('check_type', sp.check_type);
+    return specSignedContent(
+      sp.id,
+      sp.instrument_id,
+      sp.version,
+      sp.kind,
+      parseJson<CheckBand[]>(sp.bands, []),
+      sp.check_type,
+      parseJson<CheckLimits | null>(sp.limits, null),
+    );
   },
   'instrument_check/instrument-check': async (db, s) => {
     const c = await db('instrument_check')
       .where({ id: Number(s.entity_id) })
       .first();
     if (!c) return undefined;
-    const check = instrumentsRepo.toCheck(c);
+    if (!oneOf(CHECK_TYPES, c.check_type)) return changedBehindApplication('check_type', c.check_type);
     return checkSignedContent({
       id: c.id,
       instrumentId: c.instrument_id,
       specId: c.spec_id,
-      checkType: check.checkType,
+      checkType: c.check_type,
       fileSha256: await fileSha(db, c.file_id),
-      result: check.result,
+      result: parseJson<AnyCheckResult | null>(c.result, null),
     });
   },
   'instrument/qualification-approved': async (db, s) => {
     const q = await db('instrument_qualification').where({ signature_id: s.id }).first();
     if (!q) return undefined;
-    const day = (d: Date | null) => (d ? new Date(d).toISOString().slice(0, 10) : null);
+    if (!oneOf(QUALIFICATION_STAGES, q.stage)) return changedBehindApplication('stage', q.stage);
+    if (!oneOf(QUALIFICATION_STATUSES, q.status)) return changedBehindApplication('status', q.status);
+    const day = (d: Date) => new Date(d).toISOString().slice(0, 10);
     return qualificationSignedContent(q.instrument_id, {
       stage: q.stage,
       documentRef: q.document_ref,
-      executedFrom: day(q.executed_from)!,
-      executedTo: day(q.executed_to)!,
+      executedFrom: day(q.executed_from),
+      executedTo: day(q.executed_to),
       status: q.status,
-      nextDue: day(q.next_due),
+      nextDue: q.next_due ? day(q.next_due) : null,
       summary: q.summary,
     });
   },
@@ -193,7 +232,9 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!a || !a.decision) return undefined;
-    const ms: { measurement_id: number }[] = await db('check_impact_measurement')
+    // the database's guard requires the rationale with the decision (db/migrations/161_check_lookback.ts)
+    if (a.rationale === null) return changedBehindApplication('rationale', null);
+    const ms = await db('check_impact_measurement')
       .where({ assessment_id: a.id })
       .orderBy('measured_at')
       .orderBy('measurement_id')
@@ -235,15 +276,20 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!r) return undefined;
-    const c = await db('container').where({ id: r.container_id }).first('label');
+    // container_id is a foreign key
+    const container = await db('container').where({ id: r.container_id }).first('label');
+    const c = must(container, `Container ${r.container_id}`);
     const blocked = await db('container_block')
       .where({ container_id: r.container_id, event: 'blocked' })
       .where('id', '<', r.id)
       .orderBy('id', 'desc')
       .first('id');
+    // a release is written only for a blocked container, always with its reason
+    if (!blocked) return changedBehindApplication('blocked', null);
+    if (r.reason === null) return changedBehindApplication('reason', null);
     return releaseSignedContent({
-      label: c?.label,
-      blockId: blocked?.id,
+      label: c.label,
+      blockId: blocked.id,
       invalidCount: r.invalid_count,
       reason: r.reason,
     });

@@ -80,7 +80,8 @@ export async function up(knex: Knex): Promise<void> {
       console.warn(`[migrate 051] account ${u.id} holds the administrator role with others; change it`);
     const c = canonical(roles);
     await knex('app_user').where({ id: u.id }).update({ roles: c });
-    await knex('role_grant').insert({
+    // the row as this migration wrote it; migration 170 adds the link and the seal to every grant
+    await knex<Record<string, unknown>>('role_grant').insert({
       user_id: u.id,
       roles: c,
       kind: 'site-setup',

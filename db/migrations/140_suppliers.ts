@@ -134,7 +134,7 @@ export async function up(knex: Knex): Promise<void> {
       created_by: null,
       created_at: now,
     });
-    idOf.set(key, id as number);
+    idOf.set(key, id);
   }
   if (idOf.size) {
     // The lot guard of migration 050 compares every column it does not know in frozen states: drop
@@ -147,6 +147,8 @@ export async function up(knex: Knex): Promise<void> {
         .update({ supplier_id: idOf.get(text.trim().toLowerCase())! });
     const pairs = await knex('lot').distinct('material_id', 'supplier_id');
     for (const p of pairs) {
+      // every lot was linked just above (supplier_id is NOT NULL in material_source)
+      if (p.supplier_id === null) throw new Error(`a lot of material ${p.material_id} has no supplier after linking`);
       const [sourceId] = await knex('material_source').insert({
         material_id: p.material_id,
         supplier_id: p.supplier_id,

@@ -41,6 +41,7 @@ import { POLYSTYRENE_CHECK_BANDS, SITE_CHECK_JUSTIFICATION } from '../../fixture
 import { fnv1a } from '../../fixtures/synth';
 import { DemoApi, DemoApiError, type DemoSession } from './demo-client';
 import { seedTrendHistory } from './trend-history';
+import { must } from '../../server/lib/db';
 
 export const DEMO_SITE = {
   company: 'Lindenhall Pharma',
@@ -622,15 +623,17 @@ async function seedTrendDemo(db: Knex, p: People, ids: DemoIds, log: Log): Promi
     .where({ instrument_id: instrumentId, verdict: 'pass' })
     .orderBy('id', 'desc')
     .first('id');
+  // the seed made the demo accounts and the passing instrument checks before this step
   const person = async (username: string) => {
-    const u = await db('app_user').where({ username }).first('id', 'full_name');
-    return { id: u.id as number, fullName: u.full_name as string };
+    const found = await db('app_user').where({ username }).first('id', 'full_name');
+    const u = must(found, `Demo account ${username}`);
+    return { id: u.id, fullName: u.full_name };
   };
   await seedTrendHistory(db, {
     materialId: ids.materials[DEMO_TREND.material],
     methodId: ids.methods[DEMO_TREND.material],
     instrumentId,
-    instrumentCheckId: check.id,
+    instrumentCheckId: must(check, `A passing check of instrument ${instrumentId}`).id,
     operator: await person('olga'),
     verifier: await person('victor'),
     sample: { data: f.data, name: f.name },

@@ -17,6 +17,7 @@ import type { Knex } from 'knex';
 import { repoRoot } from '../config';
 import { sha256Hex } from '../../server/lib/canonical';
 import { contentHash } from '../../server/lib/esign';
+import { must } from '../../server/lib/db';
 import { methodSignedContent, pickBands, referenceSignedContent } from '../../server/modules/library';
 import { provenanceKeys, recordFingerprint } from '../../server/modules/provenance';
 import {
@@ -77,7 +78,7 @@ async function storeFile(k: Knex, rel: string, userId: number): Promise<number> 
     uploaded_by: userId,
     uploaded_at: new Date(),
   });
-  return id as number;
+  return id;
 }
 
 /** A signature row over the content the application signs, so the integrity sweep finds it intact. */
@@ -99,7 +100,7 @@ async function signatureRow(
     statement: 'seeded approved library (tests only)',
     signed_at: new Date(),
   });
-  return id as number;
+  return id;
 }
 
 export interface SeededMaterial {
@@ -140,10 +141,11 @@ export async function seedApprovedMaterial(
     created_at: now,
     updated_at: now,
   });
+  const status = 'approved' as const;
   const [methodId] = await k('identity_method').insert({
     material_id: materialId,
     version: 1,
-    status: 'approved',
+    status,
     technique: method.technique,
     params: JSON.stringify(method),
     change_note: 'seeded',
@@ -163,7 +165,11 @@ export async function seedApprovedMaterial(
         'approved',
         'identity_method',
         methodId,
-        methodSignedContent(await k('identity_method').where({ id: methodId }).first()),
+        // the version inserted just above, with the status it was inserted with
+        methodSignedContent({
+          ...must(await k('identity_method').where({ id: methodId }).first(), `Method version ${methodId}`),
+          status,
+        }),
       ),
     });
   const referenceIds: number[] = [];
@@ -210,18 +216,18 @@ export async function seedApprovedMaterial(
     await recordFingerprint(k, {
       fileId,
       recordType: 'reference',
-      recordId: refId as number,
+      recordId: refId,
       sha256: sha256Hex(f.buffer),
       keys: provenanceKeys(refSpectrum),
       at: now,
     });
-    referenceIds.push(refId as number);
+    referenceIds.push(refId);
   }
   return {
-    materialId: materialId as number,
+    materialId: materialId,
     code: opts.code,
     name: opts.name,
-    methodId: methodId as number,
+    methodId: methodId,
     referenceIds,
   };
 }
@@ -273,7 +279,7 @@ export async function seedInstrument(
     created_at: now,
     approved_signature_id: null,
   });
-  if (opts.state === 'none') return { instrumentId: instrumentId as number, checkId: null, name: opts.name };
+  if (opts.state === 'none') return { instrumentId: instrumentId, checkId: null, name: opts.name };
   const result = opts.state === 'failed' ? ft : checkPolystyrene(spectrum, { spec: siteSpec, mode: 'atr' });
   const fileId = await storeFile(k, 'atr-ftir/polystyrene_film.csv', qa.id);
   const performedAt =
@@ -294,12 +300,12 @@ export async function seedInstrument(
   await recordFingerprint(k, {
     fileId,
     recordType: 'instrument-check',
-    recordId: checkId as number,
+    recordId: checkId,
     sha256: sha256Hex(dataFile('atr-ftir/polystyrene_film.csv').buffer),
     keys: provenanceKeys(spectrum),
     at: performedAt,
   });
-  return { instrumentId: instrumentId as number, checkId: checkId as number, name: opts.name };
+  return { instrumentId: instrumentId, checkId: checkId, name: opts.name };
 }
 
 /** Real fibre spectra (../shared/reference-data/atr-ftir-fibres) used by the testing tests. */

@@ -27,8 +27,10 @@ import { appendAudit, type Actor } from '../../server/lib/audit';
 import { contentHash } from '../../server/lib/esign';
 import { issueCertificate } from '../../server/modules/certificates';
 import { provenanceKeys, recordFingerprint } from '../../server/modules/provenance';
-import { toEngineBands, toReference } from '../../server/modules/library';
+import { toEngineBands } from '../../server/modules/library';
 import { loadContext, signedContent } from '../../server/modules/testing';
+import type { StoredBand } from '../../server/modules/library/contract';
+import { must, parseJson } from '../../server/lib/db';
 import { prepareReference, readSpectrum, scoreAgainst, type IdentityMethod } from '../../server/spectra';
 
 export interface HistoryPerson {
@@ -94,13 +96,14 @@ export const HISTORY_ACTOR: Actor = { id: null, name: 'Drumline demo seed (synth
 
 export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise<{ measurementIds: number[] }> {
   const now = o.now ?? new Date();
-  const methodRow = await k('identity_method').where({ id: o.methodId }).first();
+  // the caller names an approved method version of the seed
+  const methodRow = must(await k('identity_method').where({ id: o.methodId }).first(), `Method version ${o.methodId}`);
   const method = JSON.parse(methodRow.params) as IdentityMethod;
   const refs = await k('reference_spectrum').where({ material_id: o.materialId, status: 'approved' }).orderBy('id');
   const prepared = [];
   for (const r of refs) {
-    const f = await k('stored_file').where({ id: r.file_id }).first();
-    const spectrum = readSpectrum(new Uint8Array(f.data as Buffer), String(f.file_name));
+    const f = must(await k('stored_file').where({ id: r.file_id }).first(), `Stored file ${r.file_id}`);
+    const spectrum = readSpectrum(new Uint8Array(f.data), f.file_name);
     prepared.push(
       prepareReference(
         {
@@ -108,7 +111,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
           label: r.code,
           materialId: String(o.materialId),
           spectrum,
-          bands: toEngineBands(toReference(r).bands),
+          bands: toEngineBands(parseJson<StoredBand[]>(r.bands, [])),
         },
         method,
       ),
@@ -185,16 +188,16 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
       created_by: o.operator.id,
       created_at: at,
     });
-    measurementIds.push(mId as number);
+    measurementIds.push(mId);
     await recordFingerprint(k, {
-      fileId: fileId as number,
+      fileId: fileId,
       recordType: 'measurement',
-      recordId: mId as number,
+      recordId: mId,
       sha256: sha256Hex(bytes),
       keys: provenanceKeys(readSpectrum(new Uint8Array(bytes), fileName)),
       at,
     });
-    const content = signedContent(await loadContext(k, testId as number));
+    const content = signedContent(await loadContext(k, testId));
     const sign = async (who: HistoryPerson, meaning: string, when: Date) => {
       const [id] = await k('e_signature').insert({
         user_id: who.id,
@@ -206,7 +209,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
         statement: 'synthetic trend history (demo data)',
         signed_at: when,
       });
-      return id as number;
+      return id;
     };
     const performedAt = new Date(at.getTime() + 20 * 60_000);
     const verifiedAt = new Date(at.getTime() + 90 * 60_000);
@@ -231,7 +234,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
         actor: HISTORY_ACTOR,
         action: 'demo.synthetic-history-written',
         entityType: 'lot',
-        entityId: lotId as number,
+        entityId: lotId,
         after: { lotNumber, testId, measurementId: mId, fileName, source, recordedAt: at.toISOString() },
         reason: 'Synthetic trend history (demo data): generated spectrum, records written by the seed with past times.',
         ip: null,
@@ -244,7 +247,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
           actor: HISTORY_ACTOR,
           action: 'signature.signed',
           entityType: 'identity_test',
-          entityId: testId as number,
+          entityId: testId,
           after: {
             signatureId: sigId,
             meaning,
@@ -257,7 +260,7 @@ export async function seedTrendHistory(k: Knex, o: TrendHistoryOptions): Promise
         });
     });
     // every passed lot gets its identity certificate (issued now, by the seed)
-    await issueCertificate(k, { lotId: lotId as number, testId: testId as number, actor: HISTORY_ACTOR });
+    await issueCertificate(k, { lotId: lotId, testId: testId, actor: HISTORY_ACTOR });
   }
   return { measurementIds };
 }

@@ -17,6 +17,8 @@ import { transactionWithRetry } from './retry';
 import { auditKey } from './audit-key';
 import { canonicalJson, sha256Hex } from './canonical';
 import type { ChainReport } from './contract';
+import type { AuditEventRow } from './db-tables';
+import { must } from './db';
 
 export interface Actor {
   id: number | null;
@@ -36,21 +38,8 @@ export interface AuditInput {
   ip?: string | null;
 }
 
-export interface AuditRow {
-  id: number;
-  occurred_at: Date;
-  actor_id: number | null;
-  actor_name: string;
-  action: string;
-  entity_type: string;
-  entity_id: string | null;
-  before_json: string | null;
-  after_json: string | null;
-  reason: string | null;
-  ip: string | null;
-  prev_hash: string;
-  hash: string;
-}
+/** An audit event as stored (the generated row type under the name the audit modules use). */
+export type AuditRow = AuditEventRow;
 
 /**
  * A row's hash over every column except the hash itself: HMAC-SHA-256 with `key` for an event
@@ -90,11 +79,11 @@ export interface LockedHead {
  * event. Refuses to write when this server's key is not the one that keyed the chain.
  */
 export async function lockHead(trx: Knex.Transaction): Promise<LockedHead> {
-  const head = await trx('audit_head').where({ id: 1 }).forUpdate().first();
+  const head = must(await trx('audit_head').where({ id: 1 }).forUpdate().first(), 'The audit head row');
   const k = auditKey();
-  const lastId = Number(head.last_id);
-  const lastHash: string = head.last_hash;
-  if (head.keyed_from === null || head.keyed_from === undefined) {
+  const lastId = head.last_id;
+  const lastHash = head.last_hash;
+  if (head.keyed_from === null) {
     const id = lastId + 1;
     const row: Omit<AuditRow, 'hash'> = {
       id,
@@ -121,7 +110,7 @@ export async function lockHead(trx: Knex.Transaction): Promise<LockedHead> {
       `This server's audit chain key (id ${k.keyId}) is not the key that keys the audit trail (id ${head.key_id}, ` +
         `from event ${head.keyed_from}); no audit event can be written until the right key is configured.`,
     );
-  return { lastId, lastHash, keyedFrom: Number(head.keyed_from), key: k.key };
+  return { lastId, lastHash, keyedFrom: head.keyed_from, key: k.key };
 }
 
 function toJson(v: unknown): string | null {

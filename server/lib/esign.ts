@@ -14,6 +14,8 @@ import { AppError } from './errors';
 import type { AuthUser } from './http';
 import { verifyPassword } from './passwords';
 import { markSigned } from './sessions';
+import { must } from './db';
+import type { ESignatureRow } from './db-tables';
 
 export interface SignRequest {
   user: AuthUser;
@@ -37,7 +39,8 @@ export function contentHash(content: unknown): string {
  * also ends its sessions. A correct password ends a run of failures.
  */
 export async function checkSignatureCredentials(db: Knex, r: Omit<SignRequest, 'content'>): Promise<void> {
-  const u = await db('app_user').where({ id: r.user.id }).first();
+  // the signer is signed in, so the account exists (accounts are never deleted)
+  const u = must(await db('app_user').where({ id: r.user.id }).first(), `Account ${r.user.id}`);
   const refused = (reason: string) =>
     auditNow(db, {
       actor: { id: r.user.id, name: r.user.fullName },
@@ -57,7 +60,7 @@ export async function checkSignatureCredentials(db: Knex, r: Omit<SignRequest, '
     );
   }
   const needsUsername = !r.user.signedOnce;
-  if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== String(u.username).toLowerCase()) {
+  if (needsUsername && (r.credentials.username ?? '').trim().toLowerCase() !== u.username.toLowerCase()) {
     const problem = 'The first signature of a session needs your user name and password.';
     await refused(problem);
     throw new AppError(401, 'SIGNATURE_REFUSED', problem, { needsUsername });
@@ -127,14 +130,15 @@ export async function signaturesFor(
   return rows.map(toSignatureRecord);
 }
 
-export function toSignatureRecord(s: Record<string, unknown>): SignatureRecord {
+/** A signature row (or the same columns read through a join) as the contract's record. */
+export function toSignatureRecord(s: Omit<ESignatureRow, 'entity_type' | 'entity_id'>): SignatureRecord {
   return {
-    id: Number(s.id),
-    userId: Number(s.user_id),
-    printedName: String(s.printed_name),
-    meaning: String(s.meaning),
-    signedAt: new Date(s.signed_at as string).toISOString(),
-    contentHash: String(s.content_hash),
-    statement: (s.statement as string | null) ?? null,
+    id: s.id,
+    userId: s.user_id,
+    printedName: s.printed_name,
+    meaning: s.meaning,
+    signedAt: new Date(s.signed_at).toISOString(),
+    contentHash: s.content_hash,
+    statement: s.statement ?? null,
   };
 }

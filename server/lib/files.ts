@@ -5,20 +5,12 @@
 import type { Response } from 'express';
 import type { Db } from './db';
 import { sha256Hex } from './canonical';
+import type { StoredFileRow } from './db-tables';
 
 export interface UploadedFile {
   originalname: string;
   mimetype?: string;
   buffer: Buffer;
-}
-
-export interface StoredFileRow {
-  id: number;
-  sha256: string;
-  file_name: string;
-  media_type: string;
-  size: number;
-  data: Buffer;
 }
 
 /**

@@ -7,7 +7,7 @@ import type { Knex } from 'knex';
 import { appendAudit } from './audit';
 import type { Db } from './db';
 import { AppError, notFound } from './errors';
-import type { AcquisitionState } from '../modules/intake/contract';
+import { ACQUISITION_STATE_LABELS, type AcquisitionState } from '../modules/intake/contract';
 
 /** The actor name of what the folder watcher does on its own. */
 export const FOLDER_WATCHER = 'export-folder watcher';
@@ -39,7 +39,12 @@ export async function acquisitionState(db: Db, acquisitionId: number): Promise<A
     .where({ acquisition_id: acquisitionId })
     .orderBy('id', 'desc')
     .first('event');
-  return (e?.event as AcquisitionState | undefined) ?? 'received';
+  return e && isAcquisitionState(e.event) ? e.event : 'received';
+}
+
+/** Whether a stored event names a state (recordFolderEvent writes only states). */
+function isAcquisitionState(event: string): event is AcquisitionState {
+  return Object.hasOwn(ACQUISITION_STATE_LABELS, event);
 }
 
 /**
@@ -106,5 +111,5 @@ export async function recordFolderEvent(
     reason: e.reason ?? null,
     ip: e.ip ?? null,
   });
-  return id as number;
+  return id;
 }

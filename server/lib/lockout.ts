@@ -11,6 +11,7 @@ import type { Knex } from 'knex';
 import { appendAudit } from './audit';
 import { enqueueMailToRole } from './mail';
 import { invalidateUserSessions } from './sessions';
+import { must } from './db';
 
 export interface LockoutPolicy {
   /** consecutive failures that lock the account */
@@ -68,14 +69,15 @@ export async function recordCredentialFailure(
   f: FailureInput,
 ): Promise<{ locked: boolean; attempts: number }> {
   return transactionWithRetry(db, async (trx) => {
-    const row = await trx('app_user').where({ id: f.userId }).forUpdate().first();
-    const attempts = Number(row.failed_attempts) + 1;
+    // the caller has just read this account to check its password
+    const row = must(await trx('app_user').where({ id: f.userId }).forUpdate().first(), `Account ${f.userId}`);
+    const attempts = row.failed_attempts + 1;
     const lock = attempts >= policy.attempts;
     const lockedUntil = lock ? new Date(Date.now() + policy.minutes * 60_000) : null;
     await trx('app_user')
       .where({ id: f.userId })
       .update({ failed_attempts: lock ? 0 : attempts, locked_until: lockedUntil, updated_at: new Date() });
-    const actor = { id: row.id as number, name: String(row.full_name) };
+    const actor = { id: row.id, name: row.full_name };
     await appendAudit(trx, {
       actor,
       action: FAILED_ACTION[f.check],

@@ -9,6 +9,7 @@ import type { Knex } from 'knex';
 import nodemailer, { type Transporter } from 'nodemailer';
 import type { AppConfig } from './config';
 import { parseJson } from './db';
+import type { MailOutboxRow } from './db-tables';
 import type { Role } from './contract';
 import { startFakeSmtp } from './fake-smtp';
 import { PROCESS_ID, startJob, type RunningJob } from './lease';
@@ -102,7 +103,9 @@ export function sendingTimeoutMs(): number {
  */
 export async function requeueStale(db: Knex, timeoutMs = sendingTimeoutMs()): Promise<number> {
   const before = new Date(Date.now() - timeoutMs);
-  return db('mail_outbox')
+  // typed by the row rather than the table entry: the table's update type takes no raw SQL, and
+  // the new status must be computed from the attempts before this update in the same statement
+  return db<MailOutboxRow>('mail_outbox')
     .where({ status: 'sending' })
     .andWhere((q) => q.where('claimed_at', '<', before).orWhereNull('claimed_at'))
     .update({

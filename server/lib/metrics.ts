@@ -58,11 +58,11 @@ new client.Gauge({
   async collect() {
     this.reset();
     if (!dbForGauges) return;
-    const rows = (await dbForGauges('mail_outbox')
+    const rows = await dbForGauges('mail_outbox')
       .whereIn('status', ['queued', 'sending', 'failed'])
       .groupBy('status')
       .select('status')
-      .count({ n: '*' })) as { status: string; n: number | string }[];
+      .count({ n: '*' });
     for (const s of ['queued', 'sending', 'failed']) this.set({ status: s }, 0);
     for (const r of rows) this.set({ status: r.status }, Number(r.n));
   },
@@ -74,11 +74,11 @@ new client.Gauge({
   registers: [registry],
   async collect() {
     if (!dbForGauges) return;
-    const row = (await dbForGauges('lot')
+    const row = await dbForGauges('lot')
       .where({ identity_status: 'passed' })
       .whereNull('certificate_id')
       .count({ n: '*' })
-      .first()) as { n: number | string } | undefined;
+      .first();
     this.set(Number(row?.n ?? 0));
   },
 });

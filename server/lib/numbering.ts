@@ -25,14 +25,17 @@ export async function insertWithNextNumber<R extends object>(
   trx: Knex.Transaction,
   spec: NumberedInsert<R>,
 ): Promise<{ id: number; number: string }> {
-  const r = await trx(spec.table).where(spec.column, 'like', `${spec.prefix}%`).max(`${spec.column} as n`).first();
-  const last = (r?.n as string | null) ?? null;
+  const r: { n: string | null } | undefined = await trx(spec.table)
+    .where(spec.column, 'like', `${spec.prefix}%`)
+    .max(spec.column, { as: 'n' })
+    .first();
+  const last = r?.n ?? null;
   let seq = last ? Number(last.slice(spec.prefix.length)) + 1 : 1;
   for (let tries = 0; tries < 50; tries++, seq++) {
     const number = spec.prefix + String(seq).padStart(spec.width, '0');
     try {
       const [id] = await trx(spec.table).insert(spec.row(number));
-      return { id: id as number, number };
+      return { id, number };
     } catch (e) {
       if ((e as { code?: string }).code !== 'ER_DUP_ENTRY') throw e;
       // another unique key of the row (e.g. an ERP receipt number) is not a number collision

@@ -7,17 +7,9 @@
 import { sha256 } from '@oslojs/crypto/sha2';
 import { encodeBase32LowerCaseNoPadding, encodeHexLowerCase } from '@oslojs/encoding';
 import type { Knex } from 'knex';
+import type { UserSessionRow } from './db-tables';
 
 export const SESSION_COOKIE = 'drumline_session';
-
-export interface SessionRow {
-  id: string;
-  user_id: number;
-  created_at: Date;
-  last_seen_at: Date;
-  expires_at: Date;
-  signed_once: number | boolean;
-}
 
 export function generateSessionToken(): string {
   const bytes = new Uint8Array(20);
@@ -51,9 +43,9 @@ export async function createSession(
 }
 
 /** Returns the live session for a token and refreshes its idle timer, or null. */
-export async function validateSession(db: Knex, token: string, idleMinutes: number): Promise<SessionRow | null> {
+export async function validateSession(db: Knex, token: string, idleMinutes: number): Promise<UserSessionRow | null> {
   const id = sessionIdFromToken(token);
-  const s: SessionRow | undefined = await db('user_session').where({ id }).first();
+  const s = await db('user_session').where({ id }).first();
   if (!s) return null;
   const now = Date.now();
   const idleLimit = new Date(s.last_seen_at).getTime() + idleMinutes * 60_000;

@@ -138,8 +138,9 @@ export async function tableFacts(
   return k.transaction(async (trx) => {
     const tables: Record<string, TableFacts> = {};
     for (const t of names) {
-      const c = (await trx(t).count({ n: '*' }).first()) as { n: number | string };
-      tables[t] = { rows: Number(c.n), checksum: null };
+      // COUNT(*) always answers one row
+      const c = await trx(t).count({ n: '*' }).first();
+      tables[t] = { rows: Number(c?.n ?? 0), checksum: null };
     }
     const head = await trx('audit_head').where({ id: 1 }).first();
     // CHECKSUM TABLE reads outside the snapshot; it is compared only when the counts show no writes.
@@ -203,7 +204,7 @@ export async function backup(opts: BackupOptions = {}): Promise<{ folder: string
     );
     const after = await tableFacts(k, s.database);
     const [[v]] = (await k.raw('SELECT VERSION() AS v')) as [{ v: string }[]];
-    const migrationRows = (await k('knex_migrations').orderBy('id').select('name')) as { name: string }[];
+    const migrationRows: { name: string }[] = await k('knex_migrations').orderBy('id').select('name');
     const finished = new Date();
     const manifest: BackupManifest = {
       format: 'drumline-backup/1',
@@ -302,7 +303,8 @@ export async function restore(opts: RestoreOptions): Promise<RestoreReport> {
   try {
     await applyRuntimeGrants(k, database);
     const problems: string[] = [];
-    const names = ((await k('knex_migrations').orderBy('id').select('name')) as { name: string }[]).map((r) => r.name);
+    const migrationNames: { name: string }[] = await k('knex_migrations').orderBy('id').select('name');
+    const names = migrationNames.map((r) => r.name);
     if (JSON.stringify(names) !== JSON.stringify(manifest.migrations))
       problems.push('migrations differ from the backup');
     const known = migrations.map(([n]) => n);

@@ -10,6 +10,7 @@ import { verifyChain } from '../lib/audit';
 import { verifyPdfSignature } from '../lib/signing';
 import { trustedTsaRoots } from '../modules/certificates/config';
 import type { ChainReport } from '../lib/contract';
+import { must } from '../lib/db';
 
 export interface RecordCheck {
   chain: ChainReport;
@@ -22,10 +23,12 @@ const sha = (b: Buffer) => crypto.createHash('sha256').update(b).digest('hex');
 
 export async function checkCertificates(db: Knex): Promise<{ checked: number; problems: string[] }> {
   const problems: string[] = [];
-  const ids = (await db('certificate').orderBy('id').select('id')) as { id: number }[];
+  const ids = await db('certificate').orderBy('id').select('id');
   for (const { id } of ids) {
-    const c = await db('certificate').where({ id }).first('number', 'sha256', 'size', 'pdf', 'signer_fingerprint');
-    const pdf = c.pdf as Buffer;
+    // listed just above; certificates are never deleted
+    const row = await db('certificate').where({ id }).first('number', 'sha256', 'size', 'pdf', 'signer_fingerprint');
+    const c = must(row, `Certificate ${id}`);
+    const pdf = c.pdf;
     if (sha(pdf) !== c.sha256) problems.push(`${c.number}: bytes do not match the recorded SHA-256`);
     if (pdf.length !== Number(c.size)) problems.push(`${c.number}: size differs from the recorded size`);
     const s = verifyPdfSignature(pdf, { tsaTrustedPem: trustedTsaRoots() });
@@ -40,11 +43,11 @@ export async function checkStoredFiles(db: Knex, afterId = 0): Promise<{ checked
   let last = afterId;
   let checked = 0;
   for (;;) {
-    const rows = (await db('stored_file')
+    const rows = await db('stored_file')
       .where('id', '>', last)
       .orderBy('id')
       .limit(200)
-      .select('id', 'sha256', 'size', 'data')) as { id: number; sha256: string; size: number; data: Buffer }[];
+      .select('id', 'sha256', 'size', 'data');
     if (!rows.length) break;
     for (const r of rows) {
       if (sha(r.data) !== r.sha256) problems.push(`stored file ${r.id}: bytes do not match the recorded SHA-256`);
@@ -58,7 +61,8 @@ export async function checkStoredFiles(db: Knex, afterId = 0): Promise<{ checked
 
 /** Numbers PREFIX-YYYY-NNNNN of one table: none twice, and per year 1..max with no gap. */
 export async function checkNumbers(db: Knex, table: string, column: string): Promise<string[]> {
-  const rows = (await db(table).select(column)) as Record<string, string>[];
+  // the table is named at run time, so its rows are untyped: each holds the text column asked for
+  const rows: Record<string, string>[] = await db(table).select(column);
   const problems: string[] = [];
   const byYear = new Map<string, number[]>();
   for (const r of rows) {

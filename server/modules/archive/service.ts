@@ -14,7 +14,8 @@ import type { Response } from 'express';
 import { ZipArchive } from 'archiver';
 import type { Knex } from 'knex';
 import { auditNow, type Actor, type AuditRow } from '../../lib/audit';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
+import type { IdentityTestRow, MeasurementRow, StoredFileRow } from '../../lib/db-tables';
 import { notFound, unprocessable } from '../../lib/errors';
 import { renderPdf, type Content, type TableCell } from '../../lib/pdf';
 import { readSpectrumOff } from '../../workers/pool';
@@ -24,13 +25,14 @@ import type { ArchiveManifest, LotFacts } from './contract';
 
 const sha256 = (b: Buffer | string) => crypto.createHash('sha256').update(b).digest('hex');
 
-interface FileRow {
-  id: number;
-  sha256: string;
-  file_name: string;
-  size: number;
-  data: Buffer;
-  uploaded_at: Date;
+type FileRow = Pick<StoredFileRow, 'id' | 'sha256' | 'file_name' | 'size' | 'data' | 'uploaded_at'>;
+
+/** A measurement with its raw file's SHA-256, name and size (the join of gather). */
+type MeasurementWithFile = MeasurementRow & Pick<StoredFileRow, 'sha256' | 'file_name' | 'size'>;
+
+/** The stored file a record names (file_id is a foreign key into the append-only stored_file). */
+async function storedFile(db: Knex, id: number): Promise<FileRow> {
+  return must(await db('stored_file').where({ id }).first(), `Stored file ${id}`);
 }
 
 /** Safe file name part: letters, digits, dot, dash, underscore. */
@@ -67,7 +69,7 @@ async function instrumentOf(db: Knex, id: number | null): Promise<{ name: string
   if (!id) return null;
   const i = await db('instrument').where({ id }).first();
   if (!i) return null;
-  return { name: String(i.name), sampling: (i.sampling ?? i.technique ?? null) as string | null };
+  return { name: i.name, sampling: i.sampling ?? i.technique ?? null };
 }
 
 export async function measurementJcamp(
@@ -77,7 +79,7 @@ export async function measurementJcamp(
 ): Promise<{ name: string; text: string }> {
   const m = await db('measurement').where({ id }).first();
   if (!m) throw notFound('The measurement');
-  const f = (await db('stored_file').where({ id: m.file_id }).first()) as FileRow;
+  const f = await storedFile(db, m.file_id);
   const c = await db('container').where({ id: m.container_id }).first();
   const inst = await instrumentOf(db, m.instrument_id);
   const text = await jcampOfFile(f, {
@@ -100,7 +102,7 @@ export async function measurementJcamp(
 export async function referenceJcamp(db: Knex, id: number, siteName: string): Promise<{ name: string; text: string }> {
   const r = await db('reference_spectrum').where({ id }).first();
   if (!r) throw notFound('The reference spectrum');
-  const f = (await db('stored_file').where({ id: r.file_id }).first()) as FileRow;
+  const f = await storedFile(db, r.file_id);
   const inst = await instrumentOf(db, r.instrument_id);
   const text = await jcampOfFile(f, {
     title: `Reference ${r.code}`,
@@ -116,8 +118,8 @@ export async function referenceJcamp(db: Knex, id: number, siteName: string): Pr
 async function reviewPdf(
   db: Knex,
   lot: { lot_number: string; material: string },
-  t: Record<string, unknown>,
-  ms: Record<string, unknown>[],
+  t: IdentityTestRow,
+  ms: MeasurementWithFile[],
   labels: Map<number, string>,
 ): Promise<Buffer> {
   const sigs = await db('e_signature')
@@ -159,7 +161,8 @@ async function reviewPdf(
 async function gather(db: Knex, lotId: number, siteName: string) {
   const lot = await db('lot').where({ id: lotId }).first();
   if (!lot) throw notFound('The lot');
-  const material = await db('material').where({ id: lot.material_id }).first();
+  // material_id is a foreign key
+  const material = must(await db('material').where({ id: lot.material_id }).first(), `Material ${lot.material_id}`);
   const containers = await db('container').where({ lot_id: lotId }).orderBy('seq');
   const labels = new Map<number, string>(containers.map((c) => [Number(c.id), String(c.label)]));
   const tests = await db('identity_test').where({ lot_id: lotId }).orderBy('id');
@@ -169,7 +172,7 @@ async function gather(db: Knex, lotId: number, siteName: string) {
         .join('stored_file as f', 'f.id', 'm.file_id')
         .whereIn('m.test_id', testIds)
         .orderBy('m.id')
-        .select('m.*', 'f.sha256', 'f.file_name', 'f.size')
+        .select<MeasurementWithFile[]>('m.*', 'f.sha256', 'f.file_name', 'f.size')
     : [];
   const certificates = await db('certificate').where({ lot_id: lotId }).orderBy('id');
   const investigations = await db('investigation').where({ lot_id: lotId }).orderBy('id');
@@ -240,7 +243,7 @@ async function gather(db: Knex, lotId: number, siteName: string) {
   // Files: raw bytes, JCAMP-DX copies, certificates, reviews, audit CSV and JSON, facts.
   const files: { name: string; data: Buffer }[] = [];
   for (const m of measurements) {
-    const f = (await db('stored_file').where({ id: m.file_id }).first()) as FileRow;
+    const f = await storedFile(db, m.file_id);
     files.push({ name: `raw/${m.id}-${part(m.file_name)}`, data: f.data });
     try {
       const inst = await instrumentOf(db, m.instrument_id);
@@ -267,7 +270,7 @@ async function gather(db: Knex, lotId: number, siteName: string) {
       });
     }
   }
-  for (const c of certificates) files.push({ name: `certificates/${part(c.number)}.pdf`, data: c.pdf as Buffer });
+  for (const c of certificates) files.push({ name: `certificates/${part(c.number)}.pdf`, data: c.pdf });
   for (const t of tests) {
     const ms = measurements.filter((m) => Number(m.test_id) === Number(t.id));
     files.push({

@@ -12,7 +12,8 @@ import { formatSiteTime } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature, signaturesFor } from '../../lib/esign';
 import { notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
+import type { AuditReviewRow } from '../../lib/db-tables';
 import { startJob, type RunningJob } from '../../lib/lease';
 import { emailsOfRole, enqueueMail } from '../../lib/mail';
 import { renderPdf } from '../../lib/pdf';
@@ -107,24 +108,13 @@ export async function exceptionLists(db: Knex, from: string, to: string): Promis
   return { from, to, totalEvents: Number(total[0].n), lists };
 }
 
-interface ReviewRow {
-  id: number;
-  number: string;
-  period_from: Date | string;
-  period_to: Date | string;
-  scope: string;
-  exceptions: string;
-  findings: string;
-  actions: string;
-  reviewed_by: number;
-  reviewed_at: Date;
-  full_name?: string;
-}
+/** A review with its reviewer's name (the join of reviewQuery). */
+type ReviewWithReviewer = AuditReviewRow & { full_name: string };
 
 const dateOnly = (d: Date | string) => (typeof d === 'string' ? d.slice(0, 10) : d.toISOString().slice(0, 10));
 
 /** What the reviewer signs, rebuilt the same way from the stored row (integrity recipe). */
-export function reviewSignedContent(r: ReviewRow) {
+export function reviewSignedContent(r: AuditReviewRow) {
   return {
     review: r.number,
     from: dateOnly(r.period_from),
@@ -136,7 +126,7 @@ export function reviewSignedContent(r: ReviewRow) {
   };
 }
 
-async function toReview(db: Knex, r: ReviewRow): Promise<AuditReview> {
+async function toReview(db: Knex, r: ReviewWithReviewer): Promise<AuditReview> {
   return {
     id: r.id,
     number: r.number,
@@ -153,15 +143,17 @@ async function toReview(db: Knex, r: ReviewRow): Promise<AuditReview> {
 }
 
 const reviewQuery = (db: Knex) =>
-  db('audit_review as r').join('app_user as u', 'u.id', 'r.reviewed_by').select('r.*', 'u.full_name');
+  db('audit_review as r')
+    .join('app_user as u', 'u.id', 'r.reviewed_by')
+    .select<ReviewWithReviewer[]>('r.*', 'u.full_name');
 
 export async function listReviews(db: Knex): Promise<AuditReview[]> {
-  const rows: ReviewRow[] = await reviewQuery(db).orderBy('r.period_to', 'desc').orderBy('r.id', 'desc').limit(500);
+  const rows = await reviewQuery(db).orderBy('r.period_to', 'desc').orderBy('r.id', 'desc').limit(500);
   return Promise.all(rows.map((r) => toReview(db, r)));
 }
 
 export async function getReview(db: Knex, id: number): Promise<AuditReview> {
-  const r: ReviewRow | undefined = await reviewQuery(db).where('r.id', id).first();
+  const r = await reviewQuery(db).where('r.id', id).first();
   if (!r) throw notFound('The audit-trail review');
   return toReview(db, r);
 }
@@ -212,7 +204,8 @@ export async function recordReview(
         reviewed_at: now,
       }),
     });
-    const row: ReviewRow = await trx('audit_review').where({ id: created.id }).first();
+    const inserted = await trx('audit_review').where({ id: created.id }).first();
+    const row = must(inserted, `Audit-trail review ${created.id}, inserted in this transaction,`);
     await recordSignature(trx, {
       user,
       credentials: input.signature,

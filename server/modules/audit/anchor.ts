@@ -24,6 +24,7 @@ import { appendAudit, chainState, walkChain, SYSTEM_ACTOR, type Actor } from '..
 import { canonicalJson, sha256Hex } from '../../lib/canonical';
 import type { AppConfig } from '../../lib/config';
 import type { ChainCheckpointInfo, ChainReport, ChainRun } from '../../lib/contract';
+import type { AuditChainRunRow } from '../../lib/db-tables';
 import { notFound } from '../../lib/errors';
 import { startJob, type RunningJob } from '../../lib/lease';
 import { enqueueMailToRole } from '../../lib/mail';
@@ -280,18 +281,19 @@ export async function fullCheck(
 
 // ---- the full check as a background run
 
-function toRun(r: Record<string, unknown>): ChainRun {
-  const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
+function toRun(r: AuditChainRunRow): ChainRun {
+  const iso = (v: Date | null) => (v ? new Date(v).toISOString() : null);
   return {
-    id: Number(r.id),
+    id: r.id,
+    // a text column holding the contract's values (this module writes only those)
     status: r.status as ChainRun['status'],
-    requestedAt: iso(r.requested_at)!,
+    requestedAt: new Date(r.requested_at).toISOString(),
     startedAt: iso(r.started_at),
     finishedAt: iso(r.finished_at),
-    total: Number(r.total),
-    checked: Number(r.checked),
-    result: r.result ? (JSON.parse(r.result as string) as ChainReport) : null,
-    error: (r.error as string | null) ?? null,
+    total: r.total,
+    checked: r.checked,
+    result: r.result ? (JSON.parse(r.result) as ChainReport) : null,
+    error: r.error ?? null,
   };
 }
 
@@ -315,10 +317,10 @@ export async function requestFullCheck(db: Knex, user: AuthUser, ip: string | nu
       actor: { id: user.id, name: user.fullName },
       action: 'audit.chain-check-requested',
       entityType: 'audit_chain_run',
-      entityId: Number(id),
+      entityId: id,
       ip,
     });
-    return Number(id);
+    return id;
   });
   return getChainRun(db, id);
 }

@@ -124,7 +124,7 @@ export interface ListResult {
  */
 export async function listPage(db: Db, f: Partial<AuditFilter>, o: FilterOptions, p: PageRequest): Promise<ListResult> {
   const edge = f.q ? await windowEdge(db, f, o, p, TEXT_WINDOW) : null;
-  const raw = await pageQuery(db, f, o, { ...p, edge }, SUMMARY_COLUMNS as unknown as string[]);
+  const raw = await pageQuery(db, f, o, { ...p, edge }, SUMMARY_COLUMNS);
   const more = raw.length > p.limit;
   const kept = more ? raw.slice(0, p.limit) : raw;
   const names = await namesFor(
@@ -177,7 +177,7 @@ export async function pageQuery(
   f: Partial<AuditFilter>,
   o: FilterOptions,
   p: PageRequest,
-  columns: string[] | '*',
+  columns: readonly string[] | '*',
 ): Promise<AuditRow[]> {
   const qb = db('audit_event').select(columns === '*' ? '*' : columns);
   applyFilter(qb, f, o);
@@ -202,7 +202,7 @@ export async function countCapped(
   }
   const sub = applyFilter(db('audit_event').select(db.raw('1')), f, o).limit(cap + 1);
   const [row] = await db.from(sub.as('t')).count({ n: '*' });
-  const n = Number((row as { n: number | string }).n);
+  const n = Number(row.n);
   return n > cap ? { count: cap, exact: false } : { count: n, exact: true };
 }
 
@@ -244,19 +244,17 @@ export async function eventsOfRecord(db: Db, entityType: string, entityId: strin
 export async function facets(
   db: Db,
 ): Promise<{ actions: string[]; entityTypes: string[]; actors: { id: number; name: string }[] }> {
-  const actions = (await db('audit_event').distinct('action').orderBy('action')).map(
-    (r: { action: string }) => r.action,
-  );
+  const actions = (await db('audit_event').distinct('action').orderBy('action')).map((r) => r.action);
   const entityTypes = (await db('audit_event').distinct('entity_type').orderBy('entity_type')).map(
-    (r: { entity_type: string }) => r.entity_type,
+    (r) => r.entity_type,
   );
-  const ids = (await db('audit_event').distinct('actor_id').whereNotNull('actor_id')).map((r: { actor_id: number }) =>
-    Number(r.actor_id),
-  );
+  const ids = (await db('audit_event').distinct('actor_id').whereNotNull('actor_id'))
+    .map((r) => r.actor_id)
+    .filter((id): id is number => id !== null);
   const users = ids.length ? await db('app_user').select('id', 'full_name', 'username').whereIn('id', ids) : [];
   const actors = users
-    .map((u: { id: number; full_name: string; username: string }) => ({
-      id: Number(u.id),
+    .map((u) => ({
+      id: u.id,
       name: `${u.full_name} (${u.username})`,
     }))
     .sort((a, b) => a.name.localeCompare(b.name));

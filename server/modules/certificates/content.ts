@@ -132,7 +132,9 @@ export async function gatherContent(
           [...counting.values()].map((x) => x.m.id),
         )
         .select('measurement_id')
-    ).map((r) => r.measurement_id as number),
+    )
+      .map((r) => r.measurement_id)
+      .filter((id): id is number => id !== null),
   );
   const containerLines: ContainerLine[] = containers.map((c) => {
     const { m, t } = counting.get(c.id)!;

@@ -16,6 +16,7 @@
 import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import type { AppConfig } from '../../lib/config';
+import { must } from '../../lib/db';
 import { conflict, notFound } from '../../lib/errors';
 import type { SignatureInput } from '../../lib/contract';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
@@ -128,7 +129,10 @@ export async function issueCertificate(
     });
   } catch (e) {
     if (e instanceof AlreadyIssued)
-      return { ...toMeta((await repo.findListRow(db, e.certificateId))!), created: false };
+      return {
+        ...toMeta(must(await repo.findListRow(db, e.certificateId), `Certificate ${e.certificateId}`)),
+        created: false,
+      };
     throw e;
   }
 
@@ -153,7 +157,10 @@ export async function issueCertificate(
     return { ...toMeta(row!), created: true };
   } catch (e) {
     if (e instanceof AlreadyIssued)
-      return { ...toMeta((await repo.findListRow(db, e.certificateId))!), created: false };
+      return {
+        ...toMeta(must(await repo.findListRow(db, e.certificateId), `Certificate ${e.certificateId}`)),
+        created: false,
+      };
     await recordFailure(db, reservation, input.actor, e);
     throw e;
   }

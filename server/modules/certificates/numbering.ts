@@ -11,6 +11,8 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { conflict, notFound } from '../../lib/errors';
 import { formatSiteDate } from '../../lib/contract';
 import { transactionWithRetry } from '../../lib/retry';
+import { must } from '../../lib/db';
+import type { CertificateNumberRow } from '../../lib/db-tables';
 import * as repo from './repo';
 
 /** Certificate number IC-YYYY-NNNNN (year in the site's time zone). */
@@ -31,21 +33,17 @@ export interface Reservation {
   reservedAt: Date;
 }
 
-interface ReservationRow {
-  id: number;
-  number: string;
-  lot_id: number;
-  test_id: number;
-  supersedes_id: number | null;
-  reserved_at: Date;
-}
+type ReservationRow = Pick<
+  CertificateNumberRow,
+  'id' | 'number' | 'lot_id' | 'test_id' | 'supersedes_id' | 'reserved_at'
+>;
 
 const toReservation = (r: ReservationRow): Reservation => ({
-  id: Number(r.id),
+  id: r.id,
   number: r.number,
-  lotId: Number(r.lot_id),
-  testId: Number(r.test_id),
-  supersedesId: r.supersedes_id === null ? null : Number(r.supersedes_id),
+  lotId: r.lot_id,
+  testId: r.test_id,
+  supersedesId: r.supersedes_id,
   reservedAt: new Date(r.reserved_at),
 });
 
@@ -54,12 +52,12 @@ export function openReservationsQuery(db: Knex | Knex.Transaction) {
   return db('certificate_number as n')
     .leftJoin('certificate as c', 'c.number', 'n.number')
     .whereNull('c.id')
-    .select('n.id', 'n.number', 'n.lot_id', 'n.test_id', 'n.supersedes_id', 'n.reserved_at')
+    .select<ReservationRow[]>('n.id', 'n.number', 'n.lot_id', 'n.test_id', 'n.supersedes_id', 'n.reserved_at')
     .orderBy('n.id');
 }
 
 export async function openReservations(db: Knex): Promise<Reservation[]> {
-  return ((await openReservationsQuery(db)) as ReservationRow[]).map(toReservation);
+  return (await openReservationsQuery(db)).map(toReservation);
 }
 
 /** Thrown inside the reservation when the lot already has its certificate. */
@@ -83,13 +81,13 @@ export async function reserveNumber(
     if (!lot) throw notFound('The lot');
     if (lot.identity_status !== 'passed')
       throw conflict(`Lot ${lot.lot_number} has not passed identity (status: ${lot.identity_status}).`);
-    if (input.supersedesId === null && lot.certificate_id) throw new AlreadyIssued(Number(lot.certificate_id));
-    const open = (await openReservationsQuery(trx)
+    if (input.supersedesId === null && lot.certificate_id) throw new AlreadyIssued(lot.certificate_id);
+    const open = await openReservationsQuery(trx)
       .where('n.lot_id', input.lotId)
       .where((w) =>
         input.supersedesId === null ? w.whereNull('n.supersedes_id') : w.where('n.supersedes_id', input.supersedesId),
       )
-      .first()) as ReservationRow | undefined;
+      .first();
     if (open) return toReservation(open);
 
     const reservedAt = new Date();
@@ -98,8 +96,10 @@ export async function reserveNumber(
       'INSERT INTO certificate_counter (year, last_seq) VALUES (?, 1) ON DUPLICATE KEY UPDATE last_seq = last_seq + 1',
       [year],
     );
-    const { last_seq: seq } = await trx('certificate_counter').where({ year }).first('last_seq');
-    const number = formatNumber(year, Number(seq));
+    // the statement above has just written the year's counter row
+    const counter = await trx('certificate_counter').where({ year }).first('last_seq');
+    const seq = must(counter, `The certificate counter of ${year}`).last_seq;
+    const number = formatNumber(year, seq);
     const [id] = await trx('certificate_number').insert({
       number,
       year,

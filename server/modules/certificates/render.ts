@@ -20,7 +20,9 @@ import * as repo from './repo';
 
 /** The overlay figure of the container with the lowest match score against its best reference. */
 async function buildOverlay(db: Knex, content: CertificateContent): Promise<DocumentExtras> {
-  const scored = content.containers.filter((c) => c.bestReferenceId !== null);
+  const scored = content.containers.filter(
+    (c): c is (typeof content.containers)[number] & { bestReferenceId: number } => c.bestReferenceId !== null,
+  );
   if (scored.length === 0)
     return { overlaySvg: null, overlayCaption: 'No reference is recorded with the results; no overlay is drawn.' };
   const worst = scored.reduce((a, b) => ((b.matchScore ?? 2) < (a.matchScore ?? 2) ? b : a));
@@ -30,10 +32,12 @@ async function buildOverlay(db: Knex, content: CertificateContent): Promise<Docu
       .where({ id: worst.measurementId })
       .select('file_id', 'method_id')
       .first();
+    if (!measurement) throw new Error('the measurement is missing');
     const methodRow = await db('identity_method').where({ id: measurement.method_id }).select('params').first();
     const method = parseJson<IdentityMethod | null>(methodRow?.params, null);
     if (!method || validateMethod(method).length) throw new Error('the stored method parameters cannot be read');
     const refRow = await db('reference_spectrum').where({ id: worst.bestReferenceId }).select('file_id').first();
+    if (!refRow) throw new Error('the reference is missing');
     const [sf, rf] = await Promise.all([repo.fileBytes(db, measurement.file_id), repo.fileBytes(db, refRow.file_id)]);
     if (!sf || !rf) throw new Error('a raw file is missing');
     const sample = prepare(await readSpectrumOff(sf.data, sf.file_name), method);

@@ -5,25 +5,13 @@
  * certificate module depends on the schema only, not on other modules' code. Certificates
  * themselves are only ever inserted (the table is append-only).
  */
+import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
+import type * as tables from '../../lib/db-tables';
 
-export interface CertificateRow {
-  id: number;
-  number: string;
-  lot_id: number;
-  test_id: number;
-  supersedes_id: number | null;
-  sha256: string;
-  size: number;
-  pdf?: Buffer;
-  signer_fingerprint: string;
-  issued_by: number | null;
-  issued_at: Date;
-  content: string | null;
-  supersede_reason: string | null;
-  supersede_signature_id: number | null;
-}
+/** A certificate without its PDF bytes (META_COLUMNS). */
+export type CertificateRow = Omit<tables.CertificateRow, 'pdf'>;
 
 /** Every column except the PDF bytes. */
 export const META_COLUMNS = [
@@ -42,7 +30,8 @@ export const META_COLUMNS = [
   'c.supersede_signature_id',
 ];
 
-export interface CertificateListRow extends CertificateRow {
+/** A certificate with its lot, material, neighbours in the supersession chain and issuer (listQuery). */
+export type CertificateListRow = CertificateRow & {
   lot_number: string;
   material_id: number;
   material_code: string;
@@ -51,7 +40,7 @@ export interface CertificateListRow extends CertificateRow {
   superseded_by_number: string | null;
   supersedes_number: string | null;
   issued_by_name: string | null;
-}
+};
 
 function listQuery(db: Db) {
   return db('certificate as c')
@@ -60,7 +49,7 @@ function listQuery(db: Db) {
     .leftJoin('certificate as n', 'n.supersedes_id', 'c.id')
     .leftJoin('certificate as o', 'o.id', 'c.supersedes_id')
     .leftJoin('app_user as u', 'u.id', 'c.issued_by')
-    .select(
+    .select<CertificateListRow[]>(
       ...META_COLUMNS,
       'l.lot_number',
       'l.material_id',
@@ -85,7 +74,7 @@ export interface ListFilter {
 }
 
 export async function listCertificates(db: Db, f: ListFilter): Promise<{ rows: CertificateListRow[]; total: number }> {
-  const where = (q: ReturnType<typeof listQuery>) => {
+  const where = <Q extends Knex.QueryBuilder>(q: Q): Q => {
     if (f.lotId) q.where('c.lot_id', f.lotId);
     if (f.lot) q.where('l.lot_number', 'like', `%${escapeLike(f.lot)}%`);
     if (f.number) q.where('c.number', 'like', `%${escapeLike(f.number)}%`);
@@ -99,16 +88,16 @@ export async function listCertificates(db: Db, f: ListFilter): Promise<{ rows: C
     if (f.to) q.where('c.issued_at', '<', f.to);
     return q;
   };
-  const rows = (await where(listQuery(db))
+  const rows = await where(listQuery(db))
     .orderBy('c.issued_at', 'desc')
     .orderBy('c.id', 'desc')
     .limit(f.limit)
-    .offset(f.offset)) as CertificateListRow[];
+    .offset(f.offset);
   const countQ = db('certificate as c')
     .join('lot as l', 'l.id', 'c.lot_id')
     .join('material as m', 'm.id', 'l.material_id')
     .count({ n: '*' });
-  const [{ n }] = (await where(countQ as unknown as ReturnType<typeof listQuery>)) as unknown as { n: number }[];
+  const [{ n }] = await where(countQ);
   return { rows, total: Number(n) };
 }
 
@@ -117,20 +106,20 @@ function escapeLike(s: string): string {
 }
 
 export async function findListRow(db: Db, id: number): Promise<CertificateListRow | undefined> {
-  return (await listQuery(db).where('c.id', id).first()) as CertificateListRow | undefined;
+  return listQuery(db).where('c.id', id).first();
 }
 
 export async function findByNumber(db: Db, number: string): Promise<CertificateListRow | undefined> {
-  return (await listQuery(db).where('c.number', number).first()) as CertificateListRow | undefined;
+  return listQuery(db).where('c.number', number).first();
 }
 
 export async function findIdsBySha(db: Db, sha: string): Promise<number[]> {
-  return (await db('certificate').where({ sha256: sha }).select('id').orderBy('id')).map((r: { id: number }) => r.id);
+  return (await db('certificate').where({ sha256: sha }).select('id').orderBy('id')).map((r) => r.id);
 }
 
 export async function pdfBytes(db: Db, id: number): Promise<Buffer | undefined> {
   const r = await db('certificate').where({ id }).select('pdf').first();
-  return r?.pdf as Buffer | undefined;
+  return r?.pdf;
 }
 
 /** Highest sequence used in a year, from numbers IC-YYYY-NNNNN. */
@@ -145,69 +134,51 @@ export async function lastSequence(db: Db, year: number): Promise<number> {
   return m ? Number(m[1]) : 0;
 }
 
-export async function insertCertificate(db: Db, row: Omit<CertificateRow, 'id'>): Promise<number> {
+export async function insertCertificate(db: Db, row: tables.CertificateInsert): Promise<number> {
   const [id] = await db('certificate').insert(row);
-  return Number(id);
+  return id;
 }
 
 // ---------------------------------------------------------------------------------------------
 // Content gathering (read-only)
 // ---------------------------------------------------------------------------------------------
 
-export interface LotRow {
-  id: number;
-  lot_number: string;
-  material_id: number;
-  supplier: string;
-  supplier_lot: string;
-  container_count: number;
-  received_date: Date | string;
-  status: string;
-  identity_status: string;
-  certificate_id: number | null;
-  sampling_plan: 'every-container' | 'sqrt-n-plus-1' | null;
-  updated_at: Date;
+export type LotRow = tables.LotRow;
+
+export async function findLot(db: Db, id: number): Promise<LotRow | undefined> {
+  return db('lot').where({ id }).first();
 }
 
-export const findLot = (db: Db, id: number): Promise<LotRow | undefined> => db('lot').where({ id }).first();
-
-export const lockLot = (db: Db, id: number): Promise<LotRow | undefined> => db('lot').where({ id }).forUpdate().first();
+export async function lockLot(db: Db, id: number): Promise<LotRow | undefined> {
+  return db('lot').where({ id }).forUpdate().first();
+}
 
 export async function setLotCertificate(db: Db, lotId: number, certificateId: number): Promise<void> {
   await db('lot').where({ id: lotId }).update({ certificate_id: certificateId, updated_at: new Date() });
 }
 
-export interface MaterialRow {
-  id: number;
-  code: string;
-  name: string;
-  grade: string;
-  monograph_ref: string;
-}
+export type MaterialRow = Pick<tables.MaterialRow, 'id' | 'code' | 'name' | 'grade' | 'monograph_ref'>;
 
 export const findMaterial = (db: Db, id: number): Promise<MaterialRow | undefined> =>
   db('material').where({ id }).select('id', 'code', 'name', 'grade', 'monograph_ref').first();
 
-export interface ContainerRow {
-  id: number;
-  seq: number;
-  label: string;
-}
+export type ContainerRow = Pick<tables.ContainerRow, 'id' | 'seq' | 'label'>;
 
 export const containersOf = (db: Db, lotId: number): Promise<ContainerRow[]> =>
   db('container').where({ lot_id: lotId }).select('id', 'seq', 'label').orderBy('seq');
 
-export interface TestRow {
-  id: number;
-  lot_id: number;
-  attempt: number;
-  status: string;
-  method_id: number;
-  instrument_id: number | null;
-  performed_signature_id: number | null;
-  verified_signature_id: number | null;
-  retest_of_investigation_id: number | null;
-}
+export type TestRow = Pick<
+  tables.IdentityTestRow,
+  | 'id'
+  | 'lot_id'
+  | 'attempt'
+  | 'status'
+  | 'method_id'
+  | 'instrument_id'
+  | 'performed_signature_id'
+  | 'verified_signature_id'
+  | 'retest_of_investigation_id'
+>;
 
 export const testsOf = (db: Db, lotId: number): Promise<TestRow[]> =>
   db('identity_test')
@@ -233,29 +204,30 @@ export async function retestScope(db: Db, investigationId: number): Promise<numb
   return Array.isArray(ids) ? ids.map(Number) : null;
 }
 
-export interface MeasurementRow {
-  id: number;
-  test_id: number;
-  container_id: number;
-  file_id: number;
-  instrument_id: number;
-  instrument_check_id: number;
-  method_id: number;
-  reference_ids: string;
-  verdict: string;
-  match_score: number | null;
-  result: string;
-  engine_version: string;
-  created_at: Date;
-  file_sha256: string;
-  file_name: string;
-}
+/** A measurement with the SHA-256 and name of its file. */
+export type MeasurementRow = Pick<
+  tables.MeasurementRow,
+  | 'id'
+  | 'test_id'
+  | 'container_id'
+  | 'file_id'
+  | 'instrument_id'
+  | 'instrument_check_id'
+  | 'method_id'
+  | 'reference_ids'
+  | 'verdict'
+  | 'match_score'
+  | 'result'
+  | 'engine_version'
+  | 'created_at'
+> &
+  Pick<tables.StoredFileRow, 'file_name'> & { file_sha256: string };
 
 export const measurementsOfTests = (db: Db, testIds: number[]): Promise<MeasurementRow[]> =>
   db('measurement as ms')
     .join('stored_file as f', 'f.id', 'ms.file_id')
     .whereIn('ms.test_id', testIds)
-    .select(
+    .select<MeasurementRow[]>(
       'ms.id',
       'ms.test_id',
       'ms.container_id',
@@ -274,16 +246,10 @@ export const measurementsOfTests = (db: Db, testIds: number[]): Promise<Measurem
     )
     .orderBy('ms.id');
 
-export interface MethodRow {
-  id: number;
-  material_id: number;
-  version: number;
-  status: string;
-  technique: string;
-  params: string;
-  approved_at: Date | null;
-  approved_signature_id: number | null;
-}
+export type MethodRow = Pick<
+  tables.IdentityMethodRow,
+  'id' | 'material_id' | 'version' | 'status' | 'technique' | 'params' | 'approved_at' | 'approved_signature_id'
+>;
 
 export const methodsByIds = (db: Db, ids: number[]): Promise<MethodRow[]> =>
   db('identity_method')
@@ -291,18 +257,19 @@ export const methodsByIds = (db: Db, ids: number[]): Promise<MethodRow[]> =>
     .select('id', 'material_id', 'version', 'status', 'technique', 'params', 'approved_at', 'approved_signature_id')
     .orderBy('id');
 
-export interface ReferenceRow {
-  id: number;
-  code: string;
-  material_id: number;
-  file_id: number;
-  status: string;
-  technique: string;
-  supplier: string;
-  supplier_lot: string;
-  approved_at: Date | null;
-  approved_signature_id: number | null;
-}
+export type ReferenceRow = Pick<
+  tables.ReferenceSpectrumRow,
+  | 'id'
+  | 'code'
+  | 'material_id'
+  | 'file_id'
+  | 'status'
+  | 'technique'
+  | 'supplier'
+  | 'supplier_lot'
+  | 'approved_at'
+  | 'approved_signature_id'
+>;
 
 export const referencesByIds = (db: Db, ids: number[]): Promise<ReferenceRow[]> =>
   db('reference_spectrum')
@@ -321,14 +288,10 @@ export const referencesByIds = (db: Db, ids: number[]): Promise<ReferenceRow[]> 
     )
     .orderBy('code');
 
-export interface InstrumentRow {
-  id: number;
-  name: string;
-  serial_number: string;
-  technique: string;
-  sampling: string;
-  location: string;
-}
+export type InstrumentRow = Pick<
+  tables.InstrumentRow,
+  'id' | 'name' | 'serial_number' | 'technique' | 'sampling' | 'location'
+>;
 
 export const instrumentsByIds = (db: Db, ids: number[]): Promise<InstrumentRow[]> =>
   db('instrument')
@@ -336,24 +299,18 @@ export const instrumentsByIds = (db: Db, ids: number[]): Promise<InstrumentRow[]
     .select('id', 'name', 'serial_number', 'technique', 'sampling', 'location')
     .orderBy('name');
 
-export interface CheckRow {
-  id: number;
-  instrument_id: number;
-  verdict: string;
-  performed_at: Date;
-  valid_until: Date | null;
-  signature_id: number | null;
-  performed_by_name: string | null;
-  spec_kind: string | null;
-  spec_version: number | null;
-}
+/** An instrument check with who performed it and its specification's kind and version (left joins). */
+export type CheckRow = Pick<
+  tables.InstrumentCheckRow,
+  'id' | 'instrument_id' | 'verdict' | 'performed_at' | 'valid_until' | 'signature_id'
+> & { performed_by_name: string | null; spec_kind: string | null; spec_version: number | null };
 
 export const checksByIds = (db: Db, ids: number[]): Promise<CheckRow[]> =>
   db('instrument_check as k')
     .leftJoin('app_user as u', 'u.id', 'k.performed_by')
     .leftJoin('instrument_check_spec as s', 's.id', 'k.spec_id')
     .whereIn('k.id', ids)
-    .select(
+    .select<CheckRow[]>(
       'k.id',
       'k.instrument_id',
       'k.verdict',
@@ -366,20 +323,14 @@ export const checksByIds = (db: Db, ids: number[]): Promise<CheckRow[]> =>
     )
     .orderBy('k.id');
 
-export interface SignatureRow {
-  id: number;
-  printed_name: string;
-  meaning: string;
-  signed_at: Date;
-  statement: string | null;
-}
+export type SignatureRow = Pick<tables.ESignatureRow, 'id' | 'printed_name' | 'meaning' | 'signed_at' | 'statement'>;
 
 export async function signaturesByIds(db: Db, ids: number[]): Promise<Map<number, SignatureRow>> {
   if (ids.length === 0) return new Map();
-  const rows: SignatureRow[] = await db('e_signature')
+  const rows = await db('e_signature')
     .whereIn('id', ids)
     .select('id', 'printed_name', 'meaning', 'signed_at', 'statement');
-  return new Map(rows.map((r) => [Number(r.id), r]));
+  return new Map(rows.map((r) => [r.id, r]));
 }
 
 export async function fileBytes(db: Db, id: number): Promise<{ data: Buffer; file_name: string } | undefined> {

@@ -6,6 +6,7 @@ import type { Knex } from 'knex';
 import { auditNow, type Actor } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
 import { unprocessable } from '../../lib/errors';
+import { must } from '../../lib/db';
 import type { PdfSignatureCheck } from '../../lib/contract';
 import { verifyPdfSignature } from '../../lib/signing';
 import { trustedTsaRoots } from './config';
@@ -148,7 +149,7 @@ export async function verifyByNumber(
   let r: VerificationReport;
   if (!row) r = report('number', null, undefined, null, null);
   else {
-    const bytes = (await repo.pdfBytes(db, Number(row.id)))!;
+    const bytes = must(await repo.pdfBytes(db, row.id), `The PDF of certificate ${row.number}`);
     const sha = sha256Hex(bytes);
     r = report('number', sha, row, sha === row.sha256, verifyPdfSignature(bytes, { tsaTrustedPem: trustedTsaRoots() }));
   }

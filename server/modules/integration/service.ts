@@ -7,6 +7,7 @@ import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
+import type { LotRow } from '../../lib/db-tables';
 import { AppError, conflict, notFound } from '../../lib/errors';
 import type { AuthUser, MachineUser } from '../../lib/http';
 import { getLotDetail } from '../lot-record';
@@ -73,7 +74,7 @@ export async function createMachineAccount(
       reason: input.reason,
       ip,
     });
-    return id as number;
+    return id;
   });
   const rec = (await listMachineAccounts(db)).find((a) => a.id === id)!;
   return { ...rec, token };
@@ -112,10 +113,10 @@ export async function listEndpoints(db: Db): Promise<WebhookEndpointRecord[]> {
     .join('app_user as u', 'u.id', 'e.created_by')
     .orderBy('e.id')
     .select('e.*', 'u.full_name as u_name');
-  const counts = (await db('webhook_delivery')
+  const counts = await db('webhook_delivery')
     .groupBy('endpoint_id', 'status')
     .select('endpoint_id', 'status')
-    .count({ n: '*' })) as unknown as { endpoint_id: number; status: string; n: number }[];
+    .count({ n: '*' });
   return rows.map((r) => {
     const c = (s: string) => Number(counts.find((x) => x.endpoint_id === r.id && x.status === s)?.n ?? 0);
     return {
@@ -156,7 +157,7 @@ export async function createEndpoint(
       after: { name: input.name, url: input.url, events },
       ip,
     });
-    return id as number;
+    return id;
   });
   const rec = (await listEndpoints(db)).find((e) => e.id === id)!;
   return { ...rec, secret };
@@ -232,12 +233,16 @@ export async function erpLotByNumber(db: Db, lotNumber: string): Promise<ErpLotV
   return erpLotView(db, row.id);
 }
 
-function sameReceipt(row: Record<string, unknown>, input: ErpReceipt, materialId: number): boolean {
+function sameReceipt(
+  row: Pick<LotRow, 'material_id' | 'supplier_lot' | 'container_count' | 'received_date'>,
+  input: ErpReceipt,
+  materialId: number,
+): boolean {
   return (
-    Number(row.material_id) === materialId &&
+    row.material_id === materialId &&
     row.supplier_lot === input.supplierLot &&
-    Number(row.container_count) === input.containerCount &&
-    new Date(row.received_date as string).toISOString().slice(0, 10) === input.receivedDate
+    row.container_count === input.containerCount &&
+    new Date(row.received_date).toISOString().slice(0, 10) === input.receivedDate
   );
 }
 

@@ -16,7 +16,8 @@ import type { Response } from 'express';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor, SYSTEM_ACTOR } from '../../lib/audit';
 import { sha256Hex } from '../../lib/canonical';
-import { parseJson, type Db } from '../../lib/db';
+import { must, parseJson, type Db } from '../../lib/db';
+import type { IntegrityAlertRow, IntegrityRunInsert, IntegrityRunRow, StoredFileRow } from '../../lib/db-tables';
 import { sendStoredFile } from '../../lib/files';
 import { checkSignatureCredentials, contentHash, recordSignature, toSignatureRecord } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
@@ -238,42 +239,44 @@ export async function raiseAlert(db: Knex, f: Finding, by: FoundBy): Promise<{ i
           pageLink(`/integrity/alerts/${alertId}`),
         ].join('\n'),
       );
-      return alertId as number;
+      return alertId;
     });
     return { id, created: true };
   } catch (e) {
     if ((e as { code?: string }).code !== 'ER_DUP_ENTRY') throw e;
+    // the duplicate key is the alert already raised for this subject and found value
     const again = await db('integrity_alert').where(key).first('id');
-    return { id: again.id, created: false };
+    return { id: must(again, 'The integrity alert found again').id, created: false };
   }
 }
 
 function toAlert(
-  a: Record<string, unknown>,
+  a: IntegrityAlertRow,
   records: AlertRecord[],
   signOff: IntegrityAlert['signOff'],
   foundByName: string | null,
 ): IntegrityAlert {
   return {
-    id: Number(a.id),
+    id: a.id,
+    // kind and found_in are text columns holding the contract's values (raiseAlert writes only those)
     kind: a.kind as AlertKind,
-    kindLabel: ALERT_KIND_LABELS[a.kind as AlertKind] ?? String(a.kind),
-    subjectType: String(a.subject_type),
-    subjectId: String(a.subject_id),
-    expected: String(a.expected),
-    found: String(a.found),
-    summary: String(a.summary),
+    kindLabel: ALERT_KIND_LABELS[a.kind as AlertKind] ?? a.kind,
+    subjectType: a.subject_type,
+    subjectId: a.subject_id,
+    expected: a.expected,
+    found: a.found,
+    summary: a.summary,
     foundIn: a.found_in as FoundIn,
     foundBy: foundByName,
-    foundAt: new Date(a.found_at as string).toISOString(),
+    foundAt: new Date(a.found_at).toISOString(),
     records,
     signOff,
   };
 }
 
-async function hydrate(db: Knex, rows: Record<string, unknown>[]): Promise<IntegrityAlert[]> {
+async function hydrate(db: Knex, rows: IntegrityAlertRow[]): Promise<IntegrityAlert[]> {
   if (!rows.length) return [];
-  const ids = rows.map((r) => Number(r.id));
+  const ids = rows.map((r) => r.id);
   const recs = await db('integrity_alert_record').whereIn('alert_id', ids).orderBy('id');
   const offs = await db('integrity_signoff as o')
     .join('app_user as u', 'u.id', 'o.signed_by')
@@ -290,7 +293,7 @@ async function hydrate(db: Knex, rows: Record<string, unknown>[]): Promise<Integ
       's.content_hash as s_content_hash',
       's.statement as s_statement',
     );
-  const userIds = [...new Set(rows.map((r) => r.found_by).filter((x) => x != null))] as number[];
+  const userIds = [...new Set(rows.map((r) => r.found_by).filter((x): x is number => x !== null))];
   const names = new Map(
     userIds.length
       ? (await db('app_user').whereIn('id', userIds).select('id', 'full_name')).map((u) => [u.id, u.full_name])
@@ -325,14 +328,14 @@ async function hydrate(db: Knex, rows: Record<string, unknown>[]): Promise<Integ
                 : null,
             }
           : null,
-        a.found_by == null ? null : (names.get(Number(a.found_by)) ?? null),
+        a.found_by === null ? null : (names.get(a.found_by) ?? null),
       );
     }),
   );
 }
 
 export async function listAlerts(db: Knex, status: 'open' | 'all'): Promise<IntegrityAlert[]> {
-  const q = db('integrity_alert as a').select('a.*').orderBy('a.id', 'desc').limit(500);
+  const q = db('integrity_alert as a').select<IntegrityAlertRow[]>('a.*').orderBy('a.id', 'desc').limit(500);
   if (status === 'open') q.whereNotExists(db('integrity_signoff as o').whereRaw('o.alert_id = a.id'));
   return hydrate(db, await q);
 }
@@ -351,7 +354,7 @@ export async function alertsOnRecord(db: Knex, type: string, id: number | string
         .whereRaw('r.alert_id = a.id')
         .andWhere({ 'r.record_type': type, 'r.record_id': String(id) }),
     )
-    .select('a.*')
+    .select<IntegrityAlertRow[]>('a.*')
     .orderBy('a.id', 'desc');
   return hydrate(db, rows);
 }
@@ -406,13 +409,8 @@ export async function signOffAlert(db: Knex, user: AuthUser, id: number, input: 
 
 // ---- checks
 
-export interface FileRow {
-  id: number;
-  sha256: string;
-  file_name: string;
-  size: number;
-  data: Buffer;
-}
+/** What the checks read of a stored file (without its media type and upload columns). */
+export type FileRow = Pick<StoredFileRow, 'id' | 'sha256' | 'file_name' | 'size' | 'data'>;
 
 export function fileFinding(
   f: Pick<FileRow, 'id' | 'sha256' | 'file_name' | 'size'>,
@@ -503,7 +501,7 @@ export async function checkSignature(db: Knex, s: SignatureRow, by: FoundBy): Pr
 
 // ---- the sweep
 
-async function updateRun(db: Knex, id: number, patch: Record<string, unknown>): Promise<void> {
+async function updateRun(db: Knex, id: number, patch: Partial<IntegrityRunInsert>): Promise<void> {
   await db('integrity_run').where({ id }).update(patch);
 }
 
@@ -558,7 +556,7 @@ export async function runSweep(db: Knex, runId: number, leaseMs = 120_000): Prom
         .select('id', 'number', 'sha256', 'pdf');
       if (!rows.length) break;
       for (const c of rows) {
-        if ((await checkCertificateBytes(db, c, c.pdf as Buffer, by)) !== c.sha256) counts.mismatches++;
+        if ((await checkCertificateBytes(db, c, c.pdf, by)) !== c.sha256) counts.mismatches++;
         counts.certificates_checked++;
         after = c.id;
       }
@@ -660,38 +658,41 @@ export async function requestSweep(db: Knex, user: AuthUser, ip: string | null):
       entityId: id,
       ip,
     });
-    return id as number;
+    return id;
   });
   return getRun(db, id);
 }
 
-function toRun(r: Record<string, unknown>, requestedBy: string | null): IntegrityRun {
-  const iso = (v: unknown) => (v ? new Date(v as string).toISOString() : null);
+function toRun(r: IntegrityRunRow, requestedBy: string | null): IntegrityRun {
+  const iso = (v: Date | null) => (v ? new Date(v).toISOString() : null);
   return {
-    id: Number(r.id),
+    id: r.id,
+    // origin and status are text columns holding the contract's values (this module writes only those)
     origin: r.origin as IntegrityRun['origin'],
     requestedBy,
-    requestedAt: iso(r.requested_at)!,
+    requestedAt: new Date(r.requested_at).toISOString(),
     status: r.status as IntegrityRun['status'],
     startedAt: iso(r.started_at),
     finishedAt: iso(r.finished_at),
-    filesTotal: Number(r.files_total),
-    filesChecked: Number(r.files_checked),
-    signaturesTotal: Number(r.signatures_total),
-    signaturesChecked: Number(r.signatures_checked),
-    certificatesChecked: Number(r.certificates_checked),
-    accountsChecked: Number(r.accounts_checked),
-    mismatches: Number(r.mismatches),
+    filesTotal: r.files_total,
+    filesChecked: r.files_checked,
+    signaturesTotal: r.signatures_total,
+    signaturesChecked: r.signatures_checked,
+    certificatesChecked: r.certificates_checked,
+    accountsChecked: r.accounts_checked,
+    mismatches: r.mismatches,
     unchecked: parseJson<Record<string, number>>(r.unchecked, {}),
-    error: (r.error as string | null) ?? null,
+    error: r.error ?? null,
   };
 }
+
+type RunWithRequester = IntegrityRunRow & { requester: string | null };
 
 export async function getRun(db: Knex, id: number): Promise<IntegrityRun> {
   const r = await db('integrity_run as r')
     .leftJoin('app_user as u', 'u.id', 'r.requested_by')
     .where('r.id', id)
-    .first('r.*', 'u.full_name as requester');
+    .first<RunWithRequester | undefined>('r.*', 'u.full_name as requester');
   if (!r) throw notFound('The integrity sweep');
   return toRun(r, r.requester ?? null);
 }
@@ -701,7 +702,7 @@ export async function listRuns(db: Knex): Promise<IntegrityRun[]> {
     .leftJoin('app_user as u', 'u.id', 'r.requested_by')
     .orderBy('r.id', 'desc')
     .limit(20)
-    .select('r.*', 'u.full_name as requester');
+    .select<RunWithRequester[]>('r.*', 'u.full_name as requester');
   return rows.map((r) => toRun(r, r.requester ?? null));
 }
 
@@ -721,12 +722,12 @@ export async function sweepTick(db: Knex, everyHours: number, leaseMs?: number):
       .whereIn('status', ['finished', 'failed'])
       .orderBy('id', 'desc')
       .first('finished_at');
-    if (last && Date.now() - new Date(last.finished_at).getTime() < everyHours * 3600_000) return null;
+    if (last?.finished_at && Date.now() - new Date(last.finished_at).getTime() < everyHours * 3600_000) return null;
     const [id] = await db('integrity_run').insert({ origin: 'schedule', requested_at: new Date(), status: 'queued' });
     run = { id };
   }
   await runSweep(db, run.id, leaseMs);
-  return run.id as number;
+  return run.id;
 }
 
 let job: RunningJob | null = null;
@@ -782,9 +783,9 @@ export async function testIntegrity(db: Knex, testId: number, by: FoundBy): Prom
     files.push({ fileId: f.id, name: f.file_name, storedSha256: f.sha256, actualSha256: actual, matches });
   }
   const signatures: RecordIntegrity['signatures'] = [];
-  for (const s of (await db('e_signature')
+  for (const s of await db('e_signature')
     .where({ entity_type: 'identity_test', entity_id: String(testId) })
-    .orderBy('id')) as SignatureRow[])
+    .orderBy('id'))
     signatures.push({ signatureId: s.id, meaning: s.meaning, matches: await checkSignature(db, s, by) });
   const alerts = await alertsOnRecord(db, 'identity_test', testId);
   const intact =

@@ -5,16 +5,13 @@
  * none of them. A check before the table was handed over fails loudly instead of passing.
  */
 import type { Knex } from 'knex';
+import type { ESignatureRow } from '../../lib/db-tables';
 
-export interface SignatureRow {
-  id: number;
-  user_id: number;
-  meaning: string;
-  entity_type: string;
-  entity_id: string;
-  content_hash: string;
-  statement: string | null;
-}
+/** What a recipe and the checks read of a signature. */
+export type SignatureRow = Pick<
+  ESignatureRow,
+  'id' | 'user_id' | 'meaning' | 'entity_type' | 'entity_id' | 'content_hash' | 'statement'
+>;
 
 /** Rebuilds the signed content; undefined when the record it belongs to no longer exists. */
 export type Recipe = (db: Knex, s: SignatureRow) => Promise<unknown>;

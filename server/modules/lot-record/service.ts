@@ -78,7 +78,7 @@ export async function getLotDetail(db: Knex, id: number): Promise<LotDetail> {
     testSummaries.push({
       id: t.id,
       attempt: t.attempt,
-      status: t.status,
+      status: testing.testStatusOf(t.status),
       retestOfInvestigationId: t.retest_of_investigation_id,
       instrumentId: t.instrument_id,
       methodId: t.method_id,

@@ -10,6 +10,7 @@
  */
 import type { Knex } from 'knex';
 import type { Db } from '../../lib/db';
+import type { SpectrumFingerprintRow } from '../../lib/db-tables';
 import { AppError } from '../../lib/errors';
 import { COPY_RATIO_LIMIT, lookupWindow, sameAcquisition, type Spectrum } from '../../spectra';
 import { readSpectrumOff } from '../../workers/pool';
@@ -56,7 +57,7 @@ export async function describeUse(db: Db, recordType: RecordType, recordId: numb
 
 /** Records that use a stored file with these raw bytes (files stored before fingerprints too). */
 async function usesOfRawBytes(db: Db, sha256: string): Promise<{ recordType: RecordType; recordId: number }[]> {
-  const files = (await db('stored_file').where({ sha256 }).select('id')).map((r) => r.id as number);
+  const files = (await db('stored_file').where({ sha256 }).select('id')).map((r) => r.id);
   if (!files.length) return [];
   const out: { recordType: RecordType; recordId: number }[] = [];
   for (const r of await db('measurement').whereIn('file_id', files).select('id').orderBy('id'))
@@ -68,14 +69,11 @@ async function usesOfRawBytes(db: Db, sha256: string): Promise<{ recordType: Rec
   return out;
 }
 
-interface FingerprintRow {
-  id: number;
-  file_id: number;
+/** A fingerprint as read here: its record_type text column holds RecordType values (recordFingerprint writes only those). */
+type FingerprintRow = Pick<SpectrumFingerprintRow, 'id' | 'file_id' | 'record_id' | 'noise' | 'y_step'> & {
   record_type: RecordType;
-  record_id: number;
-  noise: number;
-  y_step: number;
-}
+};
+type FingerprintUse = Pick<FingerprintRow, 'record_type' | 'record_id'>;
 
 /** Stored spectra whose fingerprint lies in the lookup window of this one (indexed on seg1). */
 export function candidatesQuery(db: Db, keys: ProvenanceKeys) {
@@ -88,7 +86,7 @@ export function candidatesQuery(db: Db, keys: ProvenanceKeys) {
     .whereBetween('points', [w.points[0], w.points[1]])
     .whereBetween('x_low', [w.xLow[0], w.xLow[1]])
     .whereBetween('x_high', [w.xHigh[0], w.xHigh[1]])
-    .select('id', 'file_id', 'record_type', 'record_id', 'noise', 'y_step')
+    .select<FingerprintRow[]>('id', 'file_id', 'record_type', 'record_id', 'noise', 'y_step')
     .orderBy('id')
     .limit(200);
 }
@@ -108,7 +106,7 @@ export async function findCopy(
   const same = await db('spectrum_fingerprint')
     .where({ decoded_sha256: keys.decodedSha256 })
     .orderBy('id')
-    .first('record_type', 'record_id');
+    .first<FingerprintUse | undefined>('record_type', 'record_id');
   if (same)
     return {
       rule: 'decoded-values',
@@ -116,7 +114,7 @@ export async function findCopy(
       recordId: same.record_id,
       where: await describeUse(db, same.record_type, same.record_id),
     };
-  const rows: FingerprintRow[] = await candidatesQuery(db, keys);
+  const rows = await candidatesQuery(db, keys);
   for (const c of rows) {
     const f = await db('stored_file').where({ id: c.file_id }).first('data', 'file_name');
     if (!f) continue;
@@ -193,11 +191,14 @@ export async function recordFingerprint(
  */
 export async function lockAndRecheck(trx: Knex.Transaction, sha256: string, keys: ProvenanceKeys): Promise<void> {
   const hit =
-    (await trx('spectrum_fingerprint').where({ raw_sha256: sha256 }).forUpdate().first('record_type', 'record_id')) ??
+    (await trx('spectrum_fingerprint')
+      .where({ raw_sha256: sha256 })
+      .forUpdate()
+      .first<FingerprintUse | undefined>('record_type', 'record_id')) ??
     (await trx('spectrum_fingerprint')
       .where({ decoded_sha256: keys.decodedSha256 })
       .forUpdate()
-      .first('record_type', 'record_id'));
+      .first<FingerprintUse | undefined>('record_type', 'record_id'));
   if (hit) {
     const where = await describeUse(trx, hit.record_type, hit.record_id);
     throw copyRefusal(

@@ -14,7 +14,7 @@ import type { StatedAcquisition } from '../../spectra';
 /** The operator who may add measurements: the one who started it, or the last one it was handed over to. */
 export async function holderOf(db: Db, test: { id: number; created_by: number }): Promise<number> {
   const h = await db('test_handover').where({ test_id: test.id }).orderBy('id', 'desc').first('to_user');
-  return h ? (h.to_user as number) : test.created_by;
+  return h ? h.to_user : test.created_by;
 }
 
 export async function assertHolder(db: Db, test: { id: number; created_by: number; attempt: number }, userId: number) {

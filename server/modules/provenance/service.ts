@@ -8,7 +8,7 @@ import { appendAudit } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { conflict, forbidden, notFound, unprocessable } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
 import type {
   BlockedContainer,
   HandOverInput,
@@ -31,7 +31,7 @@ export async function handOverCandidates(db: Knex, testId: number): Promise<Oper
   const users = await db('app_user').where({ active: 1 }).select('id', 'full_name', 'roles').orderBy('full_name');
   return users
     .filter((u) => parseJson<string[]>(u.roles, []).includes('operator') && u.id !== holder)
-    .map((u) => ({ id: u.id as number, name: u.full_name as string }));
+    .map((u) => ({ id: u.id, name: u.full_name }));
 }
 
 /**
@@ -161,7 +161,9 @@ export async function releaseBlock(
     await trx('container').where({ id: containerId }).forUpdate().first('id');
     const state = await blockState(trx, containerId);
     if (!state.blocked) throw conflict(`Container ${c.label} is not blocked.`);
-    const block = await trx('container_block').where({ id: state.lastEventId! }).first();
+    // blockState has just read this event of the container
+    const lastEvent = await trx('container_block').where({ id: state.lastEventId! }).first();
+    const block = must(lastEvent, `Container block event ${state.lastEventId}`);
     const now = new Date();
     const [id] = await trx('container_block').insert({
       container_id: containerId,

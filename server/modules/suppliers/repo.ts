@@ -1,5 +1,6 @@
 /** Data access of suppliers, material sources and their status history. */
 import type { Db } from '../../lib/db';
+import type { MaterialSourceRow } from '../../lib/db-tables';
 import { toSignatureRecord } from '../../lib/esign';
 import type { SourceRecord, SourceStatusRecord, SupplierRecord } from './contract';
 import { dateOnly } from '../../lib/dates';
@@ -74,12 +75,22 @@ async function statusRows(db: Db, sourceIds: number[]): Promise<Map<number, Sour
   return out;
 }
 
+/** A source with the codes and names of its material, supplier and manufacturer (the join of listSources). */
+type SourceWithNames = MaterialSourceRow & {
+  m_code: string;
+  m_name: string;
+  s_code: string;
+  s_name: string;
+  mf_code: string | null;
+  mf_name: string | null;
+};
+
 export async function listSources(db: Db, f: { materialId?: number; ids?: number[] } = {}): Promise<SourceRecord[]> {
   const q = db('material_source as ms')
     .join('material as m', 'm.id', 'ms.material_id')
     .join('supplier as s', 's.id', 'ms.supplier_id')
     .leftJoin('supplier as mf', 'mf.id', 'ms.manufacturer_id')
-    .select(
+    .select<SourceWithNames[]>(
       'ms.*',
       'm.code as m_code',
       'm.name as m_name',
@@ -94,7 +105,7 @@ export async function listSources(db: Db, f: { materialId?: number; ids?: number
   const rows = await q;
   const hist = await statusRows(
     db,
-    rows.map((r) => r.id as number),
+    rows.map((r) => r.id),
   );
   return rows
     .filter((r) => (hist.get(r.id) ?? []).length > 0)
@@ -104,7 +115,11 @@ export async function listSources(db: Db, f: { materialId?: number; ids?: number
         id: r.id,
         material: { id: r.material_id, code: r.m_code, name: r.m_name },
         supplier: { id: r.supplier_id, code: r.s_code, name: r.s_name },
-        manufacturer: r.manufacturer_id ? { id: r.manufacturer_id, code: r.mf_code, name: r.mf_name } : null,
+        // manufacturer_id is a foreign key: with it, the left join finds the manufacturer's code and name
+        manufacturer:
+          r.manufacturer_id && r.mf_code !== null && r.mf_name !== null
+            ? { id: r.manufacturer_id, code: r.mf_code, name: r.mf_name }
+            : null,
         current: history[history.length - 1],
         history,
       };
@@ -125,5 +140,5 @@ export async function sourceFor(
   const row = await db('material_source')
     .where({ material_id: materialId, supplier_id: supplierId, manufacturer_key: manufacturerId ?? 0 })
     .first('id');
-  return row ? findSource(db, row.id as number) : undefined;
+  return row ? findSource(db, row.id) : undefined;
 }

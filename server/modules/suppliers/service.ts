@@ -14,6 +14,7 @@ import type { Knex } from 'knex';
 import { appendAudit, auditNow, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, notFound } from '../../lib/errors';
+import { must } from '../../lib/db';
 import type { AuthUser } from '../../lib/http';
 import { insertWithNextNumber } from '../../lib/numbering';
 import * as repo from './repo';
@@ -167,9 +168,9 @@ export async function createSource(
       reason: input.reason,
       ip,
     });
-    return sourceId as number;
+    return sourceId;
   });
-  return (await repo.findSource(db, id))!;
+  return must(await repo.findSource(db, id), `Material source ${id}, created above,`);
 }
 
 /** Why a status change cannot be recorded, or null. The same rules hold as CHECK constraints (migration 140). */
@@ -254,7 +255,7 @@ export async function setSourceStatus(
       ip,
     });
   });
-  return (await repo.findSource(db, sourceId))!;
+  return must(await repo.findSource(db, sourceId), `Material source ${sourceId}`);
 }
 
 export interface ReceiptSource {

@@ -16,7 +16,8 @@ import { appendAudit, type Actor } from '../../lib/audit';
 import { checkSignatureCredentials, recordSignature } from '../../lib/esign';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
-import { parseJson } from '../../lib/db';
+import { must, parseJson } from '../../lib/db';
+import type { AppUserRow } from '../../lib/db-tables';
 import { enqueueMailToRole } from '../../lib/mail';
 import {
   canonicalRoles,
@@ -55,7 +56,7 @@ const same = (a: readonly Role[], b: readonly Role[]) =>
 async function grantDirect(
   trx: Knex.Transaction,
   actor: Actor,
-  user: repo.UserRow,
+  user: AppUserRow,
   roles: Role[],
   reason: string,
   ip: string | null,
@@ -74,7 +75,7 @@ async function grantDirect(
   await repo.updateUser(trx, user.id, { roles: json });
   await invalidateUserSessions(trx, user.id);
   if (audit) {
-    const after = repo.toPublicUser((await repo.findById(trx, user.id))!);
+    const after = repo.toPublicUser(must(await repo.findById(trx, user.id), `Account ${user.id}`));
     await appendAudit(trx, {
       actor,
       action: 'user.roles-changed',
@@ -86,13 +87,13 @@ async function grantDirect(
       ip,
     });
   }
-  return grantId as number;
+  return grantId;
 }
 
 async function requestChange(
   trx: Knex.Transaction,
   actor: Actor,
-  user: repo.UserRow,
+  user: AppUserRow,
   rolesBefore: Role[],
   rolesAfter: Role[],
   reason: string,
@@ -108,7 +109,7 @@ async function requestChange(
     user_id: user.id,
     roles_before: JSON.stringify(canonicalRoles(rolesBefore)),
     roles_after: JSON.stringify(canonicalRoles(rolesAfter)),
-    requested_by: actor.id,
+    requested_by: personId(actor),
     requested_at: new Date(),
     reason,
   });
@@ -137,7 +138,13 @@ async function requestChange(
     ].join('\n'),
     actor.id ?? undefined,
   );
-  return id as number;
+  return id;
+}
+
+/** The account that asks for or decides a role change: always a person, never the system. */
+function personId(actor: Actor): number {
+  if (actor.id === null) throw new Error('A role change is asked for and decided by an account, never by the system');
+  return actor.id;
 }
 
 /**
@@ -149,7 +156,7 @@ async function requestChange(
 export async function changeRoles(
   trx: Knex.Transaction,
   actor: Actor,
-  user: repo.UserRow,
+  user: AppUserRow,
   wanted: Role[],
   reason: string,
   ip: string | null,
@@ -163,7 +170,7 @@ export async function changeRoles(
   if (!same(now, current)) await grantDirect(trx, actor, user, now, reason, ip, opts.auditDirect ?? true);
   await opts.afterDirect?.();
   if (same(confirm, now)) return null;
-  const fresh = (await repo.findById(trx, user.id))!;
+  const fresh = must(await repo.findById(trx, user.id), `Account ${user.id}`);
   return requestChange(trx, actor, fresh, now, confirm, reason, ip);
 }
 
@@ -172,15 +179,7 @@ async function lockedRequest(trx: Knex.Transaction, requestId: number) {
   if (!r) throw notFound('The role change');
   const decided = await trx('role_decision').where({ request_id: requestId }).first();
   if (decided) throw conflict(`This role change was already ${decided.decision}.`, { decision: decided.decision });
-  return r as {
-    id: number;
-    user_id: number;
-    roles_before: string;
-    roles_after: string;
-    requested_by: number;
-    requested_at: Date;
-    reason: string;
-  };
+  return r;
 }
 
 /** The content a confirmation signs: the request as it stands (re-checked by the integrity sweep). */
@@ -258,7 +257,9 @@ export async function confirmRoleChange(
   const actor: Actor = { id: user.id, name: user.fullName };
   await transactionWithRetry(db, async (trx) => {
     const r = await lockedRequest(trx, requestId);
-    const subject = await trx('app_user').where({ id: r.user_id }).forUpdate().first();
+    // user_id is a foreign key: the account exists
+    const locked = await trx('app_user').where({ id: r.user_id }).forUpdate().first();
+    const subject = must(locked, `Account ${r.user_id}`);
     if (subject.roles !== r.roles_before)
       throw conflict(
         `The roles of ${subject.username} changed since this request (now ${words(parseJson<Role[]>(subject.roles, []))}). Decline it and ask again.`,
@@ -294,7 +295,7 @@ export async function confirmRoleChange(
     const before = repo.toPublicUser(subject);
     await repo.updateUser(trx, r.user_id, { roles: r.roles_after });
     await invalidateUserSessions(trx, r.user_id);
-    const after = repo.toPublicUser((await repo.findById(trx, r.user_id))!);
+    const after = repo.toPublicUser(must(await repo.findById(trx, r.user_id), `Account ${r.user_id}`));
     const requester = await trx('app_user').where({ id: r.requested_by }).first();
     await appendAudit(trx, {
       actor,
@@ -315,7 +316,7 @@ export async function confirmRoleChange(
       ip,
     });
   });
-  return repo.toPublicUser((await repo.findById(db, pre.user_id))!, null);
+  return repo.toPublicUser(must(await repo.findById(db, pre.user_id), `Account ${pre.user_id}`), null);
 }
 
 export async function declineRoleChange(db: Knex, actor: Actor, requestId: number, reason: string, ip: string | null) {
@@ -326,7 +327,7 @@ export async function declineRoleChange(db: Knex, actor: Actor, requestId: numbe
     await trx('role_decision').insert({
       request_id: requestId,
       decision,
-      decided_by: actor.id,
+      decided_by: personId(actor),
       decided_at: new Date(),
       reason,
       signature_id: null,
@@ -343,7 +344,7 @@ export async function declineRoleChange(db: Knex, actor: Actor, requestId: numbe
     });
     return r.user_id;
   });
-  return repo.toPublicUser((await repo.findById(db, userId))!, null);
+  return repo.toPublicUser(must(await repo.findById(db, userId), `Account ${userId}`), null);
 }
 
 export async function roleChangesWaiting(db: Knex): Promise<RoleChangeWaiting[]> {

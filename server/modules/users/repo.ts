@@ -2,25 +2,10 @@
 import type { Db } from '../../lib/db';
 import { parseJson } from '../../lib/db';
 import type { Role } from '../../lib/contract';
+import type { AppUserInsert, AppUserRow, RoleRequestRow } from '../../lib/db-tables';
 import type { PendingRoleChange, UserAccount } from './contract';
 
-export interface UserRow {
-  id: number;
-  username: string;
-  full_name: string;
-  email: string;
-  password_hash: string;
-  roles: string;
-  must_change_password: number;
-  failed_attempts: number;
-  locked_until: Date | null;
-  active: number;
-  password_changed_at: Date | null;
-  created_at: Date;
-  updated_at: Date;
-}
-
-export function toPublicUser(u: UserRow, pending?: PendingRoleChange | null): UserAccount {
+export function toPublicUser(u: AppUserRow, pending?: PendingRoleChange | null): UserAccount {
   return {
     id: u.id,
     username: u.username,
@@ -43,7 +28,7 @@ export async function pendingRoleChanges(db: Db, userId?: number): Promise<Pendi
     .leftJoin('role_decision as d', 'd.request_id', 'r.id')
     .join('app_user as a', 'a.id', 'r.requested_by')
     .whereNull('d.id')
-    .select('r.*', 'a.full_name as requested_by_name')
+    .select<(RoleRequestRow & { requested_by_name: string })[]>('r.*', 'a.full_name as requested_by_name')
     .orderBy('r.id');
   if (userId !== undefined) q.where('r.user_id', userId);
   const rows = await q;
@@ -66,19 +51,19 @@ export async function listUsersWithPending(db: Db): Promise<UserAccount[]> {
   return (await listUsers(db)).map((u) => toPublicUser(u, pending.get(u.id) ?? null));
 }
 
-export const findByUsername = (db: Db, username: string): Promise<UserRow | undefined> =>
+export const findByUsername = (db: Db, username: string): Promise<AppUserRow | undefined> =>
   db('app_user').where({ username }).first();
 
-export const findById = (db: Db, id: number): Promise<UserRow | undefined> => db('app_user').where({ id }).first();
+export const findById = (db: Db, id: number): Promise<AppUserRow | undefined> => db('app_user').where({ id }).first();
 
-export const listUsers = (db: Db): Promise<UserRow[]> => db('app_user').orderBy('username');
+export const listUsers = (db: Db): Promise<AppUserRow[]> => db('app_user').orderBy('username');
 
-export async function insertUser(db: Db, u: Omit<UserRow, 'id'>): Promise<number> {
+export async function insertUser(db: Db, u: AppUserInsert): Promise<number> {
   const [id] = await db('app_user').insert(u);
   return id;
 }
 
-export async function updateUser(db: Db, id: number, patch: Partial<UserRow>): Promise<void> {
+export async function updateUser(db: Db, id: number, patch: Partial<AppUserInsert>): Promise<void> {
   await db('app_user')
     .where({ id })
     .update({ ...patch, updated_at: new Date() });

@@ -7,6 +7,8 @@ import type { Knex } from 'knex';
 import { appendAudit, type Actor } from '../../lib/audit';
 import { badRequest, conflict, notFound } from '../../lib/errors';
 import { transactionWithRetry } from '../../lib/retry';
+import { must } from '../../lib/db';
+import type { AppUserInsert } from '../../lib/db-tables';
 import {
   hashPassword,
   isRecentPassword,
@@ -61,27 +63,35 @@ export async function createUser(db: Knex, actor: Actor, input: NewUser, ip: str
     await rememberPassword(trx, id, hash);
     const split = splitChange([], input.roles);
     const needsConfirmation = split.confirm.length !== split.now.length;
-    await changeRoles(trx, actor, (await repo.findById(trx, id))!, input.roles, 'roles of the new account', ip, {
-      auditDirect: false,
-      afterDirect: async () => {
-        const u = (await repo.findById(trx, id))!;
-        await appendAudit(trx, {
-          actor,
-          action: 'user.created',
-          entityType: 'user',
-          entityId: id,
-          after: {
-            ...repo.toPublicUser(u),
-            ...(needsConfirmation ? { rolesAwaitingConfirmation: canonicalRoles(input.roles) } : {}),
-          },
-          ip,
-        });
+    await changeRoles(
+      trx,
+      actor,
+      must(await repo.findById(trx, id), `Account ${id}`),
+      input.roles,
+      'roles of the new account',
+      ip,
+      {
+        auditDirect: false,
+        afterDirect: async () => {
+          const u = must(await repo.findById(trx, id), `Account ${id}`);
+          await appendAudit(trx, {
+            actor,
+            action: 'user.created',
+            entityType: 'user',
+            entityId: id,
+            after: {
+              ...repo.toPublicUser(u),
+              ...(needsConfirmation ? { rolesAwaitingConfirmation: canonicalRoles(input.roles) } : {}),
+            },
+            ip,
+          });
+        },
       },
-    });
+    );
     return id;
   });
   const [pending] = await repo.pendingRoleChanges(db, id);
-  return repo.toPublicUser((await repo.findById(db, id))!, pending ?? null);
+  return repo.toPublicUser(must(await repo.findById(db, id), `Account ${id}`), pending ?? null);
 }
 
 export interface UserPatch {
@@ -104,14 +114,14 @@ export async function updateUser(
   await transactionWithRetry(db, async (trx) => {
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
-    const upd: Partial<repo.UserRow> = {};
+    const upd: Partial<AppUserInsert> = {};
     if (patch.fullName !== undefined) upd.full_name = patch.fullName;
     if (patch.email !== undefined) upd.email = patch.email;
     if (patch.active !== undefined) upd.active = patch.active ? 1 : 0;
     if (Object.keys(upd).length) {
       await repo.updateUser(trx, id, upd);
       if (patch.active === false) await invalidateUserSessions(trx, id);
-      const after = (await repo.findById(trx, id))!;
+      const after = must(await repo.findById(trx, id), `Account ${id}`);
       const action =
         patch.active === false
           ? 'user.deactivated'
@@ -129,10 +139,11 @@ export async function updateUser(
         ip,
       });
     }
-    if (patch.roles) await changeRoles(trx, actor, (await repo.findById(trx, id))!, patch.roles, patch.reason, ip);
+    if (patch.roles)
+      await changeRoles(trx, actor, must(await repo.findById(trx, id), `Account ${id}`), patch.roles, patch.reason, ip);
   });
   const [pending] = await repo.pendingRoleChanges(db, id);
-  return repo.toPublicUser((await repo.findById(db, id))!, pending ?? null);
+  return repo.toPublicUser(must(await repo.findById(db, id), `Account ${id}`), pending ?? null);
 }
 
 export async function unlockUser(
@@ -146,7 +157,7 @@ export async function unlockUser(
     const before = await trx('app_user').where({ id }).forUpdate().first();
     if (!before) throw notFound('The account');
     await repo.updateUser(trx, id, { failed_attempts: 0, locked_until: null });
-    const after = (await repo.findById(trx, id))!;
+    const after = must(await repo.findById(trx, id), `Account ${id}`);
     await appendAudit(trx, {
       actor,
       action: 'user.unlocked',
@@ -191,7 +202,7 @@ export async function resetPassword(
     });
     await rememberPassword(trx, id, hash);
     await invalidateUserSessions(trx, id);
-    const after = (await repo.findById(trx, id))!;
+    const after = must(await repo.findById(trx, id), `Account ${id}`);
     await appendAudit(trx, {
       actor,
       action: 'user.password-reset',
