@@ -15,6 +15,7 @@ import { checkSignatureCredentials, recordSignature, signaturesFor } from '../..
 import { must } from '../../lib/db';
 import { AppError, conflict, forbidden, notFound } from '../../lib/errors';
 import type { AuthUser } from '../../lib/http';
+import type { SignatureInput, SignatureMeaning, SignatureRecord } from '../../lib/contract';
 import { enqueueMailToRole } from '../../lib/mail';
 import { pageLink } from '../../lib/links';
 import { insertWithNextNumber, yearOf } from '../../lib/numbering';
@@ -181,6 +182,65 @@ async function assertNotAnalyst(
     );
 }
 
+/**
+ * One signed step of an investigation: the signer measured nothing of what it looks into, the
+ * credentials are checked before any write, then in one transaction the investigation is locked
+ * and must still be in `from` (another QA manager may have decided it meanwhile: `stale`), the
+ * e-signature is recorded over `content`, and `apply` writes the step and its audit event.
+ */
+async function signedStep(
+  db: Knex,
+  user: AuthUser,
+  inv: InvestigationSummary,
+  step: {
+    meaning: SignatureMeaning;
+    signature: SignatureInput;
+    from: InvestigationSummary['status'];
+    stale: string;
+    content: unknown;
+    statement: string;
+    ip: string | null;
+  },
+  apply: (trx: Knex.Transaction, sig: SignatureRecord, actor: Actor) => Promise<void>,
+): Promise<InvestigationDetail> {
+  await assertNotAnalyst(db, user, inv);
+  const signing = {
+    user,
+    credentials: step.signature,
+    meaning: step.meaning,
+    entityType: 'investigation',
+    entityId: inv.id,
+    ip: step.ip,
+  };
+  await checkSignatureCredentials(db, signing);
+  await transactionWithRetry(db, async (trx) => {
+    const row = await repo.lockInvestigation(trx, inv.id);
+    if (!row || row.status !== step.from) throw conflict(step.stale);
+    const sig = await recordSignature(trx, { ...signing, content: step.content, statement: step.statement });
+    await apply(trx, sig, { id: user.id, name: user.fullName });
+  });
+  return getInvestigation(db, inv.id);
+}
+
+/** Closes an investigation with its signed decision; returns the time it closed. */
+async function closeInvestigation(
+  trx: Knex.Transaction,
+  id: number,
+  d: { decision: 'confirmed' | 'concluded'; justification: string; userId: number; signatureId: number },
+): Promise<Date> {
+  const now = new Date();
+  await trx('investigation').where({ id }).update({
+    status: 'closed',
+    decision: d.decision,
+    justification: d.justification,
+    decided_by: d.userId,
+    decision_signature_id: d.signatureId,
+    closed_at: now,
+    updated_at: now,
+  });
+  return now;
+}
+
 /** A trend investigation neither invalidates a result nor rejects a lot: it is concluded. */
 function assertFailureKind(inv: InvestigationSummary): void {
   if (inv.kind === 'trend')
@@ -198,34 +258,22 @@ export async function recordPhase1(
 ): Promise<InvestigationDetail> {
   const inv = await repo.findInvestigation(db, id);
   if (!inv) throw notFound('The investigation');
-  if (inv.status !== 'open') throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
-  await assertNotAnalyst(db, user, inv);
-  await checkSignatureCredentials(db, {
-    user,
-    credentials: input.signature,
-    meaning: 'phase-1-recorded',
-    entityType: 'investigation',
-    entityId: id,
+  const stale = `The phase I laboratory check of ${inv.number} is already recorded.`;
+  if (inv.status !== 'open') throw conflict(stale);
+  const items = Object.fromEntries(
+    PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }]),
+  ) as Phase1Record['items'];
+  const content = { investigation: inv.number, items, summary: input.summary };
+  const step = {
+    meaning: 'phase-1-recorded' as const,
+    signature: input.signature,
+    from: 'open' as const,
+    stale,
+    content,
+    statement: input.summary,
     ip,
-  });
-  await transactionWithRetry(db, async (trx) => {
-    const row = await repo.lockInvestigation(trx, id);
-    if (!row || row.status !== 'open')
-      throw conflict(`The phase I laboratory check of ${inv.number} is already recorded.`);
-    const items = Object.fromEntries(
-      PHASE1_ITEMS.map((k) => [k, { ok: input[k].ok, note: input[k].note }]),
-    ) as Phase1Record['items'];
-    const content = { investigation: inv.number, items, summary: input.summary };
-    const sig = await recordSignature(trx, {
-      user,
-      credentials: input.signature,
-      meaning: 'phase-1-recorded',
-      entityType: 'investigation',
-      entityId: id,
-      content,
-      statement: input.summary,
-      ip,
-    });
+  };
+  return signedStep(db, user, inv, step, async (trx, sig, actor) => {
     const record: Phase1Record = {
       items,
       summary: input.summary,
@@ -237,7 +285,7 @@ export async function recordPhase1(
       .where({ id })
       .update({ phase1: JSON.stringify(record), status: 'phase1-recorded', updated_at: new Date() });
     await appendAudit(trx, {
-      actor: { id: user.id, name: user.fullName },
+      actor,
       action: 'investigation.phase1-recorded',
       entityType: 'investigation',
       entityId: id,
@@ -247,7 +295,6 @@ export async function recordPhase1(
       ip,
     });
   });
-  return getInvestigation(db, id);
 }
 
 export async function invalidateResult(
@@ -278,37 +325,25 @@ export async function invalidateResult(
       'Only failing containers of this investigation can be authorised for retest.',
       { containerIds: notFailing },
     );
-  await assertNotAnalyst(db, user, inv);
-  await checkSignatureCredentials(db, {
-    user,
-    credentials: input.signature,
-    meaning: 'result-invalidated',
-    entityType: 'investigation',
-    entityId: id,
-    ip,
-  });
   const retest = [...new Set(input.retestContainerIds)].sort((a, b) => a - b);
   const labels = inv.failing.filter((f) => retest.includes(f.containerId)).map((f) => f.label);
-  await transactionWithRetry(db, async (trx) => {
-    const row = await repo.lockInvestigation(trx, id);
-    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-    const content = {
-      investigation: inv.number,
-      decision: 'invalidated',
-      cause: input.cause,
-      justification: input.justification,
-      retestContainers: labels,
-    };
-    const sig = await recordSignature(trx, {
-      user,
-      credentials: input.signature,
-      meaning: 'result-invalidated',
-      entityType: 'investigation',
-      entityId: id,
-      content,
-      statement: input.justification,
-      ip,
-    });
+  const content = {
+    investigation: inv.number,
+    decision: 'invalidated',
+    cause: input.cause,
+    justification: input.justification,
+    retestContainers: labels,
+  };
+  const step = {
+    meaning: 'result-invalidated' as const,
+    signature: input.signature,
+    from: 'phase1-recorded' as const,
+    stale: `Investigation ${inv.number} is already decided.`,
+    content,
+    statement: input.justification,
+    ip,
+  };
+  return signedStep(db, user, inv, step, async (trx, sig, actor) => {
     const now = new Date();
     await trx('investigation')
       .where({ id })
@@ -334,7 +369,6 @@ export async function invalidateResult(
       userId: user.id,
       onlyWhereAllowed: true,
     });
-    const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor,
       action: 'investigation.result-invalidated',
@@ -367,7 +401,6 @@ export async function invalidateResult(
       `QA invalidated the failing result of lot ${inv.lotNumber} (investigation ${inv.number}) for an assignable laboratory cause and authorised a re-sample and retest of: ${labels.join(', ')}.\nThe original results stay on record.\n${pageLink(`/lots/${inv.lotId}`)}`,
     );
   });
-  return getInvestigation(db, id);
 }
 
 export async function confirmFailure(
@@ -381,44 +414,29 @@ export async function confirmFailure(
   if (!inv) throw notFound('The investigation');
   assertFailureKind(inv);
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before deciding.');
-  if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-  await assertNotAnalyst(db, user, inv);
-  await checkSignatureCredentials(db, {
-    user,
-    credentials: input.signature,
-    meaning: 'failure-confirmed',
-    entityType: 'investigation',
-    entityId: id,
+  const stale = `Investigation ${inv.number} is already decided.`;
+  if (inv.status !== 'phase1-recorded') throw conflict(stale);
+  const content = {
+    investigation: inv.number,
+    decision: 'confirmed',
+    justification: input.justification,
+    failing: inv.failing.map((f) => f.label),
+  };
+  const step = {
+    meaning: 'failure-confirmed' as const,
+    signature: input.signature,
+    from: 'phase1-recorded' as const,
+    stale,
+    content,
+    statement: input.justification,
     ip,
-  });
-  await transactionWithRetry(db, async (trx) => {
-    const row = await repo.lockInvestigation(trx, id);
-    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already decided.`);
-    const content = {
-      investigation: inv.number,
+  };
+  return signedStep(db, user, inv, step, async (trx, sig, actor) => {
+    const now = await closeInvestigation(trx, id, {
       decision: 'confirmed',
       justification: input.justification,
-      failing: inv.failing.map((f) => f.label),
-    };
-    const sig = await recordSignature(trx, {
-      user,
-      credentials: input.signature,
-      meaning: 'failure-confirmed',
-      entityType: 'investigation',
-      entityId: id,
-      content,
-      statement: input.justification,
-      ip,
-    });
-    const now = new Date();
-    await trx('investigation').where({ id }).update({
-      status: 'closed',
-      decision: 'confirmed',
-      justification: input.justification,
-      decided_by: user.id,
-      decision_signature_id: sig.id,
-      closed_at: now,
-      updated_at: now,
+      userId: user.id,
+      signatureId: sig.id,
     });
     const lot = must(
       await trx('lot').where({ id: inv.lotId! }).forUpdate().first(),
@@ -433,7 +451,6 @@ export async function confirmFailure(
       userId: user.id,
       onlyWhereAllowed: true,
     });
-    const actor = { id: user.id, name: user.fullName };
     await appendAudit(trx, {
       actor,
       action: 'investigation.failure-confirmed',
@@ -466,7 +483,6 @@ export async function confirmFailure(
       `${user.fullName} confirmed the identity failure of lot ${inv.lotNumber} (${inv.materialName}) and rejected the lot.\nJustification: ${input.justification}\n${pageLink(`/investigations/${id}`)}`,
     );
   });
-  return getInvestigation(db, id);
 }
 
 // ------------------------------------------------------------------ investigations of trend signals
@@ -661,41 +677,27 @@ export async function concludeTrend(
       `Investigation ${inv.number} looks into a failing result: QA invalidates the result or confirms the failure.`,
     );
   if (inv.status === 'open') throw conflict('Record the phase I laboratory check before the conclusion.');
-  if (inv.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already closed.`);
-  await assertNotAnalyst(db, user, inv);
-  await checkSignatureCredentials(db, {
-    user,
-    credentials: input.signature,
-    meaning: 'trend-concluded',
-    entityType: 'investigation',
-    entityId: id,
+  const stale = `Investigation ${inv.number} is already closed.`;
+  if (inv.status !== 'phase1-recorded') throw conflict(stale);
+  const content = { investigation: inv.number, decision: 'concluded', conclusion: input.conclusion };
+  const step = {
+    meaning: 'trend-concluded' as const,
+    signature: input.signature,
+    from: 'phase1-recorded' as const,
+    stale,
+    content,
+    statement: input.conclusion,
     ip,
-  });
-  await transactionWithRetry(db, async (trx) => {
-    const row = await repo.lockInvestigation(trx, id);
-    if (!row || row.status !== 'phase1-recorded') throw conflict(`Investigation ${inv.number} is already closed.`);
-    const sig = await recordSignature(trx, {
-      user,
-      credentials: input.signature,
-      meaning: 'trend-concluded',
-      entityType: 'investigation',
-      entityId: id,
-      content: { investigation: inv.number, decision: 'concluded', conclusion: input.conclusion },
-      statement: input.conclusion,
-      ip,
-    });
-    const now = new Date();
-    await trx('investigation').where({ id }).update({
-      status: 'closed',
+  };
+  return signedStep(db, user, inv, step, async (trx, sig, actor) => {
+    await closeInvestigation(trx, id, {
       decision: 'concluded',
       justification: input.conclusion,
-      decided_by: user.id,
-      decision_signature_id: sig.id,
-      closed_at: now,
-      updated_at: now,
+      userId: user.id,
+      signatureId: sig.id,
     });
     await appendAudit(trx, {
-      actor: { id: user.id, name: user.fullName },
+      actor,
       action: 'investigation.trend-concluded',
       entityType: 'investigation',
       entityId: id,
@@ -711,5 +713,4 @@ export async function concludeTrend(
       `${user.fullName} concluded investigation ${inv.number} of a trend signal on ${inv.materialName}.\nConclusion: ${input.conclusion}\n${pageLink(`/investigations/${id}`)}`,
     );
   });
-  return getInvestigation(db, id);
 }
