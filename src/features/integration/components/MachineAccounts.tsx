@@ -17,7 +17,7 @@ import {
   useRevokeMachineAccount,
   type MachineScope,
 } from '../api';
-import { Choices, CreateFooter, ShownOnce, useChecked } from './parts';
+import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useChecked } from './parts';
 
 export function MachineAccounts() {
   const q = useMachineAccounts();
@@ -45,10 +45,7 @@ export function MachineAccounts() {
   };
 
   return (
-    <section aria-labelledby="machine-accounts" className="rounded-md border border-line bg-white p-4">
-      <h2 id="machine-accounts" className="mb-2 text-lg">
-        Machine accounts
-      </h2>
+    <ListPanel id="machine-accounts" title="Machine accounts">
       {token && (
         <ShownOnce
           testId="token-once"
@@ -137,8 +134,7 @@ export function MachineAccounts() {
           </table>
         )}
       </QueryState>
-      <h3 className="mb-2 font-medium">New machine account</h3>
-      <div className="grid gap-3 md:grid-cols-2">
+      <NewRecordFields title="New machine account">
         <InputField
           id="ma-name"
           label="Name (e.g. ERP production)"
@@ -160,10 +156,10 @@ export function MachineAccounts() {
           value={reason}
           onChange={(e) => setReason(e.target.value)}
         />
-      </div>
+      </NewRecordFields>
       <CreateFooter problem={problem} mutation={create} onSubmit={submit}>
         Make account and show its token
       </CreateFooter>
-    </section>
+    </ListPanel>
   );
 }

@@ -17,7 +17,7 @@ import {
   webhookCreateSchema,
   type WebhookEvent,
 } from '../api';
-import { Choices, CreateFooter, ShownOnce, useChecked } from './parts';
+import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useChecked } from './parts';
 
 const STATE_WORDS = { pending: 'Pending', delivered: 'Delivered', failed: 'Gave up' } as const;
 
@@ -45,10 +45,7 @@ export function Webhooks() {
   };
 
   return (
-    <section aria-labelledby="webhooks" className="rounded-md border border-line bg-white p-4">
-      <h2 id="webhooks" className="mb-2 text-lg">
-        Webhooks
-      </h2>
+    <ListPanel id="webhooks" title="Webhooks">
       {secret && (
         <ShownOnce
           testId="secret-once"
@@ -102,8 +99,7 @@ export function Webhooks() {
           </table>
         )}
       </QueryState>
-      <h3 className="mb-2 font-medium">New endpoint</h3>
-      <div className="grid gap-3 md:grid-cols-2">
+      <NewRecordFields title="New endpoint">
         <InputField id="wh-name" label="Name" value={name} onChange={(e) => setName(e.target.value)} />
         <InputField
           id="wh-url"
@@ -119,7 +115,7 @@ export function Webhooks() {
           className="md:col-span-2"
           inline
         />
-      </div>
+      </NewRecordFields>
       <CreateFooter problem={problem} mutation={create} onSubmit={submit}>
         Add endpoint and show its secret
       </CreateFooter>
@@ -161,6 +157,6 @@ export function Webhooks() {
           </table>
         )}
       </QueryState>
-    </section>
+    </ListPanel>
   );
 }

@@ -109,3 +109,25 @@ export function CreateFooter({
     </>
   );
 }
+
+/** One of the integration lists: a titled panel. */
+export function ListPanel({ id, title, children }: { id: string; title: string; children: ReactNode }) {
+  return (
+    <section aria-labelledby={id} className="rounded-md border border-line bg-white p-4">
+      <h2 id={id} className="mb-2 text-lg">
+        {title}
+      </h2>
+      {children}
+    </section>
+  );
+}
+
+/** The fields of a new record under the list, two to a line on wide screens. */
+export function NewRecordFields({ title, children }: { title: string; children: ReactNode }) {
+  return (
+    <>
+      <h3 className="mb-2 font-medium">{title}</h3>
+      <div className="grid gap-3 md:grid-cols-2">{children}</div>
+    </>
+  );
+}
