@@ -1,4 +1,7 @@
 /** Pieces shared by the account forms. */
+import type { UseFormRegisterReturn } from 'react-hook-form';
+import { Button } from '../../../components/Button';
+import { Field, Input } from '../../../components/Field';
 import { ROLE_LABELS, ROLES, type Role } from '../../../lib/roles';
 import { CONFIRMED_ROLES, roleCombinationProblem } from '../../../../server/lib/contract';
 
@@ -21,6 +24,48 @@ export const TEMP_PASSWORD_RULE = {
   minLength: { value: 12, message: 'The password must have at least 12 characters.' },
   maxLength: { value: 200, message: 'The password must have at most 200 characters.' },
 };
+
+export const FULL_NAME_RULE = {
+  required: 'Enter the full name.',
+  minLength: { value: 2, message: 'Enter the full name.' },
+};
+
+export const EMAIL_RULE = {
+  required: 'Enter an e-mail address.',
+  pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' },
+};
+
+/** A temporary password typed or suggested (the button fills in a random one and checks it). */
+export function TemporaryPasswordField({
+  id,
+  hint,
+  error,
+  registration,
+  onSuggest,
+}: {
+  id: string;
+  hint: string;
+  error?: string;
+  registration: UseFormRegisterReturn;
+  /** called with a suggested password */
+  onSuggest: (password: string) => void;
+}) {
+  return (
+    <Field id={id} label="Temporary password" hint={hint} error={error}>
+      <div className="flex gap-2">
+        <Input
+          id={id}
+          autoComplete="new-password"
+          spellCheck={false}
+          className="font-mono"
+          invalid={!!error}
+          {...registration}
+        />
+        <Button onClick={() => onSuggest(suggestPassword())}>Suggest</Button>
+      </div>
+    </Field>
+  );
+}
 
 /** 16 characters from an alphabet without look-alikes (no 0/O, 1/l/I), from the browser's CSPRNG. */
 export function suggestPassword(length = 16): string {
