@@ -27,17 +27,15 @@ import {
 
 type Me = { fullName: string; signedOnce: boolean };
 
-export function ServiceBanner({
-  instrument: i,
-  canBench,
-  isQa,
-  me,
-}: {
+/** What the instrument page hands to both parts: the instrument and what the user may do. */
+interface LifecycleProps {
   instrument: InstrumentDetail;
   canBench: boolean;
   isQa: boolean;
   me: Me;
-}) {
+}
+
+export function ServiceBanner({ instrument: i, canBench, isQa, me }: LifecycleProps) {
   const out = useOutOfService();
   const back = useBackInService();
   const [taking, setTaking] = useState(false);
@@ -123,17 +121,7 @@ const today = () => new Date().toISOString().slice(0, 10);
 /** "out-of-tolerance" -> "out of tolerance" */
 const words = (s: string) => s.replace(/-/g, ' ');
 
-export function LifecycleRecords({
-  instrument: i,
-  canBench,
-  isQa,
-  me,
-}: {
-  instrument: InstrumentDetail;
-  canBench: boolean;
-  isQa: boolean;
-  me: Me;
-}) {
+export function LifecycleRecords({ instrument: i, canBench, isQa, me }: LifecycleProps) {
   const qual = useRecordQualification();
   const maint = useRecordMaintenance();
   const [qOpen, setQOpen] = useState(false);

@@ -6,7 +6,7 @@ import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
 import {
   EMAIL_RULE,
   FULL_NAME_RULE,
-  RoleCheckboxes,
+  roleBoxes,
   ROLES_RULE,
   TEMP_PASSWORD_RULE,
   TemporaryPasswordField,
@@ -78,19 +78,7 @@ export function CreateUserForm({
         onSuggest={(p) => setValue('temporaryPassword', p, { shouldValidate: true })}
       />
       <div className="md:col-span-2">
-        <Controller
-          control={control}
-          name="roles"
-          rules={ROLES_RULE}
-          render={({ field, fieldState }) => (
-            <RoleCheckboxes
-              idPrefix="new-role"
-              value={field.value}
-              onChange={field.onChange}
-              error={fieldState.error?.message}
-            />
-          )}
-        />
+        <Controller control={control} name="roles" rules={ROLES_RULE} render={roleBoxes('new-role')} />
       </div>
       {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}
       <div className="flex gap-2 md:col-span-2">

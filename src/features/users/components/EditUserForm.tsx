@@ -5,7 +5,7 @@ import { ErrorNote } from '../../../components/ErrorNote';
 import { InputField, TextareaField } from '../../../components/Field';
 import type { Role } from '../../../lib/roles';
 import { useUpdateUser, type UserAccount } from '../api';
-import { EMAIL_RULE, FULL_NAME_RULE, REASON_RULE, RoleCheckboxes, ROLES_RULE } from './fields';
+import { EMAIL_RULE, FULL_NAME_RULE, REASON_RULE, roleBoxes, ROLES_RULE } from './fields';
 
 interface Values {
   fullName: string;
@@ -68,19 +68,7 @@ export function EditUserForm({
           Your own roles are changed by another administrator, never by yourself (segregation of duties).
         </p>
       ) : (
-        <Controller
-          control={control}
-          name="roles"
-          rules={ROLES_RULE}
-          render={({ field, fieldState }) => (
-            <RoleCheckboxes
-              idPrefix="edit-role"
-              value={field.value}
-              onChange={field.onChange}
-              error={fieldState.error?.message}
-            />
-          )}
-        />
+        <Controller control={control} name="roles" rules={ROLES_RULE} render={roleBoxes('edit-role')} />
       )}
       <TextareaField
         id="edit-reason"

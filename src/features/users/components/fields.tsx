@@ -84,6 +84,24 @@ export const ROLE_HINTS: Record<Role, string> = {
   admin: 'manages accounts and roles; signs no GMP record',
 };
 
+/** The render of a form's `roles` Controller: the role boxes with the rule's sentence. */
+export const roleBoxes =
+  (idPrefix: string) =>
+  ({
+    field,
+    fieldState,
+  }: {
+    field: { value: Role[]; onChange: (r: Role[]) => void };
+    fieldState: { error?: { message?: string } };
+  }) => (
+    <RoleCheckboxes
+      idPrefix={idPrefix}
+      value={field.value}
+      onChange={field.onChange}
+      error={fieldState.error?.message}
+    />
+  );
+
 export function RoleCheckboxes({
   value,
   onChange,
