@@ -7,8 +7,9 @@ import { useState, type ReactNode } from 'react';
 import { Button } from '../../../components/Button';
 import type { SignatureCredentials } from '../../../components/SignatureDialog';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
+import { mutationSigning, type Signer } from '../../../lib/signing';
 
-export type Me = { fullName: string; signedOnce: boolean };
+export type Me = Signer;
 
 export function SignedChangeForm({
   testId,
@@ -54,16 +55,9 @@ export function SignedChangeForm({
         open={signing}
         title={title}
         meaningText={meaningText}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel={confirmLabel}
         reason={{ label: 'Reason', minLength: 3, tooShort: 'Give the reason for the change.' }}
-        busy={mutation.isPending}
-        error={mutation.error}
-        onCancel={() => {
-          setSigning(false);
-          mutation.reset();
-        }}
+        {...mutationSigning(me, mutation, () => setSigning(false))}
         onSign={(signature, reason) =>
           send(signature, reason, () => {
             setSigning(false);
