@@ -7,6 +7,7 @@ import { useState } from 'react';
 import { Button, buttonClass } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
+import { Panel } from '../../../components/Panel';
 import { InputField, SelectField } from '../../../components/Field';
 import { mutationSigning, type Signer } from '../../../lib/signing';
 import { SignatureDialog } from '../../../components/SignatureDialog';
@@ -40,10 +41,7 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Sig
     setPicked(next);
   };
   return (
-    <section aria-labelledby="sampling" className="mt-6 rounded-md border border-line bg-white p-4">
-      <h2 id="sampling" className="mb-1 text-lg">
-        Sampling and container status
-      </h2>
+    <Panel id="sampling" title="Sampling and container status" className="mt-6 p-4" titleClassName="mb-1 text-lg">
       {plan && (
         <p className="mb-3 text-sm" data-testid="sampling-plan">
           Plan: {SAMPLING_PLAN_LABELS[plan]} · {need} of {s.containers.length} container(s) to sample.
@@ -214,6 +212,6 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Sig
           )
         }
       />
-    </section>
+    </Panel>
   );
 }

@@ -2,6 +2,7 @@
 import { useState, type ReactNode } from 'react';
 import type { z } from 'zod';
 import { Button } from '../../../components/Button';
+import { Panel } from '../../../components/Panel';
 import { errorMessage } from '../../../lib/api';
 
 /** A token or secret shown this once (only its hash, or nothing, is kept to show again). */
@@ -113,12 +114,9 @@ export function CreateFooter({
 /** One of the integration lists: a titled panel. */
 export function ListPanel({ id, title, children }: { id: string; title: string; children: ReactNode }) {
   return (
-    <section aria-labelledby={id} className="rounded-md border border-line bg-white p-4">
-      <h2 id={id} className="mb-2 text-lg">
-        {title}
-      </h2>
+    <Panel id={id} title={title} className="p-4" titleClassName="mb-2 text-lg">
       {children}
-    </section>
+    </Panel>
   );
 }
 
