@@ -91,6 +91,13 @@ function SettingsForm({
   );
 }
 
+/** What the intake panel hands to the dialog of a decision on one acquisition. */
+interface DecisionProps {
+  instrumentId: number;
+  acquisition: AcquisitionEntry | null;
+  onClose: () => void;
+}
+
 /** A decision on one acquisition: a dialog with a form, the server's answer and the button that sends. */
 function AcquisitionDialog({
   acquisition,
@@ -129,15 +136,7 @@ function AcquisitionDialog({
   );
 }
 
-function AssignDialog({
-  instrumentId,
-  acquisition,
-  onClose,
-}: {
-  instrumentId: number;
-  acquisition: AcquisitionEntry | null;
-  onClose: () => void;
-}) {
+function AssignDialog({ instrumentId, acquisition, onClose }: DecisionProps) {
   const id = useId();
   const assign = useAssignAcquisition(instrumentId);
   const [containerId, setContainerId] = useState('');
@@ -195,15 +194,7 @@ function AssignDialog({
   );
 }
 
-function NotASampleDialog({
-  instrumentId,
-  acquisition,
-  onClose,
-}: {
-  instrumentId: number;
-  acquisition: AcquisitionEntry | null;
-  onClose: () => void;
-}) {
+function NotASampleDialog({ instrumentId, acquisition, onClose }: DecisionProps) {
   const id = useId();
   const mark = useNotASample(instrumentId);
   const [reason, setReason] = useState('');
