@@ -13,3 +13,10 @@ export function bindTexts<T extends Record<string, string>>(state: T, setState: 
     onChange: (e: ChangeEvent<Control>) => setState({ ...state, [key]: e.target.value }),
   });
 }
+
+/** The first message of a failed schema check for each top-level field, by the field's name. */
+export function fieldErrors(issues: readonly { path: readonly PropertyKey[]; message: string }[]) {
+  const out: Record<string, string> = {};
+  for (const i of issues) out[String(i.path[0])] ??= i.message;
+  return out;
+}

@@ -1,6 +1,5 @@
 import { Controller, useForm } from 'react-hook-form';
-import { Button } from '../../../components/Button';
-import { ErrorNote } from '../../../components/ErrorNote';
+import { FormFooter } from '../../../components/FormFooter';
 import { Field, Input, InputField } from '../../../components/Field';
 import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
 import {
@@ -80,13 +79,7 @@ export function CreateUserForm({
       <div className="md:col-span-2">
         <Controller control={control} name="roles" rules={ROLES_RULE} render={roleBoxes('new-role')} />
       </div>
-      {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}
-      <div className="flex gap-2 md:col-span-2">
-        <Button type="submit" variant="primary" busy={create.isPending}>
-          Create account
-        </Button>
-        <Button onClick={onCancel}>Cancel</Button>
-      </div>
+      <FormFooter mutation={create} submitLabel="Create account" onCancel={onCancel} span="md:col-span-2" />
     </form>
   );
 }
