@@ -9,6 +9,7 @@ import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { Panel } from '../../../components/Panel';
 import { InputField, SelectField } from '../../../components/Field';
+import { bindTexts } from '../../../lib/form-state';
 import { mutationSigning, type Signer } from '../../../lib/signing';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { CONTAINER_STATUS_WORDS, RESERVE_UNITS } from '../../../../server/modules/sampling/contract';
@@ -19,12 +20,16 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Sig
   const q = useSampling(lotId);
   const clear = useLineClearance(lotId);
   const record = useRecordSampling(lotId);
-  const [area, setArea] = useState('Sampling booth 1');
-  const [previousUse, setPreviousUse] = useState('');
-  const [tool, setTool] = useState('');
-  const [qty, setQty] = useState('50');
-  const [unit, setUnit] = useState<(typeof RESERVE_UNITS)[number]>('g');
-  const [location, setLocation] = useState('');
+  const [v, setV] = useState({
+    area: 'Sampling booth 1',
+    previousUse: '',
+    tool: '',
+    qty: '50',
+    unit: 'g' as (typeof RESERVE_UNITS)[number],
+    location: '',
+  });
+  const bind = bindTexts(v, setV);
+  const { area, previousUse, tool, qty, unit, location } = v;
   const [picked, setPicked] = useState<Set<number> | null>(null);
   const [dialog, setDialog] = useState<'clear' | 'sample' | null>(null);
   if (q.isPending) return <p className="text-sm text-muted">Loading the sampling record…</p>;
@@ -62,19 +67,12 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Sig
       ) : plan && canSample ? (
         !clearance ? (
           <div className="mb-3 grid gap-3 md:grid-cols-2">
-            <InputField
-              id="lc-area"
-              label="Sampling booth or area"
-              bench
-              value={area}
-              onChange={(e) => setArea(e.target.value)}
-            />
+            <InputField id="lc-area" label="Sampling booth or area" bench {...bind('area')} />
             <InputField
               id="lc-prev"
               label="Found in the booth before this lot (optional)"
               bench
-              value={previousUse}
-              onChange={(e) => setPreviousUse(e.target.value)}
+              {...bind('previousUse')}
             />
             <div className="md:col-span-2">
               <Button size="bench" variant="primary" onClick={() => setDialog('clear')}>
@@ -87,35 +85,10 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Sig
             <p className="text-sm md:col-span-2">
               Booth {clearance.area} cleared by {clearance.clearedBy.name}, <DateTime value={clearance.clearedAt} />.
             </p>
-            <InputField
-              id="sa-tool"
-              label="Sampling tool"
-              bench
-              value={tool}
-              onChange={(e) => setTool(e.target.value)}
-            />
-            <InputField
-              id="sa-loc"
-              label="Reserve sample kept in"
-              bench
-              value={location}
-              onChange={(e) => setLocation(e.target.value)}
-            />
-            <InputField
-              id="sa-qty"
-              label="Reserve sample quantity"
-              bench
-              inputMode="decimal"
-              value={qty}
-              onChange={(e) => setQty(e.target.value)}
-            />
-            <SelectField
-              id="sa-unit"
-              label="Unit"
-              bench
-              value={unit}
-              onChange={(e) => setUnit(e.target.value as typeof unit)}
-            >
+            <InputField id="sa-tool" label="Sampling tool" bench {...bind('tool')} />
+            <InputField id="sa-loc" label="Reserve sample kept in" bench {...bind('location')} />
+            <InputField id="sa-qty" label="Reserve sample quantity" bench inputMode="decimal" {...bind('qty')} />
+            <SelectField id="sa-unit" label="Unit" bench {...bind('unit')}>
               {RESERVE_UNITS.map((u) => (
                 <option key={u}>{u}</option>
               ))}
