@@ -17,7 +17,7 @@ import {
   useRevokeMachineAccount,
   type MachineScope,
 } from '../api';
-import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useChecked } from './parts';
+import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useCreateShownOnce } from './parts';
 
 export function MachineAccounts() {
   const q = useMachineAccounts();
@@ -26,23 +26,21 @@ export function MachineAccounts() {
   const [name, setName] = useState('');
   const [scopes, setScopes] = useState<MachineScope[]>([]);
   const [reason, setReason] = useState('');
-  const { problem, check } = useChecked();
-  const [token, setToken] = useState<{ name: string; token: string } | null>(null);
+  const {
+    problem,
+    submit: send,
+    once: token,
+    dismiss,
+  } = useCreateShownOnce(machineAccountCreateSchema, create, (a) => ({ name: a.name, token: a.token }));
   const [revoking, setRevoking] = useState<number | null>(null);
   const [revokeReason, setRevokeReason] = useState('');
 
-  const submit = () => {
-    const input = check(machineAccountCreateSchema, { name, scopes, reason });
-    if (!input) return;
-    create.mutate(input, {
-      onSuccess: (a) => {
-        setToken({ name: a.name, token: a.token });
-        setName('');
-        setScopes([]);
-        setReason('');
-      },
+  const submit = () =>
+    send({ name, scopes, reason }, () => {
+      setName('');
+      setScopes([]);
+      setReason('');
     });
-  };
 
   return (
     <ListPanel id="machine-accounts" title="Machine accounts">
@@ -52,7 +50,7 @@ export function MachineAccounts() {
           heading={`Token of ${token.name}: copy it now. It is shown once; Drumline keeps only its SHA-256.`}
           value={token.token}
           stored="I have stored the token"
-          onDismiss={() => setToken(null)}
+          onDismiss={dismiss}
         />
       )}
       <QueryState

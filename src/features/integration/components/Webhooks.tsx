@@ -17,7 +17,7 @@ import {
   webhookCreateSchema,
   type WebhookEvent,
 } from '../api';
-import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useChecked } from './parts';
+import { Choices, CreateFooter, ListPanel, NewRecordFields, ShownOnce, useCreateShownOnce } from './parts';
 
 const STATE_WORDS = { pending: 'Pending', delivered: 'Delivered', failed: 'Gave up' } as const;
 
@@ -29,20 +29,18 @@ export function Webhooks() {
   const [name, setName] = useState('');
   const [url, setUrl] = useState('');
   const [events, setEvents] = useState<WebhookEvent[]>([...WEBHOOK_EVENTS]);
-  const { problem, check } = useChecked();
-  const [secret, setSecret] = useState<{ name: string; secret: string } | null>(null);
+  const {
+    problem,
+    submit: send,
+    once: secret,
+    dismiss,
+  } = useCreateShownOnce(webhookCreateSchema, create, (w) => ({ name: w.name, secret: w.secret }));
 
-  const submit = () => {
-    const input = check(webhookCreateSchema, { name, url, events });
-    if (!input) return;
-    create.mutate(input, {
-      onSuccess: (w) => {
-        setSecret({ name: w.name, secret: w.secret });
-        setName('');
-        setUrl('');
-      },
+  const submit = () =>
+    send({ name, url, events }, () => {
+      setName('');
+      setUrl('');
     });
-  };
 
   return (
     <ListPanel id="webhooks" title="Webhooks">
@@ -52,7 +50,7 @@ export function Webhooks() {
           heading={`Signing secret of ${secret.name} (HMAC-SHA256): give it to the receiver now. It is shown once.`}
           value={secret.secret}
           stored="I have stored the secret"
-          onDismiss={() => setSecret(null)}
+          onDismiss={dismiss}
         />
       )}
       <QueryState

@@ -129,3 +129,27 @@ export function NewRecordFields({ title, children }: { title: string; children: 
     </>
   );
 }
+
+/**
+ * The create flow of both lists: the input checked with its schema, sent, and on success the
+ * value shown once (token, secret) kept and the fields cleared.
+ */
+export function useCreateShownOnce<I, R, O>(
+  schema: z.ZodType<I>,
+  mutation: { mutate: (input: I, options: { onSuccess: (created: R) => void }) => void },
+  keep: (created: R) => O,
+) {
+  const { problem, check } = useChecked();
+  const [once, setOnce] = useState<O | null>(null);
+  const submit = (input: unknown, clear: () => void) => {
+    const checked = check(schema, input);
+    if (!checked) return;
+    mutation.mutate(checked, {
+      onSuccess: (created) => {
+        setOnce(keep(created));
+        clear();
+      },
+    });
+  };
+  return { problem, submit, once, dismiss: () => setOnce(null) };
+}
