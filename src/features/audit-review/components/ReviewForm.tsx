@@ -3,7 +3,8 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { DateTime } from '../../../components/DateTime';
-import { Field, Input, Textarea } from '../../../components/Field';
+import { Field, Textarea } from '../../../components/Field';
+import { PeriodFields } from '../../../components/PeriodFields';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { REVIEW_CATEGORIES, useExceptionLists, useRecordReview, type ReviewInput } from '../api';
 
@@ -33,14 +34,7 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
       <h2 id="new-review" className="text-lg">
         Review a period
       </h2>
-      <div className="flex flex-wrap gap-3">
-        <Field id="review-from" label="First day (UTC)">
-          <Input id="review-from" type="date" value={from} onChange={(e) => setFrom(e.target.value)} />
-        </Field>
-        <Field id="review-to" label="Last day (UTC)">
-          <Input id="review-to" type="date" value={to} onChange={(e) => setTo(e.target.value)} />
-        </Field>
-      </div>
+      <PeriodFields ids={['review-from', 'review-to']} from={from} to={to} onFrom={setFrom} onTo={setTo} />
       {lists.isError && <ErrorNote error={lists.error} />}
       {lists.data && (
         <div className="flex flex-col gap-2">
