@@ -8,7 +8,12 @@ export function ColumnHead({
   ...rest
 }: { column: string; className?: string; children: ReactNode } & ThHTMLAttributes<HTMLTableCellElement>) {
   return (
-    <th data-key-column={column} scope="col" className={`px-3 py-2 font-semibold ${className}`} {...rest}>
+    <th
+      data-key-column={column}
+      scope="col"
+      className={className ? `px-3 py-2 font-semibold ${className}` : 'px-3 py-2 font-semibold'}
+      {...rest}
+    >
       {children}
     </th>
   );
