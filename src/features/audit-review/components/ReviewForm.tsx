@@ -7,6 +7,7 @@ import { Field, Textarea } from '../../../components/Field';
 import { PeriodFields } from '../../../components/PeriodFields';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { REVIEW_CATEGORIES, useExceptionLists, useRecordReview, type ReviewInput } from '../api';
+import { mutationSigning } from '../../../lib/signing';
 
 type Category = ReviewInput['scope'][number];
 
@@ -111,15 +112,8 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
         title={`Sign the audit-trail review of ${from} to ${to}`}
         meaningText="reviewed the audit trail of this period and recorded the findings and actions"
         record={`Audit trail ${from} to ${to}: ${scope.length} exception list(s)`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign the review"
-        busy={record.isPending}
-        error={record.error}
-        onCancel={() => {
-          setSigning(false);
-          record.reset();
-        }}
+        {...mutationSigning(me, record, () => setSigning(false))}
         onSign={(signature) =>
           record.mutate(
             { from, to, scope, findings: findings.trim(), actions: actions.trim(), signature },

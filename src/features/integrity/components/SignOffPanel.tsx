@@ -4,6 +4,7 @@ import { Button } from '../../../components/Button';
 import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useSignOff, type IntegrityAlert } from '../api';
+import { mutationSigning } from '../../../lib/signing';
 
 export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullName: string; signedOnce: boolean } }) {
   const signOff = useSignOff(alert.id);
@@ -41,15 +42,8 @@ export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullN
         title={`Sign off integrity alert ${alert.id}`}
         meaningText="reviewed this integrity alert and recorded what was done about it"
         record={alert.summary}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign off"
-        busy={signOff.isPending}
-        error={signOff.error}
-        onCancel={() => {
-          setSigning(false);
-          signOff.reset();
-        }}
+        {...mutationSigning(me, signOff, () => setSigning(false))}
         onSign={(signature) =>
           signOff.mutate({ comment: comment.trim(), signature }, { onSuccess: () => setSigning(false) })
         }

@@ -6,6 +6,7 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useConclude, type InvestigationDetail } from '../api';
+import { mutationSigning } from '../../../lib/signing';
 
 export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const conclude = useConclude(inv.id);
@@ -29,20 +30,13 @@ export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { full
         title="Conclude the investigation of the trend signal"
         meaningText="conclude this investigation of a trend signal as written"
         record={`Investigation ${inv.number}, ${inv.materialName}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Close the investigation"
-        busy={conclude.isPending}
-        error={conclude.error}
         reason={{
           label: 'Conclusion',
           minLength: 20,
           tooShort: 'Write a conclusion of at least 20 characters.',
         }}
-        onCancel={() => {
-          setSigning(false);
-          conclude.reset();
-        }}
+        {...mutationSigning(me, conclude, () => setSigning(false))}
         onSign={(signature, conclusion) =>
           conclude.mutate({ conclusion, signature }, { onSuccess: () => setSigning(false) })
         }

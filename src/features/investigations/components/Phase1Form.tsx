@@ -6,6 +6,7 @@ import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { usePhase1, type InvestigationDetail } from '../api';
+import { mutationSigning } from '../../../lib/signing';
 
 export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const save = usePhase1(inv.id);
@@ -85,15 +86,8 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
         title="Sign the phase I laboratory check"
         meaningText={`carried out the phase I laboratory check of investigation ${inv.number} as recorded`}
         record={`Investigation ${inv.number}, lot ${inv.lotNumber}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign the phase I record"
-        busy={save.isPending}
-        error={save.error}
-        onCancel={() => {
-          setSigning(false);
-          save.reset();
-        }}
+        {...mutationSigning(me, save, () => setSigning(false))}
         onSign={(signature) =>
           save.mutate(
             {
