@@ -8,6 +8,7 @@ import { PeriodFields } from '../../../components/PeriodFields';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { REVIEW_CATEGORIES, useExceptionLists, useRecordReview, type ReviewInput } from '../api';
 import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 type Category = ReviewInput['scope'][number];
 
@@ -31,10 +32,7 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
   const lists = useExceptionLists(from, to);
   const record = useRecordReview();
   return (
-    <section aria-labelledby="new-review" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="new-review" className="text-lg">
-        Review a period
-      </h2>
+    <Panel id="new-review" title="Review a period" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
       <PeriodFields ids={['review-from', 'review-to']} from={from} to={to} onFrom={setFrom} onTo={setTo} />
       {lists.isError && <ErrorNote error={lists.error} />}
       {lists.data && (
@@ -127,6 +125,6 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
           )
         }
       />
-    </section>
+    </Panel>
   );
 }

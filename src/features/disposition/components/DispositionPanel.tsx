@@ -12,6 +12,7 @@ import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog
 import { Verdict } from '../../../components/Verdict';
 import { useDecide, useDisposition, useRecordCheck } from '../api';
 import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 interface Me {
   fullName: string;
@@ -40,10 +41,7 @@ export function DispositionPanel({
   const d = q.data;
   const open = d.status === 'quarantine';
   return (
-    <section aria-labelledby="disposition" className="mt-6 rounded-md border border-line bg-white p-4">
-      <h2 id="disposition" className="mb-2 text-lg">
-        Disposition
-      </h2>
+    <Panel id="disposition" title="Disposition" className="mt-6 p-4" titleClassName="mb-2 text-lg">
       {d.disposition && (
         <p className="mb-3 text-sm" data-testid="disposition-decision">
           {d.disposition.decision === 'released' ? 'Released' : 'Rejected'} by {d.disposition.decidedBy.name},{' '}
@@ -170,6 +168,6 @@ export function DispositionPanel({
           decide.mutate({ decision: dialog!, text, signature }, { onSuccess: () => setDialog(null) })
         }
       />
-    </section>
+    </Panel>
   );
 }

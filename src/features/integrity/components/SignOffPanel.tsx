@@ -5,6 +5,7 @@ import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useSignOff, type IntegrityAlert } from '../api';
 import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullName: string; signedOnce: boolean } }) {
   const signOff = useSignOff(alert.id);
@@ -12,10 +13,7 @@ export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullN
   const [error, setError] = useState<string | null>(null);
   const [signing, setSigning] = useState(false);
   return (
-    <section aria-labelledby="sign-off" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="sign-off" className="text-lg">
-        Sign the alert off
-      </h2>
+    <Panel id="sign-off" title="Sign the alert off" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
       <Field
         id="signoff-comment"
         label="What was done about it"
@@ -48,6 +46,6 @@ export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullN
           signOff.mutate({ comment: comment.trim(), signature }, { onSuccess: () => setSigning(false) })
         }
       />
-    </section>
+    </Panel>
   );
 }

@@ -7,15 +7,13 @@ import { Button } from '../../../components/Button';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useConclude, type InvestigationDetail } from '../api';
 import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const conclude = useConclude(inv.id);
   const [signing, setSigning] = useState(false);
   return (
-    <section aria-labelledby="conclude" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="conclude" className="text-lg">
-        Conclusion
-      </h2>
+    <Panel id="conclude" title="Conclusion" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
       <p className="text-sm text-muted">
         What the investigation found about the drift and what follows (e.g. the supplier changed a process step, extra
         sampling of the next deliveries, a new baseline). No result, lot or certificate changes.
@@ -41,6 +39,6 @@ export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { full
           conclude.mutate({ conclusion, signature }, { onSuccess: () => setSigning(false) })
         }
       />
-    </section>
+    </Panel>
   );
 }

@@ -7,6 +7,7 @@ import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { usePhase1, type InvestigationDetail } from '../api';
 import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const save = usePhase1(inv.id);
@@ -34,10 +35,7 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
   };
 
   return (
-    <section aria-labelledby="p1" className="flex flex-col gap-4 rounded-md border border-line bg-white p-4">
-      <h2 id="p1" className="text-lg">
-        Phase I laboratory check
-      </h2>
+    <Panel id="p1" title="Phase I laboratory check" className="flex flex-col gap-4 p-4" titleClassName="text-lg">
       {PHASE1_ITEMS.map((k) => (
         <fieldset key={k} className="flex flex-col gap-2 border-b border-line/60 pb-3" aria-describedby={`${k}-q`}>
           <legend className="font-medium">{PHASE1_LABELS[k].title}</legend>
@@ -106,6 +104,6 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
           )
         }
       />
-    </section>
+    </Panel>
   );
 }
