@@ -88,3 +88,40 @@ export function Textarea({ invalid, className = '', ref, ...rest }: TextareaProp
     />
   );
 }
+
+/** What a field row shows around its control: the label, and a hint or an error in words. */
+export interface FieldRowProps {
+  id: string;
+  label: ReactNode;
+  hint?: ReactNode;
+  error?: string;
+  /** classes of the row (the Field), e.g. a grid span */
+  fieldClassName?: string;
+}
+
+/** A labelled input: the Field and its Input under one id. */
+export function InputField({ id, label, hint, error, fieldClassName, ...input }: FieldRowProps & InputProps) {
+  return (
+    <Field id={id} label={label} hint={hint} error={error} className={fieldClassName}>
+      <Input id={id} {...input} />
+    </Field>
+  );
+}
+
+/** A labelled select: the Field and its Select under one id. */
+export function SelectField({ id, label, hint, error, fieldClassName, ...select }: FieldRowProps & SelectProps) {
+  return (
+    <Field id={id} label={label} hint={hint} error={error} className={fieldClassName}>
+      <Select id={id} {...select} />
+    </Field>
+  );
+}
+
+/** A labelled text area: the Field and its Textarea under one id. */
+export function TextareaField({ id, label, hint, error, fieldClassName, ...area }: FieldRowProps & TextareaProps) {
+  return (
+    <Field id={id} label={label} hint={hint} error={error} className={fieldClassName}>
+      <Textarea id={id} {...area} />
+    </Field>
+  );
+}

@@ -2,7 +2,7 @@ import { useState } from 'react';
 import { useSearchParams } from 'react-router-dom';
 import { useSession } from '../app/session';
 import { useCreatePanel } from '../components/CreatePanel';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { PageLoading } from '../app/lazy-page';
 import { useUsers } from '../features/users/api';
@@ -58,46 +58,44 @@ export default function AdminUsersPage() {
           }}
         />
       ))}
-      {users.isPending ? (
-        <PageLoading />
-      ) : users.isError ? (
-        <ErrorNote error={users.error} onRetry={() => void users.refetch()} />
-      ) : (
-        <div className="grid gap-4 2xl:grid-cols-[minmax(0,1fr)_22rem] 2xl:gap-6">
-          <UsersTable
-            users={users.data}
-            selectedId={selectedId}
-            onSelect={(u) => {
-              // Moving on to another account clears the notice (a new account's temporary password
-              // is shown once, only until the administrator turns to something else).
-              if (u.id !== selectedId) setNotice(null);
-              setSelectedId(u.id);
-            }}
-          />
-          {/* beside the table on wide screens, above it otherwise */}
-          <div className="order-first 2xl:order-last">
-            {selected ? (
-              <>
-                <UserPanel key={selected.id} user={selected} me={me} onNotice={setNotice} />
-                <div className="mt-2">
-                  <RecordHistory
-                    key={selected.id}
-                    entityType="user"
-                    entityId={selected.id}
-                    label={`the account ${selected.username}`}
-                    buttonLabel="Account history"
-                    showTrailLink
-                  />
-                </div>
-              </>
-            ) : (
-              <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">
-                Choose an account in the table to see its details and change it.
-              </p>
-            )}
+      <QueryState query={users} loading={<PageLoading />}>
+        {(data) => (
+          <div className="grid gap-4 2xl:grid-cols-[minmax(0,1fr)_22rem] 2xl:gap-6">
+            <UsersTable
+              users={data}
+              selectedId={selectedId}
+              onSelect={(u) => {
+                // Moving on to another account clears the notice (a new account's temporary password
+                // is shown once, only until the administrator turns to something else).
+                if (u.id !== selectedId) setNotice(null);
+                setSelectedId(u.id);
+              }}
+            />
+            {/* beside the table on wide screens, above it otherwise */}
+            <div className="order-first 2xl:order-last">
+              {selected ? (
+                <>
+                  <UserPanel key={selected.id} user={selected} me={me} onNotice={setNotice} />
+                  <div className="mt-2">
+                    <RecordHistory
+                      key={selected.id}
+                      entityType="user"
+                      entityId={selected.id}
+                      label={`the account ${selected.username}`}
+                      buttonLabel="Account history"
+                      showTrailLink
+                    />
+                  </div>
+                </>
+              ) : (
+                <p className="rounded-md border border-dashed border-line px-4 py-3 text-sm text-muted">
+                  Choose an account in the table to see its details and change it.
+                </p>
+              )}
+            </div>
           </div>
-        </div>
-      )}
+        )}
+      </QueryState>
     </div>
   );
 }

@@ -3,7 +3,7 @@ import { useState } from 'react';
 import { Link } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { useCertificates, type CertificateFilter } from '../features/certificates/api';
 import { CertificatesTable } from '../features/certificates/components/CertificatesTable';
@@ -30,20 +30,18 @@ export default function CertificatesPage() {
       />
       {isAdmin && <SigningIdentityPanel />}
       <CertificateSearchForm initial={filter} onSearch={setFilter} />
-      {list.isPending ? (
-        <PageLoading />
-      ) : list.isError ? (
-        <ErrorNote error={list.error} onRetry={() => void list.refetch()} />
-      ) : (
-        <>
-          <CertificatesTable certificates={list.data.items} />
-          {list.data.total > list.data.items.length && (
-            <p className="mt-2 text-sm text-muted">
-              Showing the newest {list.data.items.length} of {list.data.total}; narrow the search to see older ones.
-            </p>
-          )}
-        </>
-      )}
+      <QueryState query={list} loading={<PageLoading />}>
+        {(data) => (
+          <>
+            <CertificatesTable certificates={data.items} />
+            {data.total > data.items.length && (
+              <p className="mt-2 text-sm text-muted">
+                Showing the newest {data.items.length} of {data.total}; narrow the search to see older ones.
+              </p>
+            )}
+          </>
+        )}
+      </QueryState>
     </div>
   );
 }

@@ -3,7 +3,7 @@ import { useNavigate } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
 import { useCreatePanel } from '../components/CreatePanel';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { useInstruments } from '../features/instruments/api';
 import { InstrumentsTable } from '../features/instruments/components/InstrumentsTable';
@@ -24,13 +24,9 @@ export default function InstrumentsPage() {
       {create.panel((close) => (
         <RegisterInstrumentForm onCancel={close} onDone={(id) => navigate(`/instruments/${id}`)} />
       ))}
-      {list.isPending ? (
-        <PageLoading />
-      ) : list.isError ? (
-        <ErrorNote error={list.error} onRetry={() => void list.refetch()} />
-      ) : (
-        <InstrumentsTable instruments={list.data} onOpen={(i) => navigate(`/instruments/${i.id}`)} />
-      )}
+      <QueryState query={list} loading={<PageLoading />}>
+        {(data) => <InstrumentsTable instruments={data} onOpen={(i) => navigate(`/instruments/${i.id}`)} />}
+      </QueryState>
     </div>
   );
 }

@@ -6,7 +6,7 @@ import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { DataTable } from '../components/DataTable';
 import { DateTime } from '../components/DateTime';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { useInvestigations, type Investigation } from '../features/investigations/api';
 import { InvestigationStatus } from '../features/investigations/components/InvestigationStatus';
@@ -56,20 +56,18 @@ export default function InvestigationsPage() {
           </Button>
         }
       />
-      {q.isPending ? (
-        <PageLoading />
-      ) : q.isError ? (
-        <ErrorNote error={q.error} onRetry={() => void q.refetch()} />
-      ) : (
-        <DataTable
-          data={q.data}
-          columns={columns}
-          label="Investigations"
-          onRowClick={(i) => navigate(`/investigations/${i.id}`)}
-          getRowId={(i) => String(i.id)}
-          emptyMessage={state === 'open' ? 'No open investigation.' : 'No investigation yet.'}
-        />
-      )}
+      <QueryState query={q} loading={<PageLoading />}>
+        {(data) => (
+          <DataTable
+            data={data}
+            columns={columns}
+            label="Investigations"
+            onRowClick={(i) => navigate(`/investigations/${i.id}`)}
+            getRowId={(i) => String(i.id)}
+            emptyMessage={state === 'open' ? 'No open investigation.' : 'No investigation yet.'}
+          />
+        )}
+      </QueryState>
     </div>
   );
 }

@@ -5,6 +5,7 @@ import { useHasRole, useSession } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
 import { Button } from '../components/Button';
 import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { RecordHistory } from '../features/audit/components/RecordHistory';
 import { useMaterial, useReferences, useSpecificityMatrix } from '../features/library/api';
@@ -103,13 +104,9 @@ export default function LibraryMaterialPage() {
         <h2 id="refs-h" className="mb-2 text-lg">
           Reference spectra
         </h2>
-        {references.isPending ? (
-          <PageLoading />
-        ) : references.isError ? (
-          <ErrorNote error={references.error} onRetry={() => void references.refetch()} />
-        ) : (
-          <ReferencesTable references={references.data} onOpen={(r) => navigate(`/library/references/${r.id}`)} />
-        )}
+        <QueryState query={references} loading={<PageLoading />}>
+          {(data) => <ReferencesTable references={data} onOpen={(r) => navigate(`/library/references/${r.id}`)} />}
+        </QueryState>
       </section>
 
       <section aria-labelledby="methods-h" className="mb-8">

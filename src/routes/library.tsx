@@ -4,7 +4,7 @@ import { useNavigate } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { PageLoading } from '../app/lazy-page';
 import { useCreatePanel } from '../components/CreatePanel';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { Field, Select } from '../components/Field';
 import { PageHeader } from '../components/PageHeader';
 import { DateTime } from '../components/DateTime';
@@ -38,18 +38,16 @@ function Matrix() {
           </Select>
         </Field>
       </div>
-      {m.isPending ? (
-        <PageLoading />
-      ) : m.isError ? (
-        <ErrorNote error={m.error} onRetry={() => void m.refetch()} />
-      ) : (
-        <>
-          <SpecificityMatrixTable matrix={m.data} />
-          <p className="mt-1 text-xs text-muted">
-            Computed <DateTime value={m.data.computedAt} seconds />.
-          </p>
-        </>
-      )}
+      <QueryState query={m} loading={<PageLoading />}>
+        {(data) => (
+          <>
+            <SpecificityMatrixTable matrix={data} />
+            <p className="mt-1 text-xs text-muted">
+              Computed <DateTime value={data.computedAt} seconds />.
+            </p>
+          </>
+        )}
+      </QueryState>
     </section>
   );
 }
@@ -69,13 +67,9 @@ export default function LibraryPage() {
       {create.panel((close) => (
         <CreateMaterialForm onCancel={close} onCreated={(id) => navigate(`/library/materials/${id}`)} />
       ))}
-      {materials.isPending ? (
-        <PageLoading />
-      ) : materials.isError ? (
-        <ErrorNote error={materials.error} onRetry={() => void materials.refetch()} />
-      ) : (
-        <MaterialsTable materials={materials.data} onOpen={(m) => navigate(`/library/materials/${m.id}`)} />
-      )}
+      <QueryState query={materials} loading={<PageLoading />}>
+        {(data) => <MaterialsTable materials={data} onOpen={(m) => navigate(`/library/materials/${m.id}`)} />}
+      </QueryState>
       <Matrix />
     </div>
   );

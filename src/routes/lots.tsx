@@ -4,7 +4,7 @@ import { useNavigate } from 'react-router-dom';
 import { PageLoading } from '../app/lazy-page';
 import { useHasRole } from '../app/session';
 import { Button } from '../components/Button';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { useLots } from '../features/testing/api';
 import { LotReceiptForm } from '../features/testing/components/LotReceiptForm';
@@ -37,13 +37,9 @@ export default function LotsPage() {
           <LotReceiptForm onCancel={() => setCreating(false)} onDone={(lot) => navigate(`/lots/${lot.id}`)} />
         </section>
       )}
-      {list.isPending ? (
-        <PageLoading />
-      ) : list.isError ? (
-        <ErrorNote error={list.error} onRetry={() => void list.refetch()} />
-      ) : (
-        <LotsTable lots={list.data} onOpen={(l) => navigate(`/lots/${l.id}`)} />
-      )}
+      <QueryState query={list} loading={<PageLoading />}>
+        {(data) => <LotsTable lots={data} onOpen={(l) => navigate(`/lots/${l.id}`)} />}
+      </QueryState>
     </div>
   );
 }

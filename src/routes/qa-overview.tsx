@@ -2,7 +2,7 @@
 import { useMemo, useState } from 'react';
 import { Link } from 'react-router-dom';
 import { ErrorNote } from '../components/ErrorNote';
-import { Field, Input } from '../components/Field';
+import { PeriodFields } from '../components/PeriodFields';
 import { PageHeader } from '../components/PageHeader';
 import { useQaOverview, type RateRow } from '../features/trending/api';
 import { BarPlot } from '../features/trending/components/BarPlot';
@@ -59,14 +59,7 @@ export default function QaOverviewPage() {
         title="QA overview"
         subtitle="Open investigations by age, first-pass rate per source, invalid-measurement rate per instrument and operator, and time from receipt to certificate, for the period chosen."
       />
-      <div className="flex flex-wrap gap-3" role="group" aria-label="Period">
-        <Field id="ov-from" label="First day (UTC)">
-          <Input id="ov-from" type="date" value={from} onChange={(e) => setFrom(e.target.value)} />
-        </Field>
-        <Field id="ov-to" label="Last day (UTC)">
-          <Input id="ov-to" type="date" value={to} onChange={(e) => setTo(e.target.value)} />
-        </Field>
-      </div>
+      <PeriodFields ids={['ov-from', 'ov-to']} from={from} to={to} onFrom={setFrom} onTo={setTo} groupLabel="Period" />
       {q.isError && <ErrorNote error={q.error} onRetry={() => void q.refetch()} />}
       {q.isPending && <p className="text-sm text-muted">Loading…</p>}
       {d && (

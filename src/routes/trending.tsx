@@ -4,7 +4,8 @@ import { useSearchParams } from 'react-router-dom';
 import { useHasRole } from '../app/session';
 import { Button } from '../components/Button';
 import { ErrorNote } from '../components/ErrorNote';
-import { Field, Input, Select, Textarea } from '../components/Field';
+import { Field, Select, Textarea } from '../components/Field';
+import { PeriodFields } from '../components/PeriodFields';
 import { PageHeader } from '../components/PageHeader';
 import { errorMessage } from '../lib/api';
 import {
@@ -38,14 +39,14 @@ function BaselineForm({ method }: { method: TrendMethodOption }) {
         of {method.materialName} (method version {method.methodVersion}); it is audited and replaces the previous one
         for new limits.
       </p>
-      <div className="flex flex-wrap gap-3">
-        <Field id="baseline-from" label="First day">
-          <Input id="baseline-from" type="date" value={from} onChange={(e) => setFrom(e.target.value)} />
-        </Field>
-        <Field id="baseline-to" label="Last day">
-          <Input id="baseline-to" type="date" value={to} onChange={(e) => setTo(e.target.value)} />
-        </Field>
-      </div>
+      <PeriodFields
+        ids={['baseline-from', 'baseline-to']}
+        labels={['First day', 'Last day']}
+        from={from}
+        to={to}
+        onFrom={setFrom}
+        onTo={setTo}
+      />
       <Field
         id="baseline-reason"
         label="Why this period is a fair baseline"

@@ -4,7 +4,7 @@ import { useNavigate } from 'react-router-dom';
 import { PageLoading } from '../app/lazy-page';
 import { DataTable } from '../components/DataTable';
 import { DateTime } from '../components/DateTime';
-import { ErrorNote } from '../components/ErrorNote';
+import { QueryState } from '../components/QueryState';
 import { PageHeader } from '../components/PageHeader';
 import { Verdict } from '../components/Verdict';
 import { useVerificationQueue, type QueueTest } from '../features/testing/api';
@@ -48,20 +48,18 @@ export default function VerificationPage() {
         title="Tests to verify"
         subtitle="Identity tests signed performed by someone else. Tests you performed or measured are not listed: a second person verifies them."
       />
-      {q.isPending ? (
-        <PageLoading />
-      ) : q.isError ? (
-        <ErrorNote error={q.error} onRetry={() => void q.refetch()} />
-      ) : (
-        <DataTable
-          data={q.data}
-          columns={columns}
-          label="Tests awaiting verification"
-          onRowClick={(t) => navigate(`/tests/${t.testId}/review`)}
-          getRowId={(t) => String(t.testId)}
-          emptyMessage="No tests await your verification."
-        />
-      )}
+      <QueryState query={q} loading={<PageLoading />}>
+        {(data) => (
+          <DataTable
+            data={data}
+            columns={columns}
+            label="Tests awaiting verification"
+            onRowClick={(t) => navigate(`/tests/${t.testId}/review`)}
+            getRowId={(t) => String(t.testId)}
+            emptyMessage="No tests await your verification."
+          />
+        )}
+      </QueryState>
     </div>
   );
 }

@@ -3,9 +3,12 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { DateTime } from '../../../components/DateTime';
-import { Field, Input, Textarea } from '../../../components/Field';
+import { Field, Textarea } from '../../../components/Field';
+import { PeriodFields } from '../../../components/PeriodFields';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { REVIEW_CATEGORIES, useExceptionLists, useRecordReview, type ReviewInput } from '../api';
+import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 type Category = ReviewInput['scope'][number];
 
@@ -29,18 +32,8 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
   const lists = useExceptionLists(from, to);
   const record = useRecordReview();
   return (
-    <section aria-labelledby="new-review" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="new-review" className="text-lg">
-        Review a period
-      </h2>
-      <div className="flex flex-wrap gap-3">
-        <Field id="review-from" label="First day (UTC)">
-          <Input id="review-from" type="date" value={from} onChange={(e) => setFrom(e.target.value)} />
-        </Field>
-        <Field id="review-to" label="Last day (UTC)">
-          <Input id="review-to" type="date" value={to} onChange={(e) => setTo(e.target.value)} />
-        </Field>
-      </div>
+    <Panel id="new-review" title="Review a period" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
+      <PeriodFields ids={['review-from', 'review-to']} from={from} to={to} onFrom={setFrom} onTo={setTo} />
       {lists.isError && <ErrorNote error={lists.error} />}
       {lists.data && (
         <div className="flex flex-col gap-2">
@@ -117,15 +110,8 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
         title={`Sign the audit-trail review of ${from} to ${to}`}
         meaningText="reviewed the audit trail of this period and recorded the findings and actions"
         record={`Audit trail ${from} to ${to}: ${scope.length} exception list(s)`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign the review"
-        busy={record.isPending}
-        error={record.error}
-        onCancel={() => {
-          setSigning(false);
-          record.reset();
-        }}
+        {...mutationSigning(me, record, () => setSigning(false))}
         onSign={(signature) =>
           record.mutate(
             { from, to, scope, findings: findings.trim(), actions: actions.trim(), signature },
@@ -139,6 +125,6 @@ export function ReviewForm({ me }: { me: { fullName: string; signedOnce: boolean
           )
         }
       />
-    </section>
+    </Panel>
   );
 }

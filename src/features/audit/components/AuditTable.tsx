@@ -6,7 +6,16 @@ import { ScrollRegion } from '../../../components/ScrollRegion';
 import type { KeyboardEvent } from 'react';
 import { DateTime } from '../../../components/DateTime';
 import type { AuditEventSummary } from '../api';
+import { ColumnHead } from './ColumnHead';
 import { recordText } from './labels';
+
+/** The columns after the time: key and heading. */
+const HEADS = [
+  ['user', 'User'],
+  ['action', 'Action'],
+  ['record', 'Record'],
+  ['reason', 'Reason'],
+] as const;
 
 export interface AuditTableProps {
   events: AuditEventSummary[];
@@ -36,14 +45,13 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
       <table className="w-full border-collapse text-sm" aria-label="Audit events">
         <thead className="bg-paper">
           <tr className="border-b border-line text-left">
-            <th data-key-column="event" scope="col" className="px-3 py-2 text-right font-semibold">
+            <ColumnHead column="event" className="text-right">
               Event
-            </th>
-            <th
-              data-key-column="time"
-              scope="col"
+            </ColumnHead>
+            <ColumnHead
+              column="time"
               aria-sort={sort === 'asc' ? 'ascending' : 'descending'}
-              className="px-3 py-2 font-semibold whitespace-nowrap"
+              className="whitespace-nowrap"
             >
               <button
                 type="button"
@@ -57,19 +65,12 @@ export function AuditTable({ events, sort, onSort, onOpen, selectedId, timeZone 
                 </span>
                 <span className="sr-only">{sort === 'asc' ? ', oldest first' : ', newest first'}</span>
               </button>
-            </th>
-            <th data-key-column="user" scope="col" className="px-3 py-2 font-semibold">
-              User
-            </th>
-            <th data-key-column="action" scope="col" className="px-3 py-2 font-semibold">
-              Action
-            </th>
-            <th data-key-column="record" scope="col" className="px-3 py-2 font-semibold">
-              Record
-            </th>
-            <th data-key-column="reason" scope="col" className="px-3 py-2 font-semibold">
-              Reason
-            </th>
+            </ColumnHead>
+            {HEADS.map(([column, words]) => (
+              <ColumnHead key={column} column={column}>
+                {words}
+              </ColumnHead>
+            ))}
           </tr>
         </thead>
         <tbody>

@@ -5,6 +5,7 @@
 import { ScrollRegion } from '../../../components/ScrollRegion';
 import { useState } from 'react';
 import type { FieldChange } from '../api';
+import { ColumnHead } from './ColumnHead';
 import { namedValueText } from './labels';
 
 const KIND: Record<FieldChange['kind'], { word: string; sign: string; row: string }> = {
@@ -53,15 +54,13 @@ export function ChangesTable({
         <table className="w-full border-collapse text-sm" aria-label="Values before and after">
           <thead className="bg-paper">
             <tr className="border-b border-line text-left">
-              <th data-key-column="field" scope="col" className="px-3 py-2 font-semibold">
-                Field
-              </th>
-              <th data-key-column="before" scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              <ColumnHead column="field">Field</ColumnHead>
+              <ColumnHead column="before" className="w-[38%]">
                 Before
-              </th>
-              <th data-key-column="after" scope="col" className="w-[38%] px-3 py-2 font-semibold">
+              </ColumnHead>
+              <ColumnHead column="after" className="w-[38%]">
                 After
-              </th>
+              </ColumnHead>
             </tr>
           </thead>
           <tbody>

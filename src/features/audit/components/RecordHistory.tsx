@@ -13,6 +13,7 @@ import { useState } from 'react';
 import { Link } from 'react-router-dom';
 import { Button, type ButtonSize } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
+import { ClockIcon } from '../../../components/Icons';
 import { SignatureCards } from '../../../components/SignatureCards';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { formatNumber } from '../../../lib/format';
@@ -46,18 +47,7 @@ export function RecordHistory({
   return (
     <>
       <Button size={size} onClick={() => setOpen(true)} aria-haspopup="dialog">
-        <svg
-          aria-hidden
-          viewBox="0 0 20 20"
-          className="size-4"
-          fill="none"
-          stroke="currentColor"
-          strokeWidth={1.8}
-          strokeLinecap="round"
-        >
-          <circle cx="10" cy="10" r="7.2" />
-          <path d="M10 6v4.3l2.8 1.7" />
-        </svg>
+        <ClockIcon />
         {buttonLabel}
       </Button>
       <Drawer

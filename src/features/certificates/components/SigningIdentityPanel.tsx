@@ -1,5 +1,6 @@
 /** Administrators see which certificate signs the identity certificates (SHA-256 fingerprint). */
 import { DateTime } from '../../../components/DateTime';
+import { Panel } from '../../../components/Panel';
 import { useSigningIdentity } from '../api';
 
 export function SigningIdentityPanel() {
@@ -7,14 +8,13 @@ export function SigningIdentityPanel() {
   if (q.isPending || q.isError) return null;
   const s = q.data;
   return (
-    <section
-      aria-labelledby="signing-identity"
-      className="mb-4 rounded-md border border-line bg-white p-3 text-sm"
-      data-testid="signing-identity"
+    <Panel
+      id="signing-identity"
+      title="Site signing certificate"
+      className="mb-4 p-3 text-sm"
+      titleClassName="mb-1 font-medium"
+      testId="signing-identity"
     >
-      <h2 id="signing-identity" className="mb-1 font-medium">
-        Site signing certificate
-      </h2>
       <p>
         {s.subject} · valid until <DateTime value={s.notAfter} dateOnly /> ·{' '}
         {s.source === 'generated'
@@ -24,6 +24,6 @@ export function SigningIdentityPanel() {
       <p className="mt-1">
         SHA-256 fingerprint: <code className="break-all text-xs">{s.fingerprint}</code>
       </p>
-    </section>
+    </Panel>
   );
 }

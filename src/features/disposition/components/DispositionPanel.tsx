@@ -11,6 +11,8 @@ import { Field, Input } from '../../../components/Field';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { Verdict } from '../../../components/Verdict';
 import { useDecide, useDisposition, useRecordCheck } from '../api';
+import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 interface Me {
   fullName: string;
@@ -39,10 +41,7 @@ export function DispositionPanel({
   const d = q.data;
   const open = d.status === 'quarantine';
   return (
-    <section aria-labelledby="disposition" className="mt-6 rounded-md border border-line bg-white p-4">
-      <h2 id="disposition" className="mb-2 text-lg">
-        Disposition
-      </h2>
+    <Panel id="disposition" title="Disposition" className="mt-6 p-4" titleClassName="mb-2 text-lg">
       {d.disposition && (
         <p className="mb-3 text-sm" data-testid="disposition-decision">
           {d.disposition.decision === 'released' ? 'Released' : 'Rejected'} by {d.disposition.decidedBy.name},{' '}
@@ -129,15 +128,8 @@ export function DispositionPanel({
         title="Sign the release check"
         meaningText={`recorded this check of the lot as ${pending?.outcome === 'conforms' ? 'conforming' : 'not conforming'}`}
         record={d.requiredChecks.find((r) => r.key === pending?.key)?.label}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign check"
-        busy={check.isPending}
-        error={check.error}
-        onCancel={() => {
-          setPending(null);
-          check.reset();
-        }}
+        {...mutationSigning(me, check, () => setPending(null))}
         onSign={(signature) =>
           check.mutate(
             { checkKey: pending!.key, outcome: pending!.outcome, reference: reference.trim() || null, signature },
@@ -159,8 +151,6 @@ export function DispositionPanel({
               ? `put lot ${d.lotNumber} back into quarantine for a new identity test under the current method`
               : `reject lot ${d.lotNumber} for the reason given`
         }
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel={
           dialog === 'release' ? 'Sign as released' : dialog === 'retest' ? 'Sign retest start' : 'Sign rejection'
         }
@@ -173,16 +163,11 @@ export function DispositionPanel({
               }
             : { label: 'Comment (optional)', minLength: 0, tooShort: '' }
         }
-        busy={decide.isPending}
-        error={decide.error}
-        onCancel={() => {
-          setDialog(null);
-          decide.reset();
-        }}
+        {...mutationSigning(me, decide, () => setDialog(null))}
         onSign={(signature, text) =>
           decide.mutate({ decision: dialog!, text, signature }, { onSuccess: () => setDialog(null) })
         }
       />
-    </section>
+    </Panel>
   );
 }

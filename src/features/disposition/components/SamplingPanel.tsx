@@ -7,27 +7,29 @@ import { useState } from 'react';
 import { Button, buttonClass } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Select } from '../../../components/Field';
+import { Panel } from '../../../components/Panel';
+import { InputField, SelectField } from '../../../components/Field';
+import { bindTexts } from '../../../lib/form-state';
+import { mutationSigning, type Signer } from '../../../lib/signing';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { CONTAINER_STATUS_WORDS, RESERVE_UNITS } from '../../../../server/modules/sampling/contract';
 import { SAMPLING_PLAN_LABELS } from '../../../../server/modules/suppliers/contract';
 import { statusLabelsUrl, useLineClearance, useRecordSampling, useSampling } from '../api';
 
-interface Me {
-  fullName: string;
-  signedOnce: boolean;
-}
-
-export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me; canSample: boolean }) {
+export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Signer; canSample: boolean }) {
   const q = useSampling(lotId);
   const clear = useLineClearance(lotId);
   const record = useRecordSampling(lotId);
-  const [area, setArea] = useState('Sampling booth 1');
-  const [previousUse, setPreviousUse] = useState('');
-  const [tool, setTool] = useState('');
-  const [qty, setQty] = useState('50');
-  const [unit, setUnit] = useState<(typeof RESERVE_UNITS)[number]>('g');
-  const [location, setLocation] = useState('');
+  const [v, setV] = useState({
+    area: 'Sampling booth 1',
+    previousUse: '',
+    tool: '',
+    qty: '50',
+    unit: 'g' as (typeof RESERVE_UNITS)[number],
+    location: '',
+  });
+  const bind = bindTexts(v, setV);
+  const { area, previousUse, tool, qty, unit, location } = v;
   const [picked, setPicked] = useState<Set<number> | null>(null);
   const [dialog, setDialog] = useState<'clear' | 'sample' | null>(null);
   if (q.isPending) return <p className="text-sm text-muted">Loading the sampling record…</p>;
@@ -44,10 +46,7 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
     setPicked(next);
   };
   return (
-    <section aria-labelledby="sampling" className="mt-6 rounded-md border border-line bg-white p-4">
-      <h2 id="sampling" className="mb-1 text-lg">
-        Sampling and container status
-      </h2>
+    <Panel id="sampling" title="Sampling and container status" className="mt-6 p-4" titleClassName="mb-1 text-lg">
       {plan && (
         <p className="mb-3 text-sm" data-testid="sampling-plan">
           Plan: {SAMPLING_PLAN_LABELS[plan]} · {need} of {s.containers.length} container(s) to sample.
@@ -68,12 +67,13 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
       ) : plan && canSample ? (
         !clearance ? (
           <div className="mb-3 grid gap-3 md:grid-cols-2">
-            <Field id="lc-area" label="Sampling booth or area">
-              <Input id="lc-area" bench value={area} onChange={(e) => setArea(e.target.value)} />
-            </Field>
-            <Field id="lc-prev" label="Found in the booth before this lot (optional)">
-              <Input id="lc-prev" bench value={previousUse} onChange={(e) => setPreviousUse(e.target.value)} />
-            </Field>
+            <InputField id="lc-area" label="Sampling booth or area" bench {...bind('area')} />
+            <InputField
+              id="lc-prev"
+              label="Found in the booth before this lot (optional)"
+              bench
+              {...bind('previousUse')}
+            />
             <div className="md:col-span-2">
               <Button size="bench" variant="primary" onClick={() => setDialog('clear')}>
                 Sign line clearance
@@ -85,22 +85,14 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
             <p className="text-sm md:col-span-2">
               Booth {clearance.area} cleared by {clearance.clearedBy.name}, <DateTime value={clearance.clearedAt} />.
             </p>
-            <Field id="sa-tool" label="Sampling tool">
-              <Input id="sa-tool" bench value={tool} onChange={(e) => setTool(e.target.value)} />
-            </Field>
-            <Field id="sa-loc" label="Reserve sample kept in">
-              <Input id="sa-loc" bench value={location} onChange={(e) => setLocation(e.target.value)} />
-            </Field>
-            <Field id="sa-qty" label="Reserve sample quantity">
-              <Input id="sa-qty" bench inputMode="decimal" value={qty} onChange={(e) => setQty(e.target.value)} />
-            </Field>
-            <Field id="sa-unit" label="Unit">
-              <Select id="sa-unit" bench value={unit} onChange={(e) => setUnit(e.target.value as typeof unit)}>
-                {RESERVE_UNITS.map((u) => (
-                  <option key={u}>{u}</option>
-                ))}
-              </Select>
-            </Field>
+            <InputField id="sa-tool" label="Sampling tool" bench {...bind('tool')} />
+            <InputField id="sa-loc" label="Reserve sample kept in" bench {...bind('location')} />
+            <InputField id="sa-qty" label="Reserve sample quantity" bench inputMode="decimal" {...bind('qty')} />
+            <SelectField id="sa-unit" label="Unit" bench {...bind('unit')}>
+              {RESERVE_UNITS.map((u) => (
+                <option key={u}>{u}</option>
+              ))}
+            </SelectField>
             <fieldset className="md:col-span-2">
               <legend className="mb-1 text-sm font-medium">
                 Containers opened, sampled and resealed ({chosen.size} of at least {need})
@@ -158,15 +150,8 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
         open={dialog === 'clear'}
         title="Sign the line clearance"
         meaningText={`cleared ${area} for this lot: no material, label or container of another lot is left in it`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign line clearance"
-        busy={clear.isPending}
-        error={clear.error}
-        onCancel={() => {
-          setDialog(null);
-          clear.reset();
-        }}
+        {...mutationSigning(me, clear, () => setDialog(null))}
         onSign={(signature) =>
           clear.mutate(
             { area, previousUse: previousUse.trim() || null, signature },
@@ -178,15 +163,8 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
         open={dialog === 'sample'}
         title="Sign the sampling record"
         meaningText={`opened, sampled and resealed the ${chosen.size} container(s) named, and kept the reserve sample`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign sampling record"
-        busy={record.isPending}
-        error={record.error}
-        onCancel={() => {
-          setDialog(null);
-          record.reset();
-        }}
+        {...mutationSigning(me, record, () => setDialog(null))}
         onSign={(signature) =>
           record.mutate(
             {
@@ -207,6 +185,6 @@ export function SamplingPanel({ lotId, me, canSample }: { lotId: number; me: Me;
           )
         }
       />
-    </section>
+    </Panel>
   );
 }

@@ -38,6 +38,7 @@ export type {
   InstrumentDetail,
   InstrumentListItem,
   PolystyreneBandResult,
+  SpecCreateInput,
   SpecKind,
 } from '../../../../server/modules/instruments/contract';
 export {

@@ -5,9 +5,9 @@
  * from the site's qualification and, for NIR, from the wavelength standard's certificate.
  */
 import { useEffect, useState } from 'react';
-import { Field, Input, Select, Textarea } from '../../../components/Field';
-import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
-import { CHECK_TYPE_LABELS, useApproveSpec, type CheckType, type InstrumentDetail } from '../api';
+import { InputField, SelectField, TextareaField } from '../../../components/Field';
+import { CHECK_TYPE_LABELS, type CheckType } from '../api';
+import { SpecApprovalDialog, type ApprovalDialogProps } from './SpecApprovalDialog';
 
 type Extra = Exclude<CheckType, 'polystyrene'>;
 
@@ -23,20 +23,7 @@ function regions(text: string): { from: number; to: number }[] | null {
   return out.every((r) => r.length === 2 && r.every(Number.isFinite)) ? out.map(([from, to]) => ({ from, to })) : null;
 }
 
-export function ApproveLimitsDialog({
-  open,
-  instrument,
-  printedName,
-  needsUsername,
-  onClose,
-}: {
-  open: boolean;
-  instrument: InstrumentDetail;
-  printedName: string;
-  needsUsername: boolean;
-  onClose: () => void;
-}) {
-  const approve = useApproveSpec();
+export function ApproveLimitsDialog({ open, instrument, ...dialog }: ApprovalDialogProps) {
   const types: Extra[] =
     instrument.technique === 'nir'
       ? ['nir-wavelength', 'nir-photometric-noise']
@@ -45,15 +32,15 @@ export function ApproveLimitsDialog({
         : ['noise'];
   const [type, setType] = useState<Extra>(types[0]);
   const [f, setF] = useState<Record<string, string>>({});
-  const [problem, setProblem] = useState<string | null>(null);
   useEffect(() => {
-    if (open) {
-      setF({});
-      setProblem(null);
-    }
+    if (open) setF({});
   }, [open]);
   const set = (k: string) => (e: { target: { value: string } }) => setF({ ...f, [k]: e.target.value });
   const v = (k: string) => f[k] ?? '';
+  /** A number typed as text, read on sending. */
+  const decimal = (id: string, key: string, label: string) => (
+    <InputField id={id} label={label} inputMode="decimal" value={v(key)} onChange={set(key)} />
+  );
 
   function limits(): unknown {
     switch (type) {
@@ -93,111 +80,72 @@ export function ApproveLimitsDialog({
   }
 
   return (
-    <ReasonSignatureDialog
+    <SpecApprovalDialog
       open={open}
+      instrument={instrument}
+      {...dialog}
       title={`New check limits for ${instrument.name}`}
       meaningText={`approve these check limits for ${instrument.name}; the check becomes required before every test`}
-      printedName={printedName}
-      needsUsername={needsUsername}
       confirmLabel="Approve limits"
-      busy={approve.isPending}
-      error={problem ?? approve.error}
-      onCancel={() => {
-        approve.reset();
-        onClose();
-      }}
-      reason={{
-        label: 'Justification',
-        hint: 'Where the limits come from (qualification report, certificate); at least 20 characters.',
-        minLength: 20,
-        tooShort: 'Write a justification of at least 20 characters.',
-      }}
-      onSign={(signature, justification) => {
-        if (type === 'atr-blank' && v('excluded').trim() && !regions(v('excluded')))
-          return setProblem('Write the excluded regions as from-to pairs, e.g. 2280-2400, 1900-2300.');
-        setProblem(null);
-        approve.mutate(
-          { id: instrument.id, spec: { checkType: type, kind: 'site', limits: limits(), justification }, signature },
-          { onSuccess: onClose },
-        );
-      }}
+      hint="Where the limits come from (qualification report, certificate); at least 20 characters."
+      spec={(justification) =>
+        type === 'atr-blank' && v('excluded').trim() && !regions(v('excluded'))
+          ? 'Write the excluded regions as from-to pairs, e.g. 2280-2400, 1900-2300.'
+          : { checkType: type, kind: 'site', limits: limits(), justification }
+      }
     >
-      <Field id="lim-type" label="Check">
-        <Select id="lim-type" value={type} onChange={(e) => setType(e.target.value as Extra)}>
-          {types.map((t) => (
-            <option key={t} value={t}>
-              {CHECK_TYPE_LABELS[t]}
-            </option>
-          ))}
-        </Select>
-      </Field>
+      <SelectField id="lim-type" label="Check" value={type} onChange={(e) => setType(e.target.value as Extra)}>
+        {types.map((t) => (
+          <option key={t} value={t}>
+            {CHECK_TYPE_LABELS[t]}
+          </option>
+        ))}
+      </SelectField>
       {(type === 'atr-blank' || type === 'noise') && (
         <div className="grid grid-cols-2 gap-2">
-          <Field id="lim-from" label={type === 'noise' ? 'Quiet region from (cm⁻¹)' : 'Checked from (cm⁻¹)'}>
-            <Input id="lim-from" inputMode="decimal" value={v('from')} onChange={set('from')} />
-          </Field>
-          <Field id="lim-to" label="to (cm⁻¹)">
-            <Input id="lim-to" inputMode="decimal" value={v('to')} onChange={set('to')} />
-          </Field>
+          {decimal('lim-from', 'from', type === 'noise' ? 'Quiet region from (cm⁻¹)' : 'Checked from (cm⁻¹)')}
+          {decimal('lim-to', 'to', 'to (cm⁻¹)')}
         </div>
       )}
       {type === 'atr-blank' && (
         <>
-          <Field id="lim-max" label="Largest band height (absorbance)">
-            <Input id="lim-max" inputMode="decimal" value={v('max')} onChange={set('max')} />
-          </Field>
-          <Field
+          {decimal('lim-max', 'max', 'Largest band height (absorbance)')}
+          <InputField
             id="lim-ex"
             label="Regions not checked (cm⁻¹)"
             hint="e.g. atmospheric CO2, a diamond crystal's own band"
-          >
-            <Input id="lim-ex" value={v('excluded')} onChange={set('excluded')} />
-          </Field>
+            value={v('excluded')}
+            onChange={set('excluded')}
+          />
         </>
       )}
       {type === 'noise' && (
         <div className="grid grid-cols-2 gap-2">
-          <Field id="lim-max" label="Largest RMS noise (absorbance)">
-            <Input id="lim-max" inputMode="decimal" value={v('max')} onChange={set('max')} />
-          </Field>
-          <Field id="lim-pp" label="Largest peak to peak (optional)">
-            <Input id="lim-pp" inputMode="decimal" value={v('pp')} onChange={set('pp')} />
-          </Field>
+          {decimal('lim-max', 'max', 'Largest RMS noise (absorbance)')}
+          {decimal('lim-pp', 'pp', 'Largest peak to peak (optional)')}
         </div>
       )}
       {type === 'nir-wavelength' && (
         <>
-          <Field id="lim-std" label="Standard and certificate">
-            <Input id="lim-std" value={v('standard')} onChange={set('standard')} />
-          </Field>
-          <Field
+          <InputField id="lim-std" label="Standard and certificate" value={v('standard')} onChange={set('standard')} />
+          <TextareaField
             id="lim-bands"
             label="Certified positions (nm)"
             hint="One per line: position and tolerance, e.g. 1261.8 ±1.0"
-          >
-            <Textarea id="lim-bands" value={v('bands')} onChange={set('bands')} />
-          </Field>
-          <Field id="lim-win" label="Search window (± nm, optional; default 5)">
-            <Input id="lim-win" inputMode="decimal" value={v('window')} onChange={set('window')} />
-          </Field>
+            value={v('bands')}
+            onChange={set('bands')}
+          />
+          {decimal('lim-win', 'window', 'Search window (± nm, optional; default 5)')}
         </>
       )}
       {type === 'nir-photometric-noise' && (
         <div className="grid grid-cols-2 gap-2">
-          <Field id="lim-from" label="From (nm)">
-            <Input id="lim-from" inputMode="decimal" value={v('from')} onChange={set('from')} />
-          </Field>
-          <Field id="lim-to" label="to (nm)">
-            <Input id="lim-to" inputMode="decimal" value={v('to')} onChange={set('to')} />
-          </Field>
-          <Field id="lim-seg" label="Segment (nm, default 100)">
-            <Input id="lim-seg" inputMode="decimal" value={v('segment')} onChange={set('segment')} />
-          </Field>
-          <Field id="lim-max" label="Largest mean RMS (absorbance)">
-            <Input id="lim-max" inputMode="decimal" value={v('max')} onChange={set('max')} />
-          </Field>
+          {decimal('lim-from', 'from', 'From (nm)')}
+          {decimal('lim-to', 'to', 'to (nm)')}
+          {decimal('lim-seg', 'segment', 'Segment (nm, default 100)')}
+          {decimal('lim-max', 'max', 'Largest mean RMS (absorbance)')}
         </div>
       )}
-    </ReasonSignatureDialog>
+    </SpecApprovalDialog>
   );
 }

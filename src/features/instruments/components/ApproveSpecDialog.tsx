@@ -6,30 +6,16 @@
  */
 import { useEffect, useEffectEvent, useState } from 'react';
 import { Button } from '../../../components/Button';
-import { Field, Input, Select } from '../../../components/Field';
-import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
-import { isPolystyreneResult, useApproveSpec, type CheckBand, type InstrumentDetail, type SpecKind } from '../api';
+import { Input, SelectField } from '../../../components/Field';
+import { isPolystyreneResult, type CheckBand, type SpecKind } from '../api';
+import { SpecApprovalDialog, type ApprovalDialogProps } from './SpecApprovalDialog';
 
 type Row = { nominal: string; tolerance: string };
 
-export function ApproveSpecDialog({
-  open,
-  instrument,
-  printedName,
-  needsUsername,
-  onClose,
-}: {
-  open: boolean;
-  instrument: InstrumentDetail;
-  printedName: string;
-  needsUsername: boolean;
-  onClose: () => void;
-}) {
-  const approve = useApproveSpec();
+export function ApproveSpecDialog({ open, instrument, ...dialog }: ApprovalDialogProps) {
   const current = instrument.specs.find((s) => s.status === 'approved' && s.checkType === 'polystyrene');
   const [kind, setKind] = useState<SpecKind>('site');
   const [rows, setRows] = useState<Row[]>([]);
-  const [problem, setProblem] = useState<string | null>(null);
   const lastFound = instrument.checks
     .map((c) => c.result)
     .filter(isPolystyreneResult)
@@ -39,7 +25,6 @@ export function ApproveSpecDialog({
   const start = useEffectEvent(() => {
     setKind('site');
     setRows((current?.bands ?? []).map((b) => ({ nominal: b.nominal.toFixed(2), tolerance: b.tolerance.toFixed(1) })));
-    setProblem(null);
   });
   useEffect(() => {
     if (open) start();
@@ -56,26 +41,15 @@ export function ApproveSpecDialog({
   };
 
   return (
-    <ReasonSignatureDialog
+    <SpecApprovalDialog
       open={open}
+      instrument={instrument}
+      {...dialog}
       title={`New check specification for ${instrument.name}`}
       meaningText={`approve this check specification for ${instrument.name}, for the reason written above; every later instrument check is judged against it`}
-      printedName={printedName}
-      needsUsername={needsUsername}
       confirmLabel="Approve specification"
-      busy={approve.isPending}
-      error={problem ?? approve.error}
-      onCancel={() => {
-        approve.reset();
-        onClose();
-      }}
-      reason={{
-        label: 'Justification',
-        hint: 'At least 20 characters; signed with the specification and kept in the audit trail.',
-        minLength: 20,
-        tooShort: 'Write a justification of at least 20 characters.',
-      }}
-      onSign={(signature, justification) => {
+      hint="At least 20 characters; signed with the specification and kept in the audit trail."
+      spec={(justification) => {
         let bands: CheckBand[] | undefined;
         if (kind === 'site') {
           bands = rows.map((r) => ({
@@ -86,24 +60,16 @@ export function ApproveSpecDialog({
             bands.length < 3 ||
             bands.some((b) => !Number.isFinite(b.nominal) || !Number.isFinite(b.tolerance) || b.tolerance <= 0)
           )
-            return setProblem(
-              'A site specification needs at least three bands, each with a position and a positive tolerance.',
-            );
+            return 'A site specification needs at least three bands, each with a position and a positive tolerance.';
         }
-        setProblem(null);
-        approve.mutate(
-          { id: instrument.id, spec: { checkType: 'polystyrene', kind, bands, justification }, signature },
-          { onSuccess: onClose },
-        );
+        return { checkType: 'polystyrene', kind, bands, justification };
       }}
     >
-      <Field id="spec-kind" label="Kind">
-        <Select id="spec-kind" value={kind} onChange={(e) => setKind(e.target.value as SpecKind)}>
-          <option value="site">Site specification (positions established at qualification)</option>
-          <option value="pharmacopoeia-ft">Ph. Eur. 2.2.24, FT tolerances</option>
-          <option value="pharmacopoeia-monochromator">Ph. Eur. 2.2.24, monochromator tolerances</option>
-        </Select>
-      </Field>
+      <SelectField id="spec-kind" label="Kind" value={kind} onChange={(e) => setKind(e.target.value as SpecKind)}>
+        <option value="site">Site specification (positions established at qualification)</option>
+        <option value="pharmacopoeia-ft">Ph. Eur. 2.2.24, FT tolerances</option>
+        <option value="pharmacopoeia-monochromator">Ph. Eur. 2.2.24, monochromator tolerances</option>
+      </SelectField>
       {kind === 'site' && (
         <div className="flex max-h-64 flex-col gap-2 overflow-auto">
           {lastFound && (
@@ -154,6 +120,6 @@ export function ApproveSpecDialog({
           </div>
         </div>
       )}
-    </ReasonSignatureDialog>
+    </SpecApprovalDialog>
   );
 }

@@ -1,5 +1,6 @@
 /** "Check due" or "Check valid until ...": words and an icon, never colour alone. */
 import { DateTime } from '../../../components/DateTime';
+import { ClockIcon, TickIcon } from '../../../components/Icons';
 import type { InstrumentListItem } from '../api';
 
 export function CheckStatus({
@@ -24,18 +25,7 @@ export function CheckStatus({
         className={`inline-flex items-center gap-1.5 rounded-md border border-amber/50 bg-amber-soft font-medium whitespace-nowrap text-amber ${big}`}
         data-check="due"
       >
-        <svg
-          viewBox="0 0 20 20"
-          className="size-4"
-          aria-hidden
-          fill="none"
-          stroke="currentColor"
-          strokeWidth={1.8}
-          strokeLinecap="round"
-        >
-          <circle cx="10" cy="10" r="7.2" />
-          <path d="M10 6v4.3l2.8 1.7" />
-        </svg>
+        <ClockIcon />
         Check due
       </span>
     );
@@ -44,18 +34,7 @@ export function CheckStatus({
       className={`inline-flex items-center gap-1.5 rounded-md border border-pass/40 bg-pass-soft font-medium text-pass ${big}`}
       data-check="valid"
     >
-      <svg
-        viewBox="0 0 20 20"
-        className="size-4"
-        aria-hidden
-        fill="none"
-        stroke="currentColor"
-        strokeWidth={2.4}
-        strokeLinecap="round"
-        strokeLinejoin="round"
-      >
-        <path d="M4 10.5 8.2 14.5 16 6" />
-      </svg>
+      <TickIcon width={2.4} />
       <span>
         Check valid until <DateTime value={instrument.validCheck.validUntil} />
       </span>

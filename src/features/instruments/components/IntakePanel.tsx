@@ -3,12 +3,12 @@
  * (QA or the administrator changes them, with a reason), the files waiting for an operator
  * (assign with a confirmation, or "not a sample" with a reason) and every file received.
  */
-import { useId, useState, type FormEvent } from 'react';
+import { useId, useState, type FormEvent, type ReactNode } from 'react';
 import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { Dialog } from '../../../components/Dialog';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Textarea } from '../../../components/Field';
+import { Field, Input, InputField, Textarea, TextareaField } from '../../../components/Field';
 import {
   ACQUISITION_STATE_LABELS,
   useAcquisitions,
@@ -91,15 +91,52 @@ function SettingsForm({
   );
 }
 
-function AssignDialog({
-  instrumentId,
-  acquisition,
-  onClose,
-}: {
+/** What the intake panel hands to the dialog of a decision on one acquisition. */
+interface DecisionProps {
   instrumentId: number;
   acquisition: AcquisitionEntry | null;
   onClose: () => void;
+}
+
+/** A decision on one acquisition: a dialog with a form, the server's answer and the button that sends. */
+function AcquisitionDialog({
+  acquisition,
+  title,
+  description,
+  close,
+  mutation,
+  onSubmit,
+  submit,
+  children,
+}: {
+  acquisition: AcquisitionEntry | null;
+  title: string;
+  description: ReactNode;
+  close: () => void;
+  mutation: { isPending: boolean; isError: boolean; error: unknown };
+  onSubmit: (acquisition: AcquisitionEntry) => void;
+  /** the button that sends */
+  submit: ReactNode;
+  children: ReactNode;
 }) {
+  return (
+    <Dialog open={!!acquisition} title={title} description={description} onClose={close} busy={mutation.isPending}>
+      <form
+        className="flex flex-col gap-3"
+        onSubmit={(e) => {
+          e.preventDefault();
+          if (acquisition) onSubmit(acquisition);
+        }}
+      >
+        {children}
+        {mutation.isError && <ErrorNote error={mutation.error} />}
+        {submit}
+      </form>
+    </Dialog>
+  );
+}
+
+function AssignDialog({ instrumentId, acquisition, onClose }: DecisionProps) {
   const id = useId();
   const assign = useAssignAcquisition(instrumentId);
   const [containerId, setContainerId] = useState('');
@@ -113,64 +150,51 @@ function AssignDialog({
     onClose();
   };
   return (
-    <Dialog
-      open={!!acquisition}
+    <AcquisitionDialog
+      acquisition={acquisition}
       title="Assign an acquisition to a container"
       description={
         acquisition ? `File ${acquisition.fileName}, received ${new Date(acquisition.receivedAt).toLocaleString()}` : ''
       }
-      onClose={close}
-      busy={assign.isPending}
-    >
-      <form
-        className="flex flex-col gap-3"
-        onSubmit={(e) => {
-          e.preventDefault();
-          if (!acquisition) return;
-          assign.mutate(
-            { id: acquisition.id, containerId: Number(containerId), confirm: true, reason: reason.trim() || undefined },
-            { onSuccess: close },
-          );
-        }}
-      >
-        {acquisition?.stateReason && <p className="text-sm text-muted">Left unassigned: {acquisition.stateReason}</p>}
-        <Field
-          id={`${id}-c`}
-          label="Container id"
-          hint="The container this spectrum was measured from (its test must be in progress on this instrument)."
-        >
-          <Input
-            id={`${id}-c`}
-            inputMode="numeric"
-            value={containerId}
-            onChange={(e) => setContainerId(e.target.value)}
-          />
-        </Field>
-        <Field id={`${id}-r`} label="Reason, if the container already has a valid result">
-          <Textarea id={`${id}-r`} rows={2} value={reason} onChange={(e) => setReason(e.target.value)} />
-        </Field>
-        <label className="flex items-center gap-2 text-sm">
-          <input type="checkbox" checked={sure} onChange={(e) => setSure(e.target.checked)} />I confirm this acquisition
-          is the spectrum of this container
-        </label>
-        {assign.isError && <ErrorNote error={assign.error} />}
+      close={close}
+      mutation={assign}
+      onSubmit={(a) =>
+        assign.mutate(
+          { id: a.id, containerId: Number(containerId), confirm: true, reason: reason.trim() || undefined },
+          { onSuccess: close },
+        )
+      }
+      submit={
         <Button type="submit" variant="primary" disabled={!sure || !containerId} busy={assign.isPending}>
           Assign and record the measurement
         </Button>
-      </form>
-    </Dialog>
+      }
+    >
+      {acquisition?.stateReason && <p className="text-sm text-muted">Left unassigned: {acquisition.stateReason}</p>}
+      <InputField
+        id={`${id}-c`}
+        label="Container id"
+        hint="The container this spectrum was measured from (its test must be in progress on this instrument)."
+        inputMode="numeric"
+        value={containerId}
+        onChange={(e) => setContainerId(e.target.value)}
+      />
+      <TextareaField
+        id={`${id}-r`}
+        label="Reason, if the container already has a valid result"
+        rows={2}
+        value={reason}
+        onChange={(e) => setReason(e.target.value)}
+      />
+      <label className="flex items-center gap-2 text-sm">
+        <input type="checkbox" checked={sure} onChange={(e) => setSure(e.target.checked)} />I confirm this acquisition
+        is the spectrum of this container
+      </label>
+    </AcquisitionDialog>
   );
 }
 
-function NotASampleDialog({
-  instrumentId,
-  acquisition,
-  onClose,
-}: {
-  instrumentId: number;
-  acquisition: AcquisitionEntry | null;
-  onClose: () => void;
-}) {
+function NotASampleDialog({ instrumentId, acquisition, onClose }: DecisionProps) {
   const id = useId();
   const mark = useNotASample(instrumentId);
   const [reason, setReason] = useState('');
@@ -180,30 +204,24 @@ function NotASampleDialog({
     onClose();
   };
   return (
-    <Dialog
-      open={!!acquisition}
+    <AcquisitionDialog
+      acquisition={acquisition}
       title="Not a sample"
       description={acquisition?.fileName}
-      onClose={close}
-      busy={mark.isPending}
-    >
-      <form
-        className="flex flex-col gap-3"
-        onSubmit={(e) => {
-          e.preventDefault();
-          if (acquisition) mark.mutate({ id: acquisition.id, reason }, { onSuccess: close });
-        }}
-      >
-        <Field id={`${id}-r`} label="What the file is, and why it is no sample's spectrum" required>
-          <Textarea id={`${id}-r`} rows={3} value={reason} onChange={(e) => setReason(e.target.value)} />
-        </Field>
-        <p className="text-sm text-muted">The file stays on record; QA's reconciliation shows it with your reason.</p>
-        {mark.isError && <ErrorNote error={mark.error} />}
+      close={close}
+      mutation={mark}
+      onSubmit={(a) => mark.mutate({ id: a.id, reason }, { onSuccess: close })}
+      submit={
         <Button type="submit" variant="danger" busy={mark.isPending}>
           Mark as not a sample
         </Button>
-      </form>
-    </Dialog>
+      }
+    >
+      <Field id={`${id}-r`} label="What the file is, and why it is no sample's spectrum" required>
+        <Textarea id={`${id}-r`} rows={3} value={reason} onChange={(e) => setReason(e.target.value)} />
+      </Field>
+      <p className="text-sm text-muted">The file stays on record; QA's reconciliation shows it with your reason.</p>
+    </AcquisitionDialog>
   );
 }
 

@@ -8,7 +8,8 @@ import { Button } from '../../../components/Button';
 import { DateTime } from '../../../components/DateTime';
 import { Dialog } from '../../../components/Dialog';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Select, Textarea } from '../../../components/Field';
+import { InputField, SelectField, TextareaField } from '../../../components/Field';
+import { bindTexts } from '../../../lib/form-state';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import {
@@ -26,17 +27,15 @@ import {
 
 type Me = { fullName: string; signedOnce: boolean };
 
-export function ServiceBanner({
-  instrument: i,
-  canBench,
-  isQa,
-  me,
-}: {
+/** What the instrument page hands to both parts: the instrument and what the user may do. */
+interface LifecycleProps {
   instrument: InstrumentDetail;
   canBench: boolean;
   isQa: boolean;
   me: Me;
-}) {
+}
+
+export function ServiceBanner({ instrument: i, canBench, isQa, me }: LifecycleProps) {
   const out = useOutOfService();
   const back = useBackInService();
   const [taking, setTaking] = useState(false);
@@ -73,9 +72,13 @@ export function ServiceBanner({
         onClose={() => setTaking(false)}
         busy={out.isPending}
       >
-        <Field id="oos-reason" label="Reason" hint="What is wrong, and who was told (at least 10 characters).">
-          <Textarea id="oos-reason" value={reason} onChange={(e) => setReason(e.target.value)} />
-        </Field>
+        <TextareaField
+          id="oos-reason"
+          label="Reason"
+          hint="What is wrong, and who was told (at least 10 characters)."
+          value={reason}
+          onChange={(e) => setReason(e.target.value)}
+        />
         {out.error && <ErrorNote error={out.error} />}
         <div className="flex justify-end gap-2">
           <Button onClick={() => setTaking(false)}>Cancel</Button>
@@ -115,18 +118,10 @@ export function ServiceBanner({
 }
 
 const today = () => new Date().toISOString().slice(0, 10);
+/** "out-of-tolerance" -> "out of tolerance" */
+const words = (s: string) => s.replace(/-/g, ' ');
 
-export function LifecycleRecords({
-  instrument: i,
-  canBench,
-  isQa,
-  me,
-}: {
-  instrument: InstrumentDetail;
-  canBench: boolean;
-  isQa: boolean;
-  me: Me;
-}) {
+export function LifecycleRecords({ instrument: i, canBench, isQa, me }: LifecycleProps) {
   const qual = useRecordQualification();
   const maint = useRecordMaintenance();
   const [qOpen, setQOpen] = useState(false);
@@ -146,6 +141,8 @@ export function LifecycleRecords({
     performedBy: '',
     description: '',
   });
+  const bindQ = bindTexts(q, setQ);
+  const bindM = bindTexts(m, setM);
   return (
     <section aria-labelledby="life-h" className="mt-6">
       <h2 id="life-h" className="mb-2 text-lg">
@@ -160,7 +157,7 @@ export function LifecycleRecords({
           {i.qualifications.map((x) => (
             <li key={x.id} className="rounded-md border border-line bg-white p-3 text-sm">
               <p className="font-medium">
-                {QUALIFICATION_STAGE_LABELS[x.stage]} · {x.status.replace(/-/g, ' ')} · {x.documentRef}
+                {QUALIFICATION_STAGE_LABELS[x.stage]} · {words(x.status)} · {x.documentRef}
               </p>
               <p className="text-muted">
                 Executed {x.executedFrom} to {x.executedTo}
@@ -180,7 +177,7 @@ export function LifecycleRecords({
           {i.maintenance.map((x) => (
             <li key={x.id} className="rounded-md border border-line bg-white p-3 text-sm">
               <p className="font-medium">
-                {x.performedOn} · {x.kind.replace(/-/g, ' ')} · {x.performedBy}
+                {x.performedOn} · {words(x.kind)} · {x.performedBy}
               </p>
               <p className="mt-1">{x.description}</p>
               <p className="mt-1 text-xs text-muted">
@@ -206,64 +203,27 @@ export function LifecycleRecords({
             qual.mutate({ id: i.id, ...q, nextDue: q.nextDue || null, signature }, { onSuccess: () => setQOpen(false) })
           }
         >
-          <Field id="q-stage" label="Stage">
-            <Select
-              id="q-stage"
-              value={q.stage}
-              onChange={(e) => setQ({ ...q, stage: e.target.value as typeof q.stage })}
-            >
-              {QUALIFICATION_STAGES.map((s) => (
-                <option key={s} value={s}>
-                  {QUALIFICATION_STAGE_LABELS[s]}
-                </option>
-              ))}
-            </Select>
-          </Field>
-          <Field id="q-doc" label="Document reference">
-            <Input id="q-doc" value={q.documentRef} onChange={(e) => setQ({ ...q, documentRef: e.target.value })} />
-          </Field>
+          <SelectField id="q-stage" label="Stage" {...bindQ('stage')}>
+            {QUALIFICATION_STAGES.map((s) => (
+              <option key={s} value={s}>
+                {QUALIFICATION_STAGE_LABELS[s]}
+              </option>
+            ))}
+          </SelectField>
+          <InputField id="q-doc" label="Document reference" {...bindQ('documentRef')} />
           <div className="grid grid-cols-3 gap-2">
-            <Field id="q-from" label="Executed from">
-              <Input
-                id="q-from"
-                type="date"
-                value={q.executedFrom}
-                onChange={(e) => setQ({ ...q, executedFrom: e.target.value })}
-              />
-            </Field>
-            <Field id="q-to" label="to">
-              <Input
-                id="q-to"
-                type="date"
-                value={q.executedTo}
-                onChange={(e) => setQ({ ...q, executedTo: e.target.value })}
-              />
-            </Field>
-            <Field id="q-next" label="Next due">
-              <Input
-                id="q-next"
-                type="date"
-                value={q.nextDue}
-                onChange={(e) => setQ({ ...q, nextDue: e.target.value })}
-              />
-            </Field>
+            <InputField id="q-from" label="Executed from" type="date" {...bindQ('executedFrom')} />
+            <InputField id="q-to" label="to" type="date" {...bindQ('executedTo')} />
+            <InputField id="q-next" label="Next due" type="date" {...bindQ('nextDue')} />
           </div>
-          <Field id="q-status" label="Outcome">
-            <Select
-              id="q-status"
-              value={q.status}
-              onChange={(e) => setQ({ ...q, status: e.target.value as typeof q.status })}
-            >
-              {QUALIFICATION_STATUSES.map((s) => (
-                <option key={s} value={s}>
-                  {s.replace(/-/g, ' ')}
-                </option>
-              ))}
-            </Select>
-          </Field>
-          <Field id="q-sum" label="Summary">
-            <Textarea id="q-sum" value={q.summary} onChange={(e) => setQ({ ...q, summary: e.target.value })} />
-          </Field>
+          <SelectField id="q-status" label="Outcome" {...bindQ('status')}>
+            {QUALIFICATION_STATUSES.map((s) => (
+              <option key={s} value={s}>
+                {words(s)}
+              </option>
+            ))}
+          </SelectField>
+          <TextareaField id="q-sum" label="Summary" {...bindQ('summary')} />
         </SignatureDialog>
       )}
       <Dialog
@@ -272,29 +232,16 @@ export function LifecycleRecords({
         onClose={() => setMOpen(false)}
         busy={maint.isPending}
       >
-        <Field id="m-kind" label="Kind">
-          <Select id="m-kind" value={m.kind} onChange={(e) => setM({ ...m, kind: e.target.value as typeof m.kind })}>
-            {MAINTENANCE_KINDS.map((k) => (
-              <option key={k} value={k}>
-                {k.replace(/-/g, ' ')}
-              </option>
-            ))}
-          </Select>
-        </Field>
-        <Field id="m-on" label="Performed on">
-          <Input
-            id="m-on"
-            type="date"
-            value={m.performedOn}
-            onChange={(e) => setM({ ...m, performedOn: e.target.value })}
-          />
-        </Field>
-        <Field id="m-by" label="Performed by" hint="Engineer or service company">
-          <Input id="m-by" value={m.performedBy} onChange={(e) => setM({ ...m, performedBy: e.target.value })} />
-        </Field>
-        <Field id="m-desc" label="Work done">
-          <Textarea id="m-desc" value={m.description} onChange={(e) => setM({ ...m, description: e.target.value })} />
-        </Field>
+        <SelectField id="m-kind" label="Kind" {...bindM('kind')}>
+          {MAINTENANCE_KINDS.map((k) => (
+            <option key={k} value={k}>
+              {words(k)}
+            </option>
+          ))}
+        </SelectField>
+        <InputField id="m-on" label="Performed on" type="date" {...bindM('performedOn')} />
+        <InputField id="m-by" label="Performed by" hint="Engineer or service company" {...bindM('performedBy')} />
+        <TextareaField id="m-desc" label="Work done" {...bindM('description')} />
         {maint.error && <ErrorNote error={maint.error} />}
         <div className="flex justify-end gap-2">
           <Button onClick={() => setMOpen(false)}>Cancel</Button>

@@ -6,6 +6,7 @@
 import { useEffect, useRef } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { DateTime } from '../../../components/DateTime';
+import { Panel } from '../../../components/Panel';
 import { qk } from '../../../lib/query-keys';
 import { ErrorNote } from '../../../components/ErrorNote';
 import { useTestAcquisitions } from '../api';
@@ -30,14 +31,14 @@ export function TestAcquisitions({ testId, lotId, live = false }: { testId: numb
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const v = q.data;
   return (
-    <section
-      aria-labelledby="test-acq-h"
-      className="mt-6 rounded-md border border-line bg-white p-4"
-      data-testid="test-acquisitions"
+    <Panel
+      id="test-acq-h"
+      level={3}
+      title={`Acquisitions on ${v.instrumentName ?? 'the instrument'} during this attempt`}
+      className="mt-6 p-4"
+      titleClassName="font-medium"
+      testId="test-acquisitions"
     >
-      <h3 id="test-acq-h" className="font-medium">
-        Acquisitions on {v.instrumentName ?? 'the instrument'} during this attempt
-      </h3>
       <p className="mb-2 text-sm text-muted">
         From <DateTime value={v.from} /> to <DateTime value={v.to} />: every file received from the instrument&apos;s
         export folder, whatever became of it, and the spectra uploaded by hand.
@@ -51,6 +52,6 @@ export function TestAcquisitions({ testId, lotId, live = false }: { testId: numb
               .join('; ')
           : 'none'}
       </p>
-    </section>
+    </Panel>
   );
 }

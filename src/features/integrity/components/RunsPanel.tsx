@@ -5,6 +5,7 @@ import { Button } from '../../../components/Button';
 import { qk } from '../../../lib/query-keys';
 import { DateTime } from '../../../components/DateTime';
 import { ErrorNote } from '../../../components/ErrorNote';
+import { QueryState } from '../../../components/QueryState';
 import { useRequestSweep, useRuns } from '../api';
 
 export function RunsPanel() {
@@ -33,66 +34,66 @@ export function RunsPanel() {
         itself once a day.
       </p>
       {ask.isError && <ErrorNote error={ask.error} />}
-      {runs.isPending ? (
-        <p className="text-sm text-muted">Loading…</p>
-      ) : runs.isError ? (
-        <ErrorNote error={runs.error} onRetry={() => void runs.refetch()} />
-      ) : runs.data.length === 0 ? (
-        <p className="text-sm text-muted">No sweep has run yet.</p>
-      ) : (
-        <table className="w-full text-sm" aria-label="Integrity sweeps">
-          <thead>
-            <tr className="text-left text-muted">
-              <th data-key-column="asked" className="py-1 pr-3 font-medium">
-                Asked
-              </th>
-              <th className="py-1 pr-3 font-medium">By</th>
-              <th data-key-column="state" className="py-1 pr-3 font-medium">
-                State
-              </th>
-              <th className="py-1 pr-3 font-medium">Files</th>
-              <th className="py-1 pr-3 font-medium">Signatures</th>
-              <th className="py-1 pr-3 font-medium">Certificates, accounts</th>
-              <th data-key-column="mismatches" className="py-1 pr-3 font-medium">
-                Mismatches
-              </th>
-            </tr>
-          </thead>
-          <tbody>
-            {runs.data.map((r) => (
-              <tr key={r.id} className="border-t border-line" data-testid="integrity-run">
-                <td className="py-1 pr-3">
-                  <DateTime value={r.requestedAt} />
-                </td>
-                <td className="py-1 pr-3">{r.origin === 'schedule' ? 'daily schedule' : r.requestedBy}</td>
-                <td className="py-1 pr-3">{r.status === 'failed' ? `failed: ${r.error ?? ''}` : r.status}</td>
-                <td className="py-1 pr-3 tabular-nums">
-                  {r.filesChecked} / {r.filesTotal}
-                </td>
-                <td className="py-1 pr-3 tabular-nums">
-                  {r.signaturesChecked} / {r.signaturesTotal}
-                  {Object.keys(r.unchecked).length > 0 && (
-                    <span className="text-muted">
-                      {' '}
-                      (not checkable:{' '}
-                      {Object.entries(r.unchecked)
-                        .map(([k, n]) => `${k} ${n}`)
-                        .join(', ')}
-                      )
-                    </span>
-                  )}
-                </td>
-                <td className="py-1 pr-3 tabular-nums">
-                  {r.certificatesChecked}, {r.accountsChecked}
-                </td>
-                <td className={`py-1 pr-3 tabular-nums ${r.mismatches ? 'font-medium text-fail' : ''}`}>
-                  {r.mismatches}
-                </td>
+      <QueryState
+        query={runs}
+        loading={<p className="text-sm text-muted">Loading…</p>}
+        empty={<p className="text-sm text-muted">No sweep has run yet.</p>}
+      >
+        {(data) => (
+          <table className="w-full text-sm" aria-label="Integrity sweeps">
+            <thead>
+              <tr className="text-left text-muted">
+                <th data-key-column="asked" className="py-1 pr-3 font-medium">
+                  Asked
+                </th>
+                <th className="py-1 pr-3 font-medium">By</th>
+                <th data-key-column="state" className="py-1 pr-3 font-medium">
+                  State
+                </th>
+                <th className="py-1 pr-3 font-medium">Files</th>
+                <th className="py-1 pr-3 font-medium">Signatures</th>
+                <th className="py-1 pr-3 font-medium">Certificates, accounts</th>
+                <th data-key-column="mismatches" className="py-1 pr-3 font-medium">
+                  Mismatches
+                </th>
               </tr>
-            ))}
-          </tbody>
-        </table>
-      )}
+            </thead>
+            <tbody>
+              {data.map((r) => (
+                <tr key={r.id} className="border-t border-line" data-testid="integrity-run">
+                  <td className="py-1 pr-3">
+                    <DateTime value={r.requestedAt} />
+                  </td>
+                  <td className="py-1 pr-3">{r.origin === 'schedule' ? 'daily schedule' : r.requestedBy}</td>
+                  <td className="py-1 pr-3">{r.status === 'failed' ? `failed: ${r.error ?? ''}` : r.status}</td>
+                  <td className="py-1 pr-3 tabular-nums">
+                    {r.filesChecked} / {r.filesTotal}
+                  </td>
+                  <td className="py-1 pr-3 tabular-nums">
+                    {r.signaturesChecked} / {r.signaturesTotal}
+                    {Object.keys(r.unchecked).length > 0 && (
+                      <span className="text-muted">
+                        {' '}
+                        (not checkable:{' '}
+                        {Object.entries(r.unchecked)
+                          .map(([k, n]) => `${k} ${n}`)
+                          .join(', ')}
+                        )
+                      </span>
+                    )}
+                  </td>
+                  <td className="py-1 pr-3 tabular-nums">
+                    {r.certificatesChecked}, {r.accountsChecked}
+                  </td>
+                  <td className={`py-1 pr-3 tabular-nums ${r.mismatches ? 'font-medium text-fail' : ''}`}>
+                    {r.mismatches}
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        )}
+      </QueryState>
     </section>
   );
 }

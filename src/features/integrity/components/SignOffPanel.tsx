@@ -4,6 +4,8 @@ import { Button } from '../../../components/Button';
 import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useSignOff, type IntegrityAlert } from '../api';
+import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullName: string; signedOnce: boolean } }) {
   const signOff = useSignOff(alert.id);
@@ -11,10 +13,7 @@ export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullN
   const [error, setError] = useState<string | null>(null);
   const [signing, setSigning] = useState(false);
   return (
-    <section aria-labelledby="sign-off" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="sign-off" className="text-lg">
-        Sign the alert off
-      </h2>
+    <Panel id="sign-off" title="Sign the alert off" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
       <Field
         id="signoff-comment"
         label="What was done about it"
@@ -41,19 +40,12 @@ export function SignOffPanel({ alert, me }: { alert: IntegrityAlert; me: { fullN
         title={`Sign off integrity alert ${alert.id}`}
         meaningText="reviewed this integrity alert and recorded what was done about it"
         record={alert.summary}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign off"
-        busy={signOff.isPending}
-        error={signOff.error}
-        onCancel={() => {
-          setSigning(false);
-          signOff.reset();
-        }}
+        {...mutationSigning(me, signOff, () => setSigning(false))}
         onSign={(signature) =>
           signOff.mutate({ comment: comment.trim(), signature }, { onSuccess: () => setSigning(false) })
         }
       />
-    </section>
+    </Panel>
   );
 }

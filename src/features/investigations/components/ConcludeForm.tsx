@@ -6,15 +6,14 @@ import { useState } from 'react';
 import { Button } from '../../../components/Button';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useConclude, type InvestigationDetail } from '../api';
+import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const conclude = useConclude(inv.id);
   const [signing, setSigning] = useState(false);
   return (
-    <section aria-labelledby="conclude" className="flex flex-col gap-3 rounded-md border border-line bg-white p-4">
-      <h2 id="conclude" className="text-lg">
-        Conclusion
-      </h2>
+    <Panel id="conclude" title="Conclusion" className="flex flex-col gap-3 p-4" titleClassName="text-lg">
       <p className="text-sm text-muted">
         What the investigation found about the drift and what follows (e.g. the supplier changed a process step, extra
         sampling of the next deliveries, a new baseline). No result, lot or certificate changes.
@@ -29,24 +28,17 @@ export function ConcludeForm({ inv, me }: { inv: InvestigationDetail; me: { full
         title="Conclude the investigation of the trend signal"
         meaningText="conclude this investigation of a trend signal as written"
         record={`Investigation ${inv.number}, ${inv.materialName}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Close the investigation"
-        busy={conclude.isPending}
-        error={conclude.error}
         reason={{
           label: 'Conclusion',
           minLength: 20,
           tooShort: 'Write a conclusion of at least 20 characters.',
         }}
-        onCancel={() => {
-          setSigning(false);
-          conclude.reset();
-        }}
+        {...mutationSigning(me, conclude, () => setSigning(false))}
         onSign={(signature, conclusion) =>
           conclude.mutate({ conclusion, signature }, { onSuccess: () => setSigning(false) })
         }
       />
-    </section>
+    </Panel>
   );
 }

@@ -10,6 +10,7 @@ import { useDraft } from '../../../lib/session-sync';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { useConfirm, useInvalidate, type InvestigationDetail } from '../api';
+import { Panel } from '../../../components/Panel';
 
 export function DecisionForms({
   inv,
@@ -40,10 +41,7 @@ export function DecisionForms({
   };
 
   return (
-    <section aria-labelledby="decide" className="flex flex-col gap-4 rounded-md border border-line bg-white p-4">
-      <h2 id="decide" className="text-lg">
-        Decision
-      </h2>
+    <Panel id="decide" title="Decision" className="flex flex-col gap-4 p-4" titleClassName="text-lg">
       <div className="flex flex-wrap gap-2">
         <Button
           size="bench"
@@ -140,6 +138,6 @@ export function DecisionForms({
             invalidate.mutate({ cause, justification: just.trim(), retestContainerIds: retest, signature }, close);
         }}
       />
-    </section>
+    </Panel>
   );
 }

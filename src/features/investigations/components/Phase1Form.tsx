@@ -6,6 +6,8 @@ import { Field, Textarea } from '../../../components/Field';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { PHASE1_ITEMS, PHASE1_LABELS, type Phase1Item } from '../../../../server/modules/investigations/contract';
 import { usePhase1, type InvestigationDetail } from '../api';
+import { mutationSigning } from '../../../lib/signing';
+import { Panel } from '../../../components/Panel';
 
 export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullName: string; signedOnce: boolean } }) {
   const save = usePhase1(inv.id);
@@ -33,10 +35,7 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
   };
 
   return (
-    <section aria-labelledby="p1" className="flex flex-col gap-4 rounded-md border border-line bg-white p-4">
-      <h2 id="p1" className="text-lg">
-        Phase I laboratory check
-      </h2>
+    <Panel id="p1" title="Phase I laboratory check" className="flex flex-col gap-4 p-4" titleClassName="text-lg">
       {PHASE1_ITEMS.map((k) => (
         <fieldset key={k} className="flex flex-col gap-2 border-b border-line/60 pb-3" aria-describedby={`${k}-q`}>
           <legend className="font-medium">{PHASE1_LABELS[k].title}</legend>
@@ -85,15 +84,8 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
         title="Sign the phase I laboratory check"
         meaningText={`carried out the phase I laboratory check of investigation ${inv.number} as recorded`}
         record={`Investigation ${inv.number}, lot ${inv.lotNumber}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign the phase I record"
-        busy={save.isPending}
-        error={save.error}
-        onCancel={() => {
-          setSigning(false);
-          save.reset();
-        }}
+        {...mutationSigning(me, save, () => setSigning(false))}
         onSign={(signature) =>
           save.mutate(
             {
@@ -112,6 +104,6 @@ export function Phase1Form({ inv, me }: { inv: InvestigationDetail; me: { fullNa
           )
         }
       />
-    </section>
+    </Panel>
   );
 }

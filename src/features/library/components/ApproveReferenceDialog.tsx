@@ -8,6 +8,7 @@ import { ApiError } from '../../../lib/api';
 import { SignatureDialog } from '../../../components/SignatureDialog';
 import { useApproveReference, useSpecificityGate, type GateOverride, type GateReport } from '../api';
 import { GateTable } from './GateTable';
+import type { ReferenceDialogProps } from './reference-dialog';
 
 export function ApproveReferenceDialog({
   open,
@@ -17,15 +18,9 @@ export function ApproveReferenceDialog({
   needsUsername,
   pendingOverride,
   onClose,
-}: {
-  open: boolean;
-  referenceId: number;
-  code: string;
-  printedName: string;
-  needsUsername: boolean;
+}: ReferenceDialogProps & {
   /** An override another QA manager requested, which approving confirms. */
   pendingOverride: GateOverride | null;
-  onClose: () => void;
 }) {
   const gate = useSpecificityGate(referenceId, open);
   const approve = useApproveReference();

@@ -1,8 +1,8 @@
 /** New material (grade): code, name, grade, monograph reference, technique(s), notes. */
 import { useState, type FormEvent } from 'react';
-import { Button } from '../../../components/Button';
-import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Textarea } from '../../../components/Field';
+import { Field, Input, InputField, TextareaField } from '../../../components/Field';
+import { FormFooter } from '../../../components/FormFooter';
+import { fieldErrors } from '../../../lib/form-state';
 import { materialCreateSchema, TECHNIQUE_LABELS, TECHNIQUES } from '../../../../server/modules/library/contract';
 import { useCreateMaterial } from '../api';
 
@@ -26,9 +26,7 @@ export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: nu
       notes: v.notes.trim() || null,
     });
     if (!parsed.success) {
-      const out: Record<string, string> = {};
-      for (const i of parsed.error.issues) out[String(i.path[0])] ??= i.message;
-      setErrors(out);
+      setErrors(fieldErrors(parsed.error.issues));
       return;
     }
     setErrors({});
@@ -52,31 +50,32 @@ export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: nu
           invalid={!!errors.code}
         />
       </Field>
-      <Field id="mat-name" label="Name" error={errors.name}>
-        <Input
-          id="mat-name"
-          autoComplete="off"
-          value={v.name}
-          onChange={(e) => setV({ ...v, name: e.target.value })}
-          invalid={!!errors.name}
-        />
-      </Field>
-      <Field id="mat-grade" label="Grade" error={errors.grade}>
-        <Input
-          id="mat-grade"
-          autoComplete="off"
-          value={v.grade}
-          onChange={(e) => setV({ ...v, grade: e.target.value })}
-        />
-      </Field>
-      <Field id="mat-mono" label="Monograph reference" hint="Free text, e.g. Ph. Eur. 0187" error={errors.monographRef}>
-        <Input
-          id="mat-mono"
-          autoComplete="off"
-          value={v.monographRef}
-          onChange={(e) => setV({ ...v, monographRef: e.target.value })}
-        />
-      </Field>
+      <InputField
+        id="mat-name"
+        label="Name"
+        error={errors.name}
+        autoComplete="off"
+        value={v.name}
+        onChange={(e) => setV({ ...v, name: e.target.value })}
+        invalid={!!errors.name}
+      />
+      <InputField
+        id="mat-grade"
+        label="Grade"
+        error={errors.grade}
+        autoComplete="off"
+        value={v.grade}
+        onChange={(e) => setV({ ...v, grade: e.target.value })}
+      />
+      <InputField
+        id="mat-mono"
+        label="Monograph reference"
+        hint="Free text, e.g. Ph. Eur. 0187"
+        error={errors.monographRef}
+        autoComplete="off"
+        value={v.monographRef}
+        onChange={(e) => setV({ ...v, monographRef: e.target.value })}
+      />
       <fieldset className="md:col-span-2">
         <legend className="text-sm font-medium">Technique(s)</legend>
         <div className="mt-1 flex flex-wrap gap-4">
@@ -105,16 +104,14 @@ export function CreateMaterialForm({ onCreated, onCancel }: { onCreated: (id: nu
           </p>
         )}
       </fieldset>
-      <Field id="mat-notes" label="Notes" className="md:col-span-2">
-        <Textarea id="mat-notes" value={v.notes} onChange={(e) => setV({ ...v, notes: e.target.value })} />
-      </Field>
-      {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}
-      <div className="flex gap-2 md:col-span-2">
-        <Button type="submit" variant="primary" busy={create.isPending}>
-          Create material
-        </Button>
-        <Button onClick={onCancel}>Cancel</Button>
-      </div>
+      <TextareaField
+        id="mat-notes"
+        label="Notes"
+        fieldClassName="md:col-span-2"
+        value={v.notes}
+        onChange={(e) => setV({ ...v, notes: e.target.value })}
+      />
+      <FormFooter mutation={create} submitLabel="Create material" onCancel={onCancel} span="md:col-span-2" />
     </form>
   );
 }

@@ -3,10 +3,10 @@
  * validated with the server's own zod schema before sending (the server adds the engine's
  * cross-field checks and answers in words).
  */
-import { useState, type FormEvent, type ReactNode } from 'react';
+import { useState, type FormEvent } from 'react';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Select, Textarea } from '../../../components/Field';
+import { InputField, SelectField, TextareaField } from '../../../components/Field';
 import {
   identityMethodSchema,
   SUGGESTED_RELATIVE_INTENSITY_TOLERANCE,
@@ -19,38 +19,199 @@ const str = (v: number | null | undefined) => (v === null || v === undefined ? '
 const num = (s: string) => (s.trim() === '' ? NaN : Number(s.replace(',', '.')));
 const optNum = (s: string) => (s.trim() === '' ? null : Number(s.replace(',', '.')));
 
-function NumField({
-  id,
-  label,
-  value,
-  onChange,
-  hint,
-  unit,
-}: {
+type Form = ReturnType<typeof initialForm>;
+type Key = Exclude<keyof Form, 'changeNote' | 'reason'>;
+
+/**
+ * One row of the editor: a number (typed as text, read on sending) or a choice. `id` is the row's
+ * part of the element id; `when` hides a row that only applies with another row's choice.
+ */
+type Row = {
+  key: Key;
   id: string;
-  label: string;
-  value: string;
-  onChange: (v: string) => void;
-  hint?: ReactNode;
-  unit?: string;
+  label: string | ((f: Form) => string);
+  hint?: string;
+  when?: (f: Form) => boolean;
+} & ({ unit?: string; options?: undefined } | { options: [value: string, words: string][] });
+
+/** The cells of one excluded region. */
+const REGION_CELLS: { key: keyof Region; id: string; label: string; className: string; decimal: boolean }[] = [
+  { key: 'from', id: 'rf', label: 'From (cm⁻¹)', className: 'w-28', decimal: true },
+  { key: 'to', id: 'rt', label: 'To (cm⁻¹)', className: 'w-28', decimal: true },
+  { key: 'label', id: 'rl', label: 'Why', className: 'w-56', decimal: false },
+];
+
+const NOT_USED = 'Empty: not used';
+
+const PREPARATION: Row[] = [
+  {
+    key: 'technique',
+    id: 'tech',
+    label: 'Technique',
+    options: [
+      ['mid-ir-atr', 'Mid-IR, ATR'],
+      ['mid-ir-transmission', 'Mid-IR, transmission'],
+      ['nir', 'Near-IR'],
+    ],
+  },
+  { key: 'from', id: 'from', label: 'Range from', unit: 'cm⁻¹' },
+  { key: 'to', id: 'to', label: 'Range to', unit: 'cm⁻¹' },
+  { key: 'gridStep', id: 'grid', label: 'Grid step', unit: 'cm⁻¹' },
+  {
+    key: 'baseline',
+    id: 'base',
+    label: 'Baseline',
+    options: [
+      ['none', 'none'],
+      ['offset', 'offset (subtract the minimum)'],
+      ['linear', 'linear'],
+      ['iterative', 'iterative (airPLS)'],
+    ],
+  },
+  {
+    key: 'normalisation',
+    id: 'norm',
+    label: 'Normalisation',
+    options: [
+      ['none', 'none'],
+      ['snv', 'SNV'],
+      ['vector', 'vector'],
+    ],
+  },
+  { key: 'windowSize', id: 'win', label: 'Savitzky-Golay window', unit: 'points' },
+  { key: 'polynomial', id: 'poly', label: 'Polynomial order' },
+  {
+    key: 'derivative',
+    id: 'der',
+    label: 'Derivative',
+    options: [
+      ['0', '0 (smoothing only)'],
+      ['1', '1st'],
+      ['2', '2nd'],
+    ],
+  },
+];
+
+const ACCEPTANCE: Row[] = [
+  { key: 'minCorrelation', id: 'minr', label: 'Minimum correlation coefficient (r)' },
+  {
+    key: 'minDerivativeCorrelation',
+    id: 'mind',
+    label: 'Minimum correlation coefficient (r) of the first derivatives',
+    hint: NOT_USED,
+  },
+  { key: 'maxMahalanobis', id: 'maha', label: 'Maximum Mahalanobis distance', hint: NOT_USED },
+  {
+    key: 'residualConfidence',
+    id: 'qres',
+    label: 'Spectral residual (Q): confidence of its limit',
+    hint: 'The limit is derived from the references (leave one out); e.g. 0.99. Empty: not used',
+  },
+  {
+    key: 'toleranceMode',
+    id: 'tolm',
+    label: 'Band tolerance',
+    options: [
+      ['relative', '% of the band position'],
+      ['absolute', 'cm⁻¹ everywhere'],
+    ],
+  },
+  {
+    key: 'toleranceValue',
+    id: 'tolv',
+    label: (f) => (f.toleranceMode === 'absolute' ? 'Tolerance (cm⁻¹)' : 'Tolerance (%)'),
+  },
+  { key: 'widthTolerance', id: 'wt', label: 'Width tolerance (fraction of band width)', hint: 'Empty: off' },
+  {
+    key: 'peakProminence',
+    id: 'pp',
+    label: 'Band picking: prominence (fraction of strongest)',
+    hint: 'Empty: band concordance off',
+  },
+  { key: 'maxExtraBandProminence', id: 'xb', label: 'Extra band limit (fraction of strongest)', hint: NOT_USED },
+  {
+    key: 'relativeIntensity',
+    id: 'ri',
+    label: 'Relative band intensity',
+    hint: 'Ph. Eur. 2.2.24: band positions and relative sizes. Needs band picking.',
+    options: [
+      ['off', 'not compared'],
+      ['on', 'compared with the reference'],
+    ],
+  },
+  {
+    key: 'relativeIntensityTolerance',
+    id: 'rit',
+    label: 'Relative intensity tolerance (fraction of strongest band)',
+    hint: `Each band's height relative to the strongest may differ by this much; ${SUGGESTED_RELATIVE_INTENSITY_TOLERANCE} is a usual start.`,
+    when: (f) => f.relativeIntensity === 'on',
+  },
+  { key: 'components', id: 'comp', label: 'Distance model: components', hint: 'Empty: no distance model' },
+  { key: 'minReferences', id: 'minref', label: 'Distance model: minimum references' },
+];
+
+const QUALITY: Row[] = [
+  { key: 'minMaxAbsorbance', id: 'qmin', label: 'Minimum band height', unit: 'absorbance' },
+  { key: 'maxAbsorbance', id: 'qmax', label: 'Saturation above', unit: 'absorbance' },
+  { key: 'minSignalToNoise', id: 'qsnr', label: 'Minimum signal-to-noise' },
+];
+
+/** A fieldset of rows, three to a line on wide screens. */
+function RowGroup({
+  legend,
+  rows,
+  f,
+  set,
+  id,
+}: {
+  legend: string;
+  rows: Row[];
+  f: Form;
+  set: (k: Key) => (v: string) => void;
+  id: (k: string) => string;
 }) {
   return (
-    <Field id={id} label={unit ? `${label} (${unit})` : label} hint={hint}>
-      <Input
-        id={id}
-        inputMode="decimal"
-        value={value}
-        onChange={(e) => onChange(e.target.value)}
-        className="tabular-nums"
-      />
-    </Field>
+    <fieldset className="grid gap-3 sm:grid-cols-3">
+      <legend className="mb-1 text-sm font-semibold">{legend}</legend>
+      {rows
+        .filter((r) => !r.when || r.when(f))
+        .map((r) => {
+          const label = typeof r.label === 'function' ? r.label(f) : r.label;
+          return r.options ? (
+            <SelectField
+              key={r.key}
+              id={id(r.id)}
+              label={label}
+              hint={r.hint}
+              value={f[r.key]}
+              onChange={(e) => set(r.key)(e.target.value)}
+            >
+              {r.options.map(([value, words]) => (
+                <option key={value} value={value}>
+                  {words}
+                </option>
+              ))}
+            </SelectField>
+          ) : (
+            <InputField
+              key={r.key}
+              id={id(r.id)}
+              label={r.unit ? `${label} (${r.unit})` : label}
+              hint={r.hint}
+              inputMode="decimal"
+              value={f[r.key]}
+              onChange={(e) => set(r.key)(e.target.value)}
+              className="tabular-nums"
+            />
+          );
+        })}
+    </fieldset>
   );
 }
 
-export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: () => void }) {
+function initialForm(method: MethodVersion) {
   const p = method.params;
-  const update = useUpdateMethod();
-  const [f, setF] = useState({
+  return {
     technique: p.technique,
     from: str(p.range.from),
     to: str(p.range.to),
@@ -78,12 +239,18 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
     minReferences: str(p.distanceModel?.minReferences),
     changeNote: method.changeNote ?? '',
     reason: '',
-  });
+  };
+}
+
+export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: () => void }) {
+  const p = method.params;
+  const update = useUpdateMethod();
+  const [f, setF] = useState(() => initialForm(method));
   const [regions, setRegions] = useState<Region[]>(
     p.excludedRegions.map((r) => ({ from: str(r.from), to: str(r.to), label: r.label })),
   );
   const [problems, setProblems] = useState<string[]>([]);
-  const set = (k: keyof typeof f) => (v: string) => setF((x) => ({ ...x, [k]: v }));
+  const set = (k: keyof Form) => (v: string) => setF((x) => ({ ...x, [k]: v }));
 
   const submit = (e: FormEvent) => {
     e.preventDefault();
@@ -137,79 +304,22 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
       aria-label={`Edit method version ${method.version}`}
       className="flex flex-col gap-4"
     >
-      <fieldset className="grid gap-3 sm:grid-cols-3">
-        <legend className="mb-1 text-sm font-semibold">Range and preparation</legend>
-        <Field id={id('tech')} label="Technique">
-          <Select id={id('tech')} value={f.technique} onChange={(e) => set('technique')(e.target.value)}>
-            <option value="mid-ir-atr">Mid-IR, ATR</option>
-            <option value="mid-ir-transmission">Mid-IR, transmission</option>
-            <option value="nir">Near-IR</option>
-          </Select>
-        </Field>
-        <NumField id={id('from')} label="Range from" unit="cm⁻¹" value={f.from} onChange={set('from')} />
-        <NumField id={id('to')} label="Range to" unit="cm⁻¹" value={f.to} onChange={set('to')} />
-        <NumField id={id('grid')} label="Grid step" unit="cm⁻¹" value={f.gridStep} onChange={set('gridStep')} />
-        <Field id={id('base')} label="Baseline">
-          <Select id={id('base')} value={f.baseline} onChange={(e) => set('baseline')(e.target.value)}>
-            <option value="none">none</option>
-            <option value="offset">offset (subtract the minimum)</option>
-            <option value="linear">linear</option>
-            <option value="iterative">iterative (airPLS)</option>
-          </Select>
-        </Field>
-        <Field id={id('norm')} label="Normalisation">
-          <Select id={id('norm')} value={f.normalisation} onChange={(e) => set('normalisation')(e.target.value)}>
-            <option value="none">none</option>
-            <option value="snv">SNV</option>
-            <option value="vector">vector</option>
-          </Select>
-        </Field>
-        <NumField
-          id={id('win')}
-          label="Savitzky-Golay window"
-          unit="points"
-          value={f.windowSize}
-          onChange={set('windowSize')}
-        />
-        <NumField id={id('poly')} label="Polynomial order" value={f.polynomial} onChange={set('polynomial')} />
-        <Field id={id('der')} label="Derivative">
-          <Select id={id('der')} value={f.derivative} onChange={(e) => set('derivative')(e.target.value)}>
-            <option value="0">0 (smoothing only)</option>
-            <option value="1">1st</option>
-            <option value="2">2nd</option>
-          </Select>
-        </Field>
-      </fieldset>
+      <RowGroup legend="Range and preparation" rows={PREPARATION} f={f} set={set} id={id} />
       <fieldset className="flex flex-col gap-2">
         <legend className="mb-1 text-sm font-semibold">Excluded regions</legend>
         {regions.map((r, i) => (
           <div key={i} className="flex flex-wrap items-end gap-2">
-            <Field id={id(`rf${i}`)} label="From (cm⁻¹)">
-              <Input
-                id={id(`rf${i}`)}
-                inputMode="decimal"
-                className="w-28"
-                value={r.from}
-                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, from: e.target.value } : x)))}
+            {REGION_CELLS.map(({ key, id: part, label, className, decimal }) => (
+              <InputField
+                key={key}
+                id={id(`${part}${i}`)}
+                label={label}
+                inputMode={decimal ? 'decimal' : undefined}
+                className={className}
+                value={r[key]}
+                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, [key]: e.target.value } : x)))}
               />
-            </Field>
-            <Field id={id(`rt${i}`)} label="To (cm⁻¹)">
-              <Input
-                id={id(`rt${i}`)}
-                inputMode="decimal"
-                className="w-28"
-                value={r.to}
-                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, to: e.target.value } : x)))}
-              />
-            </Field>
-            <Field id={id(`rl${i}`)} label="Why">
-              <Input
-                id={id(`rl${i}`)}
-                className="w-56"
-                value={r.label}
-                onChange={(e) => setRegions(regions.map((x, j) => (j === i ? { ...x, label: e.target.value } : x)))}
-              />
-            </Field>
+            ))}
             <Button variant="quiet" onClick={() => setRegions(regions.filter((_, j) => j !== i))}>
               Remove region
             </Button>
@@ -219,130 +329,21 @@ export function MethodForm({ method, onDone }: { method: MethodVersion; onDone: 
           <Button onClick={() => setRegions([...regions, { from: '', to: '', label: '' }])}>Add excluded region</Button>
         </div>
       </fieldset>
-      <fieldset className="grid gap-3 sm:grid-cols-3">
-        <legend className="mb-1 text-sm font-semibold">Acceptance criteria</legend>
-        <NumField
-          id={id('minr')}
-          label="Minimum correlation coefficient (r)"
-          value={f.minCorrelation}
-          onChange={set('minCorrelation')}
-        />
-        <NumField
-          id={id('mind')}
-          label="Minimum correlation coefficient (r) of the first derivatives"
-          hint="Empty: not used"
-          value={f.minDerivativeCorrelation}
-          onChange={set('minDerivativeCorrelation')}
-        />
-        <NumField
-          id={id('maha')}
-          label="Maximum Mahalanobis distance"
-          hint="Empty: not used"
-          value={f.maxMahalanobis}
-          onChange={set('maxMahalanobis')}
-        />
-        <NumField
-          id={id('qres')}
-          label="Spectral residual (Q): confidence of its limit"
-          hint="The limit is derived from the references (leave one out); e.g. 0.99. Empty: not used"
-          value={f.residualConfidence}
-          onChange={set('residualConfidence')}
-        />
-        <Field id={id('tolm')} label="Band tolerance">
-          <Select id={id('tolm')} value={f.toleranceMode} onChange={(e) => set('toleranceMode')(e.target.value)}>
-            <option value="relative">% of the band position</option>
-            <option value="absolute">cm⁻¹ everywhere</option>
-          </Select>
-        </Field>
-        <NumField
-          id={id('tolv')}
-          label={f.toleranceMode === 'absolute' ? 'Tolerance (cm⁻¹)' : 'Tolerance (%)'}
-          value={f.toleranceValue}
-          onChange={set('toleranceValue')}
-        />
-        <NumField
-          id={id('wt')}
-          label="Width tolerance (fraction of band width)"
-          hint="Empty: off"
-          value={f.widthTolerance}
-          onChange={set('widthTolerance')}
-        />
-        <NumField
-          id={id('pp')}
-          label="Band picking: prominence (fraction of strongest)"
-          hint="Empty: band concordance off"
-          value={f.peakProminence}
-          onChange={set('peakProminence')}
-        />
-        <NumField
-          id={id('xb')}
-          label="Extra band limit (fraction of strongest)"
-          hint="Empty: not used"
-          value={f.maxExtraBandProminence}
-          onChange={set('maxExtraBandProminence')}
-        />
-        <Field
-          id={id('ri')}
-          label="Relative band intensity"
-          hint="Ph. Eur. 2.2.24: band positions and relative sizes. Needs band picking."
-        >
-          <Select id={id('ri')} value={f.relativeIntensity} onChange={(e) => set('relativeIntensity')(e.target.value)}>
-            <option value="off">not compared</option>
-            <option value="on">compared with the reference</option>
-          </Select>
-        </Field>
-        {f.relativeIntensity === 'on' && (
-          <NumField
-            id={id('rit')}
-            label="Relative intensity tolerance (fraction of strongest band)"
-            hint={`Each band's height relative to the strongest may differ by this much; ${SUGGESTED_RELATIVE_INTENSITY_TOLERANCE} is a usual start.`}
-            value={f.relativeIntensityTolerance}
-            onChange={set('relativeIntensityTolerance')}
-          />
-        )}
-        <NumField
-          id={id('comp')}
-          label="Distance model: components"
-          hint="Empty: no distance model"
-          value={f.components}
-          onChange={set('components')}
-        />
-        <NumField
-          id={id('minref')}
-          label="Distance model: minimum references"
-          value={f.minReferences}
-          onChange={set('minReferences')}
-        />
-      </fieldset>
-      <fieldset className="grid gap-3 sm:grid-cols-3">
-        <legend className="mb-1 text-sm font-semibold">Measurement quality</legend>
-        <NumField
-          id={id('qmin')}
-          label="Minimum band height"
-          unit="absorbance"
-          value={f.minMaxAbsorbance}
-          onChange={set('minMaxAbsorbance')}
-        />
-        <NumField
-          id={id('qmax')}
-          label="Saturation above"
-          unit="absorbance"
-          value={f.maxAbsorbance}
-          onChange={set('maxAbsorbance')}
-        />
-        <NumField
-          id={id('qsnr')}
-          label="Minimum signal-to-noise"
-          value={f.minSignalToNoise}
-          onChange={set('minSignalToNoise')}
-        />
-      </fieldset>
-      <Field id={id('note')} label="Change note (kept with this version)">
-        <Textarea id={id('note')} value={f.changeNote} onChange={(e) => set('changeNote')(e.target.value)} />
-      </Field>
-      <Field id={id('reason')} label="Reason for this change" hint="Kept in the audit trail.">
-        <Input id={id('reason')} value={f.reason} onChange={(e) => set('reason')(e.target.value)} />
-      </Field>
+      <RowGroup legend="Acceptance criteria" rows={ACCEPTANCE} f={f} set={set} id={id} />
+      <RowGroup legend="Measurement quality" rows={QUALITY} f={f} set={set} id={id} />
+      <TextareaField
+        id={id('note')}
+        label="Change note (kept with this version)"
+        value={f.changeNote}
+        onChange={(e) => set('changeNote')(e.target.value)}
+      />
+      <InputField
+        id={id('reason')}
+        label="Reason for this change"
+        hint="Kept in the audit trail."
+        value={f.reason}
+        onChange={(e) => set('reason')(e.target.value)}
+      />
       {problems.length > 0 && <ErrorNote error={problems.join(' ')} />}
       {update.isError && <ErrorNote error={update.error} />}
       <div className="flex gap-2">

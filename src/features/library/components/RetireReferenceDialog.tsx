@@ -1,6 +1,7 @@
 /** Retirement of a reference: a reason and an e-signature; nothing is deleted. */
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { useRetireReference } from '../api';
+import type { ReferenceDialogProps } from './reference-dialog';
 
 export function RetireReferenceDialog({
   open,
@@ -9,14 +10,7 @@ export function RetireReferenceDialog({
   printedName,
   needsUsername,
   onClose,
-}: {
-  open: boolean;
-  referenceId: number;
-  code: string;
-  printedName: string;
-  needsUsername: boolean;
-  onClose: () => void;
-}) {
+}: ReferenceDialogProps) {
   const retire = useRetireReference();
   return (
     <ReasonSignatureDialog

@@ -21,6 +21,7 @@ import {
   type ReviewMeasurementEntry,
 } from '../api';
 import { verdictLabel } from './MeasurementResult';
+import { mutationSigning } from '../../../lib/signing';
 
 function stated(e: ReviewMeasurementEntry): string {
   const p = e.provenance;
@@ -197,20 +198,13 @@ export function BlockedContainersList({ me }: { me: { fullName: string; signedOn
             ? `Container ${target.label} of lot ${target.lotNumber}, ${target.invalidCount} invalid measurements`
             : ''
         }
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign the release"
         reason={{
           label: 'How the lab goes on, and why',
           minLength: 20,
           tooShort: 'Write how the lab goes on and why (at least 20 characters).',
         }}
-        busy={release.isPending}
-        error={release.error}
-        onCancel={() => {
-          setTarget(null);
-          release.reset();
-        }}
+        {...mutationSigning(me, release, () => setTarget(null))}
         onSign={(signature, reason) =>
           target &&
           release.mutate({ containerId: target.containerId, reason, signature }, { onSuccess: () => setTarget(null) })

@@ -38,6 +38,7 @@ import {
   RawSpectrum,
   verdictLabel,
 } from './MeasurementResult';
+import { mutationSigning } from '../../../lib/signing';
 
 function ContainerReview({ m, defaultOpen }: { m: MeasurementDetail; defaultOpen: boolean }) {
   const [open, setOpen] = useState(defaultOpen);
@@ -199,15 +200,8 @@ export function ReviewView({
         title="Sign the identity test as verified"
         meaningText={`reviewed the raw spectra, results, instrument check and versions of attempt ${t.attempt} of lot ${t.lot.lotNumber} and confirm they are complete and correct`}
         record={`Lot ${t.lot.lotNumber} (${t.lot.material.name}), performed by ${t.performedBy?.name ?? '—'}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign as verified"
-        busy={verify.isPending}
-        error={verify.error}
-        onCancel={() => {
-          setDialog(null);
-          verify.reset();
-        }}
+        {...mutationSigning(me, verify, () => setDialog(null))}
         reason={{ label: 'Comment (optional)', minLength: 0, tooShort: '' }}
         onSign={(credentials, comment) =>
           verify.mutate(
@@ -251,15 +245,8 @@ export function ReviewView({
         title="Return the test to the operator"
         meaningText={`return attempt ${t.attempt} of lot ${t.lot.lotNumber} to the operator for the reason given`}
         record={`Lot ${t.lot.lotNumber}, performed by ${t.performedBy?.name ?? '—'}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Return to operator"
-        busy={ret.isPending}
-        error={ret.error}
-        onCancel={() => {
-          setDialog(null);
-          ret.reset();
-        }}
+        {...mutationSigning(me, ret, () => setDialog(null))}
         reason={{
           label: 'Reason (required)',
           minLength: 10,

@@ -14,6 +14,7 @@ import { InstrumentPicker } from './InstrumentPicker';
 import { MeasurementResult, verdictLabel } from './MeasurementResult';
 import { MultiFileUpload } from './MultiFileUpload';
 import { ScanUpload, selectionProblem } from './ScanUpload';
+import { mutationSigning } from '../../../lib/signing';
 
 function ContainerRows({
   test,
@@ -213,15 +214,8 @@ export function TestBench({
         title="Sign the identity test as performed"
         meaningText={`performed the identity test of lot ${t.lot.lotNumber}, attempt ${t.attempt}, and the results shown are those I measured`}
         record={`Lot ${t.lot.lotNumber} (${t.lot.material.name}), ${r.inScope} container(s)`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Sign as performed"
-        busy={perform.isPending}
-        error={perform.error}
-        onCancel={() => {
-          setSigning(false);
-          perform.reset();
-        }}
+        {...mutationSigning(me, perform, () => setSigning(false))}
         onSign={(credentials) => perform.mutate(credentials, { onSuccess: () => setSigning(false) })}
       />
     </div>

@@ -4,6 +4,7 @@
  * the page, and the verifier still signs for all of them.
  */
 import { ErrorNote } from '../../../components/ErrorNote';
+import { Panel } from '../../../components/Panel';
 import { EXCEPTION_LABELS, useReviewExceptions } from '../api';
 
 export function ReviewExceptions({ testId }: { testId: number }) {
@@ -12,14 +13,13 @@ export function ReviewExceptions({ testId }: { testId: number }) {
   if (q.isError) return <ErrorNote error={q.error} onRetry={() => void q.refetch()} />;
   const d = q.data;
   return (
-    <section
-      aria-labelledby="exceptions-title"
-      className="mb-4 flex flex-col gap-2 rounded-md border border-line bg-white p-4"
-      data-testid="review-exceptions"
+    <Panel
+      id="exceptions-title"
+      title={d.exceptions.length ? `⚠ ${d.exceptions.length} thing(s) to look at first` : '✓ Nothing unusual found'}
+      className="mb-4 flex flex-col gap-2 p-4"
+      titleClassName="text-lg"
+      testId="review-exceptions"
     >
-      <h2 id="exceptions-title" className="text-lg">
-        {d.exceptions.length ? `⚠ ${d.exceptions.length} thing(s) to look at first` : '✓ Nothing unusual found'}
-      </h2>
       {d.exceptions.length > 0 && (
         <ul className="flex list-none flex-col gap-1 p-0 text-sm">
           {d.exceptions.map((e, i) => (
@@ -34,6 +34,6 @@ export function ReviewExceptions({ testId }: { testId: number }) {
         {d.plainContainers} of {d.containers} measured container(s) show nothing unusual; their details are in the full
         list below. Every measurement stays listed, and your signature covers all of them. {d.caution}
       </p>
-    </section>
+    </Panel>
   );
 }

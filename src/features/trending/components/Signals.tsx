@@ -11,6 +11,7 @@ import { Field, Textarea } from '../../../components/Field';
 import { ReasonSignatureDialog } from '../../../components/ReasonSignatureDialog';
 import { errorMessage } from '../../../lib/api';
 import { METRIC_LABELS, useAcknowledge, useOpenInvestigation, useSignals, type TrendSignal } from '../api';
+import { mutationSigning } from '../../../lib/signing';
 
 const LINK = 'inline-flex min-h-11 items-center font-medium text-petrol underline underline-offset-2';
 
@@ -119,20 +120,13 @@ export function OpenInvestigationPanel({
         title="Open an investigation of this trend signal"
         meaningText="open an investigation of this trend signal and the measurements of its pattern"
         record={`Trend signal ${signal.id}: ${signal.materialName}, ${signal.scopeLabel}, ${signal.ruleText}`}
-        printedName={me.fullName}
-        needsUsername={!me.signedOnce}
         confirmLabel="Open the investigation"
-        busy={open.isPending}
-        error={open.error}
         reason={{
           label: 'Why the signal needs an investigation',
           minLength: 10,
           tooShort: 'Say why the signal needs an investigation (at least 10 characters).',
         }}
-        onCancel={() => {
-          setSigning(false);
-          open.reset();
-        }}
+        {...mutationSigning(me, open, () => setSigning(false))}
         onSign={(signature, reason) =>
           open.mutate(
             { reason, signature },

@@ -1,9 +1,15 @@
 import { Controller, useForm } from 'react-hook-form';
-import { Button } from '../../../components/Button';
-import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input } from '../../../components/Field';
+import { FormFooter } from '../../../components/FormFooter';
+import { Field, Input, InputField } from '../../../components/Field';
 import { useCreateUser, type CreateUserInput, type UserAccount } from '../api';
-import { RoleCheckboxes, ROLES_RULE, suggestPassword, TEMP_PASSWORD_RULE } from './fields';
+import {
+  EMAIL_RULE,
+  FULL_NAME_RULE,
+  roleBoxes,
+  ROLES_RULE,
+  TEMP_PASSWORD_RULE,
+  TemporaryPasswordField,
+} from './fields';
 
 export function CreateUserForm({
   onCreated,
@@ -45,76 +51,35 @@ export function CreateUserForm({
           })}
         />
       </Field>
-      <Field
+      <InputField
         id="new-fullname"
         label="Full name"
         hint="Printed beside every signature of this person."
         error={e.fullName?.message}
-      >
-        <Input
-          id="new-fullname"
-          autoComplete="off"
-          invalid={!!e.fullName}
-          {...register('fullName', {
-            required: 'Enter the full name.',
-            minLength: { value: 2, message: 'Enter the full name.' },
-          })}
-        />
-      </Field>
-      <Field id="new-email" label="E-mail" error={e.email?.message}>
-        <Input
-          id="new-email"
-          type="email"
-          autoComplete="off"
-          invalid={!!e.email}
-          {...register('email', {
-            required: 'Enter an e-mail address.',
-            pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' },
-          })}
-        />
-      </Field>
-      <Field
+        autoComplete="off"
+        invalid={!!e.fullName}
+        {...register('fullName', FULL_NAME_RULE)}
+      />
+      <InputField
+        id="new-email"
+        label="E-mail"
+        error={e.email?.message}
+        type="email"
+        autoComplete="off"
+        invalid={!!e.email}
+        {...register('email', EMAIL_RULE)}
+      />
+      <TemporaryPasswordField
         id="new-password"
-        label="Temporary password"
         hint="At least 12 characters and hard to guess (a few unrelated words work well). The person must change it at first sign-in; hand it over in person."
         error={e.temporaryPassword?.message}
-      >
-        <div className="flex gap-2">
-          <Input
-            id="new-password"
-            autoComplete="new-password"
-            spellCheck={false}
-            className="font-mono"
-            invalid={!!e.temporaryPassword}
-            {...register('temporaryPassword', TEMP_PASSWORD_RULE)}
-          />
-          <Button onClick={() => setValue('temporaryPassword', suggestPassword(), { shouldValidate: true })}>
-            Suggest
-          </Button>
-        </div>
-      </Field>
+        registration={register('temporaryPassword', TEMP_PASSWORD_RULE)}
+        onSuggest={(p) => setValue('temporaryPassword', p, { shouldValidate: true })}
+      />
       <div className="md:col-span-2">
-        <Controller
-          control={control}
-          name="roles"
-          rules={ROLES_RULE}
-          render={({ field, fieldState }) => (
-            <RoleCheckboxes
-              idPrefix="new-role"
-              value={field.value}
-              onChange={field.onChange}
-              error={fieldState.error?.message}
-            />
-          )}
-        />
+        <Controller control={control} name="roles" rules={ROLES_RULE} render={roleBoxes('new-role')} />
       </div>
-      {create.isError && <ErrorNote error={create.error} className="md:col-span-2" />}
-      <div className="flex gap-2 md:col-span-2">
-        <Button type="submit" variant="primary" busy={create.isPending}>
-          Create account
-        </Button>
-        <Button onClick={onCancel}>Cancel</Button>
-      </div>
+      <FormFooter mutation={create} submitLabel="Create account" onCancel={onCancel} span="md:col-span-2" />
     </form>
   );
 }

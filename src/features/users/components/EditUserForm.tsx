@@ -2,10 +2,10 @@ import { useState } from 'react';
 import { Controller, useForm } from 'react-hook-form';
 import { Button } from '../../../components/Button';
 import { ErrorNote } from '../../../components/ErrorNote';
-import { Field, Input, Textarea } from '../../../components/Field';
+import { InputField, TextareaField } from '../../../components/Field';
 import type { Role } from '../../../lib/roles';
 import { useUpdateUser, type UserAccount } from '../api';
-import { REASON_RULE, RoleCheckboxes, ROLES_RULE } from './fields';
+import { EMAIL_RULE, FULL_NAME_RULE, REASON_RULE, roleBoxes, ROLES_RULE } from './fields';
 
 interface Values {
   fullName: string;
@@ -48,54 +48,36 @@ export function EditUserForm({
   });
   return (
     <form onSubmit={submit} noValidate className="flex flex-col gap-4" aria-label={`Edit ${user.username}`}>
-      <Field id="edit-fullname" label="Full name" error={e.fullName?.message}>
-        <Input
-          id="edit-fullname"
-          invalid={!!e.fullName}
-          {...register('fullName', {
-            required: 'Enter the full name.',
-            minLength: { value: 2, message: 'Enter the full name.' },
-          })}
-        />
-      </Field>
-      <Field id="edit-email" label="E-mail" error={e.email?.message}>
-        <Input
-          id="edit-email"
-          type="email"
-          invalid={!!e.email}
-          {...register('email', {
-            required: 'Enter an e-mail address.',
-            pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' },
-          })}
-        />
-      </Field>
+      <InputField
+        id="edit-fullname"
+        label="Full name"
+        error={e.fullName?.message}
+        invalid={!!e.fullName}
+        {...register('fullName', FULL_NAME_RULE)}
+      />
+      <InputField
+        id="edit-email"
+        label="E-mail"
+        error={e.email?.message}
+        type="email"
+        invalid={!!e.email}
+        {...register('email', EMAIL_RULE)}
+      />
       {isSelf ? (
         <p className="text-sm text-muted">
           Your own roles are changed by another administrator, never by yourself (segregation of duties).
         </p>
       ) : (
-        <Controller
-          control={control}
-          name="roles"
-          rules={ROLES_RULE}
-          render={({ field, fieldState }) => (
-            <RoleCheckboxes
-              idPrefix="edit-role"
-              value={field.value}
-              onChange={field.onChange}
-              error={fieldState.error?.message}
-            />
-          )}
-        />
+        <Controller control={control} name="roles" rules={ROLES_RULE} render={roleBoxes('edit-role')} />
       )}
-      <Field
+      <TextareaField
         id="edit-reason"
         label="Reason for the change"
         hint="Kept in the audit trail with the old and new values."
         error={e.reason?.message}
-      >
-        <Textarea id="edit-reason" invalid={!!e.reason} {...register('reason', REASON_RULE)} />
-      </Field>
+        invalid={!!e.reason}
+        {...register('reason', REASON_RULE)}
+      />
       {noChange && <ErrorNote error={noChange} />}
       {update.isError && <ErrorNote error={update.error} />}
       <div className="flex justify-end gap-2">

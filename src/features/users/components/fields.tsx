@@ -1,4 +1,7 @@
 /** Pieces shared by the account forms. */
+import type { UseFormRegisterReturn } from 'react-hook-form';
+import { Button } from '../../../components/Button';
+import { Field, Input } from '../../../components/Field';
 import { ROLE_LABELS, ROLES, type Role } from '../../../lib/roles';
 import { CONFIRMED_ROLES, roleCombinationProblem } from '../../../../server/lib/contract';
 
@@ -22,6 +25,48 @@ export const TEMP_PASSWORD_RULE = {
   maxLength: { value: 200, message: 'The password must have at most 200 characters.' },
 };
 
+export const FULL_NAME_RULE = {
+  required: 'Enter the full name.',
+  minLength: { value: 2, message: 'Enter the full name.' },
+};
+
+export const EMAIL_RULE = {
+  required: 'Enter an e-mail address.',
+  pattern: { value: /^[^\s@]+@[^\s@]+\.[^\s@]+$/, message: 'This is not an e-mail address.' },
+};
+
+/** A temporary password typed or suggested (the button fills in a random one and checks it). */
+export function TemporaryPasswordField({
+  id,
+  hint,
+  error,
+  registration,
+  onSuggest,
+}: {
+  id: string;
+  hint: string;
+  error?: string;
+  registration: UseFormRegisterReturn;
+  /** called with a suggested password */
+  onSuggest: (password: string) => void;
+}) {
+  return (
+    <Field id={id} label="Temporary password" hint={hint} error={error}>
+      <div className="flex gap-2">
+        <Input
+          id={id}
+          autoComplete="new-password"
+          spellCheck={false}
+          className="font-mono"
+          invalid={!!error}
+          {...registration}
+        />
+        <Button onClick={() => onSuggest(suggestPassword())}>Suggest</Button>
+      </div>
+    </Field>
+  );
+}
+
 /** 16 characters from an alphabet without look-alikes (no 0/O, 1/l/I), from the browser's CSPRNG. */
 export function suggestPassword(length = 16): string {
   const alphabet = 'abcdefghijkmnpqrstuvwxyzABCDEFGHJKLMNPQRSTUVWXYZ23456789';
@@ -38,6 +83,24 @@ export const ROLE_HINTS: Record<Role, string> = {
   auditor: 'reads everything and the audit trail; changes nothing',
   admin: 'manages accounts and roles; signs no GMP record',
 };
+
+/** The render of a form's `roles` Controller: the role boxes with the rule's sentence. */
+export const roleBoxes =
+  (idPrefix: string) =>
+  ({
+    field,
+    fieldState,
+  }: {
+    field: { value: Role[]; onChange: (r: Role[]) => void };
+    fieldState: { error?: { message?: string } };
+  }) => (
+    <RoleCheckboxes
+      idPrefix={idPrefix}
+      value={field.value}
+      onChange={field.onChange}
+      error={fieldState.error?.message}
+    />
+  );
 
 export function RoleCheckboxes({
   value,
