@@ -578,36 +578,24 @@ export async function runSweep(db: Knex, runId: number, leaseMs = 120_000): Prom
     // accounts: roles against the latest role grant, which must be sealed and linked (server/lib/grant-seal.ts)
     for (const u of await db('app_user').select('id', 'username', 'roles')) {
       const standing = await grantStanding(db, u.id);
-      if (!standing.ok) {
+      const findings = [
+        !standing.ok && {
+          expected: `role grant ${standing.grantId} sealed by Drumline and following the account's previous grant`,
+          found: standing.why,
+          summary: `The latest role grant of account ${u.username} was not written by Drumline: the account holds no role until an administrator grants its roles again.`,
+        },
+        standing.roles !== u.roles && {
+          expected: standing.roles,
+          found: String(u.roles),
+          summary: `The roles of account ${u.username} differ from its latest role grant.`,
+        },
+      ].filter((f) => f !== false);
+      for (const f of findings) {
         counts.mismatches++;
+        const records = [await describeRecord(db, 'user', String(u.id))];
         await raiseAlert(
           db,
-          {
-            kind: 'role-grant',
-            subjectType: 'app_user',
-            subjectId: String(u.id),
-            expected: `role grant ${standing.grantId} sealed by Drumline and following the account's previous grant`,
-            found: standing.why,
-            summary: `The latest role grant of account ${u.username} was not written by Drumline: the account holds no role until an administrator grants its roles again.`,
-            records: [await describeRecord(db, 'user', String(u.id))],
-          },
-          by,
-        );
-      }
-      const expected = standing.roles;
-      if (expected !== u.roles) {
-        counts.mismatches++;
-        await raiseAlert(
-          db,
-          {
-            kind: 'role-grant',
-            subjectType: 'app_user',
-            subjectId: String(u.id),
-            expected,
-            found: String(u.roles),
-            summary: `The roles of account ${u.username} differ from its latest role grant.`,
-            records: [await describeRecord(db, 'user', String(u.id))],
-          },
+          { kind: 'role-grant', subjectType: 'app_user', subjectId: String(u.id), ...f, records },
           by,
         );
       }
