@@ -7,19 +7,12 @@
  */
 import { transactionWithRetry } from '../../lib/retry';
 import type { Knex } from 'knex';
-import { lockHead, rowHash, type Actor, type AuditRow } from '../../lib/audit';
+import { lockHead, rowHash, type AuditInput, type AuditRow } from '../../lib/audit';
 import { canonicalJson } from '../../lib/canonical';
 
-export interface BulkEvent {
+/** An event as appendAudit takes it, with the time it happened. */
+export interface BulkEvent extends AuditInput {
   occurredAt: Date;
-  actor: Actor;
-  action: string;
-  entityType: string;
-  entityId?: string | number | null;
-  before?: unknown;
-  after?: unknown;
-  reason?: string | null;
-  ip?: string | null;
 }
 
 const json = (v: unknown) => (v === undefined || v === null ? null : canonicalJson(v));
