@@ -9,7 +9,7 @@
  * (docs/architecture.md, "Direction of imports").
  */
 import type { Knex } from 'knex';
-import { must, parseJson } from './lib/db';
+import { isOneOf, must, parseJson } from './lib/db';
 import { alertSignedContent, type Recipe } from './modules/integrity';
 import { reviewSignedContent } from './modules/audit-review';
 import { PHASE1_ITEMS, PHASE1_LABELS, type TrendSubject } from './modules/investigations/contract';
@@ -22,7 +22,7 @@ import {
   type CheckBand,
   type CheckLimits,
 } from './modules/instruments/contract';
-import type { MethodStatus, StoredBand } from './modules/library/contract';
+import { METHOD_STATUSES, type StoredBand } from './modules/library/contract';
 import {
   assessmentSignedContent,
   backInServiceSignedContent,
@@ -51,11 +51,6 @@ const fileSha = async (db: Knex, fileId: number): Promise<string> => {
  */
 const changedBehindApplication = (column: string, value: unknown) => ({ changedBehindApplication: column, value });
 
-/** Whether a stored text is one of the values the application writes to its column. */
-const oneOf = <T extends string>(values: readonly T[], v: string): v is T => values.some((x) => x === v);
-
-const METHOD_STATUSES: Record<MethodStatus, true> = { draft: true, approved: true, superseded: true };
-const isMethodStatus = (v: string): v is MethodStatus => Object.hasOwn(METHOD_STATUSES, v);
 const OVERRIDE_ENTITIES = ['identity_method', 'reference_spectrum'] as const;
 
 const investigationRecipe: Recipe = async (db, s) => {
@@ -120,7 +115,7 @@ const referenceApproval: Recipe = async (db, s) => {
 const overrideRequest: Recipe = async (db, s) => {
   const o = await db('gate_override').where({ signature_id: s.id }).first();
   if (!o) return undefined;
-  if (!oneOf(OVERRIDE_ENTITIES, o.entity_type)) return changedBehindApplication('entity_type', o.entity_type);
+  if (!isOneOf(OVERRIDE_ENTITIES, o.entity_type)) return changedBehindApplication('entity_type', o.entity_type);
   return overrideSignedContent({
     entityType: o.entity_type,
     entityId: o.entity_id,
@@ -143,7 +138,7 @@ export const RECIPES: Record<string, Recipe> = {
       .first();
     if (!m) return undefined;
     const status = m.status;
-    if (!isMethodStatus(status)) return changedBehindApplication('status', status);
+    if (!isOneOf(METHOD_STATUSES, status)) return changedBehindApplication('status', status);
     const a = await db('method_approval').where({ method_id: m.id, signature_id: s.id }).first();
     return methodSignedContent(
       { ...m, status },
@@ -181,7 +176,7 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!sp) return undefined;
-    if (!oneOf(CHECK_TYPES, sp.check_type)) return changedBehindApplication('check_type', sp.check_type);
+    if (!isOneOf(CHECK_TYPES, sp.check_type)) return changedBehindApplication('check_type', sp.check_type);
     return specSignedContent(
       sp.id,
       sp.instrument_id,
@@ -197,7 +192,7 @@ export const RECIPES: Record<string, Recipe> = {
       .where({ id: Number(s.entity_id) })
       .first();
     if (!c) return undefined;
-    if (!oneOf(CHECK_TYPES, c.check_type)) return changedBehindApplication('check_type', c.check_type);
+    if (!isOneOf(CHECK_TYPES, c.check_type)) return changedBehindApplication('check_type', c.check_type);
     return checkSignedContent({
       id: c.id,
       instrumentId: c.instrument_id,
@@ -210,8 +205,8 @@ export const RECIPES: Record<string, Recipe> = {
   'instrument/qualification-approved': async (db, s) => {
     const q = await db('instrument_qualification').where({ signature_id: s.id }).first();
     if (!q) return undefined;
-    if (!oneOf(QUALIFICATION_STAGES, q.stage)) return changedBehindApplication('stage', q.stage);
-    if (!oneOf(QUALIFICATION_STATUSES, q.status)) return changedBehindApplication('status', q.status);
+    if (!isOneOf(QUALIFICATION_STAGES, q.stage)) return changedBehindApplication('stage', q.stage);
+    if (!isOneOf(QUALIFICATION_STATUSES, q.status)) return changedBehindApplication('status', q.status);
     const day = (d: Date) => new Date(d).toISOString().slice(0, 10);
     return qualificationSignedContent(q.instrument_id, {
       stage: q.stage,

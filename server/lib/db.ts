@@ -51,9 +51,13 @@ export function must<T>(row: T | undefined, what: string): T {
  * know fails loudly instead of passing through a cast.
  */
 export function oneOf<T extends string>(values: readonly T[], v: string, what: string): T {
-  const found = values.find((x) => x === v);
-  if (found === undefined) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
-  return found;
+  if (!isOneOf(values, v)) throw new Error(`${what} "${v}" is not one of ${values.join(', ')}`);
+  return v;
+}
+
+/** Whether a stored text is one of `values` (for a caller that handles an unknown value itself). */
+export function isOneOf<T extends string>(values: readonly T[], v: string): v is T {
+  return values.some((x) => x === v);
 }
 
 /** `oneOf` for a nullable column. */

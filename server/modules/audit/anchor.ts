@@ -15,6 +15,7 @@
  * event and compares every checkpoint file; it runs as a background job with progress, so no
  * request walks the trail for minutes.
  */
+import { iso } from '../../lib/dates';
 import crypto from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
@@ -282,7 +283,6 @@ export async function fullCheck(
 // ---- the full check as a background run
 
 function toRun(r: AuditChainRunRow): ChainRun {
-  const iso = (v: Date | null) => (v ? new Date(v).toISOString() : null);
   return {
     id: r.id,
     // a text column holding the contract's values (this module writes only those)

@@ -7,6 +7,7 @@
  * returned attempts never count). The lot qualifies only when every container's counting result
  * is a pass (EU GMP Annex 8 para 2; 21 CFR 211.84(d)(1)).
  */
+import { dateOnly, iso } from '../../lib/dates';
 import { parseJson, type Db } from '../../lib/db';
 import { conflict, notFound } from '../../lib/errors';
 import { sampledContainerIds } from '../sampling';
@@ -23,15 +24,6 @@ export interface GatherInput {
   publicUrl: string;
   signingFingerprint: string;
   supersedes: CertificateContent['supersedes'];
-}
-
-function iso(d: Date | string | null | undefined): string | null {
-  return d === null || d === undefined ? null : new Date(d).toISOString();
-}
-
-function dateOnly(d: Date | string): string {
-  if (typeof d === 'string') return d.slice(0, 10);
-  return `${d.getUTCFullYear()}-${String(d.getUTCMonth() + 1).padStart(2, '0')}-${String(d.getUTCDate()).padStart(2, '0')}`;
 }
 
 function sigLine(s: repo.SignatureRow | undefined, record: string): SignatureLine | null {

@@ -24,7 +24,8 @@ const VERDICTS = ['pass', 'fail'] as const;
 export const checkTypeOf = (v: string): CheckType => oneOf(CHECK_TYPES, v, 'check type');
 export const verdictOf = (v: string): 'pass' | 'fail' => oneOf(VERDICTS, v, 'check verdict');
 
-export const iso = (d: Date | null | undefined): string | null => (d ? new Date(d).toISOString() : null);
+import { iso } from '../../lib/dates';
+export { iso };
 
 export function toInstrument(r: InstrumentRow): Instrument {
   return {

@@ -12,6 +12,7 @@
  * manager signs it off with an e-signature saying what was done. No alert is raised while a counter
  * or the audit head is locked by another write: each alert is its own short transaction.
  */
+import { iso } from '../../lib/dates';
 import type { Response } from 'express';
 import type { Knex } from 'knex';
 import { appendAudit, type Actor, SYSTEM_ACTOR } from '../../lib/audit';
@@ -652,7 +653,6 @@ export async function requestSweep(db: Knex, user: AuthUser, ip: string | null):
 }
 
 function toRun(r: IntegrityRunRow, requestedBy: string | null): IntegrityRun {
-  const iso = (v: Date | null) => (v ? new Date(v).toISOString() : null);
   return {
     id: r.id,
     // origin and status are text columns holding the contract's values (this module writes only those)

@@ -1,6 +1,5 @@
 /** Data access of the reference library: materials, identity methods, reference spectra, stored files. */
-import type { Db } from '../../lib/db';
-import { parseJson } from '../../lib/db';
+import { oneOf, parseJson, type Db } from '../../lib/db';
 import type {
   IdentityMethodInsert,
   IdentityMethodRow,
@@ -25,17 +24,12 @@ import { METHOD_STATUSES, REFERENCE_STATUSES } from './contract';
 
 /** The stored status of a method version, checked against the values the API knows. */
 function methodStatus(s: string): MethodStatus {
-  const v = METHOD_STATUSES.find((x) => x === s);
-  if (v === undefined) throw new Error(`identity_method status "${s}" is not one of ${METHOD_STATUSES.join(', ')}`);
-  return v;
+  return oneOf(METHOD_STATUSES, s, 'identity_method status');
 }
 
 /** The stored status of a reference, checked against the values the API knows. */
 export function referenceStatus(s: string): ReferenceStatus {
-  const v = REFERENCE_STATUSES.find((x) => x === s);
-  if (v === undefined)
-    throw new Error(`reference_spectrum status "${s}" is not one of ${REFERENCE_STATUSES.join(', ')}`);
-  return v;
+  return oneOf(REFERENCE_STATUSES, s, 'reference_spectrum status');
 }
 
 export type { MaterialRow, StoredFileRow };
